@@ -1,0 +1,470 @@
+/* Evaluation: interpolation across initial mass and [Fe/H] at fixed EEP,
+ * then across age between two EEPs; the batch entry point hrt_eval. */
+#include <math.h>
+#include <string.h>
+
+#include "internal.h"
+
+/* log10 g of the Sun in cgs from the nominal (GM)sun and Rsun (IAU 2015 B3). */
+#define LOG_G_SUN_CGS 4.438067627303133
+
+double hrt_log_r_from(double log_l, double log_teff)
+{
+    /* L/Lsun = (R/Rsun)^2 (Teff/Teff_sun)^4 with the nominal solar values,
+     * which satisfy the Stefan-Boltzmann law to 2e-6 (IAU 2015 B3). */
+    return 0.5 * log_l - 2.0 * (log_teff - log10(HRT_TEFF_SUN_K));
+}
+
+double hrt_log_g_from(double mass_msun, double log_r) { return LOG_G_SUN_CGS + log10(mass_msun) - 2.0 * log_r; }
+
+/* Mass context of one group for route r at log mass x. */
+int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
+{
+    size_t lo = gp->route_lo[r], hi = gp->route_hi[r];
+    memset(m, 0, sizeof *m);
+    m->gp = gp;
+    if (lo == hi)
+        return HRT_E_NO_TRACK;
+    const double *lm = gp->logm;
+    if (hi - lo == 1 || x <= lm[lo] || x >= lm[hi - 1]) {
+        /* At or beyond an end of the route: one knot, linear extrapolation
+         * with its slope (log age with a step limited to stay increasing). */
+        int top = x >= lm[hi - 1] && hi - lo > 1;
+        size_t k = top ? hi - 1 : lo;
+        double dx = hi - lo == 1 ? 0.0 : x - lm[k];
+        double lim = gp->age_dx_max[2 * k + (dx > 0.0)];
+        double dxa = dx > lim ? lim : (dx < -lim ? -lim : dx);
+        m->i = top ? k - 1 : k;
+        m->near = k;
+        int s = top ? 2 : 0;
+        m->w[s] = 1.0;
+        m->w[s + 1] = dx;
+        m->wa[s] = 1.0;
+        m->wa[s + 1] = dxa;
+        m->n_eep = gp->n_eep[k];
+        m->extrapolated = x != lm[k];
+        return HRT_OK;
+    }
+    size_t a = lo, b = hi - 1; /* lm[a] < x < lm[b] */
+    while (b - a > 1) {
+        size_t c = a + (b - a) / 2;
+        if (lm[c] <= x)
+            a = c;
+        else
+            b = c;
+    }
+    m->i = a;
+    hrt_hermite_weights(g->interp, lm[a], lm[a + 1], x, m->w);
+    if (gp->age_linear[a])
+        hrt_hermite_weights(HRT_INTERP_LINEAR, lm[a], lm[a + 1], x, m->wa);
+    else
+        memcpy(m->wa, m->w, sizeof m->w);
+    m->near = (x - lm[a] <= lm[a + 1] - x) ? a : a + 1;
+    if (x == lm[a])
+        m->n_eep = gp->n_eep[a];
+    else
+        m->n_eep = gp->n_eep[a] < gp->n_eep[a + 1] ? gp->n_eep[a] : gp->n_eep[a + 1];
+    return HRT_OK;
+}
+
+static int z_type(const hrt_grid *g) { return hrt_interp_effective(g->interp, g->n_z); }
+
+int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err)
+{
+    q->g = g;
+    q->mass = mass;
+    q->z = z;
+    q->route = -1;
+    q->flags = 0;
+    q->n_eep = 0;
+    if (!isfinite(mass) || mass <= 0.0)
+        return hrt_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
+    if (!isfinite(z) || z <= 0.0)
+        return hrt_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", z);
+    size_t nz = g->n_z;
+    double zlo = g->grp[0].z, zhi = g->grp[nz - 1].z;
+    if (z < zlo * (1.0 - 1e-12) || z > zhi * (1.0 + 1e-12))
+        return hrt_set_error(err, HRT_E_Z_RANGE, "metallicity Z = %g is outside the grid's %g .. %g", z, zlo, zhi);
+    q->feh = log10(z / g->z_ref);
+    /* Bracketing groups, or the one group of this metallicity. */
+    size_t g0 = 0;
+    q->single = 0;
+    for (size_t k = 0; k < nz; k++) {
+        if (fabs(z - g->grp[k].z) <= 1e-12 * g->grp[k].z) {
+            g0 = k;
+            q->single = 1;
+            break;
+        }
+        if (g->grp[k].z < z)
+            g0 = k;
+    }
+    if (!q->single && g0 + 1 >= nz)
+        g0 = nz - 2;
+    q->g0 = g0;
+    if (q->single) {
+        q->tz = 0.0;
+        q->hz = 1.0;
+        q->g_near = g0;
+    } else {
+        q->hz = g->grp[g0 + 1].feh - g->grp[g0].feh;
+        q->tz = (q->feh - g->grp[g0].feh) / q->hz;
+        q->g_near = q->tz <= 0.5 ? g0 : g0 + 1;
+    }
+    /* Route from the boundary masses, linear in [Fe/H] between groups. */
+    int route = 0;
+    for (size_t b = 0; b + 1 < g->n_routes; b++) {
+        double mb = g->grp[g0].boundary[b];
+        if (!q->single)
+            mb = (1.0 - q->tz) * mb + q->tz * g->grp[g0 + 1].boundary[b];
+        if (mass > mb)
+            route = (int)b + 1;
+    }
+    q->route = route;
+    /* Mass inside the range of the bracketing groups. */
+    size_t gb = q->single ? g0 : g0 + 1;
+    for (size_t k = g0; k <= gb; k++) {
+        const zgroup *gp = &g->grp[k];
+        double lo = gp->mass[0], hi = gp->mass[gp->n_mass - 1];
+        if (mass < lo * (1.0 - 1e-12) || mass > hi * (1.0 + 1e-12))
+            return hrt_set_error(err, HRT_E_MASS_RANGE,
+                                 "initial mass %g Msun is outside the grid's %g .. %g Msun at Z = %g", mass, lo, hi,
+                                 gp->z);
+    }
+    /* Stencil of groups the type across [Fe/H] needs, shrunk to groups
+     * that cover the mass. */
+    size_t s_lo = g0, s_hi = gb;
+    if (!q->single) {
+        size_t reach = 0;
+        switch (z_type(g)) {
+        case HRT_INTERP_STEFFEN:
+            reach = 1;
+            break;
+        case HRT_INTERP_AKIMA:
+            reach = 2;
+            break;
+        case HRT_INTERP_CSPLINE:
+            reach = nz;
+            break;
+        default:
+            reach = 0;
+        }
+        for (size_t k = 0; k < reach && s_lo > 0; k++) {
+            const zgroup *gp = &g->grp[s_lo - 1];
+            if (mass < gp->mass[0] || mass > gp->mass[gp->n_mass - 1])
+                break;
+            s_lo--;
+        }
+        for (size_t k = 0; k < reach && s_hi + 1 < nz; k++) {
+            const zgroup *gp = &g->grp[s_hi + 1];
+            if (mass < gp->mass[0] || mass > gp->mass[gp->n_mass - 1])
+                break;
+            s_hi++;
+        }
+    }
+    q->g_lo = s_lo;
+    q->g_hi = s_hi;
+    double x = log10(mass);
+    int ne = 1 << 30;
+    for (size_t k = s_lo; k <= s_hi; k++) {
+        mctx *m = &q->m[k - s_lo];
+        if (hrt_mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
+            return hrt_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
+                                 g->routes[route].name, g->grp[k].z, mass);
+        if (m->n_eep < ne)
+            ne = m->n_eep;
+        if (m->extrapolated && k >= g0 && k <= gb)
+            q->flags |= HRT_FLAG_EXTRAPOLATED;
+    }
+    q->n_eep = ne;
+    return HRT_OK;
+}
+
+/* Value of quantity qn at EEP j in group k of the stencil (mass Hermite). */
+static inline double group_value(const qctx *q, size_t k, int qn, int j)
+{
+    const mctx *m = &q->m[k - q->g_lo];
+    const zgroup *gp = m->gp;
+    size_t stride = gp->n_mass + 1;
+    const double *p = gp->hv + (((size_t)qn * q->g->n_eep_max + (size_t)j) * stride + m->i) * 2;
+    const double *w = qn == Q_AGE ? m->wa : m->w;
+    return w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3];
+}
+
+double hrt_q_value(const qctx *q, int qn, int j)
+{
+    size_t g0 = q->g0;
+    if (q->single)
+        return group_value(q, g0, qn, j);
+    double tz = q->tz;
+    int zt = z_type(q->g);
+    if (qn == Q_AGE || zt == HRT_INTERP_LINEAR || q->g_hi - q->g_lo < 2) {
+        /* Log age is linear in [Fe/H]: a convex blend of two increasing
+         * sequences increases, so the interpolated track stays ordered. */
+        return (1.0 - tz) * group_value(q, g0, qn, j) + tz * group_value(q, g0 + 1, qn, j);
+    }
+    double xs[HRT_MAX_Z], ys[HRT_MAX_Z], ds[HRT_MAX_Z];
+    size_t n = q->g_hi - q->g_lo + 1;
+    for (size_t k = 0; k < n; k++) {
+        xs[k] = q->g->grp[q->g_lo + k].feh;
+        ys[k] = group_value(q, q->g_lo + k, qn, j);
+    }
+    hrt_slopes_local(zt, n, xs, ys, ds);
+    double w[4];
+    size_t a = g0 - q->g_lo;
+    hrt_hermite_weights(zt, xs[a], xs[a + 1], q->feh, w);
+    return w[0] * ys[a] + w[1] * ds[a] + w[2] * ys[a + 1] + w[3] * ds[a + 1];
+}
+
+void hrt_q_values(const qctx *q, int j, double v[NQS])
+{
+    for (int k = 0; k < NQS; k++)
+        v[k] = hrt_q_value(q, k + 1, j);
+}
+
+static const mctx *near_track(const qctx *q) { return &q->m[q->g_near - q->g_lo]; }
+
+int hrt_q_phase(const qctx *q, int j)
+{
+    const mctx *m = near_track(q);
+    return m->gp->phase[m->near * q->g->n_eep_max + (size_t)j];
+}
+
+void hrt_q_phase_run(const qctx *q, int j, int *js, int *je)
+{
+    const mctx *m = near_track(q);
+    size_t off = m->near * q->g->n_eep_max + (size_t)j;
+    *js = m->gp->run_start[off];
+    *je = m->gp->run_end[off];
+    if (*je > q->n_eep - 1)
+        *je = q->n_eep - 1;
+    if (*js > *je)
+        *js = *je;
+}
+
+void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
+{
+    size_t gb = q->single ? q->g0 : q->g0 + 1;
+    const mctx *mn = near_track(q);
+    int k0 = mn->gp->remnant[mn->near], same = 1;
+    for (size_t k = q->g0; k <= gb; k++) {
+        const mctx *m = &q->m[k - q->g_lo];
+        for (int s = 0; s < 2; s++) {
+            size_t t = m->i + (size_t)s;
+            if ((m->w[2 * s] != 0.0 || m->w[2 * s + 1] != 0.0) && m->gp->remnant[t] != k0)
+                same = 0;
+        }
+    }
+    *kind = k0;
+    if (k0 == HRT_REMNANT_NONE) {
+        *mass_msun = NAN;
+        return;
+    }
+    if (!same) {
+        *mass_msun = mn->gp->remnant_hv[2 * mn->near];
+        return;
+    }
+    double v[2];
+    for (size_t k = q->g0; k <= gb; k++) {
+        const mctx *m = &q->m[k - q->g_lo];
+        const double *p = m->gp->remnant_hv + 2 * m->i;
+        v[k - q->g0] = m->w[0] * p[0] + m->w[1] * p[1] + m->w[2] * p[2] + m->w[3] * p[3];
+    }
+    *mass_msun = q->single ? v[0] : (1.0 - q->tz) * v[0] + q->tz * v[1];
+}
+
+int hrt_bracket(const double *a, int n, double x)
+{
+    if (n <= 0 || !(x >= a[0]))
+        return -1;
+    int lo = 0, hi = n - 1;
+    if (x >= a[hi])
+        return hi;
+    while (hi - lo > 1) {
+        int c = lo + (hi - lo) / 2;
+        if (a[c] <= x)
+            lo = c;
+        else
+            hi = c;
+    }
+    return lo;
+}
+
+void hrt_state_clear(hrt_state *s, double mass, double z, double age_yr)
+{
+    memset(s, 0, sizeof *s);
+    s->struct_size = (uint32_t)sizeof *s;
+    s->route = -1;
+    s->initial_mass_msun = mass;
+    s->z = z;
+    s->age_yr = age_yr;
+    s->log_l = s->log_teff_k = s->log_r = s->log_g_cgs = NAN;
+    s->mass_msun = s->he_core_msun = s->co_core_msun = NAN;
+    s->eep = s->phase_fraction = s->phase_start_yr = s->phase_end_yr = NAN;
+    s->remnant_mass_msun = NAN;
+}
+
+void hrt_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f)
+{
+    double v[NQS];
+    for (int k = 0; k < NQS; k++)
+        v[k] = f == 0.0 ? v0[k] : v0[k] + f * (v1[k] - v0[k]);
+    s->log_l = v[Q_L - 1];
+    s->log_teff_k = v[Q_TEFF - 1];
+    s->mass_msun = v[Q_MASS - 1];
+    s->he_core_msun = v[Q_HE - 1];
+    s->co_core_msun = v[Q_CO - 1];
+    s->log_r = hrt_log_r_from(s->log_l, s->log_teff_k);
+    s->log_g_cgs = hrt_log_g_from(s->mass_msun, s->log_r);
+}
+
+/* Nominal neutron-star radius, km (common practice: 11-13 km). */
+#define NS_RADIUS_KM 12.0
+
+void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr)
+{
+    s->flags |= HRT_FLAG_REMNANT;
+    s->phase_start_yr = t_last_yr;
+    s->phase_end_yr = INFINITY;
+    s->phase_fraction = NAN;
+    s->eep = NAN;
+    s->mass_msun = rem_mass;
+    switch (kind) {
+    case HRT_REMNANT_HE_WD:
+    case HRT_REMNANT_CO_WD:
+    case HRT_REMNANT_ONE_WD:
+        s->phase = HRT_PHASE_WD;
+        s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, s->age_yr - t_last_yr);
+        s->log_r = log10(hrt_wd_radius_rsun(rem_mass));
+        s->log_teff_k = log10(HRT_TEFF_SUN_K) + 0.25 * (s->log_l - 2.0 * s->log_r);
+        s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
+        s->he_core_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
+        s->co_core_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
+        break;
+    case HRT_REMNANT_NS:
+        s->phase = HRT_PHASE_NS;
+        s->flags |= HRT_FLAG_DARK;
+        s->log_r = log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
+        s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
+        s->log_l = s->log_teff_k = NAN;
+        s->he_core_msun = s->co_core_msun = NAN;
+        break;
+    default: /* black hole */
+        s->phase = HRT_PHASE_BH;
+        s->flags |= HRT_FLAG_DARK;
+        s->log_l = s->log_teff_k = s->log_r = s->log_g_cgs = NAN;
+        s->he_core_msun = s->co_core_msun = NAN;
+        break;
+    }
+}
+
+static double q_age(const void *src, int j) { return hrt_q_value(src, Q_AGE, j); }
+static void q_vals(const void *src, int j, double v[NQS]) { hrt_q_values(src, j, v); }
+
+/* The state of the (mass, Z) star of q at age t.  Ages A(j) and values V(j)
+ * come from the grid (hrt_eval) or from a star's stored track (hrt_star_at):
+ * one code path, so both give the same bits. */
+int hrt_state_at_generic(const qctx *q, const void *src, hrt_age_fn A, hrt_values_fn V, const int8_t *phases,
+                         const int32_t *runs, double age_yr, hrt_state *s)
+{
+    hrt_state_clear(s, q->mass, q->z, age_yr);
+    s->route = q->route;
+    s->flags = q->flags;
+    if (!isfinite(age_yr) || age_yr < 0.0) {
+        s->status = HRT_E_DOMAIN;
+        return HRT_E_DOMAIN;
+    }
+    int n = q->n_eep;
+    double lt = age_yr > 0.0 ? log10(age_yr) : -INFINITY;
+    int kind;
+    double rmass;
+    hrt_q_remnant(q, &kind, &rmass);
+    s->remnant = kind;
+    s->remnant_mass_msun = rmass;
+    double a0 = A(src, 0);
+    if (lt < a0) {
+        s->phase = HRT_PHASE_PRE_MS;
+        s->flags |= HRT_FLAG_NOT_MODELLED;
+        s->mass_msun = q->mass;
+        s->phase_start_yr = 0.0;
+        s->phase_end_yr = pow(10.0, a0);
+        s->phase_fraction = age_yr / s->phase_end_yr;
+        return HRT_OK;
+    }
+    double alast = A(src, n - 1);
+    if (lt >= alast) {
+        if (kind == HRT_REMNANT_NONE) {
+            s->status = HRT_E_AGE_RANGE;
+            return HRT_E_AGE_RANGE;
+        }
+        double v[NQS];
+        V(src, n - 1, v);
+        hrt_state_remnant(s, kind, rmass, v[Q_L - 1], pow(10.0, alast));
+        return HRT_OK;
+    }
+    /* Largest j with A(j) <= lt, j <= n - 2. */
+    int lo = 0, hi = n - 1;
+    while (hi - lo > 1) {
+        int c = lo + (hi - lo) / 2;
+        if (A(src, c) <= lt)
+            lo = c;
+        else
+            hi = c;
+    }
+    int j = lo;
+    double aj = A(src, j), aj1 = A(src, j + 1);
+    double f = aj1 > aj ? (lt - aj) / (aj1 - aj) : 0.0;
+    double v0[NQS], v1[NQS];
+    V(src, j, v0);
+    V(src, j + 1, v1);
+    hrt_state_from_values(s, v0, v1, f);
+    s->eep = j + f;
+    int js, je;
+    if (phases) {
+        s->phase = phases[j];
+        js = runs[2 * j];
+        je = runs[2 * j + 1];
+    } else {
+        s->phase = hrt_q_phase(q, j);
+        hrt_q_phase_run(q, j, &js, &je);
+    }
+    s->phase_start_yr = pow(10.0, A(src, js));
+    s->phase_end_yr = pow(10.0, A(src, je));
+    double span = s->phase_end_yr - s->phase_start_yr;
+    s->phase_fraction = span > 0.0 ? (age_yr - s->phase_start_yr) / span : 0.0;
+    if (s->phase_fraction < 0.0)
+        s->phase_fraction = 0.0;
+    if (s->phase_fraction > 1.0)
+        s->phase_fraction = 1.0;
+    return HRT_OK;
+}
+
+int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, double z_all,
+             const double *age_yr, hrt_state *out, hrt_error *err)
+{
+    if (n == 0)
+        return HRT_OK;
+    if (!g || !mass_msun || !age_yr || !out)
+        return hrt_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
+                             !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
+    int first = HRT_OK;
+    qctx q;
+    hrt_error e1;
+    for (size_t i = 0; i < n; i++) {
+        double zi = z ? z[i] : z_all;
+        int rc = hrt_qctx_init(g, mass_msun[i], zi, &q, first == HRT_OK ? &e1 : NULL);
+        if (rc == HRT_OK) {
+            rc = hrt_state_at_generic(&q, &q, q_age, q_vals, NULL, NULL, age_yr[i], &out[i]);
+            if (rc != HRT_OK && first == HRT_OK)
+                hrt_set_error(&e1, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
+        } else {
+            hrt_state_clear(&out[i], mass_msun[i], zi, age_yr[i]);
+            out[i].status = rc;
+            out[i].route = q.route;
+        }
+        if (rc != HRT_OK && first == HRT_OK) {
+            first = rc;
+            hrt_set_error(err, rc, "star %zu: %s", i, e1.message);
+        }
+    }
+    return first;
+}

@@ -1,0 +1,197 @@
+/* Opening and closing grids; read-only accessors. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "internal.h"
+
+#ifndef HRT_DATADIR
+#define HRT_DATADIR "/usr/local/share/hrtrail"
+#endif
+#define HRT_DEFAULT_GRID_FILE "hrtrail-default-grid.h5"
+
+const char *hrt_default_grid_path(void)
+{
+    const char *env = getenv("HRTRAIL_GRID");
+    if (env && *env)
+        return env;
+    return HRT_DATADIR "/" HRT_DEFAULT_GRID_FILE;
+}
+
+int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error *err)
+{
+    if (!grid)
+        return hrt_set_error(err, HRT_E_NULL, "hrt_grid_open: grid pointer is NULL");
+    *grid = NULL;
+    if (interp < 0 || interp >= HRT_INTERP_COUNT)
+        return hrt_set_error(err, HRT_E_INVALID, "hrt_grid_open: unknown interpolation type %d", interp);
+    if (!path) {
+        path = hrt_default_grid_path();
+        FILE *f = fopen(path, "rb");
+        if (!f)
+            return hrt_set_error(err, HRT_E_NOT_FOUND,
+                                 "no default grid at '%s' (set HRTRAIL_GRID or install hrtrail's data)", path);
+        fclose(f);
+    }
+    hrt_grid *g = calloc(1, sizeof *g);
+    if (!g)
+        return hrt_set_error(err, HRT_E_NOMEM, "hrt_grid_open: out of memory");
+    g->interp = interp;
+    int rc = hrt_grid_read(path, g, err);
+    if (rc == HRT_OK)
+        rc = hrt_grid_prepare(g, err);
+    if (rc != HRT_OK) {
+        hrt_grid_close(g);
+        return rc;
+    }
+    g->bytes += sizeof *g;
+    *grid = g;
+    if (err)
+        hrt_set_error(err, HRT_OK, NULL);
+    return HRT_OK;
+}
+
+int hrt_grid_open(const char *path, hrt_grid **grid, hrt_error *err)
+{
+    return hrt_grid_open_with(path, HRT_INTERP_STEFFEN, grid, err);
+}
+
+void hrt_grid_close(hrt_grid *g)
+{
+    if (!g)
+        return;
+    hrt_grid_free_contents(g);
+    free(g);
+}
+
+int hrt_grid_interp(const hrt_grid *g) { return g ? g->interp : -1; }
+size_t hrt_grid_n_z(const hrt_grid *g) { return g ? g->n_z : 0; }
+double hrt_grid_z_ref(const hrt_grid *g) { return g ? g->z_ref : NAN; }
+size_t hrt_grid_n_routes(const hrt_grid *g) { return g ? g->n_routes : 0; }
+size_t hrt_grid_memory_bytes(const hrt_grid *g) { return g ? g->bytes : 0; }
+
+double hrt_grid_z(const hrt_grid *g, size_t iz) { return (g && iz < g->n_z) ? g->grp[iz].z : NAN; }
+
+size_t hrt_grid_n_masses(const hrt_grid *g, size_t iz) { return (g && iz < g->n_z) ? g->grp[iz].n_mass : 0; }
+
+static const zgroup *group_track(const hrt_grid *g, size_t iz, size_t im)
+{
+    if (!g || iz >= g->n_z || im >= g->grp[iz].n_mass)
+        return NULL;
+    return &g->grp[iz];
+}
+
+double hrt_grid_mass(const hrt_grid *g, size_t iz, size_t im)
+{
+    const zgroup *gp = group_track(g, iz, im);
+    return gp ? gp->mass[im] : NAN;
+}
+
+int hrt_grid_track_route(const hrt_grid *g, size_t iz, size_t im)
+{
+    const zgroup *gp = group_track(g, iz, im);
+    return gp ? gp->route[im] : -1;
+}
+
+size_t hrt_grid_track_n_eep(const hrt_grid *g, size_t iz, size_t im)
+{
+    const zgroup *gp = group_track(g, iz, im);
+    return gp ? (size_t)gp->n_eep[im] : 0;
+}
+
+const char *hrt_grid_route_name(const hrt_grid *g, size_t r)
+{
+    return (g && r < g->n_routes) ? g->routes[r].name : NULL;
+}
+
+size_t hrt_grid_route_n_eep(const hrt_grid *g, size_t r) { return (g && r < g->n_routes) ? g->routes[r].n_eep : 0; }
+
+size_t hrt_grid_route_n_keypoints(const hrt_grid *g, size_t r)
+{
+    return (g && r < g->n_routes) ? g->routes[r].n_kp : 0;
+}
+
+const char *hrt_grid_keypoint_name(const hrt_grid *g, size_t r, size_t k)
+{
+    return (g && r < g->n_routes && k < g->routes[r].n_kp) ? g->routes[r].kp_names[k] : NULL;
+}
+
+long hrt_grid_keypoint_eep(const hrt_grid *g, size_t r, size_t k)
+{
+    return (g && r < g->n_routes && k < g->routes[r].n_kp) ? g->routes[r].kp_eep[k] : -1;
+}
+
+double hrt_grid_route_boundary(const hrt_grid *g, size_t iz, size_t b)
+{
+    return (g && iz < g->n_z && b + 1 < g->n_routes) ? g->grp[iz].boundary[b] : NAN;
+}
+
+const char *hrt_grid_attribute(const hrt_grid *g, const char *name)
+{
+    if (!g || !name)
+        return NULL;
+    for (size_t a = 0; a < g->n_attrs; a++)
+        if (strcmp(g->attrs[a].name, name) == 0)
+            return g->attrs[a].value;
+    return NULL;
+}
+
+int hrt_grid_z_range(const hrt_grid *g, double *lo, double *hi)
+{
+    if (!g || !lo || !hi)
+        return HRT_E_NULL;
+    *lo = g->grp[0].z;
+    *hi = g->grp[g->n_z - 1].z;
+    return HRT_OK;
+}
+
+/* Metallicity must lie inside the grid (a hair of rounding allowed at the ends). */
+static int check_z(const hrt_grid *g, double z)
+{
+    if (!isfinite(z) || z <= 0.0)
+        return HRT_E_DOMAIN;
+    double lo = g->grp[0].z, hi = g->grp[g->n_z - 1].z;
+    if (z < lo * (1.0 - 1e-12) || z > hi * (1.0 + 1e-12))
+        return HRT_E_Z_RANGE;
+    return HRT_OK;
+}
+
+int hrt_grid_mass_range(const hrt_grid *g, double z, double *lo_msun, double *hi_msun)
+{
+    if (!g || !lo_msun || !hi_msun)
+        return HRT_E_NULL;
+    int rc = check_z(g, z);
+    if (rc != HRT_OK)
+        return rc;
+    /* The range every group bracketing z covers. */
+    double lo = 0.0, hi = INFINITY;
+    for (size_t iz = 0; iz < g->n_z; iz++) {
+        const zgroup *gp = &g->grp[iz];
+        int used = (gp->z == z) || (iz + 1 < g->n_z && gp->z < z && g->grp[iz + 1].z > z) ||
+                   (iz > 0 && g->grp[iz - 1].z < z && gp->z > z);
+        if (g->n_z == 1)
+            used = 1;
+        if (!used)
+            continue;
+        if (gp->mass[0] > lo)
+            lo = gp->mass[0];
+        if (gp->mass[gp->n_mass - 1] < hi)
+            hi = gp->mass[gp->n_mass - 1];
+    }
+    *lo_msun = lo;
+    *hi_msun = hi;
+    return HRT_OK;
+}
+
+int hrt_grid_route_of(const hrt_grid *g, double mass_msun, double z, int *route)
+{
+    if (!g || !route)
+        return HRT_E_NULL;
+    qctx q;
+    int rc = hrt_qctx_init(g, mass_msun, z, &q, NULL);
+    if (rc != HRT_OK && rc != HRT_E_NO_TRACK)
+        return rc;
+    *route = q.route;
+    return HRT_OK;
+}

@@ -1,0 +1,238 @@
+/* Precomputation at open: spline slopes across log initial mass (GSL), route
+ * track ranges, phase runs, monotonicity guards for log age. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_interp.h>
+
+#include "internal.h"
+
+static const gsl_interp_type *gsl_type(int interp)
+{
+    switch (interp) {
+    case HRT_INTERP_AKIMA:
+        return gsl_interp_akima;
+    case HRT_INTERP_CSPLINE:
+        return gsl_interp_cspline;
+    case HRT_INTERP_STEFFEN:
+        return gsl_interp_steffen;
+    default:
+        return gsl_interp_linear;
+    }
+}
+
+/* gsl_interp objects by (effective type, size), allocated on first use. */
+typedef struct interp_cache {
+    size_t cap;
+    gsl_interp **obj[HRT_INTERP_COUNT];
+} interp_cache;
+
+static void cache_free(interp_cache *c)
+{
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        if (!c->obj[t])
+            continue;
+        for (size_t n = 0; n <= c->cap; n++)
+            if (c->obj[t][n])
+                gsl_interp_free(c->obj[t][n]);
+        free(c->obj[t]);
+    }
+}
+
+/* Slopes of one run of knots with the grid's type, through GSL. */
+static int run_slopes(int interp, interp_cache *c, size_t n, const double *x, const double *y, double *d)
+{
+    int eff = hrt_interp_effective(interp, n);
+    if (eff == HRT_INTERP_LINEAR || n > c->cap) {
+        hrt_slopes_local(HRT_INTERP_LINEAR, n, x, y, d);
+        return n > c->cap ? HRT_E_INTERNAL : HRT_OK;
+    }
+    if (!c->obj[eff]) {
+        c->obj[eff] = calloc(c->cap + 1, sizeof(gsl_interp *));
+        if (!c->obj[eff])
+            return HRT_E_NOMEM;
+    }
+    if (!c->obj[eff][n]) {
+        c->obj[eff][n] = gsl_interp_alloc(gsl_type(eff), n);
+        if (!c->obj[eff][n])
+            return HRT_E_NOMEM;
+    }
+    return hrt_slopes_gsl(n, x, y, d, c->obj[eff][n]);
+}
+
+/* Is the cubic Hermite p(t) with end values p0, p1 > 0 and end slopes
+ * s0, s1 (already multiplied by the interval width) positive on [0, 1]? */
+static int hermite_positive(double p0, double p1, double s0, double s1)
+{
+    if (!(p0 > 0.0 && p1 > 0.0))
+        return 0;
+    double a = 2.0 * (p0 - p1) + s0 + s1, b = 3.0 * (p1 - p0) - 2.0 * s0 - s1, c = s0;
+    /* p'(t) = 3a t^2 + 2b t + c */
+    double roots[2];
+    int nr = 0;
+    if (fabs(a) < 1e-300) {
+        if (fabs(b) > 1e-300)
+            roots[nr++] = -c / (2.0 * b);
+    } else {
+        double disc = 4.0 * b * b - 12.0 * a * c;
+        if (disc >= 0.0) {
+            double sq = sqrt(disc);
+            roots[nr++] = (-2.0 * b - sq) / (6.0 * a);
+            roots[nr++] = (-2.0 * b + sq) / (6.0 * a);
+        }
+    }
+    for (int k = 0; k < nr; k++) {
+        double t = roots[k];
+        if (t > 0.0 && t < 1.0) {
+            double p = ((a * t + b) * t + c) * t + p0;
+            if (!(p > 0.0))
+                return 0;
+        }
+    }
+    return 1;
+}
+
+static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x, double *y, double *d)
+{
+    size_t nm = gp->n_mass, J = g->n_eep_max, stride = nm + 1;
+    for (size_t r = 0; r < g->n_routes; r++) {
+        size_t lo = nm, hi = nm;
+        for (size_t i = 0; i < nm; i++) {
+            if ((size_t)gp->route[i] == r) {
+                if (lo == nm)
+                    lo = i;
+                hi = i + 1;
+            }
+        }
+        if (lo == nm)
+            lo = hi = 0;
+        gp->route_lo[r] = lo;
+        gp->route_hi[r] = hi;
+    }
+    /* Slopes across log mass at fixed EEP, over runs of consecutive tracks of
+     * one route that all reach the EEP. */
+    for (int q = 0; q < NQ; q++) {
+        for (size_t j = 0; j < J; j++) {
+            double *row = gp->hv + ((size_t)q * J + j) * stride * 2;
+            for (size_t r = 0; r < g->n_routes; r++) {
+                size_t i = gp->route_lo[r];
+                while (i < gp->route_hi[r]) {
+                    if ((size_t)gp->n_eep[i] <= j) {
+                        i++;
+                        continue;
+                    }
+                    size_t a = i;
+                    while (i < gp->route_hi[r] && (size_t)gp->n_eep[i] > j)
+                        i++;
+                    size_t n = i - a;
+                    for (size_t k = 0; k < n; k++) {
+                        x[k] = gp->logm[a + k];
+                        y[k] = row[(a + k) * 2];
+                    }
+                    int rc = run_slopes(g->interp, cache, n, x, y, d);
+                    if (rc != HRT_OK)
+                        return rc;
+                    for (size_t k = 0; k < n; k++)
+                        row[(a + k) * 2 + 1] = d[k];
+                }
+            }
+        }
+    }
+    /* Remnant masses: runs of consecutive tracks of one route with the same kind. */
+    for (size_t r = 0; r < g->n_routes; r++) {
+        size_t i = gp->route_lo[r];
+        while (i < gp->route_hi[r]) {
+            size_t a = i;
+            while (i < gp->route_hi[r] && gp->remnant[i] == gp->remnant[a])
+                i++;
+            if (gp->remnant[a] == HRT_REMNANT_NONE)
+                continue;
+            size_t n = i - a;
+            for (size_t k = 0; k < n; k++) {
+                x[k] = gp->logm[a + k];
+                y[k] = gp->remnant_hv[2 * (a + k)];
+            }
+            int rc = run_slopes(g->interp, cache, n, x, y, d);
+            if (rc != HRT_OK)
+                return rc;
+            for (size_t k = 0; k < n; k++)
+                gp->remnant_hv[2 * (a + k) + 1] = d[k];
+        }
+    }
+    /* Phase runs of each track. */
+    for (size_t i = 0; i < nm; i++) {
+        int ne = gp->n_eep[i];
+        const int8_t *ph = gp->phase + i * J;
+        int32_t *rs = gp->run_start + i * J, *re = gp->run_end + i * J;
+        int j = 0;
+        while (j < ne - 1) {
+            int a = j;
+            while (j < ne - 1 && ph[j] == ph[a])
+                j++;
+            for (int k = a; k < j; k++) {
+                rs[k] = a;
+                re[k] = j;
+            }
+        }
+        rs[ne - 1] = re[ne - 1] = ne - 1;
+    }
+    /* Cubic log age across an interval must increase with EEP for every
+     * mass inside it, or the interval falls back to linear weights. */
+    const double *age = gp->hv; /* q = Q_AGE */
+    for (size_t i = 0; i + 1 < nm; i++) {
+        gp->age_linear[i] = 0;
+        if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
+            continue;
+        double h = gp->logm[i + 1] - gp->logm[i];
+        int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
+        for (int j = 0; j + 1 < ne; j++) {
+            const double *r0 = age + (size_t)j * stride * 2, *r1 = age + (size_t)(j + 1) * stride * 2;
+            double p0 = r1[i * 2] - r0[i * 2], p1 = r1[(i + 1) * 2] - r0[(i + 1) * 2];
+            double s0 = h * (r1[i * 2 + 1] - r0[i * 2 + 1]), s1 = h * (r1[(i + 1) * 2 + 1] - r0[(i + 1) * 2 + 1]);
+            if (!hermite_positive(p0, p1, s0, s1)) {
+                gp->age_linear[i] = 1;
+                break;
+            }
+        }
+    }
+    /* Extrapolation beyond a route's end track: y_j + d_j dx must keep
+     * increasing with j; keep |dx| at half the largest step that does. */
+    for (size_t i = 0; i < nm; i++) {
+        double up = INFINITY, dn = INFINITY;
+        for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
+            const double *r0 = age + (size_t)j * stride * 2, *r1 = age + (size_t)(j + 1) * stride * 2;
+            double dy = r1[i * 2] - r0[i * 2], dd = r1[i * 2 + 1] - r0[i * 2 + 1];
+            if (dd < 0.0 && dy / -dd < up)
+                up = dy / -dd;
+            if (dd > 0.0 && dy / dd < dn)
+                dn = dy / dd;
+        }
+        gp->age_dx_max[2 * i] = 0.5 * dn;
+        gp->age_dx_max[2 * i + 1] = 0.5 * up;
+    }
+    return HRT_OK;
+}
+
+int hrt_grid_prepare(hrt_grid *g, hrt_error *err)
+{
+    size_t maxn = 0;
+    for (size_t iz = 0; iz < g->n_z; iz++)
+        if (g->grp[iz].n_mass > maxn)
+            maxn = g->grp[iz].n_mass;
+    double *x = malloc(3 * (maxn + 1) * sizeof(double));
+    if (!x)
+        return hrt_set_error(err, HRT_E_NOMEM, "out of memory preparing the grid");
+    interp_cache cache;
+    memset(&cache, 0, sizeof cache);
+    cache.cap = maxn;
+    int rc = HRT_OK;
+    for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++) {
+        rc = prepare_group(g, &g->grp[iz], &cache, x, x + maxn + 1, x + 2 * (maxn + 1));
+        if (rc != HRT_OK)
+            hrt_set_error(err, rc, "metallicity/%zu: cannot compute spline slopes (%s)", iz, hrt_strerror(rc));
+    }
+    cache_free(&cache);
+    free(x);
+    return rc;
+}

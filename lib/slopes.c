@@ -1,0 +1,176 @@
+/* Knot slopes of the interpolation types and cubic Hermite weights.
+ *
+ * Every cubic GSL type (steffen, akima, cspline) is a piecewise cubic fixed
+ * by the values and the slopes at the knots, so an interpolant is stored as
+ * (value, slope) pairs and evaluated as a cubic Hermite.  Across initial
+ * mass the slopes come from GSL itself at open time (hrt_slopes_gsl); across
+ * [Fe/H] they are needed at query time, where GSL would allocate, so
+ * hrt_slopes_local() computes them with the same formulas as GSL 2.7
+ * (tests/test_slopes.c compares both with GSL on random data). */
+#include <math.h>
+#include <string.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_interp.h>
+
+#include "internal.h"
+
+size_t hrt_interp_min_size(int interp)
+{
+    switch (interp) {
+    case HRT_INTERP_LINEAR:
+        return 2;
+    case HRT_INTERP_AKIMA:
+        return 5;
+    default: /* steffen, cspline */
+        return 3;
+    }
+}
+
+/* Slopes at the knots of a GSL interpolant: `obj` is a gsl_interp allocated
+ * for the type hrt_interp_effective(interp, n) and size n.  x strictly
+ * increasing and y finite were validated by the caller, so no GSL_ERROR
+ * path can be reached. */
+int hrt_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *obj)
+{
+    gsl_interp *it = obj;
+    if (gsl_interp_init(it, x, y, n) != GSL_SUCCESS)
+        return HRT_E_INTERNAL;
+    for (size_t i = 0; i < n; i++) {
+        if (gsl_interp_eval_deriv_e(it, x, y, x[i], NULL, &d[i]) != GSL_SUCCESS)
+            return HRT_E_INTERNAL;
+    }
+    return HRT_OK;
+}
+
+static double steffen_sign(double x) { return x < 0.0 ? -1.0 : 1.0; }
+
+/* Steffen 1990 (A&A 239, 443), eq. 11, with one-sided secant end slopes
+ * (as GSL's gsl_interp_steffen). */
+static void slopes_steffen(size_t n, const double *x, const double *y, double *d)
+{
+    d[0] = (y[1] - y[0]) / (x[1] - x[0]);
+    for (size_t i = 1; i + 1 < n; i++) {
+        double hi = x[i + 1] - x[i], him1 = x[i] - x[i - 1];
+        double si = (y[i + 1] - y[i]) / hi, sim1 = (y[i] - y[i - 1]) / him1;
+        double pi = (sim1 * hi + si * him1) / (him1 + hi);
+        double m = fabs(sim1) < fabs(si) ? fabs(sim1) : fabs(si);
+        if (0.5 * fabs(pi) < m)
+            m = 0.5 * fabs(pi);
+        d[i] = (steffen_sign(sim1) + steffen_sign(si)) * m;
+    }
+    d[n - 1] = (y[n - 1] - y[n - 2]) / (x[n - 1] - x[n - 2]);
+}
+
+/* Akima 1970 (J. ACM 17, 589) with the two extra secants at each end of
+ * GSL's non-periodic gsl_interp_akima: m[-1] = 2 m0 - m1, m[-2] = 3 m0 - 2 m1. */
+static void slopes_akima(size_t n, const double *x, const double *y, double *d)
+{
+    double mm[HRT_MAX_Z + 8];
+    double *m = mm + 2;
+    for (size_t i = 0; i + 1 < n; i++)
+        m[i] = (y[i + 1] - y[i]) / (x[i + 1] - x[i]);
+    m[-2] = 3.0 * m[0] - 2.0 * m[1];
+    m[-1] = 2.0 * m[0] - m[1];
+    m[n - 1] = 2.0 * m[n - 2] - m[n - 3];
+    m[n] = 3.0 * m[n - 2] - 2.0 * m[n - 3];
+    for (size_t k = 0; k < n; k++) {
+        long i = (long)k;
+        double ne = fabs(m[i + 1] - m[i]) + fabs(m[i - 1] - m[i - 2]);
+        if (ne == 0.0) {
+            d[k] = m[i];
+        } else {
+            double a = fabs(m[i - 1] - m[i - 2]) / ne;
+            d[k] = (1.0 - a) * m[i - 1] + a * m[i];
+        }
+    }
+}
+
+/* Natural cubic spline (second derivative zero at both ends), as GSL's
+ * gsl_interp_cspline: tridiagonal system for c = y''/2 at the knots. */
+static void slopes_cspline(size_t n, const double *x, const double *y, double *d)
+{
+    double c[HRT_MAX_Z], cp[HRT_MAX_Z], rp[HRT_MAX_Z];
+    size_t sys = n - 2; /* interior knots */
+    for (size_t k = 0; k < sys; k++) {
+        size_t i = k + 1;
+        double h0 = x[i] - x[i - 1], h1 = x[i + 1] - x[i];
+        double diag = 2.0 * (h0 + h1);
+        double rhs = 3.0 * ((y[i + 1] - y[i]) / h1 - (y[i] - y[i - 1]) / h0);
+        double sub = h0, sup = h1;
+        if (k == 0) {
+            cp[k] = sup / diag;
+            rp[k] = rhs / diag;
+        } else {
+            double den = diag - sub * cp[k - 1];
+            cp[k] = sup / den;
+            rp[k] = (rhs - sub * rp[k - 1]) / den;
+        }
+    }
+    c[0] = 0.0;
+    c[n - 1] = 0.0;
+    for (size_t k = sys; k-- > 0;)
+        c[k + 1] = rp[k] - (k + 1 < sys ? cp[k] * c[k + 2] : 0.0);
+    for (size_t i = 0; i + 1 < n; i++) {
+        double h = x[i + 1] - x[i];
+        d[i] = (y[i + 1] - y[i]) / h - h * (c[i + 1] + 2.0 * c[i]) / 3.0;
+    }
+    double h = x[n - 1] - x[n - 2];
+    d[n - 1] = (y[n - 1] - y[n - 2]) / h + h * (2.0 * c[n - 1] + c[n - 2]) / 3.0;
+}
+
+/* The type actually used for a run of n knots: runs too short for the
+ * chosen type fall back to the next simpler one (akima -> steffen -> linear);
+ * a 2-knot run is exactly linear. */
+int hrt_interp_effective(int interp, size_t n)
+{
+    if (n <= 2 || interp == HRT_INTERP_LINEAR)
+        return HRT_INTERP_LINEAR;
+    if (n < hrt_interp_min_size(interp))
+        return HRT_INTERP_STEFFEN;
+    return interp;
+}
+
+/* n <= HRT_MAX_Z + 4 (stack scratch). */
+void hrt_slopes_local(int interp, size_t n, const double *x, const double *y, double *d)
+{
+    if (n < 2) {
+        if (n == 1)
+            d[0] = 0.0;
+        return;
+    }
+    switch (hrt_interp_effective(interp, n)) {
+    case HRT_INTERP_AKIMA:
+        slopes_akima(n, x, y, d);
+        break;
+    case HRT_INTERP_CSPLINE:
+        slopes_cspline(n, x, y, d);
+        break;
+    case HRT_INTERP_STEFFEN:
+        slopes_steffen(n, x, y, d);
+        break;
+    default: /* secant of the interval to the right (left at the last knot) */
+        for (size_t i = 0; i < n; i++) {
+            size_t a = i + 1 < n ? i : i - 1;
+            d[i] = (y[a + 1] - y[a]) / (x[a + 1] - x[a]);
+        }
+        break;
+    }
+}
+
+void hrt_hermite_weights(int interp, double x0, double x1, double x, double w[4])
+{
+    double h = x1 - x0, t = (x - x0) / h;
+    if (interp == HRT_INTERP_LINEAR) {
+        w[0] = 1.0 - t;
+        w[1] = 0.0;
+        w[2] = t;
+        w[3] = 0.0;
+        return;
+    }
+    double u = 1.0 - t;
+    w[0] = (1.0 + 2.0 * t) * u * u;
+    w[1] = t * u * u * h;
+    w[2] = t * t * (3.0 - 2.0 * t);
+    w[3] = -t * t * u * h;
+}

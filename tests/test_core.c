@@ -1,0 +1,892 @@
+/* Core library tests: grid reading and writing, interpolation against exact
+ * answers and GSL, stars, batches, isochrones, remnants, errors. */
+#include <check.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_interp.h>
+#include <gsl/gsl_rng.h>
+#include <hdf5.h>
+
+#include "hrtrail.h"
+#include "internal.h"
+#include "synth.h"
+
+/* GSL's handler must never be reached: count any call (style: install a
+ * counting handler in tests, fail if it was called). */
+static int gsl_handler_calls;
+static void counting_handler(const char *reason, const char *file, int line, int gsl_errno)
+{
+    (void)reason;
+    (void)file;
+    (void)line;
+    (void)gsl_errno;
+    gsl_handler_calls++;
+}
+
+static char tmpdir[256];
+static char grid_path[300];
+static const synth_spec base_spec = {9, 11, 4, 1, 1, 0.3, 1.0, 10.0};
+
+static void path_in_tmp(char *out, size_t n, const char *name) { snprintf(out, n, "%s/%s", tmpdir, name); }
+
+static int setup_once(void)
+{
+    snprintf(tmpdir, sizeof tmpdir, "/tmp/hrt-core-XXXXXX");
+    if (!mkdtemp(tmpdir))
+        return 1;
+    path_in_tmp(grid_path, sizeof grid_path, "synth.h5");
+    hrt_error e;
+    if (synth_write(&base_spec, grid_path, &e) != HRT_OK) {
+        fprintf(stderr, "cannot write the synthetic grid: %s\n", e.message);
+        return 1;
+    }
+    gsl_set_error_handler(counting_handler);
+    return 0;
+}
+
+static void teardown_each(void) { ck_assert_int_eq(gsl_handler_calls, 0); }
+
+static hrt_grid *open_or_fail(const char *path, int interp)
+{
+    hrt_grid *g = NULL;
+    hrt_error e;
+    int rc = hrt_grid_open_with(path, interp, &g, &e);
+    ck_assert_msg(rc == HRT_OK, "open %s: %s", path, e.message);
+    return g;
+}
+
+/* ---- names, versions, error list ------------------------------------- */
+
+START_TEST(test_names)
+{
+    ck_assert_str_eq(hrt_strerror(HRT_OK), "success");
+    ck_assert_str_eq(hrt_strerror(9999), "unknown status code");
+    for (int c = 0; c < HRT_STATUS_COUNT_; c++)
+        ck_assert(strlen(hrt_strerror(c)) > 3);
+    for (int p = 1; p < HRT_PHASE_COUNT; p++)
+        ck_assert_int_eq(hrt_phase_from_key(hrt_phase_key(p)), p);
+    ck_assert_int_eq(hrt_phase_from_key("nonsense"), HRT_PHASE_UNKNOWN);
+    ck_assert_int_eq(hrt_phase_from_key(NULL), HRT_PHASE_UNKNOWN);
+    ck_assert_str_eq(hrt_phase_name(-3), "unknown");
+    for (int r = 0; r < HRT_REMNANT_COUNT; r++)
+        ck_assert_int_eq(hrt_remnant_from_key(hrt_remnant_key(r)), r);
+    for (int i = 0; i < HRT_INTERP_COUNT; i++)
+        ck_assert_int_eq(hrt_interp_from_name(hrt_interp_name(i)), i);
+    ck_assert_int_eq(hrt_interp_from_name("quintic"), -1);
+    ck_assert_str_eq(hrt_version(), HRT_VERSION_STRING);
+    ck_assert_int_eq(hrt_abi_version(), HRT_ABI_VERSION);
+    ck_assert_uint_eq(hrt_state_size(), sizeof(hrt_state));
+}
+END_TEST
+
+/* ---- slopes and Hermite against GSL itself --------------------------- */
+
+static const gsl_interp_type *gtype(int t)
+{
+    return t == HRT_INTERP_AKIMA ? gsl_interp_akima
+           : t == HRT_INTERP_CSPLINE ? gsl_interp_cspline
+           : t == HRT_INTERP_STEFFEN ? gsl_interp_steffen
+                                       : gsl_interp_linear;
+}
+
+/* hrt_slopes_local (used across [Fe/H]) and the Hermite form reproduce GSL
+ * 2.7's interpolants on random knots: reference GSL itself, relative 1e-13. */
+START_TEST(test_slopes_match_gsl)
+{
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    const double tol = 1e-13;
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        for (int trial = 0; trial < 200; trial++) {
+            size_t n = 5 + trial % 20;
+            double x[32], y[32], d[32];
+            x[0] = gsl_rng_uniform(rng);
+            for (size_t i = 1; i < n; i++)
+                x[i] = x[i - 1] + 0.05 + gsl_rng_uniform(rng);
+            for (size_t i = 0; i < n; i++)
+                y[i] = sin(3.0 * x[i]) + 0.3 * gsl_rng_uniform(rng);
+            hrt_slopes_local(t, n, x, y, d);
+            gsl_interp *it = gsl_interp_alloc(gtype(t), n);
+            gsl_interp_init(it, x, y, n);
+            for (int k = 0; k < 50; k++) {
+                double xq = x[0] + (x[n - 1] - x[0]) * gsl_rng_uniform(rng);
+                size_t i = 0;
+                while (i + 2 < n && x[i + 1] <= xq)
+                    i++;
+                double w[4];
+                hrt_hermite_weights(t, x[i], x[i + 1], xq, w);
+                double ours = w[0] * y[i] + w[1] * d[i] + w[2] * y[i + 1] + w[3] * d[i + 1];
+                double ref;
+                gsl_interp_eval_e(it, x, y, xq, NULL, &ref);
+                ck_assert_msg(fabs(ours - ref) <= tol * (1.0 + fabs(ref)), "%s n=%zu: %.17g vs GSL %.17g",
+                              hrt_interp_name(t), n, ours, ref);
+            }
+            gsl_interp_free(it);
+        }
+    }
+    gsl_rng_free(rng);
+}
+END_TEST
+
+/* The grid's hot path (Hermite with slopes from GSL at open) equals GSL's
+ * own spline evaluation across log mass: reference GSL gsl_interp_eval,
+ * relative 1e-13.  Knot values are read back from the file. */
+START_TEST(test_hot_path_equals_gsl)
+{
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        hrt_grid *g = open_or_fail(grid_path, t);
+        const zgroup *gp = &g->grp[1];
+        int r = 1;
+        size_t lo = gp->route_lo[r], n = gp->route_hi[r] - lo;
+        int j = 17;
+        double x[64], y[64];
+        for (size_t k = 0; k < n; k++) {
+            x[k] = gp->logm[lo + k];
+            y[k] = gp->hv[(((size_t)Q_L * g->n_eep_max + j) * (gp->n_mass + 1) + lo + k) * 2];
+        }
+        gsl_interp *it = gsl_interp_alloc(gtype(t), n);
+        gsl_interp_init(it, x, y, n);
+        qctx q;
+        for (int k = 0; k <= 400; k++) {
+            double xm = x[0] + (x[n - 1] - x[0]) * k / 400.0;
+            ck_assert_int_eq(hrt_qctx_init(g, pow(10.0, xm), gp->z, &q, NULL), HRT_OK);
+            double ours = hrt_q_value(&q, Q_L, j), ref;
+            gsl_interp_eval_e(it, x, y, xm, NULL, &ref);
+            ck_assert_msg(fabs(ours - ref) <= 1e-13 * (1.0 + fabs(ref)), "%s: %.17g vs %.17g",
+                          hrt_interp_name(t), ours, ref);
+        }
+        gsl_interp_free(it);
+        hrt_grid_close(g);
+    }
+}
+END_TEST
+
+/* ---- round trip: what was written is what is read --------------------- */
+
+START_TEST(test_roundtrip_exact_at_knots)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    ck_assert_uint_eq(hrt_grid_n_z(g), 4);
+    ck_assert_uint_eq(hrt_grid_n_routes(g), 2);
+    ck_assert_str_eq(hrt_grid_route_name(g, 0), "low");
+    ck_assert_str_eq(hrt_grid_keypoint_name(g, 1, 2), "ignite");
+    ck_assert_int_eq(hrt_grid_keypoint_eep(g, 1, 2), 50);
+    ck_assert_uint_eq(hrt_grid_route_n_eep(g, 1), 61);
+    ck_assert_str_eq(hrt_grid_attribute(g, "description"), "synthetic test grid (known functions)");
+    ck_assert_ptr_null(hrt_grid_attribute(g, "nope"));
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        double z = hrt_grid_z(g, iz), y = synth_feh(z);
+        for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
+            double m = hrt_grid_mass(g, iz, im);
+            int route = hrt_grid_track_route(g, iz, im);
+            hrt_star *s;
+            ck_assert_int_eq(hrt_star_new(g, m, z, &s, NULL), HRT_OK);
+            size_t J = hrt_star_n_eep(s);
+            ck_assert_uint_eq(J, hrt_grid_track_n_eep(g, iz, im));
+            for (size_t j = 0; j < J; j++) {
+                hrt_state st;
+                double e = (double)j / (J - 1);
+                ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
+                /* the file holds these doubles; only log10 of the stored
+                 * mass differs from the generating x in the last bits */
+                ck_assert_double_eq_tol(st.log_l, synth_log_l(route, log10(m), e, y), 1e-12);
+                ck_assert_double_eq_tol(log10(st.age_yr), synth_log_age(route, log10(m), e, y), 1e-14);
+                ck_assert_int_eq(st.phase, synth_phase(route, (int)j, (int)J));
+            }
+            int kind;
+            double rm;
+            hrt_star_remnant(s, &kind, &rm);
+            ck_assert_int_eq(kind, route ? HRT_REMNANT_CO_WD : HRT_REMNANT_HE_WD);
+            ck_assert_double_eq_tol(rm, synth_remnant_mass(route, log10(m), y), 1e-15);
+            hrt_star_free(s);
+        }
+    }
+    hrt_grid_close(g);
+}
+END_TEST
+
+START_TEST(test_writer_atomic_and_deterministic)
+{
+    char p1[320], p2[320];
+    path_in_tmp(p1, sizeof p1, "a.h5");
+    path_in_tmp(p2, sizeof p2, "b.h5");
+    hrt_error e;
+    ck_assert_int_eq(synth_write(&base_spec, p1, &e), HRT_OK);
+    ck_assert_int_eq(synth_write(&base_spec, p2, &e), HRT_OK);
+    char cmd[700];
+    snprintf(cmd, sizeof cmd, "cmp -s %s %s", p1, p2);
+    ck_assert_msg(system(cmd) == 0, "two writes of the same grid differ");
+    /* A write into a missing directory fails and leaves nothing behind. */
+    char bad[320];
+    path_in_tmp(bad, sizeof bad, "missing-dir/x.h5");
+    ck_assert_int_eq(synth_write(&base_spec, bad, &e), HRT_E_IO);
+    snprintf(cmd, sizeof cmd, "ls %s | grep -c tmp- > /dev/null", tmpdir);
+    ck_assert_msg(system(cmd) != 0, "temporary file left behind");
+}
+END_TEST
+
+/* ---- exact-answer grids: accuracy and convergence --------------------- */
+
+/* Max |error| of log L over interior masses of the high route at the grid
+ * metallicity iz, queried at the exact age of fractional EEP position e. */
+static double max_error(const synth_spec *s, int interp, int iz, double frac_lo, double frac_hi)
+{
+    char p[320];
+    path_in_tmp(p, sizeof p, "conv.h5");
+    hrt_error e;
+    ck_assert_int_eq(synth_write(s, p, &e), HRT_OK);
+    hrt_grid *g = open_or_fail(p, interp);
+    double z = synth_z(s, iz), y = synth_feh(z), err = 0.0;
+    double lo = log10(s->mass_b) + 0.02, hi = log10(s->mass_hi);
+    for (int k = 0; k <= 500; k++) {
+        double x = lo + (hi - lo) * (frac_lo + (frac_hi - frac_lo) * k / 500.0);
+        for (int j = 3; j < 55; j += 7) {
+            double ef = j / 60.0;
+            double age = pow(10.0, synth_log_age(1, x, ef, y)), m = pow(10.0, x);
+            hrt_state st;
+            ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, &st, NULL), HRT_OK);
+            double d = fabs(st.log_l - synth_log_l(1, x, st.eep / 60.0, y));
+            double dl = fabs(st.eep / 60.0 - ef); /* the age's EEP must be recovered too */
+            if (d > err)
+                err = d;
+            if (dl * 10.0 > err)
+                err = dl * 10.0;
+        }
+    }
+    hrt_grid_close(g);
+    return err;
+}
+
+START_TEST(test_exact_answer_accuracy)
+{
+    /* Stated tolerances on a grid of 11 tracks over 1-10 Msun (0.1 dex
+     * spacing), interior masses, at a grid metallicity: log L in dex. */
+    const double tol[HRT_INTERP_COUNT] = {2e-3, 2e-2, 2e-4, 1e-3};
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        double err = max_error(&base_spec, t, 2, 0.1, 0.9);
+        ck_assert_msg(err < tol[t], "%s: max error %.3g dex exceeds %.3g", hrt_interp_name(t), err, tol[t]);
+    }
+}
+END_TEST
+
+START_TEST(test_convergence_order)
+{
+    /* Halving the mass spacing must shrink the interior error of the
+     * natural cubic spline by about 2^4 (fourth order; asserted > 3.3) and
+     * of linear interpolation by 2^2 (asserted > 1.7). */
+    synth_spec s1 = base_spec, s2 = base_spec;
+    s1.jitter = s2.jitter = 0;
+    s1.n_high = 11;
+    s2.n_high = 21;
+    double c1 = max_error(&s1, HRT_INTERP_CSPLINE, 1, 0.3, 0.7);
+    double c2 = max_error(&s2, HRT_INTERP_CSPLINE, 1, 0.3, 0.7);
+    double l1 = max_error(&s1, HRT_INTERP_LINEAR, 1, 0.3, 0.7);
+    double l2 = max_error(&s2, HRT_INTERP_LINEAR, 1, 0.3, 0.7);
+    double oc = log2(c1 / c2), ol = log2(l1 / l2);
+    ck_assert_msg(oc > 3.3, "cspline order %.2f (errors %.3g -> %.3g)", oc, c1, c2);
+    ck_assert_msg(ol > 1.7, "linear order %.2f (errors %.3g -> %.3g)", ol, l1, l2);
+}
+END_TEST
+
+START_TEST(test_metallicity_interpolation)
+{
+    /* Between metallicity groups (0.34 dex apart) at interior masses:
+     * stated tolerance 5e-3 dex in log L for the cubic types, 3e-2 linear
+     * (the synthetic log L has curvature 0.1 dex per dex^2 in [Fe/H]). */
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        hrt_grid *g = open_or_fail(grid_path, t);
+        double worst = 0.0;
+        for (int k = 0; k < 200; k++) {
+            double y = synth_feh(0.0015) + (synth_feh(0.025) - synth_feh(0.0015)) * k / 199.0;
+            double z = 0.02 * pow(10.0, y), x = log10(1.5) + 0.6 * (k % 17) / 16.0, m = pow(10.0, x);
+            double ef = (5 + k % 50) / 60.0, age = pow(10.0, synth_log_age(1, x, ef, y));
+            hrt_state st;
+            ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, &st, NULL), HRT_OK);
+            double d = fabs(st.log_l - synth_log_l(1, x, st.eep / 60.0, y));
+            if (d > worst)
+                worst = d;
+            /* log age is linear in [Fe/H] in the function and the method, so
+             * only the mass interpolation of ages shifts the EEP */
+            ck_assert_msg(fabs(st.eep / 60.0 - ef) < (t == HRT_INTERP_LINEAR ? 5e-4 : 1e-4), "%s: EEP fraction %.6f for %.6f",
+                          hrt_interp_name(t), st.eep / 60.0, ef);
+        }
+        double tol = t == HRT_INTERP_LINEAR ? 3e-2 : 5e-3;
+        ck_assert_msg(worst < tol, "%s: %.3g dex", hrt_interp_name(t), worst);
+        hrt_grid_close(g);
+    }
+}
+END_TEST
+
+/* ---- stars and batches ------------------------------------------------ */
+
+START_TEST(test_star_equals_eval_bitwise)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    for (int k = 0; k < 300; k++) {
+        double m = 0.3 * pow(10.0 / 0.3, gsl_rng_uniform(rng));
+        double z = 0.001 * pow(30.0, gsl_rng_uniform(rng));
+        if (k % 3 == 0)
+            z = hrt_grid_z(g, k % 4);
+        hrt_star *s;
+        ck_assert_int_eq(hrt_star_new(g, m, z, &s, NULL), HRT_OK);
+        for (int a = 0; a < 20; a++) {
+            double age = pow(10.0, 6.0 + 6.0 * gsl_rng_uniform(rng));
+            hrt_state s1, s2;
+            int r1 = hrt_star_at(s, age, &s1);
+            int r2 = hrt_eval(g, 1, &m, &z, 0.0, &age, &s2, NULL);
+            ck_assert_int_eq(r1, r2);
+            /* bit for bit, NaNs included: exact comparison */
+            ck_assert_int_eq(memcmp(&s1, &s2, sizeof s1), 0);
+        }
+        hrt_star_free(s);
+    }
+    gsl_rng_free(rng);
+    hrt_grid_close(g);
+}
+END_TEST
+
+START_TEST(test_stefan_boltzmann)
+{
+    /* Every returned state satisfies L = 4 pi R^2 sigma Teff^4 with the
+     * nominal solar values of IAU 2015 Resolution B3 and sigma from SI 2019:
+     * relative 1e-5 (the nominal values themselves agree to 2e-6). */
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    int checked = 0;
+    for (int k = 0; k < 3000; k++) {
+        double m = 0.3 * pow(10.0 / 0.3, gsl_rng_uniform(rng)), z = 0.001 * pow(30.0, gsl_rng_uniform(rng));
+        double age = pow(10.0, 7.0 + 5.0 * gsl_rng_uniform(rng));
+        hrt_state st;
+        if (hrt_eval(g, 1, &m, &z, 0, &age, &st, NULL) != HRT_OK || (st.flags & (HRT_FLAG_DARK | HRT_FLAG_NOT_MODELLED)))
+            continue;
+        double R = pow(10.0, st.log_r) * 6.957e8, T = pow(10.0, st.log_teff_k);
+        double L = 4.0 * 3.14159265358979323846 * R * R * 5.670374419e-8 * T * T * T * T / 3.828e26;
+        ck_assert_double_eq_tol(L / pow(10.0, st.log_l), 1.0, 1e-5);
+        /* log g from G M / R^2 with (GM)sun nominal (IAU 2015 B3), cgs */
+        double gcgs = 1.3271244e20 * st.mass_msun / (R * R) * 100.0;
+        ck_assert_double_eq_tol(log10(gcgs), st.log_g_cgs, 1e-9);
+        checked++;
+    }
+    ck_assert_int_gt(checked, 1000);
+    gsl_rng_free(rng);
+    hrt_grid_close(g);
+}
+END_TEST
+
+START_TEST(test_phases_keypoints_remnant)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    double z = hrt_grid_z(g, 1), m = 2.7;
+    hrt_star *s;
+    ck_assert_int_eq(hrt_star_new(g, m, z, &s, NULL), HRT_OK);
+    ck_assert_int_eq(hrt_star_route(s), 1);
+    ck_assert_uint_eq(hrt_star_n_keypoints(s), 4);
+    double prev = 0.0;
+    for (size_t k = 0; k < 4; k++) {
+        double a;
+        ck_assert_int_eq(hrt_star_keypoint_age(s, k, &a), HRT_OK);
+        ck_assert(a > prev);
+        prev = a;
+    }
+    double a_end;
+    hrt_star_keypoint_age(s, 3, &a_end);
+    ck_assert_double_eq(a_end, hrt_star_end_age(s));
+    ck_assert_int_eq(hrt_star_keypoint_age(s, 4, &a_end), HRT_E_INVALID);
+    size_t n;
+    ck_assert_int_eq(hrt_star_phases(s, NULL, 0, &n), HRT_E_BUFFER);
+    ck_assert_uint_eq(n, 5); /* pre-MS, MS, RGB, CHeB, WD */
+    hrt_phase_span sp[8];
+    ck_assert_int_eq(hrt_star_phases(s, sp, 8, &n), HRT_OK);
+    int want[5] = {HRT_PHASE_PRE_MS, HRT_PHASE_MS, HRT_PHASE_RGB, HRT_PHASE_CHEB, HRT_PHASE_WD};
+    for (size_t k = 0; k < n; k++) {
+        ck_assert_int_eq(sp[k].phase, want[k]);
+        if (k > 0)
+            ck_assert_double_eq(sp[k].start_yr, sp[k - 1].end_yr);
+        /* states inside each span carry that phase */
+        double mid = k + 1 < n ? sqrt(sp[k].start_yr * sp[k].end_yr) : sp[k].start_yr * 3.0;
+        if (k == 0)
+            mid = 0.5 * sp[k].end_yr;
+        hrt_state st;
+        ck_assert_int_eq(hrt_star_at(s, mid, &st), HRT_OK);
+        ck_assert_int_eq(st.phase, want[k]);
+        if (k > 0 && k + 1 < n) {
+            ck_assert(st.phase_fraction > 0.0 && st.phase_fraction < 1.0);
+            ck_assert_double_eq_tol(st.phase_start_yr, sp[k].start_yr, 1e-6 * sp[k].start_yr);
+        }
+    }
+    /* White dwarf: cools (L falls) and keeps its mass and radius. */
+    hrt_state w1, w2;
+    ck_assert_int_eq(hrt_star_at(s, a_end * 1.01, &w1), HRT_OK);
+    ck_assert_int_eq(hrt_star_at(s, a_end * 3.0, &w2), HRT_OK);
+    ck_assert(w1.flags & HRT_FLAG_REMNANT);
+    ck_assert(w2.log_l < w1.log_l);
+    ck_assert_double_eq(w1.mass_msun, w2.mass_msun);
+    ck_assert_double_eq(w1.log_r, w2.log_r);
+    ck_assert(isinf(w1.phase_end_yr));
+    hrt_star_free(s);
+    hrt_grid_close(g);
+}
+END_TEST
+
+START_TEST(test_wd_physics)
+{
+    /* Eggleton relation (Verbunt & Rappaport 1988): 0.6 Msun -> 0.0125
+     * Rsun within 5 % [value derived from the relation, from memory]. */
+    ck_assert_double_eq_tol(hrt_wd_radius_rsun(0.6), 0.0125, 0.0125 * 0.05);
+    ck_assert(hrt_wd_radius_rsun(1.0) < hrt_wd_radius_rsun(0.6));
+    ck_assert(isnan(hrt_wd_radius_rsun(1.5)));
+    ck_assert(isnan(hrt_wd_radius_rsun(-1.0)));
+    /* Mestel (1952) cooling of a 0.6 Msun CO white dwarf: about 0.6 Gyr to
+     * log L = -3 and 3 Gyr to -4, within a factor 2 [from memory]. */
+    double t3 = 0.0, t4 = 0.0;
+    for (double t = 1e6; t < 2e10; t *= 1.001) {
+        double l = hrt_wd_log_l(0.6, HRT_REMNANT_CO_WD, 0.0, t);
+        if (t3 == 0.0 && l <= -3.0)
+            t3 = t;
+        if (t4 == 0.0 && l <= -4.0)
+            t4 = t;
+    }
+    ck_assert(t3 > 0.3e9 && t3 < 1.2e9);
+    ck_assert(t4 > 1.5e9 && t4 < 6e9);
+    ck_assert_double_eq_tol(hrt_wd_log_l(0.6, HRT_REMNANT_CO_WD, 1.0, 0.0), 1.0, 1e-12);
+}
+END_TEST
+
+START_TEST(test_isochrone)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    double z = hrt_grid_z(g, 2), y = synth_feh(z), age = 3e8;
+    size_t n;
+    ck_assert_int_eq(hrt_isochrone(g, age, z, NULL, 0, &n, NULL), HRT_E_BUFFER);
+    ck_assert_uint_gt(n, 20);
+    hrt_state *iso = malloc(n * sizeof *iso);
+    size_t n2;
+    ck_assert_int_eq(hrt_isochrone(g, age, z, iso, n, &n2, NULL), HRT_OK);
+    ck_assert_uint_eq(n, n2);
+    double prev_eep = -1.0;
+    int prev_route = -1;
+    for (size_t k = 0; k < n; k++) {
+        ck_assert_double_eq(iso[k].age_yr, age);
+        if (iso[k].route != prev_route)
+            prev_eep = -1.0;
+        ck_assert(iso[k].eep >= prev_eep - 1e-6);
+        prev_eep = iso[k].eep;
+        prev_route = iso[k].route;
+        /* On the synthetic grid the EEP age is known: the point's mass,
+         * EEP and age satisfy it (tolerance 1e-6 in EEP fraction). */
+        double x = log10(iso[k].initial_mass_msun);
+        int r = iso[k].route, J = r ? 61 : 51;
+        double e = iso[k].eep / (J - 1);
+        ck_assert_double_eq_tol(synth_log_age(r, x, e, y), log10(age), 2e-4);
+    }
+    free(iso);
+    ck_assert_int_eq(hrt_isochrone(g, -1.0, z, NULL, 0, &n, NULL), HRT_E_DOMAIN);
+    ck_assert_int_eq(hrt_isochrone(g, age, 0.5, NULL, 0, &n, NULL), HRT_E_Z_RANGE);
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* ---- bad input -------------------------------------------------------- */
+
+START_TEST(test_bad_queries)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    hrt_error e;
+    hrt_state st;
+    double z = hrt_grid_z(g, 0), age = 1e9, m = 2.0;
+    struct {
+        double m, z, age;
+        int code;
+    } cases[] = {
+        {NAN, 0.01, 1e9, HRT_E_DOMAIN},      {INFINITY, 0.01, 1e9, HRT_E_DOMAIN}, {-1.0, 0.01, 1e9, HRT_E_DOMAIN},
+        {0.0, 0.01, 1e9, HRT_E_DOMAIN},      {1e6, 0.01, 1e9, HRT_E_MASS_RANGE}, {0.1, 0.01, 1e9, HRT_E_MASS_RANGE},
+        {2.0, NAN, 1e9, HRT_E_DOMAIN},       {2.0, -0.01, 1e9, HRT_E_DOMAIN},    {2.0, 0.5, 1e9, HRT_E_Z_RANGE},
+        {2.0, 1e-6, 1e9, HRT_E_Z_RANGE},     {2.0, 0.01, NAN, HRT_E_DOMAIN},     {2.0, 0.01, -5.0, HRT_E_DOMAIN},
+        {2.0, 0.01, INFINITY, HRT_E_DOMAIN},
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        memset(&e, 0, sizeof e);
+        int rc = hrt_eval(g, 1, &cases[k].m, &cases[k].z, 0, &cases[k].age, &st, &e);
+        ck_assert_msg(rc == cases[k].code, "case %zu: %d (%s)", k, rc, e.message);
+        ck_assert_int_eq(st.status, rc);
+        ck_assert_int_eq(e.code, rc);
+        ck_assert(strlen(e.message) > 10);
+        ck_assert(isnan(st.log_l));
+    }
+    /* A batch keeps going past bad stars and reports the first. */
+    double ms[3] = {2.0, -1.0, 3.0}, ages[3] = {1e9, 1e9, 1e8};
+    hrt_state out[3];
+    ck_assert_int_eq(hrt_eval(g, 3, ms, NULL, z, ages, out, &e), HRT_E_DOMAIN);
+    ck_assert(strstr(e.message, "star 1") != NULL);
+    ck_assert_int_eq(out[0].status, HRT_OK);
+    ck_assert_int_eq(out[2].status, HRT_OK);
+    ck_assert_int_eq(hrt_eval(g, 0, NULL, NULL, z, NULL, NULL, NULL), HRT_OK);
+    ck_assert_int_eq(hrt_eval(NULL, 1, &m, NULL, z, &age, &st, NULL), HRT_E_NULL);
+    ck_assert_int_eq(hrt_eval(g, 1, NULL, NULL, z, &age, &st, NULL), HRT_E_NULL);
+    ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, NULL, &st, NULL), HRT_E_NULL);
+    ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, NULL, NULL), HRT_E_NULL);
+    hrt_star *s = NULL;
+    ck_assert_int_eq(hrt_star_new(NULL, 1.0, z, &s, NULL), HRT_E_NULL);
+    ck_assert_int_eq(hrt_star_new(g, 1.0, z, NULL, NULL), HRT_E_NULL);
+    ck_assert_int_eq(hrt_star_new(g, 99.0, z, &s, &e), HRT_E_MASS_RANGE);
+    ck_assert_ptr_null(s);
+    ck_assert_int_eq(hrt_star_at(NULL, 1e9, &st), HRT_E_NULL);
+    ck_assert_int_eq(hrt_star_new(g, 2.0, z, &s, NULL), HRT_OK);
+    ck_assert_int_eq(hrt_star_at(s, NAN, &st), HRT_E_DOMAIN);
+    ck_assert_int_eq(hrt_star_eep_state(s, 100000, &st), HRT_E_INVALID);
+    /* Before the first EEP: pre-main sequence, not an error. */
+    ck_assert_int_eq(hrt_star_at(s, 0.0, &st), HRT_OK);
+    ck_assert_int_eq(st.phase, HRT_PHASE_PRE_MS);
+    ck_assert(st.flags & HRT_FLAG_NOT_MODELLED);
+    hrt_star_free(s);
+    hrt_star_free(NULL);
+    hrt_grid_close(NULL);
+    double lo, hi;
+    ck_assert_int_eq(hrt_grid_mass_range(g, z, &lo, &hi), HRT_OK);
+    ck_assert_double_eq_tol(lo, 0.3, 1e-12);
+    ck_assert_int_eq(hrt_grid_mass_range(g, 0.9, &lo, &hi), HRT_E_Z_RANGE);
+    int route;
+    ck_assert_int_eq(hrt_grid_route_of(g, 0.5, z, &route), HRT_OK);
+    ck_assert_int_eq(route, 0);
+    ck_assert_int_eq(hrt_grid_route_of(g, 1.01, z, &route), HRT_OK);
+    ck_assert_int_eq(route, 1);
+    hrt_grid_close(g);
+    hrt_grid *g2 = NULL;
+    ck_assert_int_eq(hrt_grid_open_with(grid_path, 17, &g2, &e), HRT_E_INVALID);
+    ck_assert_int_eq(hrt_grid_open(grid_path, NULL, &e), HRT_E_NULL);
+}
+END_TEST
+
+/* Extrapolation between a route's last track and its boundary is flagged. */
+START_TEST(test_route_edges)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    double z = hrt_grid_z(g, 1), age = 1e8;
+    double m = 0.97; /* low route: its last track is at 0.955 Msun */
+    hrt_state st;
+    ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, &st, NULL), HRT_OK);
+    ck_assert_int_eq(st.route, 0);
+    ck_assert(st.flags & HRT_FLAG_EXTRAPOLATED);
+    m = 1.5;
+    ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, &st, NULL), HRT_OK);
+    ck_assert(!(st.flags & HRT_FLAG_EXTRAPOLATED));
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* ---- hostile and broken files ----------------------------------------- */
+
+/* Copy the good grid and damage it with the HDF5 API. */
+typedef void (*damage_fn)(hid_t f);
+
+static void dmg_version(hid_t f)
+{
+    int v = 99;
+    hid_t a = H5Aopen(f, "format_version", H5P_DEFAULT);
+    H5Awrite(a, H5T_NATIVE_INT, &v);
+    H5Aclose(a);
+}
+static void dmg_no_format(hid_t f) { H5Adelete(f, "format"); }
+static void dmg_no_zref(hid_t f) { H5Adelete(f, "z_ref"); }
+static void dmg_no_dataset(hid_t f) { H5Ldelete(f, "metallicity/1/log_Teff", H5P_DEFAULT); }
+static void dmg_no_group(hid_t f) { H5Ldelete(f, "routes", H5P_DEFAULT); }
+static void write_elem(hid_t f, const char *name, hsize_t i, hsize_t j, double v)
+{
+    hid_t d = H5Dopen2(f, name, H5P_DEFAULT), s = H5Dget_space(d);
+    hsize_t start[2] = {i, j}, cnt[2] = {1, 1};
+    int rank = H5Sget_simple_extent_ndims(s);
+    H5Sselect_hyperslab(s, H5S_SELECT_SET, start, NULL, cnt, NULL);
+    hid_t ms = H5Screate_simple(1, cnt, NULL);
+    (void)rank;
+    H5Dwrite(d, H5T_NATIVE_DOUBLE, ms, s, H5P_DEFAULT, &v);
+    H5Sclose(ms);
+    H5Sclose(s);
+    H5Dclose(d);
+}
+static void dmg_nan(hid_t f) { write_elem(f, "metallicity/2/log_L", 3, 10, NAN); }
+static void dmg_age_order(hid_t f) { write_elem(f, "metallicity/0/log_age", 4, 20, 1.0); }
+static void dmg_mass_order(hid_t f) { write_elem(f, "metallicity/1/initial_mass", 5, 0, 0.01); }
+static void dmg_phase(hid_t f) { write_elem(f, "metallicity/1/phase", 2, 2, 77); }
+static void dmg_neep(hid_t f) { write_elem(f, "metallicity/1/n_eep", 2, 0, 5000); }
+static void dmg_route(hid_t f) { write_elem(f, "metallicity/3/route", 0, 0, 1); }
+static void dmg_boundary(hid_t f) { write_elem(f, "metallicity/0/route_boundary_mass", 0, 0, 5.0); }
+static void dmg_z_order(hid_t f)
+{
+    double v = 0.5;
+    hid_t g = H5Gopen2(f, "metallicity/1", H5P_DEFAULT), a = H5Aopen(g, "Z", H5P_DEFAULT);
+    H5Awrite(a, H5T_NATIVE_DOUBLE, &v);
+    H5Aclose(a);
+    H5Gclose(g);
+}
+static void dmg_shape(hid_t f)
+{
+    H5Ldelete(f, "metallicity/0/mass", H5P_DEFAULT);
+    hsize_t d[2] = {3, 3};
+    hid_t s = H5Screate_simple(2, d, NULL);
+    hid_t ds = H5Dcreate2(f, "metallicity/0/mass", H5T_IEEE_F64LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Dclose(ds);
+    H5Sclose(s);
+}
+static void dmg_dtype(hid_t f)
+{
+    H5Ldelete(f, "metallicity/0/route", H5P_DEFAULT);
+    hsize_t d[1] = {20};
+    hid_t s = H5Screate_simple(1, d, NULL);
+    double v[20] = {0};
+    hid_t ds = H5Dcreate2(f, "metallicity/0/route", H5T_IEEE_F64LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Dwrite(ds, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+    H5Dclose(ds);
+    H5Sclose(s);
+}
+static void dmg_empty_group(hid_t f)
+{
+    H5Ldelete(f, "metallicity/3", H5P_DEFAULT);
+    hid_t g = H5Gcreate2(f, "metallicity/3", H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Gclose(g);
+}
+
+static const struct {
+    const char *what;
+    damage_fn fn;
+    int code;
+    const char *needle;
+} damages[] = {
+    {"newer version", dmg_version, HRT_E_VERSION, "format_version"},
+    {"no format attribute", dmg_no_format, HRT_E_FORMAT, "'format'"},
+    {"no z_ref", dmg_no_zref, HRT_E_FORMAT, "z_ref"},
+    {"missing dataset", dmg_no_dataset, HRT_E_FORMAT, "metallicity/1/log_Teff"},
+    {"missing routes", dmg_no_group, HRT_E_FORMAT, "routes"},
+    {"NaN inside the track", dmg_nan, HRT_E_FORMAT, "metallicity/2/log_L[3][10]"},
+    {"ages out of order", dmg_age_order, HRT_E_FORMAT, "metallicity/0/log_age[4][20]"},
+    {"masses out of order", dmg_mass_order, HRT_E_FORMAT, "initial_mass[5]"},
+    {"bad phase code", dmg_phase, HRT_E_FORMAT, "phase[2][2]"},
+    {"n_eep too large", dmg_neep, HRT_E_FORMAT, "n_eep[2]"},
+    {"route order", dmg_route, HRT_E_FORMAT, "route"},
+    {"boundary on the wrong side", dmg_boundary, HRT_E_FORMAT, "route_boundary_mass[0]"},
+    {"Z not increasing", dmg_z_order, HRT_E_FORMAT, "metallicity/2"},
+    {"wrong shape", dmg_shape, HRT_E_FORMAT, "metallicity/0/mass"},
+    {"wrong dtype", dmg_dtype, HRT_E_FORMAT, "metallicity/0/route"},
+    {"empty metallicity group", dmg_empty_group, HRT_E_FORMAT, "metallicity/3"},
+};
+
+START_TEST(test_damaged_files)
+{
+    char p[320];
+    path_in_tmp(p, sizeof p, "damaged.h5");
+    for (size_t k = 0; k < sizeof damages / sizeof damages[0]; k++) {
+        char cmd[700];
+        snprintf(cmd, sizeof cmd, "cp %s %s", grid_path, p);
+        ck_assert_int_eq(system(cmd), 0);
+        hid_t f = H5Fopen(p, H5F_ACC_RDWR, H5P_DEFAULT);
+        damages[k].fn(f);
+        H5Fclose(f);
+        hrt_grid *g = (hrt_grid *)0x1;
+        hrt_error e;
+        int rc = hrt_grid_open(p, &g, &e);
+        ck_assert_msg(rc == damages[k].code, "%s: code %d, message '%s'", damages[k].what, rc, e.message);
+        ck_assert_ptr_null(g);
+        ck_assert_msg(strstr(e.message, damages[k].needle), "%s: message '%s' lacks '%s'", damages[k].what,
+                      e.message, damages[k].needle);
+    }
+}
+END_TEST
+
+START_TEST(test_not_hdf5_and_missing)
+{
+    hrt_error e;
+    hrt_grid *g;
+    char p[320];
+    path_in_tmp(p, sizeof p, "garbage.h5");
+    FILE *f = fopen(p, "wb");
+    for (int i = 0; i < 4096; i++)
+        fputc((i * 7919) & 0xff, f);
+    fclose(f);
+    ck_assert_int_eq(hrt_grid_open(p, &g, &e), HRT_E_FORMAT);
+    ck_assert(strstr(e.message, "not a readable HDF5") != NULL);
+    /* truncated copy of a good grid */
+    char cmd[700];
+    snprintf(cmd, sizeof cmd, "head -c 5000 %s > %s", grid_path, p);
+    ck_assert_int_eq(system(cmd), 0);
+    ck_assert_int_eq(hrt_grid_open(p, &g, &e), HRT_E_FORMAT);
+    ck_assert_int_eq(hrt_grid_open("/nonexistent/grid.h5", &g, &e), HRT_E_IO);
+    ck_assert(strstr(e.message, "/nonexistent/grid.h5") != NULL);
+    /* The default grid honours HRTRAIL_GRID. */
+    setenv("HRTRAIL_GRID", "/nonexistent/default.h5", 1);
+    ck_assert_str_eq(hrt_default_grid_path(), "/nonexistent/default.h5");
+    ck_assert_int_eq(hrt_grid_open(NULL, &g, &e), HRT_E_NOT_FOUND);
+    setenv("HRTRAIL_GRID", grid_path, 1);
+    ck_assert_int_eq(hrt_grid_open(NULL, &g, &e), HRT_OK);
+    hrt_grid_close(g);
+    unsetenv("HRTRAIL_GRID");
+}
+END_TEST
+
+START_TEST(test_builder_rejects)
+{
+    const char *kp[] = {"a", "b"};
+    int seg[] = {10};
+    hrt_route_spec r = {"one", 2, kp, seg};
+    hrt_builder *b;
+    hrt_error e;
+    ck_assert_int_eq(hrt_builder_new(0, &r, 0.02, &b, &e), HRT_E_INVALID);
+    ck_assert_int_eq(hrt_builder_new(1, &r, -1.0, &b, &e), HRT_E_DOMAIN);
+    hrt_route_spec bad = {"a/b", 2, kp, seg};
+    ck_assert_int_eq(hrt_builder_new(1, &bad, 0.02, &b, &e), HRT_E_INVALID);
+    ck_assert_int_eq(hrt_builder_new(1, &r, 0.02, &b, &e), HRT_OK);
+    double age[12], l[12], t[12], m[12], c[12];
+    int ph[12];
+    for (int i = 0; i < 12; i++) {
+        age[i] = 7.0 + 0.1 * i;
+        l[i] = 0.01 * i;
+        t[i] = 3.7;
+        m[i] = 1.0;
+        c[i] = 0.0;
+        ph[i] = HRT_PHASE_MS;
+    }
+    size_t kps[2] = {0, 11};
+    hrt_track_data td = {1.0, 0, HRT_REMNANT_NONE, NAN, 12, age, l, t, NULL, m, c, c, ph, 2, kps};
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_OK);
+    age[5] = age[4];
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_E_INVALID);
+    ck_assert(strstr(e.message, "log_age[5]") != NULL);
+    age[5] = 7.5;
+    l[3] = NAN;
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_E_DOMAIN);
+    l[3] = 0.03;
+    kps[1] = 40;
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_E_INVALID);
+    kps[1] = 11;
+    td.route = 4;
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_E_INVALID);
+    td.route = 0;
+    ph[2] = 0;
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_E_INVALID);
+    ph[2] = HRT_PHASE_MS;
+    /* same mass twice is refused at write time */
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, &e), HRT_OK);
+    char p[320];
+    path_in_tmp(p, sizeof p, "dup.h5");
+    ck_assert_int_eq(hrt_builder_write(b, p, &e), HRT_E_INVALID);
+    ck_assert(access(p, F_OK) != 0);
+    ck_assert_int_eq(hrt_builder_set_attribute(b, "format", "x", &e), HRT_E_INVALID);
+    hrt_builder_free(b);
+}
+END_TEST
+
+/* Resampling a raw track: EEPs land on the keypoints, are equally spaced in
+ * the metric of tracks/FORMAT.md, and reproduce a linear track exactly. */
+START_TEST(test_resampling)
+{
+    const char *kp[] = {"a", "b", "c"};
+    int seg[] = {10, 5};
+    hrt_route_spec r = {"one", 3, kp, seg};
+    hrt_builder *b;
+    ck_assert_int_eq(hrt_builder_new(1, &r, 0.02, &b, NULL), HRT_OK);
+    enum { N = 301 };
+    double age[N], l[N], t[N], m[N], c[N];
+    int ph[N];
+    for (int i = 0; i < N; i++) {
+        double u = (double)i / (N - 1);
+        age[i] = log10(1e7 + 1e9 * u * u); /* uneven in time */
+        l[i] = 2.0 * u;
+        t[i] = 3.9 - 0.1 * u;
+        m[i] = 1.0 - 0.1 * u;
+        c[i] = 0.2 * u;
+        ph[i] = i < 200 ? HRT_PHASE_MS : HRT_PHASE_RGB;
+    }
+    size_t kps[3] = {0, 200, 300};
+    hrt_track_data td = {1.0, 0, HRT_REMNANT_CO_WD, 0.6, N, age, l, t, NULL, m, c, c, ph, 3, kps};
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, NULL), HRT_OK);
+    td.initial_mass_msun = 1.2;
+    ck_assert_int_eq(hrt_builder_add_track(b, 0.02, &td, NULL), HRT_OK);
+    char p[320];
+    path_in_tmp(p, sizeof p, "resampled.h5");
+    ck_assert_int_eq(hrt_builder_write(b, p, NULL), HRT_OK);
+    hrt_builder_free(b);
+    hrt_grid *g = open_or_fail(p, HRT_INTERP_LINEAR);
+    hrt_star *s;
+    ck_assert_int_eq(hrt_star_new(g, 1.0, 0.02, &s, NULL), HRT_OK);
+    ck_assert_uint_eq(hrt_star_n_eep(s), 16);
+    hrt_state st;
+    hrt_star_eep_state(s, 10, &st);
+    ck_assert_double_eq_tol(st.log_l, l[200], 1e-12); /* keypoint b at EEP 10 */
+    ck_assert_int_eq(st.phase, HRT_PHASE_RGB);
+    hrt_star_eep_state(s, 15, &st);
+    ck_assert_double_eq_tol(st.log_l, 2.0, 1e-12);
+    /* Linear in (log L, log Teff) and in the sample index: L varies linearly
+     * with distance, so EEPs are equally spaced in the metric. */
+    double d_prev = -1.0;
+    for (int j = 1; j < 10; j++) {
+        hrt_state s0, s1;
+        hrt_star_eep_state(s, j - 1, &s0);
+        hrt_star_eep_state(s, j, &s1);
+        double f0 = (s0.age_yr - pow(10.0, age[0])) / (pow(10.0, age[200]) - pow(10.0, age[0]));
+        double f1 = (s1.age_yr - pow(10.0, age[0])) / (pow(10.0, age[200]) - pow(10.0, age[0]));
+        double dT = 2.0 * (s1.log_teff_k - s0.log_teff_k), dL = s1.log_l - s0.log_l, dA = f1 - f0;
+        double d = sqrt(dT * dT + dL * dL + dA * dA);
+        if (d_prev > 0)
+            ck_assert_double_eq_tol(d, d_prev, 2e-3 * d);
+        d_prev = d;
+    }
+    hrt_star_free(s);
+    hrt_grid_close(g);
+}
+END_TEST
+
+static Suite *core_suite(void)
+{
+    Suite *s = suite_create("core");
+    struct {
+        const char *name;
+        const TTest *fn;
+    } cases[] = {
+        {"names", test_names},
+        {"slopes_gsl", test_slopes_match_gsl},
+        {"hot_path_gsl", test_hot_path_equals_gsl},
+        {"roundtrip", test_roundtrip_exact_at_knots},
+        {"writer", test_writer_atomic_and_deterministic},
+        {"exact_answer", test_exact_answer_accuracy},
+        {"convergence", test_convergence_order},
+        {"metallicity", test_metallicity_interpolation},
+        {"star_eval_bitwise", test_star_equals_eval_bitwise},
+        {"stefan_boltzmann", test_stefan_boltzmann},
+        {"phases", test_phases_keypoints_remnant},
+        {"white_dwarfs", test_wd_physics},
+        {"isochrone", test_isochrone},
+        {"bad_queries", test_bad_queries},
+        {"route_edges", test_route_edges},
+        {"damaged_files", test_damaged_files},
+        {"not_hdf5", test_not_hdf5_and_missing},
+        {"builder_rejects", test_builder_rejects},
+        {"resampling", test_resampling},
+    };
+    for (size_t k = 0; k < sizeof cases / sizeof cases[0]; k++) {
+        TCase *tc = tcase_create(cases[k].name);
+        tcase_add_checked_fixture(tc, NULL, teardown_each);
+        tcase_set_timeout(tc, 120);
+        tcase_add_test(tc, cases[k].fn);
+        suite_add_tcase(s, tc);
+    }
+    return s;
+}
+
+int main(void)
+{
+    H5Eset_auto2(H5E_DEFAULT, NULL, NULL); /* the tests damage files on purpose */
+    if (setup_once())
+        return EXIT_FAILURE;
+    SRunner *sr = srunner_create(core_suite());
+    srunner_run_all(sr, CK_NORMAL);
+    int failed = srunner_ntests_failed(sr);
+    srunner_free(sr);
+    char cmd[300];
+    snprintf(cmd, sizeof cmd, "rm -rf %s", tmpdir);
+    if (system(cmd) != 0)
+        failed++;
+    return failed ? EXIT_FAILURE : EXIT_SUCCESS;
+}
