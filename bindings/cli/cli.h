@@ -1,0 +1,221 @@
+/*
+ * Internal declarations of the hrtrail command (bindings/cli).
+ * The command uses only the public header hrtrail.h.
+ */
+#ifndef HRTRAIL_CLI_H
+#define HRTRAIL_CLI_H
+
+#include <stdio.h>
+#include <stddef.h>
+
+#include "hrtrail.h"
+
+/* Exit codes, documented in hrtrail --help and hrtrail.1. */
+enum {
+    CLI_EXIT_OK = 0,       /* success */
+    CLI_EXIT_INTERNAL = 1, /* out of memory or an internal failure */
+    CLI_EXIT_USAGE = 2,    /* bad command line: unknown subcommand or option, missing or unparseable value */
+    CLI_EXIT_RANGE = 3,    /* mass, metallicity or age outside what the grid covers */
+    CLI_EXIT_FILE = 4      /* file cannot be read or written, grid invalid or failing its check */
+};
+
+typedef enum out_format { FMT_TABLE = 0, FMT_CSV = 1, FMT_JSON = 2 } out_format;
+
+/* State shared by every subcommand. */
+typedef struct cli {
+    const char *cmd;       /* subcommand name for messages, e.g. "at", "grid check" */
+    const char *grid_path; /* --grid FILE, NULL for the default grid */
+    int interp;            /* hrt_interp */
+    out_format fmt;
+    int want_help;
+    hrt_grid *grid;        /* opened by cli_open_grid() */
+    const char *grid_used; /* path of the grid actually opened */
+    /* metallicity: --z or --feh (at most one of them) */
+    int have_z, have_feh;
+    double z_arg, feh_arg;
+    const char *z_text;
+} cli;
+
+/* ---- memory (the command owns its process: out of memory ends it with exit 1) ---- */
+void *xmalloc(size_t n);
+void *xcalloc(size_t n, size_t size);
+void *xrealloc(void *p, size_t n);
+char *xstrdup(const char *s);
+
+/* ---- messages: one line on stderr, "hrtrail CMD: ..."; they return the exit code ---- */
+int cli_fail(const cli *c, int code, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+int cli_exit_of_status(int hrt_code);
+
+/* ---- parsing values ---- */
+int parse_number(const char *s, double *out);
+int parse_age_yr(const char *s, double *out);
+int parse_count(const char *s, long lo, long hi, long *out);
+void format_age(char *buf, size_t n, double age_yr);
+
+typedef struct dlist { size_t n, cap; double *v; char **text; } dlist;
+void dlist_push(dlist *l, double v, const char *text);
+void dlist_free(dlist *l);
+/* Split a comma-separated list of masses (Msun, > 0), ages or Z values into l. */
+int add_mass_list(const cli *c, const char *opt, const char *s, dlist *l);
+int add_age_list(const cli *c, const char *opt, const char *s, dlist *l);
+
+/* ---- options ---- */
+enum { OPT_END = 0, OPT_POSITIONAL = -1, OPT_ERROR = -2 };
+typedef struct optdef {
+    const char *name;  /* long name without "--" */
+    char short_name;   /* 0 if none */
+    int has_arg;
+    int id;            /* > 0 */
+} optdef;
+typedef struct argparse {
+    int argc;
+    char **argv;
+    int i;
+    int only_positional;
+} argparse;
+/* Next option of the subcommand (defs) or a common one (--grid, --interp,
+ * --csv, --json, --z, --feh, --help are handled here when common_z says so).
+ * Returns the id, OPT_POSITIONAL (value in *val), OPT_END or OPT_ERROR
+ * (message printed). */
+int next_option(cli *c, argparse *p, const optdef *defs, int accept_z, int accept_format,
+                const char **val);
+
+/* ---- the grid ---- */
+int cli_open_grid(cli *c);
+void cli_close_grid(cli *c);
+/* Metallicity from --z / --feh (default: the grid's z_ref); checks the grid's range. */
+int cli_resolve_z(cli *c, double *z);
+int cli_check_z(const cli *c, const char *what, double z);
+int cli_check_mass(const cli *c, const char *what, double mass, double z);
+double cli_feh(const cli *c, double z);
+/* The star of --mass (mass_text as the user wrote it) at metallicity z. */
+int cli_new_star(cli *c, const char *mass_text, double mass, double z, hrt_star **s);
+const char *cli_route_name(const cli *c, int route);
+/* Explain a failed evaluation of one star (mass, z, age): message and exit code. */
+int cli_star_failure(const cli *c, const char *who, int code, double mass, double z, double age_yr,
+                     const char *libmsg);
+
+/* ---- output ---- */
+typedef enum col_type { COL_NUM = 0, COL_TEXT = 1 } col_type;
+typedef struct col {
+    const char *key;   /* CSV header and JSON key, with units: "age_yr" */
+    const char *head;  /* human table header, with units: "age [Myr]"; NULL: not shown in tables */
+    col_type type;
+    const char *hfmt;  /* human printf format for numbers, e.g. "%.4f" */
+    double hscale;     /* human value = value * hscale (0 means 1) */
+} col;
+typedef struct table {
+    size_t ncol, nrow, cap;
+    const col *cols;
+    double *num;
+    char **text;
+} table;
+table *table_new(const col *cols, size_t ncol);
+size_t table_add_row(table *t);
+void table_num(table *t, size_t r, size_t c, double v);
+void table_text(table *t, size_t r, size_t c, const char *s);
+void table_free(table *t);
+void table_write_text(const table *t, FILE *f, const char *indent);
+void table_write_csv(const table *t, FILE *f);
+
+/* JSON writer: pretty-printed, non-finite numbers as null. */
+typedef struct jw {
+    FILE *f;
+    int depth;
+    int first[64];
+} jw;
+void jw_init(jw *w, FILE *f);
+void jw_begin_object(jw *w, const char *key);
+void jw_end_object(jw *w);
+void jw_begin_array(jw *w, const char *key);
+void jw_end_array(jw *w);
+void jw_num(jw *w, const char *key, double v);
+void jw_int(jw *w, const char *key, long v);
+void jw_str(jw *w, const char *key, const char *s);
+void jw_bool(jw *w, const char *key, int v);
+void jw_table(jw *w, const char *key, const table *t);
+void jw_finish(jw *w);
+void csv_write_text(FILE *f, const char *s);
+void csv_write_num(FILE *f, double v);
+
+/* ---- states of stars: the common table of at, track, isochrone and demo ---- */
+enum { SC_NAME = 1u, SC_STATUS = 2u };
+table *state_table_new(unsigned extra);
+void state_table_add(table *t, const cli *c, const hrt_state *s, const char *name, const char *status);
+void phase_footnote(FILE *f, const table *t);
+const char *flags_text(int flags, char *buf, size_t n);
+
+/* ---- reading CSV ---- */
+typedef struct csvfile {
+    size_t ncol;
+    char **head;
+    size_t nrow;
+    char ***rows;   /* nrow rows of ncol fields */
+    long *line;     /* line number of each row */
+} csvfile;
+int csv_read(const cli *c, const char *path, csvfile *out);
+void csv_free(csvfile *f);
+/* Index of the first column whose name matches one of the names (case-insensitive), or -1. */
+long csv_column(const csvfile *f, const char *const *names);
+
+/* ---- the HR diagram ---- */
+typedef struct plot_line {
+    size_t n;
+    double *log_teff, *log_l;
+    int *phase;
+    int *route;
+    char *label;
+    int is_isochrone;
+} plot_line;
+typedef struct plot_point {
+    double log_teff, log_l;
+    int phase; /* HRT_PHASE_UNKNOWN: plain marker */
+    char *label;
+} plot_point;
+typedef struct plot {
+    const char *title;
+    const char *subtitle;
+    size_t nlines, npoints;
+    plot_line *lines;
+    plot_point *points;
+    int have_xrange, have_yrange;
+    double xlo, xhi, ylo, yhi; /* log Teff and log L ranges when given */
+    int width, height;
+} plot;
+void plot_init(plot *p);
+void plot_free(plot *p);
+plot_line *plot_add_line(plot *p, size_t n, const char *label, int is_isochrone);
+void plot_add_point(plot *p, double log_teff, double log_l, int phase, const char *label);
+int plot_add_track(const cli *c, plot *p, const hrt_star *s, const char *label);
+int plot_add_isochrone(const cli *c, plot *p, double age_yr, double z, const char *label);
+/* Write the SVG; 0 on success, -1 (errno set) on a write failure. */
+int plot_write_svg(const plot *p, FILE *f);
+int plot_save(const cli *c, const plot *p, const char *path);
+int isochrone_compute(const cli *c, double age_yr, double z, hrt_state **out, size_t *n);
+
+/* ---- one star's timetable (life, demo) ---- */
+typedef struct life {
+    hrt_star *s;
+    table *kp, *ph; /* keypoint ages; phase spans */
+    int remnant;
+    double remnant_mass, end_age;
+} life;
+int life_build(cli *c, const char *mass_text, double mass, double z, life *L);
+void life_free(life *L);
+void life_print_text(const cli *c, const life *L, const char *indent);
+void life_json(const cli *c, const life *L, jw *w, const char *key);
+
+/* ---- subcommands ---- */
+int cmd_at(cli *c, argparse *p);
+int cmd_track(cli *c, argparse *p);
+int cmd_isochrone(cli *c, argparse *p);
+int cmd_life(cli *c, argparse *p);
+int cmd_plot(cli *c, argparse *p);
+int cmd_grid(cli *c, argparse *p);
+int cmd_demo(cli *c, argparse *p);
+
+/* Help texts (help.c). */
+void help_main(FILE *f);
+int help_command(const char *cmd, FILE *f);
+
+#endif

@@ -1,0 +1,236 @@
+/* hrtrail at: the state of one or many stars at given ages. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+enum { O_MASS = 1, O_AGE, O_INPUT, O_KEEP };
+static const optdef at_opts[] = {
+    {"mass", 'm', 1, O_MASS}, {"age", 'a', 1, O_AGE}, {"input", 'i', 1, O_INPUT},
+    {"keep-going", 'k', 0, O_KEEP}, {NULL, 0, 0, 0},
+};
+
+typedef struct stars {
+    size_t n;
+    double *mass, *z, *age;
+    char **name;       /* NULL when no names */
+    char **mass_text, **z_text, **age_text;
+    long *line;        /* CSV line or 0 */
+} stars;
+
+static void stars_free(stars *s)
+{
+    for (size_t i = 0; i < s->n; i++) {
+        if (s->name) free(s->name[i]);
+        free(s->mass_text[i]);
+        free(s->z_text[i]);
+        free(s->age_text[i]);
+    }
+    free(s->mass); free(s->z); free(s->age); free(s->name);
+    free(s->mass_text); free(s->z_text); free(s->age_text); free(s->line);
+}
+
+static void stars_alloc(stars *s, size_t n, int named)
+{
+    s->n = n;
+    s->mass = xcalloc(n, sizeof(double));
+    s->z = xcalloc(n, sizeof(double));
+    s->age = xcalloc(n, sizeof(double));
+    s->name = named ? xcalloc(n, sizeof(char *)) : NULL;
+    s->mass_text = xcalloc(n, sizeof(char *));
+    s->z_text = xcalloc(n, sizeof(char *));
+    s->age_text = xcalloc(n, sizeof(char *));
+    s->line = xcalloc(n, sizeof(long));
+}
+
+static const char *const mass_names[] = {"mass", "initial_mass", "initial_mass_Msun", "mass_Msun", "m", NULL};
+static const char *const z_names[] = {"z", "metallicity", NULL};
+static const char *const feh_names[] = {"feh", "[Fe/H]", "fe_h", NULL};
+static const char *const age_names[] = {"age", "age_yr", NULL};
+static const char *const name_names[] = {"name", "star", "id", NULL};
+
+/* Stars from a CSV file; columns the file lacks come from single --mass/--age/--z values. */
+static int stars_from_csv(cli *c, const char *path, const dlist *ml, const dlist *al, double z_opt, stars *s)
+{
+    csvfile f;
+    const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
+    int rc = csv_read(c, path, &f);
+    if (rc) return rc;
+    long cm = csv_column(&f, mass_names), cz = csv_column(&f, z_names), cf = csv_column(&f, feh_names);
+    long ca = csv_column(&f, age_names), cn = csv_column(&f, name_names);
+    if (cm < 0 && ml->n != 1) {
+        csv_free(&f);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s has no 'mass' column (initial mass, Msun); add one or give one --mass", shown);
+    }
+    if (ca < 0 && al->n != 1) {
+        csv_free(&f);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s has no 'age' column (e.g. 800Myr); add one or give one --age", shown);
+    }
+    stars_alloc(s, f.nrow, cn >= 0);
+    for (size_t r = 0; r < f.nrow && rc == 0; r++) {
+        char **row = f.rows[r];
+        double v;
+        int pr;
+        s->line[r] = f.line[r];
+        if (cn >= 0) s->name[r] = xstrdup(row[cn]);
+        s->mass_text[r] = xstrdup(cm >= 0 ? row[cm] : ml->text[0]);
+        if (cm >= 0) {
+            if (parse_number(row[cm], &v) != 0 || !(v > 0))
+                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column '%s': '%s' is not a positive initial mass (Msun)",
+                              shown, f.line[r], f.head[cm], row[cm]);
+            s->mass[r] = v;
+        } else {
+            s->mass[r] = ml->v[0];
+        }
+        if (rc) break;
+        s->age_text[r] = xstrdup(ca >= 0 ? row[ca] : al->text[0]);
+        if (ca >= 0) {
+            pr = parse_age_yr(row[ca], &v);
+            if (pr != 0)
+                rc = cli_fail(c, CLI_EXIT_USAGE,
+                              "%s line %ld, column '%s': '%s' is not an age >= 0 (years, or with a unit yr, kyr, Myr, Gyr)",
+                              shown, f.line[r], f.head[ca], row[ca]);
+            s->age[r] = v;
+        } else {
+            s->age[r] = al->v[0];
+        }
+        if (rc) break;
+        if (cz >= 0) {
+            s->z_text[r] = xstrdup(row[cz]);
+            if (parse_number(row[cz], &v) != 0 || !(v > 0 && v < 1))
+                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column '%s': '%s' is not a metal mass fraction (0 < Z < 1)",
+                              shown, f.line[r], f.head[cz], row[cz]);
+            s->z[r] = v;
+        } else if (cf >= 0) {
+            s->z_text[r] = xstrdup(row[cf]);
+            if (parse_number(row[cf], &v) != 0 || fabs(v) > 10)
+                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column '%s': '%s' is not an [Fe/H] value (dex)", shown,
+                              f.line[r], f.head[cf], row[cf]);
+            s->z[r] = hrt_grid_z_ref(c->grid) * pow(10.0, v);
+        } else {
+            s->z_text[r] = xstrdup(c->z_text ? c->z_text : "");
+            s->z[r] = z_opt;
+        }
+    }
+    csv_free(&f);
+    return rc;
+}
+
+static void who_of(const cli *c, const stars *s, size_t i, int code, const char *input, char *buf, size_t n)
+{
+    const char *src = input && strcmp(input, "-") == 0 ? "standard input" : input;
+    if (input)
+        snprintf(buf, n, "%s line %ld (mass %s Msun, Z %.6g, age %s)", src, s->line[i], s->mass_text[i], s->z[i],
+                 s->age_text[i]);
+    else if (code == HRT_E_MASS_RANGE || code == HRT_E_NO_TRACK)
+        snprintf(buf, n, "--mass %s", s->mass_text[i]);
+    else if (code == HRT_E_AGE_RANGE || code == HRT_E_DOMAIN)
+        snprintf(buf, n, "--age %s (mass %s Msun)", s->age_text[i], s->mass_text[i]);
+    else if (code == HRT_E_Z_RANGE)
+        snprintf(buf, n, "%s %s", c->have_feh ? "--feh" : "--z", c->z_text ? c->z_text : "");
+    else
+        snprintf(buf, n, "star of %s Msun at age %s", s->mass_text[i], s->age_text[i]);
+}
+
+int cmd_at(cli *c, argparse *p)
+{
+    dlist ml = {0}, al = {0};
+    const char *input = NULL, *val;
+    int keep = 0, id, rc = 0;
+    stars s = {0};
+    hrt_state *out = NULL;
+    hrt_error err = {0, ""};
+    double z = NAN;
+
+    while ((id = next_option(c, p, at_opts, 1, 1, &val)) != OPT_END) {
+        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
+        if (id == OPT_POSITIONAL) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (give stars with --mass, --age or --input)", val);
+            goto done;
+        }
+        if (id == O_MASS && (rc = add_mass_list(c, "--mass", val, &ml))) goto done;
+        if (id == O_AGE && (rc = add_age_list(c, "--age", val, &al))) goto done;
+        if (id == O_INPUT) input = val;
+        if (id == O_KEEP) keep = 1;
+    }
+    if (c->want_help) { help_command("at", stdout); goto done; }
+    if (!input && (ml.n == 0 || al.n == 0)) {
+        rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or --input FILE (see hrtrail at --help)");
+        goto done;
+    }
+    if (input && (ml.n > 1 || al.n > 1)) {
+        rc = cli_fail(c, CLI_EXIT_USAGE, "with --input, --mass and --age may give only one value each (for columns the file lacks)");
+        goto done;
+    }
+    if ((rc = cli_open_grid(c))) goto done;
+    /* a metallicity is needed unless every star brings its own */
+    if ((c->have_z || c->have_feh || !input) && (rc = cli_resolve_z(c, &z))) goto done;
+    if (input && isnan(z)) z = hrt_grid_z_ref(c->grid);
+    if (input) {
+        if ((rc = stars_from_csv(c, input, &ml, &al, z, &s))) goto done;
+    } else {
+        size_t k = 0;
+        stars_alloc(&s, ml.n * al.n, 0);
+        for (size_t i = 0; i < ml.n; i++)
+            for (size_t j = 0; j < al.n; j++, k++) {
+                s.mass[k] = ml.v[i];
+                s.age[k] = al.v[j];
+                s.z[k] = z;
+                s.mass_text[k] = xstrdup(ml.text[i]);
+                s.age_text[k] = xstrdup(al.text[j]);
+                s.z_text[k] = xstrdup(c->z_text ? c->z_text : "");
+            }
+    }
+    out = xcalloc(s.n, sizeof *out);
+    int st = hrt_eval(c->grid, s.n, s.mass, s.z, 0.0, s.age, out, &err);
+    if (st != HRT_OK && st != HRT_E_MASS_RANGE && st != HRT_E_Z_RANGE && st != HRT_E_AGE_RANGE &&
+        st != HRT_E_NO_TRACK && st != HRT_E_DOMAIN) {
+        rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message[0] ? err.message : hrt_strerror(st));
+        goto done;
+    }
+    for (size_t i = 0; i < s.n; i++) {
+        char who[512];
+        if (out[i].status == HRT_OK) continue;
+        who_of(c, &s, i, out[i].status, input, who, sizeof who);
+        if (!keep) {
+            rc = cli_star_failure(c, who, out[i].status, s.mass[i], s.z[i], s.age[i], NULL);
+            goto done;
+        }
+        int r1 = cli_star_failure(c, who, out[i].status, s.mass[i], s.z[i], s.age[i], NULL);
+        if (!rc) rc = r1;
+    }
+    table *t = state_table_new((s.name ? SC_NAME : 0u) | (keep ? SC_STATUS : 0u));
+    for (size_t i = 0; i < s.n; i++) {
+        if (out[i].status != HRT_OK) {
+            /* the library leaves the failed star's inputs for us to fill in */
+            out[i].initial_mass_msun = s.mass[i];
+            out[i].z = s.z[i];
+            out[i].age_yr = s.age[i];
+        }
+        state_table_add(t, c, &out[i], s.name ? s.name[i] : NULL,
+                        out[i].status == HRT_OK ? "ok" : hrt_strerror(out[i].status));
+    }
+    if (c->fmt == FMT_CSV) {
+        table_write_csv(t, stdout);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_str(&w, "grid", c->grid_used);
+        jw_str(&w, "interp", hrt_interp_name(c->interp));
+        jw_table(&w, "stars", t);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else {
+        table_write_text(t, stdout, NULL);
+        phase_footnote(stdout, t);
+    }
+    table_free(t);
+done:
+    free(out);
+    stars_free(&s);
+    dlist_free(&ml);
+    dlist_free(&al);
+    return rc;
+}

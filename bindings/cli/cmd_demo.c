@@ -1,0 +1,242 @@
+/*
+ * hrtrail demo: the main job on the default grid, in an invented scenario.
+ *
+ * The Marrowind cluster is invented: an open cluster of age 1.2 Gyr and
+ * Z = 0.014.  Two of its members are main-sequence dwarfs of fixed masses;
+ * the others are placed by the model itself so that every stage of a
+ * cluster of this age is shown: one just below the turnoff, giants taken
+ * from the cluster isochrone (red giant branch, core helium burning,
+ * asymptotic giant branch), and a white dwarf, the lightest star that has
+ * already become one.
+ */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+#define CLUSTER_NAME "Marrowind"
+#define CLUSTER_AGE_YR 1.2e9
+#define CLUSTER_Z 0.014
+#define DEFAULT_SVG "marrowind-hr.svg"
+
+enum { O_OUT = 1 };
+static const optdef demo_opts[] = {{"output", 'o', 1, O_OUT}, {NULL, 0, 0, 0}};
+
+typedef struct member {
+    char name[32];
+    const char *why;
+    double mass;
+    hrt_state now;
+    life L;
+} member;
+
+static int phase_at(const cli *c, double m, double z, double age, hrt_state *st)
+{
+    int r = hrt_eval(c->grid, 1, &m, NULL, z, &age, st, NULL);
+    return r == HRT_OK ? st->phase : -1;
+}
+
+/* Largest initial mass still burning hydrogen in its core at age (bisection on the phase). */
+static int turnoff_mass(const cli *c, double z, double age, double *m_to)
+{
+    double lo, hi;
+    hrt_state st;
+    if (hrt_grid_mass_range(c->grid, z, &lo, &hi) != HRT_OK) return -1;
+    int plo = phase_at(c, lo, z, age, &st), phi = phase_at(c, hi, z, age, &st);
+    if (plo != HRT_PHASE_MS || phi == HRT_PHASE_MS) return -1;
+    for (int i = 0; i < 200 && hi / lo - 1 > 1e-13; i++) {
+        double mid = sqrt(lo * hi);
+        int ph = phase_at(c, mid, z, age, &st);
+        if (ph == HRT_PHASE_MS || ph == HRT_PHASE_PRE_MS)
+            lo = mid;
+        else
+            hi = mid;
+    }
+    *m_to = lo;
+    return 0;
+}
+
+/* Mass of the middle isochrone point in one of the phases (or NaN). */
+static double isochrone_pick(const hrt_state *pts, size_t n, const int *phases, size_t nph)
+{
+    size_t cnt = 0, k, seen = 0;
+    for (k = 0; k < n; k++)
+        for (size_t q = 0; q < nph; q++)
+            if (pts[k].phase == phases[q]) cnt++;
+    if (!cnt) return NAN;
+    for (k = 0; k < n; k++)
+        for (size_t q = 0; q < nph; q++)
+            if (pts[k].phase == phases[q] && seen++ == cnt / 2) return pts[k].initial_mass_msun;
+    return NAN;
+}
+
+static const col fate_cols[] = {
+    {"name", "star", COL_TEXT, NULL, 0},
+    {"initial_mass_Msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
+    {"remnant", "fate", COL_TEXT, NULL, 0},
+    {"remnant_mass_Msun", "remnant [Msun]", COL_NUM, "%.3g", 0},
+    {"remnant_from_age_yr", "from age [Myr]", COL_NUM, "%.6g", 1e-6},
+    {"years_from_now", "from now [Myr]", COL_NUM, "%+.6g", 1e-6},
+};
+
+int cmd_demo(cli *c, argparse *p)
+{
+    const char *val, *out = DEFAULT_SVG;
+    int id, rc = 0;
+    double z = CLUSTER_Z, age = CLUSTER_AGE_YR, m_to = NAN, lo, hi;
+    member mem[8];
+    size_t nm = 0, npts = 0;
+    hrt_state *pts = NULL;
+    table *t = NULL, *fates = NULL;
+    plot pl;
+    char title[160], subtitle[512], agebuf[64];
+
+    memset(mem, 0, sizeof mem);
+    plot_init(&pl);
+    while ((id = next_option(c, p, demo_opts, 0, 1, &val)) != OPT_END) {
+        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
+        if (id == OPT_POSITIONAL) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the plot file is given with -o FILE)", val);
+            goto done;
+        }
+        if (id == O_OUT) out = val;
+    }
+    if (c->want_help) { help_command("demo", stdout); goto done; }
+    if ((rc = cli_open_grid(c)) || (rc = cli_check_z(c, "the " CLUSTER_NAME " cluster's metallicity", z))) goto done;
+    if (hrt_grid_mass_range(c->grid, z, &lo, &hi) != HRT_OK || turnoff_mass(c, z, age, &m_to) != 0) {
+        rc = cli_fail(c, CLI_EXIT_RANGE, "the grid does not span the main-sequence turnoff at %.3g Gyr and Z = %g", age / 1e9, z);
+        goto done;
+    }
+    int st = isochrone_compute(c, age, z, &pts, &npts);
+    if (st != HRT_OK) {
+        rc = cli_star_failure(c, "cluster isochrone", st, NAN, z, age, NULL);
+        goto done;
+    }
+
+    /* the members */
+    static const double dwarfs[] = {0.85, 1.3};
+    for (size_t i = 0; i < 2; i++)
+        if (dwarfs[i] >= lo && dwarfs[i] < 0.95 * m_to) {
+            mem[nm].mass = dwarfs[i];
+            mem[nm++].why = "main-sequence dwarf";
+        }
+    mem[nm].mass = 0.98 * m_to;
+    mem[nm++].why = "just below the turnoff";
+    static const int rgb[] = {HRT_PHASE_RGB}, cheb[] = {HRT_PHASE_CHEB}, agb[] = {HRT_PHASE_EAGB, HRT_PHASE_TPAGB};
+    const struct { const int *ph; size_t n; const char *why; } giants[] = {
+        {rgb, 1, "red giant"}, {cheb, 1, "core helium burning giant"}, {agb, 2, "asymptotic giant branch star"}};
+    for (size_t g = 0; g < 3; g++) {
+        double m = isochrone_pick(pts, npts, giants[g].ph, giants[g].n);
+        if (isfinite(m)) {
+            mem[nm].mass = m;
+            mem[nm++].why = giants[g].why;
+        }
+    }
+    for (double m = 1.1 * m_to; m <= hi; m *= 1.02) {
+        hrt_state s;
+        if (phase_at(c, m, z, age, &s) == HRT_PHASE_WD) {
+            mem[nm].mass = m;
+            mem[nm++].why = "white dwarf";
+            break;
+        }
+    }
+    for (size_t i = 0; i < nm; i++) {
+        char mt[32];
+        snprintf(mem[i].name, sizeof mem[i].name, CLUSTER_NAME "-%zu", i + 1);
+        snprintf(mt, sizeof mt, "%.17g", mem[i].mass);
+        if (hrt_eval(c->grid, 1, &mem[i].mass, NULL, z, &age, &mem[i].now, NULL) != HRT_OK) {
+            rc = cli_star_failure(c, mem[i].name, mem[i].now.status, mem[i].mass, z, age, NULL);
+            goto done;
+        }
+        if ((rc = life_build(c, mt, mem[i].mass, z, &mem[i].L))) goto done;
+    }
+
+    /* the plot: members, their tracks, the cluster isochrone */
+    for (size_t i = 0; i < nm; i++) {
+        char label[64];
+        if (mem[i].now.phase == HRT_PHASE_WD) continue; /* its track runs off the diagram's scale of interest */
+        snprintf(label, sizeof label, "%.3g Msun", mem[i].mass);
+        if ((rc = plot_add_track(c, &pl, mem[i].L.s, label))) goto done;
+    }
+    format_age(agebuf, sizeof agebuf, age);
+    if ((st = plot_add_isochrone(c, &pl, age, z, agebuf)) != HRT_OK) {
+        rc = cli_star_failure(c, "cluster isochrone", st, NAN, z, age, NULL);
+        goto done;
+    }
+    for (size_t i = 0; i < nm; i++)
+        if (isfinite(mem[i].now.log_teff_k) && isfinite(mem[i].now.log_l))
+            plot_add_point(&pl, mem[i].now.log_teff_k, mem[i].now.log_l, mem[i].now.phase, mem[i].name);
+    snprintf(title, sizeof title, "The %s cluster (invented): %s, Z = %g", CLUSTER_NAME, agebuf, z);
+    snprintf(subtitle, sizeof subtitle, "members now, their tracks and the cluster isochrone; grid %s", c->grid_used);
+    pl.title = title;
+    pl.subtitle = subtitle;
+
+    t = state_table_new(SC_NAME);
+    fates = table_new(fate_cols, sizeof fate_cols / sizeof fate_cols[0]);
+    for (size_t i = 0; i < nm; i++) {
+        state_table_add(t, c, &mem[i].now, mem[i].name, NULL);
+        size_t r = table_add_row(fates);
+        table_text(fates, r, 0, mem[i].name);
+        table_num(fates, r, 1, mem[i].mass);
+        table_text(fates, r, 2, hrt_remnant_key(mem[i].L.remnant));
+        table_num(fates, r, 3, mem[i].L.remnant_mass);
+        table_num(fates, r, 4, mem[i].L.end_age);
+        table_num(fates, r, 5, mem[i].L.end_age - age);
+    }
+    /* the plot is written first: a failure to write it leaves stdout empty */
+    if ((rc = plot_save(c, &pl, out))) goto done;
+
+    if (c->fmt == FMT_CSV) {
+        table_write_csv(t, stdout);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_begin_object(&w, "cluster");
+        jw_str(&w, "name", CLUSTER_NAME " (invented)");
+        jw_num(&w, "age_yr", age);
+        jw_num(&w, "Z", z);
+        jw_num(&w, "feh", cli_feh(c, z));
+        jw_num(&w, "turnoff_mass_Msun", m_to);
+        jw_end_object(&w);
+        jw_str(&w, "grid", c->grid_used);
+        jw_str(&w, "interp", hrt_interp_name(c->interp));
+        jw_table(&w, "members_now", t);
+        jw_begin_array(&w, "members_life");
+        for (size_t i = 0; i < nm; i++) life_json(c, &mem[i].L, &w, NULL);
+        jw_end_array(&w);
+        jw_table(&w, "fates", fates);
+        jw_str(&w, "svg", out);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else {
+        printf("The %s cluster (an invented open cluster): age %s, Z = %g ([Fe/H] = %+.2f)\n", CLUSTER_NAME, agebuf, z,
+               cli_feh(c, z));
+        printf("grid: %s (%s interpolation)\n\n", c->grid_used, hrt_interp_name(c->interp));
+        printf("Turnoff mass: %.4f Msun (the most massive star still burning hydrogen in its core)\n\n", m_to);
+        printf("Members now\n");
+        for (size_t i = 0; i < nm; i++) printf("  %-13s %s\n", mem[i].name, mem[i].why);
+        putchar('\n');
+        table_write_text(t, stdout, "  ");
+        printf("  ");
+        phase_footnote(stdout, t);
+        printf("\nTimetables\n");
+        for (size_t i = 0; i < nm; i++) {
+            printf("\n  %s\n", mem[i].name);
+            life_print_text(c, &mem[i].L, "  ");
+        }
+        printf("\nFates (from now: negative = already a remnant)\n");
+        table_write_text(fates, stdout, "  ");
+        printf("\nHR diagram written to %s (members, their tracks, the %s isochrone)\n", out, agebuf);
+        printf("\nAccuracy: the answers are as good as the grid; the default grid is a semi-analytic model\n"
+               "(tracks/MODEL.md), meant for population-level work, not precision stellar physics.\n");
+    }
+done:
+    for (size_t i = 0; i < nm; i++) life_free(&mem[i].L);
+    free(pts);
+    table_free(t);
+    table_free(fates);
+    plot_free(&pl);
+    return rc;
+}

@@ -1,0 +1,413 @@
+/* hrtrail grid info | check: what a grid holds, and whether it is sound. */
+#include <errno.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "cli.h"
+
+static const char *const attr_names[] = {"description", "source", "created_by", "created", "model", "license",
+                                         "references", "format", NULL};
+
+static long file_size(const char *path)
+{
+    struct stat st;
+    if (!path || stat(path, &st) != 0) return -1;
+    return (long)st.st_size;
+}
+
+static void route_counts(const cli *c, size_t iz, size_t *count, size_t nr)
+{
+    memset(count, 0, nr * sizeof *count);
+    for (size_t im = 0; im < hrt_grid_n_masses(c->grid, iz); im++) {
+        int r = hrt_grid_track_route(c->grid, iz, im);
+        if (r >= 0 && (size_t)r < nr) count[r]++;
+    }
+}
+
+static int grid_info(cli *c)
+{
+    const hrt_grid *g = c->grid;
+    size_t nz = hrt_grid_n_z(g), nr = hrt_grid_n_routes(g);
+    long bytes = file_size(c->grid_used);
+    size_t *count = xcalloc(nr, sizeof *count);
+
+    if (c->fmt == FMT_CSV) {
+        static const col cols[] = {
+            {"Z", NULL, COL_NUM, NULL, 0},          {"feh", NULL, COL_NUM, NULL, 0},
+            {"initial_mass_Msun", NULL, COL_NUM, NULL, 0}, {"route", NULL, COL_TEXT, NULL, 0},
+            {"n_eep", NULL, COL_NUM, NULL, 0},
+        };
+        table *t = table_new(cols, 5);
+        for (size_t iz = 0; iz < nz; iz++)
+            for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
+                size_t r = table_add_row(t);
+                table_num(t, r, 0, hrt_grid_z(g, iz));
+                table_num(t, r, 1, cli_feh(c, hrt_grid_z(g, iz)));
+                table_num(t, r, 2, hrt_grid_mass(g, iz, im));
+                table_text(t, r, 3, cli_route_name(c, hrt_grid_track_route(g, iz, im)));
+                table_num(t, r, 4, (double)hrt_grid_track_n_eep(g, iz, im));
+            }
+        table_write_csv(t, stdout);
+        table_free(t);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_str(&w, "file", c->grid_used);
+        jw_num(&w, "file_bytes", bytes >= 0 ? (double)bytes : NAN);
+        jw_num(&w, "memory_bytes", (double)hrt_grid_memory_bytes(g));
+        jw_str(&w, "interp", hrt_interp_name(hrt_grid_interp(g)));
+        jw_num(&w, "z_ref", hrt_grid_z_ref(g));
+        jw_begin_object(&w, "attributes");
+        for (const char *const *a = attr_names; *a; a++)
+            if (hrt_grid_attribute(g, *a)) jw_str(&w, *a, hrt_grid_attribute(g, *a));
+        jw_end_object(&w);
+        jw_begin_array(&w, "routes");
+        for (size_t r = 0; r < nr; r++) {
+            jw_begin_object(&w, NULL);
+            jw_str(&w, "name", hrt_grid_route_name(g, r));
+            jw_int(&w, "n_eep", (long)hrt_grid_route_n_eep(g, r));
+            jw_begin_array(&w, "keypoints");
+            for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++) {
+                jw_begin_object(&w, NULL);
+                jw_str(&w, "name", hrt_grid_keypoint_name(g, r, k));
+                jw_int(&w, "eep", hrt_grid_keypoint_eep(g, r, k));
+                jw_end_object(&w);
+            }
+            jw_end_array(&w);
+            jw_end_object(&w);
+        }
+        jw_end_array(&w);
+        jw_begin_array(&w, "metallicities");
+        for (size_t iz = 0; iz < nz; iz++) {
+            double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
+            hrt_grid_mass_range(g, z, &lo, &hi);
+            jw_begin_object(&w, NULL);
+            jw_num(&w, "Z", z);
+            jw_num(&w, "feh", cli_feh(c, z));
+            jw_num(&w, "mass_min_Msun", lo);
+            jw_num(&w, "mass_max_Msun", hi);
+            jw_begin_array(&w, "route_boundaries_Msun");
+            for (size_t b = 0; b + 1 < nr; b++) jw_num(&w, NULL, hrt_grid_route_boundary(g, iz, b));
+            jw_end_array(&w);
+            jw_begin_array(&w, "tracks");
+            for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
+                jw_begin_object(&w, NULL);
+                jw_num(&w, "initial_mass_Msun", hrt_grid_mass(g, iz, im));
+                jw_str(&w, "route", cli_route_name(c, hrt_grid_track_route(g, iz, im)));
+                jw_int(&w, "n_eep", (long)hrt_grid_track_n_eep(g, iz, im));
+                jw_end_object(&w);
+            }
+            jw_end_array(&w);
+            jw_end_object(&w);
+        }
+        jw_end_array(&w);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else {
+        size_t ntracks = 0;
+        for (size_t iz = 0; iz < nz; iz++) ntracks += hrt_grid_n_masses(g, iz);
+        printf("grid file       %s\n", c->grid_used);
+        if (bytes >= 0) printf("size            %.3f MB on disk, %.3f MB in memory when open\n", bytes / 1e6,
+                               (double)hrt_grid_memory_bytes(g) / 1e6);
+        for (const char *const *a = attr_names; *a; a++)
+            if (hrt_grid_attribute(g, *a)) printf("%-15s %s\n", *a, hrt_grid_attribute(g, *a));
+        printf("interpolation   %s across initial mass and [Fe/H]\n", hrt_interp_name(hrt_grid_interp(g)));
+        printf("Z_ref           %.6g  ([Fe/H] = log10(Z / Z_ref))\n", hrt_grid_z_ref(g));
+        printf("tracks          %zu in %zu metallicities and %zu routes\n\n", ntracks, nz, nr);
+        printf("Metallicities\n");
+        printf("  %-10s %8s %7s  %-22s", "Z", "[Fe/H]", "tracks", "initial mass [Msun]");
+        for (size_t r = 0; r < nr; r++) printf("  %s", hrt_grid_route_name(g, r));
+        printf("  route boundaries [Msun]\n");
+        for (size_t iz = 0; iz < nz; iz++) {
+            double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
+            char range[64];
+            hrt_grid_mass_range(g, z, &lo, &hi);
+            snprintf(range, sizeof range, "%.4g to %.4g", lo, hi);
+            route_counts(c, iz, count, nr);
+            printf("  %-10.6g %+8.3f %7zu  %-22s", z, cli_feh(c, z), hrt_grid_n_masses(g, iz), range);
+            for (size_t r = 0; r < nr; r++) printf("  %*zu", (int)strlen(hrt_grid_route_name(g, r)), count[r]);
+            printf(" ");
+            for (size_t b = 0; b + 1 < nr; b++) printf(" %.4g", hrt_grid_route_boundary(g, iz, b));
+            printf("\n");
+        }
+        printf("\nRoutes and their keypoints (EEP index of each keypoint)\n");
+        for (size_t r = 0; r < nr; r++) {
+            printf("  %s: %zu EEPs;", hrt_grid_route_name(g, r), hrt_grid_route_n_eep(g, r));
+            for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++)
+                printf(" %s@%ld", hrt_grid_keypoint_name(g, r, k), hrt_grid_keypoint_eep(g, r, k));
+            printf("\n");
+        }
+        printf("\nMasses per metallicity [Msun]\n");
+        for (size_t iz = 0; iz < nz; iz++) {
+            printf("  Z = %.6g:", hrt_grid_z(g, iz));
+            for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) printf(" %.4g", hrt_grid_mass(g, iz, im));
+            printf("\n");
+        }
+    }
+    free(count);
+    return 0;
+}
+
+/* ------------------------------------------------------------------ check */
+
+typedef struct checker {
+    cli *c;
+    table *problems;
+    size_t done, total;
+    int progress; /* stderr is a terminal */
+    size_t n_tracks, n_mid, n_iso;
+} checker;
+
+static const col problem_cols[] = {
+    {"where", "where", COL_TEXT, NULL, 0},
+    {"problem", "problem", COL_TEXT, NULL, 0},
+};
+
+static void problem(checker *k, const char *where, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+static void problem(checker *k, const char *where, const char *fmt, ...)
+{
+    char buf[512];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(buf, sizeof buf, fmt, ap);
+    va_end(ap);
+    size_t r = table_add_row(k->problems);
+    table_text(k->problems, r, 0, where);
+    table_text(k->problems, r, 1, buf);
+}
+
+static void tick(checker *k)
+{
+    k->done++;
+    if (k->progress && (k->done % 4 == 0 || k->done == k->total)) {
+        fprintf(stderr, "\rhrtrail grid check: %zu/%zu stars and isochrones checked", k->done, k->total);
+        fflush(stderr);
+    }
+}
+
+/*
+ * Sanity of one star's track and timetable.  Bounds are generous
+ * (common practice): single stars do not gain mass; the CO core lies inside
+ * the helium core, which lies inside the star; Teff between 1e3 and 3e6 K,
+ * L between 1e-6 and 1e7.5 Lsun; a white dwarf stays below 1.45 Msun
+ * (Chandrasekhar 1931, ApJ 74, 81: limiting mass about 1.44 Msun).
+ */
+static void check_star(checker *k, const hrt_star *s, const char *where)
+{
+    size_t n = hrt_star_n_eep(s), nk, nsp = 0;
+    double m0 = hrt_star_mass(s), prev_age = -INFINITY, prev_kp = -INFINITY;
+    const double rel = 1e-9;
+    char at[256];
+    for (size_t j = 0; j < n; j++) {
+        hrt_state st;
+        int r = hrt_star_eep_state(s, j, &st);
+        snprintf(at, sizeof at, "%s, EEP %zu", where, j);
+        if (r != HRT_OK) {
+            problem(k, at, "no state: %s", hrt_strerror(r));
+            continue;
+        }
+        if (!(st.age_yr > prev_age)) problem(k, at, "age %.6g yr does not increase (previous EEP %.6g yr)", st.age_yr, prev_age);
+        prev_age = st.age_yr;
+        if (!(st.flags & HRT_FLAG_DARK)) {
+            if (!(st.log_teff_k >= 3.0 && st.log_teff_k <= 6.5))
+                problem(k, at, "log Teff %.6g K outside 3 to 6.5", st.log_teff_k);
+            if (!(st.log_l >= -6 && st.log_l <= 7.5)) problem(k, at, "log L %.6g Lsun outside -6 to 7.5", st.log_l);
+        }
+        if (!(st.mass_msun > 0 && st.mass_msun <= m0 * (1 + rel)))
+            problem(k, at, "current mass %.6g Msun not in (0, initial mass %.6g]", st.mass_msun, m0);
+        if (!(st.he_core_msun >= 0 && st.he_core_msun <= st.mass_msun * (1 + rel)))
+            problem(k, at, "helium core %.6g Msun not between 0 and the star's mass %.6g", st.he_core_msun, st.mass_msun);
+        if (!(st.co_core_msun >= 0 && st.co_core_msun <= st.he_core_msun * (1 + rel) + 1e-12))
+            problem(k, at, "CO core %.6g Msun not between 0 and the helium core %.6g", st.co_core_msun, st.he_core_msun);
+    }
+    nk = hrt_star_n_keypoints(s);
+    for (size_t q = 0; q < nk; q++) {
+        double a = NAN;
+        hrt_star_keypoint_age(s, q, &a);
+        if (isnan(a)) continue;
+        if (!(a >= prev_kp))
+            problem(k, where, "keypoint %s at %.6g yr comes before the previous keypoint (%.6g yr)",
+                    hrt_star_keypoint_name(s, q), a, prev_kp);
+        prev_kp = a;
+    }
+    hrt_phase_span sp[64];
+    int r = hrt_star_phases(s, sp, 64, &nsp);
+    if (r != HRT_OK) {
+        problem(k, where, "timetable: %s", hrt_strerror(r));
+    } else {
+        for (size_t i = 0; i < nsp; i++) {
+            if (!(sp[i].end_yr >= sp[i].start_yr))
+                problem(k, where, "phase %s ends (%.6g yr) before it starts (%.6g yr)", hrt_phase_key(sp[i].phase),
+                        sp[i].end_yr, sp[i].start_yr);
+            if (i > 0 && sp[i].start_yr != sp[i - 1].end_yr)
+                problem(k, where, "phase %s starts at %.17g yr, not where %s ended (%.17g yr)", hrt_phase_key(sp[i].phase),
+                        sp[i].start_yr, hrt_phase_key(sp[i - 1].phase), sp[i - 1].end_yr);
+        }
+    }
+    int kind = HRT_REMNANT_NONE;
+    double rm = NAN;
+    if (hrt_star_remnant(s, &kind, &rm) == HRT_OK && kind != HRT_REMNANT_NONE) {
+        if (!(rm > 0 && rm <= m0)) problem(k, where, "remnant mass %.6g Msun not in (0, initial mass %.6g]", rm, m0);
+        if ((kind == HRT_REMNANT_HE_WD || kind == HRT_REMNANT_CO_WD || kind == HRT_REMNANT_ONE_WD) && !(rm < 1.45))
+            problem(k, where, "white dwarf of %.6g Msun above the Chandrasekhar mass", rm);
+    }
+}
+
+static int grid_check(cli *c)
+{
+    checker k = {0};
+    int rc = 0;
+    const char *path = c->grid_path ? c->grid_path : hrt_default_grid_path();
+    hrt_error err = {0, ""};
+    struct stat stt;
+    const char *verdict = "passed";
+
+    if (c->grid_path && stat(c->grid_path, &stt) != 0)
+        return cli_fail(c, CLI_EXIT_FILE, "--grid '%s': %s", c->grid_path, strerror(errno));
+    k.c = c;
+    k.problems = table_new(problem_cols, 2);
+    k.progress = isatty(STDERR_FILENO);
+    rc = hrt_grid_open_with(c->grid_path, c->interp, &c->grid, &err);
+    if (rc == HRT_E_NOT_FOUND) {
+        table_free(k.problems);
+        c->grid = NULL;
+        return cli_fail(c, CLI_EXIT_FILE, "no default grid found (%s); name one with --grid FILE", err.message);
+    }
+    if (rc != HRT_OK) {
+        c->grid = NULL;
+        problem(&k, "validator", "%s", err.message[0] ? err.message : hrt_strerror(rc));
+        verdict = "failed";
+    } else {
+        const hrt_grid *g = c->grid;
+        size_t nz = hrt_grid_n_z(g);
+        char where[160];
+        c->grid_used = path ? path : "(default grid)";
+        for (size_t iz = 0; iz < nz; iz++) k.total += 2 * hrt_grid_n_masses(g, iz) + 8;
+        for (size_t iz = 0; iz < nz; iz++) {
+            double z = hrt_grid_z(g, iz), amin = INFINITY, amax = 0;
+            size_t nm = hrt_grid_n_masses(g, iz);
+            for (size_t im = 0; im < nm; im++) {
+                double m = hrt_grid_mass(g, iz, im);
+                hrt_star *s = NULL;
+                snprintf(where, sizeof where, "Z = %.6g, track %zu (%.6g Msun)", z, im, m);
+                int r = hrt_star_new(g, m, z, &s, &err);
+                if (r != HRT_OK) {
+                    problem(&k, where, "cannot interpolate the star of the track's own mass: %s", err.message);
+                } else {
+                    hrt_state st;
+                    check_star(&k, s, where);
+                    if (hrt_star_eep_state(s, 0, &st) == HRT_OK) amin = fmin(amin, st.age_yr);
+                    amax = fmax(amax, hrt_star_end_age(s));
+                    k.n_tracks++;
+                }
+                hrt_star_free(s);
+                tick(&k);
+                /* halfway (in log mass) to the next track of the same route */
+                if (im + 1 < nm && hrt_grid_track_route(g, iz, im) == hrt_grid_track_route(g, iz, im + 1)) {
+                    double mm = sqrt(m * hrt_grid_mass(g, iz, im + 1));
+                    snprintf(where, sizeof where, "Z = %.6g, %.6g Msun (between tracks %zu and %zu)", z, mm, im, im + 1);
+                    r = hrt_star_new(g, mm, z, &s, &err);
+                    if (r != HRT_OK)
+                        problem(&k, where, "cannot interpolate: %s", err.message);
+                    else {
+                        check_star(&k, s, where);
+                        k.n_mid++;
+                    }
+                    hrt_star_free(s);
+                }
+                tick(&k);
+            }
+            /* isochrones at eight ages spread in log age over the group's lifetimes */
+            for (int q = 0; q < 8; q++) {
+                if (!(amin > 0 && amax > amin)) {
+                    tick(&k);
+                    continue;
+                }
+                double la = log10(amin) + 0.1 + (log10(amax) - log10(amin) - 0.1) * q / 7.0, age = pow(10, la);
+                hrt_state *pts = NULL;
+                size_t n = 0;
+                snprintf(where, sizeof where, "Z = %.6g, isochrone at %.6g yr", z, age);
+                int r = isochrone_compute(c, age, z, &pts, &n);
+                if (r != HRT_OK)
+                    problem(&k, where, "%s", hrt_strerror(r));
+                else if (n == 0)
+                    problem(&k, where, "no points");
+                else
+                    k.n_iso++;
+                free(pts);
+                tick(&k);
+            }
+        }
+        if (k.problems->nrow) verdict = "passed, but the tracks have problems";
+    }
+    if (k.progress && k.total) fputs("\r\033[K", stderr);
+
+    size_t np = k.problems->nrow;
+    if (c->fmt == FMT_CSV) {
+        table_write_csv(k.problems, stdout);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_str(&w, "file", path);
+        jw_bool(&w, "ok", np == 0);
+        jw_bool(&w, "validator_passed", c->grid != NULL);
+        jw_int(&w, "tracks_checked", (long)k.n_tracks);
+        jw_int(&w, "interpolated_stars_checked", (long)k.n_mid);
+        jw_int(&w, "isochrones_checked", (long)k.n_iso);
+        jw_table(&w, "problems", k.problems);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else {
+        printf("grid file   %s\n", path ? path : "(default grid)");
+        printf("validator   %s\n", verdict);
+        if (c->grid)
+            printf("checked     %zu tracks, %zu interpolated stars between them, %zu isochrones\n", k.n_tracks, k.n_mid,
+                   k.n_iso);
+        if (np) {
+            printf("problems    %zu\n", np);
+            table_write_text(k.problems, stdout, "  ");
+        } else {
+            printf("result      no problems found\n");
+        }
+    }
+    table_free(k.problems);
+    if (np) return cli_fail(c, CLI_EXIT_FILE, "%zu problem%s found in '%s'", np, np == 1 ? "" : "s", path);
+    return 0;
+}
+
+enum { O_NONE = 0 };
+static const optdef grid_opts[] = {{NULL, 0, 0, 0}};
+
+int cmd_grid(cli *c, argparse *p)
+{
+    const char *val, *action = NULL;
+    int id, rc;
+    while ((id = next_option(c, p, grid_opts, 0, 1, &val)) != OPT_END) {
+        if (id == OPT_ERROR) return CLI_EXIT_USAGE;
+        if (id == OPT_POSITIONAL) {
+            if (!action)
+                action = val;
+            else if (!c->grid_path)
+                c->grid_path = val;
+            else
+                return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
+        }
+    }
+    if (action && strcmp(action, "info") && strcmp(action, "check"))
+        return cli_fail(c, CLI_EXIT_USAGE, "unknown action '%s'; use 'hrtrail grid info' or 'hrtrail grid check'", action);
+    if (c->want_help) {
+        help_command(action && !strcmp(action, "check") ? "grid check" : action ? "grid info" : "grid", stdout);
+        return 0;
+    }
+    if (!action) return cli_fail(c, CLI_EXIT_USAGE, "say 'hrtrail grid info' or 'hrtrail grid check' (see hrtrail grid --help)");
+    c->cmd = !strcmp(action, "info") ? "grid info" : "grid check";
+    if (!strcmp(action, "check")) return grid_check(c);
+    if ((rc = cli_open_grid(c))) return rc;
+    return grid_info(c);
+}

@@ -1,0 +1,205 @@
+/* hrtrail life: a star's timetable (keypoint ages, phases, route, remnant). */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+enum { O_MASS = 1 };
+static const optdef life_opts[] = {{"mass", 'm', 1, O_MASS}, {NULL, 0, 0, 0}};
+
+static const col kp_cols[] = {
+    {"keypoint", "keypoint", COL_TEXT, NULL, 0},
+    {"age_yr", "age [Myr]", COL_NUM, "%.6g", 1e-6},
+};
+static const col ph_cols[] = {
+    {"phase", "phase", COL_TEXT, NULL, 0},
+    {"name", "", COL_TEXT, NULL, 0},
+    {"start_yr", "start [Myr]", COL_NUM, "%.6g", 1e-6},
+    {"end_yr", "end [Myr]", COL_NUM, "%.6g", 1e-6},
+    {"duration_yr", "duration [Myr]", COL_NUM, "%.6g", 1e-6},
+};
+static const col life_csv_cols[] = {
+    {"initial_mass_Msun", NULL, COL_NUM, NULL, 0},
+    {"Z", NULL, COL_NUM, NULL, 0},
+    {"route", NULL, COL_TEXT, NULL, 0},
+    {"record", NULL, COL_TEXT, NULL, 0},
+    {"key", NULL, COL_TEXT, NULL, 0},
+    {"start_yr", NULL, COL_NUM, NULL, 0},
+    {"end_yr", NULL, COL_NUM, NULL, 0},
+    {"duration_yr", NULL, COL_NUM, NULL, 0},
+    {"mass_Msun", NULL, COL_NUM, NULL, 0},
+};
+
+int life_build(cli *c, const char *mass_text, double mass, double z, life *L)
+{
+    size_t n = 0, nk;
+    hrt_phase_span *sp;
+    int rc;
+    memset(L, 0, sizeof *L);
+    if ((rc = cli_new_star(c, mass_text, mass, z, &L->s))) return rc;
+    L->kp = table_new(kp_cols, 2);
+    nk = hrt_star_n_keypoints(L->s);
+    for (size_t k = 0; k < nk; k++) {
+        double a = NAN;
+        size_t r = table_add_row(L->kp);
+        hrt_star_keypoint_age(L->s, k, &a);
+        table_text(L->kp, r, 0, hrt_star_keypoint_name(L->s, k));
+        table_num(L->kp, r, 1, a);
+    }
+    size_t cap = 32;
+    sp = xcalloc(cap, sizeof *sp);
+    rc = hrt_star_phases(L->s, sp, cap, &n);
+    if (rc == HRT_E_BUFFER && n > cap) {
+        cap = n;
+        sp = xrealloc(sp, cap * sizeof *sp);
+        rc = hrt_star_phases(L->s, sp, cap, &n);
+    }
+    if (rc != HRT_OK) {
+        free(sp);
+        return cli_fail(c, cli_exit_of_status(rc), "timetable of the star: %s", hrt_strerror(rc));
+    }
+    L->ph = table_new(ph_cols, 5);
+    for (size_t i = 0; i < n; i++) {
+        size_t r = table_add_row(L->ph);
+        table_text(L->ph, r, 0, hrt_phase_key(sp[i].phase));
+        table_text(L->ph, r, 1, hrt_phase_name(sp[i].phase));
+        table_num(L->ph, r, 2, sp[i].start_yr);
+        table_num(L->ph, r, 3, sp[i].end_yr);
+        table_num(L->ph, r, 4, sp[i].end_yr - sp[i].start_yr);
+    }
+    free(sp);
+    L->remnant = HRT_REMNANT_NONE;
+    L->remnant_mass = NAN;
+    if (hrt_star_remnant(L->s, &L->remnant, &L->remnant_mass) != HRT_OK) L->remnant = HRT_REMNANT_NONE;
+    L->end_age = hrt_star_end_age(L->s);
+    return 0;
+}
+
+void life_free(life *L)
+{
+    hrt_star_free(L->s);
+    table_free(L->kp);
+    table_free(L->ph);
+    memset(L, 0, sizeof *L);
+}
+
+void life_print_text(const cli *c, const life *L, const char *indent)
+{
+    char a[64];
+    double z = hrt_star_z(L->s);
+    printf("%sLife of a %.6g Msun star at Z = %.6g ([Fe/H] = %+.3f), route %s\n", indent, hrt_star_mass(L->s), z,
+           cli_feh(c, z), cli_route_name(c, hrt_star_route(L->s)));
+    printf("%sKeypoints (ages since birth; '-' = not reached)\n", indent);
+    char ind2[32];
+    snprintf(ind2, sizeof ind2, "%s  ", indent);
+    table_write_text(L->kp, stdout, ind2);
+    printf("%sPhases\n", indent);
+    table_write_text(L->ph, stdout, ind2);
+    format_age(a, sizeof a, L->end_age);
+    if (L->remnant != HRT_REMNANT_NONE)
+        printf("%sFate: %s of %.4g Msun, from age %s\n", indent, hrt_remnant_name(L->remnant), L->remnant_mass, a);
+    else
+        printf("%sFate: unknown; the track ends at age %s and the grid names no remnant\n", indent, a);
+}
+
+void life_json(const cli *c, const life *L, jw *w, const char *key)
+{
+    double z = hrt_star_z(L->s);
+    jw_begin_object(w, key);
+    jw_num(w, "initial_mass_Msun", hrt_star_mass(L->s));
+    jw_num(w, "Z", z);
+    jw_num(w, "feh", cli_feh(c, z));
+    jw_str(w, "route", cli_route_name(c, hrt_star_route(L->s)));
+    jw_table(w, "keypoints", L->kp);
+    jw_table(w, "phases", L->ph);
+    jw_begin_object(w, "remnant");
+    jw_str(w, "kind", hrt_remnant_key(L->remnant));
+    jw_str(w, "name", hrt_remnant_name(L->remnant));
+    jw_num(w, "mass_Msun", L->remnant_mass);
+    jw_num(w, "from_age_yr", L->end_age);
+    jw_end_object(w);
+    jw_end_object(w);
+}
+
+static void life_csv_rows(const cli *c, const life *L, table *t)
+{
+    double m = hrt_star_mass(L->s), z = hrt_star_z(L->s);
+    const char *route = cli_route_name(c, hrt_star_route(L->s));
+    size_t r;
+    for (size_t k = 0; k < L->kp->nrow; k++) {
+        r = table_add_row(t);
+        table_num(t, r, 0, m), table_num(t, r, 1, z), table_text(t, r, 2, route);
+        table_text(t, r, 3, "keypoint");
+        table_text(t, r, 4, L->kp->text[k * L->kp->ncol]);
+        table_num(t, r, 5, L->kp->num[k * L->kp->ncol + 1]);
+    }
+    for (size_t k = 0; k < L->ph->nrow; k++) {
+        r = table_add_row(t);
+        table_num(t, r, 0, m), table_num(t, r, 1, z), table_text(t, r, 2, route);
+        table_text(t, r, 3, "phase");
+        table_text(t, r, 4, L->ph->text[k * L->ph->ncol]);
+        for (int j = 0; j < 3; j++) table_num(t, r, 5 + (size_t)j, L->ph->num[k * L->ph->ncol + 2 + (size_t)j]);
+    }
+    r = table_add_row(t);
+    table_num(t, r, 0, m), table_num(t, r, 1, z), table_text(t, r, 2, route);
+    table_text(t, r, 3, "remnant");
+    table_text(t, r, 4, hrt_remnant_key(L->remnant));
+    table_num(t, r, 5, L->end_age);
+    table_num(t, r, 8, L->remnant_mass);
+}
+
+int cmd_life(cli *c, argparse *p)
+{
+    dlist ml = {0};
+    const char *val;
+    int id, rc = 0;
+    double z;
+    life *L = NULL;
+
+    while ((id = next_option(c, p, life_opts, 1, 1, &val)) != OPT_END) {
+        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
+        if (id == OPT_POSITIONAL) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the star is given with --mass)", val);
+            goto done;
+        }
+        if (id == O_MASS && (rc = add_mass_list(c, "--mass", val, &ml))) goto done;
+    }
+    if (c->want_help) { help_command("life", stdout); goto done; }
+    if (ml.n == 0) {
+        rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass M[,M...] (initial mass, Msun)");
+        goto done;
+    }
+    if ((rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) goto done;
+    L = xcalloc(ml.n, sizeof *L);
+    for (size_t i = 0; i < ml.n; i++)
+        if ((rc = life_build(c, ml.text[i], ml.v[i], z, &L[i]))) goto done;
+    if (c->fmt == FMT_CSV) {
+        table *t = table_new(life_csv_cols, sizeof life_csv_cols / sizeof life_csv_cols[0]);
+        for (size_t i = 0; i < ml.n; i++) life_csv_rows(c, &L[i], t);
+        table_write_csv(t, stdout);
+        table_free(t);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_str(&w, "grid", c->grid_used);
+        jw_str(&w, "interp", hrt_interp_name(c->interp));
+        jw_begin_array(&w, "stars");
+        for (size_t i = 0; i < ml.n; i++) life_json(c, &L[i], &w, NULL);
+        jw_end_array(&w);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else {
+        for (size_t i = 0; i < ml.n; i++) {
+            if (i) putchar('\n');
+            life_print_text(c, &L[i], "");
+        }
+    }
+done:
+    if (L)
+        for (size_t i = 0; i < ml.n; i++) life_free(&L[i]);
+    free(L);
+    dlist_free(&ml);
+    return rc;
+}

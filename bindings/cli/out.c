@@ -1,0 +1,390 @@
+/* Output of the hrtrail command: aligned tables, CSV and JSON. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+/* ------------------------------------------------------------------ tables */
+
+table *table_new(const col *cols, size_t ncol)
+{
+    table *t = xcalloc(1, sizeof *t);
+    t->cols = cols;
+    t->ncol = ncol;
+    return t;
+}
+
+size_t table_add_row(table *t)
+{
+    if (t->nrow == t->cap) {
+        t->cap = t->cap ? 2 * t->cap : 16;
+        t->num = xrealloc(t->num, t->cap * t->ncol * sizeof *t->num);
+        t->text = xrealloc(t->text, t->cap * t->ncol * sizeof *t->text);
+    }
+    for (size_t c = 0; c < t->ncol; c++) {
+        t->num[t->nrow * t->ncol + c] = NAN;
+        t->text[t->nrow * t->ncol + c] = NULL;
+    }
+    return t->nrow++;
+}
+
+void table_num(table *t, size_t r, size_t c, double v)
+{
+    t->num[r * t->ncol + c] = v;
+}
+
+void table_text(table *t, size_t r, size_t c, const char *s)
+{
+    free(t->text[r * t->ncol + c]);
+    t->text[r * t->ncol + c] = xstrdup(s ? s : "");
+}
+
+void table_free(table *t)
+{
+    if (!t) return;
+    for (size_t i = 0; i < t->nrow * t->ncol; i++) free(t->text[i]);
+    free(t->num);
+    free(t->text);
+    free(t);
+}
+
+static void human_cell(const table *t, size_t r, size_t c, char *buf, size_t n)
+{
+    const col *k = &t->cols[c];
+    if (k->type == COL_TEXT) {
+        const char *s = t->text[r * t->ncol + c];
+        snprintf(buf, n, "%s", s && *s ? s : "-");
+        return;
+    }
+    double v = t->num[r * t->ncol + c];
+    if (isnan(v))
+        snprintf(buf, n, "-");
+    else if (isinf(v))
+        snprintf(buf, n, v > 0 ? "inf" : "-inf");
+    else
+        snprintf(buf, n, k->hfmt ? k->hfmt : "%.6g", v * (k->hscale != 0 ? k->hscale : 1.0));
+}
+
+void table_write_text(const table *t, FILE *f, const char *indent)
+{
+    size_t *w = xcalloc(t->ncol, sizeof *w);
+    char buf[256];
+    for (size_t c = 0; c < t->ncol; c++) {
+        if (!t->cols[c].head) continue;
+        w[c] = strlen(t->cols[c].head);
+        for (size_t r = 0; r < t->nrow; r++) {
+            human_cell(t, r, c, buf, sizeof buf);
+            if (strlen(buf) > w[c]) w[c] = strlen(buf);
+        }
+    }
+    for (size_t r = 0; r <= t->nrow; r++) {
+        int first = 1;
+        fputs(indent ? indent : "", f);
+        for (size_t c = 0; c < t->ncol; c++) {
+            const col *k = &t->cols[c];
+            int left = k->type == COL_TEXT;
+            const char *s;
+            if (!k->head) continue;
+            if (r == 0)
+                s = k->head;
+            else {
+                human_cell(t, r - 1, c, buf, sizeof buf);
+                s = buf;
+            }
+            if (!first) fputs("  ", f);
+            /* the last column is not padded on the right */
+            if (left) {
+                size_t last = c;
+                for (size_t d = c + 1; d < t->ncol; d++)
+                    if (t->cols[d].head) last = d;
+                if (last == c)
+                    fputs(s, f);
+                else
+                    fprintf(f, "%-*s", (int)w[c], s);
+            } else {
+                fprintf(f, "%*s", (int)w[c], s);
+            }
+            first = 0;
+        }
+        fputc('\n', f);
+    }
+    free(w);
+}
+
+void csv_write_text(FILE *f, const char *s)
+{
+    if (!s) s = "";
+    if (strpbrk(s, ",\"\n\r") || (*s && (s[0] == ' ' || s[strlen(s) - 1] == ' '))) {
+        fputc('"', f);
+        for (; *s; s++) {
+            if (*s == '"') fputc('"', f);
+            fputc(*s, f);
+        }
+        fputc('"', f);
+    } else {
+        fputs(s, f);
+    }
+}
+
+void csv_write_num(FILE *f, double v)
+{
+    if (isnan(v))
+        fputs("nan", f);
+    else if (isinf(v))
+        fputs(v > 0 ? "inf" : "-inf", f);
+    else
+        fprintf(f, "%.17g", v);
+}
+
+void table_write_csv(const table *t, FILE *f)
+{
+    for (size_t c = 0; c < t->ncol; c++) {
+        if (c) fputc(',', f);
+        csv_write_text(f, t->cols[c].key);
+    }
+    fputc('\n', f);
+    for (size_t r = 0; r < t->nrow; r++) {
+        for (size_t c = 0; c < t->ncol; c++) {
+            if (c) fputc(',', f);
+            if (t->cols[c].type == COL_TEXT)
+                csv_write_text(f, t->text[r * t->ncol + c]);
+            else
+                csv_write_num(f, t->num[r * t->ncol + c]);
+        }
+        fputc('\n', f);
+    }
+}
+
+/* ------------------------------------------------------------------ JSON */
+
+void jw_init(jw *w, FILE *f)
+{
+    memset(w, 0, sizeof *w);
+    w->f = f;
+    w->first[0] = 1;
+}
+
+static void jw_string(FILE *f, const char *s)
+{
+    fputc('"', f);
+    for (const unsigned char *p = (const unsigned char *)(s ? s : ""); *p; p++) {
+        switch (*p) {
+        case '"': fputs("\\\"", f); break;
+        case '\\': fputs("\\\\", f); break;
+        case '\n': fputs("\\n", f); break;
+        case '\r': fputs("\\r", f); break;
+        case '\t': fputs("\\t", f); break;
+        default:
+            if (*p < 0x20)
+                fprintf(f, "\\u%04x", *p);
+            else
+                fputc(*p, f);
+        }
+    }
+    fputc('"', f);
+}
+
+static void jw_prefix(jw *w, const char *key)
+{
+    if (w->depth > 0) {
+        if (!w->first[w->depth]) fputc(',', w->f);
+        fputc('\n', w->f);
+        for (int i = 0; i < w->depth; i++) fputs("  ", w->f);
+    }
+    w->first[w->depth] = 0;
+    if (key) {
+        jw_string(w->f, key);
+        fputs(": ", w->f);
+    }
+}
+
+static void jw_open(jw *w, const char *key, char ch)
+{
+    jw_prefix(w, key);
+    fputc(ch, w->f);
+    if (w->depth < 63) w->depth++;
+    w->first[w->depth] = 1;
+}
+
+static void jw_close(jw *w, char ch)
+{
+    int empty = w->first[w->depth];
+    if (w->depth > 0) w->depth--;
+    if (!empty) {
+        fputc('\n', w->f);
+        for (int i = 0; i < w->depth; i++) fputs("  ", w->f);
+    }
+    fputc(ch, w->f);
+}
+
+void jw_begin_object(jw *w, const char *key) { jw_open(w, key, '{'); }
+void jw_end_object(jw *w) { jw_close(w, '}'); }
+void jw_begin_array(jw *w, const char *key) { jw_open(w, key, '['); }
+void jw_end_array(jw *w) { jw_close(w, ']'); }
+
+void jw_num(jw *w, const char *key, double v)
+{
+    jw_prefix(w, key);
+    if (isfinite(v))
+        fprintf(w->f, "%.17g", v);
+    else
+        fputs("null", w->f);
+}
+
+void jw_int(jw *w, const char *key, long v)
+{
+    jw_prefix(w, key);
+    fprintf(w->f, "%ld", v);
+}
+
+void jw_str(jw *w, const char *key, const char *s)
+{
+    jw_prefix(w, key);
+    if (s)
+        jw_string(w->f, s);
+    else
+        fputs("null", w->f);
+}
+
+void jw_bool(jw *w, const char *key, int v)
+{
+    jw_prefix(w, key);
+    fputs(v ? "true" : "false", w->f);
+}
+
+void jw_table(jw *w, const char *key, const table *t)
+{
+    jw_begin_array(w, key);
+    for (size_t r = 0; r < t->nrow; r++) {
+        jw_begin_object(w, NULL);
+        for (size_t c = 0; c < t->ncol; c++) {
+            if (t->cols[c].type == COL_TEXT)
+                jw_str(w, t->cols[c].key, t->text[r * t->ncol + c]);
+            else
+                jw_num(w, t->cols[c].key, t->num[r * t->ncol + c]);
+        }
+        jw_end_object(w);
+    }
+    jw_end_array(w);
+}
+
+void jw_finish(jw *w)
+{
+    fputc('\n', w->f);
+}
+
+/* ------------------------------------------------------------------ states */
+
+static const col state_cols[] = {
+    {"name", "star", COL_TEXT, NULL, 0},
+    {"initial_mass_Msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
+    {"Z", "Z", COL_NUM, "%.4g", 0},
+    {"age_yr", "age [Myr]", COL_NUM, "%.5g", 1e-6},
+    {"phase", "phase", COL_TEXT, NULL, 0},
+    {"route", NULL, COL_TEXT, NULL, 0},
+    {"log_L_Lsun", "log L [Lsun]", COL_NUM, "%.4f", 0},
+    {"log_Teff_K", "log Teff [K]", COL_NUM, "%.4f", 0},
+    {"log_R_Rsun", "log R [Rsun]", COL_NUM, "%.4f", 0},
+    {"log_g_cgs", "log g [cm/s2]", COL_NUM, "%.3f", 0},
+    {"mass_Msun", "M now [Msun]", COL_NUM, "%.4g", 0},
+    {"he_core_Msun", "He core [Msun]", COL_NUM, "%.4g", 0},
+    {"co_core_Msun", "CO core [Msun]", COL_NUM, "%.4g", 0},
+    {"eep", "EEP", COL_NUM, "%.2f", 0},
+    {"phase_fraction", NULL, COL_NUM, NULL, 0},
+    {"phase_start_yr", NULL, COL_NUM, NULL, 0},
+    {"phase_end_yr", NULL, COL_NUM, NULL, 0},
+    {"remnant", NULL, COL_TEXT, NULL, 0},
+    {"remnant_mass_Msun", NULL, COL_NUM, NULL, 0},
+    {"flags", "notes", COL_TEXT, NULL, 0},
+    {"status", "status", COL_TEXT, NULL, 0},
+};
+#define N_STATE_COLS (sizeof state_cols / sizeof state_cols[0])
+
+/* Per-table copy of the column list, so that the optional columns can be dropped. */
+typedef struct state_table {
+    table t;
+    col cols[N_STATE_COLS];
+    int map[N_STATE_COLS]; /* index in cols or -1 */
+} state_table;
+
+table *state_table_new(unsigned extra)
+{
+    state_table *st = xcalloc(1, sizeof *st);
+    size_t n = 0;
+    for (size_t i = 0; i < N_STATE_COLS; i++) {
+        const char *key = state_cols[i].key;
+        if ((!strcmp(key, "name") && !(extra & SC_NAME)) || (!strcmp(key, "status") && !(extra & SC_STATUS))) {
+            st->map[i] = -1;
+            continue;
+        }
+        st->map[i] = (int)n;
+        st->cols[n++] = state_cols[i];
+    }
+    st->t.cols = st->cols;
+    st->t.ncol = n;
+    return &st->t; /* first member: table_free() frees the whole state_table */
+}
+
+const char *flags_text(int flags, char *buf, size_t n)
+{
+    buf[0] = '\0';
+    if (flags & HRT_FLAG_NOT_MODELLED) snprintf(buf + strlen(buf), n - strlen(buf), "%sbefore-zams", *buf ? "+" : "");
+    if (flags & HRT_FLAG_REMNANT) snprintf(buf + strlen(buf), n - strlen(buf), "%sremnant", *buf ? "+" : "");
+    if (flags & HRT_FLAG_DARK) snprintf(buf + strlen(buf), n - strlen(buf), "%sdark", *buf ? "+" : "");
+    if (flags & HRT_FLAG_EXTRAPOLATED)
+        snprintf(buf + strlen(buf), n - strlen(buf), "%sextrapolated", *buf ? "+" : "");
+    return buf;
+}
+
+void state_table_add(table *t, const cli *c, const hrt_state *s, const char *name, const char *status)
+{
+    state_table *st = (state_table *)t;
+    size_t r = table_add_row(t);
+    char fl[96];
+    const double nums[N_STATE_COLS] = {
+        0, s->initial_mass_msun, s->z, s->age_yr, 0, 0, s->log_l, s->log_teff_k, s->log_r, s->log_g_cgs,
+        s->mass_msun, s->he_core_msun, s->co_core_msun, s->eep, s->phase_fraction, s->phase_start_yr,
+        s->phase_end_yr, 0, s->remnant_mass_msun, 0, 0};
+    for (size_t i = 0; i < N_STATE_COLS; i++) {
+        int k = st->map[i];
+        const char *key = state_cols[i].key;
+        if (k < 0) continue;
+        if (state_cols[i].type == COL_NUM)
+            table_num(t, r, (size_t)k, nums[i]);
+        else if (!strcmp(key, "name"))
+            table_text(t, r, (size_t)k, name);
+        else if (!strcmp(key, "phase"))
+            table_text(t, r, (size_t)k, s->status == HRT_OK ? hrt_phase_key(s->phase) : "");
+        else if (!strcmp(key, "route"))
+            table_text(t, r, (size_t)k, s->status == HRT_OK ? cli_route_name(c, s->route) : "");
+        else if (!strcmp(key, "remnant"))
+            table_text(t, r, (size_t)k, s->status == HRT_OK ? hrt_remnant_key(s->remnant) : "");
+        else if (!strcmp(key, "flags"))
+            table_text(t, r, (size_t)k, s->status == HRT_OK ? flags_text(s->flags, fl, sizeof fl) : "");
+        else if (!strcmp(key, "status"))
+            table_text(t, r, (size_t)k, status);
+    }
+}
+
+/* After a human table: what the phase keys in it mean. */
+void phase_footnote(FILE *f, const table *t)
+{
+    size_t pc = (size_t)-1;
+    int seen[HRT_PHASE_COUNT] = {0};
+    int any = 0;
+    for (size_t c = 0; c < t->ncol; c++)
+        if (!strcmp(t->cols[c].key, "phase")) pc = c;
+    if (pc == (size_t)-1) return;
+    for (size_t r = 0; r < t->nrow; r++) {
+        const char *k = t->text[r * t->ncol + pc];
+        int ph = k ? hrt_phase_from_key(k) : HRT_PHASE_UNKNOWN;
+        if (ph > 0 && ph < HRT_PHASE_COUNT) seen[ph] = 1;
+    }
+    for (int ph = 1; ph < HRT_PHASE_COUNT; ph++) {
+        if (!seen[ph]) continue;
+        fprintf(f, "%s%s = %s", any ? "; " : "phases: ", hrt_phase_key(ph), hrt_phase_name(ph));
+        any = 1;
+    }
+    if (any) fputc('\n', f);
+}
