@@ -74,11 +74,60 @@ static double isochrone_pick(const hrt_state *pts, size_t n, const int *phases, 
 static const col fate_cols[] = {
     {"name", "star", COL_TEXT, NULL, 0},
     {"initial_mass_Msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
-    {"remnant", "fate", COL_TEXT, NULL, 0},
+    {"remnant", NULL, COL_TEXT, NULL, 0},
+    {"remnant_name", "fate", COL_TEXT, NULL, 0},
     {"remnant_mass_Msun", "remnant [Msun]", COL_NUM, "%.3g", 0},
     {"remnant_from_age_yr", "from age [Myr]", COL_NUM, "%.6g", 1e-6},
     {"years_from_now", "from now [Myr]", COL_NUM, "%+.6g", 1e-6},
 };
+
+/*
+ * The members' timetables side by side: one row per member, the time spent in
+ * each phase that any member passes through (the star's pre-main-sequence
+ * contraction and its remnant stage excluded), and the age at which it
+ * becomes its remnant.
+ */
+static table *timetable_wide(const member *mem, size_t nm, col **cols_out, char ***heads_out)
+{
+    int used[HRT_PHASE_COUNT] = {0};
+    size_t nc = 0, np = 0;
+    for (size_t i = 0; i < nm; i++)
+        for (size_t k = 0; k < mem[i].L.ph->nrow; k++) {
+            int ph = hrt_phase_from_key(mem[i].L.ph->text[k * mem[i].L.ph->ncol]);
+            if (ph > HRT_PHASE_PRE_MS && isfinite(mem[i].L.ph->num[k * mem[i].L.ph->ncol + 3])) used[ph] = 1;
+        }
+    for (int ph = 0; ph < HRT_PHASE_COUNT; ph++) np += (size_t)used[ph];
+    col *cols = xcalloc(np + 2, sizeof *cols);
+    char **heads = xcalloc(np + 2, sizeof *heads);
+    cols[nc++] = (col){"name", "star", COL_TEXT, NULL, 0};
+    for (int ph = 0; ph < HRT_PHASE_COUNT; ph++) {
+        if (!used[ph]) continue;
+        heads[nc] = xmalloc(48);
+        snprintf(heads[nc], 48, "%s [Myr]", hrt_phase_key(ph));
+        cols[nc] = (col){hrt_phase_key(ph), heads[nc], COL_NUM, "%.4g", 1e-6};
+        nc++;
+    }
+    cols[nc++] = (col){"remnant_from_age_yr", "remnant from [Myr]", COL_NUM, "%.6g", 1e-6};
+    table *t = table_new(cols, nc);
+    for (size_t i = 0; i < nm; i++) {
+        size_t r = table_add_row(t);
+        table_text(t, r, 0, mem[i].name);
+        for (size_t k = 0; k < mem[i].L.ph->nrow; k++) {
+            const table *ph = mem[i].L.ph;
+            int p = hrt_phase_from_key(ph->text[k * ph->ncol]);
+            for (size_t c = 1; c + 1 < nc; c++)
+                if (!strcmp(cols[c].key, hrt_phase_key(p)) && isfinite(ph->num[k * ph->ncol + 3])) {
+                    double d = ph->num[k * ph->ncol + 4];
+                    double prev = t->num[r * nc + c];
+                    table_num(t, r, c, isnan(prev) ? d : prev + d);
+                }
+        }
+        table_num(t, r, nc - 1, mem[i].L.end_age);
+    }
+    *cols_out = cols;
+    *heads_out = heads;
+    return t;
+}
 
 int cmd_demo(cli *c, argparse *p)
 {
@@ -88,7 +137,7 @@ int cmd_demo(cli *c, argparse *p)
     member mem[8];
     size_t nm = 0, npts = 0;
     hrt_state *pts = NULL;
-    table *t = NULL, *fates = NULL;
+    table *t = NULL, *fates = NULL, *timetable = NULL;
     plot pl;
     char title[160], subtitle[512], agebuf[64];
 
@@ -180,9 +229,11 @@ int cmd_demo(cli *c, argparse *p)
         table_text(fates, r, 0, mem[i].name);
         table_num(fates, r, 1, mem[i].mass);
         table_text(fates, r, 2, hrt_remnant_key(mem[i].L.remnant));
-        table_num(fates, r, 3, mem[i].L.remnant_mass);
-        table_num(fates, r, 4, mem[i].L.end_age);
-        table_num(fates, r, 5, mem[i].L.end_age - age);
+        table_text(fates, r, 3, hrt_remnant_name(mem[i].L.remnant));
+        table_num(fates, r, 4, mem[i].L.remnant_mass);
+        table_num(fates, r, 5, mem[i].L.end_age);
+        table_num(fates, r, 6, mem[i].L.end_age - age);
+
     }
     /* the plot is written first: a failure to write it leaves stdout empty */
     if ((rc = plot_save(c, &pl, out))) goto done;
@@ -221,11 +272,17 @@ int cmd_demo(cli *c, argparse *p)
         table_write_text(t, stdout, "  ");
         printf("  ");
         phase_footnote(stdout, t);
-        printf("\nTimetables\n");
-        for (size_t i = 0; i < nm; i++) {
-            printf("\n  %s\n", mem[i].name);
-            life_print_text(c, &mem[i].L, "  ");
-        }
+        col *tcols;
+        char **theads;
+        timetable = timetable_wide(mem, nm, &tcols, &theads);
+        printf("\nTimetables: time spent in each phase ('-': never; 'hrtrail life --mass M --z %g' gives\n"
+               "each star's keypoint ages and phase boundaries)\n", z);
+        table_write_text(timetable, stdout, "  ");
+        for (size_t k = 0; k < timetable->ncol; k++) free(theads[k]);
+        table_free(timetable);
+        timetable = NULL;
+        free(theads);
+        free(tcols);
         printf("\nFates (from now: negative = already a remnant)\n");
         table_write_text(fates, stdout, "  ");
         printf("\nHR diagram written to %s (members, their tracks, the %s isochrone)\n", out, agebuf);
@@ -237,6 +294,7 @@ done:
     free(pts);
     table_free(t);
     table_free(fates);
+    table_free(timetable);
     plot_free(&pl);
     return rc;
 }

@@ -190,40 +190,75 @@ static void tick(checker *k)
     }
 }
 
+/* Problems of one kind along a track are reported once: the first EEP, its message and how many EEPs. */
+enum { K_STATE, K_AGE, K_TEFF, K_LUM, K_MASS, K_HE, K_CO, K_COUNT };
+typedef struct eep_fault {
+    size_t count, first;
+    char msg[256];
+} eep_fault;
+
+static void fault(eep_fault *f, size_t j, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+static void fault(eep_fault *f, size_t j, const char *fmt, ...)
+{
+    if (f->count++ == 0) {
+        va_list ap;
+        f->first = j;
+        va_start(ap, fmt);
+        vsnprintf(f->msg, sizeof f->msg, fmt, ap);
+        va_end(ap);
+    }
+}
+
 /*
  * Sanity of one star's track and timetable.  Bounds are generous
  * (common practice): single stars do not gain mass; the CO core lies inside
  * the helium core, which lies inside the star; Teff between 1e3 and 3e6 K,
  * L between 1e-6 and 1e7.5 Lsun; a white dwarf stays below 1.45 Msun
  * (Chandrasekhar 1931, ApJ 74, 81: limiting mass about 1.44 Msun).
+ * The grid's own tracks get every check; a star interpolated between two
+ * tracks (own_track 0) only those the interpolation must keep: ages
+ * increasing, keypoints in order, a contiguous timetable.
  */
-static void check_star(checker *k, const hrt_star *s, const char *where)
+static void check_star(checker *k, const hrt_star *s, const char *where, int own_track)
 {
     size_t n = hrt_star_n_eep(s), nk, nsp = 0;
     double m0 = hrt_star_mass(s), prev_age = -INFINITY, prev_kp = -INFINITY;
     const double rel = 1e-9;
-    char at[256];
+    eep_fault f[K_COUNT];
+    memset(f, 0, sizeof f);
     for (size_t j = 0; j < n; j++) {
         hrt_state st;
         int r = hrt_star_eep_state(s, j, &st);
-        snprintf(at, sizeof at, "%s, EEP %zu", where, j);
         if (r != HRT_OK) {
-            problem(k, at, "no state: %s", hrt_strerror(r));
+            fault(&f[K_STATE], j, "no state: %s", hrt_strerror(r));
             continue;
         }
-        if (!(st.age_yr > prev_age)) problem(k, at, "age %.6g yr does not increase (previous EEP %.6g yr)", st.age_yr, prev_age);
+        if (!(st.age_yr > prev_age))
+            fault(&f[K_AGE], j, "age %.6g yr does not increase (previous EEP %.6g yr)", st.age_yr, prev_age);
         prev_age = st.age_yr;
+        if (!own_track) continue;
         if (!(st.flags & HRT_FLAG_DARK)) {
             if (!(st.log_teff_k >= 3.0 && st.log_teff_k <= 6.5))
-                problem(k, at, "log Teff %.6g K outside 3 to 6.5", st.log_teff_k);
-            if (!(st.log_l >= -6 && st.log_l <= 7.5)) problem(k, at, "log L %.6g Lsun outside -6 to 7.5", st.log_l);
+                fault(&f[K_TEFF], j, "log Teff %.6g K outside 3 to 6.5", st.log_teff_k);
+            if (!(st.log_l >= -6 && st.log_l <= 7.5)) fault(&f[K_LUM], j, "log L %.6g Lsun outside -6 to 7.5", st.log_l);
         }
         if (!(st.mass_msun > 0 && st.mass_msun <= m0 * (1 + rel)))
-            problem(k, at, "current mass %.6g Msun not in (0, initial mass %.6g]", st.mass_msun, m0);
+            fault(&f[K_MASS], j, "current mass %.6g Msun not in (0, initial mass %.6g]", st.mass_msun, m0);
         if (!(st.he_core_msun >= 0 && st.he_core_msun <= st.mass_msun * (1 + rel)))
-            problem(k, at, "helium core %.6g Msun not between 0 and the star's mass %.6g", st.he_core_msun, st.mass_msun);
+            fault(&f[K_HE], j, "helium core %.6g Msun not between 0 and the star's mass %.6g", st.he_core_msun,
+                  st.mass_msun);
         if (!(st.co_core_msun >= 0 && st.co_core_msun <= st.he_core_msun * (1 + rel) + 1e-12))
-            problem(k, at, "CO core %.6g Msun not between 0 and the helium core %.6g", st.co_core_msun, st.he_core_msun);
+            fault(&f[K_CO], j, "CO core %.6g Msun not between 0 and the helium core %.6g", st.co_core_msun,
+                  st.he_core_msun);
+    }
+    for (int q = 0; q < K_COUNT; q++) {
+        char at[320];
+        if (!f[q].count) continue;
+        if (f[q].count == 1)
+            snprintf(at, sizeof at, "%s, EEP %zu", where, f[q].first);
+        else
+            snprintf(at, sizeof at, "%s, %zu EEPs from EEP %zu", where, f[q].count, f[q].first);
+        problem(k, at, "%s", f[q].msg);
     }
     nk = hrt_star_n_keypoints(s);
     for (size_t q = 0; q < nk; q++) {
@@ -300,7 +335,7 @@ static int grid_check(cli *c)
                     problem(&k, where, "cannot interpolate the star of the track's own mass: %s", err.message);
                 } else {
                     hrt_state st;
-                    check_star(&k, s, where);
+                    check_star(&k, s, where, 1);
                     if (hrt_star_eep_state(s, 0, &st) == HRT_OK) amin = fmin(amin, st.age_yr);
                     amax = fmax(amax, hrt_star_end_age(s));
                     k.n_tracks++;
@@ -315,20 +350,20 @@ static int grid_check(cli *c)
                     if (r != HRT_OK)
                         problem(&k, where, "cannot interpolate: %s", err.message);
                     else {
-                        check_star(&k, s, where);
+                        check_star(&k, s, where, 0);
                         k.n_mid++;
                     }
                     hrt_star_free(s);
                 }
                 tick(&k);
             }
-            /* isochrones at eight ages spread in log age over the group's lifetimes */
+            /* isochrones at eight ages spread in log age between the first ZAMS and the last end of a track */
             for (int q = 0; q < 8; q++) {
                 if (!(amin > 0 && amax > amin)) {
                     tick(&k);
                     continue;
                 }
-                double la = log10(amin) + 0.1 + (log10(amax) - log10(amin) - 0.1) * q / 7.0, age = pow(10, la);
+                double la = log10(amin) + (log10(amax) - log10(amin)) * (q + 1) / 9.0, age = pow(10, la);
                 hrt_state *pts = NULL;
                 size_t n = 0;
                 snprintf(where, sizeof where, "Z = %.6g, isochrone at %.6g yr", z, age);

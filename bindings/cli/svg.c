@@ -53,7 +53,7 @@ static const phase_style *style_of(int ph)
 void plot_init(plot *p)
 {
     memset(p, 0, sizeof *p);
-    p->width = 900;
+    p->width = 1000;
     p->height = 660;
 }
 
@@ -327,19 +327,75 @@ static void draw_line(FILE *o, const frame *f, const plot_line *l, size_t index)
         if (k == 0 || l->phase[k] != l->phase[k - 1] || l->route[k] != l->route[k - 1])
             marker(o, style_of(l->phase[k])->mark, px(f, l->log_teff[k]), py(f, l->log_l[k]),
                    l->is_isochrone ? 5.0 : 4.0, style_of(l->phase[k])->colour);
-    /* label: tracks at their zero-age main sequence, isochrones at their brightest point */
-    if (l->n > 0 && l->label[0]) {
+    fprintf(o, "</g>\n");
+}
+
+/* ------------------------------------------------------------------ labels */
+
+typedef struct box { double x0, y0, x1, y1; } box;
+typedef struct labels { box *b; size_t n; } labels;
+
+static int overlaps(const labels *L, box q)
+{
+    for (size_t i = 0; i < L->n; i++)
+        if (q.x0 < L->b[i].x1 && q.x1 > L->b[i].x0 && q.y0 < L->b[i].y1 && q.y1 > L->b[i].y0) return 1;
+    return 0;
+}
+
+/*
+ * Put a label near (x, y) where it collides with no earlier label and stays
+ * inside the plot area: to the right or left, below or above, then further
+ * away in steps of a line.  A label with no free place is left out.
+ */
+static void place_label(FILE *o, labels *L, const frame *f, double x, double y, const char *text, double size,
+                        int bold)
+{
+    double w = 0.6 * size * (double)strlen(text) + 2, h = size + 2;
+    for (int step = 0; step < 6; step++)
+        for (int side = 0; side < 4; side++) {
+            double dx = side & 1 ? -(w + 7) : 7, dy = (side & 2 ? -(h + 5) : 5) + (side & 2 ? -1 : 1) * step * h;
+            box q = {x + dx, y + dy, x + dx + w, y + dy + h};
+            if (q.x0 < f->x0 + 2 || q.x1 > f->x1 - 2 || q.y0 < f->y0 + 2 || q.y1 > f->y1 - 2) continue;
+            if (overlaps(L, q)) continue;
+            L->b = xrealloc(L->b, (L->n + 1) * sizeof *L->b);
+            L->b[L->n++] = q;
+            fprintf(o, "<text class=\"label\" x=\"%.2f\" y=\"%.2f\" font-size=\"%.1f\"%s fill=\"#1a1a1a\">", q.x0 + 1,
+                    q.y1 - 3, size, bold ? " font-weight=\"bold\"" : "");
+            xml_text(o, text);
+            fprintf(o, "</text>\n");
+            return;
+        }
+}
+
+/* Isochrones first (at their brightest point), then stars, then tracks (at the zero-age main sequence). */
+static void draw_labels(FILE *o, const plot *p, const frame *f)
+{
+    labels L = {NULL, 0};
+    /* the markers of the stars are obstacles too */
+    for (size_t i = 0; i < p->npoints; i++) {
+        double x = px(f, p->points[i].log_teff), y = py(f, p->points[i].log_l);
+        L.b = xrealloc(L.b, (L.n + 1) * sizeof *L.b);
+        L.b[L.n++] = (box){x - 6, y - 6, x + 6, y + 6};
+    }
+    fprintf(o, "<g id=\"labels\">\n");
+    for (size_t i = 0; i < p->nlines; i++) {
+        const plot_line *l = &p->lines[i];
         size_t at = 0;
-        if (l->is_isochrone)
-            for (k = 1; k < l->n; k++)
-                if (l->log_l[k] > l->log_l[at]) at = k;
-        fprintf(o, "<text x=\"%.2f\" y=\"%.2f\" font-size=\"11\" fill=\"#1a1a1a\" stroke=\"none\"%s>",
-                px(f, l->log_teff[at]) + (l->is_isochrone ? 8 : 6), py(f, l->log_l[at]) + (l->is_isochrone ? -6 : 14),
-                l->is_isochrone ? " font-weight=\"bold\"" : "");
-        xml_text(o, l->label);
-        fprintf(o, "</text>\n");
+        if (!l->is_isochrone || !l->n || !l->label[0]) continue;
+        for (size_t k = 1; k < l->n; k++)
+            if (l->log_l[k] > l->log_l[at]) at = k;
+        place_label(o, &L, f, px(f, l->log_teff[at]), py(f, l->log_l[at]), l->label, 12, 1);
+    }
+    for (size_t i = 0; i < p->npoints; i++)
+        if (p->points[i].label[0])
+            place_label(o, &L, f, px(f, p->points[i].log_teff), py(f, p->points[i].log_l), p->points[i].label, 11, 0);
+    for (size_t i = 0; i < p->nlines; i++) {
+        const plot_line *l = &p->lines[i];
+        if (l->is_isochrone || !l->n || !l->label[0]) continue;
+        place_label(o, &L, f, px(f, l->log_teff[0]), py(f, l->log_l[0]), l->label, 10.5, 0);
     }
     fprintf(o, "</g>\n");
+    free(L.b);
 }
 
 static void legend(FILE *o, const plot *p, const frame *f)
@@ -399,7 +455,7 @@ static void legend(FILE *o, const plot *p, const frame *f)
 int plot_write_svg(const plot *p, FILE *o)
 {
     frame f;
-    f.x0 = 84, f.x1 = p->width - 240, f.y0 = 70, f.y1 = p->height - 72;
+    f.x0 = 84, f.x1 = p->width - 300, f.y0 = 70, f.y1 = p->height - 72;
     data_range(p, &f);
     fprintf(o, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     fprintf(o, "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
@@ -436,15 +492,11 @@ int plot_write_svg(const plot *p, FILE *o)
         fprintf(o, "<circle class=\"point\" data-log-teff=\"%.17g\" data-log-l=\"%.17g\" cx=\"%.3f\" cy=\"%.3f\" r=\"5.5\" "
                    "fill=\"#111111\" stroke=\"%s\" stroke-width=\"%s\"/>\n",
                 q->log_teff, q->log_l, x, y, ring, q->phase > 0 ? "2.6" : "1.5");
-        if (q->label[0]) {
-            fprintf(o, "<text x=\"%.2f\" y=\"%.2f\" font-size=\"11\" fill=\"#111\">", x + 8, y - 7);
-            xml_text(o, q->label);
-            fprintf(o, "</text>\n");
-        }
     }
     fprintf(o, "</g>\n</g>\n");
     fprintf(o, "<rect x=\"%.3f\" y=\"%.3f\" width=\"%.3f\" height=\"%.3f\" fill=\"none\" stroke=\"#2b2b2b\" stroke-width=\"1.2\"/>\n",
             f.x0, f.y0, f.x1 - f.x0, f.y1 - f.y0);
+    draw_labels(o, p, &f);
     legend(o, p, &f);
     fprintf(o, "</svg>\n");
     return ferror(o) ? -1 : 0;
