@@ -1,0 +1,58 @@
+#!/usr/bin/python3
+"""hrtrail --help, --version and every subcommand's --help: what a new user reads."""
+import re
+
+from clitest import EXIT_OK, EXIT_USAGE, Checks, run
+
+t = Checks("cli-help")
+
+rc, out, err = run(["--version"])
+t.eq(rc, EXIT_OK, "--version exit code")
+t.ok(re.match(r"^hrtrail \d+\.\d+\.\d+ \(library \d+\.\d+\.\d+, ABI \d+, grid format \d+\)\n$", out),
+     "--version line: %r" % out)
+
+rc, out, err = run(["--help"])
+t.eq(rc, EXIT_OK, "--help exit code")
+for cmd in ("at", "track", "isochrone", "life", "plot", "grid", "demo"):
+    t.ok(re.search(r"^  %s\s" % cmd, out, re.M), "--help lists the command %s" % cmd)
+for word in ("--grid FILE", "--interp", "steffen", "linear", "cspline", "akima", "--csv", "--json", "--feh",
+             "Msun", "800Myr", "4.6Gyr", "1e9", "Exit status", "HRTRAIL_GRID", "semi-analytic"):
+    t.ok(word in out, "--help mentions %r" % word)
+# every exit code is documented
+for code in range(5):
+    t.ok(re.search(r"^\s+%d\s+\S" % code, out, re.M), "--help documents exit code %d" % code)
+t.eq(err, "", "--help writes nothing on stderr")
+
+# the questions of a new user, answered by an example in the help of the right command
+examples = {
+    "at": ["--mass 2.3 --z 0.008 --age 800Myr", "--input", "--keep-going"],
+    "track": ["--steps", "--ages", "--eeps", "--from", "--to"],
+    "isochrone": ["--age 1Gyr", "--csv"],
+    "life": ["keypoint", "remnant", "route", "duration"],
+    "plot": ["--track", "--isochrone", "--points", "--title", "-o", "greyscale", "to the left"],
+    "grid": ["info", "check", "progress", "validator"],
+    "demo": ["invented", "turnoff", "-o"],
+}
+for cmd, words in examples.items():
+    rc, out, err = run([cmd, "--help"])
+    t.eq(rc, EXIT_OK, "%s --help exit code" % cmd)
+    t.ok(out.startswith("Usage: hrtrail " + cmd), "%s --help starts with its usage line" % cmd)
+    t.ok("Exit status" in out, "%s --help documents the exit codes" % cmd)
+    for w in words:
+        t.ok(w in out, "%s --help mentions %r" % (cmd, w))
+    rc2, out2, _ = run(["help", cmd])
+    t.eq((rc2, out2), (rc, out), "'hrtrail help %s' is '%s --help'" % (cmd, cmd))
+# -h is --help; help comes before any grid is needed (no grid named here)
+rc, out, err = run(["at", "-h"], env={"HRTRAIL_GRID": "/nonexistent/grid.h5"})
+t.eq(rc, EXIT_OK, "at -h works without a grid")
+t.ok("Columns of a state" in out and "log_Teff_K" in out, "at --help explains the columns")
+for cmd in ("grid info", "grid check"):
+    rc, out, err = run(cmd.split() + ["--help"])
+    t.ok(rc == EXIT_OK and out.startswith("Usage: hrtrail grid"), "%s --help" % cmd)
+
+# no command: usage on stderr, exit 2, nothing on stdout
+rc, out, err = run([])
+t.eq(rc, EXIT_USAGE, "no command: exit code")
+t.eq(out, "", "no command: nothing on stdout")
+t.ok("no command given" in err, "no command: message")
+t.finish()
