@@ -1,0 +1,101 @@
+#!/usr/bin/python3
+"""hrtrail grid info / check: compared with the file (h5py); problems listed; progress only on a terminal."""
+import os
+import pty
+import subprocess
+
+import h5py
+
+from clitest import EXE, EXIT_FILE, EXIT_OK, Checks, make_grid, parse_csv, parse_json, run, tmpdir
+
+t = Checks("cli-grid")
+d = tmpdir()
+grid = make_grid(d)
+
+# ---- info against the file itself
+rc, out, err = run(["grid", "info", "--grid", grid, "--json"])
+t.eq(rc, EXIT_OK, "grid info --json exit code (%s)" % err)
+doc = parse_json(out)
+with h5py.File(grid, "r") as f:
+    zs = [float(f["metallicity/%d" % i].attrs["Z"]) for i in range(len(f["metallicity"]))]
+    masses = [list(map(float, f["metallicity/%d/initial_mass" % i][:])) for i in range(len(zs))]
+    routes = [x.decode() for x in f["routes/names"][:]]
+    kps = {r: [x.decode() for x in f["routes/%s/keypoint_names" % r][:]] for r in routes}
+    eeps = {r: list(map(int, f["routes/%s/keypoint_eep" % r][:])) for r in routes}
+    attrs = {k: f.attrs[k] for k in ("description", "source", "created_by")}
+    zref = float(f.attrs["z_ref"])
+t.eq([m["Z"] for m in doc["metallicities"]], zs, "info: metallicities")
+t.eq([[x["initial_mass_Msun"] for x in m["tracks"]] for m in doc["metallicities"]], masses, "info: masses")
+t.eq([r["name"] for r in doc["routes"]], routes, "info: routes")
+t.eq({r["name"]: [k["name"] for k in r["keypoints"]] for r in doc["routes"]}, kps, "info: keypoint names")
+t.eq({r["name"]: [k["eep"] for k in r["keypoints"]] for r in doc["routes"]}, eeps, "info: keypoint EEPs")
+t.eq({k: doc["attributes"].get(k) for k in attrs}, attrs, "info: provenance attributes")
+t.eq(doc["z_ref"], zref, "info: z_ref")
+t.eq(doc["file_bytes"], os.path.getsize(grid), "info: file size")
+t.ok(doc["memory_bytes"] > 0, "info: memory size")
+t.eq([m["route_boundaries_Msun"] for m in doc["metallicities"]], [[2.2, 8.0]] * 2, "info: route boundaries")
+t.eq([(m["mass_min_Msun"], m["mass_max_Msun"]) for m in doc["metallicities"]], [(0.7, 25.0), (0.7, 40.0)],
+     "info: mass ranges")
+rc, out, err = run(["grid", "info", grid, "--csv"])
+rows = parse_csv(out)
+t.eq(len(rows), sum(len(m) for m in masses), "info --csv: one row per track (FILE as an argument)")
+t.eq(set(rows[0]), {"Z", "feh", "initial_mass_Msun", "route", "n_eep"}, "info --csv columns")
+rc, out, err = run(["grid", "info", "--grid", grid])
+for w in ("grid file", grid, "MB on disk", "small three-route test grid", "Z_ref", "[Fe/H]", "low_mass",
+          "zams@0", "route boundaries [Msun]", "0.7 0.9 1.1"):
+    t.ok(w in out, "info table shows %r" % w)
+rc2, out2, _ = run(["grid", "info"], env={"HRTRAIL_GRID": grid})
+t.eq((rc2, out2), (rc, out), "HRTRAIL_GRID names the default grid")
+
+# ---- check: a good grid
+rc, out, err = run(["grid", "check", grid, "--json"])
+doc = parse_json(out)
+t.eq(rc, EXIT_OK, "check of a good grid: exit code (%s)" % err)
+t.eq((doc["ok"], doc["validator_passed"], doc["problems"]), (True, True, []), "check of a good grid: no problems")
+t.eq(doc["tracks_checked"], sum(len(m) for m in masses), "check: every track checked")
+t.ok(doc["interpolated_stars_checked"] > 0 and doc["isochrones_checked"] == 16, "check: midpoints and isochrones")
+t.eq(err, "", "check: nothing on stderr when stderr is not a terminal")
+
+# ---- check: a grid the validator refuses: its message, group/dataset/index named
+bad = make_grid(d, "ages")
+rc, out, err = run(["grid", "check", bad])
+t.eq(rc, EXIT_FILE, "check of an invalid grid: exit code")
+t.ok("validator" in out and "metallicity/1/log_age[2][5]" in out, "check prints the validator's problem: %r" % out)
+t.ok("1 problem found" in err, "check: summary on stderr")
+rc, out, err = run(["grid", "check", bad, "--csv"])
+rows = parse_csv(out)
+t.eq([r["where"] for r in rows], ["validator"], "check --csv: the validator's problem")
+
+# ---- check: a grid the validator accepts with unphysical cores: every problem printed
+cores = make_grid(d, "cores")
+rc, out, err = run(["grid", "check", cores, "--json"])
+doc = parse_json(out)
+t.eq(rc, EXIT_FILE, "check of a grid with faults: exit code")
+t.eq(doc["validator_passed"], True, "the validator accepts the core fault")
+where = sorted(p["where"] for p in doc["problems"])
+t.eq(len(where), 2, "both faults reported: %r" % where)
+t.ok(any("Z = 0.006, track 3 (1.4 Msun), EEP 20" in w for w in where) and
+     any("Z = 0.02, track 4 (1.8 Msun), EEP 20" in w for w in where), "faults named by Z, track, EEP")
+t.ok(all("CO core" in p["problem"] for p in doc["problems"]), "fault explained")
+
+# ---- progress on stderr: shown on a terminal, never otherwise
+master, slave = pty.openpty()
+p = subprocess.Popen([EXE, "grid", "check", grid], stdout=subprocess.PIPE, stderr=slave, stdin=subprocess.DEVNULL)
+os.close(slave)
+chunks = []
+while True:
+    try:
+        b = os.read(master, 4096)
+    except OSError:
+        break
+    if not b:
+        break
+    chunks.append(b)
+p.wait()
+os.close(master)
+tty_err = b"".join(chunks).decode(errors="replace")
+t.eq(p.returncode, EXIT_OK, "check with a terminal on stderr: exit code")
+t.ok("checked" in tty_err and "/" in tty_err and "\r" in tty_err, "progress shown on a terminal: %r" % tty_err[:120])
+rc, out, err = run(["grid", "check", grid])
+t.ok("checked" not in err and err == "", "no progress when stderr is a pipe")
+t.finish()
