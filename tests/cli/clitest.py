@@ -6,12 +6,14 @@ Usage of every test script:  test_X.py HRTRAIL_EXE LIBHRTRAIL_SO [DEFAULT_GRID]
 The library's own answers, to compare the command with, come through a small
 ctypes mirror of include/hrtrail.h declared here.
 """
+import atexit
 import csv
 import ctypes
 import io
 import json
 import math
 import os
+import shutil
 import struct
 import subprocess
 import sys
@@ -22,9 +24,9 @@ HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, HERE)
 import make_test_grid  # noqa: E402
 
-EXE = sys.argv[1] if len(sys.argv) > 1 else os.environ.get("HRTRAIL_CLI", "hrtrail")
-LIB = sys.argv[2] if len(sys.argv) > 2 else os.environ.get("HRTRAIL_LIB", "")
-EXTRA = sys.argv[3:]
+EXE = os.path.abspath(sys.argv[1] if len(sys.argv) > 1 else os.environ.get("HRTRAIL_CLI", "hrtrail"))
+LIB = os.path.abspath(sys.argv[2] if len(sys.argv) > 2 else os.environ.get("HRTRAIL_LIB", ""))
+EXTRA = [os.path.abspath(a) for a in sys.argv[3:]]
 
 # exit codes documented in hrtrail --help
 EXIT_OK, EXIT_INTERNAL, EXIT_USAGE, EXIT_RANGE, EXIT_FILE = 0, 1, 2, 3, 4
@@ -70,7 +72,10 @@ def run(args, stdin=None, env=None, cwd=None):
 
 
 def tmpdir():
-    return tempfile.mkdtemp(prefix="hrtrail-cli-test-")
+    """A fresh directory, removed when the test ends."""
+    path = tempfile.mkdtemp(prefix="hrtrail-cli-test-")
+    atexit.register(shutil.rmtree, path, True)
+    return path
 
 
 def make_grid(directory, brk=None, name=None):
