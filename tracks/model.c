@@ -827,6 +827,9 @@ static void route_giant(ctx *c)
 /* Humphreys-Davidson limit: no cool supergiants above log L = 5.5 (Davies,
  * Crowther & Beasor 2018, MNRAS 478, 3138) [read]. */
 #define LOGL_HD 5.5
+/* Width in log L over which stars turn from red to blue supergiants at the
+ * limit (yellow supergiants in between) [engineering choice]. */
+#define HD_WIDTH 0.12
 
 /* Red-supergiant temperature: 3800 K at Z = 0.014 (Levesque et al. 2005, ApJ
  * 628, 973: 3500-4300 K) [from memory], hotter at low Z (Davies et al. 2018)
@@ -851,17 +854,18 @@ static int sg_phase(double logt, double env_frac)
 
 /* Supergiant surface temperature [engineering choice]: red below the
  * Humphreys-Davidson limit (with the blue loop of 8-12 Msun stars), blue above
- * it, and a Wolf-Rayet star once the hydrogen envelope is below 3 % of the mass. */
+ * it, moving blue as the hydrogen envelope thins below about 20 % of the mass
+ * and a Wolf-Rayet star once it is gone (half-way at 10 %). */
 typedef struct sg_surface {
     double logt_cool, loop;
 } sg_surface;
 
 static double sg_logt(const sg_surface *sf, double logl, double m, double mhe, double phi)
 {
-    double h = logistic((logl - LOGL_HD) / 0.05);
+    double h = logistic((logl - LOGL_HD) / HD_WIDTH);
     double lt = (1.0 - h) * (sf->logt_cool + sf->loop * loop_shape(phi)) + h * LOGT_BSG;
     double ef = fmax(m - mhe, 0.0) / m;
-    double w = 1.0 / (1.0 + pow(fmax(ef, 1e-9) / 0.03, 2.0));
+    double w = 1.0 / (1.0 + pow(fmax(ef, 1e-9) / 0.1, 3.0));
     return lt + (LOGT_WR - lt) * w;
 }
 
@@ -920,12 +924,13 @@ static void route_supergiant(ctx *c)
             double logt = sg_logt(&sf, logl, m, mhe, phi);
             double logr = logr_from_lt(logl, logt);
             double env = fmax(m - mhe, 0.0);
-            double h = logistic((logl - LOGL_HD) / 0.05);
+            double h = logistic((logl - LOGL_HD) / 0.15);
             /* envelope winds: cool (de Jager type), hot (Vink), and above the
-             * Humphreys-Davidson limit an eruptive rate that strips the
-             * envelope within about 40 % of CHeB [engineering choice] */
+             * Humphreys-Davidson limit an eruptive rate that would strip the
+             * envelope within 60 % of CHeB, fading in over 0.15 dex in L
+             * [engineering choice] */
             double md_env = mdot_ndj(logl, logr, m, c->zeta) * (1.0 - sstep(logt, 3.8, 4.0)) +
-                            mdot_vink(logl, m, logt, c->zeta) + h * (m_t - mhe_t) / (0.4 * t_cheb);
+                            mdot_vink(logl, m, logt, c->zeta) + h * (m_t - mhe_t) / (0.6 * t_cheb);
             md_env *= env / (env + 0.02 * m);
             double md = md_env + mdot_wr(logl, c->zeta) * (1.0 - env / (env + 0.02 * m));
             m -= md * dt;
