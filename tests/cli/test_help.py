@@ -50,6 +50,16 @@ for cmd in ("grid info", "grid check"):
     rc, out, err = run(cmd.split() + ["--help"])
     t.ok(rc == EXIT_OK and out.startswith("Usage: hrtrail grid"), "%s --help" % cmd)
 
+# the man page documents the same commands, options and exit codes
+import os  # noqa: E402
+man = open(os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "bindings", "cli", "hrtrail.1")).read()
+for cmd in ("at", "track", "isochrone", "life", "plot", "grid info", "grid check", "demo"):
+    t.ok(".B %s" % cmd in man, "man page documents %s" % cmd)
+for opt in ("grid", "interp", "z", "feh", "csv", "json", "help", "version", "keep\\-going", "steps", "points"):
+    t.ok("\\-\\-" + opt in man, "man page documents --%s" % opt.replace("\\", ""))
+for code in range(5):
+    t.ok(".B %d\n" % code in man, "man page documents exit code %d" % code)
+
 # no command: usage on stderr, exit 2, nothing on stdout
 rc, out, err = run([])
 t.eq(rc, EXIT_USAGE, "no command: exit code")
