@@ -7,12 +7,14 @@
 
 /* log10 g of the Sun in cgs from the nominal (GM)sun and Rsun (IAU 2015 B3). */
 #define LOG_G_SUN_CGS 4.438067627303133
+/* log10 of the nominal solar Teff, 5772 K (IAU 2015 B3). */
+#define LOG_TEFF_SUN 3.7613263224214566
 
 double hrt_log_r_from(double log_l, double log_teff)
 {
     /* L/Lsun = (R/Rsun)^2 (Teff/Teff_sun)^4 with the nominal solar values,
      * which satisfy the Stefan-Boltzmann law to 2e-6 (IAU 2015 B3). */
-    return 0.5 * log_l - 2.0 * (log_teff - log10(HRT_TEFF_SUN_K));
+    return 0.5 * log_l - 2.0 * (log_teff - LOG_TEFF_SUN);
 }
 
 double hrt_log_g_from(double mass_msun, double log_r) { return LOG_G_SUN_CGS + log10(mass_msun) - 2.0 * log_r; }
@@ -21,8 +23,8 @@ double hrt_log_g_from(double mass_msun, double log_r) { return LOG_G_SUN_CGS + l
 int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
 {
     size_t lo = gp->route_lo[r], hi = gp->route_hi[r];
-    memset(m, 0, sizeof *m);
     m->gp = gp;
+    m->extrapolated = 0;
     if (lo == hi)
         return HRT_E_NO_TRACK;
     const double *lm = gp->logm;
@@ -36,6 +38,8 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
         double dxa = dx > lim ? lim : (dx < -lim ? -lim : dx);
         m->i = top ? k - 1 : k;
         m->near = k;
+        for (int c = 0; c < 4; c++)
+            m->w[c] = m->wa[c] = 0.0;
         int s = top ? 2 : 0;
         m->w[s] = 1.0;
         m->w[s + 1] = dx;
@@ -85,7 +89,6 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
     double zlo = g->grp[0].z, zhi = g->grp[nz - 1].z;
     if (z < zlo * (1.0 - 1e-12) || z > zhi * (1.0 + 1e-12))
         return hrt_set_error(err, HRT_E_Z_RANGE, "metallicity Z = %g is outside the grid's %g .. %g", z, zlo, zhi);
-    q->feh = log10(z / g->z_ref);
     /* Bracketing groups, or the one group of this metallicity. */
     size_t g0 = 0;
     q->single = 0;
@@ -102,10 +105,12 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
         g0 = nz - 2;
     q->g0 = g0;
     if (q->single) {
+        q->feh = g->grp[g0].feh;
         q->tz = 0.0;
         q->hz = 1.0;
         q->g_near = g0;
     } else {
+        q->feh = log10(z / g->z_ref);
         q->hz = g->grp[g0 + 1].feh - g->grp[g0].feh;
         q->tz = (q->feh - g->grp[g0].feh) / q->hz;
         q->g_near = q->tz <= 0.5 ? g0 : g0 + 1;
@@ -176,6 +181,10 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
             q->flags |= HRT_FLAG_EXTRAPOLATED;
     }
     q->n_eep = ne;
+    for (size_t k = s_lo; k <= s_hi; k++)
+        q->zx[k - s_lo] = g->grp[k].feh;
+    if (!q->single)
+        hrt_hermite_weights(z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->feh, q->zw);
     return HRT_OK;
 }
 
@@ -184,10 +193,41 @@ static inline double group_value(const qctx *q, size_t k, int qn, int j)
 {
     const mctx *m = &q->m[k - q->g_lo];
     const zgroup *gp = m->gp;
-    size_t stride = gp->n_mass + 1;
-    const double *p = gp->hv + (((size_t)qn * q->g->n_eep_max + (size_t)j) * stride + m->i) * 2;
+    const double *p = hrt_hv(gp, (size_t)j, m->i, qn);
     const double *w = qn == Q_AGE ? m->wa : m->w;
-    return w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3];
+    return w[0] * p[0] + w[1] * p[1] + w[2] * p[2 * NQ] + w[3] * p[2 * NQ + 1];
+}
+
+/* Steffen (1990) slope at knot k of n, one-sided secants at the ends (as
+ * hrt_slopes_local and GSL's gsl_interp_steffen). */
+static inline double steffen_slope(const double *x, const double *y, size_t n, size_t k)
+{
+    if (k == 0)
+        return (y[1] - y[0]) / (x[1] - x[0]);
+    if (k == n - 1)
+        return (y[n - 1] - y[n - 2]) / (x[n - 1] - x[n - 2]);
+    double hi = x[k + 1] - x[k], him1 = x[k] - x[k - 1];
+    double si = (y[k + 1] - y[k]) / hi, sim1 = (y[k] - y[k - 1]) / him1;
+    double pi = (sim1 * hi + si * him1) / (him1 + hi);
+    double m = fabs(sim1) < fabs(si) ? fabs(sim1) : fabs(si);
+    if (0.5 * fabs(pi) < m)
+        m = 0.5 * fabs(pi);
+    return ((sim1 < 0.0 ? -1.0 : 1.0) + (si < 0.0 ? -1.0 : 1.0)) * m;
+}
+
+/* Slopes across [Fe/H] at the two bracketing knots a, a + 1 of the stencil
+ * (a true end of the stencil is a true end of the grid's usable groups). */
+static void z_slopes(int zt, size_t n, const double *xs, const double *ys, size_t a, double *d0, double *d1)
+{
+    if (zt == HRT_INTERP_STEFFEN) {
+        *d0 = steffen_slope(xs, ys, n, a);
+        *d1 = steffen_slope(xs, ys, n, a + 1);
+        return;
+    }
+    double ds[HRT_MAX_Z];
+    hrt_slopes_local(zt, n, xs, ys, ds);
+    *d0 = ds[a];
+    *d1 = ds[a + 1];
 }
 
 double hrt_q_value(const qctx *q, int qn, int j)
@@ -202,23 +242,46 @@ double hrt_q_value(const qctx *q, int qn, int j)
          * sequences increases, so the interpolated track stays ordered. */
         return (1.0 - tz) * group_value(q, g0, qn, j) + tz * group_value(q, g0 + 1, qn, j);
     }
-    double xs[HRT_MAX_Z], ys[HRT_MAX_Z], ds[HRT_MAX_Z];
-    size_t n = q->g_hi - q->g_lo + 1;
-    for (size_t k = 0; k < n; k++) {
-        xs[k] = q->g->grp[q->g_lo + k].feh;
+    double ys[HRT_MAX_Z];
+    size_t n = q->g_hi - q->g_lo + 1, a = g0 - q->g_lo;
+    for (size_t k = 0; k < n; k++)
         ys[k] = group_value(q, q->g_lo + k, qn, j);
-    }
-    hrt_slopes_local(zt, n, xs, ys, ds);
-    double w[4];
-    size_t a = g0 - q->g_lo;
-    hrt_hermite_weights(zt, xs[a], xs[a + 1], q->feh, w);
-    return w[0] * ys[a] + w[1] * ds[a] + w[2] * ys[a + 1] + w[3] * ds[a + 1];
+    double d0, d1;
+    z_slopes(zt, n, q->zx, ys, a, &d0, &d1);
+    const double *w = q->zw;
+    return w[0] * ys[a] + w[1] * d0 + w[2] * ys[a + 1] + w[3] * d1;
 }
 
 void hrt_q_values(const qctx *q, int j, double v[NQS])
 {
-    for (int k = 0; k < NQS; k++)
-        v[k] = hrt_q_value(q, k + 1, j);
+    /* All quantities of a group at once: their knot data are contiguous. */
+    double ys[NQS][HRT_MAX_Z];
+    size_t n = q->single ? 1 : q->g_hi - q->g_lo + 1;
+    size_t k0 = q->single ? q->g0 - q->g_lo : 0;
+    for (size_t k = 0; k < n; k++) {
+        const mctx *m = &q->m[k0 + k];
+        const double *p = hrt_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        for (int c = 0; c < NQS; c++)
+            ys[c][k] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
+    }
+    if (q->single) {
+        for (int c = 0; c < NQS; c++)
+            v[c] = ys[c][0];
+        return;
+    }
+    size_t a = q->g0 - q->g_lo;
+    int zt = z_type(q->g);
+    if (zt == HRT_INTERP_LINEAR || n < 3) {
+        for (int c = 0; c < NQS; c++)
+            v[c] = (1.0 - q->tz) * ys[c][a] + q->tz * ys[c][a + 1];
+        return;
+    }
+    const double *w = q->zw;
+    for (int c = 0; c < NQS; c++) {
+        double d0, d1;
+        z_slopes(zt, n, q->zx, ys[c], a, &d0, &d1);
+        v[c] = w[0] * ys[c][a] + w[1] * d0 + w[2] * ys[c][a + 1] + w[3] * d1;
+    }
 }
 
 static const mctx *near_track(const qctx *q) { return &q->m[q->g_near - q->g_lo]; }
@@ -232,9 +295,9 @@ int hrt_q_phase(const qctx *q, int j)
 void hrt_q_phase_run(const qctx *q, int j, int *js, int *je)
 {
     const mctx *m = near_track(q);
-    size_t off = m->near * q->g->n_eep_max + (size_t)j;
-    *js = m->gp->run_start[off];
-    *je = m->gp->run_end[off];
+    const int32_t *ru = m->gp->runs + (m->near * q->g->n_eep_max + (size_t)j) * 2;
+    *js = ru[0];
+    *je = ru[1];
     if (*je > q->n_eep - 1)
         *je = q->n_eep - 1;
     if (*js > *je)
@@ -335,7 +398,7 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
         s->phase = HRT_PHASE_WD;
         s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, s->age_yr - t_last_yr);
         s->log_r = log10(hrt_wd_radius_rsun(rem_mass));
-        s->log_teff_k = log10(HRT_TEFF_SUN_K) + 0.25 * (s->log_l - 2.0 * s->log_r);
+        s->log_teff_k = LOG_TEFF_SUN + 0.25 * (s->log_l - 2.0 * s->log_r);
         s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
         s->he_core_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
         s->co_core_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
@@ -358,12 +421,88 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
 }
 
 static double q_age(const void *src, int j) { return hrt_q_value(src, Q_AGE, j); }
+static double q_age_yr(const void *src, int j) { return hrt_exp10(hrt_q_value(src, Q_AGE, j)); }
 static void q_vals(const void *src, int j, double v[NQS]) { hrt_q_values(src, j, v); }
+static int q_hint(const void *src, double lt)
+{
+    /* Bracket in the nearest track's own (contiguous) ages: the
+     * interpolated star's EEP is within a few of it. */
+    const qctx *q = src;
+    const mctx *m = &q->m[q->g_near - q->g_lo];
+    const double *x = m->gp->age_tab_x + 2 * m->near;
+    double k = (lt - x[0]) * x[1];
+    if (!(k >= 0.0))
+        return 0;
+    if (k >= HRT_AGE_TAB)
+        return q->n_eep - 2;
+    return m->gp->age_tab[m->near * HRT_AGE_TAB + (size_t)k];
+}
 
-/* The state of the (mass, Z) star of q at age t.  Ages A(j) and values V(j)
- * come from the grid (hrt_eval) or from a star's stored track (hrt_star_at):
- * one code path, so both give the same bits. */
-int hrt_state_at_generic(const qctx *q, const void *src, hrt_age_fn A, hrt_values_fn V, const int8_t *phases,
+static const hrt_source grid_source = {q_age, q_age_yr, q_vals, q_hint};
+
+/* Largest j in [0, n - 2] with A(j) <= lt, given A(0) <= lt < A(n - 1):
+ * galloping from the hint, then bisection.  Ages increase with EEP, so the
+ * answer does not depend on the hint. */
+static int find_eep(const hrt_source *S, const void *src, int n, double lt, double a_first, double a_last,
+                    double *a_lo, double *a_hi)
+{
+    int lo = 0, hi = n - 1;
+    double alo = a_first, ahi = a_last;
+    int j = S->hint ? S->hint(src, lt) : -1;
+    if (j >= 0 && j <= n - 2) {
+        double aj = S->A(src, j);
+        if (aj <= lt) {
+            lo = j;
+            alo = aj;
+            for (int step = 1; lo + step < n - 1; step *= 2) {
+                int c = lo + step;
+                double ac = S->A(src, c);
+                if (ac <= lt) {
+                    lo = c;
+                    alo = ac;
+                } else {
+                    hi = c;
+                    ahi = ac;
+                    break;
+                }
+            }
+        } else {
+            hi = j;
+            ahi = aj;
+            for (int step = 1; hi - step > 0; step *= 2) {
+                int c = hi - step;
+                double ac = S->A(src, c);
+                if (ac > lt) {
+                    hi = c;
+                    ahi = ac;
+                } else {
+                    lo = c;
+                    alo = ac;
+                    break;
+                }
+            }
+        }
+    }
+    while (hi - lo > 1) {
+        int c = lo + (hi - lo) / 2;
+        double ac = S->A(src, c);
+        if (ac <= lt) {
+            lo = c;
+            alo = ac;
+        } else {
+            hi = c;
+            ahi = ac;
+        }
+    }
+    *a_lo = alo;
+    *a_hi = ahi;
+    return lo;
+}
+
+/* The state of the (mass, Z) star of q at age t.  Ages and values come from
+ * the grid (hrt_eval) or from a star's stored track (hrt_star_at): one code
+ * path, so both give the same bits. */
+int hrt_state_at_generic(const qctx *q, const void *src, const hrt_source *S, const int8_t *phases,
                          const int32_t *runs, double age_yr, hrt_state *s)
 {
     hrt_state_clear(s, q->mass, q->z, age_yr);
@@ -380,42 +519,32 @@ int hrt_state_at_generic(const qctx *q, const void *src, hrt_age_fn A, hrt_value
     hrt_q_remnant(q, &kind, &rmass);
     s->remnant = kind;
     s->remnant_mass_msun = rmass;
-    double a0 = A(src, 0);
-    if (lt < a0) {
+    double a_first = S->A(src, 0), a_last = S->A(src, n - 1);
+    if (lt < a_first) {
         s->phase = HRT_PHASE_PRE_MS;
         s->flags |= HRT_FLAG_NOT_MODELLED;
         s->mass_msun = q->mass;
         s->phase_start_yr = 0.0;
-        s->phase_end_yr = pow(10.0, a0);
+        s->phase_end_yr = S->T(src, 0);
         s->phase_fraction = age_yr / s->phase_end_yr;
         return HRT_OK;
     }
-    double alast = A(src, n - 1);
-    if (lt >= alast) {
+    if (lt >= a_last) {
         if (kind == HRT_REMNANT_NONE) {
             s->status = HRT_E_AGE_RANGE;
             return HRT_E_AGE_RANGE;
         }
         double v[NQS];
-        V(src, n - 1, v);
-        hrt_state_remnant(s, kind, rmass, v[Q_L - 1], pow(10.0, alast));
+        S->V(src, n - 1, v);
+        hrt_state_remnant(s, kind, rmass, v[Q_L - 1], S->T(src, n - 1));
         return HRT_OK;
     }
-    /* Largest j with A(j) <= lt, j <= n - 2. */
-    int lo = 0, hi = n - 1;
-    while (hi - lo > 1) {
-        int c = lo + (hi - lo) / 2;
-        if (A(src, c) <= lt)
-            lo = c;
-        else
-            hi = c;
-    }
-    int j = lo;
-    double aj = A(src, j), aj1 = A(src, j + 1);
+    double aj, aj1;
+    int j = find_eep(S, src, n, lt, a_first, a_last, &aj, &aj1);
     double f = aj1 > aj ? (lt - aj) / (aj1 - aj) : 0.0;
     double v0[NQS], v1[NQS];
-    V(src, j, v0);
-    V(src, j + 1, v1);
+    S->V(src, j, v0);
+    S->V(src, j + 1, v1);
     hrt_state_from_values(s, v0, v1, f);
     s->eep = j + f;
     int js, je;
@@ -427,8 +556,8 @@ int hrt_state_at_generic(const qctx *q, const void *src, hrt_age_fn A, hrt_value
         s->phase = hrt_q_phase(q, j);
         hrt_q_phase_run(q, j, &js, &je);
     }
-    s->phase_start_yr = pow(10.0, A(src, js));
-    s->phase_end_yr = pow(10.0, A(src, je));
+    s->phase_start_yr = S->T(src, js);
+    s->phase_end_yr = S->T(src, je);
     double span = s->phase_end_yr - s->phase_start_yr;
     s->phase_fraction = span > 0.0 ? (age_yr - s->phase_start_yr) / span : 0.0;
     if (s->phase_fraction < 0.0)
@@ -453,7 +582,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         double zi = z ? z[i] : z_all;
         int rc = hrt_qctx_init(g, mass_msun[i], zi, &q, first == HRT_OK ? &e1 : NULL);
         if (rc == HRT_OK) {
-            rc = hrt_state_at_generic(&q, &q, q_age, q_vals, NULL, NULL, age_yr[i], &out[i]);
+            rc = hrt_state_at_generic(&q, &q, &grid_source, NULL, NULL, age_yr[i], &out[i]);
             if (rc != HRT_OK && first == HRT_OK)
                 hrt_set_error(&e1, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
         } else {

@@ -95,7 +95,7 @@ static int hermite_positive(double p0, double p1, double s0, double s1)
 
 static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x, double *y, double *d)
 {
-    size_t nm = gp->n_mass, J = g->n_eep_max, stride = nm + 1;
+    size_t nm = gp->n_mass, J = g->n_eep_max;
     for (size_t r = 0; r < g->n_routes; r++) {
         size_t lo = nm, hi = nm;
         for (size_t i = 0; i < nm; i++) {
@@ -114,7 +114,6 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
      * one route that all reach the EEP. */
     for (int q = 0; q < NQ; q++) {
         for (size_t j = 0; j < J; j++) {
-            double *row = gp->hv + ((size_t)q * J + j) * stride * 2;
             for (size_t r = 0; r < g->n_routes; r++) {
                 size_t i = gp->route_lo[r];
                 while (i < gp->route_hi[r]) {
@@ -128,13 +127,13 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
                     size_t n = i - a;
                     for (size_t k = 0; k < n; k++) {
                         x[k] = gp->logm[a + k];
-                        y[k] = row[(a + k) * 2];
+                        y[k] = hrt_hv(gp, j, a + k, q)[0];
                     }
                     int rc = run_slopes(g->interp, cache, n, x, y, d);
                     if (rc != HRT_OK)
                         return rc;
                     for (size_t k = 0; k < n; k++)
-                        row[(a + k) * 2 + 1] = d[k];
+                        hrt_hv(gp, j, a + k, q)[1] = d[k];
                 }
             }
         }
@@ -164,22 +163,33 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
     for (size_t i = 0; i < nm; i++) {
         int ne = gp->n_eep[i];
         const int8_t *ph = gp->phase + i * J;
-        int32_t *rs = gp->run_start + i * J, *re = gp->run_end + i * J;
+        int32_t *ru = gp->runs + i * J * 2;
         int j = 0;
         while (j < ne - 1) {
             int a = j;
             while (j < ne - 1 && ph[j] == ph[a])
                 j++;
             for (int k = a; k < j; k++) {
-                rs[k] = a;
-                re[k] = j;
+                ru[2 * k] = a;
+                ru[2 * k + 1] = j;
             }
         }
-        rs[ne - 1] = re[ne - 1] = ne - 1;
+        ru[2 * (ne - 1)] = ru[2 * (ne - 1) + 1] = ne - 1;
+        /* Log age -> EEP table: a starting point for the EEP search. */
+        const double *at = gp->age_track + i * J;
+        double a0 = at[0], per_dex = HRT_AGE_TAB / (at[ne - 1] - at[0]);
+        gp->age_tab_x[2 * i] = a0;
+        gp->age_tab_x[2 * i + 1] = per_dex;
+        int e = 0;
+        for (int k = 0; k < HRT_AGE_TAB; k++) {
+            double lt = a0 + k / per_dex;
+            while (e + 1 < ne - 1 && at[e + 1] <= lt)
+                e++;
+            gp->age_tab[i * HRT_AGE_TAB + (size_t)k] = (uint16_t)e;
+        }
     }
     /* Cubic log age across an interval must increase with EEP for every
      * mass inside it, or the interval falls back to linear weights. */
-    const double *age = gp->hv; /* q = Q_AGE */
     for (size_t i = 0; i + 1 < nm; i++) {
         gp->age_linear[i] = 0;
         if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
@@ -187,9 +197,10 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
         double h = gp->logm[i + 1] - gp->logm[i];
         int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
         for (int j = 0; j + 1 < ne; j++) {
-            const double *r0 = age + (size_t)j * stride * 2, *r1 = age + (size_t)(j + 1) * stride * 2;
-            double p0 = r1[i * 2] - r0[i * 2], p1 = r1[(i + 1) * 2] - r0[(i + 1) * 2];
-            double s0 = h * (r1[i * 2 + 1] - r0[i * 2 + 1]), s1 = h * (r1[(i + 1) * 2 + 1] - r0[(i + 1) * 2 + 1]);
+            const double *a0 = hrt_hv(gp, (size_t)j, i, Q_AGE), *a1 = hrt_hv(gp, (size_t)j + 1, i, Q_AGE);
+            const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
+            double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
+            double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]);
             if (!hermite_positive(p0, p1, s0, s1)) {
                 gp->age_linear[i] = 1;
                 break;
@@ -201,8 +212,8 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
     for (size_t i = 0; i < nm; i++) {
         double up = INFINITY, dn = INFINITY;
         for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
-            const double *r0 = age + (size_t)j * stride * 2, *r1 = age + (size_t)(j + 1) * stride * 2;
-            double dy = r1[i * 2] - r0[i * 2], dd = r1[i * 2 + 1] - r0[i * 2 + 1];
+            const double *a0 = hrt_hv(gp, (size_t)j, i, Q_AGE), *a1 = hrt_hv(gp, (size_t)j + 1, i, Q_AGE);
+            double dy = a1[0] - a0[0], dd = a1[1] - a0[1];
             if (dd < 0.0 && dy / -dd < up)
                 up = dy / -dd;
             if (dd > 0.0 && dy / dd < dn)

@@ -356,6 +356,9 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
             for (size_t k = 0; k < L->n_kp; k++)
                 L->kp_eep[k] = kp[k];
             L->n_eep = (size_t)kp[L->n_kp - 1] + 1;
+            if (L->n_eep > HRT_MAX_EEP)
+                rc = hrt_set_error(err, HRT_E_FORMAT, "%s: %zu EEPs, at most %d supported", where, L->n_eep,
+                                   HRT_MAX_EEP);
             if (L->n_eep > g->n_eep_max)
                 g->n_eep_max = L->n_eep;
         }
@@ -426,18 +429,21 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         gp->boundary = malloc((R > 1 ? R - 1 : 1) * sizeof(double));
         gp->hv = calloc((size_t)NQ * J * (nm + 1) * 2, sizeof(double));
         gp->phase = calloc(nm * J, 1);
-        gp->run_start = calloc(nm * J, sizeof(int32_t));
-        gp->run_end = calloc(nm * J, sizeof(int32_t));
+        gp->runs = calloc(nm * J * 2, sizeof(int32_t));
+        gp->age_tab = calloc(nm * HRT_AGE_TAB, sizeof(uint16_t));
+        gp->age_tab_x = calloc(nm * 2, sizeof(double));
         gp->age_linear = calloc(nm + 1, 1);
         gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
+        gp->age_track = calloc(nm * J, sizeof(double));
         buf = malloc(nm * J * sizeof(double));
         ibuf = malloc((nm > R ? nm : R) * J * sizeof(int) + sizeof(int));
         if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_hv ||
-            !gp->boundary || !gp->hv || !gp->phase || !gp->run_start || !gp->run_end || !gp->age_linear || !gp->age_dx_max || !buf ||
+            !gp->boundary || !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_linear || !gp->age_dx_max || !gp->age_track || !buf ||
             !ibuf)
             rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory for %zu tracks", where, nm);
         else
-            g->bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) + nm * J * (1 + 2 * sizeof(int32_t));
+            g->bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) + nm * J * (1 + 2 * sizeof(int32_t) + sizeof(double)) +
+                        nm * HRT_AGE_TAB * sizeof(uint16_t);
     }
     hsize_t d1[1] = {nm};
     if (rc == HRT_OK)
@@ -531,7 +537,9 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
                                        j, v);
                     break;
                 }
-                gp->hv[(((size_t)q * J + (size_t)j) * (nm + 1) + i) * 2] = v;
+                *hrt_hv(gp, (size_t)j, i, q) = v;
+                if (q == Q_AGE)
+                    gp->age_track[i * J + (size_t)j] = v;
             }
         }
     }
@@ -664,10 +672,12 @@ void hrt_grid_free_contents(hrt_grid *g)
         free(gp->boundary);
         free(gp->hv);
         free(gp->phase);
-        free(gp->run_start);
-        free(gp->run_end);
+        free(gp->runs);
+        free(gp->age_tab);
+        free(gp->age_tab_x);
         free(gp->age_linear);
         free(gp->age_dx_max);
+        free(gp->age_track);
     }
     free(g->grp);
     for (size_t r = 0; r < g->n_routes; r++)

@@ -4,6 +4,7 @@
 
 #include <stdarg.h>
 #include <stddef.h>
+#include <math.h>
 #include <stdint.h>
 
 #include "hrtrail.h"
@@ -17,6 +18,8 @@ enum { Q_AGE = 0, Q_L, Q_TEFF, Q_MASS, Q_HE, Q_CO, NQ };
 /* Largest numbers the fixed-size scratch arrays on the stack allow. */
 #define HRT_MAX_ROUTES 8
 #define HRT_MAX_Z 64
+#define HRT_MAX_EEP 65535 /* EEPs per route (search tables hold 16-bit indices) */
+#define HRT_AGE_TAB 256   /* bins of the per-track log age -> EEP table */
 
 typedef struct route_layout {
     char *name;
@@ -37,13 +40,17 @@ typedef struct zgroup {
     double *remnant_hv;    /* [n_mass + 1][2] remnant mass value and slope across log mass */
     double *boundary;      /* [n_routes - 1] route-boundary masses, Msun */
     size_t route_lo[HRT_MAX_ROUTES], route_hi[HRT_MAX_ROUTES]; /* tracks [lo, hi) of each route */
-    /* [NQ][n_eep_max][n_mass + 1][2]: value and slope across log mass at each
-     * knot; the two knots of an interval share a cache line. */
+    /* [n_eep_max][n_mass + 1][NQ][2]: value and slope across log mass of
+     * every quantity at each knot; one query reads the 2 x NQ x 2 contiguous
+     * doubles of its interval at each EEP it touches.  See hrt_hv(). */
     double *hv;
     int8_t *phase;         /* [n_mass][n_eep_max] hrt_phase of the interval from EEP j */
-    int32_t *run_start;    /* [n_mass][n_eep_max] first EEP of the phase run containing j */
-    int32_t *run_end;      /* [n_mass][n_eep_max] first EEP after that run */
+    int32_t *runs;         /* [n_mass][n_eep_max][2] first EEP of the phase run containing j,
+                            * first EEP after it */
+    uint16_t *age_tab;     /* [n_mass][HRT_AGE_TAB] EEP at the start of each log-age bin */
+    double *age_tab_x;     /* [n_mass][2] first log age and bins per dex of the table */
     uint8_t *age_linear;   /* [n_mass] interval (i, i+1): cubic log age not monotone in EEP */
+    double *age_track;     /* [n_mass][n_eep_max] log age of each track, contiguous (search hints) */
     double *age_dx_max;    /* [n_mass][2] largest log-mass step below / above a track for which
                             * extrapolated log age stays increasing in EEP */
 } zgroup;
@@ -86,6 +93,8 @@ typedef struct qctx {
     double tz, hz;         /* fraction and width in [Fe/H] */
     int single;            /* the metallicity of one group: no Z interpolation */
     size_t g_near;         /* group nearest in [Fe/H] */
+    double zx[HRT_MAX_Z];  /* [Fe/H] of the stencil groups */
+    double zw[4];          /* Hermite weights across [Fe/H] in [g0, g0 + 1] */
     mctx m[HRT_MAX_Z];     /* indexed by group - g_lo */
     int n_eep;             /* EEPs of the interpolated star */
     int flags;
@@ -124,11 +133,27 @@ int hrt_bracket(const double *a, int n, double x); /* largest j with a[j] <= x, 
 void hrt_state_clear(hrt_state *s, double mass, double z, double age_yr);
 void hrt_state_finish(hrt_state *s);
 void hrt_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f);
-typedef double (*hrt_age_fn)(const void *src, int j);
-typedef void (*hrt_values_fn)(const void *src, int j, double v[NQS]);
-int hrt_state_at_generic(const qctx *q, const void *src, hrt_age_fn A, hrt_values_fn V, const int8_t *phases,
+/* Where a state's ages and values come from: the grid or a star's track. */
+typedef struct hrt_source {
+    double (*A)(const void *src, int j);              /* log10 age/yr at EEP j */
+    double (*T)(const void *src, int j);              /* age/yr at EEP j (hrt_exp10 of A) */
+    void (*V)(const void *src, int j, double v[NQS]); /* other quantities at EEP j */
+    int (*hint)(const void *src, double log_age);     /* a guess of the EEP, or NULL */
+} hrt_source;
+int hrt_state_at_generic(const qctx *q, const void *src, const hrt_source *S, const int8_t *phases,
                          const int32_t *runs, double age_yr, hrt_state *s);
 void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr);
+
+/* Value (p[0]) and slope (p[1]) of quantity q at EEP j, track i; the next
+ * track's pair is at p + 2 * NQ. */
+static inline double *hrt_hv(const zgroup *gp, size_t j, size_t i, int q)
+{
+    return gp->hv + ((j * (gp->n_mass + 1) + i) * NQ + (size_t)q) * 2;
+}
+
+/* 10^x: every age conversion goes through this one function, so the star
+ * and batch paths agree to the bit. */
+static inline double hrt_exp10(double x) { return exp(x * 2.302585092994045684); }
 
 /* Physics helpers */
 double hrt_log_r_from(double log_l, double log_teff);

@@ -9,6 +9,7 @@ struct hrt_star {
     qctx q;
     int n;            /* EEPs */
     double *age;      /* [n] log10 age/yr at each EEP */
+    double *age_yr;   /* [n] the same in yr */
     double *val;      /* [n][NQS] log L, log Teff, mass, He core, CO core */
     int8_t *phase;    /* [n] */
     int32_t *runs;    /* [n][2] first EEP of the phase run containing j, first EEP after it */
@@ -17,6 +18,8 @@ struct hrt_star {
 };
 
 static double star_age(const void *src, int j) { return ((const hrt_star *)src)->age[j]; }
+
+static double star_age_yr(const void *src, int j) { return ((const hrt_star *)src)->age_yr[j]; }
 
 static void star_vals(const void *src, int j, double v[NQS])
 {
@@ -29,6 +32,7 @@ void hrt_star_free(hrt_star *s)
     if (!s)
         return;
     free(s->age);
+    free(s->age_yr);
     free(s->val);
     free(s->phase);
     free(s->runs);
@@ -51,15 +55,17 @@ int hrt_star_new(const hrt_grid *g, double mass_msun, double z, hrt_star **star,
     int n = s->q.n_eep;
     s->n = n;
     s->age = malloc((size_t)n * sizeof(double));
+    s->age_yr = malloc((size_t)n * sizeof(double));
     s->val = malloc((size_t)n * NQS * sizeof(double));
     s->phase = malloc((size_t)n);
     s->runs = malloc((size_t)n * 2 * sizeof(int32_t));
-    if (!s->age || !s->val || !s->phase || !s->runs) {
+    if (!s->age || !s->age_yr || !s->val || !s->phase || !s->runs) {
         hrt_star_free(s);
         return hrt_set_error(err, HRT_E_NOMEM, "hrt_star_new: out of memory for %d EEPs", n);
     }
     for (int j = 0; j < n; j++) {
         s->age[j] = hrt_q_value(&s->q, Q_AGE, j);
+        s->age_yr[j] = hrt_exp10(s->age[j]);
         hrt_q_values(&s->q, j, s->val + (size_t)j * NQS);
         s->phase[j] = (int8_t)hrt_q_phase(&s->q, j);
         int js, je;
@@ -78,14 +84,15 @@ int hrt_star_at(const hrt_star *s, double age_yr, hrt_state *out)
 {
     if (!s || !out)
         return HRT_E_NULL;
-    return hrt_state_at_generic(&s->q, s, star_age, star_vals, s->phase, s->runs, age_yr, out);
+    static const hrt_source star_source = {star_age, star_age_yr, star_vals, NULL};
+    return hrt_state_at_generic(&s->q, s, &star_source, s->phase, s->runs, age_yr, out);
 }
 
 size_t hrt_star_n_eep(const hrt_star *s) { return s ? (size_t)s->n : 0; }
 int hrt_star_route(const hrt_star *s) { return s ? s->q.route : -1; }
 double hrt_star_mass(const hrt_star *s) { return s ? s->q.mass : NAN; }
 double hrt_star_z(const hrt_star *s) { return s ? s->q.z : NAN; }
-double hrt_star_end_age(const hrt_star *s) { return s ? pow(10.0, s->age[s->n - 1]) : NAN; }
+double hrt_star_end_age(const hrt_star *s) { return s ? (s->age_yr[s->n - 1]) : NAN; }
 
 int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
 {
@@ -93,7 +100,7 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
         return HRT_E_NULL;
     if (j >= (size_t)s->n)
         return HRT_E_INVALID;
-    hrt_state_clear(out, s->q.mass, s->q.z, pow(10.0, s->age[j]));
+    hrt_state_clear(out, s->q.mass, s->q.z, (s->age_yr[j]));
     out->route = s->q.route;
     out->flags = s->q.flags;
     out->remnant = s->remnant;
@@ -102,8 +109,8 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
     hrt_state_from_values(out, v, v, 0.0);
     out->eep = (double)j;
     out->phase = s->phase[j];
-    out->phase_start_yr = pow(10.0, s->age[s->runs[2 * j]]);
-    out->phase_end_yr = pow(10.0, s->age[s->runs[2 * j + 1]]);
+    out->phase_start_yr = (s->age_yr[s->runs[2 * j]]);
+    out->phase_end_yr = (s->age_yr[s->runs[2 * j + 1]]);
     double span = out->phase_end_yr - out->phase_start_yr;
     out->phase_fraction = span > 0.0 ? (out->age_yr - out->phase_start_yr) / span : 0.0;
     return HRT_OK;
@@ -128,7 +135,7 @@ int hrt_star_keypoint_age(const hrt_star *s, size_t k, double *age_yr)
     if (k >= L->n_kp)
         return HRT_E_INVALID;
     long j = L->kp_eep[k];
-    *age_yr = j < s->n ? pow(10.0, s->age[j]) : NAN;
+    *age_yr = j < s->n ? (s->age_yr[j]) : NAN;
     return HRT_OK;
 }
 
@@ -170,15 +177,15 @@ int hrt_star_phases(const hrt_star *s, hrt_phase_span *spans, size_t cap, size_t
         }                                             \
         k++;                                          \
     } while (0)
-    PUSH(HRT_PHASE_PRE_MS, 0.0, pow(10.0, s->age[0]));
+    PUSH(HRT_PHASE_PRE_MS, 0.0, (s->age_yr[0]));
     int j = 0;
     while (j < s->n - 1) {
         int je = s->runs[2 * j + 1];
-        PUSH(s->phase[j], pow(10.0, s->age[j]), pow(10.0, s->age[je]));
+        PUSH(s->phase[j], (s->age_yr[j]), (s->age_yr[je]));
         j = je > j ? je : j + 1;
     }
     if (s->remnant != HRT_REMNANT_NONE)
-        PUSH(remnant_phase(s->remnant), pow(10.0, s->age[s->n - 1]), INFINITY);
+        PUSH(remnant_phase(s->remnant), (s->age_yr[s->n - 1]), INFINITY);
 #undef PUSH
     *n = k;
     return k <= cap ? HRT_OK : HRT_E_BUFFER;

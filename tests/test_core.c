@@ -146,7 +146,7 @@ START_TEST(test_hot_path_equals_gsl)
         double x[64], y[64];
         for (size_t k = 0; k < n; k++) {
             x[k] = gp->logm[lo + k];
-            y[k] = gp->hv[(((size_t)Q_L * g->n_eep_max + j) * (gp->n_mass + 1) + lo + k) * 2];
+            y[k] = hrt_hv(gp, (size_t)j, lo + k, Q_L)[0];
         }
         gsl_interp *it = gsl_interp_alloc(gtype(t), n);
         gsl_interp_init(it, x, y, n);

@@ -1,0 +1,272 @@
+/* hrtrail core benchmarks: prints figures, asserts nothing about time.
+ *
+ *   bench [GRID.h5]      default: a synthetic grid of 6 metallicities x 50
+ *                        masses x ~600 EEPs written to a temporary file
+ *
+ * Figures: hrt_eval at one grid metallicity and at random Z, hrt_star_at,
+ * hrt_isochrone, grid open, 2 threads against 1, growth with 10x masses,
+ * and (when NUMPY_BENCH names tests/bench/numpy_bench.py) the ratio to a
+ * vectorised NumPy/SciPy implementation on the same file. */
+#include <math.h>
+#include <pthread.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "hrtrail.h"
+#include "synth.h"
+
+static double now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return ts.tv_sec + 1e-9 * ts.tv_nsec;
+}
+
+/* xorshift: deterministic inputs, no shared state. */
+static double urand(unsigned long long *s)
+{
+    *s ^= *s << 13;
+    *s ^= *s >> 7;
+    *s ^= *s << 17;
+    return (*s >> 11) * (1.0 / 9007199254740992.0);
+}
+
+typedef struct batch {
+    size_t n;
+    double *m, *z, *age;
+    hrt_state *out;
+} batch;
+
+/* Random stars in the grid's mass range, ages up to about the end of each
+ * star's track (so the mix covers every phase, as a population does). */
+static void make_batch(const hrt_grid *g, batch *b, size_t n, int random_z, unsigned long long seed)
+{
+    b->n = n;
+    b->m = malloc(n * sizeof(double));
+    b->z = malloc(n * sizeof(double));
+    b->age = malloc(n * sizeof(double));
+    b->out = malloc(n * sizeof(hrt_state));
+    size_t iz = hrt_grid_n_z(g) / 2;
+    double z0 = hrt_grid_z(g, iz), zlo, zhi;
+    hrt_grid_z_range(g, &zlo, &zhi);
+    for (size_t i = 0; i < n; i++) {
+        double z = random_z ? zlo * pow(zhi / zlo, urand(&seed)) : z0, lo, hi;
+        hrt_grid_mass_range(g, z, &lo, &hi);
+        b->z[i] = z;
+        b->m[i] = lo * pow(hi / lo, urand(&seed));
+        /* log-uniform age between 1e6 yr and 1.3x the star's end age */
+        hrt_state s;
+        double probe = 1e13;
+        hrt_eval(g, 1, &b->m[i], &b->z[i], 0, &probe, &s, NULL);
+        double tend = isfinite(s.phase_start_yr) ? s.phase_start_yr * 1.3 : 2e10;
+        b->age[i] = 1e6 * pow(tend / 1e6, urand(&seed));
+    }
+}
+
+static void free_batch(batch *b)
+{
+    free(b->m);
+    free(b->z);
+    free(b->age);
+    free(b->out);
+}
+
+static double time_eval(const hrt_grid *g, batch *b, int reps)
+{
+    double best = 1e30;
+    for (int r = 0; r < reps; r++) {
+        double t0 = now();
+        hrt_eval(g, b->n, b->m, b->z, 0, b->age, b->out, NULL);
+        double t = now() - t0;
+        if (t < best)
+            best = t;
+    }
+    return best / b->n * 1e9;
+}
+
+typedef struct thr_arg {
+    const hrt_grid *g;
+    batch *b;
+    size_t lo, hi;
+} thr_arg;
+
+static void *thr_main(void *p)
+{
+    thr_arg *a = p;
+    hrt_eval(a->g, a->hi - a->lo, a->b->m + a->lo, a->b->z + a->lo, 0, a->b->age + a->lo, a->b->out + a->lo, NULL);
+    return NULL;
+}
+
+static double time_threads(const hrt_grid *g, batch *b, int nt)
+{
+    double best = 1e30;
+    for (int r = 0; r < 3; r++) {
+        pthread_t th[8];
+        thr_arg a[8];
+        double t0 = now();
+        for (int k = 0; k < nt; k++) {
+            a[k] = (thr_arg){g, b, b->n * k / nt, b->n * (k + 1) / nt};
+            pthread_create(&th[k], NULL, thr_main, &a[k]);
+        }
+        for (int k = 0; k < nt; k++)
+            pthread_join(th[k], NULL);
+        double t = now() - t0;
+        if (t < best)
+            best = t;
+    }
+    return best;
+}
+
+static hrt_grid *open_timed(const char *path, double *ms)
+{
+    hrt_grid *g = NULL;
+    hrt_error e;
+    double best = 1e30;
+    for (int r = 0; r < 5; r++) {
+        if (g)
+            hrt_grid_close(g);
+        double t0 = now();
+        if (hrt_grid_open(path, &g, &e) != HRT_OK) {
+            fprintf(stderr, "bench: %s\n", e.message);
+            exit(1);
+        }
+        double t = now() - t0;
+        if (t < best)
+            best = t;
+    }
+    *ms = best * 1e3;
+    return g;
+}
+
+int main(int argc, char **argv)
+{
+    char tmp[] = "/tmp/hrt-bench-XXXXXX";
+    char path[128], path10[128];
+    const char *grid = argc > 1 ? argv[1] : NULL;
+    if (!mkdtemp(tmp))
+        return 1;
+    hrt_error e;
+    synth_spec s = {20, 30, 6, 10, 1, 0.3, 1.0, 100.0}; /* 50 masses, 501 and 601 EEPs */
+    if (!grid) {
+        snprintf(path, sizeof path, "%s/synth-6x50x600.h5", tmp);
+        if (synth_write(&s, path, &e)) {
+            fprintf(stderr, "bench: %s\n", e.message);
+            return 1;
+        }
+        grid = path;
+    }
+    snprintf(path10, sizeof path10, "%s/synth-6x500x600.h5", tmp);
+    synth_spec s10 = s;
+    s10.n_low *= 10;
+    s10.n_high *= 10;
+    if (synth_write(&s10, path10, &e)) {
+        fprintf(stderr, "bench: %s\n", e.message);
+        return 1;
+    }
+
+    double open_ms;
+    hrt_grid *g = open_timed(grid, &open_ms);
+    size_t nm = 0;
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++)
+        nm += hrt_grid_n_masses(g, iz);
+    printf("grid: %s\n  %zu metallicities, %zu tracks, %zu EEPs max, %.1f MB in memory\n", grid, hrt_grid_n_z(g), nm,
+           hrt_grid_route_n_eep(g, hrt_grid_n_routes(g) - 1), hrt_grid_memory_bytes(g) / 1e6);
+    printf("open + validate + precompute          %8.2f ms   (target <= 50 ms)\n", open_ms);
+
+    const size_t N = 1000000;
+    batch b1, bz;
+    make_batch(g, &b1, N, 0, 1234567);
+    make_batch(g, &bz, N, 1, 7654321);
+    double ns1 = time_eval(g, &b1, 5), nsz = time_eval(g, &bz, 3);
+    printf("hrt_eval, one grid Z, full state      %8.1f ns/star (target <= 150)\n", ns1);
+    printf("hrt_eval, random Z between groups     %8.1f ns/star (target <= 400)\n", nsz);
+
+    /* One star at random ages. */
+    hrt_star *st;
+    hrt_star_new(g, 2.0, hrt_grid_z(g, 2), &st, NULL);
+    double tend = hrt_star_end_age(st);
+    unsigned long long seed = 99;
+    double *ages = malloc(N * sizeof(double));
+    for (size_t i = 0; i < N; i++)
+        ages[i] = 1e6 * pow(tend * 1.2 / 1e6, urand(&seed));
+    hrt_state out;
+    double best = 1e30, sink = 0.0;
+    for (int r = 0; r < 5; r++) {
+        double t0 = now();
+        for (size_t i = 0; i < N; i++) {
+            hrt_star_at(st, ages[i], &out);
+            sink += out.log_l;
+        }
+        double t = now() - t0;
+        if (t < best)
+            best = t;
+    }
+    printf("hrt_star_at, one star, random ages    %8.1f ns/call (target <= 40)\n", best / N * 1e9);
+    hrt_star_free(st);
+
+    /* Isochrone at one age. */
+    size_t cap = 100000, n;
+    hrt_state *iso = malloc(cap * sizeof *iso);
+    best = 1e30;
+    for (int r = 0; r < 10; r++) {
+        double t0 = now();
+        hrt_isochrone(g, 1e9, hrt_grid_z(g, 2), iso, cap, &n, NULL);
+        double t = now() - t0;
+        if (t < best)
+            best = t;
+    }
+    printf("hrt_isochrone, 1 Gyr, grid Z          %8.3f ms   (%zu points; target <= 0.5 ms)\n", best * 1e3, n);
+    free(iso);
+
+    double t1 = time_threads(g, &b1, 1), t2 = time_threads(g, &b1, 2);
+    printf("2 threads against 1 (shared grid)     %8.2f x    (target >= 1.7; %ld cores online)\n", t1 / t2,
+           sysconf(_SC_NPROCESSORS_ONLN));
+
+    double open10;
+    hrt_grid *g10 = open_timed(path10, &open10);
+    batch b10;
+    make_batch(g10, &b10, N, 0, 1234567);
+    batch b1s;
+    make_batch(g, &b1s, N, 0, 1234567);
+    double ns_base = time_eval(g, &b1s, 5), ns10 = time_eval(g10, &b10, 5);
+    printf("10x more masses (%zu tracks): cost    %8.2f x    (target <= 1.5; open %.1f ms)\n",
+           hrt_grid_n_masses(g10, 0) * hrt_grid_n_z(g10), ns10 / ns_base, open10);
+    hrt_grid_close(g10);
+    free_batch(&b10);
+    free_batch(&b1s);
+
+    /* NumPy/SciPy version of the same query on the same file. */
+    const char *npb = getenv("NUMPY_BENCH");
+    if (npb && *npb) {
+        char cmd[1024];
+        snprintf(cmd, sizeof cmd, "/usr/bin/python3 %s %s %zu 2>/dev/null", npb, grid, (size_t)200000);
+        FILE *p = popen(cmd, "r");
+        double npns = -1.0;
+        char line[512];
+        while (p && fgets(line, sizeof line, p)) {
+            double v;
+            if (sscanf(line, "RESULT numpy_ns_per_star %lf", &v) == 1)
+                npns = v;
+        }
+        if (p)
+            pclose(p);
+        if (npns > 0)
+            printf("NumPy/SciPy PCHIP, vectorised         %8.1f ns/star -> hrtrail %.0fx faster (target >= 50)\n",
+                   npns, npns / ns1);
+        else
+            printf("NumPy/SciPy comparison: %s printed no ns_per_star line\n", npb);
+    }
+    printf("(checksum %g)\n", sink);
+    free(ages);
+    free_batch(&b1);
+    free_batch(&bz);
+    hrt_grid_close(g);
+    unlink(path10);
+    if (grid == path)
+        unlink(path);
+    rmdir(tmp);
+    return 0;
+}
