@@ -20,6 +20,11 @@ masses between the knots, for every interpolation type, and compared with:
 
 Tolerance: 1e-10 dex, absolute.
 
+A second grid adds a smooth, non-linear function of mass to every track's log ages
+(shorter lives at higher mass), so that the age inversion itself goes through the
+kernel: log age at EEP j is then LOG_AGE[j] + G(x) with G the same kernel's
+interpolant, and a star asked for the age of fractional EEP e must land there.
+
 Knots: x = log10(initial mass) by the C library's log10 (math.log10), as hrtrail
 computes it; NumPy's SIMD log10 differs from it in the last bit for about 10 % of
 arguments on this machine, which matters for the Akima corner below.
@@ -99,11 +104,17 @@ def log_teff_table():
     return 3.62 + 0.28 * X[:, None] + 0.03 * np.cos(7.0 * X[:, None] + 0.4 * j) - 0.004 * j
 
 
-def write_test_grid(path):
+def age_shift(x):
+    """Mass-dependent part of log age for the second grid: shorter lives at higher mass."""
+    return -2.5 * (x - X[0]) + 0.04 * np.sin(6.0 * x + 0.3)
+
+
+def write_test_grid(path, shift_ages=False):
     s = np.arange(N_EEP) / (N_EEP - 1)
     ll, lt = log_l_table(), log_teff_table()
+    g = age_shift(X) if shift_ages else np.zeros(X.size)
     tracks = [{"initial_mass": m, "route": 0, "remnant": "co_wd", "remnant_mass": 0.55 + 0.05 * m,
-               "log_age": LOG_AGE, "log_L": ll[i], "log_Teff": lt[i], "mass": m * (1 - 0.05 * s),
+               "log_age": LOG_AGE + g[i], "log_L": ll[i], "log_Teff": lt[i], "mass": m * (1 - 0.05 * s),
                "he_core_mass": 0.1 * m * s, "co_core_mass": 0.02 * m * s ** 2, "phase": PHASES}
               for i, m in enumerate(MASSES)]
     W.write_grid(path, Z_REF, [{"name": "giant", "keypoint_names": KEYPOINTS,
@@ -130,6 +141,10 @@ SCIPY_REFERENCE = {
     "linear": lambda x, y: (lambda q: np.interp(q, x, y)),          # reference: NumPy 1.24 numpy.interp
     "steffen": steffen_1990,                                         # reference: Steffen 1990 eq. 11 (own NumPy)
 }
+
+
+SCIPY_NAMES = {"cspline": "SciPy 1.10 CubicSpline natural", "akima": "SciPy 1.10 Akima1DInterpolator",
+               "linear": "NumPy 1.24 interp", "steffen": "Steffen 1990 eq. 11 (NumPy)"}
 
 
 class Gsl:
@@ -191,12 +206,14 @@ def blended(ref_rows, eep):
 
 
 def setUpModule():
-    global LIB, GSL, TMP, GRID, LOG_L, LOG_TEFF
+    global LIB, GSL, TMP, GRID, GRID_AGES, LOG_L, LOG_TEFF
     GSL = Gsl()  # before the library is used, so that its handler watches every call
     LIB = H.load()
     TMP = tempfile.TemporaryDirectory(prefix="hrtrail-ref-")
     GRID = os.path.join(TMP.name, "spline_ref.h5")
     LOG_L, LOG_TEFF = write_test_grid(GRID)
+    GRID_AGES = os.path.join(TMP.name, "spline_ref_ages.h5")
+    write_test_grid(GRID_AGES, shift_ages=True)
 
 
 def tearDownModule():
@@ -218,8 +235,8 @@ class SplineKernels(unittest.TestCase):
         self.assertEqual(GSL.calls[self.gsl_calls_before:], [],
                          "the library let GSL reach its error handler")
 
-    def run_library(self, interp, mass, age):
-        g = H.open_grid(LIB, GRID, interp)
+    def run_library(self, interp, mass, age, grid=None):
+        g = H.open_grid(LIB, grid or GRID, interp)
         try:
             self.assertEqual(LIB.hrt_grid_interp(g), H.HRT_INTERP[interp])
             rc, msg, st = H.evaluate(LIB, g, mass, age, Z)
@@ -309,6 +326,37 @@ class SplineKernels(unittest.TestCase):
                     k = np.arange(n)
                     want = (1 - f) * rl[j0, k] + f * rl[j0 + 1, k]
                     self.assertLess(np.max(np.abs(st["log_l"] - want)), TOL_DEX)
+
+    def test_mass_dependent_ages(self):
+        """Second grid: log_age[i, j] = LOG_AGE[j] + g(x_i) with a smooth, non-linear g.
+
+        Interpolated across mass by any of the four types, log age at EEP j is then
+        LOG_AGE[j] + G(x), G the same type's interpolant of g (the constant part passes
+        through every kernel unchanged).  A star asked for the age 10**(A(e) + G(x)),
+        A the piecewise-linear LOG_AGE, must land on fractional EEP e, and its log_L
+        must be the blend of the reference splines of log_L at floor(e) and floor(e)+1."""
+        rng = np.random.default_rng(13)
+        n = 3000
+        mq = 10.0 ** rng.uniform(X[0], X[-1], n)
+        xq = log10_libm(mq)
+        e = rng.uniform(0.01, N_EEP - 1.01, n)
+        j0 = np.floor(e).astype(int)
+        f = e - j0
+        for interp in ("steffen", "linear", "cspline", "akima"):
+            with self.subTest(interp=interp):
+                make = SCIPY_REFERENCE[interp]
+                la = np.interp(e, np.arange(N_EEP), LOG_AGE) + make(X, age_shift(X))(xq)
+                st = self.run_library(interp, mq, 10.0 ** la, grid=GRID_AGES)
+                self.assertLess(np.max(np.abs(st["eep"] - e)), TOL_EEP)
+                rl = np.array([make(X, LOG_L[:, j])(xq) for j in range(N_EEP)])
+                k = np.arange(n)
+                want = (1 - f) * rl[j0, k] + f * rl[j0 + 1, k]
+                d = np.abs(st["log_l"] - want)
+                if interp == "akima":  # the corner of EEP KINK_EEP: see the module note
+                    d[((j0 == KINK_EEP) | (j0 + 1 == KINK_EEP))
+                      & (xq > X[KINK_KNOT - 1]) & (xq < X[KINK_KNOT + 1])] = 0.0
+                self.summary["%s, mass-dependent ages (%s)" % (SCIPY_NAMES[interp], interp)] = d.max()
+                self.assertLess(d.max(), TOL_DEX)
 
     def test_derived_quantities(self):
         """log R from L and Teff, log g from the current mass and R, phase of the EEP."""
