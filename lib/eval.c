@@ -373,9 +373,10 @@ void hrt_state_from_values(hrt_state *s, const double v0[NQS], const double v1[N
         v[k] = f == 0.0 ? v0[k] : v0[k] + f * (v1[k] - v0[k]);
     s->log_l = v[Q_L - 1];
     s->log_teff_k = v[Q_TEFF - 1];
-    s->mass_msun = v[Q_MASS - 1];
-    s->he_core_msun = v[Q_HE - 1];
-    s->co_core_msun = v[Q_CO - 1];
+    double m0 = s->initial_mass_msun; /* masses are stored as fractions of it */
+    s->mass_msun = m0 * v[Q_MASS - 1];
+    s->he_core_msun = m0 * v[Q_HE - 1];
+    s->co_core_msun = m0 * v[Q_CO - 1];
     s->log_r = hrt_log_r_from(s->log_l, s->log_teff_k);
     s->log_g_cgs = hrt_log_g_from(s->mass_msun, s->log_r);
 }

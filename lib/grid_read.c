@@ -537,7 +537,9 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
                                        j, v);
                     break;
                 }
-                *hrt_hv(gp, (size_t)j, i, q) = v;
+                /* Masses are interpolated as fractions of the initial mass,
+                 * so a star without mass loss keeps its mass exactly. */
+                *hrt_hv(gp, (size_t)j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
                 if (q == Q_AGE)
                     gp->age_track[i * J + (size_t)j] = v;
             }

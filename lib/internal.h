@@ -13,6 +13,8 @@
  * they are stored in hrt_grid.  R is not among them: it follows from L and
  * Teff by the Stefan-Boltzmann law, so every state is consistent. */
 enum { Q_AGE = 0, Q_L, Q_TEFF, Q_MASS, Q_HE, Q_CO, NQ };
+/* Q_MASS, Q_HE and Q_CO are stored and interpolated as fractions of the
+ * initial mass. */
 #define NQS (NQ - 1) /* quantities other than log age */
 
 /* Largest numbers the fixed-size scratch arrays on the stack allow. */
