@@ -143,6 +143,7 @@ typedef enum hrt_phase {
     HRT_PHASE_WR = 12,           /**< Wolf-Rayet (stripped, hot) */
     HRT_PHASE_NS = 13,           /**< neutron star */
     HRT_PHASE_BH = 14,           /**< black hole */
+    HRT_PHASE_POST_RGB = 15,     /**< contraction of a stripped giant to a helium white dwarf */
     HRT_PHASE_COUNT
 } hrt_phase;
 

@@ -64,10 +64,11 @@ static const char phase_names[HRT_PHASE_COUNT][48] = {
     "Wolf-Rayet",
     "neutron star",
     "black hole",
+    "post-RGB contraction",
 };
 static const char phase_keys[HRT_PHASE_COUNT][12] = {
     "unknown", "pre_ms", "ms", "subgiant", "rgb", "cheb", "eagb", "tpagb",
-    "post_agb", "wd", "bsg", "rsg", "wr", "ns", "bh",
+    "post_agb", "wd", "bsg", "rsg", "wr", "ns", "bh", "post_rgb",
 };
 
 const char *hrt_phase_name(int phase)

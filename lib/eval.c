@@ -313,7 +313,8 @@ void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
         const mctx *m = &q->m[k - q->g_lo];
         for (int s = 0; s < 2; s++) {
             size_t t = m->i + (size_t)s;
-            if ((m->w[2 * s] != 0.0 || m->w[2 * s + 1] != 0.0) && m->gp->remnant[t] != k0)
+            if ((m->w[2 * s] != 0.0 || m->w[2 * s + 1] != 0.0) &&
+                hrt_remnant_family(m->gp->remnant[t]) != hrt_remnant_family(k0))
                 same = 0;
         }
     }

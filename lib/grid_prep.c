@@ -138,12 +138,13 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
             }
         }
     }
-    /* Remnant masses: runs of consecutive tracks of one route with the same kind. */
+    /* Remnant masses: runs of consecutive tracks of one route with remnants
+     * of the same family. */
     for (size_t r = 0; r < g->n_routes; r++) {
         size_t i = gp->route_lo[r];
         while (i < gp->route_hi[r]) {
             size_t a = i;
-            while (i < gp->route_hi[r] && gp->remnant[i] == gp->remnant[a])
+            while (i < gp->route_hi[r] && hrt_remnant_family(gp->remnant[i]) == hrt_remnant_family(gp->remnant[a]))
                 i++;
             if (gp->remnant[a] == HRT_REMNANT_NONE)
                 continue;

@@ -102,6 +102,16 @@ typedef struct qctx {
     int flags;
 } qctx;
 
+/* Remnant masses are interpolated between tracks of one family: all white
+ * dwarfs (helium, CO, ONe) form one, so the mass is continuous where the
+ * composition changes; neutron stars and black holes are each their own. */
+static inline int hrt_remnant_family(int kind)
+{
+    return (kind == HRT_REMNANT_HE_WD || kind == HRT_REMNANT_CO_WD || kind == HRT_REMNANT_ONE_WD)
+               ? HRT_REMNANT_CO_WD
+               : kind;
+}
+
 /* errors.c */
 int hrt_set_error(hrt_error *err, int code, const char *fmt, ...)
 #if defined(__GNUC__)

@@ -572,8 +572,8 @@ static void route_low(ctx *c)
         push(c, age, logl, logt, m, mc, 0.0, ph);
     }
     keypoint(c); /* envelope_loss */
-    set_last_phase(c, HRT_PHASE_POST_AGB);
-    seg_to_wd(c, m_wd, env_end, HRT_PHASE_POST_AGB, 0.0);
+    set_last_phase(c, HRT_PHASE_POST_RGB);
+    seg_to_wd(c, m_wd, env_end, HRT_PHASE_POST_RGB, 0.0);
     c->t->remnant = HRT_REMNANT_HE_WD;
     c->t->remnant_mass = m_wd;
 }

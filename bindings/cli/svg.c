@@ -43,6 +43,7 @@ static const phase_style styles[HRT_PHASE_COUNT] = {
     [HRT_PHASE_WR] = {"#d9558f", "1 1", SH_OPEN_RHOMB},
     [HRT_PHASE_NS] = {"#202020", "", SH_STAR},
     [HRT_PHASE_BH] = {"#000000", "", SH_STAR},
+    [HRT_PHASE_POST_RGB] = {"#7fbf7b", "12 4", SH_PLUS},
 };
 
 static const phase_style *style_of(int ph)

@@ -31,7 +31,7 @@ import h5py
 import numpy as np
 
 PHASE_KEYS = ["pre_ms", "ms", "subgiant", "rgb", "cheb", "eagb", "tpagb", "post_agb",
-              "wd", "bsg", "rsg", "wr", "ns", "bh"]
+              "wd", "bsg", "rsg", "wr", "ns", "bh", "post_rgb"]
 REMNANT_KEYS = ["none", "he_wd", "co_wd", "one_wd", "ns", "bh"]
 TEFF_SUN_K = 5772.0  # nominal solar Teff, IAU 2015 Resolution B3
 QUANTITIES = [("log_age", "log10 yr"), ("log_L", "log10 Lsun"), ("log_Teff", "log10 K"),
