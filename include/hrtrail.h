@@ -535,6 +535,21 @@ HRT_API int hrt_builder_set_attribute(hrt_builder *b, const char *name, const ch
  */
 HRT_API int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err);
 
+/* ------------------------------------------------------------------------
+ * Importing text tracks (hrt_import_*)
+ * ------------------------------------------------------------------------ */
+/* @section import */
+
+/* ------------------------------------------------------------------------
+ * Populations: sampling, parallel evaluation, summaries (hrt_pop_*)
+ * ------------------------------------------------------------------------ */
+/* @section population */
+
+/* ------------------------------------------------------------------------
+ * An observed star: fitting and forecasting (hrt_fit_*, hrt_forecast_*)
+ * ------------------------------------------------------------------------ */
+/* @section fit */
+
 #ifdef __cplusplus
 }
 #endif

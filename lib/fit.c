@@ -1,0 +1,2 @@
+/* hrtrail: fit (being written). */
+#include "internal.h"

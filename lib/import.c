@@ -1,0 +1,2 @@
+/* hrtrail: import (being written). */
+#include "internal.h"

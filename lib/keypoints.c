@@ -1,0 +1,2 @@
+/* hrtrail: keypoints (being written). */
+#include "internal.h"

@@ -1,0 +1,2 @@
+/* hrtrail: population (being written). */
+#include "internal.h"
