@@ -17,7 +17,7 @@ double hrt_log_r_from(double log_l, double log_teff)
     return 0.5 * log_l - 2.0 * (log_teff - LOG_TEFF_SUN);
 }
 
-double hrt_log_g_from(double mass_msun, double log_r) { return LOG_G_SUN_CGS + log10(mass_msun) - 2.0 * log_r; }
+double hrt_log_g_from(double mass_msun, double log_r) { return LOG_G_SUN_CGS + hrt_log10(mass_msun) - 2.0 * log_r; }
 
 /* Mass context of one group for route r at log mass x. */
 int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
@@ -59,10 +59,15 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
     }
     m->i = a;
     hrt_hermite_weights(g->interp, lm[a], lm[a + 1], x, m->w);
-    if (gp->age_linear[a])
-        hrt_hermite_weights(HRT_INTERP_LINEAR, lm[a], lm[a + 1], x, m->wa);
-    else
+    double lam = gp->age_lambda[a];
+    if (lam < 1.0) {
+        double wl[4];
+        hrt_hermite_weights(HRT_INTERP_LINEAR, lm[a], lm[a + 1], x, wl);
+        for (int c = 0; c < 4; c++)
+            m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
+    } else {
         memcpy(m->wa, m->w, sizeof m->w);
+    }
     m->near = (x - lm[a] <= lm[a + 1] - x) ? a : a + 1;
     if (x == lm[a])
         m->n_eep = gp->n_eep[a];
@@ -110,7 +115,7 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
         q->hz = 1.0;
         q->g_near = g0;
     } else {
-        q->feh = log10(z / g->z_ref);
+        q->feh = hrt_log10(z / g->z_ref);
         q->hz = g->grp[g0 + 1].feh - g->grp[g0].feh;
         q->tz = (q->feh - g->grp[g0].feh) / q->hz;
         q->g_near = q->tz <= 0.5 ? g0 : g0 + 1;
@@ -168,7 +173,7 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
     }
     q->g_lo = s_lo;
     q->g_hi = s_hi;
-    double x = log10(mass);
+    double x = hrt_log10(mass);
     int ne = 1 << 30;
     for (size_t k = s_lo; k <= s_hi; k++) {
         mctx *m = &q->m[k - s_lo];
@@ -193,8 +198,12 @@ static inline double group_value(const qctx *q, size_t k, int qn, int j)
 {
     const mctx *m = &q->m[k - q->g_lo];
     const zgroup *gp = m->gp;
+    if (qn == Q_AGE) {
+        const double *a = gp->age_iv + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->wa;
+        return w[0] * a[0] + w[1] * a[1] + w[2] * a[2] + w[3] * a[3];
+    }
     const double *p = hrt_hv(gp, (size_t)j, m->i, qn);
-    const double *w = qn == Q_AGE ? m->wa : m->w;
+    const double *w = m->w;
     return w[0] * p[0] + w[1] * p[1] + w[2] * p[2 * NQ] + w[3] * p[2 * NQ + 1];
 }
 
@@ -254,6 +263,13 @@ double hrt_q_value(const qctx *q, int qn, int j)
 
 void hrt_q_values(const qctx *q, int j, double v[NQS])
 {
+    if (q->single) {
+        const mctx *m = &q->m[q->g0 - q->g_lo];
+        const double *p = hrt_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        for (int c = 0; c < NQS; c++)
+            v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
+        return;
+    }
     /* All quantities of a group at once: their knot data are contiguous. */
     double ys[NQS][HRT_MAX_Z];
     size_t n = q->single ? 1 : q->g_hi - q->g_lo + 1;
@@ -306,8 +322,27 @@ void hrt_q_phase_run(const qctx *q, int j, int *js, int *je)
 
 void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
 {
-    size_t gb = q->single ? q->g0 : q->g0 + 1;
     const mctx *mn = near_track(q);
+    if (q->single) {
+        /* the common case: one group, two knots */
+        const zgroup *gp = mn->gp;
+        size_t i = mn->i;
+        int k0 = gp->remnant[mn->near];
+        *kind = k0;
+        int f0 = hrt_remnant_family(k0);
+        int use0 = mn->w[0] != 0.0 || mn->w[1] != 0.0, use1 = mn->w[2] != 0.0 || mn->w[3] != 0.0;
+        if (k0 == HRT_REMNANT_NONE) {
+            *mass_msun = NAN;
+        } else if ((use0 && hrt_remnant_family(gp->remnant[i]) != f0) ||
+                   (use1 && hrt_remnant_family(gp->remnant[i + 1]) != f0)) {
+            *mass_msun = gp->remnant_hv[2 * mn->near];
+        } else {
+            const double *p = gp->remnant_hv + 2 * i, *w = mn->w;
+            *mass_msun = w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3];
+        }
+        return;
+    }
+    size_t gb = q->g0 + 1;
     int k0 = mn->gp->remnant[mn->near], same = 1;
     for (size_t k = q->g0; k <= gb; k++) {
         const mctx *m = &q->m[k - q->g_lo];
@@ -399,7 +434,7 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
     case HRT_REMNANT_ONE_WD:
         s->phase = HRT_PHASE_WD;
         s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, s->age_yr - t_last_yr);
-        s->log_r = log10(hrt_wd_radius_rsun(rem_mass));
+        s->log_r = hrt_log10(hrt_wd_radius_rsun(rem_mass));
         s->log_teff_k = LOG_TEFF_SUN + 0.25 * (s->log_l - 2.0 * s->log_r);
         s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
         s->he_core_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
@@ -408,7 +443,7 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
     case HRT_REMNANT_NS:
         s->phase = HRT_PHASE_NS;
         s->flags |= HRT_FLAG_DARK;
-        s->log_r = log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
+        s->log_r = hrt_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
         s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
         s->log_l = s->log_teff_k = NAN;
         s->he_core_msun = s->co_core_msun = NAN;
@@ -422,14 +457,39 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
     }
 }
 
-static double q_age(const void *src, int j) { return hrt_q_value(src, Q_AGE, j); }
-static double q_age_yr(const void *src, int j) { return hrt_exp10(hrt_q_value(src, Q_AGE, j)); }
-static void q_vals(const void *src, int j, double v[NQS]) { hrt_q_values(src, j, v); }
-static int q_hint(const void *src, double lt)
+/* Log age at EEP j from the grid: linear in [Fe/H] between two groups. */
+static inline double grid_age(const qctx *q, int j)
 {
-    /* Bracket in the nearest track's own (contiguous) ages: the
-     * interpolated star's EEP is within a few of it. */
-    const qctx *q = src;
+    if (q->single)
+        return group_value(q, q->g0, Q_AGE, j);
+    return (1.0 - q->tz) * group_value(q, q->g0, Q_AGE, j) + q->tz * group_value(q, q->g0 + 1, Q_AGE, j);
+}
+
+/* Where a state's ages and values come from: a star's stored track (S
+ * non-NULL) or the grid. Both give the same numbers for the same EEP, so
+ * hrt_star_at and hrt_eval agree to the bit. */
+static inline double src_age(const qctx *q, const hrt_track_arrays *S, int j)
+{
+    return S ? S->age[j] : grid_age(q, j);
+}
+
+static inline double src_age_yr(const qctx *q, const hrt_track_arrays *S, int j)
+{
+    return S ? S->age_yr[j] : hrt_exp10(grid_age(q, j));
+}
+
+static inline void src_values(const qctx *q, const hrt_track_arrays *S, int j, double v[NQS])
+{
+    if (S)
+        memcpy(v, S->val + (size_t)j * NQS, NQS * sizeof(double));
+    else
+        hrt_q_values(q, j, v);
+}
+
+/* A starting EEP for the search: the bracket of log age lt in the
+ * nearest track's own log age -> EEP table. */
+static int q_hint(const qctx *q, double lt)
+{
     const mctx *m = &q->m[q->g_near - q->g_lo];
     const double *x = m->gp->age_tab_x + 2 * m->near;
     double k = (lt - x[0]) * x[1];
@@ -440,25 +500,36 @@ static int q_hint(const void *src, double lt)
     return m->gp->age_tab[m->near * HRT_AGE_TAB + (size_t)k];
 }
 
-static const hrt_source grid_source = {q_age, q_age_yr, q_vals, q_hint};
-
-/* Largest j in [0, n - 2] with A(j) <= lt, given A(0) <= lt < A(n - 1):
- * galloping from the hint, then bisection.  Ages increase with EEP, so the
- * answer does not depend on the hint. */
-static int find_eep(const hrt_source *S, const void *src, int n, double lt, double a_first, double a_last,
+/* Largest j in [0, n - 2] with A(j) <= lt, given A(0) <= lt < A(n - 1).
+ * Ages increase with EEP, so the answer is unique: a star's stored track
+ * is bisected, the grid is searched by galloping from a hint. */
+static int find_eep(const qctx *q, const hrt_track_arrays *S, int n, double lt, double a_first, double a_last,
                     double *a_lo, double *a_hi)
 {
     int lo = 0, hi = n - 1;
     double alo = a_first, ahi = a_last;
-    int j = S->hint ? S->hint(src, lt) : -1;
+    if (S) {
+        const double *a = S->age;
+        while (hi - lo > 1) {
+            int c = lo + (hi - lo) / 2;
+            if (a[c] <= lt)
+                lo = c;
+            else
+                hi = c;
+        }
+        *a_lo = a[lo];
+        *a_hi = a[hi];
+        return lo;
+    }
+    int j = q_hint(q, lt);
     if (j >= 0 && j <= n - 2) {
-        double aj = S->A(src, j);
+        double aj = grid_age(q, j);
         if (aj <= lt) {
             lo = j;
             alo = aj;
             for (int step = 1; lo + step < n - 1; step *= 2) {
                 int c = lo + step;
-                double ac = S->A(src, c);
+                double ac = grid_age(q, c);
                 if (ac <= lt) {
                     lo = c;
                     alo = ac;
@@ -473,7 +544,7 @@ static int find_eep(const hrt_source *S, const void *src, int n, double lt, doub
             ahi = aj;
             for (int step = 1; hi - step > 0; step *= 2) {
                 int c = hi - step;
-                double ac = S->A(src, c);
+                double ac = grid_age(q, c);
                 if (ac > lt) {
                     hi = c;
                     ahi = ac;
@@ -487,7 +558,7 @@ static int find_eep(const hrt_source *S, const void *src, int n, double lt, doub
     }
     while (hi - lo > 1) {
         int c = lo + (hi - lo) / 2;
-        double ac = S->A(src, c);
+        double ac = grid_age(q, c);
         if (ac <= lt) {
             lo = c;
             alo = ac;
@@ -501,11 +572,8 @@ static int find_eep(const hrt_source *S, const void *src, int n, double lt, doub
     return lo;
 }
 
-/* The state of the (mass, Z) star of q at age t.  Ages and values come from
- * the grid (hrt_eval) or from a star's stored track (hrt_star_at): one code
- * path, so both give the same bits. */
-int hrt_state_at_generic(const qctx *q, const void *src, const hrt_source *S, const int8_t *phases,
-                         const int32_t *runs, double age_yr, hrt_state *s)
+int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, double rmass, double age_yr,
+                         hrt_state *s)
 {
     hrt_state_clear(s, q->mass, q->z, age_yr);
     s->route = q->route;
@@ -515,19 +583,16 @@ int hrt_state_at_generic(const qctx *q, const void *src, const hrt_source *S, co
         return HRT_E_DOMAIN;
     }
     int n = q->n_eep;
-    double lt = age_yr > 0.0 ? log10(age_yr) : -INFINITY;
-    int kind;
-    double rmass;
-    hrt_q_remnant(q, &kind, &rmass);
+    double lt = age_yr > 0.0 ? hrt_log10(age_yr) : -INFINITY;
     s->remnant = kind;
     s->remnant_mass_msun = rmass;
-    double a_first = S->A(src, 0), a_last = S->A(src, n - 1);
+    double a_first = src_age(q, S, 0), a_last = src_age(q, S, n - 1);
     if (lt < a_first) {
         s->phase = HRT_PHASE_PRE_MS;
         s->flags |= HRT_FLAG_NOT_MODELLED;
         s->mass_msun = q->mass;
         s->phase_start_yr = 0.0;
-        s->phase_end_yr = S->T(src, 0);
+        s->phase_end_yr = src_age_yr(q, S, 0);
         s->phase_fraction = age_yr / s->phase_end_yr;
         return HRT_OK;
     }
@@ -537,29 +602,29 @@ int hrt_state_at_generic(const qctx *q, const void *src, const hrt_source *S, co
             return HRT_E_AGE_RANGE;
         }
         double v[NQS];
-        S->V(src, n - 1, v);
-        hrt_state_remnant(s, kind, rmass, v[Q_L - 1], S->T(src, n - 1));
+        src_values(q, S, n - 1, v);
+        hrt_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1));
         return HRT_OK;
     }
     double aj, aj1;
-    int j = find_eep(S, src, n, lt, a_first, a_last, &aj, &aj1);
+    int j = find_eep(q, S, n, lt, a_first, a_last, &aj, &aj1);
     double f = aj1 > aj ? (lt - aj) / (aj1 - aj) : 0.0;
     double v0[NQS], v1[NQS];
-    S->V(src, j, v0);
-    S->V(src, j + 1, v1);
+    src_values(q, S, j, v0);
+    src_values(q, S, j + 1, v1);
     hrt_state_from_values(s, v0, v1, f);
     s->eep = j + f;
     int js, je;
-    if (phases) {
-        s->phase = phases[j];
-        js = runs[2 * j];
-        je = runs[2 * j + 1];
+    if (S) {
+        s->phase = S->phase[j];
+        js = S->runs[2 * j];
+        je = S->runs[2 * j + 1];
     } else {
         s->phase = hrt_q_phase(q, j);
         hrt_q_phase_run(q, j, &js, &je);
     }
-    s->phase_start_yr = S->T(src, js);
-    s->phase_end_yr = S->T(src, je);
+    s->phase_start_yr = src_age_yr(q, S, js);
+    s->phase_end_yr = src_age_yr(q, S, je);
     double span = s->phase_end_yr - s->phase_start_yr;
     s->phase_fraction = span > 0.0 ? (age_yr - s->phase_start_yr) / span : 0.0;
     if (s->phase_fraction < 0.0)
@@ -578,24 +643,60 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         return hrt_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
                              !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
     int first = HRT_OK;
-    qctx q;
-    hrt_error e1;
+    /* The next star's context is prepared, and the grid data its age
+     * search will start from is prefetched, while this star is evaluated:
+     * the memory latency of one overlaps the arithmetic of the other.
+     * Prefetches change no result. */
+    qctx qbuf[2];
+    qctx *cur = &qbuf[0], *nxt = &qbuf[1];
+    hrt_error e1, e2;
+    hrt_error *ecur = &e1, *enxt = &e2;
+    int rc_cur = hrt_qctx_init(g, mass_msun[0], z ? z[0] : z_all, cur, ecur);
     for (size_t i = 0; i < n; i++) {
         double zi = z ? z[i] : z_all;
-        int rc = hrt_qctx_init(g, mass_msun[i], zi, &q, first == HRT_OK ? &e1 : NULL);
+        int rc_nxt = HRT_OK;
+        if (i + 1 < n) {
+            rc_nxt = hrt_qctx_init(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, first == HRT_OK ? enxt : NULL);
+            if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->single) {
+                int j = q_hint(nxt, hrt_log10(age_yr[i + 1]));
+                const mctx *m = &nxt->m[nxt->g0 - nxt->g_lo];
+                if (j >= 0 && j + 1 < nxt->n_eep) {
+                    const char *p0 = (const char *)hrt_hv(m->gp, (size_t)j, m->i, 0);
+                    const char *p1 = (const char *)hrt_hv(m->gp, (size_t)j + 1, m->i, 0);
+                    const char *pa = (const char *)(m->gp->age_iv + (m->i * g->n_eep_max + (size_t)j) * 4);
+                    __builtin_prefetch(pa);
+                    __builtin_prefetch(pa + 64);
+                    for (int k = 0; k < 4 * NQ * 8; k += 64) {
+                        __builtin_prefetch(p0 + k);
+                        __builtin_prefetch(p1 + k);
+                    }
+                }
+            }
+        }
+        int rc = rc_cur;
         if (rc == HRT_OK) {
-            rc = hrt_state_at_generic(&q, &q, &grid_source, NULL, NULL, age_yr[i], &out[i]);
+            int kind;
+            double rmass;
+            hrt_q_remnant(cur, &kind, &rmass);
+            rc = hrt_state_at_generic(cur, NULL, kind, rmass, age_yr[i], &out[i]);
             if (rc != HRT_OK && first == HRT_OK)
-                hrt_set_error(&e1, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
+                hrt_set_error(ecur, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
         } else {
             hrt_state_clear(&out[i], mass_msun[i], zi, age_yr[i]);
             out[i].status = rc;
-            out[i].route = q.route;
+            out[i].route = cur->route;
         }
         if (rc != HRT_OK && first == HRT_OK) {
             first = rc;
-            hrt_set_error(err, rc, "star %zu: %s", i, e1.message);
+            hrt_set_error(err, rc, "star %zu: %s", i, ecur->message);
         }
+        qctx *tq = cur;
+        cur = nxt;
+        nxt = tq;
+        hrt_error *te = ecur;
+        ecur = enxt;
+        enxt = te;
+        rc_cur = rc_nxt;
     }
     return first;
 }

@@ -160,6 +160,17 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
                 gp->remnant_hv[2 * (a + k) + 1] = d[k];
         }
     }
+    /* Age search data by interval (after the slopes). */
+    for (size_t i = 0; i < nm; i++) {
+        for (size_t j = 0; j < J; j++) {
+            const double *p = hrt_hv(gp, j, i, Q_AGE);
+            double *a = gp->age_iv + (i * J + j) * 4;
+            a[0] = p[0];
+            a[1] = p[1];
+            a[2] = p[2 * NQ];
+            a[3] = p[2 * NQ + 1];
+        }
+    }
     /* Phase runs of each track. */
     for (size_t i = 0; i < nm; i++) {
         int ne = gp->n_eep[i];
@@ -177,22 +188,26 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
         }
         ru[2 * (ne - 1)] = ru[2 * (ne - 1) + 1] = ne - 1;
         /* Log age -> EEP table: a starting point for the EEP search. */
-        const double *at = gp->age_track + i * J;
-        double a0 = at[0], per_dex = HRT_AGE_TAB / (at[ne - 1] - at[0]);
+        const double *at = gp->age_iv + i * J * 4; /* track i's log age: at[4 * j] */
+        double a0 = at[0], per_dex = HRT_AGE_TAB / (at[4 * (ne - 1)] - at[0]);
         gp->age_tab_x[2 * i] = a0;
         gp->age_tab_x[2 * i + 1] = per_dex;
         int e = 0;
         for (int k = 0; k < HRT_AGE_TAB; k++) {
             double lt = a0 + k / per_dex;
-            while (e + 1 < ne - 1 && at[e + 1] <= lt)
+            while (e + 1 < ne - 1 && at[4 * (e + 1)] <= lt)
                 e++;
             gp->age_tab[i * HRT_AGE_TAB + (size_t)k] = (uint16_t)e;
         }
     }
-    /* Cubic log age across an interval must increase with EEP for every
-     * mass inside it, or the interval falls back to linear weights. */
+    /* Log age across an interval must increase with EEP for every mass
+     * inside it.  The difference of consecutive EEPs' interpolants is a
+     * cubic Hermite; blending the weights towards linear (positive, since
+     * both tracks' ages increase) scales its slopes towards the secant:
+     * keep the largest blend lambda that stays positive at every EEP. */
     for (size_t i = 0; i + 1 < nm; i++) {
-        gp->age_linear[i] = 0;
+        double lam = 1.0;
+        gp->age_lambda[i] = lam;
         if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
             continue;
         double h = gp->logm[i + 1] - gp->logm[i];
@@ -201,12 +216,20 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
             const double *a0 = hrt_hv(gp, (size_t)j, i, Q_AGE), *a1 = hrt_hv(gp, (size_t)j + 1, i, Q_AGE);
             const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
             double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
-            double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]);
-            if (!hermite_positive(p0, p1, s0, s1)) {
-                gp->age_linear[i] = 1;
-                break;
+            double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]), sec = p1 - p0;
+            if (hermite_positive(p0, p1, lam * s0 + (1.0 - lam) * sec, lam * s1 + (1.0 - lam) * sec))
+                continue;
+            double lo = 0.0, hi = lam; /* positive at lo, not at hi */
+            for (int it = 0; it < 40; it++) {
+                double mid = 0.5 * (lo + hi);
+                if (hermite_positive(p0, p1, mid * s0 + (1.0 - mid) * sec, mid * s1 + (1.0 - mid) * sec))
+                    lo = mid;
+                else
+                    hi = mid;
             }
+            lam = lo;
         }
+        gp->age_lambda[i] = lam;
     }
     /* Extrapolation beyond a route's end track: y_j + d_j dx must keep
      * increasing with j; keep |dx| at half the largest step that does. */

@@ -418,7 +418,7 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
     double *buf = NULL;
     int *ibuf = NULL;
     if (rc == HRT_OK) {
-        gp->feh = log10(gp->z / g->z_ref);
+        gp->feh = hrt_log10(gp->z / g->z_ref);
         gp->n_mass = nm;
         gp->mass = malloc(nm * sizeof(double));
         gp->logm = calloc(nm + 1, sizeof(double));
@@ -432,17 +432,17 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         gp->runs = calloc(nm * J * 2, sizeof(int32_t));
         gp->age_tab = calloc(nm * HRT_AGE_TAB, sizeof(uint16_t));
         gp->age_tab_x = calloc(nm * 2, sizeof(double));
-        gp->age_linear = calloc(nm + 1, 1);
+        gp->age_lambda = calloc(nm + 1, sizeof(double));
         gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
-        gp->age_track = calloc(nm * J, sizeof(double));
+        gp->age_iv = calloc(nm * J * 4, sizeof(double));
         buf = malloc(nm * J * sizeof(double));
         ibuf = malloc((nm > R ? nm : R) * J * sizeof(int) + sizeof(int));
         if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_hv ||
-            !gp->boundary || !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_linear || !gp->age_dx_max || !gp->age_track || !buf ||
+            !gp->boundary || !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max || !gp->age_iv || !buf ||
             !ibuf)
             rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory for %zu tracks", where, nm);
         else
-            g->bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) + nm * J * (1 + 2 * sizeof(int32_t) + sizeof(double)) +
+            g->bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) + nm * J * (1 + 2 * sizeof(int32_t) + 4 * sizeof(double)) +
                         nm * HRT_AGE_TAB * sizeof(uint16_t);
     }
     hsize_t d1[1] = {nm};
@@ -456,7 +456,7 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
             rc = hrt_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g does not exceed the previous %g", where,
                                i, gp->mass[i], gp->mass[i - 1]);
         else
-            gp->logm[i] = log10(gp->mass[i]);
+            gp->logm[i] = hrt_log10(gp->mass[i]);
     }
     if (rc == HRT_OK)
         gp->logm[nm] = gp->logm[nm - 1] + 1.0; /* padding, never a knot */
@@ -540,8 +540,6 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
                 /* Masses are interpolated as fractions of the initial mass,
                  * so a star without mass loss keeps its mass exactly. */
                 *hrt_hv(gp, (size_t)j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
-                if (q == Q_AGE)
-                    gp->age_track[i * J + (size_t)j] = v;
             }
         }
     }
@@ -677,9 +675,9 @@ void hrt_grid_free_contents(hrt_grid *g)
         free(gp->runs);
         free(gp->age_tab);
         free(gp->age_tab_x);
-        free(gp->age_linear);
+        free(gp->age_lambda);
         free(gp->age_dx_max);
-        free(gp->age_track);
+        free(gp->age_iv);
     }
     free(g->grp);
     for (size_t r = 0; r < g->n_routes; r++)

@@ -51,8 +51,15 @@ typedef struct zgroup {
                             * first EEP after it */
     uint16_t *age_tab;     /* [n_mass][HRT_AGE_TAB] EEP at the start of each log-age bin */
     double *age_tab_x;     /* [n_mass][2] first log age and bins per dex of the table */
-    uint8_t *age_linear;   /* [n_mass] interval (i, i+1): cubic log age not monotone in EEP */
-    double *age_track;     /* [n_mass][n_eep_max] log age of each track, contiguous (search hints) */
+    /* [n_mass] interval (i, i+1): log age is interpolated with the weights
+     * lambda * (chosen type) + (1 - lambda) * (linear), lambda the largest
+     * value in [0, 1] for which log age increases with EEP at every mass of
+     * the interval (1 almost everywhere). */
+    double *age_lambda;
+    /* [n_mass][n_eep_max][4]: log age value and slope of track i and of
+     * track i + 1 at each EEP, contiguous along EEPs, so that the age search
+     * of a star between them walks through neighbouring memory. */
+    double *age_iv;
     double *age_dx_max;    /* [n_mass][2] largest log-mass step below / above a track for which
                             * extrapolated log age stays increasing in EEP */
 } zgroup;
@@ -145,15 +152,17 @@ int hrt_bracket(const double *a, int n, double x); /* largest j with a[j] <= x, 
 void hrt_state_clear(hrt_state *s, double mass, double z, double age_yr);
 void hrt_state_finish(hrt_state *s);
 void hrt_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f);
-/* Where a state's ages and values come from: the grid or a star's track. */
-typedef struct hrt_source {
-    double (*A)(const void *src, int j);              /* log10 age/yr at EEP j */
-    double (*T)(const void *src, int j);              /* age/yr at EEP j (hrt_exp10 of A) */
-    void (*V)(const void *src, int j, double v[NQS]); /* other quantities at EEP j */
-    int (*hint)(const void *src, double log_age);     /* a guess of the EEP, or NULL */
-} hrt_source;
-int hrt_state_at_generic(const qctx *q, const void *src, const hrt_source *S, const int8_t *phases,
-                         const int32_t *runs, double age_yr, hrt_state *s);
+/* A star's stored track (star.c), as the state code reads it. */
+typedef struct hrt_track_arrays {
+    const double *age;     /* [n] log10 age/yr */
+    const double *age_yr;  /* [n] age/yr (hrt_exp10 of age) */
+    const double *val;     /* [n][NQS] */
+    const int8_t *phase;   /* [n] */
+    const int32_t *runs;   /* [n][2] */
+} hrt_track_arrays;
+/* State at age_yr from the stored track S, or from the grid when S is NULL. */
+int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, double rmass, double age_yr,
+                         hrt_state *s);
 void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr);
 
 /* Value (p[0]) and slope (p[1]) of quantity q at EEP j, track i; the next
@@ -162,6 +171,11 @@ static inline double *hrt_hv(const zgroup *gp, size_t j, size_t i, int q)
 {
     return gp->hv + ((j * (gp->n_mass + 1) + i) * NQ + (size_t)q) * 2;
 }
+
+/* log10 through the natural logarithm: about half the cost of libm's
+ * log10, within an ulp of it.  Used wherever a query computes a log10, and
+ * for the grid's knots, so a query at a track's mass lands on its knot. */
+static inline double hrt_log10(double x) { return log(x) * 0.43429448190325182765; }
 
 /* 10^x: every age conversion goes through this one function, so the star
  * and batch paths agree to the bit. */

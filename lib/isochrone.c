@@ -66,7 +66,7 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
     int rc = hrt_grid_mass_range(g, z, &mlo, &mhi);
     if (rc != HRT_OK)
         return hrt_set_error(err, rc, "hrt_isochrone: Z = %g: %s", z, hrt_strerror(rc));
-    double lt = log10(age_yr);
+    double lt = hrt_log10(age_yr);
     size_t maxk = 4;
     for (size_t iz = 0; iz < g->n_z; iz++)
         maxk += 2 * g->grp[iz].n_mass;
@@ -102,8 +102,8 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
         if (!(lo < hi))
             continue;
         size_t nk = 0;
-        knots[nk++] = log10(lo);
-        knots[nk++] = log10(hi);
+        knots[nk++] = hrt_log10(lo);
+        knots[nk++] = hrt_log10(hi);
         for (size_t k = q0.g0; k <= gb; k++) {
             const zgroup *gp = &g->grp[k];
             for (size_t i = gp->route_lo[r]; i < gp->route_hi[r]; i++)

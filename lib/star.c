@@ -17,16 +17,6 @@ struct hrt_star {
     double remnant_mass;
 };
 
-static double star_age(const void *src, int j) { return ((const hrt_star *)src)->age[j]; }
-
-static double star_age_yr(const void *src, int j) { return ((const hrt_star *)src)->age_yr[j]; }
-
-static void star_vals(const void *src, int j, double v[NQS])
-{
-    const hrt_star *s = src;
-    memcpy(v, s->val + (size_t)j * NQS, NQS * sizeof(double));
-}
-
 void hrt_star_free(hrt_star *s)
 {
     if (!s)
@@ -84,8 +74,8 @@ int hrt_star_at(const hrt_star *s, double age_yr, hrt_state *out)
 {
     if (!s || !out)
         return HRT_E_NULL;
-    static const hrt_source star_source = {star_age, star_age_yr, star_vals, NULL};
-    return hrt_state_at_generic(&s->q, s, &star_source, s->phase, s->runs, age_yr, out);
+    hrt_track_arrays S = {s->age, s->age_yr, s->val, s->phase, s->runs};
+    return hrt_state_at_generic(&s->q, &S, s->remnant, s->remnant_mass, age_yr, out);
 }
 
 size_t hrt_star_n_eep(const hrt_star *s) { return s ? (size_t)s->n : 0; }
