@@ -93,7 +93,8 @@ extern "C" {
     X(HRT_E_INVALID, 11, "invalid argument")                                           \
     X(HRT_E_NOT_FOUND, 12, "no default grid found")                                    \
     X(HRT_E_INTERNAL, 13, "internal numerical failure")                                \
-    X(HRT_E_NO_TRACK, 14, "no track of this route to interpolate at this metallicity")
+    X(HRT_E_NO_TRACK, 14, "no track of this route to interpolate at this metallicity")  \
+    X(HRT_E_NO_MATCH, 15, "no model of the grid matches the observation")
 
 #define HRT_ERROR_ENUM_ENTRY_(name, value, text) name = value,
 /** Status codes returned by every fallible function. */
@@ -255,8 +256,23 @@ typedef struct hrt_grid hrt_grid; /**< opaque, immutable after open, shareable a
  *      strictly increasing along each track's valid EEPs, finite values,
  *      phase and route tables, keypoint layouts, route boundaries.
  *   2. Spline slopes across mass are computed here with GSL (the chosen type)
- *      and stored; queries evaluate the equivalent cubic Hermite.
- *   3. Thread-safe (opens are independent); HDF5 must be built thread-safe
+ *      and stored; queries evaluate the equivalent cubic Hermite (equal to
+ *      GSL's own evaluation to 1e-13).  Across [Fe/H] the slopes come from
+ *      the same formulas at query time.  A run of knots too short for the
+ *      type falls back to steffen (akima with 3-4 tracks) or linear (2).
+ *      Where GSL's Akima meets two exactly equal consecutive secants it takes
+ *      one-sided slopes; hrtrail keeps one slope per knot there.
+ *   3. Log age must increase along the EEPs of every interpolated star, or
+ *      "the EEP at an age" would be ambiguous.  In each interval between two
+ *      tracks, log age is interpolated with the weights lambda * (chosen
+ *      type) + (1 - lambda) * (linear), lambda in [0, 1] the largest value
+ *      that keeps it increasing at every mass of the interval (1 in most
+ *      intervals; lower where fast phases have nearly equal ages at
+ *      neighbouring EEPs).  Across [Fe/H], log age is linear for the same
+ *      reason; the other quantities use the chosen type.
+ *   4. Current and core masses are interpolated as fractions of the initial
+ *      mass, so a star without mass loss keeps exactly its initial mass.
+ *   5. Thread-safe (opens are independent); HDF5 must be built thread-safe
  *      for concurrent opens, which Debian's serial build is not: serialise
  *      opens if in doubt.  Queries on an open grid are always thread-safe.
  */
@@ -539,16 +555,797 @@ HRT_API int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err);
  * Importing text tracks (hrt_import_*)
  * ------------------------------------------------------------------------ */
 /* @section import */
+/** Most keypoints a route may have for detection and import. */
+#define HRT_IMPORT_MAX_KP 32
+
+/**
+ * Columns of one raw track for keypoint detection (tracks/FORMAT.md,
+ * "Keypoint criteria"): n samples in strictly increasing age.  age_yr,
+ * log_l and log_teff_k are required; every other pointer may be NULL when
+ * the column is absent, and criteria needing it then fall back as
+ * FORMAT.md says.
+ */
+typedef struct hrt_kp_columns {
+    size_t n;                   /**< number of samples */
+    const double *age_yr;       /**< age since birth, yr, strictly increasing */
+    const double *log_l;        /**< log10 L/Lsun */
+    const double *log_teff_k;   /**< log10 Teff/K */
+    const double *mass_msun;    /**< current mass, Msun */
+    const double *center_h1;    /**< central hydrogen mass fraction */
+    const double *center_he4;   /**< central helium mass fraction */
+    const double *he_core_msun; /**< helium core mass, Msun */
+    const double *co_core_msun; /**< carbon-oxygen core mass, Msun */
+    const int *phase;           /**< hrt_phase of each sample */
+    const char *const *flag;    /**< explicit keypoint name of each sample (NULL or "" for none) */
+} hrt_kp_columns;
+
+/** How a keypoint was found (hrt_kp_result.how). */
+enum {
+    HRT_KP_FOUND_BY_FLAG = 1,    /**< the explicit keypoint-flag column */
+    HRT_KP_FOUND_BY_COLUMNS = 2, /**< a physical criterion on the columns */
+    HRT_KP_FOUND_BY_PHASE = 3,   /**< the phase column (fallback) */
+    HRT_KP_FOUND_BY_START = 4    /**< first sample (ZAMS without centre composition or phases) */
+};
+
+/** Keypoints of one track on one route layout. */
+typedef struct hrt_kp_result {
+    size_t n_found;                   /**< keypoints reached: the first n_found of the route's */
+    size_t sample[HRT_IMPORT_MAX_KP]; /**< sample index of each one, strictly increasing */
+    int how[HRT_IMPORT_MAX_KP];       /**< HRT_KP_FOUND_* of each one */
+    char why[192];                    /**< why keypoint n_found was not found ("" when all were) */
+} hrt_kp_result;
+
+/**
+ * @brief Find the keypoints of a route's layout on a raw track.
+ *
+ * Given:
+ *   c      the track's columns
+ *   route  the route layout (keypoint names; segment counts not used)
+ * Returned:
+ *   out    the longest prefix of the route's keypoints found in order, their
+ *          sample indices, how each was found, and why the next one was not
+ *   err    code and message
+ * Returned (function value):
+ *   HRT_OK (also when not every keypoint is reached), HRT_E_NULL,
+ *   HRT_E_INVALID (too many keypoints, n < 2, ages not increasing, a flag
+ *   naming a keypoint the route does not have).
+ * Notes:
+ *   1. Keypoints are searched in the route's order, each strictly after the
+ *      previous one.  A sample flagged with a keypoint's name takes
+ *      precedence over every criterion; then the physical criteria of
+ *      tracks/FORMAT.md on the columns given; then the phase column.
+ *   2. Keypoint names hrtrail knows: zams, tams, rgb_base, he_ignition,
+ *      cheb_start, cheb_end, first_pulse, agb_end, envelope_loss, wd_onset,
+ *      core_collapse.  Other names can only be found by flags.
+ *   3. No allocation; reentrant.
+ */
+HRT_API int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *route, hrt_kp_result *out,
+                               hrt_error *err);
+
+/**
+ * @brief The route a raw track follows, from the keypoints it reaches.
+ *
+ * Given:  c, the track; n_routes route layouts (in order of increasing mass).
+ * Returned:
+ *   route       the route chosen (see Notes), -1 if none reaches 2 keypoints
+ *   candidates  bit r set for every route tied with the chosen one (may be NULL)
+ *   out         keypoints of the track on the chosen route (may be NULL)
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID.
+ * Notes:
+ *   Every route's keypoints are searched (hrt_keypoints_find).  A route is
+ *   complete when all its keypoints are found.  The complete route with the
+ *   most keypoints wins (a giant track also satisfies the shorter layouts'
+ *   criteria only if it ends as they do); if none is complete, the route
+ *   with the longest found prefix, and *candidates names the ties (a track
+ *   that stops on the main sequence fits every route).
+ */
+HRT_API int hrt_keypoints_route(const hrt_kp_columns *c, size_t n_routes, const hrt_route_spec *routes,
+                                int *route, unsigned *candidates, hrt_kp_result *out, hrt_error *err);
+
+typedef struct hrt_import hrt_import; /**< opaque: an import being set up, run, and its report */
+
+/**
+ * @brief Start an import with the default grid's routes and Z_ref = 0.014.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_new(hrt_import **imp, hrt_error *err);
+/** Free an import and its report; NULL is allowed. */
+HRT_API void hrt_import_free(hrt_import *imp);
+
+/**
+ * @brief Add entries to the column map.
+ *
+ * Given: entries, "key=value" pairs separated by commas, semicolons,
+ * blanks or new lines; '#' starts a comment to the end of the line.
+ * Keys (tracks/FORMAT.md, "Importing text tracks"):
+ *   age, log_age                 column[*unit], unit yr, kyr, Myr, Gyr or a number
+ *   log_L | L, log_Teff | Teff, log_R | R, mass, center_h1, center_he4,
+ *   he_core_mass, co_core_mass   column[*factor]
+ *   phase                        column of phase keys (ms, rgb, ...) or hrtrail phase codes
+ *   keypoints                    column of explicit keypoint names ("", "-" or "0": none)
+ *   initial_mass, Z              a number, or a column (its first data row)
+ *   pattern                      file-name pattern with {mass}, {z}, {feh} and '*'
+ * A later entry for the same quantity replaces an earlier one.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (unknown
+ * key, bad unit, missing '='; the message names the entry), HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_map(hrt_import *imp, const char *entries, hrt_error *err);
+/** hrt_import_map() on the contents of a mapping file; HRT_E_IO if unreadable.  Messages give file:line. */
+HRT_API int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *err);
+/** Replace the route layouts (in order of increasing mass; copied). HRT_E_INVALID for a bad layout. */
+HRT_API int hrt_import_set_routes(hrt_import *imp, size_t n_routes, const hrt_route_spec *routes,
+                                  hrt_error *err);
+/** Reference metallicity written to the grid (default 0.014); also used by {feh} in patterns. */
+HRT_API int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err);
+/**
+ * Lenient mode (on != 0): a file that cannot be read, a row with a value
+ * that is not finite, or a track the builder refuses is dropped and
+ * reported instead of failing the import.  Default: strict.
+ */
+HRT_API int hrt_import_set_lenient(hrt_import *imp, int on);
+/** Callback after each file is read: (user, files done, files in total, file name). May be NULL. */
+HRT_API int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *user, size_t done, size_t total,
+                                                                      const char *file),
+                                    void *user);
+/**
+ * @brief Add a track file.
+ * z: its metal mass fraction, or NaN to take it from the map (Z=...), the
+ * file-name pattern ({z} or {feh}) or a column.  Nothing is read yet.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN, HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_add_file(hrt_import *imp, const char *path, double z, hrt_error *err);
+
+/**
+ * @brief Read every file, find keypoints and routes, resample and write the grid.
+ *
+ * Given:   out_path, the grid to write, or NULL to check the files only.
+ * Returned: err, the first problem (file:line:column: ...); the per-track
+ *          report is kept in imp (hrt_import_n_tracks / hrt_import_track).
+ * Returned (function value):
+ *   HRT_OK; HRT_E_IO (a file cannot be read or the grid written);
+ *   HRT_E_FORMAT (a file is not a usable table: parse errors, missing or
+ *   absent mapped columns, non-increasing ages, non-finite values, binary
+ *   data); HRT_E_INVALID (map incomplete, no usable track, tracks whose
+ *   routes overlap in mass); HRT_E_NOMEM.
+ * Notes:
+ *   1. Strict mode: any file problem fails the import.  Lenient: such
+ *      tracks are dropped and reported; it fails only if none is left.
+ *   2. A track that stops between keypoints is cut at the last keypoint it
+ *      reaches (reported as truncated); one reaching fewer than 2 is dropped.
+ *   3. Resampling onto EEPs is hrt_builder_add_track(); route-boundary
+ *      masses per metallicity are the geometric mean of the last track of
+ *      one route and the first of the next.  The grid is written atomically
+ *      and only when everything succeeded: on failure no file is created
+ *      and an existing one is left as it was.
+ *   4. May be called once per import.
+ */
+HRT_API int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err);
+
+/** What the import did with one track file (hrt_import_track()). */
+typedef struct hrt_import_track_report {
+    const char *file;           /**< path as added (lives as long as the import) */
+    int status;                 /**< HRT_OK: in the grid; else the code of the reason it is not */
+    long line, column;          /**< location of the problem in the file (1-based; 0 if none) */
+    char message[320];          /**< the problem, or "" */
+    char notes[320];            /**< what was assumed or changed (defaults, truncation, ...) */
+    double initial_mass_msun;   /**< NaN if unknown */
+    double z;                   /**< NaN if unknown */
+    int route;                  /**< route index (hrt_import_route_name), -1 if none */
+    int truncated;              /**< stops before its route's last keypoint */
+    int remnant;                /**< hrt_remnant assigned */
+    double remnant_mass_msun;   /**< NaN if none */
+    size_t n_rows;              /**< data rows read */
+    size_t n_rows_dropped;      /**< rows dropped in lenient mode (non-finite values) */
+    size_t n_keypoints;         /**< keypoints reached on the route */
+    double keypoint_age_yr[HRT_IMPORT_MAX_KP]; /**< age of each */
+    long keypoint_line[HRT_IMPORT_MAX_KP];     /**< file line of each */
+    int keypoint_how[HRT_IMPORT_MAX_KP];       /**< HRT_KP_FOUND_* of each */
+    char missing[192];          /**< why the next keypoint of the route was not found */
+} hrt_import_track_report;
+
+/** Number of files added. */
+HRT_API size_t hrt_import_n_tracks(const hrt_import *imp);
+/** Report of file i (in the order added); HRT_E_INVALID if i is out of range. */
+HRT_API int hrt_import_track(const hrt_import *imp, size_t i, hrt_import_track_report *out);
+/** Number of routes of the import's layout. */
+HRT_API size_t hrt_import_n_routes(const hrt_import *imp);
+/** Name of route r; NULL if out of range. */
+HRT_API const char *hrt_import_route_name(const hrt_import *imp, size_t r);
+/** Number of keypoints of route r (0 if out of range). */
+HRT_API size_t hrt_import_route_n_keypoints(const hrt_import *imp, size_t r);
+/** Name of keypoint k of route r; NULL if out of range. */
+HRT_API const char *hrt_import_keypoint_name(const hrt_import *imp, size_t r, size_t k);
+/** Metallicity groups written (after a run): count, Z of group iz, boundary b of group iz (Msun). */
+HRT_API size_t hrt_import_n_z(const hrt_import *imp);
+HRT_API double hrt_import_z(const hrt_import *imp, size_t iz);
+HRT_API double hrt_import_route_boundary(const hrt_import *imp, size_t iz, size_t b);
 
 /* ------------------------------------------------------------------------
  * Populations: sampling, parallel evaluation, summaries (hrt_pop_*)
  * ------------------------------------------------------------------------ */
 /* @section population */
+/*
+ * A population is N stars drawn from an initial mass function (IMF), a
+ * star-formation history (SFH) and a metallicity distribution, evaluated at
+ * one or many epochs and summarised without keeping the stars (memory O(1)
+ * per star).  The draws are split into chunks of spec.chunk_size stars;
+ * chunk k has its own random stream, seeded from (spec.seed, k), so the same
+ * seed gives the same stars whatever the thread or MPI rank count.  Summaries
+ * hold only integers (counts, and sums in fixed point of 2^-32 units with
+ * 128 bits) and extrema, so merging partial summaries is exact and does not
+ * depend on order: any partition of the chunks gives the same bits.
+ *
+ * Time in an SFH is time since the population began (yr); an epoch T
+ * (hrt_pop_summary.age_yr) is the population's age.  A star born at t is of
+ * age T - t at epoch T; stars with t > T are counted as not yet born.
+ */
+
+/** Initial mass functions, by their published names. */
+typedef enum hrt_imf_kind {
+    HRT_IMF_SALPETER_1955 = 0,        /**< dN/dm ~ m^-2.35 (Salpeter 1955, ApJ 121, 161) */
+    HRT_IMF_KROUPA_2001 = 1,          /**< broken power law, alpha 0.3 / 1.3 / 2.3 with breaks at
+                                       *   0.08 and 0.5 Msun (Kroupa 2001, MNRAS 322, 231, eq. 2) */
+    HRT_IMF_CHABRIER_2003_SYSTEM = 2, /**< log-normal below 1 Msun (m_c 0.22 Msun, sigma 0.57 dex),
+                                       *   dN/dlog m ~ m^-1.3 above, continuous at 1 Msun
+                                       *   (Chabrier 2003, PASP 115, 763, system IMF, Table 1) */
+    HRT_IMF_POWER_LAW = 3,            /**< dN/dm ~ m^-alpha with a caller-given alpha */
+    HRT_IMF_COUNT
+} hrt_imf_kind;
+
+#define HRT_IMF_MAX_SEGMENTS 4
+
+/**
+ * An IMF between mass limits.  Fill it with hrt_imf_init(); the segment
+ * fields are derived data (plain, so it can be copied and sent to MPI ranks).
+ */
+typedef struct hrt_imf {
+    int32_t kind;                           /**< hrt_imf_kind */
+    int32_t n_seg;                          /**< segments between m_lo and m_hi */
+    double m_lo_msun, m_hi_msun;            /**< mass limits, Msun */
+    double alpha;                           /**< slope of HRT_IMF_POWER_LAW (unused otherwise) */
+    int32_t seg_lognormal[HRT_IMF_MAX_SEGMENTS]; /**< 1: log-normal segment, 0: power law */
+    double seg_lo[HRT_IMF_MAX_SEGMENTS];    /**< segment limits, Msun */
+    double seg_hi[HRT_IMF_MAX_SEGMENTS];
+    double seg_a[HRT_IMF_MAX_SEGMENTS];     /**< power law: alpha; log-normal: log10 m_c */
+    double seg_s[HRT_IMF_MAX_SEGMENTS];     /**< log-normal: sigma (dex) */
+    double seg_amp[HRT_IMF_MAX_SEGMENTS];   /**< amplitude of dN/dm (power law) or dN/dlog10 m (log-normal) */
+    double seg_c0[HRT_IMF_MAX_SEGMENTS];    /**< quantile constants: power law 1 - alpha, log-normal Phi(lo) */
+    double seg_c1[HRT_IMF_MAX_SEGMENTS];    /**< power law expm1((1 - alpha) ln(hi/lo)) (ln(hi/lo) if alpha = 1), log-normal Phi(hi) */
+    double seg_cum[HRT_IMF_MAX_SEGMENTS + 1]; /**< cumulative number fraction at segment starts */
+    double norm;                            /**< integral of the unnormalised dN/dm over [m_lo, m_hi] */
+} hrt_imf;
+
+/** Name of an IMF kind ("salpeter1955", "kroupa2001", "chabrier2003", "powerlaw"); "unknown" otherwise. */
+HRT_API const char *hrt_imf_name(int kind);
+/** Inverse of hrt_imf_name(); also accepts "salpeter", "kroupa", "chabrier"; -1 if unknown. */
+HRT_API int hrt_imf_from_name(const char *name);
+
+/**
+ * @brief Set up an IMF between mass limits.
+ *
+ * Given:
+ *   kind        hrt_imf_kind
+ *   m_lo_msun, m_hi_msun   limits, 0 < m_lo < m_hi (Msun)
+ *   alpha       slope of HRT_IMF_POWER_LAW (dN/dm ~ m^-alpha, finite); ignored otherwise
+ * Returned:
+ *   imf         the IMF, normalised to one star over [m_lo, m_hi]
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (kind),
+ *   HRT_E_DOMAIN (limits or alpha).
+ * Notes:
+ *   1. Segments are continuous at their breaks (as the papers define them).
+ *   2. The published parameters are written in lib/population.c beside
+ *      their references.
+ */
+HRT_API int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, double alpha, hrt_error *err);
+/** Normalised dN/dm (per Msun) at m; 0 outside [m_lo, m_hi]; NaN for a NULL or uninitialised IMF. */
+HRT_API double hrt_imf_pdf(const hrt_imf *imf, double m_msun);
+/** Fraction of stars with initial mass <= m (0 below m_lo, 1 above m_hi). */
+HRT_API double hrt_imf_cdf(const hrt_imf *imf, double m_msun);
+/** Inverse of hrt_imf_cdf(): the mass below which a fraction u (0 <= u <= 1) of the stars lie. */
+HRT_API double hrt_imf_quantile(const hrt_imf *imf, double u);
+/** Mean initial mass (Msun) of a star drawn from the IMF. */
+HRT_API double hrt_imf_mean_mass(const hrt_imf *imf);
+
+/** Star-formation histories. */
+typedef enum hrt_sfh_kind {
+    HRT_SFH_BURST = 0,       /**< every star born at t_start_yr */
+    HRT_SFH_CONSTANT = 1,    /**< constant rate over [t_start_yr, t_end_yr] */
+    HRT_SFH_EXPONENTIAL = 2, /**< rate ~ exp(-(t - t_start_yr) / tau_yr) over [t_start_yr, t_end_yr] */
+    HRT_SFH_TABLE = 3,       /**< rate linear between the points of a caller-given table */
+    HRT_SFH_COUNT
+} hrt_sfh_kind;
+
+/** A star-formation history; times since the population began, yr. */
+typedef struct hrt_sfh {
+    int32_t kind;             /**< hrt_sfh_kind */
+    int32_t reserved_;        /**< zero */
+    double t_start_yr;        /**< burst time, or start of star formation (>= 0) */
+    double t_end_yr;          /**< end of star formation (CONSTANT, EXPONENTIAL) */
+    double tau_yr;            /**< e-folding time (EXPONENTIAL, > 0) */
+    size_t n_table;           /**< points of the table (TABLE, >= 2) */
+    const double *table_t_yr; /**< strictly increasing times (borrowed: must outlive the runs) */
+    const double *table_rate; /**< rates >= 0 at those times, any unit, not all zero */
+} hrt_sfh;
+
+/** Name of an SFH kind ("burst", "constant", "exponential", "table"); "unknown" otherwise. */
+HRT_API const char *hrt_sfh_name(int kind);
+/** Inverse of hrt_sfh_name(); -1 if unknown. */
+HRT_API int hrt_sfh_from_name(const char *name);
+
+/** Metallicity distributions. */
+typedef enum hrt_zdist_kind {
+    HRT_ZDIST_FIXED = 0,    /**< every star has Z = z */
+    HRT_ZDIST_LOG_UNIFORM = 1, /**< log10 Z uniform in [log10 z_lo, log10 z_hi] (uniform in [Fe/H]) */
+    HRT_ZDIST_LOG_NORMAL = 2,  /**< log10 Z normal (mean log10 z, sigma_dex) truncated to [z_lo, z_hi] */
+    HRT_ZDIST_COUNT
+} hrt_zdist_kind;
+
+typedef struct hrt_zdist {
+    int32_t kind;     /**< hrt_zdist_kind */
+    int32_t reserved_;/**< zero */
+    double z;         /**< FIXED: the metallicity; LOG_NORMAL: the median */
+    double z_lo, z_hi;/**< limits of LOG_UNIFORM and LOG_NORMAL */
+    double sigma_dex; /**< LOG_NORMAL: spread of log10 Z (= of [Fe/H]), dex, > 0 */
+} hrt_zdist;
+
+/** Everything that defines a population, hence its random draws. */
+typedef struct hrt_pop_spec {
+    hrt_imf imf;          /**< from hrt_imf_init() */
+    hrt_sfh sfh;
+    hrt_zdist zdist;
+    uint64_t n_stars;     /**< stars drawn */
+    uint64_t seed;        /**< any value; with chunk_size it fixes every draw */
+    uint64_t chunk_size;  /**< stars per random stream (> 0; hrt_pop_spec_default: 65536) */
+} hrt_pop_spec;
+
+/**
+ * @brief A population specification with defaults.
+ * Kroupa 2001 IMF over 0.08-100 Msun, a burst at t = 0, Z fixed at 0.014,
+ * n_stars 0, seed 1, chunk_size 65536.  Never fails.
+ */
+HRT_API void hrt_pop_spec_default(hrt_pop_spec *spec);
+/**
+ * @brief Check a specification (IMF set up, SFH and metallicity valid).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID, HRT_E_DOMAIN.
+ */
+HRT_API int hrt_pop_spec_check(const hrt_pop_spec *spec, hrt_error *err);
+/** Number of chunks: ceil(n_stars / chunk_size); 0 for an invalid spec. */
+HRT_API uint64_t hrt_pop_n_chunks(const hrt_pop_spec *spec);
+
+/**
+ * @brief The stars of one chunk: initial mass, metallicity and birth time.
+ *
+ * Given:   spec, chunk (< hrt_pop_n_chunks), cap (capacity of the arrays)
+ * Returned: mass_msun, z, t_birth_yr (any of them may be NULL), *n the
+ *   number of stars of the chunk (also when cap is too small)
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (spec or
+ *   chunk), HRT_E_DOMAIN, HRT_E_BUFFER, HRT_E_NOMEM.
+ * Notes:
+ *   1. The stream of chunk k is GSL's MT19937 (gsl_rng_mt19937) seeded with
+ *      a SplitMix64 hash of (seed, k); each star draws, in this order, one
+ *      uniform for its mass (IMF quantile), one for its birth time (not for
+ *      a burst) and one for its metallicity (not for a fixed Z).
+ *   2. These are exactly the stars hrt_pop_run() evaluates.
+ */
+HRT_API int hrt_pop_draw(const hrt_pop_spec *spec, uint64_t chunk, double *mass_msun, double *z,
+                         double *t_birth_yr, size_t cap, size_t *n, hrt_error *err);
+
+/** A non-negative sum in fixed point: value = (hi * 2^64 + lo) * 2^-32, exact under addition. */
+typedef struct hrt_pop_sum {
+    uint64_t hi, lo;
+} hrt_pop_sum;
+/** Value of a fixed-point sum as a double (rounded once). */
+HRT_API double hrt_pop_sum_value(const hrt_pop_sum *s);
+
+#define HRT_POP_MAX_PHASES 32    /**< >= HRT_PHASE_COUNT */
+#define HRT_POP_MAX_REMNANTS 8   /**< >= HRT_REMNANT_COUNT */
+#define HRT_POP_MAX_STATUS 32    /**< >= HRT_STATUS_COUNT_ */
+#define HRT_POP_HR_MAX_BINS 10000 /**< nx * ny of the HR histogram */
+
+/** Binning of the HR-diagram histogram: log10 Teff/K (x) by log10 L/Lsun (y). */
+typedef struct hrt_pop_hr {
+    double log_teff_lo, log_teff_hi; /**< x range, lo < hi */
+    double log_l_lo, log_l_hi;       /**< y range, lo < hi */
+    uint64_t nx, ny;                 /**< bins, nx * ny <= HRT_POP_HR_MAX_BINS (0 x 0: no histogram) */
+} hrt_pop_hr;
+
+/**
+ * Summary of a population at one epoch.  Plain data without padding, all
+ * integers but the epoch, the binning and two extrema, so partial summaries
+ * merge exactly (hrt_pop_summary_merge) and can be sent as bytes.  Sums are
+ * in fixed point (2^-32 Msun or Lsun per unit; each star's value rounded
+ * once), read with hrt_pop_sum_value().
+ */
+typedef struct hrt_pop_summary {
+    uint64_t struct_size;   /**< sizeof(hrt_pop_summary) */
+    double age_yr;          /**< epoch: age of the population, yr */
+    uint64_t n_drawn;       /**< stars drawn */
+    uint64_t n_unborn;      /**< born after the epoch (not evaluated) */
+    uint64_t n_evaluated;   /**< evaluated without error (the rest of the born ones failed) */
+    uint64_t n_status[HRT_POP_MAX_STATUS];   /**< born stars by hrt_eval status (HRT_OK included) */
+    hrt_pop_sum failed_initial_mass_msun;    /**< initial mass of stars that failed (e.g. outside the grid) */
+    uint64_t n_phase[HRT_POP_MAX_PHASES];    /**< evaluated stars by hrt_phase now */
+    hrt_pop_sum phase_initial_mass_msun[HRT_POP_MAX_PHASES]; /**< their initial masses */
+    hrt_pop_sum phase_mass_msun[HRT_POP_MAX_PHASES];         /**< their current masses */
+    hrt_pop_sum phase_l_lsun[HRT_POP_MAX_PHASES];            /**< their bolometric luminosities */
+    uint64_t n_remnant[HRT_POP_MAX_REMNANTS];/**< evaluated stars by remnant kind now; [0]: not a remnant */
+    hrt_pop_sum remnant_mass_msun[HRT_POP_MAX_REMNANTS];     /**< their current masses */
+    hrt_pop_sum initial_mass_msun;  /**< all evaluated stars: initial mass (mass formed, if all evaluated) */
+    hrt_pop_sum mass_msun;          /**< current mass in stars and remnants */
+    hrt_pop_sum l_lsun;             /**< integrated bolometric luminosity */
+    double ms_max_initial_mass_msun;     /**< most massive star on the main sequence (0 if none) */
+    double evolved_min_initial_mass_msun;/**< least massive star past the main sequence (+inf if none) */
+    hrt_pop_hr hr;                  /**< histogram binning */
+    uint64_t hr_outside;            /**< luminous stars outside the histogram's box */
+    uint64_t hr_count[HRT_POP_HR_MAX_BINS]; /**< counts, bin (ix, iy) at iy * nx + ix */
+} hrt_pop_summary;
+
+/**
+ * @brief An empty summary at epoch age_yr with the given binning.
+ * hr may be NULL (no histogram).  Returned (function value): HRT_OK,
+ * HRT_E_NULL, HRT_E_DOMAIN (age not finite or negative, bad ranges),
+ * HRT_E_INVALID (too many bins).
+ */
+HRT_API int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_pop_hr *hr, hrt_error *err);
+/**
+ * @brief Add n evaluated states (from hrt_eval or elsewhere) to a summary.
+ * Each state counts as one drawn, born star; its status decides whether it is
+ * evaluated or failed.  No allocation.  Returned: HRT_OK, HRT_E_NULL.
+ */
+HRT_API int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, hrt_error *err);
+/** Count n stars drawn but not yet born at the summary's epoch. */
+HRT_API void hrt_pop_summary_add_unborn(hrt_pop_summary *s, uint64_t n);
+/**
+ * @brief dst += src, exactly (counts and sums add, extrema combine).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (different
+ * epoch or binning; dst unchanged).  Commutative and associative bit for bit.
+ */
+HRT_API int hrt_pop_summary_merge(hrt_pop_summary *dst, const hrt_pop_summary *src, hrt_error *err);
+/**
+ * Main-sequence turnoff mass (Msun) of a single burst at one metallicity:
+ * midway (geometric mean) between the most massive star still on the main
+ * sequence and the least massive one past it; NaN if either is missing.
+ * Its sampling uncertainty is half their ratio's log.  For composite
+ * populations read the two extrema instead.
+ */
+HRT_API double hrt_pop_turnoff_mass(const hrt_pop_summary *s);
+
+/** Threads hrt_eval_parallel and hrt_pop_run can use: OpenMP's maximum, 1 without OpenMP. */
+HRT_API int hrt_pop_max_threads(void);
+
+/**
+ * @brief hrt_eval() on n_threads threads: the same states, return code and
+ * message, bit for bit, for any thread count.
+ * Given: as hrt_eval; n_threads >= 1 (0: hrt_pop_max_threads()); without
+ *   OpenMP at build time every call is serial.
+ * Notes: blocks of stars are evaluated independently; the first failing star
+ *   is the one of lowest index, as in hrt_eval.  No allocation.
+ */
+HRT_API int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, double z_all,
+                              const double *age_yr, hrt_state *out, int n_threads, hrt_error *err);
+
+/**
+ * @brief Draw, evaluate and summarise chunks [chunk_first, chunk_first + n_chunk)
+ * of a population at n_ages epochs, adding to the caller's summaries.
+ *
+ * Given:
+ *   g            open grid (shared read-only by the threads)
+ *   spec         the population (hrt_pop_spec_check)
+ *   chunk_first, n_chunk   chunks to do (clipped to hrt_pop_n_chunks)
+ *   n_threads    >= 1 (0: hrt_pop_max_threads())
+ *   n_ages       epochs (>= 1)
+ * Given and returned:
+ *   sums         n_ages summaries from hrt_pop_summary_init(), one per
+ *                epoch (their age_yr); the chunks' stars are added.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID,
+ *   HRT_E_DOMAIN, HRT_E_NOMEM (sums unchanged on any failure).
+ *   Stars that fail (outside the grid, ...) are not an error: they are
+ *   counted in n_status and failed_initial_mass_msun.
+ * Notes:
+ *   1. The chunked form lets a caller report progress between calls, and
+ *      MPI ranks take disjoint chunk ranges; any split gives the same bits.
+ *   2. Memory: per thread, scratch for 1024 stars and one summary per
+ *      epoch (about 0.3 MB + 0.1 MB per epoch), whatever n_stars is.
+ *   3. Every star of a chunk is evaluated with hrt_eval at every epoch.
+ */
+HRT_API int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_first, uint64_t n_chunk,
+                        int n_threads, size_t n_ages, hrt_pop_summary *sums, hrt_error *err);
 
 /* ------------------------------------------------------------------------
  * An observed star: fitting and forecasting (hrt_fit_*, hrt_forecast_*)
  * ------------------------------------------------------------------------ */
 /* @section fit */
+/*
+ * The posterior over (initial mass, age, [Fe/H]) of one observed star, on a
+ * lattice prepared once per grid (hrt_fit_model): at each [Fe/H] node the
+ * grid's interpolated tracks are sampled every log_mass_step_dex in initial
+ * mass, at every EEP.  For one star, every lattice cell (two neighbouring
+ * masses x two neighbouring EEPs) near the observation is subdivided until a
+ * step moves the model by at most 0.3 sigma of each observable, positions
+ * are interpolated bilinearly in (log mass, log age fraction of the EEP
+ * interval), and each sub-cell is weighted by
+ *     likelihood x IMF(M) dM x (time spent: d age) x metallicity weight,
+ * with the age prior uniform in [0, age_max_yr].  Quantiles come from the
+ * weighted sub-cells (each spread over its own extent), so they do not
+ * depend on a random draw; posterior samples for a forecast are drawn with a
+ * seeded GSL Mersenne Twister (Matsumoto & Nishimura 1998).
+ *
+ * Stars are fitted from the zero-age main sequence to the last EEP of their
+ * track (white dwarf cooling onset or core collapse).  Pre-main-sequence
+ * stars and cooling white dwarfs are outside the model.  The answers are as
+ * accurate as the grid: the default grid is semi-analytic (tracks/MODEL.md),
+ * so masses and ages carry its systematic errors on top of the statistical
+ * intervals reported here.
+ */
+
+/** Mass priors of a fit (dN/dM of the initial mass). */
+typedef enum hrt_fit_mass_prior {
+    HRT_FIT_PRIOR_KROUPA_2001 = 0,    /**< M^-1.3 below 0.5 Msun, M^-2.3 above (Kroupa 2001, MNRAS 322, 231, eq. 2) */
+    HRT_FIT_PRIOR_CHABRIER_2003 = 1,  /**< single-object disc IMF: log-normal (m_c 0.079 Msun, sigma 0.69 dex)
+                                       *   below 1 Msun, dN/dlog M ~ M^-1.3 above, continuous at 1 Msun
+                                       *   (Chabrier 2003, PASP 115, 763, Table 1) */
+    HRT_FIT_PRIOR_LOG_FLAT = 2,       /**< uniform in log M (dN/dM ~ 1/M) */
+    HRT_FIT_PRIOR_COUNT
+} hrt_fit_mass_prior;
+
+/** Name of a mass prior ("kroupa2001", "chabrier2003", "log-flat"); NULL if unknown. */
+HRT_API const char *hrt_fit_mass_prior_name(int prior);
+/** Inverse of hrt_fit_mass_prior_name(); -1 for an unknown name or NULL. */
+HRT_API int hrt_fit_mass_prior_from_name(const char *name);
+
+/** Priors and resolution of a fitting lattice (hrt_fit_model_options_default() fills it). */
+typedef struct hrt_fit_model_options {
+    int32_t mass_prior;       /**< hrt_fit_mass_prior (default Kroupa 2001) */
+    int32_t reserved_;        /**< zero */
+    double mass_min_msun;     /**< lower limit of the mass prior, Msun (default: the grid's lowest mass) */
+    double mass_max_msun;     /**< upper limit (default: the grid's highest mass) */
+    double age_max_yr;        /**< age prior uniform in [0, age_max_yr] (default 13.8e9 yr) */
+    double feh_min, feh_max;  /**< [Fe/H] range of the lattice, dex (default: the grid's range); the
+                               *   metallicity prior is uniform in [Fe/H] over it */
+    double feh_step_dex;      /**< spacing of the [Fe/H] nodes (default 0.1 dex; grid groups are nodes
+                               *   when they fall on the spacing) */
+    double log_mass_step_dex; /**< spacing of the lattice in log10 initial mass (default 0.02 dex) */
+} hrt_fit_model_options;
+
+/** Fill o with the defaults listed in hrt_fit_model_options. */
+HRT_API void hrt_fit_model_options_default(hrt_fit_model_options *o);
+
+typedef struct hrt_fit_model hrt_fit_model; /**< opaque, immutable after creation, shareable across threads */
+
+/**
+ * @brief Prepare the fitting lattice of a grid.
+ *
+ * Given:
+ *   g      open grid (must outlive the model)
+ *   o      priors and resolution, or NULL for the defaults
+ * Returned:
+ *   model  new model; free with hrt_fit_model_free()
+ *   err    code and message
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (NaN or non-positive limits or steps),
+ *   HRT_E_INVALID (empty ranges, unknown prior), HRT_E_Z_RANGE / HRT_E_MASS_RANGE
+ *   (ranges outside the grid), HRT_E_NOMEM.
+ * Notes:
+ *   1. Cost: one hrt_star_new() per lattice track, about 0.1 ms each.  With
+ *      the defaults on the default grid: 26 [Fe/H] nodes x about 165
+ *      masses, about 0.5 s and 40 MB (hrt_fit_model_memory_bytes()).  A
+ *      narrower [Fe/H] range makes it proportionally cheaper.
+ *   2. Thread-safe; the model may be shared by any number of fitting threads.
+ */
+HRT_API int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *o, hrt_fit_model **model,
+                              hrt_error *err);
+/** Free a model; NULL is allowed. */
+HRT_API void hrt_fit_model_free(hrt_fit_model *model);
+/** Bytes held by a model. */
+HRT_API size_t hrt_fit_model_memory_bytes(const hrt_fit_model *model);
+/** Options the model was made with (defaults filled in). */
+HRT_API int hrt_fit_model_get_options(const hrt_fit_model *model, hrt_fit_model_options *o);
+/** Number of [Fe/H] nodes of the model, and the [Fe/H] of node k (NaN if out of range). */
+HRT_API size_t hrt_fit_model_n_feh(const hrt_fit_model *model);
+HRT_API double hrt_fit_model_feh(const hrt_fit_model *model, size_t k);
+
+/**
+ * What was measured of one star.  hrt_fit_obs_init() sets every field to
+ * NaN ("not measured"); give a value together with its 1-sigma error (> 0).
+ * Errors are Gaussian in the quantity as named (Teff in K, log L in dex).
+ *
+ * Luminosity comes from exactly one of: log_l; a bolometric flux (flux_w_m2,
+ * or the apparent bolometric magnitude mbol on the IAU 2015 Resolution B2
+ * scale) together with a distance (distance_pc or parallax_mas); or nothing
+ * (then log g or the prior must place the star).  A flux without a
+ * distance gives the HR-diagram distance of the star instead.
+ */
+typedef struct hrt_fit_obs {
+    double teff_k, teff_sigma_k;          /**< effective temperature, K (required) */
+    double log_l, log_l_sigma;            /**< log10 L/Lsun (nominal), dex */
+    double feh, feh_sigma;                /**< [Fe/H] = log10(Z/Z_ref) of the grid, dex */
+    double log_g_cgs, log_g_sigma;        /**< log10 g/(cm s^-2) */
+    double flux_w_m2, flux_sigma_w_m2;    /**< bolometric flux at the observer, W m^-2 */
+    double mbol, mbol_sigma;              /**< apparent bolometric magnitude (alternative to the flux) */
+    double distance_pc, distance_sigma_pc;/**< distance, pc */
+    double parallax_mas, parallax_sigma_mas; /**< parallax, mas (alternative to the distance;
+                                           *   sigma/parallax <= 0.2: it is inverted) */
+} hrt_fit_obs;
+
+/** Set every field of an observation to NaN (not measured). */
+HRT_API void hrt_fit_obs_init(hrt_fit_obs *obs);
+
+/** A posterior summary: median and the central 68.27 % interval (15.87th and 84.13th percentiles). */
+typedef struct hrt_fit_interval {
+    double median;
+    double lo; /**< 15.87th percentile */
+    double hi; /**< 84.13th percentile */
+} hrt_fit_interval;
+
+/** Bits of hrt_fit_result.flags. */
+#define HRT_FIT_MULTIMODAL 0x1  /**< a second phase holds >= HRT_FIT_MULTIMODAL_PROB of the posterior */
+#define HRT_FIT_MASS_EDGE 0x2   /**< the mass interval reaches a limit of the mass prior */
+#define HRT_FIT_AGE_LIMIT 0x4   /**< the age interval reaches age_max_yr: the age prior decides */
+#define HRT_FIT_FEH_EDGE 0x8    /**< the [Fe/H] interval reaches the edge of the lattice */
+#define HRT_FIT_POOR_MATCH 0x10 /**< the best model is more than 3 sigma away (chi^2 beyond its 99.73 % point) */
+#define HRT_FIT_FEW_POINTS 0x20 /**< fewer than 20 effective lattice points: intervals are coarse */
+/** Probability of a second phase from which a fit is flagged HRT_FIT_MULTIMODAL. */
+#define HRT_FIT_MULTIMODAL_PROB 0.1
+
+/** One posterior draw (equal weights). */
+typedef struct hrt_fit_sample {
+    double initial_mass_msun; /**< Msun */
+    double z;                 /**< metal mass fraction (a node of the model) */
+    double age_yr;            /**< yr */
+    double log_l;             /**< log10 L/Lsun of the lattice point drawn */
+    double log_teff_k;        /**< log10 Teff/K of the lattice point drawn */
+    int32_t phase;            /**< hrt_phase */
+    int32_t reserved_;
+} hrt_fit_sample;
+
+/** Summary of the posterior of one star (caller-owned; plain data). */
+typedef struct hrt_fit_result {
+    uint32_t struct_size;               /**< sizeof(hrt_fit_result) of the library that wrote it */
+    int32_t status;                     /**< HRT_OK or the code returned */
+    int32_t flags;                      /**< HRT_FIT_* bits */
+    int32_t phase;                      /**< most probable phase (hrt_phase) */
+    int32_t phase_second;               /**< second most probable phase (HRT_PHASE_UNKNOWN if none) */
+    int32_t n_obs;                      /**< number of measured quantities in the likelihood */
+    hrt_fit_interval initial_mass_msun; /**< initial mass, Msun */
+    hrt_fit_interval age_yr;            /**< age since birth, yr */
+    hrt_fit_interval feh;               /**< [Fe/H], dex */
+    hrt_fit_interval mass_msun;         /**< current mass, Msun */
+    hrt_fit_interval radius_rsun;       /**< radius, nominal solar radii */
+    hrt_fit_interval log_l;             /**< log10 L/Lsun */
+    hrt_fit_interval teff_k;            /**< effective temperature, K */
+    hrt_fit_interval log_g_cgs;         /**< log10 g/(cm s^-2) */
+    hrt_fit_interval distance_pc;       /**< HR-diagram distance, pc (NaN unless a flux without a distance was given) */
+    double phase_prob[HRT_PHASE_COUNT]; /**< posterior probability of each phase */
+    hrt_fit_interval phase_mass_msun[2];/**< initial mass within phase and within phase_second */
+    hrt_fit_interval phase_age_yr[2];   /**< age within phase and within phase_second */
+    double chi2_min;                    /**< chi^2 of the best lattice point */
+    double n_eff;                       /**< effective number of lattice points, (sum w)^2 / sum w^2 */
+    double n_points;                    /**< lattice points with weight */
+    double reserved[8];                 /**< zero */
+} hrt_fit_result;
+
+/**
+ * @brief Posterior of one observed star.
+ *
+ * Given:
+ *   model      lattice of hrt_fit_model_new()
+ *   obs        what was measured (hrt_fit_obs)
+ *   seed       seed of the random draws (samples, distance); the result is
+ *              the same for the same seed, model and obs, in any thread
+ *   n_samples  posterior draws wanted (0 allowed)
+ * Returned:
+ *   samples    n_samples draws (may be NULL when n_samples is 0), for hrt_forecast()
+ *   res        the summary (hrt_fit_result)
+ *   err        code and message
+ * Returned (function value):
+ *   HRT_OK; HRT_E_NULL; HRT_E_DOMAIN (a negative, zero or non-finite sigma,
+ *   a value without its sigma, non-positive flux, distance or parallax);
+ *   HRT_E_INVALID (no Teff, luminosity given twice, parallax too uncertain
+ *   to invert); HRT_E_NO_MATCH (Teff outside every track, or no lattice
+ *   point within 5 sigma of every measured quantity); HRT_E_NOMEM.
+ * Notes:
+ *   1. A flux and a distance are combined into log L with Gaussian errors
+ *      propagated to first order (sigma_logL^2 = (sigma_F/F)^2/ln10^2 +
+ *      (2 sigma_d/d)^2/ln10^2).
+ *   2. The HR-diagram distance is d = sqrt(L / (4 pi F)) (inverse-square
+ *      law), with L from the posterior and F drawn from its Gaussian error;
+ *      its interval comes from 4000 draws (Monte Carlo error about 1 %).
+ *   3. Reentrant: scratch memory is allocated and freed in the call.
+ *      Typical cost 1-10 ms per star on the default grid (tests/bench/bench_fit).
+ */
+HRT_API int hrt_fit_star(const hrt_fit_model *model, const hrt_fit_obs *obs, uint64_t seed,
+                         size_t n_samples, hrt_fit_sample *samples, hrt_fit_result *res, hrt_error *err);
+
+/**
+ * Distance (m) at which a source of luminosity l_w (W) has bolometric flux
+ * flux_w_m2 (W m^-2): sqrt(L / (4 pi F)), the inverse-square law.  NaN for
+ * non-positive or non-finite arguments.
+ */
+HRT_API double hrt_fit_distance_m(double l_w, double flux_w_m2);
+/**
+ * Bolometric flux (W m^-2) of an apparent bolometric magnitude:
+ * F = F0 10^(-0.4 m_bol), F0 = HRT_MBOL_ZERO_POINT_W / (4 pi (10 pc)^2)
+ * = 2.518021002e-8 W m^-2 (IAU 2015 Resolution B2).
+ */
+HRT_API double hrt_fit_flux_from_mbol(double mbol);
+
+/* ---- forecast: the future of a star, from given values or posterior draws ---- */
+
+/** The star at one future time, over the samples. */
+typedef struct hrt_forecast_state {
+    double dt_yr;                       /**< time from now, yr */
+    int32_t phase;                      /**< most probable phase then */
+    int32_t reserved_;
+    double phase_prob[HRT_PHASE_COUNT]; /**< fraction of samples in each phase (remnants: wd, ns, bh) */
+    double luminous_frac;               /**< fraction of samples with a finite L and Teff */
+    hrt_fit_interval log_l;             /**< log10 L/Lsun, over luminous samples */
+    hrt_fit_interval teff_k;            /**< K, over luminous samples */
+    hrt_fit_interval radius_rsun;       /**< Rsun, over luminous samples */
+    hrt_fit_interval mass_msun;         /**< current mass, Msun, over all samples */
+} hrt_forecast_state;
+
+#define HRT_FORECAST_MAX_EVENTS 24
+/** A keypoint still to come (named as in the grid's routes: "tams", "rgb_base", ...). */
+typedef struct hrt_forecast_event {
+    char name[32];
+    double prob;          /**< fraction of samples that still have it ahead */
+    hrt_fit_interval in_yr; /**< time until it, yr, over those samples */
+} hrt_forecast_event;
+
+/** A phase still to come. */
+typedef struct hrt_forecast_phase {
+    double prob;                  /**< fraction of samples that will enter it */
+    hrt_fit_interval start_in_yr; /**< time until it begins, yr, over those samples */
+    hrt_fit_interval duration_yr; /**< its duration, yr (+inf for a remnant) */
+} hrt_forecast_phase;
+
+/** The future of a star (caller-owned; plain data). */
+typedef struct hrt_forecast_result {
+    uint32_t struct_size;                     /**< sizeof(hrt_forecast_result) */
+    int32_t status;
+    int32_t remnant;                          /**< most probable final remnant (hrt_remnant) */
+    int32_t phase_now;                        /**< most probable current phase */
+    double n_samples;                         /**< samples used */
+    double phase_now_prob[HRT_PHASE_COUNT];   /**< current phase over the samples */
+    double ms_prob;                           /**< fraction now on the main sequence */
+    hrt_fit_interval ms_left_yr;              /**< main-sequence time left, yr, over those samples */
+    hrt_fit_interval end_in_yr;               /**< time until the last EEP (remnant formation), yr */
+    hrt_forecast_phase future[HRT_PHASE_COUNT]; /**< indexed by hrt_phase: phases still to come */
+    size_t n_events;                          /**< keypoints in events[], soonest median first */
+    hrt_forecast_event events[HRT_FORECAST_MAX_EVENTS];
+    double remnant_prob[HRT_REMNANT_COUNT];   /**< final remnant kind over the samples */
+    hrt_fit_interval remnant_mass_msun;       /**< final remnant mass, Msun */
+    double reserved[8];
+} hrt_forecast_result;
+
+/**
+ * @brief Future of a star given as samples of (initial mass, Z, age).
+ *
+ * Given:
+ *   g        open grid
+ *   n        number of samples (>= 1): one exact star, or the draws of hrt_fit_star()
+ *   samples  n samples; only initial_mass_msun, z and age_yr are read
+ *   n_times  number of future times (0 allowed)
+ *   dt_yr    n_times times from now, yr (>= 0)
+ * Returned:
+ *   states   n_times states (may be NULL when n_times is 0)
+ *   res      current phase, main-sequence time left, keypoints and phases to
+ *            come, final remnant, each over the samples
+ *   err      code and message
+ * Returned (function value):
+ *   HRT_OK; HRT_E_NULL; HRT_E_DOMAIN (negative or non-finite times or ages);
+ *   HRT_E_MASS_RANGE, HRT_E_Z_RANGE, HRT_E_NO_TRACK (a sample the grid does not
+ *   cover; the message names it); HRT_E_AGE_RANGE (a sample past a truncated
+ *   track); HRT_E_NOMEM.
+ * Notes:
+ *   1. One hrt_star_new() per sample (about 0.1 ms).  Intervals are the
+ *      15.87th/84.13th percentiles of the samples; with one sample lo = hi = median.
+ *   2. A sample younger than its zero-age main sequence is in phase pre_ms;
+ *      one past its last EEP is its remnant.
+ */
+HRT_API int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *samples, size_t n_times,
+                         const double *dt_yr, hrt_forecast_state *states, hrt_forecast_result *res,
+                         hrt_error *err);
 
 #ifdef __cplusplus
 }

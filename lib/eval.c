@@ -25,6 +25,7 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
     size_t lo = gp->route_lo[r], hi = gp->route_hi[r];
     m->gp = gp;
     m->extrapolated = 0;
+    m->interior = 0;
     if (lo == hi)
         return HRT_E_NO_TRACK;
     const double *lm = gp->logm;
@@ -58,6 +59,7 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
             b = c;
     }
     m->i = a;
+    m->interior = 1;
     hrt_hermite_weights(g->interp, lm[a], lm[a + 1], x, m->w);
     double lam = gp->age_lambda[a];
     if (lam < 1.0) {

@@ -90,6 +90,7 @@ typedef struct mctx {
     double wa[4];   /* weights for log age (linear where cubic is not monotone) */
     int n_eep;      /* EEPs both knots reach */
     int extrapolated;
+    int interior;   /* strictly between two knots of the route (not an end) */
 } mctx;
 
 /* Everything a query needs once (mass, Z) is known. */

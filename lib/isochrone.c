@@ -7,12 +7,33 @@
 #include "internal.h"
 
 /* Log age at EEP j of the star of log mass x on route r, from a context
- * whose groups and route are fixed (only the mass contexts change). */
+ * whose groups and route are fixed (only the mass weights change).  Inside
+ * a root's bracket no knot of any group lies strictly between its ends, so
+ * an interior interval stays the same and only its weights are recomputed
+ * (as hrt_mass_ctx would). */
 static double age_at_mass(qctx *q, int r, double x, int j)
 {
     size_t gb = q->single ? q->g0 : q->g0 + 1;
-    for (size_t k = q->g0; k <= gb; k++)
-        hrt_mass_ctx(q->g, &q->g->grp[k], r, x, &q->m[k - q->g_lo]);
+    for (size_t k = q->g0; k <= gb; k++) {
+        mctx *m = &q->m[k - q->g_lo];
+        const zgroup *gp = m->gp;
+        const double *lm = gp->logm;
+        size_t i = m->i;
+        if (m->interior && x > lm[i] && x < lm[i + 1]) {
+            hrt_hermite_weights(q->g->interp, lm[i], lm[i + 1], x, m->w);
+            double lam = gp->age_lambda[i];
+            if (lam < 1.0) {
+                double wl[4];
+                hrt_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
+                for (int c = 0; c < 4; c++)
+                    m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
+            } else {
+                memcpy(m->wa, m->w, sizeof m->w);
+            }
+        } else {
+            hrt_mass_ctx(q->g, &q->g->grp[k], r, x, m);
+        }
+    }
     return hrt_q_value(q, Q_AGE, j);
 }
 
@@ -121,7 +142,7 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
         int usable = 0;
         for (size_t k = 0; k < nk; k++) {
             kne[k] = 0;
-            if (hrt_qctx_init(g, pow(10.0, knots[k]), z, q, NULL) != HRT_OK || q->route != (int)r)
+            if (hrt_qctx_init(g, hrt_exp10(knots[k]), z, q, NULL) != HRT_OK || q->route != (int)r)
                 continue;
             kne[k] = q->n_eep;
             for (int j = 0; j < q->n_eep; j++)
@@ -138,10 +159,10 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
                 double fa = ages[k * J + j] - lt, fb = ages[(k + 1) * J + j] - lt;
                 if (!((fa <= 0.0 && fb > 0.0) || (fa >= 0.0 && fb < 0.0)))
                     continue;
-                if (hrt_qctx_init(g, pow(10.0, knots[k]), z, q, NULL) != HRT_OK)
+                if (hrt_qctx_init(g, hrt_exp10(0.5 * (knots[k] + knots[k + 1])), z, q, NULL) != HRT_OK)
                     continue;
                 double x = find_root(q, (int)r, (int)j, lt, knots[k], fa, knots[k + 1], fb);
-                double m = pow(10.0, x);
+                double m = hrt_exp10(x);
                 hrt_state st;
                 hrt_eval(g, 1, &m, NULL, z, &age_yr, &st, NULL);
                 if (st.status != HRT_OK || st.route != (int)r || (st.flags & (HRT_FLAG_NOT_MODELLED | HRT_FLAG_REMNANT)))
