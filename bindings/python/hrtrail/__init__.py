@@ -1,0 +1,52 @@
+"""hrtrail: stellar evolution tracks from HDF5 grids, from Python.
+
+A binding of libhrtrail (include/hrtrail.h) on the standard library's ctypes,
+with NumPy used for whole-array calls when it is installed.
+
+    import hrtrail
+    with hrtrail.Grid() as g:                       # the default grid
+        s = g.state(1.0, 4.57e9, z=0.014)           # one star: a State
+        st = g.evaluate(masses, ages, z=0.014)      # many: STATE_DTYPE array
+        iso = g.isochrone(1e9, z=0.014)
+        star = g.star(2.0, 0.014)                   # one track, any age
+        star.phases(), star.keypoints(), star.remnant
+
+Units: masses in Msun, ages in yr since birth, Z the metal mass fraction,
+log = log10, L in nominal Lsun, R in nominal Rsun, Teff in K, g in cm s^-2
+(IAU 2015 Resolution B3).  Library errors are raised as HrtrailError
+subclasses carrying the status code and the library's message.
+
+The library is found through the environment variable HRTRAIL_LIB (a path),
+else where meson installed it, else by its soname libhrtrail.so.1.  At import
+the library's ABI number and sizeof(hrt_state) are checked against what this
+package was written for (AbiMismatchError, an ImportError, otherwise).
+
+Accuracy: the default grid is a semi-analytic model (tracks/MODEL.md) meant for
+population-level work; the answers are as good as the grid.
+"""
+from ._clib import ABI_VERSION, AbiMismatchError, HrtError, HrtPhaseSpan, HrtState, lib as _lib
+from ._clib import library_path, text as _text
+from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, wd_log_l, wd_radius_rsun
+from .enums import Flag, Interp, Phase, Remnant, Status
+from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridError
+
+#: Version of the loaded library (hrt_version), e.g. "0.1.0".
+__version__ = _text(_lib.hrt_version())
+
+
+def library_abi_version():
+    """ABI number reported by the loaded library (hrt_abi_version)."""
+    return _lib.hrt_abi_version()
+
+
+def default_grid_path():
+    """Path of the grid Grid() opens: $HRTRAIL_GRID, else the installed default grid."""
+    return _text(_lib.hrt_default_grid_path())
+
+
+__all__ = [
+    "ABI_VERSION", "AbiMismatchError", "Flag", "Grid", "GridFileError", "HrtError", "HrtPhaseSpan",
+    "HrtState", "HrtrailError", "Interp", "InvalidInputError", "OutsideGridError", "Phase",
+    "PhaseSpan", "Remnant", "RemnantInfo", "STATE_DTYPE", "Star", "State", "Status",
+    "default_grid_path", "library_abi_version", "library_path", "wd_log_l", "wd_radius_rsun",
+]

@@ -1,0 +1,564 @@
+"""Grids, stars, batch evaluation and isochrones.
+
+Units (as in include/hrtrail.h): masses in solar masses (Msun), ages in
+years since the star's birth (yr), Z the metal mass fraction, log = log10,
+L in nominal solar luminosities, R in nominal solar radii, Teff in K, g in
+cm s^-2.
+
+Accuracy: answers are as good as the grid.  The default grid is a
+semi-analytic model built from published relations (tracks/MODEL.md), meant
+for population-level work, not precision stellar physics.
+"""
+import collections
+import concurrent.futures
+import ctypes
+import re as _re
+import weakref
+
+from ._clib import HrtPhaseSpan, HrtState, lib, text
+from .enums import Flag, Phase, Remnant, Status, as_interp
+from .errors import check, error_for, new_error
+
+try:
+    import numpy as _np
+except ImportError:  # NumPy is optional: scalar calls work without it
+    _np = None
+
+#: NumPy dtype of hrt_state, field for field (names, offsets, itemsize 200 bytes).
+#: Arrays of this dtype are handed to the library as they are: no per-star copy.
+STATE_DTYPE = _np.dtype(HrtState) if _np is not None else None
+
+_STATE_SIZE = ctypes.sizeof(HrtState)
+_FLOAT_FIELDS = [n for n, t in HrtState._fields_ if t is ctypes.c_double]
+
+PhaseSpan = collections.namedtuple("PhaseSpan", "phase start_yr end_yr")
+PhaseSpan.__doc__ = """One phase of a star's life, [start_yr, end_yr).
+
+phase     Phase
+start_yr  age at which the phase begins, yr
+end_yr    age at which it ends, yr (+inf for a remnant that lasts forever)"""
+
+RemnantInfo = collections.namedtuple("RemnantInfo", "kind mass_msun")
+RemnantInfo.__doc__ = "Final remnant of a star: kind (Remnant) and mass (Msun, NaN if unknown)."
+
+
+def _need_numpy(what):
+    if _np is None:
+        raise RuntimeError("hrtrail: %s needs NumPy (Debian package python3-numpy)" % what)
+
+
+class State:
+    """State of one star at one age (struct hrt_state as a Python object).
+
+    Attributes (units in the names, as in the C struct):
+      status             Status of this star (OK or the HRT_E_* code)
+      phase              Phase
+      route              index of the route in the grid (Grid.routes), -1 if none
+      remnant            Remnant: the kind of remnant this star will leave (or is)
+      flags              Flag bits (DARK, REMNANT, EXTRAPOLATED, NOT_MODELLED)
+      initial_mass_msun  initial mass, Msun
+      z                  metal mass fraction
+      age_yr             age since birth, yr
+      log_l              log10 L/Lsun (NaN if dark)
+      log_teff_k         log10 Teff/K (NaN if dark)
+      log_r              log10 R/Rsun (from L and Teff by the Stefan-Boltzmann law)
+      log_g_cgs          log10 g / (cm s^-2)
+      mass_msun          current mass, Msun
+      he_core_msun       helium core mass, Msun
+      co_core_msun       carbon-oxygen core mass, Msun
+      eep                fractional EEP index on the route (NaN for remnants, pre-MS)
+      phase_fraction     0..1 through the current phase in age (NaN if open-ended)
+      phase_start_yr     age at which the current phase began, yr
+      phase_end_yr       age at which the current phase ends, yr (+inf if never)
+      remnant_mass_msun  mass of the final remnant, Msun (NaN if unknown)
+    """
+    __slots__ = ["status", "phase", "route", "remnant", "flags"] + _FLOAT_FIELDS
+
+    @classmethod
+    def _from(cls, get):
+        s = cls.__new__(cls)
+        st = int(get("status"))
+        try:
+            s.status = Status(st)
+        except ValueError:
+            s.status = st
+        p = int(get("phase"))
+        s.phase = Phase(p) if p in Phase._value2member_map_ else p
+        s.route = int(get("route"))
+        r = int(get("remnant"))
+        s.remnant = Remnant(r) if r in Remnant._value2member_map_ else r
+        s.flags = Flag(int(get("flags")))
+        for n in _FLOAT_FIELDS:
+            setattr(s, n, float(get(n)))
+        return s
+
+    @classmethod
+    def from_c(cls, st):
+        """From a ctypes HrtState."""
+        return cls._from(lambda n: getattr(st, n))
+
+    @classmethod
+    def from_record(cls, rec):
+        """From one element of a STATE_DTYPE array (e.g. grid.evaluate(...)[i])."""
+        return cls._from(lambda n: rec[n])
+
+    @property
+    def teff_k(self):
+        """Effective temperature, K."""
+        return 10.0 ** self.log_teff_k
+
+    @property
+    def l_lsun(self):
+        """Luminosity, Lsun."""
+        return 10.0 ** self.log_l
+
+    @property
+    def r_rsun(self):
+        """Radius, Rsun."""
+        return 10.0 ** self.log_r
+
+    def as_dict(self):
+        """All fields as a dict."""
+        return {n: getattr(self, n) for n in self.__slots__}
+
+    def __repr__(self):
+        ph = self.phase.key if isinstance(self.phase, Phase) else self.phase
+        return ("State(M0=%.6g Msun, Z=%.6g, age=%.6g yr, phase=%s, log_l=%.4f, log_teff_k=%.4f, "
+                "mass_msun=%.4f, status=%s)" % (self.initial_mass_msun, self.z, self.age_yr, ph,
+                                                self.log_l, self.log_teff_k, self.mass_msun,
+                                                getattr(self.status, "name", self.status)))
+
+
+def _as_f8(a):
+    """C-contiguous float64 array of a's shape, 0-d included (no copy when a already is one)."""
+    return _np.asarray(a, dtype=_np.float64, order="C")
+
+
+class Grid:
+    """An opened track grid (hrt_grid): immutable, shareable across threads.
+
+    Grid()                       the default grid (HRTRAIL_GRID, else the installed one)
+    Grid(path, interp="akima")   a grid file (tracks/FORMAT.md); interp is the
+                                 interpolation across initial mass and [Fe/H]:
+                                 "steffen" (default), "linear", "cspline", "akima"
+
+    Use as a context manager, or call close().  Raises GridFileError (missing,
+    unreadable or invalid file) or InvalidInputError (unknown interp).
+    """
+
+    def __init__(self, path=None, interp="steffen"):
+        self._h = None
+        self._stars = weakref.WeakSet()
+        it = as_interp(interp)
+        h = ctypes.c_void_p()
+        e, pe = new_error()
+        cpath = None if path is None else str(path).encode()
+        check(lib.hrt_grid_open_with(cpath, int(it), ctypes.byref(h), pe), e, "opening grid")
+        self._h = h
+        self.path = str(path) if path is not None else text(lib.hrt_default_grid_path())
+        """Path of the grid file."""
+
+    # -- lifetime ---------------------------------------------------------
+    def close(self):
+        """Free the grid (and every Star made from it). Idempotent."""
+        if self._h is not None:
+            for s in list(self._stars):
+                s.close()
+            lib.hrt_grid_close(self._h)
+            self._h = None
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+
+    def __del__(self):
+        try:
+            self.close()
+        except Exception:
+            pass
+
+    @property
+    def _handle(self):
+        if self._h is None:
+            raise ValueError("hrtrail: the grid is closed")
+        return self._h
+
+    @property
+    def closed(self):
+        """True once close() was called."""
+        return self._h is None
+
+    # -- description ------------------------------------------------------
+    @property
+    def interp(self):
+        """Interpolation type the grid was opened with (Interp)."""
+        return as_interp(lib.hrt_grid_interp(self._handle))
+
+    @property
+    def n_z(self):
+        """Number of metallicity groups."""
+        return lib.hrt_grid_n_z(self._handle)
+
+    @property
+    def z_values(self):
+        """Metal mass fractions of the groups, ascending (tuple of float)."""
+        h = self._handle
+        return tuple(lib.hrt_grid_z(h, i) for i in range(lib.hrt_grid_n_z(h)))
+
+    @property
+    def z_ref(self):
+        """Reference metallicity Z_ref of [Fe/H] = log10(Z / Z_ref)."""
+        return lib.hrt_grid_z_ref(self._handle)
+
+    @property
+    def z_range(self):
+        """(lowest, highest) metal mass fraction covered."""
+        lo, hi = ctypes.c_double(), ctypes.c_double()
+        check(lib.hrt_grid_z_range(self._handle, ctypes.byref(lo), ctypes.byref(hi)), None, "z_range")
+        return lo.value, hi.value
+
+    def mass_range(self, z):
+        """(lowest, highest) initial mass covered at metallicity z, Msun."""
+        lo, hi = ctypes.c_double(), ctypes.c_double()
+        check(lib.hrt_grid_mass_range(self._handle, float(z), ctypes.byref(lo), ctypes.byref(hi)),
+              None, "mass_range(Z = %r)" % (z,))
+        return lo.value, hi.value
+
+    @property
+    def routes(self):
+        """Route names in the order of their indices (state.route)."""
+        h = self._handle
+        return tuple(text(lib.hrt_grid_route_name(h, r)) for r in range(lib.hrt_grid_n_routes(h)))
+
+    def route_of(self, mass_msun, z):
+        """Index of the route a star of initial mass (Msun) and metallicity z follows."""
+        r = ctypes.c_int()
+        check(lib.hrt_grid_route_of(self._handle, float(mass_msun), float(z), ctypes.byref(r)), None,
+              "route_of(%r Msun, Z = %r)" % (mass_msun, z))
+        return r.value
+
+    def route_keypoints(self, route):
+        """Keypoints of a route (index or name) as a list of (name, EEP index)."""
+        h = self._handle
+        r = self.routes.index(route) if isinstance(route, str) else int(route)
+        return [(text(lib.hrt_grid_keypoint_name(h, r, k)), lib.hrt_grid_keypoint_eep(h, r, k))
+                for k in range(lib.hrt_grid_route_n_keypoints(h, r))]
+
+    def masses(self, iz):
+        """Initial masses (Msun, ascending) of the tracks of group iz (tuple)."""
+        h = self._handle
+        if not 0 <= iz < lib.hrt_grid_n_z(h):
+            raise IndexError("metallicity group %d out of range" % iz)
+        return tuple(lib.hrt_grid_mass(h, iz, i) for i in range(lib.hrt_grid_n_masses(h, iz)))
+
+    def route_boundaries(self, iz):
+        """Route-boundary masses of group iz, Msun: boundary b separates route b from b+1."""
+        h = self._handle
+        return tuple(lib.hrt_grid_route_boundary(h, iz, b) for b in range(lib.hrt_grid_n_routes(h) - 1))
+
+    def attribute(self, name):
+        """A text root attribute of the file ('description', 'source', ...), or None."""
+        return text(lib.hrt_grid_attribute(self._handle, name.encode()))
+
+    @property
+    def memory_bytes(self):
+        """Bytes of memory held by the opened grid."""
+        return lib.hrt_grid_memory_bytes(self._handle)
+
+    def __repr__(self):
+        if self._h is None:
+            return "<hrtrail.Grid closed>"
+        return "<hrtrail.Grid %s: %d metallicities, routes %s, %s>" % (
+            self.path, self.n_z, ",".join(self.routes), self.interp.key)
+
+    # -- evaluation -------------------------------------------------------
+    def state(self, mass_msun, age_yr, z):
+        """State (a State object) of one star of initial mass (Msun) and metallicity z at age_yr (yr).
+
+        Raises OutsideGridError or InvalidInputError as the library reports.
+        """
+        m, a = ctypes.c_double(mass_msun), ctypes.c_double(age_yr)
+        out = HrtState()
+        e, pe = new_error()
+        rc = lib.hrt_eval(self._handle, 1, ctypes.addressof(m), None, float(z), ctypes.addressof(a),
+                          ctypes.addressof(out), pe)
+        check(rc, e, "hrt_eval")
+        return State.from_c(out)
+
+    def evaluate(self, mass_msun, age_yr, z, out=None, errors="raise", threads=1):
+        """States of many unrelated stars in one call of hrt_eval (no Python loop).
+
+        mass_msun  initial masses, Msun (array-like)
+        age_yr     ages since birth, yr (array-like)
+        z          metal mass fraction: a scalar (all stars) or an array
+        The three broadcast against each other.
+        out        optional preallocated C-contiguous array of STATE_DTYPE with the
+                   broadcast shape, reused instead of a new one
+        errors     "raise": raise the first failing star's error (message names its
+                   index; the states are attached as exc.states); "ignore": return
+                   anyway, each star's code in states["status"] (failed stars NaN)
+        threads    split the batch over this many threads (the library is
+                   thread-safe on a shared grid; results are identical)
+        Returns a NumPy structured array of STATE_DTYPE: the library's output
+        itself, fields as in State (states["log_l"], states["phase"], ...).
+        Without NumPy, sequences are accepted and a list of State is returned.
+        """
+        if errors not in ("raise", "ignore"):
+            raise ValueError("errors must be 'raise' or 'ignore', not %r" % (errors,))
+        if _np is None:
+            return self._evaluate_plain(mass_msun, age_yr, z, errors)
+        h = self._handle
+        z_is_scalar = _np.ndim(z) == 0
+        if z_is_scalar:
+            m, a = _np.broadcast_arrays(_as_f8(mass_msun), _as_f8(age_yr))
+            zz, z_all = None, float(z)
+        else:
+            m, a, zz = _np.broadcast_arrays(_as_f8(mass_msun), _as_f8(age_yr), _as_f8(z))
+            z_all = 0.0
+            zz = _as_f8(zz)
+        m, a = _as_f8(m), _as_f8(a)
+        if out is None:
+            out = _np.empty(m.shape, dtype=STATE_DTYPE)
+        else:
+            if (not isinstance(out, _np.ndarray) or out.dtype != STATE_DTYPE or out.shape != m.shape
+                    or not out.flags.c_contiguous or not out.flags.writeable):
+                raise ValueError("out must be a writable C-contiguous array of STATE_DTYPE, shape %s"
+                                 % (m.shape,))
+        n = m.size
+        pm, pa, po = m.ctypes.data, a.ctypes.data, out.ctypes.data
+        pz = zz.ctypes.data if zz is not None else None
+        threads = max(1, min(int(threads), n // 1024 or 1))
+        if threads == 1:
+            e, pe = new_error()
+            rc = lib.hrt_eval(h, n, pm, pz, z_all, pa, po, pe)
+            failures = [(rc, e)]
+        else:
+            bounds = [n * k // threads for k in range(threads + 1)]
+
+            def part(k):
+                s, c = bounds[k], bounds[k + 1] - bounds[k]
+                e, pe = new_error()
+                rc = lib.hrt_eval(h, c, pm + 8 * s, None if pz is None else pz + 8 * s, z_all,
+                                  pa + 8 * s, po + _STATE_SIZE * s, pe)
+                return rc, e, s
+
+            with concurrent.futures.ThreadPoolExecutor(threads) as ex:
+                res = list(ex.map(part, range(threads)))
+            failures = [(rc, e) for rc, e, s in res if rc != 0]
+            if failures:  # a chunk's message counts stars from the chunk's start
+                rc, e, s = next(r for r in res if r[0] != 0)
+                msg = _re.sub(rb"^star (\d+):", lambda mt: b"star %d:" % (int(mt.group(1)) + s),
+                              e.message)
+                e.message = msg[:255]
+                failures = [(rc, e)]
+        rc, e = failures[0] if failures else (0, None)
+        if rc != 0 and errors == "raise":
+            try:
+                check(rc, e, "hrt_eval")
+            except Exception as exc:
+                exc.states = out
+                raise
+        return out
+
+    def _evaluate_plain(self, mass_msun, age_yr, z, errors):
+        m = [float(x) for x in mass_msun]
+        a = [float(x) for x in age_yr]
+        if len(m) != len(a):
+            raise ValueError("mass_msun and age_yr differ in length")
+        n = len(m)
+        cm, ca = (ctypes.c_double * n)(*m), (ctypes.c_double * n)(*a)
+        if isinstance(z, (int, float)):
+            cz, z_all = None, float(z)
+        else:
+            zl = [float(x) for x in z]
+            if len(zl) != n:
+                raise ValueError("z differs in length from mass_msun")
+            cz, z_all = (ctypes.c_double * n)(*zl), 0.0
+        out = (HrtState * n)()
+        e, pe = new_error()
+        rc = lib.hrt_eval(self._handle, n, ctypes.addressof(cm), None if cz is None else ctypes.addressof(cz),
+                          z_all, ctypes.addressof(ca), ctypes.addressof(out), pe)
+        states = [State.from_c(s) for s in out]
+        if rc != 0 and errors == "raise":
+            exc = error_for(rc, "hrt_eval: " + e.message.decode("utf-8", errors="replace"))
+            exc.states = states
+            raise exc
+        return states
+
+    def isochrone(self, age_yr, z):
+        """The isochrone at age_yr (yr, > 0) and metallicity z, sampled at EEPs.
+
+        Returns a STATE_DTYPE array ordered by route, then EEP, then initial mass
+        (remnants excluded).  Raises OutsideGridError (Z out of range) or
+        InvalidInputError (age not positive and finite).
+        """
+        _need_numpy("Grid.isochrone")
+        h = self._handle
+        cap = 4096
+        n = ctypes.c_size_t()
+        while True:
+            out = _np.empty(cap, dtype=STATE_DTYPE)
+            e, pe = new_error()
+            rc = lib.hrt_isochrone(h, float(age_yr), float(z), out.ctypes.data, cap, ctypes.byref(n), pe)
+            if rc == Status.BUFFER and n.value > cap:
+                cap = n.value
+                continue
+            check(rc, e, "hrt_isochrone")
+            return out[:n.value].copy() if n.value < cap else out
+
+    def star(self, mass_msun, z):
+        """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""
+        return Star(self, mass_msun, z)
+
+
+class Star:
+    """One star: its track interpolated once (hrt_star), then asked any age.
+
+    Star(grid, mass_msun, z)  initial mass in Msun, Z the metal mass fraction.
+    Raises OutsideGridError / InvalidInputError.  The star keeps its grid
+    alive; Grid.close() also closes its stars.  One thread at a time.
+    """
+
+    def __init__(self, grid, mass_msun, z):
+        self._h = None
+        self.grid = grid
+        h = ctypes.c_void_p()
+        e, pe = new_error()
+        check(lib.hrt_star_new(grid._handle, float(mass_msun), float(z), ctypes.byref(h), pe), e,
+              "hrt_star_new(%r Msun, Z = %r)" % (mass_msun, z))
+        self._h = h
+        grid._stars.add(self)
+
+    def close(self):
+        """Free the star's track. Idempotent."""
+        if self._h is not None:
+            lib.hrt_star_free(self._h)
+            self._h = None
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+
+    def __del__(self):
+        try:
+            self.close()
+        except Exception:
+            pass
+
+    @property
+    def _handle(self):
+        if self._h is None:
+            raise ValueError("hrtrail: the star is closed (or its grid was closed)")
+        return self._h
+
+    @property
+    def mass_msun(self):
+        """Initial mass, Msun."""
+        return lib.hrt_star_mass(self._handle)
+
+    @property
+    def z(self):
+        """Metal mass fraction."""
+        return lib.hrt_star_z(self._handle)
+
+    @property
+    def route(self):
+        """Index of the star's route (Grid.routes)."""
+        return lib.hrt_star_route(self._handle)
+
+    @property
+    def route_name(self):
+        """Name of the star's route."""
+        return text(lib.hrt_grid_route_name(self.grid._handle, self.route))
+
+    @property
+    def end_age_yr(self):
+        """Age of the last EEP, yr: white dwarf cooling onset or core collapse (or end of a truncated track)."""
+        return lib.hrt_star_end_age(self._handle)
+
+    @property
+    def remnant(self):
+        """Final remnant: RemnantInfo(kind=Remnant, mass_msun)."""
+        k, m = ctypes.c_int(), ctypes.c_double()
+        check(lib.hrt_star_remnant(self._handle, ctypes.byref(k), ctypes.byref(m)), None, "hrt_star_remnant")
+        return RemnantInfo(Remnant(k.value), m.value)
+
+    def at(self, age_yr):
+        """State at age_yr (yr since birth).
+
+        A scalar age gives a State (hrt_star_at); an array of ages gives a
+        STATE_DTYPE array from one hrt_eval call at the star's mass and Z,
+        which the library guarantees identical bit for bit.  Raises
+        InvalidInputError (NaN or negative age) or OutsideGridError (past a
+        truncated track with no known remnant).
+        """
+        if _np is None or _np.ndim(age_yr) == 0:
+            out = HrtState()
+            check(lib.hrt_star_at(self._handle, float(age_yr), ctypes.addressof(out)), None,
+                  "hrt_star_at(%r yr)" % (age_yr,))
+            return State.from_c(out)
+        a = _as_f8(age_yr)
+        return self.grid.evaluate(_np.full(a.shape, self.mass_msun), a, self.z)
+
+    def track(self):
+        """The star's interpolated track: its state at every EEP (STATE_DTYPE array, or list of State)."""
+        h = self._handle
+        n = lib.hrt_star_n_eep(h)
+        if _np is None:
+            out = (HrtState * n)()
+            for j in range(n):
+                check(lib.hrt_star_eep_state(h, j, ctypes.addressof(out[j])), None, "hrt_star_eep_state")
+            return [State.from_c(s) for s in out]
+        out = _np.empty(n, dtype=STATE_DTYPE)
+        base = out.ctypes.data
+        for j in range(n):  # one call per EEP: a few hundred at most
+            check(lib.hrt_star_eep_state(h, j, base + j * _STATE_SIZE), None, "hrt_star_eep_state(%d)" % j)
+        return out
+
+    def phases(self):
+        """The star's timetable: list of PhaseSpan(phase, start_yr, end_yr), remnant included."""
+        h = self._handle
+        n = ctypes.c_size_t()
+        cap = 32
+        while True:
+            spans = (HrtPhaseSpan * cap)()
+            rc = lib.hrt_star_phases(h, spans, cap, ctypes.byref(n))
+            if rc == Status.BUFFER and n.value > cap:
+                cap = n.value
+                continue
+            check(rc, None, "hrt_star_phases")
+            return [PhaseSpan(Phase(s.phase) if s.phase in Phase._value2member_map_ else s.phase,
+                              s.start_yr, s.end_yr) for s in spans[:n.value]]
+
+    def keypoints(self):
+        """Ages (yr) of the keypoints of the star's route, as an ordered dict {name: age_yr} (NaN if not reached)."""
+        h = self._handle
+        out = collections.OrderedDict()
+        age = ctypes.c_double()
+        for k in range(lib.hrt_star_n_keypoints(h)):
+            check(lib.hrt_star_keypoint_age(h, k, ctypes.byref(age)), None, "hrt_star_keypoint_age")
+            out[text(lib.hrt_star_keypoint_name(h, k))] = age.value
+        return out
+
+    def __repr__(self):
+        if self._h is None:
+            return "<hrtrail.Star closed>"
+        return "<hrtrail.Star %.6g Msun, Z = %.6g, route %s>" % (self.mass_msun, self.z, self.route_name)
+
+
+def wd_radius_rsun(mass_msun):
+    """White dwarf radius (Rsun) at mass (Msun), zero-temperature mass-radius relation
+    of Eggleton (quoted by Verbunt & Rappaport 1988, ApJ 332, 193); NaN outside (0, 1.44)."""
+    return lib.hrt_wd_radius_rsun(float(mass_msun))
+
+
+def wd_log_l(mass_msun, kind, log_l0, dt_yr):
+    """log10 L/Lsun of a white dwarf of mass (Msun) and kind (Remnant HE_WD/CO_WD/ONE_WD)
+    dt_yr years after cooling began at log10 L/Lsun = log_l0, by Mestel's (1952, MNRAS 112,
+    583) law; accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun."""
+    return lib.hrt_wd_log_l(float(mass_msun), int(kind), float(log_l0), float(dt_yr))
+
