@@ -511,16 +511,17 @@ static int find_eep(const qctx *q, const hrt_track_arrays *S, int n, double lt, 
     int lo = 0, hi = n - 1;
     double alo = a_first, ahi = a_last;
     if (S) {
+        /* branch-free bisection: the comparisons of random ages would
+         * mispredict; the answer is the same */
         const double *a = S->age;
-        while (hi - lo > 1) {
-            int c = lo + (hi - lo) / 2;
-            if (a[c] <= lt)
-                lo = c;
-            else
-                hi = c;
+        int len = n - 1;
+        while (len > 1) {
+            int half = len / 2;
+            lo = a[lo + half] <= lt ? lo + half : lo;
+            len -= half;
         }
         *a_lo = a[lo];
-        *a_hi = a[hi];
+        *a_hi = a[lo + 1];
         return lo;
     }
     int j = q_hint(q, lt);
