@@ -54,7 +54,7 @@ static const phase_style *style_of(int ph)
 void plot_init(plot *p)
 {
     memset(p, 0, sizeof *p);
-    p->width = 1000;
+    p->width = 1080;
     p->height = 660;
 }
 
@@ -456,7 +456,7 @@ static void legend(FILE *o, const plot *p, const frame *f)
 int plot_write_svg(const plot *p, FILE *o)
 {
     frame f;
-    f.x0 = 84, f.x1 = p->width - 320, f.y0 = 70, f.y1 = p->height - 72;
+    f.x0 = 84, f.x1 = p->width - 400, f.y0 = 70, f.y1 = p->height - 72;
     data_range(p, &f);
     fprintf(o, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     fprintf(o, "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
