@@ -1061,7 +1061,7 @@ HRT_API int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t ch
  * grid's interpolated tracks are sampled every log_mass_step_dex in initial
  * mass, at every EEP.  For one star, every lattice cell (two neighbouring
  * masses x two neighbouring EEPs) near the observation is subdivided until a
- * step moves the model by at most 0.3 sigma of each observable, positions
+ * step moves the model by at most 0.5 sigma of each observable, positions
  * are interpolated bilinearly in (log mass, log age fraction of the EEP
  * interval), and each sub-cell is weighted by
  *     likelihood x IMF(M) dM x (time spent: d age) x metallicity weight,
