@@ -1,0 +1,130 @@
+// The public header as C++ (g++, -Wall -Wextra -Werror -pedantic), the C++
+// layer hrtrail.hpp, and the answers against the same calls made from C
+// (bindings/python/tests/c_side.c, compiled as C and linked in).
+//
+//   test_cxx GRID            layout, evaluation, isochrone, star, errors
+//   test_cxx GRID mismatch   with a stand-in reporting ABI 99 preloaded: the guard must throw
+#include <cmath>
+#include <cstddef>
+#include <cstdio>
+#include <cstring>
+#include <string>
+#include <type_traits>
+#include <vector>
+
+#include "hrtrail.hpp"
+#include "state_layout.h"
+
+extern "C" {
+int ref_state_n_fields(void);
+int ref_state_field(int i, char *name, size_t *offset, size_t *size);
+size_t ref_sizeof(int which);
+int ref_eval(const char *path, size_t n, const double *m, const double *z, double z_all, const double *a,
+             hrt_state *out, char *msg);
+int ref_isochrone(const char *path, double age, double z, size_t cap, hrt_state *out, size_t *n);
+}
+
+static int checks, failures;
+
+static void expect(bool ok, const std::string &what)
+{
+    checks++;
+    if (!ok) {
+        failures++;
+        std::printf("FAIL: %s\n", what.c_str());
+    }
+}
+
+static bool same_bytes(const std::vector<hrt_state> &a, const std::vector<hrt_state> &b)
+{
+    return a.size() == b.size() && (a.empty() || std::memcmp(a.data(), b.data(), a.size() * sizeof(hrt_state)) == 0);
+}
+
+static_assert(std::is_standard_layout<hrt_state>::value, "hrt_state is standard layout in C++");
+static_assert(std::is_trivially_copyable<hrt_state>::value, "hrt_state is trivially copyable in C++");
+
+int main(int argc, char **argv)
+{
+    if (argc < 2) {
+        std::printf("usage: test_cxx GRID [mismatch]\n");
+        return 2;
+    }
+    const std::string grid = argv[1];
+    if (argc > 2 && std::string(argv[2]) == "mismatch") {
+        try {
+            hrtrail::Grid g(grid);
+            expect(false, "the guard accepted a library reporting ABI 99");
+        } catch (const hrtrail::Error &e) {
+            expect(e.code() == HRT_E_VERSION && std::string(e.what()).find("reports ABI 99") != std::string::npos,
+                   std::string("guard message: ") + e.what());
+        }
+        std::printf("c++: %d checks, %d failures\n", checks, failures);
+        return failures ? 1 : 0;
+    }
+
+    // Layout: offsetof as g++ sees it equals offsetof as the C compiler does.
+#define CXX_OFF_(f) offsetof(hrt_state, f),
+#define CXX_SIZE_(f) sizeof(((hrt_state *)nullptr)->f),
+    const size_t offs[] = {HRT_STATE_FIELDS(CXX_OFF_)};
+    const size_t sizes[] = {HRT_STATE_FIELDS(CXX_SIZE_)};
+    const int nf = (int)(sizeof offs / sizeof offs[0]);
+    expect(nf == ref_state_n_fields(), "number of hrt_state fields");
+    for (int i = 0; i < nf; i++) {
+        char name[24];
+        size_t off, sz;
+        ref_state_field(i, name, &off, &sz);
+        expect(off == offs[i] && sz == sizes[i], std::string("offset and size of hrt_state.") + name);
+    }
+    expect(sizeof(hrt_state) == ref_sizeof(0) && sizeof(hrt_error) == ref_sizeof(1) &&
+               sizeof(hrt_phase_span) == ref_sizeof(2),
+           "struct sizes");
+    expect(hrt_state_size() == sizeof(hrt_state) && hrt_abi_version() == HRT_ABI_VERSION, "ABI of the library");
+
+    hrtrail::Grid g(grid);
+    // Stars on a lattice of masses and ages, some outside the grid.
+    std::vector<double> m, a;
+    for (int i = 0; i < 60; i++)
+        for (int j = 0; j < 50; j++) {
+            m.push_back(0.05 * std::pow(200.0 / 0.05, i / 59.0));
+            a.push_back(1e5 * std::pow(2e10 / 1e5, j / 49.0));
+        }
+    std::vector<hrt_state> cxx = g.evaluate(m, a, 0.014, false), c(m.size());
+    char msg[256];
+    int rc = ref_eval(grid.c_str(), m.size(), m.data(), nullptr, 0.014, a.data(), c.data(), msg);
+    expect(same_bytes(cxx, c), "evaluate from C++ equals hrt_eval from C bit for bit");
+    expect(rc == HRT_E_MASS_RANGE, "the lattice reaches outside the grid");
+    try {
+        g.evaluate(m, a, 0.014);
+        expect(false, "no exception for stars outside the grid");
+    } catch (const hrtrail::Error &e) {
+        expect(e.code() == rc && std::string(e.what()) == std::string("hrt_eval: ") + msg,
+               std::string("exception carries code and message: ") + e.what());
+    }
+    std::vector<hrt_state> iso = g.isochrone(1e9, 0.014), ciso(20000);
+    size_t n = 0;
+    ref_isochrone(grid.c_str(), 1e9, 0.014, ciso.size(), ciso.data(), &n);
+    ciso.resize(n);
+    expect(iso.size() > 100 && same_bytes(iso, ciso), "isochrone from C++ equals C");
+
+    hrtrail::Star s(g, 1.0, 0.014);
+    hrt_state st = s.at(4.57e9), ref;
+    double m1 = 1.0, a1 = 4.57e9;
+    ref_eval(grid.c_str(), 1, &m1, nullptr, 0.014, &a1, &ref, msg);
+    expect(std::memcmp(&st, &ref, sizeof st) == 0, "Star::at equals hrt_eval from C");
+    expect(s.phases().size() >= 3 && s.phases().front().phase == HRT_PHASE_PRE_MS, "phases");
+    try {
+        s.at(-1.0);
+        expect(false, "no exception for a negative age");
+    } catch (const hrtrail::Error &e) {
+        expect(e.code() == HRT_E_DOMAIN, "negative age: HRT_E_DOMAIN");
+    }
+    try {
+        hrtrail::Grid missing("/nonexistent/grid.h5");
+        expect(false, "no exception for a missing grid");
+    } catch (const hrtrail::Error &e) {
+        expect(e.code() == HRT_E_IO && std::string(e.what()).find("/nonexistent/grid.h5") != std::string::npos,
+               std::string("missing grid: ") + e.what());
+    }
+    std::printf("c++: %d checks, %d failures\n", checks, failures);
+    return failures ? 1 : 0;
+}
