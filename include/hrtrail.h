@@ -607,8 +607,8 @@ typedef struct hrt_kp_result {
  *   err    code and message
  * Returned (function value):
  *   HRT_OK (also when not every keypoint is reached), HRT_E_NULL,
- *   HRT_E_INVALID (too many keypoints, n < 2, ages not increasing, a flag
- *   naming a keypoint the route does not have).
+ *   HRT_E_INVALID (too many keypoints, n < 2, ages not increasing).
+ *   Flags naming keypoints the route does not have are ignored here.
  * Notes:
  *   1. Keypoints are searched in the route's order, each strictly after the
  *      previous one.  A sample flagged with a keypoint's name takes
@@ -630,8 +630,10 @@ HRT_API int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *ro
  *   route       the route chosen (see Notes), -1 if none reaches 2 keypoints
  *   candidates  bit r set for every route tied with the chosen one (may be NULL)
  *   out         keypoints of the track on the chosen route (may be NULL)
- * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (also: a
+ * flag names a keypoint of no route, or the flags fit no single route).
  * Notes:
+ *   Only routes having every flagged keypoint are considered.
  *   Every route's keypoints are searched (hrt_keypoints_find).  A route is
  *   complete when all its keypoints are found.  The complete route with the
  *   most keypoints wins (a giant track also satisfies the shorter layouts'

@@ -78,8 +78,20 @@ static int route_of(const double bnd[2], double m)
     return GEN_ROUTE_SUPERGIANT;
 }
 
+/* Raw track as CSV.  Besides the model's own columns, the dump carries what
+ * the import's keypoint detection reads (tracks/FORMAT.md, "Keypoint
+ * criteria"), which the model does not compute: center_h1 and center_he4
+ * are PROXIES, not physics: central hydrogen falls linearly in age from
+ * X = 1 - (0.245 + 1.5 Z) - Z at the ZAMS to 0 at the TAMS; central helium
+ * is 1 - Z - center_h1 until core helium burning starts (cheb_start) and
+ * falls linearly in age to 0 at cheb_end.  The keypoint column names the
+ * model's keypoints (the override the import honours). */
 static int dump_raw(const char *dir, const gen_track *t)
 {
+    static const char *const kp_low[] = GEN_LOW_KEYPOINTS;
+    static const char *const kp_giant[] = GEN_GIANT_KEYPOINTS;
+    static const char *const kp_sg[] = GEN_SG_KEYPOINTS;
+    const char *const *kpn = t->route == GEN_ROUTE_LOW ? kp_low : t->route == GEN_ROUTE_GIANT ? kp_giant : kp_sg;
     char path[4096];
     snprintf(path, sizeof path, "%s/raw_z%.4f_m%08.4f.csv", dir, t->z, t->initial_mass);
     FILE *f = fopen(path, "w");
@@ -89,11 +101,27 @@ static int dump_raw(const char *dir, const gen_track *t)
             t->z, t->route, t->remnant, t->remnant_mass);
     for (size_t k = 0; k < t->n_kp; k++)
         fprintf(f, "%s%zu", k ? ";" : "", t->kp[k]);
-    fprintf(f, "\nage_yr,log_l,log_teff,mass,he_core,co_core,phase\n");
+    fprintf(f, "\nage_yr,log_l,log_teff,mass,he_core,co_core,phase,center_h1,center_he4,keypoint\n");
+    double x0 = 1.0 - (0.245 + 1.5 * t->z) - t->z;
+    double t_zams = t->s[t->kp[0]].age_yr, t_tams = t->s[t->kp[1]].age_yr;
+    double t_cs = INFINITY, t_ce = INFINITY;
+    for (size_t k = 0; k < t->n_kp; k++) {
+        if (!strcmp(kpn[k], "cheb_start"))
+            t_cs = t->s[t->kp[k]].age_yr;
+        if (!strcmp(kpn[k], "cheb_end"))
+            t_ce = t->s[t->kp[k]].age_yr;
+    }
+    size_t k = 0;
     for (size_t i = 0; i < t->n; i++) {
         const gen_sample *s = &t->s[i];
-        fprintf(f, "%.17g,%.10f,%.10f,%.10f,%.10f,%.10f,%d\n", s->age_yr, s->log_l, s->log_teff, s->mass,
-                s->he_core, s->co_core, s->phase);
+        double a = s->age_yr;
+        double xc = a <= t_zams ? x0 : a >= t_tams ? 0.0 : x0 * (t_tams - a) / (t_tams - t_zams);
+        double yc = a <= t_cs ? 1.0 - t->z - xc : a >= t_ce ? 0.0 : (1.0 - t->z) * (t_ce - a) / (t_ce - t_cs);
+        const char *flag = "-";
+        if (k < t->n_kp && t->kp[k] == i)
+            flag = kpn[k++];
+        fprintf(f, "%.17g,%.10f,%.10f,%.10f,%.10f,%.10f,%d,%.10g,%.10g,%s\n", a, s->log_l, s->log_teff, s->mass,
+                s->he_core, s->co_core, s->phase, xc, yc, flag);
     }
     return fclose(f) == 0 ? 0 : -1;
 }
