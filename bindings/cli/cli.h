@@ -213,6 +213,7 @@ int cmd_life(cli *c, argparse *p);
 int cmd_plot(cli *c, argparse *p);
 int cmd_grid(cli *c, argparse *p);
 int cmd_demo(cli *c, argparse *p);
+int cmd_import(cli *c, argparse *p);
 
 /* Help texts (help.c). */
 void help_main(FILE *f);

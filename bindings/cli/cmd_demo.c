@@ -19,6 +19,9 @@
 #define CLUSTER_AGE_YR 1.2e9
 #define CLUSTER_Z 0.014
 #define DEFAULT_SVG "marrowind-hr.svg"
+/* The synthetic cluster: stars drawn from the Kroupa (2001) IMF, one burst. */
+#define SYNTH_STARS 40000
+#define SYNTH_SEED 1202
 
 enum { O_OUT = 1 };
 static const optdef demo_opts[] = {{"output", 'o', 1, O_OUT}, {NULL, 0, 0, 0}};
@@ -139,10 +142,14 @@ int cmd_demo(cli *c, argparse *p)
     hrt_state *pts = NULL;
     table *t = NULL, *fates = NULL, *timetable = NULL;
     plot pl;
-    char title[160], subtitle[512], agebuf[64];
+    char title[160], subtitle[512], agebuf[64], dtitle[160], dsub[300];
+    char *density_out = NULL;
+    hrt_pop_summary synth;
+    plot dpl;
 
     memset(mem, 0, sizeof mem);
     plot_init(&pl);
+    plot_init(&dpl);
     while ((id = next_option(c, p, demo_opts, 0, 1, &val)) != OPT_END) {
         if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
         if (id == OPT_POSITIONAL) {
@@ -238,6 +245,39 @@ int cmd_demo(cli *c, argparse *p)
     /* the plot is written first: a failure to write it leaves stdout empty */
     if ((rc = plot_save(c, &pl, out))) goto done;
 
+    /* the synthetic cluster: the whole cluster grown from an IMF with the population module */
+    hrt_pop_spec spec;
+    hrt_error perr;
+    hrt_pop_spec_default(&spec);
+    spec.n_stars = SYNTH_STARS;
+    spec.seed = SYNTH_SEED;
+    spec.zdist.z = z;
+    if (hrt_imf_init(&spec.imf, HRT_IMF_KROUPA_2001, fmax(0.08, lo), fmin(100.0, hi), 0, &perr) != HRT_OK) {
+        rc = cli_fail(c, CLI_EXIT_RANGE, "synthetic cluster: %s", perr.message);
+        goto done;
+    }
+    static const hrt_pop_hr synth_hr = {3.3, 4.9, -5.0, 4.5, 64, 64};
+    hrt_pop_summary_init(&synth, age, &synth_hr, NULL);
+    if ((rc = pop_run_progress(c, &spec, 0, 1, &synth, 0))) goto done;
+    if (strcmp(out, "-") != 0) {
+        size_t ol = strlen(out);
+        density_out = xmalloc(ol + 16);
+        if (ol > 4 && strcmp(out + ol - 4, ".svg") == 0)
+            snprintf(density_out, ol + 16, "%.*s-density.svg", (int)(ol - 4), out);
+        else
+            snprintf(density_out, ol + 16, "%s-density.svg", out);
+        snprintf(dtitle, sizeof dtitle, "The %s cluster grown from an IMF: %d stars (invented)", CLUSTER_NAME, SYNTH_STARS);
+        snprintf(dsub, sizeof dsub, "Kroupa 2001 IMF %.3g-%.3g Msun, one burst %s ago, Z = %g, seed %d", spec.imf.m_lo_msun,
+                 spec.imf.m_hi_msun, agebuf, z, SYNTH_SEED);
+        dpl.title = dtitle;
+        dpl.subtitle = dsub;
+        if ((st = plot_add_isochrone(c, &dpl, age, z, agebuf)) != HRT_OK) {
+            rc = cli_star_failure(c, "cluster isochrone", st, NAN, z, age, NULL);
+            goto done;
+        }
+        if ((rc = pop_write_density_svg(c, &dpl, &synth, density_out))) goto done;
+    }
+
     if (c->fmt == FMT_CSV) {
         table_write_csv(t, stdout);
     } else if (c->fmt == FMT_JSON) {
@@ -258,7 +298,19 @@ int cmd_demo(cli *c, argparse *p)
         for (size_t i = 0; i < nm; i++) life_json(c, &mem[i].L, &w, NULL);
         jw_end_array(&w);
         jw_table(&w, "fates", fates);
+        jw_begin_object(&w, "synthetic_cluster");
+        jw_str(&w, "imf", hrt_imf_name(spec.imf.kind));
+        jw_num(&w, "mass_lo_Msun", spec.imf.m_lo_msun);
+        jw_num(&w, "mass_hi_Msun", spec.imf.m_hi_msun);
+        jw_str(&w, "sfh", hrt_sfh_name(spec.sfh.kind));
+        jw_int(&w, "stars", (long)spec.n_stars);
+        jw_int(&w, "seed", (long)spec.seed);
+        jw_begin_array(&w, "epochs");
+        pop_json(&synth, &w, 0);
+        jw_end_array(&w);
+        jw_end_object(&w);
         jw_str(&w, "svg", out);
+        if (density_out) jw_str(&w, "density_svg", density_out);
         jw_end_object(&w);
         jw_finish(&w);
     } else {
@@ -285,7 +337,13 @@ int cmd_demo(cli *c, argparse *p)
         free(tcols);
         printf("\nFates (from now: negative = already a remnant)\n");
         table_write_text(fates, stdout, "  ");
+        printf("\nThe whole cluster, grown with the population module: %d stars from the Kroupa (2001) IMF\n"
+               "over %.3g-%.3g Msun, born in one burst %s ago (seed %d; 'hrtrail population --stars %d --age %gGyr\n"
+               "--z %g --seed %d' gives the same numbers)\n",
+               SYNTH_STARS, spec.imf.m_lo_msun, spec.imf.m_hi_msun, agebuf, SYNTH_SEED, SYNTH_STARS, age / 1e9, z, SYNTH_SEED);
+        pop_print_text(&synth, stdout, "  ");
         printf("\nHR diagram written to %s (members, their tracks, the %s isochrone)\n", out, agebuf);
+        if (density_out) printf("HR-diagram density of the synthetic cluster written to %s\n", density_out);
         printf("\nAccuracy: the answers are as good as the grid; the default grid is a semi-analytic model\n"
                "(tracks/MODEL.md), meant for population-level work, not precision stellar physics.\n");
     }
@@ -296,5 +354,7 @@ done:
     table_free(fates);
     table_free(timetable);
     plot_free(&pl);
+    plot_free(&dpl);
+    free(density_out);
     return rc;
 }

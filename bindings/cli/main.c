@@ -7,6 +7,7 @@
 static const struct { const char *name; int (*run)(cli *, argparse *); } commands[] = {
     {"at", cmd_at},         {"track", cmd_track}, {"isochrone", cmd_isochrone}, {"life", cmd_life},
     {"plot", cmd_plot},     {"grid", cmd_grid},   {"demo", cmd_demo},
+    {"import", cmd_import},
 };
 
 enum { O_VERSION = 1 };
@@ -42,7 +43,7 @@ int main(int argc, char **argv)
             return 0;
         }
         help_main(stderr);
-        return cli_fail(NULL, CLI_EXIT_USAGE, "no command given (at, track, isochrone, life, plot, grid, demo)");
+        return cli_fail(NULL, CLI_EXIT_USAGE, "no command given (at, track, isochrone, life, plot, grid, demo, import)");
     }
     if (strcmp(val, "help") == 0) {
         if (p.i < argc && help_command(argv[p.i], stdout) == 0) return 0;
@@ -59,6 +60,6 @@ int main(int argc, char **argv)
         return rc;
     }
     return cli_fail(NULL, CLI_EXIT_USAGE,
-                    "unknown command '%s'; the commands are at, track, isochrone, life, plot, grid, demo (see hrtrail --help)",
+                    "unknown command '%s'; the commands are at, track, isochrone, life, plot, grid, demo, import (see hrtrail --help)",
                     val);
 }

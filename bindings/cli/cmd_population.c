@@ -1,0 +1,556 @@
+/*
+ * hrtrail population: draw N stars from an IMF, a star-formation history and
+ * a metallicity distribution, evolve them to one or more ages and summarise
+ * them (counts, masses and light per phase and remnant kind, turnoff mass),
+ * with an HR-diagram density as SVG.  The library does the work in chunks;
+ * this command prints progress between chunks when stderr is a terminal.
+ */
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "cli.h"
+
+enum {
+    O_STARS = 1, O_IMF, O_ALPHA, O_MASS_RANGE, O_SFH, O_SFH_FROM, O_SFH_TO, O_TAU, O_SFH_TABLE, O_AGE, O_SEED, O_THREADS,
+    O_FEH_SPREAD, O_Z_RANGE, O_Z_UNIFORM, O_HR_BINS, O_LOG_TEFF, O_LOG_L, O_OUT
+};
+static const optdef pop_opts[] = {
+    {"stars", 'n', 1, O_STARS},       {"imf", 0, 1, O_IMF},           {"alpha", 0, 1, O_ALPHA},
+    {"mass-range", 0, 1, O_MASS_RANGE}, {"sfh", 0, 1, O_SFH},         {"sfh-from", 0, 1, O_SFH_FROM},
+    {"sfh-to", 0, 1, O_SFH_TO},       {"tau", 0, 1, O_TAU},           {"sfh-table", 0, 1, O_SFH_TABLE},
+    {"age", 'a', 1, O_AGE},           {"seed", 0, 1, O_SEED},         {"threads", 'j', 1, O_THREADS},
+    {"feh-spread", 0, 1, O_FEH_SPREAD}, {"z-range", 0, 1, O_Z_RANGE}, {"z-uniform", 0, 0, O_Z_UNIFORM},
+    {"hr-bins", 0, 1, O_HR_BINS},     {"log-teff", 0, 1, O_LOG_TEFF}, {"log-l", 0, 1, O_LOG_L},
+    {"output", 'o', 1, O_OUT},        {NULL, 0, 0, 0},
+};
+
+static int parse_pair(const cli *c, const char *opt, const char *s, double *a, double *b, int ages)
+{
+    const char *comma = strchr(s, ',');
+    char first[128];
+    if (!comma || (size_t)(comma - s) >= sizeof first)
+        return cli_fail(c, CLI_EXIT_USAGE, "%s '%s': expected two values LO,HI", opt, s);
+    memcpy(first, s, (size_t)(comma - s));
+    first[comma - s] = 0;
+    int bad = ages ? (parse_age_yr(first, a) || parse_age_yr(comma + 1, b)) : (parse_number(first, a) || parse_number(comma + 1, b));
+    if (bad || !(*b > *a))
+        return cli_fail(c, CLI_EXIT_USAGE, "%s '%s': expected two numbers LO,HI with LO < HI", opt, s);
+    return 0;
+}
+
+/* ------------------------------------------------------------ tables */
+
+static const col rec_cols[] = {
+    {"age_yr", "age [Myr]", COL_NUM, "%.6g", 1e-6},
+    {"record", NULL, COL_TEXT, NULL, 0},
+    {"key", "", COL_TEXT, NULL, 0},
+    {"stars", "stars", COL_NUM, "%.0f", 0},
+    {"fraction", "fraction", COL_NUM, "%.5f", 0},
+    {"initial_mass_Msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
+    {"mass_Msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
+    {"L_Lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
+};
+#define N_REC_COLS (sizeof rec_cols / sizeof rec_cols[0])
+static const col rec_cols_text[N_REC_COLS] = {
+    {"age_yr", NULL, COL_NUM, NULL, 0},
+    {"record", NULL, COL_TEXT, NULL, 0},
+    {"key", "", COL_TEXT, NULL, 0},
+    {"stars", "stars", COL_NUM, "%.0f", 0},
+    {"fraction", "fraction", COL_NUM, "%.5f", 0},
+    {"initial_mass_Msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
+    {"mass_Msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
+    {"L_Lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
+};
+
+static void add_rec(table *t, double age, const char *record, const char *key, uint64_t n, uint64_t of, double m0,
+                    double m, double l)
+{
+    size_t r = table_add_row(t);
+    table_num(t, r, 0, age);
+    table_text(t, r, 1, record);
+    table_text(t, r, 2, key);
+    table_num(t, r, 3, (double)n);
+    table_num(t, r, 4, of ? (double)n / (double)of : NAN);
+    table_num(t, r, 5, m0);
+    table_num(t, r, 6, m);
+    table_num(t, r, 7, l);
+}
+
+/* Rows of one epoch: phases, then remnant kinds (kind 0: stars that are no remnant), then failures. */
+static void summary_rows(const hrt_pop_summary *s, table *ph, table *rem)
+{
+    for (int p = 0; p < HRT_PHASE_COUNT; p++)
+        if (s->n_phase[p])
+            add_rec(ph, s->age_yr, "phase", hrt_phase_key(p), s->n_phase[p], s->n_evaluated,
+                    hrt_pop_sum_value(&s->phase_initial_mass_msun[p]), hrt_pop_sum_value(&s->phase_mass_msun[p]),
+                    hrt_pop_sum_value(&s->phase_l_lsun[p]));
+    for (int r = 0; r < HRT_REMNANT_COUNT; r++)
+        if (s->n_remnant[r] || r > 0)
+            add_rec(rem, s->age_yr, "remnant", r ? hrt_remnant_key(r) : "star", s->n_remnant[r], s->n_evaluated, NAN,
+                    hrt_pop_sum_value(&s->remnant_mass_msun[r]), NAN);
+    for (int k = 1; k < HRT_STATUS_COUNT_; k++)
+        if (s->n_status[k])
+            add_rec(rem, s->age_yr, "failed", hrt_strerror(k), s->n_status[k], s->n_drawn - s->n_unborn, NAN, NAN, NAN);
+}
+
+/* M_bol of a luminosity in Lsun, IAU 2015 Resolution B2 zero point. */
+static double mbol(double l_lsun) { return -2.5 * log10(l_lsun * HRT_LSUN_W / HRT_MBOL_ZERO_POINT_W); }
+
+void pop_print_text(const hrt_pop_summary *s, FILE *f, const char *indent)
+{
+    table *ph = table_new(rec_cols, N_REC_COLS), *rem = table_new(rec_cols, N_REC_COLS);
+    summary_rows(s, ph, rem);
+    char agebuf[64];
+    format_age(agebuf, sizeof agebuf, s->age_yr);
+    double l = hrt_pop_sum_value(&s->l_lsun), m = hrt_pop_sum_value(&s->mass_msun);
+    fprintf(f, "%sAt %s: %llu stars born (%llu not yet), %llu evaluated", indent, agebuf,
+            (unsigned long long)(s->n_drawn - s->n_unborn), (unsigned long long)s->n_unborn,
+            (unsigned long long)s->n_evaluated);
+    if (s->n_evaluated < s->n_drawn - s->n_unborn)
+        fprintf(f, ", %llu outside what the grid covers (%.6g Msun, not counted below)",
+                (unsigned long long)(s->n_drawn - s->n_unborn - s->n_evaluated), hrt_pop_sum_value(&s->failed_initial_mass_msun));
+    fprintf(f, "\n\n");
+    /* the human tables drop the age column: it is in the heading */
+    ph->cols = rem->cols = rec_cols_text;
+    table_write_text(ph, f, indent);
+    fputc('\n', f);
+    table_write_text(rem, f, indent);
+    fprintf(f, "\n%sInitial mass %.6g Msun, mass now %.6g Msun (stars and remnants)\n", indent,
+            hrt_pop_sum_value(&s->initial_mass_msun), m);
+    fprintf(f, "%sIntegrated bolometric luminosity %.6g Lsun (M_bol %.3f), M/L %.4g Msun/Lsun\n", indent, l,
+            l > 0 ? mbol(l) : NAN, l > 0 ? m / l : NAN);
+    if (s->ms_max_initial_mass_msun > 0 && isfinite(s->evolved_min_initial_mass_msun))
+        fprintf(f, "%sMain-sequence turnoff: %.5g Msun (heaviest main-sequence star %.6g, lightest evolved star %.6g Msun)\n",
+                indent, hrt_pop_turnoff_mass(s), s->ms_max_initial_mass_msun, s->evolved_min_initial_mass_msun);
+    table_free(ph);
+    table_free(rem);
+}
+
+void pop_json(const hrt_pop_summary *s, jw *w, int with_hr)
+{
+    table *ph = table_new(rec_cols, N_REC_COLS), *rem = table_new(rec_cols, N_REC_COLS);
+    summary_rows(s, ph, rem);
+    double l = hrt_pop_sum_value(&s->l_lsun);
+    jw_begin_object(w, NULL);
+    jw_num(w, "age_yr", s->age_yr);
+    jw_int(w, "drawn", (long)s->n_drawn);
+    jw_int(w, "unborn", (long)s->n_unborn);
+    jw_int(w, "evaluated", (long)s->n_evaluated);
+    jw_num(w, "failed_initial_mass_Msun", hrt_pop_sum_value(&s->failed_initial_mass_msun));
+    jw_num(w, "initial_mass_Msun", hrt_pop_sum_value(&s->initial_mass_msun));
+    jw_num(w, "mass_Msun", hrt_pop_sum_value(&s->mass_msun));
+    jw_num(w, "L_Lsun", l);
+    jw_num(w, "M_bol", l > 0 ? mbol(l) : NAN);
+    jw_num(w, "turnoff_mass_Msun", hrt_pop_turnoff_mass(s));
+    jw_num(w, "ms_max_initial_mass_Msun", s->ms_max_initial_mass_msun > 0 ? s->ms_max_initial_mass_msun : NAN);
+    jw_num(w, "evolved_min_initial_mass_Msun", s->evolved_min_initial_mass_msun);
+    jw_table(w, "phases", ph);
+    jw_table(w, "remnants", rem);
+    if (with_hr && s->hr.nx) {
+        jw_begin_object(w, "hr_histogram");
+        jw_num(w, "log_Teff_K_lo", s->hr.log_teff_lo);
+        jw_num(w, "log_Teff_K_hi", s->hr.log_teff_hi);
+        jw_num(w, "log_L_Lsun_lo", s->hr.log_l_lo);
+        jw_num(w, "log_L_Lsun_hi", s->hr.log_l_hi);
+        jw_int(w, "nx", (long)s->hr.nx);
+        jw_int(w, "ny", (long)s->hr.ny);
+        jw_int(w, "outside", (long)s->hr_outside);
+        jw_begin_array(w, "counts");
+        for (uint64_t iy = 0; iy < s->hr.ny; iy++) {
+            jw_begin_array(w, NULL);
+            for (uint64_t ix = 0; ix < s->hr.nx; ix++) jw_int(w, NULL, (long)s->hr_count[iy * s->hr.nx + ix]);
+            jw_end_array(w);
+        }
+        jw_end_array(w);
+        jw_end_object(w);
+    }
+    jw_end_object(w);
+    table_free(ph);
+    table_free(rem);
+}
+
+/* ------------------------------------------------------- density SVG */
+
+/* Sequential palette, light to dark (hrtrail's own), indexed by log count. */
+static const char palette[8][8] = {"#f3eed9", "#dcd6a8", "#b9c98a", "#86b27c", "#5a9478", "#3b7272", "#2c4f68", "#221f4f"};
+
+/*
+ * The HR diagram of plot p (axes, isochrone, legend from svg.c) with the
+ * summary's histogram drawn under it: the SVG is written to memory by
+ * plot_write_svg and the density layer inserted inside its clipped plot
+ * area, placed by the plot-area rectangle's data attributes.
+ */
+int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const char *path)
+{
+    char *buf = NULL;
+    size_t len = 0;
+    FILE *m = open_memstream(&buf, &len);
+    if (!m) return cli_fail(c, CLI_EXIT_INTERNAL, "out of memory for the SVG");
+    p->have_xrange = p->have_yrange = 1;
+    p->xlo = s->hr.log_teff_lo, p->xhi = s->hr.log_teff_hi, p->ylo = s->hr.log_l_lo, p->yhi = s->hr.log_l_hi;
+    int bad = plot_write_svg(p, m);
+    fclose(m);
+    const char *area = buf ? strstr(buf, "<rect id=\"plot-area\"") : NULL, *clip = buf ? strstr(buf, "<g clip-path=\"url(#area)\">\n") : NULL;
+    double tl, tr, lb, lt, x0, y0, w, h;
+    if (bad || !area || !clip ||
+        sscanf(area, "<rect id=\"plot-area\" data-log-teff-left=\"%lf\" data-log-teff-right=\"%lf\" data-log-l-bottom=\"%lf\" "
+                     "data-log-l-top=\"%lf\" x=\"%lf\" y=\"%lf\" width=\"%lf\" height=\"%lf\"",
+               &tl, &tr, &lb, &lt, &x0, &y0, &w, &h) != 8) {
+        free(buf);
+        return cli_fail(c, CLI_EXIT_INTERNAL, "cannot lay out the density SVG");
+    }
+    size_t n = strlen(path) + 16;
+    char *tmp = xmalloc(n);
+    snprintf(tmp, n, "%s.tmp", path);
+    FILE *f = strcmp(path, "-") ? fopen(tmp, "w") : stdout;
+    if (!f) {
+        int e = errno;
+        free(buf);
+        free(tmp);
+        return cli_fail(c, CLI_EXIT_FILE, "cannot write '%s': %s", path, strerror(e));
+    }
+    const char *after = clip + strlen("<g clip-path=\"url(#area)\">\n");
+    fwrite(buf, 1, (size_t)(after - buf), f);
+    uint64_t cmax = 0;
+    for (uint64_t k = 0; k < s->hr.nx * s->hr.ny; k++) cmax = s->hr_count[k] > cmax ? s->hr_count[k] : cmax;
+    double bw = (s->hr.log_teff_hi - s->hr.log_teff_lo) / (double)s->hr.nx;
+    double bh = (s->hr.log_l_hi - s->hr.log_l_lo) / (double)s->hr.ny;
+    fprintf(f, "<g id=\"density\" data-max-count=\"%llu\">\n", (unsigned long long)cmax);
+    for (uint64_t iy = 0; iy < s->hr.ny; iy++)
+        for (uint64_t ix = 0; ix < s->hr.nx; ix++) {
+            uint64_t k = s->hr_count[iy * s->hr.nx + ix];
+            if (!k) continue;
+            double t_hi = s->hr.log_teff_lo + (double)(ix + 1) * bw, l_hi = s->hr.log_l_lo + (double)(iy + 1) * bh;
+            double px = x0 + (tl - t_hi) / (tl - tr) * w, py = y0 + (lt - l_hi) / (lt - lb) * h;
+            double pw = bw / (tl - tr) * w, phh = bh / (lt - lb) * h;
+            int ci = cmax > 1 ? (int)floor(7.999 * log((double)k) / log((double)cmax)) : 7;
+            fprintf(f, "<rect class=\"density\" data-count=\"%llu\" data-log-teff=\"%.6g\" data-log-l=\"%.6g\" x=\"%.2f\" "
+                       "y=\"%.2f\" width=\"%.2f\" height=\"%.2f\" fill=\"%s\"/>\n",
+                    (unsigned long long)k, t_hi - 0.5 * bw, l_hi - 0.5 * bh, px, py, pw + 0.05, phh + 0.05,
+                    palette[ci < 0 ? 0 : ci]);
+        }
+    fprintf(f, "</g>\n");
+    /* everything else, with a colour scale before the closing tag */
+    const char *end = strstr(after, "</svg>");
+    fwrite(after, 1, end ? (size_t)(end - after) : strlen(after), f);
+    double kx = x0 + w + 22, ky = y0 + h - 150;
+    fprintf(f, "<g id=\"density-scale\" font-size=\"11\" fill=\"#1a1a1a\">\n<text x=\"%.1f\" y=\"%.1f\" font-weight=\"bold\">"
+               "Stars per bin</text>\n", kx, ky);
+    for (int i = 0; i < 8; i++) {
+        double lo = cmax > 1 ? exp(log((double)cmax) * i / 8.0) : 1;
+        fprintf(f, "<rect x=\"%.1f\" y=\"%.1f\" width=\"16\" height=\"14\" fill=\"%s\" stroke=\"#888\" stroke-width=\"0.5\"/>"
+                   "<text x=\"%.1f\" y=\"%.1f\">%s%.3g</text>\n",
+                kx, ky + 8 + 15.0 * i, palette[i], kx + 22, ky + 19 + 15.0 * i, i ? "\xe2\x89\xa5 " : "", i ? ceil(lo) : 1.0);
+    }
+    fprintf(f, "</g>\n</svg>\n");
+    free(buf);
+    if (f == stdout) {
+        free(tmp);
+        return fflush(stdout) ? cli_fail(c, CLI_EXIT_FILE, "cannot write the SVG to standard output") : 0;
+    }
+    int e = 0;
+    bad = ferror(f) != 0;
+    if (bad) e = errno;
+    if (fclose(f) != 0 && !bad) bad = 1, e = errno;
+    if (!bad && rename(tmp, path) != 0) bad = 1, e = errno;
+    if (bad) {
+        remove(tmp);
+        free(tmp);
+        return cli_fail(c, CLI_EXIT_FILE, "cannot write '%s': %s", path, strerror(e));
+    }
+    free(tmp);
+    return 0;
+}
+
+/* Run the population in pieces, with progress on stderr when it is a terminal. */
+int pop_run_progress(const cli *c, const hrt_pop_spec *spec, int threads, size_t n_ages, hrt_pop_summary *sums,
+                     int progress)
+{
+    uint64_t nc = hrt_pop_n_chunks(spec), step = (uint64_t)(threads > 0 ? threads : hrt_pop_max_threads()) * 4;
+    hrt_error err;
+    if (!progress) step = nc ? nc : 1;
+    for (uint64_t c0 = 0; c0 < nc; c0 += step) {
+        int rc = hrt_pop_run(c->grid, spec, c0, step, threads, n_ages, sums, &err);
+        if (rc != HRT_OK) return cli_fail(c, cli_exit_of_status(rc), "%s", err.message);
+        if (progress) {
+            uint64_t done = c0 + step < nc ? c0 + step : nc;
+            double stars = (double)(done * spec->chunk_size < spec->n_stars ? done * spec->chunk_size : spec->n_stars);
+            fprintf(stderr, "\rhrtrail %s: %3.0f%% (%.4g of %.4g stars)", c->cmd, 100.0 * (double)done / (double)nc, stars,
+                    (double)spec->n_stars);
+        }
+    }
+    if (progress) fprintf(stderr, "\r%60s\r", "");
+    return 0;
+}
+
+static double seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
+}
+
+static int read_sfh_table(const cli *c, const char *path, dlist *t, dlist *r)
+{
+    csvfile f;
+    int rc = csv_read(c, path, &f);
+    if (rc) return rc;
+    static const char *const tn[] = {"t_yr", "time_yr", "t", "time", NULL}, *const rn[] = {"rate", "sfr", NULL};
+    long it = csv_column(&f, tn), ir = csv_column(&f, rn);
+    if (it < 0 || ir < 0) {
+        csv_free(&f);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s: the SFH table needs columns t_yr (or time) and rate (or sfr)", path);
+    }
+    for (size_t i = 0; i < f.nrow; i++) {
+        double tv, rv;
+        if (parse_age_yr(f.rows[i][it], &tv) || parse_number(f.rows[i][ir], &rv)) {
+            csv_free(&f);
+            return cli_fail(c, CLI_EXIT_USAGE, "%s line %ld: cannot read time '%s' or rate '%s'", path, f.line[i],
+                            f.rows[i][it], f.rows[i][ir]);
+        }
+        dlist_push(t, tv, NULL);
+        dlist_push(r, rv, NULL);
+    }
+    csv_free(&f);
+    return 0;
+}
+
+int cmd_population(cli *c, argparse *p)
+{
+    const char *val, *out = NULL, *imf_name = "kroupa2001", *sfh_name = "burst", *table_path = NULL;
+    int id, rc = 0, threads = 0, z_uniform = 0, have_range = 0, have_zr = 0;
+    double n_stars = 0, alpha = NAN, m_lo = 0.08, m_hi = 100, t_from = 0, t_to = NAN, tau = NAN, spread = NAN;
+    double z_lo = NAN, z_hi = NAN, seedv = 1;
+    hrt_pop_hr hr = {3.3, 4.9, -5.0, 6.5, 64, 64};
+    dlist ages = {0}, tt = {0}, tr = {0};
+    hrt_pop_summary *sums = NULL;
+    plot pl;
+    plot_init(&pl);
+    while ((id = next_option(c, p, pop_opts, 1, 1, &val)) != OPT_END) {
+        switch (id) {
+        case OPT_ERROR: rc = CLI_EXIT_USAGE; goto done;
+        case OPT_POSITIONAL: rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val); goto done;
+        case O_STARS:
+            if (parse_number(val, &n_stars) || !(n_stars >= 1 && n_stars <= 1e15) || n_stars != floor(n_stars)) {
+                rc = cli_fail(c, CLI_EXIT_USAGE, "--stars '%s': expected a whole number from 1 to 1e15, e.g. 1e8", val);
+                goto done;
+            }
+            break;
+        case O_IMF: imf_name = val; break;
+        case O_ALPHA:
+            if (parse_number(val, &alpha)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--alpha '%s': expected a number", val); goto done; }
+            break;
+        case O_MASS_RANGE:
+            if ((rc = parse_pair(c, "--mass-range", val, &m_lo, &m_hi, 0))) goto done;
+            have_range = 1;
+            break;
+        case O_SFH: sfh_name = val; break;
+        case O_SFH_FROM:
+            if (parse_age_yr(val, &t_from)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh-from '%s': expected a time, e.g. 2Gyr", val); goto done; }
+            break;
+        case O_SFH_TO:
+            if (parse_age_yr(val, &t_to)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh-to '%s': expected a time, e.g. 10Gyr", val); goto done; }
+            break;
+        case O_TAU:
+            if (parse_age_yr(val, &tau)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--tau '%s': expected a time, e.g. 3Gyr", val); goto done; }
+            break;
+        case O_SFH_TABLE: table_path = val; sfh_name = "table"; break;
+        case O_AGE:
+            if ((rc = add_age_list(c, "--age", val, &ages))) goto done;
+            break;
+        case O_SEED:
+            if (parse_number(val, &seedv) || !(seedv >= 0 && seedv < 1.8e19) || seedv != floor(seedv)) {
+                rc = cli_fail(c, CLI_EXIT_USAGE, "--seed '%s': expected a whole number >= 0", val);
+                goto done;
+            }
+            break;
+        case O_THREADS: {
+            long v;
+            if (parse_count(val, 0, 4096, &v)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--threads '%s': expected 0 (all) to 4096", val); goto done; }
+            threads = (int)v;
+            break;
+        }
+        case O_FEH_SPREAD:
+            if (parse_number(val, &spread) || !(spread > 0)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--feh-spread '%s': expected a spread in dex > 0", val); goto done; }
+            break;
+        case O_Z_RANGE:
+            if ((rc = parse_pair(c, "--z-range", val, &z_lo, &z_hi, 0))) goto done;
+            have_zr = 1;
+            break;
+        case O_Z_UNIFORM: z_uniform = 1; break;
+        case O_HR_BINS: {
+            long nx, ny;
+            char tmp[64];
+            const char *cm = strchr(val, ',');
+            if (!cm || (size_t)(cm - val) >= sizeof tmp) { rc = cli_fail(c, CLI_EXIT_USAGE, "--hr-bins '%s': expected NX,NY", val); goto done; }
+            memcpy(tmp, val, (size_t)(cm - val));
+            tmp[cm - val] = 0;
+            if (parse_count(tmp, 1, 10000, &nx) || parse_count(cm + 1, 1, 10000, &ny) || nx * ny > HRT_POP_HR_MAX_BINS) {
+                rc = cli_fail(c, CLI_EXIT_USAGE, "--hr-bins '%s': expected NX,NY with NX x NY <= %d", val, HRT_POP_HR_MAX_BINS);
+                goto done;
+            }
+            hr.nx = (uint64_t)nx, hr.ny = (uint64_t)ny;
+            break;
+        }
+        case O_LOG_TEFF:
+            if ((rc = parse_pair(c, "--log-teff", val, &hr.log_teff_lo, &hr.log_teff_hi, 0))) goto done;
+            break;
+        case O_LOG_L:
+            if ((rc = parse_pair(c, "--log-l", val, &hr.log_l_lo, &hr.log_l_hi, 0))) goto done;
+            break;
+        case O_OUT: out = val; break;
+        }
+    }
+    if (c->want_help) { help_command("population", stdout); goto done; }
+    if (n_stars == 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--stars N is required, e.g. --stars 1e6"); goto done; }
+    if (ages.n == 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--age AGE[,AGE...] is required, e.g. --age 1Gyr,10Gyr"); goto done; }
+    int imf = hrt_imf_from_name(imf_name), sfh = hrt_sfh_from_name(sfh_name);
+    if (imf < 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--imf '%s': one of salpeter1955, kroupa2001, chabrier2003, powerlaw", imf_name); goto done; }
+    if (imf == HRT_IMF_POWER_LAW && isnan(alpha)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--imf powerlaw needs --alpha A (dN/dm ~ m^-A)"); goto done; }
+    if (sfh < 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh '%s': one of burst, constant, exponential, table", sfh_name); goto done; }
+    if ((rc = cli_open_grid(c))) goto done;
+
+    hrt_pop_spec spec;
+    hrt_error err;
+    hrt_pop_spec_default(&spec);
+    spec.n_stars = (uint64_t)n_stars;
+    spec.seed = (uint64_t)seedv;
+    double z;
+    if ((rc = cli_resolve_z(c, &z))) goto done;
+    double gl, gh;
+    if (hrt_grid_mass_range(c->grid, z, &gl, &gh) == HRT_OK && !have_range) {
+        m_lo = fmax(m_lo, gl);
+        m_hi = fmin(m_hi, gh);
+    }
+    int st = hrt_imf_init(&spec.imf, imf, m_lo, m_hi, alpha, &err);
+    if (st != HRT_OK) { rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message); goto done; }
+    spec.sfh.kind = sfh;
+    spec.sfh.t_start_yr = t_from;
+    spec.sfh.t_end_yr = isnan(t_to) ? ages.v[ages.n - 1] : t_to;
+    spec.sfh.tau_yr = tau;
+    if (sfh == HRT_SFH_TABLE) {
+        if (!table_path) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh table needs --sfh-table FILE (CSV with t_yr and rate)"); goto done; }
+        if ((rc = read_sfh_table(c, table_path, &tt, &tr))) goto done;
+        spec.sfh.n_table = tt.n;
+        spec.sfh.table_t_yr = tt.v;
+        spec.sfh.table_rate = tr.v;
+    }
+    double gzl, gzh;
+    hrt_grid_z_range(c->grid, &gzl, &gzh);
+    if (!have_zr) z_lo = gzl, z_hi = gzh;
+    if (z_uniform) {
+        spec.zdist.kind = HRT_ZDIST_LOG_UNIFORM;
+    } else if (!isnan(spread)) {
+        spec.zdist.kind = HRT_ZDIST_LOG_NORMAL;
+        spec.zdist.sigma_dex = spread;
+    }
+    spec.zdist.z = z;
+    spec.zdist.z_lo = z_lo;
+    spec.zdist.z_hi = z_hi;
+    if ((st = hrt_pop_spec_check(&spec, &err)) != HRT_OK) { rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message); goto done; }
+
+    sums = xmalloc(ages.n * sizeof *sums);
+    for (size_t i = 0; i < ages.n; i++)
+        if ((st = hrt_pop_summary_init(&sums[i], ages.v[i], &hr, &err)) != HRT_OK) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
+            goto done;
+        }
+    double t0 = seconds();
+    if ((rc = pop_run_progress(c, &spec, threads, ages.n, sums, isatty(STDERR_FILENO)))) goto done;
+    double dt = seconds() - t0;
+    int nthreads = threads > 0 ? threads : hrt_pop_max_threads();
+
+    if (out) {
+        char title[200], sub[300], agebuf[64];
+        format_age(agebuf, sizeof agebuf, ages.v[0]);
+        snprintf(title, sizeof title, "HR-diagram density: %.4g stars at %s", (double)spec.n_stars, agebuf);
+        snprintf(sub, sizeof sub, "%s IMF %g-%g Msun, SFH %s, Z %s %g; seed %llu; grid %s", hrt_imf_name(imf), m_lo, m_hi,
+                 hrt_sfh_name(sfh), spec.zdist.kind == HRT_ZDIST_FIXED ? "=" : "around", z,
+                 (unsigned long long)spec.seed, c->grid_used);
+        pl.title = title;
+        pl.subtitle = sub;
+        /* a single burst at one Z: its isochrone over the density */
+        if (sfh == HRT_SFH_BURST && spec.zdist.kind == HRT_ZDIST_FIXED && ages.v[0] > t_from)
+            plot_add_isochrone(c, &pl, ages.v[0] - t_from, z, agebuf);
+        if ((rc = pop_write_density_svg(c, &pl, &sums[0], out))) goto done;
+    }
+    if (c->fmt == FMT_CSV) {
+        table *all = table_new(rec_cols, N_REC_COLS), *rem = table_new(rec_cols, N_REC_COLS);
+        for (size_t i = 0; i < ages.n; i++) {
+            summary_rows(&sums[i], all, rem);
+            for (size_t r = 0; r < rem->nrow; r++) {
+                size_t k = table_add_row(all);
+                for (size_t cc = 0; cc < N_REC_COLS; cc++) {
+                    if (rec_cols[cc].type == COL_TEXT) table_text(all, k, cc, rem->text[r * N_REC_COLS + cc]);
+                    else table_num(all, k, cc, rem->num[r * N_REC_COLS + cc]);
+                }
+            }
+            table_free(rem);
+            rem = table_new(rec_cols, N_REC_COLS);
+        }
+        table_write_csv(all, stdout);
+        table_free(all);
+        table_free(rem);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_begin_object(&w, "population");
+        jw_num(&w, "stars", (double)spec.n_stars);
+        jw_str(&w, "imf", hrt_imf_name(imf));
+        jw_num(&w, "mass_lo_Msun", m_lo);
+        jw_num(&w, "mass_hi_Msun", m_hi);
+        jw_num(&w, "imf_mean_mass_Msun", hrt_imf_mean_mass(&spec.imf));
+        jw_str(&w, "sfh", hrt_sfh_name(sfh));
+        jw_num(&w, "sfh_from_yr", t_from);
+        jw_num(&w, "sfh_to_yr", sfh == HRT_SFH_CONSTANT || sfh == HRT_SFH_EXPONENTIAL ? spec.sfh.t_end_yr : NAN);
+        jw_num(&w, "tau_yr", sfh == HRT_SFH_EXPONENTIAL ? tau : NAN);
+        jw_str(&w, "z_distribution", spec.zdist.kind == HRT_ZDIST_FIXED ? "fixed" : spec.zdist.kind == HRT_ZDIST_LOG_UNIFORM ? "log-uniform" : "log-normal");
+        jw_num(&w, "Z", z);
+        jw_num(&w, "feh_spread_dex", spec.zdist.kind == HRT_ZDIST_LOG_NORMAL ? spread : NAN);
+        jw_num(&w, "Z_lo", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_lo);
+        jw_num(&w, "Z_hi", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_hi);
+        jw_num(&w, "seed", (double)spec.seed);
+        jw_int(&w, "chunk_size", (long)spec.chunk_size);
+        jw_end_object(&w);
+        jw_str(&w, "grid", c->grid_used);
+        jw_begin_array(&w, "epochs");
+        for (size_t i = 0; i < ages.n; i++) pop_json(&sums[i], &w, 1);
+        jw_end_array(&w);
+        if (out) jw_str(&w, "svg", out);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else {
+        printf("Population: %.6g stars, %s IMF over %g-%g Msun (mean %.4g Msun), SFH %s", (double)spec.n_stars,
+               hrt_imf_name(imf), m_lo, m_hi, hrt_imf_mean_mass(&spec.imf), hrt_sfh_name(sfh));
+        if (sfh == HRT_SFH_BURST) printf(" at %g Myr", t_from / 1e6);
+        else if (sfh != HRT_SFH_TABLE) printf(" from %g to %g Myr", t_from / 1e6, spec.sfh.t_end_yr / 1e6);
+        if (sfh == HRT_SFH_EXPONENTIAL) printf(" (tau %g Myr)", tau / 1e6);
+        if (spec.zdist.kind == HRT_ZDIST_FIXED) printf(", Z = %g\n", z);
+        else if (spec.zdist.kind == HRT_ZDIST_LOG_UNIFORM) printf(", Z log-uniform in %g-%g\n", z_lo, z_hi);
+        else printf(", Z log-normal around %g (%.3g dex) in %g-%g\n", z, spread, z_lo, z_hi);
+        printf("seed %llu; %d thread%s, %.3g s (%.3g stars per second per epoch)\ngrid: %s\n\n", (unsigned long long)spec.seed,
+               nthreads, nthreads == 1 ? "" : "s", dt, (double)spec.n_stars * (double)ages.n / dt, c->grid_used);
+        for (size_t i = 0; i < ages.n; i++) {
+            pop_print_text(&sums[i], stdout, "  ");
+            putchar('\n');
+        }
+        printf("Ages are the population's, since star formation began; 'star' counts stars that are not\n"
+               "remnants. The turnoff is for a single burst at one metallicity. Sampling noise: counts are\n"
+               "Poisson; same seed, same numbers, whatever the number of threads.\n");
+        if (out) printf("HR-diagram density at the first age written to %s\n", out);
+        printf("\nAccuracy: the answers are as good as the grid; the default grid is a semi-analytic model\n"
+               "(tracks/MODEL.md), meant for population-level work, not precision stellar physics.\n");
+    }
+done:
+    free(sums);
+    dlist_free(&ages);
+    dlist_free(&tt);
+    dlist_free(&tr);
+    plot_free(&pl);
+    return rc;
+}
