@@ -213,6 +213,8 @@ int cmd_life(cli *c, argparse *p);
 int cmd_plot(cli *c, argparse *p);
 int cmd_grid(cli *c, argparse *p);
 int cmd_demo(cli *c, argparse *p);
+int cmd_fit(cli *c, argparse *p);
+int cmd_forecast(cli *c, argparse *p);
 int cmd_import(cli *c, argparse *p);
 
 /* Help texts (help.c). */

@@ -7,6 +7,7 @@
 static const struct { const char *name; int (*run)(cli *, argparse *); } commands[] = {
     {"at", cmd_at},         {"track", cmd_track}, {"isochrone", cmd_isochrone}, {"life", cmd_life},
     {"plot", cmd_plot},     {"grid", cmd_grid},   {"demo", cmd_demo},
+    {"fit", cmd_fit},       {"forecast", cmd_forecast},
     {"import", cmd_import},
 };
 

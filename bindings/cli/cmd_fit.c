@@ -1,0 +1,406 @@
+/* hrtrail fit: mass, age, phase and distance of observed stars from the HR diagram. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "fitcli.h"
+
+enum {
+    F_TEFF = FIT_OPT_BASE, F_TEFF_S, F_LOGL, F_LOGL_S, F_FEH, F_FEH_S, F_LOGG, F_LOGG_S, F_FLUX, F_FLUX_S, F_MBOL,
+    F_MBOL_S, F_DIST, F_DIST_S, F_PLX, F_PLX_S, F_PRIOR, F_AGE_MAX, F_MASS_MIN, F_MASS_MAX, F_FEH_STEP, F_SEED
+};
+
+/* Option names and the CSV column of each measured quantity (value, sigma). */
+static const struct { const char *opt, *col; } meas_names[8][2] = {
+    {{"teff", "teff"}, {"teff-sigma", "teff_sigma"}},
+    {{"log-l", "log_l"}, {"log-l-sigma", "log_l_sigma"}},
+    {{"feh", "feh"}, {"feh-sigma", "feh_sigma"}},
+    {{"logg", "logg"}, {"logg-sigma", "logg_sigma"}},
+    {{"flux", "flux"}, {"flux-sigma", "flux_sigma"}},
+    {{"mbol", "mbol"}, {"mbol-sigma", "mbol_sigma"}},
+    {{"distance", "distance"}, {"distance-sigma", "distance_sigma"}},
+    {{"parallax", "parallax"}, {"parallax-sigma", "parallax_sigma"}},
+};
+
+const optdef fit_optdefs[] = {
+    {"teff", 0, 1, F_TEFF},         {"teff-sigma", 0, 1, F_TEFF_S},         {"log-l", 0, 1, F_LOGL},
+    {"log-l-sigma", 0, 1, F_LOGL_S}, {"feh", 0, 1, F_FEH},                   {"feh-sigma", 0, 1, F_FEH_S},
+    {"logg", 0, 1, F_LOGG},         {"logg-sigma", 0, 1, F_LOGG_S},         {"flux", 0, 1, F_FLUX},
+    {"flux-sigma", 0, 1, F_FLUX_S}, {"mbol", 0, 1, F_MBOL},                 {"mbol-sigma", 0, 1, F_MBOL_S},
+    {"distance", 0, 1, F_DIST},     {"distance-sigma", 0, 1, F_DIST_S},     {"parallax", 0, 1, F_PLX},
+    {"parallax-sigma", 0, 1, F_PLX_S}, {"prior", 0, 1, F_PRIOR},            {"age-max", 0, 1, F_AGE_MAX},
+    {"mass-min", 0, 1, F_MASS_MIN}, {"mass-max", 0, 1, F_MASS_MAX},         {"feh-step", 0, 1, F_FEH_STEP},
+    {"seed", 0, 1, F_SEED},         {NULL, 0, 0, 0},
+};
+
+void fitopts_init(fitopts *f)
+{
+    memset(f, 0, sizeof *f);
+    hrt_fit_obs_init(&f->obs);
+    hrt_fit_model_options_default(&f->mo);
+    f->seed = 1;
+}
+
+int fitopt_take(cli *c, fitopts *f, int id, const char *val)
+{
+    double v;
+    if (id >= F_TEFF && id <= F_PLX_S) {
+        int k = id - F_TEFF;
+        if (parse_number(val, &v) != 0) {
+            cli_fail(c, CLI_EXIT_USAGE, "--%s: '%s' is not a number", meas_names[k / 2][k % 2].opt, val);
+            return -1;
+        }
+        ((double *)&f->obs)[k] = v;
+        f->any_obs = 1;
+        return 1;
+    }
+    switch (id) {
+    case F_PRIOR: {
+        int p = hrt_fit_mass_prior_from_name(val);
+        if (p < 0) {
+            cli_fail(c, CLI_EXIT_USAGE, "--prior: unknown mass prior '%s' (kroupa2001, chabrier2003, log-flat)", val);
+            return -1;
+        }
+        f->mo.mass_prior = p;
+        return 1;
+    }
+    case F_AGE_MAX:
+        if (parse_age_yr(val, &v) != 0 || !(v > 0)) {
+            cli_fail(c, CLI_EXIT_USAGE, "--age-max: '%s' is not an age > 0 (e.g. 13.8Gyr)", val);
+            return -1;
+        }
+        f->mo.age_max_yr = v;
+        return 1;
+    case F_MASS_MIN:
+    case F_MASS_MAX:
+        if (parse_number(val, &v) != 0 || !(v > 0)) {
+            cli_fail(c, CLI_EXIT_USAGE, "--%s: '%s' is not a mass > 0 (Msun)", id == F_MASS_MIN ? "mass-min" : "mass-max",
+                     val);
+            return -1;
+        }
+        if (id == F_MASS_MIN) f->mo.mass_min_msun = v;
+        else f->mo.mass_max_msun = v;
+        return 1;
+    case F_FEH_STEP:
+        if (parse_number(val, &v) != 0 || !(v >= 0.005)) {
+            cli_fail(c, CLI_EXIT_USAGE, "--feh-step: '%s' is not a step >= 0.005 dex", val);
+            return -1;
+        }
+        f->mo.feh_step_dex = v;
+        return 1;
+    case F_SEED: {
+        long s;
+        if (parse_count(val, 0, 2147483647L, &s) != 0) {
+            cli_fail(c, CLI_EXIT_USAGE, "--seed: '%s' is not a whole number >= 0", val);
+            return -1;
+        }
+        f->seed = s;
+        return 1;
+    }
+    default:
+        return 0;
+    }
+}
+
+int fit_next_option(cli *c, argparse *p, const optdef *own, const char **val)
+{
+    optdef all[64];
+    size_t n = 0;
+    for (const optdef *d = own; d && d->name && n < 40; d++) all[n++] = *d;
+    for (const optdef *d = fit_optdefs; d->name && n < 63; d++) all[n++] = *d;
+    all[n].name = NULL;
+    all[n].short_name = 0;
+    all[n].has_arg = 0;
+    all[n].id = 0;
+    return next_option(c, p, all, 0, 1, val);
+}
+
+int fit_make_model(cli *c, fitopts *f, const fitstar *s, size_t n, hrt_fit_model **m)
+{
+    hrt_error err = {0, ""};
+    double lo = INFINITY, hi = -INFINITY, zlo, zhi;
+    int all_feh = n > 0;
+    for (size_t i = 0; i < n; i++) {
+        if (isnan(s[i].obs.feh) || !(s[i].obs.feh_sigma > 0)) {
+            all_feh = 0;
+            break;
+        }
+        lo = fmin(lo, s[i].obs.feh - 5.0 * s[i].obs.feh_sigma);
+        hi = fmax(hi, s[i].obs.feh + 5.0 * s[i].obs.feh_sigma);
+    }
+    hrt_grid_z_range(c->grid, &zlo, &zhi);
+    double flo = log10(zlo / hrt_grid_z_ref(c->grid)), fhi = log10(zhi / hrt_grid_z_ref(c->grid));
+    hrt_fit_model_options o = f->mo;
+    if (all_feh) {
+        /* whole steps from the grid's lowest [Fe/H], so nodes do not depend on the stars */
+        double st = o.feh_step_dex;
+        o.feh_min = fmax(flo, flo + floor((lo - flo) / st) * st);
+        o.feh_max = fmin(fhi, flo + ceil((hi - flo) / st) * st);
+        if (o.feh_max <= o.feh_min) {
+            if (o.feh_min >= fhi) o.feh_min = fmax(flo, fhi - st);
+            else o.feh_max = fmin(fhi, o.feh_min + st);
+        }
+    }
+    int rc = hrt_fit_model_new(c->grid, &o, m, &err);
+    if (rc != HRT_OK)
+        return cli_fail(c, rc == HRT_E_NOMEM ? CLI_EXIT_INTERNAL : rc == HRT_E_MASS_RANGE || rc == HRT_E_Z_RANGE ? CLI_EXIT_RANGE
+                                                                                                        : CLI_EXIT_USAGE,
+                        "%s", err.message);
+    return 0;
+}
+
+int fit_failure(const cli *c, const char *who, int code, const char *msg)
+{
+    int ex = code == HRT_E_NO_MATCH ? CLI_EXIT_RANGE : code == HRT_E_NOMEM ? CLI_EXIT_INTERNAL : CLI_EXIT_USAGE;
+    const char *m = strncmp(msg, "hrt_fit_star: ", 14) == 0 ? msg + 14 : msg;
+    return cli_fail(c, ex, "%s: %s", who, m);
+}
+
+/* ------------------------------------------------------------------ input */
+
+static const char *const name_cols[] = {"name", "star", "id", NULL};
+
+static int stars_from_csv(cli *c, const char *path, const fitopts *f, fitstar **out, size_t *nout)
+{
+    csvfile cf;
+    const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
+    int rc = csv_read(c, path, &cf);
+    if (rc) return rc;
+    long col[16];
+    int any = 0;
+    for (int k = 0; k < 16; k++) {
+        const char *names[2] = {meas_names[k / 2][k % 2].col, NULL};
+        col[k] = csv_column(&cf, names);
+        any |= col[k] >= 0;
+    }
+    long cn = csv_column(&cf, name_cols);
+    if (col[0] < 0 && isnan(f->obs.teff_k)) {
+        csv_free(&cf);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s has no 'teff' column (K); see hrtrail fit --help", shown);
+    }
+    (void)any;
+    fitstar *s = xcalloc(cf.nrow ? cf.nrow : 1, sizeof *s);
+    for (size_t r = 0; r < cf.nrow && rc == 0; r++) {
+        s[r].line = cf.line[r];
+        s[r].name = xstrdup(cn >= 0 ? cf.rows[r][cn] : "");
+        s[r].obs = f->obs; /* options fill what the file lacks */
+        for (int k = 0; k < 16; k++) {
+            if (col[k] < 0) continue;
+            const char *t = cf.rows[r][col[k]];
+            double v = NAN;
+            if (t[0] && strcmp(t, "nan") != 0 && strcmp(t, "NaN") != 0 && parse_number(t, &v) != 0) {
+                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column '%s': '%s' is not a number", shown, cf.line[r],
+                              cf.head[col[k]], t);
+                break;
+            }
+            ((double *)&s[r].obs)[k] = v;
+        }
+    }
+    size_t n = cf.nrow;
+    csv_free(&cf);
+    if (rc) {
+        for (size_t i = 0; i < n; i++) free(s[i].name);
+        free(s);
+        return rc;
+    }
+    *out = s;
+    *nout = n;
+    return 0;
+}
+
+/* ------------------------------------------------------------------ output */
+
+static const col fit_cols[] = {
+    {"name", "star", COL_TEXT, NULL, 0},
+    {"status", "status", COL_TEXT, NULL, 0},
+    {"initial_mass_Msun", "M_init", COL_NUM, "%.3f", 0},
+    {"initial_mass_lo_Msun", "-", COL_NUM, "%.3f", 0},
+    {"initial_mass_hi_Msun", "+", COL_NUM, "%.3f", 0},
+    {"age_yr", "age [Gyr]", COL_NUM, "%.3f", 1e-9},
+    {"age_lo_yr", "-", COL_NUM, "%.3f", 1e-9},
+    {"age_hi_yr", "+", COL_NUM, "%.3f", 1e-9},
+    {"feh", "[Fe/H]", COL_NUM, "%.2f", 0},
+    {"feh_lo", NULL, COL_NUM, NULL, 0},
+    {"feh_hi", NULL, COL_NUM, NULL, 0},
+    {"mass_Msun", "M now", COL_NUM, "%.3f", 0},
+    {"mass_lo_Msun", NULL, COL_NUM, NULL, 0},
+    {"mass_hi_Msun", NULL, COL_NUM, NULL, 0},
+    {"radius_Rsun", "R [Rsun]", COL_NUM, "%.3f", 0},
+    {"radius_lo_Rsun", NULL, COL_NUM, NULL, 0},
+    {"radius_hi_Rsun", NULL, COL_NUM, NULL, 0},
+    {"log_L_Lsun", "log L", COL_NUM, "%.3f", 0},
+    {"log_L_lo_Lsun", NULL, COL_NUM, NULL, 0},
+    {"log_L_hi_Lsun", NULL, COL_NUM, NULL, 0},
+    {"log_g_cgs", "log g", COL_NUM, "%.2f", 0},
+    {"log_g_lo_cgs", NULL, COL_NUM, NULL, 0},
+    {"log_g_hi_cgs", NULL, COL_NUM, NULL, 0},
+    {"distance_pc", "d [pc]", COL_NUM, "%.4g", 0},
+    {"distance_lo_pc", NULL, COL_NUM, NULL, 0},
+    {"distance_hi_pc", NULL, COL_NUM, NULL, 0},
+    {"phase", "phase", COL_TEXT, NULL, 0},
+    {"phase_prob", "P", COL_NUM, "%.2f", 0},
+    {"phase2", "or", COL_TEXT, NULL, 0},
+    {"phase2_prob", "P2", COL_NUM, "%.2f", 0},
+    {"flags", "notes", COL_TEXT, NULL, 0},
+    {"chi2_min", NULL, COL_NUM, NULL, 0},
+};
+#define N_FIT_COLS (sizeof fit_cols / sizeof fit_cols[0])
+
+static void flags_of(int fl, char *buf, size_t n)
+{
+    static const struct { int bit; const char *txt; } names[] = {
+        {HRT_FIT_MULTIMODAL, "multimodal"}, {HRT_FIT_MASS_EDGE, "mass-edge"}, {HRT_FIT_AGE_LIMIT, "age-limit"},
+        {HRT_FIT_FEH_EDGE, "feh-edge"},    {HRT_FIT_POOR_MATCH, "poor-match"}, {HRT_FIT_FEW_POINTS, "few-points"},
+    };
+    buf[0] = '\0';
+    for (size_t k = 0; k < sizeof names / sizeof names[0]; k++)
+        if (fl & names[k].bit) {
+            size_t l = strlen(buf);
+            snprintf(buf + l, n - l, "%s%s", l ? " " : "", names[k].txt);
+        }
+}
+
+static void add_row(table *t, const char *name, const char *status, const hrt_fit_result *r)
+{
+    size_t row = table_add_row(t), k = 0;
+    char fl[128];
+    table_text(t, row, k++, name);
+    table_text(t, row, k++, status);
+    int ok = r->status == HRT_OK;
+    const hrt_fit_interval *iv[] = {&r->initial_mass_msun, &r->age_yr, &r->feh, &r->mass_msun, &r->radius_rsun,
+                                    &r->log_l, &r->log_g_cgs, &r->distance_pc};
+    for (size_t q = 0; q < sizeof iv / sizeof iv[0]; q++) {
+        table_num(t, row, k++, ok ? iv[q]->median : NAN);
+        table_num(t, row, k++, ok ? iv[q]->lo : NAN);
+        table_num(t, row, k++, ok ? iv[q]->hi : NAN);
+    }
+    table_text(t, row, k++, ok ? hrt_phase_key(r->phase) : "");
+    table_num(t, row, k++, ok ? r->phase_prob[r->phase] : NAN);
+    table_text(t, row, k++, ok && r->phase_second ? hrt_phase_key(r->phase_second) : "");
+    table_num(t, row, k++, ok && r->phase_second ? r->phase_prob[r->phase_second] : NAN);
+    flags_of(r->flags, fl, sizeof fl);
+    table_text(t, row, k++, fl);
+    table_num(t, row, k++, ok ? r->chi2_min : NAN);
+}
+
+static void print_one(const cli *c, const hrt_fit_result *r, const hrt_fit_obs *o)
+{
+    (void)c;
+    char fl[128];
+    printf("Fit of one star\n");
+    printf("  %-24s %12s %12s %12s\n", "quantity", "median", "16%", "84%");
+#define ROW(label, iv, sc, fmt)                                                                              \
+    printf("  %-24s " fmt " " fmt " " fmt "\n", label, (iv).median * (sc), (iv).lo * (sc), (iv).hi * (sc))
+    ROW("initial mass [Msun]", r->initial_mass_msun, 1.0, "%12.4f");
+    ROW("age [Gyr]", r->age_yr, 1e-9, "%12.4f");
+    ROW("[Fe/H]", r->feh, 1.0, "%12.3f");
+    ROW("current mass [Msun]", r->mass_msun, 1.0, "%12.4f");
+    ROW("radius [Rsun]", r->radius_rsun, 1.0, "%12.4f");
+    ROW("log L [Lsun]", r->log_l, 1.0, "%12.4f");
+    ROW("Teff [K]", r->teff_k, 1.0, "%12.1f");
+    ROW("log g [cgs]", r->log_g_cgs, 1.0, "%12.3f");
+    if (!isnan(r->distance_pc.median)) ROW("HR-diagram distance [pc]", r->distance_pc, 1.0, "%12.4g");
+#undef ROW
+    printf("Phase: %s (probability %.3f)", hrt_phase_name(r->phase), r->phase_prob[r->phase]);
+    if (r->phase_second) printf(", else %s (%.3f)", hrt_phase_name(r->phase_second), r->phase_prob[r->phase_second]);
+    printf("\n");
+    if (r->flags & HRT_FIT_MULTIMODAL)
+        for (int s = 0; s < 2; s++)
+            printf("  if %-30s mass %.3f [%.3f, %.3f] Msun, age %.4g [%.4g, %.4g] Gyr\n",
+                   hrt_phase_name(s ? r->phase_second : r->phase), r->phase_mass_msun[s].median, r->phase_mass_msun[s].lo,
+                   r->phase_mass_msun[s].hi, r->phase_age_yr[s].median / 1e9, r->phase_age_yr[s].lo / 1e9,
+                   r->phase_age_yr[s].hi / 1e9);
+    flags_of(r->flags, fl, sizeof fl);
+    printf("Best chi^2 %.2f for %d measured quantities; %.0f effective lattice points%s%s\n", r->chi2_min, r->n_obs,
+           r->n_eff, fl[0] ? "; notes: " : "", fl);
+    (void)o;
+    printf("Intervals are statistical only; the default grid is a semi-analytic model (see hrtrail --help).\n");
+}
+
+int cmd_fit(cli *c, argparse *p)
+{
+    enum { O_INPUT = 1, O_KEEP };
+    static const optdef own[] = {{"input", 'i', 1, O_INPUT}, {"keep-going", 'k', 0, O_KEEP}, {NULL, 0, 0, 0}};
+    fitopts f;
+    fitstar *stars = NULL;
+    size_t n = 0;
+    int id, rc = 0, keep = 0;
+    const char *val;
+    hrt_fit_model *m = NULL;
+    fitopts_init(&f);
+    while ((id = fit_next_option(c, p, own, &val)) != OPT_END) {
+        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
+        if (id == OPT_POSITIONAL) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (see hrtrail fit --help)", val);
+            goto done;
+        }
+        if (id == O_INPUT) { f.input = val; continue; }
+        if (id == O_KEEP) { keep = 1; continue; }
+        if (fitopt_take(c, &f, id, val) < 0) { rc = CLI_EXIT_USAGE; goto done; }
+    }
+    if (c->want_help) { help_command("fit", stdout); goto done; }
+    if (!f.input && isnan(f.obs.teff_k)) {
+        rc = cli_fail(c, CLI_EXIT_USAGE, "give --teff and --teff-sigma (and --log-l, --feh, --logg, ...), or --input FILE");
+        goto done;
+    }
+    if ((rc = cli_open_grid(c))) goto done;
+    if (f.input) {
+        if ((rc = stars_from_csv(c, f.input, &f, &stars, &n))) goto done;
+    } else {
+        n = 1;
+        stars = xcalloc(1, sizeof *stars);
+        stars[0].name = xstrdup("");
+        stars[0].obs = f.obs;
+    }
+    if ((rc = fit_make_model(c, &f, stars, n, &m))) goto done;
+    table *t = table_new(fit_cols, N_FIT_COLS);
+    hrt_fit_result one;
+    memset(&one, 0, sizeof one);
+    one.status = -1;
+    for (size_t i = 0; i < n; i++) {
+        hrt_fit_result r;
+        hrt_error err = {0, ""};
+        int st = hrt_fit_star(m, &stars[i].obs, (uint64_t)f.seed, 0, NULL, &r, &err);
+        if (st != HRT_OK) {
+            char who[300];
+            if (f.input)
+                snprintf(who, sizeof who, "%s line %ld%s%s", strcmp(f.input, "-") ? f.input : "standard input",
+                         stars[i].line, stars[i].name[0] ? ", star " : "", stars[i].name);
+            else
+                snprintf(who, sizeof who, "the star");
+            int r1 = fit_failure(c, who, st, err.message);
+            if (!keep) { rc = r1; table_free(t); goto done; }
+            if (!rc) rc = r1;
+        }
+        if (i == 0) one = r;
+        add_row(t, stars[i].name, st == HRT_OK ? "ok" : hrt_strerror(st), &r);
+    }
+    if (c->fmt == FMT_CSV) {
+        table_write_csv(t, stdout);
+    } else if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_str(&w, "grid", c->grid_used);
+        jw_str(&w, "mass_prior", hrt_fit_mass_prior_name(f.mo.mass_prior));
+        jw_num(&w, "age_max_yr", f.mo.age_max_yr);
+        jw_str(&w, "intervals", "median and 15.87/84.13 percentiles");
+        jw_table(&w, "stars", t);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else if (!f.input && one.status == HRT_OK) {
+        print_one(c, &one, &stars[0].obs);
+        printf("Mass prior %s, age uniform in [0, %.4g Gyr], [Fe/H] uniform on the lattice.\n",
+               hrt_fit_mass_prior_name(f.mo.mass_prior), f.mo.age_max_yr / 1e9);
+    } else {
+        table_write_text(t, stdout, NULL);
+        printf("Medians with 16%% (-) and 84%% (+) points; mass prior %s, age uniform in [0, %.4g Gyr].\n",
+               hrt_fit_mass_prior_name(f.mo.mass_prior), f.mo.age_max_yr / 1e9);
+    }
+    table_free(t);
+done:
+    hrt_fit_model_free(m);
+    for (size_t i = 0; i < n; i++) free(stars[i].name);
+    free(stars);
+    return rc;
+}

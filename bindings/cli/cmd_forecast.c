@@ -1,0 +1,219 @@
+/* hrtrail forecast: the future of a star, given exactly or fitted from its measurements. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "fitcli.h"
+
+static void iv_json(jw *w, const char *key, hrt_fit_interval x)
+{
+    jw_begin_object(w, key);
+    jw_num(w, "median", x.median);
+    jw_num(w, "lo", x.lo);
+    jw_num(w, "hi", x.hi);
+    jw_end_object(w);
+}
+
+static void iv_text(const char *label, hrt_fit_interval x, double sc)
+{
+    if (x.lo == x.hi)
+        printf("  %-34s %.4g\n", label, x.median * sc);
+    else
+        printf("  %-34s %.4g  [%.4g, %.4g]\n", label, x.median * sc, x.lo * sc, x.hi * sc);
+}
+
+static const col ev_cols[] = {
+    {"keypoint", "keypoint", COL_TEXT, NULL, 0}, {"prob", "P", COL_NUM, "%.2f", 0},
+    {"in_yr", "in [Myr]", COL_NUM, "%.5g", 1e-6},  {"in_lo_yr", "16%", COL_NUM, "%.5g", 1e-6},
+    {"in_hi_yr", "84%", COL_NUM, "%.5g", 1e-6},
+};
+static const col ph_cols[] = {
+    {"phase", "phase", COL_TEXT, NULL, 0},         {"prob", "P", COL_NUM, "%.2f", 0},
+    {"start_in_yr", "starts in [Myr]", COL_NUM, "%.5g", 1e-6}, {"start_in_lo_yr", "16%", COL_NUM, "%.5g", 1e-6},
+    {"start_in_hi_yr", "84%", COL_NUM, "%.5g", 1e-6}, {"duration_yr", "lasts [Myr]", COL_NUM, "%.5g", 1e-6},
+};
+static const col st_cols[] = {
+    {"dt_yr", "in [Myr]", COL_NUM, "%.6g", 1e-6},   {"phase", "phase", COL_TEXT, NULL, 0},
+    {"phase_prob", "P", COL_NUM, "%.2f", 0},       {"log_L_Lsun", "log L", COL_NUM, "%.3f", 0},
+    {"log_L_lo_Lsun", "16%", COL_NUM, "%.3f", 0},  {"log_L_hi_Lsun", "84%", COL_NUM, "%.3f", 0},
+    {"teff_K", "Teff [K]", COL_NUM, "%.0f", 0},    {"teff_lo_K", NULL, COL_NUM, NULL, 0},
+    {"teff_hi_K", NULL, COL_NUM, NULL, 0},         {"radius_Rsun", "R [Rsun]", COL_NUM, "%.4g", 0},
+    {"radius_lo_Rsun", NULL, COL_NUM, NULL, 0},    {"radius_hi_Rsun", NULL, COL_NUM, NULL, 0},
+    {"mass_Msun", "M now", COL_NUM, "%.4f", 0},    {"luminous_frac", NULL, COL_NUM, NULL, 0},
+};
+
+int cmd_forecast(cli *c, argparse *p)
+{
+    enum { O_MASS = 1, O_AGE, O_Z, O_AT, O_SAMPLES };
+    static const optdef own[] = {{"mass", 'm', 1, O_MASS}, {"age", 'a', 1, O_AGE}, {"z", 0, 1, O_Z},
+                                 {"at", 0, 1, O_AT},       {"samples", 'n', 1, O_SAMPLES}, {NULL, 0, 0, 0}};
+    fitopts f;
+    dlist at = {0};
+    double mass = NAN, age = NAN, z = NAN;
+    long nsamp = 400;
+    int id, rc = 0;
+    const char *val;
+    hrt_fit_model *m = NULL;
+    hrt_fit_sample *smp = NULL;
+    hrt_forecast_state *fs = NULL;
+    size_t n = 0;
+    fitopts_init(&f);
+    while ((id = fit_next_option(c, p, own, &val)) != OPT_END) {
+        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
+        if (id == OPT_POSITIONAL) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (see hrtrail forecast --help)", val);
+            goto done;
+        }
+        if (id == O_MASS && (parse_number(val, &mass) != 0 || !(mass > 0))) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "--mass: '%s' is not an initial mass > 0 (Msun)", val);
+            goto done;
+        }
+        if (id == O_AGE && parse_age_yr(val, &age) != 0) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "--age: '%s' is not an age >= 0 (yr, kyr, Myr, Gyr)", val);
+            goto done;
+        }
+        if (id == O_Z && (parse_number(val, &z) != 0 || !(z > 0 && z < 1))) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "--z: '%s' is not a metal mass fraction (0 < Z < 1)", val);
+            goto done;
+        }
+        if (id == O_AT && (rc = add_age_list(c, "--at", val, &at))) goto done;
+        if (id == O_SAMPLES && parse_count(val, 1, 100000, &nsamp) != 0) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "--samples: '%s' is not a count between 1 and 100000", val);
+            goto done;
+        }
+        if (id >= FIT_OPT_BASE && fitopt_take(c, &f, id, val) < 0) { rc = CLI_EXIT_USAGE; goto done; }
+    }
+    if (c->want_help) { help_command("forecast", stdout); goto done; }
+    int exact = !isnan(mass);
+    if (exact && (isnan(age) || !isnan(f.obs.teff_k))) {
+        rc = cli_fail(c, CLI_EXIT_USAGE, "give either --mass and --age (an exact star) or measurements (--teff ...), not both");
+        goto done;
+    }
+    if (!exact && isnan(f.obs.teff_k)) {
+        rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or the measurements of a star (--teff, --teff-sigma, ...)");
+        goto done;
+    }
+    if ((rc = cli_open_grid(c))) goto done;
+    if (exact) {
+        if (!isnan(z) && !isnan(f.obs.feh)) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "give --z or --feh, not both");
+            goto done;
+        }
+        if (isnan(z)) z = isnan(f.obs.feh) ? hrt_grid_z_ref(c->grid) : hrt_grid_z_ref(c->grid) * pow(10.0, f.obs.feh);
+        if ((rc = cli_check_z(c, "the star's metallicity", z)) || (rc = cli_check_mass(c, "--mass", mass, z))) goto done;
+        n = 1;
+        smp = xcalloc(1, sizeof *smp);
+        smp[0].initial_mass_msun = mass;
+        smp[0].z = z;
+        smp[0].age_yr = age;
+    } else {
+        fitstar one = {NULL, 0, f.obs};
+        if ((rc = fit_make_model(c, &f, &one, 1, &m))) goto done;
+        n = (size_t)nsamp;
+        smp = xcalloc(n, sizeof *smp);
+        hrt_fit_result r;
+        hrt_error err = {0, ""};
+        int st = hrt_fit_star(m, &f.obs, (uint64_t)f.seed, n, smp, &r, &err);
+        if (st != HRT_OK) { rc = fit_failure(c, "the star", st, err.message); goto done; }
+    }
+    fs = xcalloc(at.n ? at.n : 1, sizeof *fs);
+    hrt_forecast_result r;
+    hrt_error err = {0, ""};
+    int st = hrt_forecast(c->grid, n, smp, at.n, at.v, fs, &r, &err);
+    if (st != HRT_OK) {
+        rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message);
+        goto done;
+    }
+    table *te = table_new(ev_cols, sizeof ev_cols / sizeof ev_cols[0]);
+    for (size_t k = 0; k < r.n_events; k++) {
+        size_t row = table_add_row(te);
+        table_text(te, row, 0, r.events[k].name);
+        table_num(te, row, 1, r.events[k].prob);
+        table_num(te, row, 2, r.events[k].in_yr.median);
+        table_num(te, row, 3, r.events[k].in_yr.lo);
+        table_num(te, row, 4, r.events[k].in_yr.hi);
+    }
+    table *tp = table_new(ph_cols, sizeof ph_cols / sizeof ph_cols[0]);
+    /* phases to come in the order of their median start */
+    int order[HRT_PHASE_COUNT], no = 0;
+    for (int ph = 1; ph < HRT_PHASE_COUNT; ph++)
+        if (r.future[ph].prob > 0) order[no++] = ph;
+    for (int a = 1; a < no; a++)
+        for (int b = a; b > 0 && r.future[order[b]].start_in_yr.median < r.future[order[b - 1]].start_in_yr.median; b--) {
+            int tmp = order[b]; order[b] = order[b - 1]; order[b - 1] = tmp;
+        }
+    for (int k = 0; k < no; k++) {
+        const hrt_forecast_phase *F = &r.future[order[k]];
+        size_t row = table_add_row(tp);
+        table_text(tp, row, 0, hrt_phase_key(order[k]));
+        table_num(tp, row, 1, F->prob);
+        table_num(tp, row, 2, F->start_in_yr.median);
+        table_num(tp, row, 3, F->start_in_yr.lo);
+        table_num(tp, row, 4, F->start_in_yr.hi);
+        table_num(tp, row, 5, F->duration_yr.median);
+    }
+    table *ts = table_new(st_cols, sizeof st_cols / sizeof st_cols[0]);
+    for (size_t k = 0; k < at.n; k++) {
+        const hrt_forecast_state *S = &fs[k];
+        size_t row = table_add_row(ts);
+        double v[] = {S->dt_yr, 0, S->phase_prob[S->phase], S->log_l.median, S->log_l.lo, S->log_l.hi, S->teff_k.median,
+                      S->teff_k.lo, S->teff_k.hi, S->radius_rsun.median, S->radius_rsun.lo, S->radius_rsun.hi,
+                      S->mass_msun.median, S->luminous_frac};
+        for (size_t q = 0; q < sizeof v / sizeof v[0]; q++)
+            if (q != 1) table_num(ts, row, q, v[q]);
+        table_text(ts, row, 1, hrt_phase_key(S->phase));
+    }
+    if (c->fmt == FMT_JSON) {
+        jw w;
+        jw_init(&w, stdout);
+        jw_begin_object(&w, NULL);
+        jw_str(&w, "grid", c->grid_used);
+        jw_int(&w, "samples", (long)n);
+        jw_str(&w, "phase_now", hrt_phase_key(r.phase_now));
+        jw_num(&w, "phase_now_prob", r.phase_now_prob[r.phase_now]);
+        jw_num(&w, "ms_prob", r.ms_prob);
+        iv_json(&w, "ms_left_yr", r.ms_left_yr);
+        iv_json(&w, "end_in_yr", r.end_in_yr);
+        jw_str(&w, "remnant", hrt_remnant_key(r.remnant));
+        jw_num(&w, "remnant_prob", r.remnant_prob[r.remnant]);
+        iv_json(&w, "remnant_mass_Msun", r.remnant_mass_msun);
+        jw_table(&w, "keypoints", te);
+        jw_table(&w, "phases", tp);
+        jw_table(&w, "states", ts);
+        jw_end_object(&w);
+        jw_finish(&w);
+    } else if (c->fmt == FMT_CSV) {
+        /* CSV carries one table: the states if times were asked, else the keypoints */
+        table_write_csv(at.n ? ts : te, stdout);
+    } else {
+        if (exact)
+            printf("Forecast of a star of %.4g Msun, Z %.4g, at %.4g Myr\n", mass, z, age / 1e6);
+        else
+            printf("Forecast from %zu posterior draws of the fitted star (seed %ld)\n", n, f.seed);
+        printf("Now: %s (probability %.2f)\n", hrt_phase_name(r.phase_now), r.phase_now_prob[r.phase_now]);
+        if (r.ms_prob > 0) {
+            printf("  main sequence: probability %.2f\n", r.ms_prob);
+            iv_text("main-sequence time left [Myr]", r.ms_left_yr, 1e-6);
+        }
+        iv_text("time to the end of the track [Myr]", r.end_in_yr, 1e-6);
+        printf("Final remnant: %s (probability %.2f)\n", hrt_remnant_name(r.remnant), r.remnant_prob[r.remnant]);
+        iv_text("remnant mass [Msun]", r.remnant_mass_msun, 1.0);
+        printf("\nKeypoints ahead:\n");
+        table_write_text(te, stdout, "  ");
+        printf("\nPhases ahead:\n");
+        table_write_text(tp, stdout, "  ");
+        if (at.n) {
+            printf("\nAt the times asked:\n");
+            table_write_text(ts, stdout, "  ");
+        }
+    }
+    table_free(te);
+    table_free(tp);
+    table_free(ts);
+done:
+    hrt_fit_model_free(m);
+    free(smp);
+    free(fs);
+    dlist_free(&at);
+    return rc;
+}
