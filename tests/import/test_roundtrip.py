@@ -1,0 +1,196 @@
+"""Round trip of the track import against the default grid.
+
+Usage: test_roundtrip.py GEN_GRID_EXE HRTRAIL_EXE DEFAULT_GRID
+
+The default-grid generator writes its raw tracks (unevenly sampled in age,
+before its EEP step) with --dump-raw.  They are rewritten here as
+blank-separated text tables with invented column names and units (age in
+Myr, linear L and Teff, phase keys), initial mass and Z in the file name,
+imported with `hrtrail import` through keypoint DETECTION (no keypoint
+column), and the imported grid is compared, EEP by EEP, with the default
+grid written by the generator from the same raw tracks with its explicit
+keypoints.  A second import with the keypoint column (the override) must
+reproduce the default grid to rounding.
+
+The reference is the project's own default grid (no outside source): this
+checks the importer, not the physics.  Grid files are read with h5py.
+"""
+import json
+import math
+import os
+import re
+import shutil
+import subprocess
+import sys
+import tempfile
+
+import h5py
+import numpy as np
+
+GEN, EXE, GRID = (os.path.abspath(a) for a in sys.argv[1:4])
+
+# Tolerances of the detected import per phase (largest |difference| at any EEP
+# of any track; masses as fractions of the initial mass).  Measured values are
+# printed; the limits are a little above them (tracks/FORMAT.md states them).
+TOL = {
+    # phase: (log_age dex, log_L dex, log_Teff dex, mass / M_init)
+    "ms": (1e-6, 1e-6, 1e-6, 1e-6),
+    "subgiant": (0.04, 0.2, 0.08, 0.02),
+    "rgb": (0.04, 0.3, 0.02, 0.006),
+    "cheb": (1e-6, 1e-6, 1e-6, 1e-6),
+    "eagb": (2e-4, 0.03, 0.015, 0.006),
+    "tpagb": (2e-4, 0.4, 0.6, 0.05),
+    "post_agb": (2e-5, 0.4, 0.7, 0.003),
+    "post_rgb": (1e-6, 0.01, 0.004, 1e-6),
+    "wd": (1e-6, 0.01, 0.003, 1e-6),
+    "bsg": (0.003, 0.05, 0.02, 0.06),
+    "rsg": (0.001, 0.003, 0.006, 0.01),
+    "wr": (0.001, 0.006, 0.012, 0.005),
+    "ns": (1e-6, 1e-6, 1e-6, 1e-6),
+    "bh": (1e-6, 1e-6, 1e-6, 1e-6),
+}
+failures = []
+passed = 0
+
+
+def check(cond, what):
+    global passed
+    if cond:
+        passed += 1
+    else:
+        failures.append(what)
+        print("FAIL: " + what, flush=True)
+
+
+work = tempfile.mkdtemp(prefix="hrtrail-import-rt-")
+try:
+    raw = os.path.join(work, "raw")
+    os.mkdir(raw)
+    subprocess.run([GEN, os.path.join(work, "gen.h5"), "--dump-raw", raw], check=True)
+    ref = h5py.File(GRID, "r")
+    phase_keys = [k.decode() if isinstance(k, bytes) else k for k in ref["phase_keys"][()]]
+
+    # rewrite with invented names and units
+    tables = os.path.join(work, "tables")
+    flagged = os.path.join(work, "flagged")
+    os.mkdir(tables)
+    os.mkdir(flagged)
+    truth = {}
+    for name in sorted(os.listdir(raw)):
+        path = os.path.join(raw, name)
+        with open(path) as f:
+            head = f.readline()
+            f.readline()
+            rows = [line.rstrip("\n").split(",") for line in f]
+        m = float(re.search(r"initial_mass=([0-9.eE+-]+)", head).group(1))
+        z = float(re.search(r" z=([0-9.eE+-]+)", head).group(1))
+        kp = [int(x) for x in re.search(r"keypoints=([0-9;]+)", head).group(1).split(";")]
+        ages = [float(r[0]) for r in rows]
+        truth[(z, m)] = [ages[i] for i in kp]
+        out = "stellar_Z%.4f_M%.4f.dat" % (z, m)
+        for d, with_flag in ((tables, False), (flagged, True)):
+            with open(os.path.join(d, out), "w") as f:
+                f.write("# invented column names and units\n")
+                f.write("t_Myr lum teff_K M_star Mcore_He Mcore_CO Xc Yc stage%s\n" % (" kp" if with_flag else ""))
+                for r in rows:
+                    f.write("%.17g %.17g %.17g %s %s %s %s %s %s%s\n" % (
+                        float(r[0]) / 1e6, 10.0 ** float(r[1]), 10.0 ** float(r[2]), r[3], r[4], r[5], r[7], r[8],
+                        phase_keys[int(r[6]) - 1], (" " + r[9]) if with_flag else ""))
+    mapping = os.path.join(work, "map.txt")
+    with open(mapping, "w") as f:
+        f.write("# column map of the invented tables\n"
+                "age=t_Myr*Myr L=lum Teff=teff_K mass=M_star\n"
+                "he_core_mass=Mcore_He co_core_mass=Mcore_CO center_h1=Xc center_he4=Yc\n"
+                "phase=stage\n"
+                "pattern=stellar_Z{z}_M{mass}.dat\n")
+
+    def run_import(src, out, extra=()):
+        p = subprocess.run([EXE, "import", "-o", out, "--map-file", mapping, "--json"] + list(extra) + [src],
+                           capture_output=True, text=True)
+        check(p.returncode == 0, "import of %s exits 0 (got %d: %s)" % (src, p.returncode, p.stderr[-500:]))
+        return json.loads(p.stdout) if p.returncode == 0 else None
+
+    per_track = {}
+
+    def compare(path, label):
+        """Largest differences per phase and quantity, and the structure checks."""
+        got = h5py.File(path, "r")
+        worst = {}
+        per_track.clear()
+        check(list(got["metallicity"]) == list(ref["metallicity"]), label + ": same metallicity groups")
+        for g in ref["metallicity"]:
+            A, B = got["metallicity"][g], ref["metallicity"][g]
+            check(A.attrs["Z"] == B.attrs["Z"], label + ": Z of group " + g)
+            check(np.array_equal(A["initial_mass"][()], B["initial_mass"][()]), label + ": masses of group " + g)
+            check(np.array_equal(A["route"][()], B["route"][()]), label + ": routes of group " + g)
+            check(np.array_equal(A["remnant"][()], B["remnant"][()]), label + ": remnant kinds of group " + g)
+            rb = np.abs(A["route_boundary_mass"][()] / B["route_boundary_mass"][()] - 1).max()
+            worst["route_boundary_rel"] = max(worst.get("route_boundary_rel", 0), rb)
+            rm = np.nanmax(np.abs(A["remnant_mass"][()] / B["remnant_mass"][()] - 1))
+            worst["remnant_mass_rel"] = max(worst.get("remnant_mass_rel", 0), rm)
+            ne = B["n_eep"][()]
+            check(np.array_equal(A["n_eep"][()], ne), label + ": EEP counts of group " + g)
+            mi = B["initial_mass"][()]
+            ph = B["phase"][()]
+            for qi, q in enumerate(("log_age", "log_L", "log_Teff", "mass")):
+                x, y = A[q][()], B[q][()]
+                for i in range(len(ne)):
+                    d = np.abs(x[i, :ne[i]] - y[i, :ne[i]])
+                    if q == "mass":
+                        d = d / mi[i]
+                    for p in np.unique(ph[i, :ne[i]]):
+                        key = (phase_keys[p], qi)
+                        v = d[ph[i, :ne[i]] == p].max()
+                        per_track.setdefault(key, []).append(v)
+                        if v > worst.get(key, (0,))[0]:
+                            worst[key] = (v, float(A.attrs["Z"]), float(mi[i]))
+        return worst
+
+    # 1. detection
+    rep = run_import(tables, os.path.join(work, "detected.h5"))
+    if rep:
+        check(rep["tracks_used"] == rep["tracks_given"] == len(truth), "every track imported")
+        # keypoint detection against the generator's own keypoints
+        kpw = {}
+        for t in rep["tracks"]:
+            ages = truth[(t["Z"], t["initial_mass_Msun"])]
+            check(len(t["keypoints"]) == len(ages), "%s: every keypoint found" % t["file"])
+            for k, kp in enumerate(t["keypoints"][:len(ages)]):
+                lo = ages[k - 1] if k > 0 else ages[0]
+                hi = ages[k + 1] if k + 1 < len(ages) else ages[-1]
+                rel = abs(kp["age_yr"] - ages[k]) / max(hi - lo, 1e-300)
+                if rel > kpw.get(kp["name"], (0,))[0]:
+                    kpw[kp["name"]] = (rel, os.path.basename(t["file"]))
+        print("keypoint detection: largest |age error| / (age span of the two neighbouring segments)")
+        for k, v in sorted(kpw.items()):
+            print("  %-14s %.3g  (%s)" % (k, v[0], v[1]))
+        worst = compare(os.path.join(work, "detected.h5"), "detected")
+        print("detected import vs default grid, largest difference per phase:")
+        print("  (largest over all tracks; in brackets: 95 % of the tracks are within)")
+        print("  %-9s %19s %19s %19s %19s" % ("phase", "log_age", "log_L", "log_Teff", "mass/M0"))
+        for p in sorted({k[0] for k in worst if isinstance(k, tuple)}):
+            vals = [worst.get((p, qi), (0.0,))[0] for qi in range(4)]
+            p95 = [float(np.percentile(per_track.get((p, qi), [0.0]), 95)) for qi in range(4)]
+            print("  %-9s" % p + "".join(" %9.2g [%7.2g]" % (v, q) for v, q in zip(vals, p95)))
+            for qi in range(4):
+                check(vals[qi] <= TOL[p][qi], "phase %s quantity %d: %.3g > %.3g (at Z, M = %s)" % (
+                    p, qi, vals[qi], TOL[p][qi], worst.get((p, qi), (0, None, None))[1:]))
+        print("  route boundaries (relative): %.3g; remnant masses (relative): %.3g" % (
+            worst["route_boundary_rel"], worst["remnant_mass_rel"]))
+        check(worst["route_boundary_rel"] < 0.01, "route boundaries within 1 %")
+        check(worst["remnant_mass_rel"] < 0.1, "remnant masses within 10 %")
+
+    # 2. explicit keypoints (the override): the default grid to rounding
+    rep = run_import(flagged, os.path.join(work, "flagged.h5"), ["--map", "keypoints=kp"])
+    if rep:
+        kinds = {kp["found_by"] for t in rep["tracks"] for kp in t["keypoints"]}
+        check(kinds == {"flag"}, "every keypoint from the flag column (got %s)" % sorted(kinds))
+        worst = compare(os.path.join(work, "flagged.h5"), "flagged")
+        big = max(v[0] for k, v in worst.items() if isinstance(k, tuple))
+        print("flagged import vs default grid: largest difference %.3g" % big)
+        check(big < 1e-8, "flagged import equals the default grid to rounding (%.3g)" % big)
+finally:
+    shutil.rmtree(work, True)
+
+print("import round trip: %d passed, %d failed" % (passed, len(failures)))
+sys.exit(1 if failures or not passed else 0)
