@@ -216,6 +216,14 @@ int cmd_demo(cli *c, argparse *p);
 int cmd_fit(cli *c, argparse *p);
 int cmd_forecast(cli *c, argparse *p);
 int cmd_import(cli *c, argparse *p);
+int cmd_population(cli *c, argparse *p);
+
+/* ---- populations (cmd_population.c; also used by the demo) ---- */
+void pop_print_text(const hrt_pop_summary *s, FILE *f, const char *indent);
+void pop_json(const hrt_pop_summary *s, jw *w, int with_hr);
+int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const char *path);
+int pop_run_progress(const cli *c, const hrt_pop_spec *spec, int threads, size_t n_ages, hrt_pop_summary *sums,
+                     int progress);
 
 /* Help texts (help.c). */
 void help_main(FILE *f);

@@ -9,6 +9,7 @@ static const struct { const char *name; int (*run)(cli *, argparse *); } command
     {"plot", cmd_plot},     {"grid", cmd_grid},   {"demo", cmd_demo},
     {"fit", cmd_fit},       {"forecast", cmd_forecast},
     {"import", cmd_import},
+    {"population", cmd_population},
 };
 
 enum { O_VERSION = 1 };
@@ -44,7 +45,7 @@ int main(int argc, char **argv)
             return 0;
         }
         help_main(stderr);
-        return cli_fail(NULL, CLI_EXIT_USAGE, "no command given (at, track, isochrone, life, plot, grid, demo, import)");
+        return cli_fail(NULL, CLI_EXIT_USAGE, "no command given (at, track, isochrone, life, plot, grid, demo, import, population)");
     }
     if (strcmp(val, "help") == 0) {
         if (p.i < argc && help_command(argv[p.i], stdout) == 0) return 0;
@@ -61,6 +62,6 @@ int main(int argc, char **argv)
         return rc;
     }
     return cli_fail(NULL, CLI_EXIT_USAGE,
-                    "unknown command '%s'; the commands are at, track, isochrone, life, plot, grid, demo, import (see hrtrail --help)",
+                    "unknown command '%s'; the commands are at, track, isochrone, life, plot, grid, demo, import, population (see hrtrail --help)",
                     val);
 }
