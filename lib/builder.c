@@ -423,7 +423,7 @@ int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *valu
 {
     if (!b || !name || !value)
         return hrt_set_error(err, HRT_E_NULL, "hrt_builder_set_attribute: NULL argument");
-    static const char *const reserved[] = {"format", "format_version", "z_ref"};
+    static const char reserved[3][16] = {"format", "format_version", "z_ref"}; /* no pointers: .rodata */
     for (size_t k = 0; k < 3; k++)
         if (strcmp(name, reserved[k]) == 0)
             return hrt_set_error(err, HRT_E_INVALID, "attribute '%s' is written by the library", name);
@@ -710,33 +710,63 @@ int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
         return rc;
     }
     fchmod(fd, 0644);
-    close(fd);
+    /* The file is built in memory (HDF5's core driver without a backing
+     * store) and written by our own write() calls.  A full disk then fails
+     * here, never inside HDF5: after a failed H5Fclose, HDF5 keeps the file
+     * open (its descriptor, and the disk space of the unlinked temporary)
+     * and crashes in its exit handler. */
+    void *img = NULL;
+    ssize_t img_size = -1;
     wctx w = {-1, -1, -1, 0};
     H5E_BEGIN_TRY
     {
         w.dcpl = H5Pcreate(H5P_DATASET_CREATE);
         w.gcpl = H5Pcreate(H5P_GROUP_CREATE);
         hid_t fcpl = H5Pcreate(H5P_FILE_CREATE);
+        hid_t fapl = H5Pcreate(H5P_FILE_ACCESS);
+        H5Pset_fapl_core(fapl, (size_t)1 << 20, 0);
         w.str_t = H5Tcopy(H5T_C_S1);
         H5Tset_size(w.str_t, H5T_VARIABLE);
         H5Tset_cset(w.str_t, H5T_CSET_UTF8);
         /* No modification times in object headers: same bytes for the same grid. */
         H5Pset_obj_track_times(w.dcpl, 0);
         H5Pset_obj_track_times(w.gcpl, 0);
-        hid_t f = H5Fcreate(tmp, H5F_ACC_TRUNC, fcpl, H5P_DEFAULT);
+        hid_t f = H5Fcreate(tmp, H5F_ACC_TRUNC, fcpl, fapl);
         if (f < 0) {
             rc = hrt_set_error(err, HRT_E_IO, "cannot create HDF5 file '%s'", tmp);
         } else {
             rc = write_contents(b, f, &w, err);
+            if (rc == HRT_OK && (H5Fflush(f, H5F_SCOPE_GLOBAL) < 0 || (img_size = H5Fget_file_image(f, NULL, 0)) <= 0))
+                rc = hrt_set_error(err, HRT_E_IO, "HDF5 cannot complete the image of '%s'", tmp);
+            if (rc == HRT_OK && !(img = malloc((size_t)img_size)))
+                rc = hrt_set_error(err, HRT_E_NOMEM, "out of memory for the %zd bytes of '%s'", img_size, tmp);
+            if (rc == HRT_OK && H5Fget_file_image(f, img, (size_t)img_size) != img_size)
+                rc = hrt_set_error(err, HRT_E_IO, "HDF5 cannot copy the image of '%s'", tmp);
             if (H5Fclose(f) < 0 && rc == HRT_OK)
-                rc = hrt_set_error(err, HRT_E_IO, "cannot finish writing '%s' (disk full?)", tmp);
+                rc = hrt_set_error(err, HRT_E_IO, "HDF5 cannot close the image of '%s'", tmp);
         }
+        H5Pclose(fapl);
         H5Pclose(fcpl);
         H5Pclose(w.dcpl);
         H5Pclose(w.gcpl);
         H5Tclose(w.str_t);
     }
     H5E_END_TRY;
+    for (size_t done = 0; rc == HRT_OK && done < (size_t)img_size;) {
+        ssize_t k = write(fd, (const char *)img + done, (size_t)img_size - done);
+        if (k < 0 && errno == EINTR)
+            continue;
+        if (k <= 0)
+            rc = hrt_set_error(err, HRT_E_IO, "cannot write '%s' (%zu of %zd bytes written): %s", tmp, done, img_size,
+                               k < 0 ? strerror(errno) : "no progress");
+        else
+            done += (size_t)k;
+    }
+    free(img);
+    if (rc == HRT_OK && fsync(fd) != 0)
+        rc = hrt_set_error(err, HRT_E_IO, "cannot write '%s' to the disk: %s", tmp, strerror(errno));
+    if (close(fd) != 0 && rc == HRT_OK)
+        rc = hrt_set_error(err, HRT_E_IO, "cannot finish writing '%s': %s", tmp, strerror(errno));
     if (rc == HRT_OK && rename(tmp, path) != 0)
         rc = hrt_set_error(err, HRT_E_IO, "cannot rename '%s' to '%s': %s", tmp, path, strerror(errno));
     if (rc != HRT_OK)

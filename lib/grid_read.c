@@ -272,7 +272,12 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
     if (!text)
         return 0;
     char *value = NULL;
-    if (read_attr_text(loc, name, "root", &value, NULL) != HRT_OK)
+    int rc = read_attr_text(loc, name, "root", &value, NULL);
+    if (rc == HRT_E_NOMEM) { /* not "unreadable": the attribute would silently vanish */
+        ac->rc = rc;
+        return -1;
+    }
+    if (rc != HRT_OK)
         return 0;
     attr_pair *p = realloc(ac->g->attrs, (ac->g->n_attrs + 1) * sizeof *p);
     char *nm = hrt_strdup(name);
@@ -616,10 +621,11 @@ static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
             rc = hrt_set_error(err, HRT_E_FORMAT, "group 'metallicity': %llu groups, at most %d supported",
                                (unsigned long long)info.nlinks, HRT_MAX_Z);
         else {
-            g->n_z = (size_t)info.nlinks;
-            g->grp = calloc(g->n_z, sizeof *g->grp);
+            g->grp = calloc((size_t)info.nlinks, sizeof *g->grp);
             if (!g->grp)
                 rc = hrt_set_error(err, HRT_E_NOMEM, "metallicity: out of memory");
+            else
+                g->n_z = (size_t)info.nlinks; /* only now: hrt_grid_free_contents walks n_z groups */
         }
     }
     for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++)

@@ -809,7 +809,7 @@ int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_msun, cons
         int rc = hrt_eval(g, k, mass_msun + i0, z ? z + i0 : NULL, z_all, age_yr + i0, out + i0, NULL);
         if (rc != HRT_OK) {
 #ifdef _OPENMP
-#pragma omp critical(hrt_eval_parallel_first)
+#pragma omp critical /* unnamed: a named one is a global lock symbol exported by the library */
 #endif
             if (first_bad < 0 || (long)b < first_bad)
                 first_bad = (long)b;
@@ -955,7 +955,7 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
                 run_chunk(g, &P, &w, c, n_ages);
         if (ok) {
 #ifdef _OPENMP
-#pragma omp critical(hrt_pop_run_merge)
+#pragma omp critical /* unnamed: a named one is a global lock symbol exported by the library */
 #endif
             for (size_t e = 0; e < n_ages; e++)
                 hrt_pop_summary_merge(&stage[e], &w.sums[e], NULL);
