@@ -52,13 +52,14 @@ def _candidates():
     env = os.environ.get("HRTRAIL_LIB")
     if env:
         return [env]  # explicit choice: no silent fallback to another copy
-    out = []
+    # The soname on the loader's path (LD_LIBRARY_PATH, ldconfig), as a C program finds it;
+    # then where meson installed it (when ldconfig has not been run for that directory).
+    out = ["libhrtrail.so.%d" % ABI_VERSION]
     try:
-        from . import _install  # written by meson install: where the library went
+        from . import _install  # written by meson at configure time, installed with the package
         out.append(os.path.join(_install.LIBDIR, "libhrtrail.so.%d" % ABI_VERSION))
     except ImportError:
         pass
-    out.append("libhrtrail.so.%d" % ABI_VERSION)  # the soname, on the loader's path
     found = ctypes.util.find_library("hrtrail")
     if found:
         out.append(found)

@@ -134,7 +134,45 @@ def _as_f8(a):
     return _np.asarray(a, dtype=_np.float64, order="C")
 
 
-class Grid:
+class _Owned:
+    """A C handle (self._h) owned by a Python object: close(), context manager, freed when collected."""
+    _h = None
+    _what = "object"
+
+    def _free(self, h):
+        raise NotImplementedError
+
+    def close(self):
+        """Free the C object. Idempotent."""
+        if self._h is not None:
+            h, self._h = self._h, None
+            self._free(h)
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        self.close()
+
+    def __del__(self):
+        try:
+            self.close()
+        except Exception:
+            pass
+
+    @property
+    def _handle(self):
+        if self._h is None:
+            raise ValueError("hrtrail: the %s is closed" % self._what)
+        return self._h
+
+    @property
+    def closed(self):
+        """True once close() was called."""
+        return self._h is None
+
+
+class Grid(_Owned):
     """An opened track grid (hrt_grid): immutable, shareable across threads.
 
     Grid()                       the default grid (HRTRAIL_GRID, else the installed one)
@@ -158,37 +196,13 @@ class Grid:
         self.path = str(path) if path is not None else text(lib.hrt_default_grid_path())
         """Path of the grid file."""
 
-    # -- lifetime ---------------------------------------------------------
-    def close(self):
-        """Free the grid (and every Star made from it). Idempotent."""
-        if self._h is not None:
-            for s in list(self._stars):
-                s.close()
-            lib.hrt_grid_close(self._h)
-            self._h = None
+    _what = "grid"
 
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
-
-    def __del__(self):
-        try:
-            self.close()
-        except Exception:
-            pass
-
-    @property
-    def _handle(self):
-        if self._h is None:
-            raise ValueError("hrtrail: the grid is closed")
-        return self._h
-
-    @property
-    def closed(self):
-        """True once close() was called."""
-        return self._h is None
+    def _free(self, h):
+        """Every Star made from the grid goes first (close() frees both)."""
+        for s in list(self._stars):
+            s.close()
+        lib.hrt_grid_close(h)
 
     # -- description ------------------------------------------------------
     @property
@@ -413,7 +427,7 @@ class Grid:
         return Star(self, mass_msun, z)
 
 
-class Star:
+class Star(_Owned):
     """One star: its track interpolated once (hrt_star), then asked any age.
 
     Star(grid, mass_msun, z)  initial mass in Msun, Z the metal mass fraction.
@@ -431,29 +445,10 @@ class Star:
         self._h = h
         grid._stars.add(self)
 
-    def close(self):
-        """Free the star's track. Idempotent."""
-        if self._h is not None:
-            lib.hrt_star_free(self._h)
-            self._h = None
+    _what = "star (or its grid)"
 
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
-
-    def __del__(self):
-        try:
-            self.close()
-        except Exception:
-            pass
-
-    @property
-    def _handle(self):
-        if self._h is None:
-            raise ValueError("hrtrail: the star is closed (or its grid was closed)")
-        return self._h
+    def _free(self, h):
+        lib.hrt_star_free(h)
 
     @property
     def mass_msun(self):

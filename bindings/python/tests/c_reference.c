@@ -85,44 +85,73 @@ static int layout(void)
     return 0;
 }
 
-static int eval(const char *grid, const char *in, const char *out)
+/* Stars read from an n x (mass_msun, z, age_yr) float64 file, and room for their states. */
+typedef struct stars {
+    size_t n;
+    double *m, *z, *a;
+    hrt_state *s;
+} stars;
+
+static void free_stars(stars *st)
+{
+    free(st->m);
+    free(st->z);
+    free(st->a);
+    free(st->s);
+}
+
+static int load_stars(const char *in, stars *st)
 {
     size_t nv;
     double *v = read_doubles(in, &nv);
+    memset(st, 0, sizeof *st);
     if (!v)
         return fail("cannot read the input");
     size_t n = nv / 3;
-    double *m = malloc((n + 1) * sizeof(double)), *z = malloc((n + 1) * sizeof(double));
-    double *a = malloc((n + 1) * sizeof(double));
-    hrt_state *s = malloc((n + 1) * sizeof(hrt_state));
+    st->n = n;
+    st->m = malloc((n + 1) * sizeof(double));
+    st->z = malloc((n + 1) * sizeof(double));
+    st->a = malloc((n + 1) * sizeof(double));
+    st->s = malloc((n + 1) * sizeof(hrt_state));
+    if (!st->m || !st->z || !st->a || !st->s) {
+        free(v);
+        free_stars(st);
+        return fail("out of memory");
+    }
+    for (size_t i = 0; i < n; i++) {
+        st->m[i] = v[3 * i];
+        st->z[i] = v[3 * i + 1];
+        st->a[i] = v[3 * i + 2];
+    }
+    free(v);
+    return 0;
+}
+
+static int eval(const char *grid, const char *in, const char *out)
+{
+    stars st;
+    if (load_stars(in, &st))
+        return 1;
     hrt_grid *g = NULL;
     int status = 1;
-    if (!m || !z || !a || !s || open_grid(grid, &g) != HRT_OK)
+    size_t n = st.n;
+    if (open_grid(grid, &g) != HRT_OK)
         goto done;
-    for (size_t i = 0; i < n; i++) {
-        m[i] = v[3 * i];
-        z[i] = v[3 * i + 1];
-        a[i] = v[3 * i + 2];
-    }
     hrt_error err;
     memset(&err, 0, sizeof err);
-    int rc = hrt_eval(g, n, m, z, 0.0, a, s, &err);
+    int rc = hrt_eval(g, n, st.m, st.z, 0.0, st.a, st.s, &err);
     printf("zarr %d %s\n", rc, rc ? err.message : "");
-    if (write_file(out, ".zarr", s, n * sizeof(hrt_state)))
+    if (write_file(out, ".zarr", st.s, n * sizeof(hrt_state)))
         goto done;
     memset(&err, 0, sizeof err);
-    rc = hrt_eval(g, n, m, NULL, n ? z[0] : 0.0, a, s, &err);
+    rc = hrt_eval(g, n, st.m, NULL, n ? st.z[0] : 0.0, st.a, st.s, &err);
     printf("zall %d %s\n", rc, rc ? err.message : "");
-    if (write_file(out, ".zall", s, n * sizeof(hrt_state)))
+    if (write_file(out, ".zall", st.s, n * sizeof(hrt_state)))
         goto done;
     status = 0;
 done:
     hrt_grid_close(g);
-    free(v);
-    free(m);
-    free(z);
-    free(a);
-    free(s);
+    free_stars(&st);
     return status;
 }
 
@@ -217,30 +246,21 @@ static double now_s(clockid_t clock)
 
 static int time_eval(const char *grid, const char *in, int repeat, const char *zall)
 {
-    size_t nv;
-    double *v = read_doubles(in, &nv);
-    if (!v)
-        return fail("cannot read the input");
-    size_t n = nv / 3;
-    double *m = malloc((n + 1) * sizeof(double)), *z = malloc((n + 1) * sizeof(double));
-    double *a = malloc((n + 1) * sizeof(double));
-    hrt_state *s = malloc((n + 1) * sizeof(hrt_state));
+    stars st;
+    if (load_stars(in, &st))
+        return 1;
     hrt_grid *g = NULL;
     int status = 1;
-    if (!m || !z || !a || !s || open_grid(grid, &g) != HRT_OK)
+    size_t n = st.n;
+    if (open_grid(grid, &g) != HRT_OK)
         goto done;
-    for (size_t i = 0; i < n; i++) {
-        m[i] = v[3 * i];
-        z[i] = v[3 * i + 1];
-        a[i] = v[3 * i + 2];
-    }
-    memset(s, 0, n * sizeof(hrt_state)); /* touch the output once, as a reused buffer is */
+    memset(st.s, 0, n * sizeof(hrt_state)); /* touch the output once, as a reused buffer is */
     int use_z = strcmp(zall, "-") == 0;
     double z_all = use_z ? 0.0 : strtod(zall, NULL), best = 1e300, best_cpu = 1e300;
     int rc = HRT_OK;
     for (int r = 0; r < repeat; r++) {
         double t0 = now_s(CLOCK_MONOTONIC), c0 = now_s(CLOCK_THREAD_CPUTIME_ID);
-        rc = hrt_eval(g, n, m, use_z ? z : NULL, z_all, a, s, NULL);
+        rc = hrt_eval(g, n, st.m, use_z ? st.z : NULL, z_all, st.a, st.s, NULL);
         double t = now_s(CLOCK_MONOTONIC) - t0, c = now_s(CLOCK_THREAD_CPUTIME_ID) - c0;
         best = t < best ? t : best;
         best_cpu = c < best_cpu ? c : best_cpu;
@@ -248,20 +268,16 @@ static int time_eval(const char *grid, const char *in, int repeat, const char *z
     size_t ok = 0;
     double sum = 0.0;
     for (size_t i = 0; i < n; i++)
-        if (s[i].status == HRT_OK) {
+        if (st.s[i].status == HRT_OK) {
             ok++;
-            sum += isfinite(s[i].log_l) ? s[i].log_l : 0.0;
+            sum += isfinite(st.s[i].log_l) ? st.s[i].log_l : 0.0;
         }
     printf("RESULT c_eval_s %.6f c_eval_cpu_s %.6f n %zu rc %d answered %zu checksum %.17g\n", best, best_cpu, n,
            rc, ok, sum);
     status = 0;
 done:
     hrt_grid_close(g);
-    free(v);
-    free(m);
-    free(z);
-    free(a);
-    free(s);
+    free_stars(&st);
     return status;
 }
 
