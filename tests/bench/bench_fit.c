@@ -1,0 +1,80 @@
+/* Benchmark of hrt_fit_star: milliseconds per star on a grid (default: HRTRAIL_GRID or the installed one).
+ * Prints figures; asserts nothing about time. */
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <time.h>
+
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+
+#include "hrtrail.h"
+
+static double now_s(void)
+{
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    return (double)t.tv_sec + 1e-9 * (double)t.tv_nsec;
+}
+
+/* n synthetic stars of the grid (Kroupa-like masses 0.7-5 Msun, ages uniform), fitted with or without [Fe/H] */
+static void run(const hrt_grid *g, const hrt_fit_model *m, int with_feh, int n, const char *label)
+{
+    gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(r, 42);
+    hrt_fit_obs *obs = calloc((size_t)n, sizeof *obs);
+    int k = 0;
+    while (k < n) {
+        double mass = 0.7 * pow(5.0 / 0.7, pow(gsl_rng_uniform(r), 1.5)), age = 13.8e9 * gsl_rng_uniform(r);
+        double feh = -0.5 + 0.8 * gsl_rng_uniform(r), z = hrt_grid_z_ref(g) * pow(10.0, feh);
+        hrt_state s;
+        if (hrt_eval(g, 1, &mass, &z, 0.0, &age, &s, NULL) != HRT_OK || s.flags) continue;
+        hrt_fit_obs_init(&obs[k]);
+        obs[k].teff_k = pow(10.0, s.log_teff_k) + gsl_ran_gaussian(r, 80);
+        obs[k].teff_sigma_k = 80;
+        obs[k].log_l = s.log_l + gsl_ran_gaussian(r, 0.03);
+        obs[k].log_l_sigma = 0.03;
+        if (with_feh) {
+            obs[k].feh = feh + gsl_ran_gaussian(r, 0.1);
+            obs[k].feh_sigma = 0.1;
+        }
+        k++;
+    }
+    double t0 = now_s(), worst = 0;
+    int failed = 0;
+    for (int i = 0; i < n; i++) {
+        hrt_fit_result res;
+        double t1 = now_s();
+        if (hrt_fit_star(m, &obs[i], (uint64_t)i, 0, NULL, &res, NULL) != HRT_OK) failed++;
+        double dt = now_s() - t1;
+        if (dt > worst) worst = dt;
+    }
+    double t = now_s() - t0;
+    printf("%-44s %5d stars  %7.2f ms/star (slowest %.1f ms), %d failed\n", label, n, 1e3 * t / n, 1e3 * worst, failed);
+    free(obs);
+    gsl_rng_free(r);
+}
+
+int main(int argc, char **argv)
+{
+    hrt_grid *g = NULL;
+    hrt_error err;
+    if (hrt_grid_open(argc > 1 ? argv[1] : NULL, &g, &err) != HRT_OK) {
+        fprintf(stderr, "bench_fit: %s\n", err.message);
+        return 1;
+    }
+    int n = argc > 2 ? atoi(argv[2]) : 300;
+    hrt_fit_model *m = NULL;
+    double t0 = now_s();
+    if (hrt_fit_model_new(g, NULL, &m, &err) != HRT_OK) {
+        fprintf(stderr, "bench_fit: %s\n", err.message);
+        return 1;
+    }
+    printf("model (defaults, whole grid): %.3f s to build, %.1f MB, %zu [Fe/H] nodes\n", now_s() - t0,
+           hrt_fit_model_memory_bytes(m) / 1e6, hrt_fit_model_n_feh(m));
+    run(g, m, 1, n, "Teff, log L, [Fe/H] measured");
+    run(g, m, 0, n, "Teff, log L only (all [Fe/H] nodes)");
+    hrt_fit_model_free(m);
+    hrt_grid_close(g);
+    return 0;
+}
