@@ -70,4 +70,5 @@ program evolve_stars
      call hrtf_star_free(star)
   end do
   call hrtf_close(grid)
+  deallocate (states, spans)
 end program evolve_stars
