@@ -471,6 +471,22 @@ HRT_API double hrt_wd_radius_rsun(double mass_msun);
  */
 HRT_API double hrt_wd_log_l(double mass_msun, int kind, double log_l0, double dt_yr);
 
+/**
+ * @brief Remnant of core collapse from the final carbon-oxygen core and
+ * total masses (Msun): kind (HRT_REMNANT_NS or HRT_REMNANT_BH) and
+ * gravitational mass (Msun).
+ *
+ * The "delayed" prescription of Fryer et al. (2012, ApJ 749, 91) [from
+ * memory], with the steps of its proto-neutron-star mass smoothed over 0.3
+ * Msun of CO core; baryonic masses below 2.5 Msun make neutron stars with
+ * M_bar = M_grav + 0.075 M_grav^2 (Lattimer & Yahil 1989, ApJ 340, 426),
+ * heavier ones black holes of 0.9 M_bar.  Good to a factor of about 2 for
+ * black holes; real explodability is not monotonic in mass.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (masses not
+ * finite, negative, or a core heavier than the star).
+ */
+HRT_API int hrt_collapse_remnant(double co_core_msun, double final_mass_msun, int *kind, double *mass_msun);
+
 /* ------------------------------------------------------------------------
  * Building grids: the writer used by the generator and by import
  * ------------------------------------------------------------------------ */

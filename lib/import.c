@@ -1102,33 +1102,6 @@ static void default_phases(trk *t, const hrt_route_spec *r, size_t nk)
                                                     : ph;
 }
 
-/* Remnant of core collapse from the CO-core and final masses: the "delayed"
- * prescription of Fryer et al. (2012, ApJ 749, 91) [from memory]; baryonic
- * masses below 2.5 Msun make neutron stars with M_bar = M_grav + 0.075
- * M_grav^2 (Lattimer & Yahil 1989, ApJ 340, 426) [from memory], heavier ones
- * black holes of 0.9 M_bar. */
-static void collapse_remnant(double mco, double mfin, int *kind, double *mrem)
-{
-    double mp = mco < 3.5 ? 1.2 : mco < 6.0 ? 1.3 : mco < 11.0 ? 1.4 : 1.6;
-    double mfb;
-    if (mco < 2.5)
-        mfb = 0.2;
-    else if (mco < 3.5)
-        mfb = 0.5 * mco - 1.05;
-    else if (mco < 11.0) {
-        double a2 = 0.133 - 0.093 / (mfin - mp), b2 = -11.0 * a2 + 1.0;
-        mfb = (a2 * mco + b2) * (mfin - mp);
-    } else
-        mfb = mfin - mp;
-    double mbar = fmin(mp + mfb, mfin);
-    if (mbar < 2.5) {
-        *kind = HRT_REMNANT_NS;
-        *mrem = (-1.0 + sqrt(1.0 + 0.3 * mbar)) / 0.15;
-    } else {
-        *kind = HRT_REMNANT_BH;
-        *mrem = 0.9 * mbar;
-    }
-}
 
 static void assign_remnant(trk *t, const hrt_route_spec *r, size_t nk)
 {
@@ -1150,7 +1123,7 @@ static void assign_remnant(trk *t, const hrt_route_spec *r, size_t nk)
             t->rep.remnant = m >= 1.10 ? HRT_REMNANT_ONE_WD : HRT_REMNANT_CO_WD;
         t->rep.remnant_mass_msun = m;
     } else if (!strcmp(last, "core_collapse")) {
-        collapse_remnant(t->has[M_MCO] ? t->mco[s] : 0.0, m, &t->rep.remnant, &t->rep.remnant_mass_msun);
+        hrt_collapse_remnant(t->has[M_MCO] ? fmin(t->mco[s], m) : 0.0, m, &t->rep.remnant, &t->rep.remnant_mass_msun);
         if (!t->has[M_MCO])
             note(t, "no co_core_mass column: remnant from a zero CO core");
     }

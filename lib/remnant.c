@@ -19,6 +19,39 @@ double hrt_wd_radius_rsun(double m)
     return 0.0114 * sqrt(1.0 / a - a) * pow(b, -2.0 / 3.0);
 }
 
+static double logistic(double x) { return 1.0 / (1.0 + exp(-x)); }
+
+int hrt_collapse_remnant(double m_co, double m_fin, int *kind, double *m_rem)
+{
+    if (!kind || !m_rem)
+        return HRT_E_NULL;
+    if (!(isfinite(m_co) && isfinite(m_fin) && m_co >= 0.0 && m_fin > 0.0 && m_co <= m_fin))
+        return HRT_E_DOMAIN;
+    /* proto-neutron-star mass 1.2 / 1.3 / 1.4 / 1.6 Msun with steps at CO
+     * cores of 3.5, 6 and 11 Msun, smoothed [engineering choice] */
+    double mp = 1.2 + 0.1 * logistic((m_co - 3.5) / 0.1) + 0.1 * logistic((m_co - 6.0) / 0.1) +
+                0.2 * logistic((m_co - 11.0) / 0.1);
+    double mfb; /* fallback */
+    if (m_co < 2.5)
+        mfb = 0.2;
+    else if (m_co < 3.5)
+        mfb = 0.5 * m_co - 1.05;
+    else if (m_co < 11.0) {
+        double a2 = 0.133 - 0.093 / (m_fin - mp), b2 = -11.0 * a2 + 1.0;
+        mfb = (a2 * m_co + b2) * (m_fin - mp);
+    } else
+        mfb = m_fin - mp;
+    double mbar = fmin(mp + mfb, m_fin);
+    if (mbar < 2.5) {
+        *kind = HRT_REMNANT_NS;
+        *m_rem = (-1.0 + sqrt(1.0 + 0.3 * mbar)) / 0.15;
+    } else {
+        *kind = HRT_REMNANT_BH;
+        *m_rem = 0.9 * mbar;
+    }
+    return HRT_OK;
+}
+
 /* Mean atomic mass number of the ions of each white-dwarf kind: helium 4;
  * carbon-oxygen 13.7 (equal masses of 12C and 16O, harmonic mean); oxygen-neon
  * 17.6 (60 % O, 40 % Ne by mass) [engineering choice]. */

@@ -457,6 +457,25 @@ START_TEST(test_wd_physics)
 }
 END_TEST
 
+/* Core collapse (Fryer et al. 2012 delayed prescription, from memory):
+ * neutron stars of 1.2-1.5 Msun +- 0.2 for small CO cores (observed birth
+ * masses: Ozel et al. 2012, ApJ 757, 55), black holes for large ones. */
+START_TEST(test_collapse_remnant)
+{
+    int kind;
+    double m;
+    ck_assert_int_eq(hrt_collapse_remnant(2.0, 12.0, &kind, &m), HRT_OK);
+    ck_assert_int_eq(kind, HRT_REMNANT_NS);
+    ck_assert(m > 1.0 && m < 1.7);
+    ck_assert_int_eq(hrt_collapse_remnant(12.0, 14.0, &kind, &m), HRT_OK);
+    ck_assert_int_eq(kind, HRT_REMNANT_BH);
+    ck_assert_double_eq_tol(m, 0.9 * 14.0, 1e-12); /* all of the star falls back */
+    ck_assert_int_eq(hrt_collapse_remnant(5.0, 4.0, &kind, &m), HRT_E_DOMAIN);
+    ck_assert_int_eq(hrt_collapse_remnant(NAN, 4.0, &kind, &m), HRT_E_DOMAIN);
+    ck_assert_int_eq(hrt_collapse_remnant(1.0, 4.0, NULL, &m), HRT_E_NULL);
+}
+END_TEST
+
 START_TEST(test_isochrone)
 {
     hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
@@ -857,6 +876,7 @@ static Suite *core_suite(void)
         {"stefan_boltzmann", test_stefan_boltzmann},
         {"phases", test_phases_keypoints_remnant},
         {"white_dwarfs", test_wd_physics},
+        {"collapse_remnant", test_collapse_remnant},
         {"isochrone", test_isochrone},
         {"bad_queries", test_bad_queries},
         {"route_edges", test_route_edges},

@@ -369,36 +369,6 @@ void gen_route_boundaries(const gen_params *p, double z, double bounds[2])
     bounds[1] = 8.0;
 }
 
-/* Remnant of core collapse, "delayed" prescription of Fryer et al. (2012,
- * ApJ 749, 91) from the CO-core and final masses [from memory]; the steps of
- * its proto-neutron-star mass are smoothed over 0.3 Msun of CO core
- * [engineering choice].  Baryonic remnant masses below 2.5 Msun make neutron
- * stars, M_grav from M_bar = M_grav + 0.075 M_grav^2 (Lattimer & Yahil 1989,
- * ApJ 340, 426) [from memory]; heavier ones black holes with
- * M_grav = 0.9 M_bar (Fryer et al. 2012) [from memory]. */
-static void collapse_remnant(double m_co, double m_fin, int *kind, double *m_rem)
-{
-    double mp = 1.2 + 0.1 * logistic((m_co - 3.5) / 0.1) + 0.1 * logistic((m_co - 6.0) / 0.1) +
-                0.2 * logistic((m_co - 11.0) / 0.1);
-    double mfb;
-    if (m_co < 2.5)
-        mfb = 0.2;
-    else if (m_co < 3.5)
-        mfb = 0.5 * m_co - 1.05;
-    else if (m_co < 11.0) {
-        double a2 = 0.133 - 0.093 / (m_fin - mp), b2 = -11.0 * a2 + 1.0;
-        mfb = (a2 * m_co + b2) * (m_fin - mp);
-    } else
-        mfb = m_fin - mp;
-    double mbar = fmin(mp + mfb, m_fin);
-    if (mbar < 2.5) {
-        *kind = HRT_REMNANT_NS;
-        *m_rem = (-1.0 + sqrt(1.0 + 0.3 * mbar)) / 0.15;
-    } else {
-        *kind = HRT_REMNANT_BH;
-        *m_rem = 0.9 * mbar;
-    }
-}
 
 /* ------------------------------------------------------------------------
  * Track assembly
@@ -960,10 +930,10 @@ static void route_supergiant(ctx *c)
                 c->t->s[c->t->kp[c->t->n_kp - 1]].phase = ph;
         }
     }
-        keypoint(c); /* core_collapse */
-    int kind;
-    double mrem;
-    collapse_remnant(c->mco, c->m, &kind, &mrem);
+    keypoint(c); /* core_collapse */
+    int kind = HRT_REMNANT_NS;
+    double mrem = NAN; /* refused by the grid builder if the rule cannot apply */
+    hrt_collapse_remnant(c->mco, c->m, &kind, &mrem); /* Fryer et al. 2012, in lib/remnant.c */
     c->t->remnant = kind;
     c->t->remnant_mass = mrem;
     c->t->s[c->t->n - 1].phase = kind == HRT_REMNANT_BH ? HRT_PHASE_BH : HRT_PHASE_NS;
