@@ -80,16 +80,13 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
 
 static int z_type(const hrt_grid *g) { return hrt_interp_effective(g->interp, g->n_z); }
 
-int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err)
+/* The metallicity part of a query context: bracketing groups and weights
+ * across [Fe/H].  It does not depend on the mass, so a batch at one Z
+ * computes it once. */
+static int qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err)
 {
     q->g = g;
-    q->mass = mass;
     q->z = z;
-    q->route = -1;
-    q->flags = 0;
-    q->n_eep = 0;
-    if (!isfinite(mass) || mass <= 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
     if (!isfinite(z) || z <= 0.0)
         return hrt_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", z);
     size_t nz = g->n_z;
@@ -121,7 +118,36 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
         q->hz = g->grp[g0 + 1].feh - g->grp[g0].feh;
         q->tz = (q->feh - g->grp[g0].feh) / q->hz;
         q->g_near = q->tz <= 0.5 ? g0 : g0 + 1;
+        hrt_hermite_weights(z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->feh, q->zw);
     }
+    return HRT_OK;
+}
+
+/* Copy the metallicity part of one context into another. */
+static void qctx_copy_z(qctx *dst, const qctx *src)
+{
+    dst->g = src->g;
+    dst->z = src->z;
+    dst->single = src->single;
+    dst->g0 = src->g0;
+    dst->feh = src->feh;
+    dst->tz = src->tz;
+    dst->hz = src->hz;
+    dst->g_near = src->g_near;
+    memcpy(dst->zw, src->zw, sizeof dst->zw);
+}
+
+/* The mass part, after qctx_z. */
+static int qctx_mass(qctx *q, double mass, hrt_error *err)
+{
+    const hrt_grid *g = q->g;
+    size_t nz = g->n_z, g0 = q->g0;
+    q->mass = mass;
+    q->route = -1;
+    q->flags = 0;
+    q->n_eep = 0;
+    if (!isfinite(mass) || mass <= 0.0)
+        return hrt_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
     /* Route from the boundary masses, linear in [Fe/H] between groups. */
     int route = 0;
     for (size_t b = 0; b + 1 < g->n_routes; b++) {
@@ -188,11 +214,24 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
             q->flags |= HRT_FLAG_EXTRAPOLATED;
     }
     q->n_eep = ne;
-    for (size_t k = s_lo; k <= s_hi; k++)
-        q->zx[k - s_lo] = g->grp[k].feh;
     if (!q->single)
-        hrt_hermite_weights(z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->feh, q->zw);
+        for (size_t k = s_lo; k <= s_hi; k++)
+            q->zx[k - s_lo] = g->grp[k].feh;
     return HRT_OK;
+}
+
+int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err)
+{
+    q->g = g;
+    q->mass = mass;
+    q->z = z;
+    q->route = -1;
+    q->flags = 0;
+    q->n_eep = 0;
+    if (!isfinite(mass) || mass <= 0.0)
+        return hrt_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
+    int rc = qctx_z(g, z, q, err);
+    return rc != HRT_OK ? rc : qctx_mass(q, mass, err);
 }
 
 /* Value of quantity qn at EEP j in group k of the stencil (mass Hermite). */
@@ -435,7 +474,9 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
     case HRT_REMNANT_CO_WD:
     case HRT_REMNANT_ONE_WD:
         s->phase = HRT_PHASE_WD;
-        s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, s->age_yr - t_last_yr);
+        /* The remnant test is made on log ages; in years the age can then
+         * fall a rounding error short of t_last: cooling has not begun. */
+        s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
         s->log_r = hrt_log10(hrt_wd_radius_rsun(rem_mass));
         s->log_teff_k = LOG_TEFF_SUN + 0.25 * (s->log_l - 2.0 * s->log_r);
         s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
@@ -637,6 +678,26 @@ int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, dou
     return HRT_OK;
 }
 
+/* The metallicity part of the last context built, for reuse. */
+typedef struct zcache {
+    double z;
+    int rc;
+    qctx q; /* only its metallicity fields are meaningful */
+} zcache;
+
+/* hrt_qctx_init, reusing the metallicity part when Z repeats. */
+static int init_star(const hrt_grid *g, double mass, double z, qctx *q, zcache *zc, hrt_error *err)
+{
+    if (!(z == zc->z)) {
+        zc->rc = qctx_z(g, z, &zc->q, NULL);
+        zc->z = z;
+    }
+    if (zc->rc != HRT_OK || !isfinite(mass) || mass <= 0.0)
+        return hrt_qctx_init(g, mass, z, q, err); /* the full path words the error */
+    qctx_copy_z(q, &zc->q);
+    return qctx_mass(q, mass, err);
+}
+
 int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, double z_all,
              const double *age_yr, hrt_state *out, hrt_error *err)
 {
@@ -654,12 +715,17 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     qctx *cur = &qbuf[0], *nxt = &qbuf[1];
     hrt_error e1, e2;
     hrt_error *ecur = &e1, *enxt = &e2;
-    int rc_cur = hrt_qctx_init(g, mass_msun[0], z ? z[0] : z_all, cur, ecur);
+    /* The metallicity part of the context is shared by consecutive stars of
+     * the same Z (all of them when z is NULL). */
+    zcache zc;
+    zc.z = NAN;
+    zc.rc = HRT_E_DOMAIN;
+    int rc_cur = init_star(g, mass_msun[0], z ? z[0] : z_all, cur, &zc, ecur);
     for (size_t i = 0; i < n; i++) {
         double zi = z ? z[i] : z_all;
         int rc_nxt = HRT_OK;
         if (i + 1 < n) {
-            rc_nxt = hrt_qctx_init(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, first == HRT_OK ? enxt : NULL);
+            rc_nxt = init_star(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
             if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->single) {
                 int j = q_hint(nxt, hrt_log10(age_yr[i + 1]));
                 const mctx *m = &nxt->m[nxt->g0 - nxt->g_lo];
