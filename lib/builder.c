@@ -236,6 +236,9 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
     if (t->remnant != HRT_REMNANT_NONE && !(isfinite(t->remnant_mass_msun) && t->remnant_mass_msun > 0.0))
         return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g is not positive", who,
                              t->initial_mass_msun, t->remnant_mass_msun);
+    if (hrt_remnant_family(t->remnant) == HRT_REMNANT_CO_WD && !(t->remnant_mass_msun < 1.44))
+        return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: a white dwarf of %g Msun is beyond the 1.44 Msun of "
+                             "the white dwarf mass-radius relation", who, t->initial_mass_msun, t->remnant_mass_msun);
     if (t->n < 2 || t->n > 10000000)
         return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: %zu points (at least 2)", who, t->initial_mass_msun,
                              t->n);

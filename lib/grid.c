@@ -3,6 +3,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include "internal.h"
 
@@ -28,11 +29,14 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
         return hrt_set_error(err, HRT_E_INVALID, "hrt_grid_open: unknown interpolation type %d", interp);
     if (!path) {
         path = hrt_default_grid_path();
-        FILE *f = fopen(path, "rb");
-        if (!f)
+        struct stat st; /* not a regular file: not opened here (a pipe would block); hrt_grid_read refuses it */
+        int special = stat(path, &st) == 0 && !S_ISREG(st.st_mode);
+        FILE *f = special ? NULL : fopen(path, "rb");
+        if (!special && !f)
             return hrt_set_error(err, HRT_E_NOT_FOUND,
                                  "no default grid at '%s' (set HRTRAIL_GRID or install hrtrail's data)", path);
-        fclose(f);
+        if (f)
+            fclose(f);
     }
     hrt_grid *g = calloc(1, sizeof *g);
     if (!g)

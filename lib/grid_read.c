@@ -8,6 +8,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include <hdf5.h>
 
@@ -497,6 +498,9 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         if (gp->remnant[i] != HRT_REMNANT_NONE && !(isfinite(buf[i]) && buf[i] > 0.0))
             rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g is not a positive mass", where, i,
                                buf[i]);
+        else if (hrt_remnant_family(gp->remnant[i]) == HRT_REMNANT_CO_WD && !(buf[i] < 1.44))
+            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: a white dwarf of %g Msun is beyond the "
+                               "1.44 Msun the white dwarf mass-radius relation allows", where, i, buf[i]);
         gp->remnant_hv[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? buf[i] : NAN;
     }
     hsize_t db[1] = {R > 1 ? R - 1 : 0};
@@ -639,6 +643,11 @@ static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
 
 int hrt_grid_read(const char *path, hrt_grid *g, hrt_error *err)
 {
+    /* Only regular files: opening a named pipe for reading would block
+     * until someone writes to it, i.e. possibly forever. */
+    struct stat st;
+    if (stat(path, &st) == 0 && !S_ISREG(st.st_mode))
+        return hrt_set_error(err, HRT_E_IO, "'%s' is not a regular file (a directory, device or pipe)", path);
     FILE *probe = fopen(path, "rb");
     if (!probe)
         return hrt_set_error(err, HRT_E_IO, "cannot open '%s' for reading", path);
