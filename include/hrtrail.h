@@ -1096,13 +1096,15 @@ HRT_API int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t ch
  * intervals reported here.
  */
 
-/** Mass priors of a fit (dN/dM of the initial mass). */
+/** Mass priors of a fit (dN/dM of the initial mass), evaluated by the population
+ *  module's IMFs (hrt_imf_init(), hrt_imf_pdf()) between the model's mass limits. */
 typedef enum hrt_fit_mass_prior {
-    HRT_FIT_PRIOR_KROUPA_2001 = 0,    /**< M^-1.3 below 0.5 Msun, M^-2.3 above (Kroupa 2001, MNRAS 322, 231, eq. 2) */
-    HRT_FIT_PRIOR_CHABRIER_2003 = 1,  /**< single-object disc IMF: log-normal (m_c 0.079 Msun, sigma 0.69 dex)
-                                       *   below 1 Msun, dN/dlog M ~ M^-1.3 above, continuous at 1 Msun
-                                       *   (Chabrier 2003, PASP 115, 763, Table 1) */
-    HRT_FIT_PRIOR_LOG_FLAT = 2,       /**< uniform in log M (dN/dM ~ 1/M) */
+    HRT_FIT_PRIOR_KROUPA_2001 = 0,    /**< HRT_IMF_KROUPA_2001: M^-1.3 below 0.5 Msun, M^-2.3 above
+                                       *   (Kroupa 2001, MNRAS 322, 231, eq. 2) */
+    HRT_FIT_PRIOR_CHABRIER_2003 = 1,  /**< HRT_IMF_CHABRIER_2003_SYSTEM: the disc system IMF, log-normal
+                                       *   (m_c 0.22 Msun, sigma 0.57 dex) below 1 Msun, dN/dlog M ~ M^-1.3
+                                       *   above (Chabrier 2003, PASP 115, 763, Table 1) */
+    HRT_FIT_PRIOR_LOG_FLAT = 2,       /**< HRT_IMF_POWER_LAW with alpha 1: uniform in log M (dN/dM ~ 1/M) */
     HRT_FIT_PRIOR_COUNT
 } hrt_fit_mass_prior;
 

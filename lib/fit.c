@@ -42,26 +42,25 @@ int hrt_fit_mass_prior_from_name(const char *name)
     return -1;
 }
 
-/* dN/dlog10 M of the prior, up to a constant. */
-static double prior_dlogm(int prior, double m)
+/* The mass prior as an IMF of the population module (lib/population.c, where
+ * the published parameters stand beside their references): Kroupa (2001),
+ * Chabrier (2003) system IMF, and log-flat as the power law dN/dM ~ M^-1. */
+static int prior_imf(const hrt_fit_model_options *o, hrt_imf *imf, hrt_error *err)
 {
-    switch (prior) {
-    case HRT_FIT_PRIOR_KROUPA_2001: /* dN/dM ~ M^-1.3 (< 0.5), M^-2.3 (>= 0.5), continuous */
-        return m < 0.5 ? m * pow(m / 0.5, -1.3) : m * pow(m / 0.5, -2.3);
-    case HRT_FIT_PRIOR_CHABRIER_2003: {
-        /* Chabrier (2003) Table 1, single objects: xi(log m) = 0.158 exp(-(log m - log 0.079)^2 / (2 0.69^2))
-         * below 1 Msun, A m^-1.3 above with A making it continuous at 1 Msun. */
-        const double lc = log10(0.079), s = 0.69;
-        if (m <= 1.0) {
-            double x = (log10(m) - lc) / s;
-            return 0.158 * exp(-0.5 * x * x);
-        }
-        double x1 = -lc / s;
-        return 0.158 * exp(-0.5 * x1 * x1) * pow(m, -1.3);
-    }
-    default:
-        return 1.0;
-    }
+    int kind = o->mass_prior == HRT_FIT_PRIOR_KROUPA_2001     ? HRT_IMF_KROUPA_2001
+               : o->mass_prior == HRT_FIT_PRIOR_CHABRIER_2003 ? HRT_IMF_CHABRIER_2003_SYSTEM
+                                                              : HRT_IMF_POWER_LAW;
+    hrt_error e;
+    int rc = hrt_imf_init(imf, kind, o->mass_min_msun, o->mass_max_msun, 1.0, &e);
+    return rc == HRT_OK ? rc : hrt_set_error(err, rc, "hrt_fit_model_new: mass prior: %s", e.message);
+}
+
+/* ln dN/dlog10 M of the prior at m (up to a constant); m is held inside the
+ * prior's limits, which the lattice's end tracks may miss by a rounding. */
+static double log_prior_dlogm(const hrt_imf *imf, double m)
+{
+    m = m < imf->m_lo_msun ? imf->m_lo_msun : m > imf->m_hi_msun ? imf->m_hi_msun : m;
+    return log(m * hrt_imf_pdf(imf, m));
 }
 
 /* ------------------------------------------------------------------ model */
@@ -146,6 +145,7 @@ static void route_edge(const hrt_grid *g, double z, int b, double lo, double hi,
 
 typedef struct build {
     hrt_fit_model *m;
+    hrt_imf imf; /* the mass prior */
     size_t cap_tr, cap_nodes;
 } build;
 
@@ -179,7 +179,7 @@ static int add_track(build *B, size_t k, double mass, int want_route, hrt_error 
     }
     ftrack *t = &m->tr[m->n_tracks++];
     t->log_m = log10(mass);
-    t->log_prior = log(prior_dlogm(m->o.mass_prior, mass));
+    t->log_prior = log_prior_dlogm(&B->imf, mass);
     t->route = want_route;
     t->n_eep = (int)n;
     t->kz = k;
@@ -295,7 +295,8 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
         m->wz[k] = (nz > 1 && (k == 0 || k == nz - 1)) ? 0.5 : 1.0;
     }
     m->dfeh = nz > 1 ? span / (double)(nz - 1) : 0.0;
-    build B = {m, 0, 0};
+    build B = {m, {0}, 0, 0};
+    rc = prior_imf(&o, &B.imf, err);
     size_t nr = hrt_grid_n_routes(g);
     for (size_t k = 0; k < nz && rc == HRT_OK; k++) {
         m->z_first[k] = m->n_tracks;

@@ -484,6 +484,17 @@ START_TEST(priors_and_names)
     ck_assert_int_eq(hrt_fit_star(mf, &ob, 1, 0, NULL, &b, NULL), HRT_OK);
     ck_assert(a.initial_mass_msun.median < b.initial_mass_msun.median);
     ck_assert(hrt_fit_model_memory_bytes(mk) > 0);
+    /* Chabrier (2003, PASP 115, 763, Table 1) system IMF: dN/dlog M falls
+     * above its 0.22 Msun peak, so it too puts the star lower than log-flat */
+    hrt_fit_model *mc;
+    o.mass_prior = HRT_FIT_PRIOR_CHABRIER_2003;
+    ck_assert_int_eq(hrt_fit_model_new(G, &o, &mc, NULL), HRT_OK);
+    hrt_fit_result c;
+    ck_assert_int_eq(hrt_fit_star(mc, &ob, 1, 0, NULL, &c, NULL), HRT_OK);
+    printf("Teff 4600 K alone: mass %.4f (kroupa2001), %.4f (chabrier2003), %.4f (log-flat) Msun\n",
+           a.initial_mass_msun.median, c.initial_mass_msun.median, b.initial_mass_msun.median);
+    ck_assert(c.initial_mass_msun.median < b.initial_mass_msun.median);
+    hrt_fit_model_free(mc);
     hrt_fit_model_free(mk);
     hrt_fit_model_free(mf);
 }
