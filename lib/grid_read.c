@@ -501,7 +501,9 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         else if (hrt_remnant_family(gp->remnant[i]) == HRT_REMNANT_CO_WD && !(buf[i] < 1.44))
             rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: a white dwarf of %g Msun is beyond the "
                                "1.44 Msun the white dwarf mass-radius relation allows", where, i, buf[i]);
-        gp->remnant_hv[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? buf[i] : NAN;
+        /* 0, not NaN, for a track without remnant: a query at a neighbour's
+         * mass gives it weight 0, and 0 * NaN would be NaN. */
+        gp->remnant_hv[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? buf[i] : 0.0;
     }
     hsize_t db[1] = {R > 1 ? R - 1 : 0};
     if (rc == HRT_OK && R > 1)

@@ -551,6 +551,7 @@ static void x_nan_padding(void)
     elem(M0 "phase", 0, 58, 77);
 }
 static void x_units_missing(void) { attr_del(M0 "log_L", "units"); }
+static void x_remnant_none(void) { elem(M0 "remnant", 1, 0, 0); } /* track 1 leaves no known remnant */
 
 typedef void (*damage_fn)(void);
 static const struct {
@@ -611,6 +612,7 @@ static const struct {
     {"extra datasets (accepted)", x_extra_dataset, HRT_OK, NULL},
     {"values after the valid EEPs (accepted)", x_nan_padding, HRT_OK, NULL},
     {"units attribute missing (accepted)", x_units_missing, HRT_OK, NULL},
+    {"a track without remnant beside ones with (accepted)", x_remnant_none, HRT_OK, NULL},
 };
 
 static void damaged(void)
@@ -646,6 +648,19 @@ static void damaged(void)
             hrt_eval(g, 1, &m, NULL, z, &a, &s1, NULL);
             hrt_eval(G, 1, &m, NULL, z, &a, &s2, NULL);
             CASE("damaged", memcmp(&s1, &s2, sizeof s1) == 0, "%s: answers differ", damages[k].name);
+            if (damages[k].fn == x_remnant_none) {
+                /* Regression: at the mass of track 0, past its end, the white
+                 * dwarf had NaN mass and luminosity with HRT_OK (track 1's
+                 * missing remnant mass entered with weight 0 as 0 * NaN). */
+                hrt_star *s = NULL;
+                hrt_state w;
+                double m0 = hrt_grid_mass(g, 0, 0), z0 = hrt_grid_z(g, 0);
+                int rs = hrt_star_new(g, m0, z0, &s, &e);
+                int rw = rs == HRT_OK ? hrt_star_at(s, 3.0 * hrt_star_end_age(s), &w) : rs;
+                CASE("damaged", rw == HRT_OK && w.phase == HRT_PHASE_WD && isfinite(w.mass_msun) && isfinite(w.log_l),
+                     "white dwarf beside a track without remnant: %d, mass %g, log L %g", rw, w.mass_msun, w.log_l);
+                hrt_star_free(s);
+            }
             if (damages[k].fn == x_extra_attrs)
                 CASE("damaged", hrt_grid_attribute(g, "provenance") &&
                                     strcmp(hrt_grid_attribute(g, "provenance"), "tests/hardening") == 0 &&
@@ -656,6 +671,148 @@ static void damaged(void)
     }
     unlink(p);
     free(bytes);
+}
+
+
+/* ---- text tracks: every defect the importer reports --------------------- */
+
+static const char good_track[] = "# invented test track\n"
+                                 "age_Myr logL logT kp\n"
+                                 "1 0.00 3.760 zams\n"
+                                 "200 0.05 3.758 -\n"
+                                 "900 0.10 3.755 -\n"
+                                 "2500 0.20 3.750 -\n"
+                                 "5000 0.30 3.740 tams\n";
+static const char good_map[] = "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp initial_mass=1.0 Z=0.014";
+
+static int import_one(const char *map, const char *content, size_t len, int lenient, hrt_error *e,
+                      hrt_import_track_report *rep)
+{
+    char p[160];
+    snprintf(p, sizeof p, "%s/track_m1.0.dat", dir);
+    FILE *f = fopen(p, "wb");
+    fwrite(content, 1, len, f);
+    fclose(f);
+    hrt_import *imp = NULL;
+    int rc = hrt_import_new(&imp, e);
+    if (rc == HRT_OK)
+        rc = hrt_import_map(imp, map, e);
+    if (rc == HRT_OK) {
+        hrt_import_set_lenient(imp, lenient);
+        rc = hrt_import_add_file(imp, p, NAN, e);
+    }
+    if (rc == HRT_OK)
+        rc = hrt_import_run(imp, NULL, e);
+    memset(rep, 0, sizeof *rep);
+    if (imp && hrt_import_n_tracks(imp) == 1)
+        hrt_import_track(imp, 0, rep);
+    hrt_import_free(imp);
+    unlink(p);
+    return rc;
+}
+
+static char *replace(const char *s, const char *from, const char *to)
+{
+    const char *at = strstr(s, from);
+    size_t n = strlen(s) + strlen(to) + 1;
+    char *out = malloc(n);
+    if (!at) {
+        snprintf(out, n, "%s", s);
+        return out;
+    }
+    snprintf(out, n, "%.*s%s%s", (int)(at - s), s, to, at + strlen(from));
+    return out;
+}
+
+static void import_defects(void)
+{
+    hrt_error e;
+    hrt_import_track_report rep;
+    int rc = import_one(good_map, good_track, strlen(good_track), 0, &e, &rep);
+    HARD_CHECK(rc == HRT_OK && rep.status == HRT_OK, "the good track imports: %d %s", rc, e.message);
+    struct {
+        const char *name;
+        const char *from, *to; /* edit of the good track */
+        const char *map;       /* NULL: the good map */
+        int code;
+        const char *needle;
+    } c[] = {
+        {"empty file", good_track, "", NULL, HRT_E_FORMAT, "empty file"},
+        {"header only", "1 0.00 3.760 zams\n200 0.05 3.758 -\n900 0.10 3.755 -\n2500 0.20 3.750 -\n5000 0.30 3.740 tams\n",
+         "", NULL, HRT_E_FORMAT, "at least 2 needed"},
+        {"binary data", "200 0.05", "200 \x01\x02", NULL, HRT_E_FORMAT, "binary data"},
+        {"missing field", "900 0.10 3.755 -", "900 0.10 3.755", NULL, HRT_E_FORMAT, "fields, the header"},
+        {"extra field", "900 0.10 3.755 -", "900 0.10 3.755 - 7", NULL, HRT_E_FORMAT, "fields, the header"},
+        {"not a number", "0.05 3.758", "bright 3.758", NULL, HRT_E_FORMAT, "is not a number"},
+        {"NaN value", "0.05 3.758", "nan 3.758", NULL, HRT_E_FORMAT, "not finite"},
+        {"infinite value", "0.05 3.758", "inf 3.758", NULL, HRT_E_FORMAT, "not finite"},
+        {"overflowing value", "0.05 3.758", "1e999 3.758", NULL, HRT_E_FORMAT, "not finite"},
+        {"negative age", "\n1 0.00", "\n-1 0.00", NULL, HRT_E_FORMAT, "is not positive"},
+        {"ages not increasing", "900 0.10", "150 0.10", NULL, HRT_E_FORMAT, "ages must increase"},
+        {"equal ages", "900 0.10", "200 0.10", NULL, HRT_E_FORMAT, "repeats the age"},
+        {"mapped column absent", "logT", "log_T", NULL, HRT_E_FORMAT, "which is not in the header"},
+        {"header column without a name", "age_Myr logL logT kp", "age_Myr,logL,,kp", NULL, HRT_E_FORMAT, "has no name"},
+        {"unknown keypoint flag", "tams\n", "tams_x\n", NULL, HRT_E_FORMAT, "keypoint flag"},
+        {"one keypoint only (track dropped: HRT_E_NO_TRACK in its report)", "tams\n", "-\n", NULL, HRT_E_INVALID,
+         "no usable track"},
+        {"negative current mass", "200 0.05", "200 -0.05", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp "
+         "initial_mass=1.0 Z=0.014 mass=logL", HRT_E_FORMAT, "negative"},
+        {"initial mass unknown", "", "", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp Z=0.014", HRT_E_FORMAT,
+         "initial mass unknown"},
+        {"metallicity unknown", "", "", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp initial_mass=1", HRT_E_FORMAT,
+         "metallicity unknown"},
+        {"map: unknown key", "", "", "age=age_Myr*Myr colour=logL", HRT_E_INVALID, "colour"},
+        {"map: no '='", "", "", "age", HRT_E_INVALID, "has no '='"},
+        {"map: no value", "", "", "age=", HRT_E_INVALID, "has no value"},
+        {"map: bad unit", "", "", "age=age_Myr*fortnights", HRT_E_INVALID, "unit"},
+        {"map: time unit on a luminosity", "", "", "log_L=logL*Myr", HRT_E_INVALID, "time unit"},
+        {"map: Z not finite", "", "", "Z=nan", HRT_E_INVALID, "not finite"},
+        {"file name not matching the pattern", "", "", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp Z=0.014 "
+         "pattern=star_{mass}.txt", HRT_E_FORMAT, "does not match the pattern"},
+    };
+    for (size_t k = 0; k < sizeof c / sizeof c[0]; k++) {
+        char *t = c[k].from[0] ? replace(good_track, c[k].from, c[k].to) : replace(good_track, "", "");
+        e.code = -1;
+        rc = import_one(c[k].map ? c[k].map : good_map, t, strlen(t), 0, &e, &rep);
+        CASE("import", rc == c[k].code && e.code == rc && strlen(e.message) > 5 && strstr(e.message, c[k].needle),
+             "%s: code %d (%s), want %d with '%s'", c[k].name, rc, e.message, c[k].code, c[k].needle);
+        if (rc == HRT_E_FORMAT && rep.file)
+            CASE("import", rep.status != HRT_OK, "%s: report status %d", c[k].name, rep.status);
+        /* lenient: the track is dropped and reported; the import then has no track */
+        if (rc == HRT_E_FORMAT && strstr(c[k].needle, "finite")) {
+            /* lenient: the row is dropped and counted, the track kept */
+            int rl = import_one(c[k].map ? c[k].map : good_map, t, strlen(t), 1, &e, &rep);
+            CASE("import", rl == HRT_OK && rep.status == HRT_OK && rep.n_rows_dropped == 1,
+                 "%s, lenient: %d (%s), %zu rows dropped", c[k].name, rl, e.message, rep.n_rows_dropped);
+        } else if (rc == HRT_E_FORMAT) {
+            /* lenient: the track is dropped and reported; no track is left */
+            int rl = import_one(c[k].map ? c[k].map : good_map, t, strlen(t), 1, &e, &rep);
+            CASE("import", rl == HRT_E_INVALID && rep.status != HRT_OK && strlen(rep.message) > 5,
+                 "%s, lenient: %d (%s), report %d '%s'", c[k].name, rl, e.message, rep.status, rep.message);
+        } else if (strstr(c[k].name, "one keypoint")) {
+            CASE("import", rep.status == HRT_E_NO_TRACK, "%s: report status %d", c[k].name, rep.status);
+        }
+        free(t);
+    }
+    /* API misuse */
+    hrt_import *imp = NULL;
+    HARD_CHECK(hrt_import_new(&imp, &e) == HRT_OK, "import");
+    CASE("import", hrt_import_run(imp, NULL, &e) == HRT_E_INVALID, "no files: %s", e.message);
+    CASE("import", hrt_import_add_file(imp, NULL, 0.01, &e) == HRT_E_NULL && hrt_import_map(imp, NULL, &e) == HRT_E_NULL &&
+                       hrt_import_map(NULL, "a=b", &e) == HRT_E_NULL && hrt_import_add_file(imp, "x", 2.0, &e) ==
+                       HRT_E_DOMAIN && hrt_import_set_z_ref(imp, NAN, &e) == HRT_E_DOMAIN,
+         "NULL arguments, Z = 2, z_ref NaN");
+    hrt_import_free(imp);
+    HARD_CHECK(hrt_import_new(&imp, &e) == HRT_OK, "import");
+    char missing[160];
+    snprintf(missing, sizeof missing, "%s/no-such-track.dat", dir);
+    hrt_import_map(imp, good_map, &e);
+    hrt_import_add_file(imp, missing, NAN, &e);
+    rc = hrt_import_run(imp, NULL, &e);
+    CASE("import", rc == HRT_E_IO && strstr(e.message, "no-such-track"), "unreadable file: %d %s", rc, e.message);
+    CASE("import", hrt_import_run(imp, NULL, &e) == HRT_E_INVALID, "a second run: %s", e.message);
+    hrt_import_free(imp);
+    hrt_import_free(NULL);
 }
 
 /* ---- regressions -------------------------------------------------------- */
@@ -762,6 +919,7 @@ int main(void)
     nulls_and_zeros();
     not_grids();
     damaged();
+    import_defects();
     end_of_track();
     /* Also a grid opened with every interpolation type survives the numbers. */
     for (int t = 0; t < HRT_INTERP_COUNT; t++) {

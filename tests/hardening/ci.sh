@@ -1,0 +1,61 @@
+#!/bin/sh
+# The hardening stage of CI (.ci/run runs it after the README commands,
+# with the normal build in build/): the whole test suite under ASan+UBSan,
+# the thread test under TSan, valgrind memcheck over the C test programs,
+# and every fuzz target for a bounded time.  Prints the time of each part.
+# Usage: tests/hardening/ci.sh [FUZZ_SECONDS_PER_TARGET]
+set -eu
+cd "$(dirname "$0")/../.."
+top=$(pwd)
+fuzz_secs=${1:-45}
+t_start=$(date +%s)
+t_last=$t_start
+lap() {
+    now=$(date +%s)
+    echo "ci-hardening: $1 took $((now - t_last)) s"
+    t_last=$now
+}
+
+# 1. ASan + UBSan over the whole meson test suite.
+[ -d build-asan ] || meson setup build-asan -Db_sanitize=address,undefined -Db_lundef=false > build-asan.log
+ninja -C build-asan > /dev/null
+ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1 \
+    meson test -C build-asan --print-errorlogs --timeout-multiplier 4 --wrapper "$top/tests/hardening/asan-wrap.sh"
+lap "ASan+UBSan test suite"
+
+# 2. TSan: eight threads on one grid, also the default grid.
+[ -d build-tsan ] || meson setup build-tsan -Db_sanitize=thread -Db_lundef=false > build-tsan.log
+ninja -C build-tsan tests/hardening/test_threads > /dev/null
+TSAN_OPTIONS=halt_on_error=1 build-tsan/tests/hardening/test_threads build/tracks/hrtrail-default-grid.h5
+lap "TSan thread test"
+
+# 3. valgrind memcheck over the C test programs of the normal build, two at a time.
+vg="valgrind --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect -q"
+grid=$top/build/tracks/hrtrail-default-grid.h5
+mkdir -p build/valgrind
+run_vg() { # name, program and arguments
+    name=$1
+    shift
+    if CK_DEFAULT_TIMEOUT=3000 HRTRAIL_GRID=$grid $vg "$@" > "build/valgrind/$name.log" 2>&1; then
+        echo "ci-hardening: valgrind $name: no errors, no leaks"
+    else
+        echo "ci-hardening: valgrind $name FAILED"
+        tail -n 60 "build/valgrind/$name.log"
+        return 1
+    fi
+}
+fails=0
+run_vg default_grid build/tests/test_default_grid & p1=$!
+run_vg core build/tests/test_core || fails=1
+run_vg threads build/tests/hardening/test_threads || fails=1
+run_vg alloc build/tests/hardening/test_alloc || fails=1
+run_vg faults build/tests/hardening/test_faults || fails=1
+run_vg badinput build/tests/hardening/test_badinput || fails=1
+wait $p1 || fails=1
+[ $fails -eq 0 ] || exit 1
+lap "valgrind memcheck"
+
+# 4. Fuzzing, each target for a bounded time.
+sh tests/fuzz/run.sh "$fuzz_secs" "$top/build-fuzz"
+lap "fuzzing"
+echo "ci-hardening: all stages passed in $(( $(date +%s) - t_start )) s"
