@@ -13,6 +13,7 @@
 #define LN10 2.302585092994045684
 #define PI 3.14159265358979323846
 #define BLK 8              /* EEP intervals per bounding box */
+#define SBLK 8             /* bounding boxes per box of the second level */
 #define SUB_STEP 0.5       /* largest step of a sub-cell, in sigma of each observable */
 #define SUB_MAX 64         /* subdivisions of a cell per direction at most */
 #define CUT_SIGMA 6.0      /* sub-cells farther than this in any observable are skipped */
@@ -22,6 +23,7 @@
 #define HIST_BINS 2048     /* bins of the quantile histograms */
 #define P_LO 0.158655253931457 /* Phi(-1) */
 #define P_HI 0.841344746068543 /* Phi(+1) */
+#define LOG_TEFF_SUN log10(HRT_TEFF_SUN_K) /* folded by the compiler */
 
 /* ------------------------------------------------------------------ priors */
 
@@ -93,6 +95,7 @@ void hrt_fit_model_free(hrt_fit_model *m)
     free(m->q);
     free(m->ph);
     free(m->bb);
+    free(m->sbb);
     free(m);
 }
 
@@ -271,6 +274,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
         return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
     m->g = g;
     m->o = o;
+    m->log_age_max = log10(o.age_max_yr);
     m->lt_range[0] = INFINITY;
     m->lt_range[1] = -INFINITY;
     /* [Fe/H] nodes: evenly spaced, both ends included; trapezoid weights */
@@ -328,7 +332,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
     if (rc == HRT_OK) {
         m->z_first[nz] = m->n_tracks;
         /* bounding boxes of the cells between neighbouring tracks of one route and node */
-        size_t nb = 0, cap_b = 0;
+        size_t nb = 0, cap_b = 0, cap_sb = 0;
         for (size_t t = 0; t + 1 < m->n_tracks && rc == HRT_OK; t++) {
             ftrack *A = &m->tr[t], *C = &m->tr[t + 1];
             if (A->kz != C->kz || A->route != C->route)
@@ -346,8 +350,8 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
             for (size_t b = 0; b < nblk; b++) {
                 float *box = m->bb + (nb + b) * 2 * FQ_OBS;
                 for (int qq = 0; qq < FQ_OBS; qq++) {
-                    box[2 * qq] = INFINITY;
-                    box[2 * qq + 1] = -INFINITY;
+                    box[qq] = INFINITY;
+                    box[FQ_OBS + qq] = -INFINITY;
                 }
                 size_t j1 = (b + 1) * BLK;
                 if (j1 > (size_t)ncell) j1 = (size_t)ncell;
@@ -355,11 +359,27 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
                     for (int side = 0; side < 2; side++) {
                         const float *v = m->q + ((side ? C->off : A->off) + j) * FQ;
                         for (int qq = 0; qq < FQ_OBS; qq++) {
-                            if (v[qq] < box[2 * qq]) box[2 * qq] = v[qq];
-                            if (v[qq] > box[2 * qq + 1]) box[2 * qq + 1] = v[qq];
+                            if (v[qq] < box[qq]) box[qq] = v[qq];
+                            if (v[qq] > box[FQ_OBS + qq]) box[FQ_OBS + qq] = v[qq];
                         }
                     }
             }
+            /* boxes of SBLK blocks each, unions of theirs */
+            size_t nsb = (nblk + SBLK - 1) / SBLK;
+            if (grow((void **)&m->sbb, &cap_sb, m->n_sblocks + nsb, sizeof(float) * 2 * FQ_OBS)) {
+                rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+                break;
+            }
+            A->sboff = m->n_sblocks;
+            for (size_t b = 0; b < nblk; b++) {
+                const float *box = m->bb + (nb + b) * 2 * FQ_OBS;
+                float *sbox = m->sbb + (m->n_sblocks + b / SBLK) * 2 * FQ_OBS;
+                for (int qq = 0; qq < FQ_OBS; qq++) {
+                    if (b % SBLK == 0 || box[qq] < sbox[qq]) sbox[qq] = box[qq];
+                    if (b % SBLK == 0 || box[FQ_OBS + qq] > sbox[FQ_OBS + qq]) sbox[FQ_OBS + qq] = box[FQ_OBS + qq];
+                }
+            }
+            m->n_sblocks += nsb;
             nb += nblk;
         }
         m->n_blocks = nb;
@@ -371,7 +391,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
         return rc;
     }
     m->bytes = sizeof *m + m->n_z * (3 * sizeof(double) + sizeof(size_t)) + m->n_tracks * sizeof(ftrack) +
-               m->n_nodes * (sizeof(double) + FQ * sizeof(float) + 1) + m->n_blocks * 2 * FQ_OBS * sizeof(float);
+               m->n_nodes * (sizeof(double) + FQ * sizeof(float) + 1) + (m->n_blocks + m->n_sblocks) * 2 * FQ_OBS * sizeof(float);
     *model = m;
     if (err)
         hrt_set_error(err, HRT_OK, NULL);
@@ -414,6 +434,7 @@ typedef struct meas {
 
 typedef struct fobs {
     meas lt;      /* Teff in K (compared with 10^log Teff) */
+    double lt_log; /* log10 of the measured Teff */
     meas ll, lg;  /* log L, log g */
     meas feh;
     double lt_lo, lt_hi, ll_lo, ll_hi, lg_lo, lg_hi; /* search window in the lattice quantities */
@@ -489,6 +510,7 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
     F->lt.on = 1;
     F->lt.v = o->teff_k;
     F->lt.s = o->teff_sigma_k;
+    F->lt_log = log10(o->teff_k);
     F->lg.on = !isnan(o->log_g_cgs);
     F->lg.v = o->log_g_cgs;
     F->lg.s = o->log_g_sigma;
@@ -532,44 +554,87 @@ typedef struct fscratch {
 } fscratch;
 
 static inline float absf(float x) { return x < 0 ? -x : x; }
+static inline float min4f(float a, float b, float c, float d)
+{
+    float x = a < b ? a : b, y = c < d ? c : d;
+    return x < y ? x : y;
+}
+static inline float max4f(float a, float b, float c, float d)
+{
+    float x = a > b ? a : b, y = c > d ? c : d;
+    return x > y ? x : y;
+}
 
-/* Visit the cell between tracks A (t) and C (t + 1) and EEPs j, j + 1. */
+/* Squared distance of v from [lo, hi] in units of 1/inv. */
+static inline double out_sq(double v, double lo, double hi, double inv)
+{
+    double r = v < lo ? (lo - v) * inv : v > hi ? (v - hi) * inv : 0.0;
+    return r * r;
+}
+
+/* A lower bound of chi^2 (without [Fe/H]) over every position whose lattice
+ * quantities lie in the box lo[FQ_OBS], hi[FQ_OBS].  For Teff, with x the
+ * distance in log Teff from the measured value, 10^x - 1 >= x ln 10 above it
+ * and 1 - 10^-x >= x ln 10 / (1 + x ln 10) below it. */
+static inline double box_chi2(const fobs *F, const float *lo, const float *hi)
+{
+    double c = 0.0, x;
+    if ((x = (double)lo[FQ_LT] - F->lt_log) > 0.0) {
+        x *= F->inv_lt;
+        c = x * x;
+    } else if ((x = F->lt_log - (double)hi[FQ_LT]) > 0.0) {
+        x = x * F->inv_lt / (1.0 + LN10 * x);
+        c = x * x;
+    }
+    if (F->ll.on) c += out_sq(F->ll.v, lo[FQ_LL], hi[FQ_LL], F->inv_ll);
+    if (F->lg.on) c += out_sq(F->lg.v, lo[FQ_LG], hi[FQ_LG], F->inv_lg);
+    return c;
+}
+
+/* 1 if no position inside the box can be kept: outside the CUT_SIGMA window
+ * in one observable, or (once a point within MATCH_SIGMA has been found, so
+ * that the match test is decided) with chi^2 beyond CUT_CHI2 above the best
+ * point so far, which can only fall: such points would be dropped at the end. */
+static inline int box_out(const fobs *F, const fscratch *S, const float *lo, const float *hi, double chi2_feh)
+{
+    if (hi[FQ_LT] < F->lt_lo || lo[FQ_LT] > F->lt_hi)
+        return 1;
+    if (F->ll.on && (hi[FQ_LL] < F->ll_lo || lo[FQ_LL] > F->ll_hi))
+        return 1;
+    if (F->lg.on && (hi[FQ_LG] < F->lg_lo || lo[FQ_LG] > F->lg_hi))
+        return 1;
+    return S->best_dev <= MATCH_SIGMA && chi2_feh + box_chi2(F, lo, hi) > S->chi2_best + CUT_CHI2;
+}
+
+/* Visit the cell between tracks A (t) and C (t + 1) and EEPs j, j + 1 at
+ * [Fe/H] feh, whose residual squared is chi2_feh (0 if not measured). */
 static int visit_cell(const hrt_fit_model *m, const fobs *F, const ftrack *A, const ftrack *C, int j, double wz,
-                      double feh, fscratch *S)
+                      double feh, double chi2_feh, fscratch *S)
 {
     const float *a0 = m->q + (A->off + (size_t)j) * FQ, *a1 = a0 + FQ;
     const float *c0 = m->q + (C->off + (size_t)j) * FQ, *c1 = c0 + FQ;
-    /* cell bounding box against the window */
-    float lo, hi;
-#define BOX(qq, wlo, whi)                                                       \
-    lo = fminf(fminf(a0[qq], a1[qq]), fminf(c0[qq], c1[qq]));                   \
-    hi = fmaxf(fmaxf(a0[qq], a1[qq]), fmaxf(c0[qq], c1[qq]));                   \
-    if (hi < (wlo) || lo > (whi))                                               \
+    float lo[FQ_OBS], hi[FQ_OBS];
+    for (int qq = 0; qq < FQ_OBS; qq++) {
+        lo[qq] = min4f(a0[qq], a1[qq], c0[qq], c1[qq]);
+        hi[qq] = max4f(a0[qq], a1[qq], c0[qq], c1[qq]);
+    }
+    if (box_out(F, S, lo, hi, chi2_feh))
         return 0;
-    BOX(FQ_LT, F->lt_lo, F->lt_hi)
-    if (F->ll.on) { BOX(FQ_LL, F->ll_lo, F->ll_hi) }
-    if (F->lg.on) { BOX(FQ_LG, F->lg_lo, F->lg_hi) }
-#undef BOX
     double la00 = m->la[A->off + (size_t)j], la01 = m->la[A->off + (size_t)j + 1];
     double la10 = m->la[C->off + (size_t)j], la11 = m->la[C->off + (size_t)j + 1];
-    double amax = log10(m->o.age_max_yr);
+    double amax = m->log_age_max;
     if (la00 >= amax && la10 >= amax)
         return 0;
     /* subdivisions: steps of at most SUB_STEP sigma in every measured quantity */
-    double da = fabs(a0[FQ_LT] - c0[FQ_LT]) > fabs(a1[FQ_LT] - c1[FQ_LT]) ? fabs(a0[FQ_LT] - c0[FQ_LT]) : fabs(a1[FQ_LT] - c1[FQ_LT]);
-    double db = fabs(a0[FQ_LT] - a1[FQ_LT]) > fabs(c0[FQ_LT] - c1[FQ_LT]) ? fabs(a0[FQ_LT] - a1[FQ_LT]) : fabs(c0[FQ_LT] - c1[FQ_LT]);
-    double sa = da * F->inv_lt, sb = db * F->inv_lt;
+    double sa = fmax(fabs(a0[FQ_LT] - c0[FQ_LT]), fabs(a1[FQ_LT] - c1[FQ_LT])) * F->inv_lt;
+    double sb = fmax(fabs(a0[FQ_LT] - a1[FQ_LT]), fabs(c0[FQ_LT] - c1[FQ_LT])) * F->inv_lt;
     if (F->ll.on) {
-        double x = fmax(fabs(a0[FQ_LL] - c0[FQ_LL]), fabs(a1[FQ_LL] - c1[FQ_LL])) * F->inv_ll;
-        double y = fmax(fabs(a0[FQ_LL] - a1[FQ_LL]), fabs(c0[FQ_LL] - c1[FQ_LL])) * F->inv_ll;
-        sa = fmax(sa, x);
-        sb = fmax(sb, y);
+        sa = fmax(sa, fmax(fabs(a0[FQ_LL] - c0[FQ_LL]), fabs(a1[FQ_LL] - c1[FQ_LL])) * F->inv_ll);
+        sb = fmax(sb, fmax(fabs(a0[FQ_LL] - a1[FQ_LL]), fabs(c0[FQ_LL] - c1[FQ_LL])) * F->inv_ll);
     }
     if (F->lg.on) {
-        double x = fmax(fabs(a0[FQ_LG] - c0[FQ_LG]), fabs(a1[FQ_LG] - c1[FQ_LG])) * F->inv_lg;
-        double y = fmax(fabs(a0[FQ_LG] - a1[FQ_LG]), fabs(c0[FQ_LG] - c1[FQ_LG])) * F->inv_lg;
-        sa = fmax(sa, x);
-        sb = fmax(sb, y);
+        sa = fmax(sa, fmax(fabs(a0[FQ_LG] - c0[FQ_LG]), fabs(a1[FQ_LG] - c1[FQ_LG])) * F->inv_lg);
+        sb = fmax(sb, fmax(fabs(a0[FQ_LG] - a1[FQ_LG]), fabs(c0[FQ_LG] - c1[FQ_LG])) * F->inv_lg);
     }
     int na = (int)ceil(sa / SUB_STEP), nb = (int)ceil(sb / SUB_STEP);
     if (na < 1) na = 1;
@@ -577,31 +642,48 @@ static int visit_cell(const hrt_fit_model *m, const fobs *F, const ftrack *A, co
     if (na > SUB_MAX) na = SUB_MAX;
     if (nb > SUB_MAX) nb = SUB_MAX;
     double dlm = C->log_m - A->log_m;
+    /* half-extents along the mass direction: the same for every sub-cell */
+    float gm[FQ];
+    for (int qq = 0; qq < FQ; qq++)
+        gm[qq] = 0.5f * (absf(c0[qq] - a0[qq]) + absf(c1[qq] - a1[qq])) / (float)na;
     for (int ia = 0; ia < na; ia++) {
         double fa = (ia + 0.5) / na;
-        double lm = A->log_m + fa * dlm;
-        double pm = exp(A->log_prior + fa * (C->log_prior - A->log_prior)) * dlm / na * wz;
         double A0 = la00 + fa * (la10 - la00), A1 = la01 + fa * (la11 - la01);
         if (!(A1 > A0) || A0 >= amax)
             continue;
-        double fhi = A1 > amax ? (amax - A0) / (A1 - A0) : 1.0;
-        double hb = 0.5 * fhi / nb; /* half-step in the EEP fraction */
-        float e0[FQ], e1[FQ];       /* the two EEP edges at this mass */
+        float e0[FQ], e1[FQ]; /* the two EEP edges at this mass */
         for (int qq = 0; qq < FQ; qq++) {
             e0[qq] = (float)(a0[qq] + fa * (c0[qq] - a0[qq]));
             e1[qq] = (float)(a1[qq] + fa * (c1[qq] - a1[qq]));
         }
+        /* the row's sub-cells lie on the segment e0-e1: its box may rule them all out */
+        float rlo[FQ_OBS], rhi[FQ_OBS];
+        for (int qq = 0; qq < FQ_OBS; qq++) {
+            rlo[qq] = e0[qq] < e1[qq] ? e0[qq] : e1[qq];
+            rhi[qq] = e0[qq] < e1[qq] ? e1[qq] : e0[qq];
+        }
+        if (box_out(F, S, rlo, rhi, chi2_feh))
+            continue;
+        double lm = A->log_m + fa * dlm, pm = -1.0; /* pm: prior per unit age, when a point needs it */
+        double fhi = A1 > amax ? (amax - A0) / (A1 - A0) : 1.0;
+        double hb = 0.5 * fhi / nb; /* half-step in the EEP fraction */
+        double dlt = e1[FQ_LT] - e0[FQ_LT], dla = A1 - A0, t_step = 0.0;
+        float hq[FQ];                 /* half-extents of a sub-cell of this row */
+        for (int qq = 0; qq < FQ; qq++)
+            hq[qq] = 0.5f * (gm[qq] + absf(e1[qq] - e0[qq]) * (float)hb * 2.0f);
+        /* once the match test is decided, sub-cells whose log L, log g and
+         * [Fe/H] alone put them beyond the chi^2 cut are passed over before
+         * their Teff (an exponential) is computed */
+        double cut = S->best_dev <= MATCH_SIGMA ? S->chi2_best + CUT_CHI2 : INFINITY;
         for (int ib = 0; ib < nb; ib++) {
             double fb = (2 * ib + 1) * hb;
-            double lt = e0[FQ_LT] + fb * (e1[FQ_LT] - e0[FQ_LT]);
-            double teff = exp(LN10 * lt);
-            double r = (teff - F->lt.v) / F->lt.s, dev = fabs(r), chi2 = r * r;
+            double r, dev = 0.0, chi2 = chi2_feh;
             double ll = e0[FQ_LL] + fb * (e1[FQ_LL] - e0[FQ_LL]);
             double lg = e0[FQ_LG] + fb * (e1[FQ_LG] - e0[FQ_LG]);
             if (F->ll.on) {
                 r = (ll - F->ll.v) * F->inv_ll;
                 chi2 += r * r;
-                if (fabs(r) > dev) dev = fabs(r);
+                dev = fabs(r);
             }
             if (F->lg.on) {
                 r = (lg - F->lg.v) * F->inv_lg;
@@ -612,52 +694,64 @@ static int visit_cell(const hrt_fit_model *m, const fobs *F, const ftrack *A, co
                 r = (feh - F->feh.v) / F->feh.s;
                 if (fabs(r) > dev) dev = fabs(r);
             }
+            double lt = e0[FQ_LT] + fb * dlt;
+            if (dev > CUT_SIGMA || chi2 > cut || lt < F->lt_lo || lt > F->lt_hi)
+                continue;
+            double teff = exp(LN10 * lt);
+            r = (teff - F->lt.v) / F->lt.s;
+            chi2 += r * r;
+            if (fabs(r) > dev) dev = fabs(r);
             if (dev > CUT_SIGMA)
                 continue;
             if (dev < S->best_dev) S->best_dev = dev;
             if (chi2 > S->chi2_best + CUT_CHI2)
                 continue;
             if (chi2 < S->chi2_best) S->chi2_best = chi2;
-            if (grow((void **)&S->p, &S->cap, S->n + 1, sizeof *S->p))
+            if (S->n == S->cap && grow((void **)&S->p, &S->cap, S->n + 1, sizeof *S->p))
                 return -1;
+            if (pm < 0.0) {
+                pm = exp(A->log_prior + fa * (C->log_prior - A->log_prior)) * dlm / na * wz;
+                t_step = exp(LN10 * 2.0 * hb * dla);
+            }
             fpt *P = &S->p[S->n++];
-            double la = A0 + fb * (A1 - A0);
-            P->t_lo = exp(LN10 * (la - hb * (A1 - A0)));
-            P->t_hi = exp(LN10 * (la + hb * (A1 - A0)));
+            P->t_lo = exp(LN10 * (A0 + (fb - hb) * dla));
+            P->t_hi = P->t_lo * t_step;
             P->prior = pm * (P->t_hi - P->t_lo);
             P->chi2 = chi2;
             P->phase = (fa < 0.5 ? m->ph[A->off + (size_t)j] : m->ph[C->off + (size_t)j]);
             P->kz = (uint16_t)A->kz;
-            double lr = 0.5 * ll - 2.0 * (lt - log10(HRT_TEFF_SUN_K));
             P->v[V_LOGM] = (float)lm;
             P->h[V_LOGM] = (float)(0.5 * dlm / na);
             P->v[V_FEH] = (float)feh;
             P->h[V_FEH] = (float)(0.5 * m->dfeh);
             P->v[V_MASS] = e0[FQ_M] + (float)fb * (e1[FQ_M] - e0[FQ_M]);
+            P->h[V_MASS] = hq[FQ_M];
             P->v[V_LOGL] = (float)ll;
+            P->h[V_LOGL] = hq[FQ_LL];
             P->v[V_TEFF] = (float)teff;
+            P->h[V_TEFF] = hq[FQ_LT] * (float)(teff * LN10);
             P->v[V_LOGG] = (float)lg;
-            P->v[V_LOGR] = (float)lr;
-            /* half-extents from the cell's gradients */
-            float gm[FQ], gb[FQ];
-            for (int qq = 0; qq < FQ; qq++) {
-                gm[qq] = 0.5f * (absf(c0[qq] - a0[qq]) + absf(c1[qq] - a1[qq])) / (float)na;
-                gb[qq] = absf(e1[qq] - e0[qq]) * (float)hb * 2.0f;
-            }
-            P->h[V_MASS] = 0.5f * (gm[FQ_M] + gb[FQ_M]);
-            P->h[V_LOGL] = 0.5f * (gm[FQ_LL] + gb[FQ_LL]);
-            P->h[V_LOGG] = 0.5f * (gm[FQ_LG] + gb[FQ_LG]);
-            P->h[V_TEFF] = 0.5f * (gm[FQ_LT] + gb[FQ_LT]) * (float)(teff * LN10);
-            P->h[V_LOGR] = 0.5f * (0.5f * (gm[FQ_LL] + gb[FQ_LL]) + 2.0f * (gm[FQ_LT] + gb[FQ_LT]));
+            P->h[V_LOGG] = hq[FQ_LG];
+            P->v[V_LOGR] = (float)(0.5 * ll - 2.0 * (lt - LOG_TEFF_SUN));
+            P->h[V_LOGR] = 0.5f * hq[FQ_LL] + 2.0f * hq[FQ_LT];
         }
     }
     return 0;
 }
 
+/* ------------------------------------------------------------------ quantiles */
+
 /* Weighted quantiles of boxes [v - h, v + h] of weight w (ages: [t_lo, t_hi]):
  * each box spreads its weight evenly; the cumulative distribution is built
- * exactly on the bin edges of a histogram and inverted linearly.  Only
- * points of the given phase count (-1: all).  E holds HIST_BINS + 4 doubles. */
+ * exactly on the bin edges of a histogram and inverted linearly.  Every
+ * histogram of a star is filled in one pass over the points. */
+typedef struct fhist {
+    int q;        /* V_* quantity, or V_AGE */
+    int phase;    /* points of this phase only; -1: all */
+    double xmin, xmax, inv_d, W;
+    double *E;    /* HIST_BINS + 4 second differences */
+} fhist;
+
 static inline void box_of(const fpt *P, int q, double *x0, double *x1)
 {
     if (q == V_AGE) {
@@ -669,82 +763,75 @@ static inline void box_of(const fpt *P, int q, double *x0, double *x1)
     }
 }
 
-static void quantiles(const fscratch *S, int phase, int nq, const int *qs, hrt_fit_interval *out, double *E)
+static inline void hist_range(fhist *H, const fpt *P)
 {
-    double xmin[NV + 1], xmax[NV + 1], d[NV + 1], W = 0.0;
-    for (int k = 0; k < nq; k++) {
-        xmin[k] = INFINITY;
-        xmax[k] = -INFINITY;
-        out[k].median = out[k].lo = out[k].hi = NAN;
-    }
-    for (size_t i = 0; i < S->n; i++) {
-        const fpt *P = &S->p[i];
-        if (P->w <= 0.0 || (phase >= 0 && P->phase != phase))
-            continue;
-        for (int k = 0; k < nq; k++) {
-            double x0, x1;
-            box_of(P, qs[k], &x0, &x1);
-            if (x0 < xmin[k]) xmin[k] = x0;
-            if (x1 > xmax[k]) xmax[k] = x1;
-        }
-        W += P->w;
-    }
-    if (!(W > 0.0))
+    double x0, x1;
+    box_of(P, H->q, &x0, &x1);
+    if (x0 < H->xmin) H->xmin = x0;
+    if (x1 > H->xmax) H->xmax = x1;
+    H->W += P->w;
+}
+
+/* Clear the histogram of a quantity once its range is known. */
+static void hist_start(fhist *H)
+{
+    memset(H->E, 0, (HIST_BINS + 4) * sizeof *H->E);
+    H->inv_d = H->xmax > H->xmin ? HIST_BINS / (H->xmax - H->xmin) : 0.0;
+}
+
+static inline void hist_add(fhist *H, const fpt *P)
+{
+    if (H->inv_d == 0.0)
         return;
-    memset(E, 0, (size_t)nq * (HIST_BINS + 4) * sizeof(double));
-    for (int k = 0; k < nq; k++)
-        d[k] = xmax[k] > xmin[k] ? (xmax[k] - xmin[k]) / HIST_BINS : 0.0;
-    for (size_t i = 0; i < S->n; i++) {
-        const fpt *P = &S->p[i];
-        if (P->w <= 0.0 || (phase >= 0 && P->phase != phase))
-            continue;
-        for (int k = 0; k < nq; k++) {
-            if (d[k] == 0.0)
-                continue;
-            double x0, x1, *Ek = E + (size_t)k * (HIST_BINS + 4);
-            box_of(P, qs[k], &x0, &x1);
-            double u0 = (x0 - xmin[k]) / d[k], u1 = (x1 - xmin[k]) / d[k];
-            if (u1 - u0 < 1e-6) { /* a point: a narrow box */
-                u0 -= 5e-7;
-                u1 += 5e-7;
-                if (u0 < 0) { u1 -= u0; u0 = 0; }
-            }
-            if (u1 > HIST_BINS) u1 = HIST_BINS;
-            double s = P->w / (u1 - u0);
-            /* ramp s max(0, e - u0) minus ramp s max(0, e - u1), as second differences */
-            double fl0 = floor(u0), fl1 = floor(u1);
-            size_t i0 = (size_t)fl0, i1 = (size_t)fl1;
-            double p0 = u0 - fl0, p1 = u1 - fl1;
-            Ek[i0 + 1] += s * (1.0 - p0);
-            Ek[i0 + 2] += s * p0;
-            Ek[i1 + 1] -= s * (1.0 - p1);
-            Ek[i1 + 2] -= s * p1;
+    double x0, x1, *E = H->E;
+    box_of(P, H->q, &x0, &x1);
+    double u0 = (x0 - H->xmin) * H->inv_d, u1 = (x1 - H->xmin) * H->inv_d;
+    if (u1 - u0 < 1e-6) { /* a point: a narrow box */
+        u0 -= 5e-7;
+        u1 += 5e-7;
+        if (u0 < 0) { u1 -= u0; u0 = 0; }
+    }
+    if (u0 < 0) u0 = 0;
+    if (u1 > HIST_BINS) u1 = HIST_BINS;
+    double s = P->w / (u1 - u0);
+    /* ramp s max(0, e - u0) minus ramp s max(0, e - u1), as second differences */
+    size_t i0 = (size_t)u0, i1 = (size_t)u1;
+    double p0 = u0 - (double)i0, p1 = u1 - (double)i1;
+    E[i0 + 1] += s * (1.0 - p0);
+    E[i0 + 2] += s * p0;
+    E[i1 + 1] -= s * (1.0 - p1);
+    E[i1 + 2] -= s * p1;
+}
+
+/* Median and 15.87/84.13 % points of a filled histogram. */
+static hrt_fit_interval hist_interval(const fhist *H)
+{
+    hrt_fit_interval out = {NAN, NAN, NAN};
+    if (!(H->W > 0.0))
+        return out;
+    if (H->inv_d == 0.0) {
+        out.median = out.lo = out.hi = H->xmin;
+        return out;
+    }
+    const double *E = H->E, d = (H->xmax - H->xmin) / HIST_BINS;
+    /* cumulative weight C(e) at the edges e = 0..HIST_BINS */
+    double D = 0.0, Cv = 0.0, prev = 0.0;
+    double targets[3] = {P_LO * H->W, 0.5 * H->W, P_HI * H->W}, o[3] = {H->xmax, H->xmax, H->xmax};
+    int t = 0;
+    for (size_t e = 0; e <= HIST_BINS + 1 && t < 3; e++) {
+        D += E[e];
+        prev = Cv;
+        Cv += D;
+        while (t < 3 && Cv >= targets[t]) {
+            double f = Cv > prev ? (targets[t] - prev) / (Cv - prev) : 0.0;
+            double edge = e == 0 ? 0.0 : (double)e - 1.0 + f;
+            o[t++] = H->xmin + edge * d;
         }
     }
-    for (int k = 0; k < nq; k++) {
-        if (d[k] == 0.0) {
-            out[k].median = out[k].lo = out[k].hi = xmin[k];
-            continue;
-        }
-        const double *Ek = E + (size_t)k * (HIST_BINS + 4);
-        /* cumulative weight C(e) at the edges e = 0..HIST_BINS */
-        double D = 0.0, Cv = 0.0, prev = 0.0;
-        double targets[3] = {P_LO * W, 0.5 * W, P_HI * W}, o[3] = {xmax[k], xmax[k], xmax[k]};
-        int t = 0;
-        for (size_t e = 0; e <= HIST_BINS + 1 && t < 3; e++) {
-            D += Ek[e];
-            prev = Cv;
-            Cv += D;
-            while (t < 3 && Cv >= targets[t]) {
-                double f = Cv > prev ? (targets[t] - prev) / (Cv - prev) : 0.0;
-                double edge = e == 0 ? 0.0 : (double)e - 1.0 + f;
-                o[t++] = xmin[k] + edge * d[k];
-            }
-        }
-        out[k].lo = o[0];
-        out[k].median = o[1];
-        out[k].hi = o[2];
-    }
+    out.lo = o[0];
+    out.median = o[1];
+    out.hi = o[2];
+    return out;
 }
 
 static int cmp_double(const void *a, const void *b)
@@ -775,22 +862,18 @@ hrt_fit_interval hrt_fit_sample_quantiles(double *v, size_t n)
     return r;
 }
 
-/* A seeded Mersenne Twister without gsl_rng_alloc (whose failure would reach GSL's handler). */
+/* A seeded Mersenne Twister without gsl_rng_alloc (whose failure would reach
+ * GSL's handler): its state lives in caller's memory of gsl_rng_mt19937->size bytes. */
 typedef struct frng {
     gsl_rng r;
 } frng;
 
-static int rng_open(frng *R, uint64_t seed)
+static void rng_open(frng *R, void *state, uint64_t seed)
 {
     R->r.type = gsl_rng_mt19937;
-    R->r.state = calloc(1, gsl_rng_mt19937->size);
-    if (!R->r.state)
-        return -1;
+    R->r.state = state;
     gsl_rng_set(&R->r, (unsigned long)(seed ^ (seed >> 32)));
-    return 0;
 }
-
-static void rng_close(frng *R) { free(R->r.state); }
 
 /* Index of the point whose cumulative weight range holds u. */
 static size_t pick(const double *cum, size_t n, double u)
@@ -809,6 +892,31 @@ static size_t pick(const double *cum, size_t n, double u)
 /* chi^2 at its 99.73 % point for 1..4 degrees of freedom (SciPy scipy.stats.chi2.ppf(0.9973, k)). */
 static const double chi2_3sigma[5] = {0.0, 9.0, 11.83, 14.16, 16.25};
 
+/* 10^x of each point of an interval (log10 quantities reported linearly). */
+static hrt_fit_interval exp10_interval(hrt_fit_interval x)
+{
+    hrt_fit_interval r = {pow(10.0, x.median), pow(10.0, x.lo), pow(10.0, x.hi)};
+    return r;
+}
+
+/* [Fe/H] node visited at step i: the one nearest the measured [Fe/H] first,
+ * then outwards (so the best chi^2 is found early and prunes the rest);
+ * in order when [Fe/H] is not measured.  SIZE_MAX: no node at this step. */
+static size_t node_at(const hrt_fit_model *m, const fobs *F, size_t i)
+{
+    if (!F->feh.on || m->n_z < 2)
+        return i < m->n_z ? i : SIZE_MAX;
+    double x = (F->feh.v - m->feh[0]) / m->dfeh;
+    size_t k0 = x <= 0 ? 0 : x >= (double)(m->n_z - 1) ? m->n_z - 1 : (size_t)floor(x + 0.5);
+    size_t d = (i + 1) / 2;
+    if (i % 2 == 1)
+        return k0 + d < m->n_z ? k0 + d : SIZE_MAX;
+    return d <= k0 ? k0 - d : SIZE_MAX;
+}
+
+/* Quantities summarised over all points, in the order of their histograms. */
+static const int q_all[8] = {V_LOGM, V_AGE, V_FEH, V_MASS, V_LOGR, V_LOGL, V_TEFF, V_LOGG};
+
 int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, size_t n_samples,
                  hrt_fit_sample *samples, hrt_fit_result *res, hrt_error *err)
 {
@@ -824,13 +932,16 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         return rc;
     }
     fscratch S = {NULL, 0, 0, INFINITY, INFINITY};
-    for (size_t k = 0; k < m->n_z && rc == HRT_OK; k++) {
-        double wz = m->wz[k];
+    for (size_t step = 0; step < 2 * m->n_z && rc == HRT_OK; step++) {
+        size_t k = node_at(m, &F, step);
+        if (k == SIZE_MAX)
+            continue;
+        double wz = m->wz[k], chi2_feh = 0.0;
         if (F.feh.on) {
             double r = (m->feh[k] - F.feh.v) / F.feh.s;
             if (fabs(r) > CUT_SIGMA)
                 continue;
-            wz *= exp(-0.5 * r * r);
+            chi2_feh = r * r;
         }
         for (size_t t = m->z_first[k]; t + 1 < m->z_first[k + 1] && rc == HRT_OK; t++) {
             const ftrack *A = &m->tr[t], *C = &m->tr[t + 1];
@@ -838,17 +949,20 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
                 continue;
             size_t nblk = ((size_t)A->n_cell + BLK - 1) / BLK;
             for (size_t b = 0; b < nblk && rc == HRT_OK; b++) {
+                if (b % SBLK == 0) {
+                    const float *sbox = m->sbb + (A->sboff + b / SBLK) * 2 * FQ_OBS;
+                    if (box_out(&F, &S, sbox, sbox + FQ_OBS, chi2_feh)) {
+                        b += SBLK - 1;
+                        continue;
+                    }
+                }
                 const float *box = m->bb + (A->boff + b) * 2 * FQ_OBS;
-                if (box[2 * FQ_LT + 1] < F.lt_lo || box[2 * FQ_LT] > F.lt_hi)
-                    continue;
-                if (F.ll.on && (box[2 * FQ_LL + 1] < F.ll_lo || box[2 * FQ_LL] > F.ll_hi))
-                    continue;
-                if (F.lg.on && (box[2 * FQ_LG + 1] < F.lg_lo || box[2 * FQ_LG] > F.lg_hi))
+                if (box_out(&F, &S, box, box + FQ_OBS, chi2_feh))
                     continue;
                 int j1 = (int)((b + 1) * BLK);
                 if (j1 > A->n_cell) j1 = A->n_cell;
                 for (int j = (int)(b * BLK); j < j1; j++)
-                    if (visit_cell(m, &F, A, C, j, wz, m->feh[k], &S)) {
+                    if (visit_cell(m, &F, A, C, j, wz, m->feh[k], chi2_feh, &S)) {
                         rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
                         break;
                     }
@@ -861,19 +975,50 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
                            "(closest: %.3g sigma; Teff %g K%s)",
                            MATCH_SIGMA, S.n ? S.best_dev : INFINITY, obs->teff_k,
                            F.ll.on ? ", with the luminosity given" : "");
+    /* weights, and the ranges of the histograms: H[0..7] over all points
+     * (q_all), PH[phase] initial mass and age within each phase */
+    fhist H[12], PH[HRT_PHASE_COUNT][2];
+    for (int k = 0; k < 8; k++) {
+        H[k].q = q_all[k];
+        H[k].phase = -1;
+    }
+    for (int p = 0; p < HRT_PHASE_COUNT; p++) {
+        PH[p][0].q = V_LOGM;
+        PH[p][1].q = V_AGE;
+        PH[p][0].phase = PH[p][1].phase = p;
+    }
+    for (int k = 0; k < 8; k++) {
+        H[k].xmin = INFINITY;
+        H[k].xmax = -INFINITY;
+        H[k].W = 0.0;
+    }
+    for (int p = 0; p < HRT_PHASE_COUNT; p++)
+        for (int s = 0; s < 2; s++) {
+            PH[p][s].xmin = INFINITY;
+            PH[p][s].xmax = -INFINITY;
+            PH[p][s].W = 0.0;
+        }
     double W = 0.0, W2 = 0.0, chi2min = INFINITY;
+    size_t np = 0;
     if (rc == HRT_OK) {
         for (size_t i = 0; i < S.n; i++)
             if (S.p[i].chi2 < chi2min && S.p[i].prior > 0) chi2min = S.p[i].chi2;
-        /* weights; points far above the best chi^2 are dropped (relative weight < 4e-6) */
+        /* points far above the best chi^2 are dropped (relative weight < 4e-6) */
         size_t kept = 0;
         for (size_t i = 0; i < S.n; i++) {
             fpt *P = &S.p[i];
             if (!(P->prior > 0) || P->chi2 > chi2min + CUT_CHI2)
                 continue;
             P->w = P->prior * exp(-0.5 * (P->chi2 - chi2min));
+            if (!(P->phase >= 0 && P->phase < HRT_PHASE_COUNT))
+                P->phase = HRT_PHASE_UNKNOWN;
             W += P->w;
             W2 += P->w * P->w;
+            np += P->w > 0;
+            for (int k = 0; k < 8; k++)
+                hist_range(&H[k], P);
+            hist_range(&PH[P->phase][0], P);
+            hist_range(&PH[P->phase][1], P);
             S.p[kept++] = *P;
         }
         S.n = kept;
@@ -881,42 +1026,28 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
             rc = hrt_set_error(err, HRT_E_NO_MATCH,
                                "hrt_fit_star: the models near the observation have no prior weight (ages beyond age_max_yr?)");
     }
+    /* one block of scratch: histograms, cumulative weights, distance draws, random state */
     double *E = NULL, *cum = NULL, *dist = NULL;
     frng R;
-    int rng_ok = 0;
     if (rc == HRT_OK) {
-        E = malloc(8 * (HIST_BINS + 4) * sizeof *E);
-        cum = malloc(S.n * sizeof *cum);
-        dist = F.have_flux ? malloc(N_DIST_DRAWS * sizeof *dist) : NULL;
-        rng_ok = rng_open(&R, seed) == 0;
-        if (!E || !cum || (F.have_flux && !dist) || !rng_ok)
+        size_t nd = 12 * (HIST_BINS + 4) + S.n + (F.have_flux ? N_DIST_DRAWS : 0);
+        size_t rs = (gsl_rng_mt19937->size + sizeof(double) - 1) / sizeof(double);
+        E = malloc((nd + rs) * sizeof *E);
+        if (!E)
             rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
+        else {
+            cum = E + 12 * (HIST_BINS + 4);
+            dist = cum + S.n;
+            rng_open(&R, E + nd, seed);
+        }
     }
     if (rc == HRT_OK) {
         res->n_obs = F.n_obs;
         res->chi2_min = chi2min;
         res->n_eff = W * W / W2;
-        size_t np = 0;
-        for (size_t i = 0; i < S.n; i++) {
-            if (S.p[i].w > 0) np++;
-            res->phase_prob[S.p[i].phase >= 0 && S.p[i].phase < HRT_PHASE_COUNT ? S.p[i].phase : 0] += S.p[i].w / W;
-        }
         res->n_points = (double)np;
-        static const int qall[] = {V_LOGM, V_AGE, V_FEH, V_MASS, V_LOGR, V_LOGL, V_TEFF, V_LOGG};
-        hrt_fit_interval qo[8];
-        quantiles(&S, -1, 8, qall, qo, E);
-        res->initial_mass_msun.median = pow(10.0, qo[0].median);
-        res->initial_mass_msun.lo = pow(10.0, qo[0].lo);
-        res->initial_mass_msun.hi = pow(10.0, qo[0].hi);
-        res->age_yr = qo[1];
-        res->feh = qo[2];
-        res->mass_msun = qo[3];
-        res->radius_rsun.median = pow(10.0, qo[4].median);
-        res->radius_rsun.lo = pow(10.0, qo[4].lo);
-        res->radius_rsun.hi = pow(10.0, qo[4].hi);
-        res->log_l = qo[5];
-        res->teff_k = qo[6];
-        res->log_g_cgs = qo[7];
+        for (int p = 0; p < HRT_PHASE_COUNT; p++)
+            res->phase_prob[p] = PH[p][0].W / W;
         /* the two most probable phases */
         int p1 = 0, p2 = 0;
         for (int p = 1; p < HRT_PHASE_COUNT; p++)
@@ -927,19 +1058,41 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         if (p2 == p1 || !(res->phase_prob[p2] > 0)) p2 = HRT_PHASE_UNKNOWN;
         res->phase = p1;
         res->phase_second = p2;
+        /* H[8], H[9]: within the first phase; H[10], H[11]: within the second */
+        int nh = 8;
+        int ph_of[2] = {p1, p2}, ph_h[2] = {-1, -1};
+        for (int s = 0; s < 2; s++)
+            if (ph_of[s] != HRT_PHASE_UNKNOWN) {
+                ph_h[s] = nh;
+                H[nh++] = PH[ph_of[s]][0];
+                H[nh++] = PH[ph_of[s]][1];
+            }
+        for (int k = 0; k < nh; k++) {
+            H[k].E = E + (size_t)k * (HIST_BINS + 4);
+            hist_start(&H[k]);
+        }
+        for (size_t i = 0; i < S.n; i++) {
+            const fpt *P = &S.p[i];
+            for (int k = 0; k < 8; k++)
+                hist_add(&H[k], P);
+            for (int s = 0; s < 2; s++)
+                if (ph_h[s] >= 0 && P->phase == ph_of[s]) {
+                    hist_add(&H[ph_h[s]], P);
+                    hist_add(&H[ph_h[s] + 1], P);
+                }
+        }
+        res->initial_mass_msun = exp10_interval(hist_interval(&H[0]));
+        res->age_yr = hist_interval(&H[1]);
+        res->feh = hist_interval(&H[2]);
+        res->mass_msun = hist_interval(&H[3]);
+        res->radius_rsun = exp10_interval(hist_interval(&H[4]));
+        res->log_l = hist_interval(&H[5]);
+        res->teff_k = hist_interval(&H[6]);
+        res->log_g_cgs = hist_interval(&H[7]);
         for (int s = 0; s < 2; s++) {
-            int ph = s == 0 ? p1 : p2;
             hrt_fit_interval nanint = {NAN, NAN, NAN};
-            res->phase_mass_msun[s] = nanint;
-            res->phase_age_yr[s] = nanint;
-            if (ph == HRT_PHASE_UNKNOWN) continue;
-            static const int qph[] = {V_LOGM, V_AGE};
-            hrt_fit_interval x[2];
-            quantiles(&S, ph, 2, qph, x, E);
-            res->phase_mass_msun[s].median = pow(10.0, x[0].median);
-            res->phase_mass_msun[s].lo = pow(10.0, x[0].lo);
-            res->phase_mass_msun[s].hi = pow(10.0, x[0].hi);
-            res->phase_age_yr[s] = x[1];
+            res->phase_mass_msun[s] = ph_h[s] >= 0 ? exp10_interval(hist_interval(&H[ph_h[s]])) : nanint;
+            res->phase_age_yr[s] = ph_h[s] >= 0 ? hist_interval(&H[ph_h[s] + 1]) : nanint;
         }
         /* flags */
         if (p2 != HRT_PHASE_UNKNOWN && res->phase_prob[p2] >= HRT_FIT_MULTIMODAL_PROB)
@@ -986,11 +1139,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
             res->distance_pc = hrt_fit_sample_quantiles(dist, N_DIST_DRAWS);
         }
     }
-    if (rng_ok)
-        rng_close(&R);
     free(E);
-    free(cum);
-    free(dist);
     free(S.p);
     res->status = rc;
     if (rc == HRT_OK && err)

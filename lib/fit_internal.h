@@ -21,11 +21,13 @@ typedef struct ftrack {
     size_t kz;     /* [Fe/H] node */
     size_t off;    /* first node */
     size_t boff;   /* first bounding box of the cells to the next track; SIZE_MAX if none */
+    size_t sboff;  /* first box of the second level (SBLK boxes each) */
 } ftrack;
 
 struct hrt_fit_model {
     const hrt_grid *g;
     hrt_fit_model_options o;
+    double log_age_max;   /* log10 o.age_max_yr */
     size_t n_z;
     double *feh, *z, *wz; /* [n_z] nodes, metal fractions, quadrature weights */
     double dfeh;          /* node spacing */
@@ -37,7 +39,9 @@ struct hrt_fit_model {
     float *q;             /* [n_nodes][FQ] */
     int8_t *ph;           /* [n_nodes] phase of the interval from the node */
     size_t n_blocks;
-    float *bb;            /* [n_blocks][FQ_OBS][2] min, max */
+    float *bb;            /* [n_blocks][2][FQ_OBS]: minima, then maxima of the nodes of BLK cells */
+    size_t n_sblocks;
+    float *sbb;           /* [n_sblocks][2][FQ_OBS]: the same over SBLK boxes */
     double lt_range[2];   /* log Teff range of all tracks */
     size_t bytes;
 };

@@ -1,8 +1,10 @@
 /* Benchmark of hrt_fit_star: milliseconds per star on a grid (default: HRTRAIL_GRID or the installed one).
- * Prints figures; asserts nothing about time. */
+ * Prints figures; asserts nothing about time.
+ *   hrtrail-bench-fit [GRID.h5 [N_STARS [feh|nofeh]]] */
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 #include <time.h>
 
 #include <gsl/gsl_randist.h>
@@ -72,8 +74,12 @@ int main(int argc, char **argv)
     }
     printf("model (defaults, whole grid): %.3f s to build, %.1f MB, %zu [Fe/H] nodes\n", now_s() - t0,
            hrt_fit_model_memory_bytes(m) / 1e6, hrt_fit_model_n_feh(m));
-    run(g, m, 1, n, "Teff, log L, [Fe/H] measured");
-    run(g, m, 0, n, "Teff, log L only (all [Fe/H] nodes)");
+    /* optional third argument "feh" or "nofeh": one of the two runs (e.g. under callgrind) */
+    const char *only = argc > 3 ? argv[3] : "";
+    if (strcmp(only, "nofeh") != 0)
+        run(g, m, 1, n, "Teff, log L, [Fe/H] measured");
+    if (strcmp(only, "feh") != 0)
+        run(g, m, 0, n, "Teff, log L only (all [Fe/H] nodes)");
     hrt_fit_model_free(m);
     hrt_grid_close(g);
     return 0;
