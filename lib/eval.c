@@ -361,6 +361,15 @@ void hrt_q_phase_run(const qctx *q, int j, int *js, int *je)
         *js = *je;
 }
 
+/* An interpolated remnant mass its kind does not allow (not positive, or a
+ * white dwarf of 1.44 Msun or more: extrapolation past a route's last track,
+ * overshoot of a cubic type) is replaced by the nearest track's. */
+static double remnant_bounded(int kind, double m, double nearest)
+{
+    int wd = hrt_remnant_family(kind) == HRT_REMNANT_CO_WD;
+    return (m > 0.0 && (!wd || m < 1.44)) ? m : nearest;
+}
+
 void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
 {
     const mctx *mn = near_track(q);
@@ -379,7 +388,8 @@ void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
             *mass_msun = gp->remnant_hv[2 * mn->near];
         } else {
             const double *p = gp->remnant_hv + 2 * i, *w = mn->w;
-            *mass_msun = w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3];
+            *mass_msun = remnant_bounded(k0, w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3],
+                                         gp->remnant_hv[2 * mn->near]);
         }
         return;
     }
@@ -409,7 +419,8 @@ void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
         const double *p = m->gp->remnant_hv + 2 * m->i;
         v[k - q->g0] = m->w[0] * p[0] + m->w[1] * p[1] + m->w[2] * p[2] + m->w[3] * p[3];
     }
-    *mass_msun = q->single ? v[0] : (1.0 - q->tz) * v[0] + q->tz * v[1];
+    *mass_msun = remnant_bounded(k0, q->single ? v[0] : (1.0 - q->tz) * v[0] + q->tz * v[1],
+                                 mn->gp->remnant_hv[2 * mn->near]);
 }
 
 int hrt_bracket(const double *a, int n, double x)

@@ -280,6 +280,19 @@ static void nulls_and_zeros(void)
 
 /* ---- files that are not grids ------------------------------------------- */
 
+/* The bytes of the synthetic grid file. */
+static unsigned char *grid_bytes(long *size)
+{
+    FILE *src = fopen(grid_path, "rb");
+    fseek(src, 0, SEEK_END);
+    *size = ftell(src);
+    rewind(src);
+    unsigned char *bytes = malloc((size_t)*size);
+    HARD_CHECK(fread(bytes, 1, (size_t)*size, src) == (size_t)*size, "read");
+    fclose(src);
+    return bytes;
+}
+
 static void not_grids(void)
 {
     char p[160];
@@ -320,13 +333,8 @@ static void not_grids(void)
     setenv("HRTRAIL_GRID", "/nonexistent/grid.h5", 1);
     unlink(p);
     /* truncated copies at several lengths */
-    FILE *src = fopen(grid_path, "rb");
-    fseek(src, 0, SEEK_END);
-    long size = ftell(src);
-    rewind(src);
-    unsigned char *bytes = malloc((size_t)size);
-    HARD_CHECK(fread(bytes, 1, (size_t)size, src) == (size_t)size, "read");
-    fclose(src);
+    long size;
+    unsigned char *bytes = grid_bytes(&size);
     const long cut[] = {8, 512, 2048, size / 2, size - 1024, size - 1};
     for (size_t k = 0; k < sizeof cut / sizeof cut[0]; k++) {
         snprintf(p, sizeof p, "%s/cut.h5", dir);
@@ -552,6 +560,7 @@ static void x_nan_padding(void)
 }
 static void x_units_missing(void) { attr_del(M0 "log_L", "units"); }
 static void x_remnant_none(void) { elem(M0 "remnant", 1, 0, 0); } /* track 1 leaves no known remnant */
+static void x_remnant_steep(void) { elem(M0 "remnant_mass", 8, 0, 0.01); } /* last low-route track: 0.01 Msun WD */
 
 typedef void (*damage_fn)(void);
 static const struct {
@@ -613,19 +622,15 @@ static const struct {
     {"values after the valid EEPs (accepted)", x_nan_padding, HRT_OK, NULL},
     {"units attribute missing (accepted)", x_units_missing, HRT_OK, NULL},
     {"a track without remnant beside ones with (accepted)", x_remnant_none, HRT_OK, NULL},
+    {"remnant masses falling steeply to a route's end (accepted)", x_remnant_steep, HRT_OK, NULL},
 };
 
 static void damaged(void)
 {
     char p[160];
     snprintf(p, sizeof p, "%s/damaged.h5", dir);
-    FILE *src = fopen(grid_path, "rb");
-    fseek(src, 0, SEEK_END);
-    long size = ftell(src);
-    rewind(src);
-    unsigned char *bytes = malloc((size_t)size);
-    HARD_CHECK(fread(bytes, 1, (size_t)size, src) == (size_t)size, "read");
-    fclose(src);
+    long size;
+    unsigned char *bytes = grid_bytes(&size);
     for (size_t k = 0; k < sizeof damages / sizeof damages[0]; k++) {
         FILE *f = fopen(p, "wb");
         fwrite(bytes, 1, (size_t)size, f);
@@ -660,6 +665,17 @@ static void damaged(void)
                 CASE("damaged", rw == HRT_OK && w.phase == HRT_PHASE_WD && isfinite(w.mass_msun) && isfinite(w.log_l),
                      "white dwarf beside a track without remnant: %d, mass %g, log L %g", rw, w.mass_msun, w.log_l);
                 hrt_star_free(s);
+            }
+            if (damages[k].fn == x_remnant_steep) {
+                /* Regression: extrapolated past the route's last track, the
+                 * white dwarf mass went negative (NaN radius, HRT_OK). */
+                double m = 0.99, z0 = hrt_grid_z(g, 0), a = 1e12;
+                hrt_state w;
+                int rw = hrt_eval(g, 1, &m, NULL, z0, &a, &w, &e);
+                CASE("damaged", rw == HRT_OK && (w.flags & HRT_FLAG_EXTRAPOLATED) && w.mass_msun > 0.0 &&
+                                    isfinite(w.log_l) && isfinite(w.log_r),
+                     "extrapolated white dwarf: %d, flags %#x, mass %g, log R %g", rw, (unsigned)w.flags, w.mass_msun,
+                     w.log_r);
             }
             if (damages[k].fn == x_extra_attrs)
                 CASE("damaged", hrt_grid_attribute(g, "provenance") &&
