@@ -210,33 +210,25 @@ static int stars_from_csv(cli *c, const char *path, const fitopts *f, fitstar **
 
 /* ------------------------------------------------------------------ output */
 
+/* An interval as three columns: median, 16 % and 84 % points (key stem, unit suffix).
+ * FIT_IV_SHOWN prints all three in the text table, FIT_IV the median only. */
+#define FIT_IV_SHOWN(stem, unit, head, fmt, scale)                                                            \
+    {stem unit, head, COL_NUM, fmt, scale}, {stem "_lo" unit, "-", COL_NUM, fmt, scale},                        \
+        {stem "_hi" unit, "+", COL_NUM, fmt, scale}
+#define FIT_IV(stem, unit, head, fmt)                                                                          \
+    {stem unit, head, COL_NUM, fmt, 0}, {stem "_lo" unit, NULL, COL_NUM, NULL, 0}, {stem "_hi" unit, NULL, COL_NUM, NULL, 0}
+
 static const col fit_cols[] = {
     {"name", "star", COL_TEXT, NULL, 0},
     {"status", "status", COL_TEXT, NULL, 0},
-    {"initial_mass_Msun", "M_init", COL_NUM, "%.3f", 0},
-    {"initial_mass_lo_Msun", "-", COL_NUM, "%.3f", 0},
-    {"initial_mass_hi_Msun", "+", COL_NUM, "%.3f", 0},
-    {"age_yr", "age [Gyr]", COL_NUM, "%.3f", 1e-9},
-    {"age_lo_yr", "-", COL_NUM, "%.3f", 1e-9},
-    {"age_hi_yr", "+", COL_NUM, "%.3f", 1e-9},
-    {"feh", "[Fe/H]", COL_NUM, "%.2f", 0},
-    {"feh_lo", NULL, COL_NUM, NULL, 0},
-    {"feh_hi", NULL, COL_NUM, NULL, 0},
-    {"mass_Msun", "M now", COL_NUM, "%.3f", 0},
-    {"mass_lo_Msun", NULL, COL_NUM, NULL, 0},
-    {"mass_hi_Msun", NULL, COL_NUM, NULL, 0},
-    {"radius_Rsun", "R [Rsun]", COL_NUM, "%.3f", 0},
-    {"radius_lo_Rsun", NULL, COL_NUM, NULL, 0},
-    {"radius_hi_Rsun", NULL, COL_NUM, NULL, 0},
-    {"log_L_Lsun", "log L", COL_NUM, "%.3f", 0},
-    {"log_L_lo_Lsun", NULL, COL_NUM, NULL, 0},
-    {"log_L_hi_Lsun", NULL, COL_NUM, NULL, 0},
-    {"log_g_cgs", "log g", COL_NUM, "%.2f", 0},
-    {"log_g_lo_cgs", NULL, COL_NUM, NULL, 0},
-    {"log_g_hi_cgs", NULL, COL_NUM, NULL, 0},
-    {"distance_pc", "d [pc]", COL_NUM, "%.4g", 0},
-    {"distance_lo_pc", NULL, COL_NUM, NULL, 0},
-    {"distance_hi_pc", NULL, COL_NUM, NULL, 0},
+    FIT_IV_SHOWN("initial_mass", "_Msun", "M_init", "%.3f", 0),
+    FIT_IV_SHOWN("age", "_yr", "age [Gyr]", "%.3f", 1e-9),
+    FIT_IV("feh", "", "[Fe/H]", "%.2f"),
+    FIT_IV("mass", "_Msun", "M now", "%.3f"),
+    FIT_IV("radius", "_Rsun", "R [Rsun]", "%.3f"),
+    FIT_IV("log_L", "_Lsun", "log L", "%.3f"),
+    FIT_IV("log_g", "_cgs", "log g", "%.2f"),
+    FIT_IV("distance", "_pc", "d [pc]", "%.4g"),
     {"phase", "phase", COL_TEXT, NULL, 0},
     {"phase_prob", "P", COL_NUM, "%.2f", 0},
     {"phase2", "or", COL_TEXT, NULL, 0},

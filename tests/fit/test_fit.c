@@ -60,6 +60,20 @@ static void teardown(void) { ck_assert_int_eq(gsl_calls, 0); }
 
 static int in_interval(hrt_fit_interval x, double v) { return v >= x.lo && v <= x.hi; }
 
+/* An observation of Teff, log L and [Fe/H] (values and 1-sigma errors); the rest not measured. */
+static hrt_fit_obs obs_tlf(double teff, double teff_s, double log_l, double log_l_s, double feh, double feh_s)
+{
+    hrt_fit_obs o;
+    hrt_fit_obs_init(&o);
+    o.teff_k = teff;
+    o.teff_sigma_k = teff_s;
+    o.log_l = log_l;
+    o.log_l_sigma = log_l_s;
+    o.feh = feh;
+    o.feh_sigma = feh_s;
+    return o;
+}
+
 /* Kroupa (2001, eq. 2) draw in [lo, hi] Msun by rejection in log mass:
  * dN/dlog M ~ M^-0.3 below 0.5 Msun, M^-1.3 above. */
 static double draw_kroupa(gsl_rng *r, double lo, double hi)
@@ -90,14 +104,9 @@ START_TEST(injection_coverage)
             continue; /* the fit covers luminous stars between ZAMS and the last EEP */
         /* measurement errors of a spectroscopic survey (common practice) */
         const double st = 80.0, sl = 0.03, sf = 0.1;
-        hrt_fit_obs o;
-        hrt_fit_obs_init(&o);
-        o.teff_k = pow(10.0, s.log_teff_k) + gsl_ran_gaussian(r, st);
-        o.teff_sigma_k = st;
-        o.log_l = s.log_l + gsl_ran_gaussian(r, sl);
-        o.log_l_sigma = sl;
-        o.feh = feh + gsl_ran_gaussian(r, sf);
-        o.feh_sigma = sf;
+        double t_obs = pow(10.0, s.log_teff_k) + gsl_ran_gaussian(r, st);
+        double l_obs = s.log_l + gsl_ran_gaussian(r, sl);
+        hrt_fit_obs o = obs_tlf(t_obs, st, l_obs, sl, feh + gsl_ran_gaussian(r, sf), sf);
         hrt_fit_result res;
         hrt_error err;
         int rc = hrt_fit_star(M_NARROW, &o, (uint64_t)n, 0, NULL, &res, &err);
@@ -123,14 +132,7 @@ START_TEST(sun)
 {
     /* nominal L = 1 Lsun and Teff = 5772 K (IAU 2015 Resolution B3); errors of a
      * well-measured dwarf (common practice); [Fe/H] = 0 at the grid's Z_ref */
-    hrt_fit_obs o;
-    hrt_fit_obs_init(&o);
-    o.teff_k = 5772.0;
-    o.teff_sigma_k = 50.0;
-    o.log_l = 0.0;
-    o.log_l_sigma = 0.01;
-    o.feh = 0.0;
-    o.feh_sigma = 0.05;
+    hrt_fit_obs o = obs_tlf(5772.0, 50.0, 0.0, 0.01, 0.0, 0.05);
     hrt_fit_result res;
     hrt_fit_sample smp[200];
     hrt_error err;
@@ -164,14 +166,7 @@ END_TEST
 
 START_TEST(deterministic)
 {
-    hrt_fit_obs o;
-    hrt_fit_obs_init(&o);
-    o.teff_k = 4600;
-    o.teff_sigma_k = 80;
-    o.log_l = 1.6;
-    o.log_l_sigma = 0.05;
-    o.feh = 0.0;
-    o.feh_sigma = 0.1;
+    hrt_fit_obs o = obs_tlf(4600, 80, 1.6, 0.05, 0.0, 0.1);
     hrt_fit_sample a[300], b[300], c[300];
     hrt_fit_result ra, rb, rc_;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 7, 300, a, &ra, NULL), HRT_OK);
