@@ -84,7 +84,7 @@ for t in $targets; do
         left=$((left - ($(date +%s) - t0)))
         [ $rc -eq 0 ] && break
         # The first stack frame outside the sanitizer and fuzzer runtimes and libc.
-        first=$(grep -E '^ *#[0-9]+ 0x' "$log" | grep -Ev '__sanitizer|__asan|__ubsan|__interceptor|fuzzer::|libFuzzer|libc\.so|libc_start|/libclang_rt|in _start|in main |in raise|in abort|in __GI_|sigaction|in _?_?kill|pthread_kill' | head -n 1)
+        first=$(grep -E '^ *#[0-9]+ 0x' "$log" | grep -Ev '__sanitizer|__asan|__ubsan|__interceptor| in (malloc|calloc|realloc|free|strdup|memcpy|memmove|memset) |fuzzer::|libFuzzer|libc\.so|libc_start|/libclang_rt|in _start|in main |in raise|in abort|in __GI_|sigaction|in _?_?kill|pthread_kill' | head -n 1)
         art=$(sed -n 's/.*Test unit written to \(.*\)$/\1/p' "$log" | tail -n 1)
         # A leak report: HDF5's own when every leaked block was allocated by HDF5.
         if grep -q 'LeakSanitizer: detected memory leaks' "$log"; then
