@@ -253,8 +253,12 @@ typedef struct hrt_grid hrt_grid; /**< opaque, immutable after open, shareable a
  *   HRT_E_NOMEM.
  * Notes:
  *   1. The whole grid is read and checked: shapes, ascending masses, ages
- *      strictly increasing along each track's valid EEPs, finite values,
- *      phase and route tables, keypoint layouts, route boundaries.
+ *      strictly increasing along each track's valid EEPs, finite values
+ *      within plausible bounds (tracks/FORMAT.md, "What the reader
+ *      checks"), phase and route tables, keypoint layouts, route
+ *      boundaries.  Only regular files are opened.  The checks are about
+ *      mistakes; HDF5 itself (Debian's 1.10) can hang or crash on a
+ *      deliberately corrupted file, which no check here can prevent.
  *   2. Spline slopes across mass are computed here with GSL (the chosen type)
  *      and stored; queries evaluate the equivalent cubic Hermite (equal to
  *      GSL's own evaluation to 1e-13).  Across [Fe/H] the slopes come from

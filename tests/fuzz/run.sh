@@ -17,14 +17,7 @@ CC=${CC:-clang}
 command -v "$CC" >/dev/null || { echo "fuzz: $CC not found (apt-get install clang libclang-rt-14-dev)"; exit 1; }
 
 mkdir -p "$out/obj" "$out/crashes"
-# The version header meson would generate, from the same numbers.
-ver=$(sed -n "s/^ *version : '\([0-9.]*\)'.*/\1/p" "$top/meson.build" | head -n 1)
-abi=$(sed -n 's/^abi_version = \([0-9]*\).*/\1/p' "$top/meson.build")
-fmt=$(sed -n 's/^format_version = \([0-9]*\).*/\1/p' "$top/meson.build")
-sed -e "s/@HRT_VERSION_MAJOR@/${ver%%.*}/" -e "s/@HRT_VERSION_MINOR@/$(echo "$ver" | cut -d. -f2)/" \
-    -e "s/@HRT_VERSION_PATCH@/${ver##*.}/" -e "s/@HRT_VERSION_STRING@/\"$ver\"/" \
-    -e "s/@HRT_ABI_VERSION@/$abi/" -e "s/@HRT_FORMAT_VERSION@/$fmt/" \
-    "$top/include/hrtrail_version.h.in" > "$out/hrtrail_version.h"
+sh "$top/tests/fuzz/version-header.sh" "$out"
 
 deps_cflags=$(pkg-config --cflags gsl hdf5)
 deps_libs="$(pkg-config --libs gsl hdf5) -lm -lpthread"

@@ -522,6 +522,9 @@ static void d_logl_compound(void)
 static void d_logr_missing(void) { del(M0 "log_R"); }
 static void d_he_negative(void) { elem(M0 "he_core_mass", 1, 5, -0.1); }
 static void d_teff_inf(void) { elem(M0 "log_Teff", 1, 5, INFINITY); }
+static void d_mass_huge(void) { ds_num(M0 "mass", H5T_IEEE_F64LE, 2, 20, 61, 1e308); }
+static void d_logl_huge(void) { elem(M0 "log_L", 2, 7, 1e300); }
+static void d_remnant_heavy(void) { elem(M0 "remnant_mass", 15, 0, 100.0); }
 static void d_z_missing(void) { attr_del("metallicity/2", "Z"); }
 static void d_z_text(void) { attr_text("metallicity/2", "Z", "0.01", 1); }
 static void d_z_nan(void) { attr_num("metallicity/2", "Z", H5T_IEEE_F64LE, NAN); }
@@ -610,6 +613,9 @@ static const struct {
     {"log_R: missing", d_logr_missing, HRT_E_FORMAT, "log_R: dataset is missing"},
     {"he_core_mass: negative", d_he_negative, HRT_E_FORMAT, "he_core_mass[1][5]: negative mass"},
     {"log_Teff: infinite", d_teff_inf, HRT_E_FORMAT, "log_Teff[1][5]: inf inside"},
+    {"mass: 1e308 everywhere", d_mass_huge, HRT_E_FORMAT, "mass[0][0]: 1e+308 Msun exceeds twice the initial mass"},
+    {"log_L: 1e300", d_logl_huge, HRT_E_FORMAT, "log_L[2][7]: 1e+300 is not a plausible log10 value"},
+    {"remnant_mass: 100 Msun", d_remnant_heavy, HRT_E_FORMAT, "remnant_mass[15]: 100 Msun exceeds twice"},
     {"Z: missing", d_z_missing, HRT_E_FORMAT, "metallicity/2 attribute 'Z' is missing"},
     {"Z: text", d_z_text, HRT_E_FORMAT, "metallicity/2 attribute 'Z' must be a number"},
     {"Z: NaN", d_z_nan, HRT_E_FORMAT, "metallicity/2 attribute 'Z': nan"},
