@@ -1409,8 +1409,9 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
     }
     free(idx);
     if (!fatal) {
-        hrt_builder_set_attribute(b, "source", "tracks imported from text tables by hrtrail import", NULL);
-        if (out_path)
+        /* its only failure is out of memory: the grid must not lose the attribute silently */
+        fatal = hrt_builder_set_attribute(b, "source", "tracks imported from text tables by hrtrail import", err);
+        if (!fatal && out_path)
             fatal = hrt_builder_write(b, out_path, err);
     }
     hrt_builder_free(b);

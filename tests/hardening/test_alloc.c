@@ -413,6 +413,47 @@ static int op_build(void)
     return injected ? failed : HRT_OK;
 }
 
+
+/* A text-track import, written as a grid: a failure anywhere must be
+ * HRT_E_NOMEM, leave no grid file, and leak nothing. */
+static char track_file[128], import_out[128];
+
+static int op_import(void)
+{
+    hrt_import *imp = (hrt_import *)&imp;
+    hrt_error e = {0, ""};
+    int rc = hrt_import_new(&imp, &e);
+    if (rc != HRT_OK) {
+        disarm();
+        HARD_CHECK(imp == NULL, "hrt_import_new failed but returned an import");
+        return check_failure("hrt_import_new", rc, &e);
+    }
+    rc = hrt_import_map(imp, "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp initial_mass=1.0 Z=0.014", &e);
+    if (rc == HRT_OK)
+        rc = hrt_import_add_file(imp, track_file, NAN, &e);
+    if (rc == HRT_OK)
+        rc = hrt_import_run(imp, import_out, &e);
+    int inj = injected;
+    disarm();
+    if (rc != HRT_OK) {
+        check_failure("hrt_import_*", rc, &e);
+        HARD_CHECK(access(import_out, F_OK) != 0, "failed import left '%s'", import_out);
+        HARD_CHECK(count_tmp_files() == 0, "failed import left a temporary file");
+    } else {
+        hrt_grid *g = NULL;
+        HARD_CHECK(hrt_grid_open(import_out, &g, &e) == HRT_OK, "import after failure %d: grid does not open: %s", inj,
+                   e.message);
+        /* nothing of the grid may be lost to an allocation failure */
+        const char *src = hrt_grid_attribute(g, "source");
+        HARD_CHECK(!inj, "import returned HRT_OK through the failure of allocation %ld (attribute 'source': %s)",
+                   fail_at, src ? src : "lost");
+        hrt_grid_close(g);
+    }
+    hrt_import_free(imp);
+    unlink(import_out);
+    return rc;
+}
+
 int main(void)
 {
     snprintf(dir, sizeof dir, "/tmp/hrt-alloc-XXXXXX");
@@ -442,6 +483,14 @@ int main(void)
     sweep("hrt_star_new (3 stars)", op_star_new);
     sweep("hrt_isochrone", op_isochrone);
     sweep("hrt_builder_* (build and write)", op_build);
+    snprintf(track_file, sizeof track_file, "%s/track.dat", dir);
+    snprintf(import_out, sizeof import_out, "%s/imported.h5", dir);
+    FILE *tf = fopen(track_file, "w");
+    fputs("age_Myr logL logT kp\n1 0.00 3.760 zams\n200 0.05 3.758 -\n900 0.10 3.755 -\n2500 0.20 3.750 -\n"
+          "5000 0.30 3.740 tams\n", tf);
+    fclose(tf);
+    sweep("hrt_import_* (read and write a grid)", op_import);
+    unlink(track_file);
     printf("alloc: %ld allocation points in all, %ld failures returned\n", total_points, total_failures);
 
     hrt_grid_close(shared_grid);
