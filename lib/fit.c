@@ -157,7 +157,10 @@ static int add_track(build *B, size_t k, double mass, int want_route, hrt_error 
 {
     hrt_fit_model *m = B->m;
     hrt_star *s = NULL;
-    if (hrt_star_new(m->g, mass, m->z[k], &s, NULL) != HRT_OK)
+    int rs = hrt_star_new(m->g, mass, m->z[k], &s, NULL);
+    if (rs == HRT_E_NOMEM) /* not "outside the grid": the lattice would silently lose a track */
+        return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+    if (rs != HRT_OK)
         return HRT_OK;
     if (hrt_star_route(s) != want_route) {
         hrt_star_free(s);

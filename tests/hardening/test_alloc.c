@@ -454,6 +454,90 @@ static int op_import(void)
     return rc;
 }
 
+
+/* Fitting and forecasting, and a population run, on the shared grid: each
+ * failure HRT_E_NOMEM, and a run without failure the reference answer. */
+static hrt_fit_result ref_fit;
+static hrt_forecast_result ref_fc;
+static int ref_fit_rc, ref_fc_rc;
+static hrt_pop_summary ref_pop, pop_sum;
+static int ref_pop_rc;
+
+static int do_fit(hrt_fit_result *res, hrt_forecast_result *fc, int *rc_fc, hrt_error *e)
+{
+    hrt_fit_model_options o;
+    hrt_fit_model_options_default(&o);
+    o.log_mass_step_dex = 0.1; /* a coarse lattice: fewer allocations to sweep */
+    o.feh_step_dex = 0.5;
+    hrt_fit_model *model = (hrt_fit_model *)&model;
+    int rc = hrt_fit_model_new(shared_grid, &o, &model, e);
+    if (rc != HRT_OK) {
+        HARD_CHECK(model == NULL, "hrt_fit_model_new failed but returned a model");
+        *rc_fc = -1;
+        return rc;
+    }
+    hrt_fit_obs ob;
+    hrt_fit_obs_init(&ob);
+    ob.teff_k = 6500.0;
+    ob.teff_sigma_k = 150.0;
+    ob.log_l = 1.0;
+    ob.log_l_sigma = 0.1;
+    hrt_fit_sample smp[16];
+    memset(res, 0, sizeof *res);
+    rc = hrt_fit_star(model, &ob, 7, 16, smp, res, e);
+    *rc_fc = -1;
+    if (rc == HRT_OK) {
+        double dt[2] = {1e7, 1e8};
+        hrt_forecast_state st[2];
+        memset(fc, 0, sizeof *fc);
+        *rc_fc = hrt_forecast(shared_grid, 16, smp, 2, dt, st, fc, e);
+    }
+    hrt_fit_model_free(model);
+    return rc;
+}
+
+static int op_fit(void)
+{
+    hrt_fit_result res;
+    hrt_forecast_result fc;
+    hrt_error e = {0, ""};
+    int rc_fc, rc = do_fit(&res, &fc, &rc_fc, &e);
+    int inj = injected;
+    disarm();
+    if (rc != ref_fit_rc)
+        return check_failure("hrt_fit_model_new / hrt_fit_star", rc, &e);
+    if (rc_fc != ref_fc_rc)
+        return check_failure("hrt_forecast", rc_fc, &e);
+    HARD_CHECK(memcmp(&res, &ref_fit, sizeof res) == 0, "fit after the failure of allocation %ld differs (injected %d)", fail_at, inj);
+    if (rc_fc == HRT_OK)
+        HARD_CHECK(memcmp(&fc, &ref_fc, sizeof fc) == 0, "forecast after the failure of allocation %ld differs (injected %d)", fail_at, inj);
+    return HRT_OK;
+}
+
+static int do_pop(hrt_pop_summary *sum, hrt_error *e)
+{
+    hrt_pop_spec spec;
+    hrt_pop_spec_default(&spec);
+    spec.n_stars = 3000;
+    spec.chunk_size = 1000;
+    int rc = hrt_pop_summary_init(sum, 1e9, NULL, e);
+    if (rc == HRT_OK)
+        rc = hrt_pop_run(shared_grid, &spec, 0, 3, 1, 1, sum, e);
+    return rc;
+}
+
+static int op_pop(void)
+{
+    hrt_error e = {0, ""};
+    int rc = do_pop(&pop_sum, &e);
+    int inj = injected;
+    disarm();
+    if (rc != ref_pop_rc)
+        return check_failure("hrt_pop_run", rc, &e);
+    HARD_CHECK(memcmp(&pop_sum, &ref_pop, sizeof pop_sum) == 0, "population after allocation failure %d differs", inj);
+    return HRT_OK;
+}
+
 int main(void)
 {
     snprintf(dir, sizeof dir, "/tmp/hrt-alloc-XXXXXX");
@@ -490,6 +574,16 @@ int main(void)
           "5000 0.30 3.740 tams\n", tf);
     fclose(tf);
     sweep("hrt_import_* (read and write a grid)", op_import);
+    {
+        hrt_error e2;
+        ref_fit_rc = do_fit(&ref_fit, &ref_fc, &ref_fc_rc, &e2);
+        HARD_CHECK(ref_fit_rc == HRT_OK && ref_fc_rc == HRT_OK, "reference fit %d, forecast %d: %s", ref_fit_rc,
+                   ref_fc_rc, e2.message);
+        ref_pop_rc = do_pop(&ref_pop, &e2);
+        HARD_CHECK(ref_pop_rc == HRT_OK, "reference population: %s", e2.message);
+    }
+    sweep("hrt_fit_* and hrt_forecast", op_fit);
+    sweep("hrt_pop_run (1 thread)", op_pop);
     unlink(track_file);
     printf("alloc: %ld allocation points in all, %ld failures returned\n", total_points, total_failures);
 
