@@ -414,6 +414,9 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
     if (rc == HRT_OK && iz > 0 && !(gp->z > g->grp[iz - 1].z))
         rc = hrt_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g does not exceed the previous group's %g",
                            where, gp->z, g->grp[iz - 1].z);
+    if (rc == HRT_OK && !isfinite(hrt_log10(gp->z / g->z_ref)))
+        rc = hrt_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': [Fe/H] = log10(%g / z_ref %g) is not a finite number",
+                           where, gp->z, g->z_ref);
     hsize_t dm[1] = {0};
     if (rc == HRT_OK)
         rc = read_numeric(gr, where, "initial_mass", 1, dm, 0, NULL, err);

@@ -87,7 +87,13 @@ for t in $targets; do
                 END {print bad + 0}' "$log")
             [ "$ours" = 0 ] && first="leak allocated inside libhdf5"
         fi
-        if echo "$first" | grep -q 'libhdf5' && ! grep -Eq 'AddressSanitizer: (heap|stack|global)-buffer|use-after|double-free|property failed|runtime error' "$log"; then
+        # A memory error inside HDF5 on memory HDF5 allocated is HDF5's own too.
+        if echo "$first" | grep -q 'libhdf5' && grep -q 'allocated by thread' "$log"; then
+            owner=$(sed -n '/allocated by thread/,/^$/p' "$log" | grep -E '^ *#[0-9]+ 0x' |
+                grep -Ev ' in (malloc|calloc|realloc|strdup|__interceptor)|__asan|__sanitizer' | head -n 1)
+            echo "$owner" | grep -q 'libhdf5' && first="$first (memory of libhdf5)"
+        fi
+        if echo "$first" | grep -q 'libhdf5' && { echo "$first" | grep -q 'memory of libhdf5' || ! grep -Eq 'AddressSanitizer: (heap|stack|global)-buffer|use-after|double-free|property failed|runtime error' "$log"; }; then
             hdf5=$((hdf5 + 1))
             kind=$(grep -Eo 'libFuzzer: [a-z -]+|AddressSanitizer: [A-Za-z-]+' "$log" | head -n 1)
             echo "fuzz: $t: stop inside HDF5 ($kind) at:$first"

@@ -447,6 +447,7 @@ static void d_zref_text(void) { attr_text("/", "z_ref", "0.02", 1); }
 static void d_zref_nan(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, NAN); }
 static void d_zref_zero(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, 0.0); }
 static void d_zref_two(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, 2.0); }
+static void d_zref_subnormal(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, 4e-313); }
 static void d_phase_keys_missing(void) { del("phase_keys"); }
 static void d_phase_key_unknown(void)
 {
@@ -583,6 +584,7 @@ static const struct {
     {"z_ref: NaN", d_zref_nan, HRT_E_FORMAT, "'z_ref': nan"},
     {"z_ref: 0", d_zref_zero, HRT_E_FORMAT, "'z_ref': 0"},
     {"z_ref: 2", d_zref_two, HRT_E_FORMAT, "'z_ref': 2"},
+    {"z_ref: 4e-313 (subnormal)", d_zref_subnormal, HRT_E_FORMAT, "[Fe/H] = log10(0.001 / z_ref 4e-313) is not a finite"},
     {"phase_keys: missing", d_phase_keys_missing, HRT_E_FORMAT, "phase_keys: dataset is missing"},
     {"phase_keys: unknown key", d_phase_key_unknown, HRT_E_FORMAT, "unknown key 'mystery'"},
     {"phase_keys: numbers", d_phase_keys_numbers, HRT_E_FORMAT, "phase_keys: must hold strings"},
