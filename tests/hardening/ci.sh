@@ -20,11 +20,14 @@ lap() {
 # sanitizer builds inline differently and GCC then warns where it does not
 # otherwise (format-truncation), so they are built without -Werror.
 unset CFLAGS
-# 1. ASan + UBSan over the whole meson test suite.
+# 1. ASan + UBSan over the whole meson test suite, less the two tests that
+#    build many fitting models (suite slow-sanitized: 15 minutes under the
+#    sanitizers; the fit library itself is covered by the 'fit' Check suite).
 [ -d build-asan ] || meson setup build-asan -Db_sanitize=address,undefined -Db_lundef=false > build-asan.log
 ninja -C build-asan > /dev/null
 ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1 \
-    meson test -C build-asan --print-errorlogs --timeout-multiplier 4 --wrapper "$top/tests/hardening/asan-wrap.sh"
+    meson test -C build-asan --print-errorlogs --timeout-multiplier 4 --no-suite slow-sanitized \
+    --wrapper "$top/tests/hardening/asan-wrap.sh"
 lap "ASan+UBSan test suite"
 
 # 2. TSan: eight threads on one grid, also the default grid.
