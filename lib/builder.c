@@ -236,6 +236,9 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
     if (t->remnant != HRT_REMNANT_NONE && !(isfinite(t->remnant_mass_msun) && t->remnant_mass_msun > 0.0))
         return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g is not positive", who,
                              t->initial_mass_msun, t->remnant_mass_msun);
+    if (t->remnant != HRT_REMNANT_NONE && !(t->remnant_mass_msun <= HRT_MAX_MASS_FACTOR * t->initial_mass_msun))
+        return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g exceeds %g times the initial mass", who,
+                             t->initial_mass_msun, t->remnant_mass_msun, HRT_MAX_MASS_FACTOR);
     if (hrt_remnant_family(t->remnant) == HRT_REMNANT_CO_WD && !(t->remnant_mass_msun < 1.44))
         return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: a white dwarf of %g Msun is beyond the 1.44 Msun of "
                              "the white dwarf mass-radius relation", who, t->initial_mass_msun, t->remnant_mass_msun);
@@ -258,6 +261,14 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
             if (c >= C_MASS && cols[c][i] < 0.0)
                 return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is negative", who,
                                      t->initial_mass_msun, col_names[c], i, cols[c][i]);
+            /* the reader's plausibility bounds: what is written can be read */
+            if (c >= C_MASS && !(cols[c][i] <= HRT_MAX_MASS_FACTOR * t->initial_mass_msun))
+                return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g Msun exceeds %g times the "
+                                     "initial mass", who, t->initial_mass_msun, col_names[c], i, cols[c][i],
+                                     HRT_MAX_MASS_FACTOR);
+            if (c < C_MASS && !(fabs(cols[c][i]) <= HRT_MAX_LOG_ABS))
+                return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not a plausible log10 value",
+                                     who, t->initial_mass_msun, col_names[c], i, cols[c][i]);
             if (c == C_AGE && i > 0 && !(cols[c][i] > cols[c][i - 1]))
                 return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: log_age[%zu] = %.17g does not exceed the "
                                      "previous point's %.17g", who, t->initial_mass_msun, i, cols[c][i],

@@ -501,7 +501,7 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         if (gp->remnant[i] != HRT_REMNANT_NONE && !(isfinite(buf[i]) && buf[i] > 0.0))
             rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g is not a positive mass", where, i,
                                buf[i]);
-        else if (gp->remnant[i] != HRT_REMNANT_NONE && !(buf[i] <= 2.0 * gp->mass[i]))
+        else if (gp->remnant[i] != HRT_REMNANT_NONE && !(buf[i] <= HRT_MAX_MASS_FACTOR * gp->mass[i]))
             rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g Msun exceeds twice the initial mass",
                                where, i, buf[i]);
         else if (hrt_remnant_family(gp->remnant[i]) == HRT_REMNANT_CO_WD && !(buf[i] < 1.44))
@@ -556,12 +556,12 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
                 }
                 /* Bounds far outside any star, so that the spline slopes and
                  * weights cannot overflow to inf and NaN. */
-                if (q >= Q_MASS && !(v <= 2.0 * gp->mass[i])) {
+                if (q >= Q_MASS && !(v <= HRT_MAX_MASS_FACTOR * gp->mass[i])) {
                     rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g Msun exceeds twice the initial mass",
                                        where, qnames[q], i, j, v);
                     break;
                 }
-                if (q < Q_MASS && !(fabs(v) <= 100.0)) {
+                if (q < Q_MASS && !(fabs(v) <= HRT_MAX_LOG_ABS)) {
                     rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g is not a plausible log10 value", where,
                                        qnames[q], i, j, v);
                     break;

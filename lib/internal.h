@@ -120,6 +120,13 @@ static inline int hrt_remnant_family(int kind)
                : kind;
 }
 
+/* Plausibility bounds the reader enforces and the builder too, so that
+ * anything the library writes it can read back: log10 values within
+ * +-HRT_MAX_LOG_ABS, current, core and remnant masses at most
+ * HRT_MAX_MASS_FACTOR times the initial mass. */
+#define HRT_MAX_LOG_ABS 100.0
+#define HRT_MAX_MASS_FACTOR 2.0
+
 /* errors.c */
 int hrt_set_error(hrt_error *err, int code, const char *fmt, ...)
 #if defined(__GNUC__)
