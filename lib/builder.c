@@ -284,6 +284,24 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
     return HRT_OK;
 }
 
+/* A new track of n points in the group of z with t's identity, and t's
+ * columns in the builder's order. */
+static btrack *start_track(hrt_builder *b, double z, const hrt_track_data *t, int n, const double *cols[NCOL],
+                           hrt_error *err, int *rc)
+{
+    btrack *bt = new_track(b, z, n, err, rc);
+    if (!bt)
+        return NULL;
+    bt->mass = t->initial_mass_msun;
+    bt->route = t->route;
+    bt->remnant = t->remnant;
+    bt->rem_mass = t->remnant != HRT_REMNANT_NONE ? t->remnant_mass_msun : NAN;
+    const double *c[NCOL] = {t->log_age_yr, t->log_l,        t->log_teff_k,    t->log_r,
+                             t->mass_msun,  t->he_core_msun, t->co_core_msun};
+    memcpy(cols, c, sizeof c);
+    return bt;
+}
+
 int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
 {
     if (!b)
@@ -298,15 +316,10 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
     if (t->n < L->n_eep && t->remnant != HRT_REMNANT_NONE)
         return hrt_set_error(err, HRT_E_INVALID, "EEP track %g Msun: ends before the route's last EEP but names a "
                              "remnant", t->initial_mass_msun);
-    btrack *bt = new_track(b, z, (int)t->n, err, &rc);
+    const double *cols[NCOL];
+    btrack *bt = start_track(b, z, t, (int)t->n, cols, err, &rc);
     if (!bt)
         return rc;
-    bt->mass = t->initial_mass_msun;
-    bt->route = t->route;
-    bt->remnant = t->remnant;
-    bt->rem_mass = t->remnant != HRT_REMNANT_NONE ? t->remnant_mass_msun : NAN;
-    const double *cols[NCOL] = {t->log_age_yr, t->log_l,        t->log_teff_k,    t->log_r,
-                                t->mass_msun,  t->he_core_msun, t->co_core_msun};
     for (size_t i = 0; i < t->n; i++) {
         for (int c = 0; c < NCOL; c++)
             bt->col[c][i] = cols[c] ? cols[c][i] : hrt_log_r_from(t->log_l[i], t->log_teff_k[i]);
@@ -338,15 +351,10 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
         return hrt_set_error(err, HRT_E_INVALID, "track %g Msun: stops at keypoint '%s' but names a remnant",
                              t->initial_mass_msun, L->kp_names[nk - 1]);
     int ne = (int)L->kp_eep[nk - 1] + 1;
-    btrack *bt = new_track(b, z, ne, err, &rc);
+    const double *cols[NCOL];
+    btrack *bt = start_track(b, z, t, ne, cols, err, &rc);
     if (!bt)
         return rc;
-    bt->mass = t->initial_mass_msun;
-    bt->route = t->route;
-    bt->remnant = t->remnant;
-    bt->rem_mass = t->remnant != HRT_REMNANT_NONE ? t->remnant_mass_msun : NAN;
-    const double *cols[NCOL] = {t->log_age_yr, t->log_l,        t->log_teff_k,    t->log_r,
-                                t->mass_msun,  t->he_core_msun, t->co_core_msun};
     size_t maxseg = 0;
     for (size_t k = 0; k + 1 < nk; k++) {
         size_t len = t->keypoint_sample[k + 1] - t->keypoint_sample[k] + 1;
