@@ -36,29 +36,31 @@ ninja -C build-tsan tests/hardening/test_threads > /dev/null
 TSAN_OPTIONS=halt_on_error=1 build-tsan/tests/hardening/test_threads build/tracks/hrtrail-default-grid.h5
 lap "TSan thread test"
 
-# 3. valgrind memcheck over the C test programs of the normal build, two at a time.
+# 3. valgrind memcheck over the C test programs of the normal build, one at a
+#    time (a background run once ended without a word; sequential is plain).
 vg="valgrind --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite,indirect --show-leak-kinds=definite,indirect -q"
 grid=$top/build/tracks/hrtrail-default-grid.h5
 mkdir -p build/valgrind
 run_vg() { # name, program and arguments
     name=$1
     shift
-    if CK_DEFAULT_TIMEOUT=3000 HRTRAIL_GRID=$grid $vg "$@" > "build/valgrind/$name.log" 2>&1; then
+    rc=0
+    CK_DEFAULT_TIMEOUT=3000 HRTRAIL_GRID=$grid $vg "$@" > "build/valgrind/$name.log" 2>&1 || rc=$?
+    if [ $rc -eq 0 ]; then
         echo "ci-hardening: valgrind $name: no errors, no leaks"
     else
-        echo "ci-hardening: valgrind $name FAILED"
+        echo "ci-hardening: valgrind $name FAILED (exit $rc)"
         tail -n 60 "build/valgrind/$name.log"
         return 1
     fi
 }
 fails=0
-run_vg default_grid build/tests/test_default_grid & p1=$!
 run_vg core build/tests/test_core || fails=1
 run_vg threads build/tests/hardening/test_threads || fails=1
 run_vg alloc build/tests/hardening/test_alloc || fails=1
 run_vg faults build/tests/hardening/test_faults || fails=1
 run_vg badinput build/tests/hardening/test_badinput || fails=1
-wait $p1 || fails=1
+run_vg default_grid build/tests/test_default_grid || fails=1
 [ $fails -eq 0 ] || exit 1
 lap "valgrind memcheck"
 
