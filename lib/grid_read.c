@@ -105,62 +105,73 @@ static hssize_t space_points(hid_t space, int *rank)
     return H5Sget_simple_extent_npoints(space);
 }
 
+/* An attribute opened with its type and space; the caller checks them and
+ * calls close_attr.  `what` receives the description used in messages. */
+typedef struct attr_handle {
+    hid_t a, t, s;
+    char what[160];
+} attr_handle;
+
+static int open_attr(hid_t loc, const char *name, const char *where, attr_handle *h, hrt_error *err)
+{
+    snprintf(h->what, sizeof h->what, "%s attribute '%s'", where, name);
+    if (H5Aexists(loc, name) <= 0)
+        return hrt_set_error(err, HRT_E_FORMAT, "%s is missing", h->what);
+    h->a = H5Aopen(loc, name, H5P_DEFAULT);
+    if (h->a < 0)
+        return hrt_set_error(err, HRT_E_FORMAT, "%s cannot be opened", h->what);
+    h->t = H5Aget_type(h->a);
+    h->s = H5Aget_space(h->a);
+    return HRT_OK;
+}
+
+static void close_attr(attr_handle *h)
+{
+    if (h->t >= 0)
+        H5Tclose(h->t);
+    if (h->s >= 0)
+        H5Sclose(h->s);
+    H5Aclose(h->a);
+}
+
 static int read_attr_text(hid_t loc, const char *name, const char *where, char **out, hrt_error *err)
 {
-    char what[160];
-    snprintf(what, sizeof what, "%s attribute '%s'", where, name);
-    if (H5Aexists(loc, name) <= 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s is missing", what);
-    hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
-    if (a < 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s cannot be opened", what);
-    hid_t t = H5Aget_type(a), s = H5Aget_space(a);
-    int rc, rank;
-    if (t < 0 || s < 0 || H5Tget_class(t) != H5T_STRING) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s is not text", what);
-    } else if (space_points(s, &rank) != 1) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be a single string", what);
+    attr_handle h;
+    int rc = open_attr(loc, name, where, &h, err), rank;
+    if (rc != HRT_OK)
+        return rc;
+    if (h.t < 0 || h.s < 0 || H5Tget_class(h.t) != H5T_STRING) {
+        rc = hrt_set_error(err, HRT_E_FORMAT, "%s is not text", h.what);
+    } else if (space_points(h.s, &rank) != 1) {
+        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be a single string", h.what);
     } else {
         char **v = NULL;
-        rc = read_strings_raw(a, 1, t, s, 1, &v, what, err);
+        rc = read_strings_raw(h.a, 1, h.t, h.s, 1, &v, h.what, err);
         if (rc == HRT_OK) {
             *out = v[0];
             free(v);
         }
     }
-    if (t >= 0)
-        H5Tclose(t);
-    if (s >= 0)
-        H5Sclose(s);
-    H5Aclose(a);
+    close_attr(&h);
     return rc;
 }
 
 static int read_attr_number(hid_t loc, const char *name, const char *where, int want_int, double *out,
                             hrt_error *err)
 {
-    char what[160];
-    snprintf(what, sizeof what, "%s attribute '%s'", where, name);
-    if (H5Aexists(loc, name) <= 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s is missing", what);
-    hid_t a = H5Aopen(loc, name, H5P_DEFAULT);
-    if (a < 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s cannot be opened", what);
-    hid_t t = H5Aget_type(a), s = H5Aget_space(a);
-    int rc = HRT_OK, rank;
-    H5T_class_t cls = t >= 0 ? H5Tget_class(t) : H5T_NO_CLASS;
+    attr_handle h;
+    int rc = open_attr(loc, name, where, &h, err), rank;
+    if (rc != HRT_OK)
+        return rc;
+    H5T_class_t cls = h.t >= 0 ? H5Tget_class(h.t) : H5T_NO_CLASS;
     if (cls != H5T_INTEGER && (want_int || cls != H5T_FLOAT)) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be %s", what, want_int ? "an integer" : "a number");
-    } else if (s < 0 || space_points(s, &rank) != 1) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be a single value", what);
-    } else if (H5Aread(a, H5T_NATIVE_DOUBLE, out) < 0) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s cannot be read", what);
+        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be %s", h.what, want_int ? "an integer" : "a number");
+    } else if (h.s < 0 || space_points(h.s, &rank) != 1) {
+        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be a single value", h.what);
+    } else if (H5Aread(h.a, H5T_NATIVE_DOUBLE, out) < 0) {
+        rc = hrt_set_error(err, HRT_E_FORMAT, "%s cannot be read", h.what);
     }
-    if (t >= 0)
-        H5Tclose(t);
-    if (s >= 0)
-        H5Sclose(s);
-    H5Aclose(a);
+    close_attr(&h);
     return rc;
 }
 
