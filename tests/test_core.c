@@ -13,7 +13,7 @@
 #include <hdf5.h>
 
 #include "hrtrail.h"
-#include "internal.h"
+#include "core/core.h"
 #include "synth.h"
 
 /* GSL's handler must never be reached: count any call (style: install a
@@ -94,7 +94,7 @@ static const gsl_interp_type *gtype(int t)
                                        : gsl_interp_linear;
 }
 
-/* hrt_slopes_local (used across [Fe/H]) and the Hermite form reproduce GSL
+/* trail_slopes_local (used across [Fe/H]) and the Hermite form reproduce GSL
  * 2.7's interpolants on random knots: reference GSL itself, relative 1e-13. */
 START_TEST(test_slopes_match_gsl)
 {
@@ -109,7 +109,7 @@ START_TEST(test_slopes_match_gsl)
                 x[i] = x[i - 1] + 0.05 + gsl_rng_uniform(rng);
             for (size_t i = 0; i < n; i++)
                 y[i] = sin(3.0 * x[i]) + 0.3 * gsl_rng_uniform(rng);
-            hrt_slopes_local(t, n, x, y, d);
+            trail_slopes_local(t, n, x, y, d);
             gsl_interp *it = gsl_interp_alloc(gtype(t), n);
             gsl_interp_init(it, x, y, n);
             for (int k = 0; k < 50; k++) {
@@ -118,7 +118,7 @@ START_TEST(test_slopes_match_gsl)
                 while (i + 2 < n && x[i + 1] <= xq)
                     i++;
                 double w[4];
-                hrt_hermite_weights(t, x[i], x[i + 1], xq, w);
+                trail_hermite_weights(t, x[i], x[i + 1], xq, w);
                 double ours = w[0] * y[i] + w[1] * d[i] + w[2] * y[i + 1] + w[3] * d[i + 1];
                 double ref;
                 gsl_interp_eval_e(it, x, y, xq, NULL, &ref);
@@ -146,15 +146,15 @@ START_TEST(test_hot_path_equals_gsl)
         double x[64], y[64];
         for (size_t k = 0; k < n; k++) {
             x[k] = gp->logm[lo + k];
-            y[k] = hrt_hv(gp, (size_t)j, lo + k, Q_L)[0];
+            y[k] = trail_hv(gp, (size_t)j, lo + k, Q_L)[0];
         }
         gsl_interp *it = gsl_interp_alloc(gtype(t), n);
         gsl_interp_init(it, x, y, n);
         qctx q;
         for (int k = 0; k <= 400; k++) {
             double xm = x[0] + (x[n - 1] - x[0]) * k / 400.0;
-            ck_assert_int_eq(hrt_qctx_init(g, pow(10.0, xm), gp->z, &q, NULL), HRT_OK);
-            double ours = hrt_q_value(&q, Q_L, j), ref;
+            ck_assert_int_eq(trail_qctx_init(g, pow(10.0, xm), gp->z, &q, NULL), HRT_OK);
+            double ours = trail_q_value(&q, Q_L, j), ref;
             gsl_interp_eval_e(it, x, y, xm, NULL, &ref);
             ck_assert_msg(fabs(ours - ref) <= 1e-13 * (1.0 + fabs(ref)), "%s: %.17g vs %.17g",
                           hrt_interp_name(t), ours, ref);

@@ -933,7 +933,7 @@ static void route_supergiant(ctx *c)
     keypoint(c); /* core_collapse */
     int kind = HRT_REMNANT_NS;
     double mrem = NAN; /* refused by the grid builder if the rule cannot apply */
-    hrt_collapse_remnant(c->mco, c->m, &kind, &mrem); /* Fryer et al. 2012, in lib/remnant.c */
+    hrt_collapse_remnant(c->mco, c->m, &kind, &mrem); /* Fryer et al. 2012, in lib/core/remnant.c */
     c->t->remnant = kind;
     c->t->remnant_mass = mrem;
     c->t->s[c->t->n - 1].phase = kind == HRT_REMNANT_BH ? HRT_PHASE_BH : HRT_PHASE_NS;

@@ -15,7 +15,7 @@ deps_cflags=$(pkg-config --cflags gsl hdf5)
 deps_libs="$(pkg-config --libs gsl hdf5) -lm -lpthread"
 cflags="-std=c11 -g -O1 -fprofile-instr-generate -fcoverage-mapping -D_POSIX_C_SOURCE=200809L -I$top/include -I$top/lib -I$out $deps_cflags"
 objs=""
-for src in "$top"/lib/*.c; do
+for src in "$top"/lib/*/*.c; do
     o="$out/cobj/$(basename "$src" .c).o"
     $CC $cflags -DHRT_BUILDING_LIBRARY -DHRT_DATADIR=\"/nonexistent\" -c "$src" -o "$o"
     objs="$objs $o"
@@ -33,4 +33,4 @@ done
 llvm-profdata merge -sparse "$out"/cov-*.profraw -o "$out/cov.profdata"
 first=$(ls "$out"/cov-fuzz_* | grep -v profraw | head -n 1)
 others=$(ls "$out"/cov-fuzz_* | grep -v profraw | tail -n +2 | sed 's/^/-object /' | tr '\n' ' ')
-llvm-cov report "$first" $others -instr-profile="$out/cov.profdata" "$top"/lib/*.c "$top/bindings/cli/util.c"
+llvm-cov report "$first" $others -instr-profile="$out/cov.profdata" "$top"/lib/*/*.c "$top/bindings/cli/util.c"

@@ -26,7 +26,7 @@ cflags="-std=c11 -g -O1 $san -D_POSIX_C_SOURCE=200809L -I$top/include -I$top/lib
 
 echo "fuzz: building into $out"
 objs=""
-for src in "$top"/lib/*.c; do
+for src in "$top"/lib/*/*.c; do
     o="$out/obj/lib_$(basename "$src" .c).o"
     $CC $cflags -fsanitize=fuzzer-no-link -DHRT_BUILDING_LIBRARY -DHRT_DATADIR=\"/nonexistent\" -c "$src" -o "$o"
     objs="$objs $o"

@@ -7,10 +7,9 @@
 #include <gsl/gsl_randist.h>
 #include <gsl/gsl_rng.h>
 
-#include "internal.h"
-#include "fit_internal.h"
+#include "util/util.h"
+#include "fit/lattice.h"
 
-#define LN10 2.302585092994045684
 #define PI 3.14159265358979323846
 #define BLK 8              /* EEP intervals per bounding box */
 #define SBLK 8             /* bounding boxes per box of the second level */
@@ -23,7 +22,6 @@
 #define HIST_BINS 2048     /* bins of the quantile histograms */
 #define P_LO 0.158655253931457 /* Phi(-1) */
 #define P_HI 0.841344746068543 /* Phi(+1) */
-#define LOG_TEFF_SUN log10(HRT_TEFF_SUN_K) /* folded by the compiler */
 
 /* ------------------------------------------------------------------ priors */
 
@@ -54,7 +52,7 @@ static int prior_imf(const hrt_fit_model_options *o, hrt_imf *imf, hrt_error *er
                                                               : HRT_IMF_POWER_LAW;
     hrt_error e;
     int rc = hrt_imf_init(imf, kind, o->mass_min_msun, o->mass_max_msun, 1.0, &e);
-    return rc == HRT_OK ? rc : hrt_set_error(err, rc, "hrt_fit_model_new: mass prior: %s", e.message);
+    return rc == HRT_OK ? rc : trail_set_error(err, rc, "hrt_fit_model_new: mass prior: %s", e.message);
 }
 
 /* ln dN/dlog10 M of the prior at m (up to a constant); m is held inside the
@@ -159,7 +157,7 @@ static int add_track(build *B, size_t k, double mass, int want_route, hrt_error 
     hrt_star *s = NULL;
     int rs = hrt_star_new(m->g, mass, m->z[k], &s, NULL);
     if (rs == HRT_E_NOMEM) /* not "outside the grid": the lattice would silently lose a track */
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
     if (rs != HRT_OK)
         return HRT_OK;
     if (hrt_star_route(s) != want_route) {
@@ -170,7 +168,7 @@ static int add_track(build *B, size_t k, double mass, int want_route, hrt_error 
     if (grow((void **)&m->tr, &B->cap_tr, m->n_tracks + 1, sizeof *m->tr) ||
         grow((void **)&m->la, &B->cap_nodes, m->n_nodes + n, sizeof *m->la)) {
         hrt_star_free(s);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
     }
     /* q and ph follow la's capacity */
     float *q = realloc(m->q, B->cap_nodes * FQ * sizeof *q);
@@ -181,7 +179,7 @@ static int add_track(build *B, size_t k, double mass, int want_route, hrt_error 
         m->ph = ph;
     if (!q || !ph) {
         hrt_star_free(s);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
     }
     ftrack *t = &m->tr[m->n_tracks++];
     t->log_m = log10(mass);
@@ -217,24 +215,24 @@ static int check_opts(const hrt_grid *g, hrt_fit_model_options *o, hrt_error *er
     double zref = hrt_grid_z_ref(g);
     double flo = log10(zlo / zref), fhi = log10(zhi / zref);
     if (o->mass_prior < 0 || o->mass_prior >= HRT_FIT_PRIOR_COUNT)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: unknown mass prior %d", (int)o->mass_prior);
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: unknown mass prior %d", (int)o->mass_prior);
     if (isnan(o->feh_min)) o->feh_min = flo;
     if (isnan(o->feh_max)) o->feh_max = fhi;
     if (!isfinite(o->feh_min) || !isfinite(o->feh_max))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_model_new: [Fe/H] limits must be finite");
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_model_new: [Fe/H] limits must be finite");
     if (o->feh_min > o->feh_max)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: feh_min %g > feh_max %g", o->feh_min, o->feh_max);
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: feh_min %g > feh_max %g", o->feh_min, o->feh_max);
     if (o->feh_min < flo - 1e-9 || o->feh_max > fhi + 1e-9)
-        return hrt_set_error(err, HRT_E_Z_RANGE, "hrt_fit_model_new: [Fe/H] range [%g, %g] outside the grid's [%g, %g]",
+        return trail_set_error(err, HRT_E_Z_RANGE, "hrt_fit_model_new: [Fe/H] range [%g, %g] outside the grid's [%g, %g]",
                              o->feh_min, o->feh_max, flo, fhi);
     if (o->feh_min < flo) o->feh_min = flo;
     if (o->feh_max > fhi) o->feh_max = fhi;
     if (!(o->feh_step_dex > 0) || !isfinite(o->feh_step_dex) || !(o->log_mass_step_dex > 0) ||
         !isfinite(o->log_mass_step_dex) || !(o->age_max_yr > 0) || !isfinite(o->age_max_yr))
-        return hrt_set_error(err, HRT_E_DOMAIN,
+        return trail_set_error(err, HRT_E_DOMAIN,
                              "hrt_fit_model_new: feh_step_dex, log_mass_step_dex and age_max_yr must be finite and > 0");
     if (o->feh_step_dex < 0.005 || o->log_mass_step_dex < 0.001 || o->log_mass_step_dex > 0.2)
-        return hrt_set_error(err, HRT_E_INVALID,
+        return trail_set_error(err, HRT_E_INVALID,
                              "hrt_fit_model_new: feh_step_dex >= 0.005 and 0.001 <= log_mass_step_dex <= 0.2 are required");
     /* mass limits: the widest range of the chosen metallicities */
     mlo = INFINITY;
@@ -249,12 +247,12 @@ static int check_opts(const hrt_grid *g, hrt_fit_model_options *o, hrt_error *er
     if (isnan(o->mass_min_msun)) o->mass_min_msun = mlo;
     if (isnan(o->mass_max_msun)) o->mass_max_msun = mhi;
     if (!(o->mass_min_msun > 0) || !isfinite(o->mass_max_msun))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_model_new: mass limits must be finite and > 0");
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_model_new: mass limits must be finite and > 0");
     if (o->mass_min_msun >= o->mass_max_msun)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: mass_min_msun %g >= mass_max_msun %g",
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: mass_min_msun %g >= mass_max_msun %g",
                              o->mass_min_msun, o->mass_max_msun);
     if (o->mass_min_msun < mlo * (1 - 1e-12) || o->mass_max_msun > mhi * (1 + 1e-12))
-        return hrt_set_error(err, HRT_E_MASS_RANGE, "hrt_fit_model_new: mass range [%g, %g] Msun outside the grid's [%g, %g]",
+        return trail_set_error(err, HRT_E_MASS_RANGE, "hrt_fit_model_new: mass range [%g, %g] Msun outside the grid's [%g, %g]",
                              o->mass_min_msun, o->mass_max_msun, mlo, mhi);
     return HRT_OK;
 }
@@ -262,7 +260,7 @@ static int check_opts(const hrt_grid *g, hrt_fit_model_options *o, hrt_error *er
 int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_fit_model **model, hrt_error *err)
 {
     if (!g || !model)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_fit_model_new: %s is NULL", !g ? "grid" : "model");
+        return trail_set_error(err, HRT_E_NULL, "hrt_fit_model_new: %s is NULL", !g ? "grid" : "model");
     *model = NULL;
     hrt_fit_model_options o;
     if (opt)
@@ -274,7 +272,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
         return rc;
     hrt_fit_model *m = calloc(1, sizeof *m);
     if (!m)
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
     m->g = g;
     m->o = o;
     m->log_age_max = log10(o.age_max_yr);
@@ -290,7 +288,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
     m->z_first = malloc((nz + 1) * sizeof(size_t));
     if (!m->feh || !m->z || !m->wz || !m->z_first) {
         hrt_fit_model_free(m);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
     }
     double zref = hrt_grid_z_ref(g), zlo, zhi;
     hrt_grid_z_range(g, &zlo, &zhi);
@@ -345,7 +343,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
                 continue;
             size_t nblk = ((size_t)ncell + BLK - 1) / BLK;
             if (grow((void **)&m->bb, &cap_b, nb + nblk, sizeof(float) * 2 * FQ_OBS)) {
-                rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+                rc = trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
                 break;
             }
             A->boff = nb;
@@ -370,7 +368,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
             /* boxes of SBLK blocks each, unions of theirs */
             size_t nsb = (nblk + SBLK - 1) / SBLK;
             if (grow((void **)&m->sbb, &cap_sb, m->n_sblocks + nsb, sizeof(float) * 2 * FQ_OBS)) {
-                rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
+                rc = trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory");
                 break;
             }
             A->sboff = m->n_sblocks;
@@ -388,7 +386,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
         m->n_blocks = nb;
     }
     if (rc == HRT_OK && m->n_blocks == 0)
-        rc = hrt_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: no pair of lattice tracks in the chosen ranges");
+        rc = trail_set_error(err, HRT_E_INVALID, "hrt_fit_model_new: no pair of lattice tracks in the chosen ranges");
     if (rc != HRT_OK) {
         hrt_fit_model_free(m);
         return rc;
@@ -397,7 +395,7 @@ int hrt_fit_model_new(const hrt_grid *g, const hrt_fit_model_options *opt, hrt_f
                m->n_nodes * (sizeof(double) + FQ * sizeof(float) + 1) + (m->n_blocks + m->n_sblocks) * 2 * FQ_OBS * sizeof(float);
     *model = m;
     if (err)
-        hrt_set_error(err, HRT_OK, NULL);
+        trail_set_error(err, HRT_OK, NULL);
     return HRT_OK;
 }
 
@@ -457,39 +455,39 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
     for (int i = 0; i < 8; i++) {
         double v = d[2 * i], s = d[2 * i + 1];
         if (bad_pair(v, s))
-            return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: %s given without its sigma, or sigma without the value",
+            return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: %s given without its sigma, or sigma without the value",
                                  names[i]);
         if (!isnan(v) && (!isfinite(v) || !isfinite(s)))
-            return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: %s or its sigma is infinite", names[i]);
+            return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: %s or its sigma is infinite", names[i]);
         if (!isnan(s) && !(s > 0))
-            return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: sigma of %s is %g; it must be > 0", names[i], s);
+            return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: sigma of %s is %g; it must be > 0", names[i], s);
     }
     if (isnan(o->teff_k))
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_star: no Teff given (teff_k is required)");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: no Teff given (teff_k is required)");
     if (!(o->teff_k > 0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: Teff %g K must be > 0", o->teff_k);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: Teff %g K must be > 0", o->teff_k);
     if (!isnan(o->flux_w_m2) && !(o->flux_w_m2 > 0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: flux %g W/m^2 must be > 0", o->flux_w_m2);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: flux %g W/m^2 must be > 0", o->flux_w_m2);
     if (!isnan(o->distance_pc) && !(o->distance_pc > 0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: distance %g pc must be > 0", o->distance_pc);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: distance %g pc must be > 0", o->distance_pc);
     if (!isnan(o->parallax_mas) && !(o->parallax_mas > 0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: parallax %g mas must be > 0", o->parallax_mas);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_fit_star: parallax %g mas must be > 0", o->parallax_mas);
     if (!isnan(o->flux_w_m2) && !isnan(o->mbol))
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_star: give a flux or an apparent bolometric magnitude, not both");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: give a flux or an apparent bolometric magnitude, not both");
     if (!isnan(o->distance_pc) && !isnan(o->parallax_mas))
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_star: give a distance or a parallax, not both");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: give a distance or a parallax, not both");
     if (!isnan(o->parallax_mas) && o->parallax_sigma_mas > 0.2 * o->parallax_mas)
-        return hrt_set_error(err, HRT_E_INVALID,
+        return trail_set_error(err, HRT_E_INVALID,
                              "hrt_fit_star: parallax %g +- %g mas is too uncertain to invert (sigma/parallax > 0.2)",
                              o->parallax_mas, o->parallax_sigma_mas);
     int have_flux = !isnan(o->flux_w_m2) || !isnan(o->mbol);
     int have_dist = !isnan(o->distance_pc) || !isnan(o->parallax_mas);
     if (have_dist && !have_flux)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_star: a distance or parallax needs a bolometric flux or magnitude");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: a distance or parallax needs a bolometric flux or magnitude");
     if (have_flux) {
         if (!isnan(o->flux_w_m2)) {
             F->log_flux = log10(o->flux_w_m2);
-            F->log_flux_sigma = o->flux_sigma_w_m2 / (o->flux_w_m2 * LN10);
+            F->log_flux_sigma = o->flux_sigma_w_m2 / (o->flux_w_m2 * TRAIL_LN10);
         } else {
             F->log_flux = log10(hrt_fit_flux_from_mbol(o->mbol));
             F->log_flux_sigma = 0.4 * o->mbol_sigma;
@@ -500,13 +498,13 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
     F->ll.s = o->log_l_sigma;
     if (have_dist) {
         if (F->ll.on)
-            return hrt_set_error(err, HRT_E_INVALID, "hrt_fit_star: luminosity given twice (log L and flux with distance)");
+            return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: luminosity given twice (log L and flux with distance)");
         double d_pc = !isnan(o->distance_pc) ? o->distance_pc : 1000.0 / o->parallax_mas;
         double sd = !isnan(o->distance_pc) ? o->distance_sigma_pc / o->distance_pc : o->parallax_sigma_mas / o->parallax_mas;
         double dm = d_pc * HRT_PC_M;
         F->ll.on = 1;
         F->ll.v = log10(4.0 * PI * dm * dm / HRT_LSUN_W) + F->log_flux;
-        F->ll.s = sqrt(F->log_flux_sigma * F->log_flux_sigma + 4.0 * sd * sd / (LN10 * LN10));
+        F->ll.s = sqrt(F->log_flux_sigma * F->log_flux_sigma + 4.0 * sd * sd / (TRAIL_LN10 * TRAIL_LN10));
     } else {
         F->have_flux = have_flux;
     }
@@ -525,10 +523,10 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
     double tl = o->teff_k - CUT_SIGMA * o->teff_sigma_k, th = o->teff_k + CUT_SIGMA * o->teff_sigma_k;
     F->lt_lo = tl > 1.0 ? log10(tl) : -INFINITY;
     F->lt_hi = log10(th);
-    F->inv_lt = o->teff_k * LN10 / o->teff_sigma_k;
+    F->inv_lt = o->teff_k * TRAIL_LN10 / o->teff_sigma_k;
     double ml = o->teff_k - MATCH_SIGMA * o->teff_sigma_k, mh = o->teff_k + MATCH_SIGMA * o->teff_sigma_k;
     if (log10(mh) < m->lt_range[0] || (ml > 0 && log10(ml) > m->lt_range[1]))
-        return hrt_set_error(err, HRT_E_NO_MATCH,
+        return trail_set_error(err, HRT_E_NO_MATCH,
                              "hrt_fit_star: Teff %g +- %g K is outside every track of the grid (the tracks span %.0f-%.0f K)",
                              o->teff_k, o->teff_sigma_k, pow(10.0, m->lt_range[0]), pow(10.0, m->lt_range[1]));
     F->ll_lo = F->ll.on ? F->ll.v - CUT_SIGMA * F->ll.s : -INFINITY;
@@ -586,7 +584,7 @@ static inline double box_chi2(const fobs *F, const float *lo, const float *hi)
         x *= F->inv_lt;
         c = x * x;
     } else if ((x = F->lt_log - (double)hi[FQ_LT]) > 0.0) {
-        x = x * F->inv_lt / (1.0 + LN10 * x);
+        x = x * F->inv_lt / (1.0 + TRAIL_LN10 * x);
         c = x * x;
     }
     if (F->ll.on) c += out_sq(F->ll.v, lo[FQ_LL], hi[FQ_LL], F->inv_ll);
@@ -700,7 +698,7 @@ static int visit_cell(const hrt_fit_model *m, const fobs *F, const ftrack *A, co
             double lt = e0[FQ_LT] + fb * dlt;
             if (dev > CUT_SIGMA || chi2 > cut || lt < F->lt_lo || lt > F->lt_hi)
                 continue;
-            double teff = exp(LN10 * lt);
+            double teff = exp(TRAIL_LN10 * lt);
             r = (teff - F->lt.v) / F->lt.s;
             chi2 += r * r;
             if (fabs(r) > dev) dev = fabs(r);
@@ -714,10 +712,10 @@ static int visit_cell(const hrt_fit_model *m, const fobs *F, const ftrack *A, co
                 return -1;
             if (pm < 0.0) {
                 pm = exp(A->log_prior + fa * (C->log_prior - A->log_prior)) * dlm / na * wz;
-                t_step = exp(LN10 * 2.0 * hb * dla);
+                t_step = exp(TRAIL_LN10 * 2.0 * hb * dla);
             }
             fpt *P = &S->p[S->n++];
-            P->t_lo = exp(LN10 * (A0 + (fb - hb) * dla));
+            P->t_lo = exp(TRAIL_LN10 * (A0 + (fb - hb) * dla));
             P->t_hi = P->t_lo * t_step;
             P->prior = pm * (P->t_hi - P->t_lo);
             P->chi2 = chi2;
@@ -732,10 +730,10 @@ static int visit_cell(const hrt_fit_model *m, const fobs *F, const ftrack *A, co
             P->v[V_LOGL] = (float)ll;
             P->h[V_LOGL] = hq[FQ_LL];
             P->v[V_TEFF] = (float)teff;
-            P->h[V_TEFF] = hq[FQ_LT] * (float)(teff * LN10);
+            P->h[V_TEFF] = hq[FQ_LT] * (float)(teff * TRAIL_LN10);
             P->v[V_LOGG] = (float)lg;
             P->h[V_LOGG] = hq[FQ_LG];
-            P->v[V_LOGR] = (float)(0.5 * ll - 2.0 * (lt - LOG_TEFF_SUN));
+            P->v[V_LOGR] = (float)trail_log_r_from(ll, lt);
             P->h[V_LOGR] = 0.5f * hq[FQ_LL] + 2.0f * hq[FQ_LT];
         }
     }
@@ -837,19 +835,13 @@ static hrt_fit_interval hist_interval(const fhist *H)
     return out;
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* Quantiles of n values (sorted in place), linear between order statistics. */
-hrt_fit_interval hrt_fit_sample_quantiles(double *v, size_t n)
+hrt_fit_interval trail_fit_sample_quantiles(double *v, size_t n)
 {
     hrt_fit_interval r = {NAN, NAN, NAN};
     if (n == 0)
         return r;
-    qsort(v, n, sizeof *v, cmp_double);
+    qsort(v, n, sizeof *v, trail_cmp_double);
     double p[3] = {0.5, P_LO, P_HI}, o[3];
     for (int k = 0; k < 3; k++) {
         double x = p[k] * (double)(n - 1);
@@ -924,7 +916,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
                  hrt_fit_sample *samples, hrt_fit_result *res, hrt_error *err)
 {
     if (!m || !obs || !res || (n_samples > 0 && !samples))
-        return hrt_set_error(err, HRT_E_NULL, "hrt_fit_star: %s is NULL",
+        return trail_set_error(err, HRT_E_NULL, "hrt_fit_star: %s is NULL",
                              !m ? "model" : !obs ? "obs" : !res ? "res" : "samples");
     memset(res, 0, sizeof *res);
     res->struct_size = sizeof *res;
@@ -966,14 +958,14 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
                 if (j1 > A->n_cell) j1 = A->n_cell;
                 for (int j = (int)(b * BLK); j < j1; j++)
                     if (visit_cell(m, &F, A, C, j, wz, m->feh[k], chi2_feh, &S)) {
-                        rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
+                        rc = trail_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
                         break;
                     }
             }
         }
     }
     if (rc == HRT_OK && (S.n == 0 || S.best_dev > MATCH_SIGMA))
-        rc = hrt_set_error(err, HRT_E_NO_MATCH,
+        rc = trail_set_error(err, HRT_E_NO_MATCH,
                            "hrt_fit_star: no model of the grid lies within %g sigma of every measured quantity "
                            "(closest: %.3g sigma; Teff %g K%s)",
                            MATCH_SIGMA, S.n ? S.best_dev : INFINITY, obs->teff_k,
@@ -1026,7 +1018,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         }
         S.n = kept;
         if (!(W > 0.0) || !isfinite(W))
-            rc = hrt_set_error(err, HRT_E_NO_MATCH,
+            rc = trail_set_error(err, HRT_E_NO_MATCH,
                                "hrt_fit_star: the models near the observation have no prior weight (ages beyond age_max_yr?)");
     }
     /* one block of scratch: histograms, cumulative weights, distance draws, random state */
@@ -1037,7 +1029,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         size_t rs = (gsl_rng_mt19937->size + sizeof(double) - 1) / sizeof(double);
         E = malloc((nd + rs) * sizeof *E);
         if (!E)
-            rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
+            rc = trail_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
         else {
             cum = E + 12 * (HIST_BINS + 4);
             dist = cum + S.n;
@@ -1139,13 +1131,13 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
                 double lf = F.log_flux + gsl_ran_gaussian(&R.r, F.log_flux_sigma);
                 dist[i] = hrt_fit_distance_m(HRT_LSUN_W * pow(10.0, ll), pow(10.0, lf)) / HRT_PC_M;
             }
-            res->distance_pc = hrt_fit_sample_quantiles(dist, N_DIST_DRAWS);
+            res->distance_pc = trail_fit_sample_quantiles(dist, N_DIST_DRAWS);
         }
     }
     free(E);
     free(S.p);
     res->status = rc;
     if (rc == HRT_OK && err)
-        hrt_set_error(err, HRT_OK, NULL);
+        trail_set_error(err, HRT_OK, NULL);
     return rc;
 }

@@ -3,7 +3,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 struct hrt_star {
     qctx q;
@@ -32,12 +32,12 @@ void hrt_star_free(hrt_star *s)
 int hrt_star_new(const hrt_grid *g, double mass_msun, double z, hrt_star **star, hrt_error *err)
 {
     if (!g || !star)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_star_new: %s is NULL", !g ? "grid" : "star");
+        return trail_set_error(err, HRT_E_NULL, "hrt_star_new: %s is NULL", !g ? "grid" : "star");
     *star = NULL;
     hrt_star *s = calloc(1, sizeof *s);
     if (!s)
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_star_new: out of memory");
-    int rc = hrt_qctx_init(g, mass_msun, z, &s->q, err);
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_star_new: out of memory");
+    int rc = trail_qctx_init(g, mass_msun, z, &s->q, err);
     if (rc != HRT_OK) {
         hrt_star_free(s);
         return rc;
@@ -51,22 +51,22 @@ int hrt_star_new(const hrt_grid *g, double mass_msun, double z, hrt_star **star,
     s->runs = malloc((size_t)n * 2 * sizeof(int32_t));
     if (!s->age || !s->age_yr || !s->val || !s->phase || !s->runs) {
         hrt_star_free(s);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_star_new: out of memory for %d EEPs", n);
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_star_new: out of memory for %d EEPs", n);
     }
     for (int j = 0; j < n; j++) {
-        s->age[j] = hrt_q_value(&s->q, Q_AGE, j);
-        s->age_yr[j] = hrt_exp10(s->age[j]);
-        hrt_q_values(&s->q, j, s->val + (size_t)j * NQS);
-        s->phase[j] = (int8_t)hrt_q_phase(&s->q, j);
+        s->age[j] = trail_q_value(&s->q, Q_AGE, j);
+        s->age_yr[j] = trail_exp10(s->age[j]);
+        trail_q_values(&s->q, j, s->val + (size_t)j * NQS);
+        s->phase[j] = (int8_t)trail_q_phase(&s->q, j);
         int js, je;
-        hrt_q_phase_run(&s->q, j, &js, &je);
+        trail_q_phase_run(&s->q, j, &js, &je);
         s->runs[2 * j] = js;
         s->runs[2 * j + 1] = je;
     }
-    hrt_q_remnant(&s->q, &s->remnant, &s->remnant_mass);
+    trail_q_remnant(&s->q, &s->remnant, &s->remnant_mass);
     *star = s;
     if (err)
-        hrt_set_error(err, HRT_OK, NULL);
+        trail_set_error(err, HRT_OK, NULL);
     return HRT_OK;
 }
 
@@ -74,8 +74,8 @@ int hrt_star_at(const hrt_star *s, double age_yr, hrt_state *out)
 {
     if (!s || !out)
         return HRT_E_NULL;
-    hrt_track_arrays S = {s->age, s->age_yr, s->val, s->phase, s->runs};
-    return hrt_state_at_generic(&s->q, &S, s->remnant, s->remnant_mass, age_yr, out);
+    trail_track_arrays S = {s->age, s->age_yr, s->val, s->phase, s->runs};
+    return trail_state_at_generic(&s->q, &S, s->remnant, s->remnant_mass, age_yr, out);
 }
 
 size_t hrt_star_n_eep(const hrt_star *s) { return s ? (size_t)s->n : 0; }
@@ -90,13 +90,13 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
         return HRT_E_NULL;
     if (j >= (size_t)s->n)
         return HRT_E_INVALID;
-    hrt_state_clear(out, s->q.mass, s->q.z, (s->age_yr[j]));
+    trail_state_clear(out, s->q.mass, s->q.z, (s->age_yr[j]));
     out->route = s->q.route;
     out->flags = s->q.flags;
     out->remnant = s->remnant;
     out->remnant_mass_msun = s->remnant_mass;
     const double *v = s->val + j * NQS;
-    hrt_state_from_values(out, v, v, 0.0);
+    trail_state_from_values(out, v, v, 0.0);
     out->eep = (double)j;
     out->phase = s->phase[j];
     out->phase_start_yr = (s->age_yr[s->runs[2 * j]]);

@@ -3,9 +3,9 @@
  * Every cubic GSL type (steffen, akima, cspline) is a piecewise cubic fixed
  * by the values and the slopes at the knots, so an interpolant is stored as
  * (value, slope) pairs and evaluated as a cubic Hermite.  Across initial
- * mass the slopes come from GSL itself at open time (hrt_slopes_gsl); across
+ * mass the slopes come from GSL itself at open time (trail_slopes_gsl); across
  * [Fe/H] they are needed at query time, where GSL would allocate, so
- * hrt_slopes_local() computes them with the same formulas as GSL 2.7
+ * trail_slopes_local() computes them with the same formulas as GSL 2.7
  * (tests/test_slopes.c compares both with GSL on random data). */
 #include <math.h>
 #include <string.h>
@@ -13,9 +13,9 @@
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_interp.h>
 
-#include "internal.h"
+#include "core/core.h"
 
-size_t hrt_interp_min_size(int interp)
+size_t trail_interp_min_size(int interp)
 {
     switch (interp) {
     case HRT_INTERP_LINEAR:
@@ -28,10 +28,10 @@ size_t hrt_interp_min_size(int interp)
 }
 
 /* Slopes at the knots of a GSL interpolant: `obj` is a gsl_interp allocated
- * for the type hrt_interp_effective(interp, n) and size n.  x strictly
+ * for the type trail_interp_effective(interp, n) and size n.  x strictly
  * increasing and y finite were validated by the caller, so no GSL_ERROR
  * path can be reached. */
-int hrt_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *obj)
+int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *obj)
 {
     gsl_interp *it = obj;
     if (gsl_interp_init(it, x, y, n) != GSL_SUCCESS)
@@ -66,7 +66,7 @@ static void slopes_steffen(size_t n, const double *x, const double *y, double *d
  * GSL's non-periodic gsl_interp_akima: m[-1] = 2 m0 - m1, m[-2] = 3 m0 - 2 m1. */
 static void slopes_akima(size_t n, const double *x, const double *y, double *d)
 {
-    double mm[HRT_MAX_Z + 8];
+    double mm[TRAIL_MAX_Z + 8];
     double *m = mm + 2;
     for (size_t i = 0; i + 1 < n; i++)
         m[i] = (y[i + 1] - y[i]) / (x[i + 1] - x[i]);
@@ -90,7 +90,7 @@ static void slopes_akima(size_t n, const double *x, const double *y, double *d)
  * gsl_interp_cspline: tridiagonal system for c = y''/2 at the knots. */
 static void slopes_cspline(size_t n, const double *x, const double *y, double *d)
 {
-    double c[HRT_MAX_Z], cp[HRT_MAX_Z], rp[HRT_MAX_Z];
+    double c[TRAIL_MAX_Z], cp[TRAIL_MAX_Z], rp[TRAIL_MAX_Z];
     size_t sys = n - 2; /* interior knots */
     for (size_t k = 0; k < sys; k++) {
         size_t i = k + 1;
@@ -122,24 +122,24 @@ static void slopes_cspline(size_t n, const double *x, const double *y, double *d
 /* The type actually used for a run of n knots: runs too short for the
  * chosen type fall back to the next simpler one (akima -> steffen -> linear);
  * a 2-knot run is exactly linear. */
-int hrt_interp_effective(int interp, size_t n)
+int trail_interp_effective(int interp, size_t n)
 {
     if (n <= 2 || interp == HRT_INTERP_LINEAR)
         return HRT_INTERP_LINEAR;
-    if (n < hrt_interp_min_size(interp))
+    if (n < trail_interp_min_size(interp))
         return HRT_INTERP_STEFFEN;
     return interp;
 }
 
-/* n <= HRT_MAX_Z + 4 (stack scratch). */
-void hrt_slopes_local(int interp, size_t n, const double *x, const double *y, double *d)
+/* n <= TRAIL_MAX_Z + 4 (stack scratch). */
+void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d)
 {
     if (n < 2) {
         if (n == 1)
             d[0] = 0.0;
         return;
     }
-    switch (hrt_interp_effective(interp, n)) {
+    switch (trail_interp_effective(interp, n)) {
     case HRT_INTERP_AKIMA:
         slopes_akima(n, x, y, d);
         break;
@@ -158,7 +158,7 @@ void hrt_slopes_local(int interp, size_t n, const double *x, const double *y, do
     }
 }
 
-void hrt_hermite_weights(int interp, double x0, double x1, double x, double w[4])
+void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4])
 {
     double h = x1 - x0, t = (x - x0) / h;
     if (interp == HRT_INTERP_LINEAR) {

@@ -4,13 +4,13 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 /* Log age at EEP j of the star of log mass x on route r, from a context
  * whose groups and route are fixed (only the mass weights change).  Inside
  * a root's bracket no knot of any group lies strictly between its ends, so
  * an interior interval stays the same and only its weights are recomputed
- * (as hrt_mass_ctx would). */
+ * (as trail_mass_ctx would). */
 static double age_at_mass(qctx *q, int r, double x, int j)
 {
     size_t gb = q->single ? q->g0 : q->g0 + 1;
@@ -20,21 +20,21 @@ static double age_at_mass(qctx *q, int r, double x, int j)
         const double *lm = gp->logm;
         size_t i = m->i;
         if (m->interior && x > lm[i] && x < lm[i + 1]) {
-            hrt_hermite_weights(q->g->interp, lm[i], lm[i + 1], x, m->w);
+            trail_hermite_weights(q->g->interp, lm[i], lm[i + 1], x, m->w);
             double lam = gp->age_lambda[i];
             if (lam < 1.0) {
                 double wl[4];
-                hrt_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
+                trail_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
                 for (int c = 0; c < 4; c++)
                     m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
             } else {
                 memcpy(m->wa, m->w, sizeof m->w);
             }
         } else {
-            hrt_mass_ctx(q->g, &q->g->grp[k], r, x, m);
+            trail_mass_ctx(q->g, &q->g->grp[k], r, x, m);
         }
     }
-    return hrt_q_value(q, Q_AGE, j);
+    return trail_q_value(q, Q_AGE, j);
 }
 
 /* Root of age_at_mass(x) = lt in [xa, xb] where fa, fb (shifted by lt)
@@ -69,25 +69,19 @@ static double find_root(qctx *q, int r, int j, double lt, double xa, double fa, 
     return fabs(fa) < fabs(fb) ? xa : xb;
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, size_t cap, size_t *n_out,
                   hrt_error *err)
 {
     if (!g || !n_out || (cap > 0 && !out))
-        return hrt_set_error(err, HRT_E_NULL, "hrt_isochrone: %s is NULL", !g ? "grid" : !n_out ? "n" : "out");
+        return trail_set_error(err, HRT_E_NULL, "hrt_isochrone: %s is NULL", !g ? "grid" : !n_out ? "n" : "out");
     *n_out = 0;
     if (!isfinite(age_yr) || age_yr <= 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_isochrone: age %g yr is not positive and finite", age_yr);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_isochrone: age %g yr is not positive and finite", age_yr);
     double mlo, mhi;
     int rc = hrt_grid_mass_range(g, z, &mlo, &mhi);
     if (rc != HRT_OK)
-        return hrt_set_error(err, rc, "hrt_isochrone: Z = %g: %s", z, hrt_strerror(rc));
-    double lt = hrt_log10(age_yr);
+        return trail_set_error(err, rc, "hrt_isochrone: Z = %g: %s", z, hrt_strerror(rc));
+    double lt = trail_log10(age_yr);
     size_t maxk = 4;
     for (size_t iz = 0; iz < g->n_z; iz++)
         maxk += 2 * g->grp[iz].n_mass;
@@ -100,14 +94,14 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
         free(ages);
         free(kne);
         free(q);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_isochrone: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_isochrone: out of memory");
     }
     size_t count = 0;
     rc = HRT_OK;
     for (size_t r = 0; r < g->n_routes && rc == HRT_OK; r++) {
         /* The route's mass zone at this Z, and the knots inside it. */
         qctx q0;
-        if (hrt_qctx_init(g, mlo, z, &q0, NULL) != HRT_OK && q0.route < 0)
+        if (trail_qctx_init(g, mlo, z, &q0, NULL) != HRT_OK && q0.route < 0)
             continue;
         double lo = mlo, hi = mhi;
         size_t gb = q0.single ? q0.g0 : q0.g0 + 1;
@@ -123,15 +117,15 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
         if (!(lo < hi))
             continue;
         size_t nk = 0;
-        knots[nk++] = hrt_log10(lo);
-        knots[nk++] = hrt_log10(hi);
+        knots[nk++] = trail_log10(lo);
+        knots[nk++] = trail_log10(hi);
         for (size_t k = q0.g0; k <= gb; k++) {
             const zgroup *gp = &g->grp[k];
             for (size_t i = gp->route_lo[r]; i < gp->route_hi[r]; i++)
                 if (gp->mass[i] > lo && gp->mass[i] < hi)
                     knots[nk++] = gp->logm[i];
         }
-        qsort(knots, nk, sizeof *knots, cmp_double);
+        qsort(knots, nk, sizeof *knots, trail_cmp_double);
         size_t u = 0;
         for (size_t k = 0; k < nk; k++)
             if (u == 0 || knots[k] > knots[u - 1])
@@ -142,11 +136,11 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
         int usable = 0;
         for (size_t k = 0; k < nk; k++) {
             kne[k] = 0;
-            if (hrt_qctx_init(g, hrt_exp10(knots[k]), z, q, NULL) != HRT_OK || q->route != (int)r)
+            if (trail_qctx_init(g, trail_exp10(knots[k]), z, q, NULL) != HRT_OK || q->route != (int)r)
                 continue;
             kne[k] = q->n_eep;
             for (int j = 0; j < q->n_eep; j++)
-                ages[k * J + (size_t)j] = hrt_q_value(q, Q_AGE, j);
+                ages[k * J + (size_t)j] = trail_q_value(q, Q_AGE, j);
             usable = 1;
         }
         if (!usable)
@@ -159,10 +153,10 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
                 double fa = ages[k * J + j] - lt, fb = ages[(k + 1) * J + j] - lt;
                 if (!((fa <= 0.0 && fb > 0.0) || (fa >= 0.0 && fb < 0.0)))
                     continue;
-                if (hrt_qctx_init(g, hrt_exp10(0.5 * (knots[k] + knots[k + 1])), z, q, NULL) != HRT_OK)
+                if (trail_qctx_init(g, trail_exp10(0.5 * (knots[k] + knots[k + 1])), z, q, NULL) != HRT_OK)
                     continue;
                 double x = find_root(q, (int)r, (int)j, lt, knots[k], fa, knots[k + 1], fb);
-                double m = hrt_exp10(x);
+                double m = trail_exp10(x);
                 hrt_state st;
                 hrt_eval(g, 1, &m, NULL, z, &age_yr, &st, NULL);
                 if (st.status != HRT_OK || st.route != (int)r || (st.flags & (HRT_FLAG_NOT_MODELLED | HRT_FLAG_REMNANT)))
@@ -179,6 +173,6 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
     free(q);
     *n_out = count;
     if (count > cap)
-        return hrt_set_error(err, HRT_E_BUFFER, "hrt_isochrone: %zu points, buffer holds %zu", count, cap);
+        return trail_set_error(err, HRT_E_BUFFER, "hrt_isochrone: %zu points, buffer holds %zu", count, cap);
     return HRT_OK;
 }

@@ -12,9 +12,8 @@
 #include <omp.h>
 #endif
 
-#include "internal.h"
+#include "util/util.h"
 
-#define LN10 2.302585092994045684
 #define SQRT_2PI 2.506628274631000502
 
 /* ------------------------------------------------------------------ IMFs */
@@ -114,15 +113,15 @@ static void add_segment(hrt_imf *f, int lognormal, double lo, double hi, double 
 int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, double alpha, hrt_error *err)
 {
     if (!imf)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_imf_init: imf is NULL");
+        return trail_set_error(err, HRT_E_NULL, "hrt_imf_init: imf is NULL");
     memset(imf, 0, sizeof *imf);
     if (kind < 0 || kind >= HRT_IMF_COUNT)
-        return hrt_set_error(err, HRT_E_INVALID, "unknown IMF kind %d", kind);
+        return trail_set_error(err, HRT_E_INVALID, "unknown IMF kind %d", kind);
     if (!isfinite(m_lo_msun) || !isfinite(m_hi_msun) || !(m_lo_msun > 0.0) || !(m_hi_msun > m_lo_msun))
-        return hrt_set_error(err, HRT_E_DOMAIN, "IMF mass limits %g .. %g Msun: need 0 < low < high, finite",
+        return trail_set_error(err, HRT_E_DOMAIN, "IMF mass limits %g .. %g Msun: need 0 < low < high, finite",
                              m_lo_msun, m_hi_msun);
     if (kind == HRT_IMF_POWER_LAW && !(isfinite(alpha) && fabs(alpha) <= 20.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "power-law IMF slope alpha = %g: need a finite |alpha| <= 20", alpha);
+        return trail_set_error(err, HRT_E_DOMAIN, "power-law IMF slope alpha = %g: need a finite |alpha| <= 20", alpha);
     imf->kind = kind;
     imf->m_lo_msun = m_lo_msun;
     imf->m_hi_msun = m_hi_msun;
@@ -148,7 +147,7 @@ int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, dou
         /* dN/dlog m = ah m^-x is dN/dm = (ah / ln 10) m^-(x + 1) */
         add_segment(imf, 1, 0.0, CHABRIER_MBREAK, mu, CHABRIER_SIGMA, CHABRIER_AMP);
         add_segment(imf, 0, CHABRIER_MBREAK, INFINITY, CHABRIER_X + 1.0, 0.0,
-                    ah * pow(CHABRIER_MBREAK, CHABRIER_X) / LN10);
+                    ah * pow(CHABRIER_MBREAK, CHABRIER_X) / TRAIL_LN10);
         break;
     }
     }
@@ -160,7 +159,7 @@ int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, dou
     if (imf->n_seg == 0 || !(tot > 0.0) || !isfinite(tot)) {
         int n = imf->n_seg;
         memset(imf, 0, sizeof *imf);
-        return hrt_set_error(err, HRT_E_DOMAIN, "IMF %s over %g .. %g Msun has no finite positive number of stars (%d segments)",
+        return trail_set_error(err, HRT_E_DOMAIN, "IMF %s over %g .. %g Msun has no finite positive number of stars (%d segments)",
                              hrt_imf_name(kind), m_lo_msun, m_hi_msun, n);
     }
     imf->norm = tot;
@@ -190,7 +189,7 @@ double hrt_imf_pdf(const hrt_imf *f, double m)
     double d;
     if (f->seg_lognormal[k]) {
         double x = (log10(m) - f->seg_a[k]) / f->seg_s[k];
-        d = f->seg_amp[k] * exp(-0.5 * x * x) / (m * LN10);
+        d = f->seg_amp[k] * exp(-0.5 * x * x) / (m * TRAIL_LN10);
     } else {
         d = f->seg_amp[k] * pow(m, -f->seg_a[k]);
     }
@@ -218,7 +217,7 @@ static inline double seg_quantile(const hrt_imf *f, int k, double v)
     double lo = f->seg_lo[k], m;
     if (f->seg_lognormal[k]) {
         double p = f->seg_c0[k] + v * (f->seg_c1[k] - f->seg_c0[k]);
-        m = hrt_exp10(f->seg_a[k] + f->seg_s[k] * gsl_cdf_ugaussian_Pinv(p));
+        m = trail_exp10(f->seg_a[k] + f->seg_s[k] * gsl_cdf_ugaussian_Pinv(p));
     } else if (f->seg_c0[k] == 0.0) {
         m = lo * exp(v * f->seg_c1[k]);
     } else {
@@ -248,9 +247,9 @@ double hrt_imf_mean_mass(const hrt_imf *f)
         double a = f->seg_lo[k], b = f->seg_hi[k];
         if (f->seg_lognormal[k]) {
             /* integral of m dN/dm = amp * int 10^x exp(-(x-mu)^2/2s^2) dx */
-            double mu = f->seg_a[k], sg = f->seg_s[k], sh = sg * LN10;
+            double mu = f->seg_a[k], sg = f->seg_s[k], sh = sg * TRAIL_LN10;
             double za = (log10(a) - mu) / sg - sh, zb = (log10(b) - mu) / sg - sh;
-            s += f->seg_amp[k] * sg * SQRT_2PI * exp(mu * LN10 + 0.5 * sh * sh) *
+            s += f->seg_amp[k] * sg * SQRT_2PI * exp(mu * TRAIL_LN10 + 0.5 * sh * sh) *
                  (gsl_cdf_ugaussian_P(zb) - gsl_cdf_ugaussian_P(za));
         } else {
             s += pl_integral(f->seg_amp[k], f->seg_a[k] - 1.0, a, b);
@@ -299,41 +298,41 @@ void hrt_pop_spec_default(hrt_pop_spec *spec)
 static int check_sfh(const hrt_sfh *h, hrt_error *err)
 {
     if (!isfinite(h->t_start_yr) || h->t_start_yr < 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "SFH start time %g yr: need a finite time >= 0", h->t_start_yr);
+        return trail_set_error(err, HRT_E_DOMAIN, "SFH start time %g yr: need a finite time >= 0", h->t_start_yr);
     switch (h->kind) {
     case HRT_SFH_BURST:
         return HRT_OK;
     case HRT_SFH_CONSTANT:
     case HRT_SFH_EXPONENTIAL:
         if (!isfinite(h->t_end_yr) || !(h->t_end_yr > h->t_start_yr))
-            return hrt_set_error(err, HRT_E_DOMAIN, "SFH %s: end time %g yr must be finite and after the start %g yr",
+            return trail_set_error(err, HRT_E_DOMAIN, "SFH %s: end time %g yr must be finite and after the start %g yr",
                                  hrt_sfh_name(h->kind), h->t_end_yr, h->t_start_yr);
         if (h->kind == HRT_SFH_EXPONENTIAL && !(isfinite(h->tau_yr) && h->tau_yr > 0.0))
-            return hrt_set_error(err, HRT_E_DOMAIN, "exponential SFH: e-folding time %g yr must be finite and > 0",
+            return trail_set_error(err, HRT_E_DOMAIN, "exponential SFH: e-folding time %g yr must be finite and > 0",
                                  h->tau_yr);
         return HRT_OK;
     case HRT_SFH_TABLE: {
         if (!h->table_t_yr || !h->table_rate)
-            return hrt_set_error(err, HRT_E_NULL, "SFH table: %s is NULL", !h->table_t_yr ? "table_t_yr" : "table_rate");
+            return trail_set_error(err, HRT_E_NULL, "SFH table: %s is NULL", !h->table_t_yr ? "table_t_yr" : "table_rate");
         if (h->n_table < 2)
-            return hrt_set_error(err, HRT_E_INVALID, "SFH table: %zu points, need at least 2", h->n_table);
+            return trail_set_error(err, HRT_E_INVALID, "SFH table: %zu points, need at least 2", h->n_table);
         double area = 0.0;
         for (size_t i = 0; i < h->n_table; i++) {
             double t = h->table_t_yr[i], r = h->table_rate[i];
             if (!isfinite(t) || t < 0.0 || (i > 0 && !(t > h->table_t_yr[i - 1])))
-                return hrt_set_error(err, HRT_E_DOMAIN, "SFH table: time %g yr at point %zu is not finite, >= 0 and "
+                return trail_set_error(err, HRT_E_DOMAIN, "SFH table: time %g yr at point %zu is not finite, >= 0 and "
                                                         "strictly increasing", t, i);
             if (!isfinite(r) || r < 0.0)
-                return hrt_set_error(err, HRT_E_DOMAIN, "SFH table: rate %g at point %zu is not finite and >= 0", r, i);
+                return trail_set_error(err, HRT_E_DOMAIN, "SFH table: rate %g at point %zu is not finite and >= 0", r, i);
             if (i > 0)
                 area += 0.5 * (r + h->table_rate[i - 1]) * (t - h->table_t_yr[i - 1]);
         }
         if (!(area > 0.0) || !isfinite(area))
-            return hrt_set_error(err, HRT_E_DOMAIN, "SFH table: no star formation (the rates integrate to %g)", area);
+            return trail_set_error(err, HRT_E_DOMAIN, "SFH table: no star formation (the rates integrate to %g)", area);
         return HRT_OK;
     }
     default:
-        return hrt_set_error(err, HRT_E_INVALID, "unknown SFH kind %d", (int)h->kind);
+        return trail_set_error(err, HRT_E_INVALID, "unknown SFH kind %d", (int)h->kind);
     }
 }
 
@@ -342,37 +341,37 @@ static int check_zdist(const hrt_zdist *d, hrt_error *err)
     switch (d->kind) {
     case HRT_ZDIST_FIXED:
         if (!isfinite(d->z) || !(d->z > 0.0))
-            return hrt_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", d->z);
+            return trail_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", d->z);
         return HRT_OK;
     case HRT_ZDIST_LOG_UNIFORM:
     case HRT_ZDIST_LOG_NORMAL:
         if (!isfinite(d->z_lo) || !isfinite(d->z_hi) || !(d->z_lo > 0.0) || !(d->z_hi > d->z_lo))
-            return hrt_set_error(err, HRT_E_DOMAIN, "metallicity limits %g .. %g: need 0 < low < high, finite", d->z_lo,
+            return trail_set_error(err, HRT_E_DOMAIN, "metallicity limits %g .. %g: need 0 < low < high, finite", d->z_lo,
                                  d->z_hi);
         if (d->kind == HRT_ZDIST_LOG_NORMAL) {
             if (!isfinite(d->z) || !(d->z > 0.0) || !isfinite(d->sigma_dex) || !(d->sigma_dex > 0.0))
-                return hrt_set_error(err, HRT_E_DOMAIN, "log-normal metallicity: median Z = %g and spread %g dex must be "
+                return trail_set_error(err, HRT_E_DOMAIN, "log-normal metallicity: median Z = %g and spread %g dex must be "
                                                         "positive and finite", d->z, d->sigma_dex);
             double a = (log10(d->z_lo) - log10(d->z)) / d->sigma_dex, b = (log10(d->z_hi) - log10(d->z)) / d->sigma_dex;
             if (!(gsl_cdf_ugaussian_P(b) - gsl_cdf_ugaussian_P(a) > 1e-9))
-                return hrt_set_error(err, HRT_E_DOMAIN, "log-normal metallicity: almost no probability (< 1e-9) inside "
+                return trail_set_error(err, HRT_E_DOMAIN, "log-normal metallicity: almost no probability (< 1e-9) inside "
                                                         "%g .. %g", d->z_lo, d->z_hi);
         }
         return HRT_OK;
     default:
-        return hrt_set_error(err, HRT_E_INVALID, "unknown metallicity distribution kind %d", (int)d->kind);
+        return trail_set_error(err, HRT_E_INVALID, "unknown metallicity distribution kind %d", (int)d->kind);
     }
 }
 
 int hrt_pop_spec_check(const hrt_pop_spec *spec, hrt_error *err)
 {
     if (!spec)
-        return hrt_set_error(err, HRT_E_NULL, "population specification is NULL");
+        return trail_set_error(err, HRT_E_NULL, "population specification is NULL");
     const hrt_imf *f = &spec->imf;
     if (!imf_ok(f) || f->kind < 0 || f->kind >= HRT_IMF_COUNT)
-        return hrt_set_error(err, HRT_E_INVALID, "the IMF is not set up (use hrt_imf_init)");
+        return trail_set_error(err, HRT_E_INVALID, "the IMF is not set up (use hrt_imf_init)");
     if (spec->chunk_size == 0 || spec->chunk_size > ((uint64_t)1 << 40))
-        return hrt_set_error(err, HRT_E_INVALID, "chunk size %llu: need 1 .. 2^40", (unsigned long long)spec->chunk_size);
+        return trail_set_error(err, HRT_E_INVALID, "chunk size %llu: need 1 .. 2^40", (unsigned long long)spec->chunk_size);
     int rc = check_sfh(&spec->sfh, err);
     return rc != HRT_OK ? rc : check_zdist(&spec->zdist, err);
 }
@@ -463,7 +462,7 @@ static int prep_init(prep *P, const hrt_pop_spec *spec, hrt_error *err)
     if (h->kind == HRT_SFH_TABLE) {
         P->cum = malloc(h->n_table * sizeof *P->cum);
         if (!P->cum)
-            return hrt_set_error(err, HRT_E_NOMEM, "SFH table of %zu points: out of memory", h->n_table);
+            return trail_set_error(err, HRT_E_NOMEM, "SFH table of %zu points: out of memory", h->n_table);
         double c = 0.0;
         P->cum[0] = 0.0;
         for (size_t i = 1; i < h->n_table; i++) {
@@ -529,12 +528,12 @@ static double draw_z(const prep *P, stream *s)
     case HRT_ZDIST_FIXED:
         return d->z;
     case HRT_ZDIST_LOG_UNIFORM: {
-        double z = hrt_exp10(P->z_la + stream_uniform(s) * (P->z_lb - P->z_la));
+        double z = trail_exp10(P->z_la + stream_uniform(s) * (P->z_lb - P->z_la));
         return z < d->z_lo ? d->z_lo : z > d->z_hi ? d->z_hi : z;
     }
     default: {
         double p = P->z_la + stream_uniform(s) * (P->z_lb - P->z_la);
-        double z = hrt_exp10(P->z_mu + d->sigma_dex * gsl_cdf_ugaussian_Pinv(p));
+        double z = trail_exp10(P->z_mu + d->sigma_dex * gsl_cdf_ugaussian_Pinv(p));
         return z < d->z_lo ? d->z_lo : z > d->z_hi ? d->z_hi : z;
     }
     }
@@ -562,7 +561,7 @@ int hrt_pop_draw(const hrt_pop_spec *spec, uint64_t chunk, double *mass_msun, do
                  size_t cap, size_t *n, hrt_error *err)
 {
     if (!spec || !n)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_pop_draw: %s is NULL", !spec ? "spec" : "n");
+        return trail_set_error(err, HRT_E_NULL, "hrt_pop_draw: %s is NULL", !spec ? "spec" : "n");
     prep P;
     int rc = prep_init(&P, spec, err);
     if (rc != HRT_OK)
@@ -570,20 +569,20 @@ int hrt_pop_draw(const hrt_pop_spec *spec, uint64_t chunk, double *mass_msun, do
     uint64_t nc = hrt_pop_n_chunks(spec);
     if (chunk >= nc) {
         prep_free(&P);
-        return hrt_set_error(err, HRT_E_INVALID, "chunk %llu: the population has %llu chunks",
+        return trail_set_error(err, HRT_E_INVALID, "chunk %llu: the population has %llu chunks",
                              (unsigned long long)chunk, (unsigned long long)nc);
     }
     uint64_t len = chunk_len(spec, chunk);
     *n = (size_t)len;
     if (len > cap) {
         prep_free(&P);
-        return hrt_set_error(err, HRT_E_BUFFER, "chunk %llu has %llu stars, the arrays hold %zu",
+        return trail_set_error(err, HRT_E_BUFFER, "chunk %llu has %llu stars, the arrays hold %zu",
                              (unsigned long long)chunk, (unsigned long long)len, cap);
     }
     stream s;
     if (stream_alloc(&s) != HRT_OK) {
         prep_free(&P);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_pop_draw: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_pop_draw: out of memory");
     }
     stream_seed(&s, spec->seed, chunk);
     double bm[256], bz[256], bt[256];
@@ -637,17 +636,17 @@ double hrt_pop_sum_value(const hrt_pop_sum *s)
 int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_pop_hr *hr, hrt_error *err)
 {
     if (!s)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_pop_summary_init: summary is NULL");
+        return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_init: summary is NULL");
     if (!isfinite(age_yr) || age_yr < 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "epoch %g yr: need a finite age >= 0", age_yr);
+        return trail_set_error(err, HRT_E_DOMAIN, "epoch %g yr: need a finite age >= 0", age_yr);
     if (hr && (hr->nx || hr->ny)) {
         if (hr->nx == 0 || hr->ny == 0 || hr->nx > HRT_POP_HR_MAX_BINS || hr->ny > HRT_POP_HR_MAX_BINS ||
             hr->nx * hr->ny > HRT_POP_HR_MAX_BINS)
-            return hrt_set_error(err, HRT_E_INVALID, "HR histogram of %llu x %llu bins: need nx, ny >= 1 and nx * ny <= %d",
+            return trail_set_error(err, HRT_E_INVALID, "HR histogram of %llu x %llu bins: need nx, ny >= 1 and nx * ny <= %d",
                                  (unsigned long long)hr->nx, (unsigned long long)hr->ny, HRT_POP_HR_MAX_BINS);
         if (!isfinite(hr->log_teff_lo) || !isfinite(hr->log_teff_hi) || !(hr->log_teff_hi > hr->log_teff_lo) ||
             !isfinite(hr->log_l_lo) || !isfinite(hr->log_l_hi) || !(hr->log_l_hi > hr->log_l_lo))
-            return hrt_set_error(err, HRT_E_DOMAIN, "HR histogram ranges log Teff %g .. %g, log L %g .. %g: need finite "
+            return trail_set_error(err, HRT_E_DOMAIN, "HR histogram ranges log Teff %g .. %g, log L %g .. %g: need finite "
                                                     "low < high", hr->log_teff_lo, hr->log_teff_hi, hr->log_l_lo, hr->log_l_hi);
     }
     memset(s, 0, sizeof *s);
@@ -673,7 +672,7 @@ static void summary_add_one(hrt_pop_summary *s, const hrt_state *st, double bx, 
     }
     s->n_evaluated++;
     int p = st->phase >= 0 && st->phase < HRT_POP_MAX_PHASES ? st->phase : HRT_PHASE_UNKNOWN;
-    double l = isfinite(st->log_l) ? hrt_exp10(st->log_l) : 0.0;
+    double l = isfinite(st->log_l) ? trail_exp10(st->log_l) : 0.0;
     s->n_phase[p]++;
     fix_add(&s->phase_initial_mass_msun[p], m0);
     fix_add(&s->phase_mass_msun[p], st->mass_msun);
@@ -700,7 +699,7 @@ static void summary_add_one(hrt_pop_summary *s, const hrt_state *st, double bx, 
 int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, hrt_error *err)
 {
     if (!s || (!states && n))
-        return hrt_set_error(err, HRT_E_NULL, "hrt_pop_summary_add: %s is NULL", !s ? "summary" : "states");
+        return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_add: %s is NULL", !s ? "summary" : "states");
     double bx = 0.0, by = 0.0;
     if (s->hr.nx) {
         bx = (double)s->hr.nx / (s->hr.log_teff_hi - s->hr.log_teff_lo);
@@ -722,15 +721,15 @@ void hrt_pop_summary_add_unborn(hrt_pop_summary *s, uint64_t n)
 int hrt_pop_summary_merge(hrt_pop_summary *d, const hrt_pop_summary *s, hrt_error *err)
 {
     if (!d || !s)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_pop_summary_merge: %s is NULL", !d ? "dst" : "src");
+        return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_merge: %s is NULL", !d ? "dst" : "src");
     if (d->struct_size != sizeof *d || s->struct_size != sizeof *s)
-        return hrt_set_error(err, HRT_E_INVALID, "summary not initialised (struct_size %llu, %llu; expected %zu)",
+        return trail_set_error(err, HRT_E_INVALID, "summary not initialised (struct_size %llu, %llu; expected %zu)",
                              (unsigned long long)d->struct_size, (unsigned long long)s->struct_size, sizeof *d);
     if (memcmp(&d->age_yr, &s->age_yr, sizeof d->age_yr) != 0)
-        return hrt_set_error(err, HRT_E_INVALID, "summaries of different epochs (%.17g and %.17g yr) do not merge",
+        return trail_set_error(err, HRT_E_INVALID, "summaries of different epochs (%.17g and %.17g yr) do not merge",
                              d->age_yr, s->age_yr);
     if (memcmp(&d->hr, &s->hr, sizeof d->hr) != 0)
-        return hrt_set_error(err, HRT_E_INVALID, "summaries with different HR-histogram binning do not merge");
+        return trail_set_error(err, HRT_E_INVALID, "summaries with different HR-histogram binning do not merge");
     d->n_drawn += s->n_drawn;
     d->n_unborn += s->n_unborn;
     d->n_evaluated += s->n_evaluated;
@@ -822,14 +821,14 @@ int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_msun, cons
     while (i < n && out[i].status == HRT_OK)
         i++;
     if (i >= n)
-        return hrt_set_error(err, HRT_E_INTERNAL, "hrt_eval_parallel: a block failed but no star has a failing status");
+        return trail_set_error(err, HRT_E_INTERNAL, "hrt_eval_parallel: a block failed but no star has a failing status");
     hrt_state tmp;
     hrt_error e1;
     int rc = hrt_eval(g, 1, mass_msun + i, z ? z + i : NULL, z_all, age_yr + i, &tmp, &e1);
     const char *msg = e1.message, *pfx = "star 0: ";
     if (strncmp(msg, pfx, strlen(pfx)) == 0)
         msg += strlen(pfx);
-    return hrt_set_error(err, rc, "star %zu: %s", i, msg);
+    return trail_set_error(err, rc, "star %zu: %s", i, msg);
 }
 
 /* ------------------------------------------------------------- the run */
@@ -907,12 +906,12 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
                 size_t n_ages, hrt_pop_summary *sums, hrt_error *err)
 {
     if (!g || !spec || !sums)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_pop_run: %s is NULL", !g ? "grid" : !spec ? "spec" : "sums");
+        return trail_set_error(err, HRT_E_NULL, "hrt_pop_run: %s is NULL", !g ? "grid" : !spec ? "spec" : "sums");
     if (n_ages == 0)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_pop_run: no epochs");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_pop_run: no epochs");
     for (size_t e = 0; e < n_ages; e++)
         if (sums[e].struct_size != sizeof sums[e] || !isfinite(sums[e].age_yr) || sums[e].age_yr < 0.0)
-            return hrt_set_error(err, HRT_E_INVALID, "hrt_pop_run: summary %zu is not initialised (hrt_pop_summary_init)", e);
+            return trail_set_error(err, HRT_E_INVALID, "hrt_pop_run: summary %zu is not initialised (hrt_pop_summary_init)", e);
     prep P;
     int rc = prep_init(&P, spec, err);
     if (rc != HRT_OK)
@@ -927,7 +926,7 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
     hrt_pop_summary *stage = malloc(n_ages * sizeof *stage);
     if (!stage) {
         prep_free(&P);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_pop_run: out of memory for %zu summaries", n_ages);
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_pop_run: out of memory for %zu summaries", n_ages);
     }
     for (size_t e = 0; e < n_ages; e++)
         hrt_pop_summary_init(&stage[e], sums[e].age_yr, &sums[e].hr, NULL);
@@ -965,7 +964,7 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
     prep_free(&P);
     if (failed) {
         free(stage);
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_pop_run: out of memory for a thread's scratch");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_pop_run: out of memory for a thread's scratch");
     }
     for (size_t e = 0; e < n_ages; e++)
         hrt_pop_summary_merge(&sums[e], &stage[e], NULL);

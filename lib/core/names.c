@@ -1,9 +1,9 @@
-/* Status codes, names of enumerations, versions. */
+/* Texts of status codes, names and keys of enumerations, versions. */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 const char *hrt_strerror(int code)
 {
@@ -16,31 +16,6 @@ const char *hrt_strerror(int code)
     default:
         return "unknown status code";
     }
-}
-
-int hrt_set_error(hrt_error *err, int code, const char *fmt, ...)
-{
-    if (err) {
-        err->code = code;
-        if (fmt) {
-            va_list ap;
-            va_start(ap, fmt);
-            vsnprintf(err->message, sizeof err->message, fmt, ap);
-            va_end(ap);
-        } else {
-            snprintf(err->message, sizeof err->message, "%s", hrt_strerror(code));
-        }
-    }
-    return code;
-}
-
-char *hrt_strdup(const char *s)
-{
-    size_t n = strlen(s) + 1;
-    char *d = malloc(n);
-    if (d)
-        memcpy(d, s, n);
-    return d;
 }
 
 const char *hrt_version(void) { return HRT_VERSION_STRING; }

@@ -4,8 +4,8 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "internal.h"
-#include "fit_internal.h"
+#include "util/util.h"
+#include "fit/lattice.h"
 
 #define MAX_SPANS 64
 
@@ -22,7 +22,7 @@ static hrt_fit_interval interval_of(double *v, size_t n)
     for (size_t i = 0; i < n; i++)
         if (!isnan(v[i]))
             v[k++] = v[i];
-    return k ? hrt_fit_sample_quantiles(v, k) : nan_interval();
+    return k ? trail_fit_sample_quantiles(v, k) : nan_interval();
 }
 
 static int argmax(const double *p, int n)
@@ -38,19 +38,19 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
                  hrt_forecast_state *states, hrt_forecast_result *res, hrt_error *err)
 {
     if (!g || !smp || !res || (n_times > 0 && (!dt_yr || !states)))
-        return hrt_set_error(err, HRT_E_NULL, "hrt_forecast: %s is NULL",
+        return trail_set_error(err, HRT_E_NULL, "hrt_forecast: %s is NULL",
                              !g ? "grid" : !smp ? "samples" : !res ? "res" : !dt_yr ? "dt_yr" : "states");
     memset(res, 0, sizeof *res);
     res->struct_size = sizeof *res;
     if (n == 0)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_forecast: no samples (n = 0)");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_forecast: no samples (n = 0)");
     for (size_t t = 0; t < n_times; t++)
         if (!isfinite(dt_yr[t]) || dt_yr[t] < 0)
-            return hrt_set_error(err, HRT_E_DOMAIN, "hrt_forecast: future time %zu is %g yr; it must be finite and >= 0", t,
+            return trail_set_error(err, HRT_E_DOMAIN, "hrt_forecast: future time %zu is %g yr; it must be finite and >= 0", t,
                                  dt_yr[t]);
     for (size_t i = 0; i < n; i++)
         if (!isfinite(smp[i].age_yr) || smp[i].age_yr < 0)
-            return hrt_set_error(err, HRT_E_DOMAIN, "hrt_forecast: sample %zu has age %g yr; it must be finite and >= 0", i,
+            return trail_set_error(err, HRT_E_DOMAIN, "hrt_forecast: sample %zu has age %g yr; it must be finite and >= 0", i,
                                  smp[i].age_yr);
     size_t nt = n_times;
     /* per-sample values: [nt][n] for each state quantity; per event and phase [n] */
@@ -61,7 +61,7 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
     hrt_phase_span *spans = malloc(MAX_SPANS * sizeof *spans);
     int rc = HRT_OK;
     if (!st || !ev || !fs || !phs || !spans)
-        rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_forecast: out of memory for %zu samples", n);
+        rc = trail_set_error(err, HRT_E_NOMEM, "hrt_forecast: out of memory for %zu samples", n);
     double *ms_left = NULL, *end_in = NULL, *rem_mass = NULL;
     if (rc == HRT_OK) {
         ms_left = st + nt * 4 * n;
@@ -81,14 +81,14 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
         hrt_error e1;
         rc = hrt_star_new(g, S->initial_mass_msun, S->z, &s, &e1);
         if (rc != HRT_OK) {
-            hrt_set_error(err, rc, "hrt_forecast: sample %zu (%g Msun, Z %g): %s", i, S->initial_mass_msun, S->z,
+            trail_set_error(err, rc, "hrt_forecast: sample %zu (%g Msun, Z %g): %s", i, S->initial_mass_msun, S->z,
                           e1.message);
             break;
         }
         hrt_state now;
         rc = hrt_star_at(s, S->age_yr, &now);
         if (rc != HRT_OK) {
-            hrt_set_error(err, rc, "hrt_forecast: sample %zu (%g Msun, Z %g, age %g yr): %s", i, S->initial_mass_msun, S->z,
+            trail_set_error(err, rc, "hrt_forecast: sample %zu (%g Msun, Z %g, age %g yr): %s", i, S->initial_mass_msun, S->z,
                           S->age_yr, hrt_strerror(rc));
             hrt_star_free(s);
             break;
@@ -140,7 +140,7 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
             hrt_state f;
             int r2 = hrt_star_at(s, S->age_yr + dt_yr[t], &f);
             if (r2 != HRT_OK) {
-                rc = hrt_set_error(err, r2, "hrt_forecast: sample %zu (%g Msun, Z %g) at %g yr from now: %s", i,
+                rc = trail_set_error(err, r2, "hrt_forecast: sample %zu (%g Msun, Z %g) at %g yr from now: %s", i,
                                    S->initial_mass_msun, S->z, dt_yr[t], hrt_strerror(r2));
                 break;
             }
@@ -213,6 +213,6 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
     free(spans);
     res->status = rc;
     if (rc == HRT_OK && err)
-        hrt_set_error(err, HRT_OK, NULL);
+        trail_set_error(err, HRT_OK, NULL);
     return rc;
 }

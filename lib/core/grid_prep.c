@@ -6,7 +6,7 @@
 
 #include <gsl/gsl_interp.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 static const gsl_interp_type *gsl_type(int interp)
 {
@@ -43,9 +43,9 @@ static void cache_free(interp_cache *c)
 /* Slopes of one run of knots with the grid's type, through GSL. */
 static int run_slopes(int interp, interp_cache *c, size_t n, const double *x, const double *y, double *d)
 {
-    int eff = hrt_interp_effective(interp, n);
+    int eff = trail_interp_effective(interp, n);
     if (eff == HRT_INTERP_LINEAR || n > c->cap) {
-        hrt_slopes_local(HRT_INTERP_LINEAR, n, x, y, d);
+        trail_slopes_local(HRT_INTERP_LINEAR, n, x, y, d);
         return n > c->cap ? HRT_E_INTERNAL : HRT_OK;
     }
     if (!c->obj[eff]) {
@@ -58,7 +58,7 @@ static int run_slopes(int interp, interp_cache *c, size_t n, const double *x, co
         if (!c->obj[eff][n])
             return HRT_E_NOMEM;
     }
-    return hrt_slopes_gsl(n, x, y, d, c->obj[eff][n]);
+    return trail_slopes_gsl(n, x, y, d, c->obj[eff][n]);
 }
 
 /* Is the cubic Hermite p(t) with end values p0, p1 > 0 and end slopes
@@ -127,13 +127,13 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
                     size_t n = i - a;
                     for (size_t k = 0; k < n; k++) {
                         x[k] = gp->logm[a + k];
-                        y[k] = hrt_hv(gp, j, a + k, q)[0];
+                        y[k] = trail_hv(gp, j, a + k, q)[0];
                     }
                     int rc = run_slopes(g->interp, cache, n, x, y, d);
                     if (rc != HRT_OK)
                         return rc;
                     for (size_t k = 0; k < n; k++)
-                        hrt_hv(gp, j, a + k, q)[1] = d[k];
+                        trail_hv(gp, j, a + k, q)[1] = d[k];
                 }
             }
         }
@@ -144,7 +144,7 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
         size_t i = gp->route_lo[r];
         while (i < gp->route_hi[r]) {
             size_t a = i;
-            while (i < gp->route_hi[r] && hrt_remnant_family(gp->remnant[i]) == hrt_remnant_family(gp->remnant[a]))
+            while (i < gp->route_hi[r] && trail_remnant_family(gp->remnant[i]) == trail_remnant_family(gp->remnant[a]))
                 i++;
             if (gp->remnant[a] == HRT_REMNANT_NONE)
                 continue;
@@ -163,7 +163,7 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
     /* Age search data by interval (after the slopes). */
     for (size_t i = 0; i < nm; i++) {
         for (size_t j = 0; j < J; j++) {
-            const double *p = hrt_hv(gp, j, i, Q_AGE);
+            const double *p = trail_hv(gp, j, i, Q_AGE);
             double *a = gp->age_iv + (i * J + j) * 4;
             a[0] = p[0];
             a[1] = p[1];
@@ -189,15 +189,15 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
         ru[2 * (ne - 1)] = ru[2 * (ne - 1) + 1] = ne - 1;
         /* Log age -> EEP table: a starting point for the EEP search. */
         const double *at = gp->age_iv + i * J * 4; /* track i's log age: at[4 * j] */
-        double a0 = at[0], per_dex = HRT_AGE_TAB / (at[4 * (ne - 1)] - at[0]);
+        double a0 = at[0], per_dex = TRAIL_AGE_TAB / (at[4 * (ne - 1)] - at[0]);
         gp->age_tab_x[2 * i] = a0;
         gp->age_tab_x[2 * i + 1] = per_dex;
         int e = 0;
-        for (int k = 0; k < HRT_AGE_TAB; k++) {
+        for (int k = 0; k < TRAIL_AGE_TAB; k++) {
             double lt = a0 + k / per_dex;
             while (e + 1 < ne - 1 && at[4 * (e + 1)] <= lt)
                 e++;
-            gp->age_tab[i * HRT_AGE_TAB + (size_t)k] = (uint16_t)e;
+            gp->age_tab[i * TRAIL_AGE_TAB + (size_t)k] = (uint16_t)e;
         }
     }
     /* Log age across an interval must increase with EEP for every mass
@@ -213,7 +213,7 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
         double h = gp->logm[i + 1] - gp->logm[i];
         int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
         for (int j = 0; j + 1 < ne; j++) {
-            const double *a0 = hrt_hv(gp, (size_t)j, i, Q_AGE), *a1 = hrt_hv(gp, (size_t)j + 1, i, Q_AGE);
+            const double *a0 = trail_hv(gp, (size_t)j, i, Q_AGE), *a1 = trail_hv(gp, (size_t)j + 1, i, Q_AGE);
             const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
             double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
             double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]), sec = p1 - p0;
@@ -236,7 +236,7 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
     for (size_t i = 0; i < nm; i++) {
         double up = INFINITY, dn = INFINITY;
         for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
-            const double *a0 = hrt_hv(gp, (size_t)j, i, Q_AGE), *a1 = hrt_hv(gp, (size_t)j + 1, i, Q_AGE);
+            const double *a0 = trail_hv(gp, (size_t)j, i, Q_AGE), *a1 = trail_hv(gp, (size_t)j + 1, i, Q_AGE);
             double dy = a1[0] - a0[0], dd = a1[1] - a0[1];
             if (dd < 0.0 && dy / -dd < up)
                 up = dy / -dd;
@@ -249,7 +249,7 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
     return HRT_OK;
 }
 
-int hrt_grid_prepare(hrt_grid *g, hrt_error *err)
+int trail_grid_prepare(hrt_grid *g, hrt_error *err)
 {
     size_t maxn = 0;
     for (size_t iz = 0; iz < g->n_z; iz++)
@@ -257,7 +257,7 @@ int hrt_grid_prepare(hrt_grid *g, hrt_error *err)
             maxn = g->grp[iz].n_mass;
     double *x = malloc(3 * (maxn + 1) * sizeof(double));
     if (!x)
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory preparing the grid");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory preparing the grid");
     interp_cache cache;
     memset(&cache, 0, sizeof cache);
     cache.cap = maxn;
@@ -265,7 +265,7 @@ int hrt_grid_prepare(hrt_grid *g, hrt_error *err)
     for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++) {
         rc = prepare_group(g, &g->grp[iz], &cache, x, x + maxn + 1, x + 2 * (maxn + 1));
         if (rc != HRT_OK)
-            hrt_set_error(err, rc, "metallicity/%zu: cannot compute spline slopes (%s)", iz, hrt_strerror(rc));
+            trail_set_error(err, rc, "metallicity/%zu: cannot compute spline slopes (%s)", iz, hrt_strerror(rc));
     }
     cache_free(&cache);
     free(x);

@@ -1,6 +1,6 @@
-/* Private declarations of the fitting lattice (lib/fit.c) and the forecast (lib/forecast.c). */
-#ifndef HRTRAIL_FIT_INTERNAL_H
-#define HRTRAIL_FIT_INTERNAL_H
+/* Private declarations of the fitting lattice (lib/fit/fit.c) and the forecast (lib/fit/forecast.c). */
+#ifndef HRTRAIL_LIB_FIT_LATTICE_H
+#define HRTRAIL_LIB_FIT_LATTICE_H
 
 #include <stddef.h>
 #include <stdint.h>
@@ -47,6 +47,6 @@ struct hrt_fit_model {
 };
 
 /* Median and 15.87/84.13 % quantiles of n values (sorts v in place). */
-hrt_fit_interval hrt_fit_sample_quantiles(double *v, size_t n);
+hrt_fit_interval trail_fit_sample_quantiles(double *v, size_t n);
 
 #endif

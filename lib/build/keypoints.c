@@ -6,7 +6,8 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "internal.h"
+#include "util/schema.h"
+#include "util/util.h"
 
 /* Thresholds (tracks/FORMAT.md, "Keypoint criteria"). */
 #define ZAMS_DX 0.001          /* central H below its initial value by this: burning has started */
@@ -282,7 +283,7 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
                 continue;
             if (c->mass_msun) {
                 double rwd = hrt_wd_radius_rsun(c->mass_msun[s]);
-                double lr = hrt_log_r_from(c->log_l[s], c->log_teff_k[s]);
+                double lr = trail_log_r_from(c->log_l[s], c->log_teff_k[s]);
                 if (!(isfinite(rwd) && lr <= log10(rwd) + WD_COMPACT))
                     continue;
             }
@@ -301,7 +302,7 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
     case KP_CORE_COLLAPSE: {
         size_t s = n - 1;
         if (s >= s0) {
-            double lr = hrt_log_r_from(c->log_l[s], c->log_teff_k[s]);
+            double lr = trail_log_r_from(c->log_l[s], c->log_teff_k[s]);
             if (lr > CC_LOG_R && (!c->co_core_msun || c->co_core_msun[s] >= CC_CO))
                 return s;
             if (c->phase && (c->phase[s] == HRT_PHASE_NS || c->phase[s] == HRT_PHASE_BH)) {
@@ -320,18 +321,18 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
 int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *route, hrt_kp_result *out, hrt_error *err)
 {
     if (!c || !route || !out)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_keypoints_find: NULL argument");
+        return trail_set_error(err, HRT_E_NULL, "hrt_keypoints_find: NULL argument");
     memset(out, 0, sizeof *out);
     if (!c->age_yr || !c->log_l || !c->log_teff_k)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_keypoints_find: age, log L and log Teff are required");
+        return trail_set_error(err, HRT_E_NULL, "hrt_keypoints_find: age, log L and log Teff are required");
     if (c->n < 2)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: %zu samples, at least 2 needed", c->n);
+        return trail_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: %zu samples, at least 2 needed", c->n);
     if (route->n_keypoints < 1 || route->n_keypoints > HRT_IMPORT_MAX_KP || !route->keypoint_names)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: route has %zu keypoints (1..%d)",
+        return trail_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: route has %zu keypoints (1..%d)",
                              route->n_keypoints, HRT_IMPORT_MAX_KP);
     for (size_t s = 1; s < c->n; s++)
         if (!(c->age_yr[s] > c->age_yr[s - 1]))
-            return hrt_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: age[%zu] does not exceed age[%zu]", s,
+            return trail_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: age[%zu] does not exceed age[%zu]", s,
                                  s - 1);
     kctx k = {c, out->why, sizeof out->why};
     size_t p = NOT_FOUND;
@@ -374,9 +375,9 @@ int hrt_keypoints_route(const hrt_kp_columns *c, size_t n_routes, const hrt_rout
                         unsigned *candidates, hrt_kp_result *out, hrt_error *err)
 {
     if (!c || !routes || !route)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_keypoints_route: NULL argument");
-    if (n_routes < 1 || n_routes > HRT_MAX_ROUTES)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_keypoints_route: %zu routes (1..%d)", n_routes, HRT_MAX_ROUTES);
+        return trail_set_error(err, HRT_E_NULL, "hrt_keypoints_route: NULL argument");
+    if (n_routes < 1 || n_routes > TRAIL_MAX_ROUTES)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_keypoints_route: %zu routes (1..%d)", n_routes, TRAIL_MAX_ROUTES);
     *route = -1;
     if (candidates)
         *candidates = 0;
@@ -396,12 +397,12 @@ int hrt_keypoints_route(const hrt_kp_columns *c, size_t n_routes, const hrt_rout
                     if (routes[r].keypoint_names[k] && strcmp(c->flag[s], routes[r].keypoint_names[k]) == 0)
                         has |= 1u << r;
             if (!has)
-                return hrt_set_error(err, HRT_E_INVALID, "sample %zu is flagged '%s', a keypoint of no route", s,
+                return trail_set_error(err, HRT_E_INVALID, "sample %zu is flagged '%s', a keypoint of no route", s,
                                      c->flag[s]);
             fits &= has;
         }
     if (!fits)
-        return hrt_set_error(err, HRT_E_INVALID, "the flagged keypoints do not all belong to one route");
+        return trail_set_error(err, HRT_E_INVALID, "the flagged keypoints do not all belong to one route");
     for (size_t r = 0; r < n_routes; r++) {
         if (!(fits & (1u << r)))
             continue;

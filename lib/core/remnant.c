@@ -1,7 +1,7 @@
 /* Analytic remnants: white dwarf mass-radius relation and Mestel cooling. */
 #include <math.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 /* Eggleton's zero-temperature mass-radius relation, as quoted by Verbunt &
  * Rappaport (1988, ApJ 332, 193), eq. 5 [constants from memory]:
@@ -77,5 +77,5 @@ double hrt_wd_log_l(double m, int kind, double log_l0, double dt_yr)
         return NAN;
     double c = 6.0e6 * (12.0 / wd_ion_a(kind)) * pow(m, 5.0 / 7.0);
     double x = pow(10.0, -5.0 / 7.0 * log_l0) + dt_yr / c;
-    return -7.0 / 5.0 * hrt_log10(x);
+    return -7.0 / 5.0 * trail_log10(x);
 }

@@ -1,7 +1,7 @@
 /* Reading and validating a grid file (tracks/FORMAT.md, version 1).
  *
  * Every HDF5 call happens inside H5E_BEGIN_TRY / H5E_END_TRY (in
- * hrt_grid_read), so HDF5 prints nothing and the caller's HDF5 error
+ * trail_grid_read), so HDF5 prints nothing and the caller's HDF5 error
  * settings are restored afterwards.  The first problem found ends the read
  * with a message naming the group, dataset and index. */
 #include <math.h>
@@ -12,7 +12,7 @@
 
 #include <hdf5.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 #define FORMAT_NAME "hrtrail-track-grid"
 
@@ -39,7 +39,7 @@ static int read_strings_raw(hid_t obj, int is_attr, hid_t ftype, hid_t space, si
         free(res);
         if (mtype >= 0)
             H5Tclose(mtype);
-        return hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
+        return trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
     }
     H5Tset_cset(mtype, H5Tget_cset(ftype));
     htri_t vl = H5Tis_variable_str(ftype);
@@ -51,14 +51,14 @@ static int read_strings_raw(hid_t obj, int is_attr, hid_t ftype, hid_t space, si
             st = is_attr ? H5Aread(obj, mtype, buf) : H5Dread(obj, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf);
         }
         if (!buf) {
-            rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
+            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
         } else if (st < 0) {
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s: cannot read strings", what);
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s: cannot read strings", what);
         } else {
             for (size_t i = 0; i < n && rc == HRT_OK; i++) {
-                res[i] = hrt_strdup(buf[i] ? buf[i] : "");
+                res[i] = trail_strdup(buf[i] ? buf[i] : "");
                 if (!res[i])
-                    rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
+                    rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
             }
 #if H5_VERSION_GE(1, 12, 0)
             H5Treclaim(mtype, space, H5P_DEFAULT, buf);
@@ -71,24 +71,24 @@ static int read_strings_raw(hid_t obj, int is_attr, hid_t ftype, hid_t space, si
         size_t sz = H5Tget_size(ftype);
         char *buf = (sz > 0 && sz < 65536) ? calloc(n ? n : 1, sz + 1) : NULL;
         if (!buf) {
-            rc = hrt_set_error(err, sz == 0 || sz >= 65536 ? HRT_E_FORMAT : HRT_E_NOMEM,
+            rc = trail_set_error(err, sz == 0 || sz >= 65536 ? HRT_E_FORMAT : HRT_E_NOMEM,
                                "%s: unusable string size %zu", what, sz);
         } else {
             H5Tset_size(mtype, sz + 1);
             H5Tset_strpad(mtype, H5T_STR_NULLTERM);
             herr_t st = is_attr ? H5Aread(obj, mtype, buf) : H5Dread(obj, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf);
             if (st < 0)
-                rc = hrt_set_error(err, HRT_E_FORMAT, "%s: cannot read strings", what);
+                rc = trail_set_error(err, HRT_E_FORMAT, "%s: cannot read strings", what);
             for (size_t i = 0; i < n && rc == HRT_OK; i++) {
                 buf[i * (sz + 1) + sz] = '\0';
-                res[i] = hrt_strdup(buf + i * (sz + 1));
+                res[i] = trail_strdup(buf + i * (sz + 1));
                 if (!res[i])
-                    rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
+                    rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
             }
             free(buf);
         }
     } else {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s: cannot inspect string type", what);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s: cannot inspect string type", what);
     }
     H5Tclose(mtype);
     if (rc != HRT_OK) {
@@ -116,10 +116,10 @@ static int open_attr(hid_t loc, const char *name, const char *where, attr_handle
 {
     snprintf(h->what, sizeof h->what, "%s attribute '%s'", where, name);
     if (H5Aexists(loc, name) <= 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s is missing", h->what);
+        return trail_set_error(err, HRT_E_FORMAT, "%s is missing", h->what);
     h->a = H5Aopen(loc, name, H5P_DEFAULT);
     if (h->a < 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s cannot be opened", h->what);
+        return trail_set_error(err, HRT_E_FORMAT, "%s cannot be opened", h->what);
     h->t = H5Aget_type(h->a);
     h->s = H5Aget_space(h->a);
     return HRT_OK;
@@ -141,9 +141,9 @@ static int read_attr_text(hid_t loc, const char *name, const char *where, char *
     if (rc != HRT_OK)
         return rc;
     if (h.t < 0 || h.s < 0 || H5Tget_class(h.t) != H5T_STRING) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s is not text", h.what);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s is not text", h.what);
     } else if (space_points(h.s, &rank) != 1) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be a single string", h.what);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s must be a single string", h.what);
     } else {
         char **v = NULL;
         rc = read_strings_raw(h.a, 1, h.t, h.s, 1, &v, h.what, err);
@@ -165,11 +165,11 @@ static int read_attr_number(hid_t loc, const char *name, const char *where, int 
         return rc;
     H5T_class_t cls = h.t >= 0 ? H5Tget_class(h.t) : H5T_NO_CLASS;
     if (cls != H5T_INTEGER && (want_int || cls != H5T_FLOAT)) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be %s", h.what, want_int ? "an integer" : "a number");
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s must be %s", h.what, want_int ? "an integer" : "a number");
     } else if (h.s < 0 || space_points(h.s, &rank) != 1) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s must be a single value", h.what);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s must be a single value", h.what);
     } else if (H5Aread(h.a, H5T_NATIVE_DOUBLE, out) < 0) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s cannot be read", h.what);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s cannot be read", h.what);
     }
     close_attr(&h);
     return rc;
@@ -181,16 +181,16 @@ static int open_dataset(hid_t loc, const char *where, const char *name, int rank
                         H5T_class_t *cls, hid_t *out, hrt_error *err)
 {
     if (H5Lexists(loc, name, H5P_DEFAULT) <= 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s/%s: dataset is missing", where, name);
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: dataset is missing", where, name);
     hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
     if (d < 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "%s/%s: not a dataset", where, name);
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: not a dataset", where, name);
     hid_t s = H5Dget_space(d), t = H5Dget_type(d);
     int rc = HRT_OK;
     hsize_t found[8] = {0};
     int r = s >= 0 ? H5Sget_simple_extent_ndims(s) : -1;
     if (r != rank) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s: expected %d dimension%s, found %d", where, name, rank,
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: expected %d dimension%s, found %d", where, name, rank,
                            rank == 1 ? "" : "s", r);
     } else {
         H5Sget_simple_extent_dims(s, found, NULL);
@@ -198,7 +198,7 @@ static int open_dataset(hid_t loc, const char *where, const char *name, int rank
             if (dims[k] == 0)
                 dims[k] = found[k];
             else if (found[k] != dims[k])
-                rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s: dimension %d is %llu, expected %llu", where, name,
+                rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: dimension %d is %llu, expected %llu", where, name,
                                    k, (unsigned long long)found[k], (unsigned long long)dims[k]);
         }
     }
@@ -225,10 +225,10 @@ static int read_numeric(hid_t loc, const char *where, const char *name, int rank
     if (rc != HRT_OK)
         return rc;
     if (cls != H5T_INTEGER && (as_int || cls != H5T_FLOAT)) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s: must hold %s", where, name, as_int ? "integers" : "numbers");
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: must hold %s", where, name, as_int ? "integers" : "numbers");
     } else if (buf && H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT,
                               buf) < 0) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read", where, name);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read", where, name);
     }
     H5Dclose(d);
     return rc;
@@ -246,9 +246,9 @@ static int read_string_dataset(hid_t loc, const char *where, const char *name, s
     char what[160];
     snprintf(what, sizeof what, "%s/%s", where, name);
     if (cls != H5T_STRING) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s: must hold strings", what);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s: must hold strings", what);
     } else if (dims[0] == 0 || dims[0] > 100000) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s: unusable length %llu", what, (unsigned long long)dims[0]);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s: unusable length %llu", what, (unsigned long long)dims[0]);
     } else {
         hid_t t = H5Dget_type(d), s = H5Dget_space(d);
         rc = read_strings_raw(d, 0, t, s, (size_t)dims[0], out, what, err);
@@ -292,7 +292,7 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
     if (rc != HRT_OK)
         return 0;
     attr_pair *p = realloc(ac->g->attrs, (ac->g->n_attrs + 1) * sizeof *p);
-    char *nm = hrt_strdup(name);
+    char *nm = trail_strdup(name);
     if (!p || !nm) {
         if (p)
             ac->g->attrs = p;
@@ -312,16 +312,16 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
 {
     hid_t rg = H5Lexists(f, "routes", H5P_DEFAULT) > 0 ? H5Gopen2(f, "routes", H5P_DEFAULT) : -1;
     if (rg < 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "group 'routes' is missing");
+        return trail_set_error(err, HRT_E_FORMAT, "group 'routes' is missing");
     char **names = NULL;
     size_t n = 0;
     int rc = read_string_dataset(rg, "routes", "names", &n, &names, err);
-    if (rc == HRT_OK && n > HRT_MAX_ROUTES)
-        rc = hrt_set_error(err, HRT_E_FORMAT, "routes/names: %zu routes, at most %d supported", n, HRT_MAX_ROUTES);
+    if (rc == HRT_OK && n > TRAIL_MAX_ROUTES)
+        rc = trail_set_error(err, HRT_E_FORMAT, "routes/names: %zu routes, at most %d supported", n, TRAIL_MAX_ROUTES);
     if (rc == HRT_OK) {
         g->routes = calloc(n, sizeof *g->routes);
         if (!g->routes)
-            rc = hrt_set_error(err, HRT_E_NOMEM, "routes: out of memory");
+            rc = trail_set_error(err, HRT_E_NOMEM, "routes: out of memory");
         else
             g->n_routes = n;
     }
@@ -331,26 +331,26 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
         names[r] = NULL;
         for (size_t q = 0; q < r; q++)
             if (strcmp(g->routes[q].name, L->name) == 0)
-                rc = hrt_set_error(err, HRT_E_FORMAT, "routes/names[%zu]: route '%s' appears twice", r, L->name);
+                rc = trail_set_error(err, HRT_E_FORMAT, "routes/names[%zu]: route '%s' appears twice", r, L->name);
         if (rc != HRT_OK)
             break;
         char where[96];
         snprintf(where, sizeof where, "routes/%s", L->name);
         hid_t sub = H5Lexists(rg, L->name, H5P_DEFAULT) > 0 ? H5Gopen2(rg, L->name, H5P_DEFAULT) : -1;
         if (sub < 0) {
-            rc = hrt_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
+            rc = trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
             break;
         }
         rc = read_string_dataset(sub, where, "keypoint_names", &L->n_kp, &L->kp_names, err);
         if (rc == HRT_OK && L->n_kp < 2)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/keypoint_names: at least 2 keypoints needed", where);
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_names: at least 2 keypoints needed", where);
         int *kp = NULL, *seg = NULL;
         if (rc == HRT_OK) {
             kp = malloc(L->n_kp * sizeof *kp);
             seg = malloc(L->n_kp * sizeof *seg);
             L->kp_eep = malloc(L->n_kp * sizeof *L->kp_eep);
             if (!kp || !seg || !L->kp_eep)
-                rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
+                rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
         }
         hsize_t d1[1] = {L->n_kp}, d2[1] = {L->n_kp - 1};
         if (rc == HRT_OK)
@@ -358,13 +358,13 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
         if (rc == HRT_OK)
             rc = read_numeric(sub, where, "segment_samples", 1, d2, 1, seg, err);
         if (rc == HRT_OK && kp[0] != 0)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/keypoint_eep[0]: must be 0, found %d", where, kp[0]);
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_eep[0]: must be 0, found %d", where, kp[0]);
         for (size_t k = 0; k + 1 < L->n_kp && rc == HRT_OK; k++) {
             if (seg[k] < 1 || seg[k] > 100000)
-                rc = hrt_set_error(err, HRT_E_FORMAT, "%s/segment_samples[%zu]: %d is not in 1..100000", where, k,
+                rc = trail_set_error(err, HRT_E_FORMAT, "%s/segment_samples[%zu]: %d is not in 1..100000", where, k,
                                    seg[k]);
             else if ((long)kp[k + 1] - kp[k] != seg[k])
-                rc = hrt_set_error(err, HRT_E_FORMAT,
+                rc = trail_set_error(err, HRT_E_FORMAT,
                                    "%s/keypoint_eep[%zu]: %d does not follow keypoint_eep[%zu] = %d by "
                                    "segment_samples[%zu] = %d",
                                    where, k + 1, kp[k + 1], k, kp[k], k, seg[k]);
@@ -373,9 +373,9 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
             for (size_t k = 0; k < L->n_kp; k++)
                 L->kp_eep[k] = kp[k];
             L->n_eep = (size_t)kp[L->n_kp - 1] + 1;
-            if (L->n_eep > HRT_MAX_EEP)
-                rc = hrt_set_error(err, HRT_E_FORMAT, "%s: %zu EEPs, at most %d supported", where, L->n_eep,
-                                   HRT_MAX_EEP);
+            if (L->n_eep > TRAIL_MAX_EEP)
+                rc = trail_set_error(err, HRT_E_FORMAT, "%s: %zu EEPs, at most %d supported", where, L->n_eep,
+                                   TRAIL_MAX_EEP);
             if (L->n_eep > g->n_eep_max)
                 g->n_eep_max = L->n_eep;
         }
@@ -398,11 +398,11 @@ static int read_key_table(hid_t f, const char *name, int (*lookup)(const char *)
         return rc;
     *map = malloc(*n * sizeof **map);
     if (!*map)
-        rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory", name);
+        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", name);
     for (size_t i = 0; i < *n && rc == HRT_OK; i++) {
         (*map)[i] = lookup(keys[i]);
         if ((*map)[i] == bad)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "/%s[%zu]: unknown key '%s'", name, i, keys[i]);
+            rc = trail_set_error(err, HRT_E_FORMAT, "/%s[%zu]: unknown key '%s'", name, i, keys[i]);
     }
     free_strings(keys, *n);
     return rc;
@@ -417,28 +417,28 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
     snprintf(where, sizeof where, "metallicity/%zu", iz);
     hid_t gr = H5Lexists(f, where, H5P_DEFAULT) > 0 ? H5Gopen2(f, where, H5P_DEFAULT) : -1;
     if (gr < 0)
-        return hrt_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
+        return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
     zgroup *gp = &g->grp[iz];
     int rc = read_attr_number(gr, "Z", where, 0, &gp->z, err);
     if (rc == HRT_OK && !(isfinite(gp->z) && gp->z > 0.0 && gp->z < 1.0))
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g is not in (0, 1)", where, gp->z);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g is not in (0, 1)", where, gp->z);
     if (rc == HRT_OK && iz > 0 && !(gp->z > g->grp[iz - 1].z))
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g does not exceed the previous group's %g",
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g does not exceed the previous group's %g",
                            where, gp->z, g->grp[iz - 1].z);
-    if (rc == HRT_OK && !isfinite(hrt_log10(gp->z / g->z_ref)))
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': [Fe/H] = log10(%g / z_ref %g) is not a finite number",
+    if (rc == HRT_OK && !isfinite(trail_log10(gp->z / g->z_ref)))
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': [Fe/H] = log10(%g / z_ref %g) is not a finite number",
                            where, gp->z, g->z_ref);
     hsize_t dm[1] = {0};
     if (rc == HRT_OK)
         rc = read_numeric(gr, where, "initial_mass", 1, dm, 0, NULL, err);
     if (rc == HRT_OK && (dm[0] < 1 || dm[0] > 100000))
-        rc = hrt_set_error(err, HRT_E_FORMAT, "%s/initial_mass: unusable length %llu", where,
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/initial_mass: unusable length %llu", where,
                            (unsigned long long)dm[0]);
     size_t nm = rc == HRT_OK ? (size_t)dm[0] : 0, J = g->n_eep_max, R = g->n_routes;
     double *buf = NULL;
     int *ibuf = NULL;
     if (rc == HRT_OK) {
-        gp->feh = hrt_log10(gp->z / g->z_ref);
+        gp->feh = trail_log10(gp->z / g->z_ref);
         gp->n_mass = nm;
         gp->mass = malloc(nm * sizeof(double));
         gp->logm = calloc(nm + 1, sizeof(double));
@@ -450,7 +450,7 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         gp->hv = calloc((size_t)NQ * J * (nm + 1) * 2, sizeof(double));
         gp->phase = calloc(nm * J, 1);
         gp->runs = calloc(nm * J * 2, sizeof(int32_t));
-        gp->age_tab = calloc(nm * HRT_AGE_TAB, sizeof(uint16_t));
+        gp->age_tab = calloc(nm * TRAIL_AGE_TAB, sizeof(uint16_t));
         gp->age_tab_x = calloc(nm * 2, sizeof(double));
         gp->age_lambda = calloc(nm + 1, sizeof(double));
         gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
@@ -460,23 +460,23 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_hv ||
             !gp->boundary || !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max || !gp->age_iv || !buf ||
             !ibuf)
-            rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory for %zu tracks", where, nm);
+            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory for %zu tracks", where, nm);
         else
             g->bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) + nm * J * (1 + 2 * sizeof(int32_t) + 4 * sizeof(double)) +
-                        nm * HRT_AGE_TAB * sizeof(uint16_t);
+                        nm * TRAIL_AGE_TAB * sizeof(uint16_t);
     }
     hsize_t d1[1] = {nm};
     if (rc == HRT_OK)
         rc = read_numeric(gr, where, "initial_mass", 1, d1, 0, gp->mass, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         if (!(isfinite(gp->mass[i]) && gp->mass[i] > 0.0))
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g is not a positive mass", where, i,
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g is not a positive mass", where, i,
                                gp->mass[i]);
         else if (i > 0 && !(gp->mass[i] > gp->mass[i - 1]))
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g does not exceed the previous %g", where,
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g does not exceed the previous %g", where,
                                i, gp->mass[i], gp->mass[i - 1]);
         else
-            gp->logm[i] = hrt_log10(gp->mass[i]);
+            gp->logm[i] = trail_log10(gp->mass[i]);
     }
     if (rc == HRT_OK)
         gp->logm[nm] = gp->logm[nm - 1] + 1.0; /* padding, never a knot */
@@ -484,24 +484,24 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         rc = read_numeric(gr, where, "route", 1, d1, 1, gp->route, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         if (gp->route[i] < 0 || (size_t)gp->route[i] >= R)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/route[%zu]: %d is not a route index (0..%zu)", where, i,
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/route[%zu]: %d is not a route index (0..%zu)", where, i,
                                gp->route[i], R - 1);
         else if (i > 0 && gp->route[i] < gp->route[i - 1])
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/route[%zu]: routes must not decrease with mass", where, i);
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/route[%zu]: routes must not decrease with mass", where, i);
     }
     if (rc == HRT_OK)
         rc = read_numeric(gr, where, "n_eep", 1, d1, 1, gp->n_eep, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         size_t lim = g->routes[gp->route[i]].n_eep;
         if (gp->n_eep[i] < 2 || (size_t)gp->n_eep[i] > lim)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/n_eep[%zu]: %d is not in 2..%zu (route '%s')", where, i,
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/n_eep[%zu]: %d is not in 2..%zu (route '%s')", where, i,
                                gp->n_eep[i], lim, g->routes[gp->route[i]].name);
     }
     if (rc == HRT_OK)
         rc = read_numeric(gr, where, "remnant", 1, d1, 1, ibuf, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         if (ibuf[i] < 0 || (size_t)ibuf[i] >= n_rem)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant[%zu]: %d is not an index into remnant_keys", where, i,
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant[%zu]: %d is not an index into remnant_keys", where, i,
                                ibuf[i]);
         else
             gp->remnant[i] = rem_map[ibuf[i]];
@@ -510,13 +510,13 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         rc = read_numeric(gr, where, "remnant_mass", 1, d1, 0, buf, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         if (gp->remnant[i] != HRT_REMNANT_NONE && !(isfinite(buf[i]) && buf[i] > 0.0))
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g is not a positive mass", where, i,
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g is not a positive mass", where, i,
                                buf[i]);
-        else if (gp->remnant[i] != HRT_REMNANT_NONE && !(buf[i] <= HRT_MAX_MASS_FACTOR * gp->mass[i]))
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g Msun exceeds twice the initial mass",
+        else if (gp->remnant[i] != HRT_REMNANT_NONE && !(buf[i] <= TRAIL_MAX_MASS_FACTOR * gp->mass[i]))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g Msun exceeds twice the initial mass",
                                where, i, buf[i]);
-        else if (hrt_remnant_family(gp->remnant[i]) == HRT_REMNANT_CO_WD && !(buf[i] < 1.44))
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: a white dwarf of %g Msun is beyond the "
+        else if (trail_remnant_family(gp->remnant[i]) == HRT_REMNANT_CO_WD && !(buf[i] < 1.44))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: a white dwarf of %g Msun is beyond the "
                                "1.44 Msun the white dwarf mass-radius relation allows", where, i, buf[i]);
         /* 0, not NaN, for a track without remnant: a query at a neighbour's
          * mass gives it weight 0, and 0 * NaN would be NaN. */
@@ -528,14 +528,14 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
     for (size_t b = 0; b + 1 < R && rc == HRT_OK; b++) {
         double mb = gp->boundary[b];
         if (!(isfinite(mb) && mb > 0.0) || (b > 0 && mb < gp->boundary[b - 1])) {
-            rc = hrt_set_error(err, HRT_E_FORMAT, "%s/route_boundary_mass[%zu]: %g is not a positive, "
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/route_boundary_mass[%zu]: %g is not a positive, "
                                "non-decreasing mass", where, b, mb);
             break;
         }
         for (size_t i = 0; i < nm; i++) {
             int below = gp->route[i] <= (int)b;
             if ((below && !(gp->mass[i] < mb)) || (!below && !(gp->mass[i] > mb))) {
-                rc = hrt_set_error(err, HRT_E_FORMAT,
+                rc = trail_set_error(err, HRT_E_FORMAT,
                                    "%s/route_boundary_mass[%zu]: %g Msun is on the wrong side of track %zu "
                                    "(%g Msun, route '%s')",
                                    where, b, mb, i, gp->mass[i], g->routes[gp->route[i]].name);
@@ -550,36 +550,36 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
             for (int j = 0; j < gp->n_eep[i]; j++) {
                 double v = buf[i * J + (size_t)j];
                 if (!isfinite(v)) {
-                    rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g inside the track's valid EEPs", where,
+                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g inside the track's valid EEPs", where,
                                        qnames[q], i, j, v);
                     break;
                 }
                 if (q == Q_AGE && j > 0 && !(v > buf[i * J + (size_t)j - 1])) {
-                    rc = hrt_set_error(err, HRT_E_FORMAT,
+                    rc = trail_set_error(err, HRT_E_FORMAT,
                                        "%s/log_age[%zu][%d]: %.17g does not exceed the previous EEP's %.17g", where,
                                        i, j, v, buf[i * J + (size_t)j - 1]);
                     break;
                 }
                 if (q >= Q_MASS && v < 0.0) {
-                    rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: negative mass %g", where, qnames[q], i,
+                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: negative mass %g", where, qnames[q], i,
                                        j, v);
                     break;
                 }
                 /* Bounds far outside any star, so that the spline slopes and
                  * weights cannot overflow to inf and NaN. */
-                if (q >= Q_MASS && !(v <= HRT_MAX_MASS_FACTOR * gp->mass[i])) {
-                    rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g Msun exceeds twice the initial mass",
+                if (q >= Q_MASS && !(v <= TRAIL_MAX_MASS_FACTOR * gp->mass[i])) {
+                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g Msun exceeds twice the initial mass",
                                        where, qnames[q], i, j, v);
                     break;
                 }
-                if (q < Q_MASS && !(fabs(v) <= HRT_MAX_LOG_ABS)) {
-                    rc = hrt_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g is not a plausible log10 value", where,
+                if (q < Q_MASS && !(fabs(v) <= TRAIL_MAX_LOG_ABS)) {
+                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g is not a plausible log10 value", where,
                                        qnames[q], i, j, v);
                     break;
                 }
                 /* Masses are interpolated as fractions of the initial mass,
                  * so a star without mass loss keeps its mass exactly. */
-                *hrt_hv(gp, (size_t)j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
+                *trail_hv(gp, (size_t)j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
             }
         }
     }
@@ -591,7 +591,7 @@ static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, siz
         for (int j = 0; j < gp->n_eep[i]; j++) {
             int c = ibuf[i * J + (size_t)j];
             if (c < 0 || (size_t)c >= n_phase) {
-                rc = hrt_set_error(err, HRT_E_FORMAT, "%s/phase[%zu][%d]: %d is not an index into phase_keys", where,
+                rc = trail_set_error(err, HRT_E_FORMAT, "%s/phase[%zu][%d]: %d is not an index into phase_keys", where,
                                    i, j, c);
                 break;
             }
@@ -613,7 +613,7 @@ static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
     if (rc != HRT_OK)
         return rc;
     if (strcmp(fmt, FORMAT_NAME) != 0) {
-        rc = hrt_set_error(err, HRT_E_FORMAT, "root attribute 'format' is '%.64s', expected '%s'", fmt, FORMAT_NAME);
+        rc = trail_set_error(err, HRT_E_FORMAT, "root attribute 'format' is '%.64s', expected '%s'", fmt, FORMAT_NAME);
         free(fmt);
         return rc;
     }
@@ -622,19 +622,19 @@ static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
     if ((rc = read_attr_number(f, "format_version", "root", 1, &v, err)) != HRT_OK)
         return rc;
     if (v > HRT_FORMAT_VERSION)
-        return hrt_set_error(err, HRT_E_VERSION, "format_version %g is newer than this library reads (%d)", v,
+        return trail_set_error(err, HRT_E_VERSION, "format_version %g is newer than this library reads (%d)", v,
                              HRT_FORMAT_VERSION);
     if (v < 1)
-        return hrt_set_error(err, HRT_E_FORMAT, "format_version %g is not a valid version", v);
+        return trail_set_error(err, HRT_E_FORMAT, "format_version %g is not a valid version", v);
     if ((rc = read_attr_number(f, "z_ref", "root", 0, &g->z_ref, err)) != HRT_OK)
         return rc;
     if (!(isfinite(g->z_ref) && g->z_ref > 0.0 && g->z_ref < 1.0))
-        return hrt_set_error(err, HRT_E_FORMAT, "root attribute 'z_ref': %g is not in (0, 1)", g->z_ref);
+        return trail_set_error(err, HRT_E_FORMAT, "root attribute 'z_ref': %g is not in (0, 1)", g->z_ref);
     attr_collect ac = {g, HRT_OK};
     hsize_t idx = 0;
     H5Aiterate2(f, H5_INDEX_NAME, H5_ITER_INC, &idx, collect_attr, &ac);
     if (ac.rc != HRT_OK)
-        return hrt_set_error(err, ac.rc, "root attributes: out of memory");
+        return trail_set_error(err, ac.rc, "root attributes: out of memory");
     int *pmap = NULL, *rmap = NULL;
     size_t np = 0, nr = 0;
     rc = read_key_table(f, "phase_keys", phase_lookup, HRT_PHASE_UNKNOWN, &pmap, &np, err);
@@ -646,21 +646,21 @@ static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
     if (rc == HRT_OK) {
         mg = H5Lexists(f, "metallicity", H5P_DEFAULT) > 0 ? H5Gopen2(f, "metallicity", H5P_DEFAULT) : -1;
         if (mg < 0)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "group 'metallicity' is missing");
+            rc = trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is missing");
     }
     if (rc == HRT_OK) {
         H5G_info_t info;
         if (H5Gget_info(mg, &info) < 0 || info.nlinks == 0)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "group 'metallicity' is empty");
-        else if (info.nlinks > HRT_MAX_Z)
-            rc = hrt_set_error(err, HRT_E_FORMAT, "group 'metallicity': %llu groups, at most %d supported",
-                               (unsigned long long)info.nlinks, HRT_MAX_Z);
+            rc = trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is empty");
+        else if (info.nlinks > TRAIL_MAX_Z)
+            rc = trail_set_error(err, HRT_E_FORMAT, "group 'metallicity': %llu groups, at most %d supported",
+                               (unsigned long long)info.nlinks, TRAIL_MAX_Z);
         else {
             g->grp = calloc((size_t)info.nlinks, sizeof *g->grp);
             if (!g->grp)
-                rc = hrt_set_error(err, HRT_E_NOMEM, "metallicity: out of memory");
+                rc = trail_set_error(err, HRT_E_NOMEM, "metallicity: out of memory");
             else
-                g->n_z = (size_t)info.nlinks; /* only now: hrt_grid_free_contents walks n_z groups */
+                g->n_z = (size_t)info.nlinks; /* only now: trail_grid_free_contents walks n_z groups */
         }
     }
     for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++)
@@ -672,23 +672,23 @@ static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
     return rc;
 }
 
-int hrt_grid_read(const char *path, hrt_grid *g, hrt_error *err)
+int trail_grid_read(const char *path, hrt_grid *g, hrt_error *err)
 {
     /* Only regular files: opening a named pipe for reading would block
      * until someone writes to it, i.e. possibly forever. */
     struct stat st;
     if (stat(path, &st) == 0 && !S_ISREG(st.st_mode))
-        return hrt_set_error(err, HRT_E_IO, "'%s' is not a regular file (a directory, device or pipe)", path);
+        return trail_set_error(err, HRT_E_IO, "'%s' is not a regular file (a directory, device or pipe)", path);
     FILE *probe = fopen(path, "rb");
     if (!probe)
-        return hrt_set_error(err, HRT_E_IO, "cannot open '%s' for reading", path);
+        return trail_set_error(err, HRT_E_IO, "cannot open '%s' for reading", path);
     fclose(probe);
     int rc = HRT_OK;
     H5E_BEGIN_TRY
     {
         hid_t f = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
         if (f < 0) {
-            rc = hrt_set_error(err, HRT_E_FORMAT, "'%s' is not a readable HDF5 file", path);
+            rc = trail_set_error(err, HRT_E_FORMAT, "'%s' is not a readable HDF5 file", path);
         } else {
             rc = read_file(f, g, err);
             H5Fclose(f);
@@ -705,7 +705,7 @@ static void free_route(route_layout *L)
     free(L->kp_eep);
 }
 
-void hrt_grid_free_contents(hrt_grid *g)
+void trail_grid_free_contents(hrt_grid *g)
 {
     for (size_t iz = 0; iz < g->n_z; iz++) {
         zgroup *gp = &g->grp[iz];

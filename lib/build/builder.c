@@ -11,7 +11,8 @@
 
 #include <hdf5.h>
 
-#include "internal.h"
+#include "util/schema.h"
+#include "util/util.h"
 
 enum { C_AGE = 0, C_L, C_TEFF, C_R, C_MASS, C_HE, C_CO, NCOL };
 static const char col_names[NCOL][16] = {"log_age", "log_L", "log_Teff", "log_R",
@@ -31,13 +32,13 @@ typedef struct bgroup {
     size_t n, cap;
     btrack *t;
     int has_bound;
-    double bound[HRT_MAX_ROUTES];
+    double bound[TRAIL_MAX_ROUTES];
 } bgroup;
 
 struct hrt_builder {
     double z_ref;
     size_t n_routes;
-    route_layout routes[HRT_MAX_ROUTES];
+    route_layout routes[TRAIL_MAX_ROUTES];
     size_t n_eep_max;
     size_t n_groups;
     bgroup *grp;
@@ -93,16 +94,16 @@ int hrt_builder_new(size_t n_routes, const hrt_route_spec *routes, double z_ref,
                     hrt_error *err)
 {
     if (!out || !routes)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_builder_new: %s is NULL", !out ? "builder" : "routes");
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_new: %s is NULL", !out ? "builder" : "routes");
     *out = NULL;
-    if (n_routes < 1 || n_routes > HRT_MAX_ROUTES)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_builder_new: %zu routes, expected 1..%d", n_routes,
-                             HRT_MAX_ROUTES);
+    if (n_routes < 1 || n_routes > TRAIL_MAX_ROUTES)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_builder_new: %zu routes, expected 1..%d", n_routes,
+                             TRAIL_MAX_ROUTES);
     if (!(isfinite(z_ref) && z_ref > 0.0 && z_ref < 1.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "hrt_builder_new: z_ref = %g is not in (0, 1)", z_ref);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_builder_new: z_ref = %g is not in (0, 1)", z_ref);
     hrt_builder *b = calloc(1, sizeof *b);
     if (!b)
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
     b->z_ref = z_ref;
     int rc = HRT_OK;
     for (size_t r = 0; r < n_routes && rc == HRT_OK; r++) {
@@ -110,38 +111,38 @@ int hrt_builder_new(size_t n_routes, const hrt_route_spec *routes, double z_ref,
         route_layout *L = &b->routes[r];
         b->n_routes = r + 1;
         if (!valid_name(sp->name) || sp->n_keypoints < 2 || !sp->keypoint_names || !sp->segment_samples) {
-            rc = hrt_set_error(err, HRT_E_INVALID,
+            rc = trail_set_error(err, HRT_E_INVALID,
                                "route %zu: needs a name without '/' or '.', at least 2 keypoints and their "
                                "segment sample counts", r);
             break;
         }
         for (size_t q = 0; q < r; q++)
             if (strcmp(b->routes[q].name, sp->name) == 0)
-                rc = hrt_set_error(err, HRT_E_INVALID, "route %zu: name '%s' used twice", r, sp->name);
+                rc = trail_set_error(err, HRT_E_INVALID, "route %zu: name '%s' used twice", r, sp->name);
         if (rc != HRT_OK)
             break;
-        L->name = hrt_strdup(sp->name);
+        L->name = trail_strdup(sp->name);
         L->n_kp = sp->n_keypoints;
         L->kp_names = calloc(L->n_kp, sizeof(char *));
         L->kp_eep = malloc(L->n_kp * sizeof(long));
         if (!L->name || !L->kp_names || !L->kp_eep) {
-            rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
+            rc = trail_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
             break;
         }
         long e = 0;
         for (size_t k = 0; k < L->n_kp && rc == HRT_OK; k++) {
             if (!valid_name(sp->keypoint_names[k])) {
-                rc = hrt_set_error(err, HRT_E_INVALID, "route '%s': keypoint %zu has no usable name", sp->name, k);
+                rc = trail_set_error(err, HRT_E_INVALID, "route '%s': keypoint %zu has no usable name", sp->name, k);
                 break;
             }
-            L->kp_names[k] = hrt_strdup(sp->keypoint_names[k]);
+            L->kp_names[k] = trail_strdup(sp->keypoint_names[k]);
             if (!L->kp_names[k])
-                rc = hrt_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
+                rc = trail_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
             L->kp_eep[k] = e;
             if (k + 1 < L->n_kp) {
                 int ns = sp->segment_samples[k];
                 if (ns < 1 || ns > 100000)
-                    rc = hrt_set_error(err, HRT_E_INVALID, "route '%s': segment %zu has %d samples (1..100000)",
+                    rc = trail_set_error(err, HRT_E_INVALID, "route '%s': segment %zu has %d samples (1..100000)",
                                        sp->name, k, ns);
                 e += ns;
             }
@@ -165,7 +166,7 @@ static bgroup *find_group(hrt_builder *b, double z, int create)
             return &b->grp[i];
     if (!create)
         return NULL;
-    if (b->n_groups >= HRT_MAX_Z)
+    if (b->n_groups >= TRAIL_MAX_Z)
         return NULL;
     bgroup *g = realloc(b->grp, (b->n_groups + 1) * sizeof *g);
     if (!g)
@@ -180,15 +181,15 @@ static btrack *new_track(hrt_builder *b, double z, int n, hrt_error *err, int *r
 {
     bgroup *g = find_group(b, z, 1);
     if (!g) {
-        *rc = hrt_set_error(err, b->n_groups >= HRT_MAX_Z ? HRT_E_INVALID : HRT_E_NOMEM,
-                            "cannot add a metallicity group (at most %d)", HRT_MAX_Z);
+        *rc = trail_set_error(err, b->n_groups >= TRAIL_MAX_Z ? HRT_E_INVALID : HRT_E_NOMEM,
+                            "cannot add a metallicity group (at most %d)", TRAIL_MAX_Z);
         return NULL;
     }
     if (g->n == g->cap) {
         size_t cap = g->cap ? 2 * g->cap : 16;
         btrack *t = realloc(g->t, cap * sizeof *t);
         if (!t) {
-            *rc = hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            *rc = trail_set_error(err, HRT_E_NOMEM, "out of memory");
             return NULL;
         }
         g->t = t;
@@ -202,7 +203,7 @@ static btrack *new_track(hrt_builder *b, double z, int n, hrt_error *err, int *r
     ok &= (t->phase = malloc((size_t)n * sizeof(int))) != NULL;
     if (!ok) {
         free_track(t);
-        *rc = hrt_set_error(err, HRT_E_NOMEM, "out of memory for a track of %d points", n);
+        *rc = trail_set_error(err, HRT_E_NOMEM, "out of memory for a track of %d points", n);
         return NULL;
     }
     t->n = n;
@@ -221,29 +222,29 @@ static void drop_last(hrt_builder *b, double z)
 static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t, int eep, hrt_error *err)
 {
     if (!t)
-        return hrt_set_error(err, HRT_E_NULL, "track data is NULL");
+        return trail_set_error(err, HRT_E_NULL, "track data is NULL");
     const char *who = eep ? "EEP track" : "track";
     if (!(isfinite(z) && z > 0.0 && z < 1.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "%s: Z = %g is not in (0, 1)", who, z);
+        return trail_set_error(err, HRT_E_DOMAIN, "%s: Z = %g is not in (0, 1)", who, z);
     if (!(isfinite(t->initial_mass_msun) && t->initial_mass_msun > 0.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "%s: initial mass %g is not positive", who, t->initial_mass_msun);
+        return trail_set_error(err, HRT_E_DOMAIN, "%s: initial mass %g is not positive", who, t->initial_mass_msun);
     if (t->route < 0 || (size_t)t->route >= b->n_routes)
-        return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: route %d is not one of the builder's", who,
+        return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: route %d is not one of the builder's", who,
                              t->initial_mass_msun, t->route);
     if (t->remnant < 0 || t->remnant >= HRT_REMNANT_COUNT)
-        return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: remnant kind %d is unknown", who,
+        return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: remnant kind %d is unknown", who,
                              t->initial_mass_msun, t->remnant);
     if (t->remnant != HRT_REMNANT_NONE && !(isfinite(t->remnant_mass_msun) && t->remnant_mass_msun > 0.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g is not positive", who,
+        return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g is not positive", who,
                              t->initial_mass_msun, t->remnant_mass_msun);
-    if (t->remnant != HRT_REMNANT_NONE && !(t->remnant_mass_msun <= HRT_MAX_MASS_FACTOR * t->initial_mass_msun))
-        return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g exceeds %g times the initial mass", who,
-                             t->initial_mass_msun, t->remnant_mass_msun, HRT_MAX_MASS_FACTOR);
-    if (hrt_remnant_family(t->remnant) == HRT_REMNANT_CO_WD && !(t->remnant_mass_msun < 1.44))
-        return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: a white dwarf of %g Msun is beyond the 1.44 Msun of "
+    if (t->remnant != HRT_REMNANT_NONE && !(t->remnant_mass_msun <= TRAIL_MAX_MASS_FACTOR * t->initial_mass_msun))
+        return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g exceeds %g times the initial mass", who,
+                             t->initial_mass_msun, t->remnant_mass_msun, TRAIL_MAX_MASS_FACTOR);
+    if (trail_remnant_family(t->remnant) == HRT_REMNANT_CO_WD && !(t->remnant_mass_msun < 1.44))
+        return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: a white dwarf of %g Msun is beyond the 1.44 Msun of "
                              "the white dwarf mass-radius relation", who, t->initial_mass_msun, t->remnant_mass_msun);
     if (t->n < 2 || t->n > 10000000)
-        return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: %zu points (at least 2)", who, t->initial_mass_msun,
+        return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: %zu points (at least 2)", who, t->initial_mass_msun,
                              t->n);
     const double *cols[NCOL] = {t->log_age_yr, t->log_l,        t->log_teff_k,    t->log_r,
                                 t->mass_msun,  t->he_core_msun, t->co_core_msun};
@@ -251,35 +252,35 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
         if (!cols[c]) {
             if (c == C_R)
                 continue;
-            return hrt_set_error(err, HRT_E_NULL, "%s %g Msun: column %s is NULL", who, t->initial_mass_msun,
+            return trail_set_error(err, HRT_E_NULL, "%s %g Msun: column %s is NULL", who, t->initial_mass_msun,
                                  col_names[c]);
         }
         for (size_t i = 0; i < t->n; i++) {
             if (!isfinite(cols[c][i]))
-                return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not finite", who,
+                return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not finite", who,
                                      t->initial_mass_msun, col_names[c], i, cols[c][i]);
             if (c >= C_MASS && cols[c][i] < 0.0)
-                return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is negative", who,
+                return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is negative", who,
                                      t->initial_mass_msun, col_names[c], i, cols[c][i]);
             /* the reader's plausibility bounds: what is written can be read */
-            if (c >= C_MASS && !(cols[c][i] <= HRT_MAX_MASS_FACTOR * t->initial_mass_msun))
-                return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g Msun exceeds %g times the "
+            if (c >= C_MASS && !(cols[c][i] <= TRAIL_MAX_MASS_FACTOR * t->initial_mass_msun))
+                return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g Msun exceeds %g times the "
                                      "initial mass", who, t->initial_mass_msun, col_names[c], i, cols[c][i],
-                                     HRT_MAX_MASS_FACTOR);
-            if (c < C_MASS && !(fabs(cols[c][i]) <= HRT_MAX_LOG_ABS))
-                return hrt_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not a plausible log10 value",
+                                     TRAIL_MAX_MASS_FACTOR);
+            if (c < C_MASS && !(fabs(cols[c][i]) <= TRAIL_MAX_LOG_ABS))
+                return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not a plausible log10 value",
                                      who, t->initial_mass_msun, col_names[c], i, cols[c][i]);
             if (c == C_AGE && i > 0 && !(cols[c][i] > cols[c][i - 1]))
-                return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: log_age[%zu] = %.17g does not exceed the "
+                return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: log_age[%zu] = %.17g does not exceed the "
                                      "previous point's %.17g", who, t->initial_mass_msun, i, cols[c][i],
                                      cols[c][i - 1]);
         }
     }
     if (!t->phase)
-        return hrt_set_error(err, HRT_E_NULL, "%s %g Msun: phase column is NULL", who, t->initial_mass_msun);
+        return trail_set_error(err, HRT_E_NULL, "%s %g Msun: phase column is NULL", who, t->initial_mass_msun);
     for (size_t i = 0; i < t->n; i++)
         if (t->phase[i] <= HRT_PHASE_UNKNOWN || t->phase[i] >= HRT_PHASE_COUNT)
-            return hrt_set_error(err, HRT_E_INVALID, "%s %g Msun: phase[%zu] = %d is not a phase", who,
+            return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: phase[%zu] = %d is not a phase", who,
                                  t->initial_mass_msun, i, t->phase[i]);
     return HRT_OK;
 }
@@ -305,16 +306,16 @@ static btrack *start_track(hrt_builder *b, double z, const hrt_track_data *t, in
 int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
 {
     if (!b)
-        return hrt_set_error(err, HRT_E_NULL, "builder is NULL");
+        return trail_set_error(err, HRT_E_NULL, "builder is NULL");
     int rc = check_columns(b, z, t, 1, err);
     if (rc != HRT_OK)
         return rc;
     const route_layout *L = &b->routes[t->route];
     if (t->n > L->n_eep)
-        return hrt_set_error(err, HRT_E_INVALID, "EEP track %g Msun: %zu EEPs, route '%s' has %zu",
+        return trail_set_error(err, HRT_E_INVALID, "EEP track %g Msun: %zu EEPs, route '%s' has %zu",
                              t->initial_mass_msun, t->n, L->name, L->n_eep);
     if (t->n < L->n_eep && t->remnant != HRT_REMNANT_NONE)
-        return hrt_set_error(err, HRT_E_INVALID, "EEP track %g Msun: ends before the route's last EEP but names a "
+        return trail_set_error(err, HRT_E_INVALID, "EEP track %g Msun: ends before the route's last EEP but names a "
                              "remnant", t->initial_mass_msun);
     const double *cols[NCOL];
     btrack *bt = start_track(b, z, t, (int)t->n, cols, err, &rc);
@@ -322,7 +323,7 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
         return rc;
     for (size_t i = 0; i < t->n; i++) {
         for (int c = 0; c < NCOL; c++)
-            bt->col[c][i] = cols[c] ? cols[c][i] : hrt_log_r_from(t->log_l[i], t->log_teff_k[i]);
+            bt->col[c][i] = cols[c] ? cols[c][i] : trail_log_r_from(t->log_l[i], t->log_teff_k[i]);
         bt->phase[i] = t->phase[i];
     }
     return HRT_OK;
@@ -331,24 +332,24 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
 int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
 {
     if (!b)
-        return hrt_set_error(err, HRT_E_NULL, "builder is NULL");
+        return trail_set_error(err, HRT_E_NULL, "builder is NULL");
     int rc = check_columns(b, z, t, 0, err);
     if (rc != HRT_OK)
         return rc;
     const route_layout *L = &b->routes[t->route];
     size_t nk = t->n_keypoints;
     if (nk < 2 || nk > L->n_kp || !t->keypoint_sample)
-        return hrt_set_error(err, HRT_E_INVALID, "track %g Msun: %zu keypoints reached, route '%s' needs 2..%zu",
+        return trail_set_error(err, HRT_E_INVALID, "track %g Msun: %zu keypoints reached, route '%s' needs 2..%zu",
                              t->initial_mass_msun, nk, L->name, L->n_kp);
     for (size_t k = 0; k < nk; k++) {
         size_t s = t->keypoint_sample[k];
         if (s >= t->n || (k > 0 && s <= t->keypoint_sample[k - 1]))
-            return hrt_set_error(err, HRT_E_INVALID, "track %g Msun: keypoint '%s' at sample %zu is not after the "
+            return trail_set_error(err, HRT_E_INVALID, "track %g Msun: keypoint '%s' at sample %zu is not after the "
                                  "previous keypoint and inside the %zu samples", t->initial_mass_msun,
                                  L->kp_names[k], s, t->n);
     }
     if (nk < L->n_kp && t->remnant != HRT_REMNANT_NONE)
-        return hrt_set_error(err, HRT_E_INVALID, "track %g Msun: stops at keypoint '%s' but names a remnant",
+        return trail_set_error(err, HRT_E_INVALID, "track %g Msun: stops at keypoint '%s' but names a remnant",
                              t->initial_mass_msun, L->kp_names[nk - 1]);
     int ne = (int)L->kp_eep[nk - 1] + 1;
     const double *cols[NCOL];
@@ -364,7 +365,7 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
     double *dist = malloc(maxseg * sizeof(double));
     if (!dist) {
         drop_last(b, z);
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory resampling a track");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory resampling a track");
     }
     int e = 0;
     for (size_t k = 0; k + 1 < nk; k++) {
@@ -399,8 +400,8 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
                     v0 = src[sa + s];
                     v1 = src[sa + s + 1];
                 } else {
-                    v0 = hrt_log_r_from(t->log_l[sa + s], t->log_teff_k[sa + s]);
-                    v1 = hrt_log_r_from(t->log_l[sa + s + 1], t->log_teff_k[sa + s + 1]);
+                    v0 = trail_log_r_from(t->log_l[sa + s], t->log_teff_k[sa + s]);
+                    v1 = trail_log_r_from(t->log_l[sa + s + 1], t->log_teff_k[sa + s + 1]);
                 }
                 bt->col[c][e] = u == 0.0 ? v0 : v0 + u * (v1 - v0);
             }
@@ -409,7 +410,7 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
     }
     size_t sl = t->keypoint_sample[nk - 1];
     for (int c = 0; c < NCOL; c++)
-        bt->col[c][e] = cols[c] ? cols[c][sl] : hrt_log_r_from(t->log_l[sl], t->log_teff_k[sl]);
+        bt->col[c][e] = cols[c] ? cols[c][sl] : trail_log_r_from(t->log_l[sl], t->log_teff_k[sl]);
     bt->phase[e] = t->phase[sl];
     free(dist);
     /* Equal distance steps can still give equal log ages where a segment has
@@ -417,7 +418,7 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
     for (int i = 1; i < ne; i++) {
         if (!(bt->col[C_AGE][i] > bt->col[C_AGE][i - 1])) {
             drop_last(b, z);
-            return hrt_set_error(err, HRT_E_INVALID, "track %g Msun: resampled log ages not increasing at EEP %d "
+            return trail_set_error(err, HRT_E_INVALID, "track %g Msun: resampled log ages not increasing at EEP %d "
                                  "(raw samples too coarse for the segment's EEP count)", t->initial_mass_msun, i);
         }
     }
@@ -427,14 +428,14 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
 int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const double *m, hrt_error *err)
 {
     if (!b || !m)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_builder_set_route_boundaries: NULL argument");
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_set_route_boundaries: NULL argument");
     for (size_t k = 0; k + 1 < b->n_routes; k++)
         if (!(isfinite(m[k]) && m[k] > 0.0) || (k > 0 && m[k] < m[k - 1]))
-            return hrt_set_error(err, HRT_E_DOMAIN, "route boundary %zu: %g Msun is not positive and "
+            return trail_set_error(err, HRT_E_DOMAIN, "route boundary %zu: %g Msun is not positive and "
                                  "non-decreasing", k, m[k]);
     bgroup *g = find_group(b, z, 1);
     if (!g)
-        return hrt_set_error(err, HRT_E_NOMEM, "cannot add a metallicity group");
+        return trail_set_error(err, HRT_E_NOMEM, "cannot add a metallicity group");
     g->has_bound = 1;
     for (size_t k = 0; k + 1 < b->n_routes; k++)
         g->bound[k] = m[k];
@@ -444,18 +445,18 @@ int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const double *m, 
 int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *value, hrt_error *err)
 {
     if (!b || !name || !value)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_builder_set_attribute: NULL argument");
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_set_attribute: NULL argument");
     static const char reserved[3][16] = {"format", "format_version", "z_ref"}; /* no pointers: .rodata */
     for (size_t k = 0; k < 3; k++)
         if (strcmp(name, reserved[k]) == 0)
-            return hrt_set_error(err, HRT_E_INVALID, "attribute '%s' is written by the library", name);
+            return trail_set_error(err, HRT_E_INVALID, "attribute '%s' is written by the library", name);
     if (!valid_name(name))
-        return hrt_set_error(err, HRT_E_INVALID, "attribute name '%s' is not usable", name);
+        return trail_set_error(err, HRT_E_INVALID, "attribute name '%s' is not usable", name);
     for (size_t a = 0; a < b->n_attrs; a++) {
         if (strcmp(b->attrs[a].name, name) == 0) {
-            char *v = hrt_strdup(value);
+            char *v = trail_strdup(value);
             if (!v)
-                return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+                return trail_set_error(err, HRT_E_NOMEM, "out of memory");
             free(b->attrs[a].value);
             b->attrs[a].value = v;
             return HRT_OK;
@@ -463,14 +464,14 @@ int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *valu
     }
     attr_pair *p = realloc(b->attrs, (b->n_attrs + 1) * sizeof *p);
     if (!p)
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     b->attrs = p;
-    p[b->n_attrs].name = hrt_strdup(name);
-    p[b->n_attrs].value = hrt_strdup(value);
+    p[b->n_attrs].name = trail_strdup(name);
+    p[b->n_attrs].value = trail_strdup(value);
     if (!p[b->n_attrs].name || !p[b->n_attrs].value) {
         free(p[b->n_attrs].name);
         free(p[b->n_attrs].value);
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     }
     b->n_attrs++;
     return HRT_OK;
@@ -558,18 +559,18 @@ static int cmp_group(const void *a, const void *b)
 static int prepare_write(hrt_builder *b, hrt_error *err)
 {
     if (b->n_groups == 0)
-        return hrt_set_error(err, HRT_E_INVALID, "no tracks to write");
+        return trail_set_error(err, HRT_E_INVALID, "no tracks to write");
     qsort(b->grp, b->n_groups, sizeof *b->grp, cmp_group);
     for (size_t gi = 0; gi < b->n_groups; gi++) {
         bgroup *g = &b->grp[gi];
         if (g->n == 0)
-            return hrt_set_error(err, HRT_E_INVALID, "Z = %g: route boundaries set but no tracks", g->z);
+            return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundaries set but no tracks", g->z);
         qsort(g->t, g->n, sizeof *g->t, cmp_track);
         for (size_t i = 1; i < g->n; i++) {
             if (g->t[i].mass == g->t[i - 1].mass)
-                return hrt_set_error(err, HRT_E_INVALID, "Z = %g: two tracks of %g Msun", g->z, g->t[i].mass);
+                return trail_set_error(err, HRT_E_INVALID, "Z = %g: two tracks of %g Msun", g->z, g->t[i].mass);
             if (g->t[i].route < g->t[i - 1].route)
-                return hrt_set_error(err, HRT_E_INVALID, "Z = %g: track %g Msun (route '%s') lies above a track of "
+                return trail_set_error(err, HRT_E_INVALID, "Z = %g: track %g Msun (route '%s') lies above a track of "
                                      "a later route", g->z, g->t[i - 1].mass, b->routes[g->t[i - 1].route].name);
         }
         for (size_t k = 0; k + 1 < b->n_routes; k++) {
@@ -583,7 +584,7 @@ static int prepare_write(hrt_builder *b, hrt_error *err)
             if (g->has_bound) {
                 double m = g->bound[k];
                 if ((below > 0.0 && !(m > below)) || (above > 0.0 && !(m < above)))
-                    return hrt_set_error(err, HRT_E_INVALID, "Z = %g: route boundary %zu at %g Msun does not "
+                    return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundary %zu at %g Msun does not "
                                          "separate the tracks of its routes (%g, %g)", g->z, k, m, below, above);
             } else {
                 double m = below > 0.0 && above > 0.0 ? sqrt(below * above)
@@ -621,7 +622,7 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
     w_strings(w, f, "remnant_keys", HRT_REMNANT_COUNT, rk);
 
     hid_t rg = w_group(w, f, "routes");
-    const char *rn[HRT_MAX_ROUTES];
+    const char *rn[TRAIL_MAX_ROUTES];
     for (size_t r = 0; r < b->n_routes; r++)
         rn[r] = b->routes[r].name;
     if (rg >= 0) {
@@ -657,7 +658,7 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
     }
     hid_t mg = w_group(w, f, "metallicity");
     if (mg < 0)
-        return hrt_set_error(err, HRT_E_IO, "cannot create group 'metallicity'");
+        return trail_set_error(err, HRT_E_IO, "cannot create group 'metallicity'");
     size_t J = b->n_eep_max;
     for (size_t gi = 0; gi < b->n_groups && !w->failed; gi++) {
         const bgroup *g = &b->grp[gi];
@@ -675,7 +676,7 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
             free(iv);
             H5Gclose(gg);
             H5Gclose(mg);
-            return hrt_set_error(err, HRT_E_NOMEM, "out of memory writing Z = %g", g->z);
+            return trail_set_error(err, HRT_E_NOMEM, "out of memory writing Z = %g", g->z);
         }
         hsize_t d1[1] = {n}, d2[2] = {n, J}, db[1] = {b->n_routes - 1};
         for (size_t i = 0; i < n; i++)
@@ -710,24 +711,24 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
         H5Gclose(gg);
     }
     H5Gclose(mg);
-    return w->failed ? hrt_set_error(err, HRT_E_IO, "HDF5 refused to write part of the grid") : HRT_OK;
+    return w->failed ? trail_set_error(err, HRT_E_IO, "HDF5 refused to write part of the grid") : HRT_OK;
 }
 
 int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
 {
     if (!b || !path)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_builder_write: %s is NULL", !b ? "builder" : "path");
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_write: %s is NULL", !b ? "builder" : "path");
     int rc = prepare_write(b, err);
     if (rc != HRT_OK)
         return rc;
     size_t len = strlen(path);
     char *tmp = malloc(len + 16);
     if (!tmp)
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     snprintf(tmp, len + 16, "%s.tmp-XXXXXX", path);
     int fd = mkstemp(tmp);
     if (fd < 0) {
-        rc = hrt_set_error(err, HRT_E_IO, "cannot create a temporary file beside '%s': %s", path, strerror(errno));
+        rc = trail_set_error(err, HRT_E_IO, "cannot create a temporary file beside '%s': %s", path, strerror(errno));
         free(tmp);
         return rc;
     }
@@ -755,17 +756,17 @@ int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
         H5Pset_obj_track_times(w.gcpl, 0);
         hid_t f = H5Fcreate(tmp, H5F_ACC_TRUNC, fcpl, fapl);
         if (f < 0) {
-            rc = hrt_set_error(err, HRT_E_IO, "cannot create HDF5 file '%s'", tmp);
+            rc = trail_set_error(err, HRT_E_IO, "cannot create HDF5 file '%s'", tmp);
         } else {
             rc = write_contents(b, f, &w, err);
             if (rc == HRT_OK && (H5Fflush(f, H5F_SCOPE_GLOBAL) < 0 || (img_size = H5Fget_file_image(f, NULL, 0)) <= 0))
-                rc = hrt_set_error(err, HRT_E_IO, "HDF5 cannot complete the image of '%s'", tmp);
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot complete the image of '%s'", tmp);
             if (rc == HRT_OK && !(img = malloc((size_t)img_size)))
-                rc = hrt_set_error(err, HRT_E_NOMEM, "out of memory for the %zd bytes of '%s'", img_size, tmp);
+                rc = trail_set_error(err, HRT_E_NOMEM, "out of memory for the %zd bytes of '%s'", img_size, tmp);
             if (rc == HRT_OK && H5Fget_file_image(f, img, (size_t)img_size) != img_size)
-                rc = hrt_set_error(err, HRT_E_IO, "HDF5 cannot copy the image of '%s'", tmp);
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot copy the image of '%s'", tmp);
             if (H5Fclose(f) < 0 && rc == HRT_OK)
-                rc = hrt_set_error(err, HRT_E_IO, "HDF5 cannot close the image of '%s'", tmp);
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot close the image of '%s'", tmp);
         }
         H5Pclose(fapl);
         H5Pclose(fcpl);
@@ -779,18 +780,18 @@ int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
         if (k < 0 && errno == EINTR)
             continue;
         if (k <= 0)
-            rc = hrt_set_error(err, HRT_E_IO, "cannot write '%s' (%zu of %zd bytes written): %s", tmp, done, img_size,
+            rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' (%zu of %zd bytes written): %s", tmp, done, img_size,
                                k < 0 ? strerror(errno) : "no progress");
         else
             done += (size_t)k;
     }
     free(img);
     if (rc == HRT_OK && fsync(fd) != 0)
-        rc = hrt_set_error(err, HRT_E_IO, "cannot write '%s' to the disk: %s", tmp, strerror(errno));
+        rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' to the disk: %s", tmp, strerror(errno));
     if (close(fd) != 0 && rc == HRT_OK)
-        rc = hrt_set_error(err, HRT_E_IO, "cannot finish writing '%s': %s", tmp, strerror(errno));
+        rc = trail_set_error(err, HRT_E_IO, "cannot finish writing '%s': %s", tmp, strerror(errno));
     if (rc == HRT_OK && rename(tmp, path) != 0)
-        rc = hrt_set_error(err, HRT_E_IO, "cannot rename '%s' to '%s': %s", tmp, path, strerror(errno));
+        rc = trail_set_error(err, HRT_E_IO, "cannot rename '%s' to '%s': %s", tmp, path, strerror(errno));
     if (rc != HRT_OK)
         unlink(tmp);
     free(tmp);

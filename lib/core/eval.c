@@ -3,24 +3,10 @@
 #include <math.h>
 #include <string.h>
 
-#include "internal.h"
-
-/* log10 g of the Sun in cgs from the nominal (GM)sun and Rsun (IAU 2015 B3). */
-#define LOG_G_SUN_CGS 4.438067627303133
-/* log10 of the nominal solar Teff, 5772 K (IAU 2015 B3). */
-#define LOG_TEFF_SUN 3.7613263224214566
-
-double hrt_log_r_from(double log_l, double log_teff)
-{
-    /* L/Lsun = (R/Rsun)^2 (Teff/Teff_sun)^4 with the nominal solar values,
-     * which satisfy the Stefan-Boltzmann law to 2e-6 (IAU 2015 B3). */
-    return 0.5 * log_l - 2.0 * (log_teff - LOG_TEFF_SUN);
-}
-
-double hrt_log_g_from(double mass_msun, double log_r) { return LOG_G_SUN_CGS + hrt_log10(mass_msun) - 2.0 * log_r; }
+#include "core/core.h"
 
 /* Mass context of one group for route r at log mass x. */
-int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
+int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
 {
     size_t lo = gp->route_lo[r], hi = gp->route_hi[r];
     m->gp = gp;
@@ -60,11 +46,11 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
     }
     m->i = a;
     m->interior = 1;
-    hrt_hermite_weights(g->interp, lm[a], lm[a + 1], x, m->w);
+    trail_hermite_weights(g->interp, lm[a], lm[a + 1], x, m->w);
     double lam = gp->age_lambda[a];
     if (lam < 1.0) {
         double wl[4];
-        hrt_hermite_weights(HRT_INTERP_LINEAR, lm[a], lm[a + 1], x, wl);
+        trail_hermite_weights(HRT_INTERP_LINEAR, lm[a], lm[a + 1], x, wl);
         for (int c = 0; c < 4; c++)
             m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
     } else {
@@ -78,7 +64,7 @@ int hrt_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
     return HRT_OK;
 }
 
-static int z_type(const hrt_grid *g) { return hrt_interp_effective(g->interp, g->n_z); }
+static int z_type(const hrt_grid *g) { return trail_interp_effective(g->interp, g->n_z); }
 
 /* The metallicity part of a query context: bracketing groups and weights
  * across [Fe/H].  It does not depend on the mass, so a batch at one Z
@@ -88,11 +74,11 @@ static int qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err)
     q->g = g;
     q->z = z;
     if (!isfinite(z) || z <= 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", z);
+        return trail_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", z);
     size_t nz = g->n_z;
     double zlo = g->grp[0].z, zhi = g->grp[nz - 1].z;
     if (z < zlo * (1.0 - 1e-12) || z > zhi * (1.0 + 1e-12))
-        return hrt_set_error(err, HRT_E_Z_RANGE, "metallicity Z = %g is outside the grid's %g .. %g", z, zlo, zhi);
+        return trail_set_error(err, HRT_E_Z_RANGE, "metallicity Z = %g is outside the grid's %g .. %g", z, zlo, zhi);
     /* Bracketing groups, or the one group of this metallicity. */
     size_t g0 = 0;
     q->single = 0;
@@ -114,11 +100,11 @@ static int qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err)
         q->hz = 1.0;
         q->g_near = g0;
     } else {
-        q->feh = hrt_log10(z / g->z_ref);
+        q->feh = trail_log10(z / g->z_ref);
         q->hz = g->grp[g0 + 1].feh - g->grp[g0].feh;
         q->tz = (q->feh - g->grp[g0].feh) / q->hz;
         q->g_near = q->tz <= 0.5 ? g0 : g0 + 1;
-        hrt_hermite_weights(z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->feh, q->zw);
+        trail_hermite_weights(z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->feh, q->zw);
     }
     return HRT_OK;
 }
@@ -147,7 +133,7 @@ static int qctx_mass(qctx *q, double mass, hrt_error *err)
     q->flags = 0;
     q->n_eep = 0;
     if (!isfinite(mass) || mass <= 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
+        return trail_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
     /* Route from the boundary masses, linear in [Fe/H] between groups. */
     int route = 0;
     for (size_t b = 0; b + 1 < g->n_routes; b++) {
@@ -164,7 +150,7 @@ static int qctx_mass(qctx *q, double mass, hrt_error *err)
         const zgroup *gp = &g->grp[k];
         double lo = gp->mass[0], hi = gp->mass[gp->n_mass - 1];
         if (mass < lo * (1.0 - 1e-12) || mass > hi * (1.0 + 1e-12))
-            return hrt_set_error(err, HRT_E_MASS_RANGE,
+            return trail_set_error(err, HRT_E_MASS_RANGE,
                                  "initial mass %g Msun is outside the grid's %g .. %g Msun at Z = %g", mass, lo, hi,
                                  gp->z);
     }
@@ -201,12 +187,12 @@ static int qctx_mass(qctx *q, double mass, hrt_error *err)
     }
     q->g_lo = s_lo;
     q->g_hi = s_hi;
-    double x = hrt_log10(mass);
+    double x = trail_log10(mass);
     int ne = 1 << 30;
     for (size_t k = s_lo; k <= s_hi; k++) {
         mctx *m = &q->m[k - s_lo];
-        if (hrt_mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
-            return hrt_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
+        if (trail_mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
+            return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
                                  g->routes[route].name, g->grp[k].z, mass);
         if (m->n_eep < ne)
             ne = m->n_eep;
@@ -220,7 +206,7 @@ static int qctx_mass(qctx *q, double mass, hrt_error *err)
     return HRT_OK;
 }
 
-int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err)
+int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err)
 {
     q->g = g;
     q->mass = mass;
@@ -229,7 +215,7 @@ int hrt_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *
     q->flags = 0;
     q->n_eep = 0;
     if (!isfinite(mass) || mass <= 0.0)
-        return hrt_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
+        return trail_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
     int rc = qctx_z(g, z, q, err);
     return rc != HRT_OK ? rc : qctx_mass(q, mass, err);
 }
@@ -243,13 +229,13 @@ static inline double group_value(const qctx *q, size_t k, int qn, int j)
         const double *a = gp->age_iv + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->wa;
         return w[0] * a[0] + w[1] * a[1] + w[2] * a[2] + w[3] * a[3];
     }
-    const double *p = hrt_hv(gp, (size_t)j, m->i, qn);
+    const double *p = trail_hv(gp, (size_t)j, m->i, qn);
     const double *w = m->w;
     return w[0] * p[0] + w[1] * p[1] + w[2] * p[2 * NQ] + w[3] * p[2 * NQ + 1];
 }
 
 /* Steffen (1990) slope at knot k of n, one-sided secants at the ends (as
- * hrt_slopes_local and GSL's gsl_interp_steffen). */
+ * trail_slopes_local and GSL's gsl_interp_steffen). */
 static inline double steffen_slope(const double *x, const double *y, size_t n, size_t k)
 {
     if (k == 0)
@@ -274,13 +260,13 @@ static void z_slopes(int zt, size_t n, const double *xs, const double *ys, size_
         *d1 = steffen_slope(xs, ys, n, a + 1);
         return;
     }
-    double ds[HRT_MAX_Z];
-    hrt_slopes_local(zt, n, xs, ys, ds);
+    double ds[TRAIL_MAX_Z];
+    trail_slopes_local(zt, n, xs, ys, ds);
     *d0 = ds[a];
     *d1 = ds[a + 1];
 }
 
-double hrt_q_value(const qctx *q, int qn, int j)
+double trail_q_value(const qctx *q, int qn, int j)
 {
     size_t g0 = q->g0;
     if (q->single)
@@ -292,7 +278,7 @@ double hrt_q_value(const qctx *q, int qn, int j)
          * sequences increases, so the interpolated track stays ordered. */
         return (1.0 - tz) * group_value(q, g0, qn, j) + tz * group_value(q, g0 + 1, qn, j);
     }
-    double ys[HRT_MAX_Z];
+    double ys[TRAIL_MAX_Z];
     size_t n = q->g_hi - q->g_lo + 1, a = g0 - q->g_lo;
     for (size_t k = 0; k < n; k++)
         ys[k] = group_value(q, q->g_lo + k, qn, j);
@@ -302,22 +288,22 @@ double hrt_q_value(const qctx *q, int qn, int j)
     return w[0] * ys[a] + w[1] * d0 + w[2] * ys[a + 1] + w[3] * d1;
 }
 
-void hrt_q_values(const qctx *q, int j, double v[NQS])
+void trail_q_values(const qctx *q, int j, double v[NQS])
 {
     if (q->single) {
         const mctx *m = &q->m[q->g0 - q->g_lo];
-        const double *p = hrt_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        const double *p = trail_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
         for (int c = 0; c < NQS; c++)
             v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
         return;
     }
     /* All quantities of a group at once: their knot data are contiguous. */
-    double ys[NQS][HRT_MAX_Z];
+    double ys[NQS][TRAIL_MAX_Z];
     size_t n = q->single ? 1 : q->g_hi - q->g_lo + 1;
     size_t k0 = q->single ? q->g0 - q->g_lo : 0;
     for (size_t k = 0; k < n; k++) {
         const mctx *m = &q->m[k0 + k];
-        const double *p = hrt_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        const double *p = trail_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
         for (int c = 0; c < NQS; c++)
             ys[c][k] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
     }
@@ -343,13 +329,13 @@ void hrt_q_values(const qctx *q, int j, double v[NQS])
 
 static const mctx *near_track(const qctx *q) { return &q->m[q->g_near - q->g_lo]; }
 
-int hrt_q_phase(const qctx *q, int j)
+int trail_q_phase(const qctx *q, int j)
 {
     const mctx *m = near_track(q);
     return m->gp->phase[m->near * q->g->n_eep_max + (size_t)j];
 }
 
-void hrt_q_phase_run(const qctx *q, int j, int *js, int *je)
+void trail_q_phase_run(const qctx *q, int j, int *js, int *je)
 {
     const mctx *m = near_track(q);
     const int32_t *ru = m->gp->runs + (m->near * q->g->n_eep_max + (size_t)j) * 2;
@@ -366,11 +352,11 @@ void hrt_q_phase_run(const qctx *q, int j, int *js, int *je)
  * overshoot of a cubic type) is replaced by the nearest track's. */
 static double remnant_bounded(int kind, double m, double nearest)
 {
-    int wd = hrt_remnant_family(kind) == HRT_REMNANT_CO_WD;
+    int wd = trail_remnant_family(kind) == HRT_REMNANT_CO_WD;
     return (m > 0.0 && (!wd || m < 1.44)) ? m : nearest;
 }
 
-void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
+void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
 {
     const mctx *mn = near_track(q);
     if (q->single) {
@@ -379,12 +365,12 @@ void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
         size_t i = mn->i;
         int k0 = gp->remnant[mn->near];
         *kind = k0;
-        int f0 = hrt_remnant_family(k0);
+        int f0 = trail_remnant_family(k0);
         int use0 = mn->w[0] != 0.0 || mn->w[1] != 0.0, use1 = mn->w[2] != 0.0 || mn->w[3] != 0.0;
         if (k0 == HRT_REMNANT_NONE) {
             *mass_msun = NAN;
-        } else if ((use0 && hrt_remnant_family(gp->remnant[i]) != f0) ||
-                   (use1 && hrt_remnant_family(gp->remnant[i + 1]) != f0)) {
+        } else if ((use0 && trail_remnant_family(gp->remnant[i]) != f0) ||
+                   (use1 && trail_remnant_family(gp->remnant[i + 1]) != f0)) {
             *mass_msun = gp->remnant_hv[2 * mn->near];
         } else {
             const double *p = gp->remnant_hv + 2 * i, *w = mn->w;
@@ -400,7 +386,7 @@ void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
         for (int s = 0; s < 2; s++) {
             size_t t = m->i + (size_t)s;
             if ((m->w[2 * s] != 0.0 || m->w[2 * s + 1] != 0.0) &&
-                hrt_remnant_family(m->gp->remnant[t]) != hrt_remnant_family(k0))
+                trail_remnant_family(m->gp->remnant[t]) != trail_remnant_family(k0))
                 same = 0;
         }
     }
@@ -423,24 +409,7 @@ void hrt_q_remnant(const qctx *q, int *kind, double *mass_msun)
                                  mn->gp->remnant_hv[2 * mn->near]);
 }
 
-int hrt_bracket(const double *a, int n, double x)
-{
-    if (n <= 0 || !(x >= a[0]))
-        return -1;
-    int lo = 0, hi = n - 1;
-    if (x >= a[hi])
-        return hi;
-    while (hi - lo > 1) {
-        int c = lo + (hi - lo) / 2;
-        if (a[c] <= x)
-            lo = c;
-        else
-            hi = c;
-    }
-    return lo;
-}
-
-void hrt_state_clear(hrt_state *s, double mass, double z, double age_yr)
+void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
 {
     memset(s, 0, sizeof *s);
     s->struct_size = (uint32_t)sizeof *s;
@@ -454,7 +423,7 @@ void hrt_state_clear(hrt_state *s, double mass, double z, double age_yr)
     s->remnant_mass_msun = NAN;
 }
 
-void hrt_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f)
+void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f)
 {
     double v[NQS];
     for (int k = 0; k < NQS; k++)
@@ -465,14 +434,14 @@ void hrt_state_from_values(hrt_state *s, const double v0[NQS], const double v1[N
     s->mass_msun = m0 * v[Q_MASS - 1];
     s->he_core_msun = m0 * v[Q_HE - 1];
     s->co_core_msun = m0 * v[Q_CO - 1];
-    s->log_r = hrt_log_r_from(s->log_l, s->log_teff_k);
-    s->log_g_cgs = hrt_log_g_from(s->mass_msun, s->log_r);
+    s->log_r = trail_log_r_from(s->log_l, s->log_teff_k);
+    s->log_g_cgs = trail_log_g_from(s->mass_msun, s->log_r);
 }
 
 /* Nominal neutron-star radius, km (common practice: 11-13 km). */
 #define NS_RADIUS_KM 12.0
 
-void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr)
+void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr)
 {
     s->flags |= HRT_FLAG_REMNANT;
     s->phase_start_yr = t_last_yr;
@@ -488,17 +457,17 @@ void hrt_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_las
         /* The remnant test is made on log ages; in years the age can then
          * fall a rounding error short of t_last: cooling has not begun. */
         s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
-        s->log_r = hrt_log10(hrt_wd_radius_rsun(rem_mass));
-        s->log_teff_k = LOG_TEFF_SUN + 0.25 * (s->log_l - 2.0 * s->log_r);
-        s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
+        s->log_r = trail_log10(hrt_wd_radius_rsun(rem_mass));
+        s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l - 2.0 * s->log_r);
+        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r);
         s->he_core_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
         s->co_core_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
         break;
     case HRT_REMNANT_NS:
         s->phase = HRT_PHASE_NS;
         s->flags |= HRT_FLAG_DARK;
-        s->log_r = hrt_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
-        s->log_g_cgs = hrt_log_g_from(rem_mass, s->log_r);
+        s->log_r = trail_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
+        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r);
         s->log_l = s->log_teff_k = NAN;
         s->he_core_msun = s->co_core_msun = NAN;
         break;
@@ -522,22 +491,22 @@ static inline double grid_age(const qctx *q, int j)
 /* Where a state's ages and values come from: a star's stored track (S
  * non-NULL) or the grid. Both give the same numbers for the same EEP, so
  * hrt_star_at and hrt_eval agree to the bit. */
-static inline double src_age(const qctx *q, const hrt_track_arrays *S, int j)
+static inline double src_age(const qctx *q, const trail_track_arrays *S, int j)
 {
     return S ? S->age[j] : grid_age(q, j);
 }
 
-static inline double src_age_yr(const qctx *q, const hrt_track_arrays *S, int j)
+static inline double src_age_yr(const qctx *q, const trail_track_arrays *S, int j)
 {
-    return S ? S->age_yr[j] : hrt_exp10(grid_age(q, j));
+    return S ? S->age_yr[j] : trail_exp10(grid_age(q, j));
 }
 
-static inline void src_values(const qctx *q, const hrt_track_arrays *S, int j, double v[NQS])
+static inline void src_values(const qctx *q, const trail_track_arrays *S, int j, double v[NQS])
 {
     if (S)
         memcpy(v, S->val + (size_t)j * NQS, NQS * sizeof(double));
     else
-        hrt_q_values(q, j, v);
+        trail_q_values(q, j, v);
 }
 
 /* A starting EEP for the search: the bracket of log age lt in the
@@ -549,15 +518,15 @@ static int q_hint(const qctx *q, double lt)
     double k = (lt - x[0]) * x[1];
     if (!(k >= 0.0))
         return 0;
-    if (k >= HRT_AGE_TAB)
+    if (k >= TRAIL_AGE_TAB)
         return q->n_eep - 2;
-    return m->gp->age_tab[m->near * HRT_AGE_TAB + (size_t)k];
+    return m->gp->age_tab[m->near * TRAIL_AGE_TAB + (size_t)k];
 }
 
 /* Largest j in [0, n - 2] with A(j) <= lt, given A(0) <= lt < A(n - 1).
  * Ages increase with EEP, so the answer is unique: a star's stored track
  * is bisected, the grid is searched by galloping from a hint. */
-static int find_eep(const qctx *q, const hrt_track_arrays *S, int n, double lt, double a_first, double a_last,
+static int find_eep(const qctx *q, const trail_track_arrays *S, int n, double lt, double a_first, double a_last,
                     double *a_lo, double *a_hi)
 {
     int lo = 0, hi = n - 1;
@@ -627,10 +596,10 @@ static int find_eep(const qctx *q, const hrt_track_arrays *S, int n, double lt, 
     return lo;
 }
 
-int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, double rmass, double age_yr,
+int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
                          hrt_state *s)
 {
-    hrt_state_clear(s, q->mass, q->z, age_yr);
+    trail_state_clear(s, q->mass, q->z, age_yr);
     s->route = q->route;
     s->flags = q->flags;
     if (!isfinite(age_yr) || age_yr < 0.0) {
@@ -638,7 +607,7 @@ int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, dou
         return HRT_E_DOMAIN;
     }
     int n = q->n_eep;
-    double lt = age_yr > 0.0 ? hrt_log10(age_yr) : -INFINITY;
+    double lt = age_yr > 0.0 ? trail_log10(age_yr) : -INFINITY;
     s->remnant = kind;
     s->remnant_mass_msun = rmass;
     double a_first = src_age(q, S, 0), a_last = src_age(q, S, n - 1);
@@ -658,7 +627,7 @@ int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, dou
         }
         double v[NQS];
         src_values(q, S, n - 1, v);
-        hrt_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1));
+        trail_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1));
         return HRT_OK;
     }
     double aj, aj1;
@@ -667,7 +636,7 @@ int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, dou
     double v0[NQS], v1[NQS];
     src_values(q, S, j, v0);
     src_values(q, S, j + 1, v1);
-    hrt_state_from_values(s, v0, v1, f);
+    trail_state_from_values(s, v0, v1, f);
     s->eep = j + f;
     int js, je;
     if (S) {
@@ -675,8 +644,8 @@ int hrt_state_at_generic(const qctx *q, const hrt_track_arrays *S, int kind, dou
         js = S->runs[2 * j];
         je = S->runs[2 * j + 1];
     } else {
-        s->phase = hrt_q_phase(q, j);
-        hrt_q_phase_run(q, j, &js, &je);
+        s->phase = trail_q_phase(q, j);
+        trail_q_phase_run(q, j, &js, &je);
     }
     s->phase_start_yr = src_age_yr(q, S, js);
     s->phase_end_yr = src_age_yr(q, S, je);
@@ -696,7 +665,7 @@ typedef struct zcache {
     qctx q; /* only its metallicity fields are meaningful */
 } zcache;
 
-/* hrt_qctx_init, reusing the metallicity part when Z repeats. */
+/* trail_qctx_init, reusing the metallicity part when Z repeats. */
 static int init_star(const hrt_grid *g, double mass, double z, qctx *q, zcache *zc, hrt_error *err)
 {
     if (!(z == zc->z)) {
@@ -704,7 +673,7 @@ static int init_star(const hrt_grid *g, double mass, double z, qctx *q, zcache *
         zc->z = z;
     }
     if (zc->rc != HRT_OK || !isfinite(mass) || mass <= 0.0)
-        return hrt_qctx_init(g, mass, z, q, err); /* the full path words the error */
+        return trail_qctx_init(g, mass, z, q, err); /* the full path words the error */
     qctx_copy_z(q, &zc->q);
     return qctx_mass(q, mass, err);
 }
@@ -715,7 +684,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     if (n == 0)
         return HRT_OK;
     if (!g || !mass_msun || !age_yr || !out)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
+        return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
                              !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
     int first = HRT_OK;
     /* The next star's context is prepared, and the grid data its age
@@ -738,11 +707,11 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         if (i + 1 < n) {
             rc_nxt = init_star(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
             if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->single) {
-                int j = q_hint(nxt, hrt_log10(age_yr[i + 1]));
+                int j = q_hint(nxt, trail_log10(age_yr[i + 1]));
                 const mctx *m = &nxt->m[nxt->g0 - nxt->g_lo];
                 if (j >= 0 && j + 1 < nxt->n_eep) {
-                    const char *p0 = (const char *)hrt_hv(m->gp, (size_t)j, m->i, 0);
-                    const char *p1 = (const char *)hrt_hv(m->gp, (size_t)j + 1, m->i, 0);
+                    const char *p0 = (const char *)trail_hv(m->gp, (size_t)j, m->i, 0);
+                    const char *p1 = (const char *)trail_hv(m->gp, (size_t)j + 1, m->i, 0);
                     const char *pa = (const char *)(m->gp->age_iv + (m->i * g->n_eep_max + (size_t)j) * 4);
                     __builtin_prefetch(pa);
                     __builtin_prefetch(pa + 64);
@@ -757,18 +726,18 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         if (rc == HRT_OK) {
             int kind;
             double rmass;
-            hrt_q_remnant(cur, &kind, &rmass);
-            rc = hrt_state_at_generic(cur, NULL, kind, rmass, age_yr[i], &out[i]);
+            trail_q_remnant(cur, &kind, &rmass);
+            rc = trail_state_at_generic(cur, NULL, kind, rmass, age_yr[i], &out[i]);
             if (rc != HRT_OK && first == HRT_OK)
-                hrt_set_error(ecur, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
+                trail_set_error(ecur, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
         } else {
-            hrt_state_clear(&out[i], mass_msun[i], zi, age_yr[i]);
+            trail_state_clear(&out[i], mass_msun[i], zi, age_yr[i]);
             out[i].status = rc;
             out[i].route = cur->route;
         }
         if (rc != HRT_OK && first == HRT_OK) {
             first = rc;
-            hrt_set_error(err, rc, "star %zu: %s", i, ecur->message);
+            trail_set_error(err, rc, "star %zu: %s", i, ecur->message);
         }
         qctx *tq = cur;
         cur = nxt;

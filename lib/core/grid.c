@@ -5,7 +5,7 @@
 #include <string.h>
 #include <sys/stat.h>
 
-#include "internal.h"
+#include "core/core.h"
 
 #ifndef HRT_DATADIR
 #define HRT_DATADIR "/usr/local/share/hrtrail"
@@ -23,28 +23,28 @@ const char *hrt_default_grid_path(void)
 int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error *err)
 {
     if (!grid)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_grid_open: grid pointer is NULL");
+        return trail_set_error(err, HRT_E_NULL, "hrt_grid_open: grid pointer is NULL");
     *grid = NULL;
     if (interp < 0 || interp >= HRT_INTERP_COUNT)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_grid_open: unknown interpolation type %d", interp);
+        return trail_set_error(err, HRT_E_INVALID, "hrt_grid_open: unknown interpolation type %d", interp);
     if (!path) {
         path = hrt_default_grid_path();
-        struct stat st; /* not a regular file: not opened here (a pipe would block); hrt_grid_read refuses it */
+        struct stat st; /* not a regular file: not opened here (a pipe would block); trail_grid_read refuses it */
         int special = stat(path, &st) == 0 && !S_ISREG(st.st_mode);
         FILE *f = special ? NULL : fopen(path, "rb");
         if (!special && !f)
-            return hrt_set_error(err, HRT_E_NOT_FOUND,
+            return trail_set_error(err, HRT_E_NOT_FOUND,
                                  "no default grid at '%s' (set HRTRAIL_GRID or install hrtrail's data)", path);
         if (f)
             fclose(f);
     }
     hrt_grid *g = calloc(1, sizeof *g);
     if (!g)
-        return hrt_set_error(err, HRT_E_NOMEM, "hrt_grid_open: out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_grid_open: out of memory");
     g->interp = interp;
-    int rc = hrt_grid_read(path, g, err);
+    int rc = trail_grid_read(path, g, err);
     if (rc == HRT_OK)
-        rc = hrt_grid_prepare(g, err);
+        rc = trail_grid_prepare(g, err);
     if (rc != HRT_OK) {
         hrt_grid_close(g);
         return rc;
@@ -52,7 +52,7 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
     g->bytes += sizeof *g;
     *grid = g;
     if (err)
-        hrt_set_error(err, HRT_OK, NULL);
+        trail_set_error(err, HRT_OK, NULL);
     return HRT_OK;
 }
 
@@ -65,7 +65,7 @@ void hrt_grid_close(hrt_grid *g)
 {
     if (!g)
         return;
-    hrt_grid_free_contents(g);
+    trail_grid_free_contents(g);
     free(g);
 }
 
@@ -193,7 +193,7 @@ int hrt_grid_route_of(const hrt_grid *g, double mass_msun, double z, int *route)
     if (!g || !route)
         return HRT_E_NULL;
     qctx q;
-    int rc = hrt_qctx_init(g, mass_msun, z, &q, NULL);
+    int rc = trail_qctx_init(g, mass_msun, z, &q, NULL);
     if (rc != HRT_OK && rc != HRT_E_NO_TRACK)
         return rc;
     *route = q.route;

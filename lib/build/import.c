@@ -9,7 +9,8 @@
 #include <string.h>
 #include <strings.h>
 
-#include "internal.h"
+#include "util/schema.h"
+#include "util/util.h"
 
 /* ---- the column map ----------------------------------------------------- */
 
@@ -68,17 +69,17 @@ struct hrt_import {
     double z_ref;
     int lenient, ran;
     size_t n_routes;
-    route_layout routes[HRT_MAX_ROUTES]; /* names, keypoint names, kp_eep as segment ends */
-    int *seg[HRT_MAX_ROUTES];
-    const char **kp_ptr[HRT_MAX_ROUTES];
-    hrt_route_spec spec[HRT_MAX_ROUTES];
+    route_layout routes[TRAIL_MAX_ROUTES]; /* names, keypoint names, kp_eep as segment ends */
+    int *seg[TRAIL_MAX_ROUTES];
+    const char **kp_ptr[TRAIL_MAX_ROUTES];
+    hrt_route_spec spec[TRAIL_MAX_ROUTES];
     size_t n_tracks, cap;
     trk *t;
     void (*progress)(void *, size_t, size_t, const char *);
     void *progress_user;
     size_t n_z;
-    double zs[HRT_MAX_Z];
-    double bound[HRT_MAX_Z][HRT_MAX_ROUTES];
+    double zs[TRAIL_MAX_Z];
+    double bound[TRAIL_MAX_Z][TRAIL_MAX_ROUTES];
 };
 
 /* The default grid's routes (mirroring tracks/model.h). */
@@ -118,16 +119,16 @@ static int store_routes(hrt_import *imp, size_t n, const char *const *names, con
     for (size_t r = 0; r < n; r++) {
         route_layout *L = &imp->routes[r];
         imp->n_routes = r + 1;
-        L->name = hrt_strdup(names[r]);
+        L->name = trail_strdup(names[r]);
         L->n_kp = nkp[r];
         L->kp_names = calloc(nkp[r], sizeof(char *));
         imp->seg[r] = malloc(nkp[r] * sizeof(int));
         imp->kp_ptr[r] = calloc(nkp[r], sizeof(char *));
         if (!L->name || !L->kp_names || !imp->seg[r] || !imp->kp_ptr[r])
-            return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            return trail_set_error(err, HRT_E_NOMEM, "out of memory");
         for (size_t k = 0; k < nkp[r]; k++) {
-            if (!(L->kp_names[k] = hrt_strdup(kpn[r][k])))
-                return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            if (!(L->kp_names[k] = trail_strdup(kpn[r][k])))
+                return trail_set_error(err, HRT_E_NOMEM, "out of memory");
             imp->kp_ptr[r][k] = L->kp_names[k];
             if (k + 1 < nkp[r])
                 imp->seg[r][k] = seg[r][k];
@@ -140,11 +141,11 @@ static int store_routes(hrt_import *imp, size_t n, const char *const *names, con
 int hrt_import_new(hrt_import **out, hrt_error *err)
 {
     if (!out)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_new: import is NULL");
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_new: import is NULL");
     *out = NULL;
     hrt_import *imp = calloc(1, sizeof *imp);
     if (!imp)
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     imp->z_ref = 0.014;
     const char *names[3], *kp[3][9];
     const char *const *kpn[3];
@@ -210,25 +211,25 @@ void hrt_import_free(hrt_import *imp)
 int hrt_import_set_routes(hrt_import *imp, size_t n, const hrt_route_spec *routes, hrt_error *err)
 {
     if (!imp || !routes)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_set_routes: NULL argument");
-    if (n < 1 || n > HRT_MAX_ROUTES || n > 32)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_import_set_routes: %zu routes (1..%d)", n, HRT_MAX_ROUTES);
-    const char *names[HRT_MAX_ROUTES];
-    const char *const *kpn[HRT_MAX_ROUTES];
-    const int *seg[HRT_MAX_ROUTES];
-    size_t nkp[HRT_MAX_ROUTES];
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_set_routes: NULL argument");
+    if (n < 1 || n > TRAIL_MAX_ROUTES || n > 32)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_import_set_routes: %zu routes (1..%d)", n, TRAIL_MAX_ROUTES);
+    const char *names[TRAIL_MAX_ROUTES];
+    const char *const *kpn[TRAIL_MAX_ROUTES];
+    const int *seg[TRAIL_MAX_ROUTES];
+    size_t nkp[TRAIL_MAX_ROUTES];
     for (size_t r = 0; r < n; r++) {
         const hrt_route_spec *s = &routes[r];
         if (!s->name || !s->keypoint_names || !s->segment_samples || s->n_keypoints < 2 ||
             s->n_keypoints > HRT_IMPORT_MAX_KP)
-            return hrt_set_error(err, HRT_E_INVALID, "route %zu: needs a name, 2..%d keypoints and segment counts",
+            return trail_set_error(err, HRT_E_INVALID, "route %zu: needs a name, 2..%d keypoints and segment counts",
                                  r, HRT_IMPORT_MAX_KP);
         for (size_t k = 0; k < s->n_keypoints; k++)
             if (!s->keypoint_names[k] || !*s->keypoint_names[k])
-                return hrt_set_error(err, HRT_E_INVALID, "route '%s': keypoint %zu has no name", s->name, k);
+                return trail_set_error(err, HRT_E_INVALID, "route '%s': keypoint %zu has no name", s->name, k);
         for (size_t k = 0; k + 1 < s->n_keypoints; k++)
             if (s->segment_samples[k] < 1 || s->segment_samples[k] > 100000)
-                return hrt_set_error(err, HRT_E_INVALID, "route '%s': segment %zu has %d EEPs (1..100000)",
+                return trail_set_error(err, HRT_E_INVALID, "route '%s': segment %zu has %d EEPs (1..100000)",
                                      s->name, k, s->segment_samples[k]);
         names[r] = s->name;
         kpn[r] = s->keypoint_names;
@@ -241,9 +242,9 @@ int hrt_import_set_routes(hrt_import *imp, size_t n, const hrt_route_spec *route
 int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err)
 {
     if (!imp)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_set_z_ref: import is NULL");
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_set_z_ref: import is NULL");
     if (!(isfinite(z_ref) && z_ref > 0.0 && z_ref < 1.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "Z_ref = %g is not in (0, 1)", z_ref);
+        return trail_set_error(err, HRT_E_DOMAIN, "Z_ref = %g is not in (0, 1)", z_ref);
     imp->z_ref = z_ref;
     return HRT_OK;
 }
@@ -301,20 +302,20 @@ static int map_entry(hrt_import *imp, const char *s, size_t len, const char *whe
 {
     char buf[512];
     if (len >= sizeof buf)
-        return hrt_set_error(err, HRT_E_INVALID, "%smap entry too long", where);
+        return trail_set_error(err, HRT_E_INVALID, "%smap entry too long", where);
     memcpy(buf, s, len);
     buf[len] = '\0';
     char *eq = strchr(buf, '=');
     if (!eq)
-        return hrt_set_error(err, HRT_E_INVALID, "%smap entry '%s' has no '=' (key=column)", where, buf);
+        return trail_set_error(err, HRT_E_INVALID, "%smap entry '%s' has no '=' (key=column)", where, buf);
     *eq = '\0';
     const char *key = buf, *val = eq + 1;
     if (!*val)
-        return hrt_set_error(err, HRT_E_INVALID, "%smap entry '%s=' has no value", where, key);
+        return trail_set_error(err, HRT_E_INVALID, "%smap entry '%s=' has no value", where, key);
     if (strcmp(key, "pattern") == 0) {
-        char *p = hrt_strdup(val);
+        char *p = trail_strdup(val);
         if (!p)
-            return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            return trail_set_error(err, HRT_E_NOMEM, "out of memory");
         free(imp->pattern);
         imp->pattern = p;
         return HRT_OK;
@@ -322,14 +323,14 @@ static int map_entry(hrt_import *imp, const char *s, size_t len, const char *whe
     if (strcmp(key, "z_ref") == 0) {
         double v;
         if (parse_double(val, strlen(val), &v) != 0)
-            return hrt_set_error(err, HRT_E_INVALID, "%sz_ref=%s is not a number", where, val);
+            return trail_set_error(err, HRT_E_INVALID, "%sz_ref=%s is not a number", where, val);
         return hrt_import_set_z_ref(imp, v, err);
     }
     size_t k = 0;
     while (k < N_MAP_KEYS && strcmp(key, map_keys[k].key) != 0)
         k++;
     if (k == N_MAP_KEYS)
-        return hrt_set_error(err, HRT_E_INVALID,
+        return trail_set_error(err, HRT_E_INVALID,
                              "%sunknown map key '%s' (age, log_age, log_L, L, log_Teff, Teff, log_R, R, mass, "
                              "center_h1, center_he4, he_core_mass, co_core_mass, phase, keypoints, initial_mass, "
                              "Z, feh, pattern, z_ref)", where, key);
@@ -338,7 +339,7 @@ static int map_entry(hrt_import *imp, const char *s, size_t len, const char *whe
     double v;
     if (mk->constant_ok && parse_double(val, strlen(val), &v) == 0) {
         if (!isfinite(v))
-            return hrt_set_error(err, HRT_E_INVALID, "%s%s=%s is not finite", where, key, val);
+            return trail_set_error(err, HRT_E_INVALID, "%s%s=%s is not finite", where, key, val);
         e.constant = v;
     } else {
         char col[512];
@@ -347,16 +348,16 @@ static int map_entry(hrt_import *imp, const char *s, size_t len, const char *whe
         if (star) {
             *star = '\0';
             if (unit_factor(star + 1, &e.factor) != 0)
-                return hrt_set_error(err, HRT_E_INVALID, "%s%s=%s: unit '%s' is not yr, kyr, Myr, Gyr or a positive "
+                return trail_set_error(err, HRT_E_INVALID, "%s%s=%s: unit '%s' is not yr, kyr, Myr, Gyr or a positive "
                                      "number", where, key, val, star + 1);
             if (mk->q != M_AGE && strstr(star + 1, "yr"))
-                return hrt_set_error(err, HRT_E_INVALID, "%s%s=%s: a time unit on a quantity that is not an age",
+                return trail_set_error(err, HRT_E_INVALID, "%s%s=%s: a time unit on a quantity that is not an age",
                                      where, key, val);
         }
         if (!*col)
-            return hrt_set_error(err, HRT_E_INVALID, "%s%s=%s names no column", where, key, val);
-        if (!(e.column = hrt_strdup(col)))
-            return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            return trail_set_error(err, HRT_E_INVALID, "%s%s=%s names no column", where, key, val);
+        if (!(e.column = trail_strdup(col)))
+            return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     }
     free(imp->map[mk->q].column);
     imp->map[mk->q] = e;
@@ -394,7 +395,7 @@ static int map_text(hrt_import *imp, const char *s, const char *file, hrt_error 
 int hrt_import_map(hrt_import *imp, const char *entries, hrt_error *err)
 {
     if (!imp || !entries)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_map: NULL argument");
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_map: NULL argument");
     return map_text(imp, entries, NULL, err);
 }
 
@@ -404,7 +405,7 @@ static int slurp(const char *path, char **out, size_t *len, hrt_error *err)
     *out = NULL;
     FILE *f = fopen(path, "rb");
     if (!f)
-        return hrt_set_error(err, HRT_E_IO, "%s: cannot open: %s", path, strerror(errno));
+        return trail_set_error(err, HRT_E_IO, "%s: cannot open: %s", path, strerror(errno));
     size_t cap = 65536, n = 0;
     char *b = malloc(cap + 1);
     int rc = HRT_OK;
@@ -414,7 +415,7 @@ static int slurp(const char *path, char **out, size_t *len, hrt_error *err)
         if (n < cap)
             break;
         if (cap > ((size_t)1 << 31)) {
-            rc = hrt_set_error(err, HRT_E_IO, "%s: larger than 2 GB", path);
+            rc = trail_set_error(err, HRT_E_IO, "%s: larger than 2 GB", path);
             break;
         }
         char *nb = realloc(b, 2 * cap + 1);
@@ -427,9 +428,9 @@ static int slurp(const char *path, char **out, size_t *len, hrt_error *err)
         cap *= 2;
     }
     if (rc == HRT_OK && !b)
-        rc = hrt_set_error(err, HRT_E_NOMEM, "%s: out of memory reading the file", path);
+        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory reading the file", path);
     if (rc == HRT_OK && ferror(f))
-        rc = hrt_set_error(err, HRT_E_IO, "%s: read error: %s", path, strerror(errno));
+        rc = trail_set_error(err, HRT_E_IO, "%s: read error: %s", path, strerror(errno));
     fclose(f);
     if (rc != HRT_OK) {
         free(b);
@@ -444,14 +445,14 @@ static int slurp(const char *path, char **out, size_t *len, hrt_error *err)
 int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *err)
 {
     if (!imp || !path)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_map_file: NULL argument");
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_map_file: NULL argument");
     char *b;
     size_t n;
     int rc = slurp(path, &b, &n, err);
     if (rc != HRT_OK)
         return rc;
     if (strlen(b) != n)
-        rc = hrt_set_error(err, HRT_E_INVALID, "%s: a mapping file is text; this one holds binary data", path);
+        rc = trail_set_error(err, HRT_E_INVALID, "%s: a mapping file is text; this one holds binary data", path);
     else
         rc = map_text(imp, b, path, err);
     free(b);
@@ -461,21 +462,21 @@ int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *err)
 int hrt_import_add_file(hrt_import *imp, const char *path, double z, hrt_error *err)
 {
     if (!imp || !path)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_add_file: NULL argument");
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_add_file: NULL argument");
     if (!isnan(z) && !(isfinite(z) && z > 0.0 && z < 1.0))
-        return hrt_set_error(err, HRT_E_DOMAIN, "%s: Z = %g is not in (0, 1)", path, z);
+        return trail_set_error(err, HRT_E_DOMAIN, "%s: Z = %g is not in (0, 1)", path, z);
     if (imp->n_tracks == imp->cap) {
         size_t cap = imp->cap ? 2 * imp->cap : 64;
         trk *t = realloc(imp->t, cap * sizeof *t);
         if (!t)
-            return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            return trail_set_error(err, HRT_E_NOMEM, "out of memory");
         imp->t = t;
         imp->cap = cap;
     }
     trk *t = &imp->t[imp->n_tracks];
     memset(t, 0, sizeof *t);
-    if (!(t->path = hrt_strdup(path)))
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+    if (!(t->path = trail_strdup(path)))
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     t->z_arg = z;
     t->rep.file = t->path;
     t->rep.initial_mass_msun = NAN;
@@ -564,7 +565,7 @@ static int tproblem(trk *t, int code, long line, long col, hrt_error *err, const
     else
         snprintf(t->rep.message, sizeof t->rep.message, "%.120s: %.190s", t->path, msg);
     if (err && err->code == HRT_OK)
-        hrt_set_error(err, code, "%s", t->rep.message);
+        trail_set_error(err, code, "%s", t->rep.message);
     return code;
 }
 
@@ -1179,7 +1180,7 @@ static int drop_track(const hrt_import *imp, trk *t, int code, hrt_error *err, c
     t->rep.status = code;
     if (!imp->lenient && code != HRT_E_NO_TRACK) {
         if (err && err->code == HRT_OK)
-            hrt_set_error(err, code, "%s", t->rep.message);
+            trail_set_error(err, code, "%s", t->rep.message);
         return code;
     }
     return HRT_OK;
@@ -1188,17 +1189,17 @@ static int drop_track(const hrt_import *imp, trk *t, int code, hrt_error *err, c
 int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
 {
     if (!imp)
-        return hrt_set_error(err, HRT_E_NULL, "hrt_import_run: import is NULL");
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_run: import is NULL");
     hrt_error e0 = {0, ""};
     if (!err)
         err = &e0;
     err->code = HRT_OK;
     err->message[0] = '\0';
     if (imp->ran)
-        return hrt_set_error(err, HRT_E_INVALID, "hrt_import_run: this import has already run");
+        return trail_set_error(err, HRT_E_INVALID, "hrt_import_run: this import has already run");
     imp->ran = 1;
     if (imp->n_tracks == 0)
-        return hrt_set_error(err, HRT_E_INVALID, "no track files given");
+        return trail_set_error(err, HRT_E_INVALID, "no track files given");
     int fatal = HRT_OK;
     /* 1. read every file (all of them, so the report lists every problem) */
     for (size_t i = 0; i < imp->n_tracks; i++) {
@@ -1253,7 +1254,7 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
     /* 3. per metallicity: ambiguous routes from the neighbours, order checks */
     size_t *idx = malloc((imp->n_tracks + 1) * sizeof(size_t));
     if (!idx)
-        return hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     imp->n_z = 0;
     for (size_t i = 0; i < imp->n_tracks && !fatal; i++) {
         const trk *t = &imp->t[i];
@@ -1263,8 +1264,8 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
         while (g < imp->n_z && imp->zs[g] != t->rep.z)
             g++;
         if (g == imp->n_z) {
-            if (imp->n_z == HRT_MAX_Z) {
-                fatal = hrt_set_error(err, HRT_E_INVALID, "more than %d metallicities", HRT_MAX_Z);
+            if (imp->n_z == TRAIL_MAX_Z) {
+                fatal = trail_set_error(err, HRT_E_INVALID, "more than %d metallicities", TRAIL_MAX_Z);
                 break;
             }
             size_t j = imp->n_z++;
@@ -1306,10 +1307,10 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
         for (size_t a = 1; a < n && !fatal; a++) {
             trk *t0 = &imp->t[idx[a - 1]], *t1 = &imp->t[idx[a]];
             if (t0->rep.initial_mass_msun == t1->rep.initial_mass_msun)
-                fatal = hrt_set_error(err, HRT_E_INVALID, "%s and %s: both %g Msun at Z = %g", t0->path, t1->path,
+                fatal = trail_set_error(err, HRT_E_INVALID, "%s and %s: both %g Msun at Z = %g", t0->path, t1->path,
                                       t1->rep.initial_mass_msun, imp->zs[g]);
             else if (t1->rep.route < t0->rep.route)
-                fatal = hrt_set_error(err, HRT_E_INVALID, "%s (%g Msun) follows route '%s' but the lighter %s (%g Msun) "
+                fatal = trail_set_error(err, HRT_E_INVALID, "%s (%g Msun) follows route '%s' but the lighter %s (%g Msun) "
                                       "follows the later route '%s': routes must not overlap in mass", t1->path,
                                       t1->rep.initial_mass_msun, imp->spec[t1->rep.route].name, t0->path,
                                       t0->rep.initial_mass_msun, imp->spec[t0->rep.route].name);
@@ -1340,7 +1341,7 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
             default_phases(t, r, nk);
         double *la = malloc(t->n * sizeof(double));
         if (!la) {
-            fatal = hrt_set_error(err, HRT_E_NOMEM, "out of memory");
+            fatal = trail_set_error(err, HRT_E_NOMEM, "out of memory");
             break;
         }
         for (size_t s = 0; s < t->n; s++)
@@ -1368,7 +1369,7 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
         int rc = hrt_builder_add_track(b, t->rep.z, &d, &e);
         free(la);
         if (rc == HRT_E_NOMEM)
-            fatal = hrt_set_error(err, rc, "%s", e.message);
+            fatal = trail_set_error(err, rc, "%s", e.message);
         else if (rc != HRT_OK) {
             char why[300];
             snprintf(why, sizeof why, "EEP resampling refused the track: %s", e.message);
@@ -1379,7 +1380,7 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
         free_data(t);
     }
     if (!fatal && used == 0)
-        fatal = hrt_set_error(err, HRT_E_INVALID, "no usable track: every file was dropped (see the report)");
+        fatal = trail_set_error(err, HRT_E_INVALID, "no usable track: every file was dropped (see the report)");
     /* 5. route boundaries per metallicity (tracks dropped in step 4 excluded) */
     for (size_t g = 0; g < imp->n_z && !fatal; g++) {
         size_t n = group_tracks(imp, imp->zs[g], idx);

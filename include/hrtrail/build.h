@@ -1,0 +1,312 @@
+/*
+ * hrtrail: building grids: the EEP writer, keypoints and the importer of text tracks
+ *
+ * Copyright (C) 2026 the hrtrail authors.  GPL-3.0-or-later.
+ *
+ * Part of the public API; include <hrtrail.h>, which includes every part.
+ */
+#ifndef HRTRAIL_BUILD_H
+#define HRTRAIL_BUILD_H
+
+#include "hrtrail/core.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* ------------------------------------------------------------------------
+ * Building grids: the writer used by the generator and by import
+ * ------------------------------------------------------------------------ */
+typedef struct hrt_builder hrt_builder; /**< opaque grid under construction */
+
+/** The EEP layout of one route. */
+typedef struct hrt_route_spec {
+    const char *name;                   /**< route name, e.g. "giant" */
+    size_t n_keypoints;                 /**< >= 2 */
+    const char *const *keypoint_names;  /**< n_keypoints names, e.g. "zams", "tams", ... */
+    const int *segment_samples;         /**< n_keypoints-1 EEP counts (>= 1) per segment */
+} hrt_route_spec;
+
+/**
+ * One track's columns.  For hrt_builder_add_track() they are raw samples in
+ * increasing age with the sample index of each keypoint reached; for
+ * hrt_builder_add_eep_track() they are already on the route's EEPs
+ * (keypoint fields ignored).
+ */
+typedef struct hrt_track_data {
+    double initial_mass_msun;     /**< initial mass, Msun */
+    int route;                    /**< index of the route in the builder */
+    int remnant;                  /**< hrt_remnant left at the end (HRT_REMNANT_NONE if truncated) */
+    double remnant_mass_msun;     /**< mass of that remnant, Msun (NaN if none) */
+    size_t n;                     /**< number of samples or EEPs */
+    const double *log_age_yr;     /**< log10 age/yr, strictly increasing */
+    const double *log_l;          /**< log10 L/Lsun */
+    const double *log_teff_k;     /**< log10 Teff/K */
+    const double *log_r;          /**< log10 R/Rsun (NULL: from L and Teff by Stefan-Boltzmann) */
+    const double *mass_msun;      /**< current mass, Msun */
+    const double *he_core_msun;   /**< helium core mass, Msun */
+    const double *co_core_msun;   /**< carbon-oxygen core mass, Msun */
+    const int *phase;             /**< hrt_phase of each sample */
+    size_t n_keypoints;           /**< keypoints reached (raw tracks only), a prefix of the route's */
+    const size_t *keypoint_sample;/**< sample index of each reached keypoint (raw tracks only) */
+} hrt_track_data;
+
+/** Weights of the EEP distance metric (see tracks/FORMAT.md). */
+#define HRT_EEP_WEIGHT_LOG_TEFF 2.0
+#define HRT_EEP_WEIGHT_LOG_L 1.0
+#define HRT_EEP_WEIGHT_AGE 1.0
+
+/**
+ * @brief Start a grid with the given routes (ordered by increasing mass).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID, HRT_E_NOMEM.
+ */
+HRT_API int hrt_builder_new(size_t n_routes, const hrt_route_spec *routes, double z_ref,
+                            hrt_builder **b, hrt_error *err);
+/** Free a builder; NULL is allowed. */
+HRT_API void hrt_builder_free(hrt_builder *b);
+/**
+ * @brief Resample a raw track onto its route's EEPs and add it at metallicity z.
+ * Each segment between consecutive keypoints gets the route's number of
+ * EEPs, equally spaced in the distance metric of tracks/FORMAT.md.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (with the
+ * sample index and reason), HRT_E_DOMAIN, HRT_E_NOMEM.
+ */
+HRT_API int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err);
+/** Add a track already on EEPs (t->n <= the route's EEP count). Same codes. */
+HRT_API int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err);
+/**
+ * @brief Set the n_routes-1 route-boundary masses (Msun) of metallicity z.
+ * Without it, writing places each boundary at the geometric mean of the
+ * last track of one route and the first of the next.
+ */
+HRT_API int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const double *mass_msun,
+                                             hrt_error *err);
+/** Set a text root attribute (description, source, created_by, ...). */
+HRT_API int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *value,
+                                      hrt_error *err);
+/**
+ * @brief Write the grid to path (tracks/FORMAT.md, version HRT_FORMAT_VERSION).
+ * The file is written under a temporary name in the same directory and
+ * renamed over path only when complete, so a failure leaves any previous
+ * file intact and no temporary file behind.  Tracks are sorted by mass.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (no tracks,
+ * inconsistent routes), HRT_E_IO, HRT_E_NOMEM.
+ */
+HRT_API int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err);
+
+/* ------------------------------------------------------------------------
+ * Importing text tracks (hrt_import_*)
+ * ------------------------------------------------------------------------ */
+/* @section import */
+/** Most keypoints a route may have for detection and import. */
+#define HRT_IMPORT_MAX_KP 32
+
+/**
+ * Columns of one raw track for keypoint detection (tracks/FORMAT.md,
+ * "Keypoint criteria"): n samples in strictly increasing age.  age_yr,
+ * log_l and log_teff_k are required; every other pointer may be NULL when
+ * the column is absent, and criteria needing it then fall back as
+ * FORMAT.md says.
+ */
+typedef struct hrt_kp_columns {
+    size_t n;                   /**< number of samples */
+    const double *age_yr;       /**< age since birth, yr, strictly increasing */
+    const double *log_l;        /**< log10 L/Lsun */
+    const double *log_teff_k;   /**< log10 Teff/K */
+    const double *mass_msun;    /**< current mass, Msun */
+    const double *center_h1;    /**< central hydrogen mass fraction */
+    const double *center_he4;   /**< central helium mass fraction */
+    const double *he_core_msun; /**< helium core mass, Msun */
+    const double *co_core_msun; /**< carbon-oxygen core mass, Msun */
+    const int *phase;           /**< hrt_phase of each sample */
+    const char *const *flag;    /**< explicit keypoint name of each sample (NULL or "" for none) */
+} hrt_kp_columns;
+
+/** How a keypoint was found (hrt_kp_result.how). */
+enum {
+    HRT_KP_FOUND_BY_FLAG = 1,    /**< the explicit keypoint-flag column */
+    HRT_KP_FOUND_BY_COLUMNS = 2, /**< a physical criterion on the columns */
+    HRT_KP_FOUND_BY_PHASE = 3,   /**< the phase column (fallback) */
+    HRT_KP_FOUND_BY_START = 4    /**< first sample (ZAMS without centre composition or phases) */
+};
+
+/** Keypoints of one track on one route layout. */
+typedef struct hrt_kp_result {
+    size_t n_found;                   /**< keypoints reached: the first n_found of the route's */
+    size_t sample[HRT_IMPORT_MAX_KP]; /**< sample index of each one, strictly increasing */
+    int how[HRT_IMPORT_MAX_KP];       /**< HRT_KP_FOUND_* of each one */
+    char why[192];                    /**< why keypoint n_found was not found ("" when all were) */
+} hrt_kp_result;
+
+/**
+ * @brief Find the keypoints of a route's layout on a raw track.
+ *
+ * Given:
+ *   c      the track's columns
+ *   route  the route layout (keypoint names; segment counts not used)
+ * Returned:
+ *   out    the longest prefix of the route's keypoints found in order, their
+ *          sample indices, how each was found, and why the next one was not
+ *   err    code and message
+ * Returned (function value):
+ *   HRT_OK (also when not every keypoint is reached), HRT_E_NULL,
+ *   HRT_E_INVALID (too many keypoints, n < 2, ages not increasing).
+ *   Flags naming keypoints the route does not have are ignored here.
+ * Notes:
+ *   1. Keypoints are searched in the route's order, each strictly after the
+ *      previous one.  A sample flagged with a keypoint's name takes
+ *      precedence over every criterion; then the physical criteria of
+ *      tracks/FORMAT.md on the columns given; then the phase column.
+ *   2. Keypoint names hrtrail knows: zams, tams, rgb_base, he_ignition,
+ *      cheb_start, cheb_end, first_pulse, agb_end, envelope_loss, wd_onset,
+ *      core_collapse.  Other names can only be found by flags.
+ *   3. No allocation; reentrant.
+ */
+HRT_API int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *route, hrt_kp_result *out,
+                               hrt_error *err);
+
+/**
+ * @brief The route a raw track follows, from the keypoints it reaches.
+ *
+ * Given:  c, the track; n_routes route layouts (in order of increasing mass).
+ * Returned:
+ *   route       the route chosen (see Notes), -1 if none reaches 2 keypoints
+ *   candidates  bit r set for every route tied with the chosen one (may be NULL)
+ *   out         keypoints of the track on the chosen route (may be NULL)
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (also: a
+ * flag names a keypoint of no route, or the flags fit no single route).
+ * Notes:
+ *   Only routes having every flagged keypoint are considered.
+ *   Every route's keypoints are searched (hrt_keypoints_find).  A route is
+ *   complete when all its keypoints are found.  The complete route with the
+ *   most keypoints wins (a giant track also satisfies the shorter layouts'
+ *   criteria only if it ends as they do); if none is complete, the route
+ *   with the longest found prefix, and *candidates names the ties (a track
+ *   that stops on the main sequence fits every route).
+ */
+HRT_API int hrt_keypoints_route(const hrt_kp_columns *c, size_t n_routes, const hrt_route_spec *routes,
+                                int *route, unsigned *candidates, hrt_kp_result *out, hrt_error *err);
+
+typedef struct hrt_import hrt_import; /**< opaque: an import being set up, run, and its report */
+
+/**
+ * @brief Start an import with the default grid's routes and Z_ref = 0.014.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_new(hrt_import **imp, hrt_error *err);
+/** Free an import and its report; NULL is allowed. */
+HRT_API void hrt_import_free(hrt_import *imp);
+
+/**
+ * @brief Add entries to the column map.
+ *
+ * Given: entries, "key=value" pairs separated by commas, semicolons,
+ * blanks or new lines; '#' starts a comment to the end of the line.
+ * Keys (tracks/FORMAT.md, "Importing text tracks"):
+ *   age, log_age                 column[*unit], unit yr, kyr, Myr, Gyr or a number
+ *   log_L | L, log_Teff | Teff, log_R | R, mass, center_h1, center_he4,
+ *   he_core_mass, co_core_mass   column[*factor]
+ *   phase                        column of phase keys (ms, rgb, ...) or hrtrail phase codes
+ *   keypoints                    column of explicit keypoint names ("", "-" or "0": none)
+ *   initial_mass, Z              a number, or a column (its first data row)
+ *   pattern                      file-name pattern with {mass}, {z}, {feh} and '*'
+ * A later entry for the same quantity replaces an earlier one.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (unknown
+ * key, bad unit, missing '='; the message names the entry), HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_map(hrt_import *imp, const char *entries, hrt_error *err);
+/** hrt_import_map() on the contents of a mapping file; HRT_E_IO if unreadable.  Messages give file:line. */
+HRT_API int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *err);
+/** Replace the route layouts (in order of increasing mass; copied). HRT_E_INVALID for a bad layout. */
+HRT_API int hrt_import_set_routes(hrt_import *imp, size_t n_routes, const hrt_route_spec *routes,
+                                  hrt_error *err);
+/** Reference metallicity written to the grid (default 0.014); also used by {feh} in patterns. */
+HRT_API int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err);
+/**
+ * Lenient mode (on != 0): a file that cannot be read, a row with a value
+ * that is not finite, or a track the builder refuses is dropped and
+ * reported instead of failing the import.  Default: strict.
+ */
+HRT_API int hrt_import_set_lenient(hrt_import *imp, int on);
+/** Callback after each file is read: (user, files done, files in total, file name). May be NULL. */
+HRT_API int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *user, size_t done, size_t total,
+                                                                      const char *file),
+                                    void *user);
+/**
+ * @brief Add a track file.
+ * z: its metal mass fraction, or NaN to take it from the map (Z=...), the
+ * file-name pattern ({z} or {feh}) or a column.  Nothing is read yet.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN, HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_add_file(hrt_import *imp, const char *path, double z, hrt_error *err);
+
+/**
+ * @brief Read every file, find keypoints and routes, resample and write the grid.
+ *
+ * Given:   out_path, the grid to write, or NULL to check the files only.
+ * Returned: err, the first problem (file:line:column: ...); the per-track
+ *          report is kept in imp (hrt_import_n_tracks / hrt_import_track).
+ * Returned (function value):
+ *   HRT_OK; HRT_E_IO (a file cannot be read or the grid written);
+ *   HRT_E_FORMAT (a file is not a usable table: parse errors, missing or
+ *   absent mapped columns, non-increasing ages, non-finite values, binary
+ *   data); HRT_E_INVALID (map incomplete, no usable track, tracks whose
+ *   routes overlap in mass); HRT_E_NOMEM.
+ * Notes:
+ *   1. Strict mode: any file problem fails the import.  Lenient: such
+ *      tracks are dropped and reported; it fails only if none is left.
+ *   2. A track that stops between keypoints is cut at the last keypoint it
+ *      reaches (reported as truncated); one reaching fewer than 2 is dropped.
+ *   3. Resampling onto EEPs is hrt_builder_add_track(); route-boundary
+ *      masses per metallicity are the geometric mean of the last track of
+ *      one route and the first of the next.  The grid is written atomically
+ *      and only when everything succeeded: on failure no file is created
+ *      and an existing one is left as it was.
+ *   4. May be called once per import.
+ */
+HRT_API int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err);
+
+/** What the import did with one track file (hrt_import_track()). */
+typedef struct hrt_import_track_report {
+    const char *file;           /**< path as added (lives as long as the import) */
+    int status;                 /**< HRT_OK: in the grid; else the code of the reason it is not */
+    long line, column;          /**< location of the problem in the file (1-based; 0 if none) */
+    char message[320];          /**< the problem, or "" */
+    char notes[320];            /**< what was assumed or changed (defaults, truncation, ...) */
+    double initial_mass_msun;   /**< NaN if unknown */
+    double z;                   /**< NaN if unknown */
+    int route;                  /**< route index (hrt_import_route_name), -1 if none */
+    int truncated;              /**< stops before its route's last keypoint */
+    int remnant;                /**< hrt_remnant assigned */
+    double remnant_mass_msun;   /**< NaN if none */
+    size_t n_rows;              /**< data rows read */
+    size_t n_rows_dropped;      /**< rows dropped in lenient mode (non-finite values) */
+    size_t n_keypoints;         /**< keypoints reached on the route */
+    double keypoint_age_yr[HRT_IMPORT_MAX_KP]; /**< age of each */
+    long keypoint_line[HRT_IMPORT_MAX_KP];     /**< file line of each */
+    int keypoint_how[HRT_IMPORT_MAX_KP];       /**< HRT_KP_FOUND_* of each */
+    char missing[192];          /**< why the next keypoint of the route was not found */
+} hrt_import_track_report;
+
+/** Number of files added. */
+HRT_API size_t hrt_import_n_tracks(const hrt_import *imp);
+/** Report of file i (in the order added); HRT_E_INVALID if i is out of range. */
+HRT_API int hrt_import_track(const hrt_import *imp, size_t i, hrt_import_track_report *out);
+/** Number of routes of the import's layout. */
+HRT_API size_t hrt_import_n_routes(const hrt_import *imp);
+/** Name of route r; NULL if out of range. */
+HRT_API const char *hrt_import_route_name(const hrt_import *imp, size_t r);
+/** Number of keypoints of route r (0 if out of range). */
+HRT_API size_t hrt_import_route_n_keypoints(const hrt_import *imp, size_t r);
+/** Name of keypoint k of route r; NULL if out of range. */
+HRT_API const char *hrt_import_keypoint_name(const hrt_import *imp, size_t r, size_t k);
+/** Metallicity groups written (after a run): count, Z of group iz, boundary b of group iz (Msun). */
+HRT_API size_t hrt_import_n_z(const hrt_import *imp);
+HRT_API double hrt_import_z(const hrt_import *imp, size_t iz);
+HRT_API double hrt_import_route_boundary(const hrt_import *imp, size_t iz, size_t b);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* HRTRAIL_BUILD_H */

@@ -1,0 +1,498 @@
+/*
+ * hrtrail core: opening a grid and asking it for stars, batches and
+ * isochrones.  Part of the public API; include <hrtrail.h>.
+ *
+ * Copyright (C) 2026 the hrtrail authors.  GPL-3.0-or-later.
+ *
+ * Conventions used throughout this header
+ * ---------------------------------------
+ *  - Masses in solar masses (Msun = (GM)sun / G, IAU 2015 Resolution B3 and
+ *    CODATA 2018), ages in Julian years since the star's birth, Z is the
+ *    metal mass fraction, [Fe/H] = log10(Z / Z_ref) with the grid's Z_ref.
+ *  - log means log10.  L in nominal solar luminosities, R in nominal solar
+ *    radii, Teff in kelvin, g in cm s^-2 (IAU 2015 Resolution B3).
+ *  - Every fallible function returns HRT_OK (0) or one of the HRT_E_* codes,
+ *    and writes its results through pointers.  When an hrt_error pointer is
+ *    given it receives the code and a specific message (which argument,
+ *    which dataset, which index).  NULL may be passed for it.
+ *  - Nothing is printed, nothing aborts, no global state is kept.  A grid is
+ *    immutable after hrt_grid_open() and may be shared by any number of
+ *    threads; an hrt_star belongs to one thread at a time.
+ *  - GSL's process-wide error handler is never called and never changed by
+ *    valid or invalid input.  The one exception GSL itself imposes: if
+ *    malloc fails *inside* GSL while a grid is being opened, GSL reports it
+ *    through that handler (by default it aborts).
+ *
+ * Accuracy: the answers are as good as the grid.  The default grid is a
+ * semi-analytic model built from published relations (tracks/MODEL.md); it
+ * is meant for population-level work, not for precision stellar physics.
+ * The interpolation error itself is measured by leave-one-out tests
+ * (tests/README.md).
+ */
+#ifndef HRTRAIL_CORE_H
+#define HRTRAIL_CORE_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "hrtrail_version.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+#if defined(HRT_BUILDING_LIBRARY) && defined(__GNUC__)
+#define HRT_API __attribute__((visibility("default")))
+#else
+#define HRT_API
+#endif
+
+/* ------------------------------------------------------------------------
+ * Physical constants (one place for the whole project)
+ * ------------------------------------------------------------------------ */
+/** Nominal solar radius, m (IAU 2015 Resolution B3). */
+#define HRT_RSUN_M 6.957e8
+/** Nominal solar luminosity, W (IAU 2015 Resolution B3). */
+#define HRT_LSUN_W 3.828e26
+/** Nominal solar effective temperature, K (IAU 2015 Resolution B3). */
+#define HRT_TEFF_SUN_K 5772.0
+/** Nominal solar mass parameter (GM)sun, m^3 s^-2 (IAU 2015 Resolution B3). */
+#define HRT_GM_SUN 1.3271244e20
+/** Newtonian constant of gravitation, m^3 kg^-1 s^-2 (CODATA 2018). */
+#define HRT_G_SI 6.67430e-11
+/** Stefan-Boltzmann constant, W m^-2 K^-4 (exact, SI 2019). */
+#define HRT_SIGMA_SB 5.670374419e-8
+/** Speed of light in vacuum, m s^-1 (exact, SI). */
+#define HRT_C_M_S 299792458.0
+/** Julian year, s. */
+#define HRT_YEAR_S 3.15576e7
+/** Nominal total solar irradiance, W m^-2 (IAU 2015 Resolution B3). */
+#define HRT_SOLAR_IRRADIANCE_W_M2 1361.0
+/** Astronomical unit, m (IAU 2012 Resolution B2). */
+#define HRT_AU_M 1.495978707e11
+/** Parsec, m (IAU 2015 Resolution B2). */
+#define HRT_PC_M 3.0856775814913673e16
+/** Bolometric magnitude zero point: M_bol = -2.5 log10(L / 3.0128e28 W) (IAU 2015 Resolution B2). */
+#define HRT_MBOL_ZERO_POINT_W 3.0128e28
+
+/* ------------------------------------------------------------------------
+ * Status codes (one list: the enum and hrt_strerror() come from it)
+ * ------------------------------------------------------------------------ */
+#define HRT_ERROR_LIST(X)                                                              \
+    X(HRT_OK, 0, "success")                                                            \
+    X(HRT_E_NULL, 1, "a required pointer argument is NULL")                            \
+    X(HRT_E_NOMEM, 2, "out of memory")                                                 \
+    X(HRT_E_IO, 3, "file cannot be opened, read or written")                           \
+    X(HRT_E_FORMAT, 4, "file is not a valid hrtrail grid")                             \
+    X(HRT_E_VERSION, 5, "grid format version not supported by this library")           \
+    X(HRT_E_DOMAIN, 6, "argument is NaN, infinite or of the wrong sign")               \
+    X(HRT_E_MASS_RANGE, 7, "initial mass outside the grid")                            \
+    X(HRT_E_Z_RANGE, 8, "metallicity outside the grid")                                \
+    X(HRT_E_AGE_RANGE, 9, "age beyond the end of the track and no remnant is known")   \
+    X(HRT_E_BUFFER, 10, "output buffer too small")                                     \
+    X(HRT_E_INVALID, 11, "invalid argument")                                           \
+    X(HRT_E_NOT_FOUND, 12, "no default grid found")                                    \
+    X(HRT_E_INTERNAL, 13, "internal numerical failure")                                \
+    X(HRT_E_NO_TRACK, 14, "no track of this route to interpolate at this metallicity")  \
+    X(HRT_E_NO_MATCH, 15, "no model of the grid matches the observation")
+
+#define HRT_ERROR_ENUM_ENTRY_(name, value, text) name = value,
+/** Status codes returned by every fallible function. */
+typedef enum hrt_status { HRT_ERROR_LIST(HRT_ERROR_ENUM_ENTRY_) HRT_STATUS_COUNT_ } hrt_status;
+#undef HRT_ERROR_ENUM_ENTRY_
+
+/** Detailed error report filled by functions that take one. */
+typedef struct hrt_error {
+    int code;          /**< the same code the function returned */
+    char message[256]; /**< specific, human-readable explanation */
+} hrt_error;
+
+/**
+ * @brief Short constant description of a status code.
+ * @return a static string; "unknown status code" for values not in the list.
+ * Thread-safe.
+ */
+HRT_API const char *hrt_strerror(int code);
+
+/* ------------------------------------------------------------------------
+ * Versions
+ * ------------------------------------------------------------------------ */
+/** Package version string of the library actually loaded, e.g. "0.1.0". */
+HRT_API const char *hrt_version(void);
+/** ABI number of the library actually loaded; bindings compare it with HRT_ABI_VERSION. */
+HRT_API int hrt_abi_version(void);
+/** sizeof(hrt_state) in the library actually loaded; bindings compare it with their own. */
+HRT_API size_t hrt_state_size(void);
+
+/* ------------------------------------------------------------------------
+ * Enumerations
+ * ------------------------------------------------------------------------ */
+/** Evolutionary phase.  The order is hrtrail's own; use hrt_phase_name(). */
+typedef enum hrt_phase {
+    HRT_PHASE_UNKNOWN = 0,
+    HRT_PHASE_PRE_MS = 1,        /**< before the zero-age main sequence (not modelled) */
+    HRT_PHASE_MS = 2,            /**< core hydrogen burning */
+    HRT_PHASE_SUBGIANT = 3,      /**< subgiant / Hertzsprung gap */
+    HRT_PHASE_RGB = 4,           /**< red giant branch */
+    HRT_PHASE_CHEB = 5,          /**< core helium burning (clump, horizontal branch, loop) */
+    HRT_PHASE_EAGB = 6,          /**< early asymptotic giant branch */
+    HRT_PHASE_TPAGB = 7,         /**< thermally pulsing asymptotic giant branch */
+    HRT_PHASE_POST_AGB = 8,      /**< post-AGB crossing to the white dwarf */
+    HRT_PHASE_WD = 9,            /**< white dwarf (cooling) */
+    HRT_PHASE_BSG = 10,          /**< blue supergiant */
+    HRT_PHASE_RSG = 11,          /**< red supergiant */
+    HRT_PHASE_WR = 12,           /**< Wolf-Rayet (stripped, hot) */
+    HRT_PHASE_NS = 13,           /**< neutron star */
+    HRT_PHASE_BH = 14,           /**< black hole */
+    HRT_PHASE_POST_RGB = 15,     /**< contraction of a stripped giant to a helium white dwarf */
+    HRT_PHASE_COUNT
+} hrt_phase;
+
+/**
+ * @brief Name of a phase ("main sequence", "red giant branch", ...).
+ * @return a static string; "unknown" for values outside hrt_phase.  Thread-safe.
+ */
+HRT_API const char *hrt_phase_name(int phase);
+/** Short machine-friendly key of a phase ("ms", "rgb", "cheb", ...), as stored in grid files. */
+HRT_API const char *hrt_phase_key(int phase);
+/** Inverse of hrt_phase_key(); returns HRT_PHASE_UNKNOWN for an unknown key or NULL. */
+HRT_API int hrt_phase_from_key(const char *key);
+
+/** Kind of stellar remnant. */
+typedef enum hrt_remnant {
+    HRT_REMNANT_NONE = 0,  /**< none known (track truncated, or not yet reached) */
+    HRT_REMNANT_HE_WD = 1, /**< helium white dwarf */
+    HRT_REMNANT_CO_WD = 2, /**< carbon-oxygen white dwarf */
+    HRT_REMNANT_ONE_WD = 3,/**< oxygen-neon white dwarf */
+    HRT_REMNANT_NS = 4,    /**< neutron star */
+    HRT_REMNANT_BH = 5,    /**< black hole */
+    HRT_REMNANT_COUNT
+} hrt_remnant;
+
+/** Name of a remnant kind ("carbon-oxygen white dwarf", ...); static string. */
+HRT_API const char *hrt_remnant_name(int remnant);
+/** Short key of a remnant kind ("co_wd", "ns", ...), as stored in grid files. */
+HRT_API const char *hrt_remnant_key(int remnant);
+/** Inverse of hrt_remnant_key(); -1 for an unknown key or NULL. */
+HRT_API int hrt_remnant_from_key(const char *key);
+
+/** Interpolation type across initial mass and [Fe/H], chosen when a grid is opened. */
+typedef enum hrt_interp {
+    HRT_INTERP_STEFFEN = 0, /**< monotone piecewise cubic, no overshoot (default; GSL gsl_interp_steffen) */
+    HRT_INTERP_LINEAR = 1,  /**< piecewise linear (GSL gsl_interp_linear) */
+    HRT_INTERP_CSPLINE = 2, /**< natural cubic spline (GSL gsl_interp_cspline) */
+    HRT_INTERP_AKIMA = 3,   /**< Akima spline, natural ends (GSL gsl_interp_akima) */
+    HRT_INTERP_COUNT
+} hrt_interp;
+
+/** Name of an interpolation type ("steffen", "linear", "cspline", "akima"). */
+HRT_API const char *hrt_interp_name(int interp);
+/** Inverse of hrt_interp_name(); -1 for an unknown name or NULL. */
+HRT_API int hrt_interp_from_name(const char *name);
+
+/* ------------------------------------------------------------------------
+ * The state of a star
+ * ------------------------------------------------------------------------ */
+/** Bits of hrt_state.flags. */
+#define HRT_FLAG_DARK 0x1          /**< not luminous (neutron star, black hole): L and Teff are NaN */
+#define HRT_FLAG_REMNANT 0x2       /**< past the last EEP: the state is the analytic remnant */
+#define HRT_FLAG_EXTRAPOLATED 0x4  /**< mass slightly outside its route's tracks: linear extrapolation */
+#define HRT_FLAG_NOT_MODELLED 0x8  /**< before the zero-age main sequence: only phase and mass are set */
+
+/**
+ * State of one star at one age.  Plain data, so ctypes and Fortran bind(C)
+ * can mirror it.  The library sets struct_size = sizeof(hrt_state) in every
+ * state it writes; the reserved tail lets the struct grow without breaking
+ * the ABI (check hrt_state_size()).
+ */
+typedef struct hrt_state {
+    uint32_t struct_size;     /**< sizeof(hrt_state) of the library that wrote it */
+    int32_t status;           /**< HRT_OK or the HRT_E_* code for this star */
+    int32_t phase;            /**< hrt_phase */
+    int32_t route;            /**< index of the route in the grid (hrt_grid_route_name), -1 if none */
+    int32_t remnant;          /**< hrt_remnant: the kind of remnant this star will leave (or is) */
+    int32_t flags;            /**< HRT_FLAG_* bits */
+    double initial_mass_msun; /**< initial mass, Msun */
+    double z;                 /**< metal mass fraction */
+    double age_yr;            /**< age since birth, yr */
+    double log_l;             /**< log10 L/Lsun (NaN if dark) */
+    double log_teff_k;        /**< log10 Teff/K (NaN if dark) */
+    double log_r;             /**< log10 R/Rsun, from L and Teff by the Stefan-Boltzmann law */
+    double log_g_cgs;         /**< log10 g / (cm s^-2) */
+    double mass_msun;         /**< current mass, Msun */
+    double he_core_msun;      /**< helium core mass, Msun */
+    double co_core_msun;      /**< carbon-oxygen core mass, Msun */
+    double eep;               /**< fractional EEP index on the route (NaN for remnants, pre-MS) */
+    double phase_fraction;    /**< 0..1 through the current phase in age (NaN if open-ended) */
+    double phase_start_yr;    /**< age at which the current phase began, yr */
+    double phase_end_yr;      /**< age at which the current phase ends, yr (+inf if never) */
+    double remnant_mass_msun; /**< mass of the final remnant, Msun (NaN if unknown) */
+    double reserved[7];       /**< zero; room to grow */
+} hrt_state;
+
+/* ------------------------------------------------------------------------
+ * Grids
+ * ------------------------------------------------------------------------ */
+typedef struct hrt_grid hrt_grid; /**< opaque, immutable after open, shareable across threads */
+
+/**
+ * @brief Open, validate and prepare a track grid.
+ *
+ * Given:
+ *   path    grid file (HDF5, tracks/FORMAT.md), or NULL for the default grid:
+ *           the file named by the environment variable HRTRAIL_GRID if set,
+ *           else the grid installed in the data directory.
+ *   interp  hrt_interp type used across initial mass and [Fe/H]
+ * Returned:
+ *   grid    new grid; free with hrt_grid_close()
+ *   err     code and message naming the group, dataset and index at fault
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL (grid is NULL), HRT_E_INVALID (unknown interp),
+ *   HRT_E_NOT_FOUND (no default grid), HRT_E_IO (cannot open or read),
+ *   HRT_E_FORMAT (schema violated), HRT_E_VERSION (newer format),
+ *   HRT_E_NOMEM.
+ * Notes:
+ *   1. The whole grid is read and checked: shapes, ascending masses, ages
+ *      strictly increasing along each track's valid EEPs, finite values
+ *      within plausible bounds (tracks/FORMAT.md, "What the reader
+ *      checks"), phase and route tables, keypoint layouts, route
+ *      boundaries.  Only regular files are opened.  The checks are about
+ *      mistakes; HDF5 itself (Debian's 1.10) can hang or crash on a
+ *      deliberately corrupted file, which no check here can prevent.
+ *   2. Spline slopes across mass are computed here with GSL (the chosen type)
+ *      and stored; queries evaluate the equivalent cubic Hermite (equal to
+ *      GSL's own evaluation to 1e-13).  Across [Fe/H] the slopes come from
+ *      the same formulas at query time.  A run of knots too short for the
+ *      type falls back to steffen (akima with 3-4 tracks) or linear (2).
+ *      Where GSL's Akima meets two exactly equal consecutive secants it takes
+ *      one-sided slopes; hrtrail keeps one slope per knot there.
+ *   3. Log age must increase along the EEPs of every interpolated star, or
+ *      "the EEP at an age" would be ambiguous.  In each interval between two
+ *      tracks, log age is interpolated with the weights lambda * (chosen
+ *      type) + (1 - lambda) * (linear), lambda in [0, 1] the largest value
+ *      that keeps it increasing at every mass of the interval (1 in most
+ *      intervals; lower where fast phases have nearly equal ages at
+ *      neighbouring EEPs).  Across [Fe/H], log age is linear for the same
+ *      reason; the other quantities use the chosen type.
+ *   4. Current and core masses are interpolated as fractions of the initial
+ *      mass, so a star without mass loss keeps exactly its initial mass.
+ *   5. Thread-safe (opens are independent); HDF5 must be built thread-safe
+ *      for concurrent opens, which Debian's serial build is not: serialise
+ *      opens if in doubt.  Queries on an open grid are always thread-safe.
+ */
+HRT_API int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error *err);
+/** hrt_grid_open_with(path, HRT_INTERP_STEFFEN, grid, err). */
+HRT_API int hrt_grid_open(const char *path, hrt_grid **grid, hrt_error *err);
+/** Free a grid; NULL is allowed.  No star made from it may be used afterwards. */
+HRT_API void hrt_grid_close(hrt_grid *grid);
+
+/** Path of the default grid that hrt_grid_open(NULL) would use (HRTRAIL_GRID or the installed one). */
+HRT_API const char *hrt_default_grid_path(void);
+
+/** Interpolation type the grid was opened with. */
+HRT_API int hrt_grid_interp(const hrt_grid *g);
+/** Number of metallicity groups (>= 1). */
+HRT_API size_t hrt_grid_n_z(const hrt_grid *g);
+/** Metal mass fraction of group iz (ascending); NaN if out of range. */
+HRT_API double hrt_grid_z(const hrt_grid *g, size_t iz);
+/** Reference metallicity Z_ref of [Fe/H] = log10(Z/Z_ref). */
+HRT_API double hrt_grid_z_ref(const hrt_grid *g);
+/** Number of tracks in group iz (0 if out of range). */
+HRT_API size_t hrt_grid_n_masses(const hrt_grid *g, size_t iz);
+/** Initial mass (Msun) of track im of group iz (ascending); NaN if out of range. */
+HRT_API double hrt_grid_mass(const hrt_grid *g, size_t iz, size_t im);
+/** Route index of track im of group iz; -1 if out of range. */
+HRT_API int hrt_grid_track_route(const hrt_grid *g, size_t iz, size_t im);
+/** Number of valid EEPs of track im of group iz; 0 if out of range. */
+HRT_API size_t hrt_grid_track_n_eep(const hrt_grid *g, size_t iz, size_t im);
+/** Number of routes (low-mass, giant, supergiant, ... as the file defines them). */
+HRT_API size_t hrt_grid_n_routes(const hrt_grid *g);
+/** Name of route r as stored in the file; NULL if out of range. */
+HRT_API const char *hrt_grid_route_name(const hrt_grid *g, size_t r);
+/** Number of EEPs in the layout of route r. */
+HRT_API size_t hrt_grid_route_n_eep(const hrt_grid *g, size_t r);
+/** Number of keypoints of route r. */
+HRT_API size_t hrt_grid_route_n_keypoints(const hrt_grid *g, size_t r);
+/** Name of keypoint k of route r ("zams", "tams", ...); NULL if out of range. */
+HRT_API const char *hrt_grid_keypoint_name(const hrt_grid *g, size_t r, size_t k);
+/** EEP index of keypoint k of route r; -1 if out of range. */
+HRT_API long hrt_grid_keypoint_eep(const hrt_grid *g, size_t r, size_t k);
+/**
+ * Route-boundary masses of group iz: boundary b (0 <= b < n_routes-1)
+ * separates route b (below) from route b+1 (above), Msun.  NaN if out of range.
+ */
+HRT_API double hrt_grid_route_boundary(const hrt_grid *g, size_t iz, size_t b);
+/**
+ * A root attribute of the file as text ("description", "created_by",
+ * "source", ...); NULL if absent.  The string lives as long as the grid.
+ */
+HRT_API const char *hrt_grid_attribute(const hrt_grid *g, const char *name);
+/** Bytes of memory held by the opened grid (data, slopes, tables). */
+HRT_API size_t hrt_grid_memory_bytes(const hrt_grid *g);
+
+/**
+ * @brief Range of initial masses (Msun) covered at metallicity z.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN, HRT_E_Z_RANGE.
+ */
+HRT_API int hrt_grid_mass_range(const hrt_grid *g, double z, double *lo_msun, double *hi_msun);
+/** Range of metallicities Z covered by the grid. */
+HRT_API int hrt_grid_z_range(const hrt_grid *g, double *lo, double *hi);
+/**
+ * @brief Route a star of initial mass (Msun) and metallicity z follows.
+ * Boundary masses are interpolated linearly in [Fe/H] between groups.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN,
+ * HRT_E_MASS_RANGE, HRT_E_Z_RANGE.
+ */
+HRT_API int hrt_grid_route_of(const hrt_grid *g, double mass_msun, double z, int *route);
+
+/* ------------------------------------------------------------------------
+ * Batch evaluation: the fast path for population synthesis
+ * ------------------------------------------------------------------------ */
+/**
+ * @brief States of n unrelated stars, each given by (initial mass, Z, age).
+ *
+ * Given:
+ *   g       open grid
+ *   n       number of stars (0 is allowed and does nothing)
+ *   mass_msun, z, age_yr   arrays of n initial masses (Msun), metal mass
+ *           fractions and ages since birth (yr).  z may be NULL: then every
+ *           star has the metallicity z_all.
+ *   z_all   metallicity used when z is NULL
+ * Returned:
+ *   out     n states; out[i].status holds star i's own code
+ *   err     code and message of the first star that failed (its index)
+ * Returned (function value):
+ *   HRT_OK if every star was evaluated, else the code of the first failure
+ *   (HRT_E_DOMAIN, HRT_E_MASS_RANGE, HRT_E_Z_RANGE, HRT_E_AGE_RANGE,
+ *   HRT_E_NO_TRACK); HRT_E_NULL for missing arrays.  Every star is processed
+ *   whatever the others do; a failed star has NaN quantities.
+ * Notes:
+ *   1. No allocation; O(log n_eep) per star.  Thread-safe on a shared grid.
+ *   2. A star younger than its zero-age main sequence is not an error: its
+ *      phase is HRT_PHASE_PRE_MS, flag HRT_FLAG_NOT_MODELLED, quantities NaN
+ *      except masses.
+ *   3. Identical to hrt_star_new() + hrt_star_at() bit for bit.
+ */
+HRT_API int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double *z,
+                     double z_all, const double *age_yr, hrt_state *out, hrt_error *err);
+
+/* ------------------------------------------------------------------------
+ * One star: build its interpolated track once, then ask any age
+ * ------------------------------------------------------------------------ */
+typedef struct hrt_star hrt_star; /**< opaque; caller-owned; one thread at a time */
+
+/**
+ * @brief Interpolate the track of one star of initial mass (Msun) and metallicity z.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN,
+ * HRT_E_MASS_RANGE, HRT_E_Z_RANGE, HRT_E_NO_TRACK, HRT_E_NOMEM.
+ * Note: the star refers to the grid, which must outlive it.
+ */
+HRT_API int hrt_star_new(const hrt_grid *g, double mass_msun, double z, hrt_star **star, hrt_error *err);
+/** Free a star; NULL is allowed. */
+HRT_API void hrt_star_free(hrt_star *star);
+/**
+ * @brief State of the star at age_yr (years since birth).
+ * O(log n_eep), no allocation.  Returned (function value) and out->status:
+ * HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (NaN, infinite or negative age),
+ * HRT_E_AGE_RANGE (past a truncated track with no known remnant).
+ */
+HRT_API int hrt_star_at(const hrt_star *star, double age_yr, hrt_state *out);
+/** Number of EEPs of the star's interpolated track. */
+HRT_API size_t hrt_star_n_eep(const hrt_star *star);
+/** State at EEP j of the star's track (0 <= j < hrt_star_n_eep); HRT_E_INVALID if out of range. */
+HRT_API int hrt_star_eep_state(const hrt_star *star, size_t j, hrt_state *out);
+/** Route index of the star. */
+HRT_API int hrt_star_route(const hrt_star *star);
+/** Initial mass (Msun) and metallicity of the star. */
+HRT_API double hrt_star_mass(const hrt_star *star);
+HRT_API double hrt_star_z(const hrt_star *star);
+/** Number of keypoints of the star's route; keypoints the star does not reach have age NaN. */
+HRT_API size_t hrt_star_n_keypoints(const hrt_star *star);
+/** Name of keypoint k of the star's route; NULL if out of range. */
+HRT_API const char *hrt_star_keypoint_name(const hrt_star *star, size_t k);
+/**
+ * @brief Age (yr) at keypoint k of the star's route.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (k out of
+ * range); *age_yr is NaN when the star's track does not reach the keypoint.
+ */
+HRT_API int hrt_star_keypoint_age(const hrt_star *star, size_t k, double *age_yr);
+/** Age (yr) of the last EEP: white dwarf cooling onset or core collapse (or end of a truncated track). */
+HRT_API double hrt_star_end_age(const hrt_star *star);
+/** Final remnant of the star: kind (hrt_remnant) and mass (Msun). */
+HRT_API int hrt_star_remnant(const hrt_star *star, int *kind, double *mass_msun);
+
+/** One phase of a star's life: [start_yr, end_yr). */
+typedef struct hrt_phase_span {
+    int32_t phase;     /**< hrt_phase */
+    int32_t reserved_; /**< zero */
+    double start_yr;   /**< age at which the phase begins, yr */
+    double end_yr;     /**< age at which it ends, yr (+inf for a remnant that lasts forever) */
+} hrt_phase_span;
+
+/**
+ * @brief The star's timetable: its phases in order, including the remnant.
+ * Given: cap, the capacity of spans.  Returned: *n, the number of phases
+ * (also when the buffer is too small).  Returned (function value): HRT_OK,
+ * HRT_E_NULL, HRT_E_BUFFER.
+ */
+HRT_API int hrt_star_phases(const hrt_star *star, hrt_phase_span *spans, size_t cap, size_t *n);
+
+/* ------------------------------------------------------------------------
+ * Isochrones
+ * ------------------------------------------------------------------------ */
+/**
+ * @brief The isochrone at one age and metallicity, sampled at EEPs.
+ *
+ * For each route and each EEP, every initial mass whose star is at that
+ * EEP at age_yr is found (root of the interpolated EEP age in mass), so fast
+ * phases are resolved by as many points as the grid has EEPs there.  Points
+ * are ordered by route, then by EEP, then by mass.  Remnants are not
+ * included.
+ * Given:  age_yr (> 0), z, cap (capacity of out).
+ * Returned: out[0..*n-1]; *n is the number of points (also when cap is too small).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN,
+ * HRT_E_Z_RANGE, HRT_E_BUFFER (nothing useful in out; call again with
+ * cap >= *n).  Thread-safe; allocates scratch memory (HRT_E_NOMEM).
+ */
+HRT_API int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, size_t cap,
+                          size_t *n, hrt_error *err);
+
+/* ------------------------------------------------------------------------
+ * Remnant physics (also used by the default-grid generator)
+ * ------------------------------------------------------------------------ */
+/**
+ * White dwarf radius (Rsun) at mass (Msun) from the zero-temperature
+ * mass-radius relation of Eggleton (quoted by Verbunt & Rappaport 1988,
+ * ApJ 332, 193), valid 0.01-1.44 Msun; NaN outside (0, 1.44).
+ */
+HRT_API double hrt_wd_radius_rsun(double mass_msun);
+/**
+ * Luminosity (log10 L/Lsun) of a white dwarf of mass (Msun) and kind
+ * (hrt_remnant He/CO/ONe) that had log10 L/Lsun = log_l0 at the start of
+ * cooling, dt_yr years later, by Mestel's (1952, MNRAS 112, 583) law
+ * t_cool = 6e6 yr (A/12)^-1 M^(5/7) (mu/2)^(-2/7) (L^(-5/7) - L0^(-5/7)).
+ * Accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun.
+ */
+HRT_API double hrt_wd_log_l(double mass_msun, int kind, double log_l0, double dt_yr);
+
+/**
+ * @brief Remnant of core collapse from the final carbon-oxygen core and
+ * total masses (Msun): kind (HRT_REMNANT_NS or HRT_REMNANT_BH) and
+ * gravitational mass (Msun).
+ *
+ * The "delayed" prescription of Fryer et al. (2012, ApJ 749, 91) [from
+ * memory], with the steps of its proto-neutron-star mass smoothed over 0.3
+ * Msun of CO core; baryonic masses below 2.5 Msun make neutron stars with
+ * M_bar = M_grav + 0.075 M_grav^2 (Lattimer & Yahil 1989, ApJ 340, 426),
+ * heavier ones black holes of 0.9 M_bar.  Good to a factor of about 2 for
+ * black holes; real explodability is not monotonic in mass.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (masses not
+ * finite, negative, or a core heavier than the star).
+ */
+HRT_API int hrt_collapse_remnant(double co_core_msun, double final_mass_msun, int *kind, double *mass_msun);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* HRTRAIL_CORE_H */

@@ -1,0 +1,313 @@
+/*
+ * hrtrail: populations: IMFs, star-formation histories, metallicity spreads,
+ * runs over chunks and exact summaries
+ *
+ * Copyright (C) 2026 the hrtrail authors.  GPL-3.0-or-later.
+ *
+ * Part of the public API; include <hrtrail.h>, which includes every part.
+ */
+#ifndef HRTRAIL_POPULATION_H
+#define HRTRAIL_POPULATION_H
+
+#include "hrtrail/core.h"
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* ------------------------------------------------------------------------
+ * Populations: sampling, parallel evaluation, summaries (hrt_pop_*)
+ * ------------------------------------------------------------------------ */
+/* @section population */
+/*
+ * A population is N stars drawn from an initial mass function (IMF), a
+ * star-formation history (SFH) and a metallicity distribution, evaluated at
+ * one or many epochs and summarised without keeping the stars (memory O(1)
+ * per star).  The draws are split into chunks of spec.chunk_size stars;
+ * chunk k has its own random stream, seeded from (spec.seed, k), so the same
+ * seed gives the same stars whatever the thread or MPI rank count.  Summaries
+ * hold only integers (counts, and sums in fixed point of 2^-32 units with
+ * 128 bits) and extrema, so merging partial summaries is exact and does not
+ * depend on order: any partition of the chunks gives the same bits.
+ *
+ * Time in an SFH is time since the population began (yr); an epoch T
+ * (hrt_pop_summary.age_yr) is the population's age.  A star born at t is of
+ * age T - t at epoch T; stars with t > T are counted as not yet born.
+ */
+
+/** Initial mass functions, by their published names. */
+typedef enum hrt_imf_kind {
+    HRT_IMF_SALPETER_1955 = 0,        /**< dN/dm ~ m^-2.35 (Salpeter 1955, ApJ 121, 161) */
+    HRT_IMF_KROUPA_2001 = 1,          /**< broken power law, alpha 0.3 / 1.3 / 2.3 with breaks at
+                                       *   0.08 and 0.5 Msun (Kroupa 2001, MNRAS 322, 231, eq. 2) */
+    HRT_IMF_CHABRIER_2003_SYSTEM = 2, /**< log-normal below 1 Msun (m_c 0.22 Msun, sigma 0.57 dex),
+                                       *   dN/dlog m ~ m^-1.3 above, continuous at 1 Msun
+                                       *   (Chabrier 2003, PASP 115, 763, system IMF, Table 1) */
+    HRT_IMF_POWER_LAW = 3,            /**< dN/dm ~ m^-alpha with a caller-given alpha */
+    HRT_IMF_COUNT
+} hrt_imf_kind;
+
+#define HRT_IMF_MAX_SEGMENTS 4
+
+/**
+ * An IMF between mass limits.  Fill it with hrt_imf_init(); the segment
+ * fields are derived data (plain, so it can be copied and sent to MPI ranks).
+ */
+typedef struct hrt_imf {
+    int32_t kind;                           /**< hrt_imf_kind */
+    int32_t n_seg;                          /**< segments between m_lo and m_hi */
+    double m_lo_msun, m_hi_msun;            /**< mass limits, Msun */
+    double alpha;                           /**< slope of HRT_IMF_POWER_LAW (unused otherwise) */
+    int32_t seg_lognormal[HRT_IMF_MAX_SEGMENTS]; /**< 1: log-normal segment, 0: power law */
+    double seg_lo[HRT_IMF_MAX_SEGMENTS];    /**< segment limits, Msun */
+    double seg_hi[HRT_IMF_MAX_SEGMENTS];
+    double seg_a[HRT_IMF_MAX_SEGMENTS];     /**< power law: alpha; log-normal: log10 m_c */
+    double seg_s[HRT_IMF_MAX_SEGMENTS];     /**< log-normal: sigma (dex) */
+    double seg_amp[HRT_IMF_MAX_SEGMENTS];   /**< amplitude of dN/dm (power law) or dN/dlog10 m (log-normal) */
+    double seg_c0[HRT_IMF_MAX_SEGMENTS];    /**< quantile constants: power law 1 - alpha, log-normal Phi(lo) */
+    double seg_c1[HRT_IMF_MAX_SEGMENTS];    /**< power law expm1((1 - alpha) ln(hi/lo)) (ln(hi/lo) if alpha = 1), log-normal Phi(hi) */
+    double seg_cum[HRT_IMF_MAX_SEGMENTS + 1]; /**< cumulative number fraction at segment starts */
+    double norm;                            /**< integral of the unnormalised dN/dm over [m_lo, m_hi] */
+} hrt_imf;
+
+/** Name of an IMF kind ("salpeter1955", "kroupa2001", "chabrier2003", "powerlaw"); "unknown" otherwise. */
+HRT_API const char *hrt_imf_name(int kind);
+/** Inverse of hrt_imf_name(); also accepts "salpeter", "kroupa", "chabrier"; -1 if unknown. */
+HRT_API int hrt_imf_from_name(const char *name);
+
+/**
+ * @brief Set up an IMF between mass limits.
+ *
+ * Given:
+ *   kind        hrt_imf_kind
+ *   m_lo_msun, m_hi_msun   limits, 0 < m_lo < m_hi (Msun)
+ *   alpha       slope of HRT_IMF_POWER_LAW (dN/dm ~ m^-alpha, finite); ignored otherwise
+ * Returned:
+ *   imf         the IMF, normalised to one star over [m_lo, m_hi]
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (kind),
+ *   HRT_E_DOMAIN (limits or alpha).
+ * Notes:
+ *   1. Segments are continuous at their breaks (as the papers define them).
+ *   2. The published parameters are written in lib/population/population.c beside
+ *      their references.
+ */
+HRT_API int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, double alpha, hrt_error *err);
+/** Normalised dN/dm (per Msun) at m; 0 outside [m_lo, m_hi]; NaN for a NULL or uninitialised IMF. */
+HRT_API double hrt_imf_pdf(const hrt_imf *imf, double m_msun);
+/** Fraction of stars with initial mass <= m (0 below m_lo, 1 above m_hi). */
+HRT_API double hrt_imf_cdf(const hrt_imf *imf, double m_msun);
+/** Inverse of hrt_imf_cdf(): the mass below which a fraction u (0 <= u <= 1) of the stars lie. */
+HRT_API double hrt_imf_quantile(const hrt_imf *imf, double u);
+/** Mean initial mass (Msun) of a star drawn from the IMF. */
+HRT_API double hrt_imf_mean_mass(const hrt_imf *imf);
+
+/** Star-formation histories. */
+typedef enum hrt_sfh_kind {
+    HRT_SFH_BURST = 0,       /**< every star born at t_start_yr */
+    HRT_SFH_CONSTANT = 1,    /**< constant rate over [t_start_yr, t_end_yr] */
+    HRT_SFH_EXPONENTIAL = 2, /**< rate ~ exp(-(t - t_start_yr) / tau_yr) over [t_start_yr, t_end_yr] */
+    HRT_SFH_TABLE = 3,       /**< rate linear between the points of a caller-given table */
+    HRT_SFH_COUNT
+} hrt_sfh_kind;
+
+/** A star-formation history; times since the population began, yr. */
+typedef struct hrt_sfh {
+    int32_t kind;             /**< hrt_sfh_kind */
+    int32_t reserved_;        /**< zero */
+    double t_start_yr;        /**< burst time, or start of star formation (>= 0) */
+    double t_end_yr;          /**< end of star formation (CONSTANT, EXPONENTIAL) */
+    double tau_yr;            /**< e-folding time (EXPONENTIAL, > 0) */
+    size_t n_table;           /**< points of the table (TABLE, >= 2) */
+    const double *table_t_yr; /**< strictly increasing times (borrowed: must outlive the runs) */
+    const double *table_rate; /**< rates >= 0 at those times, any unit, not all zero */
+} hrt_sfh;
+
+/** Name of an SFH kind ("burst", "constant", "exponential", "table"); "unknown" otherwise. */
+HRT_API const char *hrt_sfh_name(int kind);
+/** Inverse of hrt_sfh_name(); -1 if unknown. */
+HRT_API int hrt_sfh_from_name(const char *name);
+
+/** Metallicity distributions. */
+typedef enum hrt_zdist_kind {
+    HRT_ZDIST_FIXED = 0,    /**< every star has Z = z */
+    HRT_ZDIST_LOG_UNIFORM = 1, /**< log10 Z uniform in [log10 z_lo, log10 z_hi] (uniform in [Fe/H]) */
+    HRT_ZDIST_LOG_NORMAL = 2,  /**< log10 Z normal (mean log10 z, sigma_dex) truncated to [z_lo, z_hi] */
+    HRT_ZDIST_COUNT
+} hrt_zdist_kind;
+
+typedef struct hrt_zdist {
+    int32_t kind;     /**< hrt_zdist_kind */
+    int32_t reserved_;/**< zero */
+    double z;         /**< FIXED: the metallicity; LOG_NORMAL: the median */
+    double z_lo, z_hi;/**< limits of LOG_UNIFORM and LOG_NORMAL */
+    double sigma_dex; /**< LOG_NORMAL: spread of log10 Z (= of [Fe/H]), dex, > 0 */
+} hrt_zdist;
+
+/** Everything that defines a population, hence its random draws. */
+typedef struct hrt_pop_spec {
+    hrt_imf imf;          /**< from hrt_imf_init() */
+    hrt_sfh sfh;
+    hrt_zdist zdist;
+    uint64_t n_stars;     /**< stars drawn */
+    uint64_t seed;        /**< any value; with chunk_size it fixes every draw */
+    uint64_t chunk_size;  /**< stars per random stream (> 0; hrt_pop_spec_default: 65536) */
+} hrt_pop_spec;
+
+/**
+ * @brief A population specification with defaults.
+ * Kroupa 2001 IMF over 0.08-100 Msun, a burst at t = 0, Z fixed at 0.014,
+ * n_stars 0, seed 1, chunk_size 65536.  Never fails.
+ */
+HRT_API void hrt_pop_spec_default(hrt_pop_spec *spec);
+/**
+ * @brief Check a specification (IMF set up, SFH and metallicity valid).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID, HRT_E_DOMAIN.
+ */
+HRT_API int hrt_pop_spec_check(const hrt_pop_spec *spec, hrt_error *err);
+/** Number of chunks: ceil(n_stars / chunk_size); 0 for an invalid spec. */
+HRT_API uint64_t hrt_pop_n_chunks(const hrt_pop_spec *spec);
+
+/**
+ * @brief The stars of one chunk: initial mass, metallicity and birth time.
+ *
+ * Given:   spec, chunk (< hrt_pop_n_chunks), cap (capacity of the arrays)
+ * Returned: mass_msun, z, t_birth_yr (any of them may be NULL), *n the
+ *   number of stars of the chunk (also when cap is too small)
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (spec or
+ *   chunk), HRT_E_DOMAIN, HRT_E_BUFFER, HRT_E_NOMEM.
+ * Notes:
+ *   1. The stream of chunk k is GSL's MT19937 (gsl_rng_mt19937) seeded with
+ *      a SplitMix64 hash of (seed, k); each star draws, in this order, one
+ *      uniform for its mass (IMF quantile), one for its birth time (not for
+ *      a burst) and one for its metallicity (not for a fixed Z).
+ *   2. These are exactly the stars hrt_pop_run() evaluates.
+ */
+HRT_API int hrt_pop_draw(const hrt_pop_spec *spec, uint64_t chunk, double *mass_msun, double *z,
+                         double *t_birth_yr, size_t cap, size_t *n, hrt_error *err);
+
+/** A non-negative sum in fixed point: value = (hi * 2^64 + lo) * 2^-32, exact under addition. */
+typedef struct hrt_pop_sum {
+    uint64_t hi, lo;
+} hrt_pop_sum;
+/** Value of a fixed-point sum as a double (rounded once). */
+HRT_API double hrt_pop_sum_value(const hrt_pop_sum *s);
+
+#define HRT_POP_MAX_PHASES 32    /**< >= HRT_PHASE_COUNT */
+#define HRT_POP_MAX_REMNANTS 8   /**< >= HRT_REMNANT_COUNT */
+#define HRT_POP_MAX_STATUS 32    /**< >= HRT_STATUS_COUNT_ */
+#define HRT_POP_HR_MAX_BINS 10000 /**< nx * ny of the HR histogram */
+
+/** Binning of the HR-diagram histogram: log10 Teff/K (x) by log10 L/Lsun (y). */
+typedef struct hrt_pop_hr {
+    double log_teff_lo, log_teff_hi; /**< x range, lo < hi */
+    double log_l_lo, log_l_hi;       /**< y range, lo < hi */
+    uint64_t nx, ny;                 /**< bins, nx * ny <= HRT_POP_HR_MAX_BINS (0 x 0: no histogram) */
+} hrt_pop_hr;
+
+/**
+ * Summary of a population at one epoch.  Plain data without padding, all
+ * integers but the epoch, the binning and two extrema, so partial summaries
+ * merge exactly (hrt_pop_summary_merge) and can be sent as bytes.  Sums are
+ * in fixed point (2^-32 Msun or Lsun per unit; each star's value rounded
+ * once), read with hrt_pop_sum_value().
+ */
+typedef struct hrt_pop_summary {
+    uint64_t struct_size;   /**< sizeof(hrt_pop_summary) */
+    double age_yr;          /**< epoch: age of the population, yr */
+    uint64_t n_drawn;       /**< stars drawn */
+    uint64_t n_unborn;      /**< born after the epoch (not evaluated) */
+    uint64_t n_evaluated;   /**< evaluated without error (the rest of the born ones failed) */
+    uint64_t n_status[HRT_POP_MAX_STATUS];   /**< born stars by hrt_eval status (HRT_OK included) */
+    hrt_pop_sum failed_initial_mass_msun;    /**< initial mass of stars that failed (e.g. outside the grid) */
+    uint64_t n_phase[HRT_POP_MAX_PHASES];    /**< evaluated stars by hrt_phase now */
+    hrt_pop_sum phase_initial_mass_msun[HRT_POP_MAX_PHASES]; /**< their initial masses */
+    hrt_pop_sum phase_mass_msun[HRT_POP_MAX_PHASES];         /**< their current masses */
+    hrt_pop_sum phase_l_lsun[HRT_POP_MAX_PHASES];            /**< their bolometric luminosities */
+    uint64_t n_remnant[HRT_POP_MAX_REMNANTS];/**< evaluated stars by remnant kind now; [0]: not a remnant */
+    hrt_pop_sum remnant_mass_msun[HRT_POP_MAX_REMNANTS];     /**< their current masses */
+    hrt_pop_sum initial_mass_msun;  /**< all evaluated stars: initial mass (mass formed, if all evaluated) */
+    hrt_pop_sum mass_msun;          /**< current mass in stars and remnants */
+    hrt_pop_sum l_lsun;             /**< integrated bolometric luminosity */
+    double ms_max_initial_mass_msun;     /**< most massive star on the main sequence (0 if none) */
+    double evolved_min_initial_mass_msun;/**< least massive star past the main sequence (+inf if none) */
+    hrt_pop_hr hr;                  /**< histogram binning */
+    uint64_t hr_outside;            /**< luminous stars outside the histogram's box */
+    uint64_t hr_count[HRT_POP_HR_MAX_BINS]; /**< counts, bin (ix, iy) at iy * nx + ix */
+} hrt_pop_summary;
+
+/**
+ * @brief An empty summary at epoch age_yr with the given binning.
+ * hr may be NULL (no histogram).  Returned (function value): HRT_OK,
+ * HRT_E_NULL, HRT_E_DOMAIN (age not finite or negative, bad ranges),
+ * HRT_E_INVALID (too many bins).
+ */
+HRT_API int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_pop_hr *hr, hrt_error *err);
+/**
+ * @brief Add n evaluated states (from hrt_eval or elsewhere) to a summary.
+ * Each state counts as one drawn, born star; its status decides whether it is
+ * evaluated or failed.  No allocation.  Returned: HRT_OK, HRT_E_NULL.
+ */
+HRT_API int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, hrt_error *err);
+/** Count n stars drawn but not yet born at the summary's epoch. */
+HRT_API void hrt_pop_summary_add_unborn(hrt_pop_summary *s, uint64_t n);
+/**
+ * @brief dst += src, exactly (counts and sums add, extrema combine).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (different
+ * epoch or binning; dst unchanged).  Commutative and associative bit for bit.
+ */
+HRT_API int hrt_pop_summary_merge(hrt_pop_summary *dst, const hrt_pop_summary *src, hrt_error *err);
+/**
+ * Main-sequence turnoff mass (Msun) of a single burst at one metallicity:
+ * midway (geometric mean) between the most massive star still on the main
+ * sequence and the least massive one past it; NaN if either is missing.
+ * Its sampling uncertainty is half their ratio's log.  For composite
+ * populations read the two extrema instead.
+ */
+HRT_API double hrt_pop_turnoff_mass(const hrt_pop_summary *s);
+
+/** Threads hrt_eval_parallel and hrt_pop_run can use: OpenMP's maximum, 1 without OpenMP. */
+HRT_API int hrt_pop_max_threads(void);
+
+/**
+ * @brief hrt_eval() on n_threads threads: the same states, return code and
+ * message, bit for bit, for any thread count.
+ * Given: as hrt_eval; n_threads >= 1 (0: hrt_pop_max_threads()); without
+ *   OpenMP at build time every call is serial.
+ * Notes: blocks of stars are evaluated independently; the first failing star
+ *   is the one of lowest index, as in hrt_eval.  No allocation.
+ */
+HRT_API int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, double z_all,
+                              const double *age_yr, hrt_state *out, int n_threads, hrt_error *err);
+
+/**
+ * @brief Draw, evaluate and summarise chunks [chunk_first, chunk_first + n_chunk)
+ * of a population at n_ages epochs, adding to the caller's summaries.
+ *
+ * Given:
+ *   g            open grid (shared read-only by the threads)
+ *   spec         the population (hrt_pop_spec_check)
+ *   chunk_first, n_chunk   chunks to do (clipped to hrt_pop_n_chunks)
+ *   n_threads    >= 1 (0: hrt_pop_max_threads())
+ *   n_ages       epochs (>= 1)
+ * Given and returned:
+ *   sums         n_ages summaries from hrt_pop_summary_init(), one per
+ *                epoch (their age_yr); the chunks' stars are added.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID,
+ *   HRT_E_DOMAIN, HRT_E_NOMEM (sums unchanged on any failure).
+ *   Stars that fail (outside the grid, ...) are not an error: they are
+ *   counted in n_status and failed_initial_mass_msun.
+ * Notes:
+ *   1. The chunked form lets a caller report progress between calls, and
+ *      MPI ranks take disjoint chunk ranges; any split gives the same bits.
+ *   2. Memory: per thread, scratch for 1024 stars and one summary per
+ *      epoch (about 0.3 MB + 0.1 MB per epoch), whatever n_stars is.
+ *   3. Every star of a chunk is evaluated with hrt_eval at every epoch.
+ */
+HRT_API int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_first, uint64_t n_chunk,
+                        int n_threads, size_t n_ages, hrt_pop_summary *sums, hrt_error *err);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* HRTRAIL_POPULATION_H */

@@ -1,0 +1,68 @@
+/*
+ * The one private header every layer of the library may include besides the
+ * public hrtrail.h: error reporting, derived constants, fast logarithms,
+ * small physics helpers.  Nothing here knows the prepared grid layout (that
+ * is lib/core/core.h, for the core only).  Private names start with trail_
+ * (functions) or TRAIL_ (macros); hrt_/HRT_ is the public API.
+ */
+#ifndef HRTRAIL_LIB_UTIL_H
+#define HRTRAIL_LIB_UTIL_H
+
+#include <math.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "hrtrail.h"
+
+/* ln 10 and its inverse (log10 e). */
+#define TRAIL_LN10 2.302585092994045684
+#define TRAIL_LOG10E 0.43429448190325182765
+
+/* log10 g of the Sun in cgs from the nominal (GM)sun and Rsun (IAU 2015 B3). */
+#define TRAIL_LOG_G_SUN_CGS 4.438067627303133
+/* log10 of the nominal solar Teff, 5772 K (IAU 2015 B3). */
+#define TRAIL_LOG_TEFF_SUN 3.7613263224214566
+
+/* Upper end of the white dwarf mass-radius relation hrt_wd_radius_rsun()
+ * uses (Eggleton's, with M_ch = 1.44 Msun): no white dwarf of this mass or
+ * more can be described, so none is written, read or extrapolated to. */
+#define TRAIL_WD_MASS_MAX_MSUN 1.44
+
+/* Fill err (when given) with code and a printf-style message (NULL fmt: the
+ * code's own text); returns code. */
+int trail_set_error(hrt_error *err, int code, const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 3, 4)))
+#endif
+    ;
+/* strdup (not in C11); NULL when out of memory. */
+char *trail_strdup(const char *s);
+/* qsort comparison of doubles, ascending (NaN last). */
+int trail_cmp_double(const void *a, const void *b);
+
+/* log10 through the natural logarithm: about half the cost of libm's
+ * log10, within an ulp of it.  Used wherever a query computes a log10, and
+ * for the grid's knots, so a query at a track's mass lands on its knot. */
+static inline double trail_log10(double x) { return log(x) * TRAIL_LOG10E; }
+
+/* 10^x: every age conversion goes through this one function, so the star
+ * and batch paths agree to the bit. */
+static inline double trail_exp10(double x) { return exp(x * TRAIL_LN10); }
+
+/* log10 R/Rsun from log10 L/Lsun and log10 Teff/K (Stefan-Boltzmann law with
+ * the nominal solar values), and log10 g/(cm s^-2) from mass and log R. */
+double trail_log_r_from(double log_l, double log_teff);
+double trail_log_g_from(double mass_msun, double log_r);
+
+/* Remnant masses are interpolated between tracks of one family: all white
+ * dwarfs (helium, CO, ONe) form one, so the mass is continuous where the
+ * composition changes; neutron stars and black holes are each their own. */
+static inline int trail_remnant_family(int kind)
+{
+    return (kind == HRT_REMNANT_HE_WD || kind == HRT_REMNANT_CO_WD || kind == HRT_REMNANT_ONE_WD)
+               ? HRT_REMNANT_CO_WD
+               : kind;
+}
+
+#endif
