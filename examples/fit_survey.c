@@ -40,11 +40,11 @@ int main(int argc, char **argv)
         const target *t = &field[i];
         hrt_fit_obs o;
         hrt_fit_obs_init(&o);
-        o.teff_k = t->teff, o.teff_sigma_k = t->teff_s;
-        o.log_l = t->log_l, o.log_l_sigma = t->log_l_s;
+        o.teff_k = t->teff, o.teff_k_sigma = t->teff_s;
+        o.log_l_lsun = t->log_l_lsun, o.log_l_lsun_sigma = t->log_l_s;
         o.feh = t->feh, o.feh_sigma = t->feh_s;
-        o.log_g_cgs = t->logg, o.log_g_sigma = t->logg_s;
-        o.flux_w_m2 = t->flux, o.flux_sigma_w_m2 = t->flux_s;
+        o.log_g_cgs = t->logg, o.log_g_cgs_sigma = t->logg_s;
+        o.flux_w_m2 = t->flux, o.flux_w_m2_sigma = t->flux_s;
         hrt_fit_sample draws[300];
         hrt_fit_result r;
         if (hrt_fit_star(m, &o, 2026 + i, 300, draws, &r, &err) != HRT_OK) {

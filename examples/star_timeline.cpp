@@ -34,7 +34,7 @@ int main(int argc, char **argv)
                     ms_end = p.end_yr;
             double left = ms_end - c.age_yr;
             std::printf("%-4s %5.2f Msun Z=%.3f age %.3g yr: %-26s log L %6.3f, Teff %6.0f K; ", c.label,
-                        c.mass_msun, c.z, c.age_yr, hrt_phase_name(now.phase), now.log_l,
+                        c.mass_msun, c.z, c.age_yr, hrt_phase_name(now.phase), now.log_l_lsun,
                         std::pow(10.0, now.log_teff_k));
             if (left > 0)
                 std::printf("%.3g yr left on the main sequence%s\n", left, left < 2e8 ? "  <- within 200 Myr" : "");

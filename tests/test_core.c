@@ -193,7 +193,7 @@ START_TEST(test_roundtrip_exact_at_knots)
                 ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
                 /* the file holds these doubles; only log10 of the stored
                  * mass differs from the generating x in the last bits */
-                ck_assert_double_eq_tol(st.log_l, synth_log_l(route, log10(m), e, y), 1e-12);
+                ck_assert_double_eq_tol(st.log_l_lsun, synth_log_l(route, log10(m), e, y), 1e-12);
                 ck_assert_double_eq_tol(log10(st.age_yr), synth_log_age(route, log10(m), e, y), 1e-14);
                 ck_assert_int_eq(st.phase, synth_phase(route, (int)j, (int)J));
             }
@@ -249,7 +249,7 @@ static double max_error(const synth_spec *s, int interp, int iz, double frac_lo,
             double age = pow(10.0, synth_log_age(1, x, ef, y)), m = pow(10.0, x);
             hrt_state st;
             ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, &st, NULL), HRT_OK);
-            double d = fabs(st.log_l - synth_log_l(1, x, st.eep / 60.0, y));
+            double d = fabs(st.log_l_lsun - synth_log_l(1, x, st.eep / 60.0, y));
             double dl = fabs(st.eep / 60.0 - ef); /* the age's EEP must be recovered too */
             if (d > err)
                 err = d;
@@ -306,7 +306,7 @@ START_TEST(test_metallicity_interpolation)
             double ef = (5 + k % 50) / 60.0, age = pow(10.0, synth_log_age(1, x, ef, y));
             hrt_state st;
             ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, z, &age, &st, NULL), HRT_OK);
-            double d = fabs(st.log_l - synth_log_l(1, x, st.eep / 60.0, y));
+            double d = fabs(st.log_l_lsun - synth_log_l(1, x, st.eep / 60.0, y));
             if (d > worst)
                 worst = d;
             /* log age is linear in [Fe/H] in the function and the method, so
@@ -364,9 +364,9 @@ START_TEST(test_stefan_boltzmann)
         hrt_state st;
         if (hrt_eval(g, 1, &m, &z, 0, &age, &st, NULL) != HRT_OK || (st.flags & (HRT_FLAG_DARK | HRT_FLAG_NOT_MODELLED)))
             continue;
-        double R = pow(10.0, st.log_r) * 6.957e8, T = pow(10.0, st.log_teff_k);
+        double R = pow(10.0, st.log_r_rsun) * 6.957e8, T = pow(10.0, st.log_teff_k);
         double L = 4.0 * 3.14159265358979323846 * R * R * 5.670374419e-8 * T * T * T * T / 3.828e26;
-        ck_assert_double_eq_tol(L / pow(10.0, st.log_l), 1.0, 1e-5);
+        ck_assert_double_eq_tol(L / pow(10.0, st.log_l_lsun), 1.0, 1e-5);
         /* log g from G M / R^2 with (GM)sun nominal (IAU 2015 B3), cgs */
         double gcgs = 1.3271244e20 * st.mass_msun / (R * R) * 100.0;
         ck_assert_double_eq_tol(log10(gcgs), st.log_g_cgs, 1e-9);
@@ -424,9 +424,9 @@ START_TEST(test_phases_keypoints_remnant)
     ck_assert_int_eq(hrt_star_at(s, a_end * 1.01, &w1), HRT_OK);
     ck_assert_int_eq(hrt_star_at(s, a_end * 3.0, &w2), HRT_OK);
     ck_assert(w1.flags & HRT_FLAG_REMNANT);
-    ck_assert(w2.log_l < w1.log_l);
+    ck_assert(w2.log_l_lsun < w1.log_l_lsun);
     ck_assert_double_eq(w1.mass_msun, w2.mass_msun);
-    ck_assert_double_eq(w1.log_r, w2.log_r);
+    ck_assert_double_eq(w1.log_r_rsun, w2.log_r_rsun);
     ck_assert(isinf(w1.phase_end_yr));
     hrt_star_free(s);
     hrt_grid_close(g);
@@ -535,7 +535,7 @@ START_TEST(test_bad_queries)
         ck_assert_int_eq(st.status, rc);
         ck_assert_int_eq(e.code, rc);
         ck_assert(strlen(e.message) > 10);
-        ck_assert(isnan(st.log_l));
+        ck_assert(isnan(st.log_l_lsun));
     }
     /* A batch keeps going past bad stars and reports the first. */
     double ms[3] = {2.0, -1.0, 3.0}, ages[3] = {1e9, 1e9, 1e8};
@@ -833,10 +833,10 @@ START_TEST(test_resampling)
     ck_assert_uint_eq(hrt_star_n_eep(s), 16);
     hrt_state st;
     hrt_star_eep_state(s, 10, &st);
-    ck_assert_double_eq_tol(st.log_l, l[200], 1e-12); /* keypoint b at EEP 10 */
+    ck_assert_double_eq_tol(st.log_l_lsun, l[200], 1e-12); /* keypoint b at EEP 10 */
     ck_assert_int_eq(st.phase, HRT_PHASE_RGB);
     hrt_star_eep_state(s, 15, &st);
-    ck_assert_double_eq_tol(st.log_l, 2.0, 1e-12);
+    ck_assert_double_eq_tol(st.log_l_lsun, 2.0, 1e-12);
     /* Linear in (log L, log Teff) and in the sample index: L varies linearly
      * with distance, so EEPs are equally spaced in the metric. */
     double d_prev = -1.0;
@@ -846,7 +846,7 @@ START_TEST(test_resampling)
         hrt_star_eep_state(s, j, &s1);
         double f0 = (s0.age_yr - pow(10.0, age[0])) / (pow(10.0, age[200]) - pow(10.0, age[0]));
         double f1 = (s1.age_yr - pow(10.0, age[0])) / (pow(10.0, age[200]) - pow(10.0, age[0]));
-        double dT = 2.0 * (s1.log_teff_k - s0.log_teff_k), dL = s1.log_l - s0.log_l, dA = f1 - f0;
+        double dT = 2.0 * (s1.log_teff_k - s0.log_teff_k), dL = s1.log_l_lsun - s0.log_l_lsun, dA = f1 - f0;
         double d = sqrt(dT * dT + dL * dL + dA * dA);
         if (d_prev > 0)
             ck_assert_double_eq_tol(d, d_prev, 2e-3 * d);

@@ -136,7 +136,7 @@ START_TEST(sun)
     hrt_grid *g = open_grid();
     hrt_star *s = new_star(g, 1.0, Z_SUN);
     hrt_state st = state_at(s, 4.57e9);
-    double l = pow(10.0, st.log_l), t = pow(10.0, st.log_teff_k), r = pow(10.0, st.log_r);
+    double l = pow(10.0, st.log_l_lsun), t = pow(10.0, st.log_teff_k), r = pow(10.0, st.log_r_rsun);
     printf("sun: L = %.4f Lsun (target 1 +- 10 %%), Teff = %.1f K (5772 +- 2 %%), R = %.4f Rsun (1 +- 10 %%)\n",
            l, t, r);
     ck_assert_int_eq(st.phase, HRT_PHASE_MS);
@@ -202,11 +202,11 @@ START_TEST(mean_dwarfs)
         hrt_star *s = new_star(g, tab[i].m, Z_SUN);
         double a0 = keypoint_age(s, "zams"), a1 = keypoint_age(s, "tams");
         hrt_state st = state_at(s, a0 + 0.5 * (a1 - a0));
-        double dt = pow(10.0, st.log_teff_k) / tab[i].teff - 1.0, dl = st.log_l - tab[i].logl;
+        double dt = pow(10.0, st.log_teff_k) / tab[i].teff - 1.0, dl = st.log_l_lsun - tab[i].logl;
         int ok = fabs(dt) <= 0.05 && fabs(dl) <= 0.15;
         pass += ok;
         printf("%s (%5.3g Msun): Teff %7.0f K vs %5.0f (%+.1f %%), log L %+.3f vs %+.2f (%+.3f dex) %s\n",
-               tab[i].spt, tab[i].m, pow(10.0, st.log_teff_k), tab[i].teff, 100 * dt, st.log_l, tab[i].logl,
+               tab[i].spt, tab[i].m, pow(10.0, st.log_teff_k), tab[i].teff, 100 * dt, st.log_l_lsun, tab[i].logl,
                dl, ok ? "ok" : "OUTSIDE");
         hrt_star_free(s);
     }
@@ -223,9 +223,9 @@ START_TEST(ms_luminosity_span)
     hrt_grid *g = open_grid();
     hrt_star *lo = new_star(g, 0.1, Z_SUN), *hi = new_star(g, 100.0, Z_SUN);
     hrt_state a = state_at_keypoint(g, lo, "zams"), b = state_at_keypoint(g, hi, "zams");
-    printf("ZAMS log L: %.3f at 0.1 Msun (target <= -3), %.3f at 100 Msun (target >= 5)\n", a.log_l, b.log_l);
-    ck_assert_double_le(a.log_l, -3.0);
-    ck_assert_double_ge(b.log_l, 5.0);
+    printf("ZAMS log L: %.3f at 0.1 Msun (target <= -3), %.3f at 100 Msun (target >= 5)\n", a.log_l_lsun, b.log_l_lsun);
+    ck_assert_double_le(a.log_l_lsun, -3.0);
+    ck_assert_double_ge(b.log_l_lsun, 5.0);
     hrt_star_free(lo);
     hrt_star_free(hi);
     hrt_grid_close(g);
@@ -247,7 +247,7 @@ START_TEST(routes_and_fates)
     for (size_t j = 0; j < hrt_star_n_eep(s); j++) {
         hrt_state st;
         ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
-        rmax = fmax(rmax, st.log_r);
+        rmax = fmax(rmax, st.log_r_rsun);
     }
     printf("0.15 Msun: largest radius %.3f Rsun (a giant would exceed 10)\n", pow(10.0, rmax));
     ck_assert_double_lt(rmax, 0.0);
@@ -312,21 +312,21 @@ START_TEST(solar_giant)
     hrt_grid *g = open_grid();
     hrt_star *s = new_star(g, 1.0, Z_SUN);
     hrt_state tip = state_at_keypoint(g, s, "he_ignition");
-    printf("1 Msun: RGB tip log L = %.3f (target 3.2-3.5), core %.4f Msun (0.45-0.50)\n", tip.log_l,
-           tip.he_core_msun);
-    ck_assert_double_ge(tip.log_l, 3.2);
-    ck_assert_double_le(tip.log_l, 3.5);
-    ck_assert_double_ge(tip.he_core_msun, 0.45);
-    ck_assert_double_le(tip.he_core_msun, 0.50);
+    printf("1 Msun: RGB tip log L = %.3f (target 3.2-3.5), core %.4f Msun (0.45-0.50)\n", tip.log_l_lsun,
+           tip.he_core_mass_msun);
+    ck_assert_double_ge(tip.log_l_lsun, 3.2);
+    ck_assert_double_le(tip.log_l_lsun, 3.5);
+    ck_assert_double_ge(tip.he_core_mass_msun, 0.45);
+    ck_assert_double_le(tip.he_core_mass_msun, 0.50);
     double a0 = keypoint_age(s, "cheb_start"), a1 = keypoint_age(s, "cheb_end");
     for (int i = 1; i < 10; i++) {
         hrt_state st = state_at(s, a0 + (a1 - a0) * i / 10.0);
         ck_assert_int_eq(st.phase, HRT_PHASE_CHEB);
         if (i == 5)
-            printf("1 Msun: red clump log L = %.3f (target 1.5-2.0), Teff %.0f K\n", st.log_l,
+            printf("1 Msun: red clump log L = %.3f (target 1.5-2.0), Teff %.0f K\n", st.log_l_lsun,
                    pow(10.0, st.log_teff_k));
-        ck_assert_double_ge(st.log_l, 1.5);
-        ck_assert_double_le(st.log_l, 2.0);
+        ck_assert_double_ge(st.log_l_lsun, 1.5);
+        ck_assert_double_le(st.log_l_lsun, 2.0);
     }
     hrt_star_free(s);
     hrt_grid_close(g);
@@ -395,14 +395,14 @@ START_TEST(limits_everywhere)
             for (size_t j = 0; j < hrt_star_n_eep(s); j++) {
                 hrt_state st;
                 ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
-                double lsb = 2.0 * st.log_r + 4.0 * (st.log_teff_k - log10(HRT_TEFF_SUN_K)) +
+                double lsb = 2.0 * st.log_r_rsun + 4.0 * (st.log_teff_k - log10(HRT_TEFF_SUN_K)) +
                              log10(4.0 * 3.14159265358979323846 * HRT_RSUN_M * HRT_RSUN_M * HRT_SIGMA_SB *
                                    pow(HRT_TEFF_SUN_K, 4.0) / HRT_LSUN_W);
-                sbmax = fmax(sbmax, fabs(lsb - st.log_l));
+                sbmax = fmax(sbmax, fabs(lsb - st.log_l_lsun));
                 if (st.phase == HRT_PHASE_MS) {
                     double ledd = 4.0 * 3.14159265358979323846 * HRT_G_SI * st.mass_msun * msun * HRT_C_M_S /
                                   (0.02 * 1.76) / HRT_LSUN_W;
-                    gmax = fmax(gmax, pow(10.0, st.log_l) / ledd);
+                    gmax = fmax(gmax, pow(10.0, st.log_l_lsun) / ledd);
                     n_ms++;
                 }
             }
@@ -431,11 +431,11 @@ START_TEST(wd_handover)
         hrt_state a, b = state_at(s, t_end * (1.0 + 1e-12) + 1.0);
         ck_assert_int_eq(hrt_star_eep_state(s, hrt_star_n_eep(s) - 1, &a), HRT_OK);
         ck_assert_int_eq(b.phase, HRT_PHASE_WD);
-        ck_assert_double_eq_tol(b.log_l, a.log_l, 0.01);
+        ck_assert_double_eq_tol(b.log_l_lsun, a.log_l_lsun, 0.01);
         ck_assert_double_eq_tol(b.log_teff_k, a.log_teff_k, 0.01);
         /* and cools afterwards */
         hrt_state c = state_at(s, t_end + 1e9);
-        ck_assert_double_lt(c.log_l, a.log_l - 1.0);
+        ck_assert_double_lt(c.log_l_lsun, a.log_l_lsun - 1.0);
         hrt_star_free(s);
     }
     hrt_grid_close(g);
@@ -473,11 +473,11 @@ static void read_track(const hrt_grid *g, size_t iz, size_t im, eep_track *t)
         hrt_state st;
         ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
         t->la[j] = log10(st.age_yr);
-        t->ll[j] = st.log_l;
+        t->ll[j] = st.log_l_lsun;
         t->lt[j] = st.log_teff_k;
         t->mass[j] = st.mass_msun;
-        t->he[j] = st.he_core_msun;
-        t->co[j] = st.co_core_msun;
+        t->he[j] = st.he_core_mass_msun;
+        t->co[j] = st.co_core_mass_msun;
         t->ph[j] = st.phase;
     }
     hrt_star_free(s);
@@ -566,8 +566,8 @@ static void loo_group(const hrt_grid *g, size_t iz, err_list el[HRT_PHASE_COUNT]
                 continue;
             hrt_track_data d = {.initial_mass_msun = tr[im].m, .route = tr[im].route, .remnant = tr[im].remnant,
                                 .remnant_mass_msun = tr[im].remnant_mass, .n = tr[im].n, .log_age_yr = tr[im].la,
-                                .log_l = tr[im].ll, .log_teff_k = tr[im].lt, .log_r = NULL,
-                                .mass_msun = tr[im].mass, .he_core_msun = tr[im].he, .co_core_msun = tr[im].co,
+                                .log_l_lsun = tr[im].ll, .log_teff_k = tr[im].lt, .log_r_rsun = NULL,
+                                .mass_msun = tr[im].mass, .he_core_mass_msun = tr[im].he, .co_core_mass_msun = tr[im].co,
                                 .phase = tr[im].ph};
             int rc = hrt_builder_add_eep_track(b, z, &d, &err);
             ck_assert_msg(rc == HRT_OK, "add_eep_track: %s", err.message);
@@ -587,7 +587,7 @@ static void loo_group(const hrt_grid *g, size_t iz, err_list el[HRT_PHASE_COUNT]
             int p = tr[k].ph[j];
             if (p <= 0 || p >= HRT_PHASE_COUNT)
                 continue;
-            err_push(&el[p], fabs(st.log_l - tr[k].ll[j]));
+            err_push(&el[p], fabs(st.log_l_lsun - tr[k].ll[j]));
             err_push(&et[p], fabs(st.log_teff_k - tr[k].lt[j]));
             err_push(&ea[p], fabs(log10(st.age_yr) - tr[k].la[j]));
         }

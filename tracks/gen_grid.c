@@ -80,10 +80,10 @@ static int route_of(const double bnd[2], double m)
 
 /* Raw track as CSV.  Besides the model's own columns, the dump carries what
  * the import's keypoint detection reads (tracks/FORMAT.md, "Keypoint
- * criteria"), which the model does not compute: center_h1 and center_he4
+ * criteria"), which the model does not compute: central_x and central_y
  * are PROXIES, not physics: central hydrogen falls linearly in age from
  * X = 1 - (0.245 + 1.5 Z) - Z at the ZAMS to 0 at the TAMS; central helium
- * is 1 - Z - center_h1 until core helium burning starts (cheb_start) and
+ * is 1 - Z - central_x until core helium burning starts (cheb_start) and
  * falls linearly in age to 0 at cheb_end.  The keypoint column names the
  * model's keypoints (the override the import honours). */
 static int dump_raw(const char *dir, const gen_track *t)
@@ -97,11 +97,11 @@ static int dump_raw(const char *dir, const gen_track *t)
     FILE *f = fopen(path, "w");
     if (!f)
         return -1;
-    fprintf(f, "# initial_mass=%.6g z=%.6g route=%d remnant=%d remnant_mass=%.6g keypoints=", t->initial_mass,
+    fprintf(f, "# initial_mass_msun=%.6g z=%.6g route=%d remnant=%d remnant_mass_msun=%.6g keypoints=", t->initial_mass,
             t->z, t->route, t->remnant, t->remnant_mass);
     for (size_t k = 0; k < t->n_kp; k++)
         fprintf(f, "%s%zu", k ? ";" : "", t->kp[k]);
-    fprintf(f, "\nage_yr,log_l,log_teff,mass,he_core,co_core,phase,center_h1,center_he4,keypoint\n");
+    fprintf(f, "\nage_yr,log_l_lsun,log_teff_k,mass_msun,he_core_mass_msun,co_core_mass_msun,phase,central_x,central_y,keypoints\n");
     double x0 = 1.0 - (0.245 + 1.5 * t->z) - t->z;
     double t_zams = t->s[t->kp[0]].age_yr, t_tams = t->s[t->kp[1]].age_yr;
     double t_cs = INFINITY, t_ce = INFINITY;
@@ -120,7 +120,7 @@ static int dump_raw(const char *dir, const gen_track *t)
         const char *flag = "-";
         if (k < t->n_kp && t->kp[k] == i)
             flag = kpn[k++];
-        fprintf(f, "%.17g,%.10f,%.10f,%.10f,%.10f,%.10f,%d,%.10g,%.10g,%s\n", a, s->log_l, s->log_teff, s->mass,
+        fprintf(f, "%.17g,%.10f,%.10f,%.10f,%.10f,%.10f,%d,%.10g,%.10g,%s\n", a, s->log_l_lsun, s->log_teff, s->mass,
                 s->he_core, s->co_core, s->phase, xc, yc, flag);
     }
     return fclose(f) == 0 ? 0 : -1;
@@ -147,7 +147,7 @@ static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
     if (c.age && c.l && c.t && c.m && c.he && c.co && c.ph) {
         for (size_t i = 0; i < n; i++) {
             c.age[i] = log10(t->s[i].age_yr);
-            c.l[i] = t->s[i].log_l;
+            c.l[i] = t->s[i].log_l_lsun;
             c.t[i] = t->s[i].log_teff;
             c.m[i] = t->s[i].mass;
             c.he[i] = t->s[i].he_core;
@@ -161,12 +161,12 @@ static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
             .remnant_mass_msun = t->remnant_mass,
             .n = n,
             .log_age_yr = c.age,
-            .log_l = c.l,
+            .log_l_lsun = c.l,
             .log_teff_k = c.t,
-            .log_r = NULL,
+            .log_r_rsun = NULL,
             .mass_msun = c.m,
-            .he_core_msun = c.he,
-            .co_core_msun = c.co,
+            .he_core_mass_msun = c.he,
+            .co_core_mass_msun = c.co,
             .phase = c.ph,
             .n_keypoints = t->n_kp,
             .keypoint_sample = t->kp,

@@ -46,7 +46,7 @@ typedef struct gen_params {
 /** One raw sample. */
 typedef struct gen_sample {
     double age_yr;      /**< since birth */
-    double log_l;       /**< log10 L/Lsun */
+    double log_l_lsun;  /**< log10 L/Lsun */
     double log_teff;    /**< log10 Teff/K */
     double mass;        /**< current mass, Msun */
     double he_core;     /**< helium core mass, Msun */

@@ -221,8 +221,8 @@ int cmd_demo(cli *c, argparse *p)
         goto done;
     }
     for (size_t i = 0; i < nm; i++)
-        if (isfinite(mem[i].now.log_teff_k) && isfinite(mem[i].now.log_l))
-            plot_add_point(&pl, mem[i].now.log_teff_k, mem[i].now.log_l, mem[i].now.phase, mem[i].name);
+        if (isfinite(mem[i].now.log_teff_k) && isfinite(mem[i].now.log_l_lsun))
+            plot_add_point(&pl, mem[i].now.log_teff_k, mem[i].now.log_l_lsun, mem[i].now.phase, mem[i].name);
     snprintf(title, sizeof title, "The %s cluster (invented): %s, Z = %g", CLUSTER_NAME, agebuf, z);
     snprintf(subtitle, sizeof subtitle, "members now, their tracks and the cluster isochrone; grid %s", c->grid_used);
     pl.title = title;

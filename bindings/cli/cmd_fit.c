@@ -259,8 +259,8 @@ static void add_row(table *t, const char *name, const char *status, const hrt_fi
     table_text(t, row, k++, name);
     table_text(t, row, k++, status);
     int ok = r->status == HRT_OK;
-    const hrt_fit_interval *iv[] = {&r->initial_mass_msun, &r->age_yr, &r->feh, &r->mass_msun, &r->radius_rsun,
-                                    &r->log_l, &r->log_g_cgs, &r->distance_pc};
+    const hrt_fit_interval *iv[] = {&r->initial_mass_msun, &r->age_yr, &r->feh, &r->mass_msun, &r->r_rsun,
+                                    &r->log_l_lsun, &r->log_g_cgs, &r->distance_pc};
     for (size_t q = 0; q < sizeof iv / sizeof iv[0]; q++) {
         table_num(t, row, k++, ok ? iv[q]->median : NAN);
         table_num(t, row, k++, ok ? iv[q]->lo : NAN);
@@ -287,8 +287,8 @@ static void print_one(const cli *c, const hrt_fit_result *r, const hrt_fit_obs *
     ROW("age [Gyr]", r->age_yr, 1e-9, "%12.4f");
     ROW("[Fe/H]", r->feh, 1.0, "%12.3f");
     ROW("current mass [Msun]", r->mass_msun, 1.0, "%12.4f");
-    ROW("radius [Rsun]", r->radius_rsun, 1.0, "%12.4f");
-    ROW("log L [Lsun]", r->log_l, 1.0, "%12.4f");
+    ROW("radius [Rsun]", r->r_rsun, 1.0, "%12.4f");
+    ROW("log L [Lsun]", r->log_l_lsun, 1.0, "%12.4f");
     ROW("Teff [K]", r->teff_k, 1.0, "%12.1f");
     ROW("log g [cgs]", r->log_g_cgs, 1.0, "%12.3f");
     if (!isnan(r->distance_pc.median)) ROW("HR-diagram distance [pc]", r->distance_pc, 1.0, "%12.4g");

@@ -156,8 +156,8 @@ int cmd_forecast(cli *c, argparse *p)
     for (size_t k = 0; k < at.n; k++) {
         const hrt_forecast_state *S = &fs[k];
         size_t row = table_add_row(ts);
-        double v[] = {S->dt_yr, 0, S->phase_prob[S->phase], S->log_l.median, S->log_l.lo, S->log_l.hi, S->teff_k.median,
-                      S->teff_k.lo, S->teff_k.hi, S->radius_rsun.median, S->radius_rsun.lo, S->radius_rsun.hi,
+        double v[] = {S->dt_yr, 0, S->phase_prob[S->phase], S->log_l_lsun.median, S->log_l_lsun.lo, S->log_l_lsun.hi, S->teff_k.median,
+                      S->teff_k.lo, S->teff_k.hi, S->r_rsun.median, S->r_rsun.lo, S->r_rsun.hi,
                       S->mass_msun.median, S->luminous_frac};
         for (size_t q = 0; q < sizeof v / sizeof v[0]; q++)
             if (q != 1) table_num(ts, row, q, v[q]);

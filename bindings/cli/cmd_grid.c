@@ -240,16 +240,16 @@ static void check_star(checker *k, const hrt_star *s, const char *where, int own
         if (!(st.flags & HRT_FLAG_DARK)) {
             if (!(st.log_teff_k >= 3.0 && st.log_teff_k <= 6.5))
                 fault(&f[K_TEFF], j, "log Teff %.6g K outside 3 to 6.5", st.log_teff_k);
-            if (!(st.log_l >= -6 && st.log_l <= 7.5)) fault(&f[K_LUM], j, "log L %.6g Lsun outside -6 to 7.5", st.log_l);
+            if (!(st.log_l_lsun >= -6 && st.log_l_lsun <= 7.5)) fault(&f[K_LUM], j, "log L %.6g Lsun outside -6 to 7.5", st.log_l_lsun);
         }
         if (!(st.mass_msun > 0 && st.mass_msun <= m0 * (1 + rel)))
             fault(&f[K_MASS], j, "current mass %.6g Msun not in (0, initial mass %.6g]", st.mass_msun, m0);
-        if (!(st.he_core_msun >= 0 && st.he_core_msun <= st.mass_msun * (1 + rel)))
-            fault(&f[K_HE], j, "helium core %.6g Msun not between 0 and the star's mass %.6g", st.he_core_msun,
+        if (!(st.he_core_mass_msun >= 0 && st.he_core_mass_msun <= st.mass_msun * (1 + rel)))
+            fault(&f[K_HE], j, "helium core %.6g Msun not between 0 and the star's mass %.6g", st.he_core_mass_msun,
                   st.mass_msun);
-        if (!(st.co_core_msun >= 0 && st.co_core_msun <= st.he_core_msun * (1 + rel) + 1e-12))
-            fault(&f[K_CO], j, "CO core %.6g Msun not between 0 and the helium core %.6g", st.co_core_msun,
-                  st.he_core_msun);
+        if (!(st.co_core_mass_msun >= 0 && st.co_core_mass_msun <= st.he_core_mass_msun * (1 + rel) + 1e-12))
+            fault(&f[K_CO], j, "CO core %.6g Msun not between 0 and the helium core %.6g", st.co_core_mass_msun,
+                  st.he_core_mass_msun);
     }
     for (int q = 0; q < K_COUNT; q++) {
         char at[320];

@@ -152,10 +152,10 @@ void pop_json(const hrt_pop_summary *s, jw *w, int with_hr)
     jw_table(w, "remnants", rem);
     if (with_hr && s->hr.nx) {
         jw_begin_object(w, "hr_histogram");
-        jw_num(w, "log_Teff_K_lo", s->hr.log_teff_lo);
-        jw_num(w, "log_Teff_K_hi", s->hr.log_teff_hi);
-        jw_num(w, "log_L_Lsun_lo", s->hr.log_l_lo);
-        jw_num(w, "log_L_Lsun_hi", s->hr.log_l_hi);
+        jw_num(w, "log_Teff_K_lo", s->hr.log_teff_k_lo);
+        jw_num(w, "log_Teff_K_hi", s->hr.log_teff_k_hi);
+        jw_num(w, "log_L_Lsun_lo", s->hr.log_l_lsun_lo);
+        jw_num(w, "log_L_Lsun_hi", s->hr.log_l_lsun_hi);
         jw_int(w, "nx", (long)s->hr.nx);
         jw_int(w, "ny", (long)s->hr.ny);
         jw_int(w, "outside", (long)s->hr_outside);
@@ -191,7 +191,7 @@ int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const
     FILE *m = open_memstream(&buf, &len);
     if (!m) return cli_fail(c, CLI_EXIT_INTERNAL, "out of memory for the SVG");
     p->have_xrange = p->have_yrange = 1;
-    p->xlo = s->hr.log_teff_lo, p->xhi = s->hr.log_teff_hi, p->ylo = s->hr.log_l_lo, p->yhi = s->hr.log_l_hi;
+    p->xlo = s->hr.log_teff_k_lo, p->xhi = s->hr.log_teff_k_hi, p->ylo = s->hr.log_l_lsun_lo, p->yhi = s->hr.log_l_lsun_hi;
     int bad = plot_write_svg(p, m);
     fclose(m);
     const char *area = buf ? strstr(buf, "<rect id=\"plot-area\"") : NULL, *clip = buf ? strstr(buf, "<g clip-path=\"url(#area)\">\n") : NULL;
@@ -217,14 +217,14 @@ int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const
     fwrite(buf, 1, (size_t)(after - buf), f);
     uint64_t cmax = 0;
     for (uint64_t k = 0; k < s->hr.nx * s->hr.ny; k++) cmax = s->hr_count[k] > cmax ? s->hr_count[k] : cmax;
-    double bw = (s->hr.log_teff_hi - s->hr.log_teff_lo) / (double)s->hr.nx;
-    double bh = (s->hr.log_l_hi - s->hr.log_l_lo) / (double)s->hr.ny;
+    double bw = (s->hr.log_teff_k_hi - s->hr.log_teff_k_lo) / (double)s->hr.nx;
+    double bh = (s->hr.log_l_lsun_hi - s->hr.log_l_lsun_lo) / (double)s->hr.ny;
     fprintf(f, "<g id=\"density\" data-max-count=\"%llu\">\n", (unsigned long long)cmax);
     for (uint64_t iy = 0; iy < s->hr.ny; iy++)
         for (uint64_t ix = 0; ix < s->hr.nx; ix++) {
             uint64_t k = s->hr_count[iy * s->hr.nx + ix];
             if (!k) continue;
-            double t_hi = s->hr.log_teff_lo + (double)(ix + 1) * bw, l_hi = s->hr.log_l_lo + (double)(iy + 1) * bh;
+            double t_hi = s->hr.log_teff_k_lo + (double)(ix + 1) * bw, l_hi = s->hr.log_l_lsun_lo + (double)(iy + 1) * bh;
             double px = x0 + (tl - t_hi) / (tl - tr) * w, py = y0 + (lt - l_hi) / (lt - lb) * h;
             double pw = bw / (tl - tr) * w, phh = bh / (lt - lb) * h;
             int ci = cmax > 1 ? (int)floor(7.999 * log((double)k) / log((double)cmax)) : 7;
@@ -397,10 +397,10 @@ int cmd_population(cli *c, argparse *p)
             break;
         }
         case O_LOG_TEFF:
-            if ((rc = parse_pair(c, "--log-teff", val, &hr.log_teff_lo, &hr.log_teff_hi, 0))) goto done;
+            if ((rc = parse_pair(c, "--log-teff", val, &hr.log_teff_k_lo, &hr.log_teff_k_hi, 0))) goto done;
             break;
         case O_LOG_L:
-            if ((rc = parse_pair(c, "--log-l", val, &hr.log_l_lo, &hr.log_l_hi, 0))) goto done;
+            if ((rc = parse_pair(c, "--log-l", val, &hr.log_l_lsun_lo, &hr.log_l_lsun_hi, 0))) goto done;
             break;
         case O_OUT: out = val; break;
         }

@@ -343,8 +343,8 @@ void state_table_add(table *t, const cli *c, const hrt_state *s, const char *nam
     size_t r = table_add_row(t);
     char fl[96];
     const double nums[N_STATE_COLS] = {
-        0, s->initial_mass_msun, s->z, s->age_yr, 0, 0, s->log_l, s->log_teff_k, s->log_r, s->log_g_cgs,
-        s->mass_msun, s->he_core_msun, s->co_core_msun, s->eep, s->phase_fraction, s->phase_start_yr,
+        0, s->initial_mass_msun, s->z, s->age_yr, 0, 0, s->log_l_lsun, s->log_teff_k, s->log_r_rsun, s->log_g_cgs,
+        s->mass_msun, s->he_core_mass_msun, s->co_core_mass_msun, s->eep, s->phase_fraction, s->phase_start_yr,
         s->phase_end_yr, 0, s->remnant_mass_msun, 0, 0};
     for (size_t i = 0; i < N_STATE_COLS; i++) {
         int k = st->map[i];

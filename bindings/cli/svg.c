@@ -62,7 +62,7 @@ void plot_free(plot *p)
 {
     for (size_t i = 0; i < p->nlines; i++) {
         free(p->lines[i].log_teff);
-        free(p->lines[i].log_l);
+        free(p->lines[i].log_l_lsun);
         free(p->lines[i].phase);
         free(p->lines[i].route);
         free(p->lines[i].label);
@@ -80,7 +80,7 @@ plot_line *plot_add_line(plot *p, size_t n, const char *label, int is_isochrone)
     l = &p->lines[p->nlines++];
     l->n = 0;
     l->log_teff = xcalloc(n, sizeof(double));
-    l->log_l = xcalloc(n, sizeof(double));
+    l->log_l_lsun = xcalloc(n, sizeof(double));
     l->phase = xcalloc(n, sizeof(int));
     l->route = xcalloc(n, sizeof(int));
     l->label = xstrdup(label ? label : "");
@@ -92,7 +92,7 @@ void plot_add_point(plot *p, double log_teff, double log_l, int phase, const cha
 {
     p->points = xrealloc(p->points, (p->npoints + 1) * sizeof *p->points);
     p->points[p->npoints].log_teff = log_teff;
-    p->points[p->npoints].log_l = log_l;
+    p->points[p->npoints].log_l_lsun = log_l;
     p->points[p->npoints].phase = phase;
     p->points[p->npoints].label = xstrdup(label ? label : "");
     p->npoints++;
@@ -100,9 +100,9 @@ void plot_add_point(plot *p, double log_teff, double log_l, int phase, const cha
 
 static void line_push(plot_line *l, const hrt_state *s)
 {
-    if (!isfinite(s->log_teff_k) || !isfinite(s->log_l)) return;
+    if (!isfinite(s->log_teff_k) || !isfinite(s->log_l_lsun)) return;
     l->log_teff[l->n] = s->log_teff_k;
-    l->log_l[l->n] = s->log_l;
+    l->log_l_lsun[l->n] = s->log_l_lsun;
     l->phase[l->n] = s->phase;
     l->route[l->n] = s->route;
     l->n++;
@@ -242,11 +242,11 @@ static void data_range(const plot *p, frame *f)
     for (size_t i = 0; i < p->nlines; i++)
         for (size_t k = 0; k < p->lines[i].n; k++) {
             xlo = fmin(xlo, p->lines[i].log_teff[k]), xhi = fmax(xhi, p->lines[i].log_teff[k]);
-            ylo = fmin(ylo, p->lines[i].log_l[k]), yhi = fmax(yhi, p->lines[i].log_l[k]);
+            ylo = fmin(ylo, p->lines[i].log_l_lsun[k]), yhi = fmax(yhi, p->lines[i].log_l_lsun[k]);
         }
     for (size_t i = 0; i < p->npoints; i++) {
         xlo = fmin(xlo, p->points[i].log_teff), xhi = fmax(xhi, p->points[i].log_teff);
-        ylo = fmin(ylo, p->points[i].log_l), yhi = fmax(yhi, p->points[i].log_l);
+        ylo = fmin(ylo, p->points[i].log_l_lsun), yhi = fmax(yhi, p->points[i].log_l_lsun);
     }
     if (!(xlo <= xhi)) xlo = 3.5, xhi = 4.5;
     if (!(ylo <= yhi)) ylo = -1, yhi = 3;
@@ -318,7 +318,7 @@ static void draw_line(FILE *o, const frame *f, const plot_line *l, size_t index)
             fprintf(o, "<polyline stroke=\"%s\" stroke-width=\"%.1f\"%s%s%s points=\"", s->colour, w,
                     *s->dash ? " stroke-dasharray=\"" : "", s->dash, *s->dash ? "\"" : "");
             for (size_t i = b; i < e; i++)
-                fprintf(o, "%s%.2f,%.2f", i > b ? " " : "", px(f, l->log_teff[i]), py(f, l->log_l[i]));
+                fprintf(o, "%s%.2f,%.2f", i > b ? " " : "", px(f, l->log_teff[i]), py(f, l->log_l_lsun[i]));
             fprintf(o, "\"/>\n");
         }
         k = e;
@@ -326,7 +326,7 @@ static void draw_line(FILE *o, const frame *f, const plot_line *l, size_t index)
     /* a marker where each phase begins */
     for (k = 0; k < l->n; k++)
         if (k == 0 || l->phase[k] != l->phase[k - 1] || l->route[k] != l->route[k - 1])
-            marker(o, style_of(l->phase[k])->mark, px(f, l->log_teff[k]), py(f, l->log_l[k]),
+            marker(o, style_of(l->phase[k])->mark, px(f, l->log_teff[k]), py(f, l->log_l_lsun[k]),
                    l->is_isochrone ? 5.0 : 4.0, style_of(l->phase[k])->colour);
     fprintf(o, "</g>\n");
 }
@@ -374,7 +374,7 @@ static void draw_labels(FILE *o, const plot *p, const frame *f)
     labels L = {NULL, 0};
     /* the markers of the stars are obstacles too */
     for (size_t i = 0; i < p->npoints; i++) {
-        double x = px(f, p->points[i].log_teff), y = py(f, p->points[i].log_l);
+        double x = px(f, p->points[i].log_teff), y = py(f, p->points[i].log_l_lsun);
         L.b = xrealloc(L.b, (L.n + 1) * sizeof *L.b);
         L.b[L.n++] = (box){x - 6, y - 6, x + 6, y + 6};
     }
@@ -384,16 +384,16 @@ static void draw_labels(FILE *o, const plot *p, const frame *f)
         size_t at = 0;
         if (!l->is_isochrone || !l->n || !l->label[0]) continue;
         for (size_t k = 1; k < l->n; k++)
-            if (l->log_l[k] > l->log_l[at]) at = k;
-        place_label(o, &L, f, px(f, l->log_teff[at]), py(f, l->log_l[at]), l->label, 12, 1);
+            if (l->log_l_lsun[k] > l->log_l_lsun[at]) at = k;
+        place_label(o, &L, f, px(f, l->log_teff[at]), py(f, l->log_l_lsun[at]), l->label, 12, 1);
     }
     for (size_t i = 0; i < p->npoints; i++)
         if (p->points[i].label[0])
-            place_label(o, &L, f, px(f, p->points[i].log_teff), py(f, p->points[i].log_l), p->points[i].label, 11, 0);
+            place_label(o, &L, f, px(f, p->points[i].log_teff), py(f, p->points[i].log_l_lsun), p->points[i].label, 11, 0);
     for (size_t i = 0; i < p->nlines; i++) {
         const plot_line *l = &p->lines[i];
         if (l->is_isochrone || !l->n || !l->label[0]) continue;
-        place_label(o, &L, f, px(f, l->log_teff[0]), py(f, l->log_l[0]), l->label, 10.5, 0);
+        place_label(o, &L, f, px(f, l->log_teff[0]), py(f, l->log_l_lsun[0]), l->label, 10.5, 0);
     }
     fprintf(o, "</g>\n");
     free(L.b);
@@ -488,11 +488,11 @@ int plot_write_svg(const plot *p, FILE *o)
     fprintf(o, "<g id=\"points\">\n");
     for (size_t i = 0; i < p->npoints; i++) {
         const plot_point *q = &p->points[i];
-        double x = px(&f, q->log_teff), y = py(&f, q->log_l);
+        double x = px(&f, q->log_teff), y = py(&f, q->log_l_lsun);
         const char *ring = q->phase > 0 ? style_of(q->phase)->colour : "#ffffff";
         fprintf(o, "<circle class=\"point\" data-log-teff=\"%.17g\" data-log-l=\"%.17g\" cx=\"%.3f\" cy=\"%.3f\" r=\"5.5\" "
                    "fill=\"#111111\" stroke=\"%s\" stroke-width=\"%s\"/>\n",
-                q->log_teff, q->log_l, x, y, ring, q->phase > 0 ? "2.6" : "1.5");
+                q->log_teff, q->log_l_lsun, x, y, ring, q->phase > 0 ? "2.6" : "1.5");
     }
     fprintf(o, "</g>\n</g>\n");
     fprintf(o, "<rect x=\"%.3f\" y=\"%.3f\" width=\"%.3f\" height=\"%.3f\" fill=\"none\" stroke=\"#2b2b2b\" stroke-width=\"1.2\"/>\n",

@@ -40,12 +40,12 @@ typedef struct hrt_track_data {
     double remnant_mass_msun;     /**< mass of that remnant, Msun (NaN if none) */
     size_t n;                     /**< number of samples or EEPs */
     const double *log_age_yr;     /**< log10 age/yr, strictly increasing */
-    const double *log_l;          /**< log10 L/Lsun */
+    const double *log_l_lsun;          /**< log10 L/Lsun */
     const double *log_teff_k;     /**< log10 Teff/K */
-    const double *log_r;          /**< log10 R/Rsun (NULL: from L and Teff by Stefan-Boltzmann) */
+    const double *log_r_rsun;          /**< log10 R/Rsun (NULL: from L and Teff by Stefan-Boltzmann) */
     const double *mass_msun;      /**< current mass, Msun */
-    const double *he_core_msun;   /**< helium core mass, Msun */
-    const double *co_core_msun;   /**< carbon-oxygen core mass, Msun */
+    const double *he_core_mass_msun;   /**< helium core mass, Msun */
+    const double *co_core_mass_msun;   /**< carbon-oxygen core mass, Msun */
     const int *phase;             /**< hrt_phase of each sample */
     size_t n_keypoints;           /**< keypoints reached (raw tracks only), a prefix of the route's */
     const size_t *keypoint_sample;/**< sample index of each reached keypoint (raw tracks only) */
@@ -97,6 +97,29 @@ HRT_API int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err);
 /* ------------------------------------------------------------------------
  * Importing text tracks (hrt_import_*)
  * ------------------------------------------------------------------------ */
+/**
+ * @brief Convert a grid file of an older format version to the current one.
+ *
+ * Given:
+ *   old_path  a grid file of format version 1 .. HRT_FORMAT_VERSION
+ *   new_path  where the converted grid is written, atomically as by
+ *             hrt_builder_write(); it may be old_path itself (the old file
+ *             is read completely first)
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL, HRT_E_IO, HRT_E_FORMAT (old_path is not a valid grid
+ *   of a known version), HRT_E_VERSION (newer than this library),
+ *   HRT_E_NOMEM.
+ * Notes:
+ *   1. Version 1 stored phases and remnants as indices into key tables and
+ *      used other dataset names (tracks/FORMAT.md, "Version history"); the
+ *      conversion maps every key to hrtrail's code and every dataset to its
+ *      name in the vocabulary.  Values are copied bit for bit; root text
+ *      attributes are kept, and 'converted_from' records the conversion.
+ *   2. hrt_grid_open() refuses older versions with HRT_E_VERSION and a
+ *      message naming this function and 'hrtrail grid upgrade'.
+ */
+HRT_API int hrt_grid_upgrade(const char *old_path, const char *new_path, hrt_error *err);
+
 /* @section import */
 /** Most keypoints a route may have for detection and import. */
 #define HRT_IMPORT_MAX_KP 32
@@ -104,20 +127,20 @@ HRT_API int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err);
 /**
  * Columns of one raw track for keypoint detection (tracks/FORMAT.md,
  * "Keypoint criteria"): n samples in strictly increasing age.  age_yr,
- * log_l and log_teff_k are required; every other pointer may be NULL when
+ * log_l_lsun and log_teff_k are required; every other pointer may be NULL when
  * the column is absent, and criteria needing it then fall back as
  * FORMAT.md says.
  */
 typedef struct hrt_kp_columns {
     size_t n;                   /**< number of samples */
     const double *age_yr;       /**< age since birth, yr, strictly increasing */
-    const double *log_l;        /**< log10 L/Lsun */
+    const double *log_l_lsun;        /**< log10 L/Lsun */
     const double *log_teff_k;   /**< log10 Teff/K */
     const double *mass_msun;    /**< current mass, Msun */
-    const double *center_h1;    /**< central hydrogen mass fraction */
-    const double *center_he4;   /**< central helium mass fraction */
-    const double *he_core_msun; /**< helium core mass, Msun */
-    const double *co_core_msun; /**< carbon-oxygen core mass, Msun */
+    const double *central_x;    /**< central hydrogen mass fraction */
+    const double *central_y;   /**< central helium mass fraction */
+    const double *he_core_mass_msun; /**< helium core mass, Msun */
+    const double *co_core_mass_msun; /**< carbon-oxygen core mass, Msun */
     const int *phase;           /**< hrt_phase of each sample */
     const char *const *flag;    /**< explicit keypoint name of each sample (NULL or "" for none) */
 } hrt_kp_columns;
@@ -202,13 +225,15 @@ HRT_API void hrt_import_free(hrt_import *imp);
  *
  * Given: entries, "key=value" pairs separated by commas, semicolons,
  * blanks or new lines; '#' starts a comment to the end of the line.
- * Keys (tracks/FORMAT.md, "Importing text tracks"):
- *   age, log_age                 column[*unit], unit yr, kyr, Myr, Gyr or a number
- *   log_L | L, log_Teff | Teff, log_R | R, mass, center_h1, center_he4,
- *   he_core_mass, co_core_mass   column[*factor]
- *   phase                        column of phase keys (ms, rgb, ...) or hrtrail phase codes
+ * Keys are the names of tracks/FORMAT.md's vocabulary ("Importing text
+ * tracks"); a quantity without an entry is read from a column of that name:
+ *   age_yr | log_age_yr          column[*unit], unit yr, kyr, Myr, Gyr or a number
+ *   log_l_lsun | l_lsun, log_teff_k | teff_k, log_r_rsun | r_rsun,
+ *   mass_msun, he_core_mass_msun, co_core_mass_msun, central_x, central_y
+ *                                column[*factor]
+ *   phase                        column of hrtrail phase keys (ms, rgb, ...) or codes
  *   keypoints                    column of explicit keypoint names ("", "-" or "0": none)
- *   initial_mass, Z              a number, or a column (its first data row)
+ *   initial_mass_msun, z, feh    a number, or a column (its first data row)
  *   pattern                      file-name pattern with {mass}, {z}, {feh} and '*'
  * A later entry for the same quantity replaces an earlier one.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (unknown
@@ -234,7 +259,7 @@ HRT_API int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *user
                                     void *user);
 /**
  * @brief Add a track file.
- * z: its metal mass fraction, or NaN to take it from the map (Z=...), the
+ * z: its metal mass fraction, or NaN to take it from the map (z=...), the
  * file-name pattern ({z} or {feh}) or a column.  Nothing is read yet.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN, HRT_E_NOMEM.
  */

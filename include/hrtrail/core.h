@@ -127,54 +127,90 @@ HRT_API size_t hrt_state_size(void);
 /* ------------------------------------------------------------------------
  * Enumerations
  * ------------------------------------------------------------------------ */
-/** Evolutionary phase.  The order is hrtrail's own; use hrt_phase_name(). */
-typedef enum hrt_phase {
-    HRT_PHASE_UNKNOWN = 0,
-    HRT_PHASE_PRE_MS = 1,        /**< before the zero-age main sequence (not modelled) */
-    HRT_PHASE_MS = 2,            /**< core hydrogen burning */
-    HRT_PHASE_SUBGIANT = 3,      /**< subgiant / Hertzsprung gap */
-    HRT_PHASE_RGB = 4,           /**< red giant branch */
-    HRT_PHASE_CHEB = 5,          /**< core helium burning (clump, horizontal branch, loop) */
-    HRT_PHASE_EAGB = 6,          /**< early asymptotic giant branch */
-    HRT_PHASE_TPAGB = 7,         /**< thermally pulsing asymptotic giant branch */
-    HRT_PHASE_POST_AGB = 8,      /**< post-AGB crossing to the white dwarf */
-    HRT_PHASE_WD = 9,            /**< white dwarf (cooling) */
-    HRT_PHASE_BSG = 10,          /**< blue supergiant */
-    HRT_PHASE_RSG = 11,          /**< red supergiant */
-    HRT_PHASE_WR = 12,           /**< Wolf-Rayet (stripped, hot) */
-    HRT_PHASE_NS = 13,           /**< neutron star */
-    HRT_PHASE_BH = 14,           /**< black hole */
-    HRT_PHASE_POST_RGB = 15,     /**< contraction of a stripped giant to a helium white dwarf */
-    HRT_PHASE_COUNT
-} hrt_phase;
+/**
+ * Evolutionary phases: X(NAME, code, key, text) for HRT_PHASE_NAME.
+ *
+ * The codes are hrtrail's own, grouped by tens so that code / 10 says which
+ * part of a star's life it is in:
+ *   0   unknown
+ *   1x  hydrogen in the core (every route): before and on the main sequence
+ *   2x  hydrogen-shell giants (low-mass and giant routes), and the
+ *       contraction of a stripped giant to a helium white dwarf
+ *   3x  helium burning and the asymptotic giant branch (giant route)
+ *   4x  massive stars after the main sequence (supergiant route)
+ *   5x  remnants
+ * Codes are below HRT_PHASE_SLOTS; arrays indexed by phase code (fit,
+ * forecast, population summaries) have that many entries, most unused.  The
+ * same codes are stored in grid files (tracks/FORMAT.md) and used by the
+ * command line and every binding; keys are the short names in files and
+ * in CSV/JSON output.
+ */
+#define HRT_PHASE_LIST(X)                                                           \
+    X(UNKNOWN, 0, "unknown", "unknown")                                             \
+    X(PRE_MS, 10, "pre_ms", "pre-main sequence")                                    \
+    X(MS, 11, "ms", "main sequence")                                                \
+    X(SUBGIANT, 20, "subgiant", "subgiant / Hertzsprung gap")                       \
+    X(RGB, 21, "rgb", "red giant branch")                                           \
+    X(POST_RGB, 22, "post_rgb", "post-RGB contraction")                             \
+    X(CHEB, 30, "cheb", "core helium burning")                                      \
+    X(EAGB, 31, "eagb", "early asymptotic giant branch")                            \
+    X(TPAGB, 32, "tpagb", "thermally pulsing asymptotic giant branch")              \
+    X(POST_AGB, 33, "post_agb", "post-AGB")                                         \
+    X(BSG, 40, "bsg", "blue supergiant")                                            \
+    X(RSG, 41, "rsg", "red supergiant")                                             \
+    X(WR, 42, "wr", "Wolf-Rayet")                                                   \
+    X(WD, 50, "wd", "white dwarf")                                                  \
+    X(NS, 51, "ns", "neutron star")                                                 \
+    X(BH, 52, "bh", "black hole")
+
+#define HRT_PHASE_ENUM_ENTRY_(name, code, key, text) HRT_PHASE_##name = code,
+/** Evolutionary phase (HRT_PHASE_LIST); use hrt_phase_name() and hrt_phase_key(). */
+typedef enum hrt_phase { HRT_PHASE_LIST(HRT_PHASE_ENUM_ENTRY_) HRT_PHASE_SLOTS = 64 } hrt_phase;
+#undef HRT_PHASE_ENUM_ENTRY_
+/** Number of phases in HRT_PHASE_LIST (unknown included). */
+#define HRT_PHASE_N 16
 
 /**
  * @brief Name of a phase ("main sequence", "red giant branch", ...).
- * @return a static string; "unknown" for values outside hrt_phase.  Thread-safe.
+ * @return a static string; "unknown" for a code not in HRT_PHASE_LIST.  Thread-safe.
  */
 HRT_API const char *hrt_phase_name(int phase);
-/** Short machine-friendly key of a phase ("ms", "rgb", "cheb", ...), as stored in grid files. */
+/** Short key of a phase ("ms", "rgb", "cheb", ...); "unknown" for a code not in the list. */
 HRT_API const char *hrt_phase_key(int phase);
-/** Inverse of hrt_phase_key(); returns HRT_PHASE_UNKNOWN for an unknown key or NULL. */
+/** Inverse of hrt_phase_key(); HRT_PHASE_UNKNOWN for an unknown key or NULL. */
 HRT_API int hrt_phase_from_key(const char *key);
+/** Code of the i-th phase of HRT_PHASE_LIST (0 <= i < HRT_PHASE_N, unknown first); -1 beyond. */
+HRT_API int hrt_phase_code(size_t i);
 
-/** Kind of stellar remnant. */
-typedef enum hrt_remnant {
-    HRT_REMNANT_NONE = 0,  /**< none known (track truncated, or not yet reached) */
-    HRT_REMNANT_HE_WD = 1, /**< helium white dwarf */
-    HRT_REMNANT_CO_WD = 2, /**< carbon-oxygen white dwarf */
-    HRT_REMNANT_ONE_WD = 3,/**< oxygen-neon white dwarf */
-    HRT_REMNANT_NS = 4,    /**< neutron star */
-    HRT_REMNANT_BH = 5,    /**< black hole */
-    HRT_REMNANT_COUNT
-} hrt_remnant;
+/**
+ * Kinds of remnant: X(NAME, code, key, text) for HRT_REMNANT_NAME.  Codes
+ * are hrtrail's own, grouped by tens: 0 none, 1x white dwarfs (by core
+ * composition), 20 neutron star, 30 black hole; code / 10 is the kind of
+ * compact object.  Codes are below HRT_REMNANT_SLOTS.
+ */
+#define HRT_REMNANT_LIST(X)                                                         \
+    X(NONE, 0, "none", "none")                                                      \
+    X(HE_WD, 10, "he_wd", "helium white dwarf")                                     \
+    X(CO_WD, 11, "co_wd", "carbon-oxygen white dwarf")                              \
+    X(ONE_WD, 12, "one_wd", "oxygen-neon white dwarf")                              \
+    X(NS, 20, "ns", "neutron star")                                                 \
+    X(BH, 30, "bh", "black hole")
 
-/** Name of a remnant kind ("carbon-oxygen white dwarf", ...); static string. */
+#define HRT_REMNANT_ENUM_ENTRY_(name, code, key, text) HRT_REMNANT_##name = code,
+/** Kind of stellar remnant (HRT_REMNANT_LIST). */
+typedef enum hrt_remnant { HRT_REMNANT_LIST(HRT_REMNANT_ENUM_ENTRY_) HRT_REMNANT_SLOTS = 32 } hrt_remnant;
+#undef HRT_REMNANT_ENUM_ENTRY_
+/** Number of remnant kinds in HRT_REMNANT_LIST (none included). */
+#define HRT_REMNANT_N 6
+
+/** Name of a remnant kind ("carbon-oxygen white dwarf", ...); "unknown" for a code not in the list. */
 HRT_API const char *hrt_remnant_name(int remnant);
-/** Short key of a remnant kind ("co_wd", "ns", ...), as stored in grid files. */
+/** Short key of a remnant kind ("co_wd", "ns", ...); "unknown" for a code not in the list. */
 HRT_API const char *hrt_remnant_key(int remnant);
 /** Inverse of hrt_remnant_key(); -1 for an unknown key or NULL. */
 HRT_API int hrt_remnant_from_key(const char *key);
+/** Code of the i-th remnant kind of HRT_REMNANT_LIST (0 <= i < HRT_REMNANT_N, none first); -1 beyond. */
+HRT_API int hrt_remnant_code(size_t i);
 
 /** Interpolation type across initial mass and [Fe/H], chosen when a grid is opened. */
 typedef enum hrt_interp {
@@ -201,7 +237,8 @@ HRT_API int hrt_interp_from_name(const char *name);
 
 /**
  * State of one star at one age.  Plain data, so ctypes and Fortran bind(C)
- * can mirror it.  The library sets struct_size = sizeof(hrt_state) in every
+ * can mirror it.  Field names are the vocabulary of tracks/FORMAT.md, the
+ * same in CSV/JSON output, Python and Fortran.  The library sets struct_size = sizeof(hrt_state) in every
  * state it writes; the reserved tail lets the struct grow without breaking
  * the ABI (check hrt_state_size()).
  */
@@ -215,13 +252,13 @@ typedef struct hrt_state {
     double initial_mass_msun; /**< initial mass, Msun */
     double z;                 /**< metal mass fraction */
     double age_yr;            /**< age since birth, yr */
-    double log_l;             /**< log10 L/Lsun (NaN if dark) */
+    double log_l_lsun;        /**< log10 L/Lsun (NaN if dark) */
     double log_teff_k;        /**< log10 Teff/K (NaN if dark) */
-    double log_r;             /**< log10 R/Rsun, from L and Teff by the Stefan-Boltzmann law */
+    double log_r_rsun;        /**< log10 R/Rsun, from L and Teff by the Stefan-Boltzmann law */
     double log_g_cgs;         /**< log10 g / (cm s^-2) */
     double mass_msun;         /**< current mass, Msun */
-    double he_core_msun;      /**< helium core mass, Msun */
-    double co_core_msun;      /**< carbon-oxygen core mass, Msun */
+    double he_core_mass_msun; /**< helium core mass, Msun */
+    double co_core_mass_msun; /**< carbon-oxygen core mass, Msun */
     double eep;               /**< fractional EEP index on the route (NaN for remnants, pre-MS) */
     double phase_fraction;    /**< 0..1 through the current phase in age (NaN if open-ended) */
     double phase_start_yr;    /**< age at which the current phase began, yr */
@@ -489,7 +526,7 @@ HRT_API double hrt_wd_log_l(double mass_msun, int kind, double log_l0, double dt
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (masses not
  * finite, negative, or a core heavier than the star).
  */
-HRT_API int hrt_collapse_remnant(double co_core_msun, double final_mass_msun, int *kind, double *mass_msun);
+HRT_API int hrt_collapse_remnant(double co_core_mass_msun, double final_mass_msun, int *kind, double *mass_msun);
 
 #ifdef __cplusplus
 }

@@ -115,21 +115,21 @@ HRT_API double hrt_fit_model_feh(const hrt_fit_model *model, size_t k);
  * NaN ("not measured"); give a value together with its 1-sigma error (> 0).
  * Errors are Gaussian in the quantity as named (Teff in K, log L in dex).
  *
- * Luminosity comes from exactly one of: log_l; a bolometric flux (flux_w_m2,
+ * Luminosity comes from exactly one of: log_l_lsun; a bolometric flux (flux_w_m2,
  * or the apparent bolometric magnitude mbol on the IAU 2015 Resolution B2
  * scale) together with a distance (distance_pc or parallax_mas); or nothing
  * (then log g or the prior must place the star).  A flux without a
  * distance gives the HR-diagram distance of the star instead.
  */
 typedef struct hrt_fit_obs {
-    double teff_k, teff_sigma_k;          /**< effective temperature, K (required) */
-    double log_l, log_l_sigma;            /**< log10 L/Lsun (nominal), dex */
+    double teff_k, teff_k_sigma;          /**< effective temperature, K (required) */
+    double log_l_lsun, log_l_lsun_sigma;            /**< log10 L/Lsun (nominal), dex */
     double feh, feh_sigma;                /**< [Fe/H] = log10(Z/Z_ref) of the grid, dex */
-    double log_g_cgs, log_g_sigma;        /**< log10 g/(cm s^-2) */
-    double flux_w_m2, flux_sigma_w_m2;    /**< bolometric flux at the observer, W m^-2 */
+    double log_g_cgs, log_g_cgs_sigma;        /**< log10 g/(cm s^-2) */
+    double flux_w_m2, flux_w_m2_sigma;    /**< bolometric flux at the observer, W m^-2 */
     double mbol, mbol_sigma;              /**< apparent bolometric magnitude (alternative to the flux) */
-    double distance_pc, distance_sigma_pc;/**< distance, pc */
-    double parallax_mas, parallax_sigma_mas; /**< parallax, mas (alternative to the distance;
+    double distance_pc, distance_pc_sigma;/**< distance, pc */
+    double parallax_mas, parallax_mas_sigma; /**< parallax, mas (alternative to the distance;
                                            *   sigma/parallax <= 0.2: it is inverted) */
 } hrt_fit_obs;
 
@@ -158,7 +158,7 @@ typedef struct hrt_fit_sample {
     double initial_mass_msun; /**< Msun */
     double z;                 /**< metal mass fraction (a node of the model) */
     double age_yr;            /**< yr */
-    double log_l;             /**< log10 L/Lsun of the lattice point drawn */
+    double log_l_lsun;             /**< log10 L/Lsun of the lattice point drawn */
     double log_teff_k;        /**< log10 Teff/K of the lattice point drawn */
     int32_t phase;            /**< hrt_phase */
     int32_t reserved_;
@@ -176,12 +176,12 @@ typedef struct hrt_fit_result {
     hrt_fit_interval age_yr;            /**< age since birth, yr */
     hrt_fit_interval feh;               /**< [Fe/H], dex */
     hrt_fit_interval mass_msun;         /**< current mass, Msun */
-    hrt_fit_interval radius_rsun;       /**< radius, nominal solar radii */
-    hrt_fit_interval log_l;             /**< log10 L/Lsun */
+    hrt_fit_interval r_rsun;       /**< radius, nominal solar radii */
+    hrt_fit_interval log_l_lsun;             /**< log10 L/Lsun */
     hrt_fit_interval teff_k;            /**< effective temperature, K */
     hrt_fit_interval log_g_cgs;         /**< log10 g/(cm s^-2) */
     hrt_fit_interval distance_pc;       /**< HR-diagram distance, pc (NaN unless a flux without a distance was given) */
-    double phase_prob[HRT_PHASE_COUNT]; /**< posterior probability of each phase */
+    double phase_prob[HRT_PHASE_SLOTS]; /**< posterior probability of each phase, by phase code */
     hrt_fit_interval phase_mass_msun[2];/**< initial mass within phase and within phase_second */
     hrt_fit_interval phase_age_yr[2];   /**< age within phase and within phase_second */
     double chi2_min;                    /**< chi^2 of the best lattice point, over every measured quantity
@@ -245,11 +245,11 @@ typedef struct hrt_forecast_state {
     double dt_yr;                       /**< time from now, yr */
     int32_t phase;                      /**< most probable phase then */
     int32_t reserved_;
-    double phase_prob[HRT_PHASE_COUNT]; /**< fraction of samples in each phase (remnants: wd, ns, bh) */
+    double phase_prob[HRT_PHASE_SLOTS]; /**< fraction of samples in each phase (remnants: wd, ns, bh) */
     double luminous_frac;               /**< fraction of samples with a finite L and Teff */
-    hrt_fit_interval log_l;             /**< log10 L/Lsun, over luminous samples */
+    hrt_fit_interval log_l_lsun;             /**< log10 L/Lsun, over luminous samples */
     hrt_fit_interval teff_k;            /**< K, over luminous samples */
-    hrt_fit_interval radius_rsun;       /**< Rsun, over luminous samples */
+    hrt_fit_interval r_rsun;       /**< Rsun, over luminous samples */
     hrt_fit_interval mass_msun;         /**< current mass, Msun, over all samples */
 } hrt_forecast_state;
 
@@ -275,14 +275,14 @@ typedef struct hrt_forecast_result {
     int32_t remnant;                          /**< most probable final remnant (hrt_remnant) */
     int32_t phase_now;                        /**< most probable current phase */
     double n_samples;                         /**< samples used */
-    double phase_now_prob[HRT_PHASE_COUNT];   /**< current phase over the samples */
+    double phase_now_prob[HRT_PHASE_SLOTS];   /**< current phase over the samples */
     double ms_prob;                           /**< fraction now on the main sequence */
     hrt_fit_interval ms_left_yr;              /**< main-sequence time left, yr, over those samples */
     hrt_fit_interval end_in_yr;               /**< time until the last EEP (remnant formation), yr */
-    hrt_forecast_phase future[HRT_PHASE_COUNT]; /**< indexed by hrt_phase: phases still to come */
+    hrt_forecast_phase future[HRT_PHASE_SLOTS]; /**< indexed by hrt_phase: phases still to come */
     size_t n_events;                          /**< keypoints in events[], soonest median first */
     hrt_forecast_event events[HRT_FORECAST_MAX_EVENTS];
-    double remnant_prob[HRT_REMNANT_COUNT];   /**< final remnant kind over the samples */
+    double remnant_prob[HRT_REMNANT_SLOTS];   /**< final remnant kind over the samples */
     hrt_fit_interval remnant_mass_msun;       /**< final remnant mass, Msun */
     double reserved[8];
 } hrt_forecast_result;

@@ -192,15 +192,13 @@ typedef struct hrt_pop_sum {
 /** Value of a fixed-point sum as a double (rounded once). */
 HRT_API double hrt_pop_sum_value(const hrt_pop_sum *s);
 
-#define HRT_POP_MAX_PHASES 32    /**< >= HRT_PHASE_COUNT */
-#define HRT_POP_MAX_REMNANTS 8   /**< >= HRT_REMNANT_COUNT */
 #define HRT_POP_MAX_STATUS 32    /**< >= HRT_STATUS_COUNT_ */
 #define HRT_POP_HR_MAX_BINS 10000 /**< nx * ny of the HR histogram */
 
 /** Binning of the HR-diagram histogram: log10 Teff/K (x) by log10 L/Lsun (y). */
 typedef struct hrt_pop_hr {
-    double log_teff_lo, log_teff_hi; /**< x range, lo < hi */
-    double log_l_lo, log_l_hi;       /**< y range, lo < hi */
+    double log_teff_k_lo, log_teff_k_hi; /**< x range, lo < hi */
+    double log_l_lsun_lo, log_l_lsun_hi;       /**< y range, lo < hi */
     uint64_t nx, ny;                 /**< bins, nx * ny <= HRT_POP_HR_MAX_BINS (0 x 0: no histogram) */
 } hrt_pop_hr;
 
@@ -219,12 +217,12 @@ typedef struct hrt_pop_summary {
     uint64_t n_evaluated;   /**< evaluated without error (the rest of the born ones failed) */
     uint64_t n_status[HRT_POP_MAX_STATUS];   /**< born stars by hrt_eval status (HRT_OK included) */
     hrt_pop_sum failed_initial_mass_msun;    /**< initial mass of stars that failed (e.g. outside the grid) */
-    uint64_t n_phase[HRT_POP_MAX_PHASES];    /**< evaluated stars by hrt_phase now */
-    hrt_pop_sum phase_initial_mass_msun[HRT_POP_MAX_PHASES]; /**< their initial masses */
-    hrt_pop_sum phase_mass_msun[HRT_POP_MAX_PHASES];         /**< their current masses */
-    hrt_pop_sum phase_l_lsun[HRT_POP_MAX_PHASES];            /**< their bolometric luminosities */
-    uint64_t n_remnant[HRT_POP_MAX_REMNANTS];/**< evaluated stars by remnant kind now; [0]: not a remnant */
-    hrt_pop_sum remnant_mass_msun[HRT_POP_MAX_REMNANTS];     /**< their current masses */
+    uint64_t n_phase[HRT_PHASE_SLOTS];    /**< evaluated stars by hrt_phase now */
+    hrt_pop_sum phase_initial_mass_msun[HRT_PHASE_SLOTS]; /**< their initial masses */
+    hrt_pop_sum phase_mass_msun[HRT_PHASE_SLOTS];         /**< their current masses */
+    hrt_pop_sum phase_l_lsun[HRT_PHASE_SLOTS];            /**< their bolometric luminosities */
+    uint64_t n_remnant[HRT_REMNANT_SLOTS];/**< evaluated stars by remnant kind now; [0]: not a remnant */
+    hrt_pop_sum remnant_mass_msun[HRT_REMNANT_SLOTS];     /**< their current masses */
     hrt_pop_sum initial_mass_msun;  /**< all evaluated stars: initial mass (mass formed, if all evaluated) */
     hrt_pop_sum mass_msun;          /**< current mass in stars and remnants */
     hrt_pop_sum l_lsun;             /**< integrated bolometric luminosity */

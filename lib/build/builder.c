@@ -14,11 +14,9 @@
 #include "util/schema.h"
 #include "util/util.h"
 
-enum { C_AGE = 0, C_L, C_TEFF, C_R, C_MASS, C_HE, C_CO, NCOL };
-static const char col_names[NCOL][16] = {"log_age", "log_L", "log_Teff", "log_R",
-                                            "mass", "he_core_mass", "co_core_mass"};
-static const char col_units[NCOL][16] = {"log10 yr", "log10 Lsun", "log10 K", "log10 Rsun",
-                                            "Msun", "Msun", "Msun"};
+/* The columns of a track are the file's per-EEP quantities (TRAIL_F_*). */
+enum { C_AGE = TRAIL_F_LOG_AGE, C_R = TRAIL_F_LOG_R, C_MASS = TRAIL_F_MASS, NCOL = TRAIL_NF };
+#define COL_NAME(c) (trail_schema_names.eep[c].v2)
 
 typedef struct btrack {
     double mass, rem_mass;
@@ -231,7 +229,7 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
     if (t->route < 0 || (size_t)t->route >= b->n_routes)
         return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: route %d is not one of the builder's", who,
                              t->initial_mass_msun, t->route);
-    if (t->remnant < 0 || t->remnant >= HRT_REMNANT_COUNT)
+    if (t->remnant != HRT_REMNANT_NONE && hrt_remnant_from_key(hrt_remnant_key(t->remnant)) != t->remnant)
         return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: remnant kind %d is unknown", who,
                              t->initial_mass_msun, t->remnant);
     if (t->remnant != HRT_REMNANT_NONE && !(isfinite(t->remnant_mass_msun) && t->remnant_mass_msun > 0.0))
@@ -240,36 +238,37 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
     if (t->remnant != HRT_REMNANT_NONE && !(t->remnant_mass_msun <= TRAIL_MAX_MASS_FACTOR * t->initial_mass_msun))
         return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: remnant mass %g exceeds %g times the initial mass", who,
                              t->initial_mass_msun, t->remnant_mass_msun, TRAIL_MAX_MASS_FACTOR);
-    if (trail_remnant_family(t->remnant) == HRT_REMNANT_CO_WD && !(t->remnant_mass_msun < 1.44))
-        return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: a white dwarf of %g Msun is beyond the 1.44 Msun of "
-                             "the white dwarf mass-radius relation", who, t->initial_mass_msun, t->remnant_mass_msun);
+    if (trail_remnant_is_wd(t->remnant) && !(t->remnant_mass_msun < TRAIL_WD_MASS_MAX_MSUN))
+        return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: a white dwarf of %g Msun is beyond the %g Msun of "
+                             "the white dwarf mass-radius relation", who, t->initial_mass_msun, t->remnant_mass_msun,
+                             TRAIL_WD_MASS_MAX_MSUN);
     if (t->n < 2 || t->n > 10000000)
         return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: %zu points (at least 2)", who, t->initial_mass_msun,
                              t->n);
-    const double *cols[NCOL] = {t->log_age_yr, t->log_l,        t->log_teff_k,    t->log_r,
-                                t->mass_msun,  t->he_core_msun, t->co_core_msun};
+    const double *cols[NCOL] = {t->log_age_yr, t->log_l_lsun,        t->log_teff_k,    t->log_r_rsun,
+                                t->mass_msun,  t->he_core_mass_msun, t->co_core_mass_msun};
     for (int c = 0; c < NCOL; c++) {
         if (!cols[c]) {
             if (c == C_R)
                 continue;
             return trail_set_error(err, HRT_E_NULL, "%s %g Msun: column %s is NULL", who, t->initial_mass_msun,
-                                 col_names[c]);
+                                 COL_NAME(c));
         }
         for (size_t i = 0; i < t->n; i++) {
             if (!isfinite(cols[c][i]))
                 return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not finite", who,
-                                     t->initial_mass_msun, col_names[c], i, cols[c][i]);
+                                     t->initial_mass_msun, COL_NAME(c), i, cols[c][i]);
             if (c >= C_MASS && cols[c][i] < 0.0)
                 return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is negative", who,
-                                     t->initial_mass_msun, col_names[c], i, cols[c][i]);
+                                     t->initial_mass_msun, COL_NAME(c), i, cols[c][i]);
             /* the reader's plausibility bounds: what is written can be read */
             if (c >= C_MASS && !(cols[c][i] <= TRAIL_MAX_MASS_FACTOR * t->initial_mass_msun))
                 return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g Msun exceeds %g times the "
-                                     "initial mass", who, t->initial_mass_msun, col_names[c], i, cols[c][i],
+                                     "initial mass", who, t->initial_mass_msun, COL_NAME(c), i, cols[c][i],
                                      TRAIL_MAX_MASS_FACTOR);
             if (c < C_MASS && !(fabs(cols[c][i]) <= TRAIL_MAX_LOG_ABS))
                 return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g is not a plausible log10 value",
-                                     who, t->initial_mass_msun, col_names[c], i, cols[c][i]);
+                                     who, t->initial_mass_msun, COL_NAME(c), i, cols[c][i]);
             if (c == C_AGE && i > 0 && !(cols[c][i] > cols[c][i - 1]))
                 return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: log_age[%zu] = %.17g does not exceed the "
                                      "previous point's %.17g", who, t->initial_mass_msun, i, cols[c][i],
@@ -279,7 +278,7 @@ static int check_columns(const hrt_builder *b, double z, const hrt_track_data *t
     if (!t->phase)
         return trail_set_error(err, HRT_E_NULL, "%s %g Msun: phase column is NULL", who, t->initial_mass_msun);
     for (size_t i = 0; i < t->n; i++)
-        if (t->phase[i] <= HRT_PHASE_UNKNOWN || t->phase[i] >= HRT_PHASE_COUNT)
+        if (t->phase[i] == HRT_PHASE_UNKNOWN || hrt_phase_from_key(hrt_phase_key(t->phase[i])) != t->phase[i])
             return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: phase[%zu] = %d is not a phase", who,
                                  t->initial_mass_msun, i, t->phase[i]);
     return HRT_OK;
@@ -297,8 +296,8 @@ static btrack *start_track(hrt_builder *b, double z, const hrt_track_data *t, in
     bt->route = t->route;
     bt->remnant = t->remnant;
     bt->rem_mass = t->remnant != HRT_REMNANT_NONE ? t->remnant_mass_msun : NAN;
-    const double *c[NCOL] = {t->log_age_yr, t->log_l,        t->log_teff_k,    t->log_r,
-                             t->mass_msun,  t->he_core_msun, t->co_core_msun};
+    const double *c[NCOL] = {t->log_age_yr, t->log_l_lsun,        t->log_teff_k,    t->log_r_rsun,
+                             t->mass_msun,  t->he_core_mass_msun, t->co_core_mass_msun};
     memcpy(cols, c, sizeof c);
     return bt;
 }
@@ -323,7 +322,7 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
         return rc;
     for (size_t i = 0; i < t->n; i++) {
         for (int c = 0; c < NCOL; c++)
-            bt->col[c][i] = cols[c] ? cols[c][i] : trail_log_r_from(t->log_l[i], t->log_teff_k[i]);
+            bt->col[c][i] = cols[c] ? cols[c][i] : trail_log_r_from(t->log_l_lsun[i], t->log_teff_k[i]);
         bt->phase[i] = t->phase[i];
     }
     return HRT_OK;
@@ -377,7 +376,7 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
         for (size_t s = sa + 1; s <= sb; s++) {
             double f = (pow(10.0, t->log_age_yr[s]) - ta) / (tb - ta);
             double dT = HRT_EEP_WEIGHT_LOG_TEFF * (t->log_teff_k[s] - t->log_teff_k[s - 1]);
-            double dL = HRT_EEP_WEIGHT_LOG_L * (t->log_l[s] - t->log_l[s - 1]);
+            double dL = HRT_EEP_WEIGHT_LOG_L * (t->log_l_lsun[s] - t->log_l_lsun[s - 1]);
             double dA = HRT_EEP_WEIGHT_AGE * (f - fprev);
             dist[s - sa] = dist[s - sa - 1] + sqrt(dT * dT + dL * dL + dA * dA);
             fprev = f;
@@ -400,8 +399,8 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
                     v0 = src[sa + s];
                     v1 = src[sa + s + 1];
                 } else {
-                    v0 = trail_log_r_from(t->log_l[sa + s], t->log_teff_k[sa + s]);
-                    v1 = trail_log_r_from(t->log_l[sa + s + 1], t->log_teff_k[sa + s + 1]);
+                    v0 = trail_log_r_from(t->log_l_lsun[sa + s], t->log_teff_k[sa + s]);
+                    v1 = trail_log_r_from(t->log_l_lsun[sa + s + 1], t->log_teff_k[sa + s + 1]);
                 }
                 bt->col[c][e] = u == 0.0 ? v0 : v0 + u * (v1 - v0);
             }
@@ -410,7 +409,7 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
     }
     size_t sl = t->keypoint_sample[nk - 1];
     for (int c = 0; c < NCOL; c++)
-        bt->col[c][e] = cols[c] ? cols[c][sl] : trail_log_r_from(t->log_l[sl], t->log_teff_k[sl]);
+        bt->col[c][e] = cols[c] ? cols[c][sl] : trail_log_r_from(t->log_l_lsun[sl], t->log_teff_k[sl]);
     bt->phase[e] = t->phase[sl];
     free(dist);
     /* Equal distance steps can still give equal log ages where a segment has
@@ -520,7 +519,7 @@ static void w_strings(wctx *w, hid_t loc, const char *name, size_t n, const char
 }
 
 static void w_data(wctx *w, hid_t loc, const char *name, int rank, const hsize_t *dims, int is_int,
-                   const void *v, const char *units)
+                   const void *v, const char *units, const char *meaning)
 {
     hid_t s = H5Screate_simple(rank, dims, NULL);
     hid_t ds = H5Dcreate2(loc, name, is_int ? H5T_STD_I32LE : H5T_IEEE_F64LE, s, H5P_DEFAULT, w->dcpl,
@@ -530,9 +529,44 @@ static void w_data(wctx *w, hid_t loc, const char *name, int rank, const hsize_t
     if (ds >= 0) {
         if (units)
             w_text_attr(w, ds, "units", units);
+        if (meaning)
+            w_text_attr(w, ds, "long_name", meaning);
         H5Dclose(ds);
     }
     H5Sclose(s);
+}
+
+/* A dataset of the schema, with its units and meaning. */
+static void w_named(wctx *w, hid_t loc, const trail_name *n, int rank, const hsize_t *dims, int is_int,
+                    const void *v)
+{
+    w_data(w, loc, n->v2, rank, dims, is_int, v, n->units, n->meaning);
+}
+
+/* phases/ or remnants/: code, key and name of every entry of the list, so
+ * the file says what its codes mean (the reader checks them). */
+static void w_code_table(wctx *w, hid_t f, const char *group, size_t n, int (*code_at)(size_t),
+                         const char *(*key_of)(int), const char *(*name_of)(int))
+{
+    int code[64];
+    const char *key[64], *name[64];
+    hsize_t d[1] = {n};
+    hid_t g = H5Gcreate2(f, group, H5P_DEFAULT, w->gcpl, H5P_DEFAULT);
+    if (g < 0 || n > 64) {
+        w->failed = 1;
+        if (g >= 0)
+            H5Gclose(g);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        code[i] = code_at(i);
+        key[i] = key_of(code[i]);
+        name[i] = name_of(code[i]);
+    }
+    w_data(w, g, "code", 1, d, 1, code, NULL, "hrtrail code stored in the datasets");
+    w_strings(w, g, "key", n, key);
+    w_strings(w, g, "name", n, name);
+    H5Gclose(g);
 }
 
 static hid_t w_group(wctx *w, hid_t loc, const char *name)
@@ -601,7 +635,8 @@ static int prepare_write(hrt_builder *b, hrt_error *err)
 
 static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err)
 {
-    w_text_attr(w, f, "format", "hrtrail-track-grid");
+    const trail_schema *S = &trail_schema_names;
+    w_text_attr(w, f, "format", TRAIL_FORMAT_NAME);
     int ver = HRT_FORMAT_VERSION;
     w_num_attr(w, f, "format_version", H5T_NATIVE_INT, &ver);
     w_num_attr(w, f, "z_ref", H5T_NATIVE_DOUBLE, &b->z_ref);
@@ -612,14 +647,8 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
     }
     if (!has_created_by)
         w_text_attr(w, f, "created_by", "hrtrail " HRT_VERSION_STRING);
-    const char *pk[HRT_PHASE_COUNT - 1];
-    for (int p = 1; p < HRT_PHASE_COUNT; p++)
-        pk[p - 1] = hrt_phase_key(p);
-    w_strings(w, f, "phase_keys", HRT_PHASE_COUNT - 1, pk);
-    const char *rk[HRT_REMNANT_COUNT];
-    for (int r = 0; r < HRT_REMNANT_COUNT; r++)
-        rk[r] = hrt_remnant_key(r);
-    w_strings(w, f, "remnant_keys", HRT_REMNANT_COUNT, rk);
+    w_code_table(w, f, "phases", HRT_PHASE_N, hrt_phase_code, hrt_phase_key, hrt_phase_name);
+    w_code_table(w, f, "remnants", HRT_REMNANT_N, hrt_remnant_code, hrt_remnant_key, hrt_remnant_name);
 
     hid_t rg = w_group(w, f, "routes");
     const char *rn[TRAIL_MAX_ROUTES];
@@ -645,8 +674,8 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
                 }
                 hsize_t d1[1] = {L->n_kp}, d2[1] = {L->n_kp - 1};
                 w_strings(w, sub, "keypoint_names", L->n_kp, (const char *const *)L->kp_names);
-                w_data(w, sub, "keypoint_eep", 1, d1, 1, kpp, NULL);
-                w_data(w, sub, "segment_samples", 1, d2, 1, sgp, NULL);
+                w_data(w, sub, "keypoint_eep", 1, d1, 1, kpp, NULL, "EEP index of each keypoint");
+                w_data(w, sub, "segment_samples", 1, d2, 1, sgp, NULL, "EEPs in each segment");
             }
             if (kpp != kp)
                 free(kpp);
@@ -667,7 +696,7 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
         hid_t gg = w_group(w, mg, name);
         if (gg < 0)
             break;
-        w_num_attr(w, gg, "Z", H5T_NATIVE_DOUBLE, &g->z);
+        w_num_attr(w, gg, S->group_z.v2, H5T_NATIVE_DOUBLE, &g->z);
         size_t n = g->n;
         double *d = malloc(n * J * sizeof(double));
         int *iv = malloc(n * J * sizeof(int));
@@ -681,31 +710,31 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
         hsize_t d1[1] = {n}, d2[2] = {n, J}, db[1] = {b->n_routes - 1};
         for (size_t i = 0; i < n; i++)
             d[i] = g->t[i].mass;
-        w_data(w, gg, "initial_mass", 1, d1, 0, d, "Msun");
+        w_named(w, gg, &S->initial_mass, 1, d1, 0, d);
         for (size_t i = 0; i < n; i++)
             iv[i] = g->t[i].route;
-        w_data(w, gg, "route", 1, d1, 1, iv, NULL);
+        w_named(w, gg, &S->route, 1, d1, 1, iv);
         for (size_t i = 0; i < n; i++)
             iv[i] = g->t[i].n;
-        w_data(w, gg, "n_eep", 1, d1, 1, iv, NULL);
+        w_named(w, gg, &S->n_eep, 1, d1, 1, iv);
         for (size_t i = 0; i < n; i++)
             iv[i] = g->t[i].remnant;
-        w_data(w, gg, "remnant", 1, d1, 1, iv, NULL);
+        w_named(w, gg, &S->remnant, 1, d1, 1, iv);
         for (size_t i = 0; i < n; i++)
             d[i] = g->t[i].rem_mass;
-        w_data(w, gg, "remnant_mass", 1, d1, 0, d, "Msun");
+        w_named(w, gg, &S->remnant_mass, 1, d1, 0, d);
         if (b->n_routes > 1)
-            w_data(w, gg, "route_boundary_mass", 1, db, 0, g->bound, "Msun");
+            w_named(w, gg, &S->boundary, 1, db, 0, g->bound);
         for (int c = 0; c < NCOL; c++) {
             for (size_t i = 0; i < n; i++)
                 for (size_t j = 0; j < J; j++)
                     d[i * J + j] = j < (size_t)g->t[i].n ? g->t[i].col[c][j] : NAN;
-            w_data(w, gg, col_names[c], 2, d2, 0, d, col_units[c]);
+            w_named(w, gg, &S->eep[c], 2, d2, 0, d);
         }
         for (size_t i = 0; i < n; i++)
             for (size_t j = 0; j < J; j++)
-                iv[i * J + j] = j < (size_t)g->t[i].n ? g->t[i].phase[j] - 1 : -1;
-        w_data(w, gg, "phase", 2, d2, 1, iv, NULL);
+                iv[i * J + j] = j < (size_t)g->t[i].n ? g->t[i].phase[j] : HRT_PHASE_UNKNOWN;
+        w_named(w, gg, &S->phase, 2, d2, 1, iv);
         free(d);
         free(iv);
         H5Gclose(gg);

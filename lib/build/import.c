@@ -17,32 +17,50 @@
 enum {
     M_AGE = 0, M_L, M_TEFF, M_R, M_MASS, M_XC, M_YC, M_MHE, M_MCO, M_PHASE, M_FLAG, M_MINIT, M_Z, M_N
 };
-/* Map keys: quantity, whether the column holds log10 of it, whether a number
- * is accepted as a constant, whether the value is text. */
+/* Map keys (tracks/FORMAT.md's vocabulary): quantity, whether the column
+ * holds log10 of it, whether a number is accepted as a constant, whether the
+ * value is text, whether a column of this name is read without a map entry. */
 typedef struct mkey {
-    char key[16];
-    int q, is_log, constant_ok, text;
+    char key[24];
+    int q, is_log, constant_ok, text, by_default;
 } mkey;
 static const mkey map_keys[] = {
-    {"age", M_AGE, 0, 0, 0},          {"log_age", M_AGE, 1, 0, 0},      {"log_L", M_L, 1, 0, 0},
-    {"L", M_L, 0, 0, 0},              {"log_Teff", M_TEFF, 1, 0, 0},    {"Teff", M_TEFF, 0, 0, 0},
-    {"log_R", M_R, 1, 0, 0},          {"R", M_R, 0, 0, 0},              {"mass", M_MASS, 0, 0, 0},
-    {"center_h1", M_XC, 0, 0, 0},     {"center_he4", M_YC, 0, 0, 0},    {"he_core_mass", M_MHE, 0, 0, 0},
-    {"co_core_mass", M_MCO, 0, 0, 0}, {"phase", M_PHASE, 0, 0, 1},      {"keypoints", M_FLAG, 0, 0, 1},
-    {"initial_mass", M_MINIT, 0, 1, 0}, {"Z", M_Z, 0, 1, 0},            {"feh", M_Z, 1, 1, 0},
+    {"age_yr", M_AGE, 0, 0, 0, 1},
+    {"log_age_yr", M_AGE, 1, 0, 0, 1},
+    {"log_l_lsun", M_L, 1, 0, 0, 1},
+    {"l_lsun", M_L, 0, 0, 0, 1},
+    {"log_teff_k", M_TEFF, 1, 0, 0, 1},
+    {"teff_k", M_TEFF, 0, 0, 0, 1},
+    {"log_r_rsun", M_R, 1, 0, 0, 1},
+    {"r_rsun", M_R, 0, 0, 0, 1},
+    {"mass_msun", M_MASS, 0, 0, 0, 1},
+    {"central_x", M_XC, 0, 0, 0, 1},
+    {"central_y", M_YC, 0, 0, 0, 1},
+    {"he_core_mass_msun", M_MHE, 0, 0, 0, 1},
+    {"co_core_mass_msun", M_MCO, 0, 0, 0, 1},
+    {"phase", M_PHASE, 0, 0, 1, 1},
+    {"keypoints", M_FLAG, 0, 0, 1, 1},
+    {"initial_mass_msun", M_MINIT, 0, 1, 0, 1},
+    {"z", M_Z, 0, 1, 0, 1},
+    {"feh", M_Z, 1, 1, 0, 0},
 };
 #define N_MAP_KEYS (sizeof map_keys / sizeof map_keys[0])
-/* Key shown in messages for each quantity. */
-static const char q_names[M_N][16] = {"age",        "log_L",       "log_Teff",     "log_R",   "mass",
-                                      "center_h1",  "center_he4",  "he_core_mass", "co_core_mass",
-                                      "phase",      "keypoints",   "initial_mass", "Z"};
+
+/* Key shown in messages for each quantity: its first map key. */
+static const char *q_name(int q)
+{
+    for (size_t k = 0; k < N_MAP_KEYS; k++)
+        if (map_keys[k].q == q)
+            return map_keys[k].key;
+    return "?";
+}
 
 typedef struct mentry {
     int set;
     int key;         /* index into map_keys */
     char *column;    /* NULL for a constant */
     double factor;   /* quantity = factor * v (or factor * 10^v for log columns) */
-    double constant; /* for initial_mass, Z */
+    double constant; /* for initial_mass_msun, z */
 } mentry;
 
 /* ---- one track ---------------------------------------------------------- */
@@ -331,9 +349,10 @@ static int map_entry(hrt_import *imp, const char *s, size_t len, const char *whe
         k++;
     if (k == N_MAP_KEYS)
         return trail_set_error(err, HRT_E_INVALID,
-                             "%sunknown map key '%s' (age, log_age, log_L, L, log_Teff, Teff, log_R, R, mass, "
-                             "center_h1, center_he4, he_core_mass, co_core_mass, phase, keypoints, initial_mass, "
-                             "Z, feh, pattern, z_ref)", where, key);
+                             "%sunknown map key '%s' (age_yr, log_age_yr, log_l_lsun, l_lsun, log_teff_k, teff_k, "
+                             "log_r_rsun, r_rsun, mass_msun, central_x, central_y, he_core_mass_msun, "
+                             "co_core_mass_msun, phase, keypoints, initial_mass_msun, z, feh, pattern, z_ref)",
+                             where, key);
     const mkey *mk = &map_keys[k];
     mentry e = {1, (int)k, NULL, 1.0, NAN};
     double v;
@@ -657,30 +676,6 @@ static long find_col(field *h, size_t nh, const char *name)
     return -1;
 }
 
-/* Default column names of a quantity not in the map: (name, map key index). */
-typedef struct defcol {
-    int q;
-    char name[16];
-    char key[16];
-} defcol;
-static const defcol def_cols[] = {
-    {M_AGE, "age", "age"},           {M_AGE, "log_age", "log_age"},    {M_L, "log_L", "log_L"},
-    {M_L, "L", "L"},                 {M_TEFF, "log_Teff", "log_Teff"}, {M_TEFF, "Teff", "Teff"},
-    {M_R, "log_R", "log_R"},         {M_R, "R", "R"},                  {M_MASS, "mass", "mass"},
-    {M_XC, "center_h1", "center_h1"}, {M_YC, "center_he4", "center_he4"},
-    {M_MHE, "he_core_mass", "he_core_mass"}, {M_MCO, "co_core_mass", "co_core_mass"},
-    {M_PHASE, "phase", "phase"},     {M_FLAG, "keypoints", "keypoints"},
-    {M_MINIT, "initial_mass", "initial_mass"}, {M_Z, "Z", "Z"},
-};
-
-static int key_index(const char *key)
-{
-    for (size_t k = 0; k < N_MAP_KEYS; k++)
-        if (strcmp(map_keys[k].key, key) == 0)
-            return (int)k;
-    return 0;
-}
-
 static int phase_of_text(const char *s, size_t len, int *ph)
 {
     char buf[32];
@@ -695,7 +690,7 @@ static int phase_of_text(const char *s, size_t len, int *ph)
     }
     char *end;
     long v = strtol(buf, &end, 10);
-    if (*end || v <= HRT_PHASE_UNKNOWN || v >= HRT_PHASE_COUNT)
+    if (*end || v <= HRT_PHASE_UNKNOWN || v >= HRT_PHASE_SLOTS || hrt_phase_from_key(hrt_phase_key((int)v)) != v)
         return -1;
     *ph = (int)v;
     return 0;
@@ -820,21 +815,23 @@ static int read_track(const hrt_import *imp, trk *t, hrt_error *err)
                     fac[q] = me->factor;
                     continue;
                 }
-                for (size_t d = 0; d < sizeof def_cols / sizeof def_cols[0]; d++)
-                    if (def_cols[d].q == q && (colidx[q] = find_col(hdr, nh, def_cols[d].name)) >= 0) {
-                        ck[q] = &map_keys[key_index(def_cols[d].key)];
+                for (size_t d = 0; d < N_MAP_KEYS; d++)
+                    if (map_keys[d].q == q && map_keys[d].by_default &&
+                        (colidx[q] = find_col(hdr, nh, map_keys[d].key)) >= 0) {
+                        ck[q] = &map_keys[d];
                         break;
                     }
             }
             if (failed)
                 break;
             static const int required[3] = {M_AGE, M_L, M_TEFF};
-            static const char req_text[3][64] = {"age (or log_age)", "log_L (or L)", "log_Teff (or Teff)"};
+            static const char req_text[3][64] = {"age_yr (or log_age_yr)", "log_l_lsun (or l_lsun)",
+                                                 "log_teff_k (or teff_k)"};
             for (int r = 0; r < 3 && !failed; r++)
                 if (colidx[required[r]] < 0) {
                     tproblem(t, HRT_E_FORMAT, line, 1, err,
                              "required column %s is missing: name it so or map it, e.g. %s=<column>", req_text[r],
-                             q_names[required[r]]);
+                             q_name(required[r]));
                     failed = 1;
                 }
             continue;
@@ -868,9 +865,9 @@ static int read_track(const hrt_import *imp, trk *t, hrt_error *err)
                 int ph = HRT_PHASE_UNKNOWN;
                 if (phase_of_text(f->s, f->len, &ph) != 0) {
                     tproblem(t, HRT_E_FORMAT, line, f->col, err,
-                             "'%.*s' in column '%.*s' is not a phase key (ms, subgiant, rgb, cheb, ...) or code 1..%d",
-                             (int)(f->len > 32 ? 32 : f->len), f->s, (int)hdr[colidx[q]].len, hdr[colidx[q]].s,
-                             HRT_PHASE_COUNT - 1);
+                             "'%.*s' in column '%.*s' is not an hrtrail phase key (ms, subgiant, rgb, cheb, ...) "
+                             "or code (11, 20, 21, 30, ...)",
+                             (int)(f->len > 32 ? 32 : f->len), f->s, (int)hdr[colidx[q]].len, hdr[colidx[q]].s);
                     failed = 1;
                 }
                 t->phase[i] = ph;
@@ -1017,10 +1014,10 @@ static int read_track(const hrt_import *imp, trk *t, hrt_error *err)
     t->rep.initial_mass_msun = m;
     t->rep.z = z;
     if (!(isfinite(m) && m > 0.0))
-        return tproblem(t, HRT_E_FORMAT, 0, 0, err, isnan(m) ? "initial mass unknown: map initial_mass=<number or "
+        return tproblem(t, HRT_E_FORMAT, 0, 0, err, isnan(m) ? "initial mass unknown: map initial_mass_msun=<number or "
                         "column>, use {mass} in a pattern, or give a mass column" : "initial mass %g is not positive", m);
     if (!(isfinite(z) && z > 0.0 && z < 1.0))
-        return tproblem(t, HRT_E_FORMAT, 0, 0, err, isnan(z) ? "metallicity unknown: map Z=<number or column>, "
+        return tproblem(t, HRT_E_FORMAT, 0, 0, err, isnan(z) ? "metallicity unknown: map z=<number or column>, "
                         "use {z} or {feh} in a pattern, or give it with the file" : "Z = %g is not in (0, 1)", z);
     if (!t->has[M_MASS]) {
         for (size_t i = 0; i < t->n; i++)
@@ -1036,9 +1033,9 @@ static int read_track(const hrt_import *imp, trk *t, hrt_error *err)
             return tproblem(t, HRT_E_FORMAT, t->line[2 * i], 1, err, "negative mass or core mass");
     }
     if (!t->has[M_MHE])
-        note(t, "no he_core_mass column: written as 0");
+        note(t, "no he_core_mass_msun column: written as 0");
     if (!t->has[M_MCO])
-        note(t, "no co_core_mass column: written as 0");
+        note(t, "no co_core_mass_msun column: written as 0");
     return HRT_OK;
 }
 
@@ -1126,7 +1123,7 @@ static void assign_remnant(trk *t, const hrt_route_spec *r, size_t nk)
     } else if (!strcmp(last, "core_collapse")) {
         hrt_collapse_remnant(t->has[M_MCO] ? fmin(t->mco[s], m) : 0.0, m, &t->rep.remnant, &t->rep.remnant_mass_msun);
         if (!t->has[M_MCO])
-            note(t, "no co_core_mass column: remnant from a zero CO core");
+            note(t, "no co_core_mass_msun column: remnant from a zero CO core");
     }
 }
 
@@ -1137,13 +1134,13 @@ static void columns_of(const trk *t, hrt_kp_columns *c)
     memset(c, 0, sizeof *c);
     c->n = t->n;
     c->age_yr = t->age;
-    c->log_l = t->logl;
+    c->log_l_lsun = t->logl;
     c->log_teff_k = t->logt;
     c->mass_msun = t->has[M_MASS] ? t->mass : NULL;
-    c->center_h1 = t->has[M_XC] ? t->xc : NULL;
-    c->center_he4 = t->has[M_YC] ? t->yc : NULL;
-    c->he_core_msun = t->has[M_MHE] ? t->mhe : NULL;
-    c->co_core_msun = t->has[M_MCO] ? t->mco : NULL;
+    c->central_x = t->has[M_XC] ? t->xc : NULL;
+    c->central_y = t->has[M_YC] ? t->yc : NULL;
+    c->he_core_mass_msun = t->has[M_MHE] ? t->mhe : NULL;
+    c->co_core_mass_msun = t->has[M_MCO] ? t->mco : NULL;
     c->phase = t->has[M_PHASE] ? t->phase : NULL;
     c->flag = t->has[M_FLAG] ? (const char *const *)t->flag : NULL;
 }
@@ -1355,12 +1352,12 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
             .remnant_mass_msun = t->rep.remnant_mass_msun,
             .n = nuse,
             .log_age_yr = la,
-            .log_l = t->logl,
+            .log_l_lsun = t->logl,
             .log_teff_k = t->logt,
-            .log_r = t->has[M_R] ? t->logr : NULL,
+            .log_r_rsun = t->has[M_R] ? t->logr : NULL,
             .mass_msun = t->mass,
-            .he_core_msun = t->mhe,
-            .co_core_msun = t->mco,
+            .he_core_mass_msun = t->mhe,
+            .co_core_mass_msun = t->mco,
             .phase = t->phase,
             .n_keypoints = nk,
             .keypoint_sample = t->kp.sample,

@@ -71,7 +71,7 @@ static size_t first_phase(const kctx *k, size_t p, const int *ph)
     return NOT_FOUND;
 }
 
-static double envelope(const kctx *k, size_t s) { return k->c->mass_msun[s] - k->c->he_core_msun[s]; }
+static double envelope(const kctx *k, size_t s) { return k->c->mass_msun[s] - k->c->he_core_mass_msun[s]; }
 
 static int envelope_gone(const kctx *k, size_t s)
 {
@@ -82,7 +82,7 @@ static int envelope_gone(const kctx *k, size_t s)
  * maximum since p by HE_DY. */
 static size_t he_drop(const kctx *k, size_t p)
 {
-    const double *y = k->c->center_he4;
+    const double *y = k->c->central_y;
     double ymax = y[p];
     for (size_t s = p + 1; s < k->c->n; s++) {
         if (y[s] > ymax)
@@ -97,7 +97,7 @@ static size_t max_log_l(const kctx *k, size_t a, size_t b)
 {
     size_t m = a;
     for (size_t s = a; s <= b; s++)
-        if (k->c->log_l[s] > k->c->log_l[m])
+        if (k->c->log_l_lsun[s] > k->c->log_l_lsun[m])
             m = s;
     return m;
 }
@@ -106,7 +106,7 @@ static size_t min_log_l(const kctx *k, size_t a, size_t b)
 {
     size_t m = a;
     for (size_t s = a; s <= b; s++)
-        if (k->c->log_l[s] < k->c->log_l[m])
+        if (k->c->log_l_lsun[s] < k->c->log_l_lsun[m])
             m = s;
     return m;
 }
@@ -122,31 +122,31 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
         return fail(k, "%s: the track ends at the previous keypoint", known_names[which]);
     switch (which) {
     case KP_ZAMS:
-        if (c->center_h1) {
-            double x0 = c->center_h1[s0];
+        if (c->central_x) {
+            double x0 = c->central_x[s0];
             for (size_t s = s0 + 1; s < n; s++) {
-                if (c->center_h1[s] > x0)
-                    x0 = c->center_h1[s];
-                if (c->center_h1[s] <= x0 - ZAMS_DX)
+                if (c->central_x[s] > x0)
+                    x0 = c->central_x[s];
+                if (c->central_x[s] <= x0 - ZAMS_DX)
                     return s - 1;
             }
-            return fail(k, "%s: center_h1 never falls 0.001 below its initial value", "zams");
+            return fail(k, "%s: central_x never falls 0.001 below its initial value", "zams");
         }
         if (c->phase) {
             *how = HRT_KP_FOUND_BY_PHASE;
             for (size_t s = s0; s < n; s++)
                 if (is_phase(k, s, HRT_PHASE_MS))
                     return s;
-            return fail(k, "%s: no center_h1 column and no sample of phase ms", "zams");
+            return fail(k, "%s: no central_x column and no sample of phase ms", "zams");
         }
         *how = HRT_KP_FOUND_BY_START;
         return s0;
     case KP_TAMS:
-        if (c->center_h1) {
+        if (c->central_x) {
             for (size_t s = s0; s < n; s++)
-                if (c->center_h1[s] <= TAMS_X)
+                if (c->central_x[s] <= TAMS_X)
                     return s;
-            return fail(k, "%s: center_h1 never falls to 1e-6", "tams");
+            return fail(k, "%s: central_x never falls to 1e-6", "tams");
         }
         if (c->phase) {
             *how = HRT_KP_FOUND_BY_PHASE;
@@ -155,12 +155,12 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
                     return s;
             return fail(k, "%s: no sample after the main sequence (phase column)", "tams");
         }
-        return fail(k, "%s: needs a center_h1 or phase column", "tams");
+        return fail(k, "%s: needs a central_x or phase column", "tams");
     case KP_RGB_BASE: {
         for (size_t s = s0; s + 1 < n; s++) {
             int ok = 1, reached = 0;
             for (size_t j = s + 1; j < n && ok; j++) {
-                double dl = c->log_l[j] - c->log_l[s], dt = c->log_teff_k[j] - c->log_teff_k[s];
+                double dl = c->log_l_lsun[j] - c->log_l_lsun[s], dt = c->log_teff_k[j] - c->log_teff_k[s];
                 if (!(dl > 0.0) || !(dt < 0.0) || -dt > RGB_SLOPE * dl)
                     ok = 0;
                 else if (dl >= RGB_SPAN)
@@ -183,24 +183,24 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
     }
     case KP_HE_IGNITION: {
         size_t e = NOT_FOUND;
-        if (c->center_he4)
+        if (c->central_y)
             e = he_drop(k, s0 - (s0 > 0));
         else if (c->phase) {
             static const int ph[] = {HRT_PHASE_CHEB, 0};
             *how = HRT_KP_FOUND_BY_PHASE;
             e = first_phase(k, s0 - 1 + (s0 == 0), ph);
         } else
-            return fail(k, "%s: needs a center_he4 or phase column", "he_ignition");
+            return fail(k, "%s: needs a central_y or phase column", "he_ignition");
         if (e == NOT_FOUND || e < s0)
-            return fail(k, "%s: helium never starts burning in the core (center_he4 or phase)", "he_ignition");
+            return fail(k, "%s: helium never starts burning in the core (central_y or phase)", "he_ignition");
         return max_log_l(k, s0, e);
     }
     case KP_CHEB_START: {
-        if (!c->center_he4)
-            return fail(k, "%s: needs a center_he4 column", "cheb_start");
+        if (!c->central_y)
+            return fail(k, "%s: needs a central_y column", "cheb_start");
         size_t e = he_drop(k, s0 - (s0 > 0));
         if (e == NOT_FOUND || e < s0)
-            return fail(k, "%s: center_he4 never falls 0.01 below its maximum", "cheb_start");
+            return fail(k, "%s: central_y never falls 0.01 below its maximum", "cheb_start");
         /* after a separate ignition (the tip of the giant branch) the zero-age
          * core-helium-burning star is the luminosity minimum that follows */
         if (prev_kind == KP_HE_IGNITION)
@@ -208,11 +208,11 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
         return e;
     }
     case KP_CHEB_END:
-        if (c->center_he4) {
+        if (c->central_y) {
             for (size_t s = s0; s < n; s++)
-                if (c->center_he4[s] <= CHEB_END_Y)
+                if (c->central_y[s] <= CHEB_END_Y)
                     return s;
-            return fail(k, "%s: center_he4 never falls to 1e-4", "cheb_end");
+            return fail(k, "%s: central_y never falls to 1e-4", "cheb_end");
         }
         if (c->phase) {
             static const int ph[] = {HRT_PHASE_EAGB, HRT_PHASE_TPAGB, HRT_PHASE_POST_AGB, HRT_PHASE_WD, 0};
@@ -222,11 +222,11 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
                 return s;
             return fail(k, "%s: no sample after core helium burning (phase column)", "cheb_end");
         }
-        return fail(k, "%s: needs a center_he4 or phase column", "cheb_end");
+        return fail(k, "%s: needs a central_y or phase column", "cheb_end");
     case KP_FIRST_PULSE:
-        if (c->he_core_msun && c->co_core_msun) {
+        if (c->he_core_mass_msun && c->co_core_mass_msun) {
             for (size_t s = s0; s < n; s++)
-                if (c->he_core_msun[s] > 0.0 && c->co_core_msun[s] >= PULSE_CO_HE * c->he_core_msun[s])
+                if (c->he_core_mass_msun[s] > 0.0 && c->co_core_mass_msun[s] >= PULSE_CO_HE * c->he_core_mass_msun[s])
                     return s;
             if (!c->phase)
                 return fail(k, "%s: the CO core never reaches 97.5 %% of the He core", "first_pulse");
@@ -239,10 +239,10 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
                 return s;
             return fail(k, "%s: no thermal pulses (core masses or phase tpagb)", "first_pulse");
         }
-        return fail(k, "%s: needs he_core_mass and co_core_mass or a phase column", "first_pulse");
+        return fail(k, "%s: needs he_core_mass_msun and co_core_mass_msun or a phase column", "first_pulse");
     case KP_AGB_END:
     case KP_ENVELOPE_LOSS:
-        if (c->mass_msun && c->he_core_msun) {
+        if (c->mass_msun && c->he_core_mass_msun) {
             if (which == KP_AGB_END) {
                 /* the tip of the AGB: from the loss of the envelope, the
                  * luminosity maximum before the star fades 0.3 dex below it */
@@ -252,8 +252,8 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
                         senv = s;
                 if (senv != NOT_FOUND) {
                     size_t smax = senv;
-                    for (size_t s = senv; s < n && c->log_l[s] >= c->log_l[smax] - WD_FADE; s++)
-                        if (c->log_l[s] > c->log_l[smax])
+                    for (size_t s = senv; s < n && c->log_l_lsun[s] >= c->log_l_lsun[smax] - WD_FADE; s++)
+                        if (c->log_l_lsun[s] > c->log_l_lsun[smax])
                             smax = s;
                     return smax;
                 }
@@ -272,18 +272,18 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
             size_t s = first_phase(k, p, which == KP_AGB_END ? ph_agb : ph_rgb);
             if (s != NOT_FOUND)
                 return s;
-            return fail(k, "%s: the envelope is never lost (mass and he_core_mass, or phase)", known_names[which]);
+            return fail(k, "%s: the envelope is never lost (mass_msun and he_core_mass_msun, or phase)", known_names[which]);
         }
-        return fail(k, "%s: needs mass and he_core_mass or a phase column", known_names[which]);
+        return fail(k, "%s: needs mass_msun and he_core_mass_msun or a phase column", known_names[which]);
     case KP_WD_ONSET: {
-        double lp = p == NOT_FOUND ? c->log_l[0] : c->log_l[p];
+        double lp = p == NOT_FOUND ? c->log_l_lsun[0] : c->log_l_lsun[p];
         double lim = fmin(WD_LOG_L, lp - WD_FADE);
         for (size_t s = s0; s < n; s++) {
-            if (c->log_l[s] > lim)
+            if (c->log_l_lsun[s] > lim)
                 continue;
             if (c->mass_msun) {
                 double rwd = hrt_wd_radius_rsun(c->mass_msun[s]);
-                double lr = trail_log_r_from(c->log_l[s], c->log_teff_k[s]);
+                double lr = trail_log_r_from(c->log_l_lsun[s], c->log_teff_k[s]);
                 if (!(isfinite(rwd) && lr <= log10(rwd) + WD_COMPACT))
                     continue;
             }
@@ -302,8 +302,8 @@ static size_t find_one(kctx *k, int which, size_t p, int prev_kind, int *how)
     case KP_CORE_COLLAPSE: {
         size_t s = n - 1;
         if (s >= s0) {
-            double lr = trail_log_r_from(c->log_l[s], c->log_teff_k[s]);
-            if (lr > CC_LOG_R && (!c->co_core_msun || c->co_core_msun[s] >= CC_CO))
+            double lr = trail_log_r_from(c->log_l_lsun[s], c->log_teff_k[s]);
+            if (lr > CC_LOG_R && (!c->co_core_mass_msun || c->co_core_mass_msun[s] >= CC_CO))
                 return s;
             if (c->phase && (c->phase[s] == HRT_PHASE_NS || c->phase[s] == HRT_PHASE_BH)) {
                 *how = HRT_KP_FOUND_BY_PHASE;
@@ -323,7 +323,7 @@ int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *route, hrt
     if (!c || !route || !out)
         return trail_set_error(err, HRT_E_NULL, "hrt_keypoints_find: NULL argument");
     memset(out, 0, sizeof *out);
-    if (!c->age_yr || !c->log_l || !c->log_teff_k)
+    if (!c->age_yr || !c->log_l_lsun || !c->log_teff_k)
         return trail_set_error(err, HRT_E_NULL, "hrt_keypoints_find: age, log L and log Teff are required");
     if (c->n < 2)
         return trail_set_error(err, HRT_E_INVALID, "hrt_keypoints_find: %zu samples, at least 2 needed", c->n);

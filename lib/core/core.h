@@ -112,9 +112,10 @@ int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void
 void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d);
 void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4]);
 
-/* grid_read.c / grid_prep.c */
-int trail_grid_read(const char *path, hrt_grid *g, hrt_error *err);
-int trail_grid_prepare(hrt_grid *g, hrt_error *err);
+/* grid_prep.c */
+/* Prepare an open grid from the file as read; takes f's routes and
+ * attributes (f is freed by the caller). */
+int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err);
 void trail_grid_free_contents(hrt_grid *g);
 
 /* eval.c */

@@ -348,12 +348,12 @@ void trail_q_phase_run(const qctx *q, int j, int *js, int *je)
 }
 
 /* An interpolated remnant mass its kind does not allow (not positive, or a
- * white dwarf of 1.44 Msun or more: extrapolation past a route's last track,
+ * white dwarf at or above TRAIL_WD_MASS_MAX_MSUN: extrapolation past a route's last track,
  * overshoot of a cubic type) is replaced by the nearest track's. */
 static double remnant_bounded(int kind, double m, double nearest)
 {
-    int wd = trail_remnant_family(kind) == HRT_REMNANT_CO_WD;
-    return (m > 0.0 && (!wd || m < 1.44)) ? m : nearest;
+    int wd = trail_remnant_is_wd(kind);
+    return (m > 0.0 && (!wd || m < TRAIL_WD_MASS_MAX_MSUN)) ? m : nearest;
 }
 
 void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
@@ -417,8 +417,8 @@ void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
     s->initial_mass_msun = mass;
     s->z = z;
     s->age_yr = age_yr;
-    s->log_l = s->log_teff_k = s->log_r = s->log_g_cgs = NAN;
-    s->mass_msun = s->he_core_msun = s->co_core_msun = NAN;
+    s->log_l_lsun = s->log_teff_k = s->log_r_rsun = s->log_g_cgs = NAN;
+    s->mass_msun = s->he_core_mass_msun = s->co_core_mass_msun = NAN;
     s->eep = s->phase_fraction = s->phase_start_yr = s->phase_end_yr = NAN;
     s->remnant_mass_msun = NAN;
 }
@@ -428,14 +428,14 @@ void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1
     double v[NQS];
     for (int k = 0; k < NQS; k++)
         v[k] = f == 0.0 ? v0[k] : v0[k] + f * (v1[k] - v0[k]);
-    s->log_l = v[Q_L - 1];
+    s->log_l_lsun = v[Q_L - 1];
     s->log_teff_k = v[Q_TEFF - 1];
     double m0 = s->initial_mass_msun; /* masses are stored as fractions of it */
     s->mass_msun = m0 * v[Q_MASS - 1];
-    s->he_core_msun = m0 * v[Q_HE - 1];
-    s->co_core_msun = m0 * v[Q_CO - 1];
-    s->log_r = trail_log_r_from(s->log_l, s->log_teff_k);
-    s->log_g_cgs = trail_log_g_from(s->mass_msun, s->log_r);
+    s->he_core_mass_msun = m0 * v[Q_HE - 1];
+    s->co_core_mass_msun = m0 * v[Q_CO - 1];
+    s->log_r_rsun = trail_log_r_from(s->log_l_lsun, s->log_teff_k);
+    s->log_g_cgs = trail_log_g_from(s->mass_msun, s->log_r_rsun);
 }
 
 /* Nominal neutron-star radius, km (common practice: 11-13 km). */
@@ -456,26 +456,26 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
         s->phase = HRT_PHASE_WD;
         /* The remnant test is made on log ages; in years the age can then
          * fall a rounding error short of t_last: cooling has not begun. */
-        s->log_l = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
-        s->log_r = trail_log10(hrt_wd_radius_rsun(rem_mass));
-        s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l - 2.0 * s->log_r);
-        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r);
-        s->he_core_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
-        s->co_core_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
+        s->log_l_lsun = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
+        s->log_r_rsun = trail_log10(hrt_wd_radius_rsun(rem_mass));
+        s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l_lsun - 2.0 * s->log_r_rsun);
+        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
+        s->he_core_mass_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
+        s->co_core_mass_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
         break;
     case HRT_REMNANT_NS:
         s->phase = HRT_PHASE_NS;
         s->flags |= HRT_FLAG_DARK;
-        s->log_r = trail_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
-        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r);
-        s->log_l = s->log_teff_k = NAN;
-        s->he_core_msun = s->co_core_msun = NAN;
+        s->log_r_rsun = trail_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
+        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
+        s->log_l_lsun = s->log_teff_k = NAN;
+        s->he_core_mass_msun = s->co_core_mass_msun = NAN;
         break;
     default: /* black hole */
         s->phase = HRT_PHASE_BH;
         s->flags |= HRT_FLAG_DARK;
-        s->log_l = s->log_teff_k = s->log_r = s->log_g_cgs = NAN;
-        s->he_core_msun = s->co_core_msun = NAN;
+        s->log_l_lsun = s->log_teff_k = s->log_r_rsun = s->log_g_cgs = NAN;
+        s->he_core_mass_msun = s->co_core_mass_msun = NAN;
         break;
     }
 }

@@ -29,7 +29,7 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
         return trail_set_error(err, HRT_E_INVALID, "hrt_grid_open: unknown interpolation type %d", interp);
     if (!path) {
         path = hrt_default_grid_path();
-        struct stat st; /* not a regular file: not opened here (a pipe would block); trail_grid_read refuses it */
+        struct stat st; /* not a regular file: not opened here (a pipe would block); trail_file_read refuses it */
         int special = stat(path, &st) == 0 && !S_ISREG(st.st_mode);
         FILE *f = special ? NULL : fopen(path, "rb");
         if (!special && !f)
@@ -42,9 +42,11 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
     if (!g)
         return trail_set_error(err, HRT_E_NOMEM, "hrt_grid_open: out of memory");
     g->interp = interp;
-    int rc = trail_grid_read(path, g, err);
+    trail_file f;
+    int rc = trail_file_read(path, HRT_FORMAT_VERSION, &f, err);
     if (rc == HRT_OK)
-        rc = trail_grid_prepare(g, err);
+        rc = trail_grid_prepare(g, &f, err);
+    trail_file_free(&f);
     if (rc != HRT_OK) {
         hrt_grid_close(g);
         return rc;

@@ -1,5 +1,6 @@
-/* Precomputation at open: spline slopes across log initial mass (GSL), route
- * track ranges, phase runs, monotonicity guards for log age. */
+/* Preparing a grid for queries, from the file as read (trail_file): the
+ * value/slope layout across log initial mass (slopes from GSL), route track
+ * ranges, phase runs, log age tables and monotonicity guards for log age. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -91,6 +92,62 @@ static int hermite_positive(double p0, double p1, double s0, double s1)
         }
     }
     return 1;
+}
+
+/* The group's prepared arrays, filled with what the file holds: masses
+ * and their logs, routes, remnants, values at every knot (masses as
+ * fractions of the initial mass, so a star without mass loss keeps its mass
+ * exactly), phases.  Slopes follow in prepare_group. */
+static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp, size_t *bytes)
+{
+    size_t nm = fg->n_mass, J = g->n_eep_max, R = g->n_routes;
+    gp->z = fg->z;
+    gp->feh = trail_log10(fg->z / g->z_ref);
+    gp->n_mass = nm;
+    gp->mass = malloc(nm * sizeof(double));
+    gp->logm = calloc(nm + 1, sizeof(double));
+    gp->route = malloc(nm * sizeof(int));
+    gp->n_eep = malloc(nm * sizeof(int));
+    gp->remnant = malloc(nm * sizeof(int));
+    gp->remnant_hv = calloc(2 * (nm + 1), sizeof(double));
+    gp->boundary = malloc((R > 1 ? R - 1 : 1) * sizeof(double));
+    gp->hv = calloc((size_t)NQ * J * (nm + 1) * 2, sizeof(double));
+    gp->phase = calloc(nm * J, 1);
+    gp->runs = calloc(nm * J * 2, sizeof(int32_t));
+    gp->age_tab = calloc(nm * TRAIL_AGE_TAB, sizeof(uint16_t));
+    gp->age_tab_x = calloc(nm * 2, sizeof(double));
+    gp->age_lambda = calloc(nm + 1, sizeof(double));
+    gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
+    gp->age_iv = calloc(nm * J * 4, sizeof(double));
+    if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_hv || !gp->boundary ||
+        !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max ||
+        !gp->age_iv)
+        return HRT_E_NOMEM;
+    *bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) +
+              nm * J * (1 + 2 * sizeof(int32_t) + 4 * sizeof(double)) + nm * TRAIL_AGE_TAB * sizeof(uint16_t);
+    memcpy(gp->mass, fg->initial_mass, nm * sizeof(double));
+    memcpy(gp->route, fg->route, nm * sizeof(int));
+    memcpy(gp->n_eep, fg->n_eep, nm * sizeof(int));
+    memcpy(gp->remnant, fg->remnant, nm * sizeof(int));
+    memcpy(gp->phase, fg->phase, nm * J);
+    if (R > 1)
+        memcpy(gp->boundary, fg->boundary, (R - 1) * sizeof(double));
+    for (size_t i = 0; i < nm; i++)
+        gp->logm[i] = trail_log10(gp->mass[i]);
+    gp->logm[nm] = gp->logm[nm - 1] + 1.0; /* padding, never a knot */
+    /* 0, not NaN, for a track without remnant: a query at a neighbour's
+     * mass gives it weight 0, and 0 * NaN would be NaN. */
+    for (size_t i = 0; i < nm; i++)
+        gp->remnant_hv[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? fg->remnant_mass[i] : 0.0;
+    static const int from_file[NQ] = {[Q_AGE] = TRAIL_F_LOG_AGE, [Q_L] = TRAIL_F_LOG_L, [Q_TEFF] = TRAIL_F_LOG_TEFF,
+                                      [Q_MASS] = TRAIL_F_MASS,   [Q_HE] = TRAIL_F_HE_CORE, [Q_CO] = TRAIL_F_CO_CORE};
+    for (int q = 0; q < NQ; q++)
+        for (size_t i = 0; i < nm; i++)
+            for (size_t j = 0; j < (size_t)gp->n_eep[i]; j++) {
+                double v = fg->q[from_file[q]][i * J + j];
+                *trail_hv(gp, j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
+            }
+    return HRT_OK;
 }
 
 static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x, double *y, double *d)
@@ -249,12 +306,35 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
     return HRT_OK;
 }
 
-int trail_grid_prepare(hrt_grid *g, hrt_error *err)
+/* Move the file's routes and attributes into the grid (f keeps none). */
+static void take_layout(hrt_grid *g, trail_file *f)
 {
+    g->z_ref = f->z_ref;
+    g->n_routes = f->n_routes;
+    g->routes = f->routes;
+    g->n_eep_max = f->n_eep_max;
+    g->n_attrs = f->n_attrs;
+    g->attrs = f->attrs;
+    f->n_routes = f->n_attrs = 0;
+    f->routes = NULL;
+    f->attrs = NULL;
+}
+
+int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
+{
+    take_layout(g, f);
+    g->grp = calloc(f->n_z, sizeof *g->grp);
+    if (!g->grp)
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory preparing the grid");
+    g->n_z = f->n_z;
     size_t maxn = 0;
-    for (size_t iz = 0; iz < g->n_z; iz++)
+    for (size_t iz = 0; iz < g->n_z; iz++) {
+        if (fill_group(g, &f->grp[iz], &g->grp[iz], &g->bytes) != HRT_OK)
+            return trail_set_error(err, HRT_E_NOMEM, "metallicity/%zu: out of memory for %zu tracks", iz,
+                                   f->grp[iz].n_mass);
         if (g->grp[iz].n_mass > maxn)
             maxn = g->grp[iz].n_mass;
+    }
     double *x = malloc(3 * (maxn + 1) * sizeof(double));
     if (!x)
         return trail_set_error(err, HRT_E_NOMEM, "out of memory preparing the grid");
@@ -270,4 +350,41 @@ int trail_grid_prepare(hrt_grid *g, hrt_error *err)
     cache_free(&cache);
     free(x);
     return rc;
+}
+
+void trail_grid_free_contents(hrt_grid *g)
+{
+    for (size_t iz = 0; iz < g->n_z; iz++) {
+        zgroup *gp = &g->grp[iz];
+        free(gp->mass);
+        free(gp->logm);
+        free(gp->route);
+        free(gp->n_eep);
+        free(gp->remnant);
+        free(gp->remnant_hv);
+        free(gp->boundary);
+        free(gp->hv);
+        free(gp->phase);
+        free(gp->runs);
+        free(gp->age_tab);
+        free(gp->age_tab_x);
+        free(gp->age_lambda);
+        free(gp->age_dx_max);
+        free(gp->age_iv);
+    }
+    free(g->grp);
+    for (size_t r = 0; r < g->n_routes; r++) {
+        free(g->routes[r].name);
+        if (g->routes[r].kp_names)
+            for (size_t k = 0; k < g->routes[r].n_kp; k++)
+                free(g->routes[r].kp_names[k]);
+        free(g->routes[r].kp_names);
+        free(g->routes[r].kp_eep);
+    }
+    free(g->routes);
+    for (size_t a = 0; a < g->n_attrs; a++) {
+        free(g->attrs[a].name);
+        free(g->attrs[a].value);
+    }
+    free(g->attrs);
 }

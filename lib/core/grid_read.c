@@ -1,7 +1,8 @@
-/* Reading and validating a grid file (tracks/FORMAT.md, version 1).
+/* Reading and validating a grid file (tracks/FORMAT.md): the file as it is
+ * (trail_file, util/schema.h), before the core prepares it (grid_prep.c).
  *
  * Every HDF5 call happens inside H5E_BEGIN_TRY / H5E_END_TRY (in
- * trail_grid_read), so HDF5 prints nothing and the caller's HDF5 error
+ * trail_file_read), so HDF5 prints nothing and the caller's HDF5 error
  * settings are restored afterwards.  The first problem found ends the read
  * with a message naming the group, dataset and index. */
 #include <math.h>
@@ -12,12 +13,8 @@
 
 #include <hdf5.h>
 
-#include "core/core.h"
-
-#define FORMAT_NAME "hrtrail-track-grid"
-
-static const char qnames[NQ][16] = {"log_age", "log_L", "log_Teff", "mass", "he_core_mass",
-                                       "co_core_mass"};
+#include "util/schema.h"
+#include "util/util.h"
 
 static void free_strings(char **s, size_t n)
 {
@@ -224,8 +221,11 @@ static int read_numeric(hid_t loc, const char *where, const char *name, int rank
     int rc = open_dataset(loc, where, name, rank, dims, &cls, &d, err);
     if (rc != HRT_OK)
         return rc;
-    if (cls != H5T_INTEGER && (as_int || cls != H5T_FLOAT)) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: must hold %s", where, name, as_int ? "integers" : "numbers");
+    /* Integers where codes and counts are meant, floating point where
+     * values are: a float rounded to an integer type has lost its meaning. */
+    if (cls != (as_int ? H5T_INTEGER : H5T_FLOAT)) {
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: must hold %s", where, name,
+                             as_int ? "integers" : "floating-point numbers");
     } else if (buf && H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT,
                               buf) < 0) {
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read", where, name);
@@ -262,7 +262,7 @@ static int read_string_dataset(hid_t loc, const char *where, const char *name, s
 }
 
 typedef struct attr_collect {
-    hrt_grid *g;
+    trail_file *f;
     int rc;
 } attr_collect;
 
@@ -291,46 +291,91 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
     }
     if (rc != HRT_OK)
         return 0;
-    attr_pair *p = realloc(ac->g->attrs, (ac->g->n_attrs + 1) * sizeof *p);
+    attr_pair *p = realloc(ac->f->attrs, (ac->f->n_attrs + 1) * sizeof *p);
     char *nm = trail_strdup(name);
     if (!p || !nm) {
         if (p)
-            ac->g->attrs = p;
+            ac->f->attrs = p;
         free(nm);
         free(value);
         ac->rc = HRT_E_NOMEM;
         return -1;
     }
-    ac->g->attrs = p;
-    p[ac->g->n_attrs].name = nm;
-    p[ac->g->n_attrs].value = value;
-    ac->g->n_attrs++;
+    ac->f->attrs = p;
+    p[ac->f->n_attrs].name = nm;
+    p[ac->f->n_attrs].value = value;
+    ac->f->n_attrs++;
     return 0;
 }
 
-static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
+/* Keypoint EEPs and segment sizes of one route (routes/<name>/). */
+static int read_route_layout(hid_t sub, const char *where, route_layout *L, hrt_error *err)
 {
-    hid_t rg = H5Lexists(f, "routes", H5P_DEFAULT) > 0 ? H5Gopen2(f, "routes", H5P_DEFAULT) : -1;
+    int rc = read_string_dataset(sub, where, "keypoint_names", &L->n_kp, &L->kp_names, err);
+    if (rc == HRT_OK && L->n_kp < 2)
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_names: at least 2 keypoints needed", where);
+    int *kp = NULL, *seg = NULL;
+    if (rc == HRT_OK) {
+        kp = malloc(L->n_kp * sizeof *kp);
+        seg = malloc(L->n_kp * sizeof *seg);
+        L->kp_eep = malloc(L->n_kp * sizeof *L->kp_eep);
+        if (!kp || !seg || !L->kp_eep)
+            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
+    }
+    hsize_t d1[1] = {L->n_kp}, d2[1] = {L->n_kp - 1};
+    if (rc == HRT_OK)
+        rc = read_numeric(sub, where, "keypoint_eep", 1, d1, 1, kp, err);
+    if (rc == HRT_OK)
+        rc = read_numeric(sub, where, "segment_samples", 1, d2, 1, seg, err);
+    if (rc == HRT_OK && kp[0] != 0)
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_eep[0]: must be 0, found %d", where, kp[0]);
+    for (size_t k = 0; k + 1 < L->n_kp && rc == HRT_OK; k++) {
+        if (seg[k] < 1 || seg[k] > TRAIL_MAX_EEP)
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/segment_samples[%zu]: %d is not in 1..%d", where, k, seg[k],
+                                 TRAIL_MAX_EEP);
+        else if ((long)kp[k + 1] - kp[k] != seg[k])
+            rc = trail_set_error(err, HRT_E_FORMAT,
+                                 "%s/keypoint_eep[%zu]: %d does not follow keypoint_eep[%zu] = %d by "
+                                 "segment_samples[%zu] = %d",
+                                 where, k + 1, kp[k + 1], k, kp[k], k, seg[k]);
+    }
+    if (rc == HRT_OK) {
+        for (size_t k = 0; k < L->n_kp; k++)
+            L->kp_eep[k] = kp[k];
+        L->n_eep = (size_t)kp[L->n_kp - 1] + 1;
+        if (L->n_eep > TRAIL_MAX_EEP)
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s: %zu EEPs, at most %d supported", where, L->n_eep,
+                                 TRAIL_MAX_EEP);
+    }
+    free(kp);
+    free(seg);
+    return rc;
+}
+
+static int read_routes(hid_t fh, trail_file *f, hrt_error *err)
+{
+    hid_t rg = H5Lexists(fh, "routes", H5P_DEFAULT) > 0 ? H5Gopen2(fh, "routes", H5P_DEFAULT) : -1;
     if (rg < 0)
         return trail_set_error(err, HRT_E_FORMAT, "group 'routes' is missing");
     char **names = NULL;
     size_t n = 0;
     int rc = read_string_dataset(rg, "routes", "names", &n, &names, err);
     if (rc == HRT_OK && n > TRAIL_MAX_ROUTES)
-        rc = trail_set_error(err, HRT_E_FORMAT, "routes/names: %zu routes, at most %d supported", n, TRAIL_MAX_ROUTES);
+        rc = trail_set_error(err, HRT_E_FORMAT, "routes/names: %zu routes, at most %d supported", n,
+                             TRAIL_MAX_ROUTES);
     if (rc == HRT_OK) {
-        g->routes = calloc(n, sizeof *g->routes);
-        if (!g->routes)
+        f->routes = calloc(n, sizeof *f->routes);
+        if (!f->routes)
             rc = trail_set_error(err, HRT_E_NOMEM, "routes: out of memory");
         else
-            g->n_routes = n;
+            f->n_routes = n;
     }
     for (size_t r = 0; r < n && rc == HRT_OK; r++) {
-        route_layout *L = &g->routes[r];
+        route_layout *L = &f->routes[r];
         L->name = names[r];
         names[r] = NULL;
         for (size_t q = 0; q < r; q++)
-            if (strcmp(g->routes[q].name, L->name) == 0)
+            if (strcmp(f->routes[q].name, L->name) == 0)
                 rc = trail_set_error(err, HRT_E_FORMAT, "routes/names[%zu]: route '%s' appears twice", r, L->name);
         if (rc != HRT_OK)
             break;
@@ -341,46 +386,9 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
             rc = trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
             break;
         }
-        rc = read_string_dataset(sub, where, "keypoint_names", &L->n_kp, &L->kp_names, err);
-        if (rc == HRT_OK && L->n_kp < 2)
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_names: at least 2 keypoints needed", where);
-        int *kp = NULL, *seg = NULL;
-        if (rc == HRT_OK) {
-            kp = malloc(L->n_kp * sizeof *kp);
-            seg = malloc(L->n_kp * sizeof *seg);
-            L->kp_eep = malloc(L->n_kp * sizeof *L->kp_eep);
-            if (!kp || !seg || !L->kp_eep)
-                rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
-        }
-        hsize_t d1[1] = {L->n_kp}, d2[1] = {L->n_kp - 1};
-        if (rc == HRT_OK)
-            rc = read_numeric(sub, where, "keypoint_eep", 1, d1, 1, kp, err);
-        if (rc == HRT_OK)
-            rc = read_numeric(sub, where, "segment_samples", 1, d2, 1, seg, err);
-        if (rc == HRT_OK && kp[0] != 0)
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_eep[0]: must be 0, found %d", where, kp[0]);
-        for (size_t k = 0; k + 1 < L->n_kp && rc == HRT_OK; k++) {
-            if (seg[k] < 1 || seg[k] > 100000)
-                rc = trail_set_error(err, HRT_E_FORMAT, "%s/segment_samples[%zu]: %d is not in 1..100000", where, k,
-                                   seg[k]);
-            else if ((long)kp[k + 1] - kp[k] != seg[k])
-                rc = trail_set_error(err, HRT_E_FORMAT,
-                                   "%s/keypoint_eep[%zu]: %d does not follow keypoint_eep[%zu] = %d by "
-                                   "segment_samples[%zu] = %d",
-                                   where, k + 1, kp[k + 1], k, kp[k], k, seg[k]);
-        }
-        if (rc == HRT_OK) {
-            for (size_t k = 0; k < L->n_kp; k++)
-                L->kp_eep[k] = kp[k];
-            L->n_eep = (size_t)kp[L->n_kp - 1] + 1;
-            if (L->n_eep > TRAIL_MAX_EEP)
-                rc = trail_set_error(err, HRT_E_FORMAT, "%s: %zu EEPs, at most %d supported", where, L->n_eep,
-                                   TRAIL_MAX_EEP);
-            if (L->n_eep > g->n_eep_max)
-                g->n_eep_max = L->n_eep;
-        }
-        free(kp);
-        free(seg);
+        rc = read_route_layout(sub, where, L, err);
+        if (rc == HRT_OK && L->n_eep > f->n_eep_max)
+            f->n_eep_max = L->n_eep;
         H5Gclose(sub);
     }
     free_strings(names, n);
@@ -388,292 +396,409 @@ static int read_routes(hid_t f, hrt_grid *g, hrt_error *err)
     return rc;
 }
 
-/* Map the file's key table onto our enumeration through lookup(). */
-static int read_key_table(hid_t f, const char *name, int (*lookup)(const char *), int bad, int **map,
-                          size_t *n, hrt_error *err)
+/* The code tables of a file: for each code a file may store (index c of
+ * map), the library's code, or `bad` where the file has none. */
+typedef struct code_map {
+    int phase[256];
+    int remnant[256];
+} code_map;
+
+/* Version 2: phases/{code,key} and remnants/{code,key} list the codes the
+ * file uses; each must be the library's own code of that key. */
+static int read_code_table(hid_t fh, const char *group, const char *(*key_of)(int), int *map, hrt_error *err)
 {
+    hid_t g = H5Lexists(fh, group, H5P_DEFAULT) > 0 ? H5Gopen2(fh, group, H5P_DEFAULT) : -1;
+    if (g < 0)
+        return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", group);
     char **keys = NULL;
-    int rc = read_string_dataset(f, "", name, n, &keys, err);
-    if (rc != HRT_OK)
-        return rc;
-    *map = malloc(*n * sizeof **map);
-    if (!*map)
-        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", name);
-    for (size_t i = 0; i < *n && rc == HRT_OK; i++) {
-        (*map)[i] = lookup(keys[i]);
-        if ((*map)[i] == bad)
-            rc = trail_set_error(err, HRT_E_FORMAT, "/%s[%zu]: unknown key '%s'", name, i, keys[i]);
+    size_t n = 0;
+    int rc = read_string_dataset(g, group, "key", &n, &keys, err);
+    int *codes = rc == HRT_OK ? malloc(n * sizeof *codes) : NULL;
+    if (rc == HRT_OK && !codes)
+        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", group);
+    hsize_t d[1] = {n};
+    if (rc == HRT_OK)
+        rc = read_numeric(g, group, "code", 1, d, 1, codes, err);
+    for (size_t i = 0; i < n && rc == HRT_OK; i++) {
+        if (codes[i] < 0 || codes[i] > 255 || strcmp(key_of(codes[i]), keys[i]) != 0)
+            rc = trail_set_error(err, HRT_E_FORMAT,
+                                 "%s/code[%zu]: key '%.32s' has code %d in the file, but '%s' in this library", group,
+                                 i, keys[i], codes[i], codes[i] >= 0 && codes[i] <= 255 ? key_of(codes[i]) : "no key");
+        else
+            map[codes[i]] = codes[i];
     }
-    free_strings(keys, *n);
+    free(codes);
+    free_strings(keys, n);
+    H5Gclose(g);
     return rc;
 }
 
+/* Version 1: phase_keys[c] / remnant_keys[c] name the phase of code c. */
+static int read_key_table_v1(hid_t fh, const char *name, int (*lookup)(const char *), int bad, int *map,
+                             hrt_error *err)
+{
+    char **keys = NULL;
+    size_t n = 0;
+    int rc = read_string_dataset(fh, "", name, &n, &keys, err);
+    if (rc == HRT_OK && n > 256)
+        rc = trail_set_error(err, HRT_E_FORMAT, "/%s: %zu keys, at most 256", name, n);
+    for (size_t i = 0; i < n && rc == HRT_OK; i++) {
+        map[i] = lookup(keys[i]);
+        if (map[i] == bad)
+            rc = trail_set_error(err, HRT_E_FORMAT, "/%s[%zu]: unknown key '%s'", name, i, keys[i]);
+    }
+    free_strings(keys, n);
+    return rc;
+}
+
+static int phase_lookup(const char *k) { return hrt_phase_from_key(k); }
 static int remnant_lookup(const char *k) { return hrt_remnant_from_key(k); }
 
-static int read_group(hid_t f, hrt_grid *g, size_t iz, const int *phase_map, size_t n_phase,
-                      const int *rem_map, size_t n_rem, hrt_error *err)
+static int read_codes(hid_t fh, int version, code_map *cm, hrt_error *err)
 {
-    char where[64];
-    snprintf(where, sizeof where, "metallicity/%zu", iz);
-    hid_t gr = H5Lexists(f, where, H5P_DEFAULT) > 0 ? H5Gopen2(f, where, H5P_DEFAULT) : -1;
-    if (gr < 0)
-        return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
-    zgroup *gp = &g->grp[iz];
-    int rc = read_attr_number(gr, "Z", where, 0, &gp->z, err);
-    if (rc == HRT_OK && !(isfinite(gp->z) && gp->z > 0.0 && gp->z < 1.0))
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g is not in (0, 1)", where, gp->z);
-    if (rc == HRT_OK && iz > 0 && !(gp->z > g->grp[iz - 1].z))
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': %g does not exceed the previous group's %g",
-                           where, gp->z, g->grp[iz - 1].z);
-    if (rc == HRT_OK && !isfinite(trail_log10(gp->z / g->z_ref)))
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute 'Z': [Fe/H] = log10(%g / z_ref %g) is not a finite number",
-                           where, gp->z, g->z_ref);
-    hsize_t dm[1] = {0};
-    if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "initial_mass", 1, dm, 0, NULL, err);
-    if (rc == HRT_OK && (dm[0] < 1 || dm[0] > 100000))
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s/initial_mass: unusable length %llu", where,
-                           (unsigned long long)dm[0]);
-    size_t nm = rc == HRT_OK ? (size_t)dm[0] : 0, J = g->n_eep_max, R = g->n_routes;
-    double *buf = NULL;
-    int *ibuf = NULL;
-    if (rc == HRT_OK) {
-        gp->feh = trail_log10(gp->z / g->z_ref);
-        gp->n_mass = nm;
-        gp->mass = malloc(nm * sizeof(double));
-        gp->logm = calloc(nm + 1, sizeof(double));
-        gp->route = malloc(nm * sizeof(int));
-        gp->n_eep = malloc(nm * sizeof(int));
-        gp->remnant = malloc(nm * sizeof(int));
-        gp->remnant_hv = calloc(2 * (nm + 1), sizeof(double));
-        gp->boundary = malloc((R > 1 ? R - 1 : 1) * sizeof(double));
-        gp->hv = calloc((size_t)NQ * J * (nm + 1) * 2, sizeof(double));
-        gp->phase = calloc(nm * J, 1);
-        gp->runs = calloc(nm * J * 2, sizeof(int32_t));
-        gp->age_tab = calloc(nm * TRAIL_AGE_TAB, sizeof(uint16_t));
-        gp->age_tab_x = calloc(nm * 2, sizeof(double));
-        gp->age_lambda = calloc(nm + 1, sizeof(double));
-        gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
-        gp->age_iv = calloc(nm * J * 4, sizeof(double));
-        buf = malloc(nm * J * sizeof(double));
-        ibuf = malloc((nm > R ? nm : R) * J * sizeof(int) + sizeof(int));
-        if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_hv ||
-            !gp->boundary || !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max || !gp->age_iv || !buf ||
-            !ibuf)
-            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory for %zu tracks", where, nm);
-        else
-            g->bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) + nm * J * (1 + 2 * sizeof(int32_t) + 4 * sizeof(double)) +
-                        nm * TRAIL_AGE_TAB * sizeof(uint16_t);
+    for (int c = 0; c < 256; c++)
+        cm->phase[c] = cm->remnant[c] = -1;
+    if (version >= 2) {
+        int rc = read_code_table(fh, "phases", hrt_phase_key, cm->phase, err);
+        if (rc == HRT_OK)
+            rc = read_code_table(fh, "remnants", hrt_remnant_key, cm->remnant, err);
+        return rc;
     }
+    int rc = read_key_table_v1(fh, "phase_keys", phase_lookup, HRT_PHASE_UNKNOWN, cm->phase, err);
+    if (rc == HRT_OK)
+        rc = read_key_table_v1(fh, "remnant_keys", remnant_lookup, -1, cm->remnant, err);
+    return rc;
+}
+
+/* The units attribute of a dataset must be the schema's (version 2): a
+ * file in other units would be read as if it were in ours. */
+static int check_units(hid_t loc, const char *where, const trail_name *n, hrt_error *err)
+{
+    if (!n->units)
+        return HRT_OK;
+    hid_t d = H5Dopen2(loc, n->v2, H5P_DEFAULT);
+    if (d < 0)
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: not a dataset", where, n->v2);
+    char *u = NULL;
+    char what[128];
+    snprintf(what, sizeof what, "%s/%s", where, n->v2);
+    int rc = read_attr_text(d, "units", what, &u, err);
+    if (rc == HRT_OK && strcmp(u, n->units) != 0)
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s: units '%.40s', expected '%s' (%s)", what, u, n->units,
+                             n->meaning);
+    free(u);
+    H5Dclose(d);
+    return rc;
+}
+
+/* Read a [n] or [n][J] dataset of the schema (name in the file's version). */
+static int read_named(hid_t gr, const char *where, int version, const trail_name *n, int rank, hsize_t *dims,
+                      int as_int, void *buf, hrt_error *err)
+{
+    int rc = read_numeric(gr, where, trail_name_in(n, version), rank, dims, as_int, buf, err);
+    if (rc == HRT_OK && version >= 2)
+        rc = check_units(gr, where, n, err);
+    return rc;
+}
+
+static int alloc_group(trail_file_group *gp, size_t nm, size_t J, size_t R, size_t *bytes)
+{
+    gp->n_mass = nm;
+    gp->initial_mass = malloc(nm * sizeof(double));
+    gp->route = malloc(nm * sizeof(int));
+    gp->n_eep = malloc(nm * sizeof(int));
+    gp->remnant = malloc(nm * sizeof(int));
+    gp->remnant_mass = malloc(nm * sizeof(double));
+    gp->boundary = malloc((R > 1 ? R - 1 : 1) * sizeof(double));
+    gp->phase = calloc(nm * J, 1);
+    int ok = gp->initial_mass && gp->route && gp->n_eep && gp->remnant && gp->remnant_mass && gp->boundary &&
+             gp->phase;
+    for (int q = 0; q < TRAIL_NF; q++) {
+        gp->q[q] = malloc(nm * J * sizeof(double));
+        ok = ok && gp->q[q];
+    }
+    *bytes += nm * (3 * sizeof(int) + 2 * sizeof(double) + J * (1 + TRAIL_NF * sizeof(double)));
+    return ok ? HRT_OK : HRT_E_NOMEM;
+}
+
+/* Identity of each track: masses, routes, EEP counts, remnants. */
+static int read_tracks(hid_t gr, const char *where, const trail_file *f, const code_map *cm, trail_file_group *gp,
+                       int *ibuf, hrt_error *err)
+{
+    const trail_schema *S = &trail_schema_names;
+    size_t nm = gp->n_mass, R = f->n_routes;
+    int v = f->version;
     hsize_t d1[1] = {nm};
-    if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "initial_mass", 1, d1, 0, gp->mass, err);
+    int rc = read_named(gr, where, v, &S->initial_mass, 1, d1, 0, gp->initial_mass, err);
+    const char *im = trail_name_in(&S->initial_mass, v);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-        if (!(isfinite(gp->mass[i]) && gp->mass[i] > 0.0))
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g is not a positive mass", where, i,
-                               gp->mass[i]);
-        else if (i > 0 && !(gp->mass[i] > gp->mass[i - 1]))
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/initial_mass[%zu]: %g does not exceed the previous %g", where,
-                               i, gp->mass[i], gp->mass[i - 1]);
-        else
-            gp->logm[i] = trail_log10(gp->mass[i]);
+        if (!(isfinite(gp->initial_mass[i]) && gp->initial_mass[i] > 0.0))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu]: %g is not a positive mass", where, im, i,
+                                 gp->initial_mass[i]);
+        else if (i > 0 && !(gp->initial_mass[i] > gp->initial_mass[i - 1]))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu]: %g does not exceed the previous %g", where, im, i,
+                                 gp->initial_mass[i], gp->initial_mass[i - 1]);
     }
     if (rc == HRT_OK)
-        gp->logm[nm] = gp->logm[nm - 1] + 1.0; /* padding, never a knot */
-    if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "route", 1, d1, 1, gp->route, err);
+        rc = read_named(gr, where, v, &S->route, 1, d1, 1, gp->route, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         if (gp->route[i] < 0 || (size_t)gp->route[i] >= R)
             rc = trail_set_error(err, HRT_E_FORMAT, "%s/route[%zu]: %d is not a route index (0..%zu)", where, i,
-                               gp->route[i], R - 1);
+                                 gp->route[i], R - 1);
         else if (i > 0 && gp->route[i] < gp->route[i - 1])
             rc = trail_set_error(err, HRT_E_FORMAT, "%s/route[%zu]: routes must not decrease with mass", where, i);
     }
     if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "n_eep", 1, d1, 1, gp->n_eep, err);
+        rc = read_named(gr, where, v, &S->n_eep, 1, d1, 1, gp->n_eep, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-        size_t lim = g->routes[gp->route[i]].n_eep;
+        size_t lim = f->routes[gp->route[i]].n_eep;
         if (gp->n_eep[i] < 2 || (size_t)gp->n_eep[i] > lim)
             rc = trail_set_error(err, HRT_E_FORMAT, "%s/n_eep[%zu]: %d is not in 2..%zu (route '%s')", where, i,
-                               gp->n_eep[i], lim, g->routes[gp->route[i]].name);
+                                 gp->n_eep[i], lim, f->routes[gp->route[i]].name);
     }
     if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "remnant", 1, d1, 1, ibuf, err);
+        rc = read_named(gr, where, v, &S->remnant, 1, d1, 1, ibuf, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-        if (ibuf[i] < 0 || (size_t)ibuf[i] >= n_rem)
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant[%zu]: %d is not an index into remnant_keys", where, i,
-                               ibuf[i]);
-        else
-            gp->remnant[i] = rem_map[ibuf[i]];
+        int c = ibuf[i] >= 0 && ibuf[i] < 256 ? cm->remnant[ibuf[i]] : -1;
+        if (c < 0)
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant[%zu]: %d is not a remnant code of the file", where,
+                                 i, ibuf[i]);
+        gp->remnant[i] = c;
     }
-    if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "remnant_mass", 1, d1, 0, buf, err);
+    return rc;
+}
+
+/* Remnant masses and route boundaries, checked against the tracks. */
+static int read_remnants_and_boundaries(hid_t gr, const char *where, const trail_file *f, trail_file_group *gp,
+                                        hrt_error *err)
+{
+    const trail_schema *S = &trail_schema_names;
+    size_t nm = gp->n_mass, R = f->n_routes;
+    int v = f->version;
+    hsize_t d1[1] = {nm};
+    const char *rm = trail_name_in(&S->remnant_mass, v), *bn = trail_name_in(&S->boundary, v);
+    int rc = read_named(gr, where, v, &S->remnant_mass, 1, d1, 0, gp->remnant_mass, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-        if (gp->remnant[i] != HRT_REMNANT_NONE && !(isfinite(buf[i]) && buf[i] > 0.0))
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g is not a positive mass", where, i,
-                               buf[i]);
-        else if (gp->remnant[i] != HRT_REMNANT_NONE && !(buf[i] <= TRAIL_MAX_MASS_FACTOR * gp->mass[i]))
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: %g Msun exceeds twice the initial mass",
-                               where, i, buf[i]);
-        else if (trail_remnant_family(gp->remnant[i]) == HRT_REMNANT_CO_WD && !(buf[i] < 1.44))
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant_mass[%zu]: a white dwarf of %g Msun is beyond the "
-                               "1.44 Msun the white dwarf mass-radius relation allows", where, i, buf[i]);
-        /* 0, not NaN, for a track without remnant: a query at a neighbour's
-         * mass gives it weight 0, and 0 * NaN would be NaN. */
-        gp->remnant_hv[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? buf[i] : 0.0;
+        double m = gp->remnant_mass[i];
+        if (gp->remnant[i] == HRT_REMNANT_NONE)
+            gp->remnant_mass[i] = NAN;
+        else if (!(isfinite(m) && m > 0.0))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu]: %g is not a positive mass", where, rm, i, m);
+        else if (!(m <= TRAIL_MAX_MASS_FACTOR * gp->initial_mass[i]))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu]: %g Msun exceeds %g times the initial mass", where, rm,
+                                 i, m, TRAIL_MAX_MASS_FACTOR);
+        else if (trail_remnant_is_wd(gp->remnant[i]) && !(m < TRAIL_WD_MASS_MAX_MSUN))
+            rc = trail_set_error(err, HRT_E_FORMAT,
+                                 "%s/%s[%zu]: a white dwarf of %g Msun is beyond the %g Msun the white dwarf "
+                                 "mass-radius relation allows",
+                                 where, rm, i, m, TRAIL_WD_MASS_MAX_MSUN);
     }
     hsize_t db[1] = {R > 1 ? R - 1 : 0};
     if (rc == HRT_OK && R > 1)
-        rc = read_numeric(gr, where, "route_boundary_mass", 1, db, 0, gp->boundary, err);
+        rc = read_named(gr, where, v, &S->boundary, 1, db, 0, gp->boundary, err);
     for (size_t b = 0; b + 1 < R && rc == HRT_OK; b++) {
         double mb = gp->boundary[b];
         if (!(isfinite(mb) && mb > 0.0) || (b > 0 && mb < gp->boundary[b - 1])) {
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s/route_boundary_mass[%zu]: %g is not a positive, "
-                               "non-decreasing mass", where, b, mb);
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu]: %g is not a positive, non-decreasing mass", where, bn,
+                                 b, mb);
             break;
         }
-        for (size_t i = 0; i < nm; i++) {
-            int below = gp->route[i] <= (int)b;
-            if ((below && !(gp->mass[i] < mb)) || (!below && !(gp->mass[i] > mb))) {
-                rc = trail_set_error(err, HRT_E_FORMAT,
-                                   "%s/route_boundary_mass[%zu]: %g Msun is on the wrong side of track %zu "
-                                   "(%g Msun, route '%s')",
-                                   where, b, mb, i, gp->mass[i], g->routes[gp->route[i]].name);
-                break;
-            }
-        }
-    }
-    hsize_t d2[2] = {nm, J};
-    for (int q = 0; q < NQ && rc == HRT_OK; q++) {
-        rc = read_numeric(gr, where, qnames[q], 2, d2, 0, buf, err);
         for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-            for (int j = 0; j < gp->n_eep[i]; j++) {
-                double v = buf[i * J + (size_t)j];
-                if (!isfinite(v)) {
-                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g inside the track's valid EEPs", where,
-                                       qnames[q], i, j, v);
-                    break;
-                }
-                if (q == Q_AGE && j > 0 && !(v > buf[i * J + (size_t)j - 1])) {
-                    rc = trail_set_error(err, HRT_E_FORMAT,
-                                       "%s/log_age[%zu][%d]: %.17g does not exceed the previous EEP's %.17g", where,
-                                       i, j, v, buf[i * J + (size_t)j - 1]);
-                    break;
-                }
-                if (q >= Q_MASS && v < 0.0) {
-                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: negative mass %g", where, qnames[q], i,
-                                       j, v);
-                    break;
-                }
-                /* Bounds far outside any star, so that the spline slopes and
-                 * weights cannot overflow to inf and NaN. */
-                if (q >= Q_MASS && !(v <= TRAIL_MAX_MASS_FACTOR * gp->mass[i])) {
-                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g Msun exceeds twice the initial mass",
-                                       where, qnames[q], i, j, v);
-                    break;
-                }
-                if (q < Q_MASS && !(fabs(v) <= TRAIL_MAX_LOG_ABS)) {
-                    rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%d]: %g is not a plausible log10 value", where,
-                                       qnames[q], i, j, v);
-                    break;
-                }
-                /* Masses are interpolated as fractions of the initial mass,
-                 * so a star without mass loss keeps its mass exactly. */
-                *trail_hv(gp, (size_t)j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
+            int below = gp->route[i] <= (int)b;
+            if ((below && !(gp->initial_mass[i] < mb)) || (!below && !(gp->initial_mass[i] > mb)))
+                rc = trail_set_error(err, HRT_E_FORMAT,
+                                     "%s/%s[%zu]: %g Msun is on the wrong side of track %zu (%g Msun, route '%s')",
+                                     where, bn, b, mb, i, gp->initial_mass[i], f->routes[gp->route[i]].name);
+        }
+    }
+    return rc;
+}
+
+/* One value of an EEP quantity inside a track's valid EEPs. */
+static int check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
+                           size_t J, hrt_error *err)
+{
+    const double *row = gp->q[q] + i * J;
+    double v = row[j];
+    if (!isfinite(v))
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g inside the track's valid EEPs", where, name, i,
+                               j, v);
+    if (q == TRAIL_F_LOG_AGE && j > 0 && !(v > row[j - 1]))
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %.17g does not exceed the previous EEP's %.17g",
+                               where, name, i, j, v, row[j - 1]);
+    if (TRAIL_F_IS_MASS(q) && v < 0.0)
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: negative mass %g", where, name, i, j, v);
+    /* Bounds far outside any star, so that the spline slopes and weights
+     * cannot overflow to inf and NaN. */
+    if (TRAIL_F_IS_MASS(q) && !(v <= TRAIL_MAX_MASS_FACTOR * gp->initial_mass[i]))
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g Msun exceeds %g times the initial mass", where,
+                               name, i, j, v, TRAIL_MAX_MASS_FACTOR);
+    if (!TRAIL_F_IS_MASS(q) && !(fabs(v) <= TRAIL_MAX_LOG_ABS))
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g is not a plausible log10 value", where, name, i,
+                               j, v);
+    return HRT_OK;
+}
+
+/* The per-EEP quantities and phases. */
+static int read_eep_data(hid_t gr, const char *where, const trail_file *f, const code_map *cm, trail_file_group *gp,
+                         int *ibuf, hrt_error *err)
+{
+    const trail_schema *S = &trail_schema_names;
+    size_t nm = gp->n_mass, J = f->n_eep_max;
+    int v = f->version, rc = HRT_OK;
+    hsize_t d2[2] = {nm, J};
+    for (int q = 0; q < TRAIL_NF && rc == HRT_OK; q++) {
+        const char *name = trail_name_in(&S->eep[q], v);
+        rc = read_named(gr, where, v, &S->eep[q], 2, d2, 0, gp->q[q], err);
+        for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
+            for (size_t j = 0; j < J && rc == HRT_OK; j++) {
+                if (j < (size_t)gp->n_eep[i])
+                    rc = check_eep_value(where, name, q, gp, i, j, J, err);
+                else
+                    gp->q[q][i * J + j] = NAN; /* not read: not part of the track */
             }
         }
     }
     if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "log_R", 2, d2, 0, NULL, err);
-    if (rc == HRT_OK)
-        rc = read_numeric(gr, where, "phase", 2, d2, 1, ibuf, err);
+        rc = read_named(gr, where, v, &S->phase, 2, d2, 1, ibuf, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-        for (int j = 0; j < gp->n_eep[i]; j++) {
-            int c = ibuf[i * J + (size_t)j];
-            if (c < 0 || (size_t)c >= n_phase) {
-                rc = trail_set_error(err, HRT_E_FORMAT, "%s/phase[%zu][%d]: %d is not an index into phase_keys", where,
-                                   i, j, c);
-                break;
-            }
-            gp->phase[i * J + (size_t)j] = (int8_t)phase_map[c];
+        for (size_t j = 0; j < (size_t)gp->n_eep[i] && rc == HRT_OK; j++) {
+            int c = ibuf[i * J + j];
+            int p = c >= 0 && c < 256 ? cm->phase[c] : -1;
+            if (p <= HRT_PHASE_UNKNOWN)
+                rc = trail_set_error(err, HRT_E_FORMAT, "%s/phase[%zu][%zu]: %d is not a phase code of the file", where,
+                                     i, j, c);
+            else
+                gp->phase[i * J + j] = (int8_t)p;
         }
     }
-    free(buf);
+    return rc;
+}
+
+static int read_group(hid_t fh, trail_file *f, size_t iz, const code_map *cm, hrt_error *err)
+{
+    const trail_schema *S = &trail_schema_names;
+    char where[64];
+    snprintf(where, sizeof where, "metallicity/%zu", iz);
+    hid_t gr = H5Lexists(fh, where, H5P_DEFAULT) > 0 ? H5Gopen2(fh, where, H5P_DEFAULT) : -1;
+    if (gr < 0)
+        return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
+    trail_file_group *gp = &f->grp[iz];
+    const char *zn = trail_name_in(&S->group_z, f->version);
+    int rc = read_attr_number(gr, zn, where, 0, &gp->z, err);
+    if (rc == HRT_OK && !(isfinite(gp->z) && gp->z > 0.0 && gp->z < 1.0))
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute '%s': %g is not in (0, 1)", where, zn, gp->z);
+    if (rc == HRT_OK && iz > 0 && !(gp->z > f->grp[iz - 1].z))
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute '%s': %g does not exceed the previous group's %g", where,
+                             zn, gp->z, f->grp[iz - 1].z);
+    if (rc == HRT_OK && !isfinite(trail_log10(gp->z / f->z_ref)))
+        rc = trail_set_error(err, HRT_E_FORMAT,
+                             "%s attribute '%s': [Fe/H] = log10(%g / z_ref %g) is not a finite number", where, zn,
+                             gp->z, f->z_ref);
+    hsize_t dm[1] = {0};
+    const char *im = trail_name_in(&S->initial_mass, f->version);
+    if (rc == HRT_OK)
+        rc = read_numeric(gr, where, im, 1, dm, 0, NULL, err);
+    if (rc == HRT_OK && (dm[0] < 1 || dm[0] > TRAIL_MAX_TRACKS))
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: unusable length %llu (1..%d tracks)", where, im,
+                             (unsigned long long)dm[0], TRAIL_MAX_TRACKS);
+    size_t nm = rc == HRT_OK ? (size_t)dm[0] : 0, J = f->n_eep_max, R = f->n_routes;
+    int *ibuf = NULL;
+    if (rc == HRT_OK) {
+        ibuf = malloc((nm > R ? nm : R) * J * sizeof(int) + sizeof(int));
+        if (alloc_group(gp, nm, J, R, &f->bytes) != HRT_OK || !ibuf)
+            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory for %zu tracks", where, nm);
+    }
+    if (rc == HRT_OK)
+        rc = read_tracks(gr, where, f, cm, gp, ibuf, err);
+    if (rc == HRT_OK)
+        rc = read_remnants_and_boundaries(gr, where, f, gp, err);
+    if (rc == HRT_OK)
+        rc = read_eep_data(gr, where, f, cm, gp, ibuf, err);
     free(ibuf);
     H5Gclose(gr);
     return rc;
 }
 
-static int phase_lookup(const char *k) { return hrt_phase_from_key(k); }
-
-static int read_file(hid_t f, hrt_grid *g, hrt_error *err)
+/* Root: format, version (oldest..HRT_FORMAT_VERSION), z_ref, attributes. */
+static int read_root(hid_t fh, int oldest, trail_file *f, hrt_error *err)
 {
     char *fmt = NULL;
-    int rc = read_attr_text(f, "format", "root", &fmt, err);
+    int rc = read_attr_text(fh, "format", "root", &fmt, err);
     if (rc != HRT_OK)
         return rc;
-    if (strcmp(fmt, FORMAT_NAME) != 0) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "root attribute 'format' is '%.64s', expected '%s'", fmt, FORMAT_NAME);
+    if (strcmp(fmt, TRAIL_FORMAT_NAME) != 0) {
+        rc = trail_set_error(err, HRT_E_FORMAT, "root attribute 'format' is '%.64s', expected '%s'", fmt,
+                             TRAIL_FORMAT_NAME);
         free(fmt);
         return rc;
     }
     free(fmt);
     double v;
-    if ((rc = read_attr_number(f, "format_version", "root", 1, &v, err)) != HRT_OK)
+    if ((rc = read_attr_number(fh, "format_version", "root", 1, &v, err)) != HRT_OK)
         return rc;
     if (v > HRT_FORMAT_VERSION)
         return trail_set_error(err, HRT_E_VERSION, "format_version %g is newer than this library reads (%d)", v,
-                             HRT_FORMAT_VERSION);
-    if (v < 1)
+                               HRT_FORMAT_VERSION);
+    if (!(v >= TRAIL_FORMAT_OLDEST) || v != floor(v))
         return trail_set_error(err, HRT_E_FORMAT, "format_version %g is not a valid version", v);
-    if ((rc = read_attr_number(f, "z_ref", "root", 0, &g->z_ref, err)) != HRT_OK)
+    if (v < oldest)
+        return trail_set_error(err, HRT_E_VERSION,
+                               "format_version %g is older than this library reads (%d): convert the file with "
+                               "'hrtrail grid upgrade OLD NEW' (hrt_grid_upgrade())",
+                               v, HRT_FORMAT_VERSION);
+    f->version = (int)v;
+    if ((rc = read_attr_number(fh, "z_ref", "root", 0, &f->z_ref, err)) != HRT_OK)
         return rc;
-    if (!(isfinite(g->z_ref) && g->z_ref > 0.0 && g->z_ref < 1.0))
-        return trail_set_error(err, HRT_E_FORMAT, "root attribute 'z_ref': %g is not in (0, 1)", g->z_ref);
-    attr_collect ac = {g, HRT_OK};
+    if (!(isfinite(f->z_ref) && f->z_ref > 0.0 && f->z_ref < 1.0))
+        return trail_set_error(err, HRT_E_FORMAT, "root attribute 'z_ref': %g is not in (0, 1)", f->z_ref);
+    attr_collect ac = {f, HRT_OK};
     hsize_t idx = 0;
-    H5Aiterate2(f, H5_INDEX_NAME, H5_ITER_INC, &idx, collect_attr, &ac);
+    H5Aiterate2(fh, H5_INDEX_NAME, H5_ITER_INC, &idx, collect_attr, &ac);
     if (ac.rc != HRT_OK)
         return trail_set_error(err, ac.rc, "root attributes: out of memory");
-    int *pmap = NULL, *rmap = NULL;
-    size_t np = 0, nr = 0;
-    rc = read_key_table(f, "phase_keys", phase_lookup, HRT_PHASE_UNKNOWN, &pmap, &np, err);
-    if (rc == HRT_OK)
-        rc = read_key_table(f, "remnant_keys", remnant_lookup, -1, &rmap, &nr, err);
-    if (rc == HRT_OK)
-        rc = read_routes(f, g, err);
-    hid_t mg = -1;
-    if (rc == HRT_OK) {
-        mg = H5Lexists(f, "metallicity", H5P_DEFAULT) > 0 ? H5Gopen2(f, "metallicity", H5P_DEFAULT) : -1;
-        if (mg < 0)
-            rc = trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is missing");
-    }
-    if (rc == HRT_OK) {
-        H5G_info_t info;
-        if (H5Gget_info(mg, &info) < 0 || info.nlinks == 0)
-            rc = trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is empty");
-        else if (info.nlinks > TRAIL_MAX_Z)
-            rc = trail_set_error(err, HRT_E_FORMAT, "group 'metallicity': %llu groups, at most %d supported",
+    return HRT_OK;
+}
+
+static int open_groups(hid_t fh, trail_file *f, hid_t *mg, hrt_error *err)
+{
+    *mg = H5Lexists(fh, "metallicity", H5P_DEFAULT) > 0 ? H5Gopen2(fh, "metallicity", H5P_DEFAULT) : -1;
+    if (*mg < 0)
+        return trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is missing");
+    H5G_info_t info;
+    if (H5Gget_info(*mg, &info) < 0 || info.nlinks == 0)
+        return trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is empty");
+    if (info.nlinks > TRAIL_MAX_Z)
+        return trail_set_error(err, HRT_E_FORMAT, "group 'metallicity': %llu groups, at most %d supported",
                                (unsigned long long)info.nlinks, TRAIL_MAX_Z);
-        else {
-            g->grp = calloc((size_t)info.nlinks, sizeof *g->grp);
-            if (!g->grp)
-                rc = trail_set_error(err, HRT_E_NOMEM, "metallicity: out of memory");
-            else
-                g->n_z = (size_t)info.nlinks; /* only now: trail_grid_free_contents walks n_z groups */
-        }
-    }
-    for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++)
-        rc = read_group(f, g, iz, pmap, np, rmap, nr, err);
+    f->grp = calloc((size_t)info.nlinks, sizeof *f->grp);
+    if (!f->grp)
+        return trail_set_error(err, HRT_E_NOMEM, "metallicity: out of memory");
+    f->n_z = (size_t)info.nlinks; /* only now: trail_file_free walks n_z groups */
+    return HRT_OK;
+}
+
+static int read_file(hid_t fh, int oldest, trail_file *f, hrt_error *err)
+{
+    code_map cm;
+    hid_t mg = -1;
+    int rc = read_root(fh, oldest, f, err);
+    if (rc == HRT_OK)
+        rc = read_codes(fh, f->version, &cm, err);
+    if (rc == HRT_OK)
+        rc = read_routes(fh, f, err);
+    if (rc == HRT_OK)
+        rc = open_groups(fh, f, &mg, err);
+    for (size_t iz = 0; iz < f->n_z && rc == HRT_OK; iz++)
+        rc = read_group(fh, f, iz, &cm, err);
     if (mg >= 0)
         H5Gclose(mg);
-    free(pmap);
-    free(rmap);
     return rc;
 }
 
-int trail_grid_read(const char *path, hrt_grid *g, hrt_error *err)
+int trail_file_read(const char *path, int oldest, trail_file *f, hrt_error *err)
 {
+    memset(f, 0, sizeof *f);
     /* Only regular files: opening a named pipe for reading would block
      * until someone writes to it, i.e. possibly forever. */
     struct stat st;
@@ -686,52 +811,47 @@ int trail_grid_read(const char *path, hrt_grid *g, hrt_error *err)
     int rc = HRT_OK;
     H5E_BEGIN_TRY
     {
-        hid_t f = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
-        if (f < 0) {
+        hid_t fh = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
+        if (fh < 0) {
             rc = trail_set_error(err, HRT_E_FORMAT, "'%s' is not a readable HDF5 file", path);
         } else {
-            rc = read_file(f, g, err);
-            H5Fclose(f);
+            rc = read_file(fh, oldest, f, err);
+            H5Fclose(fh);
         }
     }
     H5E_END_TRY;
+    if (rc != HRT_OK)
+        trail_file_free(f);
     return rc;
 }
 
-static void free_route(route_layout *L)
+void trail_file_free(trail_file *f)
 {
-    free(L->name);
-    free_strings(L->kp_names, L->n_kp);
-    free(L->kp_eep);
-}
-
-void trail_grid_free_contents(hrt_grid *g)
-{
-    for (size_t iz = 0; iz < g->n_z; iz++) {
-        zgroup *gp = &g->grp[iz];
-        free(gp->mass);
-        free(gp->logm);
+    if (!f)
+        return;
+    for (size_t iz = 0; iz < f->n_z; iz++) {
+        trail_file_group *gp = &f->grp[iz];
+        free(gp->initial_mass);
         free(gp->route);
         free(gp->n_eep);
         free(gp->remnant);
-        free(gp->remnant_hv);
+        free(gp->remnant_mass);
         free(gp->boundary);
-        free(gp->hv);
+        for (int q = 0; q < TRAIL_NF; q++)
+            free(gp->q[q]);
         free(gp->phase);
-        free(gp->runs);
-        free(gp->age_tab);
-        free(gp->age_tab_x);
-        free(gp->age_lambda);
-        free(gp->age_dx_max);
-        free(gp->age_iv);
     }
-    free(g->grp);
-    for (size_t r = 0; r < g->n_routes; r++)
-        free_route(&g->routes[r]);
-    free(g->routes);
-    for (size_t a = 0; a < g->n_attrs; a++) {
-        free(g->attrs[a].name);
-        free(g->attrs[a].value);
+    free(f->grp);
+    for (size_t r = 0; r < f->n_routes; r++) {
+        free(f->routes[r].name);
+        free_strings(f->routes[r].kp_names, f->routes[r].n_kp);
+        free(f->routes[r].kp_eep);
     }
-    free(g->attrs);
+    free(f->routes);
+    for (size_t a = 0; a < f->n_attrs; a++) {
+        free(f->attrs[a].name);
+        free(f->attrs[a].value);
+    }
+    free(f->attrs);
+    memset(f, 0, sizeof *f);
 }

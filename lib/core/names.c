@@ -22,77 +22,77 @@ const char *hrt_version(void) { return HRT_VERSION_STRING; }
 int hrt_abi_version(void) { return HRT_ABI_VERSION; }
 size_t hrt_state_size(void) { return sizeof(hrt_state); }
 
-/* Phase names and keys: indexed by hrt_phase. */
-static const char phase_names[HRT_PHASE_COUNT][48] = {
-    "unknown",
-    "pre-main sequence",
-    "main sequence",
-    "subgiant / Hertzsprung gap",
-    "red giant branch",
-    "core helium burning",
-    "early asymptotic giant branch",
-    "thermally pulsing asymptotic giant branch",
-    "post-AGB",
-    "white dwarf",
-    "blue supergiant",
-    "red supergiant",
-    "Wolf-Rayet",
-    "neutron star",
-    "black hole",
-    "post-RGB contraction",
-};
-static const char phase_keys[HRT_PHASE_COUNT][12] = {
-    "unknown", "pre_ms", "ms", "subgiant", "rgb", "cheb", "eagb", "tpagb",
-    "post_agb", "wd", "bsg", "rsg", "wr", "ns", "bh", "post_rgb",
-};
+/* Phases and remnant kinds in the order of their lists (HRT_PHASE_LIST,
+ * HRT_REMNANT_LIST): code, key, text. */
+typedef struct code_entry {
+    int code;
+    char key[12];
+    char text[48];
+} code_entry;
+
+#define CODE_ENTRY_(name, code, key, text) {code, key, text},
+static const code_entry phases[] = {HRT_PHASE_LIST(CODE_ENTRY_)};
+static const code_entry remnants[] = {HRT_REMNANT_LIST(CODE_ENTRY_)};
+#undef CODE_ENTRY_
+_Static_assert(sizeof phases / sizeof phases[0] == HRT_PHASE_N, "HRT_PHASE_N must count HRT_PHASE_LIST");
+_Static_assert(sizeof remnants / sizeof remnants[0] == HRT_REMNANT_N, "HRT_REMNANT_N must count HRT_REMNANT_LIST");
+
+static const code_entry *by_code(const code_entry *t, size_t n, int code)
+{
+    for (size_t i = 0; i < n; i++)
+        if (t[i].code == code)
+            return &t[i];
+    return NULL;
+}
+
+static const code_entry *by_key(const code_entry *t, size_t n, const char *key)
+{
+    if (key)
+        for (size_t i = 0; i < n; i++)
+            if (strcmp(key, t[i].key) == 0)
+                return &t[i];
+    return NULL;
+}
 
 const char *hrt_phase_name(int phase)
 {
-    return (phase >= 0 && phase < HRT_PHASE_COUNT) ? phase_names[phase] : "unknown";
+    const code_entry *e = by_code(phases, HRT_PHASE_N, phase);
+    return e ? e->text : "unknown";
 }
 
 const char *hrt_phase_key(int phase)
 {
-    return (phase >= 0 && phase < HRT_PHASE_COUNT) ? phase_keys[phase] : "unknown";
+    const code_entry *e = by_code(phases, HRT_PHASE_N, phase);
+    return e ? e->key : "unknown";
 }
 
 int hrt_phase_from_key(const char *key)
 {
-    if (!key)
-        return HRT_PHASE_UNKNOWN;
-    for (int p = 1; p < HRT_PHASE_COUNT; p++)
-        if (strcmp(key, phase_keys[p]) == 0)
-            return p;
-    return HRT_PHASE_UNKNOWN;
+    const code_entry *e = by_key(phases, HRT_PHASE_N, key);
+    return e ? e->code : HRT_PHASE_UNKNOWN;
 }
 
-static const char remnant_names[HRT_REMNANT_COUNT][32] = {
-    "none", "helium white dwarf", "carbon-oxygen white dwarf", "oxygen-neon white dwarf",
-    "neutron star", "black hole",
-};
-static const char remnant_keys[HRT_REMNANT_COUNT][8] = {
-    "none", "he_wd", "co_wd", "one_wd", "ns", "bh",
-};
+int hrt_phase_code(size_t i) { return i < HRT_PHASE_N ? phases[i].code : -1; }
 
 const char *hrt_remnant_name(int r)
 {
-    return (r >= 0 && r < HRT_REMNANT_COUNT) ? remnant_names[r] : "unknown";
+    const code_entry *e = by_code(remnants, HRT_REMNANT_N, r);
+    return e ? e->text : "unknown";
 }
 
 const char *hrt_remnant_key(int r)
 {
-    return (r >= 0 && r < HRT_REMNANT_COUNT) ? remnant_keys[r] : "unknown";
+    const code_entry *e = by_code(remnants, HRT_REMNANT_N, r);
+    return e ? e->key : "unknown";
 }
 
 int hrt_remnant_from_key(const char *key)
 {
-    if (!key)
-        return -1;
-    for (int r = 0; r < HRT_REMNANT_COUNT; r++)
-        if (strcmp(key, remnant_keys[r]) == 0)
-            return r;
-    return -1;
+    const code_entry *e = by_key(remnants, HRT_REMNANT_N, key);
+    return e ? e->code : -1;
 }
+
+int hrt_remnant_code(size_t i) { return i < HRT_REMNANT_N ? remnants[i].code : -1; }
 
 static const char interp_names[HRT_INTERP_COUNT][8] = {"steffen", "linear", "cspline", "akima"};
 

@@ -11,7 +11,7 @@
  * (1972, ApJ 175, 417) relation to 1-3 % and gives 0.0125 Rsun at 0.6 Msun. */
 double hrt_wd_radius_rsun(double m)
 {
-    const double mch = 1.44, mp = 0.00057;
+    const double mch = TRAIL_WD_MASS_MAX_MSUN, mp = 0.00057;
     if (!(m > 0.0 && m < mch))
         return NAN;
     double a = pow(m / mch, 2.0 / 3.0);

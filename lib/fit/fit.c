@@ -196,7 +196,7 @@ static int add_track(build *B, size_t k, double mass, int want_route, hrt_error 
         m->la[i] = log10(st.age_yr);
         float *v = m->q + i * FQ;
         v[FQ_LT] = (float)st.log_teff_k;
-        v[FQ_LL] = (float)st.log_l;
+        v[FQ_LL] = (float)st.log_l_lsun;
         v[FQ_LG] = (float)st.log_g_cgs;
         v[FQ_M] = (float)st.mass_msun;
         m->ph[i] = (int8_t)st.phase;
@@ -476,10 +476,10 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
         return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: give a flux or an apparent bolometric magnitude, not both");
     if (!isnan(o->distance_pc) && !isnan(o->parallax_mas))
         return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: give a distance or a parallax, not both");
-    if (!isnan(o->parallax_mas) && o->parallax_sigma_mas > 0.2 * o->parallax_mas)
+    if (!isnan(o->parallax_mas) && o->parallax_mas_sigma > 0.2 * o->parallax_mas)
         return trail_set_error(err, HRT_E_INVALID,
                              "hrt_fit_star: parallax %g +- %g mas is too uncertain to invert (sigma/parallax > 0.2)",
-                             o->parallax_mas, o->parallax_sigma_mas);
+                             o->parallax_mas, o->parallax_mas_sigma);
     int have_flux = !isnan(o->flux_w_m2) || !isnan(o->mbol);
     int have_dist = !isnan(o->distance_pc) || !isnan(o->parallax_mas);
     if (have_dist && !have_flux)
@@ -487,20 +487,20 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
     if (have_flux) {
         if (!isnan(o->flux_w_m2)) {
             F->log_flux = log10(o->flux_w_m2);
-            F->log_flux_sigma = o->flux_sigma_w_m2 / (o->flux_w_m2 * TRAIL_LN10);
+            F->log_flux_sigma = o->flux_w_m2_sigma / (o->flux_w_m2 * TRAIL_LN10);
         } else {
             F->log_flux = log10(hrt_fit_flux_from_mbol(o->mbol));
             F->log_flux_sigma = 0.4 * o->mbol_sigma;
         }
     }
-    F->ll.on = !isnan(o->log_l);
-    F->ll.v = o->log_l;
-    F->ll.s = o->log_l_sigma;
+    F->ll.on = !isnan(o->log_l_lsun);
+    F->ll.v = o->log_l_lsun;
+    F->ll.s = o->log_l_lsun_sigma;
     if (have_dist) {
         if (F->ll.on)
             return trail_set_error(err, HRT_E_INVALID, "hrt_fit_star: luminosity given twice (log L and flux with distance)");
         double d_pc = !isnan(o->distance_pc) ? o->distance_pc : 1000.0 / o->parallax_mas;
-        double sd = !isnan(o->distance_pc) ? o->distance_sigma_pc / o->distance_pc : o->parallax_sigma_mas / o->parallax_mas;
+        double sd = !isnan(o->distance_pc) ? o->distance_pc_sigma / o->distance_pc : o->parallax_mas_sigma / o->parallax_mas;
         double dm = d_pc * HRT_PC_M;
         F->ll.on = 1;
         F->ll.v = log10(4.0 * PI * dm * dm / HRT_LSUN_W) + F->log_flux;
@@ -510,25 +510,25 @@ static int obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, fobs *F, hr
     }
     F->lt.on = 1;
     F->lt.v = o->teff_k;
-    F->lt.s = o->teff_sigma_k;
+    F->lt.s = o->teff_k_sigma;
     F->lt_log = log10(o->teff_k);
     F->lg.on = !isnan(o->log_g_cgs);
     F->lg.v = o->log_g_cgs;
-    F->lg.s = o->log_g_sigma;
+    F->lg.s = o->log_g_cgs_sigma;
     F->feh.on = !isnan(o->feh);
     F->feh.v = o->feh;
     F->feh.s = o->feh_sigma;
     F->n_obs = F->lt.on + F->ll.on + F->lg.on + F->feh.on;
     /* search window in the lattice quantities */
-    double tl = o->teff_k - CUT_SIGMA * o->teff_sigma_k, th = o->teff_k + CUT_SIGMA * o->teff_sigma_k;
+    double tl = o->teff_k - CUT_SIGMA * o->teff_k_sigma, th = o->teff_k + CUT_SIGMA * o->teff_k_sigma;
     F->lt_lo = tl > 1.0 ? log10(tl) : -INFINITY;
     F->lt_hi = log10(th);
-    F->inv_lt = o->teff_k * TRAIL_LN10 / o->teff_sigma_k;
-    double ml = o->teff_k - MATCH_SIGMA * o->teff_sigma_k, mh = o->teff_k + MATCH_SIGMA * o->teff_sigma_k;
+    F->inv_lt = o->teff_k * TRAIL_LN10 / o->teff_k_sigma;
+    double ml = o->teff_k - MATCH_SIGMA * o->teff_k_sigma, mh = o->teff_k + MATCH_SIGMA * o->teff_k_sigma;
     if (log10(mh) < m->lt_range[0] || (ml > 0 && log10(ml) > m->lt_range[1]))
         return trail_set_error(err, HRT_E_NO_MATCH,
                              "hrt_fit_star: Teff %g +- %g K is outside every track of the grid (the tracks span %.0f-%.0f K)",
-                             o->teff_k, o->teff_sigma_k, pow(10.0, m->lt_range[0]), pow(10.0, m->lt_range[1]));
+                             o->teff_k, o->teff_k_sigma, pow(10.0, m->lt_range[0]), pow(10.0, m->lt_range[1]));
     F->ll_lo = F->ll.on ? F->ll.v - CUT_SIGMA * F->ll.s : -INFINITY;
     F->ll_hi = F->ll.on ? F->ll.v + CUT_SIGMA * F->ll.s : INFINITY;
     F->inv_ll = F->ll.on ? 1.0 / F->ll.s : 0.0;
@@ -972,12 +972,12 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
                            F.ll.on ? ", with the luminosity given" : "");
     /* weights, and the ranges of the histograms: H[0..7] over all points
      * (q_all), PH[phase] initial mass and age within each phase */
-    fhist H[12], PH[HRT_PHASE_COUNT][2];
+    fhist H[12], PH[HRT_PHASE_SLOTS][2];
     for (int k = 0; k < 8; k++) {
         H[k].q = q_all[k];
         H[k].phase = -1;
     }
-    for (int p = 0; p < HRT_PHASE_COUNT; p++) {
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++) {
         PH[p][0].q = V_LOGM;
         PH[p][1].q = V_AGE;
         PH[p][0].phase = PH[p][1].phase = p;
@@ -987,7 +987,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         H[k].xmax = -INFINITY;
         H[k].W = 0.0;
     }
-    for (int p = 0; p < HRT_PHASE_COUNT; p++)
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++)
         for (int s = 0; s < 2; s++) {
             PH[p][s].xmin = INFINITY;
             PH[p][s].xmax = -INFINITY;
@@ -1005,7 +1005,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
             if (!(P->prior > 0) || P->chi2 > chi2min + CUT_CHI2)
                 continue;
             P->w = P->prior * exp(-0.5 * (P->chi2 - chi2min));
-            if (!(P->phase >= 0 && P->phase < HRT_PHASE_COUNT))
+            if (!(P->phase >= 0 && P->phase < HRT_PHASE_SLOTS))
                 P->phase = HRT_PHASE_UNKNOWN;
             W += P->w;
             W2 += P->w * P->w;
@@ -1041,13 +1041,13 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         res->chi2_min = chi2min;
         res->n_eff = W * W / W2;
         res->n_points = (double)np;
-        for (int p = 0; p < HRT_PHASE_COUNT; p++)
+        for (int p = 0; p < HRT_PHASE_SLOTS; p++)
             res->phase_prob[p] = PH[p][0].W / W;
         /* the two most probable phases */
         int p1 = 0, p2 = 0;
-        for (int p = 1; p < HRT_PHASE_COUNT; p++)
+        for (int p = 1; p < HRT_PHASE_SLOTS; p++)
             if (res->phase_prob[p] > res->phase_prob[p1]) p1 = p;
-        for (int p = 1; p < HRT_PHASE_COUNT; p++)
+        for (int p = 1; p < HRT_PHASE_SLOTS; p++)
             if (p != p1 && (p2 == p1 || p2 == 0 || res->phase_prob[p] > res->phase_prob[p2]) && res->phase_prob[p] > 0)
                 p2 = p;
         if (p2 == p1 || !(res->phase_prob[p2] > 0)) p2 = HRT_PHASE_UNKNOWN;
@@ -1080,8 +1080,8 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         res->age_yr = hist_interval(&H[1]);
         res->feh = hist_interval(&H[2]);
         res->mass_msun = hist_interval(&H[3]);
-        res->radius_rsun = exp10_interval(hist_interval(&H[4]));
-        res->log_l = hist_interval(&H[5]);
+        res->r_rsun = exp10_interval(hist_interval(&H[4]));
+        res->log_l_lsun = hist_interval(&H[5]);
         res->teff_k = hist_interval(&H[6]);
         res->log_g_cgs = hist_interval(&H[7]);
         for (int s = 0; s < 2; s++) {
@@ -1117,7 +1117,7 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
             o->initial_mass_msun = pow(10.0, P->v[V_LOGM] + (2.0 * gsl_rng_uniform(&R.r) - 1.0) * P->h[V_LOGM]);
             o->age_yr = P->t_lo + gsl_rng_uniform(&R.r) * (P->t_hi - P->t_lo);
             o->z = m->z[P->kz];
-            o->log_l = P->v[V_LOGL];
+            o->log_l_lsun = P->v[V_LOGL];
             o->log_teff_k = log10(P->v[V_TEFF]);
             o->phase = P->phase;
         }

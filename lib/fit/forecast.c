@@ -56,7 +56,7 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
     /* per-sample values: [nt][n] for each state quantity; per event and phase [n] */
     double *st = malloc((nt * 4 + 4) * n * sizeof(double) + 1);
     double *ev = malloc((size_t)HRT_FORECAST_MAX_EVENTS * n * sizeof(double) + 1);
-    double *fs = malloc((size_t)HRT_PHASE_COUNT * 2 * n * sizeof(double) + 1);
+    double *fs = malloc((size_t)HRT_PHASE_SLOTS * 2 * n * sizeof(double) + 1);
     int32_t *phs = malloc((nt + 1) * n * sizeof(int32_t) + 1);
     hrt_phase_span *spans = malloc(MAX_SPANS * sizeof *spans);
     int rc = HRT_OK;
@@ -72,7 +72,7 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
     char ev_name[HRT_FORECAST_MAX_EVENTS][32];
     if (rc == HRT_OK) {
         for (size_t i = 0; i < HRT_FORECAST_MAX_EVENTS * n; i++) ev[i] = NAN;
-        for (size_t i = 0; i < (size_t)HRT_PHASE_COUNT * 2 * n; i++) fs[i] = NAN;
+        for (size_t i = 0; i < (size_t)HRT_PHASE_SLOTS * 2 * n; i++) fs[i] = NAN;
     }
     double ms_count = 0.0;
     for (size_t i = 0; i < n && rc == HRT_OK; i++) {
@@ -104,7 +104,7 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
         int kind;
         double rm;
         hrt_star_remnant(s, &kind, &rm);
-        res->remnant_prob[kind >= 0 && kind < HRT_REMNANT_COUNT ? kind : 0] += 1.0 / (double)n;
+        res->remnant_prob[kind >= 0 && kind < HRT_REMNANT_SLOTS ? kind : 0] += 1.0 / (double)n;
         rem_mass[i] = kind == HRT_REMNANT_NONE ? NAN : rm;
         /* keypoints ahead, gathered by name across routes */
         for (size_t k = 0; k < hrt_star_n_keypoints(s); k++) {
@@ -130,7 +130,7 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
             nsp = MAX_SPANS;
         for (size_t k = 0; k < nsp; k++) {
             int p = spans[k].phase;
-            if (p <= 0 || p >= HRT_PHASE_COUNT || !(spans[k].start_yr > S->age_yr) || !isnan(fs[(size_t)p * 2 * n + i]))
+            if (p <= 0 || p >= HRT_PHASE_SLOTS || !(spans[k].start_yr > S->age_yr) || !isnan(fs[(size_t)p * 2 * n + i]))
                 continue;
             fs[(size_t)p * 2 * n + i] = spans[k].start_yr - S->age_yr;
             fs[(size_t)p * 2 * n + n + i] = spans[k].end_yr - spans[k].start_yr;
@@ -146,10 +146,10 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
             }
             phs[(t + 1) * n + i] = f.phase;
             double *q = st + t * 4 * n;
-            int lum = isfinite(f.log_l) && isfinite(f.log_teff_k);
-            q[i] = lum ? f.log_l : NAN;
+            int lum = isfinite(f.log_l_lsun) && isfinite(f.log_teff_k);
+            q[i] = lum ? f.log_l_lsun : NAN;
             q[n + i] = lum ? pow(10.0, f.log_teff_k) : NAN;
-            q[2 * n + i] = isfinite(f.log_r) ? pow(10.0, f.log_r) : NAN;
+            q[2 * n + i] = isfinite(f.log_r_rsun) ? pow(10.0, f.log_r_rsun) : NAN;
             q[3 * n + i] = f.mass_msun;
         }
         hrt_star_free(s);
@@ -157,14 +157,14 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
     if (rc == HRT_OK) {
         res->n_samples = (double)n;
         for (size_t i = 0; i < n; i++)
-            res->phase_now_prob[phs[i] >= 0 && phs[i] < HRT_PHASE_COUNT ? phs[i] : 0] += 1.0 / (double)n;
-        res->phase_now = argmax(res->phase_now_prob, HRT_PHASE_COUNT);
+            res->phase_now_prob[phs[i] >= 0 && phs[i] < HRT_PHASE_SLOTS ? phs[i] : 0] += 1.0 / (double)n;
+        res->phase_now = argmax(res->phase_now_prob, HRT_PHASE_SLOTS);
         res->ms_prob = ms_count / (double)n;
         res->ms_left_yr = interval_of(ms_left, n);
         res->end_in_yr = interval_of(end_in, n);
-        res->remnant = argmax(res->remnant_prob, HRT_REMNANT_COUNT);
+        res->remnant = argmax(res->remnant_prob, HRT_REMNANT_SLOTS);
         res->remnant_mass_msun = interval_of(rem_mass, n);
-        for (int p = 0; p < HRT_PHASE_COUNT; p++) {
+        for (int p = 0; p < HRT_PHASE_SLOTS; p++) {
             double *a = fs + (size_t)p * 2 * n, *b = a + n;
             size_t c = 0;
             for (size_t i = 0; i < n; i++) c += !isnan(a[i]);
@@ -194,15 +194,15 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
             F->dt_yr = dt_yr[t];
             const int32_t *ph = phs + (t + 1) * n;
             for (size_t i = 0; i < n; i++)
-                F->phase_prob[ph[i] >= 0 && ph[i] < HRT_PHASE_COUNT ? ph[i] : 0] += 1.0 / (double)n;
-            F->phase = argmax(F->phase_prob, HRT_PHASE_COUNT);
+                F->phase_prob[ph[i] >= 0 && ph[i] < HRT_PHASE_SLOTS ? ph[i] : 0] += 1.0 / (double)n;
+            F->phase = argmax(F->phase_prob, HRT_PHASE_SLOTS);
             double *q = st + t * 4 * n;
             size_t c = 0;
             for (size_t i = 0; i < n; i++) c += !isnan(q[i]);
             F->luminous_frac = (double)c / (double)n;
-            F->log_l = interval_of(q, n);
+            F->log_l_lsun = interval_of(q, n);
             F->teff_k = interval_of(q + n, n);
-            F->radius_rsun = interval_of(q + 2 * n, n);
+            F->r_rsun = interval_of(q + 2 * n, n);
             F->mass_msun = interval_of(q + 3 * n, n);
         }
     }

@@ -644,10 +644,10 @@ int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_pop_hr *hr
             hr->nx * hr->ny > HRT_POP_HR_MAX_BINS)
             return trail_set_error(err, HRT_E_INVALID, "HR histogram of %llu x %llu bins: need nx, ny >= 1 and nx * ny <= %d",
                                  (unsigned long long)hr->nx, (unsigned long long)hr->ny, HRT_POP_HR_MAX_BINS);
-        if (!isfinite(hr->log_teff_lo) || !isfinite(hr->log_teff_hi) || !(hr->log_teff_hi > hr->log_teff_lo) ||
-            !isfinite(hr->log_l_lo) || !isfinite(hr->log_l_hi) || !(hr->log_l_hi > hr->log_l_lo))
+        if (!isfinite(hr->log_teff_k_lo) || !isfinite(hr->log_teff_k_hi) || !(hr->log_teff_k_hi > hr->log_teff_k_lo) ||
+            !isfinite(hr->log_l_lsun_lo) || !isfinite(hr->log_l_lsun_hi) || !(hr->log_l_lsun_hi > hr->log_l_lsun_lo))
             return trail_set_error(err, HRT_E_DOMAIN, "HR histogram ranges log Teff %g .. %g, log L %g .. %g: need finite "
-                                                    "low < high", hr->log_teff_lo, hr->log_teff_hi, hr->log_l_lo, hr->log_l_hi);
+                                                    "low < high", hr->log_teff_k_lo, hr->log_teff_k_hi, hr->log_l_lsun_lo, hr->log_l_lsun_hi);
     }
     memset(s, 0, sizeof *s);
     s->struct_size = sizeof *s;
@@ -671,13 +671,13 @@ static void summary_add_one(hrt_pop_summary *s, const hrt_state *st, double bx, 
         return;
     }
     s->n_evaluated++;
-    int p = st->phase >= 0 && st->phase < HRT_POP_MAX_PHASES ? st->phase : HRT_PHASE_UNKNOWN;
-    double l = isfinite(st->log_l) ? trail_exp10(st->log_l) : 0.0;
+    int p = st->phase >= 0 && st->phase < HRT_PHASE_SLOTS ? st->phase : HRT_PHASE_UNKNOWN;
+    double l = isfinite(st->log_l_lsun) ? trail_exp10(st->log_l_lsun) : 0.0;
     s->n_phase[p]++;
     fix_add(&s->phase_initial_mass_msun[p], m0);
     fix_add(&s->phase_mass_msun[p], st->mass_msun);
     fix_add(&s->phase_l_lsun[p], l);
-    int r = (st->flags & HRT_FLAG_REMNANT) && st->remnant > 0 && st->remnant < HRT_POP_MAX_REMNANTS ? st->remnant : 0;
+    int r = (st->flags & HRT_FLAG_REMNANT) && st->remnant > 0 && st->remnant < HRT_REMNANT_SLOTS ? st->remnant : 0;
     s->n_remnant[r]++;
     fix_add(&s->remnant_mass_msun[r], st->mass_msun);
     fix_add(&s->initial_mass_msun, m0);
@@ -687,8 +687,8 @@ static void summary_add_one(hrt_pop_summary *s, const hrt_state *st, double bx, 
         s->ms_max_initial_mass_msun = m0;
     if (evolved_phase(p) && m0 < s->evolved_min_initial_mass_msun)
         s->evolved_min_initial_mass_msun = m0;
-    if (s->hr.nx && isfinite(st->log_l) && isfinite(st->log_teff_k)) {
-        double fx = (st->log_teff_k - s->hr.log_teff_lo) * bx, fy = (st->log_l - s->hr.log_l_lo) * by;
+    if (s->hr.nx && isfinite(st->log_l_lsun) && isfinite(st->log_teff_k)) {
+        double fx = (st->log_teff_k - s->hr.log_teff_k_lo) * bx, fy = (st->log_l_lsun - s->hr.log_l_lsun_lo) * by;
         if (fx >= 0.0 && fy >= 0.0 && fx < (double)s->hr.nx && fy < (double)s->hr.ny)
             s->hr_count[(uint64_t)fy * s->hr.nx + (uint64_t)fx]++;
         else
@@ -702,8 +702,8 @@ int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, h
         return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_add: %s is NULL", !s ? "summary" : "states");
     double bx = 0.0, by = 0.0;
     if (s->hr.nx) {
-        bx = (double)s->hr.nx / (s->hr.log_teff_hi - s->hr.log_teff_lo);
-        by = (double)s->hr.ny / (s->hr.log_l_hi - s->hr.log_l_lo);
+        bx = (double)s->hr.nx / (s->hr.log_teff_k_hi - s->hr.log_teff_k_lo);
+        by = (double)s->hr.ny / (s->hr.log_l_lsun_hi - s->hr.log_l_lsun_lo);
     }
     for (size_t i = 0; i < n; i++)
         summary_add_one(s, &states[i], bx, by);
@@ -736,13 +736,13 @@ int hrt_pop_summary_merge(hrt_pop_summary *d, const hrt_pop_summary *s, hrt_erro
     for (int k = 0; k < HRT_POP_MAX_STATUS; k++)
         d->n_status[k] += s->n_status[k];
     fix_merge(&d->failed_initial_mass_msun, &s->failed_initial_mass_msun);
-    for (int k = 0; k < HRT_POP_MAX_PHASES; k++) {
+    for (int k = 0; k < HRT_PHASE_SLOTS; k++) {
         d->n_phase[k] += s->n_phase[k];
         fix_merge(&d->phase_initial_mass_msun[k], &s->phase_initial_mass_msun[k]);
         fix_merge(&d->phase_mass_msun[k], &s->phase_mass_msun[k]);
         fix_merge(&d->phase_l_lsun[k], &s->phase_l_lsun[k]);
     }
-    for (int k = 0; k < HRT_POP_MAX_REMNANTS; k++) {
+    for (int k = 0; k < HRT_REMNANT_SLOTS; k++) {
         d->n_remnant[k] += s->n_remnant[k];
         fix_merge(&d->remnant_mass_msun[k], &s->remnant_mass_msun[k]);
     }

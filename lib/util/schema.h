@@ -1,23 +1,34 @@
 /*
- * The grid file's schema as both the reader (lib/core/grid_read.c) and the
- * writer (lib/build/builder.c) see it: the format's name and version, the
- * limits on sizes, and the plausibility bounds, so that anything the
- * library writes it can read back.  tracks/FORMAT.md documents the same.
+ * The grid file's schema (tracks/FORMAT.md) as both the reader
+ * (lib/core/grid_read.c) and the writer (lib/build/builder.c) see it: the
+ * format's name, the names, units and meanings of its datasets in every
+ * version the library knows, the limits on sizes and the plausibility
+ * bounds, so that anything the library writes it can read back.  Also the
+ * raw form of a file as the reader returns it (trail_file): what the file
+ * holds, validated, before the core prepares it for queries; the upgrade of
+ * old files (lib/build/upgrade.c) writes it out again.
  */
 #ifndef HRTRAIL_LIB_SCHEMA_H
 #define HRTRAIL_LIB_SCHEMA_H
+
+#include <stddef.h>
+#include <stdint.h>
 
 #include "hrtrail.h"
 
 /* Value of the root attribute 'format'. */
 #define TRAIL_FORMAT_NAME "hrtrail-track-grid"
+/* Oldest format version the reader can read at all (for hrt_grid_upgrade);
+ * hrt_grid_open() reads HRT_FORMAT_VERSION only. */
+#define TRAIL_FORMAT_OLDEST 1
 
 /* Largest numbers of routes, metallicity groups and EEPs per route a grid
  * may have (fixed-size scratch arrays on the stack; search tables hold
- * 16-bit EEP indices). */
+ * 16-bit EEP indices), and of tracks per metallicity. */
 #define TRAIL_MAX_ROUTES 8
 #define TRAIL_MAX_Z 64
 #define TRAIL_MAX_EEP 65535
+#define TRAIL_MAX_TRACKS 100000
 
 /* Plausibility bounds the reader enforces and the builder too: log10
  * values within +-TRAIL_MAX_LOG_ABS, current, core and remnant masses at
@@ -25,6 +36,47 @@
  * larger values would overflow the splines). */
 #define TRAIL_MAX_LOG_ABS 100.0
 #define TRAIL_MAX_MASS_FACTOR 2.0
+
+/* Per-EEP quantities of a metallicity group, in the order of the tables. */
+enum {
+    TRAIL_F_LOG_AGE = 0,
+    TRAIL_F_LOG_L,
+    TRAIL_F_LOG_TEFF,
+    TRAIL_F_LOG_R,
+    TRAIL_F_MASS,
+    TRAIL_F_HE_CORE,
+    TRAIL_F_CO_CORE,
+    TRAIL_NF
+};
+/* Quantities from TRAIL_F_MASS on are masses (Msun), the others log10 values. */
+#define TRAIL_F_IS_MASS(q) ((q) >= TRAIL_F_MASS)
+
+/* A dataset or attribute of the schema: its name in each version (NULL: not
+ * in that version), its units attribute (an astropy unit string; NULL: no
+ * units) and its meaning. */
+typedef struct trail_name {
+    const char *v1, *v2;
+    const char *units;
+    const char *meaning;
+} trail_name;
+
+/* The names of the current schema and of version 1. */
+typedef struct trail_schema {
+    trail_name group_z;        /* attribute of a metallicity group: metal mass fraction */
+    trail_name initial_mass;   /* [n_mass] */
+    trail_name route;          /* [n_mass] */
+    trail_name n_eep;          /* [n_mass] */
+    trail_name remnant;        /* [n_mass] */
+    trail_name remnant_mass;   /* [n_mass] */
+    trail_name boundary;       /* [n_routes - 1] */
+    trail_name eep[TRAIL_NF];  /* [n_mass][n_eep_max] */
+    trail_name phase;          /* [n_mass][n_eep_max] */
+} trail_schema;
+
+extern const trail_schema trail_schema_names;
+
+/* Name of n in format version v (1 or 2). */
+static inline const char *trail_name_in(const trail_name *n, int v) { return v >= 2 ? n->v2 : n->v1; }
 
 /* The EEP layout of one route as a file stores it (routes/<name>/). */
 typedef struct route_layout {
@@ -39,5 +91,40 @@ typedef struct route_layout {
 typedef struct attr_pair {
     char *name, *value;
 } attr_pair;
+
+/* One metallicity group as the file holds it (validated). */
+typedef struct trail_file_group {
+    double z;
+    size_t n_mass;
+    double *initial_mass;  /* [n_mass] Msun, increasing */
+    int *route;            /* [n_mass] */
+    int *n_eep;            /* [n_mass] valid EEPs */
+    int *remnant;          /* [n_mass] hrt_remnant codes */
+    double *remnant_mass;  /* [n_mass] Msun (NaN for none) */
+    double *boundary;      /* [n_routes - 1] Msun */
+    double *q[TRAIL_NF];   /* [n_mass][n_eep_max], NaN beyond n_eep */
+    int8_t *phase;         /* [n_mass][n_eep_max] hrt_phase codes, 0 beyond n_eep */
+} trail_file_group;
+
+/* A whole grid file as read (validated), in the current schema's terms
+ * whatever its version. */
+typedef struct trail_file {
+    int version;
+    double z_ref;
+    size_t n_routes;
+    route_layout *routes;
+    size_t n_eep_max;
+    size_t n_attrs;
+    attr_pair *attrs;      /* root text attributes */
+    size_t n_z;
+    trail_file_group *grp;
+    size_t bytes;          /* memory held */
+} trail_file;
+
+/* Read and validate a grid file of format version oldest..HRT_FORMAT_VERSION
+ * (lib/core/grid_read.c).  A version below `oldest` is HRT_E_VERSION with a
+ * message on how to convert it.  On failure f holds nothing. */
+int trail_file_read(const char *path, int oldest, trail_file *f, hrt_error *err);
+void trail_file_free(trail_file *f);
 
 #endif

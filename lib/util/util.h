@@ -57,12 +57,9 @@ double trail_log_g_from(double mass_msun, double log_r);
 
 /* Remnant masses are interpolated between tracks of one family: all white
  * dwarfs (helium, CO, ONe) form one, so the mass is continuous where the
- * composition changes; neutron stars and black holes are each their own. */
-static inline int trail_remnant_family(int kind)
-{
-    return (kind == HRT_REMNANT_HE_WD || kind == HRT_REMNANT_CO_WD || kind == HRT_REMNANT_ONE_WD)
-               ? HRT_REMNANT_CO_WD
-               : kind;
-}
+ * composition changes; neutron stars and black holes are each their own.
+ * The family is the tens of the remnant code (HRT_REMNANT_LIST). */
+static inline int trail_remnant_family(int kind) { return kind / 10; }
+static inline int trail_remnant_is_wd(int kind) { return kind / 10 == HRT_REMNANT_CO_WD / 10; }
 
 #endif

@@ -33,9 +33,9 @@ static void run(const hrt_grid *g, const hrt_fit_model *m, int with_feh, int n, 
         if (hrt_eval(g, 1, &mass, &z, 0.0, &age, &s, NULL) != HRT_OK || s.flags) continue;
         hrt_fit_obs_init(&obs[k]);
         obs[k].teff_k = pow(10.0, s.log_teff_k) + gsl_ran_gaussian(r, 80);
-        obs[k].teff_sigma_k = 80;
-        obs[k].log_l = s.log_l + gsl_ran_gaussian(r, 0.03);
-        obs[k].log_l_sigma = 0.03;
+        obs[k].teff_k_sigma = 80;
+        obs[k].log_l_lsun = s.log_l_lsun + gsl_ran_gaussian(r, 0.03);
+        obs[k].log_l_lsun_sigma = 0.03;
         if (with_feh) {
             obs[k].feh = feh + gsl_ran_gaussian(r, 0.1);
             obs[k].feh_sigma = 0.1;

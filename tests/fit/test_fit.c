@@ -66,9 +66,9 @@ static hrt_fit_obs obs_tlf(double teff, double teff_s, double log_l, double log_
     hrt_fit_obs o;
     hrt_fit_obs_init(&o);
     o.teff_k = teff;
-    o.teff_sigma_k = teff_s;
-    o.log_l = log_l;
-    o.log_l_sigma = log_l_s;
+    o.teff_k_sigma = teff_s;
+    o.log_l_lsun = log_l;
+    o.log_l_lsun_sigma = log_l_s;
     o.feh = feh;
     o.feh_sigma = feh_s;
     return o;
@@ -105,7 +105,7 @@ START_TEST(injection_coverage)
         /* measurement errors of a spectroscopic survey (common practice) */
         const double st = 80.0, sl = 0.03, sf = 0.1;
         double t_obs = pow(10.0, s.log_teff_k) + gsl_ran_gaussian(r, st);
-        double l_obs = s.log_l + gsl_ran_gaussian(r, sl);
+        double l_obs = s.log_l_lsun + gsl_ran_gaussian(r, sl);
         hrt_fit_obs o = obs_tlf(t_obs, st, l_obs, sl, feh + gsl_ran_gaussian(r, sf), sf);
         hrt_fit_result res;
         hrt_error err;
@@ -140,14 +140,14 @@ START_TEST(sun)
     ck_assert_msg(rc == HRT_OK, "%s", err.message);
     printf("sun: mass %.4f [%.4f, %.4f] Msun, age %.3f [%.3f, %.3f] Gyr, R %.3f Rsun, phase %s %.3f\n",
            res.initial_mass_msun.median, res.initial_mass_msun.lo, res.initial_mass_msun.hi, res.age_yr.median / 1e9,
-           res.age_yr.lo / 1e9, res.age_yr.hi / 1e9, res.radius_rsun.median, hrt_phase_key(res.phase),
+           res.age_yr.lo / 1e9, res.age_yr.hi / 1e9, res.r_rsun.median, hrt_phase_key(res.phase),
            res.phase_prob[res.phase]);
     ck_assert_msg(fabs(res.initial_mass_msun.median - 1.0) < 0.05, "mass %g", res.initial_mass_msun.median);
     ck_assert_msg(in_interval(res.age_yr, AGE_SUN_YR), "age interval [%g, %g]", res.age_yr.lo, res.age_yr.hi);
     ck_assert_int_eq(res.phase, HRT_PHASE_MS);
     ck_assert(!(res.flags & HRT_FIT_MULTIMODAL));
     /* R from L and Teff by the Stefan-Boltzmann law is 1 Rsun at the nominal values (IAU 2015 B3) */
-    ck_assert(in_interval(res.radius_rsun, 1.0));
+    ck_assert(in_interval(res.r_rsun, 1.0));
     ck_assert(res.initial_mass_msun.lo < res.initial_mass_msun.median && res.initial_mass_msun.median < res.initial_mass_msun.hi);
     for (int i = 0; i < 200; i++) {
         ck_assert(smp[i].initial_mass_msun > 0.7 && smp[i].initial_mass_msun < 3.0);
@@ -215,17 +215,17 @@ START_TEST(distance_100pc)
     hrt_state s;
     ck_assert_int_eq(hrt_eval(G, 1, &m, &z, 0.0, &age, &s, NULL), HRT_OK);
     double d = 100.0 * HRT_PC_M;
-    double flux = HRT_LSUN_W * pow(10.0, s.log_l) / (4.0 * 3.14159265358979323846 * d * d);
+    double flux = HRT_LSUN_W * pow(10.0, s.log_l_lsun) / (4.0 * 3.14159265358979323846 * d * d);
     hrt_fit_obs o;
     hrt_fit_obs_init(&o);
     o.teff_k = pow(10.0, s.log_teff_k);
-    o.teff_sigma_k = 70.0;
+    o.teff_k_sigma = 70.0;
     o.log_g_cgs = s.log_g_cgs;
-    o.log_g_sigma = 0.05;
+    o.log_g_cgs_sigma = 0.05;
     o.feh = 0.0;
     o.feh_sigma = 0.05;
     o.flux_w_m2 = flux;
-    o.flux_sigma_w_m2 = 0.02 * flux;
+    o.flux_w_m2_sigma = 0.02 * flux;
     hrt_fit_result res;
     hrt_error err;
     int rc = hrt_fit_star(M_NARROW, &o, 3, 0, NULL, &res, &err);
@@ -236,7 +236,7 @@ START_TEST(distance_100pc)
     ck_assert(res.distance_pc.hi / res.distance_pc.lo < 1.5);
     /* the same flux in magnitudes gives the same distance */
     hrt_fit_obs o2 = o;
-    o2.flux_w_m2 = o2.flux_sigma_w_m2 = NAN;
+    o2.flux_w_m2 = o2.flux_w_m2_sigma = NAN;
     o2.mbol = -2.5 * log10(flux / 2.518021002e-8); /* IAU 2015 Resolution B2 zero point */
     o2.mbol_sigma = 2.5 / log(10.0) * 0.02;
     hrt_fit_result r2;
@@ -245,11 +245,11 @@ START_TEST(distance_100pc)
     /* with the distance known instead, the luminosity is measured: no HR distance */
     hrt_fit_obs o3 = o;
     o3.distance_pc = 100.0;
-    o3.distance_sigma_pc = 2.0;
+    o3.distance_pc_sigma = 2.0;
     hrt_fit_result r3;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o3, 3, 0, NULL, &r3, NULL), HRT_OK);
     ck_assert(isnan(r3.distance_pc.median));
-    ck_assert(in_interval(r3.log_l, s.log_l));
+    ck_assert(in_interval(r3.log_l_lsun, s.log_l_lsun));
     ck_assert(in_interval(r3.initial_mass_msun, m));
 }
 END_TEST
@@ -371,48 +371,48 @@ START_TEST(bad_inputs)
     hrt_error err;
     hrt_fit_obs_init(&o);
     o.teff_k = 5772;
-    o.teff_sigma_k = -50;
+    o.teff_k_sigma = -50;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_DOMAIN);
     ck_assert(strstr(err.message, "sigma") != NULL);
     ck_assert_int_eq(res.status, HRT_E_DOMAIN);
-    o.teff_sigma_k = 0.0;
+    o.teff_k_sigma = 0.0;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_DOMAIN);
-    o.teff_sigma_k = NAN;
+    o.teff_k_sigma = NAN;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_DOMAIN);
     /* Teff below every track (the coolest reach about 2000 K) */
     o.teff_k = 800;
-    o.teff_sigma_k = 30;
+    o.teff_k_sigma = 30;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_NO_MATCH);
     ck_assert_msg(strstr(err.message, "outside every track") != NULL, "%s", err.message);
     o.teff_k = 3e6;
-    o.teff_sigma_k = 1e4;
+    o.teff_k_sigma = 1e4;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_NO_MATCH);
     /* nothing of the grid within 5 sigma: a solar Teff a thousand times fainter than the Sun */
     o.teff_k = 5772;
-    o.teff_sigma_k = 50;
-    o.log_l = -3.0;
-    o.log_l_sigma = 0.05;
+    o.teff_k_sigma = 50;
+    o.log_l_lsun = -3.0;
+    o.log_l_lsun_sigma = 0.05;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_NO_MATCH);
     ck_assert_msg(strstr(err.message, "5 sigma") != NULL, "%s", err.message);
     /* no Teff; value without sigma; luminosity twice; shaky parallax */
     hrt_fit_obs_init(&o);
-    o.log_l = 0;
-    o.log_l_sigma = 0.1;
+    o.log_l_lsun = 0;
+    o.log_l_lsun_sigma = 0.1;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_INVALID);
     o.teff_k = 5772;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_DOMAIN);
-    o.teff_sigma_k = 50;
+    o.teff_k_sigma = 50;
     o.flux_w_m2 = 1e-9;
-    o.flux_sigma_w_m2 = 1e-11;
+    o.flux_w_m2_sigma = 1e-11;
     o.parallax_mas = 10;
-    o.parallax_sigma_mas = 0.1;
+    o.parallax_mas_sigma = 0.1;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_INVALID);
-    o.log_l = o.log_l_sigma = NAN;
-    o.parallax_sigma_mas = 5;
+    o.log_l_lsun = o.log_l_lsun_sigma = NAN;
+    o.parallax_mas_sigma = 5;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_INVALID);
     o.parallax_mas = -3;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_DOMAIN);
-    o.parallax_mas = o.parallax_sigma_mas = NAN;
+    o.parallax_mas = o.parallax_mas_sigma = NAN;
     o.flux_w_m2 = -1;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 1, 0, NULL, &res, &err), HRT_E_DOMAIN);
     /* NULLs */
@@ -473,7 +473,7 @@ START_TEST(priors_and_names)
     hrt_fit_obs ob;
     hrt_fit_obs_init(&ob);
     ob.teff_k = 4600;
-    ob.teff_sigma_k = 100;
+    ob.teff_k_sigma = 100;
     hrt_fit_result a, b;
     ck_assert_int_eq(hrt_fit_star(mk, &ob, 1, 0, NULL, &a, NULL), HRT_OK);
     ck_assert_int_eq(hrt_fit_star(mf, &ob, 1, 0, NULL, &b, NULL), HRT_OK);

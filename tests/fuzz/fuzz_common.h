@@ -65,7 +65,7 @@ static void fuzz_print_state(const hrt_state *s)
 {
     fprintf(stderr, "fuzz: state M=%.17g Z=%.17g age=%.17g status=%d phase=%d route=%d flags=%#x log_l=%g log_teff=%g "
             "log_r=%g mass=%g eep=%g\n", s->initial_mass_msun, s->z, s->age_yr, s->status, s->phase, s->route,
-            (unsigned)s->flags, s->log_l, s->log_teff_k, s->log_r, s->mass_msun, s->eep);
+            (unsigned)s->flags, s->log_l_lsun, s->log_teff_k, s->log_r_rsun, s->mass_msun, s->eep);
 }
 
 #define FUZZ_REQUIRE_STATE(cond, s)                                                                         \
@@ -83,7 +83,7 @@ static void fuzz_check_state(const hrt_state *s, int rc)
         return;
     /* A good answer is a number and its phase is a phase. */
     FUZZ_REQUIRE_STATE(s->phase > HRT_PHASE_UNKNOWN && s->phase < HRT_PHASE_COUNT, s);
-    FUZZ_REQUIRE_STATE(!isnan(s->log_l) && !isnan(s->log_teff_k) && !isnan(s->log_r), s);
+    FUZZ_REQUIRE_STATE(!isnan(s->log_l_lsun) && !isnan(s->log_teff_k) && !isnan(s->log_r_rsun), s);
     FUZZ_REQUIRE_STATE(!isnan(s->mass_msun), s);
 }
 

@@ -479,9 +479,9 @@ static int do_fit(hrt_fit_result *res, hrt_forecast_result *fc, int *rc_fc, hrt_
     hrt_fit_obs ob;
     hrt_fit_obs_init(&ob);
     ob.teff_k = 6500.0;
-    ob.teff_sigma_k = 150.0;
-    ob.log_l = 1.0;
-    ob.log_l_sigma = 0.1;
+    ob.teff_k_sigma = 150.0;
+    ob.log_l_lsun = 1.0;
+    ob.log_l_lsun_sigma = 0.1;
     hrt_fit_sample smp[16];
     memset(res, 0, sizeof *res);
     rc = hrt_fit_star(model, &ob, 7, 16, smp, res, e);

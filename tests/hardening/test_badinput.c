@@ -76,11 +76,11 @@ static void numbers(void)
             CASE(what[which], rc == want && st.status == rc, "hrt_eval, %s %s: code %d (%s), want %d", what[which],
                  c[k].name, rc, e.message, want);
             if (rc != HRT_OK) {
-                CASE(what[which], msg_ok(&e, rc) && isnan(st.log_l), "%s %s: message '%s'", what[which], c[k].name,
+                CASE(what[which], msg_ok(&e, rc) && isnan(st.log_l_lsun), "%s %s: message '%s'", what[which], c[k].name,
                      e.message);
             } else if (!(st.flags & (HRT_FLAG_DARK | HRT_FLAG_NOT_MODELLED))) {
-                CASE(what[which], isfinite(st.log_l) && isfinite(st.log_teff_k) && isfinite(st.log_r),
-                     "%s %s: OK but log L %g, log Teff %g", what[which], c[k].name, st.log_l, st.log_teff_k);
+                CASE(what[which], isfinite(st.log_l_lsun) && isfinite(st.log_teff_k) && isfinite(st.log_r_rsun),
+                     "%s %s: OK but log L %g, log Teff %g", what[which], c[k].name, st.log_l_lsun, st.log_teff_k);
             }
             if (which == 2)
                 continue;
@@ -266,7 +266,7 @@ static void nulls_and_zeros(void)
     hrt_track_data d = {1.0, 0, 0, NAN, 6, age, inf_col, t, NULL, mm, c0, c0, ph, 2, kps};
     CASE("builder track", hrt_builder_add_track(b, 0.02, &d, &e) == HRT_E_DOMAIN && strstr(e.message, "log_L[2]"),
          "an infinite log L: %s", e.message);
-    d.log_l = l;
+    d.log_l_lsun = l;
     d.mass_msun = neg;
     CASE("builder track", hrt_builder_add_track(b, 0.02, &d, &e) == HRT_E_DOMAIN && strstr(e.message, "negative"),
          "a negative current mass: %s", e.message);
@@ -670,8 +670,8 @@ static void damaged(void)
                 double m0 = hrt_grid_mass(g, 0, 0), z0 = hrt_grid_z(g, 0);
                 int rs = hrt_star_new(g, m0, z0, &s, &e);
                 int rw = rs == HRT_OK ? hrt_star_at(s, 3.0 * hrt_star_end_age(s), &w) : rs;
-                CASE("damaged", rw == HRT_OK && w.phase == HRT_PHASE_WD && isfinite(w.mass_msun) && isfinite(w.log_l),
-                     "white dwarf beside a track without remnant: %d, mass %g, log L %g", rw, w.mass_msun, w.log_l);
+                CASE("damaged", rw == HRT_OK && w.phase == HRT_PHASE_WD && isfinite(w.mass_msun) && isfinite(w.log_l_lsun),
+                     "white dwarf beside a track without remnant: %d, mass %g, log L %g", rw, w.mass_msun, w.log_l_lsun);
                 hrt_star_free(s);
             }
             if (damages[k].fn == x_remnant_steep) {
@@ -681,9 +681,9 @@ static void damaged(void)
                 hrt_state w;
                 int rw = hrt_eval(g, 1, &m, NULL, z0, &a, &w, &e);
                 CASE("damaged", rw == HRT_OK && (w.flags & HRT_FLAG_EXTRAPOLATED) && w.mass_msun > 0.0 &&
-                                    isfinite(w.log_l) && isfinite(w.log_r),
+                                    isfinite(w.log_l_lsun) && isfinite(w.log_r_rsun),
                      "extrapolated white dwarf: %d, flags %#x, mass %g, log R %g", rw, (unsigned)w.flags, w.mass_msun,
-                     w.log_r);
+                     w.log_r_rsun);
             }
             if (damages[k].fn == x_extra_attrs)
                 CASE("damaged", hrt_grid_attribute(g, "provenance") &&
@@ -864,10 +864,10 @@ static void end_of_track(void)
                 tried++;
                 if (rc != HRT_OK || (st.flags & (HRT_FLAG_DARK | HRT_FLAG_NOT_MODELLED)))
                     continue;
-                if (!(isfinite(st.log_l) && isfinite(st.log_teff_k) && isfinite(st.log_r))) {
+                if (!(isfinite(st.log_l_lsun) && isfinite(st.log_teff_k) && isfinite(st.log_r_rsun))) {
                     bad++;
                     fprintf(stderr, "  M=%.17g Z=%g age=%.17g (end %.17g): phase %d log L %g\n", st.initial_mass_msun,
-                            st.z, ages[k], e, st.phase, st.log_l);
+                            st.z, ages[k], e, st.phase, st.log_l_lsun);
                 }
             }
             hrt_star_free(s);
@@ -911,9 +911,9 @@ static void end_of_track(void)
             double a = ages[q];
             int r1 = hrt_star_at(s, a, &st), r2 = hrt_eval(g, 1, &M, &z, 0.0, &a, &sb, NULL);
             tried += 2;
-            if ((r1 == HRT_OK && !isfinite(st.log_l)) || (r2 == HRT_OK && !isfinite(sb.log_l))) {
+            if ((r1 == HRT_OK && !isfinite(st.log_l_lsun)) || (r2 == HRT_OK && !isfinite(sb.log_l_lsun))) {
                 bad++;
-                fprintf(stderr, "  M=%g age=%.17g yr (end %.17g): phase %d, log L %g\n", M, a, e, st.phase, st.log_l);
+                fprintf(stderr, "  M=%g age=%.17g yr (end %.17g): phase %d, log L %g\n", M, a, e, st.phase, st.log_l_lsun);
             }
         }
         hrt_star_free(s);

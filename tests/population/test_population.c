@@ -480,8 +480,8 @@ START_TEST(test_summary_recount)
         }
         nph[st[i].phase]++;
         nwd += st[i].remnant >= HRT_REMNANT_HE_WD && st[i].remnant <= HRT_REMNANT_ONE_WD && (st[i].flags & HRT_FLAG_REMNANT);
-        if (isfinite(st[i].log_l) && isfinite(st[i].log_teff_k)) nlum++;
-        if (isfinite(st[i].log_l)) L += powl(10.0L, st[i].log_l);
+        if (isfinite(st[i].log_l_lsun) && isfinite(st[i].log_teff_k)) nlum++;
+        if (isfinite(st[i].log_l_lsun)) L += powl(10.0L, st[i].log_l_lsun);
         M0 += st[i].initial_mass_msun;
     }
     ck_assert_uint_eq(sum.n_drawn, n);
@@ -716,7 +716,7 @@ START_TEST(test_bad_input)
     hrt_pop_hr hr = {3, 4, -1, 1, 200, 200};
     ck_assert_int_eq(hrt_pop_summary_init(x, 1e9, &hr, &err), HRT_E_INVALID);
     hr.nx = hr.ny = 10;
-    hr.log_l_hi = -2;
+    hr.log_l_lsun_hi = -2;
     ck_assert_int_eq(hrt_pop_summary_init(x, 1e9, &hr, &err), HRT_E_DOMAIN);
     ck_assert_int_eq(hrt_pop_summary_init(x, -1, NULL, &err), HRT_E_DOMAIN);
     ck_assert_int_eq(hrt_pop_summary_init(x, 1e9, NULL, &err), HRT_OK);

@@ -270,7 +270,7 @@ static int time_eval(const char *grid, const char *in, int repeat, const char *z
     for (size_t i = 0; i < n; i++)
         if (st.s[i].status == HRT_OK) {
             ok++;
-            sum += isfinite(st.s[i].log_l) ? st.s[i].log_l : 0.0;
+            sum += isfinite(st.s[i].log_l_lsun) ? st.s[i].log_l_lsun : 0.0;
         }
     printf("RESULT c_eval_s %.6f c_eval_cpu_s %.6f n %zu rc %d answered %zu checksum %.17g\n", best, best_cpu, n,
            rc, ok, sum);

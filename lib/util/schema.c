@@ -1,0 +1,26 @@
+/* The grid file's dataset names, units and meanings, by format version
+ * (tracks/FORMAT.md).  Units are astropy unit strings: dex(...) for a log10
+ * of a quantity in that unit. */
+#include "util/schema.h"
+
+const trail_schema trail_schema_names = {
+    .group_z = {"Z", "z", NULL, "metal mass fraction of the group"},
+    .initial_mass = {"initial_mass", "initial_mass_msun", "solMass", "initial mass of each track"},
+    .route = {"route", "route", NULL, "route of each track: index into routes/names"},
+    .n_eep = {"n_eep", "n_eep", NULL, "number of valid EEPs of each track"},
+    .remnant = {"remnant", "remnant", NULL, "remnant kind left after the last valid EEP (hrtrail code)"},
+    .remnant_mass = {"remnant_mass", "remnant_mass_msun", "solMass", "mass of that remnant"},
+    .boundary = {"route_boundary_mass", "route_boundary_mass_msun", "solMass",
+                 "initial mass separating route b from route b+1"},
+    .eep =
+        {
+            [TRAIL_F_LOG_AGE] = {"log_age", "log_age_yr", "dex(yr)", "log10 of the age since birth"},
+            [TRAIL_F_LOG_L] = {"log_L", "log_l_lsun", "dex(solLum)", "log10 of the luminosity"},
+            [TRAIL_F_LOG_TEFF] = {"log_Teff", "log_teff_k", "dex(K)", "log10 of the effective temperature"},
+            [TRAIL_F_LOG_R] = {"log_R", "log_r_rsun", "dex(solRad)", "log10 of the radius"},
+            [TRAIL_F_MASS] = {"mass", "mass_msun", "solMass", "current mass"},
+            [TRAIL_F_HE_CORE] = {"he_core_mass", "he_core_mass_msun", "solMass", "helium core mass"},
+            [TRAIL_F_CO_CORE] = {"co_core_mass", "co_core_mass_msun", "solMass", "carbon-oxygen core mass"},
+        },
+    .phase = {"phase", "phase", NULL, "phase from this EEP to the next (hrtrail code)"},
+};
