@@ -87,16 +87,15 @@ typedef struct mctx {
     int interior;   /* strictly between two knots of the route (not an end) */
 } mctx;
 
+#include "core/place.h"
+
 /* Everything a query needs once (mass, Z) is known. */
 typedef struct qctx {
     const hrt_grid *g;
-    double mass, z, feh;
+    double mass, z;
     int route;
+    trail_zplace zp;       /* placement of z */
     size_t g_lo, g_hi;     /* stencil of groups [g_lo, g_hi] */
-    size_t g0;             /* left bracketing group; g0 + 1 used when tz > 0 */
-    double tz, hz;         /* fraction and width in [Fe/H] */
-    int single;            /* the metallicity of one group: no Z interpolation */
-    size_t g_near;         /* group nearest in [Fe/H] */
     double zx[TRAIL_MAX_Z];  /* [Fe/H] of the stencil groups */
     double zw[4];          /* Hermite weights across [Fe/H] in [g0, g0 + 1] */
     mctx m[TRAIL_MAX_Z];     /* indexed by group - g_lo */
@@ -104,10 +103,30 @@ typedef struct qctx {
     int flags;
 } qctx;
 
+/* Steffen (1990, A&A 239, 443, eq. 11) slope at knot k of n, with one-sided
+ * secants at the ends, as GSL's gsl_interp_steffen: used for the slopes
+ * across mass at open (slopes.c) and across [Fe/H] at query time (eval.c). */
+static inline double trail_steffen_slope(const double *x, const double *y, size_t n, size_t k)
+{
+    if (k == 0)
+        return (y[1] - y[0]) / (x[1] - x[0]);
+    if (k == n - 1)
+        return (y[n - 1] - y[n - 2]) / (x[n - 1] - x[n - 2]);
+    double h_right = x[k + 1] - x[k], h_left = x[k] - x[k - 1];
+    double s_right = (y[k + 1] - y[k]) / h_right, s_left = (y[k] - y[k - 1]) / h_left;
+    double p = (s_left * h_right + s_right * h_left) / (h_left + h_right);
+    double m = fabs(s_left) < fabs(s_right) ? fabs(s_left) : fabs(s_right);
+    if (0.5 * fabs(p) < m)
+        m = 0.5 * fabs(p);
+    return ((s_left < 0.0 ? -1.0 : 1.0) + (s_right < 0.0 ? -1.0 : 1.0)) * m;
+}
+
 /* slopes.c: knot slopes of each interpolation type, computed with the same
- * formulas as GSL's types (checked against GSL by tests/test_slopes.c). */
+ * formulas as GSL's types (checked against GSL by tests/test_core.c). */
 size_t trail_interp_min_size(int interp);
 int trail_interp_effective(int interp, size_t n);
+/* Interpolation type across [Fe/H]: the grid's, or simpler with few groups. */
+static inline int trail_z_type(const hrt_grid *g) { return trail_interp_effective(g->interp, g->n_z); }
 int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *gsl_interp_obj);
 void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d);
 void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4]);
@@ -118,9 +137,14 @@ void trail_hermite_weights(int interp, double x0, double x1, double x, double w[
 int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err);
 void trail_grid_free_contents(hrt_grid *g);
 
-/* eval.c */
+/* eval.c: query contexts */
 int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err);
+int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err);
+void trail_qctx_copy_z(qctx *dst, const qctx *src);
 int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int route, double log_mass, mctx *m);
+void trail_interval_weights(const hrt_grid *g, mctx *m, double log_mass);
+
+/* eval.c: values, phases, remnants and states from a context */
 double trail_q_value(const qctx *q, int quantity, int j);
 void trail_q_values(const qctx *q, int j, double v[NQS]);
 int trail_q_phase(const qctx *q, int j);
@@ -139,6 +163,7 @@ typedef struct trail_track_arrays {
 /* State at age_yr from the stored track S, or from the grid when S is NULL. */
 int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
                          hrt_state *s);
+/* remnant.c */
 void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr);
 
 /* Value (p[0]) and slope (p[1]) of quantity q at EEP j, track i; the next

@@ -1,12 +1,37 @@
-/* Evaluation: interpolation across initial mass and [Fe/H] at fixed EEP,
- * then across age between two EEPs; the batch entry point hrt_eval. */
+/* Evaluation, the hot path, in one translation unit so that the compiler
+ * can inline the whole chain: query contexts (the mass context of one group,
+ * the context of a (mass, Z) with its stencil of groups across [Fe/H]),
+ * values across log mass and [Fe/H] at one EEP, phases and remnants, the
+ * EEP search in age, the state at an age, and the batch entry point
+ * hrt_eval. */
 #include <math.h>
 #include <string.h>
 
 #include "core/core.h"
 
+/* Weights of the interval m->i at log mass x: the grid's type for every
+ * quantity, and for log age the blend lambda * (type) + (1 - lambda) *
+ * (linear) that keeps ages increasing along the EEPs (grid_prep.c). */
+static inline void interval_weights(const hrt_grid *g, mctx *m, double x)
+{
+    const double *lm = m->gp->logm;
+    size_t i = m->i;
+    trail_hermite_weights(g->interp, lm[i], lm[i + 1], x, m->w);
+    double lam = m->gp->age_lambda[i];
+    if (lam < 1.0) {
+        double wl[4];
+        trail_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
+        for (int c = 0; c < 4; c++)
+            m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
+    } else {
+        memcpy(m->wa, m->w, sizeof m->w);
+    }
+}
+
 /* Mass context of one group for route r at log mass x. */
-int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
+void trail_interval_weights(const hrt_grid *g, mctx *m, double x) { interval_weights(g, m, x); }
+
+static inline int mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
 {
     size_t lo = gp->route_lo[r], hi = gp->route_hi[r];
     m->gp = gp;
@@ -46,16 +71,7 @@ int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m
     }
     m->i = a;
     m->interior = 1;
-    trail_hermite_weights(g->interp, lm[a], lm[a + 1], x, m->w);
-    double lam = gp->age_lambda[a];
-    if (lam < 1.0) {
-        double wl[4];
-        trail_hermite_weights(HRT_INTERP_LINEAR, lm[a], lm[a + 1], x, wl);
-        for (int c = 0; c < 4; c++)
-            m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
-    } else {
-        memcpy(m->wa, m->w, sizeof m->w);
-    }
+    interval_weights(g, m, x);
     m->near = (x - lm[a] <= lm[a + 1] - x) ? a : a + 1;
     if (x == lm[a])
         m->n_eep = gp->n_eep[a];
@@ -64,102 +80,53 @@ int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m
     return HRT_OK;
 }
 
-static int z_type(const hrt_grid *g) { return trail_interp_effective(g->interp, g->n_z); }
+int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m) { return mass_ctx(g, gp, r, x, m); }
 
-/* The metallicity part of a query context: bracketing groups and weights
- * across [Fe/H].  It does not depend on the mass, so a batch at one Z
- * computes it once. */
-static int qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err)
+/* The metallicity part of a query context: placement (place.c) and the
+ * weights across [Fe/H].  It does not depend on the mass, so a batch at one
+ * Z computes it once. */
+int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err)
 {
     q->g = g;
     q->z = z;
-    if (!isfinite(z) || z <= 0.0)
-        return trail_set_error(err, HRT_E_DOMAIN, "metallicity Z = %g is not a positive finite number", z);
-    size_t nz = g->n_z;
-    double zlo = g->grp[0].z, zhi = g->grp[nz - 1].z;
-    if (z < zlo * (1.0 - 1e-12) || z > zhi * (1.0 + 1e-12))
-        return trail_set_error(err, HRT_E_Z_RANGE, "metallicity Z = %g is outside the grid's %g .. %g", z, zlo, zhi);
-    /* Bracketing groups, or the one group of this metallicity. */
-    size_t g0 = 0;
-    q->single = 0;
-    for (size_t k = 0; k < nz; k++) {
-        if (fabs(z - g->grp[k].z) <= 1e-12 * g->grp[k].z) {
-            g0 = k;
-            q->single = 1;
-            break;
-        }
-        if (g->grp[k].z < z)
-            g0 = k;
+    int rc = trail_place_z(g, z, &q->zp, err);
+    if (rc == HRT_OK && !q->zp.single) {
+        size_t g0 = q->zp.g0;
+        trail_hermite_weights(trail_z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->zp.feh, q->zw);
     }
-    if (!q->single && g0 + 1 >= nz)
-        g0 = nz - 2;
-    q->g0 = g0;
-    if (q->single) {
-        q->feh = g->grp[g0].feh;
-        q->tz = 0.0;
-        q->hz = 1.0;
-        q->g_near = g0;
-    } else {
-        q->feh = trail_log10(z / g->z_ref);
-        q->hz = g->grp[g0 + 1].feh - g->grp[g0].feh;
-        q->tz = (q->feh - g->grp[g0].feh) / q->hz;
-        q->g_near = q->tz <= 0.5 ? g0 : g0 + 1;
-        trail_hermite_weights(z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->feh, q->zw);
-    }
-    return HRT_OK;
+    return rc;
 }
 
 /* Copy the metallicity part of one context into another. */
-static void qctx_copy_z(qctx *dst, const qctx *src)
+void trail_qctx_copy_z(qctx *dst, const qctx *src)
 {
     dst->g = src->g;
     dst->z = src->z;
-    dst->single = src->single;
-    dst->g0 = src->g0;
-    dst->feh = src->feh;
-    dst->tz = src->tz;
-    dst->hz = src->hz;
-    dst->g_near = src->g_near;
+    dst->zp = src->zp;
     memcpy(dst->zw, src->zw, sizeof dst->zw);
 }
 
 /* The mass part, after qctx_z. */
-static int qctx_mass(qctx *q, double mass, hrt_error *err)
+static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
 {
     const hrt_grid *g = q->g;
-    size_t nz = g->n_z, g0 = q->g0;
+    size_t nz = g->n_z, g0 = q->zp.g0;
     q->mass = mass;
     q->route = -1;
     q->flags = 0;
     q->n_eep = 0;
-    if (!isfinite(mass) || mass <= 0.0)
-        return trail_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
-    /* Route from the boundary masses, linear in [Fe/H] between groups. */
-    int route = 0;
-    for (size_t b = 0; b + 1 < g->n_routes; b++) {
-        double mb = g->grp[g0].boundary[b];
-        if (!q->single)
-            mb = (1.0 - q->tz) * mb + q->tz * g->grp[g0 + 1].boundary[b];
-        if (mass > mb)
-            route = (int)b + 1;
-    }
+    int route = trail_route_at(g, &q->zp, mass);
     q->route = route;
-    /* Mass inside the range of the bracketing groups. */
-    size_t gb = q->single ? g0 : g0 + 1;
-    for (size_t k = g0; k <= gb; k++) {
-        const zgroup *gp = &g->grp[k];
-        double lo = gp->mass[0], hi = gp->mass[gp->n_mass - 1];
-        if (mass < lo * (1.0 - 1e-12) || mass > hi * (1.0 + 1e-12))
-            return trail_set_error(err, HRT_E_MASS_RANGE,
-                                 "initial mass %g Msun is outside the grid's %g .. %g Msun at Z = %g", mass, lo, hi,
-                                 gp->z);
-    }
+    int rc = trail_check_mass(g, &q->zp, mass, err);
+    if (rc != HRT_OK)
+        return rc;
+    size_t gb = trail_place_last(&q->zp);
     /* Stencil of groups the type across [Fe/H] needs, shrunk to groups
      * that cover the mass. */
     size_t s_lo = g0, s_hi = gb;
-    if (!q->single) {
+    if (!q->zp.single) {
         size_t reach = 0;
-        switch (z_type(g)) {
+        switch (trail_z_type(g)) {
         case HRT_INTERP_STEFFEN:
             reach = 1;
             break;
@@ -191,7 +158,7 @@ static int qctx_mass(qctx *q, double mass, hrt_error *err)
     int ne = 1 << 30;
     for (size_t k = s_lo; k <= s_hi; k++) {
         mctx *m = &q->m[k - s_lo];
-        if (trail_mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
+        if (mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
             return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
                                  g->routes[route].name, g->grp[k].z, mass);
         if (m->n_eep < ne)
@@ -200,7 +167,7 @@ static int qctx_mass(qctx *q, double mass, hrt_error *err)
             q->flags |= HRT_FLAG_EXTRAPOLATED;
     }
     q->n_eep = ne;
-    if (!q->single)
+    if (!q->zp.single)
         for (size_t k = s_lo; k <= s_hi; k++)
             q->zx[k - s_lo] = g->grp[k].feh;
     return HRT_OK;
@@ -216,9 +183,10 @@ int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error
     q->n_eep = 0;
     if (!isfinite(mass) || mass <= 0.0)
         return trail_set_error(err, HRT_E_DOMAIN, "initial mass %g Msun is not a positive finite number", mass);
-    int rc = qctx_z(g, z, q, err);
+    int rc = trail_qctx_z(g, z, q, err);
     return rc != HRT_OK ? rc : qctx_mass(q, mass, err);
 }
+
 
 /* Value of quantity qn at EEP j in group k of the stencil (mass Hermite). */
 static inline double group_value(const qctx *q, size_t k, int qn, int j)
@@ -234,30 +202,13 @@ static inline double group_value(const qctx *q, size_t k, int qn, int j)
     return w[0] * p[0] + w[1] * p[1] + w[2] * p[2 * NQ] + w[3] * p[2 * NQ + 1];
 }
 
-/* Steffen (1990) slope at knot k of n, one-sided secants at the ends (as
- * trail_slopes_local and GSL's gsl_interp_steffen). */
-static inline double steffen_slope(const double *x, const double *y, size_t n, size_t k)
-{
-    if (k == 0)
-        return (y[1] - y[0]) / (x[1] - x[0]);
-    if (k == n - 1)
-        return (y[n - 1] - y[n - 2]) / (x[n - 1] - x[n - 2]);
-    double hi = x[k + 1] - x[k], him1 = x[k] - x[k - 1];
-    double si = (y[k + 1] - y[k]) / hi, sim1 = (y[k] - y[k - 1]) / him1;
-    double pi = (sim1 * hi + si * him1) / (him1 + hi);
-    double m = fabs(sim1) < fabs(si) ? fabs(sim1) : fabs(si);
-    if (0.5 * fabs(pi) < m)
-        m = 0.5 * fabs(pi);
-    return ((sim1 < 0.0 ? -1.0 : 1.0) + (si < 0.0 ? -1.0 : 1.0)) * m;
-}
-
 /* Slopes across [Fe/H] at the two bracketing knots a, a + 1 of the stencil
  * (a true end of the stencil is a true end of the grid's usable groups). */
 static void z_slopes(int zt, size_t n, const double *xs, const double *ys, size_t a, double *d0, double *d1)
 {
     if (zt == HRT_INTERP_STEFFEN) {
-        *d0 = steffen_slope(xs, ys, n, a);
-        *d1 = steffen_slope(xs, ys, n, a + 1);
+        *d0 = trail_steffen_slope(xs, ys, n, a);
+        *d1 = trail_steffen_slope(xs, ys, n, a + 1);
         return;
     }
     double ds[TRAIL_MAX_Z];
@@ -268,11 +219,11 @@ static void z_slopes(int zt, size_t n, const double *xs, const double *ys, size_
 
 double trail_q_value(const qctx *q, int qn, int j)
 {
-    size_t g0 = q->g0;
-    if (q->single)
+    size_t g0 = q->zp.g0;
+    if (q->zp.single)
         return group_value(q, g0, qn, j);
-    double tz = q->tz;
-    int zt = z_type(q->g);
+    double tz = q->zp.t_feh;
+    int zt = trail_z_type(q->g);
     if (qn == Q_AGE || zt == HRT_INTERP_LINEAR || q->g_hi - q->g_lo < 2) {
         /* Log age is linear in [Fe/H]: a convex blend of two increasing
          * sequences increases, so the interpolated track stays ordered. */
@@ -290,8 +241,8 @@ double trail_q_value(const qctx *q, int qn, int j)
 
 void trail_q_values(const qctx *q, int j, double v[NQS])
 {
-    if (q->single) {
-        const mctx *m = &q->m[q->g0 - q->g_lo];
+    if (q->zp.single) {
+        const mctx *m = &q->m[q->zp.g0 - q->g_lo];
         const double *p = trail_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
         for (int c = 0; c < NQS; c++)
             v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
@@ -299,24 +250,24 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
     }
     /* All quantities of a group at once: their knot data are contiguous. */
     double ys[NQS][TRAIL_MAX_Z];
-    size_t n = q->single ? 1 : q->g_hi - q->g_lo + 1;
-    size_t k0 = q->single ? q->g0 - q->g_lo : 0;
+    size_t n = q->zp.single ? 1 : q->g_hi - q->g_lo + 1;
+    size_t k0 = q->zp.single ? q->zp.g0 - q->g_lo : 0;
     for (size_t k = 0; k < n; k++) {
         const mctx *m = &q->m[k0 + k];
         const double *p = trail_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
         for (int c = 0; c < NQS; c++)
             ys[c][k] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
     }
-    if (q->single) {
+    if (q->zp.single) {
         for (int c = 0; c < NQS; c++)
             v[c] = ys[c][0];
         return;
     }
-    size_t a = q->g0 - q->g_lo;
-    int zt = z_type(q->g);
+    size_t a = q->zp.g0 - q->g_lo;
+    int zt = trail_z_type(q->g);
     if (zt == HRT_INTERP_LINEAR || n < 3) {
         for (int c = 0; c < NQS; c++)
-            v[c] = (1.0 - q->tz) * ys[c][a] + q->tz * ys[c][a + 1];
+            v[c] = (1.0 - q->zp.t_feh) * ys[c][a] + q->zp.t_feh * ys[c][a + 1];
         return;
     }
     const double *w = q->zw;
@@ -327,7 +278,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
     }
 }
 
-static const mctx *near_track(const qctx *q) { return &q->m[q->g_near - q->g_lo]; }
+static const mctx *near_track(const qctx *q) { return &q->m[q->zp.g_near - q->g_lo]; }
 
 int trail_q_phase(const qctx *q, int j)
 {
@@ -359,7 +310,7 @@ static double remnant_bounded(int kind, double m, double nearest)
 void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
 {
     const mctx *mn = near_track(q);
-    if (q->single) {
+    if (q->zp.single) {
         /* the common case: one group, two knots */
         const zgroup *gp = mn->gp;
         size_t i = mn->i;
@@ -379,9 +330,9 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
         }
         return;
     }
-    size_t gb = q->g0 + 1;
+    size_t gb = q->zp.g0 + 1;
     int k0 = mn->gp->remnant[mn->near], same = 1;
-    for (size_t k = q->g0; k <= gb; k++) {
+    for (size_t k = q->zp.g0; k <= gb; k++) {
         const mctx *m = &q->m[k - q->g_lo];
         for (int s = 0; s < 2; s++) {
             size_t t = m->i + (size_t)s;
@@ -400,12 +351,12 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
         return;
     }
     double v[2];
-    for (size_t k = q->g0; k <= gb; k++) {
+    for (size_t k = q->zp.g0; k <= gb; k++) {
         const mctx *m = &q->m[k - q->g_lo];
         const double *p = m->gp->remnant_hv + 2 * m->i;
-        v[k - q->g0] = m->w[0] * p[0] + m->w[1] * p[1] + m->w[2] * p[2] + m->w[3] * p[3];
+        v[k - q->zp.g0] = m->w[0] * p[0] + m->w[1] * p[1] + m->w[2] * p[2] + m->w[3] * p[3];
     }
-    *mass_msun = remnant_bounded(k0, q->single ? v[0] : (1.0 - q->tz) * v[0] + q->tz * v[1],
+    *mass_msun = remnant_bounded(k0, q->zp.single ? v[0] : (1.0 - q->zp.t_feh) * v[0] + q->zp.t_feh * v[1],
                                  mn->gp->remnant_hv[2 * mn->near]);
 }
 
@@ -438,54 +389,12 @@ void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1
     s->log_g_cgs = trail_log_g_from(s->mass_msun, s->log_r_rsun);
 }
 
-/* Nominal neutron-star radius, km (common practice: 11-13 km). */
-#define NS_RADIUS_KM 12.0
-
-void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr)
-{
-    s->flags |= HRT_FLAG_REMNANT;
-    s->phase_start_yr = t_last_yr;
-    s->phase_end_yr = INFINITY;
-    s->phase_fraction = NAN;
-    s->eep = NAN;
-    s->mass_msun = rem_mass;
-    switch (kind) {
-    case HRT_REMNANT_HE_WD:
-    case HRT_REMNANT_CO_WD:
-    case HRT_REMNANT_ONE_WD:
-        s->phase = HRT_PHASE_WD;
-        /* The remnant test is made on log ages; in years the age can then
-         * fall a rounding error short of t_last: cooling has not begun. */
-        s->log_l_lsun = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
-        s->log_r_rsun = trail_log10(hrt_wd_radius_rsun(rem_mass));
-        s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l_lsun - 2.0 * s->log_r_rsun);
-        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
-        s->he_core_mass_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
-        s->co_core_mass_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
-        break;
-    case HRT_REMNANT_NS:
-        s->phase = HRT_PHASE_NS;
-        s->flags |= HRT_FLAG_DARK;
-        s->log_r_rsun = trail_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
-        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
-        s->log_l_lsun = s->log_teff_k = NAN;
-        s->he_core_mass_msun = s->co_core_mass_msun = NAN;
-        break;
-    default: /* black hole */
-        s->phase = HRT_PHASE_BH;
-        s->flags |= HRT_FLAG_DARK;
-        s->log_l_lsun = s->log_teff_k = s->log_r_rsun = s->log_g_cgs = NAN;
-        s->he_core_mass_msun = s->co_core_mass_msun = NAN;
-        break;
-    }
-}
-
 /* Log age at EEP j from the grid: linear in [Fe/H] between two groups. */
 static inline double grid_age(const qctx *q, int j)
 {
-    if (q->single)
-        return group_value(q, q->g0, Q_AGE, j);
-    return (1.0 - q->tz) * group_value(q, q->g0, Q_AGE, j) + q->tz * group_value(q, q->g0 + 1, Q_AGE, j);
+    if (q->zp.single)
+        return group_value(q, q->zp.g0, Q_AGE, j);
+    return (1.0 - q->zp.t_feh) * group_value(q, q->zp.g0, Q_AGE, j) + q->zp.t_feh * group_value(q, q->zp.g0 + 1, Q_AGE, j);
 }
 
 /* Where a state's ages and values come from: a star's stored track (S
@@ -513,7 +422,7 @@ static inline void src_values(const qctx *q, const trail_track_arrays *S, int j,
  * nearest track's own log age -> EEP table. */
 static int q_hint(const qctx *q, double lt)
 {
-    const mctx *m = &q->m[q->g_near - q->g_lo];
+    const mctx *m = &q->m[q->zp.g_near - q->g_lo];
     const double *x = m->gp->age_tab_x + 2 * m->near;
     double k = (lt - x[0]) * x[1];
     if (!(k >= 0.0))
@@ -669,12 +578,12 @@ typedef struct zcache {
 static int init_star(const hrt_grid *g, double mass, double z, qctx *q, zcache *zc, hrt_error *err)
 {
     if (!(z == zc->z)) {
-        zc->rc = qctx_z(g, z, &zc->q, NULL);
+        zc->rc = trail_qctx_z(g, z, &zc->q, NULL);
         zc->z = z;
     }
     if (zc->rc != HRT_OK || !isfinite(mass) || mass <= 0.0)
         return trail_qctx_init(g, mass, z, q, err); /* the full path words the error */
-    qctx_copy_z(q, &zc->q);
+    trail_qctx_copy_z(q, &zc->q);
     return qctx_mass(q, mass, err);
 }
 
@@ -706,9 +615,9 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         int rc_nxt = HRT_OK;
         if (i + 1 < n) {
             rc_nxt = init_star(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
-            if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->single) {
+            if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->zp.single) {
                 int j = q_hint(nxt, trail_log10(age_yr[i + 1]));
-                const mctx *m = &nxt->m[nxt->g0 - nxt->g_lo];
+                const mctx *m = &nxt->m[nxt->zp.g0 - nxt->g_lo];
                 if (j >= 0 && j + 1 < nxt->n_eep) {
                     const char *p0 = (const char *)trail_hv(m->gp, (size_t)j, m->i, 0);
                     const char *p1 = (const char *)trail_hv(m->gp, (size_t)j + 1, m->i, 0);

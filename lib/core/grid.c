@@ -130,7 +130,8 @@ long hrt_grid_keypoint_eep(const hrt_grid *g, size_t r, size_t k)
 
 double hrt_grid_route_boundary(const hrt_grid *g, size_t iz, size_t b)
 {
-    return (g && iz < g->n_z && b + 1 < g->n_routes) ? g->grp[iz].boundary[b] : NAN;
+    /* b + 1 < n_routes would wrap for b = SIZE_MAX */
+    return (g && iz < g->n_z && g->n_routes > 1 && b <= g->n_routes - 2) ? g->grp[iz].boundary[b] : NAN;
 }
 
 const char *hrt_grid_attribute(const hrt_grid *g, const char *name)
@@ -143,61 +144,3 @@ const char *hrt_grid_attribute(const hrt_grid *g, const char *name)
     return NULL;
 }
 
-int hrt_grid_z_range(const hrt_grid *g, double *lo, double *hi)
-{
-    if (!g || !lo || !hi)
-        return HRT_E_NULL;
-    *lo = g->grp[0].z;
-    *hi = g->grp[g->n_z - 1].z;
-    return HRT_OK;
-}
-
-/* Metallicity must lie inside the grid (a hair of rounding allowed at the ends). */
-static int check_z(const hrt_grid *g, double z)
-{
-    if (!isfinite(z) || z <= 0.0)
-        return HRT_E_DOMAIN;
-    double lo = g->grp[0].z, hi = g->grp[g->n_z - 1].z;
-    if (z < lo * (1.0 - 1e-12) || z > hi * (1.0 + 1e-12))
-        return HRT_E_Z_RANGE;
-    return HRT_OK;
-}
-
-int hrt_grid_mass_range(const hrt_grid *g, double z, double *lo_msun, double *hi_msun)
-{
-    if (!g || !lo_msun || !hi_msun)
-        return HRT_E_NULL;
-    int rc = check_z(g, z);
-    if (rc != HRT_OK)
-        return rc;
-    /* The range every group bracketing z covers. */
-    double lo = 0.0, hi = INFINITY;
-    for (size_t iz = 0; iz < g->n_z; iz++) {
-        const zgroup *gp = &g->grp[iz];
-        int used = (gp->z == z) || (iz + 1 < g->n_z && gp->z < z && g->grp[iz + 1].z > z) ||
-                   (iz > 0 && g->grp[iz - 1].z < z && gp->z > z);
-        if (g->n_z == 1)
-            used = 1;
-        if (!used)
-            continue;
-        if (gp->mass[0] > lo)
-            lo = gp->mass[0];
-        if (gp->mass[gp->n_mass - 1] < hi)
-            hi = gp->mass[gp->n_mass - 1];
-    }
-    *lo_msun = lo;
-    *hi_msun = hi;
-    return HRT_OK;
-}
-
-int hrt_grid_route_of(const hrt_grid *g, double mass_msun, double z, int *route)
-{
-    if (!g || !route)
-        return HRT_E_NULL;
-    qctx q;
-    int rc = trail_qctx_init(g, mass_msun, z, &q, NULL);
-    if (rc != HRT_OK && rc != HRT_E_NO_TRACK)
-        return rc;
-    *route = q.route;
-    return HRT_OK;
-}

@@ -13,26 +13,13 @@
  * (as trail_mass_ctx would). */
 static double age_at_mass(qctx *q, int r, double x, int j)
 {
-    size_t gb = q->single ? q->g0 : q->g0 + 1;
-    for (size_t k = q->g0; k <= gb; k++) {
+    for (size_t k = q->zp.g0; k <= trail_place_last(&q->zp); k++) {
         mctx *m = &q->m[k - q->g_lo];
-        const zgroup *gp = m->gp;
-        const double *lm = gp->logm;
-        size_t i = m->i;
-        if (m->interior && x > lm[i] && x < lm[i + 1]) {
-            trail_hermite_weights(q->g->interp, lm[i], lm[i + 1], x, m->w);
-            double lam = gp->age_lambda[i];
-            if (lam < 1.0) {
-                double wl[4];
-                trail_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
-                for (int c = 0; c < 4; c++)
-                    m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
-            } else {
-                memcpy(m->wa, m->w, sizeof m->w);
-            }
-        } else {
+        const double *lm = m->gp->logm;
+        if (m->interior && x > lm[m->i] && x < lm[m->i + 1])
+            trail_interval_weights(q->g, m, x);
+        else
             trail_mass_ctx(q->g, &q->g->grp[k], r, x, m);
-        }
     }
     return trail_q_value(q, Q_AGE, j);
 }
@@ -77,10 +64,12 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
     *n_out = 0;
     if (!isfinite(age_yr) || age_yr <= 0.0)
         return trail_set_error(err, HRT_E_DOMAIN, "hrt_isochrone: age %g yr is not positive and finite", age_yr);
+    trail_zplace zp = {0};
     double mlo, mhi;
-    int rc = hrt_grid_mass_range(g, z, &mlo, &mhi);
+    int rc = trail_place_z(g, z, &zp, err);
     if (rc != HRT_OK)
-        return trail_set_error(err, rc, "hrt_isochrone: Z = %g: %s", z, hrt_strerror(rc));
+        return rc;
+    trail_mass_span(g, &zp, &mlo, &mhi);
     double lt = trail_log10(age_yr);
     size_t maxk = 4;
     for (size_t iz = 0; iz < g->n_z; iz++)
@@ -100,15 +89,10 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
     rc = HRT_OK;
     for (size_t r = 0; r < g->n_routes && rc == HRT_OK; r++) {
         /* The route's mass zone at this Z, and the knots inside it. */
-        qctx q0;
-        if (trail_qctx_init(g, mlo, z, &q0, NULL) != HRT_OK && q0.route < 0)
-            continue;
         double lo = mlo, hi = mhi;
-        size_t gb = q0.single ? q0.g0 : q0.g0 + 1;
+        size_t gb = trail_place_last(&zp);
         for (size_t b = 0; b + 1 < g->n_routes; b++) {
-            double mb = g->grp[q0.g0].boundary[b];
-            if (!q0.single)
-                mb = (1.0 - q0.tz) * mb + q0.tz * g->grp[q0.g0 + 1].boundary[b];
+            double mb = trail_boundary_at(g, &zp, b);
             if (b + 1 == r && mb > lo)
                 lo = mb * (1.0 + 1e-9);
             if (b == r && mb < hi)
@@ -119,7 +103,7 @@ int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, si
         size_t nk = 0;
         knots[nk++] = trail_log10(lo);
         knots[nk++] = trail_log10(hi);
-        for (size_t k = q0.g0; k <= gb; k++) {
+        for (size_t k = zp.g0; k <= gb; k++) {
             const zgroup *gp = &g->grp[k];
             for (size_t i = gp->route_lo[r]; i < gp->route_hi[r]; i++)
                 if (gp->mass[i] > lo && gp->mass[i] < hi)

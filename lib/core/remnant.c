@@ -1,5 +1,8 @@
-/* Analytic remnants: white dwarf mass-radius relation and Mestel cooling. */
+/* Analytic remnants: the white dwarf mass-radius relation, Mestel cooling,
+ * the core-collapse remnant rule, and the state of a remnant past a
+ * track's last EEP. */
 #include <math.h>
+#include <string.h>
 
 #include "core/core.h"
 
@@ -79,3 +82,46 @@ double hrt_wd_log_l(double m, int kind, double log_l0, double dt_yr)
     double x = pow(10.0, -5.0 / 7.0 * log_l0) + dt_yr / c;
     return -7.0 / 5.0 * trail_log10(x);
 }
+
+/* Nominal neutron-star radius, km (common practice: 11-13 km). */
+#define NS_RADIUS_KM 12.0
+
+void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr)
+{
+    s->flags |= HRT_FLAG_REMNANT;
+    s->phase_start_yr = t_last_yr;
+    s->phase_end_yr = INFINITY;
+    s->phase_fraction = NAN;
+    s->eep = NAN;
+    s->mass_msun = rem_mass;
+    switch (kind) {
+    case HRT_REMNANT_HE_WD:
+    case HRT_REMNANT_CO_WD:
+    case HRT_REMNANT_ONE_WD:
+        s->phase = HRT_PHASE_WD;
+        /* The remnant test is made on log ages; in years the age can then
+         * fall a rounding error short of t_last: cooling has not begun. */
+        s->log_l_lsun = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
+        s->log_r_rsun = trail_log10(hrt_wd_radius_rsun(rem_mass));
+        s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l_lsun - 2.0 * s->log_r_rsun);
+        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
+        s->he_core_mass_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
+        s->co_core_mass_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
+        break;
+    case HRT_REMNANT_NS:
+        s->phase = HRT_PHASE_NS;
+        s->flags |= HRT_FLAG_DARK;
+        s->log_r_rsun = trail_log10(NS_RADIUS_KM * 1e3 / HRT_RSUN_M);
+        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
+        s->log_l_lsun = s->log_teff_k = NAN;
+        s->he_core_mass_msun = s->co_core_mass_msun = NAN;
+        break;
+    default: /* black hole */
+        s->phase = HRT_PHASE_BH;
+        s->flags |= HRT_FLAG_DARK;
+        s->log_l_lsun = s->log_teff_k = s->log_r_rsun = s->log_g_cgs = NAN;
+        s->he_core_mass_msun = s->co_core_mass_msun = NAN;
+        break;
+    }
+}
+

@@ -43,23 +43,11 @@ int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void
     return HRT_OK;
 }
 
-static double steffen_sign(double x) { return x < 0.0 ? -1.0 : 1.0; }
-
-/* Steffen 1990 (A&A 239, 443), eq. 11, with one-sided secant end slopes
- * (as GSL's gsl_interp_steffen). */
+/* Steffen 1990 at every knot (trail_steffen_slope, core.h). */
 static void slopes_steffen(size_t n, const double *x, const double *y, double *d)
 {
-    d[0] = (y[1] - y[0]) / (x[1] - x[0]);
-    for (size_t i = 1; i + 1 < n; i++) {
-        double hi = x[i + 1] - x[i], him1 = x[i] - x[i - 1];
-        double si = (y[i + 1] - y[i]) / hi, sim1 = (y[i] - y[i - 1]) / him1;
-        double pi = (sim1 * hi + si * him1) / (him1 + hi);
-        double m = fabs(sim1) < fabs(si) ? fabs(sim1) : fabs(si);
-        if (0.5 * fabs(pi) < m)
-            m = 0.5 * fabs(pi);
-        d[i] = (steffen_sign(sim1) + steffen_sign(si)) * m;
-    }
-    d[n - 1] = (y[n - 1] - y[n - 2]) / (x[n - 1] - x[n - 2]);
+    for (size_t i = 0; i < n; i++)
+        d[i] = trail_steffen_slope(x, y, n, i);
 }
 
 /* Akima 1970 (J. ACM 17, 589) with the two extra secants at each end of
