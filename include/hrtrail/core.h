@@ -368,7 +368,12 @@ HRT_API const char *hrt_grid_attribute(const hrt_grid *g, const char *name);
 HRT_API size_t hrt_grid_memory_bytes(const hrt_grid *g);
 
 /**
- * @brief Range of initial masses (Msun) covered at metallicity z.
+ * @brief Range of initial masses (Msun) covered at metallicity z: the
+ * masses every metallicity group used at z (the one of this Z, or the two
+ * bracketing it) covers.  hrt_eval, hrt_star_new and hrt_isochrone accept
+ * exactly these masses and metallicities; a value within 1e-12 (relative)
+ * outside an edge is taken as on the edge (rounding of unit conversions),
+ * one farther out is refused.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN, HRT_E_Z_RANGE.
  */
 HRT_API int hrt_grid_mass_range(const hrt_grid *g, double z, double *lo_msun, double *hi_msun);
@@ -381,6 +386,15 @@ HRT_API int hrt_grid_z_range(const hrt_grid *g, double *lo, double *hi);
  * HRT_E_MASS_RANGE, HRT_E_Z_RANGE.
  */
 HRT_API int hrt_grid_route_of(const hrt_grid *g, double mass_msun, double z, int *route);
+/**
+ * @brief Route-boundary mass b (Msun) at metallicity z: the initial mass
+ * above which stars follow route b + 1, linear in [Fe/H] between the
+ * boundary masses of the two groups bracketing z (the rule hrt_eval and
+ * hrt_grid_route_of use).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (b is not in
+ * 0 .. n_routes - 2), HRT_E_DOMAIN, HRT_E_Z_RANGE.
+ */
+HRT_API int hrt_grid_boundary_at(const hrt_grid *g, double z, size_t b, double *mass_msun);
 
 /* ------------------------------------------------------------------------
  * Batch evaluation: the fast path for population synthesis
