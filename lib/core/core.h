@@ -36,13 +36,13 @@ typedef struct zgroup {
     int *route;            /* [n_mass] */
     int *n_eep;            /* [n_mass] valid EEPs */
     int *remnant;          /* [n_mass] hrt_remnant */
-    double *remnant_hv;    /* [n_mass + 1][2] remnant mass value and slope across log mass */
+    double *remnant_knots;    /* [n_mass + 1][2] remnant mass value and slope across log mass */
     double *boundary;      /* [n_routes - 1] route-boundary masses, Msun */
     size_t route_lo[TRAIL_MAX_ROUTES], route_hi[TRAIL_MAX_ROUTES]; /* tracks [lo, hi) of each route */
     /* [n_eep_max][n_mass + 1][NQ][2]: value and slope across log mass of
      * every quantity at each knot; one query reads the 2 x NQ x 2 contiguous
-     * doubles of its interval at each EEP it touches.  See trail_hv(). */
-    double *hv;
+     * doubles of its interval at each EEP it touches.  See trail_knot(). */
+    double *knots;
     int8_t *phase;         /* [n_mass][n_eep_max] hrt_phase of the interval from EEP j */
     int32_t *runs;         /* [n_mass][n_eep_max][2] first EEP of the phase run containing j,
                             * first EEP after it */
@@ -56,7 +56,7 @@ typedef struct zgroup {
     /* [n_mass][n_eep_max][4]: log age value and slope of track i and of
      * track i + 1 at each EEP, contiguous along EEPs, so that the age search
      * of a star between them walks through neighbouring memory. */
-    double *age_iv;
+    double *age_interval;
     double *age_dx_max;    /* [n_mass][2] largest log-mass step below / above a track for which
                             * extrapolated log age stays increasing in EEP */
 } zgroup;
@@ -131,6 +131,10 @@ int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void
 void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d);
 void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4]);
 
+/* grid_read.c: trail_file_read, with the code for a file that does not
+ * exist (HRT_E_NOT_FOUND for the default grid, else HRT_E_IO). */
+int trail_file_read_code(const char *path, int oldest, int missing_code, trail_file *f, hrt_error *err);
+
 /* grid_prep.c */
 /* Prepare an open grid from the file as read; takes f's routes and
  * attributes (f is freed by the caller). */
@@ -168,9 +172,9 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
 
 /* Value (p[0]) and slope (p[1]) of quantity q at EEP j, track i; the next
  * track's pair is at p + 2 * NQ. */
-static inline double *trail_hv(const zgroup *gp, size_t j, size_t i, int q)
+static inline double *trail_knot(const zgroup *gp, size_t j, size_t i, int q)
 {
-    return gp->hv + ((j * (gp->n_mass + 1) + i) * NQ + (size_t)q) * 2;
+    return gp->knots + ((j * (gp->n_mass + 1) + i) * NQ + (size_t)q) * 2;
 }
 
 #endif

@@ -194,10 +194,10 @@ static inline double group_value(const qctx *q, size_t k, int qn, int j)
     const mctx *m = &q->m[k - q->g_lo];
     const zgroup *gp = m->gp;
     if (qn == Q_AGE) {
-        const double *a = gp->age_iv + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->wa;
+        const double *a = gp->age_interval + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->wa;
         return w[0] * a[0] + w[1] * a[1] + w[2] * a[2] + w[3] * a[3];
     }
-    const double *p = trail_hv(gp, (size_t)j, m->i, qn);
+    const double *p = trail_knot(gp, (size_t)j, m->i, qn);
     const double *w = m->w;
     return w[0] * p[0] + w[1] * p[1] + w[2] * p[2 * NQ] + w[3] * p[2 * NQ + 1];
 }
@@ -243,7 +243,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
 {
     if (q->zp.single) {
         const mctx *m = &q->m[q->zp.g0 - q->g_lo];
-        const double *p = trail_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w;
         for (int c = 0; c < NQS; c++)
             v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
         return;
@@ -254,7 +254,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
     size_t k0 = q->zp.single ? q->zp.g0 - q->g_lo : 0;
     for (size_t k = 0; k < n; k++) {
         const mctx *m = &q->m[k0 + k];
-        const double *p = trail_hv(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w;
         for (int c = 0; c < NQS; c++)
             ys[c][k] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
     }
@@ -322,11 +322,11 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
             *mass_msun = NAN;
         } else if ((use0 && trail_remnant_family(gp->remnant[i]) != f0) ||
                    (use1 && trail_remnant_family(gp->remnant[i + 1]) != f0)) {
-            *mass_msun = gp->remnant_hv[2 * mn->near];
+            *mass_msun = gp->remnant_knots[2 * mn->near];
         } else {
-            const double *p = gp->remnant_hv + 2 * i, *w = mn->w;
+            const double *p = gp->remnant_knots + 2 * i, *w = mn->w;
             *mass_msun = remnant_bounded(k0, w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3],
-                                         gp->remnant_hv[2 * mn->near]);
+                                         gp->remnant_knots[2 * mn->near]);
         }
         return;
     }
@@ -347,17 +347,17 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
         return;
     }
     if (!same) {
-        *mass_msun = mn->gp->remnant_hv[2 * mn->near];
+        *mass_msun = mn->gp->remnant_knots[2 * mn->near];
         return;
     }
     double v[2];
     for (size_t k = q->zp.g0; k <= gb; k++) {
         const mctx *m = &q->m[k - q->g_lo];
-        const double *p = m->gp->remnant_hv + 2 * m->i;
+        const double *p = m->gp->remnant_knots + 2 * m->i;
         v[k - q->zp.g0] = m->w[0] * p[0] + m->w[1] * p[1] + m->w[2] * p[2] + m->w[3] * p[3];
     }
     *mass_msun = remnant_bounded(k0, q->zp.single ? v[0] : (1.0 - q->zp.t_feh) * v[0] + q->zp.t_feh * v[1],
-                                 mn->gp->remnant_hv[2 * mn->near]);
+                                 mn->gp->remnant_knots[2 * mn->near]);
 }
 
 void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
@@ -619,9 +619,9 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
                 int j = q_hint(nxt, trail_log10(age_yr[i + 1]));
                 const mctx *m = &nxt->m[nxt->zp.g0 - nxt->g_lo];
                 if (j >= 0 && j + 1 < nxt->n_eep) {
-                    const char *p0 = (const char *)trail_hv(m->gp, (size_t)j, m->i, 0);
-                    const char *p1 = (const char *)trail_hv(m->gp, (size_t)j + 1, m->i, 0);
-                    const char *pa = (const char *)(m->gp->age_iv + (m->i * g->n_eep_max + (size_t)j) * 4);
+                    const char *p0 = (const char *)trail_knot(m->gp, (size_t)j, m->i, 0);
+                    const char *p1 = (const char *)trail_knot(m->gp, (size_t)j + 1, m->i, 0);
+                    const char *pa = (const char *)(m->gp->age_interval + (m->i * g->n_eep_max + (size_t)j) * 4);
                     __builtin_prefetch(pa);
                     __builtin_prefetch(pa + 64);
                     for (int k = 0; k < 4 * NQ * 8; k += 64) {

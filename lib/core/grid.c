@@ -27,23 +27,15 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
     *grid = NULL;
     if (interp < 0 || interp >= HRT_INTERP_COUNT)
         return trail_set_error(err, HRT_E_INVALID, "hrt_grid_open: unknown interpolation type %d", interp);
-    if (!path) {
+    int missing_code = path ? HRT_E_IO : HRT_E_NOT_FOUND;
+    if (!path)
         path = hrt_default_grid_path();
-        struct stat st; /* not a regular file: not opened here (a pipe would block); trail_file_read refuses it */
-        int special = stat(path, &st) == 0 && !S_ISREG(st.st_mode);
-        FILE *f = special ? NULL : fopen(path, "rb");
-        if (!special && !f)
-            return trail_set_error(err, HRT_E_NOT_FOUND,
-                                 "no default grid at '%s' (set HRTRAIL_GRID or install hrtrail's data)", path);
-        if (f)
-            fclose(f);
-    }
     hrt_grid *g = calloc(1, sizeof *g);
     if (!g)
         return trail_set_error(err, HRT_E_NOMEM, "hrt_grid_open: out of memory");
     g->interp = interp;
     trail_file f;
-    int rc = trail_file_read(path, HRT_FORMAT_VERSION, &f, err);
+    int rc = trail_file_read_code(path, HRT_FORMAT_VERSION, missing_code, &f, err);
     if (rc == HRT_OK)
         rc = trail_grid_prepare(g, &f, err);
     trail_file_free(&f);

@@ -109,19 +109,19 @@ static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp,
     gp->route = malloc(nm * sizeof(int));
     gp->n_eep = malloc(nm * sizeof(int));
     gp->remnant = malloc(nm * sizeof(int));
-    gp->remnant_hv = calloc(2 * (nm + 1), sizeof(double));
+    gp->remnant_knots = calloc(2 * (nm + 1), sizeof(double));
     gp->boundary = malloc((R > 1 ? R - 1 : 1) * sizeof(double));
-    gp->hv = calloc((size_t)NQ * J * (nm + 1) * 2, sizeof(double));
+    gp->knots = calloc((size_t)NQ * J * (nm + 1) * 2, sizeof(double));
     gp->phase = calloc(nm * J, 1);
     gp->runs = calloc(nm * J * 2, sizeof(int32_t));
     gp->age_tab = calloc(nm * TRAIL_AGE_TAB, sizeof(uint16_t));
     gp->age_tab_x = calloc(nm * 2, sizeof(double));
     gp->age_lambda = calloc(nm + 1, sizeof(double));
     gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
-    gp->age_iv = calloc(nm * J * 4, sizeof(double));
-    if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_hv || !gp->boundary ||
-        !gp->hv || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max ||
-        !gp->age_iv)
+    gp->age_interval = calloc(nm * J * 4, sizeof(double));
+    if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_knots || !gp->boundary ||
+        !gp->knots || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max ||
+        !gp->age_interval)
         return HRT_E_NOMEM;
     *bytes += (size_t)NQ * J * (nm + 1) * 2 * sizeof(double) +
               nm * J * (1 + 2 * sizeof(int32_t) + 4 * sizeof(double)) + nm * TRAIL_AGE_TAB * sizeof(uint16_t);
@@ -138,21 +138,28 @@ static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp,
     /* 0, not NaN, for a track without remnant: a query at a neighbour's
      * mass gives it weight 0, and 0 * NaN would be NaN. */
     for (size_t i = 0; i < nm; i++)
-        gp->remnant_hv[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? fg->remnant_mass[i] : 0.0;
+        gp->remnant_knots[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? fg->remnant_mass[i] : 0.0;
     static const int from_file[NQ] = {[Q_AGE] = TRAIL_F_LOG_AGE, [Q_L] = TRAIL_F_LOG_L, [Q_TEFF] = TRAIL_F_LOG_TEFF,
                                       [Q_MASS] = TRAIL_F_MASS,   [Q_HE] = TRAIL_F_HE_CORE, [Q_CO] = TRAIL_F_CO_CORE};
     for (int q = 0; q < NQ; q++)
         for (size_t i = 0; i < nm; i++)
             for (size_t j = 0; j < (size_t)gp->n_eep[i]; j++) {
                 double v = fg->q[from_file[q]][i * J + j];
-                *trail_hv(gp, j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
+                *trail_knot(gp, j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
             }
     return HRT_OK;
 }
 
-static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x, double *y, double *d)
+/* Scratch of the slope computations: one run of knots. */
+typedef struct run_buf {
+    interp_cache *cache;
+    double *x, *y, *d;
+} run_buf;
+
+/* Tracks [route_lo, route_hi) of each route. */
+static void route_ranges(const hrt_grid *g, zgroup *gp)
 {
-    size_t nm = gp->n_mass, J = g->n_eep_max;
+    size_t nm = gp->n_mass;
     for (size_t r = 0; r < g->n_routes; r++) {
         size_t lo = nm, hi = nm;
         for (size_t i = 0; i < nm; i++) {
@@ -167,36 +174,41 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
         gp->route_lo[r] = lo;
         gp->route_hi[r] = hi;
     }
-    /* Slopes across log mass at fixed EEP, over runs of consecutive tracks of
-     * one route that all reach the EEP. */
-    for (int q = 0; q < NQ; q++) {
-        for (size_t j = 0; j < J; j++) {
-            for (size_t r = 0; r < g->n_routes; r++) {
-                size_t i = gp->route_lo[r];
-                while (i < gp->route_hi[r]) {
-                    if ((size_t)gp->n_eep[i] <= j) {
-                        i++;
-                        continue;
-                    }
-                    size_t a = i;
-                    while (i < gp->route_hi[r] && (size_t)gp->n_eep[i] > j)
-                        i++;
-                    size_t n = i - a;
-                    for (size_t k = 0; k < n; k++) {
-                        x[k] = gp->logm[a + k];
-                        y[k] = trail_hv(gp, j, a + k, q)[0];
-                    }
-                    int rc = run_slopes(g->interp, cache, n, x, y, d);
-                    if (rc != HRT_OK)
-                        return rc;
-                    for (size_t k = 0; k < n; k++)
-                        trail_hv(gp, j, a + k, q)[1] = d[k];
-                }
+}
+
+/* Slopes across log mass of quantity qty at EEP j, over runs of
+ * consecutive tracks of one route that all reach the EEP. */
+static int knot_slopes_at(const hrt_grid *g, zgroup *gp, int qty, size_t j, run_buf *rb)
+{
+    for (size_t r = 0; r < g->n_routes; r++) {
+        size_t i = gp->route_lo[r];
+        while (i < gp->route_hi[r]) {
+            if ((size_t)gp->n_eep[i] <= j) {
+                i++;
+                continue;
             }
+            size_t a = i;
+            while (i < gp->route_hi[r] && (size_t)gp->n_eep[i] > j)
+                i++;
+            size_t n = i - a;
+            for (size_t k = 0; k < n; k++) {
+                rb->x[k] = gp->logm[a + k];
+                rb->y[k] = trail_knot(gp, j, a + k, qty)[0];
+            }
+            int rc = run_slopes(g->interp, rb->cache, n, rb->x, rb->y, rb->d);
+            if (rc != HRT_OK)
+                return rc;
+            for (size_t k = 0; k < n; k++)
+                trail_knot(gp, j, a + k, qty)[1] = rb->d[k];
         }
     }
-    /* Remnant masses: runs of consecutive tracks of one route with remnants
-     * of the same family. */
+    return HRT_OK;
+}
+
+/* Remnant masses: slopes over runs of consecutive tracks of one route with
+ * remnants of the same family. */
+static int remnant_slopes(const hrt_grid *g, zgroup *gp, run_buf *rb)
+{
     for (size_t r = 0; r < g->n_routes; r++) {
         size_t i = gp->route_lo[r];
         while (i < gp->route_hi[r]) {
@@ -207,101 +219,142 @@ static int prepare_group(hrt_grid *g, zgroup *gp, interp_cache *cache, double *x
                 continue;
             size_t n = i - a;
             for (size_t k = 0; k < n; k++) {
-                x[k] = gp->logm[a + k];
-                y[k] = gp->remnant_hv[2 * (a + k)];
+                rb->x[k] = gp->logm[a + k];
+                rb->y[k] = gp->remnant_knots[2 * (a + k)];
             }
-            int rc = run_slopes(g->interp, cache, n, x, y, d);
+            int rc = run_slopes(g->interp, rb->cache, n, rb->x, rb->y, rb->d);
             if (rc != HRT_OK)
                 return rc;
             for (size_t k = 0; k < n; k++)
-                gp->remnant_hv[2 * (a + k) + 1] = d[k];
+                gp->remnant_knots[2 * (a + k) + 1] = rb->d[k];
         }
     }
-    /* Age search data by interval (after the slopes). */
-    for (size_t i = 0; i < nm; i++) {
+    return HRT_OK;
+}
+
+/* Log age of tracks i and i + 1 (value, slope) contiguous along EEPs, for
+ * the age search of a star between them (after the slopes). */
+static void age_intervals(const hrt_grid *g, zgroup *gp)
+{
+    size_t J = g->n_eep_max;
+    for (size_t i = 0; i < gp->n_mass; i++) {
         for (size_t j = 0; j < J; j++) {
-            const double *p = trail_hv(gp, j, i, Q_AGE);
-            double *a = gp->age_iv + (i * J + j) * 4;
+            const double *p = trail_knot(gp, j, i, Q_AGE);
+            double *a = gp->age_interval + (i * J + j) * 4;
             a[0] = p[0];
             a[1] = p[1];
             a[2] = p[2 * NQ];
             a[3] = p[2 * NQ + 1];
         }
     }
-    /* Phase runs of each track. */
-    for (size_t i = 0; i < nm; i++) {
-        int ne = gp->n_eep[i];
-        const int8_t *ph = gp->phase + i * J;
-        int32_t *ru = gp->runs + i * J * 2;
-        int j = 0;
-        while (j < ne - 1) {
-            int a = j;
-            while (j < ne - 1 && ph[j] == ph[a])
-                j++;
-            for (int k = a; k < j; k++) {
-                ru[2 * k] = a;
-                ru[2 * k + 1] = j;
-            }
-        }
-        ru[2 * (ne - 1)] = ru[2 * (ne - 1) + 1] = ne - 1;
-        /* Log age -> EEP table: a starting point for the EEP search. */
-        const double *at = gp->age_iv + i * J * 4; /* track i's log age: at[4 * j] */
-        double a0 = at[0], per_dex = TRAIL_AGE_TAB / (at[4 * (ne - 1)] - at[0]);
-        gp->age_tab_x[2 * i] = a0;
-        gp->age_tab_x[2 * i + 1] = per_dex;
-        int e = 0;
-        for (int k = 0; k < TRAIL_AGE_TAB; k++) {
-            double lt = a0 + k / per_dex;
-            while (e + 1 < ne - 1 && at[4 * (e + 1)] <= lt)
-                e++;
-            gp->age_tab[i * TRAIL_AGE_TAB + (size_t)k] = (uint16_t)e;
+}
+
+/* Phase runs of track i: for each EEP the first EEP of its run of one
+ * phase and the first EEP after it. */
+static void phase_runs(const hrt_grid *g, zgroup *gp, size_t i)
+{
+    size_t J = g->n_eep_max;
+    int ne = gp->n_eep[i];
+    const int8_t *ph = gp->phase + i * J;
+    int32_t *ru = gp->runs + i * J * 2;
+    int j = 0;
+    while (j < ne - 1) {
+        int a = j;
+        while (j < ne - 1 && ph[j] == ph[a])
+            j++;
+        for (int k = a; k < j; k++) {
+            ru[2 * k] = a;
+            ru[2 * k + 1] = j;
         }
     }
-    /* Log age across an interval must increase with EEP for every mass
-     * inside it.  The difference of consecutive EEPs' interpolants is a
-     * cubic Hermite; blending the weights towards linear (positive, since
-     * both tracks' ages increase) scales its slopes towards the secant:
-     * keep the largest blend lambda that stays positive at every EEP. */
-    for (size_t i = 0; i + 1 < nm; i++) {
-        double lam = 1.0;
-        gp->age_lambda[i] = lam;
-        if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
+    ru[2 * (ne - 1)] = ru[2 * (ne - 1) + 1] = ne - 1;
+}
+
+/* Log age -> EEP table of track i: a starting point for the EEP search. */
+static void age_table(const hrt_grid *g, zgroup *gp, size_t i)
+{
+    size_t J = g->n_eep_max;
+    int ne = gp->n_eep[i];
+    const double *at = gp->age_interval + i * J * 4; /* track i's log age: at[4 * j] */
+    double a0 = at[0], per_dex = TRAIL_AGE_TAB / (at[4 * (ne - 1)] - at[0]);
+    gp->age_tab_x[2 * i] = a0;
+    gp->age_tab_x[2 * i + 1] = per_dex;
+    int e = 0;
+    for (int k = 0; k < TRAIL_AGE_TAB; k++) {
+        double lt = a0 + k / per_dex;
+        while (e + 1 < ne - 1 && at[4 * (e + 1)] <= lt)
+            e++;
+        gp->age_tab[i * TRAIL_AGE_TAB + (size_t)k] = (uint16_t)e;
+    }
+}
+
+/* Log age across interval (i, i + 1) must increase with EEP for every mass
+ * inside it.  The difference of consecutive EEPs' interpolants is a cubic
+ * Hermite; blending the weights towards linear (positive, since both
+ * tracks' ages increase) scales its slopes towards the secant: the largest
+ * blend lambda that stays positive at every EEP. */
+static double age_lambda(const hrt_grid *g, const zgroup *gp, size_t i)
+{
+    double lam = 1.0;
+    if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
+        return lam;
+    double h = gp->logm[i + 1] - gp->logm[i];
+    int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
+    for (int j = 0; j + 1 < ne; j++) {
+        const double *a0 = trail_knot(gp, (size_t)j, i, Q_AGE), *a1 = trail_knot(gp, (size_t)j + 1, i, Q_AGE);
+        const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
+        double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
+        double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]), sec = p1 - p0;
+        if (hermite_positive(p0, p1, lam * s0 + (1.0 - lam) * sec, lam * s1 + (1.0 - lam) * sec))
             continue;
-        double h = gp->logm[i + 1] - gp->logm[i];
-        int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
-        for (int j = 0; j + 1 < ne; j++) {
-            const double *a0 = trail_hv(gp, (size_t)j, i, Q_AGE), *a1 = trail_hv(gp, (size_t)j + 1, i, Q_AGE);
-            const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
-            double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
-            double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]), sec = p1 - p0;
-            if (hermite_positive(p0, p1, lam * s0 + (1.0 - lam) * sec, lam * s1 + (1.0 - lam) * sec))
-                continue;
-            double lo = 0.0, hi = lam; /* positive at lo, not at hi */
-            for (int it = 0; it < 40; it++) {
-                double mid = 0.5 * (lo + hi);
-                if (hermite_positive(p0, p1, mid * s0 + (1.0 - mid) * sec, mid * s1 + (1.0 - mid) * sec))
-                    lo = mid;
-                else
-                    hi = mid;
-            }
-            lam = lo;
+        double lo = 0.0, hi = lam; /* positive at lo, not at hi */
+        for (int it = 0; it < 40; it++) {
+            double mid = 0.5 * (lo + hi);
+            if (hermite_positive(p0, p1, mid * s0 + (1.0 - mid) * sec, mid * s1 + (1.0 - mid) * sec))
+                lo = mid;
+            else
+                hi = mid;
         }
-        gp->age_lambda[i] = lam;
+        lam = lo;
     }
-    /* Extrapolation beyond a route's end track: y_j + d_j dx must keep
-     * increasing with j; keep |dx| at half the largest step that does. */
-    for (size_t i = 0; i < nm; i++) {
-        double up = INFINITY, dn = INFINITY;
-        for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
-            const double *a0 = trail_hv(gp, (size_t)j, i, Q_AGE), *a1 = trail_hv(gp, (size_t)j + 1, i, Q_AGE);
-            double dy = a1[0] - a0[0], dd = a1[1] - a0[1];
-            if (dd < 0.0 && dy / -dd < up)
-                up = dy / -dd;
-            if (dd > 0.0 && dy / dd < dn)
-                dn = dy / dd;
+    return lam;
+}
+
+/* Extrapolation beyond a route's end track i: y_j + d_j dx must keep
+ * increasing with j; |dx| is kept to half the largest step that does. */
+static void extrapolation_limits(zgroup *gp, size_t i)
+{
+    double up = INFINITY, dn = INFINITY;
+    for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
+        const double *a0 = trail_knot(gp, (size_t)j, i, Q_AGE), *a1 = trail_knot(gp, (size_t)j + 1, i, Q_AGE);
+        double dy = a1[0] - a0[0], dd = a1[1] - a0[1];
+        if (dd < 0.0 && dy / -dd < up)
+            up = dy / -dd;
+        if (dd > 0.0 && dy / dd < dn)
+            dn = dy / dd;
+    }
+    gp->age_dx_max[2 * i] = 0.5 * dn;
+    gp->age_dx_max[2 * i + 1] = 0.5 * up;
+}
+
+static int prepare_group(const hrt_grid *g, zgroup *gp, run_buf *rb)
+{
+    route_ranges(g, gp);
+    for (int qty = 0; qty < NQ; qty++)
+        for (size_t j = 0; j < g->n_eep_max; j++) {
+            int rc = knot_slopes_at(g, gp, qty, j, rb);
+            if (rc != HRT_OK)
+                return rc;
         }
-        gp->age_dx_max[2 * i] = 0.5 * dn;
-        gp->age_dx_max[2 * i + 1] = 0.5 * up;
+    int rc = remnant_slopes(g, gp, rb);
+    if (rc != HRT_OK)
+        return rc;
+    age_intervals(g, gp);
+    for (size_t i = 0; i < gp->n_mass; i++) {
+        phase_runs(g, gp, i);
+        age_table(g, gp, i);
+        extrapolation_limits(gp, i);
+        gp->age_lambda[i] = i + 1 < gp->n_mass ? age_lambda(g, gp, i) : 1.0;
     }
     return HRT_OK;
 }
@@ -343,7 +396,8 @@ int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
     cache.cap = maxn;
     int rc = HRT_OK;
     for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++) {
-        rc = prepare_group(g, &g->grp[iz], &cache, x, x + maxn + 1, x + 2 * (maxn + 1));
+        run_buf rb = {&cache, x, x + maxn + 1, x + 2 * (maxn + 1)};
+        rc = prepare_group(g, &g->grp[iz], &rb);
         if (rc != HRT_OK)
             trail_set_error(err, rc, "metallicity/%zu: cannot compute spline slopes (%s)", iz, hrt_strerror(rc));
     }
@@ -361,16 +415,16 @@ void trail_grid_free_contents(hrt_grid *g)
         free(gp->route);
         free(gp->n_eep);
         free(gp->remnant);
-        free(gp->remnant_hv);
+        free(gp->remnant_knots);
         free(gp->boundary);
-        free(gp->hv);
+        free(gp->knots);
         free(gp->phase);
         free(gp->runs);
         free(gp->age_tab);
         free(gp->age_tab_x);
         free(gp->age_lambda);
         free(gp->age_dx_max);
-        free(gp->age_iv);
+        free(gp->age_interval);
     }
     free(g->grp);
     for (size_t r = 0; r < g->n_routes; r++) {

@@ -9,257 +9,15 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <errno.h>
+#include <fcntl.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include <hdf5.h>
 
-#include "util/schema.h"
-#include "util/util.h"
-
-static void free_strings(char **s, size_t n)
-{
-    if (!s)
-        return;
-    for (size_t i = 0; i < n; i++)
-        free(s[i]);
-    free(s);
-}
-
-/* Read n strings of file type ftype from an attribute or dataset. */
-static int read_strings_raw(hid_t obj, int is_attr, hid_t ftype, hid_t space, size_t n, char ***out,
-                            const char *what, hrt_error *err)
-{
-    int rc = HRT_OK;
-    char **res = calloc(n ? n : 1, sizeof *res);
-    hid_t mtype = H5Tcopy(H5T_C_S1);
-    if (!res || mtype < 0) {
-        free(res);
-        if (mtype >= 0)
-            H5Tclose(mtype);
-        return trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
-    }
-    H5Tset_cset(mtype, H5Tget_cset(ftype));
-    htri_t vl = H5Tis_variable_str(ftype);
-    if (vl > 0) {
-        char **buf = calloc(n ? n : 1, sizeof *buf);
-        herr_t st = -1;
-        if (buf) {
-            H5Tset_size(mtype, H5T_VARIABLE);
-            st = is_attr ? H5Aread(obj, mtype, buf) : H5Dread(obj, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf);
-        }
-        if (!buf) {
-            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
-        } else if (st < 0) {
-            rc = trail_set_error(err, HRT_E_FORMAT, "%s: cannot read strings", what);
-        } else {
-            for (size_t i = 0; i < n && rc == HRT_OK; i++) {
-                res[i] = trail_strdup(buf[i] ? buf[i] : "");
-                if (!res[i])
-                    rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
-            }
-#if H5_VERSION_GE(1, 12, 0)
-            H5Treclaim(mtype, space, H5P_DEFAULT, buf);
-#else
-            H5Dvlen_reclaim(mtype, space, H5P_DEFAULT, buf);
-#endif
-        }
-        free(buf);
-    } else if (vl == 0) {
-        size_t sz = H5Tget_size(ftype);
-        char *buf = (sz > 0 && sz < 65536) ? calloc(n ? n : 1, sz + 1) : NULL;
-        if (!buf) {
-            rc = trail_set_error(err, sz == 0 || sz >= 65536 ? HRT_E_FORMAT : HRT_E_NOMEM,
-                               "%s: unusable string size %zu", what, sz);
-        } else {
-            H5Tset_size(mtype, sz + 1);
-            H5Tset_strpad(mtype, H5T_STR_NULLTERM);
-            herr_t st = is_attr ? H5Aread(obj, mtype, buf) : H5Dread(obj, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf);
-            if (st < 0)
-                rc = trail_set_error(err, HRT_E_FORMAT, "%s: cannot read strings", what);
-            for (size_t i = 0; i < n && rc == HRT_OK; i++) {
-                buf[i * (sz + 1) + sz] = '\0';
-                res[i] = trail_strdup(buf + i * (sz + 1));
-                if (!res[i])
-                    rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", what);
-            }
-            free(buf);
-        }
-    } else {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s: cannot inspect string type", what);
-    }
-    H5Tclose(mtype);
-    if (rc != HRT_OK) {
-        free_strings(res, n);
-        return rc;
-    }
-    *out = res;
-    return HRT_OK;
-}
-
-static hssize_t space_points(hid_t space, int *rank)
-{
-    *rank = H5Sget_simple_extent_ndims(space);
-    return H5Sget_simple_extent_npoints(space);
-}
-
-/* An attribute opened with its type and space; the caller checks them and
- * calls close_attr.  `what` receives the description used in messages. */
-typedef struct attr_handle {
-    hid_t a, t, s;
-    char what[160];
-} attr_handle;
-
-static int open_attr(hid_t loc, const char *name, const char *where, attr_handle *h, hrt_error *err)
-{
-    snprintf(h->what, sizeof h->what, "%s attribute '%s'", where, name);
-    if (H5Aexists(loc, name) <= 0)
-        return trail_set_error(err, HRT_E_FORMAT, "%s is missing", h->what);
-    h->a = H5Aopen(loc, name, H5P_DEFAULT);
-    if (h->a < 0)
-        return trail_set_error(err, HRT_E_FORMAT, "%s cannot be opened", h->what);
-    h->t = H5Aget_type(h->a);
-    h->s = H5Aget_space(h->a);
-    return HRT_OK;
-}
-
-static void close_attr(attr_handle *h)
-{
-    if (h->t >= 0)
-        H5Tclose(h->t);
-    if (h->s >= 0)
-        H5Sclose(h->s);
-    H5Aclose(h->a);
-}
-
-static int read_attr_text(hid_t loc, const char *name, const char *where, char **out, hrt_error *err)
-{
-    attr_handle h;
-    int rc = open_attr(loc, name, where, &h, err), rank;
-    if (rc != HRT_OK)
-        return rc;
-    if (h.t < 0 || h.s < 0 || H5Tget_class(h.t) != H5T_STRING) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s is not text", h.what);
-    } else if (space_points(h.s, &rank) != 1) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s must be a single string", h.what);
-    } else {
-        char **v = NULL;
-        rc = read_strings_raw(h.a, 1, h.t, h.s, 1, &v, h.what, err);
-        if (rc == HRT_OK) {
-            *out = v[0];
-            free(v);
-        }
-    }
-    close_attr(&h);
-    return rc;
-}
-
-static int read_attr_number(hid_t loc, const char *name, const char *where, int want_int, double *out,
-                            hrt_error *err)
-{
-    attr_handle h;
-    int rc = open_attr(loc, name, where, &h, err), rank;
-    if (rc != HRT_OK)
-        return rc;
-    H5T_class_t cls = h.t >= 0 ? H5Tget_class(h.t) : H5T_NO_CLASS;
-    if (cls != H5T_INTEGER && (want_int || cls != H5T_FLOAT)) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s must be %s", h.what, want_int ? "an integer" : "a number");
-    } else if (h.s < 0 || space_points(h.s, &rank) != 1) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s must be a single value", h.what);
-    } else if (H5Aread(h.a, H5T_NATIVE_DOUBLE, out) < 0) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s cannot be read", h.what);
-    }
-    close_attr(&h);
-    return rc;
-}
-
-/* Open dataset `name` under loc and check its rank and shape; dims[k] == 0
- * means "any" and receives the size found. */
-static int open_dataset(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims,
-                        H5T_class_t *cls, hid_t *out, hrt_error *err)
-{
-    if (H5Lexists(loc, name, H5P_DEFAULT) <= 0)
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: dataset is missing", where, name);
-    hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
-    if (d < 0)
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: not a dataset", where, name);
-    hid_t s = H5Dget_space(d), t = H5Dget_type(d);
-    int rc = HRT_OK;
-    hsize_t found[8] = {0};
-    int r = s >= 0 ? H5Sget_simple_extent_ndims(s) : -1;
-    if (r != rank) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: expected %d dimension%s, found %d", where, name, rank,
-                           rank == 1 ? "" : "s", r);
-    } else {
-        H5Sget_simple_extent_dims(s, found, NULL);
-        for (int k = 0; k < rank && rc == HRT_OK; k++) {
-            if (dims[k] == 0)
-                dims[k] = found[k];
-            else if (found[k] != dims[k])
-                rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: dimension %d is %llu, expected %llu", where, name,
-                                   k, (unsigned long long)found[k], (unsigned long long)dims[k]);
-        }
-    }
-    *cls = t >= 0 ? H5Tget_class(t) : H5T_NO_CLASS;
-    if (t >= 0)
-        H5Tclose(t);
-    if (s >= 0)
-        H5Sclose(s);
-    if (rc != HRT_OK) {
-        H5Dclose(d);
-        return rc;
-    }
-    *out = d;
-    return HRT_OK;
-}
-
-/* Read a numeric dataset of the given shape into buf (doubles or ints). */
-static int read_numeric(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims, int as_int,
-                        void *buf, hrt_error *err)
-{
-    hid_t d;
-    H5T_class_t cls;
-    int rc = open_dataset(loc, where, name, rank, dims, &cls, &d, err);
-    if (rc != HRT_OK)
-        return rc;
-    /* Integers where codes and counts are meant, floating point where
-     * values are: a float rounded to an integer type has lost its meaning. */
-    if (cls != (as_int ? H5T_INTEGER : H5T_FLOAT)) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: must hold %s", where, name,
-                             as_int ? "integers" : "floating-point numbers");
-    } else if (buf && H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT,
-                              buf) < 0) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read", where, name);
-    }
-    H5Dclose(d);
-    return rc;
-}
-
-static int read_string_dataset(hid_t loc, const char *where, const char *name, size_t *n, char ***out,
-                               hrt_error *err)
-{
-    hsize_t dims[1] = {0};
-    hid_t d;
-    H5T_class_t cls;
-    int rc = open_dataset(loc, where, name, 1, dims, &cls, &d, err);
-    if (rc != HRT_OK)
-        return rc;
-    char what[160];
-    snprintf(what, sizeof what, "%s/%s", where, name);
-    if (cls != H5T_STRING) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s: must hold strings", what);
-    } else if (dims[0] == 0 || dims[0] > 100000) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s: unusable length %llu", what, (unsigned long long)dims[0]);
-    } else {
-        hid_t t = H5Dget_type(d), s = H5Dget_space(d);
-        rc = read_strings_raw(d, 0, t, s, (size_t)dims[0], out, what, err);
-        H5Tclose(t);
-        H5Sclose(s);
-        if (rc == HRT_OK)
-            *n = (size_t)dims[0];
-    }
-    H5Dclose(d);
-    return rc;
-}
+#include "core/h5read.h"
+#include "core/core.h"
 
 typedef struct attr_collect {
     trail_file *f;
@@ -275,7 +33,7 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
         return 0;
     hid_t t = H5Aget_type(a), s = H5Aget_space(a);
     int rank;
-    int text = t >= 0 && H5Tget_class(t) == H5T_STRING && s >= 0 && space_points(s, &rank) == 1;
+    int text = t >= 0 && H5Tget_class(t) == H5T_STRING && s >= 0 && trail_h5_points(s, &rank) == 1;
     if (t >= 0)
         H5Tclose(t);
     if (s >= 0)
@@ -284,7 +42,7 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
     if (!text)
         return 0;
     char *value = NULL;
-    int rc = read_attr_text(loc, name, "root", &value, NULL);
+    int rc = trail_h5_attr_text(loc, name, "root", &value, NULL);
     if (rc == HRT_E_NOMEM) { /* not "unreadable": the attribute would silently vanish */
         ac->rc = rc;
         return -1;
@@ -311,7 +69,7 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
 /* Keypoint EEPs and segment sizes of one route (routes/<name>/). */
 static int read_route_layout(hid_t sub, const char *where, route_layout *L, hrt_error *err)
 {
-    int rc = read_string_dataset(sub, where, "keypoint_names", &L->n_kp, &L->kp_names, err);
+    int rc = trail_h5_strings(sub, where, "keypoint_names", &L->n_kp, &L->kp_names, err);
     if (rc == HRT_OK && L->n_kp < 2)
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_names: at least 2 keypoints needed", where);
     int *kp = NULL, *seg = NULL;
@@ -324,9 +82,9 @@ static int read_route_layout(hid_t sub, const char *where, route_layout *L, hrt_
     }
     hsize_t d1[1] = {L->n_kp}, d2[1] = {L->n_kp - 1};
     if (rc == HRT_OK)
-        rc = read_numeric(sub, where, "keypoint_eep", 1, d1, 1, kp, err);
+        rc = trail_h5_numeric(sub, where, "keypoint_eep", 1, d1, 1, kp, err);
     if (rc == HRT_OK)
-        rc = read_numeric(sub, where, "segment_samples", 1, d2, 1, seg, err);
+        rc = trail_h5_numeric(sub, where, "segment_samples", 1, d2, 1, seg, err);
     if (rc == HRT_OK && kp[0] != 0)
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_eep[0]: must be 0, found %d", where, kp[0]);
     for (size_t k = 0; k + 1 < L->n_kp && rc == HRT_OK; k++) {
@@ -359,7 +117,7 @@ static int read_routes(hid_t fh, trail_file *f, hrt_error *err)
         return trail_set_error(err, HRT_E_FORMAT, "group 'routes' is missing");
     char **names = NULL;
     size_t n = 0;
-    int rc = read_string_dataset(rg, "routes", "names", &n, &names, err);
+    int rc = trail_h5_strings(rg, "routes", "names", &n, &names, err);
     if (rc == HRT_OK && n > TRAIL_MAX_ROUTES)
         rc = trail_set_error(err, HRT_E_FORMAT, "routes/names: %zu routes, at most %d supported", n,
                              TRAIL_MAX_ROUTES);
@@ -391,7 +149,7 @@ static int read_routes(hid_t fh, trail_file *f, hrt_error *err)
             f->n_eep_max = L->n_eep;
         H5Gclose(sub);
     }
-    free_strings(names, n);
+    trail_h5_free_strings(names, n);
     H5Gclose(rg);
     return rc;
 }
@@ -412,13 +170,13 @@ static int read_code_table(hid_t fh, const char *group, const char *(*key_of)(in
         return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", group);
     char **keys = NULL;
     size_t n = 0;
-    int rc = read_string_dataset(g, group, "key", &n, &keys, err);
+    int rc = trail_h5_strings(g, group, "key", &n, &keys, err);
     int *codes = rc == HRT_OK ? malloc(n * sizeof *codes) : NULL;
     if (rc == HRT_OK && !codes)
         rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", group);
     hsize_t d[1] = {n};
     if (rc == HRT_OK)
-        rc = read_numeric(g, group, "code", 1, d, 1, codes, err);
+        rc = trail_h5_numeric(g, group, "code", 1, d, 1, codes, err);
     for (size_t i = 0; i < n && rc == HRT_OK; i++) {
         if (codes[i] < 0 || codes[i] > 255 || strcmp(key_of(codes[i]), keys[i]) != 0)
             rc = trail_set_error(err, HRT_E_FORMAT,
@@ -428,7 +186,7 @@ static int read_code_table(hid_t fh, const char *group, const char *(*key_of)(in
             map[codes[i]] = codes[i];
     }
     free(codes);
-    free_strings(keys, n);
+    trail_h5_free_strings(keys, n);
     H5Gclose(g);
     return rc;
 }
@@ -439,7 +197,7 @@ static int read_key_table_v1(hid_t fh, const char *name, int (*lookup)(const cha
 {
     char **keys = NULL;
     size_t n = 0;
-    int rc = read_string_dataset(fh, "", name, &n, &keys, err);
+    int rc = trail_h5_strings(fh, "", name, &n, &keys, err);
     if (rc == HRT_OK && n > 256)
         rc = trail_set_error(err, HRT_E_FORMAT, "/%s: %zu keys, at most 256", name, n);
     for (size_t i = 0; i < n && rc == HRT_OK; i++) {
@@ -447,7 +205,7 @@ static int read_key_table_v1(hid_t fh, const char *name, int (*lookup)(const cha
         if (map[i] == bad)
             rc = trail_set_error(err, HRT_E_FORMAT, "/%s[%zu]: unknown key '%s'", name, i, keys[i]);
     }
-    free_strings(keys, n);
+    trail_h5_free_strings(keys, n);
     return rc;
 }
 
@@ -482,7 +240,7 @@ static int check_units(hid_t loc, const char *where, const trail_name *n, hrt_er
     char *u = NULL;
     char what[128];
     snprintf(what, sizeof what, "%s/%s", where, n->v2);
-    int rc = read_attr_text(d, "units", what, &u, err);
+    int rc = trail_h5_attr_text(d, "units", what, &u, err);
     if (rc == HRT_OK && strcmp(u, n->units) != 0)
         rc = trail_set_error(err, HRT_E_FORMAT, "%s: units '%.40s', expected '%s' (%s)", what, u, n->units,
                              n->meaning);
@@ -495,7 +253,7 @@ static int check_units(hid_t loc, const char *where, const trail_name *n, hrt_er
 static int read_named(hid_t gr, const char *where, int version, const trail_name *n, int rank, hsize_t *dims,
                       int as_int, void *buf, hrt_error *err)
 {
-    int rc = read_numeric(gr, where, trail_name_in(n, version), rank, dims, as_int, buf, err);
+    int rc = trail_h5_numeric(gr, where, trail_name_in(n, version), rank, dims, as_int, buf, err);
     if (rc == HRT_OK && version >= 2)
         rc = check_units(gr, where, n, err);
     return rc;
@@ -685,7 +443,7 @@ static int read_group(hid_t fh, trail_file *f, size_t iz, const code_map *cm, hr
         return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
     trail_file_group *gp = &f->grp[iz];
     const char *zn = trail_name_in(&S->group_z, f->version);
-    int rc = read_attr_number(gr, zn, where, 0, &gp->z, err);
+    int rc = trail_h5_attr_number(gr, zn, where, 0, &gp->z, err);
     if (rc == HRT_OK && !(isfinite(gp->z) && gp->z > 0.0 && gp->z < 1.0))
         rc = trail_set_error(err, HRT_E_FORMAT, "%s attribute '%s': %g is not in (0, 1)", where, zn, gp->z);
     if (rc == HRT_OK && iz > 0 && !(gp->z > f->grp[iz - 1].z))
@@ -698,7 +456,7 @@ static int read_group(hid_t fh, trail_file *f, size_t iz, const code_map *cm, hr
     hsize_t dm[1] = {0};
     const char *im = trail_name_in(&S->initial_mass, f->version);
     if (rc == HRT_OK)
-        rc = read_numeric(gr, where, im, 1, dm, 0, NULL, err);
+        rc = trail_h5_numeric(gr, where, im, 1, dm, 0, NULL, err);
     if (rc == HRT_OK && (dm[0] < 1 || dm[0] > TRAIL_MAX_TRACKS))
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: unusable length %llu (1..%d tracks)", where, im,
                              (unsigned long long)dm[0], TRAIL_MAX_TRACKS);
@@ -724,7 +482,7 @@ static int read_group(hid_t fh, trail_file *f, size_t iz, const code_map *cm, hr
 static int read_root(hid_t fh, int oldest, trail_file *f, hrt_error *err)
 {
     char *fmt = NULL;
-    int rc = read_attr_text(fh, "format", "root", &fmt, err);
+    int rc = trail_h5_attr_text(fh, "format", "root", &fmt, err);
     if (rc != HRT_OK)
         return rc;
     if (strcmp(fmt, TRAIL_FORMAT_NAME) != 0) {
@@ -735,7 +493,7 @@ static int read_root(hid_t fh, int oldest, trail_file *f, hrt_error *err)
     }
     free(fmt);
     double v;
-    if ((rc = read_attr_number(fh, "format_version", "root", 1, &v, err)) != HRT_OK)
+    if ((rc = trail_h5_attr_number(fh, "format_version", "root", 1, &v, err)) != HRT_OK)
         return rc;
     if (v > HRT_FORMAT_VERSION)
         return trail_set_error(err, HRT_E_VERSION, "format_version %g is newer than this library reads (%d)", v,
@@ -748,7 +506,7 @@ static int read_root(hid_t fh, int oldest, trail_file *f, hrt_error *err)
                                "'hrtrail grid upgrade OLD NEW' (hrt_grid_upgrade())",
                                v, HRT_FORMAT_VERSION);
     f->version = (int)v;
-    if ((rc = read_attr_number(fh, "z_ref", "root", 0, &f->z_ref, err)) != HRT_OK)
+    if ((rc = trail_h5_attr_number(fh, "z_ref", "root", 0, &f->z_ref, err)) != HRT_OK)
         return rc;
     if (!(isfinite(f->z_ref) && f->z_ref > 0.0 && f->z_ref < 1.0))
         return trail_set_error(err, HRT_E_FORMAT, "root attribute 'z_ref': %g is not in (0, 1)", f->z_ref);
@@ -796,19 +554,34 @@ static int read_file(hid_t fh, int oldest, trail_file *f, hrt_error *err)
     return rc;
 }
 
-int trail_file_read(const char *path, int oldest, trail_file *f, hrt_error *err)
+/* The one check of a path before HDF5 opens it: it opens (without blocking:
+ * a named pipe would wait for a writer, perhaps forever) and is a regular
+ * file. */
+static int check_file(const char *path, int missing_code, hrt_error *err)
+{
+    int fd = open(path, O_RDONLY | O_NONBLOCK | O_CLOEXEC);
+    if (fd < 0) {
+        int e = errno;
+        if (e == ENOENT && missing_code == HRT_E_NOT_FOUND)
+            return trail_set_error(err, HRT_E_NOT_FOUND,
+                                   "no default grid at '%s' (set HRTRAIL_GRID or install hrtrail's data)", path);
+        return trail_set_error(err, e == ENOENT ? missing_code : HRT_E_IO, "cannot open '%s' for reading: %s", path,
+                               strerror(e));
+    }
+    struct stat st;
+    int regular = fstat(fd, &st) == 0 && S_ISREG(st.st_mode);
+    close(fd);
+    if (!regular)
+        return trail_set_error(err, HRT_E_IO, "'%s' is not a regular file (a directory, device or pipe)", path);
+    return HRT_OK;
+}
+
+int trail_file_read_code(const char *path, int oldest, int missing_code, trail_file *f, hrt_error *err)
 {
     memset(f, 0, sizeof *f);
-    /* Only regular files: opening a named pipe for reading would block
-     * until someone writes to it, i.e. possibly forever. */
-    struct stat st;
-    if (stat(path, &st) == 0 && !S_ISREG(st.st_mode))
-        return trail_set_error(err, HRT_E_IO, "'%s' is not a regular file (a directory, device or pipe)", path);
-    FILE *probe = fopen(path, "rb");
-    if (!probe)
-        return trail_set_error(err, HRT_E_IO, "cannot open '%s' for reading", path);
-    fclose(probe);
-    int rc = HRT_OK;
+    int rc = check_file(path, missing_code, err);
+    if (rc != HRT_OK)
+        return rc;
     H5E_BEGIN_TRY
     {
         hid_t fh = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
@@ -823,6 +596,11 @@ int trail_file_read(const char *path, int oldest, trail_file *f, hrt_error *err)
     if (rc != HRT_OK)
         trail_file_free(f);
     return rc;
+}
+
+int trail_file_read(const char *path, int oldest, trail_file *f, hrt_error *err)
+{
+    return trail_file_read_code(path, oldest, HRT_E_IO, f, err);
 }
 
 void trail_file_free(trail_file *f)
@@ -844,7 +622,7 @@ void trail_file_free(trail_file *f)
     free(f->grp);
     for (size_t r = 0; r < f->n_routes; r++) {
         free(f->routes[r].name);
-        free_strings(f->routes[r].kp_names, f->routes[r].n_kp);
+        trail_h5_free_strings(f->routes[r].kp_names, f->routes[r].n_kp);
         free(f->routes[r].kp_eep);
     }
     free(f->routes);

@@ -1,0 +1,28 @@
+/* HDF5 reading helpers of the grid reader (core/h5read.c).  Every
+ * function names what it reads in its messages ("where/name"). */
+#ifndef HRTRAIL_LIB_H5READ_H
+#define HRTRAIL_LIB_H5READ_H
+
+#include <stddef.h>
+
+#include <hdf5.h>
+
+#include "hrtrail.h"
+
+/* Free n strings and the array (NULL allowed). */
+void trail_h5_free_strings(char **s, size_t n);
+/* Number of points of a dataspace; *rank receives its rank. */
+hssize_t trail_h5_points(hid_t space, int *rank);
+/* A scalar text attribute, newly allocated in *out. */
+int trail_h5_attr_text(hid_t loc, const char *name, const char *where, char **out, hrt_error *err);
+/* A scalar numeric attribute (an integer if want_int). */
+int trail_h5_attr_number(hid_t loc, const char *name, const char *where, int want_int, double *out, hrt_error *err);
+/* A numeric dataset of the given rank and shape (dims[k] == 0: any, and
+ * receives the size found), stored as integers (as_int) or floating point,
+ * read as int or double into buf (NULL: only checked). */
+int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims, int as_int, void *buf,
+                     hrt_error *err);
+/* A 1-D string dataset of 1..100000 entries, newly allocated in *out. */
+int trail_h5_strings(hid_t loc, const char *where, const char *name, size_t *n, char ***out, hrt_error *err);
+
+#endif
