@@ -80,8 +80,8 @@ typedef struct mctx {
     const zgroup *gp;
     size_t i;       /* left knot of the interval (i + 1 is always addressable) */
     size_t near;    /* track nearest in log mass (for phases and remnant kinds) */
-    double w[4];    /* weights of y_i, d_i, y_{i+1}, d_{i+1} */
-    double wa[4];   /* weights for log age (linear where cubic is not monotone) */
+    double w_val[4]; /* weights of y_i, d_i, y_{i+1}, d_{i+1} (values, slopes of the two knots) */
+    double w_age[4]; /* the same for log age (blended towards linear where needed, grid_prep.c) */
     int n_eep;      /* EEPs both knots reach */
     int extrapolated;
     int interior;   /* strictly between two knots of the route (not an end) */
@@ -96,8 +96,8 @@ typedef struct qctx {
     int route;
     trail_zplace zp;       /* placement of z */
     size_t g_lo, g_hi;     /* stencil of groups [g_lo, g_hi] */
-    double zx[TRAIL_MAX_Z];  /* [Fe/H] of the stencil groups */
-    double zw[4];          /* Hermite weights across [Fe/H] in [g0, g0 + 1] */
+    double feh_stencil[TRAIL_MAX_Z]; /* [Fe/H] of the stencil groups */
+    double w_feh[4];       /* Hermite weights across [Fe/H] in [g0, g0 + 1] */
     mctx m[TRAIL_MAX_Z];     /* indexed by group - g_lo */
     int n_eep;             /* EEPs of the interpolated star */
     int flags;

@@ -16,15 +16,15 @@ static inline void interval_weights(const hrt_grid *g, mctx *m, double x)
 {
     const double *lm = m->gp->logm;
     size_t i = m->i;
-    trail_hermite_weights(g->interp, lm[i], lm[i + 1], x, m->w);
+    trail_hermite_weights(g->interp, lm[i], lm[i + 1], x, m->w_val);
     double lam = m->gp->age_lambda[i];
     if (lam < 1.0) {
         double wl[4];
         trail_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
         for (int c = 0; c < 4; c++)
-            m->wa[c] = lam * m->w[c] + (1.0 - lam) * wl[c];
+            m->w_age[c] = lam * m->w_val[c] + (1.0 - lam) * wl[c];
     } else {
-        memcpy(m->wa, m->w, sizeof m->w);
+        memcpy(m->w_age, m->w_val, sizeof m->w_val);
     }
 }
 
@@ -51,12 +51,12 @@ static inline int mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x,
         m->i = top ? k - 1 : k;
         m->near = k;
         for (int c = 0; c < 4; c++)
-            m->w[c] = m->wa[c] = 0.0;
+            m->w_val[c] = m->w_age[c] = 0.0;
         int s = top ? 2 : 0;
-        m->w[s] = 1.0;
-        m->w[s + 1] = dx;
-        m->wa[s] = 1.0;
-        m->wa[s + 1] = dxa;
+        m->w_val[s] = 1.0;
+        m->w_val[s + 1] = dx;
+        m->w_age[s] = 1.0;
+        m->w_age[s + 1] = dxa;
         m->n_eep = gp->n_eep[k];
         m->extrapolated = x != lm[k];
         return HRT_OK;
@@ -92,7 +92,7 @@ int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err)
     int rc = trail_place_z(g, z, &q->zp, err);
     if (rc == HRT_OK && !q->zp.single) {
         size_t g0 = q->zp.g0;
-        trail_hermite_weights(trail_z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->zp.feh, q->zw);
+        trail_hermite_weights(trail_z_type(g), g->grp[g0].feh, g->grp[g0 + 1].feh, q->zp.feh, q->w_feh);
     }
     return rc;
 }
@@ -103,7 +103,7 @@ void trail_qctx_copy_z(qctx *dst, const qctx *src)
     dst->g = src->g;
     dst->z = src->z;
     dst->zp = src->zp;
-    memcpy(dst->zw, src->zw, sizeof dst->zw);
+    memcpy(dst->w_feh, src->w_feh, sizeof dst->w_feh);
 }
 
 /* The mass part, after qctx_z. */
@@ -169,7 +169,7 @@ static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
     q->n_eep = ne;
     if (!q->zp.single)
         for (size_t k = s_lo; k <= s_hi; k++)
-            q->zx[k - s_lo] = g->grp[k].feh;
+            q->feh_stencil[k - s_lo] = g->grp[k].feh;
     return HRT_OK;
 }
 
@@ -188,17 +188,17 @@ int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error
 }
 
 
-/* Value of quantity qn at EEP j in group k of the stencil (mass Hermite). */
-static inline double group_value(const qctx *q, size_t k, int qn, int j)
+/* Value of quantity qty at EEP j in group k of the stencil (mass Hermite). */
+static inline double group_value(const qctx *q, size_t k, int qty, int j)
 {
     const mctx *m = &q->m[k - q->g_lo];
     const zgroup *gp = m->gp;
-    if (qn == Q_AGE) {
-        const double *a = gp->age_interval + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->wa;
+    if (qty == Q_AGE) {
+        const double *a = gp->age_interval + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->w_age;
         return w[0] * a[0] + w[1] * a[1] + w[2] * a[2] + w[3] * a[3];
     }
-    const double *p = trail_knot(gp, (size_t)j, m->i, qn);
-    const double *w = m->w;
+    const double *p = trail_knot(gp, (size_t)j, m->i, qty);
+    const double *w = m->w_val;
     return w[0] * p[0] + w[1] * p[1] + w[2] * p[2 * NQ] + w[3] * p[2 * NQ + 1];
 }
 
@@ -217,25 +217,25 @@ static void z_slopes(int zt, size_t n, const double *xs, const double *ys, size_
     *d1 = ds[a + 1];
 }
 
-double trail_q_value(const qctx *q, int qn, int j)
+double trail_q_value(const qctx *q, int qty, int j)
 {
     size_t g0 = q->zp.g0;
     if (q->zp.single)
-        return group_value(q, g0, qn, j);
+        return group_value(q, g0, qty, j);
     double tz = q->zp.t_feh;
     int zt = trail_z_type(q->g);
-    if (qn == Q_AGE || zt == HRT_INTERP_LINEAR || q->g_hi - q->g_lo < 2) {
+    if (qty == Q_AGE || zt == HRT_INTERP_LINEAR || q->g_hi - q->g_lo < 2) {
         /* Log age is linear in [Fe/H]: a convex blend of two increasing
          * sequences increases, so the interpolated track stays ordered. */
-        return (1.0 - tz) * group_value(q, g0, qn, j) + tz * group_value(q, g0 + 1, qn, j);
+        return (1.0 - tz) * group_value(q, g0, qty, j) + tz * group_value(q, g0 + 1, qty, j);
     }
     double ys[TRAIL_MAX_Z];
     size_t n = q->g_hi - q->g_lo + 1, a = g0 - q->g_lo;
     for (size_t k = 0; k < n; k++)
-        ys[k] = group_value(q, q->g_lo + k, qn, j);
+        ys[k] = group_value(q, q->g_lo + k, qty, j);
     double d0, d1;
-    z_slopes(zt, n, q->zx, ys, a, &d0, &d1);
-    const double *w = q->zw;
+    z_slopes(zt, n, q->feh_stencil, ys, a, &d0, &d1);
+    const double *w = q->w_feh;
     return w[0] * ys[a] + w[1] * d0 + w[2] * ys[a + 1] + w[3] * d1;
 }
 
@@ -243,7 +243,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
 {
     if (q->zp.single) {
         const mctx *m = &q->m[q->zp.g0 - q->g_lo];
-        const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w_val;
         for (int c = 0; c < NQS; c++)
             v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
         return;
@@ -254,7 +254,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
     size_t k0 = q->zp.single ? q->zp.g0 - q->g_lo : 0;
     for (size_t k = 0; k < n; k++) {
         const mctx *m = &q->m[k0 + k];
-        const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w;
+        const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w_val;
         for (int c = 0; c < NQS; c++)
             ys[c][k] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
     }
@@ -270,10 +270,10 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
             v[c] = (1.0 - q->zp.t_feh) * ys[c][a] + q->zp.t_feh * ys[c][a + 1];
         return;
     }
-    const double *w = q->zw;
+    const double *w = q->w_feh;
     for (int c = 0; c < NQS; c++) {
         double d0, d1;
-        z_slopes(zt, n, q->zx, ys[c], a, &d0, &d1);
+        z_slopes(zt, n, q->feh_stencil, ys[c], a, &d0, &d1);
         v[c] = w[0] * ys[c][a] + w[1] * d0 + w[2] * ys[c][a + 1] + w[3] * d1;
     }
 }
@@ -317,14 +317,14 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
         int k0 = gp->remnant[mn->near];
         *kind = k0;
         int f0 = trail_remnant_family(k0);
-        int use0 = mn->w[0] != 0.0 || mn->w[1] != 0.0, use1 = mn->w[2] != 0.0 || mn->w[3] != 0.0;
+        int use0 = mn->w_val[0] != 0.0 || mn->w_val[1] != 0.0, use1 = mn->w_val[2] != 0.0 || mn->w_val[3] != 0.0;
         if (k0 == HRT_REMNANT_NONE) {
             *mass_msun = NAN;
         } else if ((use0 && trail_remnant_family(gp->remnant[i]) != f0) ||
                    (use1 && trail_remnant_family(gp->remnant[i + 1]) != f0)) {
             *mass_msun = gp->remnant_knots[2 * mn->near];
         } else {
-            const double *p = gp->remnant_knots + 2 * i, *w = mn->w;
+            const double *p = gp->remnant_knots + 2 * i, *w = mn->w_val;
             *mass_msun = remnant_bounded(k0, w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3],
                                          gp->remnant_knots[2 * mn->near]);
         }
@@ -336,7 +336,7 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
         const mctx *m = &q->m[k - q->g_lo];
         for (int s = 0; s < 2; s++) {
             size_t t = m->i + (size_t)s;
-            if ((m->w[2 * s] != 0.0 || m->w[2 * s + 1] != 0.0) &&
+            if ((m->w_val[2 * s] != 0.0 || m->w_val[2 * s + 1] != 0.0) &&
                 trail_remnant_family(m->gp->remnant[t]) != trail_remnant_family(k0))
                 same = 0;
         }
@@ -354,7 +354,7 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
     for (size_t k = q->zp.g0; k <= gb; k++) {
         const mctx *m = &q->m[k - q->g_lo];
         const double *p = m->gp->remnant_knots + 2 * m->i;
-        v[k - q->zp.g0] = m->w[0] * p[0] + m->w[1] * p[1] + m->w[2] * p[2] + m->w[3] * p[3];
+        v[k - q->zp.g0] = m->w_val[0] * p[0] + m->w_val[1] * p[1] + m->w_val[2] * p[2] + m->w_val[3] * p[3];
     }
     *mass_msun = remnant_bounded(k0, q->zp.single ? v[0] : (1.0 - q->zp.t_feh) * v[0] + q->zp.t_feh * v[1],
                                  mn->gp->remnant_knots[2 * mn->near]);
