@@ -156,9 +156,10 @@ static int read_routes(hid_t fh, trail_file *f, hrt_error *err)
 
 /* The code tables of a file: for each code a file may store (index c of
  * map), the library's code, or `bad` where the file has none. */
+#define CODE_MAP_SIZE 256 /* codes a file may store: 0..255 */
 typedef struct code_map {
-    int phase[256];
-    int remnant[256];
+    int phase[CODE_MAP_SIZE];
+    int remnant[CODE_MAP_SIZE];
 } code_map;
 
 /* Version 2: phases/{code,key} and remnants/{code,key} list the codes the
@@ -178,10 +179,10 @@ static int read_code_table(hid_t fh, const char *group, const char *(*key_of)(in
     if (rc == HRT_OK)
         rc = trail_h5_numeric(g, group, "code", 1, d, 1, codes, err);
     for (size_t i = 0; i < n && rc == HRT_OK; i++) {
-        if (codes[i] < 0 || codes[i] > 255 || strcmp(key_of(codes[i]), keys[i]) != 0)
+        if (codes[i] < 0 || codes[i] >= CODE_MAP_SIZE || strcmp(key_of(codes[i]), keys[i]) != 0)
             rc = trail_set_error(err, HRT_E_FORMAT,
                                  "%s/code[%zu]: key '%.32s' has code %d in the file, but '%s' in this library", group,
-                                 i, keys[i], codes[i], codes[i] >= 0 && codes[i] <= 255 ? key_of(codes[i]) : "no key");
+                                 i, keys[i], codes[i], codes[i] >= 0 && codes[i] < CODE_MAP_SIZE ? key_of(codes[i]) : "no key");
         else
             map[codes[i]] = codes[i];
     }
@@ -198,8 +199,8 @@ static int read_key_table_v1(hid_t fh, const char *name, int (*lookup)(const cha
     char **keys = NULL;
     size_t n = 0;
     int rc = trail_h5_strings(fh, "", name, &n, &keys, err);
-    if (rc == HRT_OK && n > 256)
-        rc = trail_set_error(err, HRT_E_FORMAT, "/%s: %zu keys, at most 256", name, n);
+    if (rc == HRT_OK && n > CODE_MAP_SIZE)
+        rc = trail_set_error(err, HRT_E_FORMAT, "/%s: %zu keys, at most %d", name, n, CODE_MAP_SIZE);
     for (size_t i = 0; i < n && rc == HRT_OK; i++) {
         map[i] = lookup(keys[i]);
         if (map[i] == bad)
@@ -214,7 +215,7 @@ static int remnant_lookup(const char *k) { return hrt_remnant_from_key(k); }
 
 static int read_codes(hid_t fh, int version, code_map *cm, hrt_error *err)
 {
-    for (int c = 0; c < 256; c++)
+    for (int c = 0; c < CODE_MAP_SIZE; c++)
         cm->phase[c] = cm->remnant[c] = -1;
     if (version >= 2) {
         int rc = read_code_table(fh, "phases", hrt_phase_key, cm->phase, err);
@@ -317,7 +318,7 @@ static int read_tracks(hid_t gr, const char *where, const trail_file *f, const c
     if (rc == HRT_OK)
         rc = read_named(gr, where, v, &S->remnant, 1, d1, 1, ibuf, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-        int c = ibuf[i] >= 0 && ibuf[i] < 256 ? cm->remnant[ibuf[i]] : -1;
+        int c = ibuf[i] >= 0 && ibuf[i] < CODE_MAP_SIZE ? cm->remnant[ibuf[i]] : -1;
         if (c < 0)
             rc = trail_set_error(err, HRT_E_FORMAT, "%s/remnant[%zu]: %d is not a remnant code of the file", where,
                                  i, ibuf[i]);
@@ -422,7 +423,7 @@ static int read_eep_data(hid_t gr, const char *where, const trail_file *f, const
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
         for (size_t j = 0; j < (size_t)gp->n_eep[i] && rc == HRT_OK; j++) {
             int c = ibuf[i * J + j];
-            int p = c >= 0 && c < 256 ? cm->phase[c] : -1;
+            int p = c >= 0 && c < CODE_MAP_SIZE ? cm->phase[c] : -1;
             if (p <= HRT_PHASE_UNKNOWN)
                 rc = trail_set_error(err, HRT_E_FORMAT, "%s/phase[%zu][%zu]: %d is not a phase code of the file", where,
                                      i, j, c);

@@ -9,6 +9,7 @@
 #include <hdf5.h>
 
 #include "core/h5read.h"
+#include "util/schema.h"
 #include "util/util.h"
 
 void trail_h5_free_strings(char **s, size_t n)
@@ -242,8 +243,9 @@ int trail_h5_strings(hid_t loc, const char *where, const char *name, size_t *n, 
     snprintf(what, sizeof what, "%s/%s", where, name);
     if (cls != H5T_STRING) {
         rc = trail_set_error(err, HRT_E_FORMAT, "%s: must hold strings", what);
-    } else if (dims[0] == 0 || dims[0] > 100000) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s: unusable length %llu", what, (unsigned long long)dims[0]);
+    } else if (dims[0] == 0 || dims[0] > TRAIL_MAX_STRINGS) {
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s: unusable length %llu (1..%d)", what, (unsigned long long)dims[0],
+                             TRAIL_MAX_STRINGS);
     } else {
         hid_t t = H5Dget_type(d), s = H5Dget_space(d);
         rc = h5_read_strings(d, 0, t, s, (size_t)dims[0], out, what, err);

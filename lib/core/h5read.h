@@ -22,7 +22,7 @@ int trail_h5_attr_number(hid_t loc, const char *name, const char *where, int wan
  * read as int or double into buf (NULL: only checked). */
 int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims, int as_int, void *buf,
                      hrt_error *err);
-/* A 1-D string dataset of 1..100000 entries, newly allocated in *out. */
+/* A 1-D string dataset of 1..TRAIL_MAX_STRINGS entries, newly allocated in *out. */
 int trail_h5_strings(hid_t loc, const char *where, const char *name, size_t *n, char ***out, hrt_error *err);
 
 #endif

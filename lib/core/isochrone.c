@@ -85,6 +85,10 @@ static int iso_buf_alloc(const hrt_grid *g, iso_buf *b)
     return b->knots && b->ages && b->knot_n_eep && b->q ? HRT_OK : HRT_E_NOMEM;
 }
 
+/* A route above a boundary starts this fraction above it: the boundary
+ * mass itself belongs to the route below (trail_route_at). */
+#define ROUTE_EDGE_STEP 1e-9
+
 /* The initial masses of route r at a placed Z: [lo, hi) within the masses
  * the grid covers there, between its boundaries.  0 if empty. */
 static int route_zone(const hrt_grid *g, const trail_zplace *zp, size_t r, double *lo, double *hi)
@@ -93,7 +97,7 @@ static int route_zone(const hrt_grid *g, const trail_zplace *zp, size_t r, doubl
     for (size_t b = 0; b + 1 < g->n_routes; b++) {
         double mb = trail_boundary_at(g, zp, b);
         if (b + 1 == r && mb > *lo)
-            *lo = mb * (1.0 + 1e-9);
+            *lo = mb * (1.0 + ROUTE_EDGE_STEP);
         if (b == r && mb < *hi)
             *hi = mb;
     }

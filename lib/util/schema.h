@@ -29,6 +29,8 @@
 #define TRAIL_MAX_Z 64
 #define TRAIL_MAX_EEP 65535
 #define TRAIL_MAX_TRACKS 100000
+/* Most entries of a string dataset (keypoint names, route names, codes). */
+#define TRAIL_MAX_STRINGS 100000
 
 /* Plausibility bounds the reader enforces and the builder too: log10
  * values within +-TRAIL_MAX_LOG_ABS, current, core and remnant masses at
