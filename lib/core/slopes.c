@@ -6,7 +6,7 @@
  * mass the slopes come from GSL itself at open time (trail_slopes_gsl); across
  * [Fe/H] they are needed at query time, where GSL would allocate, so
  * trail_slopes_local() computes them with the same formulas as GSL 2.7
- * (tests/test_slopes.c compares both with GSL on random data). */
+ * (tests/test_core.c compares both with GSL on random data). */
 #include <math.h>
 #include <string.h>
 
