@@ -491,20 +491,48 @@ HRT_API int hrt_star_phases(const hrt_star *star, hrt_phase_span *spans, size_t 
 /* ------------------------------------------------------------------------
  * Isochrones
  * ------------------------------------------------------------------------ */
+/** Bit of phase code p in a phase mask (codes are below HRT_PHASE_SLOTS = 64). */
+#define HRT_PHASE_BIT(p) ((uint64_t)1 << (p))
+/** The remnant phases (white dwarf, neutron star, black hole) as a mask. */
+#define HRT_PHASES_REMNANT (HRT_PHASE_BIT(HRT_PHASE_WD) | HRT_PHASE_BIT(HRT_PHASE_NS) | HRT_PHASE_BIT(HRT_PHASE_BH))
+/** Default largest step in log L between neighbours of one phase on an isochrone, dex. */
+#define HRT_ISOCHRONE_MAX_DLOG_L 0.02
+
+/** What an isochrone holds (hrt_isochrone_options_default() fills it). */
+typedef struct hrt_isochrone_options {
+    uint64_t phases;   /**< phases included, HRT_PHASE_BIT(code) each; default: every phase of a
+                        *   luminous, modelled star (all but unknown, pre_ms and the remnants) */
+    double max_dlog_l; /**< largest log L step between neighbouring points of one phase, dex
+                        *   (default HRT_ISOCHRONE_MAX_DLOG_L) */
+    double reserved[6];/**< zero */
+} hrt_isochrone_options;
+
+/** Fill o with the defaults (NULL allowed: nothing happens). */
+HRT_API void hrt_isochrone_options_default(hrt_isochrone_options *o);
+
 /**
- * @brief The isochrone at one age and metallicity, sampled at EEPs.
+ * @brief The isochrone at one age and metallicity.
  *
- * For each route and each EEP, every initial mass whose star is at that
- * EEP at age_yr is found (root of the interpolated EEP age in mass), so fast
- * phases are resolved by as many points as the grid has EEPs there.  Points
- * are ordered by route, then by EEP, then by mass.  Remnants are not
- * included.
- * Given:  age_yr (> 0), z, cap (capacity of out).
+ * Every initial mass the grid holds at z whose star is alive and modelled at
+ * age_yr (or of a phase the options include) is represented: for each
+ * route, the mass at which the star is at each EEP (root of the interpolated
+ * EEP age in mass), so fast phases are resolved by as many points as the
+ * grid has EEPs; the lowest and highest mass of the route's zone; and,
+ * between neighbours of one phase, as many further masses as keep
+ * successive log L within o->max_dlog_l (the lower main sequence, where no
+ * EEP is reached, is sampled this way).  Points are ordered by route, then
+ * by initial mass (along the isochrone).  Every point is the state hrt_eval
+ * gives at its mass and age.
+ * Given:  age_yr (> 0), z, o (NULL: defaults), cap (capacity of out).
  * Returned: out[0..*n-1]; *n is the number of points (also when cap is too small).
- * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN,
- * HRT_E_Z_RANGE, HRT_E_BUFFER (nothing useful in out; call again with
- * cap >= *n).  Thread-safe; allocates scratch memory (HRT_E_NOMEM).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (age, or a
+ * non-positive max_dlog_l), HRT_E_Z_RANGE, HRT_E_BUFFER (nothing useful in
+ * out; call again with cap >= *n), HRT_E_NOMEM.  Thread-safe; allocates
+ * scratch memory.
  */
+HRT_API int hrt_isochrone_with(const hrt_grid *g, double age_yr, double z, const hrt_isochrone_options *o,
+                               hrt_state *out, size_t cap, size_t *n, hrt_error *err);
+/** hrt_isochrone_with(g, age_yr, z, NULL, out, cap, n, err): the defaults. */
 HRT_API int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, size_t cap,
                           size_t *n, hrt_error *err);
 

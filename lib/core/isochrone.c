@@ -1,5 +1,9 @@
-/* Isochrones: at one age and metallicity, for every route and EEP, the
- * initial masses whose interpolated EEP age equals the age. */
+/* Isochrones: at one age and metallicity, for every route, the stars of
+ * every initial mass the grid holds there: the masses whose interpolated
+ * EEP age equals the age (one root per EEP, so fast phases get as many
+ * points as the grid has EEPs), the ends of the route's mass zone, and
+ * between neighbours of one phase as many masses as keep log L steps below
+ * the options' limit (the lower main sequence, where no EEP is reached). */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -142,13 +146,11 @@ static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *
     return usable;
 }
 
-/* The star of route r at EEP j between knots k and k + 1 whose age is
- * age_yr, if there is one: 1 and its state in *st. */
-static int root_state(const hrt_grid *g, double z, double age_yr, size_t r, size_t j, size_t k, iso_buf *b,
-                      hrt_state *st)
+/* The log mass of the star of route r at EEP j between knots k and k + 1
+ * whose age is age_yr, if there is one: 1 and the log mass in *x. */
+static int root_mass(const hrt_grid *g, double z, double lt, size_t r, size_t j, size_t k, iso_buf *b, double *x)
 {
     size_t J = g->n_eep_max;
-    double lt = trail_log10(age_yr);
     if ((size_t)b->knot_n_eep[k] <= j || (size_t)b->knot_n_eep[k + 1] <= j)
         return 0;
     double fa = b->ages[k * J + j] - lt, fb = b->ages[(k + 1) * J + j] - lt;
@@ -156,51 +158,215 @@ static int root_state(const hrt_grid *g, double z, double age_yr, size_t r, size
         return 0;
     if (trail_qctx_init(g, trail_exp10(0.5 * (b->knots[k] + b->knots[k + 1])), z, b->q, NULL) != HRT_OK)
         return 0;
-    double x = find_root(b->q, (int)r, (int)j, lt, b->knots[k], fa, b->knots[k + 1], fb);
-    double m = trail_exp10(x);
-    hrt_eval(g, 1, &m, NULL, z, &age_yr, st, NULL);
-    return st->status == HRT_OK && st->route == (int)r && !(st->flags & (HRT_FLAG_NOT_MODELLED | HRT_FLAG_REMNANT));
+    *x = find_root(b->q, (int)r, (int)j, lt, b->knots[k], fa, b->knots[k + 1], fb);
+    return 1;
 }
 
-int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, size_t cap, size_t *n_out,
-                  hrt_error *err)
+/* A growing list of log masses. */
+typedef struct mass_list {
+    double *x;
+    size_t n, cap;
+} mass_list;
+
+static int list_push(mass_list *l, double x)
+{
+    if (l->n == l->cap) {
+        size_t nc = l->cap ? 2 * l->cap : 256;
+        double *p = realloc(l->x, nc * sizeof *p);
+        if (!p)
+            return HRT_E_NOMEM;
+        l->x = p;
+        l->cap = nc;
+    }
+    l->x[l->n++] = x;
+    return HRT_OK;
+}
+
+/* The isochrone of one route being written: where points go, what to keep. */
+typedef struct iso_out {
+    const hrt_grid *g;
+    double z, age_yr;
+    int route;
+    const hrt_isochrone_options *o;
+    hrt_state *out;
+    size_t cap, count;
+} iso_out;
+
+/* The state at log mass x, and whether the isochrone keeps it: evaluated
+ * without error on this route, modelled, of a phase the options include. */
+static int iso_state(const iso_out *io, double x, hrt_state *st)
+{
+    double m = trail_exp10(x);
+    hrt_eval(io->g, 1, &m, NULL, io->z, &io->age_yr, st, NULL);
+    return st->status == HRT_OK && st->route == io->route && !(st->flags & HRT_FLAG_NOT_MODELLED) &&
+           st->phase >= 0 && st->phase < HRT_PHASE_SLOTS && (io->o->phases & HRT_PHASE_BIT(st->phase));
+}
+
+static void iso_emit(iso_out *io, const hrt_state *st)
+{
+    if (io->count < io->cap)
+        io->out[io->count] = *st;
+    io->count++;
+}
+
+/* Points strictly between two kept neighbours of one luminous phase whose
+ * log L differ by more than the options allow: bisection in log mass, to a
+ * depth of MAX_REFINE halvings. */
+#define MAX_REFINE 24
+static void refine(iso_out *io, double x0, const hrt_state *s0, double x1, const hrt_state *s1, int depth)
+{
+    if (depth >= MAX_REFINE || s0->phase != s1->phase || !(fabs(s1->log_l_lsun - s0->log_l_lsun) > io->o->max_dlog_l))
+        return;
+    double xm = 0.5 * (x0 + x1);
+    hrt_state sm;
+    if (!iso_state(io, xm, &sm))
+        return;
+    refine(io, x0, s0, xm, &sm, depth + 1);
+    iso_emit(io, &sm);
+    refine(io, xm, &sm, x1, s1, depth + 1);
+}
+
+/* Between a kept and a refused mass (the start of the modelled main
+ * sequence at young ages, the last star alive, a phase left out): the kept
+ * mass nearest the edge, by bisection to MAX_REFINE halvings.  x_in is
+ * kept (state s_in), x_out refused; 1 and *x, *st if one closer is found. */
+static int edge_point(const iso_out *io, double x_in, double x_out, double *x, hrt_state *st)
+{
+    int found = 0;
+    for (int it = 0; it < MAX_REFINE; it++) {
+        double xm = 0.5 * (x_in + x_out);
+        hrt_state sm;
+        if (iso_state(io, xm, &sm)) {
+            x_in = xm;
+            *st = sm;
+            found = 1;
+        } else {
+            x_out = xm;
+        }
+    }
+    *x = x_in;
+    return found;
+}
+
+/* One route: the ends of its zone and every EEP root, in mass order; the
+ * kept mass nearest each edge between kept and refused candidates; and
+ * between kept neighbours what refine() adds. */
+static void route_points(iso_out *io, const mass_list *c)
+{
+    hrt_state prev, st, edge;
+    double xprev = 0.0, xe;
+    int have = 0, prev_kept = 0;
+    for (size_t i = 0; i < c->n; i++) {
+        int kept = iso_state(io, c->x[i], &st);
+        if (kept && !prev_kept && i > 0 && edge_point(io, c->x[i], c->x[i - 1], &xe, &edge)) {
+            iso_emit(io, &edge);
+            prev = edge;
+            xprev = xe;
+            have = 1;
+        }
+        if (!kept && prev_kept && edge_point(io, xprev, c->x[i], &xe, &edge)) {
+            refine(io, xprev, &prev, xe, &edge, 0);
+            iso_emit(io, &edge);
+        }
+        if (kept) {
+            if (have)
+                refine(io, xprev, &prev, c->x[i], &st, 0);
+            iso_emit(io, &st);
+            prev = st;
+            xprev = c->x[i];
+        }
+        have = prev_kept = kept;
+    }
+}
+
+/* Candidate log masses of route r: its zone's ends and the root at every
+ * EEP, sorted and distinct. */
+static int route_candidates(const hrt_grid *g, const trail_zplace *zp, double z, double age_yr, size_t r, iso_buf *b,
+                            mass_list *c)
+{
+    c->n = 0;
+    double lo, hi;
+    if (!route_zone(g, zp, r, &lo, &hi))
+        return HRT_OK;
+    size_t nk = route_knots(g, zp, r, lo, hi, b->knots);
+    if (!knot_ages(g, z, r, nk, b))
+        return HRT_OK;
+    double lt = trail_log10(age_yr);
+    int rc = list_push(c, b->knots[0]);
+    if (rc == HRT_OK)
+        rc = list_push(c, b->knots[nk - 1]);
+    for (size_t j = 0; j < g->routes[r].n_eep && rc == HRT_OK; j++)
+        for (size_t k = 0; k + 1 < nk && rc == HRT_OK; k++) {
+            double x;
+            if (root_mass(g, z, lt, r, j, k, b, &x))
+                rc = list_push(c, x);
+        }
+    if (rc != HRT_OK)
+        return rc;
+    qsort(c->x, c->n, sizeof *c->x, trail_cmp_double);
+    size_t u = 0;
+    for (size_t k = 0; k < c->n; k++)
+        if (u == 0 || c->x[k] > c->x[u - 1])
+            c->x[u++] = c->x[k];
+    c->n = u;
+    return HRT_OK;
+}
+
+void hrt_isochrone_options_default(hrt_isochrone_options *o)
+{
+    if (!o)
+        return;
+    memset(o, 0, sizeof *o);
+    for (size_t i = 0; i < HRT_PHASE_N; i++)
+        o->phases |= HRT_PHASE_BIT(hrt_phase_code(i));
+    o->phases &= ~(HRT_PHASE_BIT(HRT_PHASE_UNKNOWN) | HRT_PHASE_BIT(HRT_PHASE_PRE_MS) | HRT_PHASES_REMNANT);
+    o->max_dlog_l = HRT_ISOCHRONE_MAX_DLOG_L;
+}
+
+int hrt_isochrone_with(const hrt_grid *g, double age_yr, double z, const hrt_isochrone_options *opt,
+                       hrt_state *out, size_t cap, size_t *n_out, hrt_error *err)
 {
     if (!g || !n_out || (cap > 0 && !out))
         return trail_set_error(err, HRT_E_NULL, "hrt_isochrone: %s is NULL", !g ? "grid" : !n_out ? "n" : "out");
     *n_out = 0;
     if (!isfinite(age_yr) || age_yr <= 0.0)
         return trail_set_error(err, HRT_E_DOMAIN, "hrt_isochrone: age %g yr is not positive and finite", age_yr);
+    hrt_isochrone_options o;
+    if (opt)
+        o = *opt;
+    else
+        hrt_isochrone_options_default(&o);
+    if (!(o.max_dlog_l > 0.0 && isfinite(o.max_dlog_l)))
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_isochrone: max_dlog_l = %g is not a positive finite step",
+                               o.max_dlog_l);
     trail_zplace zp = {0};
     int rc = trail_place_z(g, z, &zp, err);
     if (rc != HRT_OK)
         return rc;
     iso_buf b = {0};
-    if (iso_buf_alloc(g, &b) != HRT_OK) {
-        iso_buf_free(&b);
-        return trail_set_error(err, HRT_E_NOMEM, "hrt_isochrone: out of memory");
-    }
-    size_t count = 0;
-    for (size_t r = 0; r < g->n_routes; r++) {
-        double lo, hi;
-        if (!route_zone(g, &zp, r, &lo, &hi))
-            continue;
-        size_t nk = route_knots(g, &zp, r, lo, hi, b.knots);
-        if (!knot_ages(g, z, r, nk, &b))
-            continue;
-        /* along the isochrone: EEP by EEP, and within an EEP by mass */
-        for (size_t j = 0; j < g->routes[r].n_eep; j++)
-            for (size_t k = 0; k + 1 < nk; k++) {
-                hrt_state st;
-                if (!root_state(g, z, age_yr, r, j, k, &b, &st))
-                    continue;
-                if (count < cap)
-                    out[count] = st;
-                count++;
-            }
+    mass_list c = {0};
+    rc = iso_buf_alloc(g, &b);
+    iso_out io = {g, z, age_yr, 0, &o, out, cap, 0};
+    for (size_t r = 0; r < g->n_routes && rc == HRT_OK; r++) {
+        rc = route_candidates(g, &zp, z, age_yr, r, &b, &c);
+        io.route = (int)r;
+        if (rc == HRT_OK)
+            route_points(&io, &c);
     }
     iso_buf_free(&b);
-    *n_out = count;
-    if (count > cap)
-        return trail_set_error(err, HRT_E_BUFFER, "hrt_isochrone: %zu points, buffer holds %zu", count, cap);
+    free(c.x);
+    if (rc != HRT_OK)
+        return trail_set_error(err, rc, "hrt_isochrone: out of memory");
+    *n_out = io.count;
+    if (io.count > cap)
+        return trail_set_error(err, HRT_E_BUFFER, "hrt_isochrone: %zu points, buffer holds %zu", io.count, cap);
+    if (err)
+        trail_set_error(err, HRT_OK, NULL);
     return HRT_OK;
+}
+
+int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state *out, size_t cap, size_t *n_out,
+                  hrt_error *err)
+{
+    return hrt_isochrone_with(g, age_yr, z, NULL, out, cap, n_out, err);
 }
