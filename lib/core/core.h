@@ -85,7 +85,15 @@ typedef struct mctx {
     int n_eep;      /* EEPs both knots reach */
     int extrapolated;
     int interior;   /* strictly between two knots of the route (not an end) */
+    double extrap_dex;   /* log mass beyond the route's end track (0 inside) */
+    double extrap_limit; /* how far extrapolation may reach there (extrap_limit in eval.c) */
 } mctx;
+
+/* Extrapolation beyond a route's end track reaches at most this many times
+ * the spacing to the route's next track (eval.c, extrap_limit): enough for
+ * the boundaries a metallicity between two groups places between their
+ * tracks (up to 1.35 spacings on the default grid), far from a whole route. */
+#define TRAIL_EXTRAP_SPACINGS 2.0
 
 #include "core/place.h"
 
@@ -98,7 +106,7 @@ typedef struct qctx {
     size_t g_lo, g_hi;     /* stencil of groups [g_lo, g_hi] */
     double feh_stencil[TRAIL_MAX_Z]; /* [Fe/H] of the stencil groups */
     double w_feh[4];       /* Hermite weights across [Fe/H] in [g0, g0 + 1] */
-    mctx m[TRAIL_MAX_Z];     /* indexed by group - g_lo */
+    mctx m[TRAIL_MAX_Z];   /* indexed by group; set for groups g_lo .. g_hi */
     int n_eep;             /* EEPs of the interpolated star */
     int flags;
 } qctx;

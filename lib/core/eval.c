@@ -28,15 +28,33 @@ static inline void interval_weights(const hrt_grid *g, mctx *m, double x)
     }
 }
 
-/* Mass context of one group for route r at log mass x. */
 void trail_interval_weights(const hrt_grid *g, mctx *m, double x) { interval_weights(g, m, x); }
 
+/* How far beyond a route's end track k (log mass, dex) a mass may be
+ * extrapolated: TRAIL_EXTRAP_SPACINGS times the spacing to the route's next
+ * track inside, or, for a route with one track in the group, half the gap to
+ * the nearest track outside it in the direction of the query (the midpoint,
+ * where the route boundary of a generated grid lies); unlimited towards an
+ * end of the grid (the mass range check bounds that). */
+static double extrap_limit(const zgroup *gp, size_t lo, size_t hi, size_t k, double dx)
+{
+    const double *lm = gp->logm;
+    if (hi - lo >= 2)
+        return TRAIL_EXTRAP_SPACINGS * (k + 1 == hi ? lm[k] - lm[k - 1] : lm[k + 1] - lm[k]);
+    if (dx > 0.0)
+        return k + 1 < gp->n_mass ? 0.5 * (lm[k + 1] - lm[k]) : INFINITY;
+    return k > 0 ? 0.5 * (lm[k] - lm[k - 1]) : INFINITY;
+}
+
+/* Mass context of one group for route r at log mass x. */
 static inline int mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x, mctx *m)
 {
     size_t lo = gp->route_lo[r], hi = gp->route_hi[r];
     m->gp = gp;
     m->extrapolated = 0;
     m->interior = 0;
+    m->extrap_dex = 0.0;
+    m->extrap_limit = INFINITY;
     if (lo == hi)
         return HRT_E_NO_TRACK;
     const double *lm = gp->logm;
@@ -45,11 +63,15 @@ static inline int mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x,
          * with its slope (log age with a step limited to stay increasing). */
         int top = x >= lm[hi - 1] && hi - lo > 1;
         size_t k = top ? hi - 1 : lo;
+        m->extrap_dex = x - lm[k];
+        m->extrap_limit = extrap_limit(gp, lo, hi, k, m->extrap_dex);
+        m->near = k;
+        if (fabs(m->extrap_dex) > m->extrap_limit * (1.0 + TRAIL_EDGE_REL_TOL))
+            return HRT_E_NO_TRACK;
         double dx = hi - lo == 1 ? 0.0 : x - lm[k];
         double lim = gp->age_dx_max[2 * k + (dx > 0.0)];
         double dxa = dx > lim ? lim : (dx < -lim ? -lim : dx);
         m->i = top ? k - 1 : k;
-        m->near = k;
         for (int c = 0; c < 4; c++)
             m->w_val[c] = m->w_age[c] = 0.0;
         int s = top ? 2 : 0;
@@ -107,6 +129,48 @@ void trail_qctx_copy_z(qctx *dst, const qctx *src)
 }
 
 /* The mass part, after qctx_z. */
+/* Groups on each side of the bracket the type across [Fe/H] can use. */
+static size_t stencil_reach(const hrt_grid *g)
+{
+    switch (trail_z_type(g)) {
+    case HRT_INTERP_STEFFEN:
+        return 1;
+    case HRT_INTERP_AKIMA:
+        return 2;
+    case HRT_INTERP_CSPLINE:
+        return g->n_z;
+    default:
+        return 0;
+    }
+}
+
+/* Group k outside the bracket joins the stencil if it covers the mass and
+ * places it on its tracks (its context in *m). */
+static inline int outer_group(const hrt_grid *g, size_t k, int route, double mass, double x, mctx *m, int *ne)
+{
+    const zgroup *gp = &g->grp[k];
+    if (mass < gp->mass[0] || mass > gp->mass[gp->n_mass - 1] || mass_ctx(g, gp, route, x, m) != HRT_OK)
+        return 0;
+    if (m->n_eep < *ne)
+        *ne = m->n_eep;
+    return 1;
+}
+
+/* The message of a bracketing group that cannot place the mass. */
+static int no_track(const qctx *q, size_t k, hrt_error *err)
+{
+    const hrt_grid *g = q->g;
+    const mctx *m = &q->m[k];
+    if (isfinite(m->extrap_limit))
+        return trail_set_error(err, HRT_E_NO_TRACK,
+                               "%g Msun lies %.3g dex from the nearest track of route '%s' at Z = %g (%g Msun); "
+                               "extrapolation reaches %.3g dex there",
+                               q->mass, fabs(m->extrap_dex), g->routes[q->route].name, g->grp[k].z,
+                               g->grp[k].mass[m->near], m->extrap_limit);
+    return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
+                           g->routes[q->route].name, g->grp[k].z, q->mass);
+}
+
 static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
 {
     const hrt_grid *g = q->g;
@@ -121,55 +185,40 @@ static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
     if (rc != HRT_OK)
         return rc;
     size_t gb = trail_place_last(&q->zp);
-    /* Stencil of groups the type across [Fe/H] needs, shrunk to groups
-     * that cover the mass. */
+    double x = trail_log10(mass);
+    /* The groups bracketing Z must place the mass on their tracks. */
+    int ne = 1 << 30;
+    for (size_t k = g0; k <= gb; k++) {
+        mctx *m = &q->m[k];
+        if (mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
+            return no_track(q, k, err);
+        if (m->n_eep < ne)
+            ne = m->n_eep;
+        if (m->extrapolated)
+            q->flags |= HRT_FLAG_EXTRAPOLATED;
+    }
+    /* Further groups the type across [Fe/H] uses for its slopes, as far as
+     * they cover the mass and reach it by interpolation or extrapolation
+     * within its limit: the stencil shrinks where they do not. */
     size_t s_lo = g0, s_hi = gb;
     if (!q->zp.single) {
-        size_t reach = 0;
-        switch (trail_z_type(g)) {
-        case HRT_INTERP_STEFFEN:
-            reach = 1;
-            break;
-        case HRT_INTERP_AKIMA:
-            reach = 2;
-            break;
-        case HRT_INTERP_CSPLINE:
-            reach = nz;
-            break;
-        default:
-            reach = 0;
-        }
+        size_t reach = stencil_reach(g);
         for (size_t k = 0; k < reach && s_lo > 0; k++) {
-            const zgroup *gp = &g->grp[s_lo - 1];
-            if (mass < gp->mass[0] || mass > gp->mass[gp->n_mass - 1])
+            if (!outer_group(g, s_lo - 1, route, mass, x, &q->m[s_lo - 1], &ne))
                 break;
             s_lo--;
         }
         for (size_t k = 0; k < reach && s_hi + 1 < nz; k++) {
-            const zgroup *gp = &g->grp[s_hi + 1];
-            if (mass < gp->mass[0] || mass > gp->mass[gp->n_mass - 1])
+            if (!outer_group(g, s_hi + 1, route, mass, x, &q->m[s_hi + 1], &ne))
                 break;
             s_hi++;
         }
+        for (size_t k = s_lo; k <= s_hi; k++)
+            q->feh_stencil[k - s_lo] = g->grp[k].feh;
     }
     q->g_lo = s_lo;
     q->g_hi = s_hi;
-    double x = trail_log10(mass);
-    int ne = 1 << 30;
-    for (size_t k = s_lo; k <= s_hi; k++) {
-        mctx *m = &q->m[k - s_lo];
-        if (mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
-            return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
-                                 g->routes[route].name, g->grp[k].z, mass);
-        if (m->n_eep < ne)
-            ne = m->n_eep;
-        if (m->extrapolated && k >= g0 && k <= gb)
-            q->flags |= HRT_FLAG_EXTRAPOLATED;
-    }
     q->n_eep = ne;
-    if (!q->zp.single)
-        for (size_t k = s_lo; k <= s_hi; k++)
-            q->feh_stencil[k - s_lo] = g->grp[k].feh;
     return HRT_OK;
 }
 
@@ -191,7 +240,7 @@ int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error
 /* Value of quantity qty at EEP j in group k of the stencil (mass Hermite). */
 static inline double group_value(const qctx *q, size_t k, int qty, int j)
 {
-    const mctx *m = &q->m[k - q->g_lo];
+    const mctx *m = &q->m[k];
     const zgroup *gp = m->gp;
     if (qty == Q_AGE) {
         const double *a = gp->age_interval + (m->i * q->g->n_eep_max + (size_t)j) * 4, *w = m->w_age;
@@ -242,7 +291,7 @@ double trail_q_value(const qctx *q, int qty, int j)
 void trail_q_values(const qctx *q, int j, double v[NQS])
 {
     if (q->zp.single) {
-        const mctx *m = &q->m[q->zp.g0 - q->g_lo];
+        const mctx *m = &q->m[q->zp.g0];
         const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w_val;
         for (int c = 0; c < NQS; c++)
             v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
@@ -251,7 +300,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
     /* All quantities of a group at once: their knot data are contiguous. */
     double ys[NQS][TRAIL_MAX_Z];
     size_t n = q->zp.single ? 1 : q->g_hi - q->g_lo + 1;
-    size_t k0 = q->zp.single ? q->zp.g0 - q->g_lo : 0;
+    size_t k0 = q->zp.single ? q->zp.g0 : q->g_lo;
     for (size_t k = 0; k < n; k++) {
         const mctx *m = &q->m[k0 + k];
         const double *p = trail_knot(m->gp, (size_t)j, m->i, 1), *w = m->w_val;
@@ -278,7 +327,7 @@ void trail_q_values(const qctx *q, int j, double v[NQS])
     }
 }
 
-static const mctx *near_track(const qctx *q) { return &q->m[q->zp.g_near - q->g_lo]; }
+static const mctx *near_track(const qctx *q) { return &q->m[q->zp.g_near]; }
 
 int trail_q_phase(const qctx *q, int j)
 {
@@ -333,7 +382,7 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
     size_t gb = q->zp.g0 + 1;
     int k0 = mn->gp->remnant[mn->near], same = 1;
     for (size_t k = q->zp.g0; k <= gb; k++) {
-        const mctx *m = &q->m[k - q->g_lo];
+        const mctx *m = &q->m[k];
         for (int s = 0; s < 2; s++) {
             size_t t = m->i + (size_t)s;
             if ((m->w_val[2 * s] != 0.0 || m->w_val[2 * s + 1] != 0.0) &&
@@ -352,7 +401,7 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
     }
     double v[2];
     for (size_t k = q->zp.g0; k <= gb; k++) {
-        const mctx *m = &q->m[k - q->g_lo];
+        const mctx *m = &q->m[k];
         const double *p = m->gp->remnant_knots + 2 * m->i;
         v[k - q->zp.g0] = m->w_val[0] * p[0] + m->w_val[1] * p[1] + m->w_val[2] * p[2] + m->w_val[3] * p[3];
     }
@@ -422,7 +471,7 @@ static inline void src_values(const qctx *q, const trail_track_arrays *S, int j,
  * nearest track's own log age -> EEP table. */
 static int q_hint(const qctx *q, double lt)
 {
-    const mctx *m = &q->m[q->zp.g_near - q->g_lo];
+    const mctx *m = &q->m[q->zp.g_near];
     const double *x = m->gp->age_tab_x + 2 * m->near;
     double k = (lt - x[0]) * x[1];
     if (!(k >= 0.0))
@@ -617,7 +666,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
             rc_nxt = init_star(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
             if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->zp.single) {
                 int j = q_hint(nxt, trail_log10(age_yr[i + 1]));
-                const mctx *m = &nxt->m[nxt->zp.g0 - nxt->g_lo];
+                const mctx *m = &nxt->m[nxt->zp.g0];
                 if (j >= 0 && j + 1 < nxt->n_eep) {
                     const char *p0 = (const char *)trail_knot(m->gp, (size_t)j, m->i, 0);
                     const char *p1 = (const char *)trail_knot(m->gp, (size_t)j + 1, m->i, 0);

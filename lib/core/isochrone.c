@@ -18,7 +18,7 @@
 static double age_at_mass(qctx *q, int r, double x, int j)
 {
     for (size_t k = q->zp.g0; k <= trail_place_last(&q->zp); k++) {
-        mctx *m = &q->m[k - q->g_lo];
+        mctx *m = &q->m[k];
         const double *lm = m->gp->logm;
         if (m->interior && x > lm[m->i] && x < lm[m->i + 1])
             trail_interval_weights(q->g, m, x);
