@@ -234,6 +234,8 @@ HRT_API int hrt_interp_from_name(const char *name);
 #define HRT_FLAG_REMNANT 0x2       /**< past the last EEP: the state is the analytic remnant */
 #define HRT_FLAG_EXTRAPOLATED 0x4  /**< mass slightly outside its route's tracks: linear extrapolation */
 #define HRT_FLAG_NOT_MODELLED 0x8  /**< before the zero-age main sequence: only phase and mass are set */
+#define HRT_FLAG_BEYOND_LAW 0x10   /**< an analytic remnant outside the range where its law holds to its stated
+                                    *   accuracy: a white dwarf above 0.1 or below 10^-4.5 Lsun (hrt_wd_log_l) */
 
 /**
  * State of one star at one age.  Plain data, so ctypes and Fortran bind(C)
@@ -450,7 +452,11 @@ HRT_API void hrt_star_free(hrt_star *star);
 HRT_API int hrt_star_at(const hrt_star *star, double age_yr, hrt_state *out);
 /** Number of EEPs of the star's interpolated track. */
 HRT_API size_t hrt_star_n_eep(const hrt_star *star);
-/** State at EEP j of the star's track (0 <= j < hrt_star_n_eep); HRT_E_INVALID if out of range. */
+/**
+ * State at EEP j of the star's track (0 <= j < hrt_star_n_eep); HRT_E_INVALID
+ * if out of range.  At the last EEP of a track that leaves a remnant it is
+ * the remnant at its birth, as hrt_star_at() gives at that age.
+ */
 HRT_API int hrt_star_eep_state(const hrt_star *star, size_t j, hrt_state *out);
 /** Route index of the star. */
 HRT_API int hrt_star_route(const hrt_star *star);
@@ -550,7 +556,9 @@ HRT_API double hrt_wd_radius_rsun(double mass_msun);
  * (hrt_remnant He/CO/ONe) that had log10 L/Lsun = log_l0 at the start of
  * cooling, dt_yr years later, by Mestel's (1952, MNRAS 112, 583) law
  * t_cool = 6e6 yr (A/12)^-1 M^(5/7) (mu/2)^(-2/7) (L^(-5/7) - L0^(-5/7)).
- * Accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun.
+ * Accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun
+ * (states outside are flagged HRT_FLAG_BEYOND_LAW).  NaN for a kind that is
+ * not a white dwarf, a non-positive mass, a non-finite log_l0 or a negative dt.
  */
 HRT_API double hrt_wd_log_l(double mass_msun, int kind, double log_l0, double dt_yr);
 

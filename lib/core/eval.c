@@ -432,8 +432,11 @@ void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1
     s->log_teff_k = v[Q_TEFF - 1];
     double m0 = s->initial_mass_msun; /* masses are stored as fractions of it */
     s->mass_msun = m0 * v[Q_MASS - 1];
-    s->he_core_mass_msun = m0 * v[Q_HE - 1];
-    s->co_core_mass_msun = m0 * v[Q_CO - 1];
+    /* Cores interpolated separately from the star can overshoot it where
+     * the envelope is thin (stripped stars): a core is never heavier than
+     * what contains it. */
+    s->he_core_mass_msun = fmin(m0 * v[Q_HE - 1], s->mass_msun);
+    s->co_core_mass_msun = fmin(m0 * v[Q_CO - 1], s->he_core_mass_msun);
     s->log_r_rsun = trail_log_r_from(s->log_l_lsun, s->log_teff_k);
     s->log_g_cgs = trail_log_g_from(s->mass_msun, s->log_r_rsun);
 }

@@ -76,12 +76,19 @@ static double wd_ion_a(int kind)
  * Inverted for L at a time dt after a luminosity L0. */
 double hrt_wd_log_l(double m, int kind, double log_l0, double dt_yr)
 {
-    if (!(m > 0.0) || !isfinite(log_l0) || !(dt_yr >= 0.0))
+    if (!(m > 0.0) || !isfinite(log_l0) || !(dt_yr >= 0.0) || !trail_remnant_is_wd(kind) ||
+        strcmp(hrt_remnant_key(kind), "unknown") == 0)
         return NAN;
     double c = 6.0e6 * (12.0 / wd_ion_a(kind)) * pow(m, 5.0 / 7.0);
     double x = pow(10.0, -5.0 / 7.0 * log_l0) + dt_yr / c;
     return -7.0 / 5.0 * trail_log10(x);
 }
+
+/* Luminosities between which Mestel cooling is good to the factor of about
+ * 1.5 in age hrt_wd_log_l states (log10 L/Lsun; neutrino losses above,
+ * crystallisation and Debye cooling below; from memory, common practice). */
+#define TRAIL_WD_LOG_L_VALID_MIN (-4.5)
+#define TRAIL_WD_LOG_L_VALID_MAX (-1.0)
 
 /* Nominal neutron-star radius, km (common practice: 11-13 km). */
 #define NS_RADIUS_KM 12.0
@@ -105,6 +112,8 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
         s->log_r_rsun = trail_log10(hrt_wd_radius_rsun(rem_mass));
         s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l_lsun - 2.0 * s->log_r_rsun);
         s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
+        if (!(s->log_l_lsun >= TRAIL_WD_LOG_L_VALID_MIN && s->log_l_lsun <= TRAIL_WD_LOG_L_VALID_MAX))
+            s->flags |= HRT_FLAG_BEYOND_LAW;
         s->he_core_mass_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
         s->co_core_mass_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
         break;

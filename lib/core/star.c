@@ -90,6 +90,11 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
         return HRT_E_NULL;
     if (j >= (size_t)s->n)
         return HRT_E_INVALID;
+    /* The last EEP of a track with a remnant is where the remnant forms:
+     * the same state hrt_star_at gives at that age (not the pre-collapse
+     * star under the remnant's name). */
+    if (j + 1 == (size_t)s->n && s->remnant != HRT_REMNANT_NONE)
+        return hrt_star_at(s, s->age_yr[j], out);
     trail_state_clear(out, s->q.mass, s->q.z, (s->age_yr[j]));
     out->route = s->q.route;
     out->flags = s->q.flags;
