@@ -112,7 +112,7 @@ static int read_route_layout(hid_t sub, const char *where, route_layout *L, hrt_
 
 static int read_routes(hid_t fh, trail_file *f, hrt_error *err)
 {
-    hid_t rg = H5Lexists(fh, "routes", H5P_DEFAULT) > 0 ? H5Gopen2(fh, "routes", H5P_DEFAULT) : -1;
+    hid_t rg = trail_h5_group(fh, "routes");
     if (rg < 0)
         return trail_set_error(err, HRT_E_FORMAT, "group 'routes' is missing");
     char **names = NULL;
@@ -139,7 +139,7 @@ static int read_routes(hid_t fh, trail_file *f, hrt_error *err)
             break;
         char where[96];
         snprintf(where, sizeof where, "routes/%s", L->name);
-        hid_t sub = H5Lexists(rg, L->name, H5P_DEFAULT) > 0 ? H5Gopen2(rg, L->name, H5P_DEFAULT) : -1;
+        hid_t sub = trail_h5_group(rg, L->name);
         if (sub < 0) {
             rc = trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
             break;
@@ -166,7 +166,7 @@ typedef struct code_map {
  * file uses; each must be the library's own code of that key. */
 static int read_code_table(hid_t fh, const char *group, const char *(*key_of)(int), int *map, hrt_error *err)
 {
-    hid_t g = H5Lexists(fh, group, H5P_DEFAULT) > 0 ? H5Gopen2(fh, group, H5P_DEFAULT) : -1;
+    hid_t g = trail_h5_group(fh, group);
     if (g < 0)
         return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", group);
     char **keys = NULL;
@@ -235,7 +235,7 @@ static int check_units(hid_t loc, const char *where, const trail_name *n, hrt_er
 {
     if (!n->units)
         return HRT_OK;
-    hid_t d = H5Dopen2(loc, n->v2, H5P_DEFAULT);
+    hid_t d = trail_h5_link(loc, n->v2) == 1 ? H5Dopen2(loc, n->v2, H5P_DEFAULT) : -1;
     if (d < 0)
         return trail_set_error(err, HRT_E_FORMAT, "%s/%s: not a dataset", where, n->v2);
     char *u = NULL;
@@ -434,12 +434,31 @@ static int read_eep_data(hid_t gr, const char *where, const trail_file *f, const
     return rc;
 }
 
+/* Before anything of a group is allocated: its arrays within the caps of
+ * util/schema.h, and its first per-EEP dataset of that shape actually
+ * stored in the file (h5read.c refuses one that declares far more than it
+ * stores). */
+static int check_size(hid_t gr, const char *where, trail_file *f, size_t nm, hrt_error *err)
+{
+    double values = (double)nm * (double)f->n_eep_max;
+    if (values > TRAIL_MAX_GROUP_VALUES)
+        return trail_set_error(err, HRT_E_FORMAT, "%s: %zu tracks x %zu EEPs is more than the %.0f values a group may have",
+                               where, nm, f->n_eep_max, (double)TRAIL_MAX_GROUP_VALUES);
+    f->values += values;
+    if (f->values > TRAIL_MAX_GRID_VALUES)
+        return trail_set_error(err, HRT_E_FORMAT, "%s: the grid has more than the %.0f values per quantity a grid may have",
+                               where, (double)TRAIL_MAX_GRID_VALUES);
+    hsize_t d2[2] = {nm, f->n_eep_max};
+    return trail_h5_numeric(gr, where, trail_name_in(&trail_schema_names.eep[TRAIL_F_LOG_AGE], f->version), 2, d2, 0,
+                            NULL, err);
+}
+
 static int read_group(hid_t fh, trail_file *f, size_t iz, const code_map *cm, hrt_error *err)
 {
     const trail_schema *S = &trail_schema_names;
     char where[64];
     snprintf(where, sizeof where, "metallicity/%zu", iz);
-    hid_t gr = H5Lexists(fh, where, H5P_DEFAULT) > 0 ? H5Gopen2(fh, where, H5P_DEFAULT) : -1;
+    hid_t gr = trail_h5_link(fh, "metallicity") == 1 ? trail_h5_group(fh, where) : -1;
     if (gr < 0)
         return trail_set_error(err, HRT_E_FORMAT, "group '%s' is missing", where);
     trail_file_group *gp = &f->grp[iz];
@@ -462,6 +481,8 @@ static int read_group(hid_t fh, trail_file *f, size_t iz, const code_map *cm, hr
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: unusable length %llu (1..%d tracks)", where, im,
                              (unsigned long long)dm[0], TRAIL_MAX_TRACKS);
     size_t nm = rc == HRT_OK ? (size_t)dm[0] : 0, J = f->n_eep_max, R = f->n_routes;
+    if (rc == HRT_OK)
+        rc = check_size(gr, where, f, nm, err);
     int *ibuf = NULL;
     if (rc == HRT_OK) {
         ibuf = malloc((nm > R ? nm : R) * J * sizeof(int) + sizeof(int));
@@ -521,7 +542,7 @@ static int read_root(hid_t fh, int oldest, trail_file *f, hrt_error *err)
 
 static int open_groups(hid_t fh, trail_file *f, hid_t *mg, hrt_error *err)
 {
-    *mg = H5Lexists(fh, "metallicity", H5P_DEFAULT) > 0 ? H5Gopen2(fh, "metallicity", H5P_DEFAULT) : -1;
+    *mg = trail_h5_group(fh, "metallicity");
     if (*mg < 0)
         return trail_set_error(err, HRT_E_FORMAT, "group 'metallicity' is missing");
     H5G_info_t info;

@@ -170,11 +170,43 @@ int trail_h5_attr_number(hid_t loc, const char *name, const char *where, int wan
 
 /* Open dataset `name` under loc and check its rank and shape; dims[k] == 0
  * means "any" and receives the size found. */
+int trail_h5_link(hid_t loc, const char *name)
+{
+    if (H5Lexists(loc, name, H5P_DEFAULT) <= 0)
+        return 0;
+    H5L_info_t info;
+    if (H5Lget_info(loc, name, &info, H5P_DEFAULT) < 0 || info.type != H5L_TYPE_HARD)
+        return -1;
+    return 1;
+}
+
+hid_t trail_h5_group(hid_t loc, const char *name)
+{
+    return trail_h5_link(loc, name) == 1 ? H5Gopen2(loc, name, H5P_DEFAULT) : -1;
+}
+
+/* A dataset must store the values it declares: a tiny file declaring a
+ * huge array would make the reader allocate it.  Filters (deflate) can
+ * shrink data by about a thousand times at most. */
+static int check_storage(hid_t d, hid_t t, hssize_t points, const char *where, const char *name, hrt_error *err)
+{
+    size_t size = t >= 0 ? H5Tget_size(t) : 0;
+    double declared = (double)points * (double)size, stored = (double)H5Dget_storage_size(d);
+    if (declared > stored * TRAIL_MAX_FILTER_RATIO + TRAIL_STORAGE_SLACK_BYTES)
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: declares %.0f bytes of values but stores only %.0f", where,
+                               name, declared, stored);
+    return HRT_OK;
+}
+
 static int h5_open_dataset(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims,
                         H5T_class_t *cls, hid_t *out, hrt_error *err)
 {
-    if (H5Lexists(loc, name, H5P_DEFAULT) <= 0)
+    int link = trail_h5_link(loc, name);
+    if (link == 0)
         return trail_set_error(err, HRT_E_FORMAT, "%s/%s: dataset is missing", where, name);
+    if (link < 0)
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: a soft or external link, not a dataset stored in the file",
+                               where, name);
     hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
     if (d < 0)
         return trail_set_error(err, HRT_E_FORMAT, "%s/%s: not a dataset", where, name);
@@ -195,6 +227,8 @@ static int h5_open_dataset(hid_t loc, const char *where, const char *name, int r
                                    k, (unsigned long long)found[k], (unsigned long long)dims[k]);
         }
     }
+    if (rc == HRT_OK)
+        rc = check_storage(d, t, H5Sget_simple_extent_npoints(s), where, name, err);
     *cls = t >= 0 ? H5Tget_class(t) : H5T_NO_CLASS;
     if (t >= 0)
         H5Tclose(t);

@@ -9,6 +9,18 @@
 
 #include "hrtrail.h"
 
+/* Filters (deflate) shrink data by about a thousand times at most: a
+ * dataset storing less than 1/TRAIL_MAX_FILTER_RATIO of what it declares
+ * (plus some slack for tiny ones) is refused before anything is allocated. */
+#define TRAIL_MAX_FILTER_RATIO 1100.0
+#define TRAIL_STORAGE_SLACK_BYTES 65536.0
+
+/* 1 if loc holds a hard link `name`, 0 if nothing of that name, -1 if a
+ * soft or external link (refused: it could name another file, or a FIFO). */
+int trail_h5_link(hid_t loc, const char *name);
+/* Group `name` under loc through a hard link, or -1. */
+hid_t trail_h5_group(hid_t loc, const char *name);
+
 /* Free n strings and the array (NULL allowed). */
 void trail_h5_free_strings(char **s, size_t n);
 /* Number of points of a dataspace; *rank receives its rank. */

@@ -29,6 +29,12 @@
 #define TRAIL_MAX_Z 64
 #define TRAIL_MAX_EEP 65535
 #define TRAIL_MAX_TRACKS 100000
+/* Caps on the size of a grid (values per quantity: tracks x EEPs), so that a
+ * small hostile file cannot make the reader allocate gigabytes: 2^24 in one
+ * metallicity group (134 MB per quantity), 2^26 in the whole grid.  The
+ * default grid has about 7 x 65,000. */
+#define TRAIL_MAX_GROUP_VALUES 16777216.0
+#define TRAIL_MAX_GRID_VALUES 67108864.0
 /* Most entries of a string dataset (keypoint names, route names, codes). */
 #define TRAIL_MAX_STRINGS 100000
 
@@ -120,6 +126,7 @@ typedef struct trail_file {
     attr_pair *attrs;      /* root text attributes */
     size_t n_z;
     trail_file_group *grp;
+    double values;         /* tracks x EEPs over the groups read so far */
     size_t bytes;          /* memory held */
 } trail_file;
 
