@@ -66,12 +66,39 @@ static herr_t collect_attr(hid_t loc, const char *name, const H5A_info_t *info, 
     return 0;
 }
 
+/* Keypoint names of a route: each once, and those hrtrail knows in the
+ * order of a star's life (a layout with tams before zams, say, would give
+ * every keypoint age a wrong meaning). */
+static int check_keypoint_names(const char *where, const route_layout *L, hrt_error *err)
+{
+    int last = -1;
+    size_t last_k = 0;
+    for (size_t k = 0; k < L->n_kp; k++) {
+        for (size_t q = 0; q < k; q++)
+            if (strcmp(L->kp_names[q], L->kp_names[k]) == 0)
+                return trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_names[%zu]: '%.40s' appears twice", where, k,
+                                       L->kp_names[k]);
+        int i = trail_keypoint_index(L->kp_names[k]);
+        if (i < 0)
+            continue;
+        if (i < last)
+            return trail_set_error(err, HRT_E_FORMAT,
+                                   "%s/keypoint_names[%zu]: '%s' after '%s' is out of the order of a star's life", where,
+                                   k, L->kp_names[k], L->kp_names[last_k]);
+        last = i;
+        last_k = k;
+    }
+    return HRT_OK;
+}
+
 /* Keypoint EEPs and segment sizes of one route (routes/<name>/). */
 static int read_route_layout(hid_t sub, const char *where, route_layout *L, hrt_error *err)
 {
     int rc = trail_h5_strings(sub, where, "keypoint_names", &L->n_kp, &L->kp_names, err);
     if (rc == HRT_OK && L->n_kp < 2)
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/keypoint_names: at least 2 keypoints needed", where);
+    if (rc == HRT_OK)
+        rc = check_keypoint_names(where, L, err);
     int *kp = NULL, *seg = NULL;
     if (rc == HRT_OK) {
         kp = malloc(L->n_kp * sizeof *kp);

@@ -1,6 +1,8 @@
 /* The grid file's dataset names, units and meanings, by format version
  * (tracks/FORMAT.md).  Units are astropy unit strings: dex(...) for a log10
  * of a quantity in that unit. */
+#include <string.h>
+
 #include "util/schema.h"
 
 const trail_schema trail_schema_names = {
@@ -24,3 +26,16 @@ const trail_schema trail_schema_names = {
         },
     .phase = {"phase", "phase", NULL, "phase from this EEP to the next (hrtrail code)"},
 };
+
+const char trail_known_keypoints[TRAIL_N_KNOWN_KEYPOINTS][16] = {
+    "birthline",   "zams",      "tams",        "rgb_base",      "he_ignition", "cheb_start",
+    "cheb_end",    "first_pulse", "agb_end",   "envelope_loss", "wd_onset",    "core_collapse",
+};
+
+int trail_keypoint_index(const char *name)
+{
+    for (int k = 0; k < TRAIL_N_KNOWN_KEYPOINTS; k++)
+        if (strcmp(name, trail_known_keypoints[k]) == 0)
+            return k;
+    return -1;
+}

@@ -86,6 +86,15 @@ extern const trail_schema trail_schema_names;
 /* Name of n in format version v (1 or 2). */
 static inline const char *trail_name_in(const trail_name *n, int v) { return v >= 2 ? n->v2 : n->v1; }
 
+/* The keypoints hrtrail knows, in the order they occur in a star's life
+ * (tracks/FORMAT.md, "Keypoint criteria"); a route's layout lists the ones
+ * it has in this order.  Names not in the list are a layout's own (flagged
+ * on import) and may stand anywhere. */
+#define TRAIL_N_KNOWN_KEYPOINTS 12
+extern const char trail_known_keypoints[TRAIL_N_KNOWN_KEYPOINTS][16];
+/* Index of a known keypoint name in trail_known_keypoints, -1 if not known. */
+int trail_keypoint_index(const char *name);
+
 /* The EEP layout of one route as a file stores it (routes/<name>/). */
 typedef struct route_layout {
     char *name;
