@@ -29,8 +29,8 @@ static const double base_masses[] = {
     0.30, 0.33, 0.36, 0.40, 0.43, 0.46, 0.60, 0.65, 0.70, 0.75, 0.80, 0.85, 0.90, 0.95, 1.00,
     1.05, 1.10, 1.20, 1.30, 1.40, 1.50, 1.60, 1.70, 1.80, 1.90, 2.00, 2.10, 2.20, 2.30, 2.40, 2.50,
     2.60, 2.80, 3.00, 3.30, 3.60, 4.00, 4.50, 5.00, 5.50, 6.00, 6.50, 7.00, 7.50, 9.0, 10.0, 11.0,
-    12.0, 13.0, 14.0, 15.0, 17.0, 20.0, 22.0, 23.0, 24.0, 25.0, 26.0, 27.0, 28.0, 30.0, 32.5, 35.0, 40.0, 45.0, 50.0, 60.0, 70.0, 80.0,
-    90.0, 100.0, 120.0, 150.0};
+    12.0, 13.0, 14.0, 15.0, 17.0, 20.0, 22.0, 23.0, 24.0, 25.0, 26.0, 27.0, 28.0, 30.0, 32.5, 35.0, 40.0,
+    45.0, 50.0, 60.0, 70.0, 80.0, 90.0, 100.0, 120.0, 150.0};
 #define N_BASE (sizeof base_masses / sizeof base_masses[0])
 
 static int cmp_double(const void *a, const void *b)
@@ -82,16 +82,13 @@ static int route_of(const double bnd[2], double m)
  * the import's keypoint detection reads (tracks/FORMAT.md, "Keypoint
  * criteria"), which the model does not compute: central_x and central_y
  * are PROXIES, not physics: central hydrogen falls linearly in age from
- * X = 1 - (0.245 + 1.5 Z) - Z at the ZAMS to 0 at the TAMS; central helium
+ * the model's initial X at the ZAMS to 0 at the TAMS; central helium
  * is 1 - Z - central_x until core helium burning starts (cheb_start) and
  * falls linearly in age to 0 at cheb_end.  The keypoint column names the
  * model's keypoints (the override the import honours). */
-static int dump_raw(const char *dir, const gen_track *t)
+static int dump_raw(const char *dir, const gen_track *t, const hrt_route_spec *route)
 {
-    static const char *const kp_low[] = GEN_LOW_KEYPOINTS;
-    static const char *const kp_giant[] = GEN_GIANT_KEYPOINTS;
-    static const char *const kp_sg[] = GEN_SG_KEYPOINTS;
-    const char *const *kpn = t->route == GEN_ROUTE_LOW ? kp_low : t->route == GEN_ROUTE_GIANT ? kp_giant : kp_sg;
+    const char *const *keypoint = route->keypoint_names;
     char path[4096];
     snprintf(path, sizeof path, "%s/raw_z%.4f_m%08.4f.csv", dir, t->z, t->initial_mass);
     FILE *f = fopen(path, "w");
@@ -101,26 +98,29 @@ static int dump_raw(const char *dir, const gen_track *t)
             t->z, t->route, t->remnant, t->remnant_mass);
     for (size_t k = 0; k < t->n_kp; k++)
         fprintf(f, "%s%zu", k ? ";" : "", t->kp[k]);
-    fprintf(f, "\nage_yr,log_l_lsun,log_teff_k,mass_msun,he_core_mass_msun,co_core_mass_msun,phase,central_x,central_y,keypoints\n");
-    double x0 = 1.0 - (0.245 + 1.5 * t->z) - t->z;
+    fprintf(f, "\nage_yr,log_l_lsun,log_teff_k,mass_msun,he_core_mass_msun,co_core_mass_msun,phase,central_x,"
+               "central_y,keypoints\n");
+    double x0 = gen_x_hydrogen(t->z);
     double t_zams = t->s[t->kp[0]].age_yr, t_tams = t->s[t->kp[1]].age_yr;
-    double t_cs = INFINITY, t_ce = INFINITY;
+    double t_cheb_start = INFINITY, t_cheb_end = INFINITY;
     for (size_t k = 0; k < t->n_kp; k++) {
-        if (!strcmp(kpn[k], "cheb_start"))
-            t_cs = t->s[t->kp[k]].age_yr;
-        if (!strcmp(kpn[k], "cheb_end"))
-            t_ce = t->s[t->kp[k]].age_yr;
+        if (!strcmp(keypoint[k], "cheb_start"))
+            t_cheb_start = t->s[t->kp[k]].age_yr;
+        if (!strcmp(keypoint[k], "cheb_end"))
+            t_cheb_end = t->s[t->kp[k]].age_yr;
     }
     size_t k = 0;
     for (size_t i = 0; i < t->n; i++) {
         const gen_sample *s = &t->s[i];
-        double a = s->age_yr;
-        double xc = a <= t_zams ? x0 : a >= t_tams ? 0.0 : x0 * (t_tams - a) / (t_tams - t_zams);
-        double yc = a <= t_cs ? 1.0 - t->z - xc : a >= t_ce ? 0.0 : (1.0 - t->z) * (t_ce - a) / (t_ce - t_cs);
+        double age = s->age_yr;
+        double xc = age <= t_zams ? x0 : age >= t_tams ? 0.0 : x0 * (t_tams - age) / (t_tams - t_zams);
+        double yc = age <= t_cheb_start ? 1.0 - t->z - xc
+                    : age >= t_cheb_end ? 0.0
+                                        : (1.0 - t->z) * (t_cheb_end - age) / (t_cheb_end - t_cheb_start);
         const char *flag = "-";
         if (k < t->n_kp && t->kp[k] == i)
-            flag = kpn[k++];
-        fprintf(f, "%.17g,%.10f,%.10f,%.10f,%.10f,%.10f,%d,%.10g,%.10g,%s\n", a, s->log_l_lsun, s->log_teff, s->mass,
+            flag = keypoint[k++];
+        fprintf(f, "%.17g,%.10f,%.10f,%.10f,%.10f,%.10f,%d,%.10g,%.10g,%s\n", age, s->log_l_lsun, s->log_teff, s->mass,
                 s->he_core, s->co_core, s->phase, xc, yc, flag);
     }
     return fclose(f) == 0 ? 0 : -1;
@@ -128,31 +128,31 @@ static int dump_raw(const char *dir, const gen_track *t)
 
 /* Columns of one raw track for the builder. */
 typedef struct columns {
-    double *age, *l, *t, *m, *he, *co;
-    int *ph;
+    double *log_age, *log_l, *log_teff, *mass, *he_core, *co_core;
+    int *phase;
 } columns;
 
 static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
 {
     columns c;
     size_t n = t->n;
-    c.age = malloc(n * sizeof(double));
-    c.l = malloc(n * sizeof(double));
-    c.t = malloc(n * sizeof(double));
-    c.m = malloc(n * sizeof(double));
-    c.he = malloc(n * sizeof(double));
-    c.co = malloc(n * sizeof(double));
-    c.ph = malloc(n * sizeof(int));
+    c.log_age = malloc(n * sizeof(double));
+    c.log_l = malloc(n * sizeof(double));
+    c.log_teff = malloc(n * sizeof(double));
+    c.mass = malloc(n * sizeof(double));
+    c.he_core = malloc(n * sizeof(double));
+    c.co_core = malloc(n * sizeof(double));
+    c.phase = malloc(n * sizeof(int));
     int rc = HRT_E_NOMEM;
-    if (c.age && c.l && c.t && c.m && c.he && c.co && c.ph) {
+    if (c.log_age && c.log_l && c.log_teff && c.mass && c.he_core && c.co_core && c.phase) {
         for (size_t i = 0; i < n; i++) {
-            c.age[i] = log10(t->s[i].age_yr);
-            c.l[i] = t->s[i].log_l_lsun;
-            c.t[i] = t->s[i].log_teff;
-            c.m[i] = t->s[i].mass;
-            c.he[i] = t->s[i].he_core;
-            c.co[i] = t->s[i].co_core;
-            c.ph[i] = t->s[i].phase;
+            c.log_age[i] = log10(t->s[i].age_yr);
+            c.log_l[i] = t->s[i].log_l_lsun;
+            c.log_teff[i] = t->s[i].log_teff;
+            c.mass[i] = t->s[i].mass;
+            c.he_core[i] = t->s[i].he_core;
+            c.co_core[i] = t->s[i].co_core;
+            c.phase[i] = t->s[i].phase;
         }
         hrt_track_data d = {
             .initial_mass_msun = t->initial_mass,
@@ -160,27 +160,108 @@ static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
             .remnant = t->remnant,
             .remnant_mass_msun = t->remnant_mass,
             .n = n,
-            .log_age_yr = c.age,
-            .log_l_lsun = c.l,
-            .log_teff_k = c.t,
+            .log_age_yr = c.log_age,
+            .log_l_lsun = c.log_l,
+            .log_teff_k = c.log_teff,
             .log_r_rsun = NULL,
-            .mass_msun = c.m,
-            .he_core_mass_msun = c.he,
-            .co_core_mass_msun = c.co,
-            .phase = c.ph,
+            .mass_msun = c.mass,
+            .he_core_mass_msun = c.he_core,
+            .co_core_mass_msun = c.co_core,
+            .phase = c.phase,
             .n_keypoints = t->n_kp,
             .keypoint_sample = t->kp,
         };
         rc = hrt_builder_add_track(b, t->z, &d, err);
     }
-    free(c.age);
-    free(c.l);
-    free(c.t);
-    free(c.m);
-    free(c.he);
-    free(c.co);
-    free(c.ph);
+    free(c.log_age);
+    free(c.log_l);
+    free(c.log_teff);
+    free(c.mass);
+    free(c.he_core);
+    free(c.co_core);
+    free(c.phase);
     return rc;
+}
+
+/* The route layout of the default grid (hrt_default_route): the model's
+ * GEN_N_ROUTES routes, in its order. */
+typedef struct layout {
+    hrt_route_spec route[GEN_N_ROUTES];
+    const char *keypoint_names[GEN_N_ROUTES][HRT_IMPORT_MAX_KP];
+} layout;
+
+static int default_layout(layout *lay)
+{
+    for (size_t r = 0; r < GEN_N_ROUTES; r++)
+        if (hrt_default_route(r, &lay->route[r], lay->keypoint_names[r]) != HRT_OK)
+            return -1;
+    hrt_route_spec extra;
+    const char *extra_names[HRT_IMPORT_MAX_KP];
+    return hrt_default_route(GEN_N_ROUTES, &extra, extra_names) == HRT_OK ? -1 : 0;
+}
+
+static int usage(const char *prog)
+{
+    fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR]\n", prog);
+    return 2;
+}
+
+/* The builder, with the grid's root attributes. */
+static int start_grid(const layout *lay, const gen_params *p, hrt_builder **b, hrt_error *err)
+{
+    if (hrt_builder_new(GEN_N_ROUTES, lay->route, p->z_sun, b, err) != HRT_OK)
+        return -1;
+    char version[64];
+    snprintf(version, sizeof version, "hrtrail-gen-grid %s", HRT_VERSION_STRING);
+    if (hrt_builder_set_attribute(*b, "created_by", version, err) != HRT_OK ||
+        hrt_builder_set_attribute(*b, "source",
+                                  "semi-analytic model from published relations (tracks/MODEL.md); no "
+                                  "evolution-code output used",
+                                  err) != HRT_OK ||
+        hrt_builder_set_attribute(*b, "description",
+                                  "hrtrail default grid: 0.08-150 Msun, Z = 0.0001-0.03, zero-age main "
+                                  "sequence to white-dwarf cooling onset or core collapse. A "
+                                  "semi-analytic model for population-level work; accuracy in "
+                                  "tracks/MODEL.md.",
+                                  err) != HRT_OK)
+        return -1;
+    return 0;
+}
+
+/* Every track of metallicity z into the builder (and the dump), then the
+ * route boundaries.  Returns 0, or 1 after a message. */
+static int add_metallicity(hrt_builder *b, const layout *lay, const gen_params *p, double z, const char *dump,
+                           hrt_error *err)
+{
+    double bnd[2], masses[160];
+    gen_route_boundaries(p, z, bnd);
+    size_t nm = masses_for_z(p, z, masses, 160);
+    int status = 0;
+    for (size_t im = 0; im < nm && !status; im++) {
+        gen_track t;
+        char msg[256];
+        int route = route_of(bnd, masses[im]);
+        if (gen_track_compute(p, masses[im], z, route, &t, msg, sizeof msg)) {
+            fprintf(stderr, "gen_grid: %s\n", msg);
+            status = 1;
+        } else if (t.n_kp != lay->route[route].n_keypoints) {
+            fprintf(stderr, "gen_grid: M = %g, Z = %g: the model gives %zu keypoints, route '%s' has %zu\n",
+                    masses[im], z, t.n_kp, lay->route[route].name, lay->route[route].n_keypoints);
+            status = 1;
+        } else if (dump && dump_raw(dump, &t, &lay->route[route])) {
+            fprintf(stderr, "gen_grid: cannot write raw track to %s\n", dump);
+            status = 1;
+        } else if (add_track(b, &t, err) != HRT_OK) {
+            fprintf(stderr, "gen_grid: M = %g, Z = %g: %s\n", masses[im], z, err->message);
+            status = 1;
+        }
+        gen_track_free(&t);
+    }
+    if (!status && hrt_builder_set_route_boundaries(b, z, bnd, err) != HRT_OK) {
+        fprintf(stderr, "gen_grid: %s\n", err->message);
+        status = 1;
+    }
+    return status;
 }
 
 int main(int argc, char **argv)
@@ -191,87 +272,34 @@ int main(int argc, char **argv)
             dump = argv[++i];
         else if (argv[i][0] != '-' && !out)
             out = argv[i];
-        else {
-            fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR]\n", argv[0]);
-            return 2;
-        }
+        else
+            return usage(argv[0]);
     }
-    if (!out) {
-        fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR]\n", argv[0]);
-        return 2;
-    }
+    if (!out)
+        return usage(argv[0]);
 
     gen_params p;
     gen_params_default(&p);
-
-    static const char *const kp_low[] = GEN_LOW_KEYPOINTS;
-    static const int seg_low[] = GEN_LOW_SEGMENTS;
-    static const char *const kp_giant[] = GEN_GIANT_KEYPOINTS;
-    static const int seg_giant[] = GEN_GIANT_SEGMENTS;
-    static const char *const kp_sg[] = GEN_SG_KEYPOINTS;
-    static const int seg_sg[] = GEN_SG_SEGMENTS;
-    const hrt_route_spec routes[GEN_N_ROUTES] = {
-        {"low_mass", GEN_LOW_NKP, kp_low, seg_low},
-        {"giant", GEN_GIANT_NKP, kp_giant, seg_giant},
-        {"supergiant", GEN_SG_NKP, kp_sg, seg_sg},
-    };
-
-    hrt_error err = {0};
-    hrt_builder *b = NULL;
-    if (hrt_builder_new(GEN_N_ROUTES, routes, p.z_sun, &b, &err) != HRT_OK) {
-        fprintf(stderr, "gen_grid: %s\n", err.message);
+    layout lay;
+    if (default_layout(&lay) != 0) {
+        fprintf(stderr, "gen_grid: the library's default layout does not have the model's %d routes\n",
+                GEN_N_ROUTES);
         return 1;
     }
-    int status = 0;
-    char version[64];
-    snprintf(version, sizeof version, "hrtrail-gen-grid %s", HRT_VERSION_STRING);
-    if (hrt_builder_set_attribute(b, "created_by", version, &err) != HRT_OK ||
-        hrt_builder_set_attribute(b, "source",
-                                  "semi-analytic model from published relations (tracks/MODEL.md); no "
-                                  "evolution-code output used",
-                                  &err) != HRT_OK ||
-        hrt_builder_set_attribute(b, "description",
-                                  "hrtrail default grid: 0.08-150 Msun, Z = 0.0001-0.03, zero-age main "
-                                  "sequence to white-dwarf cooling onset or core collapse. A "
-                                  "semi-analytic model for population-level work; accuracy in "
-                                  "tracks/MODEL.md.",
-                                  &err) != HRT_OK) {
+    hrt_error err = {0};
+    hrt_builder *b = NULL;
+    if (start_grid(&lay, &p, &b, &err) != 0) {
         fprintf(stderr, "gen_grid: %s\n", err.message);
         hrt_builder_free(b);
         return 1;
     }
-
-    size_t n_tracks = 0;
-    for (size_t iz = 0; iz < N_Z && !status; iz++) {
-        double z = grid_z[iz], bnd[2], masses[160];
-        gen_route_boundaries(&p, z, bnd);
-        size_t nm = masses_for_z(&p, z, masses, 160);
-        for (size_t im = 0; im < nm && !status; im++) {
-            gen_track t;
-            char msg[256];
-            if (gen_track_compute(&p, masses[im], z, route_of(bnd, masses[im]), &t, msg, sizeof msg)) {
-                fprintf(stderr, "gen_grid: %s\n", msg);
-                status = 1;
-            } else if (dump && dump_raw(dump, &t)) {
-                fprintf(stderr, "gen_grid: cannot write raw track to %s\n", dump);
-                status = 1;
-            } else if (add_track(b, &t, &err) != HRT_OK) {
-                fprintf(stderr, "gen_grid: M = %g, Z = %g: %s\n", masses[im], z, err.message);
-                status = 1;
-            }
-            n_tracks++;
-            gen_track_free(&t);
-        }
-        if (!status && hrt_builder_set_route_boundaries(b, z, bnd, &err) != HRT_OK) {
-            fprintf(stderr, "gen_grid: %s\n", err.message);
-            status = 1;
-        }
-    }
+    int status = 0;
+    for (size_t iz = 0; iz < N_Z && !status; iz++)
+        status = add_metallicity(b, &lay, &p, grid_z[iz], dump, &err);
     if (!status && hrt_builder_write(b, out, &err) != HRT_OK) {
         fprintf(stderr, "gen_grid: %s\n", err.message);
         status = 1;
     }
     hrt_builder_free(b);
-    (void)n_tracks;
     return status;
 }

@@ -101,7 +101,7 @@ static double soft_table(const double *x, const double *y, int n, double w, doub
  * ------------------------------------------------------------------------ */
 /* Helium enrichment Y = 0.245 + 1.5 Z [from memory: primordial helium and
  * dY/dZ ~ 1.5]; X = 1 - Y - Z. */
-static double x_hydrogen(double z) { return 1.0 - (0.245 + 1.5 * z) - z; }
+double gen_x_hydrogen(double z) { return 1.0 - (0.245 + 1.5 * z) - z; }
 
 static double zeta_of(const gen_params *p, double z) { return log10(z / p->z_sun); }
 
@@ -212,8 +212,8 @@ static void ms_setup(const gen_params *p, double m, double z, ms_model *ms)
     ms->logr_z = logr_mid + ms->k * log10(1.0 - ms->a * TAU_FIELD);
     /* Lifetime from the fuel: t = f 0.00712 M c^2 / L_mid (X / X_sun)
      * [derived; f is an engineering choice]. */
-    ms->t_ms = ms_efficiency(m) * nuclear_time_yr() * m / pow(10.0, logl_mid) * x_hydrogen(z) /
-               x_hydrogen(p->z_sun);
+    ms->t_ms = ms_efficiency(m) * nuclear_time_yr() * m / pow(10.0, logl_mid) * gen_x_hydrogen(z) /
+               gen_x_hydrogen(p->z_sun);
     /* Pre-main-sequence contraction time: Kelvin-Helmholtz time at the ZAMS,
      * times M/Msun below 1 Msun because low-mass stars contract while much
      * brighter than on the ZAMS [engineering choice; 50 Myr for the Sun,
@@ -593,204 +593,251 @@ static double loop_shape(double phi)
     return s * s;
 }
 
+/* What the giant route's segments share: the star at the TAMS, the base of
+ * the giant branch and helium ignition, and the core-helium-burning and
+ * AGB parameters derived from them (route_giant() computes them in turn). */
+typedef struct giant_plan {
+    double m_t, logl_t, logt_t, mc_t; /* the star and its core at the TAMS */
+    double wnd;                       /* non-degenerate ignition weight */
+    double logl_base, t_hg;           /* base of the giant branch; subgiant duration */
+    double mc_base, m_base;           /* core and star at the base */
+    double mc_ign, logl_tip;          /* core mass and luminosity at helium ignition */
+    double m_ign, logl_ign, logt_ign; /* the star at ignition */
+    double m_f, mc_1tp;               /* final mass; core mass at the first thermal pulse */
+    double logl_c0, t_cheb, loop, mhe_ce, m0g, m0h; /* core helium burning and the AGB */
+    double env_end;                   /* envelope left at the end of the AGB */
+} giant_plan;
+
+/* --- subgiant / Hertzsprung gap: TAMS to rgb_base --- */
+static void giant_subgiant(ctx *c, const giant_plan *g)
+{
+    const gen_params *p = c->p;
+    double m_t = g->m_t, logl_t = g->logl_t, logt_t = g->logt_t, mc_t = g->mc_t, wnd = g->wnd;
+    double logl_base = g->logl_base, t_hg = g->t_hg;
+    const int n = 200;
+    double age0 = c->age, m = m_t, mc = mc_t, logl_prev = logl_t;
+    double logt_base = logt_hayashi(logl_base, m_t, c->zeta);
+    set_last_phase(c, HRT_PHASE_SUBGIANT);
+    for (int i = 1; i <= n; i++) {
+        double u = (double)i / n;
+        double logl = logl_t + (logl_base - logl_t) * u;
+        double logt = logt_t + (logt_base - logt_t) * u;
+        double dt = t_hg / n;
+        double lbar = 0.5 * (pow(10.0, logl) + pow(10.0, logl_prev));
+        mc += c->b * lbar * dt / c->x * (1.0 - wnd); /* energy (degenerate) [derived] */
+        m -= mdot_reimers(p, logl, logr_from_lt(logl, logt), m) * dt;
+        logl_prev = logl;
+        push(c, age0 + t_hg * u, logl, logt, m, mc, 0.0, HRT_PHASE_SUBGIANT);
+    }
+}
+
+/* --- red giant branch: rgb_base to he_ignition --- */
+static void giant_rgb(ctx *c, const giant_plan *g)
+{
+    const gen_params *p = c->p;
+    double mc_base = g->mc_base, m_base = g->m_base, mc_ign = g->mc_ign, wnd = g->wnd;
+    double logl_base = g->logl_base, logl_tip = g->logl_tip;
+    enum { N = 400 };
+    double lmc[N + 1], ll[N + 1], dtn[N + 1], dmr[N + 1];
+    double t_en = 0.0, dm_r = 0.0;
+    for (int i = 0; i <= N; i++) {
+        double u = (double)i / N;
+        double mc = mc_base * pow(mc_ign / mc_base, u);
+        lmc[i] = mc;
+        /* log L linear in log Mc from the base to the tip [engineering
+         * choice keeping the tip on Refsdal & Weigert] */
+        ll[i] = logl_base + (logl_tip - logl_base) * u;
+        if (i == 0) {
+            dtn[i] = 0.0;
+            dmr[i] = 0.0;
+            continue;
+        }
+        double dt = c->x * (lmc[i] - lmc[i - 1]) / c->b * 0.5 * (pow(10.0, -ll[i]) + pow(10.0, -ll[i - 1]));
+        double logt = logt_hayashi(ll[i], m_base, c->zeta);
+        t_en += dt;
+        dm_r += mdot_reimers(p, ll[i], logr_from_lt(ll[i], logt), m_base) * dt;
+        dtn[i] = t_en;
+        dmr[i] = dm_r;
+    }
+    /* RGB duration: energy-consistent for degenerate cores; at most 1 %
+     * of t_MS above the flash limit [engineering choice]. */
+    double t_nd = smin_pos(t_en, 0.01 * c->ms.t_ms);
+    double t_rgb = exp((1.0 - wnd) * log(t_en) + wnd * log(t_nd));
+    double scale = t_rgb / t_en;
+    /* Reimers loss, saturating so that at most 90 % of the envelope above
+     * the tip core goes [engineering choice]. */
+    double e_av = 0.9 * (m_base - mc_ign);
+    double dm_eff = e_av * dm_r / (e_av + dm_r);
+    double age0 = c->age;
+    set_last_phase(c, HRT_PHASE_RGB);
+    for (int i = 1; i <= N; i++) {
+        double m = m_base - dm_eff * (dm_r > 0 ? dmr[i] / dm_r : 0.0);
+        double logt = logt_envelope(logt_hayashi(ll[i], m, c->zeta), m - lmc[i], m0_giant(c->zeta));
+        push(c, age0 + dtn[i] * scale, ll[i], logt, m, lmc[i], 0.0, HRT_PHASE_RGB);
+    }
+}
+
+/* --- flash / settling to the zero-age core-helium-burning locus: he_ignition to cheb_start --- */
+static void giant_settle(ctx *c, const giant_plan *g)
+{
+    double t_cheb = g->t_cheb, m0h = g->m0h, logl_c0 = g->logl_c0, mc_ign = g->mc_ign;
+    double m_ign = g->m_ign, logl_ign = g->logl_ign, logt_ign = g->logt_ign;
+    const int n = 100;
+    double t_set = 0.015 * t_cheb; /* [engineering choice] */
+    double age0 = c->age;
+    double m0e = m0h;
+    double logt_c0 = logt_envelope(logt_hayashi(logl_c0, m_ign, c->zeta) + 0.03, m_ign - mc_ign, m0e);
+    set_last_phase(c, HRT_PHASE_CHEB);
+    for (int i = 1; i <= n; i++) {
+        double u = (double)i / n;
+        double logl = logl_ign + (logl_c0 - logl_ign) * u;
+        double logt = logt_ign + (logt_c0 - logt_ign) * u;
+        push(c, age0 + t_set * u, logl, logt, m_ign, mc_ign, 0.0, HRT_PHASE_CHEB);
+    }
+}
+
+/* --- core helium burning: cheb_start to cheb_end --- */
+static void giant_cheb(ctx *c, const giant_plan *g)
+{
+    const gen_params *p = c->p;
+    double t_cheb = g->t_cheb, logl_c0 = g->logl_c0, mc_ign = g->mc_ign, mhe_ce = g->mhe_ce;
+    double loop = g->loop, m0h = g->m0h, m_f = g->m_f;
+    const int n = 300;
+    double age0 = c->age, m = c->m;
+    set_last_phase(c, HRT_PHASE_CHEB);
+    for (int i = 1; i <= n; i++) {
+        double phi = (double)i / n;
+        double dt = t_cheb / n;
+        double logl = logl_c0 + 0.15 * pow(phi, 1.5); /* [engineering choice] */
+        double mhe = mc_ign + (mhe_ce - mc_ign) * phi;
+        double logt = logt_hayashi(logl, m, c->zeta) + 0.03 + loop * loop_shape(phi);
+        logt = logt_envelope(logt, m - mhe, m0h);
+        double env = m - m_f;
+        m -= mdot_reimers(p, logl, logr_from_lt(logl, logt), m) * dt * env / (env + 0.01);
+        push(c, age0 + t_cheb * phi, logl, logt, m, mhe, 0.3 * mhe * phi, HRT_PHASE_CHEB);
+    }
+}
+
+/* --- early AGB, 12 % of t_CHeB [from memory / engineering choice]: cheb_end to first_pulse --- */
+static void giant_eagb(ctx *c, const giant_plan *g)
+{
+    const gen_params *p = c->p;
+    double t_cheb = g->t_cheb, mc_1tp = g->mc_1tp, m0h = g->m0h, m0g = g->m0g, m_f = g->m_f;
+    const int n = 200;
+    double t_e = 0.12 * t_cheb;
+    double age0 = c->age, m = c->m, logl0 = c->logl, mhe0 = c->mhe, mco0 = c->mco;
+    double logl1 = logl_agb_core(mc_1tp);
+    if (logl1 < logl0 + 0.05)
+        logl1 = logl0 + 0.05;
+    set_last_phase(c, HRT_PHASE_EAGB);
+    for (int i = 1; i <= n; i++) {
+        double u = (double)i / n;
+        double logl = logl0 + (logl1 - logl0) * u;
+        double mhe = mhe0 + (mc_1tp - mhe0) * u;
+        double mco = mco0 + (0.98 * mc_1tp - mco0) * u;
+        double m0e = m0h * pow(m0g / m0h, u);
+        double logt = logt_envelope(logt_hayashi(logl, m, c->zeta), m - mhe, m0e);
+        double env = m - m_f, dt = t_e / n;
+        m -= mdot_reimers(p, logl, logr_from_lt(logl, logt), m) * dt * env / (env + 0.01);
+        push(c, age0 + t_e * u, logl, logt, m, mhe, mco, HRT_PHASE_EAGB);
+    }
+}
+
+/* --- thermally pulsing AGB, core growth on the interpulse relation, the
+ *     superwind stripping the envelope as the core reaches M_f: first_pulse to agb_end --- */
+static void giant_tpagb(ctx *c, const giant_plan *g)
+{
+    double m_f = g->m_f, env_end = g->env_end, mc_1tp = g->mc_1tp, m0g = g->m0g;
+    enum { N = 300 };
+    double tt[N + 1], mc[N + 1], ll[N + 1];
+    double mc_end = m_f - env_end, m1 = c->m;
+    tt[0] = 0.0;
+    for (int i = 0; i <= N; i++) {
+        mc[i] = mc_1tp + (mc_end - mc_1tp) * (double)i / N;
+        ll[i] = logl_agb_core(mc[i]);
+        if (i > 0)
+            tt[i] = tt[i - 1] +
+                    c->x * (mc[i] - mc[i - 1]) / c->b * 0.5 * (pow(10.0, -ll[i]) + pow(10.0, -ll[i - 1]));
+    }
+    double age0 = c->age;
+    set_last_phase(c, HRT_PHASE_TPAGB);
+    for (int i = 1; i <= N; i++) {
+        double u = tt[i] / tt[N];
+        double m = m1 - (m1 - m_f) * u * u * u; /* [engineering choice] */
+        double logt = logt_envelope(logt_hayashi(ll[i], m, c->zeta), m - mc[i], m0g);
+        push(c, age0 + tt[i], ll[i], logt, m, mc[i], 0.98 * mc[i], HRT_PHASE_TPAGB);
+    }
+}
+
 static void route_giant(ctx *c)
 {
     const gen_params *p = c->p;
+    giant_plan g;
     seg_ms(c);
-    double m_t = c->m, logl_t = c->logl, logt_t = c->logt;
+    g.m_t = c->m, g.logl_t = c->logl, g.logt_t = c->logt;
     double mhef = gen_m_hef(p, c->z);
-    double wnd = logistic((c->m0 - mhef) / 0.06); /* non-degenerate ignition weight */
-    double mc_t = q_tams(c->m0) * m_t;
+    g.wnd = logistic((c->m0 - mhef) / 0.06); /* non-degenerate ignition weight */
+    g.mc_t = q_tams(c->m0) * g.m_t;
 
     /* --- subgiant / Hertzsprung gap --- */
     static const double lbx[] = {0.0, 0.301, 0.477};
     static const double lby[] = {0.146, 0.041, 0.0};
-    double logl_base = logl_t + soft_table(lbx, lby, 3, 0.05, log10(c->m0)); /* [engineering choice] */
-    double t_hg = f_hg(c->m0) * c->ms.t_ms;
+    g.logl_base = g.logl_t + soft_table(lbx, lby, 3, 0.05, log10(c->m0)); /* [engineering choice] */
+    g.t_hg = f_hg(c->m0) * c->ms.t_ms;
     double mc_deg = mc_tip_degenerate(c->zeta);
-    {
-        const int n = 200;
-        double age0 = c->age, m = m_t, mc = mc_t, logl_prev = logl_t;
-        double logt_base = logt_hayashi(logl_base, m_t, c->zeta);
-        set_last_phase(c, HRT_PHASE_SUBGIANT);
-        for (int i = 1; i <= n; i++) {
-            double u = (double)i / n;
-            double logl = logl_t + (logl_base - logl_t) * u;
-            double logt = logt_t + (logt_base - logt_t) * u;
-            double dt = t_hg / n;
-            double lbar = 0.5 * (pow(10.0, logl) + pow(10.0, logl_prev));
-            mc += c->b * lbar * dt / c->x * (1.0 - wnd); /* energy (degenerate) [derived] */
-            m -= mdot_reimers(p, logl, logr_from_lt(logl, logt), m) * dt;
-            logl_prev = logl;
-            push(c, age0 + t_hg * u, logl, logt, m, mc, 0.0, HRT_PHASE_SUBGIANT);
-        }
-    }
+    giant_subgiant(c, &g);
     keypoint(c); /* rgb_base */
-    double mc_base = c->mhe, m_base = c->m;
+    g.mc_base = c->mhe, g.m_base = c->m;
 
     /* --- ignition core mass and luminosity --- */
-    double mc_nd = smax(0.30, 1.1 * mc_base, 0.03); /* [engineering choice] */
-    double mc_ign = (1.0 - wnd) * mc_deg + wnd * mc_nd;
-    mc_ign = smax(mc_ign, mc_base + 0.02, 0.01);
-    double logl_tip = (1.0 - wnd) * logl_rgb_core(mc_ign) + wnd * (logl_base + log10(1.5));
-
-    /* --- red giant branch --- */
-    {
-        enum { N = 400 };
-        double lmc[N + 1], ll[N + 1], dtn[N + 1], dmr[N + 1];
-        double t_en = 0.0, dm_r = 0.0;
-        for (int i = 0; i <= N; i++) {
-            double u = (double)i / N;
-            double mc = mc_base * pow(mc_ign / mc_base, u);
-            lmc[i] = mc;
-            /* log L linear in log Mc from the base to the tip [engineering
-             * choice keeping the tip on Refsdal & Weigert] */
-            ll[i] = logl_base + (logl_tip - logl_base) * u;
-            if (i == 0) {
-                dtn[i] = 0.0;
-                dmr[i] = 0.0;
-                continue;
-            }
-            double dt = c->x * (lmc[i] - lmc[i - 1]) / c->b * 0.5 * (pow(10.0, -ll[i]) + pow(10.0, -ll[i - 1]));
-            double logt = logt_hayashi(ll[i], m_base, c->zeta);
-            t_en += dt;
-            dm_r += mdot_reimers(p, ll[i], logr_from_lt(ll[i], logt), m_base) * dt;
-            dtn[i] = t_en;
-            dmr[i] = dm_r;
-        }
-        /* RGB duration: energy-consistent for degenerate cores; at most 1 %
-         * of t_MS above the flash limit [engineering choice]. */
-        double t_nd = smin_pos(t_en, 0.01 * c->ms.t_ms);
-        double t_rgb = exp((1.0 - wnd) * log(t_en) + wnd * log(t_nd));
-        double scale = t_rgb / t_en;
-        /* Reimers loss, saturating so that at most 90 % of the envelope above
-         * the tip core goes [engineering choice]. */
-        double e_av = 0.9 * (m_base - mc_ign);
-        double dm_eff = e_av * dm_r / (e_av + dm_r);
-        double age0 = c->age;
-        set_last_phase(c, HRT_PHASE_RGB);
-        for (int i = 1; i <= N; i++) {
-            double m = m_base - dm_eff * (dm_r > 0 ? dmr[i] / dm_r : 0.0);
-            double logt = logt_envelope(logt_hayashi(ll[i], m, c->zeta), m - lmc[i], m0_giant(c->zeta));
-            push(c, age0 + dtn[i] * scale, ll[i], logt, m, lmc[i], 0.0, HRT_PHASE_RGB);
-        }
-    }
+    double mc_nd = smax(0.30, 1.1 * g.mc_base, 0.03); /* [engineering choice] */
+    g.mc_ign = (1.0 - g.wnd) * mc_deg + g.wnd * mc_nd;
+    g.mc_ign = smax(g.mc_ign, g.mc_base + 0.02, 0.01);
+    g.logl_tip = (1.0 - g.wnd) * logl_rgb_core(g.mc_ign) + g.wnd * (g.logl_base + log10(1.5));
+    giant_rgb(c, &g);
     keypoint(c); /* he_ignition */
-    double m_ign = c->m, logl_ign = c->logl, logt_ign = c->logt;
+    g.m_ign = c->m, g.logl_ign = c->logl, g.logt_ign = c->logt;
 
     /* --- final mass and first-pulse core mass --- */
-    double d_ifmr = smax(gen_ifmr(c->m0) - mc_ign, 0.005, 0.002);
-    double d = smin_pos(d_ifmr, 0.9 * (m_ign - mc_ign));
-    double m_f = mc_ign + d;
-    double mc_1tp = m_f - smin_pos(dm_tpagb(c->m0), 0.6 * d);
+    double d_ifmr = smax(gen_ifmr(c->m0) - g.mc_ign, 0.005, 0.002);
+    double d = smin_pos(d_ifmr, 0.9 * (g.m_ign - g.mc_ign));
+    g.m_f = g.mc_ign + d;
+    g.mc_1tp = g.m_f - smin_pos(dm_tpagb(c->m0), 0.6 * d);
 
     /* --- core helium burning parameters --- */
     /* Horizontal-branch / red-clump luminosity log L = 1.7 (red-clump
      * magnitudes M_Ks = -1.606, Ruiz-Dern et al. 2018, A&A 609, A116 [read],
      * with BC_K ~ 1.95 [from memory]), scaled as Mc^2 [engineering choice];
      * above the flash limit 1.2 L_TAMS [engineering choice]. */
-    double logl_hb = 1.7 + 2.0 * log10(mc_ign / 0.47);
+    double logl_hb = 1.7 + 2.0 * log10(g.mc_ign / 0.47);
     double lk = 0.05;
-    double logl_c0 = lk * log(exp(logl_hb / lk) + exp((logl_t + log10(1.2)) / lk));
+    g.logl_c0 = lk * log(exp(logl_hb / lk) + exp((g.logl_t + log10(1.2)) / lk));
     /* Duration: 100 Myr (0.47/Mc) for degenerate ignition (~100 Myr, 0.6 Msun
      * model of Despain 1981 gives 81.5 Myr [read]), f_cheb t_MS above. */
-    double t_cheb = smin_pos(1.0e8 * 0.47 / mc_ign, f_cheb(c->m0) * c->ms.t_ms);
-    double loop = loop_amplitude(c->m0, c->zeta);
-    double mhe_ce = mc_ign + 0.3 * (mc_1tp - mc_ign);
-    double m0g = m0_giant(c->zeta), m0h = m0_hb(c->zeta);
+    g.t_cheb = smin_pos(1.0e8 * 0.47 / g.mc_ign, f_cheb(c->m0) * c->ms.t_ms);
+    g.loop = loop_amplitude(c->m0, c->zeta);
+    g.mhe_ce = g.mc_ign + 0.3 * (g.mc_1tp - g.mc_ign);
+    g.m0g = m0_giant(c->zeta), g.m0h = m0_hb(c->zeta);
 
-    /* --- flash / settling to the zero-age core-helium-burning locus --- */
-    {
-        const int n = 100;
-        double t_set = 0.015 * t_cheb; /* [engineering choice] */
-        double age0 = c->age;
-        double m0e = m0h;
-        double logt_c0 = logt_envelope(logt_hayashi(logl_c0, m_ign, c->zeta) + 0.03, m_ign - mc_ign, m0e);
-        set_last_phase(c, HRT_PHASE_CHEB);
-        for (int i = 1; i <= n; i++) {
-            double u = (double)i / n;
-            double logl = logl_ign + (logl_c0 - logl_ign) * u;
-            double logt = logt_ign + (logt_c0 - logt_ign) * u;
-            push(c, age0 + t_set * u, logl, logt, m_ign, mc_ign, 0.0, HRT_PHASE_CHEB);
-        }
-    }
+    giant_settle(c, &g);
     keypoint(c); /* cheb_start */
-
-    /* --- core helium burning --- */
-    {
-        const int n = 300;
-        double age0 = c->age, m = c->m;
-        set_last_phase(c, HRT_PHASE_CHEB);
-        for (int i = 1; i <= n; i++) {
-            double phi = (double)i / n;
-            double dt = t_cheb / n;
-            double logl = logl_c0 + 0.15 * pow(phi, 1.5); /* [engineering choice] */
-            double mhe = mc_ign + (mhe_ce - mc_ign) * phi;
-            double logt = logt_hayashi(logl, m, c->zeta) + 0.03 + loop * loop_shape(phi);
-            logt = logt_envelope(logt, m - mhe, m0h);
-            double env = m - m_f;
-            m -= mdot_reimers(p, logl, logr_from_lt(logl, logt), m) * dt * env / (env + 0.01);
-            push(c, age0 + t_cheb * phi, logl, logt, m, mhe, 0.3 * mhe * phi, HRT_PHASE_CHEB);
-        }
-    }
+    giant_cheb(c, &g);
     keypoint(c); /* cheb_end */
-
-    /* --- early AGB: 12 % of t_CHeB [from memory / engineering choice] --- */
-    {
-        const int n = 200;
-        double t_e = 0.12 * t_cheb;
-        double age0 = c->age, m = c->m, logl0 = c->logl, mhe0 = c->mhe, mco0 = c->mco;
-        double logl1 = logl_agb_core(mc_1tp);
-        if (logl1 < logl0 + 0.05)
-            logl1 = logl0 + 0.05;
-        set_last_phase(c, HRT_PHASE_EAGB);
-        for (int i = 1; i <= n; i++) {
-            double u = (double)i / n;
-            double logl = logl0 + (logl1 - logl0) * u;
-            double mhe = mhe0 + (mc_1tp - mhe0) * u;
-            double mco = mco0 + (0.98 * mc_1tp - mco0) * u;
-            double m0e = m0h * pow(m0g / m0h, u);
-            double logt = logt_envelope(logt_hayashi(logl, m, c->zeta), m - mhe, m0e);
-            double env = m - m_f, dt = t_e / n;
-            m -= mdot_reimers(p, logl, logr_from_lt(logl, logt), m) * dt * env / (env + 0.01);
-            push(c, age0 + t_e * u, logl, logt, m, mhe, mco, HRT_PHASE_EAGB);
-        }
-    }
+    giant_eagb(c, &g);
     keypoint(c); /* first_pulse */
 
-    /* --- thermally pulsing AGB: core growth on the interpulse relation,
-     *     superwind strips the envelope as the core reaches M_f --- */
-    double env_end = fmin(0.003 * pow(m_f / 0.6, -4.0), 0.01); /* [engineering choice] */
-    if (env_end > 0.5 * (m_f - mc_1tp))
-        env_end = 0.5 * (m_f - mc_1tp);
-    {
-        enum { N = 300 };
-        double tt[N + 1], mc[N + 1], ll[N + 1];
-        double mc_end = m_f - env_end, m1 = c->m;
-        tt[0] = 0.0;
-        for (int i = 0; i <= N; i++) {
-            mc[i] = mc_1tp + (mc_end - mc_1tp) * (double)i / N;
-            ll[i] = logl_agb_core(mc[i]);
-            if (i > 0)
-                tt[i] = tt[i - 1] +
-                        c->x * (mc[i] - mc[i - 1]) / c->b * 0.5 * (pow(10.0, -ll[i]) + pow(10.0, -ll[i - 1]));
-        }
-        double age0 = c->age;
-        set_last_phase(c, HRT_PHASE_TPAGB);
-        for (int i = 1; i <= N; i++) {
-            double u = tt[i] / tt[N];
-            double m = m1 - (m1 - m_f) * u * u * u; /* [engineering choice] */
-            double logt = logt_envelope(logt_hayashi(ll[i], m, c->zeta), m - mc[i], m0g);
-            push(c, age0 + tt[i], ll[i], logt, m, mc[i], 0.98 * mc[i], HRT_PHASE_TPAGB);
-        }
-    }
+    /* the envelope left when the superwind ends the AGB [engineering choice] */
+    g.env_end = fmin(0.003 * pow(g.m_f / 0.6, -4.0), 0.01);
+    if (g.env_end > 0.5 * (g.m_f - g.mc_1tp))
+        g.env_end = 0.5 * (g.m_f - g.mc_1tp);
+    giant_tpagb(c, &g);
     keypoint(c); /* agb_end */
     set_last_phase(c, HRT_PHASE_POST_AGB);
-    seg_to_wd(c, m_f, env_end, HRT_PHASE_POST_AGB, 0.98);
+    seg_to_wd(c, g.m_f, g.env_end, HRT_PHASE_POST_AGB, 0.98);
     /* Oxygen-neon white dwarfs above 1.10 Msun [from memory: the CO/ONe
      * division of white-dwarf masses near 1.05-1.1 Msun]. */
-    c->t->remnant = m_f >= 1.10 ? HRT_REMNANT_ONE_WD : HRT_REMNANT_CO_WD;
-    c->t->remnant_mass = m_f;
+    c->t->remnant = g.m_f >= 1.10 ? HRT_REMNANT_ONE_WD : HRT_REMNANT_CO_WD;
+    c->t->remnant_mass = g.m_f;
 }
 
 /* ---------------- supergiant route ---------------- */
@@ -952,7 +999,7 @@ int gen_track_compute(const gen_params *p, double m, double z, int route, gen_tr
     c.t = t;
     c.m0 = m;
     c.z = z;
-    c.x = x_hydrogen(z);
+    c.x = gen_x_hydrogen(z);
     c.zeta = zeta_of(p, z);
     c.b = core_growth_b();
     ms_setup(p, m, z, &c.ms);

@@ -16,25 +16,12 @@
 
 #include <stddef.h>
 
-/* Route indices, in the order the grid declares them. */
+#include "hrtrail.h"
+
+/* Route indices: the routes of the library's default layout
+ * (hrt_default_route), in its order.  Each route's model (model.c) emits
+ * the keypoints of that route's layout, in order. */
 enum { GEN_ROUTE_LOW = 0, GEN_ROUTE_GIANT = 1, GEN_ROUTE_SUPERGIANT = 2, GEN_N_ROUTES = 3 };
-
-/* Keypoints of each route (names are hrtrail's own). */
-#define GEN_LOW_KEYPOINTS {"zams", "tams", "envelope_loss", "wd_onset"}
-#define GEN_LOW_SEGMENTS {150, 150, 40}
-#define GEN_LOW_NKP 4
-
-#define GEN_GIANT_KEYPOINTS                                                                  \
-    {"zams", "tams", "rgb_base", "he_ignition", "cheb_start", "cheb_end", "first_pulse",       \
-     "agb_end", "wd_onset"}
-#define GEN_GIANT_SEGMENTS {150, 60, 120, 40, 100, 60, 80, 40}
-#define GEN_GIANT_NKP 9
-
-#define GEN_SG_KEYPOINTS {"zams", "tams", "cheb_start", "cheb_end", "core_collapse"}
-#define GEN_SG_SEGMENTS {150, 60, 150, 40}
-#define GEN_SG_NKP 5
-
-#define GEN_MAX_KP 9
 
 /** Free parameters of the model (defaults in gen_params_default). */
 typedef struct gen_params {
@@ -64,7 +51,7 @@ typedef struct gen_track {
     size_t n, cap;
     gen_sample *s;
     size_t n_kp;
-    size_t kp[GEN_MAX_KP]; /**< sample index of each keypoint */
+    size_t kp[HRT_IMPORT_MAX_KP]; /**< sample index of each keypoint */
 } gen_track;
 
 void gen_params_default(gen_params *p);
@@ -85,8 +72,10 @@ int gen_track_compute(const gen_params *p, double m, double z, int route, gen_tr
 
 void gen_track_free(gen_track *t);
 
-/* Relations exposed for the generator's self-checks. */
+/* Relations exposed for the generator's self-checks and raw dumps. */
 double gen_ms_lifetime_yr(const gen_params *p, double m, double z);
+/** Initial hydrogen mass fraction at metallicity z. */
+double gen_x_hydrogen(double z);
 double gen_ifmr(double m_initial);
 
 #endif

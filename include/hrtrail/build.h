@@ -210,6 +210,30 @@ HRT_API int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *ro
 HRT_API int hrt_keypoints_route(const hrt_kp_columns *c, size_t n_routes, const hrt_route_spec *routes,
                                 int *route, unsigned *candidates, hrt_kp_result *out, hrt_error *err);
 
+/**
+ * @brief The EEP layout of one route of the default grid.
+ *
+ * Given:
+ *   r               route index, from 0 in order of increasing mass
+ *   keypoint_names  room for HRT_IMPORT_MAX_KP pointers, the caller's
+ * Returned:
+ *   spec            the route's name, keypoint count, keypoint names and
+ *                   segment EEP counts; spec->keypoint_names is
+ *                   keypoint_names, filled with the names
+ * Returned (function value):
+ *   HRT_OK; HRT_E_NULL; HRT_E_INVALID when r is past the last route (so
+ *   counting up from r = 0 until it fails gives the number of routes).
+ * Notes:
+ *   1. The default grid (hrtrail-gen-grid) is written with these routes
+ *      and hrt_import_new() starts with them: one table for both.
+ *   2. Every pointer set points into the library's read-only data and stays
+ *      valid while the library is loaded.  The array of keypoint-name
+ *      pointers is the caller's because a table of pointers inside a shared
+ *      library needs relocations, which would make it writable data.
+ *   3. No allocation; reentrant.
+ */
+HRT_API int hrt_default_route(size_t r, hrt_route_spec *spec, const char *keypoint_names[HRT_IMPORT_MAX_KP]);
+
 typedef struct hrt_import hrt_import; /**< opaque: an import being set up, run, and its report */
 
 /**

@@ -2,7 +2,6 @@
  * the file is read as it is (trail_file_read accepts every version this
  * library knows), its codes and names already mapped to today's, and
  * written again through the builder, which checks it as any new grid. */
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -13,15 +12,16 @@
 static int builder_of(const trail_file *f, hrt_builder **b, hrt_error *err)
 {
     hrt_route_spec spec[TRAIL_MAX_ROUTES];
+    /* every route's segment EEP counts, one row of n_eep_max + 1 per route */
     int *seg = malloc((f->n_eep_max + 1) * f->n_routes * sizeof *seg);
     if (!seg)
         return trail_set_error(err, HRT_E_NOMEM, "hrt_grid_upgrade: out of memory");
     for (size_t r = 0; r < f->n_routes; r++) {
         const route_layout *L = &f->routes[r];
-        int *s = seg + r * (f->n_eep_max + 1);
+        int *route_seg = seg + r * (f->n_eep_max + 1);
         for (size_t k = 0; k + 1 < L->n_kp; k++)
-            s[k] = (int)(L->kp_eep[k + 1] - L->kp_eep[k]);
-        spec[r] = (hrt_route_spec){L->name, L->n_kp, (const char *const *)L->kp_names, s};
+            route_seg[k] = (int)(L->kp_eep[k + 1] - L->kp_eep[k]);
+        spec[r] = (hrt_route_spec){L->name, L->n_kp, (const char *const *)L->kp_names, route_seg};
     }
     int rc = hrt_builder_new(f->n_routes, spec, f->z_ref, b, err);
     free(seg);

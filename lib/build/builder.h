@@ -1,0 +1,42 @@
+/*
+ * The grid under construction, as the building side (builder.c: routes,
+ * tracks put on EEPs, attributes) fills it and the writing side
+ * (builder_write.c: the HDF5 file) writes it.
+ */
+#ifndef HRTRAIL_LIB_BUILD_BUILDER_H
+#define HRTRAIL_LIB_BUILD_BUILDER_H
+
+#include <stddef.h>
+
+#include "hrtrail.h"
+#include "util/schema.h"
+
+/* One track on its route's EEPs. */
+typedef struct trail_eep_track {
+    double initial_mass, remnant_mass; /* Msun; remnant_mass NaN without a remnant */
+    int route, remnant, n_eep;
+    double *q[TRAIL_NF]; /* [n_eep] per-EEP quantities in the file's order (TRAIL_F_*) */
+    int *phase;          /* [n_eep] hrt_phase codes */
+} trail_eep_track;
+
+/* The tracks of one metallicity. */
+typedef struct trail_z_group {
+    double z;
+    size_t n, cap;
+    trail_eep_track *t;
+    int has_boundary; /* boundary[] set by hrt_builder_set_route_boundaries() */
+    double boundary[TRAIL_MAX_ROUTES];
+} trail_z_group;
+
+struct hrt_builder {
+    double z_ref;
+    size_t n_routes;
+    route_layout routes[TRAIL_MAX_ROUTES];
+    size_t n_eep_max; /* EEPs of the longest route: the width of the file's tables */
+    size_t n_groups;
+    trail_z_group *grp;
+    size_t n_attrs;
+    attr_pair *attrs;
+};
+
+#endif

@@ -1,0 +1,452 @@
+/* Writing the grid a builder holds: checks across tracks, route boundaries
+ * where none were set, and the HDF5 file of tracks/FORMAT.md, built in
+ * memory and written atomically under its final name. */
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <hdf5.h>
+
+#include "build/build.h"
+#include "build/builder.h"
+#include "util/schema.h"
+#include "util/util.h"
+
+/* Routes with at most this many keypoints have their keypoint tables on the stack. */
+#define KEYPOINTS_ON_STACK 1024
+/* Entries of the phases/ and remnants/ code tables the writer can hold. */
+#define MAX_CODE_TABLE 64
+/* Memory the in-memory HDF5 file grows by at a time (HDF5's core driver). */
+#define IMAGE_INCREMENT ((size_t)1 << 20)
+
+/* ---- checks and boundaries ----------------------------------------------- */
+
+static int cmp_track(const void *a, const void *b)
+{
+    double x = ((const trail_eep_track *)a)->initial_mass, y = ((const trail_eep_track *)b)->initial_mass;
+    return (x > y) - (x < y);
+}
+
+static int cmp_group(const void *a, const void *b)
+{
+    double x = ((const trail_z_group *)a)->z, y = ((const trail_z_group *)b)->z;
+    return (x > y) - (x < y);
+}
+
+/* Tracks of g sorted by mass: no mass twice, routes in order of mass. */
+static int sort_tracks(const hrt_builder *b, trail_z_group *g, hrt_error *err)
+{
+    if (g->n == 0)
+        return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundaries set but no tracks", g->z);
+    qsort(g->t, g->n, sizeof *g->t, cmp_track);
+    for (size_t i = 1; i < g->n; i++) {
+        if (g->t[i].initial_mass == g->t[i - 1].initial_mass)
+            return trail_set_error(err, HRT_E_INVALID, "Z = %g: two tracks of %g Msun", g->z, g->t[i].initial_mass);
+        if (g->t[i].route < g->t[i - 1].route)
+            return trail_set_error(err, HRT_E_INVALID, "Z = %g: track %g Msun (route '%s') lies above a track of "
+                                   "a later route", g->z, g->t[i - 1].initial_mass,
+                                   b->routes[g->t[i - 1].route].name);
+    }
+    return HRT_OK;
+}
+
+/* Route boundaries of g: those set must separate the routes' tracks; the
+ * others are placed by the rule of build/build.h. */
+static int boundaries(const hrt_builder *b, trail_z_group *g, hrt_error *err)
+{
+    for (size_t k = 0; k + 1 < b->n_routes; k++) {
+        trail_boundary_scan scan = trail_boundary_start(k);
+        for (size_t i = 0; i < g->n; i++)
+            trail_boundary_see(&scan, g->t[i].route, g->t[i].initial_mass);
+        if (!g->has_boundary) {
+            g->boundary[k] = trail_boundary_place(&scan, g->boundary);
+            continue;
+        }
+        double m = g->boundary[k];
+        if ((scan.below > 0.0 && !(m > scan.below)) || (scan.above > 0.0 && !(m < scan.above)))
+            return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundary %zu at %g Msun does not "
+                                   "separate the tracks of its routes (%g, %g)", g->z, k, m, scan.below, scan.above);
+    }
+    return HRT_OK;
+}
+
+/* Check the builder's content and compute boundaries; sorts in place. */
+static int prepare_write(hrt_builder *b, hrt_error *err)
+{
+    if (b->n_groups == 0)
+        return trail_set_error(err, HRT_E_INVALID, "no tracks to write");
+    qsort(b->grp, b->n_groups, sizeof *b->grp, cmp_group);
+    for (size_t gi = 0; gi < b->n_groups; gi++) {
+        int rc = sort_tracks(b, &b->grp[gi], err);
+        if (rc == HRT_OK)
+            rc = boundaries(b, &b->grp[gi], err);
+        if (rc != HRT_OK)
+            return rc;
+    }
+    return HRT_OK;
+}
+
+/* ---- HDF5 objects ---------------------------------------------------------- */
+
+/* Property lists and string type of one file; failed is set by any HDF5
+ * call that fails, and the file is then not written. */
+typedef struct wctx {
+    hid_t dcpl, gcpl, str_t;
+    int failed;
+} wctx;
+
+static void w_text_attr(wctx *w, hid_t loc, const char *name, const char *value)
+{
+    hid_t s = H5Screate(H5S_SCALAR);
+    hid_t a = H5Acreate2(loc, name, w->str_t, s, H5P_DEFAULT, H5P_DEFAULT);
+    if (a < 0 || H5Awrite(a, w->str_t, &value) < 0)
+        w->failed = 1;
+    if (a >= 0)
+        H5Aclose(a);
+    H5Sclose(s);
+}
+
+static void w_num_attr(wctx *w, hid_t loc, const char *name, hid_t type, const void *v)
+{
+    hid_t s = H5Screate(H5S_SCALAR);
+    hid_t a = H5Acreate2(loc, name, type == H5T_NATIVE_INT ? H5T_STD_I32LE : H5T_IEEE_F64LE, s, H5P_DEFAULT,
+                         H5P_DEFAULT);
+    if (a < 0 || H5Awrite(a, type, v) < 0)
+        w->failed = 1;
+    if (a >= 0)
+        H5Aclose(a);
+    H5Sclose(s);
+}
+
+static void w_strings(wctx *w, hid_t loc, const char *name, size_t n, const char *const *v)
+{
+    hsize_t d[1] = {n};
+    hid_t s = H5Screate_simple(1, d, NULL);
+    hid_t ds = H5Dcreate2(loc, name, w->str_t, s, H5P_DEFAULT, w->dcpl, H5P_DEFAULT);
+    if (ds < 0 || H5Dwrite(ds, w->str_t, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) < 0)
+        w->failed = 1;
+    if (ds >= 0)
+        H5Dclose(ds);
+    H5Sclose(s);
+}
+
+static void w_data(wctx *w, hid_t loc, const char *name, int rank, const hsize_t *dims, int is_int,
+                   const void *v, const char *units, const char *meaning)
+{
+    hid_t s = H5Screate_simple(rank, dims, NULL);
+    hid_t ds = H5Dcreate2(loc, name, is_int ? H5T_STD_I32LE : H5T_IEEE_F64LE, s, H5P_DEFAULT, w->dcpl,
+                          H5P_DEFAULT);
+    if (ds < 0 || H5Dwrite(ds, is_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) < 0)
+        w->failed = 1;
+    if (ds >= 0) {
+        if (units)
+            w_text_attr(w, ds, "units", units);
+        if (meaning)
+            w_text_attr(w, ds, "long_name", meaning);
+        H5Dclose(ds);
+    }
+    H5Sclose(s);
+}
+
+/* A dataset of the schema, with its units and meaning. */
+static void w_named(wctx *w, hid_t loc, const trail_name *n, int rank, const hsize_t *dims, int is_int,
+                    const void *v)
+{
+    w_data(w, loc, n->v2, rank, dims, is_int, v, n->units, n->meaning);
+}
+
+static hid_t w_group(wctx *w, hid_t loc, const char *name)
+{
+    hid_t g = H5Gcreate2(loc, name, H5P_DEFAULT, w->gcpl, H5P_DEFAULT);
+    if (g < 0)
+        w->failed = 1;
+    return g;
+}
+
+/* phases/ or remnants/: code, key and name of every entry of the list, so
+ * the file says what its codes mean (the reader checks them). */
+static void w_code_table(wctx *w, hid_t f, const char *group, size_t n, int (*code_at)(size_t),
+                         const char *(*key_of)(int), const char *(*name_of)(int))
+{
+    int code[MAX_CODE_TABLE];
+    const char *key[MAX_CODE_TABLE], *name[MAX_CODE_TABLE];
+    hsize_t d[1] = {n};
+    hid_t g = H5Gcreate2(f, group, H5P_DEFAULT, w->gcpl, H5P_DEFAULT);
+    if (g < 0 || n > MAX_CODE_TABLE) {
+        w->failed = 1;
+        if (g >= 0)
+            H5Gclose(g);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        code[i] = code_at(i);
+        key[i] = key_of(code[i]);
+        name[i] = name_of(code[i]);
+    }
+    w_data(w, g, "code", 1, d, 1, code, NULL, "hrtrail code stored in the datasets");
+    w_strings(w, g, "key", n, key);
+    w_strings(w, g, "name", n, name);
+    H5Gclose(g);
+}
+
+/* ---- the file's parts ------------------------------------------------------ */
+
+/* Root attributes (the library's own first, then the builder's) and the code tables. */
+static void write_root(const hrt_builder *b, hid_t f, wctx *w)
+{
+    w_text_attr(w, f, "format", TRAIL_FORMAT_NAME);
+    int version = HRT_FORMAT_VERSION;
+    w_num_attr(w, f, "format_version", H5T_NATIVE_INT, &version);
+    w_num_attr(w, f, "z_ref", H5T_NATIVE_DOUBLE, &b->z_ref);
+    int has_created_by = 0;
+    for (size_t a = 0; a < b->n_attrs; a++) {
+        w_text_attr(w, f, b->attrs[a].name, b->attrs[a].value);
+        has_created_by |= strcmp(b->attrs[a].name, "created_by") == 0;
+    }
+    if (!has_created_by)
+        w_text_attr(w, f, "created_by", "hrtrail " HRT_VERSION_STRING);
+    w_code_table(w, f, "phases", HRT_PHASE_N, hrt_phase_code, hrt_phase_key, hrt_phase_name);
+    w_code_table(w, f, "remnants", HRT_REMNANT_N, hrt_remnant_code, hrt_remnant_key, hrt_remnant_name);
+}
+
+/* routes/<name>/: keypoint names, the EEP of each keypoint, EEPs per segment. */
+static void write_route(const route_layout *L, hid_t sub, wctx *w)
+{
+    int kp_stack[KEYPOINTS_ON_STACK], seg_stack[KEYPOINTS_ON_STACK];
+    int *kp_eep = L->n_kp <= KEYPOINTS_ON_STACK ? kp_stack : malloc(L->n_kp * sizeof(int));
+    int *seg = L->n_kp <= KEYPOINTS_ON_STACK ? seg_stack : malloc(L->n_kp * sizeof(int));
+    if (!kp_eep || !seg) {
+        w->failed = 1;
+    } else {
+        for (size_t k = 0; k < L->n_kp; k++) {
+            kp_eep[k] = (int)L->kp_eep[k];
+            if (k + 1 < L->n_kp)
+                seg[k] = (int)(L->kp_eep[k + 1] - L->kp_eep[k]);
+        }
+        hsize_t dims_kp[1] = {L->n_kp}, dims_seg[1] = {L->n_kp - 1};
+        w_strings(w, sub, "keypoint_names", L->n_kp, (const char *const *)L->kp_names);
+        w_data(w, sub, "keypoint_eep", 1, dims_kp, 1, kp_eep, NULL, "EEP index of each keypoint");
+        w_data(w, sub, "segment_samples", 1, dims_seg, 1, seg, NULL, "EEPs in each segment");
+    }
+    if (kp_eep != kp_stack)
+        free(kp_eep);
+    if (seg != seg_stack)
+        free(seg);
+}
+
+/* routes/: the names in order, and each route's layout. */
+static void write_routes(const hrt_builder *b, hid_t f, wctx *w)
+{
+    hid_t rg = w_group(w, f, "routes");
+    const char *names[TRAIL_MAX_ROUTES];
+    for (size_t r = 0; r < b->n_routes; r++)
+        names[r] = b->routes[r].name;
+    if (rg < 0)
+        return;
+    w_strings(w, rg, "names", b->n_routes, names);
+    for (size_t r = 0; r < b->n_routes && !w->failed; r++) {
+        hid_t sub = w_group(w, rg, b->routes[r].name);
+        if (sub < 0)
+            break;
+        write_route(&b->routes[r], sub, w);
+        H5Gclose(sub);
+    }
+    H5Gclose(rg);
+}
+
+/* The per-track datasets of group g: one value per track. */
+static void write_track_list(const hrt_builder *b, const trail_z_group *g, hid_t gg, wctx *w, double *values,
+                             int *codes)
+{
+    const trail_schema *S = &trail_schema_names;
+    size_t n = g->n;
+    hsize_t dims_tracks[1] = {n}, dims_bound[1] = {b->n_routes - 1};
+    for (size_t i = 0; i < n; i++)
+        values[i] = g->t[i].initial_mass;
+    w_named(w, gg, &S->initial_mass, 1, dims_tracks, 0, values);
+    for (size_t i = 0; i < n; i++)
+        codes[i] = g->t[i].route;
+    w_named(w, gg, &S->route, 1, dims_tracks, 1, codes);
+    for (size_t i = 0; i < n; i++)
+        codes[i] = g->t[i].n_eep;
+    w_named(w, gg, &S->n_eep, 1, dims_tracks, 1, codes);
+    for (size_t i = 0; i < n; i++)
+        codes[i] = g->t[i].remnant;
+    w_named(w, gg, &S->remnant, 1, dims_tracks, 1, codes);
+    for (size_t i = 0; i < n; i++)
+        values[i] = g->t[i].remnant_mass;
+    w_named(w, gg, &S->remnant_mass, 1, dims_tracks, 0, values);
+    if (b->n_routes > 1)
+        w_named(w, gg, &S->boundary, 1, dims_bound, 0, g->boundary);
+}
+
+/* The per-EEP tables of group g: [track][EEP], as wide as the longest
+ * route, padded with NaN (phases: unknown) beyond each track's end. */
+static void write_eep_tables(const hrt_builder *b, const trail_z_group *g, hid_t gg, wctx *w, double *values,
+                             int *codes)
+{
+    const trail_schema *S = &trail_schema_names;
+    size_t n = g->n, width = b->n_eep_max;
+    hsize_t dims_table[2] = {n, width};
+    for (int q = 0; q < TRAIL_NF; q++) {
+        for (size_t i = 0; i < n; i++)
+            for (size_t j = 0; j < width; j++)
+                values[i * width + j] = j < (size_t)g->t[i].n_eep ? g->t[i].q[q][j] : NAN;
+        w_named(w, gg, &S->eep[q], 2, dims_table, 0, values);
+    }
+    for (size_t i = 0; i < n; i++)
+        for (size_t j = 0; j < width; j++)
+            codes[i * width + j] = j < (size_t)g->t[i].n_eep ? g->t[i].phase[j] : HRT_PHASE_UNKNOWN;
+    w_named(w, gg, &S->phase, 2, dims_table, 1, codes);
+}
+
+/* metallicity/<gi>/: the group's Z, its tracks and their tables.  Only out
+ * of memory is returned; HDF5 failures set w->failed. */
+static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_error *err)
+{
+    const trail_z_group *g = &b->grp[gi];
+    char name[32];
+    snprintf(name, sizeof name, "%zu", gi);
+    hid_t gg = w_group(w, mg, name);
+    if (gg < 0)
+        return HRT_OK;
+    w_num_attr(w, gg, trail_schema_names.group_z.v2, H5T_NATIVE_DOUBLE, &g->z);
+    size_t cells = g->n * b->n_eep_max;
+    double *values = malloc(cells * sizeof(double));
+    int *codes = malloc(cells * sizeof(int));
+    if (!values || !codes) {
+        free(values);
+        free(codes);
+        H5Gclose(gg);
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory writing Z = %g", g->z);
+    }
+    write_track_list(b, g, gg, w, values, codes);
+    write_eep_tables(b, g, gg, w, values, codes);
+    free(values);
+    free(codes);
+    H5Gclose(gg);
+    return HRT_OK;
+}
+
+static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err)
+{
+    write_root(b, f, w);
+    write_routes(b, f, w);
+    hid_t mg = w_group(w, f, "metallicity");
+    if (mg < 0)
+        return trail_set_error(err, HRT_E_IO, "cannot create group 'metallicity'");
+    int rc = HRT_OK;
+    for (size_t gi = 0; gi < b->n_groups && !w->failed && rc == HRT_OK; gi++)
+        rc = write_group(b, mg, gi, w, err);
+    H5Gclose(mg);
+    if (rc != HRT_OK)
+        return rc;
+    return w->failed ? trail_set_error(err, HRT_E_IO, "HDF5 refused to write part of the grid") : HRT_OK;
+}
+
+/* ---- the file -------------------------------------------------------------- */
+
+/* The whole file as bytes in *img (malloc'ed, *img_size bytes).  The file
+ * is built in memory (HDF5's core driver without a backing store) and
+ * written by our own write() calls: a full disk then fails there, never
+ * inside HDF5, which after a failed H5Fclose keeps the file open (its
+ * descriptor, and the disk space of the unlinked temporary) and crashes in
+ * its exit handler.  tmp names the file in messages. */
+static int make_image(const hrt_builder *b, const char *tmp, void **img, ssize_t *img_size, hrt_error *err)
+{
+    int rc = HRT_OK;
+    wctx w = {-1, -1, -1, 0};
+    H5E_BEGIN_TRY
+    {
+        w.dcpl = H5Pcreate(H5P_DATASET_CREATE);
+        w.gcpl = H5Pcreate(H5P_GROUP_CREATE);
+        hid_t fcpl = H5Pcreate(H5P_FILE_CREATE);
+        hid_t fapl = H5Pcreate(H5P_FILE_ACCESS);
+        H5Pset_fapl_core(fapl, IMAGE_INCREMENT, 0);
+        w.str_t = H5Tcopy(H5T_C_S1);
+        H5Tset_size(w.str_t, H5T_VARIABLE);
+        H5Tset_cset(w.str_t, H5T_CSET_UTF8);
+        /* No modification times in object headers: same bytes for the same grid. */
+        H5Pset_obj_track_times(w.dcpl, 0);
+        H5Pset_obj_track_times(w.gcpl, 0);
+        hid_t f = H5Fcreate(tmp, H5F_ACC_TRUNC, fcpl, fapl);
+        if (f < 0) {
+            rc = trail_set_error(err, HRT_E_IO, "cannot create HDF5 file '%s'", tmp);
+        } else {
+            rc = write_contents(b, f, &w, err);
+            if (rc == HRT_OK && (H5Fflush(f, H5F_SCOPE_GLOBAL) < 0 || (*img_size = H5Fget_file_image(f, NULL, 0)) <= 0))
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot complete the image of '%s'", tmp);
+            if (rc == HRT_OK && !(*img = malloc((size_t)*img_size)))
+                rc = trail_set_error(err, HRT_E_NOMEM, "out of memory for the %zd bytes of '%s'", *img_size, tmp);
+            if (rc == HRT_OK && H5Fget_file_image(f, *img, (size_t)*img_size) != *img_size)
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot copy the image of '%s'", tmp);
+            if (H5Fclose(f) < 0 && rc == HRT_OK)
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot close the image of '%s'", tmp);
+        }
+        H5Pclose(fapl);
+        H5Pclose(fcpl);
+        H5Pclose(w.dcpl);
+        H5Pclose(w.gcpl);
+        H5Tclose(w.str_t);
+    }
+    H5E_END_TRY;
+    return rc;
+}
+
+/* All img_size bytes of img to fd (the file tmp). */
+static int write_image(int fd, const char *tmp, const void *img, ssize_t img_size, hrt_error *err)
+{
+    int rc = HRT_OK;
+    for (size_t done = 0; rc == HRT_OK && done < (size_t)img_size;) {
+        ssize_t k = write(fd, (const char *)img + done, (size_t)img_size - done);
+        if (k < 0 && errno == EINTR)
+            continue;
+        if (k <= 0)
+            rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' (%zu of %zd bytes written): %s", tmp, done,
+                                 img_size, k < 0 ? strerror(errno) : "no progress");
+        else
+            done += (size_t)k;
+    }
+    return rc;
+}
+
+int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
+{
+    if (!b || !path)
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_write: %s is NULL", !b ? "builder" : "path");
+    int rc = prepare_write(b, err);
+    if (rc != HRT_OK)
+        return rc;
+    size_t len = strlen(path);
+    char *tmp = malloc(len + 16);
+    if (!tmp)
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
+    snprintf(tmp, len + 16, "%s.tmp-XXXXXX", path);
+    int fd = mkstemp(tmp);
+    if (fd < 0) {
+        rc = trail_set_error(err, HRT_E_IO, "cannot create a temporary file beside '%s': %s", path, strerror(errno));
+        free(tmp);
+        return rc;
+    }
+    fchmod(fd, 0644);
+    void *img = NULL;
+    ssize_t img_size = -1;
+    rc = make_image(b, tmp, &img, &img_size, err);
+    if (rc == HRT_OK)
+        rc = write_image(fd, tmp, img, img_size, err);
+    free(img);
+    if (rc == HRT_OK && fsync(fd) != 0)
+        rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' to the disk: %s", tmp, strerror(errno));
+    if (close(fd) != 0 && rc == HRT_OK)
+        rc = trail_set_error(err, HRT_E_IO, "cannot finish writing '%s': %s", tmp, strerror(errno));
+    if (rc == HRT_OK && rename(tmp, path) != 0)
+        rc = trail_set_error(err, HRT_E_IO, "cannot rename '%s' to '%s': %s", tmp, path, strerror(errno));
+    if (rc != HRT_OK)
+        unlink(tmp);
+    free(tmp);
+    return rc;
+}
