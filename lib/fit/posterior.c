@@ -1,0 +1,408 @@
+/* hrtrail: the posterior of an observed star over (initial mass, age,
+ * [Fe/H]): weights of the lattice points the likelihood found, their
+ * weighted quantiles, flags, posterior draws and the HR-diagram distance. */
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <gsl/gsl_randist.h>
+#include <gsl/gsl_rng.h>
+
+#include "util/util.h"
+#include "fit/intervals.h"
+#include "fit/lattice.h"
+#include "fit/posterior.h"
+
+#define N_DIST_DRAWS 4000  /* draws for the distance interval (Monte Carlo error about 1 %) */
+#define HIST_BINS 2048     /* bins of the quantile histograms */
+#define HIST_SLOTS (HIST_BINS + 4) /* second differences a histogram keeps (two past each end) */
+/* A result is flagged HRT_FIT_AGE_LIMIT when its age interval reaches this
+ * fraction of age_max_yr, and HRT_FIT_FEW_POINTS below this many effective points. */
+#define AGE_LIMIT_FRACTION 0.95
+#define FEW_POINTS_N_EFF 20.0
+
+/* ------------------------------------------------------------------ quantiles */
+
+/* Weighted quantiles of boxes [v - h, v + h] of weight w (ages: [t_lo, t_hi]):
+ * each box spreads its weight evenly; the cumulative distribution is built
+ * exactly on the bin edges of a histogram and inverted linearly.  Every
+ * histogram of a star is filled in one pass over the points. */
+typedef struct hist {
+    int quantity; /* PQ_*, or PQ_AGE */
+    double xmin, xmax, inv_width, weight;
+    double *second_diff; /* HIST_SLOTS second differences of the cumulative weight at the bin edges */
+} hist;
+
+static inline void box_of(const trail_fit_point *P, int q, double *x0, double *x1)
+{
+    if (q == PQ_AGE) {
+        *x0 = P->age_lo_yr;
+        *x1 = P->age_hi_yr;
+    } else {
+        *x0 = P->value[q] - P->half[q];
+        *x1 = P->value[q] + P->half[q];
+    }
+}
+
+static void hist_open(hist *H, int quantity)
+{
+    H->quantity = quantity;
+    H->xmin = INFINITY;
+    H->xmax = -INFINITY;
+    H->weight = 0.0;
+}
+
+static inline void hist_range(hist *H, const trail_fit_point *P)
+{
+    double x0, x1;
+    box_of(P, H->quantity, &x0, &x1);
+    if (x0 < H->xmin) H->xmin = x0;
+    if (x1 > H->xmax) H->xmax = x1;
+    H->weight += P->weight;
+}
+
+/* Clear the histogram of a quantity once its range is known. */
+static void hist_start(hist *H, double *second_diff)
+{
+    H->second_diff = second_diff;
+    memset(H->second_diff, 0, HIST_SLOTS * sizeof *H->second_diff);
+    H->inv_width = H->xmax > H->xmin ? HIST_BINS / (H->xmax - H->xmin) : 0.0;
+}
+
+static inline void hist_add(hist *H, const trail_fit_point *P)
+{
+    if (H->inv_width == 0.0)
+        return;
+    double x0, x1, *E = H->second_diff;
+    box_of(P, H->quantity, &x0, &x1);
+    double u0 = (x0 - H->xmin) * H->inv_width, u1 = (x1 - H->xmin) * H->inv_width;
+    if (u1 - u0 < 1e-6) { /* a point: a narrow box */
+        u0 -= 5e-7;
+        u1 += 5e-7;
+        if (u0 < 0) { u1 -= u0; u0 = 0; }
+    }
+    if (u0 < 0) u0 = 0;
+    if (u1 > HIST_BINS) u1 = HIST_BINS;
+    double s = P->weight / (u1 - u0);
+    /* ramp s max(0, e - u0) minus ramp s max(0, e - u1), as second differences */
+    size_t i0 = (size_t)u0, i1 = (size_t)u1;
+    double p0 = u0 - (double)i0, p1 = u1 - (double)i1;
+    E[i0 + 1] += s * (1.0 - p0);
+    E[i0 + 2] += s * p0;
+    E[i1 + 1] -= s * (1.0 - p1);
+    E[i1 + 2] -= s * p1;
+}
+
+static hrt_fit_interval interval_of(const double lo_median_hi[3])
+{
+    hrt_fit_interval r = {lo_median_hi[1], lo_median_hi[0], lo_median_hi[2]};
+    return r;
+}
+
+/* Median and 15.87/84.13 % points of a filled histogram. */
+static hrt_fit_interval hist_interval(const hist *H)
+{
+    hrt_fit_interval out = trail_fit_no_interval();
+    if (!(H->weight > 0.0))
+        return out;
+    if (H->inv_width == 0.0) {
+        out.median = out.lo = out.hi = H->xmin;
+        return out;
+    }
+    const double *E = H->second_diff, d = (H->xmax - H->xmin) / HIST_BINS;
+    /* cumulative weight C(e) at the edges e = 0..HIST_BINS, from its second differences */
+    double dC = 0.0, C = 0.0, prev = 0.0;
+    double targets[3] = {TRAIL_FIT_P_LO * H->weight, 0.5 * H->weight, TRAIL_FIT_P_HI * H->weight};
+    double o[3] = {H->xmax, H->xmax, H->xmax};
+    int t = 0;
+    for (size_t e = 0; e <= HIST_BINS + 1 && t < 3; e++) {
+        dC += E[e];
+        prev = C;
+        C += dC;
+        while (t < 3 && C >= targets[t]) {
+            double f = C > prev ? (targets[t] - prev) / (C - prev) : 0.0;
+            double edge = e == 0 ? 0.0 : (double)e - 1.0 + f;
+            o[t++] = H->xmin + edge * d;
+        }
+    }
+    return interval_of(o);
+}
+
+hrt_fit_interval trail_fit_sample_quantiles(double *v, size_t n)
+{
+    if (n == 0)
+        return trail_fit_no_interval();
+    qsort(v, n, sizeof *v, trail_cmp_double);
+    double p[3] = {TRAIL_FIT_P_LO, 0.5, TRAIL_FIT_P_HI}, o[3];
+    for (int k = 0; k < 3; k++) {
+        double x = p[k] * (double)(n - 1);
+        size_t i = (size_t)floor(x);
+        double f = x - (double)i;
+        o[k] = i + 1 < n ? v[i] + f * (v[i + 1] - v[i]) : v[n - 1];
+        if (i + 1 < n && isinf(v[i + 1]))
+            o[k] = f > 0 ? v[i + 1] : v[i];
+    }
+    return interval_of(o);
+}
+
+/* 10^x of each point of an interval (log10 quantities reported linearly). */
+static hrt_fit_interval exp10_interval(hrt_fit_interval x)
+{
+    hrt_fit_interval r = {pow(10.0, x.median), pow(10.0, x.lo), pow(10.0, x.hi)};
+    return r;
+}
+
+/* ------------------------------------------------------------------ weights */
+
+/* Quantities summarised over all points, in the order of their histograms. */
+static const int all_point_quantities[] = {PQ_LOG_INITIAL_MASS, PQ_AGE, PQ_FEH, PQ_MASS, PQ_LOG_R, PQ_LOG_L, PQ_TEFF, PQ_LOG_G};
+#define N_ALL_POINTS (int)(sizeof all_point_quantities / sizeof all_point_quantities[0])
+/* ... then initial mass and age within the most probable phase, and within the second. */
+#define N_HISTS (N_ALL_POINTS + 4)
+
+/* The histograms of a star: over all points, and initial mass and age within each phase. */
+typedef struct hists {
+    hist all[N_HISTS];
+    hist phase[HRT_PHASE_SLOTS][2];
+} hists;
+
+/* Sums over the weighted points. */
+typedef struct weights {
+    double sum_w, sum_w2, chi2_min; /* sum_w2: of the squared weights */
+    size_t n_weighted;           /* points with a positive weight */
+} weights;
+
+/* Weights of the points, dropping those far above the best chi^2 (relative
+ * weight < 4e-6) and those without prior weight; the histograms' ranges. */
+static int weigh_points(trail_fit_points *S, hists *H, weights *w, hrt_error *err)
+{
+    for (int k = 0; k < N_ALL_POINTS; k++)
+        hist_open(&H->all[k], all_point_quantities[k]);
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++) {
+        hist_open(&H->phase[p][0], PQ_LOG_INITIAL_MASS);
+        hist_open(&H->phase[p][1], PQ_AGE);
+    }
+    double sum_w = 0.0, sum_w2 = 0.0, chi2min = INFINITY;
+    size_t np = 0, kept = 0;
+    for (size_t i = 0; i < S->n; i++)
+        if (S->p[i].chi2 < chi2min && S->p[i].prior > 0) chi2min = S->p[i].chi2;
+    for (size_t i = 0; i < S->n; i++) {
+        trail_fit_point *P = &S->p[i];
+        if (!(P->prior > 0) || P->chi2 > chi2min + TRAIL_FIT_CUT_CHI2)
+            continue;
+        P->weight = P->prior * exp(-0.5 * (P->chi2 - chi2min));
+        if (!(P->phase >= 0 && P->phase < HRT_PHASE_SLOTS))
+            P->phase = HRT_PHASE_UNKNOWN;
+        sum_w += P->weight;
+        sum_w2 += P->weight * P->weight;
+        np += P->weight > 0;
+        for (int k = 0; k < N_ALL_POINTS; k++)
+            hist_range(&H->all[k], P);
+        hist_range(&H->phase[P->phase][0], P);
+        hist_range(&H->phase[P->phase][1], P);
+        S->p[kept++] = *P;
+    }
+    S->n = kept;
+    w->sum_w = sum_w;
+    w->sum_w2 = sum_w2;
+    w->chi2_min = chi2min;
+    w->n_weighted = np;
+    if (!(sum_w > 0.0) || !isfinite(sum_w))
+        return trail_set_error(err, HRT_E_NO_MATCH,
+                               "hrt_fit_star: the models near the observation have no prior weight (ages beyond age_max_yr?)");
+    return HRT_OK;
+}
+
+/* ------------------------------------------------------------------ summary */
+
+/* Phase probabilities, and the two most probable phases (the second
+ * HRT_PHASE_UNKNOWN if no other phase has weight). */
+static void set_phases(hrt_fit_result *res, const hists *H, double sum_w)
+{
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++)
+        res->phase_prob[p] = H->phase[p][0].weight / sum_w;
+    int p1 = trail_fit_argmax(res->phase_prob, HRT_PHASE_SLOTS), p2 = 0;
+    for (int p = 1; p < HRT_PHASE_SLOTS; p++)
+        if (p != p1 && (p2 == p1 || p2 == 0 || res->phase_prob[p] > res->phase_prob[p2]) && res->phase_prob[p] > 0)
+            p2 = p;
+    if (p2 == p1 || !(res->phase_prob[p2] > 0)) p2 = HRT_PHASE_UNKNOWN;
+    res->phase = p1;
+    res->phase_second = p2;
+}
+
+/* Fill the histograms (the phases' in H->all after the N_ALL_POINTS of all points,
+ * at first_of[s] for phase s of the result, -1 if none) and read their intervals. */
+static void set_intervals(hrt_fit_result *res, hists *H, const trail_fit_points *S, double *scratch)
+{
+    int nh = N_ALL_POINTS;
+    int phase_of[2] = {res->phase, res->phase_second}, first_of[2] = {-1, -1};
+    for (int s = 0; s < 2; s++)
+        if (phase_of[s] != HRT_PHASE_UNKNOWN) {
+            first_of[s] = nh;
+            H->all[nh++] = H->phase[phase_of[s]][0];
+            H->all[nh++] = H->phase[phase_of[s]][1];
+        }
+    for (int k = 0; k < nh; k++)
+        hist_start(&H->all[k], scratch + (size_t)k * HIST_SLOTS);
+    for (size_t i = 0; i < S->n; i++) {
+        const trail_fit_point *P = &S->p[i];
+        for (int k = 0; k < N_ALL_POINTS; k++)
+            hist_add(&H->all[k], P);
+        for (int s = 0; s < 2; s++)
+            if (first_of[s] >= 0 && P->phase == phase_of[s]) {
+                hist_add(&H->all[first_of[s]], P);
+                hist_add(&H->all[first_of[s] + 1], P);
+            }
+    }
+    const hist *A = H->all;
+    res->initial_mass_msun = exp10_interval(hist_interval(&A[0]));
+    res->age_yr = hist_interval(&A[1]);
+    res->feh = hist_interval(&A[2]);
+    res->mass_msun = hist_interval(&A[3]);
+    res->r_rsun = exp10_interval(hist_interval(&A[4]));
+    res->log_l_lsun = hist_interval(&A[5]);
+    res->teff_k = hist_interval(&A[6]);
+    res->log_g_cgs = hist_interval(&A[7]);
+    for (int s = 0; s < 2; s++) {
+        res->phase_mass_msun[s] = first_of[s] >= 0 ? exp10_interval(hist_interval(&A[first_of[s]])) : trail_fit_no_interval();
+        res->phase_age_yr[s] = first_of[s] >= 0 ? hist_interval(&A[first_of[s] + 1]) : trail_fit_no_interval();
+    }
+}
+
+/* chi^2 at its 99.73 % point for 1..4 degrees of freedom (SciPy scipy.stats.chi2.ppf(0.9973, k)). */
+static const double chi2_3sigma[5] = {0.0, 9.0, 11.83, 14.16, 16.25};
+
+static void set_flags(hrt_fit_result *res, const hrt_fit_model *m, int n_obs)
+{
+    if (res->phase_second != HRT_PHASE_UNKNOWN && res->phase_prob[res->phase_second] >= HRT_FIT_MULTIMODAL_PROB)
+        res->flags |= HRT_FIT_MULTIMODAL;
+    double mstep = pow(10.0, m->o.log_mass_step_dex);
+    if (res->initial_mass_msun.lo < m->o.mass_min_msun * mstep || res->initial_mass_msun.hi > m->o.mass_max_msun / mstep)
+        res->flags |= HRT_FIT_MASS_EDGE;
+    if (res->age_yr.hi > AGE_LIMIT_FRACTION * m->o.age_max_yr)
+        res->flags |= HRT_FIT_AGE_LIMIT;
+    if (m->n_feh > 1 && (res->feh.lo < m->o.feh_min + 0.5 * m->feh_step || res->feh.hi > m->o.feh_max - 0.5 * m->feh_step))
+        res->flags |= HRT_FIT_FEH_EDGE;
+    int dof = n_obs < 1 ? 1 : n_obs > 4 ? 4 : n_obs;
+    if (res->chi2_min > chi2_3sigma[dof])
+        res->flags |= HRT_FIT_POOR_MATCH;
+    if (res->n_eff < FEW_POINTS_N_EFF)
+        res->flags |= HRT_FIT_FEW_POINTS;
+}
+
+/* ------------------------------------------------------------------ draws */
+
+/* A seeded Mersenne Twister without gsl_rng_alloc (whose failure would reach
+ * GSL's handler): its state lives in the caller's memory of gsl_rng_mt19937->size bytes. */
+static void rng_open(gsl_rng *R, void *state, uint64_t seed)
+{
+    R->type = gsl_rng_mt19937;
+    R->state = state;
+    gsl_rng_set(R, (unsigned long)(seed ^ (seed >> 32)));
+}
+
+/* A point drawn by weight: the one whose cumulative weight range holds a uniform draw. */
+static const trail_fit_point *draw_point(const trail_fit_points *S, const double *cum, gsl_rng *R)
+{
+    double u = gsl_rng_uniform(R) * cum[S->n - 1];
+    size_t lo = 0, hi = S->n - 1;
+    while (lo < hi) {
+        size_t mid = (lo + hi) / 2;
+        if (cum[mid] > u)
+            hi = mid;
+        else
+            lo = mid + 1;
+    }
+    return &S->p[lo];
+}
+
+/* A value of quantity q drawn uniformly inside a point's box. */
+static double draw_in_box(const trail_fit_point *P, int q, gsl_rng *R)
+{
+    return P->value[q] + (2.0 * gsl_rng_uniform(R) - 1.0) * P->half[q];
+}
+
+static void draw_samples(const hrt_fit_model *m, const trail_fit_points *S, const double *cum, gsl_rng *R, size_t n,
+                         hrt_fit_sample *samples)
+{
+    for (size_t i = 0; i < n; i++) {
+        const trail_fit_point *P = draw_point(S, cum, R);
+        hrt_fit_sample *o = &samples[i];
+        memset(o, 0, sizeof *o);
+        o->initial_mass_msun = pow(10.0, draw_in_box(P, PQ_LOG_INITIAL_MASS, R));
+        o->age_yr = P->age_lo_yr + gsl_rng_uniform(R) * (P->age_hi_yr - P->age_lo_yr);
+        o->z = m->z[P->feh_node];
+        o->log_l_lsun = P->value[PQ_LOG_L];
+        o->log_teff_k = log10(P->value[PQ_TEFF]);
+        o->phase = P->phase;
+    }
+}
+
+/* d = sqrt(L / (4 pi F)): L from the posterior, F from its Gaussian error. */
+static hrt_fit_interval distance_interval(const trail_fit_obs *F, const trail_fit_points *S, const double *cum, gsl_rng *R,
+                                          double *dist)
+{
+    for (size_t i = 0; i < N_DIST_DRAWS; i++) {
+        const trail_fit_point *P = draw_point(S, cum, R);
+        double ll = draw_in_box(P, PQ_LOG_L, R);
+        double lf = F->log_flux + gsl_ran_gaussian(R, F->log_flux_sigma);
+        dist[i] = hrt_fit_distance_m(HRT_LSUN_W * pow(10.0, ll), pow(10.0, lf)) / HRT_PC_M;
+    }
+    return trail_fit_sample_quantiles(dist, N_DIST_DRAWS);
+}
+
+/* Everything the result reports about the points S found. */
+static int summarise(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_points *S, uint64_t seed, size_t n_samples,
+                     hrt_fit_sample *samples, hrt_fit_result *res, hrt_error *err)
+{
+    hists H;
+    weights w;
+    int rc = weigh_points(S, &H, &w, err);
+    if (rc != HRT_OK)
+        return rc;
+    /* one block of scratch: histograms, cumulative weights, distance draws, random state */
+    size_t n_values = N_HISTS * HIST_SLOTS + S->n + (F->hr_distance ? N_DIST_DRAWS : 0);
+    size_t n_rng = (gsl_rng_mt19937->size + sizeof(double) - 1) / sizeof(double);
+    double *scratch = malloc((n_values + n_rng) * sizeof *scratch);
+    if (!scratch)
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
+    double *cum = scratch + N_HISTS * HIST_SLOTS, *dist = cum + S->n;
+    gsl_rng R;
+    rng_open(&R, scratch + n_values, seed);
+    res->n_obs = F->n_obs;
+    res->chi2_min = w.chi2_min;
+    res->n_eff = w.sum_w * w.sum_w / w.sum_w2;
+    res->n_points = (double)w.n_weighted;
+    set_phases(res, &H, w.sum_w);
+    set_intervals(res, &H, S, scratch);
+    set_flags(res, m, F->n_obs);
+    double c = 0.0;
+    for (size_t i = 0; i < S->n; i++) {
+        c += S->p[i].weight;
+        cum[i] = c;
+    }
+    draw_samples(m, S, cum, &R, n_samples, samples);
+    res->distance_pc = F->hr_distance ? distance_interval(F, S, cum, &R, dist) : trail_fit_no_interval();
+    free(scratch);
+    return HRT_OK;
+}
+
+int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, size_t n_samples,
+                 hrt_fit_sample *samples, hrt_fit_result *res, hrt_error *err)
+{
+    if (!m || !obs || !res || (n_samples > 0 && !samples))
+        return trail_set_error(err, HRT_E_NULL, "hrt_fit_star: %s is NULL",
+                               !m ? "model" : !obs ? "obs" : !res ? "res" : "samples");
+    memset(res, 0, sizeof *res);
+    res->struct_size = sizeof *res;
+    trail_fit_obs F;
+    int rc = trail_fit_obs_prepare(m, obs, &F, err);
+    if (rc != HRT_OK)
+        return trail_fit_finish(&res->status, rc, err);
+    trail_fit_points S = {NULL, 0, 0, INFINITY, INFINITY};
+    rc = trail_fit_scan_lattice(m, &F, &S, err);
+    if (rc == HRT_OK)
+        rc = summarise(m, &F, &S, seed, n_samples, samples, res, err);
+    free(S.p);
+    return trail_fit_finish(&res->status, rc, err);
+}

@@ -1,0 +1,69 @@
+/* Private: the posterior of one observed star on the lattice: the prepared
+ * observation (lib/fit/observation.c), the weighted sub-cells of the lattice
+ * the likelihood finds (lib/fit/likelihood.c), and their summary
+ * (lib/fit/posterior.c). */
+#ifndef HRTRAIL_LIB_FIT_POSTERIOR_H
+#define HRTRAIL_LIB_FIT_POSTERIOR_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "hrtrail.h"
+
+/* Sub-cells farther than TRAIL_FIT_CUT_SIGMA from the observation in any
+ * observable are skipped, and so are those whose chi^2 lies
+ * TRAIL_FIT_CUT_CHI2 above the best (relative weight exp(-25/2) < 4e-6). */
+#define TRAIL_FIT_CUT_SIGMA 6.0
+#define TRAIL_FIT_CUT_CHI2 25.0
+/* A fit needs at least one point this close in every observable. */
+#define TRAIL_FIT_MATCH_SIGMA 5.0
+
+/* Quantities summarised per weighted point; the age is a span of its own. */
+enum { PQ_LOG_INITIAL_MASS = 0, PQ_FEH, PQ_MASS, PQ_LOG_L, PQ_TEFF, PQ_LOG_G, PQ_LOG_R, PQ_COUNT, PQ_AGE = PQ_COUNT };
+
+/* A measured quantity in the likelihood. */
+typedef struct trail_fit_measured {
+    int given;
+    double value, sigma; /* in the quantity's own units */
+} trail_fit_measured;
+
+/* An observation prepared for the likelihood. */
+typedef struct trail_fit_obs {
+    trail_fit_measured teff;  /* Teff in K (compared with 10^log Teff) */
+    double log_teff;          /* log10 of the measured Teff */
+    trail_fit_measured log_l, log_g, feh;
+    /* search window in the lattice quantities */
+    double log_teff_lo, log_teff_hi, log_l_lo, log_l_hi, log_g_lo, log_g_hi;
+    /* 1 / sigma in the lattice quantities (log Teff in dex) */
+    double inv_sigma_log_teff, inv_sigma_log_l, inv_sigma_log_g;
+    int hr_distance;                 /* flux without a distance: the HR-diagram distance is wanted */
+    double log_flux, log_flux_sigma; /* log10 F/(W m^-2) */
+    int n_obs;
+} trail_fit_obs;
+
+/* A weighted sub-cell of the lattice. */
+typedef struct trail_fit_point {
+    double prior, chi2, weight;
+    double age_lo_yr, age_hi_yr;            /* its age span */
+    float value[PQ_COUNT], half[PQ_COUNT];  /* value and half-extent of each reported quantity */
+    int8_t phase;
+    uint16_t feh_node;
+} trail_fit_point;
+
+/* The sub-cells found so far. */
+typedef struct trail_fit_points {
+    trail_fit_point *p;
+    size_t n, cap;
+    double best_dev;  /* smallest over points of the largest |residual| / sigma */
+    double chi2_best; /* smallest chi^2 so far */
+} trail_fit_points;
+
+/* Check and prepare what was measured (hrt_fit_star's messages). */
+int trail_fit_obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, trail_fit_obs *F, hrt_error *err);
+
+/* Every sub-cell of the lattice near the observation, into S (which starts
+ * empty, best_dev and chi2_best infinite); HRT_E_NO_MATCH when no point lies
+ * within TRAIL_FIT_MATCH_SIGMA, HRT_E_NOMEM. */
+int trail_fit_scan_lattice(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_points *S, hrt_error *err);
+
+#endif
