@@ -454,8 +454,9 @@ HRT_API int hrt_star_at(const hrt_star *star, double age_yr, hrt_state *out);
 HRT_API size_t hrt_star_n_eep(const hrt_star *star);
 /**
  * State at EEP j of the star's track (0 <= j < hrt_star_n_eep); HRT_E_INVALID
- * if out of range.  At the last EEP of a track that leaves a remnant it is
- * the remnant at its birth, as hrt_star_at() gives at that age.
+ * if out of range.  The last EEP is the star as its track ends (white dwarf
+ * onset, or just before core collapse), in the phase it ends in; from that
+ * age on hrt_star_at() gives the remnant.
  */
 HRT_API int hrt_star_eep_state(const hrt_star *star, size_t j, hrt_state *out);
 /** Route index of the star. */

@@ -90,11 +90,6 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
         return HRT_E_NULL;
     if (j >= (size_t)s->n)
         return HRT_E_INVALID;
-    /* The last EEP of a track with a remnant is where the remnant forms:
-     * the same state hrt_star_at gives at that age (not the pre-collapse
-     * star under the remnant's name). */
-    if (j + 1 == (size_t)s->n && s->remnant != HRT_REMNANT_NONE)
-        return hrt_star_at(s, s->age_yr[j], out);
     trail_state_clear(out, s->q.mass, s->q.z, (s->age_yr[j]));
     out->route = s->q.route;
     out->flags = s->q.flags;
@@ -103,9 +98,13 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
     const double *v = s->val + j * NQS;
     trail_state_from_values(out, v, v, 0.0);
     out->eep = (double)j;
-    out->phase = s->phase[j];
-    out->phase_start_yr = (s->age_yr[s->runs[2 * j]]);
-    out->phase_end_yr = (s->age_yr[s->runs[2 * j + 1]]);
+    /* The last EEP is the star as its track ends (at the white dwarf's
+     * onset, or just before core collapse): it carries the phase it ends
+     * in, not the remnant's, which hrt_star_at gives from that age on. */
+    size_t jp = j + 1 == (size_t)s->n && j > 0 ? j - 1 : j;
+    out->phase = s->phase[jp];
+    out->phase_start_yr = (s->age_yr[s->runs[2 * jp]]);
+    out->phase_end_yr = (s->age_yr[s->runs[2 * jp + 1]]);
     double span = out->phase_end_yr - out->phase_start_yr;
     out->phase_fraction = span > 0.0 ? (out->age_yr - out->phase_start_yr) / span : 0.0;
     return HRT_OK;
