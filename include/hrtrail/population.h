@@ -88,7 +88,7 @@ HRT_API int hrt_imf_from_name(const char *name);
  *   HRT_E_DOMAIN (limits or alpha).
  * Notes:
  *   1. Segments are continuous at their breaks (as the papers define them).
- *   2. The published parameters are written in lib/population/population.c beside
+ *   2. The published parameters are written in lib/population/imf.c beside
  *      their references.
  */
 HRT_API int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, double alpha, hrt_error *err);
@@ -176,8 +176,10 @@ HRT_API uint64_t hrt_pop_n_chunks(const hrt_pop_spec *spec);
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (spec or
  *   chunk), HRT_E_DOMAIN, HRT_E_BUFFER, HRT_E_NOMEM.
  * Notes:
- *   1. The stream of chunk k is GSL's MT19937 (gsl_rng_mt19937) seeded with
- *      a SplitMix64 hash of (seed, k); each star draws, in this order, one
+ *   1. The stream of chunk k adds, modulo 2^32, GSL's MT19937
+ *      (gsl_rng_mt19937) and Tausworthe (gsl_rng_taus2) generators, each
+ *      seeded with 32 bits of a SplitMix64 hash of (seed, k), so that 64 bits
+ *      select the stream; each star draws, in this order, one
  *      uniform for its mass (IMF quantile), one for its birth time (not for
  *      a burst) and one for its metallicity (not for a fixed Z).
  *   2. These are exactly the stars hrt_pop_run() evaluates.

@@ -25,7 +25,6 @@
 /* ... and, relative, in the mass limits. */
 #define MASS_ROUNDING_REL 1e-12
 /* Halvings of a route edge's bracket: 60 shrink any mass range below a double's resolution. */
-#define ROUTE_EDGE_BISECTIONS 60
 
 /* ------------------------------------------------------------------ priors */
 
@@ -131,25 +130,6 @@ int trail_fit_grow(void **p, size_t *cap, size_t need, size_t elem)
 }
 
 static int out_of_memory(hrt_error *err) { return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_model_new: out of memory"); }
-
-/* Initial mass where the route changes from <= b to > b at metallicity z,
- * by bisection in log mass between lo and hi: *below and *above bracket it.
- * (The core knows each group's route boundaries; at a metallicity between
- * groups it has no public answer yet, hence the search.) */
-static void route_edge(const hrt_grid *g, double z, int b, double lo, double hi, double *below, double *above)
-{
-    double a = log10(lo), c = log10(hi);
-    for (int it = 0; it < ROUTE_EDGE_BISECTIONS; it++) {
-        double mid = 0.5 * (a + c);
-        int r;
-        if (hrt_grid_route_of(g, pow(10.0, mid), z, &r) != HRT_OK || r <= b)
-            a = mid;
-        else
-            c = mid;
-    }
-    *below = pow(10.0, a);
-    *above = pow(10.0, c);
-}
 
 typedef struct lattice_build {
     hrt_fit_model *m;
@@ -334,15 +314,17 @@ static int add_node_tracks(lattice_build *B, size_t k, hrt_error *err)
     if (hi > m->o.mass_max_msun) hi = m->o.mass_max_msun;
     if (lo >= hi)
         return HRT_OK;
-    int rc = HRT_OK, route_lo, route_hi;
+    int route_lo = 0, route_hi = 0;
+    if (hrt_grid_route_of(g, lo, z, &route_lo) != HRT_OK || hrt_grid_route_of(g, hi, z, &route_hi) != HRT_OK)
+        return HRT_OK; /* cannot happen inside the mass range; nothing to add if it did */
+    int rc = HRT_OK;
     double seg_lo = lo;
-    size_t nr = hrt_grid_n_routes(g);
-    hrt_grid_route_of(g, lo, z, &route_lo);
-    for (int r = route_lo; r < (int)nr && seg_lo < hi && rc == HRT_OK; r++) {
+    for (int r = route_lo; r <= route_hi && seg_lo < hi && rc == HRT_OK; r++) {
+        /* route r ends at its boundary (the core's rule, hrt_grid_boundary_at);
+         * the next route starts just above it */
         double seg_hi = hi, next_lo = hi;
-        hrt_grid_route_of(g, hi, z, &route_hi);
-        if (r < route_hi)
-            route_edge(g, z, r, seg_lo, hi, &seg_hi, &next_lo);
+        if (r < route_hi && hrt_grid_boundary_at(g, z, (size_t)r, &seg_hi) == HRT_OK)
+            next_lo = nextafter(seg_hi, INFINITY);
         rc = add_route_tracks(B, k, r, seg_lo, seg_hi, err);
         seg_lo = next_lo;
     }

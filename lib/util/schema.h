@@ -1,6 +1,6 @@
 /*
  * The grid file's schema (tracks/FORMAT.md) as both the reader
- * (lib/core/grid_read.c) and the writer (lib/build/builder.c) see it: the
+ * (lib/core/grid_read.c) and the writer (lib/build/builder_write.c) see it: the
  * format's name, the names, units and meanings of its datasets in every
  * version the library knows, the limits on sizes and the plausibility
  * bounds, so that anything the library writes it can read back.  Also the
