@@ -267,16 +267,19 @@ int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *smp, size_t 
     res->struct_size = sizeof *res;
     int rc = check_args(n, smp, n_times, dt_yr, err);
     if (rc != HRT_OK)
-        return rc;
+        return trail_fit_finish(&res->status, rc, err);
     forecast_work w;
     rc = work_alloc(&w, n, n_times, err);
-    /* a sample that fails ends the forecast; the remnant shares of those before it stay in res */
     for (size_t i = 0; i < n && rc == HRT_OK; i++)
         rc = forecast_sample(g, &smp[i], i, n_times, dt_yr, &w, res, err);
     if (rc == HRT_OK) {
         summarise_now(res, &w);
         summarise_events(res, &w);
         summarise_states(states, n_times, dt_yr, &w);
+    } else {
+        /* a sample that fails ends the forecast: nothing partial is left in res */
+        memset(res, 0, sizeof *res);
+        res->struct_size = sizeof *res;
     }
     work_free(&w);
     return trail_fit_finish(&res->status, rc, err);
