@@ -19,11 +19,11 @@ program evolve_stars
   type(hrt_star_t) :: star
   type(hrt_state), allocatable :: states(:)
   type(hrt_phase_span), allocatable :: spans(:)
-  real(c_double) :: ages(size(masses)), rmass
+  real(c_double) :: ages(size(masses)), remnant_mass_msun
   character(len=4096) :: path
   character(len=256) :: msg
   character(len=44) :: phase
-  integer :: stat, epoch, i, k, kind
+  integer :: stat, epoch, i, k, remnant
 
   if (command_argument_count() >= 1) then
      call get_command_argument(1, path)
@@ -50,7 +50,7 @@ program evolve_stars
         else
            phase = hrtf_phase_name(int(states(i)%phase))
            write (*, '(f6.2,a,a,a,f7.3,a,i6,a,f7.3,a)') masses(i), ' Msun  ', phase, '  log L =', &
-                states(i)%log_l, '  Teff =', nint(10.0_c_double ** states(i)%log_teff_k), ' K  M =', &
+                states(i)%log_l_lsun, '  Teff =', nint(10.0_c_double ** states(i)%log_teff_k), ' K  M =', &
                 states(i)%mass_msun, ' Msun'
         end if
      end do
@@ -60,9 +60,9 @@ program evolve_stars
   do i = 1, size(masses)
      call hrtf_star_new(star, grid, masses(i), z)
      call hrtf_star_phases(star, spans)
-     call hrtf_star_remnant(star, kind, rmass)
-     write (*, '(f6.2,a,a,a,f6.3,a)') masses(i), ' Msun: remnant ', hrtf_remnant_name(kind), ' of ', &
-          rmass, ' Msun'
+     call hrtf_star_remnant(star, remnant, remnant_mass_msun)
+     write (*, '(f6.2,a,a,a,f6.3,a)') masses(i), ' Msun: remnant ', hrtf_remnant_name(remnant), ' of ', &
+          remnant_mass_msun, ' Msun'
      do k = 1, size(spans)
         phase = hrtf_phase_name(int(spans(k)%phase))
         write (*, '(8x,a,es11.3,a,es11.3,a)') phase, spans(k)%start_yr, ' ..', spans(k)%end_yr, ' yr'

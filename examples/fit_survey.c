@@ -14,7 +14,8 @@
 
 typedef struct target {
     const char *name;
-    double teff, teff_s, log_l, log_l_s, feh, feh_s, logg, logg_s, flux, flux_s;
+    double teff_k, teff_k_sigma, log_l_lsun, log_l_lsun_sigma, feh, feh_sigma, log_g_cgs, log_g_cgs_sigma, flux_w_m2,
+        flux_w_m2_sigma;
 } target;
 
 int main(int argc, char **argv)
@@ -40,11 +41,11 @@ int main(int argc, char **argv)
         const target *t = &field[i];
         hrt_fit_obs o;
         hrt_fit_obs_init(&o);
-        o.teff_k = t->teff, o.teff_k_sigma = t->teff_s;
-        o.log_l_lsun = t->log_l_lsun, o.log_l_lsun_sigma = t->log_l_s;
-        o.feh = t->feh, o.feh_sigma = t->feh_s;
-        o.log_g_cgs = t->logg, o.log_g_cgs_sigma = t->logg_s;
-        o.flux_w_m2 = t->flux, o.flux_w_m2_sigma = t->flux_s;
+        o.teff_k = t->teff_k, o.teff_k_sigma = t->teff_k_sigma;
+        o.log_l_lsun = t->log_l_lsun, o.log_l_lsun_sigma = t->log_l_lsun_sigma;
+        o.feh = t->feh, o.feh_sigma = t->feh_sigma;
+        o.log_g_cgs = t->log_g_cgs, o.log_g_cgs_sigma = t->log_g_cgs_sigma;
+        o.flux_w_m2 = t->flux_w_m2, o.flux_w_m2_sigma = t->flux_w_m2_sigma;
         hrt_fit_sample draws[300];
         hrt_fit_result r;
         if (hrt_fit_star(m, &o, 2026 + i, 300, draws, &r, &err) != HRT_OK) {
@@ -52,7 +53,7 @@ int main(int argc, char **argv)
             continue;
         }
         printf("%s  Teff %.0f K: M = %.2f (+%.2f -%.2f) Msun, age %.2f (+%.2f -%.2f) Gyr, %s (P %.2f)%s\n", t->name,
-               t->teff, r.initial_mass_msun.median, r.initial_mass_msun.hi - r.initial_mass_msun.median,
+               t->teff_k, r.initial_mass_msun.median, r.initial_mass_msun.hi - r.initial_mass_msun.median,
                r.initial_mass_msun.median - r.initial_mass_msun.lo, r.age_yr.median / 1e9,
                (r.age_yr.hi - r.age_yr.median) / 1e9, (r.age_yr.median - r.age_yr.lo) / 1e9, hrt_phase_name(r.phase),
                r.phase_prob[r.phase], r.flags & HRT_FIT_MULTIMODAL ? "  [two phases fit]" : "");

@@ -60,12 +60,12 @@ def main(argv=None):
     print("Amberfall (invented cluster): %d members, age %.3g yr, Z = %g" % (a.n, a.age_yr, a.z))
     for ph, count in sorted(census.items()):
         print("  %-34s %5d" % (hrtrail.Phase(ph).label, count))
-    luminous = np.isfinite(st["log_l"]) & np.isfinite(st["log_teff_k"])
+    luminous = np.isfinite(st["log_l_lsun"]) & np.isfinite(st["log_teff_k"])
     turnoff = st[luminous & (st["phase"] == hrtrail.Phase.MS)]
     if turnoff.size:
         k = np.argmax(turnoff["initial_mass_msun"])
         print("  most massive main-sequence member: %.3f Msun, log L = %.3f, Teff = %.0f K"
-              % (turnoff["initial_mass_msun"][k], turnoff["log_l"][k], 10 ** turnoff["log_teff_k"][k]))
+              % (turnoff["initial_mass_msun"][k], turnoff["log_l_lsun"][k], 10 ** turnoff["log_teff_k"][k]))
     try:
         import matplotlib
         matplotlib.use("Agg")
@@ -74,15 +74,15 @@ def main(argv=None):
         print("matplotlib is not installed (Debian: python3-matplotlib): no plot drawn")
         return 0
     fig, ax = plt.subplots(figsize=(6.4, 6.0))
-    ok = np.isfinite(iso["log_l"]) & np.isfinite(iso["log_teff_k"])
+    ok = np.isfinite(iso["log_l_lsun"]) & np.isfinite(iso["log_teff_k"])
     for k, r in enumerate(np.unique(iso["route"])):  # one line per route: they are separate loci
         sel = ok & (iso["route"] == r)
-        ax.plot(iso["log_teff_k"][sel], iso["log_l"][sel], "-", color="0.7", lw=1,
+        ax.plot(iso["log_teff_k"][sel], iso["log_l_lsun"][sel], "-", color="0.7", lw=1,
                 label="isochrone" if k == 0 else None, zorder=1)
     for ph in sorted(census):
         sel = luminous & (st["phase"] == ph)
         if sel.any():
-            ax.scatter(st["log_teff_k"][sel], st["log_l"][sel], s=6, label=hrtrail.Phase(ph).label, zorder=2)
+            ax.scatter(st["log_teff_k"][sel], st["log_l_lsun"][sel], s=6, label=hrtrail.Phase(ph).label, zorder=2)
     ax.invert_xaxis()
     ax.set_xlabel("log10 Teff / K")
     ax.set_ylabel("log10 L / Lsun")

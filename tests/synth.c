@@ -1,7 +1,11 @@
 #include "synth.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
+
+#include <hdf5.h>
 
 #define Z_REF 0.02
 
@@ -102,5 +106,244 @@ int synth_write(const synth_spec *s, const char *path, hrt_error *err)
     free(age);
     free(ph);
     hrt_builder_free(b);
+    return rc;
+}
+
+/* ---- format 1, for the tests of the conversion ------------------------- */
+
+/* The key tables of format 1 in the order hrtrail 0.1 wrote them: entry i
+ * of phase_keys was the phase stored as i; same for remnant_keys. */
+static const char *const v1_phase_keys[] = {"pre_ms", "ms", "subgiant", "rgb", "cheb", "eagb", "tpagb", "post_agb",
+                                            "wd", "bsg", "rsg", "wr", "ns", "bh", "post_rgb"};
+static const char *const v1_remnant_keys[] = {"none", "he_wd", "co_wd", "one_wd", "ns", "bh"};
+#define V1_NP (sizeof v1_phase_keys / sizeof v1_phase_keys[0])
+#define V1_NR (sizeof v1_remnant_keys / sizeof v1_remnant_keys[0])
+
+/* Dataset names and units strings: format 2 -> format 1. */
+static const struct {
+    const char *v2, *v1, *units_v1;
+} v1_names[] = {
+    {"initial_mass_msun", "initial_mass", "Msun"},
+    {"remnant_mass_msun", "remnant_mass", "Msun"},
+    {"route_boundary_mass_msun", "route_boundary_mass", "Msun"},
+    {"log_age_yr", "log_age", "log10 yr"},
+    {"log_l_lsun", "log_L", "log10 Lsun"},
+    {"log_teff_k", "log_Teff", "log10 K"},
+    {"log_r_rsun", "log_R", "log10 Rsun"},
+    {"mass_msun", "mass", "Msun"},
+    {"he_core_mass_msun", "he_core_mass", "Msun"},
+    {"co_core_mass_msun", "co_core_mass", "Msun"},
+};
+
+static int copy_file(const char *from, const char *to)
+{
+    FILE *in = fopen(from, "rb"), *out = in ? fopen(to, "wb") : NULL;
+    int ok = in && out;
+    char buf[65536];
+    size_t n;
+    while (ok && (n = fread(buf, 1, sizeof buf, in)) > 0)
+        ok = fwrite(buf, 1, n, out) == n;
+    if (in)
+        fclose(in);
+    if (out && fclose(out) != 0)
+        ok = 0;
+    return ok ? 0 : -1;
+}
+
+static int v1_text_attr(hid_t loc, const char *name, const char *value)
+{
+    if (H5Aexists(loc, name) > 0 && H5Adelete(loc, name) < 0)
+        return -1;
+    hid_t t = H5Tcopy(H5T_C_S1), s = H5Screate(H5S_SCALAR);
+    H5Tset_size(t, H5T_VARIABLE);
+    H5Tset_cset(t, H5T_CSET_UTF8);
+    hid_t a = H5Acreate2(loc, name, t, s, H5P_DEFAULT, H5P_DEFAULT);
+    int rc = a >= 0 && H5Awrite(a, t, &value) >= 0 ? 0 : -1;
+    if (a >= 0)
+        H5Aclose(a);
+    H5Sclose(s);
+    H5Tclose(t);
+    return rc;
+}
+
+static int v1_strings(hid_t loc, const char *name, size_t n, const char *const *v)
+{
+    hid_t t = H5Tcopy(H5T_C_S1);
+    H5Tset_size(t, H5T_VARIABLE);
+    H5Tset_cset(t, H5T_CSET_UTF8);
+    hsize_t d = n;
+    hid_t s = H5Screate_simple(1, &d, NULL);
+    hid_t ds = H5Dcreate2(loc, name, t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    int rc = ds >= 0 && H5Dwrite(ds, t, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) >= 0 ? 0 : -1;
+    if (ds >= 0)
+        H5Dclose(ds);
+    H5Sclose(s);
+    H5Tclose(t);
+    return rc;
+}
+
+/* An integer dataset of n values read into (or written from) v. */
+static int v1_ints(hid_t loc, const char *name, int *v, size_t n, int write)
+{
+    hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
+    if (d < 0)
+        return -1;
+    hid_t s = H5Dget_space(d);
+    int rc = (size_t)H5Sget_simple_extent_npoints(s) == n ? 0 : -1;
+    if (rc == 0)
+        rc = (write ? H5Dwrite(d, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, v)
+                    : H5Dread(d, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, v)) < 0 ? -1 : 0;
+    H5Sclose(s);
+    H5Dclose(d);
+    return rc;
+}
+
+static size_t v1_length(hid_t loc, const char *name, int dim)
+{
+    hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
+    if (d < 0)
+        return 0;
+    hid_t s = H5Dget_space(d);
+    hsize_t dims[2] = {0, 0};
+    int rank = H5Sget_simple_extent_dims(s, dims, NULL);
+    H5Sclose(s);
+    H5Dclose(d);
+    return rank > dim ? (size_t)dims[dim] : 0;
+}
+
+/* The file's code table (phases/ or remnants/) as a map code -> index of
+ * its key in the format-1 table `keys`; -1 where there is none. */
+static int v1_code_map(hid_t f, const char *group, const char *const *keys, size_t nk, int map[256])
+{
+    for (int c = 0; c < 256; c++)
+        map[c] = -1;
+    hid_t g = H5Gopen2(f, group, H5P_DEFAULT);
+    if (g < 0)
+        return -1;
+    size_t n = v1_length(g, "key", 0);
+    int *code = malloc((n ? n : 1) * sizeof *code);
+    char **key = calloc(n ? n : 1, sizeof *key);
+    hid_t t = H5Tcopy(H5T_C_S1);
+    H5Tset_size(t, H5T_VARIABLE);
+    H5Tset_cset(t, H5T_CSET_UTF8);
+    hid_t d = H5Dopen2(g, "key", H5P_DEFAULT);
+    int rc = n && code && key && d >= 0 && v1_ints(g, "code", code, n, 0) == 0 &&
+                     H5Dread(d, t, H5S_ALL, H5S_ALL, H5P_DEFAULT, key) >= 0
+                 ? 0
+                 : -1;
+    for (size_t i = 0; i < n && rc == 0; i++) {
+        if (code[i] < 0 || code[i] > 255 || !key[i])
+            rc = -1;
+        for (size_t k = 0; k < nk && rc == 0; k++)
+            if (strcmp(key[i], keys[k]) == 0)
+                map[code[i]] = (int)k;
+    }
+    /* unknown (phase 0) has no entry in phase_keys: 0.1 never stored it */
+    if (key)
+        for (size_t i = 0; i < n; i++)
+            free(key[i]);
+    if (d >= 0)
+        H5Dclose(d);
+    H5Tclose(t);
+    free(key);
+    free(code);
+    H5Gclose(g);
+    return rc;
+}
+
+static int v1_group(hid_t gr, const int *phase_map, const int *remnant_map)
+{
+    if (H5Arename(gr, "z", "Z") < 0)
+        return -1;
+    size_t nm = v1_length(gr, "initial_mass_msun", 0), J = v1_length(gr, "phase", 1);
+    int *n_eep = malloc((nm ? nm : 1) * sizeof *n_eep), *v = malloc((nm > 0 && J > 0 ? nm * J : 1) * sizeof *v);
+    int rc = nm && J && n_eep && v ? 0 : -1;
+    if (rc == 0)
+        rc = v1_ints(gr, "n_eep", n_eep, nm, 0);
+    if (rc == 0)
+        rc = v1_ints(gr, "remnant", v, nm, 0);
+    for (size_t i = 0; i < nm && rc == 0; i++) {
+        int c = v[i] >= 0 && v[i] < 256 ? remnant_map[v[i]] : -1;
+        v[i] = c;
+        rc = c < 0 ? -1 : 0;
+    }
+    if (rc == 0)
+        rc = v1_ints(gr, "remnant", v, nm, 1);
+    if (rc == 0)
+        rc = v1_ints(gr, "phase", v, nm * J, 0);
+    for (size_t i = 0; i < nm && rc == 0; i++) {
+        for (size_t j = 0; j < J && rc == 0; j++) {
+            int *p = &v[i * J + j];
+            if (j >= (size_t)n_eep[i]) {
+                *p = -1;
+                continue;
+            }
+            *p = *p >= 0 && *p < 256 ? phase_map[*p] : -1;
+            rc = *p < 0 ? -1 : 0;
+        }
+    }
+    if (rc == 0)
+        rc = v1_ints(gr, "phase", v, nm * J, 1);
+    for (size_t k = 0; k < sizeof v1_names / sizeof v1_names[0] && rc == 0; k++) {
+        if (H5Lexists(gr, v1_names[k].v2, H5P_DEFAULT) <= 0)
+            continue; /* route_boundary_mass_msun of a one-route grid */
+        rc = H5Lmove(gr, v1_names[k].v2, gr, v1_names[k].v1, H5P_DEFAULT, H5P_DEFAULT) < 0 ? -1 : 0;
+        hid_t d = rc == 0 ? H5Dopen2(gr, v1_names[k].v1, H5P_DEFAULT) : -1;
+        if (d < 0)
+            rc = -1;
+        if (rc == 0 && H5Aexists(d, "long_name") > 0 && H5Adelete(d, "long_name") < 0)
+            rc = -1;
+        if (rc == 0)
+            rc = v1_text_attr(d, "units", v1_names[k].units_v1);
+        if (d >= 0)
+            H5Dclose(d);
+    }
+    free(n_eep);
+    free(v);
+    return rc;
+}
+
+int synth_downgrade_v1(const char *v2_path, const char *v1_path)
+{
+    if (copy_file(v2_path, v1_path) != 0)
+        return -1;
+    hid_t f = H5Fopen(v1_path, H5F_ACC_RDWR, H5P_DEFAULT);
+    if (f < 0)
+        return -1;
+    int phase_map[256], remnant_map[256];
+    int rc = v1_code_map(f, "phases", v1_phase_keys, V1_NP, phase_map);
+    if (rc == 0)
+        rc = v1_code_map(f, "remnants", v1_remnant_keys, V1_NR, remnant_map);
+    if (rc == 0)
+        rc = H5Ldelete(f, "phases", H5P_DEFAULT) < 0 || H5Ldelete(f, "remnants", H5P_DEFAULT) < 0 ? -1 : 0;
+    if (rc == 0)
+        rc = v1_strings(f, "phase_keys", V1_NP, v1_phase_keys);
+    if (rc == 0)
+        rc = v1_strings(f, "remnant_keys", V1_NR, v1_remnant_keys);
+    if (rc == 0) {
+        int one = 1;
+        hid_t a = H5Aopen(f, "format_version", H5P_DEFAULT);
+        rc = a >= 0 && H5Awrite(a, H5T_NATIVE_INT, &one) >= 0 ? 0 : -1;
+        if (a >= 0)
+            H5Aclose(a);
+    }
+    if (rc == 0)
+        rc = v1_text_attr(f, "created_by", "hrtrail 0.1.0");
+    for (int iz = 0; rc == 0; iz++) {
+        char name[48];
+        snprintf(name, sizeof name, "metallicity/%d", iz);
+        if (H5Lexists(f, name, H5P_DEFAULT) <= 0) {
+            rc = iz > 0 ? 0 : -1;
+            break;
+        }
+        hid_t gr = H5Gopen2(f, name, H5P_DEFAULT);
+        rc = gr >= 0 ? v1_group(gr, phase_map, remnant_map) : -1;
+        if (gr >= 0)
+            H5Gclose(gr);
+    }
+    if (H5Fclose(f) < 0)
+        rc = -1;
+    if (rc != 0)
+        remove(v1_path);
     return rc;
 }

@@ -29,4 +29,14 @@ int synth_write(const synth_spec *s, const char *path, hrt_error *err);
 /* Phase of EEP j on a route (segments carry fixed phases). */
 int synth_phase(int route, int j, int n_eep);
 
+/* Rewrite the format-2 grid file v2_path as the format-1 file hrtrail 0.1
+ * wrote for the same tracks (tracks/FORMAT.md, "Version history"): the old
+ * dataset names and units strings, group attribute Z, and phase and remnant
+ * stored as indices into the key tables phase_keys and remnant_keys (in
+ * 0.1's order, phase -1 beyond n_eep) instead of phases/ and remnants/.
+ * The codes are mapped through the file's own phases/ and remnants/
+ * tables.  Values are copied bit for bit.  0 on success, -1 on failure
+ * (a code or key the format-1 tables did not have, or an HDF5 error). */
+int synth_downgrade_v1(const char *v2_path, const char *v1_path);
+
 #endif

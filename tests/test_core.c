@@ -68,19 +68,105 @@ START_TEST(test_names)
     ck_assert_str_eq(hrt_strerror(9999), "unknown status code");
     for (int c = 0; c < HRT_STATUS_COUNT_; c++)
         ck_assert(strlen(hrt_strerror(c)) > 3);
-    for (int p = 1; p < HRT_PHASE_COUNT; p++)
-        ck_assert_int_eq(hrt_phase_from_key(hrt_phase_key(p)), p);
     ck_assert_int_eq(hrt_phase_from_key("nonsense"), HRT_PHASE_UNKNOWN);
     ck_assert_int_eq(hrt_phase_from_key(NULL), HRT_PHASE_UNKNOWN);
     ck_assert_str_eq(hrt_phase_name(-3), "unknown");
-    for (int r = 0; r < HRT_REMNANT_COUNT; r++)
-        ck_assert_int_eq(hrt_remnant_from_key(hrt_remnant_key(r)), r);
+    ck_assert_int_eq(hrt_remnant_from_key("nonsense"), -1);
+    ck_assert_int_eq(hrt_remnant_from_key(NULL), -1);
     for (int i = 0; i < HRT_INTERP_COUNT; i++)
         ck_assert_int_eq(hrt_interp_from_name(hrt_interp_name(i)), i);
     ck_assert_int_eq(hrt_interp_from_name("quintic"), -1);
     ck_assert_str_eq(hrt_version(), HRT_VERSION_STRING);
     ck_assert_int_eq(hrt_abi_version(), HRT_ABI_VERSION);
     ck_assert_uint_eq(hrt_state_size(), sizeof(hrt_state));
+}
+END_TEST
+
+/* The phase and remnant lists of include/hrtrail/core.h, as the header
+ * spells them (X-macros), against the library's tables: every entry
+ * iterated by hrt_phase_code(i), its key round trip, codes below the slot
+ * counts, keys and codes unique, and the grouping by tens the header
+ * documents. */
+typedef struct list_entry {
+    int code;
+    const char *key, *text;
+} list_entry;
+#define AS_ENTRY_(name, code, key, text) {code, key, text},
+static const list_entry phase_list[] = {HRT_PHASE_LIST(AS_ENTRY_)};
+static const list_entry remnant_list[] = {HRT_REMNANT_LIST(AS_ENTRY_)};
+#undef AS_ENTRY_
+
+START_TEST(test_phase_codes)
+{
+    size_t n = sizeof phase_list / sizeof phase_list[0];
+    ck_assert_uint_eq(n, HRT_PHASE_N);
+    ck_assert_int_eq(hrt_phase_code(0), HRT_PHASE_UNKNOWN);
+    ck_assert_int_eq(hrt_phase_code(HRT_PHASE_N), -1);
+    ck_assert_int_eq(hrt_phase_code((size_t)-1), -1);
+    int seen[HRT_PHASE_SLOTS] = {0};
+    for (size_t i = 0; i < HRT_PHASE_N; i++) {
+        int c = hrt_phase_code(i);
+        ck_assert_int_eq(c, phase_list[i].code);
+        ck_assert_msg(c >= 0 && c < HRT_PHASE_SLOTS, "phase %zu: code %d not below HRT_PHASE_SLOTS", i, c);
+        ck_assert_msg(!seen[c]++, "phase code %d twice", c);
+        ck_assert_str_eq(hrt_phase_key(c), phase_list[i].key);
+        ck_assert_str_eq(hrt_phase_name(c), phase_list[i].text);
+        ck_assert_int_eq(hrt_phase_from_key(hrt_phase_key(c)), c);
+        for (size_t k = 0; k < i; k++)
+            ck_assert_msg(strcmp(phase_list[k].key, phase_list[i].key) != 0, "phase key '%s' twice", phase_list[i].key);
+    }
+    /* every other slot is no phase */
+    for (int c = 0; c < HRT_PHASE_SLOTS; c++)
+        if (!seen[c]) {
+            ck_assert_str_eq(hrt_phase_key(c), "unknown");
+            ck_assert_str_eq(hrt_phase_name(c), "unknown");
+        }
+    /* code / 10 is the part of the star's life (core.h, HRT_PHASE_LIST) */
+    static const struct {
+        int code, group;
+    } groups[] = {
+        {HRT_PHASE_UNKNOWN, 0}, {HRT_PHASE_PRE_MS, 1}, {HRT_PHASE_MS, 1},      {HRT_PHASE_SUBGIANT, 2},
+        {HRT_PHASE_RGB, 2},     {HRT_PHASE_POST_RGB, 2}, {HRT_PHASE_CHEB, 3},  {HRT_PHASE_EAGB, 3},
+        {HRT_PHASE_TPAGB, 3},   {HRT_PHASE_POST_AGB, 3}, {HRT_PHASE_BSG, 4},   {HRT_PHASE_RSG, 4},
+        {HRT_PHASE_WR, 4},      {HRT_PHASE_WD, 5},       {HRT_PHASE_NS, 5},    {HRT_PHASE_BH, 5},
+    };
+    ck_assert_uint_eq(sizeof groups / sizeof groups[0], HRT_PHASE_N);
+    for (size_t k = 0; k < sizeof groups / sizeof groups[0]; k++)
+        ck_assert_msg(groups[k].code / 10 == groups[k].group, "phase %s: code %d not in group %d",
+                      hrt_phase_key(groups[k].code), groups[k].code, groups[k].group);
+}
+END_TEST
+
+START_TEST(test_remnant_codes)
+{
+    size_t n = sizeof remnant_list / sizeof remnant_list[0];
+    ck_assert_uint_eq(n, HRT_REMNANT_N);
+    ck_assert_int_eq(hrt_remnant_code(0), HRT_REMNANT_NONE);
+    ck_assert_int_eq(hrt_remnant_code(HRT_REMNANT_N), -1);
+    int seen[HRT_REMNANT_SLOTS] = {0};
+    for (size_t i = 0; i < HRT_REMNANT_N; i++) {
+        int c = hrt_remnant_code(i);
+        ck_assert_int_eq(c, remnant_list[i].code);
+        ck_assert_msg(c >= 0 && c < HRT_REMNANT_SLOTS, "remnant %zu: code %d not below HRT_REMNANT_SLOTS", i, c);
+        ck_assert_msg(!seen[c]++, "remnant code %d twice", c);
+        ck_assert_str_eq(hrt_remnant_key(c), remnant_list[i].key);
+        ck_assert_str_eq(hrt_remnant_name(c), remnant_list[i].text);
+        ck_assert_int_eq(hrt_remnant_from_key(hrt_remnant_key(c)), c);
+        for (size_t k = 0; k < i; k++)
+            ck_assert_msg(strcmp(remnant_list[k].key, remnant_list[i].key) != 0, "remnant key '%s' twice",
+                          remnant_list[i].key);
+    }
+    for (int c = 0; c < HRT_REMNANT_SLOTS; c++)
+        if (!seen[c])
+            ck_assert_str_eq(hrt_remnant_key(c), "unknown");
+    /* code / 10 is the kind of compact object (core.h, HRT_REMNANT_LIST):
+     * 0 none, 1 white dwarfs, 2 neutron star, 3 black hole */
+    ck_assert_int_eq(HRT_REMNANT_NONE / 10, 0);
+    ck_assert_int_eq(HRT_REMNANT_HE_WD / 10, 1);
+    ck_assert_int_eq(HRT_REMNANT_CO_WD / 10, 1);
+    ck_assert_int_eq(HRT_REMNANT_ONE_WD / 10, 1);
+    ck_assert_int_eq(HRT_REMNANT_NS / 10, 2);
+    ck_assert_int_eq(HRT_REMNANT_BH / 10, 3);
 }
 END_TEST
 
@@ -612,7 +698,7 @@ static void dmg_version(hid_t f)
 }
 static void dmg_no_format(hid_t f) { H5Adelete(f, "format"); }
 static void dmg_no_zref(hid_t f) { H5Adelete(f, "z_ref"); }
-static void dmg_no_dataset(hid_t f) { H5Ldelete(f, "metallicity/1/log_Teff", H5P_DEFAULT); }
+static void dmg_no_dataset(hid_t f) { H5Ldelete(f, "metallicity/1/log_teff_k", H5P_DEFAULT); }
 static void dmg_no_group(hid_t f) { H5Ldelete(f, "routes", H5P_DEFAULT); }
 static void write_elem(hid_t f, const char *name, hsize_t i, hsize_t j, double v)
 {
@@ -627,27 +713,27 @@ static void write_elem(hid_t f, const char *name, hsize_t i, hsize_t j, double v
     H5Sclose(s);
     H5Dclose(d);
 }
-static void dmg_nan(hid_t f) { write_elem(f, "metallicity/2/log_L", 3, 10, NAN); }
-static void dmg_age_order(hid_t f) { write_elem(f, "metallicity/0/log_age", 4, 20, 1.0); }
-static void dmg_mass_order(hid_t f) { write_elem(f, "metallicity/1/initial_mass", 5, 0, 0.01); }
+static void dmg_nan(hid_t f) { write_elem(f, "metallicity/2/log_l_lsun", 3, 10, NAN); }
+static void dmg_age_order(hid_t f) { write_elem(f, "metallicity/0/log_age_yr", 4, 20, 1.0); }
+static void dmg_mass_order(hid_t f) { write_elem(f, "metallicity/1/initial_mass_msun", 5, 0, 0.01); }
 static void dmg_phase(hid_t f) { write_elem(f, "metallicity/1/phase", 2, 2, 77); }
 static void dmg_neep(hid_t f) { write_elem(f, "metallicity/1/n_eep", 2, 0, 5000); }
 static void dmg_route(hid_t f) { write_elem(f, "metallicity/3/route", 0, 0, 1); }
-static void dmg_boundary(hid_t f) { write_elem(f, "metallicity/0/route_boundary_mass", 0, 0, 5.0); }
+static void dmg_boundary(hid_t f) { write_elem(f, "metallicity/0/route_boundary_mass_msun", 0, 0, 5.0); }
 static void dmg_z_order(hid_t f)
 {
     double v = 0.5;
-    hid_t g = H5Gopen2(f, "metallicity/1", H5P_DEFAULT), a = H5Aopen(g, "Z", H5P_DEFAULT);
+    hid_t g = H5Gopen2(f, "metallicity/1", H5P_DEFAULT), a = H5Aopen(g, "z", H5P_DEFAULT);
     H5Awrite(a, H5T_NATIVE_DOUBLE, &v);
     H5Aclose(a);
     H5Gclose(g);
 }
 static void dmg_shape(hid_t f)
 {
-    H5Ldelete(f, "metallicity/0/mass", H5P_DEFAULT);
+    H5Ldelete(f, "metallicity/0/mass_msun", H5P_DEFAULT);
     hsize_t d[2] = {3, 3};
     hid_t s = H5Screate_simple(2, d, NULL);
-    hid_t ds = H5Dcreate2(f, "metallicity/0/mass", H5T_IEEE_F64LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    hid_t ds = H5Dcreate2(f, "metallicity/0/mass_msun", H5T_IEEE_F64LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
     H5Dclose(ds);
     H5Sclose(s);
 }
@@ -669,6 +755,77 @@ static void dmg_empty_group(hid_t f)
     H5Gclose(g);
 }
 
+/* The reader's checks of format 2: units, floating-point data, the code
+ * tables (tracks/FORMAT.md, "What the reader checks"). */
+static void set_text_attr(hid_t f, const char *obj, const char *name, const char *value)
+{
+    hid_t o = H5Oopen(f, obj, H5P_DEFAULT);
+    if (H5Aexists(o, name) > 0)
+        H5Adelete(o, name);
+    hid_t t = H5Tcopy(H5T_C_S1), s = H5Screate(H5S_SCALAR);
+    H5Tset_size(t, H5T_VARIABLE);
+    hid_t a = H5Acreate2(o, name, t, s, H5P_DEFAULT, H5P_DEFAULT);
+    H5Awrite(a, t, &value);
+    H5Aclose(a);
+    H5Sclose(s);
+    H5Tclose(t);
+    H5Oclose(o);
+}
+/* Element i of a 1-D variable-length string dataset. */
+static void write_string_elem(hid_t f, const char *name, hsize_t i, const char *v)
+{
+    hid_t d = H5Dopen2(f, name, H5P_DEFAULT), s = H5Dget_space(d), t = H5Tcopy(H5T_C_S1);
+    H5Tset_size(t, H5T_VARIABLE);
+    hsize_t one = 1;
+    H5Sselect_elements(s, H5S_SELECT_SET, 1, &i);
+    hid_t ms = H5Screate_simple(1, &one, NULL);
+    H5Dwrite(d, t, ms, s, H5P_DEFAULT, &v);
+    H5Sclose(ms);
+    H5Tclose(t);
+    H5Sclose(s);
+    H5Dclose(d);
+}
+static void dmg_units(hid_t f) { set_text_attr(f, "metallicity/0/log_teff_k", "units", "K"); }
+static void dmg_units_v1(hid_t f) { set_text_attr(f, "metallicity/2/log_l_lsun", "units", "log10 Lsun"); }
+static void dmg_units_missing(hid_t f) { H5Adelete_by_name(f, "metallicity/3/mass_msun", "units", H5P_DEFAULT); }
+/* Current masses stored as integers (rounded), with the right units. */
+static void dmg_float_as_int(hid_t f)
+{
+    const char *name = "metallicity/1/mass_msun";
+    hid_t d = H5Dopen2(f, name, H5P_DEFAULT), s = H5Dget_space(d);
+    hssize_t n = H5Sget_simple_extent_npoints(s);
+    int *v = malloc((size_t)n * sizeof *v);
+    H5Dread(d, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+    H5Dclose(d);
+    H5Ldelete(f, name, H5P_DEFAULT);
+    d = H5Dcreate2(f, name, H5T_STD_I32LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Dwrite(d, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+    H5Dclose(d);
+    H5Sclose(s);
+    free(v);
+    set_text_attr(f, name, "units", "solMass");
+}
+static void dmg_no_phases(hid_t f) { H5Ldelete(f, "phases", H5P_DEFAULT); }
+static void dmg_no_remnants(hid_t f) { H5Ldelete(f, "remnants", H5P_DEFAULT); }
+/* Entry 2 of phases/ is code 11, 'ms': the file says 11 is 'rgb'. */
+static void dmg_phase_key(hid_t f) { write_string_elem(f, "phases/key", 2, "rgb"); }
+/* Entry 2 of remnants/ is 'co_wd': the file gives it code 12 (one_wd's). */
+static void dmg_remnant_code(hid_t f) { write_elem(f, "remnants/code", 2, 0, HRT_REMNANT_ONE_WD); }
+/* A slot code of no phase (between 'ms' and 'subgiant'). */
+static void dmg_phase_slot(hid_t f) { write_elem(f, "metallicity/2/phase", 4, 6, 12); }
+static void dmg_old_z(hid_t f) { H5Arename_by_name(f, "metallicity/1", "z", "Z", H5P_DEFAULT); }
+static void dmg_old_name(hid_t f)
+{
+    H5Lmove(f, "metallicity/0/log_age_yr", f, "metallicity/0/log_age", H5P_DEFAULT, H5P_DEFAULT);
+}
+static void dmg_version1(hid_t f)
+{
+    int v = 1;
+    hid_t a = H5Aopen(f, "format_version", H5P_DEFAULT);
+    H5Awrite(a, H5T_NATIVE_INT, &v);
+    H5Aclose(a);
+}
+
 static const struct {
     const char *what;
     damage_fn fn;
@@ -678,19 +835,34 @@ static const struct {
     {"newer version", dmg_version, HRT_E_VERSION, "format_version"},
     {"no format attribute", dmg_no_format, HRT_E_FORMAT, "'format'"},
     {"no z_ref", dmg_no_zref, HRT_E_FORMAT, "z_ref"},
-    {"missing dataset", dmg_no_dataset, HRT_E_FORMAT, "metallicity/1/log_Teff"},
+    {"missing dataset", dmg_no_dataset, HRT_E_FORMAT, "metallicity/1/log_teff_k"},
     {"missing routes", dmg_no_group, HRT_E_FORMAT, "routes"},
-    {"NaN inside the track", dmg_nan, HRT_E_FORMAT, "metallicity/2/log_L[3][10]"},
-    {"ages out of order", dmg_age_order, HRT_E_FORMAT, "metallicity/0/log_age[4][20]"},
-    {"masses out of order", dmg_mass_order, HRT_E_FORMAT, "initial_mass[5]"},
+    {"NaN inside the track", dmg_nan, HRT_E_FORMAT, "metallicity/2/log_l_lsun[3][10]"},
+    {"ages out of order", dmg_age_order, HRT_E_FORMAT, "metallicity/0/log_age_yr[4][20]"},
+    {"masses out of order", dmg_mass_order, HRT_E_FORMAT, "metallicity/1/initial_mass_msun[5]"},
     {"bad phase code", dmg_phase, HRT_E_FORMAT, "phase[2][2]"},
     {"n_eep too large", dmg_neep, HRT_E_FORMAT, "n_eep[2]"},
     {"route order", dmg_route, HRT_E_FORMAT, "route"},
-    {"boundary on the wrong side", dmg_boundary, HRT_E_FORMAT, "route_boundary_mass[0]"},
+    {"boundary on the wrong side", dmg_boundary, HRT_E_FORMAT, "route_boundary_mass_msun[0]"},
     {"Z not increasing", dmg_z_order, HRT_E_FORMAT, "metallicity/2"},
-    {"wrong shape", dmg_shape, HRT_E_FORMAT, "metallicity/0/mass"},
+    {"wrong shape", dmg_shape, HRT_E_FORMAT, "metallicity/0/mass_msun"},
     {"wrong dtype", dmg_dtype, HRT_E_FORMAT, "metallicity/0/route"},
     {"empty metallicity group", dmg_empty_group, HRT_E_FORMAT, "metallicity/3"},
+    {"format_version 1", dmg_version1, HRT_E_VERSION, "hrtrail grid upgrade OLD NEW"},
+    {"wrong units", dmg_units, HRT_E_FORMAT, "metallicity/0/log_teff_k: units 'K', expected 'dex(K)'"},
+    {"units of format 1", dmg_units_v1, HRT_E_FORMAT, "metallicity/2/log_l_lsun: units 'log10 Lsun'"},
+    {"units missing", dmg_units_missing, HRT_E_FORMAT, "metallicity/3/mass_msun attribute 'units' is missing"},
+    {"float data stored as integers", dmg_float_as_int, HRT_E_FORMAT,
+     "metallicity/1/mass_msun: must hold floating-point numbers"},
+    {"no phases/ table", dmg_no_phases, HRT_E_FORMAT, "group 'phases' is missing"},
+    {"no remnants/ table", dmg_no_remnants, HRT_E_FORMAT, "group 'remnants' is missing"},
+    {"phase key differs", dmg_phase_key, HRT_E_FORMAT,
+     "phases/code[2]: key 'rgb' has code 11 in the file, but 'ms' in this library"},
+    {"remnant code differs", dmg_remnant_code, HRT_E_FORMAT,
+     "remnants/code[2]: key 'co_wd' has code 12 in the file, but 'one_wd' in this library"},
+    {"phase code of no phase", dmg_phase_slot, HRT_E_FORMAT, "metallicity/2/phase[4][6]: 12 is not a phase code"},
+    {"group attribute Z of format 1", dmg_old_z, HRT_E_FORMAT, "metallicity/1 attribute 'z' is missing"},
+    {"dataset name of format 1", dmg_old_name, HRT_E_FORMAT, "metallicity/0/log_age_yr: dataset is missing"},
 };
 
 START_TEST(test_damaged_files)
@@ -742,6 +914,225 @@ START_TEST(test_not_hdf5_and_missing)
     ck_assert_int_eq(hrt_grid_open(NULL, &g, &e), HRT_OK);
     hrt_grid_close(g);
     unsetenv("HRTRAIL_GRID");
+}
+END_TEST
+
+/* ---- format 1: refused on open, converted by hrt_grid_upgrade ---------- */
+
+/* The synthetic grid as hrtrail 0.1 wrote it (synth_downgrade_v1). */
+static void write_v1(char *out, size_t n, const char *name)
+{
+    path_in_tmp(out, n, name);
+    ck_assert_msg(synth_downgrade_v1(grid_path, out) == 0, "cannot write the format-1 copy %s", out);
+}
+
+static int raw_int(const char *path, const char *dataset, hsize_t i, hsize_t j)
+{
+    hid_t f = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
+    ck_assert(f >= 0);
+    hid_t d = H5Dopen2(f, dataset, H5P_DEFAULT);
+    ck_assert_msg(d >= 0, "%s: no dataset %s", path, dataset);
+    hid_t s = H5Dget_space(d);
+    hsize_t at[2] = {i, j}, one[2] = {1, 1};
+    H5Sselect_hyperslab(s, H5S_SELECT_SET, at, NULL, one, NULL);
+    hid_t ms = H5Screate_simple(1, one, NULL);
+    int v = -99;
+    ck_assert(H5Dread(d, H5T_NATIVE_INT, ms, s, H5P_DEFAULT, &v) >= 0);
+    H5Sclose(ms);
+    H5Sclose(s);
+    H5Dclose(d);
+    H5Fclose(f);
+    return v;
+}
+
+START_TEST(test_format1_refused)
+{
+    char v1[320];
+    write_v1(v1, sizeof v1, "v1.h5");
+    /* it is a format-1 file: 0.1's index of 'ms' (1), not its code (11) */
+    ck_assert_int_eq(raw_int(v1, "metallicity/0/phase", 0, 0), 1);
+    ck_assert_int_eq(raw_int(grid_path, "metallicity/0/phase", 0, 0), HRT_PHASE_MS);
+    hrt_grid *g = (hrt_grid *)0x1;
+    hrt_error e = {-1, ""};
+    int rc = hrt_grid_open(v1, &g, &e);
+    ck_assert_msg(rc == HRT_E_VERSION, "code %d, message '%s'", rc, e.message);
+    ck_assert_int_eq(e.code, HRT_E_VERSION);
+    ck_assert_ptr_null(g);
+    ck_assert_msg(strstr(e.message, "upgrade") && strstr(e.message, "format_version 1"), "message '%s'", e.message);
+    /* with every interpolation type */
+    for (int t = 0; t < HRT_INTERP_COUNT; t++)
+        ck_assert_int_eq(hrt_grid_open_with(v1, t, &g, NULL), HRT_E_VERSION);
+}
+END_TEST
+
+/* hrt_eval on n random stars of both grids: every state equal bit for bit
+ * (NaNs, status and flags included).  Returns the number of good states. */
+static size_t compare_grids(const hrt_grid *a, const hrt_grid *b, size_t n, unsigned long seed, int *seen_phase,
+                            int *seen_remnant)
+{
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(rng, seed);
+    double *m = malloc(n * sizeof *m), *z = malloc(n * sizeof *z), *age = malloc(n * sizeof *age);
+    hrt_state *sa = malloc(n * sizeof *sa), *sb = malloc(n * sizeof *sb);
+    for (size_t k = 0; k < n; k++) {
+        /* a little beyond the grid on every side: failures must agree too */
+        m[k] = 0.25 * pow(12.0 / 0.25, gsl_rng_uniform(rng));
+        z[k] = 0.0008 * pow(0.035 / 0.0008, gsl_rng_uniform(rng));
+        age[k] = pow(10.0, 5.0 + 7.5 * gsl_rng_uniform(rng));
+    }
+    int ra = hrt_eval(a, n, m, z, 0.0, age, sa, NULL), rb = hrt_eval(b, n, m, z, 0.0, age, sb, NULL);
+    ck_assert_int_eq(ra, rb);
+    size_t good = 0;
+    for (size_t k = 0; k < n; k++) {
+        ck_assert_msg(memcmp(&sa[k], &sb[k], sizeof sa[k]) == 0,
+                      "star %zu (M %.17g, Z %.17g, age %.17g): status %d/%d phase %d/%d log L %.17g/%.17g", k, m[k],
+                      z[k], age[k], sa[k].status, sb[k].status, sa[k].phase, sb[k].phase, sa[k].log_l_lsun,
+                      sb[k].log_l_lsun);
+        if (sa[k].status == HRT_OK) {
+            good++;
+            seen_phase[sa[k].phase] = 1;
+            seen_remnant[sa[k].remnant] = 1;
+        }
+    }
+    free(m);
+    free(z);
+    free(age);
+    free(sa);
+    free(sb);
+    gsl_rng_free(rng);
+    return good;
+}
+
+/* The format-1 copy, upgraded, answers exactly as the grid the builder
+ * wrote directly in format 2 from the same tracks. */
+START_TEST(test_upgrade_bitwise)
+{
+    char v1[320], up[320];
+    write_v1(v1, sizeof v1, "v1-up.h5");
+    path_in_tmp(up, sizeof up, "upgraded.h5");
+    hrt_error e = {-1, ""};
+    int rc = hrt_grid_upgrade(v1, up, &e);
+    ck_assert_msg(rc == HRT_OK, "upgrade: %d %s", rc, e.message);
+    ck_assert_int_eq(e.code, HRT_OK);
+    ck_assert_int_eq(raw_int(up, "metallicity/0/phase", 0, 0), HRT_PHASE_MS);
+    for (int t = 0; t < HRT_INTERP_COUNT; t += 3) { /* steffen and akima */
+        hrt_grid *direct = open_or_fail(grid_path, t), *conv = open_or_fail(up, t);
+        int seen_phase[HRT_PHASE_SLOTS] = {0}, seen_remnant[HRT_REMNANT_SLOTS] = {0};
+        size_t good = compare_grids(direct, conv, 20000, 17u + (unsigned)t, seen_phase, seen_remnant);
+        /* the comparison covered the grid: most stars good, every phase and
+         * remnant kind of the synthetic tracks met */
+        ck_assert_uint_gt(good, 10000);
+        int want_phase[] = {HRT_PHASE_PRE_MS, HRT_PHASE_MS, HRT_PHASE_RGB, HRT_PHASE_CHEB, HRT_PHASE_WD};
+        for (size_t k = 0; k < sizeof want_phase / sizeof want_phase[0]; k++)
+            ck_assert_msg(seen_phase[want_phase[k]], "no star in phase %s", hrt_phase_key(want_phase[k]));
+        ck_assert(seen_remnant[HRT_REMNANT_HE_WD] && seen_remnant[HRT_REMNANT_CO_WD]);
+        /* the same tables and timetables */
+        ck_assert_uint_eq(hrt_grid_n_z(direct), hrt_grid_n_z(conv));
+        ck_assert_double_eq(hrt_grid_z_ref(direct), hrt_grid_z_ref(conv));
+        for (size_t iz = 0; iz < hrt_grid_n_z(direct); iz++) {
+            ck_assert_double_eq(hrt_grid_z(direct, iz), hrt_grid_z(conv, iz));
+            ck_assert_double_eq(hrt_grid_route_boundary(direct, iz, 0), hrt_grid_route_boundary(conv, iz, 0));
+            for (size_t im = 0; im < hrt_grid_n_masses(direct, iz); im++) {
+                hrt_star *s1, *s2;
+                double m = hrt_grid_mass(direct, iz, im) * 1.01, z = hrt_grid_z(direct, iz);
+                ck_assert_double_eq(hrt_grid_mass(direct, iz, im), hrt_grid_mass(conv, iz, im));
+                if (hrt_star_new(direct, m, z, &s1, NULL) != HRT_OK)
+                    continue;
+                ck_assert_int_eq(hrt_star_new(conv, m, z, &s2, NULL), HRT_OK);
+                hrt_phase_span p1[16], p2[16];
+                size_t n1, n2;
+                ck_assert_int_eq(hrt_star_phases(s1, p1, 16, &n1), HRT_OK);
+                ck_assert_int_eq(hrt_star_phases(s2, p2, 16, &n2), HRT_OK);
+                ck_assert_uint_eq(n1, n2);
+                ck_assert_int_eq(memcmp(p1, p2, n1 * sizeof p1[0]), 0);
+                hrt_star_free(s1);
+                hrt_star_free(s2);
+            }
+        }
+        hrt_grid_close(direct);
+        hrt_grid_close(conv);
+    }
+    /* root text attributes kept, the conversion recorded */
+    hrt_grid *g = open_or_fail(up, HRT_INTERP_STEFFEN);
+    ck_assert_str_eq(hrt_grid_attribute(g, "description"), "synthetic test grid (known functions)");
+    const char *cf = hrt_grid_attribute(g, "converted_from");
+    ck_assert_msg(cf && strstr(cf, "format_version 1"), "converted_from: %s", cf ? cf : "(none)");
+    hrt_grid_close(g);
+    /* in place: the new file replaces the old one */
+    rc = hrt_grid_upgrade(v1, v1, &e);
+    ck_assert_msg(rc == HRT_OK, "upgrade in place: %s", e.message);
+    hrt_grid *direct = open_or_fail(grid_path, HRT_INTERP_STEFFEN), *conv = open_or_fail(v1, HRT_INTERP_STEFFEN);
+    int sp[HRT_PHASE_SLOTS] = {0}, sr[HRT_REMNANT_SLOTS] = {0};
+    ck_assert_uint_gt(compare_grids(direct, conv, 2000, 99u, sp, sr), 1000);
+    hrt_grid_close(direct);
+    hrt_grid_close(conv);
+    /* a current file goes through unchanged in meaning */
+    ck_assert_int_eq(hrt_grid_upgrade(grid_path, up, NULL), HRT_OK);
+    direct = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    conv = open_or_fail(up, HRT_INTERP_STEFFEN);
+    ck_assert_uint_gt(compare_grids(direct, conv, 2000, 5u, sp, sr), 1000);
+    hrt_grid_close(direct);
+    hrt_grid_close(conv);
+    unlink(v1);
+    unlink(up);
+}
+END_TEST
+
+START_TEST(test_upgrade_errors)
+{
+    char v1[320], out[320], p[320], cmd[700];
+    write_v1(v1, sizeof v1, "v1-err.h5");
+    path_in_tmp(out, sizeof out, "never.h5");
+    hrt_error e;
+    ck_assert_int_eq(hrt_grid_upgrade(NULL, out, &e), HRT_E_NULL);
+    ck_assert(strstr(e.message, "old") != NULL);
+    ck_assert_int_eq(hrt_grid_upgrade(v1, NULL, &e), HRT_E_NULL);
+    ck_assert(strstr(e.message, "new") != NULL);
+    ck_assert_int_eq(hrt_grid_upgrade(NULL, NULL, NULL), HRT_E_NULL);
+    /* a missing file */
+    ck_assert_int_eq(hrt_grid_upgrade("/nonexistent/old.h5", out, &e), HRT_E_IO);
+    ck_assert_msg(strstr(e.message, "/nonexistent/old.h5"), "message '%s'", e.message);
+    /* not HDF5 */
+    path_in_tmp(p, sizeof p, "text.h5");
+    FILE *f = fopen(p, "w");
+    fputs("initial_mass_msun\n1.0\n", f);
+    fclose(f);
+    ck_assert_int_eq(hrt_grid_upgrade(p, out, &e), HRT_E_FORMAT);
+    /* newer than this library */
+    path_in_tmp(p, sizeof p, "newer.h5");
+    snprintf(cmd, sizeof cmd, "cp %s %s", grid_path, p);
+    ck_assert_int_eq(system(cmd), 0);
+    hid_t h = H5Fopen(p, H5F_ACC_RDWR, H5P_DEFAULT);
+    dmg_version(h);
+    H5Fclose(h);
+    ck_assert_int_eq(hrt_grid_upgrade(p, out, &e), HRT_E_VERSION);
+    ck_assert_msg(strstr(e.message, "format_version 99"), "message '%s'", e.message);
+    /* a damaged format-1 file: its key table names no phase of hrtrail */
+    snprintf(cmd, sizeof cmd, "cp %s %s", v1, p);
+    ck_assert_int_eq(system(cmd), 0);
+    h = H5Fopen(p, H5F_ACC_RDWR, H5P_DEFAULT);
+    write_string_elem(h, "phase_keys", 4, "mystery");
+    H5Fclose(h);
+    ck_assert_int_eq(hrt_grid_upgrade(p, out, &e), HRT_E_FORMAT);
+    ck_assert_msg(strstr(e.message, "phase_keys[4]: unknown key 'mystery'"), "message '%s'", e.message);
+    /* a format-1 file with a format-2 name in it is not a format-1 file */
+    snprintf(cmd, sizeof cmd, "cp %s %s", v1, p);
+    ck_assert_int_eq(system(cmd), 0);
+    h = H5Fopen(p, H5F_ACC_RDWR, H5P_DEFAULT);
+    H5Lmove(h, "metallicity/2/log_L", h, "metallicity/2/log_l_lsun", H5P_DEFAULT, H5P_DEFAULT);
+    H5Fclose(h);
+    ck_assert_int_eq(hrt_grid_upgrade(p, out, &e), HRT_E_FORMAT);
+    ck_assert_msg(strstr(e.message, "metallicity/2/log_L: dataset is missing"), "message '%s'", e.message);
+    /* none of these wrote anything */
+    ck_assert(access(out, F_OK) != 0);
+    /* an unwritable destination: the old file stays as it was */
+    path_in_tmp(p, sizeof p, "missing-dir/new.h5");
+    ck_assert_int_eq(hrt_grid_upgrade(v1, p, &e), HRT_E_IO);
+    hrt_grid *g;
+    ck_assert_int_eq(hrt_grid_open(v1, &g, NULL), HRT_E_VERSION);
+    snprintf(cmd, sizeof cmd, "ls %s | grep -c tmp- > /dev/null", tmpdir);
+    ck_assert_msg(system(cmd) != 0, "temporary file left behind");
+    unlink(v1);
 }
 END_TEST
 
@@ -865,6 +1256,8 @@ static Suite *core_suite(void)
         const TTest *fn;
     } cases[] = {
         {"names", test_names},
+        {"phase_codes", test_phase_codes},
+        {"remnant_codes", test_remnant_codes},
         {"slopes_gsl", test_slopes_match_gsl},
         {"hot_path_gsl", test_hot_path_equals_gsl},
         {"roundtrip", test_roundtrip_exact_at_knots},
@@ -882,6 +1275,9 @@ static Suite *core_suite(void)
         {"route_edges", test_route_edges},
         {"damaged_files", test_damaged_files},
         {"not_hdf5", test_not_hdf5_and_missing},
+        {"format1_refused", test_format1_refused},
+        {"upgrade_bitwise", test_upgrade_bitwise},
+        {"upgrade_errors", test_upgrade_errors},
         {"builder_rejects", test_builder_rejects},
         {"resampling", test_resampling},
     };

@@ -524,8 +524,8 @@ static double quantile(err_list *e, double q)
 }
 
 /* Rebuild group iz without track `skip` and predict it; errors per phase. */
-static void loo_group(const hrt_grid *g, size_t iz, err_list el[HRT_PHASE_COUNT], err_list et[HRT_PHASE_COUNT],
-                      err_list ea[HRT_PHASE_COUNT], double *worst_mf)
+static void loo_group(const hrt_grid *g, size_t iz, err_list el[HRT_PHASE_SLOTS], err_list et[HRT_PHASE_SLOTS],
+                      err_list ea[HRT_PHASE_SLOTS], double *worst_mf)
 {
     size_t nr = hrt_grid_n_routes(g), nm = hrt_grid_n_masses(g, iz);
     double z = hrt_grid_z(g, iz);
@@ -585,7 +585,7 @@ static void loo_group(const hrt_grid *g, size_t iz, err_list el[HRT_PHASE_COUNT]
             hrt_state st;
             ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
             int p = tr[k].ph[j];
-            if (p <= 0 || p >= HRT_PHASE_COUNT)
+            if (p <= HRT_PHASE_UNKNOWN || p >= HRT_PHASE_SLOTS)
                 continue;
             err_push(&el[p], fabs(st.log_l_lsun - tr[k].ll[j]));
             err_push(&et[p], fabs(st.log_teff_k - tr[k].lt[j]));
@@ -631,13 +631,14 @@ START_TEST(leave_one_out)
         for (size_t i = 0; i < hrt_grid_n_z(g); i++)
             if (fabs(hrt_grid_z(g, i) / zs[iz_i] - 1) < 1e-9)
                 iz = i;
-        err_list el[HRT_PHASE_COUNT] = {{0}}, et[HRT_PHASE_COUNT] = {{0}}, ea[HRT_PHASE_COUNT] = {{0}};
+        err_list el[HRT_PHASE_SLOTS] = {{0}}, et[HRT_PHASE_SLOTS] = {{0}}, ea[HRT_PHASE_SLOTS] = {{0}};
         double worst_mf = 0;
         loo_group(g, iz, el, et, ea, &worst_mf);
         printf("leave-one-out, Z = %g: |error| median / 95th percentile / max per phase\n", hrt_grid_z(g, iz));
         printf("  %-10s %6s  %-23s %-23s %-23s\n", "phase", "EEPs", "log L [dex]", "log Teff [dex]",
                "log age [dex]");
-        for (int p = 1; p < HRT_PHASE_COUNT; p++) {
+        for (size_t i = 1; i < HRT_PHASE_N; i++) {
+            int p = hrt_phase_code(i);
             if (!el[p].n)
                 continue;
             double l50 = quantile(&el[p], 0.5), l95 = quantile(&el[p], 0.95), lmx = quantile(&el[p], 1.0);

@@ -98,7 +98,7 @@ int cli_star_failure(const cli *c, const char *who, int code, double mass, doubl
 /* ---- output ---- */
 typedef enum col_type { COL_NUM = 0, COL_TEXT = 1 } col_type;
 typedef struct col {
-    const char *key;   /* CSV header and JSON key, with units: "age_yr" */
+    const char *key;   /* CSV header and JSON key (tracks/FORMAT.md vocabulary): "age_yr"; NULL: tables only */
     const char *head;  /* human table header, with units: "age [Myr]"; NULL: not shown in tables */
     col_type type;
     const char *hfmt;  /* human printf format for numbers, e.g. "%.4f" */
@@ -135,6 +135,8 @@ void jw_str(jw *w, const char *key, const char *s);
 void jw_bool(jw *w, const char *key, int v);
 void jw_table(jw *w, const char *key, const table *t);
 void jw_finish(jw *w);
+/* A whole JSON document that is one table: a list of records (pandas.read_json reads it as it is). */
+void jw_records(FILE *f, const table *t);
 void csv_write_text(FILE *f, const char *s);
 void csv_write_num(FILE *f, double v);
 
@@ -155,20 +157,25 @@ typedef struct csvfile {
 } csvfile;
 int csv_read(const cli *c, const char *path, csvfile *out);
 void csv_free(csvfile *f);
-/* Index of the first column whose name matches one of the names (case-insensitive), or -1. */
-long csv_column(const csvfile *f, const char *const *names);
+/* Index of the column named exactly name (a vocabulary name of tracks/FORMAT.md), or -1. */
+long csv_column(const csvfile *f, const char *name);
+/* Refuse a header that spells one of the known names in another case, or uses one of the
+ * old[2*i] spellings of earlier versions (old[2*i+1]: today's name); NULL-terminated lists.
+ * The message names the file, the column and the expected names; returns the exit code or 0. */
+int csv_check_header(const cli *c, const csvfile *f, const char *shown, int exit_code, const char *const *known,
+                     const char *const *old, const char *expected);
 
 /* ---- the HR diagram ---- */
 typedef struct plot_line {
     size_t n;
-    double *log_teff, *log_l;
+    double *log_teff, *log_l_lsun;
     int *phase;
     int *route;
     char *label;
     int is_isochrone;
 } plot_line;
 typedef struct plot_point {
-    double log_teff, log_l;
+    double log_teff, log_l_lsun;
     int phase; /* HRT_PHASE_UNKNOWN: plain marker */
     char *label;
 } plot_point;
@@ -203,7 +210,9 @@ typedef struct life {
 int life_build(cli *c, const char *mass_text, double mass, double z, life *L);
 void life_free(life *L);
 void life_print_text(const cli *c, const life *L, const char *indent);
-void life_json(const cli *c, const life *L, jw *w, const char *key);
+/* The timetable as records (keypoint, phase, remnant rows), with a name column if named. */
+table *life_records_new(int named);
+void life_records_add(const cli *c, const life *L, table *t, const char *name);
 
 /* ---- subcommands ---- */
 int cmd_at(cli *c, argparse *p);

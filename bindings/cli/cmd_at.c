@@ -44,11 +44,13 @@ static void stars_alloc(stars *s, size_t n, int named)
     s->line = xcalloc(n, sizeof(long));
 }
 
-static const char *const mass_names[] = {"mass", "initial_mass", "initial_mass_Msun", "mass_Msun", "m", NULL};
-static const char *const z_names[] = {"z", "metallicity", NULL};
-static const char *const feh_names[] = {"feh", "[Fe/H]", "fe_h", NULL};
-static const char *const age_names[] = {"age", "age_yr", NULL};
-static const char *const name_names[] = {"name", "star", "id", NULL};
+/* Columns of --input: names of the vocabulary (tracks/FORMAT.md); the spellings of version 0.1 are refused. */
+static const char *const at_known[] = {"initial_mass_msun", "z", "feh", "age_yr", "name", NULL};
+static const char *const at_old[] = {"mass", "initial_mass_msun", "initial_mass", "initial_mass_msun",
+                                     "initial_mass_Msun", "initial_mass_msun", "mass_Msun", "initial_mass_msun",
+                                     "m", "initial_mass_msun", "metallicity", "z", "[Fe/H]", "feh", "fe_h", "feh",
+                                     "age", "age_yr", "star", "name", "id", "name", NULL};
+#define AT_COLUMNS "initial_mass_msun (Msun), age_yr (yr; a unit may follow: 800Myr), z or feh, name"
 
 /* Stars from a CSV file; columns the file lacks come from single --mass/--age/--z values. */
 static int stars_from_csv(cli *c, const char *path, const dlist *ml, const dlist *al, double z_opt, stars *s)
@@ -57,15 +59,21 @@ static int stars_from_csv(cli *c, const char *path, const dlist *ml, const dlist
     const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
     int rc = csv_read(c, path, &f);
     if (rc) return rc;
-    long cm = csv_column(&f, mass_names), cz = csv_column(&f, z_names), cf = csv_column(&f, feh_names);
-    long ca = csv_column(&f, age_names), cn = csv_column(&f, name_names);
+    if ((rc = csv_check_header(c, &f, shown, CLI_EXIT_USAGE, at_known, at_old, AT_COLUMNS))) {
+        csv_free(&f);
+        return rc;
+    }
+    long cm = csv_column(&f, "initial_mass_msun"), cz = csv_column(&f, "z"), cf = csv_column(&f, "feh");
+    long ca = csv_column(&f, "age_yr"), cn = csv_column(&f, "name");
     if (cm < 0 && ml->n != 1) {
         csv_free(&f);
-        return cli_fail(c, CLI_EXIT_USAGE, "%s has no 'mass' column (initial mass, Msun); add one or give one --mass", shown);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s has no column initial_mass_msun; add one or give one --mass (the columns are "
+                        AT_COLUMNS ")", shown);
     }
     if (ca < 0 && al->n != 1) {
         csv_free(&f);
-        return cli_fail(c, CLI_EXIT_USAGE, "%s has no 'age' column (e.g. 800Myr); add one or give one --age", shown);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s has no column age_yr; add one or give one --age (the columns are "
+                        AT_COLUMNS ")", shown);
     }
     stars_alloc(s, f.nrow, cn >= 0);
     for (size_t r = 0; r < f.nrow && rc == 0; r++) {
@@ -96,17 +104,24 @@ static int stars_from_csv(cli *c, const char *path, const dlist *ml, const dlist
             s->age[r] = al->v[0];
         }
         if (rc) break;
-        if (cz >= 0) {
-            s->z_text[r] = xstrdup(row[cz]);
-            if (parse_number(row[cz], &v) != 0 || !(v > 0 && v < 1))
-                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column '%s': '%s' is not a metal mass fraction (0 < Z < 1)",
-                              shown, f.line[r], f.head[cz], row[cz]);
+        /* z or feh, one of them per line; a line with neither takes --z/--feh (or the grid's Z_ref) */
+        const char *zt = cz >= 0 ? row[cz] : "", *ft = cf >= 0 ? row[cf] : "";
+        if (*zt && *ft) {
+            rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld: both z ('%s') and feh ('%s') given; give one of them", shown,
+                          f.line[r], zt, ft);
+            break;
+        }
+        if (*zt) {
+            s->z_text[r] = xstrdup(zt);
+            if (parse_number(zt, &v) != 0 || !(v > 0 && v < 1))
+                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column 'z': '%s' is not a metal mass fraction (0 < Z < 1)",
+                              shown, f.line[r], zt);
             s->z[r] = v;
-        } else if (cf >= 0) {
-            s->z_text[r] = xstrdup(row[cf]);
-            if (parse_number(row[cf], &v) != 0 || fabs(v) > 10)
-                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column '%s': '%s' is not an [Fe/H] value (dex)", shown,
-                              f.line[r], f.head[cf], row[cf]);
+        } else if (*ft) {
+            s->z_text[r] = xstrdup(ft);
+            if (parse_number(ft, &v) != 0 || fabs(v) > 10)
+                rc = cli_fail(c, CLI_EXIT_USAGE, "%s line %ld, column 'feh': '%s' is not an [Fe/H] value (dex)", shown,
+                              f.line[r], ft);
             s->z[r] = hrt_grid_z_ref(c->grid) * pow(10.0, v);
         } else {
             s->z_text[r] = xstrdup(c->z_text ? c->z_text : "");
@@ -214,14 +229,7 @@ int cmd_at(cli *c, argparse *p)
     if (c->fmt == FMT_CSV) {
         table_write_csv(t, stdout);
     } else if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "grid", c->grid_used);
-        jw_str(&w, "interp", hrt_interp_name(c->interp));
-        jw_table(&w, "stars", t);
-        jw_end_object(&w);
-        jw_finish(&w);
+        jw_records(stdout, t);
     } else {
         table_write_text(t, stdout, NULL);
         phase_footnote(stdout, t);

@@ -76,12 +76,12 @@ static double isochrone_pick(const hrt_state *pts, size_t n, const int *phases, 
 
 static const col fate_cols[] = {
     {"name", "star", COL_TEXT, NULL, 0},
-    {"initial_mass_Msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
+    {"initial_mass_msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
     {"remnant", NULL, COL_TEXT, NULL, 0},
-    {"remnant_name", "fate", COL_TEXT, NULL, 0},
-    {"remnant_mass_Msun", "remnant [Msun]", COL_NUM, "%.3g", 0},
-    {"remnant_from_age_yr", "from age [Myr]", COL_NUM, "%.6g", 1e-6},
-    {"years_from_now", "from now [Myr]", COL_NUM, "%+.6g", 1e-6},
+    {NULL, "fate", COL_TEXT, NULL, 0}, /* the remnant's name, for people */
+    {"remnant_mass_msun", "remnant [Msun]", COL_NUM, "%.3g", 0},
+    {"end_age_yr", "from age [Myr]", COL_NUM, "%.6g", 1e-6},
+    {"end_in_yr", "from now [Myr]", COL_NUM, "%+.6g", 1e-6},
 };
 
 /*
@@ -92,18 +92,19 @@ static const col fate_cols[] = {
  */
 static table *timetable_wide(const member *mem, size_t nm, col **cols_out, char ***heads_out)
 {
-    int used[HRT_PHASE_COUNT] = {0};
+    int used[HRT_PHASE_SLOTS] = {0};
     size_t nc = 0, np = 0;
     for (size_t i = 0; i < nm; i++)
         for (size_t k = 0; k < mem[i].L.ph->nrow; k++) {
             int ph = hrt_phase_from_key(mem[i].L.ph->text[k * mem[i].L.ph->ncol]);
-            if (ph > HRT_PHASE_PRE_MS && isfinite(mem[i].L.ph->num[k * mem[i].L.ph->ncol + 3])) used[ph] = 1;
+            if (ph > HRT_PHASE_PRE_MS && ph < HRT_PHASE_SLOTS && isfinite(mem[i].L.ph->num[k * mem[i].L.ph->ncol + 3])) used[ph] = 1;
         }
-    for (int ph = 0; ph < HRT_PHASE_COUNT; ph++) np += (size_t)used[ph];
+    for (int ph = 0; ph < HRT_PHASE_SLOTS; ph++) np += (size_t)used[ph];
     col *cols = xcalloc(np + 2, sizeof *cols);
     char **heads = xcalloc(np + 2, sizeof *heads);
     cols[nc++] = (col){"name", "star", COL_TEXT, NULL, 0};
-    for (int ph = 0; ph < HRT_PHASE_COUNT; ph++) {
+    for (size_t i = 0; i < HRT_PHASE_N; i++) { /* in the order of HRT_PHASE_LIST */
+        int ph = hrt_phase_code(i);
         if (!used[ph]) continue;
         heads[nc] = xmalloc(48);
         snprintf(heads[nc], 48, "%s [Myr]", hrt_phase_key(ph));
@@ -287,21 +288,22 @@ int cmd_demo(cli *c, argparse *p)
         jw_begin_object(&w, "cluster");
         jw_str(&w, "name", CLUSTER_NAME " (invented)");
         jw_num(&w, "age_yr", age);
-        jw_num(&w, "Z", z);
+        jw_num(&w, "z", z);
         jw_num(&w, "feh", cli_feh(c, z));
-        jw_num(&w, "turnoff_mass_Msun", m_to);
+        jw_num(&w, "turnoff_mass_msun", m_to);
         jw_end_object(&w);
         jw_str(&w, "grid", c->grid_used);
         jw_str(&w, "interp", hrt_interp_name(c->interp));
         jw_table(&w, "members_now", t);
-        jw_begin_array(&w, "members_life");
-        for (size_t i = 0; i < nm; i++) life_json(c, &mem[i].L, &w, NULL);
-        jw_end_array(&w);
+        table *lt = life_records_new(1);
+        for (size_t i = 0; i < nm; i++) life_records_add(c, &mem[i].L, lt, mem[i].name);
+        jw_table(&w, "members_life", lt);
+        table_free(lt);
         jw_table(&w, "fates", fates);
         jw_begin_object(&w, "synthetic_cluster");
         jw_str(&w, "imf", hrt_imf_name(spec.imf.kind));
-        jw_num(&w, "mass_lo_Msun", spec.imf.m_lo_msun);
-        jw_num(&w, "mass_hi_Msun", spec.imf.m_hi_msun);
+        jw_num(&w, "initial_mass_msun_lo", spec.imf.m_lo_msun);
+        jw_num(&w, "initial_mass_msun_hi", spec.imf.m_hi_msun);
         jw_str(&w, "sfh", hrt_sfh_name(spec.sfh.kind));
         jw_int(&w, "stars", (long)spec.n_stars);
         jw_int(&w, "seed", (long)spec.seed);

@@ -10,16 +10,17 @@ enum {
     F_MBOL_S, F_DIST, F_DIST_S, F_PLX, F_PLX_S, F_PRIOR, F_AGE_MAX, F_MASS_MIN, F_MASS_MAX, F_FEH_STEP, F_SEED
 };
 
-/* Option names and the CSV column of each measured quantity (value, sigma). */
+/* Option names and the CSV column (a name of the vocabulary, tracks/FORMAT.md) of each
+ * measured quantity (value, sigma), in the order of the fields of hrt_fit_obs. */
 static const struct { const char *opt, *col; } meas_names[8][2] = {
-    {{"teff", "teff"}, {"teff-sigma", "teff_sigma"}},
-    {{"log-l", "log_l"}, {"log-l-sigma", "log_l_sigma"}},
+    {{"teff", "teff_k"}, {"teff-sigma", "teff_k_sigma"}},
+    {{"log-l", "log_l_lsun"}, {"log-l-sigma", "log_l_lsun_sigma"}},
     {{"feh", "feh"}, {"feh-sigma", "feh_sigma"}},
-    {{"logg", "logg"}, {"logg-sigma", "logg_sigma"}},
-    {{"flux", "flux"}, {"flux-sigma", "flux_sigma"}},
+    {{"logg", "log_g_cgs"}, {"logg-sigma", "log_g_cgs_sigma"}},
+    {{"flux", "flux_w_m2"}, {"flux-sigma", "flux_w_m2_sigma"}},
     {{"mbol", "mbol"}, {"mbol-sigma", "mbol_sigma"}},
-    {{"distance", "distance"}, {"distance-sigma", "distance_sigma"}},
-    {{"parallax", "parallax"}, {"parallax-sigma", "parallax_sigma"}},
+    {{"distance", "distance_pc"}, {"distance-sigma", "distance_pc_sigma"}},
+    {{"parallax", "parallax_mas"}, {"parallax-sigma", "parallax_mas_sigma"}},
 };
 
 const optdef fit_optdefs[] = {
@@ -158,7 +159,20 @@ int fit_failure(const cli *c, const char *who, int code, const char *msg)
 
 /* ------------------------------------------------------------------ input */
 
-static const char *const name_cols[] = {"name", "star", "id", NULL};
+static const char *const fit_known[] = {
+    "name", "teff_k", "teff_k_sigma", "log_l_lsun", "log_l_lsun_sigma", "feh", "feh_sigma", "log_g_cgs",
+    "log_g_cgs_sigma", "flux_w_m2", "flux_w_m2_sigma", "mbol", "mbol_sigma", "distance_pc", "distance_pc_sigma",
+    "parallax_mas", "parallax_mas_sigma", NULL};
+/* the spellings of version 0.1 */
+static const char *const fit_old[] = {
+    "teff", "teff_k", "teff_sigma", "teff_k_sigma", "log_l", "log_l_lsun", "log_l_sigma", "log_l_lsun_sigma",
+    "logg", "log_g_cgs", "logg_sigma", "log_g_cgs_sigma", "flux", "flux_w_m2", "flux_sigma", "flux_w_m2_sigma",
+    "distance", "distance_pc", "distance_sigma", "distance_pc_sigma", "parallax", "parallax_mas", "parallax_sigma",
+    "parallax_mas_sigma", "star", "name", "id", "name", NULL};
+#define FIT_COLUMNS                                                                                                   \
+    "name, teff_k, teff_k_sigma, log_l_lsun, log_l_lsun_sigma, feh, feh_sigma, log_g_cgs, log_g_cgs_sigma, "      \
+    "flux_w_m2, flux_w_m2_sigma, mbol, mbol_sigma, distance_pc, distance_pc_sigma, parallax_mas, "                 \
+    "parallax_mas_sigma"
 
 static int stars_from_csv(cli *c, const char *path, const fitopts *f, fitstar **out, size_t *nout)
 {
@@ -167,18 +181,17 @@ static int stars_from_csv(cli *c, const char *path, const fitopts *f, fitstar **
     int rc = csv_read(c, path, &cf);
     if (rc) return rc;
     long col[16];
-    int any = 0;
-    for (int k = 0; k < 16; k++) {
-        const char *names[2] = {meas_names[k / 2][k % 2].col, NULL};
-        col[k] = csv_column(&cf, names);
-        any |= col[k] >= 0;
+    if ((rc = csv_check_header(c, &cf, shown, CLI_EXIT_USAGE, fit_known, fit_old, FIT_COLUMNS))) {
+        csv_free(&cf);
+        return rc;
     }
-    long cn = csv_column(&cf, name_cols);
+    for (int k = 0; k < 16; k++) col[k] = csv_column(&cf, meas_names[k / 2][k % 2].col);
+    long cn = csv_column(&cf, "name");
     if (col[0] < 0 && isnan(f->obs.teff_k)) {
         csv_free(&cf);
-        return cli_fail(c, CLI_EXIT_USAGE, "%s has no 'teff' column (K); see hrtrail fit --help", shown);
+        return cli_fail(c, CLI_EXIT_USAGE, "%s has no column teff_k (K) and no --teff is given (the columns are " FIT_COLUMNS
+                        ")", shown);
     }
-    (void)any;
     fitstar *s = xcalloc(cf.nrow ? cf.nrow : 1, sizeof *s);
     for (size_t r = 0; r < cf.nrow && rc == 0; r++) {
         s[r].line = cf.line[r];
@@ -210,29 +223,30 @@ static int stars_from_csv(cli *c, const char *path, const fitopts *f, fitstar **
 
 /* ------------------------------------------------------------------ output */
 
-/* An interval as three columns: median, 16 % and 84 % points (key stem, unit suffix).
- * FIT_IV_SHOWN prints all three in the text table, FIT_IV the median only. */
-#define FIT_IV_SHOWN(stem, unit, head, fmt, scale)                                                            \
-    {stem unit, head, COL_NUM, fmt, scale}, {stem "_lo" unit, "-", COL_NUM, fmt, scale},                        \
-        {stem "_hi" unit, "+", COL_NUM, fmt, scale}
-#define FIT_IV(stem, unit, head, fmt)                                                                          \
-    {stem unit, head, COL_NUM, fmt, 0}, {stem "_lo" unit, NULL, COL_NUM, NULL, 0}, {stem "_hi" unit, NULL, COL_NUM, NULL, 0}
+/* An interval as three columns (tracks/FORMAT.md): NAME the median, NAME_lo and NAME_hi the
+ * 15.87th and 84.13th percentiles.  FIT_IV_SHOWN prints all three in the text table, FIT_IV the
+ * median only (head NULL: not in the text table at all). */
+#define FIT_IV_SHOWN(name, head, fmt, scale)                                                                   \
+    {name, head, COL_NUM, fmt, scale}, {name "_lo", "-", COL_NUM, fmt, scale}, {name "_hi", "+", COL_NUM, fmt, scale}
+#define FIT_IV(name, head, fmt)                                                                                \
+    {name, head, COL_NUM, fmt, 0}, {name "_lo", NULL, COL_NUM, NULL, 0}, {name "_hi", NULL, COL_NUM, NULL, 0}
 
 static const col fit_cols[] = {
     {"name", "star", COL_TEXT, NULL, 0},
     {"status", "status", COL_TEXT, NULL, 0},
-    FIT_IV_SHOWN("initial_mass", "_Msun", "M_init", "%.3f", 0),
-    FIT_IV_SHOWN("age", "_yr", "age [Gyr]", "%.3f", 1e-9),
-    FIT_IV("feh", "", "[Fe/H]", "%.2f"),
-    FIT_IV("mass", "_Msun", "M now", "%.3f"),
-    FIT_IV("radius", "_Rsun", "R [Rsun]", "%.3f"),
-    FIT_IV("log_L", "_Lsun", "log L", "%.3f"),
-    FIT_IV("log_g", "_cgs", "log g", "%.2f"),
-    FIT_IV("distance", "_pc", "d [pc]", "%.4g"),
+    FIT_IV_SHOWN("initial_mass_msun", "M_init", "%.3f", 0),
+    FIT_IV_SHOWN("age_yr", "age [Gyr]", "%.3f", 1e-9),
+    FIT_IV("feh", "[Fe/H]", "%.2f"),
+    FIT_IV("mass_msun", "M now", "%.3f"),
+    FIT_IV("r_rsun", "R [Rsun]", "%.3f"),
+    FIT_IV("log_l_lsun", "log L", "%.3f"),
+    FIT_IV("teff_k", NULL, NULL),
+    FIT_IV("log_g_cgs", "log g", "%.2f"),
+    FIT_IV("distance_pc", "d [pc]", "%.4g"),
     {"phase", "phase", COL_TEXT, NULL, 0},
     {"phase_prob", "P", COL_NUM, "%.2f", 0},
-    {"phase2", "or", COL_TEXT, NULL, 0},
-    {"phase2_prob", "P2", COL_NUM, "%.2f", 0},
+    {"phase_second", "or", COL_TEXT, NULL, 0},
+    {"phase_second_prob", "P2", COL_NUM, "%.2f", 0},
     {"flags", "notes", COL_TEXT, NULL, 0},
     {"chi2_min", NULL, COL_NUM, NULL, 0},
 };
@@ -259,8 +273,8 @@ static void add_row(table *t, const char *name, const char *status, const hrt_fi
     table_text(t, row, k++, name);
     table_text(t, row, k++, status);
     int ok = r->status == HRT_OK;
-    const hrt_fit_interval *iv[] = {&r->initial_mass_msun, &r->age_yr, &r->feh, &r->mass_msun, &r->r_rsun,
-                                    &r->log_l_lsun, &r->log_g_cgs, &r->distance_pc};
+    const hrt_fit_interval *iv[] = {&r->initial_mass_msun, &r->age_yr, &r->feh,    &r->mass_msun, &r->r_rsun,
+                                    &r->log_l_lsun,        &r->teff_k, &r->log_g_cgs, &r->distance_pc};
     for (size_t q = 0; q < sizeof iv / sizeof iv[0]; q++) {
         table_num(t, row, k++, ok ? iv[q]->median : NAN);
         table_num(t, row, k++, ok ? iv[q]->lo : NAN);
@@ -370,16 +384,7 @@ int cmd_fit(cli *c, argparse *p)
     if (c->fmt == FMT_CSV) {
         table_write_csv(t, stdout);
     } else if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "grid", c->grid_used);
-        jw_str(&w, "mass_prior", hrt_fit_mass_prior_name(f.mo.mass_prior));
-        jw_num(&w, "age_max_yr", f.mo.age_max_yr);
-        jw_str(&w, "intervals", "median and 15.87/84.13 percentiles");
-        jw_table(&w, "stars", t);
-        jw_end_object(&w);
-        jw_finish(&w);
+        jw_records(stdout, t);
     } else if (!f.input && one.status == HRT_OK) {
         print_one(c, &one, &stars[0].obs);
         printf("Mass prior %s, age uniform in [0, %.4g Gyr], [Fe/H] uniform on the lattice.\n",

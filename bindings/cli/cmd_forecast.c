@@ -5,13 +5,15 @@
 
 #include "fitcli.h"
 
+/* An interval as NAME, NAME_lo and NAME_hi (tracks/FORMAT.md). */
 static void iv_json(jw *w, const char *key, hrt_fit_interval x)
 {
-    jw_begin_object(w, key);
-    jw_num(w, "median", x.median);
-    jw_num(w, "lo", x.lo);
-    jw_num(w, "hi", x.hi);
-    jw_end_object(w);
+    char k[64];
+    jw_num(w, key, x.median);
+    snprintf(k, sizeof k, "%s_lo", key);
+    jw_num(w, k, x.lo);
+    snprintf(k, sizeof k, "%s_hi", key);
+    jw_num(w, k, x.hi);
 }
 
 static void iv_text(const char *label, hrt_fit_interval x, double sc)
@@ -24,22 +26,23 @@ static void iv_text(const char *label, hrt_fit_interval x, double sc)
 
 static const col ev_cols[] = {
     {"keypoint", "keypoint", COL_TEXT, NULL, 0}, {"prob", "P", COL_NUM, "%.2f", 0},
-    {"in_yr", "in [Myr]", COL_NUM, "%.5g", 1e-6},  {"in_lo_yr", "16%", COL_NUM, "%.5g", 1e-6},
-    {"in_hi_yr", "84%", COL_NUM, "%.5g", 1e-6},
+    {"in_yr", "in [Myr]", COL_NUM, "%.5g", 1e-6},  {"in_yr_lo", "16%", COL_NUM, "%.5g", 1e-6},
+    {"in_yr_hi", "84%", COL_NUM, "%.5g", 1e-6},
 };
 static const col ph_cols[] = {
     {"phase", "phase", COL_TEXT, NULL, 0},         {"prob", "P", COL_NUM, "%.2f", 0},
-    {"start_in_yr", "starts in [Myr]", COL_NUM, "%.5g", 1e-6}, {"start_in_lo_yr", "16%", COL_NUM, "%.5g", 1e-6},
-    {"start_in_hi_yr", "84%", COL_NUM, "%.5g", 1e-6}, {"duration_yr", "lasts [Myr]", COL_NUM, "%.5g", 1e-6},
+    {"start_in_yr", "starts in [Myr]", COL_NUM, "%.5g", 1e-6}, {"start_in_yr_lo", "16%", COL_NUM, "%.5g", 1e-6},
+    {"start_in_yr_hi", "84%", COL_NUM, "%.5g", 1e-6}, {"duration_yr", "lasts [Myr]", COL_NUM, "%.5g", 1e-6},
 };
 static const col st_cols[] = {
     {"dt_yr", "in [Myr]", COL_NUM, "%.6g", 1e-6},   {"phase", "phase", COL_TEXT, NULL, 0},
-    {"phase_prob", "P", COL_NUM, "%.2f", 0},       {"log_L_Lsun", "log L", COL_NUM, "%.3f", 0},
-    {"log_L_lo_Lsun", "16%", COL_NUM, "%.3f", 0},  {"log_L_hi_Lsun", "84%", COL_NUM, "%.3f", 0},
-    {"teff_K", "Teff [K]", COL_NUM, "%.0f", 0},    {"teff_lo_K", NULL, COL_NUM, NULL, 0},
-    {"teff_hi_K", NULL, COL_NUM, NULL, 0},         {"radius_Rsun", "R [Rsun]", COL_NUM, "%.4g", 0},
-    {"radius_lo_Rsun", NULL, COL_NUM, NULL, 0},    {"radius_hi_Rsun", NULL, COL_NUM, NULL, 0},
-    {"mass_Msun", "M now", COL_NUM, "%.4f", 0},    {"luminous_frac", NULL, COL_NUM, NULL, 0},
+    {"phase_prob", "P", COL_NUM, "%.2f", 0},       {"log_l_lsun", "log L", COL_NUM, "%.3f", 0},
+    {"log_l_lsun_lo", "16%", COL_NUM, "%.3f", 0},  {"log_l_lsun_hi", "84%", COL_NUM, "%.3f", 0},
+    {"teff_k", "Teff [K]", COL_NUM, "%.0f", 0},    {"teff_k_lo", NULL, COL_NUM, NULL, 0},
+    {"teff_k_hi", NULL, COL_NUM, NULL, 0},         {"r_rsun", "R [Rsun]", COL_NUM, "%.4g", 0},
+    {"r_rsun_lo", NULL, COL_NUM, NULL, 0},         {"r_rsun_hi", NULL, COL_NUM, NULL, 0},
+    {"mass_msun", "M now", COL_NUM, "%.4f", 0},    {"mass_msun_lo", NULL, COL_NUM, NULL, 0},
+    {"mass_msun_hi", NULL, COL_NUM, NULL, 0},      {"luminous_frac", NULL, COL_NUM, NULL, 0},
 };
 
 int cmd_forecast(cli *c, argparse *p)
@@ -134,10 +137,12 @@ int cmd_forecast(cli *c, argparse *p)
         table_num(te, row, 4, r.events[k].in_yr.hi);
     }
     table *tp = table_new(ph_cols, sizeof ph_cols / sizeof ph_cols[0]);
-    /* phases to come in the order of their median start */
-    int order[HRT_PHASE_COUNT], no = 0;
-    for (int ph = 1; ph < HRT_PHASE_COUNT; ph++)
+    /* phases to come in the order of their median start (ties: the order of HRT_PHASE_LIST) */
+    int order[HRT_PHASE_N], no = 0;
+    for (size_t i = 1; i < HRT_PHASE_N; i++) {
+        int ph = hrt_phase_code(i);
         if (r.future[ph].prob > 0) order[no++] = ph;
+    }
     for (int a = 1; a < no; a++)
         for (int b = a; b > 0 && r.future[order[b]].start_in_yr.median < r.future[order[b - 1]].start_in_yr.median; b--) {
             int tmp = order[b]; order[b] = order[b - 1]; order[b - 1] = tmp;
@@ -158,7 +163,7 @@ int cmd_forecast(cli *c, argparse *p)
         size_t row = table_add_row(ts);
         double v[] = {S->dt_yr, 0, S->phase_prob[S->phase], S->log_l_lsun.median, S->log_l_lsun.lo, S->log_l_lsun.hi, S->teff_k.median,
                       S->teff_k.lo, S->teff_k.hi, S->r_rsun.median, S->r_rsun.lo, S->r_rsun.hi,
-                      S->mass_msun.median, S->luminous_frac};
+                      S->mass_msun.median, S->mass_msun.lo, S->mass_msun.hi, S->luminous_frac};
         for (size_t q = 0; q < sizeof v / sizeof v[0]; q++)
             if (q != 1) table_num(ts, row, q, v[q]);
         table_text(ts, row, 1, hrt_phase_key(S->phase));
@@ -168,7 +173,7 @@ int cmd_forecast(cli *c, argparse *p)
         jw_init(&w, stdout);
         jw_begin_object(&w, NULL);
         jw_str(&w, "grid", c->grid_used);
-        jw_int(&w, "samples", (long)n);
+        jw_int(&w, "n_samples", (long)n);
         jw_str(&w, "phase_now", hrt_phase_key(r.phase_now));
         jw_num(&w, "phase_now_prob", r.phase_now_prob[r.phase_now]);
         jw_num(&w, "ms_prob", r.ms_prob);
@@ -176,7 +181,7 @@ int cmd_forecast(cli *c, argparse *p)
         iv_json(&w, "end_in_yr", r.end_in_yr);
         jw_str(&w, "remnant", hrt_remnant_key(r.remnant));
         jw_num(&w, "remnant_prob", r.remnant_prob[r.remnant]);
-        iv_json(&w, "remnant_mass_Msun", r.remnant_mass_msun);
+        iv_json(&w, "remnant_mass_msun", r.remnant_mass_msun);
         jw_table(&w, "keypoints", te);
         jw_table(&w, "phases", tp);
         jw_table(&w, "states", ts);

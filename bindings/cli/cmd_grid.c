@@ -37,8 +37,8 @@ static int grid_info(cli *c)
 
     if (c->fmt == FMT_CSV) {
         static const col cols[] = {
-            {"Z", NULL, COL_NUM, NULL, 0},          {"feh", NULL, COL_NUM, NULL, 0},
-            {"initial_mass_Msun", NULL, COL_NUM, NULL, 0}, {"route", NULL, COL_TEXT, NULL, 0},
+            {"z", NULL, COL_NUM, NULL, 0},          {"feh", NULL, COL_NUM, NULL, 0},
+            {"initial_mass_msun", NULL, COL_NUM, NULL, 0}, {"route", NULL, COL_TEXT, NULL, 0},
             {"n_eep", NULL, COL_NUM, NULL, 0},
         };
         table *t = table_new(cols, 5);
@@ -62,19 +62,25 @@ static int grid_info(cli *c)
         jw_num(&w, "memory_bytes", (double)hrt_grid_memory_bytes(g));
         jw_str(&w, "interp", hrt_interp_name(hrt_grid_interp(g)));
         jw_num(&w, "z_ref", hrt_grid_z_ref(g));
-        jw_begin_object(&w, "attributes");
+        /* records, so that every key is a field name of the vocabulary */
+        jw_begin_array(&w, "attributes");
         for (const char *const *a = attr_names; *a; a++)
-            if (hrt_grid_attribute(g, *a)) jw_str(&w, *a, hrt_grid_attribute(g, *a));
-        jw_end_object(&w);
+            if (hrt_grid_attribute(g, *a)) {
+                jw_begin_object(&w, NULL);
+                jw_str(&w, "attribute", *a);
+                jw_str(&w, "value", hrt_grid_attribute(g, *a));
+                jw_end_object(&w);
+            }
+        jw_end_array(&w);
         jw_begin_array(&w, "routes");
         for (size_t r = 0; r < nr; r++) {
             jw_begin_object(&w, NULL);
-            jw_str(&w, "name", hrt_grid_route_name(g, r));
+            jw_str(&w, "route", hrt_grid_route_name(g, r));
             jw_int(&w, "n_eep", (long)hrt_grid_route_n_eep(g, r));
             jw_begin_array(&w, "keypoints");
             for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++) {
                 jw_begin_object(&w, NULL);
-                jw_str(&w, "name", hrt_grid_keypoint_name(g, r, k));
+                jw_str(&w, "keypoint", hrt_grid_keypoint_name(g, r, k));
                 jw_int(&w, "eep", hrt_grid_keypoint_eep(g, r, k));
                 jw_end_object(&w);
             }
@@ -87,17 +93,17 @@ static int grid_info(cli *c)
             double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
             hrt_grid_mass_range(g, z, &lo, &hi);
             jw_begin_object(&w, NULL);
-            jw_num(&w, "Z", z);
+            jw_num(&w, "z", z);
             jw_num(&w, "feh", cli_feh(c, z));
-            jw_num(&w, "mass_min_Msun", lo);
-            jw_num(&w, "mass_max_Msun", hi);
-            jw_begin_array(&w, "route_boundaries_Msun");
+            jw_num(&w, "initial_mass_msun_lo", lo);
+            jw_num(&w, "initial_mass_msun_hi", hi);
+            jw_begin_array(&w, "route_boundary_mass_msun");
             for (size_t b = 0; b + 1 < nr; b++) jw_num(&w, NULL, hrt_grid_route_boundary(g, iz, b));
             jw_end_array(&w);
             jw_begin_array(&w, "tracks");
             for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
                 jw_begin_object(&w, NULL);
-                jw_num(&w, "initial_mass_Msun", hrt_grid_mass(g, iz, im));
+                jw_num(&w, "initial_mass_msun", hrt_grid_mass(g, iz, im));
                 jw_str(&w, "route", cli_route_name(c, hrt_grid_track_route(g, iz, im)));
                 jw_int(&w, "n_eep", (long)hrt_grid_track_n_eep(g, iz, im));
                 jw_end_object(&w);
@@ -313,6 +319,12 @@ static int grid_check(cli *c)
         c->grid = NULL;
         return cli_fail(c, CLI_EXIT_FILE, "no default grid found (%s); name one with --grid FILE", err.message);
     }
+    if (rc == HRT_E_VERSION) {
+        /* a file of another format version is not checked: the message says how to convert it */
+        table_free(k.problems);
+        c->grid = NULL;
+        return cli_fail(c, CLI_EXIT_FILE, "grid '%s': %s", path ? path : "(default)", err.message);
+    }
     if (rc != HRT_OK) {
         c->grid = NULL;
         problem(&k, "validator", "%s", err.message[0] ? err.message : hrt_strerror(rc));
@@ -416,32 +428,77 @@ static int grid_check(cli *c)
     return 0;
 }
 
+/* ------------------------------------------------------------------ upgrade */
+
+static int grid_upgrade(cli *c, const char *old_path, const char *new_path)
+{
+    hrt_error err = {0, ""};
+    hrt_grid *g = NULL;
+    struct stat st;
+    int rc, from = 0;
+    if (stat(old_path, &st) != 0) return cli_fail(c, CLI_EXIT_FILE, "'%s': %s", old_path, strerror(errno));
+    if (S_ISDIR(st.st_mode)) return cli_fail(c, CLI_EXIT_FILE, "'%s': is a directory, not a grid file", old_path);
+    rc = hrt_grid_upgrade(old_path, new_path, &err);
+    if (rc != HRT_OK)
+        return cli_fail(c, cli_exit_of_status(rc), "%s", err.message[0] ? err.message : hrt_strerror(rc));
+    /* what was converted: the new file, opened as any grid is */
+    rc = hrt_grid_open(new_path, &g, &err);
+    if (rc != HRT_OK)
+        return cli_fail(c, cli_exit_of_status(rc), "'%s' was written but does not open: %s", new_path, err.message);
+    size_t nz = hrt_grid_n_z(g), ntracks = 0;
+    for (size_t iz = 0; iz < nz; iz++) ntracks += hrt_grid_n_masses(g, iz);
+    /* hrt_grid_upgrade() records the version converted from in the attribute 'converted_from' */
+    const char *note = hrt_grid_attribute(g, "converted_from");
+    if (note) sscanf(note, "format_version %d", &from);
+    char was[48] = "an older grid format";
+    if (from > 0) snprintf(was, sizeof was, "grid format %d", from);
+    printf("converted %s (%s) to %s (grid format %d): %zu tracks in %zu metallicities, %zu routes\n", old_path, was,
+           new_path, HRT_FORMAT_VERSION, ntracks, nz, hrt_grid_n_routes(g));
+    hrt_grid_close(g);
+    return 0;
+}
+
 enum { O_NONE = 0 };
 static const optdef grid_opts[] = {{NULL, 0, 0, 0}};
 
 int cmd_grid(cli *c, argparse *p)
 {
-    const char *val, *action = NULL;
+    const char *val, *action = NULL, *pos[3] = {NULL, NULL, NULL};
+    size_t npos = 0;
     int id, rc;
     while ((id = next_option(c, p, grid_opts, 0, 1, &val)) != OPT_END) {
         if (id == OPT_ERROR) return CLI_EXIT_USAGE;
         if (id == OPT_POSITIONAL) {
-            if (!action)
-                action = val;
-            else if (!c->grid_path)
-                c->grid_path = val;
-            else
-                return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
+            if (npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
+            pos[npos++] = val;
         }
     }
-    if (action && strcmp(action, "info") && strcmp(action, "check"))
-        return cli_fail(c, CLI_EXIT_USAGE, "unknown action '%s'; use 'hrtrail grid info' or 'hrtrail grid check'", action);
+    action = pos[0];
+    if (action && strcmp(action, "info") && strcmp(action, "check") && strcmp(action, "upgrade"))
+        return cli_fail(c, CLI_EXIT_USAGE,
+                        "unknown action '%s'; use 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade'",
+                        action);
     if (c->want_help) {
-        help_command(action && !strcmp(action, "check") ? "grid check" : action ? "grid info" : "grid", stdout);
+        help_command("grid", stdout);
         return 0;
     }
-    if (!action) return cli_fail(c, CLI_EXIT_USAGE, "say 'hrtrail grid info' or 'hrtrail grid check' (see hrtrail grid --help)");
+    if (!action)
+        return cli_fail(c, CLI_EXIT_USAGE,
+                        "say 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade OLD NEW' (see hrtrail grid --help)");
+    if (!strcmp(action, "upgrade")) {
+        c->cmd = "grid upgrade";
+        if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "--grid does not apply: give the files as 'hrtrail grid upgrade OLD NEW'");
+        if (c->fmt != FMT_TABLE) return cli_fail(c, CLI_EXIT_USAGE, "--csv and --json do not apply: the command prints one line");
+        if (npos != 3)
+            return cli_fail(c, CLI_EXIT_USAGE, "give the file to convert and the file to write: hrtrail grid upgrade OLD NEW");
+        return grid_upgrade(c, pos[1], pos[2]);
+    }
     c->cmd = !strcmp(action, "info") ? "grid info" : "grid check";
+    if (npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", pos[2]);
+    if (npos == 2) {
+        if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the grid is given with --grid)", pos[1]);
+        c->grid_path = pos[1];
+    }
     if (!strcmp(action, "check")) return grid_check(c);
     if ((rc = cli_open_grid(c))) return rc;
     return grid_info(c);

@@ -172,8 +172,8 @@ static void report_json(const hrt_import *imp, const char *out, int dry)
     jw_begin_array(&w, "metallicities");
     for (size_t iz = 0; iz < hrt_import_n_z(imp); iz++) {
         jw_begin_object(&w, NULL);
-        jw_num(&w, "Z", hrt_import_z(imp, iz));
-        jw_begin_array(&w, "route_boundaries_Msun");
+        jw_num(&w, "z", hrt_import_z(imp, iz));
+        jw_begin_array(&w, "route_boundary_mass_msun");
         for (size_t b = 0; b + 1 < hrt_import_n_routes(imp); b++) jw_num(&w, NULL, hrt_import_route_boundary(imp, iz, b));
         jw_end_array(&w);
         jw_end_object(&w);
@@ -186,23 +186,22 @@ static void report_json(const hrt_import *imp, const char *out, int dry)
         jw_str(&w, "file", r.file);
         jw_str(&w, "result", result_of(&r));
         jw_str(&w, "status", hrt_strerror(r.status));
-        jw_num(&w, "initial_mass_Msun", r.initial_mass_msun);
-        jw_num(&w, "Z", r.z);
+        jw_num(&w, "initial_mass_msun", r.initial_mass_msun);
+        jw_num(&w, "z", r.z);
         jw_str(&w, "route", r.route >= 0 ? hrt_import_route_name(imp, (size_t)r.route) : NULL);
         jw_int(&w, "rows", (long)r.n_rows);
         jw_int(&w, "rows_dropped", (long)r.n_rows_dropped);
-        if (r.line > 0) {
-            jw_int(&w, "line", r.line);
-            jw_int(&w, "column", r.column);
-        }
+        /* where the track's problem is (null when it has none) */
+        jw_num(&w, "line", r.line > 0 ? (double)r.line : NAN);
+        jw_num(&w, "column", r.line > 0 ? (double)r.column : NAN);
         jw_str(&w, "message", r.message[0] ? r.message : NULL);
         jw_str(&w, "notes", r.notes[0] ? r.notes : NULL);
         jw_str(&w, "remnant", r.status == HRT_OK ? hrt_remnant_key(r.remnant) : NULL);
-        jw_num(&w, "remnant_mass_Msun", r.remnant_mass_msun);
+        jw_num(&w, "remnant_mass_msun", r.remnant_mass_msun);
         jw_begin_array(&w, "keypoints");
         for (size_t k = 0; k < r.n_keypoints && r.route >= 0; k++) {
             jw_begin_object(&w, NULL);
-            jw_str(&w, "name", hrt_import_keypoint_name(imp, (size_t)r.route, k));
+            jw_str(&w, "keypoint", hrt_import_keypoint_name(imp, (size_t)r.route, k));
             jw_num(&w, "age_yr", r.keypoint_age_yr[k]);
             jw_int(&w, "line", r.keypoint_line[k]);
             jw_str(&w, "found_by", how_name(r.keypoint_how[k]));
@@ -263,9 +262,9 @@ static void report_csv(const hrt_import *imp)
 {
     static const col cols[] = {
         {"file", NULL, COL_TEXT, NULL, 0},          {"result", NULL, COL_TEXT, NULL, 0},
-        {"initial_mass_Msun", NULL, COL_NUM, NULL, 0}, {"Z", NULL, COL_NUM, NULL, 0},
+        {"initial_mass_msun", NULL, COL_NUM, NULL, 0}, {"z", NULL, COL_NUM, NULL, 0},
         {"route", NULL, COL_TEXT, NULL, 0},         {"rows", NULL, COL_NUM, NULL, 0},
-        {"keypoints", NULL, COL_NUM, NULL, 0},      {"end_age_yr", NULL, COL_NUM, NULL, 0},
+        {"n_keypoints", NULL, COL_NUM, NULL, 0},    {"end_age_yr", NULL, COL_NUM, NULL, 0},
         {"remnant", NULL, COL_TEXT, NULL, 0},       {"message", NULL, COL_TEXT, NULL, 0},
         {"notes", NULL, COL_TEXT, NULL, 0},
     };

@@ -79,19 +79,7 @@ int cmd_isochrone(cli *c, argparse *p)
     if (c->fmt == FMT_CSV) {
         table_write_csv(t, stdout);
     } else if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "grid", c->grid_used);
-        jw_str(&w, "interp", hrt_interp_name(c->interp));
-        jw_num(&w, "Z", z);
-        jw_num(&w, "feh", cli_feh(c, z));
-        jw_begin_array(&w, "ages_yr");
-        for (size_t i = 0; i < al.n; i++) jw_num(&w, NULL, al.v[i]);
-        jw_end_array(&w);
-        jw_table(&w, "points", t);
-        jw_end_object(&w);
-        jw_finish(&w);
+        jw_records(stdout, t);
     } else {
         printf("Isochrone%s at Z = %.6g ([Fe/H] = %+.3f): %zu points, ordered by route, EEP and initial mass\n",
                al.n > 1 ? "s" : "", z, cli_feh(c, z), t->nrow);

@@ -14,22 +14,25 @@ static const col kp_cols[] = {
 };
 static const col ph_cols[] = {
     {"phase", "phase", COL_TEXT, NULL, 0},
-    {"name", "", COL_TEXT, NULL, 0},
+    {NULL, "", COL_TEXT, NULL, 0}, /* the phase's name, for people */
     {"start_yr", "start [Myr]", COL_NUM, "%.6g", 1e-6},
     {"end_yr", "end [Myr]", COL_NUM, "%.6g", 1e-6},
     {"duration_yr", "duration [Myr]", COL_NUM, "%.6g", 1e-6},
 };
-static const col life_csv_cols[] = {
-    {"initial_mass_Msun", NULL, COL_NUM, NULL, 0},
-    {"Z", NULL, COL_NUM, NULL, 0},
+/* The timetable as records, one per keypoint, phase and remnant (CSV and JSON of life, JSON of demo). */
+static const col life_rec_cols[] = {
+    {"name", NULL, COL_TEXT, NULL, 0},
+    {"initial_mass_msun", NULL, COL_NUM, NULL, 0},
+    {"z", NULL, COL_NUM, NULL, 0},
     {"route", NULL, COL_TEXT, NULL, 0},
     {"record", NULL, COL_TEXT, NULL, 0},
     {"key", NULL, COL_TEXT, NULL, 0},
     {"start_yr", NULL, COL_NUM, NULL, 0},
     {"end_yr", NULL, COL_NUM, NULL, 0},
     {"duration_yr", NULL, COL_NUM, NULL, 0},
-    {"mass_Msun", NULL, COL_NUM, NULL, 0},
+    {"remnant_mass_msun", NULL, COL_NUM, NULL, 0},
 };
+#define N_LIFE_REC_COLS (sizeof life_rec_cols / sizeof life_rec_cols[0])
 
 int life_build(cli *c, const char *mass_text, double mass, double z, life *L)
 {
@@ -103,50 +106,37 @@ void life_print_text(const cli *c, const life *L, const char *indent)
         printf("%sFate: unknown; the track ends at age %s and the grid names no remnant\n", indent, a);
 }
 
-void life_json(const cli *c, const life *L, jw *w, const char *key)
+table *life_records_new(int named)
 {
-    double z = hrt_star_z(L->s);
-    jw_begin_object(w, key);
-    jw_num(w, "initial_mass_Msun", hrt_star_mass(L->s));
-    jw_num(w, "Z", z);
-    jw_num(w, "feh", cli_feh(c, z));
-    jw_str(w, "route", cli_route_name(c, hrt_star_route(L->s)));
-    jw_table(w, "keypoints", L->kp);
-    jw_table(w, "phases", L->ph);
-    jw_begin_object(w, "remnant");
-    jw_str(w, "kind", hrt_remnant_key(L->remnant));
-    jw_str(w, "name", hrt_remnant_name(L->remnant));
-    jw_num(w, "mass_Msun", L->remnant_mass);
-    jw_num(w, "from_age_yr", L->end_age);
-    jw_end_object(w);
-    jw_end_object(w);
+    return named ? table_new(life_rec_cols, N_LIFE_REC_COLS) : table_new(life_rec_cols + 1, N_LIFE_REC_COLS - 1);
 }
 
-static void life_csv_rows(const cli *c, const life *L, table *t)
+void life_records_add(const cli *c, const life *L, table *t, const char *name)
 {
     double m = hrt_star_mass(L->s), z = hrt_star_z(L->s);
     const char *route = cli_route_name(c, hrt_star_route(L->s));
-    size_t r;
-    for (size_t k = 0; k < L->kp->nrow; k++) {
+    size_t o = t->ncol == N_LIFE_REC_COLS, r; /* o: offset of the columns after the name */
+    for (size_t k = 0; k < L->kp->nrow + L->ph->nrow + 1; k++) {
         r = table_add_row(t);
-        table_num(t, r, 0, m), table_num(t, r, 1, z), table_text(t, r, 2, route);
-        table_text(t, r, 3, "keypoint");
-        table_text(t, r, 4, L->kp->text[k * L->kp->ncol]);
-        table_num(t, r, 5, L->kp->num[k * L->kp->ncol + 1]);
+        if (o) table_text(t, r, 0, name);
+        table_num(t, r, o + 0, m), table_num(t, r, o + 1, z), table_text(t, r, o + 2, route);
+        if (k < L->kp->nrow) {
+            table_text(t, r, o + 3, "keypoint");
+            table_text(t, r, o + 4, L->kp->text[k * L->kp->ncol]);
+            table_num(t, r, o + 5, L->kp->num[k * L->kp->ncol + 1]);
+        } else if (k < L->kp->nrow + L->ph->nrow) {
+            size_t q = k - L->kp->nrow;
+            table_text(t, r, o + 3, "phase");
+            table_text(t, r, o + 4, L->ph->text[q * L->ph->ncol]);
+            for (size_t j = 0; j < 3; j++) table_num(t, r, o + 5 + j, L->ph->num[q * L->ph->ncol + 2 + j]);
+        } else {
+            /* the remnant: from the end of the track on, for ever */
+            table_text(t, r, o + 3, "remnant");
+            table_text(t, r, o + 4, hrt_remnant_key(L->remnant));
+            table_num(t, r, o + 5, L->end_age);
+            table_num(t, r, o + 8, L->remnant_mass);
+        }
     }
-    for (size_t k = 0; k < L->ph->nrow; k++) {
-        r = table_add_row(t);
-        table_num(t, r, 0, m), table_num(t, r, 1, z), table_text(t, r, 2, route);
-        table_text(t, r, 3, "phase");
-        table_text(t, r, 4, L->ph->text[k * L->ph->ncol]);
-        for (int j = 0; j < 3; j++) table_num(t, r, 5 + (size_t)j, L->ph->num[k * L->ph->ncol + 2 + (size_t)j]);
-    }
-    r = table_add_row(t);
-    table_num(t, r, 0, m), table_num(t, r, 1, z), table_text(t, r, 2, route);
-    table_text(t, r, 3, "remnant");
-    table_text(t, r, 4, hrt_remnant_key(L->remnant));
-    table_num(t, r, 5, L->end_age);
-    table_num(t, r, 8, L->remnant_mass);
 }
 
 int cmd_life(cli *c, argparse *p)
@@ -174,22 +164,14 @@ int cmd_life(cli *c, argparse *p)
     L = xcalloc(ml.n, sizeof *L);
     for (size_t i = 0; i < ml.n; i++)
         if ((rc = life_build(c, ml.text[i], ml.v[i], z, &L[i]))) goto done;
-    if (c->fmt == FMT_CSV) {
-        table *t = table_new(life_csv_cols, sizeof life_csv_cols / sizeof life_csv_cols[0]);
-        for (size_t i = 0; i < ml.n; i++) life_csv_rows(c, &L[i], t);
-        table_write_csv(t, stdout);
+    if (c->fmt == FMT_CSV || c->fmt == FMT_JSON) {
+        table *t = life_records_new(0);
+        for (size_t i = 0; i < ml.n; i++) life_records_add(c, &L[i], t, NULL);
+        if (c->fmt == FMT_CSV)
+            table_write_csv(t, stdout);
+        else
+            jw_records(stdout, t);
         table_free(t);
-    } else if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "grid", c->grid_used);
-        jw_str(&w, "interp", hrt_interp_name(c->interp));
-        jw_begin_array(&w, "stars");
-        for (size_t i = 0; i < ml.n; i++) life_json(c, &L[i], &w, NULL);
-        jw_end_array(&w);
-        jw_end_object(&w);
-        jw_finish(&w);
     } else {
         for (size_t i = 0; i < ml.n; i++) {
             if (i) putchar('\n');

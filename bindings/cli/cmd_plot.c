@@ -31,10 +31,13 @@ static int parse_range(const cli *c, const char *opt, const char *s, double *lo,
     return 0;
 }
 
-static const char *const teff_names[] = {"log_Teff_K", "log_teff", "logteff", "log_Teff", NULL};
-static const char *const l_names[] = {"log_L_Lsun", "log_l", "logl", "log_L", NULL};
-static const char *const label_names[] = {"label", "name", "star", NULL};
-static const char *const phase_names[] = {"phase", NULL};
+/* Columns of --points: names of the vocabulary (tracks/FORMAT.md), as 'hrtrail at --csv' writes them. */
+static const char *const points_known[] = {"log_teff_k", "log_l_lsun", "name", "phase", NULL};
+static const char *const points_old[] = {"log_Teff_K", "log_teff_k", "log_teff", "log_teff_k", "logteff", "log_teff_k",
+                                         "log_Teff", "log_teff_k", "log_L_Lsun", "log_l_lsun", "log_l", "log_l_lsun",
+                                         "logl", "log_l_lsun", "log_L", "log_l_lsun", "label", "name", "star", "name",
+                                         NULL};
+#define POINTS_COLUMNS "log_teff_k, log_l_lsun, name (label), phase (ring colour)"
 
 static int read_points(const cli *c, plot *pl, const char *path)
 {
@@ -42,12 +45,16 @@ static int read_points(const cli *c, plot *pl, const char *path)
     const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
     int rc = csv_read(c, path, &f);
     if (rc) return rc;
-    long ct = csv_column(&f, teff_names), cl = csv_column(&f, l_names);
-    long cn = csv_column(&f, label_names), cp = csv_column(&f, phase_names);
+    if ((rc = csv_check_header(c, &f, shown, CLI_EXIT_FILE, points_known, points_old, POINTS_COLUMNS))) {
+        csv_free(&f);
+        return rc;
+    }
+    long ct = csv_column(&f, "log_teff_k"), cl = csv_column(&f, "log_l_lsun");
+    long cn = csv_column(&f, "name"), cp = csv_column(&f, "phase");
     if (ct < 0 || cl < 0) {
         csv_free(&f);
-        return cli_fail(c, CLI_EXIT_FILE, "%s: needs columns log_Teff_K and log_L_Lsun (as written by hrtrail at --csv)",
-                        shown);
+        return cli_fail(c, CLI_EXIT_FILE, "%s: needs columns log_teff_k and log_l_lsun (the columns are " POINTS_COLUMNS
+                        ", as 'hrtrail at --csv' writes them)", shown);
     }
     for (size_t r = 0; r < f.nrow && !rc; r++) {
         double t, l;
@@ -55,7 +62,7 @@ static int read_points(const cli *c, plot *pl, const char *path)
         /* stars without a luminosity (before the ZAMS, dark remnants) have nothing to plot */
         if (!strcasecmp(row[ct], "nan") || !strcasecmp(row[cl], "nan") || !row[ct][0] || !row[cl][0]) continue;
         if (parse_number(row[ct], &t) != 0 || parse_number(row[cl], &l) != 0) {
-            rc = cli_fail(c, CLI_EXIT_FILE, "%s line %ld: log_Teff_K '%s' and log_L_Lsun '%s' must be numbers", shown,
+            rc = cli_fail(c, CLI_EXIT_FILE, "%s line %ld: log_teff_k '%s' and log_l_lsun '%s' must be numbers", shown,
                           f.line[r], row[ct], row[cl]);
             break;
         }
@@ -133,7 +140,7 @@ int cmd_plot(cli *c, argparse *p)
                  points ? (strcmp(points, "-") ? points : "standard input") : "");
     }
     if (pl.npoints == 0 && tl.n == 0 && il.n == 0) {
-        rc = cli_fail(c, CLI_EXIT_FILE, "%s: no star with a finite log_Teff_K and log_L_Lsun to plot",
+        rc = cli_fail(c, CLI_EXIT_FILE, "%s: no star with a finite log_teff_k and log_l_lsun to plot",
                       strcmp(points, "-") ? points : "standard input");
         goto done;
     }

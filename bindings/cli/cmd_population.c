@@ -50,9 +50,9 @@ static const col rec_cols[] = {
     {"key", "", COL_TEXT, NULL, 0},
     {"stars", "stars", COL_NUM, "%.0f", 0},
     {"fraction", "fraction", COL_NUM, "%.5f", 0},
-    {"initial_mass_Msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
-    {"mass_Msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
-    {"L_Lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
+    {"initial_mass_msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
+    {"mass_msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
+    {"l_lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
 };
 #define N_REC_COLS (sizeof rec_cols / sizeof rec_cols[0])
 static const col rec_cols_text[N_REC_COLS] = {
@@ -61,9 +61,9 @@ static const col rec_cols_text[N_REC_COLS] = {
     {"key", "", COL_TEXT, NULL, 0},
     {"stars", "stars", COL_NUM, "%.0f", 0},
     {"fraction", "fraction", COL_NUM, "%.5f", 0},
-    {"initial_mass_Msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
-    {"mass_Msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
-    {"L_Lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
+    {"initial_mass_msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
+    {"mass_msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
+    {"l_lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
 };
 
 static void add_rec(table *t, double age, const char *record, const char *key, uint64_t n, uint64_t of, double m0,
@@ -80,18 +80,23 @@ static void add_rec(table *t, double age, const char *record, const char *key, u
     table_num(t, r, 7, l);
 }
 
-/* Rows of one epoch: phases, then remnant kinds (kind 0: stars that are no remnant), then failures. */
+/* Rows of one epoch: phases, then remnant kinds (none: stars that are no remnant), then failures;
+ * phases and remnant kinds in the order of HRT_PHASE_LIST and HRT_REMNANT_LIST. */
 static void summary_rows(const hrt_pop_summary *s, table *ph, table *rem)
 {
-    for (int p = 0; p < HRT_PHASE_COUNT; p++)
+    for (size_t i = 0; i < HRT_PHASE_N; i++) {
+        int p = hrt_phase_code(i);
         if (s->n_phase[p])
             add_rec(ph, s->age_yr, "phase", hrt_phase_key(p), s->n_phase[p], s->n_evaluated,
                     hrt_pop_sum_value(&s->phase_initial_mass_msun[p]), hrt_pop_sum_value(&s->phase_mass_msun[p]),
                     hrt_pop_sum_value(&s->phase_l_lsun[p]));
-    for (int r = 0; r < HRT_REMNANT_COUNT; r++)
-        if (s->n_remnant[r] || r > 0)
-            add_rec(rem, s->age_yr, "remnant", r ? hrt_remnant_key(r) : "star", s->n_remnant[r], s->n_evaluated, NAN,
+    }
+    for (size_t i = 0; i < HRT_REMNANT_N; i++) {
+        int r = hrt_remnant_code(i);
+        if (s->n_remnant[r] || r != HRT_REMNANT_NONE)
+            add_rec(rem, s->age_yr, "remnant", hrt_remnant_key(r), s->n_remnant[r], s->n_evaluated, NAN,
                     hrt_pop_sum_value(&s->remnant_mass_msun[r]), NAN);
+    }
     for (int k = 1; k < HRT_STATUS_COUNT_; k++)
         if (s->n_status[k])
             add_rec(rem, s->age_yr, "failed", hrt_strerror(k), s->n_status[k], s->n_drawn - s->n_unborn, NAN, NAN, NAN);
@@ -140,22 +145,22 @@ void pop_json(const hrt_pop_summary *s, jw *w, int with_hr)
     jw_int(w, "drawn", (long)s->n_drawn);
     jw_int(w, "unborn", (long)s->n_unborn);
     jw_int(w, "evaluated", (long)s->n_evaluated);
-    jw_num(w, "failed_initial_mass_Msun", hrt_pop_sum_value(&s->failed_initial_mass_msun));
-    jw_num(w, "initial_mass_Msun", hrt_pop_sum_value(&s->initial_mass_msun));
-    jw_num(w, "mass_Msun", hrt_pop_sum_value(&s->mass_msun));
-    jw_num(w, "L_Lsun", l);
-    jw_num(w, "M_bol", l > 0 ? mbol(l) : NAN);
-    jw_num(w, "turnoff_mass_Msun", hrt_pop_turnoff_mass(s));
-    jw_num(w, "ms_max_initial_mass_Msun", s->ms_max_initial_mass_msun > 0 ? s->ms_max_initial_mass_msun : NAN);
-    jw_num(w, "evolved_min_initial_mass_Msun", s->evolved_min_initial_mass_msun);
+    jw_num(w, "failed_initial_mass_msun", hrt_pop_sum_value(&s->failed_initial_mass_msun));
+    jw_num(w, "initial_mass_msun", hrt_pop_sum_value(&s->initial_mass_msun));
+    jw_num(w, "mass_msun", hrt_pop_sum_value(&s->mass_msun));
+    jw_num(w, "l_lsun", l);
+    jw_num(w, "abs_mbol", l > 0 ? mbol(l) : NAN);
+    jw_num(w, "turnoff_mass_msun", hrt_pop_turnoff_mass(s));
+    jw_num(w, "ms_max_initial_mass_msun", s->ms_max_initial_mass_msun > 0 ? s->ms_max_initial_mass_msun : NAN);
+    jw_num(w, "evolved_min_initial_mass_msun", s->evolved_min_initial_mass_msun);
     jw_table(w, "phases", ph);
     jw_table(w, "remnants", rem);
     if (with_hr && s->hr.nx) {
         jw_begin_object(w, "hr_histogram");
-        jw_num(w, "log_Teff_K_lo", s->hr.log_teff_k_lo);
-        jw_num(w, "log_Teff_K_hi", s->hr.log_teff_k_hi);
-        jw_num(w, "log_L_Lsun_lo", s->hr.log_l_lsun_lo);
-        jw_num(w, "log_L_Lsun_hi", s->hr.log_l_lsun_hi);
+        jw_num(w, "log_teff_k_lo", s->hr.log_teff_k_lo);
+        jw_num(w, "log_teff_k_hi", s->hr.log_teff_k_hi);
+        jw_num(w, "log_l_lsun_lo", s->hr.log_l_lsun_lo);
+        jw_num(w, "log_l_lsun_hi", s->hr.log_l_lsun_hi);
         jw_int(w, "nx", (long)s->hr.nx);
         jw_int(w, "ny", (long)s->hr.ny);
         jw_int(w, "outside", (long)s->hr_outside);
@@ -300,7 +305,9 @@ static int read_sfh_table(const cli *c, const char *path, dlist *t, dlist *r)
     int rc = csv_read(c, path, &f);
     if (rc) return rc;
     static const char *const tn[] = {"t_yr", "time_yr", "t", "time", NULL}, *const rn[] = {"rate", "sfr", NULL};
-    long it = csv_column(&f, tn), ir = csv_column(&f, rn);
+    long it = -1, ir = -1;
+    for (const char *const *n = tn; *n && it < 0; n++) it = csv_column(&f, *n);
+    for (const char *const *n = rn; *n && ir < 0; n++) ir = csv_column(&f, *n);
     if (it < 0 || ir < 0) {
         csv_free(&f);
         return cli_fail(c, CLI_EXIT_USAGE, "%s: the SFH table needs columns t_yr (or time) and rate (or sfr)", path);
@@ -502,18 +509,18 @@ int cmd_population(cli *c, argparse *p)
         jw_begin_object(&w, "population");
         jw_num(&w, "stars", (double)spec.n_stars);
         jw_str(&w, "imf", hrt_imf_name(imf));
-        jw_num(&w, "mass_lo_Msun", m_lo);
-        jw_num(&w, "mass_hi_Msun", m_hi);
-        jw_num(&w, "imf_mean_mass_Msun", hrt_imf_mean_mass(&spec.imf));
+        jw_num(&w, "initial_mass_msun_lo", m_lo);
+        jw_num(&w, "initial_mass_msun_hi", m_hi);
+        jw_num(&w, "imf_mean_mass_msun", hrt_imf_mean_mass(&spec.imf));
         jw_str(&w, "sfh", hrt_sfh_name(sfh));
         jw_num(&w, "sfh_from_yr", t_from);
         jw_num(&w, "sfh_to_yr", sfh == HRT_SFH_CONSTANT || sfh == HRT_SFH_EXPONENTIAL ? spec.sfh.t_end_yr : NAN);
         jw_num(&w, "tau_yr", sfh == HRT_SFH_EXPONENTIAL ? tau : NAN);
         jw_str(&w, "z_distribution", spec.zdist.kind == HRT_ZDIST_FIXED ? "fixed" : spec.zdist.kind == HRT_ZDIST_LOG_UNIFORM ? "log-uniform" : "log-normal");
-        jw_num(&w, "Z", z);
+        jw_num(&w, "z", z);
         jw_num(&w, "feh_spread_dex", spec.zdist.kind == HRT_ZDIST_LOG_NORMAL ? spread : NAN);
-        jw_num(&w, "Z_lo", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_lo);
-        jw_num(&w, "Z_hi", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_hi);
+        jw_num(&w, "z_lo", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_lo);
+        jw_num(&w, "z_hi", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_hi);
         jw_num(&w, "seed", (double)spec.seed);
         jw_int(&w, "chunk_size", (long)spec.chunk_size);
         jw_end_object(&w);
@@ -539,8 +546,8 @@ int cmd_population(cli *c, argparse *p)
             pop_print_text(&sums[i], stdout, "  ");
             putchar('\n');
         }
-        printf("Ages are the population's, since star formation began; 'star' counts stars that are not\n"
-               "remnants. The turnoff is for a single burst at one metallicity. Sampling noise: counts are\n"
+        printf("Ages are the population's, since star formation began; remnant 'none' counts stars that are\n"
+               "not remnants. The turnoff is for a single burst at one metallicity. Sampling noise: counts are\n"
                "Poisson; same seed, same numbers, whatever the number of threads.\n");
         if (out) printf("HR-diagram density at the first age written to %s\n", out);
         printf("\nAccuracy: the answers are as good as the grid; the default grid is a semi-analytic model\n"

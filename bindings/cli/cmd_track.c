@@ -127,27 +127,7 @@ int cmd_track(cli *c, argparse *p)
     if (c->fmt == FMT_CSV) {
         table_write_csv(t, stdout);
     } else if (c->fmt == FMT_JSON) {
-        jw w;
-        int kind;
-        double rm;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "grid", c->grid_used);
-        jw_str(&w, "interp", hrt_interp_name(c->interp));
-        jw_num(&w, "initial_mass_Msun", hrt_star_mass(s));
-        jw_num(&w, "Z", hrt_star_z(s));
-        jw_num(&w, "feh", cli_feh(c, hrt_star_z(s)));
-        jw_str(&w, "route", cli_route_name(c, hrt_star_route(s)));
-        jw_str(&w, "sampling", sampling);
-        jw_num(&w, "zams_age_yr", zams);
-        jw_num(&w, "end_age_yr", end);
-        if (hrt_star_remnant(s, &kind, &rm) == HRT_OK) {
-            jw_str(&w, "remnant", hrt_remnant_key(kind));
-            jw_num(&w, "remnant_mass_Msun", rm);
-        }
-        jw_table(&w, "states", t);
-        jw_end_object(&w);
-        jw_finish(&w);
+        jw_records(stdout, t);
     } else {
         printf("Track of %.6g Msun at Z = %.6g ([Fe/H] = %+.3f), route %s, sampled at %s (%zu rows)\n",
                hrt_star_mass(s), hrt_star_z(s), cli_feh(c, hrt_star_z(s)), cli_route_name(c, hrt_star_route(s)),

@@ -161,10 +161,26 @@ void csv_free(csvfile *f)
     memset(f, 0, sizeof *f);
 }
 
-long csv_column(const csvfile *f, const char *const *names)
+long csv_column(const csvfile *f, const char *name)
 {
     for (size_t c = 0; c < f->ncol; c++)
-        for (const char *const *n = names; *n; n++)
-            if (strcasecmp(f->head[c], *n) == 0) return (long)c;
+        if (strcmp(f->head[c], name) == 0) return (long)c;
     return -1;
+}
+
+int csv_check_header(const cli *c, const csvfile *f, const char *shown, int exit_code, const char *const *known,
+                     const char *const *old, const char *expected)
+{
+    for (size_t k = 0; k < f->ncol; k++) {
+        const char *h = f->head[k];
+        for (const char *const *n = known; *n; n++)
+            if (strcmp(h, *n) != 0 && strcasecmp(h, *n) == 0)
+                return cli_fail(c, exit_code, "%s: column '%s' is spelled '%s' (names are case-sensitive; the columns are %s)",
+                                shown, h, *n, expected);
+        for (const char *const *o = old; o && *o; o += 2)
+            if (strcmp(h, o[0]) == 0)
+                return cli_fail(c, exit_code, "%s: column '%s' is now called '%s' (the columns are %s)", shown, h, o[1],
+                                expected);
+    }
+    return 0;
 }

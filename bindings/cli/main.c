@@ -45,7 +45,7 @@ int main(int argc, char **argv)
             return 0;
         }
         help_main(stderr);
-        return cli_fail(NULL, CLI_EXIT_USAGE, "no command given (at, track, isochrone, life, plot, grid, demo, import, population)");
+        return cli_fail(NULL, CLI_EXIT_USAGE, "no command given (at, track, isochrone, life, plot, grid, population, fit, forecast, demo, import)");
     }
     if (strcmp(val, "help") == 0) {
         if (p.i < argc && help_command(argv[p.i], stdout) == 0) return 0;
@@ -62,6 +62,7 @@ int main(int argc, char **argv)
         return rc;
     }
     return cli_fail(NULL, CLI_EXIT_USAGE,
-                    "unknown command '%s'; the commands are at, track, isochrone, life, plot, grid, demo, import, population (see hrtrail --help)",
+                    "unknown command '%s'; the commands are at, track, isochrone, life, plot, grid, population, fit, forecast, demo, "
+                    "import (see hrtrail --help)",
                     val);
 }

@@ -139,14 +139,20 @@ void csv_write_num(FILE *f, double v)
 
 void table_write_csv(const table *t, FILE *f)
 {
+    int first = 1;
     for (size_t c = 0; c < t->ncol; c++) {
-        if (c) fputc(',', f);
+        if (!t->cols[c].key) continue; /* a column of the human table only */
+        if (!first) fputc(',', f);
         csv_write_text(f, t->cols[c].key);
+        first = 0;
     }
     fputc('\n', f);
     for (size_t r = 0; r < t->nrow; r++) {
+        first = 1;
         for (size_t c = 0; c < t->ncol; c++) {
-            if (c) fputc(',', f);
+            if (!t->cols[c].key) continue;
+            if (!first) fputc(',', f);
+            first = 0;
             if (t->cols[c].type == COL_TEXT)
                 csv_write_text(f, t->text[r * t->ncol + c]);
             else
@@ -259,6 +265,7 @@ void jw_table(jw *w, const char *key, const table *t)
     for (size_t r = 0; r < t->nrow; r++) {
         jw_begin_object(w, NULL);
         for (size_t c = 0; c < t->ncol; c++) {
+            if (!t->cols[c].key) continue; /* a column of the human table only */
             if (t->cols[c].type == COL_TEXT)
                 jw_str(w, t->cols[c].key, t->text[r * t->ncol + c]);
             else
@@ -274,28 +281,36 @@ void jw_finish(jw *w)
     fputc('\n', w->f);
 }
 
+void jw_records(FILE *f, const table *t)
+{
+    jw w;
+    jw_init(&w, f);
+    jw_table(&w, NULL, t);
+    jw_finish(&w);
+}
+
 /* ------------------------------------------------------------------ states */
 
 static const col state_cols[] = {
     {"name", "star", COL_TEXT, NULL, 0},
-    {"initial_mass_Msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
-    {"Z", "Z", COL_NUM, "%.4g", 0},
+    {"initial_mass_msun", "M_init [Msun]", COL_NUM, "%.4g", 0},
+    {"z", "Z", COL_NUM, "%.4g", 0},
     {"age_yr", "age [Myr]", COL_NUM, "%.5g", 1e-6},
     {"phase", "phase", COL_TEXT, NULL, 0},
     {"route", NULL, COL_TEXT, NULL, 0},
-    {"log_L_Lsun", "log L [Lsun]", COL_NUM, "%.4f", 0},
-    {"log_Teff_K", "log Teff [K]", COL_NUM, "%.4f", 0},
-    {"log_R_Rsun", "log R [Rsun]", COL_NUM, "%.4f", 0},
+    {"log_l_lsun", "log L [Lsun]", COL_NUM, "%.4f", 0},
+    {"log_teff_k", "log Teff [K]", COL_NUM, "%.4f", 0},
+    {"log_r_rsun", "log R [Rsun]", COL_NUM, "%.4f", 0},
     {"log_g_cgs", "log g [cm/s2]", COL_NUM, "%.3f", 0},
-    {"mass_Msun", "M now [Msun]", COL_NUM, "%.4g", 0},
-    {"he_core_Msun", "He core [Msun]", COL_NUM, "%.4g", 0},
-    {"co_core_Msun", "CO core [Msun]", COL_NUM, "%.4g", 0},
+    {"mass_msun", "M now [Msun]", COL_NUM, "%.4g", 0},
+    {"he_core_mass_msun", "He core [Msun]", COL_NUM, "%.4g", 0},
+    {"co_core_mass_msun", "CO core [Msun]", COL_NUM, "%.4g", 0},
     {"eep", "EEP", COL_NUM, "%.2f", 0},
     {"phase_fraction", NULL, COL_NUM, NULL, 0},
     {"phase_start_yr", NULL, COL_NUM, NULL, 0},
     {"phase_end_yr", NULL, COL_NUM, NULL, 0},
     {"remnant", NULL, COL_TEXT, NULL, 0},
-    {"remnant_mass_Msun", NULL, COL_NUM, NULL, 0},
+    {"remnant_mass_msun", NULL, COL_NUM, NULL, 0},
     {"flags", "notes", COL_TEXT, NULL, 0},
     {"status", "status", COL_TEXT, NULL, 0},
 };
@@ -371,17 +386,19 @@ void state_table_add(table *t, const cli *c, const hrt_state *s, const char *nam
 void phase_footnote(FILE *f, const table *t)
 {
     size_t pc = (size_t)-1;
-    int seen[HRT_PHASE_COUNT] = {0};
+    int seen[HRT_PHASE_SLOTS] = {0};
     int any = 0;
     for (size_t c = 0; c < t->ncol; c++)
-        if (!strcmp(t->cols[c].key, "phase")) pc = c;
+        if (t->cols[c].key && !strcmp(t->cols[c].key, "phase")) pc = c;
     if (pc == (size_t)-1) return;
     for (size_t r = 0; r < t->nrow; r++) {
         const char *k = t->text[r * t->ncol + pc];
         int ph = k ? hrt_phase_from_key(k) : HRT_PHASE_UNKNOWN;
-        if (ph > 0 && ph < HRT_PHASE_COUNT) seen[ph] = 1;
+        if (ph > 0 && ph < HRT_PHASE_SLOTS) seen[ph] = 1;
     }
-    for (int ph = 1; ph < HRT_PHASE_COUNT; ph++) {
+    /* in the order of HRT_PHASE_LIST; unknown (code 0) is not explained */
+    for (size_t i = 1; i < HRT_PHASE_N; i++) {
+        int ph = hrt_phase_code(i);
         if (!seen[ph]) continue;
         fprintf(f, "%s%s = %s", any ? "; " : "phases: ", hrt_phase_key(ph), hrt_phase_name(ph));
         any = 1;

@@ -25,9 +25,9 @@ typedef struct phase_style {
     shape mark;
 } phase_style;
 
-/* Indexed by hrt_phase.  Lightness alternates along the life of a star, so
+/* Indexed by phase code (HRT_PHASE_SLOTS entries, most unused).  Lightness alternates along the life of a star, so
  * that neighbouring phases differ in grey too. */
-static const phase_style styles[HRT_PHASE_COUNT] = {
+static const phase_style styles[HRT_PHASE_SLOTS] = {
     [HRT_PHASE_UNKNOWN] = {"#7f7f7f", "", SH_STAR},
     [HRT_PHASE_PRE_MS] = {"#9a9a9a", "1 2", SH_RING},
     [HRT_PHASE_MS] = {"#1d4e89", "", SH_DISC},
@@ -48,7 +48,7 @@ static const phase_style styles[HRT_PHASE_COUNT] = {
 
 static const phase_style *style_of(int ph)
 {
-    return &styles[ph > 0 && ph < HRT_PHASE_COUNT ? ph : 0];
+    return &styles[ph > 0 && ph < HRT_PHASE_SLOTS && styles[ph].colour ? ph : 0];
 }
 
 void plot_init(plot *p)
@@ -401,23 +401,25 @@ static void draw_labels(FILE *o, const plot *p, const frame *f)
 
 static void legend(FILE *o, const plot *p, const frame *f)
 {
-    int used[HRT_PHASE_COUNT] = {0}, any_track = 0, any_iso = 0;
+    int used[HRT_PHASE_SLOTS] = {0}, any_track = 0, any_iso = 0;
     double x = f->x1 + 22, y = f->y0 + 8;
     for (size_t i = 0; i < p->nlines; i++) {
         for (size_t k = 0; k < p->lines[i].n; k++) {
             int ph = p->lines[i].phase[k];
-            used[ph > 0 && ph < HRT_PHASE_COUNT ? ph : 0] = 1;
+            used[ph > 0 && ph < HRT_PHASE_SLOTS ? ph : 0] = 1;
         }
         if (p->lines[i].is_isochrone) any_iso = 1; else any_track = 1;
     }
     for (size_t i = 0; i < p->npoints; i++) {
         int ph = p->points[i].phase;
-        if (ph > 0 && ph < HRT_PHASE_COUNT) used[ph] = 1;
+        if (ph > 0 && ph < HRT_PHASE_SLOTS) used[ph] = 1;
     }
     fprintf(o, "<g id=\"legend\" font-size=\"12\" fill=\"#1a1a1a\">\n");
     fprintf(o, "<text x=\"%.1f\" y=\"%.1f\" font-weight=\"bold\">Phase</text>\n", x, y);
     y += 20;
-    for (int ph = 1; ph < HRT_PHASE_COUNT; ph++) {
+    /* in the order of HRT_PHASE_LIST, unknown (code 0) left out */
+    for (size_t i = 1; i < HRT_PHASE_N; i++) {
+        int ph = hrt_phase_code(i);
         if (!used[ph]) continue;
         const phase_style *s = style_of(ph);
         fprintf(o, "<line class=\"legend-phase\" data-phase=\"%s\" x1=\"%.1f\" y1=\"%.1f\" x2=\"%.1f\" y2=\"%.1f\" stroke=\"%s\" stroke-width=\"2.4\"%s%s%s/>\n",

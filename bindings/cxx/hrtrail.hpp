@@ -6,9 +6,14 @@
 // (extern "C"); this layer only adds idioms.  Units as in hrtrail.h: Msun,
 // yr since birth, Z the metal mass fraction, log10, Lsun, Rsun, K, cm s^-2.
 //
-// ABI guard: Grid's constructor checks that the loaded library reports the
-// HRT_ABI_VERSION and sizeof(hrt_state) this code was compiled with, and
-// throws hrtrail::Error (code HRT_E_VERSION) otherwise.
+// Names are those of the C structs: the vocabulary of tracks/FORMAT.md, units
+// in the names (hrt_state::log_l_lsun, ...); phases and remnant kinds are
+// hrtrail's codes (HRT_PHASE_*, HRT_REMNANT_*).
+//
+// ABI guard: this layer is written for ABI 2 (hrtrail::abi_version), which
+// the header it is compiled with must define; Grid's constructor checks that
+// the loaded library reports that ABI and the sizeof(hrt_state) this code
+// was compiled with, and throws hrtrail::Error (code HRT_E_VERSION) otherwise.
 #ifndef HRTRAIL_HPP
 #define HRTRAIL_HPP
 
@@ -19,6 +24,10 @@
 #include "hrtrail.h"
 
 namespace hrtrail {
+
+/** The ABI this layer was written for; changed by hand only. */
+const int abi_version = 2;
+static_assert(HRT_ABI_VERSION == abi_version, "hrtrail.hpp is written for ABI 2: use the hrtrail.hpp of this hrtrail.h");
 
 /** A failure reported by the library: code() is the HRT_E_* status. */
 class Error : public std::runtime_error {
@@ -39,11 +48,11 @@ inline void check(int rc, const hrt_error &err, const char *what)
 /** Throw unless the loaded library has this header's ABI and hrt_state size. */
 inline void check_abi()
 {
-    if (hrt_abi_version() != HRT_ABI_VERSION || hrt_state_size() != sizeof(hrt_state))
+    if (hrt_abi_version() != abi_version || hrt_state_size() != sizeof(hrt_state))
         throw Error(HRT_E_VERSION, "hrtrail: the library reports ABI " + std::to_string(hrt_abi_version()) +
                                        " and sizeof(hrt_state) = " + std::to_string(hrt_state_size()) +
                                        " bytes; this program was compiled for ABI " +
-                                       std::to_string(HRT_ABI_VERSION) + " and " +
+                                       std::to_string(abi_version) + " and " +
                                        std::to_string(sizeof(hrt_state)) + " bytes");
 }
 

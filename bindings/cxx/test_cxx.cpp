@@ -2,7 +2,7 @@
 // layer hrtrail.hpp, and the answers against the same calls made from C
 // (bindings/python/tests/c_side.c, compiled as C and linked in).
 //
-//   test_cxx GRID            layout, evaluation, isochrone, star, errors
+//   test_cxx GRID            layout, phase and remnant codes, evaluation, isochrone, star, errors
 //   test_cxx GRID mismatch   with a stand-in reporting ABI 99 preloaded: the guard must throw
 #include <cmath>
 #include <cstddef>
@@ -38,6 +38,38 @@ static void expect(bool ok, const std::string &what)
 static bool same_bytes(const std::vector<hrt_state> &a, const std::vector<hrt_state> &b)
 {
     return a.size() == b.size() && (a.empty() || std::memcmp(a.data(), b.data(), a.size() * sizeof(hrt_state)) == 0);
+}
+
+// One entry of HRT_PHASE_LIST or HRT_REMNANT_LIST as the header has it.
+struct code_entry {
+    int code;
+    const char *key, *text;
+};
+#define CXX_CODE_ENTRY_(name, code, key, text) {code, key, text},
+static const code_entry header_phases[] = {HRT_PHASE_LIST(CXX_CODE_ENTRY_)};
+static const code_entry header_remnants[] = {HRT_REMNANT_LIST(CXX_CODE_ENTRY_)};
+#undef CXX_CODE_ENTRY_
+
+// The header's list against the library's: the i-th entry is the library's
+// i-th code (code_of), with the library's key and name, below the slot count;
+// the list has n entries and the library no more.
+static void check_codes(const char *what, const code_entry *list, size_t n_list, size_t n, int slots,
+                        int (*code_of)(size_t), const char *(*key_of)(int), const char *(*name_of)(int))
+{
+    const std::string w = what;
+    expect(n_list == n, w + ": the header's list has " + std::to_string(n) + " entries");
+    expect(n > 0 && code_of(n - 1) >= 0 && code_of(n) == -1, w + ": the library lists " + std::to_string(n));
+    for (size_t i = 0; i < n_list; i++) {
+        const code_entry &e = list[i];
+        expect(code_of(i) == e.code, w + " " + e.key + ": code " + std::to_string(e.code) + " is the library's " +
+                                         std::to_string(i) + "-th, " + std::to_string(code_of(i)));
+        expect(std::strcmp(key_of(e.code), e.key) == 0, w + " " + e.key + ": key in the library " + key_of(e.code));
+        expect(std::strcmp(name_of(e.code), e.text) == 0, w + " " + e.key + ": name in the library " +
+                                                              name_of(e.code));
+        expect(e.code >= 0 && e.code < slots, w + " " + e.key + ": code below the slot count");
+        for (size_t k = 0; k < i; k++)
+            expect(list[k].code != e.code, w + " " + e.key + ": code unique");
+    }
 }
 
 static_assert(std::is_standard_layout<hrt_state>::value, "hrt_state is standard layout in C++");
@@ -79,6 +111,15 @@ int main(int argc, char **argv)
                sizeof(hrt_phase_span) == ref_sizeof(2),
            "struct sizes");
     expect(hrt_state_size() == sizeof(hrt_state) && hrt_abi_version() == HRT_ABI_VERSION, "ABI of the library");
+    expect(hrtrail::abi_version == hrt_abi_version(), "hrtrail.hpp is written for the library's ABI");
+
+    // Phase and remnant codes: the header's lists, hence the enums, against the library's.
+    check_codes("phase", header_phases, sizeof header_phases / sizeof header_phases[0], HRT_PHASE_N,
+                HRT_PHASE_SLOTS, hrt_phase_code, hrt_phase_key, hrt_phase_name);
+    check_codes("remnant", header_remnants, sizeof header_remnants / sizeof header_remnants[0], HRT_REMNANT_N,
+                HRT_REMNANT_SLOTS, hrt_remnant_code, hrt_remnant_key, hrt_remnant_name);
+    expect(hrt_phase_from_key("rgb") == HRT_PHASE_RGB && hrt_remnant_from_key("co_wd") == HRT_REMNANT_CO_WD,
+           "enumerators HRT_PHASE_RGB and HRT_REMNANT_CO_WD are the codes of their keys");
 
     hrtrail::Grid g(grid);
     // Stars on a lattice of masses and ages, some outside the grid.

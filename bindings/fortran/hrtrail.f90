@@ -12,7 +12,10 @@
 !>
 !> Units as in the C header: masses in Msun, ages in yr since birth, Z the
 !> metal mass fraction, log = log10, L in nominal Lsun, R in nominal Rsun,
-!> Teff in K, g in cm s^-2 (IAU 2015 Resolution B3).
+!> Teff in K, g in cm s^-2 (IAU 2015 Resolution B3).  Names (fields of
+!> hrt_state, arguments of the idiomatic layer) are the vocabulary of
+!> tracks/FORMAT.md, units in the names; phases and remnant kinds are
+!> hrtrail's codes (HRT_PHASE_*, HRT_REMNANT_*), their keys the text forms.
 !>
 !> ABI guard: hrtf_check_abi compares hrt_abi_version() and hrt_state_size()
 !> with what this module was written for; hrtf_open calls it before opening
@@ -27,7 +30,7 @@ module hrtrail
   private
 
   !> The ABI this module was written for (HRT_ABI_VERSION); changed by hand only.
-  integer, parameter, public :: HRTF_ABI_VERSION = 1
+  integer, parameter, public :: HRTF_ABI_VERSION = 2
   !> stat value of the idiomatic layer when the library's ABI or hrt_state size differs.
   integer, parameter, public :: HRTF_E_ABI = -1
 
@@ -36,15 +39,20 @@ module hrtrail
        HRT_E_FORMAT = 4, HRT_E_VERSION = 5, HRT_E_DOMAIN = 6, HRT_E_MASS_RANGE = 7, &
        HRT_E_Z_RANGE = 8, HRT_E_AGE_RANGE = 9, HRT_E_BUFFER = 10, HRT_E_INVALID = 11, &
        HRT_E_NOT_FOUND = 12, HRT_E_INTERNAL = 13, HRT_E_NO_TRACK = 14, HRT_E_NO_MATCH = 15
-  ! Phases (hrt_phase)
-  integer(c_int), parameter, public :: HRT_PHASE_UNKNOWN = 0, HRT_PHASE_PRE_MS = 1, HRT_PHASE_MS = 2, &
-       HRT_PHASE_SUBGIANT = 3, HRT_PHASE_RGB = 4, HRT_PHASE_CHEB = 5, HRT_PHASE_EAGB = 6, &
-       HRT_PHASE_TPAGB = 7, HRT_PHASE_POST_AGB = 8, HRT_PHASE_WD = 9, HRT_PHASE_BSG = 10, &
-       HRT_PHASE_RSG = 11, HRT_PHASE_WR = 12, HRT_PHASE_NS = 13, HRT_PHASE_BH = 14, &
-       HRT_PHASE_POST_RGB = 15
-  ! Remnants (hrt_remnant)
-  integer(c_int), parameter, public :: HRT_REMNANT_NONE = 0, HRT_REMNANT_HE_WD = 1, &
-       HRT_REMNANT_CO_WD = 2, HRT_REMNANT_ONE_WD = 3, HRT_REMNANT_NS = 4, HRT_REMNANT_BH = 5
+  ! Phases (HRT_PHASE_LIST): hrtrail's codes, grouped by tens (tracks/FORMAT.md,
+  ! "Phase and remnant codes"), in the order of the list.  Arrays indexed by
+  ! phase code have HRT_PHASE_SLOTS entries (codes 0 .. HRT_PHASE_SLOTS-1);
+  ! HRT_PHASE_N is the number of phases, hrt_phase_code(i) the i-th one's code.
+  integer(c_int), parameter, public :: HRT_PHASE_UNKNOWN = 0, HRT_PHASE_PRE_MS = 10, HRT_PHASE_MS = 11, &
+       HRT_PHASE_SUBGIANT = 20, HRT_PHASE_RGB = 21, HRT_PHASE_POST_RGB = 22, HRT_PHASE_CHEB = 30, &
+       HRT_PHASE_EAGB = 31, HRT_PHASE_TPAGB = 32, HRT_PHASE_POST_AGB = 33, HRT_PHASE_BSG = 40, &
+       HRT_PHASE_RSG = 41, HRT_PHASE_WR = 42, HRT_PHASE_WD = 50, HRT_PHASE_NS = 51, HRT_PHASE_BH = 52
+  integer(c_int), parameter, public :: HRT_PHASE_SLOTS = 64, HRT_PHASE_N = 16
+  ! Remnant kinds (HRT_REMNANT_LIST), the same way: HRT_REMNANT_SLOTS, HRT_REMNANT_N,
+  ! hrt_remnant_code(i).
+  integer(c_int), parameter, public :: HRT_REMNANT_NONE = 0, HRT_REMNANT_HE_WD = 10, &
+       HRT_REMNANT_CO_WD = 11, HRT_REMNANT_ONE_WD = 12, HRT_REMNANT_NS = 20, HRT_REMNANT_BH = 30
+  integer(c_int), parameter, public :: HRT_REMNANT_SLOTS = 32, HRT_REMNANT_N = 6
   ! Interpolation types (hrt_interp)
   integer(c_int), parameter, public :: HRT_INTERP_STEFFEN = 0, HRT_INTERP_LINEAR = 1, &
        HRT_INTERP_CSPLINE = 2, HRT_INTERP_AKIMA = 3
@@ -52,7 +60,8 @@ module hrtrail
   integer(c_int32_t), parameter, public :: HRT_FLAG_DARK = 1, HRT_FLAG_REMNANT = 2, &
        HRT_FLAG_EXTRAPOLATED = 4, HRT_FLAG_NOT_MODELLED = 8
 
-  !> State of one star at one age: struct hrt_state field for field.
+  !> State of one star at one age: struct hrt_state field for field, with its
+  !> names (the vocabulary of tracks/FORMAT.md).
   type, bind(C), public :: hrt_state
      integer(c_int32_t) :: struct_size       !< sizeof(hrt_state) of the writer (uint32_t in C)
      integer(c_int32_t) :: status            !< HRT_OK or the HRT_E_* code of this star
@@ -63,13 +72,13 @@ module hrtrail
      real(c_double) :: initial_mass_msun     !< initial mass, Msun
      real(c_double) :: z                     !< metal mass fraction
      real(c_double) :: age_yr                !< age since birth, yr
-     real(c_double) :: log_l                 !< log10 L/Lsun (NaN if dark)
+     real(c_double) :: log_l_lsun            !< log10 L/Lsun (NaN if dark)
      real(c_double) :: log_teff_k            !< log10 Teff/K (NaN if dark)
-     real(c_double) :: log_r                 !< log10 R/Rsun
+     real(c_double) :: log_r_rsun            !< log10 R/Rsun
      real(c_double) :: log_g_cgs             !< log10 g/(cm s^-2)
      real(c_double) :: mass_msun             !< current mass, Msun
-     real(c_double) :: he_core_msun          !< helium core mass, Msun
-     real(c_double) :: co_core_msun          !< carbon-oxygen core mass, Msun
+     real(c_double) :: he_core_mass_msun     !< helium core mass, Msun
+     real(c_double) :: co_core_mass_msun     !< carbon-oxygen core mass, Msun
      real(c_double) :: eep                   !< fractional EEP index (NaN for remnants, pre-MS)
      real(c_double) :: phase_fraction        !< 0..1 through the current phase (NaN if open-ended)
      real(c_double) :: phase_start_yr        !< age at which the current phase began, yr
@@ -104,11 +113,11 @@ module hrtrail
 
   ! ---------------------------------------------------------------- C API
   public :: hrt_abi_version, hrt_state_size, hrt_strerror, hrt_version, hrt_phase_name, hrt_phase_key, &
-       hrt_remnant_name, hrt_grid_open_with, hrt_grid_close, hrt_default_grid_path, hrt_grid_n_z, &
-       hrt_grid_z, hrt_grid_z_ref, hrt_grid_mass_range, hrt_grid_z_range, hrt_grid_n_routes, &
-       hrt_grid_route_name, hrt_eval, hrt_star_new, hrt_star_free, hrt_star_at, hrt_star_n_eep, &
-       hrt_star_eep_state, hrt_star_route, hrt_star_end_age, hrt_star_remnant, hrt_star_phases, &
-       hrt_isochrone
+       hrt_phase_code, hrt_remnant_name, hrt_remnant_key, hrt_remnant_code, hrt_grid_open_with, &
+       hrt_grid_close, hrt_default_grid_path, hrt_grid_n_z, hrt_grid_z, hrt_grid_z_ref, &
+       hrt_grid_mass_range, hrt_grid_z_range, hrt_grid_n_routes, hrt_grid_route_name, hrt_grid_upgrade, &
+       hrt_eval, hrt_star_new, hrt_star_free, hrt_star_at, hrt_star_n_eep, hrt_star_eep_state, &
+       hrt_star_route, hrt_star_end_age, hrt_star_remnant, hrt_star_phases, hrt_isochrone
   interface
      function hrt_abi_version() bind(C, name="hrt_abi_version") result(r)
        import :: c_int
@@ -137,11 +146,28 @@ module hrtrail
        integer(c_int), value :: phase
        type(c_ptr) :: p
      end function hrt_phase_key
-     function hrt_remnant_name(kind) bind(C, name="hrt_remnant_name") result(p)
+     !> Code of the i-th phase of HRT_PHASE_LIST (0 <= i < HRT_PHASE_N); -1 beyond.
+     function hrt_phase_code(i) bind(C, name="hrt_phase_code") result(code)
+       import :: c_int, c_size_t
+       integer(c_size_t), value :: i
+       integer(c_int) :: code
+     end function hrt_phase_code
+     function hrt_remnant_name(remnant) bind(C, name="hrt_remnant_name") result(p)
        import :: c_int, c_ptr
-       integer(c_int), value :: kind
+       integer(c_int), value :: remnant
        type(c_ptr) :: p
      end function hrt_remnant_name
+     function hrt_remnant_key(remnant) bind(C, name="hrt_remnant_key") result(p)
+       import :: c_int, c_ptr
+       integer(c_int), value :: remnant
+       type(c_ptr) :: p
+     end function hrt_remnant_key
+     !> Code of the i-th remnant kind of HRT_REMNANT_LIST (0 <= i < HRT_REMNANT_N); -1 beyond.
+     function hrt_remnant_code(i) bind(C, name="hrt_remnant_code") result(code)
+       import :: c_int, c_size_t
+       integer(c_size_t), value :: i
+       integer(c_int) :: code
+     end function hrt_remnant_code
      !> path: NUL-terminated string or c_null_ptr for the default grid.
      function hrt_grid_open_with(path, interp, grid, err) bind(C, name="hrt_grid_open_with") result(rc)
        import :: c_int, c_ptr, hrt_error
@@ -278,6 +304,13 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_isochrone
+     !> Convert a grid file of an older format version; paths NUL-terminated.
+     function hrt_grid_upgrade(old_path, new_path, err) bind(C, name="hrt_grid_upgrade") result(rc)
+       import :: c_char, c_int, hrt_error
+       character(kind=c_char), intent(in) :: old_path(*), new_path(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_grid_upgrade
      function c_strlen(s) bind(C, name="strlen") result(n)
        import :: c_ptr, c_size_t
        type(c_ptr), value :: s
@@ -286,9 +319,9 @@ module hrtrail
   end interface
 
   ! ---------------------------------------------------------- idiomatic layer
-  public :: hrtf_check_abi, hrtf_check_abi_values, hrtf_open, hrtf_close, hrtf_evaluate, hrtf_star_new, &
-       hrtf_star_at, hrtf_star_track, hrtf_star_phases, hrtf_star_remnant, hrtf_star_end_age, &
-       hrtf_star_free, hrtf_isochrone, hrtf_z_values, hrtf_mass_range, hrtf_route_name, &
+  public :: hrtf_check_abi, hrtf_check_abi_values, hrtf_open, hrtf_close, hrtf_grid_upgrade, &
+       hrtf_evaluate, hrtf_star_new, hrtf_star_at, hrtf_star_track, hrtf_star_phases, hrtf_star_remnant, &
+       hrtf_star_end_age, hrtf_star_free, hrtf_isochrone, hrtf_z_values, hrtf_mass_range, hrtf_route_name, &
        hrtf_phase_name, hrtf_phase_key, hrtf_remnant_name, hrtf_strerror, hrtf_version, hrtf_string
 
   !> States of many stars in one hrt_eval call; z is one metallicity or one per star.
@@ -416,6 +449,20 @@ contains
     grid%ptr = c_null_ptr
   end subroutine hrtf_close
 
+  !> Convert the grid file old_path of an older format version (tracks/FORMAT.md,
+  !> "Version history") to the current one, written atomically to new_path
+  !> (which may be old_path itself).
+  subroutine hrtf_grid_upgrade(old_path, new_path, stat, errmsg)
+    character(len=*), intent(in) :: old_path, new_path
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    type(hrt_error) :: err
+    integer :: rc
+    err = blank_error()
+    rc = hrt_grid_upgrade(trim(old_path) // c_null_char, trim(new_path) // c_null_char, err)
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_grid_upgrade
+
   subroutine evaluate_core(grid, mass_msun, age_yr, zp, z_all, states, stat, errmsg)
     type(hrt_grid_t), intent(in) :: grid
     real(c_double), intent(in) :: mass_msun(:), age_yr(:)
@@ -536,16 +583,16 @@ contains
     call report(rc, 'hrt_star_phases: ' // hrtf_string(hrt_strerror(int(rc, c_int))), stat, errmsg)
   end subroutine hrtf_star_phases
 
-  !> Final remnant of the star: kind (HRT_REMNANT_*) and mass (Msun).
-  subroutine hrtf_star_remnant(star, kind, mass_msun)
+  !> Final remnant of the star: its kind (HRT_REMNANT_*) and mass (Msun).
+  subroutine hrtf_star_remnant(star, remnant, remnant_mass_msun)
     type(hrt_star_t), intent(in) :: star
-    integer, intent(out) :: kind
-    real(c_double), intent(out) :: mass_msun
+    integer, intent(out) :: remnant
+    real(c_double), intent(out) :: remnant_mass_msun
     integer(c_int) :: k
     integer :: rc
-    rc = hrt_star_remnant(star%ptr, k, mass_msun)
-    kind = k
-    if (rc /= HRT_OK) kind = HRT_REMNANT_NONE
+    rc = hrt_star_remnant(star%ptr, k, remnant_mass_msun)
+    remnant = k
+    if (rc /= HRT_OK) remnant = HRT_REMNANT_NONE
   end subroutine hrtf_star_remnant
 
   !> Age of the star's last EEP, yr (white dwarf cooling onset or core collapse).
@@ -610,12 +657,12 @@ contains
     call report(rc, 'hrt_grid_mass_range: ' // hrtf_string(hrt_strerror(int(rc, c_int))), stat, errmsg)
   end subroutine hrtf_mass_range
 
-  !> Name of route r (0-based, as in hrt_state%route).
-  function hrtf_route_name(grid, r) result(s)
+  !> Name of a route (its 0-based index, as in hrt_state%route).
+  function hrtf_route_name(grid, route) result(s)
     type(hrt_grid_t), intent(in) :: grid
-    integer, intent(in) :: r
+    integer, intent(in) :: route
     character(len=:), allocatable :: s
-    s = hrtf_string(hrt_grid_route_name(grid%ptr, int(r, c_size_t)))
+    s = hrtf_string(hrt_grid_route_name(grid%ptr, int(route, c_size_t)))
   end function hrtf_route_name
 
   !> Descriptive name of a phase ("main sequence", ...).
@@ -633,10 +680,10 @@ contains
   end function hrtf_phase_key
 
   !> Name of a remnant kind ("carbon-oxygen white dwarf", ...).
-  function hrtf_remnant_name(kind) result(s)
-    integer, intent(in) :: kind
+  function hrtf_remnant_name(remnant) result(s)
+    integer, intent(in) :: remnant
     character(len=:), allocatable :: s
-    s = hrtf_string(hrt_remnant_name(int(kind, c_int)))
+    s = hrtf_string(hrt_remnant_name(int(remnant, c_int)))
   end function hrtf_remnant_name
 
   !> Short description of a status code.
@@ -646,7 +693,7 @@ contains
     s = hrtf_string(hrt_strerror(int(code, c_int)))
   end function hrtf_strerror
 
-  !> Version of the loaded library, e.g. "0.1.0".
+  !> Version of the loaded library, e.g. "0.2.0".
   function hrtf_version() result(s)
     character(len=:), allocatable :: s
     s = hrtf_string(hrt_version())

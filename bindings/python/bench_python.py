@@ -88,7 +88,7 @@ def main(argv=None):
             t_thr, _, st2 = best_of(a.repeat, lambda: g.evaluate(m, age, zarg, out=buf, errors="ignore",
                                                                 threads=2))
             ok = st["status"] == 0
-            checksum = float(np.sum(np.where(np.isfinite(st["log_l"]) & ok, st["log_l"], 0.0)))
+            checksum = float(np.sum(np.where(np.isfinite(st["log_l_lsun"]) & ok, st["log_l_lsun"], 0.0)))
             c_checksum = float(w[w.index("checksum") + 1])
             same = (st.tobytes() == st2.tobytes() and int(w[w.index("answered") + 1]) == int(ok.sum())
                     and abs(checksum - c_checksum) <= 1e-9 * abs(c_checksum))

@@ -58,15 +58,15 @@ from scipy.interpolate import PchipInterpolator
 TEFF_SUN_K = 5772.0      # IAU 2015 Resolution B3
 GM_SUN = 1.3271244e20    # m^3 s^-2, IAU 2015 Resolution B3
 RSUN_M = 6.957e8         # IAU 2015 Resolution B3
-COLUMNS = ["log_age", "log_L", "log_Teff", "mass", "he_core_mass", "co_core_mass"]
+COLUMNS = ["log_age_yr", "log_l_lsun", "log_teff_k", "mass_msun", "he_core_mass_msun", "co_core_mass_msun"]
 
 
 def read_group(path, group):
     with h5py.File(path, "r") as f:
         g = f["metallicity"][str(group)]
-        d = {name: g[name][()] for name in COLUMNS + ["initial_mass", "route", "n_eep",
-                                                       "route_boundary_mass"]}
-        d["Z"] = float(g.attrs["Z"])
+        d = {name: g[name][()] for name in COLUMNS + ["initial_mass_msun", "route", "n_eep",
+                                                       "route_boundary_mass_msun"]}
+        d["z"] = float(g.attrs["z"])
         d["route_names"] = [n.decode() if isinstance(n, bytes) else n for n in f["routes/names"][()]]
     return d
 
@@ -76,15 +76,15 @@ class Route:
 
     def __init__(self, d, r):
         sel = np.flatnonzero(d["route"] == r)
-        self.x = np.log10(d["initial_mass"][sel])
+        self.x = np.log10(d["initial_mass_msun"][sel])
         self.n_eep = int(d["n_eep"][sel].min())
         y = np.stack([d[c][sel, :self.n_eep] for c in COLUMNS], axis=-1)  # [mass][eep][column]
         self.pchip = PchipInterpolator(self.x, y, axis=0, extrapolate=False)
         # c[k, interval, eep, column] -> [interval][eep][column][k] for per-star gathers
         self.coef = np.ascontiguousarray(np.moveaxis(self.pchip.c, 0, -1))
         self.coef_age = np.ascontiguousarray(self.coef[:, :, 0, :])  # [interval][eep][k]
-        self.la_first = d["log_age"][sel, 0]
-        self.la_last = d["log_age"][sel, self.n_eep - 1]
+        self.la_first = d["log_age_yr"][sel, 0]
+        self.la_last = d["log_age_yr"][sel, self.n_eep - 1]
 
 
 def finish(la_t, lo_vals, hi_vals, la_lo, la_hi):
@@ -230,12 +230,12 @@ def main(argv=None):
         if a.write_queries:
             np.column_stack([mass, age]).astype("<f8").tofile(a.write_queries)
     n = mass.size
-    bounds = np.asarray(d["route_boundary_mass"], dtype=float)
+    bounds = np.asarray(d["route_boundary_mass_msun"], dtype=float)
 
     print("grid %s group %d Z %.6g tracks %d routes %s eeps %s" % (
-        a.grid, a.group, d["Z"], d["initial_mass"].size,
+        a.grid, a.group, d["z"], d["initial_mass_msun"].size,
         ",".join(d["route_names"]), ",".join(str(rt.n_eep if rt else 0) for rt in routes)))
-    print("queries %d seed %d chunk %d quantities %d (%s + log_R, log_g)" % (
+    print("queries %d seed %d chunk %d quantities %d (%s + log_r_rsun, log_g_cgs)" % (
         n, a.seed, a.chunk, len(COLUMNS) + 1, ", ".join(COLUMNS[1:])))
     print("read_s %.6f (h5py, one group; excluded)" % t_read)
     print("setup_s %.6f (PchipInterpolator for every route; excluded)" % t_setup)
@@ -258,13 +258,13 @@ def main(argv=None):
     # one would flatter the C library.
     name = min(best, key=best.get)
     print("RESULT numpy_ns_per_star %.1f numpy_eval_s %.6f n %d variant %s group %d z %.17g" % (
-        1e9 * best[name] / n, best[name], n, name, a.group, d["Z"]))
+        1e9 * best[name] / n, best[name], n, name, a.group, d["z"]))
     print("RESULT scipy_ns_per_star %.1f scipy_eval_s %.6f n %d variant scipy" % (
         1e9 * best["scipy"] / n, best["scipy"], n))
     if a.hrtrail_lib:
-        t_lib, st = time_hrtrail(a.hrtrail_lib, a.grid, d["Z"], mass, age, a.repeat)
+        t_lib, st = time_hrtrail(a.hrtrail_lib, a.grid, d["z"], mass, age, a.repeat)
         ok = st["status"] == 0
-        diff = np.abs(st["log_l"][ok & both] - r1[ok & both, 0])
+        diff = np.abs(st["log_l_lsun"][ok & both] - r1[ok & both, 0])
         print("hrtrail (Steffen kernel) on the same stars: %d answered; |log_L - PCHIP| median %.2g max %.2g"
               " (different kernels: not an error)" % (np.count_nonzero(ok), np.median(diff), diff.max()))
         print("RESULT hrtrail_ns_per_star %.1f ratio_vs_%s %.2f ratio_vs_scipy %.2f" % (

@@ -97,6 +97,20 @@ def parse_json(text):
     return json.loads(text)
 
 
+def read_records(text):
+    """A JSON table: a list of flat records (objects whose values are numbers, strings or null), the form
+    pandas.read_json reads as it is (tests/cli/test_vocabulary.py reads every table with pandas).  Raises
+    otherwise; returns the records as Python's json module reads them (numbers bit for bit)."""
+    doc = json.loads(text)
+    if not isinstance(doc, list) or not all(isinstance(r, dict) for r in doc):
+        raise ValueError("not a list of records")
+    if any(isinstance(v, (list, dict)) for r in doc for v in r.values()):
+        raise ValueError("records are not flat")
+    if any(list(r) != list(doc[0]) for r in doc):
+        raise ValueError("records with different fields")
+    return doc
+
+
 # ---------------------------------------------------------------- the library through ctypes
 
 class HrtError(ctypes.Structure):
@@ -108,8 +122,8 @@ class HrtState(ctypes.Structure):
     _fields_ = [("struct_size", ctypes.c_uint32), ("status", ctypes.c_int32), ("phase", ctypes.c_int32),
                 ("route", ctypes.c_int32), ("remnant", ctypes.c_int32), ("flags", ctypes.c_int32)] + \
         [(n, ctypes.c_double) for n in (
-            "initial_mass_msun", "z", "age_yr", "log_l", "log_teff_k", "log_r", "log_g_cgs", "mass_msun",
-            "he_core_msun", "co_core_msun", "eep", "phase_fraction", "phase_start_yr", "phase_end_yr",
+            "initial_mass_msun", "z", "age_yr", "log_l_lsun", "log_teff_k", "log_r_rsun", "log_g_cgs", "mass_msun",
+            "he_core_mass_msun", "co_core_mass_msun", "eep", "phase_fraction", "phase_start_yr", "phase_end_yr",
             "remnant_mass_msun")] + [("reserved", ctypes.c_double * 7)]
 
 
@@ -118,14 +132,11 @@ class HrtPhaseSpan(ctypes.Structure):
                 ("end_yr", ctypes.c_double)]
 
 
-# state field of the C struct -> key of the command's CSV/JSON
-STATE_KEYS = {
-    "initial_mass_msun": "initial_mass_Msun", "z": "Z", "age_yr": "age_yr", "log_l": "log_L_Lsun",
-    "log_teff_k": "log_Teff_K", "log_r": "log_R_Rsun", "log_g_cgs": "log_g_cgs", "mass_msun": "mass_Msun",
-    "he_core_msun": "he_core_Msun", "co_core_msun": "co_core_Msun", "eep": "eep",
-    "phase_fraction": "phase_fraction", "phase_start_yr": "phase_start_yr", "phase_end_yr": "phase_end_yr",
-    "remnant_mass_msun": "remnant_mass_Msun",
-}
+# numeric fields of a state: the C struct's field names are the command's CSV/JSON names (the vocabulary
+# of tracks/FORMAT.md)
+STATE_KEYS = ["initial_mass_msun", "z", "age_yr", "log_l_lsun", "log_teff_k", "log_r_rsun", "log_g_cgs", "mass_msun",
+              "he_core_mass_msun", "co_core_mass_msun", "eep", "phase_fraction", "phase_start_yr", "phase_end_yr",
+              "remnant_mass_msun"]
 
 _D = ctypes.c_double
 _P = ctypes.c_void_p
@@ -143,6 +154,10 @@ class Lib:
         L.hrt_grid_route_name.restype = ctypes.c_char_p
         L.hrt_phase_key.restype = ctypes.c_char_p
         L.hrt_phase_key.argtypes = [ctypes.c_int]
+        L.hrt_phase_code.restype = ctypes.c_int
+        L.hrt_phase_code.argtypes = [ctypes.c_size_t]
+        L.hrt_remnant_code.restype = ctypes.c_int
+        L.hrt_remnant_code.argtypes = [ctypes.c_size_t]
         L.hrt_remnant_key.restype = ctypes.c_char_p
         L.hrt_remnant_key.argtypes = [ctypes.c_int]
         L.hrt_eval.argtypes = [_P, ctypes.c_size_t, ctypes.POINTER(_D), ctypes.POINTER(_D), _D, ctypes.POINTER(_D),
@@ -173,6 +188,21 @@ class Lib:
 
     def remnant_key(self, r):
         return self.L.hrt_remnant_key(r).decode()
+
+    def phase_keys(self):
+        """Every phase key of the library (HRT_PHASE_LIST, unknown included)."""
+        out, i = [], 0
+        while self.L.hrt_phase_code(i) >= 0:
+            out.append(self.phase_key(self.L.hrt_phase_code(i)))
+            i += 1
+        return out
+
+    def remnant_keys(self):
+        out, i = [], 0
+        while self.L.hrt_remnant_code(i) >= 0:
+            out.append(self.remnant_key(self.L.hrt_remnant_code(i)))
+            i += 1
+        return out
 
     def open(self, path, interp=0):
         g = _P()

@@ -57,7 +57,14 @@ cases = [
     (["plot"] + G + ["--track", "1", "-o", os.path.join(d, "no-such-dir", "x.svg")], EXIT_FILE,
      ["no-such-dir/x.svg"]),
     (["grid", "inspect"], EXIT_USAGE, ["unknown action 'inspect'"]),
-    (["grid"], EXIT_USAGE, ["grid info", "grid check"]),
+    (["grid"], EXIT_USAGE, ["grid info", "grid check", "grid upgrade"]),
+    (["grid", "upgrade", grid], EXIT_USAGE, ["OLD NEW"]),
+    (["grid", "upgrade", os.path.join(d, "missing.h5"), os.path.join(d, "new.h5")], EXIT_FILE, ["missing.h5"]),
+    (["grid", "upgrade", d, os.path.join(d, "new.h5")], EXIT_FILE, ["is a directory"]),
+    (["grid", "upgrade", bad_format, os.path.join(d, "new.h5")], EXIT_FILE, ["format"]),
+    (["grid", "upgrade", grid, os.path.join(d, "no-such-dir", "new.h5")], EXIT_FILE, ["no-such-dir"]),
+    (["grid", "upgrade", grid, os.path.join(d, "new.h5"), "--json"], EXIT_USAGE, ["--json"]),
+    (["grid", "upgrade", "--grid", grid, grid, os.path.join(d, "new.h5")], EXIT_USAGE, ["--grid"]),
     (["grid", "info", os.path.join(d, "missing.h5")], EXIT_FILE, ["missing.h5"]),
     (["grid", "check", os.path.join(d, "missing.h5")], EXIT_FILE, ["missing.h5"]),
     (["demo", "--grid", bad_ages], EXIT_FILE, ["metallicity/1/log_age"]),
@@ -76,19 +83,20 @@ for args, code, words in cases:
 # bad CSV input: line and column named
 csvfile = os.path.join(d, "stars.csv")
 with open(csvfile, "w") as f:
-    f.write("name,mass,age\nA,1.0,1Gyr\nB,heavy,1Gyr\n")
+    f.write("name,initial_mass_msun,age_yr\nA,1.0,1Gyr\nB,heavy,1Gyr\n")
 rc, out, err = run(["at"] + G + ["--input", csvfile])
 t.eq(rc, EXIT_USAGE, "bad CSV mass: exit code")
 t.eq(out, "", "bad CSV mass: nothing on stdout")
-t.ok("line 3" in err and "'mass'" in err and "'heavy'" in err, "bad CSV mass: names line and column: %r" % err)
+t.ok("line 3" in err and "'initial_mass_msun'" in err and "'heavy'" in err,
+     "bad CSV mass: names line and column: %r" % err)
 with open(csvfile, "w") as f:
-    f.write("name,mass,age\nA,1.0,1Gyr\nB,90,1Gyr\n")
+    f.write("name,initial_mass_msun,age_yr\nA,1.0,1Gyr\nB,90,1Gyr\n")
 rc, out, err = run(["at"] + G + ["--input", csvfile])
 t.eq(rc, EXIT_RANGE, "CSV star outside the grid: exit code")
 t.ok("line 3" in err and "outside the grid" in err, "CSV star outside the grid: message %r" % err)
 t.eq(out, "", "CSV star outside the grid: nothing on stdout")
 with open(csvfile, "w") as f:
-    f.write("name,mass,age\nA,1.0\n")
+    f.write("name,initial_mass_msun,age_yr\nA,1.0\n")
 rc, out, err = run(["at"] + G + ["--input", csvfile])
 t.eq(rc, EXIT_FILE, "ragged CSV: exit code")
 t.ok("line 2" in err and "2 fields" in err, "ragged CSV: message %r" % err)

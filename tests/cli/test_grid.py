@@ -1,5 +1,6 @@
 #!/usr/bin/python3
-"""hrtrail grid info / check: compared with the file (h5py); problems listed; progress only on a terminal."""
+"""hrtrail grid info / check: compared with the file (h5py); problems listed; progress only on a terminal.
+(grid upgrade: tests/cli/test_upgrade.py.)"""
 import os
 import pty
 import subprocess
@@ -17,29 +18,30 @@ rc, out, err = run(["grid", "info", "--grid", grid, "--json"])
 t.eq(rc, EXIT_OK, "grid info --json exit code (%s)" % err)
 doc = parse_json(out)
 with h5py.File(grid, "r") as f:
-    zs = [float(f["metallicity/%d" % i].attrs["Z"]) for i in range(len(f["metallicity"]))]
-    masses = [list(map(float, f["metallicity/%d/initial_mass" % i][:])) for i in range(len(zs))]
+    zs = [float(f["metallicity/%d" % i].attrs["z"]) for i in range(len(f["metallicity"]))]
+    masses = [list(map(float, f["metallicity/%d/initial_mass_msun" % i][:])) for i in range(len(zs))]
     routes = [x.decode() for x in f["routes/names"][:]]
     kps = {r: [x.decode() for x in f["routes/%s/keypoint_names" % r][:]] for r in routes}
     eeps = {r: list(map(int, f["routes/%s/keypoint_eep" % r][:])) for r in routes}
     attrs = {k: f.attrs[k] for k in ("description", "source", "created_by")}
     zref = float(f.attrs["z_ref"])
-t.eq([m["Z"] for m in doc["metallicities"]], zs, "info: metallicities")
-t.eq([[x["initial_mass_Msun"] for x in m["tracks"]] for m in doc["metallicities"]], masses, "info: masses")
-t.eq([r["name"] for r in doc["routes"]], routes, "info: routes")
-t.eq({r["name"]: [k["name"] for k in r["keypoints"]] for r in doc["routes"]}, kps, "info: keypoint names")
-t.eq({r["name"]: [k["eep"] for k in r["keypoints"]] for r in doc["routes"]}, eeps, "info: keypoint EEPs")
-t.eq({k: doc["attributes"].get(k) for k in attrs}, attrs, "info: provenance attributes")
+t.eq([m["z"] for m in doc["metallicities"]], zs, "info: metallicities")
+t.eq([[x["initial_mass_msun"] for x in m["tracks"]] for m in doc["metallicities"]], masses, "info: masses")
+t.eq([r["route"] for r in doc["routes"]], routes, "info: routes")
+t.eq({r["route"]: [k["keypoint"] for k in r["keypoints"]] for r in doc["routes"]}, kps, "info: keypoint names")
+t.eq({r["route"]: [k["eep"] for k in r["keypoints"]] for r in doc["routes"]}, eeps, "info: keypoint EEPs")
+got = {a["attribute"]: a["value"] for a in doc["attributes"]}
+t.eq({k: got.get(k) for k in attrs}, attrs, "info: provenance attributes")
 t.eq(doc["z_ref"], zref, "info: z_ref")
 t.eq(doc["file_bytes"], os.path.getsize(grid), "info: file size")
 t.ok(doc["memory_bytes"] > 0, "info: memory size")
-t.eq([m["route_boundaries_Msun"] for m in doc["metallicities"]], [[2.2, 8.0]] * 2, "info: route boundaries")
-t.eq([(m["mass_min_Msun"], m["mass_max_Msun"]) for m in doc["metallicities"]], [(0.7, 25.0), (0.7, 40.0)],
-     "info: mass ranges")
+t.eq([m["route_boundary_mass_msun"] for m in doc["metallicities"]], [[2.2, 8.0]] * 2, "info: route boundaries")
+t.eq([(m["initial_mass_msun_lo"], m["initial_mass_msun_hi"]) for m in doc["metallicities"]],
+     [(0.7, 25.0), (0.7, 40.0)], "info: mass ranges")
 rc, out, err = run(["grid", "info", grid, "--csv"])
 rows = parse_csv(out)
 t.eq(len(rows), sum(len(m) for m in masses), "info --csv: one row per track (FILE as an argument)")
-t.eq(set(rows[0]), {"Z", "feh", "initial_mass_Msun", "route", "n_eep"}, "info --csv columns")
+t.eq(list(rows[0]), ["z", "feh", "initial_mass_msun", "route", "n_eep"], "info --csv columns")
 rc, out, err = run(["grid", "info", "--grid", grid])
 for w in ("grid file", grid, "MB on disk", "small three-route test grid", "Z_ref", "[Fe/H]", "low_mass",
           "zams@0", "route boundaries [Msun]", "0.7 0.9 1.1"):
@@ -60,7 +62,7 @@ t.eq(err, "", "check: nothing on stderr when stderr is not a terminal")
 bad = make_grid(d, "ages")
 rc, out, err = run(["grid", "check", bad])
 t.eq(rc, EXIT_FILE, "check of an invalid grid: exit code")
-t.ok("validator" in out and "metallicity/1/log_age[2][5]" in out, "check prints the validator's problem: %r" % out)
+t.ok("validator" in out and "metallicity/1/log_age_yr[2][5]" in out, "check prints the validator's problem: %r" % out)
 t.ok("1 problem found" in err, "check: summary on stderr")
 rc, out, err = run(["grid", "check", bad, "--csv"])
 rows = parse_csv(out)

@@ -5,7 +5,7 @@ import os
 import subprocess
 import xml.etree.ElementTree as ET
 
-from clitest import EXIT_OK, Checks, Lib, make_grid, read_png, run, tmpdir
+from clitest import EXIT_FILE, EXIT_OK, Checks, Lib, make_grid, read_png, run, tmpdir
 
 SVG = "{http://www.w3.org/2000/svg}"
 t = Checks("cli-plot")
@@ -62,7 +62,7 @@ w, h, rows = well_formed_and_rendered(svg, "points plot")
 circles = [e for e in root.iter(SVG + "circle") if e.get("class") == "point"]
 t.eq(len(circles), 2, "one marker per star")
 for st, c in zip(states, circles):
-    ex, ey = xmap(st.log_teff_k), ymap(st.log_l)
+    ex, ey = xmap(st.log_teff_k), ymap(st.log_l_lsun)
     t.ok(abs(float(c.get("cx")) - ex) < 0.01 and abs(float(c.get("cy")) - ey) < 0.01,
          "marker of %g Msun drawn at (%.2f, %.2f), axes say (%.2f, %.2f)" % (
              st.initial_mass_msun, float(c.get("cx")), float(c.get("cy")), ex, ey))
@@ -77,6 +77,18 @@ for st, c in zip(states, circles):
         t.ok(abs(cx - ex) < 1.0 and abs(cy - ey) < 1.0,
              "rendered marker of %g Msun centred at (%.2f, %.2f), axes say (%.2f, %.2f)" % (
                  st.initial_mass_msun, cx, cy, ex, ey))
+
+# ---- points from a file of the columns --points reads, and the old spellings refused
+pts = os.path.join(d, "pts.svg")
+rc, out, err = run(["plot", "--points", "-", "-o", pts],
+                   stdin="name,log_teff_k,log_l_lsun,phase\nA,3.76,0.1,ms\nB,3.65,1.9,rgb\n")
+t.eq((rc, err), (EXIT_OK, ""), "plot --points with log_teff_k, log_l_lsun, name, phase")
+circles = [e for e in ET.parse(pts).getroot().iter(SVG + "circle") if e.get("class") == "point"]
+t.eq([float(c.get("data-log-teff")) for c in circles], [3.76, 3.65], "both points drawn")
+for head in ("log_Teff_K,log_L_Lsun", "log_teff,log_l", "label,log_teff_k,log_l_lsun"):
+    rc, out, err = run(["plot", "--points", "-", "-o", pts], stdin=head + "\n" + ",".join(["1"] * (head.count(",") + 1)) + "\n")
+    t.ok(rc == EXIT_FILE and out == "" and "log_teff_k" in err and "log_l_lsun" in err,
+         "plot --points with old columns %s: exit %d, message naming the columns: %r" % (head, rc, err))
 
 # ---- tracks and isochrones: phases told apart by dash pattern and marker, named in the legend
 svg2 = os.path.join(d, "hr.svg")

@@ -2,8 +2,8 @@
 """hrtrail track, isochrone and life compared with the library (ctypes) and with each other."""
 import math
 
-from clitest import (EXIT_OK, STATE_KEYS, Checks, Lib, make_grid, num, parse_csv, parse_json, run, same_number,
-                     tmpdir)
+from clitest import (EXIT_OK, STATE_KEYS, Checks, Lib, json_number, make_grid, num, parse_csv, read_records, run,
+                     same_number, tmpdir)
 
 t = Checks("cli-track-isochrone-life")
 d = tmpdir()
@@ -16,7 +16,7 @@ g = lib.open(grid)
 def rows_equal_states(rows, states, what):
     t.eq(len(rows), len(states), what + ": number of rows")
     for i, (r, st) in enumerate(zip(rows, states)):
-        bad = [k for f, k in STATE_KEYS.items() if not same_number(num(r[k]), getattr(st, f))]
+        bad = [k for k in STATE_KEYS if not same_number(num(r[k]), getattr(st, k))]
         t.ok(not bad, "%s row %d: %s differ from the library" % (what, i, bad))
         t.eq(r["phase"], lib.phase_key(st.phase), "%s row %d phase" % (what, i))
 
@@ -32,8 +32,7 @@ t.eq(out2, out, "--eeps is the default")
 
 # ---- evenly in log age
 rc, out, err = run(["track"] + G + ["--mass", "2.3", "--z", "0.008", "--steps", "25", "--json"])
-doc = parse_json(out)
-states = doc["states"]
+states = read_records(out)  # a list of records, as pandas.read_json reads it
 zams, end = s.eep_states()[0].age_yr, s.end_age()
 t.eq(len(states), 25, "--steps 25 gives 25 rows")
 t.ok(same_number(states[0]["age_yr"], zams) and same_number(states[-1]["age_yr"], end),
@@ -41,12 +40,18 @@ t.ok(same_number(states[0]["age_yr"], zams) and same_number(states[-1]["age_yr"]
 la = [math.log10(x["age_yr"]) for x in states]
 steps = [b - a for a, b in zip(la, la[1:])]
 t.ok(max(steps) - min(steps) < 1e-9, "--steps are even in log age")
-t.eq((doc["route"], doc["remnant"]), (g.route_name(s.eep_states()[0].route), lib.remnant_key(s.remnant()[0])),
+t.eq({(x["route"], x["remnant"]) for x in states}, {(g.route_name(s.eep_states()[0].route),
+                                                      lib.remnant_key(s.remnant()[0]))},
      "track JSON: route and remnant")
 for x in states[::6]:
     rc_, st = s.at(x["age_yr"])
-    t.ok(same_number(x["log_L_Lsun"], st.log_l) and same_number(x["log_Teff_K"], st.log_teff_k),
+    t.ok(same_number(x["log_l_lsun"], st.log_l_lsun) and same_number(x["log_teff_k"], st.log_teff_k),
          "track --steps state at %g yr is hrt_star_at's" % x["age_yr"])
+rc, out2, err = run(["track"] + G + ["--mass", "2.3", "--z", "0.008", "--steps", "25", "--csv"])
+csv_rows = parse_csv(out2)
+t.eq([list(x) for x in states[:1]], [list(r) for r in csv_rows[:1]], "JSON records and CSV rows: the same names")
+t.ok(all(same_number(json_number(x[k]), num(r[k])) or not math.isfinite(num(r[k]))
+         for x, r in zip(states, csv_rows) for k in STATE_KEYS), "JSON records and CSV rows: the same numbers")
 rc, out, err = run(["track"] + G + ["--mass", "2.3", "--z", "0.008", "--steps", "4", "--from", "100Myr", "--to",
                                     "2Gyr", "--csv"])
 ages = [num(r["age_yr"]) for r in parse_csv(out)]
@@ -77,21 +82,20 @@ for age, z in ((1e9, 0.014), (1e8, 0.006)):
     t.eq(rc, EXIT_OK, "isochrone exit code")
     rows_equal_states(parse_csv(out), g.isochrone(age, z), "isochrone %g yr Z %g" % (age, z))
 rc, out, err = run(["isochrone"] + G + ["--age", "100Myr,1Gyr", "--json"])
-doc = parse_json(out)
-pts = doc["points"]
+pts = read_records(out)
 n1, n2 = len(g.isochrone(1e8, g.z_ref())), len(g.isochrone(1e9, g.z_ref()))
 t.eq(len(pts), n1 + n2, "two isochrones: all points of both")
 t.eq(sorted(set(p["age_yr"] for p in pts)), [1e8, 1e9], "age_yr tells the isochrones apart")
-t.eq(doc["ages_yr"], [1e8, 1e9], "JSON lists the ages")
 # every isochrone point is the star of that mass at that age: 'at' agrees
 sample = pts[::7]
-masses = ",".join(repr(p["initial_mass_Msun"]) for p in sample)
+masses = ",".join(repr(p["initial_mass_msun"]) for p in sample)
 rc, out, err = run(["at"] + G + ["--mass", masses, "--age", "100Myr", "--json"])
-at_rows = parse_json(out)["stars"]
+at_rows = read_records(out)
 for p, r in zip([p for p in sample], at_rows):
     if p["age_yr"] != 1e8:
         continue
-    t.close(r["log_L_Lsun"], p["log_L_Lsun"], 1e-6, "isochrone point %g Msun vs at" % p["initial_mass_Msun"],
+    # absolute tolerance 1e-6 dex: the isochrone's mass is a root found numerically (common practice)
+    t.close(r["log_l_lsun"], p["log_l_lsun"], 1e-6, "isochrone point %g Msun vs at" % p["initial_mass_msun"],
             abs_=1e-6)
 
 # ---- life: keypoints, phases, remnant
@@ -99,29 +103,37 @@ for m, z in ((2.3, 0.008), (1.0, 0.02), (15.0, 0.014), (0.7, 0.006)):
     s = g.star(m, z)
     rc, out, err = run(["life"] + G + ["--mass", repr(m), "--z", repr(z), "--json"])
     t.eq(rc, EXIT_OK, "life exit code for %g Msun" % m)
-    st = parse_json(out)["stars"][0]
-    kp = [(k["keypoint"], k["age_yr"]) for k in st["keypoints"]]
+    recs = read_records(out)  # one record per keypoint, phase and remnant
+    kp = [(k["key"], k["start_yr"]) for k in recs if k["record"] == "keypoint"]
     want = [(n, None if math.isnan(a) else a) for n, a in s.keypoints()]
     t.eq(kp, want, "life keypoints of %g Msun" % m)
-    ph = [(p["phase"], p["start_yr"], p["end_yr"]) for p in st["phases"]]
+    phases = [p for p in recs if p["record"] == "phase"]
+    ph = [(p["key"], p["start_yr"], p["end_yr"]) for p in phases]
     wantp = [(lib.phase_key(p), a, None if math.isinf(b) else b) for p, a, b in s.phases()]
     t.eq(ph, wantp, "life phases of %g Msun" % m)
-    for p in st["phases"]:
+    for p in phases:
         if p["end_yr"] is not None:
             t.ok(same_number(p["duration_yr"], p["end_yr"] - p["start_yr"]), "duration = end - start")
+    rem = [r for r in recs if r["record"] == "remnant"]
+    t.eq(len(rem), 1, "life: one remnant record")
     kind, rm = s.remnant()
-    t.eq(st["remnant"]["kind"], lib.remnant_key(kind), "life remnant kind of %g Msun" % m)
-    t.ok(same_number(st["remnant"]["mass_Msun"] if st["remnant"]["mass_Msun"] is not None else math.nan, rm),
-         "life remnant mass of %g Msun" % m)
-    t.ok(same_number(st["remnant"]["from_age_yr"], s.end_age()), "life remnant from the end of the track")
-    t.eq(st["route"], g.route_name(s.eep_states()[0].route), "life route of %g Msun" % m)
+    t.eq(rem[0]["key"], lib.remnant_key(kind), "life remnant kind of %g Msun" % m)
+    t.ok(same_number(json_number(rem[0]["remnant_mass_msun"]), rm), "life remnant mass of %g Msun" % m)
+    t.ok(same_number(rem[0]["start_yr"], s.end_age()), "life remnant from the end of the track")
+    t.eq({r["route"] for r in recs}, {g.route_name(s.eep_states()[0].route)}, "life route of %g Msun" % m)
+    t.eq({(r["initial_mass_msun"], r["z"]) for r in recs}, {(m, z)}, "life records name the star")
+    rc, out2, err = run(["life"] + G + ["--mass", repr(m), "--z", repr(z), "--csv"])
+    rows = parse_csv(out2)
+    t.eq([(r["record"], r["key"]) for r in rows], [(x["record"], x["key"]) for x in recs],
+         "life --csv has the records of --json")
+    t.eq(list(rows[0]), list(recs[0]), "life --csv and --json: the same names")
     s.free()
 # known routes and fates of the test grid (make_test_grid.py: boundaries 2.2 and 8 Msun)
 rc, out, err = run(["life"] + G + ["--mass", "1,3,15,25", "--z", "0.006", "--csv"])
 rows = parse_csv(out)
-routes = {num(r["initial_mass_Msun"]): r["route"] for r in rows}
+routes = {num(r["initial_mass_msun"]): r["route"] for r in rows}
 t.eq(routes, {1.0: "low_mass", 3.0: "giant", 15.0: "supergiant", 25.0: "supergiant"}, "routes by mass")
-fates = {num(r["initial_mass_Msun"]): r["key"] for r in rows if r["record"] == "remnant"}
+fates = {num(r["initial_mass_msun"]): r["key"] for r in rows if r["record"] == "remnant"}
 t.eq(fates, {1.0: "co_wd", 3.0: "co_wd", 15.0: "ns", 25.0: "bh"}, "fates by mass")
 t.eq(set(r["record"] for r in rows), {"keypoint", "phase", "remnant"}, "life CSV records")
 # the truncated 0.7 Msun track: remnant not known

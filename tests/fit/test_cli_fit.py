@@ -16,20 +16,21 @@ import sys
 
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "cli"))
 from clitest import (EXIT_FILE, EXIT_OK, EXIT_RANGE, EXIT_USAGE, EXTRA, Checks, HrtError, Lib, json_number,  # noqa: E402
-                     num, parse_csv, parse_json, run, same_number, tmpdir)
+                     num, parse_csv, parse_json, read_records, run, same_number, tmpdir)
 
 _D = ctypes.c_double
 _P = ctypes.c_void_p
-PHASES, REMNANTS, MAX_EVENTS = 16, 6, 24  # HRT_PHASE_COUNT, HRT_REMNANT_COUNT, HRT_FORECAST_MAX_EVENTS
+PHASES, REMNANTS, MAX_EVENTS = 64, 32, 24  # HRT_PHASE_SLOTS, HRT_REMNANT_SLOTS, HRT_FORECAST_MAX_EVENTS
 
-# hrt_fit_obs, in the order of its fields: (value, sigma) pairs
-OBS_FIELDS = ["teff_k", "teff_sigma_k", "log_l", "log_l_sigma", "feh", "feh_sigma", "log_g_cgs", "log_g_sigma",
-              "flux_w_m2", "flux_sigma_w_m2", "mbol", "mbol_sigma", "distance_pc", "distance_sigma_pc",
-              "parallax_mas", "parallax_sigma_mas"]
-# option of the command and CSV column of each field (the same order)
+# hrt_fit_obs, in the order of its fields: (value, sigma) pairs; the field names are the command's CSV
+# columns (the vocabulary of tracks/FORMAT.md)
+OBS_FIELDS = ["teff_k", "teff_k_sigma", "log_l_lsun", "log_l_lsun_sigma", "feh", "feh_sigma", "log_g_cgs",
+              "log_g_cgs_sigma", "flux_w_m2", "flux_w_m2_sigma", "mbol", "mbol_sigma", "distance_pc",
+              "distance_pc_sigma", "parallax_mas", "parallax_mas_sigma"]
+# option of the command for each field (the same order)
 OBS_OPTS = ["teff", "teff-sigma", "log-l", "log-l-sigma", "feh", "feh-sigma", "logg", "logg-sigma", "flux",
             "flux-sigma", "mbol", "mbol-sigma", "distance", "distance-sigma", "parallax", "parallax-sigma"]
-OBS_COLS = [o.replace("-", "_") for o in OBS_OPTS]
+OBS_COLS = list(OBS_FIELDS)
 
 
 class Obs(ctypes.Structure):
@@ -48,20 +49,20 @@ class Interval(ctypes.Structure):
 class FitResult(ctypes.Structure):
     _fields_ = [("struct_size", ctypes.c_uint32), ("status", ctypes.c_int32), ("flags", ctypes.c_int32),
                 ("phase", ctypes.c_int32), ("phase_second", ctypes.c_int32), ("n_obs", ctypes.c_int32)] + \
-        [(n, Interval) for n in ("initial_mass_msun", "age_yr", "feh", "mass_msun", "radius_rsun", "log_l", "teff_k",
+        [(n, Interval) for n in ("initial_mass_msun", "age_yr", "feh", "mass_msun", "r_rsun", "log_l_lsun", "teff_k",
                                  "log_g_cgs", "distance_pc")] + \
         [("phase_prob", _D * PHASES), ("phase_mass_msun", Interval * 2), ("phase_age_yr", Interval * 2),
          ("chi2_min", _D), ("n_eff", _D), ("n_points", _D), ("reserved", _D * 8)]
 
 
 class Sample(ctypes.Structure):
-    _fields_ = [(n, _D) for n in ("initial_mass_msun", "z", "age_yr", "log_l", "log_teff_k")] + \
+    _fields_ = [(n, _D) for n in ("initial_mass_msun", "z", "age_yr", "log_l_lsun", "log_teff_k")] + \
         [("phase", ctypes.c_int32), ("reserved_", ctypes.c_int32)]
 
 
 class FcState(ctypes.Structure):
     _fields_ = [("dt_yr", _D), ("phase", ctypes.c_int32), ("reserved_", ctypes.c_int32), ("phase_prob", _D * PHASES),
-                ("luminous_frac", _D), ("log_l", Interval), ("teff_k", Interval), ("radius_rsun", Interval),
+                ("luminous_frac", _D), ("log_l_lsun", Interval), ("teff_k", Interval), ("r_rsun", Interval),
                 ("mass_msun", Interval)]
 
 
@@ -158,18 +159,18 @@ def flags_text(fl):
     return " ".join(name for bit, name in FLAG_NAMES if fl & bit)
 
 
-RESULT_COLS = [("initial_mass", "_Msun", "initial_mass_msun"), ("age", "_yr", "age_yr"), ("feh", "", "feh"),
-               ("mass", "_Msun", "mass_msun"), ("radius", "_Rsun", "radius_rsun"), ("log_L", "_Lsun", "log_l"),
-               ("log_g", "_cgs", "log_g_cgs"), ("distance", "_pc", "distance_pc")]
+# intervals of hrt_fit_result: the field's name is the column of the median, NAME_lo and NAME_hi the others
+RESULT_COLS = ["initial_mass_msun", "age_yr", "feh", "mass_msun", "r_rsun", "log_l_lsun", "teff_k", "log_g_cgs",
+               "distance_pc"]
 
 
 def check_fit_row(row, rc, r, what, from_json=False):
     """A row of the command's CSV or JSON against the library's result (bit for bit)."""
     get = (lambda k: json_number(row[k])) if from_json else (lambda k: num(row[k]))
     t.eq(row["status"], "ok" if rc == 0 else L.hrt_strerror(rc).decode(), what + ": status")
-    for base, unit, field in RESULT_COLS:
+    for field in RESULT_COLS:
         iv = getattr(r, field)
-        for part, key in (("median", base + unit), ("lo", base + "_lo" + unit), ("hi", base + "_hi" + unit)):
+        for part, key in (("median", field), ("lo", field + "_lo"), ("hi", field + "_hi")):
             want = getattr(iv, part) if rc == 0 else float("nan")
             if from_json and not math.isfinite(want):
                 want = float("nan")
@@ -177,9 +178,10 @@ def check_fit_row(row, rc, r, what, from_json=False):
     if rc == 0:
         t.eq(row["phase"], lib.phase_key(r.phase), what + ": phase")
         t.ok(same_number(get("phase_prob"), r.phase_prob[r.phase]), what + ": phase_prob")
-        t.eq(row["phase2"], lib.phase_key(r.phase_second) if r.phase_second else "", what + ": second phase")
+        want2 = lib.phase_key(r.phase_second) if r.phase_second else ""
+        t.eq(row["phase_second"], want2, what + ": second phase")
         if r.phase_second:
-            t.ok(same_number(get("phase2_prob"), r.phase_prob[r.phase_second]), what + ": phase2_prob")
+            t.ok(same_number(get("phase_second_prob"), r.phase_prob[r.phase_second]), what + ": phase_second_prob")
         t.ok(same_number(get("chi2_min"), r.chi2_min), what + ": chi2_min")
     t.eq(row["flags"], flags_text(r.flags), what + ": notes")
 
@@ -203,7 +205,8 @@ def fails_cleanly(args, code, words, what, stdin=None):
 
 # ------------------------------------------------------------------ one star from options
 
-SUN = {"teff_k": 5772.0, "teff_sigma_k": 50.0, "log_l": 0.0, "log_l_sigma": 0.01, "feh": 0.0, "feh_sigma": 0.05}
+SUN = {"teff_k": 5772.0, "teff_k_sigma": 50.0, "log_l_lsun": 0.0, "log_l_lsun_sigma": 0.01, "feh": 0.0,
+       "feh_sigma": 0.05}
 lib_sun = lib_fit([obs_of(SUN)])[0]
 t.eq(lib_sun[0], 0, "library fits the nominal Sun")
 rc, out, err = run(["fit"] + G + opts_of(SUN) + ["--csv"])
@@ -216,11 +219,10 @@ if rows:
 
 rc, out, err = run(["fit"] + G + opts_of(SUN) + ["--json"])
 t.eq(rc, EXIT_OK, "fit --json exit code (%s)" % err)
-doc = parse_json(out)
-t.eq(doc["grid"], GRID, "JSON names the grid")
-t.eq(doc["mass_prior"], "kroupa2001", "JSON names the default mass prior")
-t.ok(same_number(float(doc["age_max_yr"]), 13.8e9), "JSON gives the age limit")
-check_fit_row(doc["stars"][0], lib_sun[0], lib_sun[1], "Sun (json)", from_json=True)
+doc = read_records(out)  # a list of records, as pandas.read_json reads it
+t.eq(len(doc), 1, "fit --json: one record for one star")
+t.eq(list(doc[0]), list(rows[0]) if rows else None, "fit --json records have the names of the CSV columns")
+check_fit_row(doc[0], lib_sun[0], lib_sun[1], "Sun (json)", from_json=True)
 
 # the text answer for one star shows the same medians, rounded
 rc, out, err = run(["fit"] + G + opts_of(SUN))
@@ -229,7 +231,8 @@ t.ok("%.4f" % lib_sun[1].initial_mass_msun.median in out, "text shows the initia
 t.ok("semi-analytic" in out, "text says how accurate the grid is")
 
 # another prior and a seed: still the library's answer
-K_GIANT = {"teff_k": 4600.0, "teff_sigma_k": 80.0, "log_l": 1.6, "log_l_sigma": 0.05, "feh": 0.0, "feh_sigma": 0.1}
+K_GIANT = {"teff_k": 4600.0, "teff_k_sigma": 80.0, "log_l_lsun": 1.6, "log_l_lsun_sigma": 0.05, "feh": 0.0,
+           "feh_sigma": 0.1}
 for prior in ("chabrier2003", "log-flat"):
     want = lib_fit([obs_of(K_GIANT)], seed=9, prior=prior)[0]
     rc, out, err = run(["fit"] + G + opts_of(K_GIANT) + ["--prior", prior, "--seed", "9", "--csv"])
@@ -242,11 +245,11 @@ for prior in ("chabrier2003", "log-flat"):
 d = tmpdir()
 CATALOGUE = [  # name, then values (NaN: empty cell); an invented survey field
     ("QF-01", SUN),
-    ("QF-02", {"teff_k": 6350.0, "teff_sigma_k": 90.0, "log_l": 0.62, "log_l_sigma": 0.03, "feh": -0.15,
+    ("QF-02", {"teff_k": 6350.0, "teff_k_sigma": 90.0, "log_l_lsun": 0.62, "log_l_lsun_sigma": 0.03, "feh": -0.15,
                "feh_sigma": 0.08}),
     ("QF-03", K_GIANT),
-    ("QF-04", {"teff_k": 5200.0, "teff_sigma_k": 70.0, "feh": -0.3, "feh_sigma": 0.1, "log_g_cgs": 3.6,
-               "log_g_sigma": 0.1, "flux_w_m2": 3.1e-12, "flux_sigma_w_m2": 6e-14}),
+    ("QF-04", {"teff_k": 5200.0, "teff_k_sigma": 70.0, "feh": -0.3, "feh_sigma": 0.1, "log_g_cgs": 3.6,
+               "log_g_cgs_sigma": 0.1, "flux_w_m2": 3.1e-12, "flux_w_m2_sigma": 6e-14}),
 ]
 cols = ["name"] + [c for c, f in zip(OBS_COLS, OBS_FIELDS) if any(f in v for _, v in CATALOGUE)]
 fields = {c: f for c, f in zip(OBS_COLS, OBS_FIELDS)}
@@ -275,7 +278,7 @@ t.eq(out2, out, "standard input gives the same CSV as the file")
 
 rc, out, err = run(["fit"] + G + ["--input", cat, "--json"])
 t.eq(rc, EXIT_OK, "fit --input --json exit code (%s)" % err)
-stars = parse_json(out)["stars"]
+stars = read_records(out)
 t.eq(len(stars), 4, "JSON has every star")
 for row, (name, _), (lrc, r, _s) in zip(stars, CATALOGUE, want):
     t.eq(row["name"], name, "JSON star name")
@@ -284,7 +287,7 @@ for row, (name, _), (lrc, r, _s) in zip(stars, CATALOGUE, want):
 # a star the grid cannot match, with --keep-going: its row says so, the others are fitted
 bad_cat = cat_text + "QF-05," + ",".join(["800", "30"] + [""] * (len(cols) - 3)) + "\n"
 # the fifth star has no [Fe/H]: the model spans the grid's whole [Fe/H] range
-want5 = lib_fit([obs_of(v) for _, v in CATALOGUE] + [obs_of({"teff_k": 800.0, "teff_sigma_k": 30.0})])
+want5 = lib_fit([obs_of(v) for _, v in CATALOGUE] + [obs_of({"teff_k": 800.0, "teff_k_sigma": 30.0})])
 t.ok(want5[4][0] != 0, "the library cannot match an 800 K star")
 rc, out, err = run(["fit"] + G + ["--input", "-", "--keep-going", "--csv"], stdin=bad_cat)
 t.eq(rc, EXIT_RANGE, "--keep-going: exit code of the worst star (outside the grid)")
@@ -293,7 +296,7 @@ t.eq(len(rows), 5, "--keep-going: every star has a row")
 if len(rows) == 5:
     for row, (lrc, r, _s) in zip(rows, want5):
         check_fit_row(row, lrc, r, "--keep-going: star %s" % row["name"])
-    t.ok(rows[0]["initial_mass_Msun"] != parse_csv(out2)[0]["initial_mass_Msun"],
+    t.ok(rows[0]["initial_mass_msun"] != parse_csv(out2)[0]["initial_mass_msun"],
          "the model follows the catalogue: a star without [Fe/H] widens it")
 t.ok("line 6" in err and "QF-05" in err, "--keep-going names the line and star that failed (%r)" % err.strip())
 
@@ -309,12 +312,16 @@ fails_cleanly(["fit"] + G + ["--teff", "5772", "--teff-sigma", "50", "--prior", 
               ["salpeter"], "unknown prior")
 fails_cleanly(["fit"] + G, EXIT_USAGE, ["--teff"], "no measurements")
 fails_cleanly(["fit"] + G + ["--input", os.path.join(d, "missing.csv")], EXIT_FILE, ["missing.csv"], "missing file")
-fails_cleanly(["fit"] + G + ["--input", "-"], EXIT_USAGE, ["teff"], "catalogue without a teff column",
-              stdin="name,log_l\nA,1.0\n")
-fails_cleanly(["fit"] + G + ["--input", "-"], EXIT_USAGE, ["line 3", "teff_sigma", "abc"], "bad number in the catalogue",
-              stdin="name,teff,teff_sigma\nA,5772,50\nB,5000,abc\n")
+fails_cleanly(["fit"] + G + ["--input", "-"], EXIT_USAGE, ["teff_k", "teff_k_sigma", "parallax_mas_sigma"],
+              "catalogue without a teff_k column: the expected columns named", stdin="name,log_l_lsun\nA,1.0\n")
+fails_cleanly(["fit"] + G + ["--input", "-"], EXIT_USAGE, ["line 3", "teff_k_sigma", "abc"],
+              "bad number in the catalogue", stdin="name,teff_k,teff_k_sigma\nA,5772,50\nB,5000,abc\n")
 fails_cleanly(["fit"] + G + ["--input", "-"], EXIT_RANGE, ["line 2", "outside every track"],
-              "unmatched star without --keep-going", stdin="name,teff,teff_sigma\nA,800,30\n")
+              "unmatched star without --keep-going", stdin="name,teff_k,teff_k_sigma\nA,800,30\n")
+# the columns of version 0.1 are refused, naming today's
+for old, new in (("teff", "teff_k"), ("logg", "log_g_cgs"), ("flux_sigma", "flux_w_m2_sigma"), ("Teff_K", "teff_k")):
+    fails_cleanly(["fit"] + G + ["--input", "-"], EXIT_USAGE, ["'%s'" % old, "'%s'" % new, "log_l_lsun_sigma"],
+                  "catalogue column %s" % old, stdin="name,%s\nA,5772\n" % old)
 fails_cleanly(["fit"] + G + opts_of(SUN) + ["--distance", "10", "--distance-sigma", "1"], EXIT_USAGE,
               ["distance"], "a distance without a flux")
 
@@ -333,19 +340,20 @@ def lib_forecast(samples, times):
     return rc, r, list(st)[:len(times)]
 
 
-def check_iv(doc, iv, what):
-    for part in ("median", "lo", "hi"):
+def check_iv(doc, name, iv, what):
+    """An interval written as NAME (median), NAME_lo and NAME_hi."""
+    for part, key in (("median", name), ("lo", name + "_lo"), ("hi", name + "_hi")):
         want = getattr(iv, part)
-        t.ok(same_number(json_number(doc[part]), want if math.isfinite(want) else float("nan")),
-             "%s.%s = %r, library %r" % (what, part, doc[part], want))
+        t.ok(same_number(json_number(doc[key]), want if math.isfinite(want) else float("nan")),
+             "%s: %s = %r, library %r" % (what, key, doc[key], want))
 
 
 def check_forecast(doc, r, states, what):
     t.eq(doc["phase_now"], lib.phase_key(r.phase_now), what + ": phase now")
     t.ok(same_number(json_number(doc["ms_prob"]), r.ms_prob), what + ": ms_prob")
-    check_iv(doc["ms_left_yr"], r.ms_left_yr, what + ": ms_left_yr")
-    check_iv(doc["end_in_yr"], r.end_in_yr, what + ": end_in_yr")
-    check_iv(doc["remnant_mass_Msun"], r.remnant_mass_msun, what + ": remnant mass")
+    check_iv(doc, "ms_left_yr", r.ms_left_yr, what + ": ms_left_yr")
+    check_iv(doc, "end_in_yr", r.end_in_yr, what + ": end_in_yr")
+    check_iv(doc, "remnant_mass_msun", r.remnant_mass_msun, what + ": remnant mass")
     t.eq(doc["remnant"], lib.remnant_key(r.remnant), what + ": remnant")
     t.eq([k["keypoint"] for k in doc["keypoints"]], [r.events[k].name.decode() for k in range(r.n_events)],
          what + ": keypoints ahead")
@@ -355,9 +363,8 @@ def check_forecast(doc, r, states, what):
     for row, s in zip(doc["states"], states):
         t.ok(same_number(json_number(row["dt_yr"]), s.dt_yr), what + ": state time")
         t.eq(row["phase"], lib.phase_key(s.phase), what + ": state phase")
-        t.ok(same_number(json_number(row["log_L_Lsun"]), s.log_l.median if math.isfinite(s.log_l.median)
-                         else float("nan")), what + ": state log L")
-        t.ok(same_number(json_number(row["mass_Msun"]), s.mass_msun.median), what + ": state mass")
+        for name in ("log_l_lsun", "teff_k", "r_rsun", "mass_msun"):
+            check_iv(row, name, getattr(s, name), what + ": state " + name)
 
 
 sun_now = Sample(1.0, 0.014, 4.57e9, 0.0, 0.0, 0, 0)
@@ -367,7 +374,7 @@ rc, out, err = run(["forecast"] + G + ["--mass", "1", "--z", "0.014", "--age", "
                                        "--json"])
 t.eq(rc, EXIT_OK, "forecast --json exit code (%s)" % err)
 doc = parse_json(out)
-t.eq(doc["samples"], 1, "an exact star is one sample")
+t.eq(doc["n_samples"], 1, "an exact star is one sample")
 check_forecast(doc, lr, lst, "forecast of the Sun")
 t.eq(doc["states"][1]["phase"] if len(doc["states"]) > 1 else None, "wd", "8 Gyr on, the Sun is a white dwarf")
 
@@ -377,7 +384,7 @@ t.eq(rc, EXIT_OK, "forecast --csv exit code")
 rows = parse_csv(out)
 t.eq(len(rows), 2, "forecast CSV: a row a time asked")
 for row, s in zip(rows, lst):
-    t.ok(same_number(num(row["dt_yr"]), s.dt_yr) and same_number(num(row["mass_Msun"]), s.mass_msun.median),
+    t.ok(same_number(num(row["dt_yr"]), s.dt_yr) and same_number(num(row["mass_msun"]), s.mass_msun.median),
          "forecast CSV state at %g yr" % s.dt_yr)
 rc, out, err = run(["forecast"] + G + ["--mass", "1", "--z", "0.014", "--age", "4.57Gyr", "--csv"])
 rows = parse_csv(out)
@@ -392,7 +399,7 @@ lrc, lr, lst = lib_forecast(list(fsmp), [2e9])
 rc, out, err = run(["forecast"] + G + opts_of(SUN) + ["--samples", "200", "--seed", "5", "--at", "2Gyr", "--json"])
 t.eq(rc, EXIT_OK, "forecast from measurements exit code (%s)" % err)
 doc = parse_json(out)
-t.eq(doc["samples"], 200, "forecast uses the draws asked for")
+t.eq(doc["n_samples"], 200, "forecast uses the draws asked for")
 check_forecast(doc, lr, lst, "forecast of the fitted Sun")
 
 # ------------------------------------------------------------------ bad inputs of forecast

@@ -185,7 +185,7 @@ START_TEST(deterministic)
     ck_assert(ra.phase_prob[HRT_PHASE_RGB] >= HRT_FIT_MULTIMODAL_PROB);
     ck_assert(ra.phase_prob[HRT_PHASE_CHEB] >= HRT_FIT_MULTIMODAL_PROB);
     double sum = 0;
-    for (int p = 0; p < HRT_PHASE_COUNT; p++) sum += ra.phase_prob[p];
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++) sum += ra.phase_prob[p];
     ck_assert(fabs(sum - 1.0) < 1e-9);
 }
 END_TEST
@@ -262,8 +262,9 @@ static double file_log_age(size_t iz, double m, int j)
     char name[64];
     hid_t f = H5Fopen(path, H5F_ACC_RDONLY, H5P_DEFAULT);
     ck_assert(f >= 0);
-    snprintf(name, sizeof name, "metallicity/%zu/initial_mass", iz);
+    snprintf(name, sizeof name, "metallicity/%zu/initial_mass_msun", iz);
     hid_t dm = H5Dopen2(f, name, H5P_DEFAULT);
+    ck_assert_msg(dm >= 0, "%s: no dataset %s", path, name);
     hid_t sp = H5Dget_space(dm);
     hsize_t dims[2];
     H5Sget_simple_extent_dims(sp, dims, NULL);
@@ -275,8 +276,9 @@ static double file_log_age(size_t iz, double m, int j)
     for (size_t i = 0; i < dims[0]; i++)
         if (fabs(mass[i] - m) < 1e-12) row = i;
     ck_assert(row < dims[0]);
-    snprintf(name, sizeof name, "metallicity/%zu/log_age", iz);
+    snprintf(name, sizeof name, "metallicity/%zu/log_age_yr", iz);
     hid_t da = H5Dopen2(f, name, H5P_DEFAULT);
+    ck_assert_msg(da >= 0, "%s: no dataset %s", path, name);
     sp = H5Dget_space(da);
     H5Sget_simple_extent_dims(sp, dims, NULL);
     double *la = malloc(dims[0] * dims[1] * sizeof *la);

@@ -82,9 +82,13 @@ static void fuzz_check_state(const hrt_state *s, int rc)
     if (rc != HRT_OK || (s->flags & (HRT_FLAG_DARK | HRT_FLAG_NOT_MODELLED)))
         return;
     /* A good answer is a number and its phase is a phase. */
-    FUZZ_REQUIRE_STATE(s->phase > HRT_PHASE_UNKNOWN && s->phase < HRT_PHASE_COUNT, s);
+    FUZZ_REQUIRE_STATE(s->phase > HRT_PHASE_UNKNOWN && s->phase < HRT_PHASE_SLOTS &&
+                           hrt_phase_from_key(hrt_phase_key(s->phase)) == s->phase, s);
     FUZZ_REQUIRE_STATE(!isnan(s->log_l_lsun) && !isnan(s->log_teff_k) && !isnan(s->log_r_rsun), s);
     FUZZ_REQUIRE_STATE(!isnan(s->mass_msun), s);
+    /* and the remnant it will leave is a remnant kind */
+    FUZZ_REQUIRE_STATE(s->remnant >= 0 && s->remnant < HRT_REMNANT_SLOTS &&
+                           hrt_remnant_from_key(hrt_remnant_key(s->remnant)) == s->remnant, s);
 }
 
 /* Ask an opened grid everything, at masses, metallicities and ages taken

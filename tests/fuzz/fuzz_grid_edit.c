@@ -1,7 +1,8 @@
 /* libFuzzer target: a valid small grid edited through the HDF5 API by a
  * program read from the fuzz bytes (element values, special numbers,
- * deleted, retyped and reshaped datasets, changed and extra attributes,
- * empty and extra groups, links), then opened and queried.  Unlike raw
+ * deleted, retyped and reshaped datasets, changed and extra attributes
+ * and units, rewritten code tables, empty and extra groups, links), then
+ * opened and queried.  Unlike raw
  * bytes, nearly every input is a well-formed HDF5 file, so the fuzzing
  * happens in hrtrail's own validation and interpolation. */
 #include <stdint.h>
@@ -14,21 +15,24 @@ static char base_path[64], path[64];
 static unsigned char *base;
 static size_t base_size;
 
+/* The datasets of the seed grid (format 2).  The committed inputs name
+ * them by index (a byte modulo N_DSETS): new entries go at the end. */
 static const char *const dsets[] = {
-    "phase_keys", "remnant_keys", "routes/names", "routes/lower/keypoint_names", "routes/lower/keypoint_eep",
+    "phases/key", "remnants/key", "routes/names", "routes/lower/keypoint_names", "routes/lower/keypoint_eep",
     "routes/lower/segment_samples", "routes/upper/keypoint_names", "routes/upper/keypoint_eep",
     "routes/upper/segment_samples",
 #define GROUP_DSETS(g)                                                                                         \
-    "metallicity/" g "/initial_mass", "metallicity/" g "/route", "metallicity/" g "/n_eep",                  \
-        "metallicity/" g "/remnant", "metallicity/" g "/remnant_mass", "metallicity/" g "/route_boundary_mass", \
-        "metallicity/" g "/log_age", "metallicity/" g "/log_L", "metallicity/" g "/log_Teff",                 \
-        "metallicity/" g "/log_R", "metallicity/" g "/mass", "metallicity/" g "/he_core_mass",                \
-        "metallicity/" g "/co_core_mass", "metallicity/" g "/phase"
-    GROUP_DSETS("0"), GROUP_DSETS("1")};
+    "metallicity/" g "/initial_mass_msun", "metallicity/" g "/route", "metallicity/" g "/n_eep",             \
+        "metallicity/" g "/remnant", "metallicity/" g "/remnant_mass_msun",                                  \
+        "metallicity/" g "/route_boundary_mass_msun", "metallicity/" g "/log_age_yr",                        \
+        "metallicity/" g "/log_l_lsun", "metallicity/" g "/log_teff_k", "metallicity/" g "/log_r_rsun",      \
+        "metallicity/" g "/mass_msun", "metallicity/" g "/he_core_mass_msun",                                \
+        "metallicity/" g "/co_core_mass_msun", "metallicity/" g "/phase"
+    GROUP_DSETS("0"), GROUP_DSETS("1"), "phases/code", "remnants/code"};
 #define N_DSETS (sizeof dsets / sizeof dsets[0])
 static const char *const groups[] = {"/", "routes", "routes/lower", "routes/upper", "metallicity", "metallicity/0",
                                      "metallicity/1"};
-static const char *const attr_names[] = {"format", "format_version", "z_ref", "description", "created_by", "Z",
+static const char *const attr_names[] = {"format", "format_version", "z_ref", "description", "created_by", "z",
                                          "units", "extra"};
 
 typedef struct reader {
@@ -72,12 +76,49 @@ static void take_string(reader *r, char *out, size_t cap)
     out[n] = '\0';
 }
 
-/* Replace dataset name by one of the given type and shape. */
+/* The text of a scalar string attribute `units` of dataset name into out ("" if none). */
+static void units_of(hid_t f, const char *name, char *out, size_t cap)
+{
+    out[0] = '\0';
+    if (H5Aexists_by_name(f, name, "units", H5P_DEFAULT) <= 0)
+        return;
+    hid_t a = H5Aopen_by_name(f, name, "units", H5P_DEFAULT, H5P_DEFAULT);
+    hid_t t = a >= 0 ? H5Aget_type(a) : -1, m = H5Tcopy(H5T_C_S1);
+    H5Tset_size(m, H5T_VARIABLE);
+    char *v = NULL;
+    if (t >= 0 && H5Tis_variable_str(t) > 0 && H5Aread(a, m, &v) >= 0 && v) {
+        snprintf(out, cap, "%s", v);
+        H5free_memory(v);
+    }
+    H5Tclose(m);
+    if (t >= 0)
+        H5Tclose(t);
+    if (a >= 0)
+        H5Aclose(a);
+}
+
+/* Replace dataset name by one of the given type and shape.  The units
+ * attribute is kept, so that the reader judges the new type, shape and
+ * values rather than stopping at a missing unit. */
 static void replace_dataset(hid_t f, const char *name, hid_t type, int rank, const hsize_t *dims, reader *r)
 {
+    char units[64];
+    units_of(f, name, units, sizeof units);
     H5Ldelete(f, name, H5P_DEFAULT);
     hid_t s = rank == 0 ? H5Screate(H5S_SCALAR) : H5Screate_simple(rank, dims, NULL);
     hid_t d = H5Dcreate2(f, name, type, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    if (d >= 0 && units[0]) {
+        hid_t st = H5Tcopy(H5T_C_S1), ss = H5Screate(H5S_SCALAR);
+        H5Tset_size(st, H5T_VARIABLE);
+        const char *u = units;
+        hid_t a = H5Acreate2(d, "units", st, ss, H5P_DEFAULT, H5P_DEFAULT);
+        if (a >= 0) {
+            H5Awrite(a, st, &u);
+            H5Aclose(a);
+        }
+        H5Sclose(ss);
+        H5Tclose(st);
+    }
     hssize_t np = H5Sget_simple_extent_npoints(s);
     if (d >= 0 && np > 0 && np < 100000 && H5Tget_class(type) != H5T_STRING && H5Tget_class(type) != H5T_COMPOUND) {
         double *v = malloc((size_t)np * sizeof *v);

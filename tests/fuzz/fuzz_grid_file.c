@@ -1,7 +1,7 @@
 /* libFuzzer target: arbitrary bytes as a grid file.  The bytes are written
  * to a temporary file and opened with hrt_grid_open; a grid that opens is
  * then queried through every path (fuzz_exercise).  Seeds: small valid
- * grids (corpus/grid_file/). */
+ * grids of the current format (corpus/fuzz_grid_file/, written by mkseed). */
 #include <stdint.h>
 
 #include "fuzz_common.h"

@@ -1,7 +1,8 @@
 #!/bin/sh
 # Library hygiene, from the symbol tables (binutils nm):
 #  1. no writable data of our own in the shared library (nm types b B d D,
-#     apart from what the toolchain itself puts there),
+#     apart from what the toolchain itself puts there and constant tables
+#     the dynamic linker makes read-only after relocation),
 #  2. no library object refers to abort, exit, the stdio printing functions,
 #     stdout/stderr, assert, GSL's handler setters or non-reentrant libc calls,
 #  3. only hrt_ symbols are exported.
@@ -16,7 +17,18 @@ NM=${NM:-nm}
 # object; none of them is state of ours.
 toolchain='^(__TMC_END__|completed\.[0-9]+|_edata|_end|__bss_start|_DYNAMIC|_GLOBAL_OFFSET_TABLE_|__dso_handle|__data_start|data_start|__do_global_dtors_aux_fini_array_entry|__frame_dummy_init_array_entry|__init_array_(start|end)|__fini_array_(start|end)|_init|_fini|__(odr_)?asan.*|___asan.*|__ubsan.*|__sancov.*|__tsan.*|\.L.*)$'
 
-writable=$($NM --defined-only "$so" | awk '$2 ~ /^[bBdDgGsS]$/ {print $3}' | grep -Ev "$toolchain")
+# Constant data holding pointers (const tables of strings) sits in
+# .data.rel.ro, which nm also shows as d: the dynamic linker makes it
+# read-only after relocation (the GNU_RELRO segment), so a symbol whose
+# address lies inside that segment is not writable state.
+relro=$(${READELF:-readelf} -lW "$so" 2>/dev/null | awk '$1 == "GNU_RELRO" {print $3, $6}')
+writable=$($NM --defined-only "$so" | awk -v relro="$relro" '
+    function hex(s,    v, i) { sub(/^0x/, "", s); v = 0
+        for (i = 1; i <= length(s); i++) v = v * 16 + index("0123456789abcdef", tolower(substr(s, i, 1))) - 1
+        return v }
+    BEGIN { n = split(relro, r, " "); lo = n == 2 ? hex(r[1]) : 0; hi = n == 2 ? lo + hex(r[2]) : 0 }
+    $2 ~ /^[bBdDgGsS]$/ { a = hex($1); if (!($2 ~ /^[dD]$/ && a >= lo && a < hi)) print $3 }' |
+    grep -Ev "$toolchain")
 if [ -n "$writable" ]; then
     echo "hygiene: writable data symbols in $so:"
     echo "$writable" | sed 's/^/    /'

@@ -158,7 +158,7 @@ static void sweep(const char *name, op_fn op)
         points++;
     }
     total_points += points;
-    printf("alloc: %-34s %4ld allocation points, each failed once\n", name, points);
+    printf("alloc: %-36s %4ld allocation points, each failed once\n", name, points);
 }
 
 /* The reference answers, computed without failures. */
@@ -428,7 +428,7 @@ static int op_import(void)
         HARD_CHECK(imp == NULL, "hrt_import_new failed but returned an import");
         return check_failure("hrt_import_new", rc, &e);
     }
-    rc = hrt_import_map(imp, "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp initial_mass=1.0 Z=0.014", &e);
+    rc = hrt_import_map(imp, "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp initial_mass_msun=1.0 z=0.014", &e);
     if (rc == HRT_OK)
         rc = hrt_import_add_file(imp, track_file, NAN, &e);
     if (rc == HRT_OK)
@@ -454,6 +454,29 @@ static int op_import(void)
     return rc;
 }
 
+
+/* Converting a format-1 file (hrt_grid_upgrade): a failure anywhere must be
+ * HRT_E_NOMEM and leave no file; a success is the reference file, byte for
+ * byte. */
+static char v1_file[128], up_ref[128], up_out[128];
+
+static int op_upgrade(void)
+{
+    hrt_error e = {0, ""};
+    int rc = hrt_grid_upgrade(v1_file, up_out, &e);
+    int inj = injected;
+    disarm();
+    if (rc != HRT_OK) {
+        check_failure("hrt_grid_upgrade", rc, &e);
+        HARD_CHECK(access(up_out, F_OK) != 0, "failed upgrade left '%s'", up_out);
+        HARD_CHECK(count_tmp_files() == 0, "failed upgrade left a temporary file");
+    } else {
+        HARD_CHECK(files_equal(up_out, up_ref), "upgrade through the failure of allocation %ld (injected %d) "
+                   "differs from the reference", fail_at, inj);
+    }
+    unlink(up_out);
+    return rc;
+}
 
 /* Fitting and forecasting, and a population run, on the shared grid: each
  * failure HRT_E_NOMEM, and a run without failure the reference answer. */
@@ -574,6 +597,14 @@ int main(void)
           "5000 0.30 3.740 tams\n", tf);
     fclose(tf);
     sweep("hrt_import_* (read and write a grid)", op_import);
+    snprintf(v1_file, sizeof v1_file, "%s/v1.h5", dir);
+    snprintf(up_ref, sizeof up_ref, "%s/upgraded-ref.h5", dir);
+    snprintf(up_out, sizeof up_out, "%s/upgraded.h5", dir);
+    HARD_CHECK(synth_downgrade_v1(grid_path, v1_file) == 0, "format-1 copy of the synthetic grid");
+    HARD_CHECK(hrt_grid_upgrade(v1_file, up_ref, &e) == HRT_OK, "reference upgrade: %s", e.message);
+    sweep("hrt_grid_upgrade (format 1)", op_upgrade);
+    unlink(v1_file);
+    unlink(up_ref);
     {
         hrt_error e2;
         ref_fit_rc = do_fit(&ref_fit, &ref_fc, &ref_fc_rc, &e2);

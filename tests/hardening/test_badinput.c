@@ -230,7 +230,7 @@ static void nulls_and_zeros(void)
          "attribute names empty, reserved, with '/'; empty value accepted");
     double age[6] = {7, 7.1, 7.2, 7.3, 7.4, 7.5}, l[6] = {0}, t[6] = {3.7, 3.7, 3.7, 3.7, 3.7, 3.7},
            mm[6] = {1, 1, 1, 1, 1, 1}, c0[6] = {0};
-    int ph[6] = {2, 2, 2, 2, 2, 2};
+    int ph[6] = {HRT_PHASE_MS, HRT_PHASE_MS, HRT_PHASE_MS, HRT_PHASE_MS, HRT_PHASE_MS, HRT_PHASE_MS};
     size_t kps[2] = {0, 5};
     struct {
         const char *name;
@@ -264,7 +264,7 @@ static void nulls_and_zeros(void)
     }
     double inf_col[6] = {0, 0, INFINITY, 0, 0, 0}, neg[6] = {1, 1, -0.5, 1, 1, 1};
     hrt_track_data d = {1.0, 0, 0, NAN, 6, age, inf_col, t, NULL, mm, c0, c0, ph, 2, kps};
-    CASE("builder track", hrt_builder_add_track(b, 0.02, &d, &e) == HRT_E_DOMAIN && strstr(e.message, "log_L[2]"),
+    CASE("builder track", hrt_builder_add_track(b, 0.02, &d, &e) == HRT_E_DOMAIN && strstr(e.message, "log_l_lsun[2]"),
          "an infinite log L: %s", e.message);
     d.log_l_lsun = l;
     d.mass_msun = neg;
@@ -359,6 +359,10 @@ static void not_grids(void)
     CASE("truncated", hrt_grid_open(p, &g, &e) == HRT_E_FORMAT, "signature and garbage: %s", e.message);
     unlink(p);
     free(bytes);
+    snprintf(p, sizeof p, "%s/zero.h5", dir);
+    unlink(p);
+    snprintf(p, sizeof p, "%s/text.h5", dir);
+    unlink(p);
 }
 
 /* ---- damaged grids (what test_core's damaged_files does not cover) ------ */
@@ -448,17 +452,53 @@ static void d_zref_nan(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, NAN); }
 static void d_zref_zero(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, 0.0); }
 static void d_zref_two(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, 2.0); }
 static void d_zref_subnormal(void) { attr_num("/", "z_ref", H5T_IEEE_F64LE, 4e-313); }
-static void d_phase_keys_missing(void) { del("phase_keys"); }
-static void d_phase_key_unknown(void)
+/* phases/ and remnants/: the codes of HRT_PHASE_LIST and HRT_REMNANT_LIST
+ * in list order, with their keys and names. */
+static void code_table(const char *group, int remnants, const char *replace_key, int at, int drop)
 {
-    const char *k[] = {"pre_ms", "ms", "mystery"};
-    ds_strings("phase_keys", 3, k);
+    const char *k[64];
+    double c[64];
+    int n = 0;
+    for (size_t i = 0; i < (remnants ? HRT_REMNANT_N : HRT_PHASE_N); i++) {
+        int code = remnants ? hrt_remnant_code(i) : hrt_phase_code(i);
+        if (code == drop)
+            continue;
+        k[n] = n == at && replace_key ? replace_key : remnants ? hrt_remnant_key(code) : hrt_phase_key(code);
+        c[n++] = code;
+    }
+    char path[64];
+    snprintf(path, sizeof path, "%s/key", group);
+    ds_strings(path, n, k);
+    snprintf(path, sizeof path, "%s/code", group);
+    del(path);
+    hsize_t d = (hsize_t)n;
+    hid_t s = H5Screate_simple(1, &d, NULL);
+    hid_t ds = H5Dcreate2(H5F, path, H5T_STD_I32LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Dwrite(ds, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, c);
+    H5Dclose(ds);
+    H5Sclose(s);
 }
-static void d_phase_keys_numbers(void) { ds_num("phase_keys", H5T_IEEE_F64LE, 1, 15, 0, 1.0); }
-static void d_remnant_key_unknown(void)
+static void d_phases_missing(void) { del("phases"); }
+static void d_phase_key_missing(void) { del("phases/key"); }
+static void d_phase_key_unknown(void) { code_table("phases", 0, "mystery", 3, -1); }
+static void d_phase_key_numbers(void) { ds_num("phases/key", H5T_IEEE_F64LE, 1, HRT_PHASE_N, 0, 1.0); }
+static void d_phase_code_float(void) { ds_num("phases/code", H5T_IEEE_F64LE, 1, HRT_PHASE_N, 0, 11.0); }
+static void d_phase_code_short(void) { ds_num("phases/code", H5T_STD_I32LE, 1, 3, 0, 0.0); }
+static void d_phase_code_other(void) { elem("phases/code", 4, 0, HRT_PHASE_TPAGB); } /* 'rgb' says 32 */
+static void d_phase_code_negative(void) { elem("phases/code", 0, 0, -1); }
+static void d_phase_code_huge(void) { elem("phases/code", 7, 0, 1e6); }
+static void d_phase_not_listed(void) { code_table("phases", 0, NULL, -1, HRT_PHASE_CHEB); }
+static void d_remnants_missing(void) { del("remnants"); }
+static void d_remnant_key_unknown(void) { code_table("remnants", 1, "strange_star", 3, -1); }
+static void d_remnant_code_other(void) { elem("remnants/code", 1, 0, HRT_REMNANT_NS); } /* 'he_wd' says 20 */
+static void d_remnant_not_listed(void) { code_table("remnants", 1, NULL, -1, HRT_REMNANT_HE_WD); }
+static void d_old_key_tables(void)
 {
-    const char *k[] = {"none", "he_wd", "co_wd", "strange_star"};
-    ds_strings("remnant_keys", 4, k);
+    /* format 1's tables beside format 2's data: the tables of format 2 are
+     * what counts */
+    del("phases");
+    const char *k[] = {"pre_ms", "ms", "subgiant", "rgb", "cheb"};
+    ds_strings("phase_keys", 5, k);
 }
 static void d_route_names_missing(void) { del("routes/names"); }
 static void d_route_names_twice(void)
@@ -475,66 +515,81 @@ static void d_keypoints_one(void)
 static void d_keypoint_eep0(void) { elem("routes/low/keypoint_eep", 0, 0, 1); }
 static void d_segment_mismatch(void) { elem("routes/low/segment_samples", 1, 0, 29); }
 static void d_segment_zero(void) { elem("routes/low/segment_samples", 0, 0, 0); }
-static void d_mass_empty(void) { ds_num(M0 "initial_mass", H5T_IEEE_F64LE, 1, 0, 0, 1.0); }
-static void d_mass_2d(void) { ds_num(M0 "initial_mass", H5T_IEEE_F64LE, 2, 20, 1, 1.0); }
-static void d_mass_negative(void) { elem(M0 "initial_mass", 0, 0, -0.3); }
-static void d_mass_nan(void) { elem(M0 "initial_mass", 3, 0, NAN); }
+static void d_mass_empty(void) { ds_num(M0 "initial_mass_msun", H5T_IEEE_F64LE, 1, 0, 0, 1.0); }
+static void d_mass_2d(void) { ds_num(M0 "initial_mass_msun", H5T_IEEE_F64LE, 2, 20, 1, 1.0); }
+static void d_mass_negative(void) { elem(M0 "initial_mass_msun", 0, 0, -0.3); }
+static void d_mass_nan(void) { elem(M0 "initial_mass_msun", 3, 0, NAN); }
 static void d_mass_text(void)
 {
     const char *k[20];
     for (int i = 0; i < 20; i++)
         k[i] = "1.0";
-    ds_strings(M0 "initial_mass", 20, k);
+    ds_strings(M0 "initial_mass_msun", 20, k);
 }
+static void d_mass_int(void) { ds_num(M0 "initial_mass_msun", H5T_STD_I32LE, 1, 20, 0, 1.0); }
+static void d_route_float(void) { ds_num(M0 "route", H5T_IEEE_F64LE, 1, 20, 0, 0.0); }
 static void d_route_negative(void) { elem(M0 "route", 0, 0, -1); }
 static void d_route_five(void) { elem(M0 "route", 19, 0, 5); }
 static void d_neep_one(void) { elem(M0 "n_eep", 4, 0, 1); }
 static void d_remnant_index(void) { elem(M0 "remnant", 2, 0, 99); }
-static void d_remnant_mass_nan(void) { elem(M0 "remnant_mass", 2, 0, NAN); }
-static void d_remnant_wd_heavy(void) { elem(M0 "remnant_mass", 12, 0, 2.0); }
-static void d_boundary_missing(void) { del(M0 "route_boundary_mass"); }
-static void d_boundary_nan(void) { elem(M0 "route_boundary_mass", 0, 0, NAN); }
-static void d_age_shape(void) { ds_num(M0 "log_age", H5T_IEEE_F64LE, 2, 20, 60, 9.0); }
+static void d_remnant_mass_nan(void) { elem(M0 "remnant_mass_msun", 2, 0, NAN); }
+static void d_remnant_wd_heavy(void) { elem(M0 "remnant_mass_msun", 12, 0, 2.0); }
+static void d_boundary_missing(void) { del(M0 "route_boundary_mass_msun"); }
+static void d_boundary_nan(void) { elem(M0 "route_boundary_mass_msun", 0, 0, NAN); }
+static void d_age_shape(void) { ds_num(M0 "log_age_yr", H5T_IEEE_F64LE, 2, 20, 60, 9.0); }
 static void d_age_text(void)
 {
-    del(M0 "log_age");
+    del(M0 "log_age_yr");
     hid_t t = H5Tcopy(H5T_C_S1);
     H5Tset_size(t, 8);
     hsize_t d[2] = {20, 61};
     hid_t s = H5Screate_simple(2, d, NULL);
-    hid_t ds = H5Dcreate2(H5F, M0 "log_age", t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    hid_t ds = H5Dcreate2(H5F, M0 "log_age_yr", t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
     H5Dclose(ds);
     H5Sclose(s);
     H5Tclose(t);
 }
 static void d_logl_compound(void)
 {
-    del(M0 "log_L");
+    del(M0 "log_l_lsun");
     hid_t t = H5Tcreate(H5T_COMPOUND, 16);
     H5Tinsert(t, "a", 0, H5T_NATIVE_DOUBLE);
     H5Tinsert(t, "b", 8, H5T_NATIVE_DOUBLE);
     hsize_t d[2] = {20, 61};
     hid_t s = H5Screate_simple(2, d, NULL);
-    hid_t ds = H5Dcreate2(H5F, M0 "log_L", t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    hid_t ds = H5Dcreate2(H5F, M0 "log_l_lsun", t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
     H5Dclose(ds);
     H5Sclose(s);
     H5Tclose(t);
 }
-static void d_logr_missing(void) { del(M0 "log_R"); }
-static void d_he_negative(void) { elem(M0 "he_core_mass", 1, 5, -0.1); }
-static void d_teff_inf(void) { elem(M0 "log_Teff", 1, 5, INFINITY); }
-static void d_mass_huge(void) { ds_num(M0 "mass", H5T_IEEE_F64LE, 2, 20, 61, 1e308); }
-static void d_logl_huge(void) { elem(M0 "log_L", 2, 7, 1e300); }
-static void d_remnant_heavy(void) { elem(M0 "remnant_mass", 15, 0, 100.0); }
-static void d_z_missing(void) { attr_del("metallicity/2", "Z"); }
-static void d_z_text(void) { attr_text("metallicity/2", "Z", "0.01", 1); }
-static void d_z_nan(void) { attr_num("metallicity/2", "Z", H5T_IEEE_F64LE, NAN); }
-static void d_z_zero(void) { attr_num("metallicity/0", "Z", H5T_IEEE_F64LE, 0.0); }
+static void d_logr_missing(void) { del(M0 "log_r_rsun"); }
+static void d_he_negative(void) { elem(M0 "he_core_mass_msun", 1, 5, -0.1); }
+static void d_teff_inf(void) { elem(M0 "log_teff_k", 1, 5, INFINITY); }
+static void d_mass_huge(void)
+{
+    ds_num(M0 "mass_msun", H5T_IEEE_F64LE, 2, 20, 61, 1e308);
+    attr_text(M0 "mass_msun", "units", "solMass", 1);
+}
+static void d_logl_huge(void) { elem(M0 "log_l_lsun", 2, 7, 1e300); }
+static void d_remnant_heavy(void) { elem(M0 "remnant_mass_msun", 15, 0, 100.0); }
+static void d_units_wrong(void) { attr_text(M0 "log_teff_k", "units", "K", 1); }
+static void d_units_v1(void) { attr_text(M0 "initial_mass_msun", "units", "Msun", 1); }
+static void d_units_missing(void) { attr_del(M0 "log_l_lsun", "units"); }
+static void d_units_number(void) { attr_num(M0 "log_age_yr", "units", H5T_IEEE_F64LE, 1.0); }
+static void d_units_array(void) { attr_text(M0 "he_core_mass_msun", "units", "solMass", 2); }
+static void d_units_case(void) { attr_text(M0 "remnant_mass_msun", "units", "solmass", 1); }
+static void d_version_one(void) { attr_num("/", "format_version", H5T_STD_I32LE, 1); }
+static void d_old_name(void) { H5Lmove(H5F, M0 "log_teff_k", H5F, M0 "log_Teff", H5P_DEFAULT, H5P_DEFAULT); }
+static void d_z_missing(void) { attr_del("metallicity/2", "z"); }
+static void d_z_text(void) { attr_text("metallicity/2", "z", "0.01", 1); }
+static void d_z_nan(void) { attr_num("metallicity/2", "z", H5T_IEEE_F64LE, NAN); }
+static void d_z_old(void) { H5Arename_by_name(H5F, "metallicity/2", "z", "Z", H5P_DEFAULT); }
+static void d_z_zero(void) { attr_num("metallicity/0", "z", H5T_IEEE_F64LE, 0.0); }
 static void d_group_gap(void) { H5Lmove(H5F, "metallicity/3", H5F, "metallicity/7", H5P_DEFAULT, H5P_DEFAULT); }
 static void d_dangling_link(void)
 {
-    del(M0 "mass");
-    H5Lcreate_soft("/nowhere", H5F, M0 "mass", H5P_DEFAULT, H5P_DEFAULT);
+    del(M0 "mass_msun");
+    H5Lcreate_soft("/nowhere", H5F, M0 "mass_msun", H5P_DEFAULT, H5P_DEFAULT);
 }
 static void d_group_as_dataset(void)
 {
@@ -554,17 +609,46 @@ static void x_extra_dataset(void)
 {
     ds_num("notes", H5T_IEEE_F64LE, 1, 3, 0, 1.0);
     ds_num(M0 "extra_column", H5T_IEEE_F64LE, 2, 20, 61, 0.0);
+    ds_num("phases/extra", H5T_STD_I32LE, 1, 2, 0, 7.0);
 }
 static void x_nan_padding(void)
 {
     /* track 0 is on route low: EEPs 51..60 are padding */
-    elem(M0 "log_L", 0, 55, 12345.0);
-    elem(M0 "log_age", 0, 55, -1.0);
+    elem(M0 "log_l_lsun", 0, 55, 12345.0);
+    elem(M0 "log_age_yr", 0, 55, -1.0);
     elem(M0 "phase", 0, 58, 77);
 }
-static void x_units_missing(void) { attr_del(M0 "log_L", "units"); }
+static void x_long_name(void) /* long_name is description, not schema */
+{
+    attr_del(M0 "log_l_lsun", "long_name");
+    attr_text(M0 "mass_msun", "long_name", "anything at all", 1);
+}
+static void x_codes_reordered(void)
+{
+    /* the code tables in another order, with a fixed-length string type */
+    del("phases/key");
+    del("phases/code");
+    hid_t t = H5Tcopy(H5T_C_S1);
+    H5Tset_size(t, 12);
+    char k[HRT_PHASE_N][12] = {{0}}; /* all 12 bytes written: padded with NULs */
+    int c[HRT_PHASE_N];
+    for (size_t i = 0; i < HRT_PHASE_N; i++) {
+        c[i] = hrt_phase_code(HRT_PHASE_N - 1 - i);
+        snprintf(k[i], sizeof k[i], "%s", hrt_phase_key(c[i]));
+    }
+    hsize_t d = HRT_PHASE_N;
+    hid_t s = H5Screate_simple(1, &d, NULL);
+    hid_t ds = H5Dcreate2(H5F, "phases/key", t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Dwrite(ds, t, H5S_ALL, H5S_ALL, H5P_DEFAULT, k);
+    H5Dclose(ds);
+    ds = H5Dcreate2(H5F, "phases/code", H5T_STD_I16LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    H5Dwrite(ds, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, c);
+    H5Dclose(ds);
+    H5Sclose(s);
+    H5Tclose(t);
+}
 static void x_remnant_none(void) { elem(M0 "remnant", 1, 0, 0); } /* track 1 leaves no known remnant */
-static void x_remnant_steep(void) { elem(M0 "remnant_mass", 8, 0, 0.01); } /* last low-route track: 0.01 Msun WD */
+static void x_remnant_steep(void) { elem(M0 "remnant_mass_msun", 8, 0, 0.01); } /* last low-route track: 0.01 Msun WD */
 
 typedef void (*damage_fn)(void);
 static const struct {
@@ -585,50 +669,83 @@ static const struct {
     {"z_ref: 0", d_zref_zero, HRT_E_FORMAT, "'z_ref': 0"},
     {"z_ref: 2", d_zref_two, HRT_E_FORMAT, "'z_ref': 2"},
     {"z_ref: 4e-313 (subnormal)", d_zref_subnormal, HRT_E_FORMAT, "[Fe/H] = log10(0.001 / z_ref 4e-313) is not a finite"},
-    {"phase_keys: missing", d_phase_keys_missing, HRT_E_FORMAT, "phase_keys: dataset is missing"},
-    {"phase_keys: unknown key", d_phase_key_unknown, HRT_E_FORMAT, "unknown key 'mystery'"},
-    {"phase_keys: numbers", d_phase_keys_numbers, HRT_E_FORMAT, "phase_keys: must hold strings"},
-    {"remnant_keys: unknown key", d_remnant_key_unknown, HRT_E_FORMAT, "unknown key 'strange_star'"},
+    {"format_version: 1", d_version_one, HRT_E_VERSION, "convert the file with 'hrtrail grid upgrade OLD NEW'"},
+    {"phases: missing", d_phases_missing, HRT_E_FORMAT, "group 'phases' is missing"},
+    {"phases: format 1's phase_keys instead", d_old_key_tables, HRT_E_FORMAT, "group 'phases' is missing"},
+    {"phases/key: missing", d_phase_key_missing, HRT_E_FORMAT, "phases/key: dataset is missing"},
+    {"phases/key: unknown key", d_phase_key_unknown, HRT_E_FORMAT,
+     "phases/code[3]: key 'mystery' has code 20 in the file, but 'subgiant' in this library"},
+    {"phases/key: numbers", d_phase_key_numbers, HRT_E_FORMAT, "phases/key: must hold strings"},
+    {"phases/code: floating point", d_phase_code_float, HRT_E_FORMAT, "phases/code: must hold integers"},
+    {"phases/code: shorter than phases/key", d_phase_code_short, HRT_E_FORMAT, "phases/code: dimension 0 is 3, expected 16"},
+    {"phases/code: another phase's code", d_phase_code_other, HRT_E_FORMAT,
+     "phases/code[4]: key 'rgb' has code 32 in the file, but 'tpagb' in this library"},
+    {"phases/code: -1", d_phase_code_negative, HRT_E_FORMAT, "phases/code[0]: key 'unknown' has code -1 in the file, but 'no key'"},
+    {"phases/code: 1e6", d_phase_code_huge, HRT_E_FORMAT, "phases/code[7]: key 'eagb' has code 1000000"},
+    {"phases: a code the data use not listed", d_phase_not_listed, HRT_E_FORMAT,
+     "metallicity/0/phase[9][50]: 30 is not a phase code of the file"},
+    {"remnants: missing", d_remnants_missing, HRT_E_FORMAT, "group 'remnants' is missing"},
+    {"remnants/key: unknown key", d_remnant_key_unknown, HRT_E_FORMAT,
+     "remnants/code[3]: key 'strange_star' has code 12 in the file, but 'one_wd' in this library"},
+    {"remnants/code: another kind's code", d_remnant_code_other, HRT_E_FORMAT,
+     "remnants/code[1]: key 'he_wd' has code 20 in the file, but 'ns' in this library"},
+    {"remnants: a code the data use not listed", d_remnant_not_listed, HRT_E_FORMAT,
+     "metallicity/0/remnant[0]: 10 is not a remnant code of the file"},
     {"routes/names: missing", d_route_names_missing, HRT_E_FORMAT, "routes/names: dataset is missing"},
     {"routes/names: twice", d_route_names_twice, HRT_E_FORMAT, "appears twice"},
     {"route group: missing", d_route_group_missing, HRT_E_FORMAT, "'routes/high' is missing"},
     {"keypoint_names: one", d_keypoints_one, HRT_E_FORMAT, "at least 2 keypoints"},
     {"keypoint_eep[0]: 1", d_keypoint_eep0, HRT_E_FORMAT, "keypoint_eep[0]: must be 0"},
     {"segment_samples: mismatch", d_segment_mismatch, HRT_E_FORMAT, "does not follow"},
-    {"segment_samples: 0", d_segment_zero, HRT_E_FORMAT, "is not in 1..100000"},
-    {"initial_mass: empty", d_mass_empty, HRT_E_FORMAT, "initial_mass: unusable length 0"},
-    {"initial_mass: 2-D", d_mass_2d, HRT_E_FORMAT, "initial_mass: expected 1 dimension"},
-    {"initial_mass: negative", d_mass_negative, HRT_E_FORMAT, "initial_mass[0]: -0.3 is not a positive mass"},
-    {"initial_mass: NaN", d_mass_nan, HRT_E_FORMAT, "initial_mass[3]: nan"},
-    {"initial_mass: text", d_mass_text, HRT_E_FORMAT, "initial_mass: must hold numbers"},
+    {"segment_samples: 0", d_segment_zero, HRT_E_FORMAT, "segment_samples[0]: 0 is not in 1..65535"},
+    {"initial_mass_msun: empty", d_mass_empty, HRT_E_FORMAT, "initial_mass_msun: unusable length 0"},
+    {"initial_mass_msun: 2-D", d_mass_2d, HRT_E_FORMAT, "initial_mass_msun: expected 1 dimension"},
+    {"initial_mass_msun: negative", d_mass_negative, HRT_E_FORMAT, "initial_mass_msun[0]: -0.3 is not a positive mass"},
+    {"initial_mass_msun: NaN", d_mass_nan, HRT_E_FORMAT, "initial_mass_msun[3]: nan"},
+    {"initial_mass_msun: text", d_mass_text, HRT_E_FORMAT, "initial_mass_msun: must hold floating-point numbers"},
+    {"initial_mass_msun: integers", d_mass_int, HRT_E_FORMAT,
+     "metallicity/0/initial_mass_msun: must hold floating-point numbers"},
+    {"route: floating point", d_route_float, HRT_E_FORMAT, "metallicity/0/route: must hold integers"},
     {"route: -1", d_route_negative, HRT_E_FORMAT, "route[0]: -1 is not a route index"},
     {"route: 5", d_route_five, HRT_E_FORMAT, "route[19]: 5 is not a route index"},
     {"n_eep: 1", d_neep_one, HRT_E_FORMAT, "n_eep[4]: 1 is not in 2.."},
-    {"remnant: index 99", d_remnant_index, HRT_E_FORMAT, "remnant[2]: 99"},
-    {"remnant_mass: NaN", d_remnant_mass_nan, HRT_E_FORMAT, "remnant_mass[2]: nan"},
-    {"remnant_mass: white dwarf of 2 Msun", d_remnant_wd_heavy, HRT_E_FORMAT, "remnant_mass[12]: a white dwarf of 2"},
-    {"route_boundary_mass: missing", d_boundary_missing, HRT_E_FORMAT, "route_boundary_mass: dataset is missing"},
-    {"route_boundary_mass: NaN", d_boundary_nan, HRT_E_FORMAT, "route_boundary_mass[0]: nan"},
-    {"log_age: shape", d_age_shape, HRT_E_FORMAT, "log_age: dimension 1 is 60, expected 61"},
-    {"log_age: text", d_age_text, HRT_E_FORMAT, "log_age: must hold numbers"},
-    {"log_L: compound", d_logl_compound, HRT_E_FORMAT, "log_L: must hold numbers"},
-    {"log_R: missing", d_logr_missing, HRT_E_FORMAT, "log_R: dataset is missing"},
-    {"he_core_mass: negative", d_he_negative, HRT_E_FORMAT, "he_core_mass[1][5]: negative mass"},
-    {"log_Teff: infinite", d_teff_inf, HRT_E_FORMAT, "log_Teff[1][5]: inf inside"},
-    {"mass: 1e308 everywhere", d_mass_huge, HRT_E_FORMAT, "mass[0][0]: 1e+308 Msun exceeds twice the initial mass"},
-    {"log_L: 1e300", d_logl_huge, HRT_E_FORMAT, "log_L[2][7]: 1e+300 is not a plausible log10 value"},
-    {"remnant_mass: 100 Msun", d_remnant_heavy, HRT_E_FORMAT, "remnant_mass[15]: 100 Msun exceeds twice"},
-    {"Z: missing", d_z_missing, HRT_E_FORMAT, "metallicity/2 attribute 'Z' is missing"},
-    {"Z: text", d_z_text, HRT_E_FORMAT, "metallicity/2 attribute 'Z' must be a number"},
-    {"Z: NaN", d_z_nan, HRT_E_FORMAT, "metallicity/2 attribute 'Z': nan"},
-    {"Z: 0", d_z_zero, HRT_E_FORMAT, "metallicity/0 attribute 'Z': 0"},
+    {"remnant: code 99", d_remnant_index, HRT_E_FORMAT, "remnant[2]: 99 is not a remnant code of the file"},
+    {"remnant_mass_msun: NaN", d_remnant_mass_nan, HRT_E_FORMAT, "remnant_mass_msun[2]: nan"},
+    {"remnant_mass_msun: white dwarf of 2 Msun", d_remnant_wd_heavy, HRT_E_FORMAT,
+     "remnant_mass_msun[12]: a white dwarf of 2"},
+    {"route_boundary_mass_msun: missing", d_boundary_missing, HRT_E_FORMAT,
+     "route_boundary_mass_msun: dataset is missing"},
+    {"route_boundary_mass_msun: NaN", d_boundary_nan, HRT_E_FORMAT, "route_boundary_mass_msun[0]: nan"},
+    {"log_age_yr: shape", d_age_shape, HRT_E_FORMAT, "log_age_yr: dimension 1 is 60, expected 61"},
+    {"log_age_yr: text", d_age_text, HRT_E_FORMAT, "log_age_yr: must hold floating-point numbers"},
+    {"log_l_lsun: compound", d_logl_compound, HRT_E_FORMAT, "log_l_lsun: must hold floating-point numbers"},
+    {"log_r_rsun: missing", d_logr_missing, HRT_E_FORMAT, "log_r_rsun: dataset is missing"},
+    {"a dataset under its format-1 name", d_old_name, HRT_E_FORMAT, "metallicity/0/log_teff_k: dataset is missing"},
+    {"he_core_mass_msun: negative", d_he_negative, HRT_E_FORMAT, "he_core_mass_msun[1][5]: negative mass"},
+    {"log_teff_k: infinite", d_teff_inf, HRT_E_FORMAT, "log_teff_k[1][5]: inf inside"},
+    {"mass_msun: 1e308 everywhere", d_mass_huge, HRT_E_FORMAT,
+     "mass_msun[0][0]: 1e+308 Msun exceeds 2 times the initial mass"},
+    {"log_l_lsun: 1e300", d_logl_huge, HRT_E_FORMAT, "log_l_lsun[2][7]: 1e+300 is not a plausible log10 value"},
+    {"remnant_mass_msun: 100 Msun", d_remnant_heavy, HRT_E_FORMAT, "remnant_mass_msun[15]: 100 Msun exceeds 2 times"},
+    {"units: another unit", d_units_wrong, HRT_E_FORMAT, "metallicity/0/log_teff_k: units 'K', expected 'dex(K)'"},
+    {"units: format 1's", d_units_v1, HRT_E_FORMAT, "metallicity/0/initial_mass_msun: units 'Msun', expected 'solMass'"},
+    {"units: missing", d_units_missing, HRT_E_FORMAT, "metallicity/0/log_l_lsun attribute 'units' is missing"},
+    {"units: a number", d_units_number, HRT_E_FORMAT, "metallicity/0/log_age_yr attribute 'units' is not text"},
+    {"units: two strings", d_units_array, HRT_E_FORMAT, "metallicity/0/he_core_mass_msun attribute 'units' must be a single"},
+    {"units: wrong case", d_units_case, HRT_E_FORMAT, "remnant_mass_msun: units 'solmass', expected 'solMass'"},
+    {"z: missing", d_z_missing, HRT_E_FORMAT, "metallicity/2 attribute 'z' is missing"},
+    {"z: text", d_z_text, HRT_E_FORMAT, "metallicity/2 attribute 'z' must be a number"},
+    {"z: NaN", d_z_nan, HRT_E_FORMAT, "metallicity/2 attribute 'z': nan"},
+    {"z: 0", d_z_zero, HRT_E_FORMAT, "metallicity/0 attribute 'z': 0"},
+    {"z: named Z as in format 1", d_z_old, HRT_E_FORMAT, "metallicity/2 attribute 'z' is missing"},
     {"metallicity groups: gap", d_group_gap, HRT_E_FORMAT, "group 'metallicity/3' is missing"},
-    {"dangling soft link", d_dangling_link, HRT_E_FORMAT, "metallicity/0/mass: not a dataset"},
+    {"dangling soft link", d_dangling_link, HRT_E_FORMAT, "metallicity/0/mass_msun: not a dataset"},
     {"group where a dataset belongs", d_group_as_dataset, HRT_E_FORMAT, "metallicity/0/phase: not a dataset"},
     {"extra attributes (accepted)", x_extra_attrs, HRT_OK, NULL},
     {"extra datasets (accepted)", x_extra_dataset, HRT_OK, NULL},
     {"values after the valid EEPs (accepted)", x_nan_padding, HRT_OK, NULL},
-    {"units attribute missing (accepted)", x_units_missing, HRT_OK, NULL},
+    {"long_name missing or other (accepted)", x_long_name, HRT_OK, NULL},
+    {"code tables in another order, fixed-length keys, 16-bit codes (accepted)", x_codes_reordered, HRT_OK, NULL},
     {"a track without remnant beside ones with (accepted)", x_remnant_none, HRT_OK, NULL},
     {"remnant masses falling steeply to a route's end (accepted)", x_remnant_steep, HRT_OK, NULL},
 };
@@ -698,6 +815,207 @@ static void damaged(void)
 }
 
 
+/* ---- format 1: refused on open, converted by hrt_grid_upgrade ------------ */
+
+/* Damage to a format-1 copy of the synthetic grid (synth_downgrade_v1):
+ * old names, key tables phase_keys and remnant_keys, phase and remnant
+ * stored as indices into them. */
+static void v1_phase_keys_missing(void) { del("phase_keys"); }
+static void v1_phase_key_unknown(void)
+{
+    const char *k[] = {"pre_ms", "ms", "mystery", "rgb", "cheb"};
+    ds_strings("phase_keys", 5, k);
+}
+static void v1_remnant_keys_missing(void) { del("remnant_keys"); }
+static void v1_phase_beyond_table(void) { elem(M0 "phase", 2, 2, 15); } /* 15 keys: 0..14 */
+static void v1_phase_minus_one(void) { elem(M0 "phase", 3, 4, -1); }
+static void v1_remnant_beyond_table(void) { elem(M0 "remnant", 0, 0, 6); }
+static void v1_z_missing(void) { attr_del("metallicity/1", "Z"); }
+static void v1_nan(void) { elem("metallicity/2/log_L", 3, 10, NAN); }
+static void v1_new_name(void) { H5Lmove(H5F, M0 "log_age", H5F, M0 "log_age_yr", H5P_DEFAULT, H5P_DEFAULT); }
+static void v1_wd_heavy(void) { elem(M0 "remnant_mass", 12, 0, 2.0); }
+static void v1_version_newer(void) { attr_num("/", "format_version", H5T_STD_I32LE, 3); }
+static void v1_version_zero(void) { attr_num("/", "format_version", H5T_STD_I32LE, 0); }
+/* accepted: format 1 did not check units, and format 1's phase_keys may
+ * list the keys in any order (here 0.1's order reversed) */
+static void v1_units_missing(void) { attr_del(M0 "log_L", "units"); }
+static void v1_keys_reversed(void)
+{
+    enum { NK = 15 };
+    const char *k[NK];
+    int idx[NK];
+    hid_t d = H5Dopen2(H5F, "phase_keys", H5P_DEFAULT), t = H5Tcopy(H5T_C_S1);
+    H5Tset_size(t, H5T_VARIABLE);
+    char *old[NK];
+    H5Dread(d, t, H5S_ALL, H5S_ALL, H5P_DEFAULT, old);
+    H5Dclose(d);
+    for (int i = 0; i < NK; i++) {
+        k[i] = old[NK - 1 - i];
+        idx[i] = NK - 1 - i; /* old index i is now NK-1-i */
+    }
+    ds_strings("phase_keys", NK, k);
+    for (int i = 0; i < NK; i++)
+        free(old[i]);
+    H5Tclose(t);
+    for (int iz = 0; iz < 4; iz++) {
+        char name[64];
+        snprintf(name, sizeof name, "metallicity/%d/phase", iz);
+        hid_t ds = H5Dopen2(H5F, name, H5P_DEFAULT), sp = H5Dget_space(ds);
+        hssize_t n = H5Sget_simple_extent_npoints(sp);
+        int *v = malloc((size_t)n * sizeof *v);
+        H5Dread(ds, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+        for (hssize_t q = 0; q < n; q++)
+            if (v[q] >= 0 && v[q] < NK)
+                v[q] = idx[v[q]];
+        H5Dwrite(ds, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+        free(v);
+        H5Sclose(sp);
+        H5Dclose(ds);
+    }
+}
+
+static const struct {
+    const char *name;
+    damage_fn fn;
+    int code;
+    const char *needle;
+} v1_damages[] = {
+    {"format 1: phase_keys missing", v1_phase_keys_missing, HRT_E_FORMAT, "phase_keys: dataset is missing"},
+    {"format 1: phase_keys unknown key", v1_phase_key_unknown, HRT_E_FORMAT, "phase_keys[2]: unknown key 'mystery'"},
+    {"format 1: remnant_keys missing", v1_remnant_keys_missing, HRT_E_FORMAT, "remnant_keys: dataset is missing"},
+    {"format 1: phase index past phase_keys", v1_phase_beyond_table, HRT_E_FORMAT,
+     "metallicity/0/phase[2][2]: 15 is not a phase code of the file"},
+    {"format 1: phase -1 inside a track", v1_phase_minus_one, HRT_E_FORMAT,
+     "metallicity/0/phase[3][4]: -1 is not a phase code of the file"},
+    {"format 1: remnant index past remnant_keys", v1_remnant_beyond_table, HRT_E_FORMAT,
+     "metallicity/0/remnant[0]: 6 is not a remnant code of the file"},
+    {"format 1: Z missing", v1_z_missing, HRT_E_FORMAT, "metallicity/1 attribute 'Z' is missing"},
+    {"format 1: NaN inside a track", v1_nan, HRT_E_FORMAT, "metallicity/2/log_L[3][10]: nan"},
+    {"format 1: a dataset under its format-2 name", v1_new_name, HRT_E_FORMAT, "metallicity/0/log_age: dataset is missing"},
+    {"format 1: white dwarf of 2 Msun", v1_wd_heavy, HRT_E_FORMAT, "remnant_mass[12]: a white dwarf of 2"},
+    {"format_version 3", v1_version_newer, HRT_E_VERSION, "format_version 3 is newer than this library reads"},
+    {"format_version 0", v1_version_zero, HRT_E_FORMAT, "format_version 0 is not a valid version"},
+    {"format 1: units missing (accepted)", v1_units_missing, HRT_OK, NULL},
+    {"format 1: phase_keys in another order (accepted)", v1_keys_reversed, HRT_OK, NULL},
+};
+
+static int count_tmp(void)
+{
+    char cmd[160];
+    snprintf(cmd, sizeof cmd, "ls %s | grep -q tmp-", dir);
+    return system(cmd) == 0;
+}
+
+static void format1(void)
+{
+    char v1[160], p[160], out[160], damaged_v1[160];
+    snprintf(v1, sizeof v1, "%s/v1.h5", dir);
+    snprintf(out, sizeof out, "%s/upgraded.h5", dir);
+    HARD_CHECK(synth_downgrade_v1(grid_path, v1) == 0, "format-1 copy of the synthetic grid");
+    /* refused on open, with the way out in the message */
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        hrt_grid *g = (hrt_grid *)&g;
+        hrt_error e = {-1, ""};
+        int rc = hrt_grid_open_with(v1, t, &g, &e);
+        CASE("format 1", rc == HRT_E_VERSION && g == NULL && e.code == rc && strstr(e.message, "upgrade"),
+             "open a format-1 file (%s): %d (%s)", hrt_interp_name(t), rc, e.message);
+    }
+    setenv("HRTRAIL_GRID", v1, 1);
+    hrt_grid *g = NULL;
+    CASE("format 1", hrt_grid_open(NULL, &g, NULL) == HRT_E_VERSION, "HRTRAIL_GRID naming a format-1 file");
+    setenv("HRTRAIL_GRID", "/nonexistent/grid.h5", 1);
+    /* arguments and files hrt_grid_upgrade refuses; nothing is written */
+    snprintf(p, sizeof p, "%s/pipe-v1.h5", dir);
+    HARD_CHECK(mkfifo(p, 0600) == 0, "mkfifo");
+    char text[160];
+    snprintf(text, sizeof text, "%s/text-v1.h5", dir);
+    FILE *f = fopen(text, "w");
+    fputs("format_version,1\n", f);
+    fclose(f);
+    const struct {
+        const char *name, *from, *to;
+        int code;
+        const char *needle;
+    } a[] = {
+        {"old path NULL", NULL, out, HRT_E_NULL, "old path is NULL"},
+        {"new path NULL", v1, NULL, HRT_E_NULL, "new path is NULL"},
+        {"missing file", "/nonexistent/v1.h5", out, HRT_E_IO, "cannot open '/nonexistent/v1.h5'"},
+        {"directory", dir, out, HRT_E_IO, "not a regular file"},
+        {"named pipe", p, out, HRT_E_IO, "not a regular file"},
+        {"device", "/dev/zero", out, HRT_E_IO, "not a regular file"},
+        {"text file", text, out, HRT_E_FORMAT, "not a readable HDF5 file"},
+        {"destination in a missing directory", v1, "/nonexistent/dir/new.h5", HRT_E_IO, "/nonexistent/dir/new.h5"},
+        {"destination a directory", v1, dir, HRT_E_IO, dir},
+    };
+    for (size_t k = 0; k < sizeof a / sizeof a[0]; k++) {
+        hrt_error e = {-1, ""};
+        int rc = hrt_grid_upgrade(a[k].from, a[k].to, &e);
+        CASE("upgrade", rc == a[k].code && msg_ok(&e, rc) && strstr(e.message, a[k].needle),
+             "%s: %d (%s), want %d with '%s'", a[k].name, rc, e.message, a[k].code, a[k].needle);
+        CASE("upgrade", access(out, F_OK) != 0 && !count_tmp(), "%s: a file was left behind", a[k].name);
+    }
+    CASE("upgrade", hrt_grid_upgrade(NULL, NULL, NULL) == HRT_E_NULL, "NULL error report");
+    unlink(p);
+    unlink(text);
+    HARD_CHECK(g == NULL, "no grid");
+    /* a good upgrade: the answers of the grid written in format 2 directly */
+    hrt_error e = {-1, ""};
+    int rc = hrt_grid_upgrade(v1, out, &e);
+    HARD_CHECK(rc == HRT_OK && e.code == HRT_OK, "upgrade: %d (%s)", rc, e.message);
+    long size;
+    unsigned char *bytes = NULL;
+    {
+        FILE *src = fopen(v1, "rb");
+        fseek(src, 0, SEEK_END);
+        size = ftell(src);
+        rewind(src);
+        bytes = malloc((size_t)size);
+        HARD_CHECK(fread(bytes, 1, (size_t)size, src) == (size_t)size, "read");
+        fclose(src);
+    }
+    snprintf(damaged_v1, sizeof damaged_v1, "%s/v1-damaged.h5", dir);
+    for (size_t k = 0; k < sizeof v1_damages / sizeof v1_damages[0]; k++) {
+        f = fopen(damaged_v1, "wb");
+        fwrite(bytes, 1, (size_t)size, f);
+        fclose(f);
+        H5F = H5Fopen(damaged_v1, H5F_ACC_RDWR, H5P_DEFAULT);
+        v1_damages[k].fn();
+        H5Fclose(H5F);
+        unlink(out);
+        e.code = -1;
+        rc = hrt_grid_upgrade(damaged_v1, out, &e);
+        CASE("upgrade", rc == v1_damages[k].code && e.code == rc, "%s: %d (%s), want %d", v1_damages[k].name, rc,
+             e.message, v1_damages[k].code);
+        if (v1_damages[k].needle)
+            CASE("upgrade", strstr(e.message, v1_damages[k].needle) != NULL, "%s: message '%s' lacks '%s'",
+                 v1_damages[k].name, e.message, v1_damages[k].needle);
+        if (rc != HRT_OK) {
+            CASE("upgrade", access(out, F_OK) != 0 && !count_tmp(), "%s: a file was left behind", v1_damages[k].name);
+            continue;
+        }
+        /* accepted: the converted grid answers as the synthetic grid */
+        hrt_grid *u = NULL;
+        HARD_CHECK(hrt_grid_open(out, &u, &e) == HRT_OK, "%s: upgraded grid does not open: %s", v1_damages[k].name,
+                   e.message);
+        unsigned long long seed = 7 + k;
+        long differ = 0;
+        for (int q = 0; q < 500 && u; q++) {
+            double m = 0.3 * pow(10.0 / 0.3, hard_uniform(&seed)), z = 0.001 * pow(30.0, hard_uniform(&seed));
+            double age = pow(10.0, 6.0 + 6.0 * hard_uniform(&seed));
+            hrt_state s1, s2;
+            int r1 = hrt_eval(u, 1, &m, &z, 0.0, &age, &s1, NULL), r2 = hrt_eval(G, 1, &m, &z, 0.0, &age, &s2, NULL);
+            differ += r1 != r2 || memcmp(&s1, &s2, sizeof s1) != 0;
+        }
+        CASE("upgrade", u && differ == 0, "%s: %ld of 500 stars differ from the format-2 grid", v1_damages[k].name,
+             differ);
+        hrt_grid_close(u);
+    }
+    unlink(damaged_v1);
+    unlink(out);
+    unlink(v1);
+    free(bytes);
+}
+
 /* ---- text tracks: every defect the importer reports --------------------- */
 
 static const char good_track[] = "# invented test track\n"
@@ -707,7 +1025,7 @@ static const char good_track[] = "# invented test track\n"
                                  "900 0.10 3.755 -\n"
                                  "2500 0.20 3.750 -\n"
                                  "5000 0.30 3.740 tams\n";
-static const char good_map[] = "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp initial_mass=1.0 Z=0.014";
+static const char good_map[] = "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp initial_mass_msun=1.0 z=0.014";
 
 static int import_one(const char *map, const char *content, size_t len, int lenient, hrt_error *e,
                       hrt_import_track_report *rep)
@@ -779,19 +1097,19 @@ static void import_defects(void)
         {"unknown keypoint flag", "tams\n", "tams_x\n", NULL, HRT_E_FORMAT, "keypoint flag"},
         {"one keypoint only (track dropped: HRT_E_NO_TRACK in its report)", "tams\n", "-\n", NULL, HRT_E_INVALID,
          "no usable track"},
-        {"negative current mass", "200 0.05", "200 -0.05", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp "
-         "initial_mass=1.0 Z=0.014 mass=logL", HRT_E_FORMAT, "negative"},
-        {"initial mass unknown", "", "", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp Z=0.014", HRT_E_FORMAT,
+        {"negative current mass", "200 0.05", "200 -0.05", "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp "
+         "initial_mass_msun=1.0 z=0.014 mass_msun=logL", HRT_E_FORMAT, "negative"},
+        {"initial mass unknown", "", "", "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp z=0.014", HRT_E_FORMAT,
          "initial mass unknown"},
-        {"metallicity unknown", "", "", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp initial_mass=1", HRT_E_FORMAT,
+        {"metallicity unknown", "", "", "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp initial_mass_msun=1", HRT_E_FORMAT,
          "metallicity unknown"},
-        {"map: unknown key", "", "", "age=age_Myr*Myr colour=logL", HRT_E_INVALID, "colour"},
-        {"map: no '='", "", "", "age", HRT_E_INVALID, "has no '='"},
-        {"map: no value", "", "", "age=", HRT_E_INVALID, "has no value"},
-        {"map: bad unit", "", "", "age=age_Myr*fortnights", HRT_E_INVALID, "unit"},
-        {"map: time unit on a luminosity", "", "", "log_L=logL*Myr", HRT_E_INVALID, "time unit"},
-        {"map: Z not finite", "", "", "Z=nan", HRT_E_INVALID, "not finite"},
-        {"file name not matching the pattern", "", "", "age=age_Myr*Myr log_L=logL log_Teff=logT keypoints=kp Z=0.014 "
+        {"map: unknown key", "", "", "age_yr=age_Myr*Myr colour=logL", HRT_E_INVALID, "colour"},
+        {"map: no '='", "", "", "age_yr", HRT_E_INVALID, "has no '='"},
+        {"map: no value", "", "", "age_yr=", HRT_E_INVALID, "has no value"},
+        {"map: bad unit", "", "", "age_yr=age_Myr*fortnights", HRT_E_INVALID, "unit"},
+        {"map: time unit on a luminosity", "", "", "log_l_lsun=logL*Myr", HRT_E_INVALID, "time unit"},
+        {"map: Z not finite", "", "", "z=nan", HRT_E_INVALID, "not finite"},
+        {"file name not matching the pattern", "", "", "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp z=0.014 "
          "pattern=star_{mass}.txt", HRT_E_FORMAT, "does not match the pattern"},
     };
     for (size_t k = 0; k < sizeof c / sizeof c[0]; k++) {
@@ -943,6 +1261,7 @@ int main(void)
     nulls_and_zeros();
     not_grids();
     damaged();
+    format1();
     import_defects();
     end_of_track();
     /* Also a grid opened with every interpolation type survives the numbers. */

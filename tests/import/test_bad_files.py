@@ -27,15 +27,15 @@ def check(cond, what):
 
 HEAD = "age_Myr logL logTeff M\n"
 GOOD = "".join("%g %g %g 1.0\n" % (10.0 + 100.0 * i, 0.1 * i, 3.76 - 0.001 * i) for i in range(6))
-MAP = "age=age_Myr*Myr,log_L=logL,log_Teff=logTeff,mass=M,initial_mass=1,Z=0.014"
+MAP = "age_yr=age_Myr*Myr,log_l_lsun=logL,log_teff_k=logTeff,mass_msun=M,initial_mass_msun=1,z=0.014"
 # (name, file content, extra map, expected line, expected column, words in the message)
 cases = [
     ("truncated", HEAD + GOOD + "710 0.6\n", MAP, 8, 8, "fields"),
     ("text", HEAD + GOOD.replace("0.3 3.757", "abc 3.757"), MAP, 5, 5, "not a number"),
     ("duplicate", HEAD + GOOD + "510 0.7 3.75 1.0\n", MAP, 8, 1, "repeats"),
     ("decreasing", HEAD + GOOD + "300 0.7 3.75 1.0\n", MAP, 8, 1, "less than"),
-    ("missing_column", "age_Myr logL M\n" + "10 0 1\n20 0.1 1\n", MAP.replace(",log_Teff=logTeff", ""), 1, 1,
-     "log_Teff"),
+    ("missing_column", "age_Myr logL M\n" + "10 0 1\n20 0.1 1\n", MAP.replace(",log_teff_k=logTeff", ""), 1, 1,
+     "log_teff_k"),
     ("empty", "", MAP, 1, 1, "empty"),
     ("binary", HEAD + "10 0 3.76 1.0\n" + "\x00\x01\x7fELF\x02", MAP, 3, 1, "binary"),
     ("absent_column", HEAD + GOOD, MAP.replace("logL", "LUMINOSITY"), 1, 1, "LUMINOSITY"),
@@ -72,8 +72,9 @@ try:
     p = subprocess.run([EXE, "import", "--keep-going", "--dry-run", "--json", "--map", MAP, os.path.join(work, "good.dat"),
                         os.path.join(work, "text.dat")], capture_output=True, text=True)
     check(p.returncode in (0, 4), "--keep-going runs (%d: %s)" % (p.returncode, p.stderr))
-    # the map itself: unknown key, bad unit
-    for bad in ("colour=B_V", "age=t*fortnight", "L=lum*Myr"):
+    # the map itself: unknown key, bad unit, the keys of version 0.1 (age, L, Teff, Z, center_h1 ...)
+    for bad in ("colour=B_V", "age_yr=t*fortnight", "l_lsun=lum*Myr", "age=t*Myr", "L=lum", "Z=0.014",
+                "center_h1=Xc"):
         p = subprocess.run([EXE, "import", "-o", os.path.join(work, "x.h5"), "--map", bad, os.path.join(work, "good.dat")],
                            capture_output=True, text=True)
         check(p.returncode == 2 and bad.split("=")[0] in p.stderr, "map '%s' refused with exit 2 (%d: %s)" % (

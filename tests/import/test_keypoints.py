@@ -146,8 +146,8 @@ try:
         f.write("time_Myr log_lum log_te m mhe mco xc yc\n")
         for r in stop:
             f.write(" ".join("%.12g" % v for v in r) + "\n")
-    mapping = ("age=time_Myr*Myr log_L=log_lum log_Teff=log_te mass=m he_core_mass=mhe co_core_mass=mco "
-               "center_h1=xc center_he4=yc Z=0.02 pattern=*_M{mass}.txt")
+    mapping = ("age_yr=time_Myr*Myr log_l_lsun=log_lum log_teff_k=log_te mass_msun=m he_core_mass_msun=mhe "
+               "co_core_mass_msun=mco central_x=xc central_y=yc z=0.02 pattern=*_M{mass}.txt")
     p = subprocess.run([EXE, "import", "--dry-run", "--json", "--map", mapping, work], capture_output=True, text=True)
     check(p.returncode == 0, "import exits 0 (%d: %s)" % (p.returncode, p.stderr))
     rep = json.loads(p.stdout) if p.returncode == 0 else {"tracks": []}
@@ -160,7 +160,7 @@ try:
         if not t:
             continue
         ages = [r[0] for r in rows]
-        found = {k["name"]: k["age_yr"] / 1e6 for k in t["keypoints"]}
+        found = {k["keypoint"]: k["age_yr"] / 1e6 for k in t["keypoints"]}
         for k, a in kp.items():
             i = min(range(len(ages)), key=lambda j: abs(ages[j] - a))
             tol = max(ages[min(i + 1, len(ages) - 1)] - ages[i], ages[i] - ages[max(i - 1, 0)]) * 1.0001
@@ -188,7 +188,7 @@ try:
     check(p.returncode == 0, "flagged import exits 0 (%s)" % p.stderr)
     if p.returncode == 0:
         t = json.loads(p.stdout)["tracks"][0]
-        k = [x for x in t["keypoints"] if x["name"] == "rgb_base"]
+        k = [x for x in t["keypoints"] if x["keypoint"] == "rgb_base"]
         check(bool(k) and abs(k[0]["age_yr"] / 1e6 - rows[target][0]) < 1e-6 and k[0]["found_by"] == "flag",
               "the flag column overrides rgb_base (%s)" % k)
 finally:

@@ -10,7 +10,9 @@ imported with `hrtrail import` through keypoint DETECTION (no keypoint
 column), and the imported grid is compared, EEP by EEP, with the default
 grid written by the generator from the same raw tracks with its explicit
 keypoints.  A second import with the keypoint column (the override) must
-reproduce the default grid to rounding.
+reproduce the default grid to rounding, and so must a third, of the raw
+dump itself: its columns are names of the vocabulary (tracks/FORMAT.md), so
+it imports without a column map (only the file-name pattern for mass and Z).
 
 The reference is the project's own default grid (no outside source): this
 checks the importer, not the physics.  Grid files are read with h5py.
@@ -68,7 +70,9 @@ try:
     os.mkdir(raw)
     subprocess.run([GEN, os.path.join(work, "gen.h5"), "--dump-raw", raw], check=True)
     ref = h5py.File(GRID, "r")
-    phase_keys = [k.decode() if isinstance(k, bytes) else k for k in ref["phase_keys"][()]]
+    # phase code -> key, from the grid's own table (format 2: phases/code, phases/key)
+    phase_keys = {int(c): (k.decode() if isinstance(k, bytes) else k)
+                  for c, k in zip(ref["phases/code"][()], ref["phases/key"][()])}
 
     # rewrite with invented names and units
     tables = os.path.join(work, "tables")
@@ -82,7 +86,7 @@ try:
             head = f.readline()
             f.readline()
             rows = [line.rstrip("\n").split(",") for line in f]
-        m = float(re.search(r"initial_mass=([0-9.eE+-]+)", head).group(1))
+        m = float(re.search(r"initial_mass_msun=([0-9.eE+-]+)", head).group(1))
         z = float(re.search(r" z=([0-9.eE+-]+)", head).group(1))
         kp = [int(x) for x in re.search(r"keypoints=([0-9;]+)", head).group(1).split(";")]
         ages = [float(r[0]) for r in rows]
@@ -95,17 +99,18 @@ try:
                 for r in rows:
                     f.write("%.17g %.17g %.17g %s %s %s %s %s %s%s\n" % (
                         float(r[0]) / 1e6, 10.0 ** float(r[1]), 10.0 ** float(r[2]), r[3], r[4], r[5], r[7], r[8],
-                        phase_keys[int(r[6]) - 1], (" " + r[9]) if with_flag else ""))
+                        phase_keys[int(r[6])], (" " + r[9]) if with_flag else ""))
     mapping = os.path.join(work, "map.txt")
     with open(mapping, "w") as f:
         f.write("# column map of the invented tables\n"
-                "age=t_Myr*Myr L=lum Teff=teff_K mass=M_star\n"
-                "he_core_mass=Mcore_He co_core_mass=Mcore_CO center_h1=Xc center_he4=Yc\n"
+                "age_yr=t_Myr*Myr l_lsun=lum teff_k=teff_K mass_msun=M_star\n"
+                "he_core_mass_msun=Mcore_He co_core_mass_msun=Mcore_CO central_x=Xc central_y=Yc\n"
                 "phase=stage\n"
                 "pattern=stellar_Z{z}_M{mass}.dat\n")
 
-    def run_import(src, out, extra=()):
-        p = subprocess.run([EXE, "import", "-o", out, "--map-file", mapping, "--json"] + list(extra) + [src],
+    def run_import(src, out, extra=(), mapped=True):
+        p = subprocess.run([EXE, "import", "-o", out] + (["--map-file", mapping] if mapped else []) + ["--json"] +
+                           list(extra) + [src],
                            capture_output=True, text=True)
         check(p.returncode == 0, "import of %s exits 0 (got %d: %s)" % (src, p.returncode, p.stderr[-500:]))
         return json.loads(p.stdout) if p.returncode == 0 else None
@@ -120,30 +125,30 @@ try:
         check(list(got["metallicity"]) == list(ref["metallicity"]), label + ": same metallicity groups")
         for g in ref["metallicity"]:
             A, B = got["metallicity"][g], ref["metallicity"][g]
-            check(A.attrs["Z"] == B.attrs["Z"], label + ": Z of group " + g)
-            check(np.array_equal(A["initial_mass"][()], B["initial_mass"][()]), label + ": masses of group " + g)
+            check(A.attrs["z"] == B.attrs["z"], label + ": z of group " + g)
+            check(np.array_equal(A["initial_mass_msun"][()], B["initial_mass_msun"][()]), label + ": masses of group " + g)
             check(np.array_equal(A["route"][()], B["route"][()]), label + ": routes of group " + g)
             check(np.array_equal(A["remnant"][()], B["remnant"][()]), label + ": remnant kinds of group " + g)
-            rb = np.abs(A["route_boundary_mass"][()] / B["route_boundary_mass"][()] - 1).max()
+            rb = np.abs(A["route_boundary_mass_msun"][()] / B["route_boundary_mass_msun"][()] - 1).max()
             worst["route_boundary_rel"] = max(worst.get("route_boundary_rel", 0), rb)
-            rm = np.nanmax(np.abs(A["remnant_mass"][()] / B["remnant_mass"][()] - 1))
+            rm = np.nanmax(np.abs(A["remnant_mass_msun"][()] / B["remnant_mass_msun"][()] - 1))
             worst["remnant_mass_rel"] = max(worst.get("remnant_mass_rel", 0), rm)
             ne = B["n_eep"][()]
             check(np.array_equal(A["n_eep"][()], ne), label + ": EEP counts of group " + g)
-            mi = B["initial_mass"][()]
+            mi = B["initial_mass_msun"][()]
             ph = B["phase"][()]
-            for qi, q in enumerate(("log_age", "log_L", "log_Teff", "mass")):
+            for qi, q in enumerate(("log_age_yr", "log_l_lsun", "log_teff_k", "mass_msun")):
                 x, y = A[q][()], B[q][()]
                 for i in range(len(ne)):
                     d = np.abs(x[i, :ne[i]] - y[i, :ne[i]])
-                    if q == "mass":
+                    if q == "mass_msun":
                         d = d / mi[i]
                     for p in np.unique(ph[i, :ne[i]]):
                         key = (phase_keys[p], qi)
                         v = d[ph[i, :ne[i]] == p].max()
                         per_track.setdefault(key, []).append(v)
                         if v > worst.get(key, (0,))[0]:
-                            worst[key] = (v, float(A.attrs["Z"]), float(mi[i]))
+                            worst[key] = (v, float(A.attrs["z"]), float(mi[i]))
         return worst
 
     # 1. detection
@@ -153,14 +158,14 @@ try:
         # keypoint detection against the generator's own keypoints
         kpw = {}
         for t in rep["tracks"]:
-            ages = truth[(t["Z"], t["initial_mass_Msun"])]
+            ages = truth[(t["z"], t["initial_mass_msun"])]
             check(len(t["keypoints"]) == len(ages), "%s: every keypoint found" % t["file"])
             for k, kp in enumerate(t["keypoints"][:len(ages)]):
                 lo = ages[k - 1] if k > 0 else ages[0]
                 hi = ages[k + 1] if k + 1 < len(ages) else ages[-1]
                 rel = abs(kp["age_yr"] - ages[k]) / max(hi - lo, 1e-300)
-                if rel > kpw.get(kp["name"], (0,))[0]:
-                    kpw[kp["name"]] = (rel, os.path.basename(t["file"]))
+                if rel > kpw.get(kp["keypoint"], (0,))[0]:
+                    kpw[kp["keypoint"]] = (rel, os.path.basename(t["file"]))
         print("keypoint detection: largest |age error| / (age span of the two neighbouring segments)")
         for k, v in sorted(kpw.items()):
             print("  %-14s %.3g  (%s)" % (k, v[0], v[1]))
@@ -189,6 +194,18 @@ try:
         big = max(v[0] for k, v in worst.items() if isinstance(k, tuple))
         print("flagged import vs default grid: largest difference %.3g" % big)
         check(big < 1e-8, "flagged import equals the default grid to rounding (%.3g)" % big)
+
+    # 3. the raw dump as it is: vocabulary columns (phase as codes, keypoints flagged), no column map
+    rep = run_import(raw, os.path.join(work, "raw.h5"), ["--map", "pattern=raw_z{z}_m{mass}.csv"], mapped=False)
+    if rep:
+        check(rep["tracks_used"] == len(truth), "raw dump: every track imported without a column map")
+        kinds = {kp["found_by"] for t in rep["tracks"] for kp in t["keypoints"]}
+        check(kinds == {"flag"}, "raw dump: every keypoint from its keypoints column (got %s)" % sorted(kinds))
+        worst = compare(os.path.join(work, "raw.h5"), "raw")
+        big = max(v[0] for k, v in worst.items() if isinstance(k, tuple))
+        print("raw-dump import vs default grid: largest difference %.3g" % big)
+        # absolute 1e-8: the dump's text has 10 to 17 significant digits (rounding only)
+        check(big < 1e-8, "raw-dump import equals the default grid to rounding (%.3g)" % big)
 finally:
     shutil.rmtree(work, True)
 

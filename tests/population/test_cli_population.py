@@ -40,14 +40,24 @@ for e in ep:
     ph = sum(r["stars"] for r in e["phases"])
     rem = sum(r["stars"] for r in e["remnants"] if r["record"] == "remnant")
     check(ph == e["evaluated"] == rem == 200000, "phases and remnant kinds partition the stars at %g yr" % e["age_yr"])
-    L = sum(r["L_Lsun"] for r in e["phases"])
-    check(abs(L / e["L_Lsun"] - 1) < 1e-12, "luminosity per phase adds up to the integrated one")
+    L = sum(r["l_lsun"] for r in e["phases"])
+    # relative tolerance 1e-12: the sums are exact in fixed point, each rounded once to double (common practice)
+    check(abs(L / e["l_lsun"] - 1) < 1e-12, "luminosity per phase adds up to the integrated one")
     h = e["hr_histogram"]
     check(sum(map(sum, h["counts"])) + h["outside"] == sum(r["stars"] for r in e["phases"] if r["key"] not in ("ns", "bh")),
           "histogram holds every luminous star")
 wd = [next(r["stars"] for r in e["phases"] if r["key"] == "wd") for e in ep]
 check(wd[1] > wd[0], "more white dwarfs at 8 Gyr than at 1 Gyr: %r" % wd)
-check(ep[1]["turnoff_mass_Msun"] < ep[0]["turnoff_mass_Msun"], "turnoff mass falls with age")
+check(ep[1]["turnoff_mass_msun"] < ep[0]["turnoff_mass_msun"], "turnoff mass falls with age")
+# phase and remnant keys are hrtrail's (tracks/FORMAT.md, "Phase and remnant codes"); 'none': not a remnant
+phase_keys = {"unknown", "pre_ms", "ms", "subgiant", "rgb", "post_rgb", "cheb", "eagb", "tpagb", "post_agb", "bsg",
+              "rsg", "wr", "wd", "ns", "bh"}
+remnant_keys = {"none", "he_wd", "co_wd", "one_wd", "ns", "bh"}
+check(all(r["key"] in phase_keys for e in ep for r in e["phases"]), "phase records use phase keys")
+check(all(r["key"] in remnant_keys for e in ep for r in e["remnants"] if r["record"] == "remnant") and
+      all(r["stars"] > 0 for e in ep for r in e["remnants"] if r["key"] == "none"),
+      "remnant records use remnant keys; 'none' counts the stars that are no remnant")
+check(doc["population"]["z"] == 0.014 and "Z" not in doc["population"], "population: z, never Z")
 rc2, out2, _ = run(base + ["--json", "-o", svg, "--threads", "2"])
 check(rc2 == 0 and out2 == out, "2 threads give the same JSON as 1")
 x = subprocess.run(["xmllint", "--noout", svg], capture_output=True)

@@ -470,7 +470,7 @@ START_TEST(test_summary_recount)
             nb++;
         }
     hrt_eval(g, nb, m, z, 0, a, st, NULL);
-    uint64_t nph[HRT_POP_MAX_PHASES] = {0}, nfail = 0, nrange = 0, nlum = 0, nwd = 0;
+    uint64_t nph[HRT_PHASE_SLOTS] = {0}, nfail = 0, nrange = 0, nlum = 0, nwd = 0;
     long double L = 0, M0 = 0;
     for (size_t i = 0; i < nb; i++) {
         if (st[i].status != HRT_OK) {
@@ -489,7 +489,7 @@ START_TEST(test_summary_recount)
     ck_assert_uint_eq(sum.n_evaluated, nb - nfail);
     ck_assert_uint_eq(sum.n_status[HRT_E_MASS_RANGE], nrange);
     ck_assert_uint_gt(nrange, 0); /* the brown dwarfs below the grid's 0.08 Msun */
-    for (int p = 0; p < HRT_POP_MAX_PHASES; p++) ck_assert_uint_eq(sum.n_phase[p], nph[p]);
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++) ck_assert_uint_eq(sum.n_phase[p], nph[p]);
     ck_assert_uint_eq(sum.n_remnant[HRT_REMNANT_HE_WD] + sum.n_remnant[HRT_REMNANT_CO_WD] + sum.n_remnant[HRT_REMNANT_ONE_WD], nwd);
     ck_assert_uint_eq(sum.n_phase[HRT_PHASE_WD], nwd);
     double lv = hrt_pop_sum_value(&sum.l_lsun), mv = hrt_pop_sum_value(&sum.initial_mass_msun);
@@ -498,13 +498,13 @@ START_TEST(test_summary_recount)
     /* totals: phases and remnant kinds partition the evaluated stars, exactly in fixed point */
     uint64_t c1 = 0, c2 = 0, hist = sum.hr_outside;
     hrt_pop_sum lsum = {0, 0};
-    for (int p = 0; p < HRT_POP_MAX_PHASES; p++) {
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++) {
         c1 += sum.n_phase[p];
         uint64_t lo = lsum.lo + sum.phase_l_lsun[p].lo;
         lsum.hi += sum.phase_l_lsun[p].hi + (lo < lsum.lo);
         lsum.lo = lo;
     }
-    for (int r = 0; r < HRT_POP_MAX_REMNANTS; r++) c2 += sum.n_remnant[r];
+    for (int r = 0; r < HRT_REMNANT_SLOTS; r++) c2 += sum.n_remnant[r];
     for (uint64_t k = 0; k < HR.nx * HR.ny; k++) hist += sum.hr_count[k];
     ck_assert_uint_eq(c1, sum.n_evaluated);
     ck_assert_uint_eq(c2, sum.n_evaluated);

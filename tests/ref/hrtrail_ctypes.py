@@ -1,14 +1,16 @@
-"""Minimal ctypes mirror of include/hrtrail.h for the reference tests.
+"""Minimal ctypes mirror of include/hrtrail.h (ABI 2) for the reference tests.
 
 The shared library is the one named by the environment variable HRTRAIL_LIB
 (meson test sets it to the libhrtrail.so of the build tree).  Only what the
-reference tests call is declared here.
+reference tests call is declared here.  Independent of the Python binding
+(bindings/python), so that the two check each other.
 """
 import ctypes
 import os
 
 import numpy as np
 
+HRT_ABI_VERSION = 2
 HRT_OK = 0
 HRT_INTERP = {"steffen": 0, "linear": 1, "cspline": 2, "akima": 3}
 HRT_FLAG_EXTRAPOLATED = 0x4
@@ -25,8 +27,8 @@ class HrtState(ctypes.Structure):
                 ("phase", ctypes.c_int32), ("route", ctypes.c_int32),
                 ("remnant", ctypes.c_int32), ("flags", ctypes.c_int32)] + \
         [(name, ctypes.c_double) for name in (
-            "initial_mass_msun", "z", "age_yr", "log_l", "log_teff_k", "log_r", "log_g_cgs",
-            "mass_msun", "he_core_msun", "co_core_msun", "eep", "phase_fraction",
+            "initial_mass_msun", "z", "age_yr", "log_l_lsun", "log_teff_k", "log_r_rsun", "log_g_cgs",
+            "mass_msun", "he_core_mass_msun", "co_core_mass_msun", "eep", "phase_fraction",
             "phase_start_yr", "phase_end_yr", "remnant_mass_msun")] + \
         [("reserved", ctypes.c_double * 7)]
 
@@ -43,9 +45,9 @@ _DP = ctypes.POINTER(ctypes.c_double)
 class HrtTrackData(ctypes.Structure):
     _fields_ = [("initial_mass_msun", ctypes.c_double), ("route", ctypes.c_int),
                 ("remnant", ctypes.c_int), ("remnant_mass_msun", ctypes.c_double),
-                ("n", ctypes.c_size_t), ("log_age_yr", _DP), ("log_l", _DP),
-                ("log_teff_k", _DP), ("log_r", _DP), ("mass_msun", _DP),
-                ("he_core_msun", _DP), ("co_core_msun", _DP),
+                ("n", ctypes.c_size_t), ("log_age_yr", _DP), ("log_l_lsun", _DP),
+                ("log_teff_k", _DP), ("log_r_rsun", _DP), ("mass_msun", _DP),
+                ("he_core_mass_msun", _DP), ("co_core_mass_msun", _DP),
                 ("phase", ctypes.POINTER(ctypes.c_int)), ("n_keypoints", ctypes.c_size_t),
                 ("keypoint_sample", ctypes.POINTER(ctypes.c_size_t))]
 
@@ -66,7 +68,13 @@ def load():
         "hrt_state_size": (sz, []),
         "hrt_abi_version": (i, []),
         "hrt_phase_key": (cp, [i]),
+        "hrt_phase_name": (cp, [i]),
+        "hrt_phase_from_key": (i, [cp]),
+        "hrt_phase_code": (i, [sz]),
         "hrt_remnant_key": (cp, [i]),
+        "hrt_remnant_name": (cp, [i]),
+        "hrt_remnant_from_key": (i, [cp]),
+        "hrt_remnant_code": (i, [sz]),
         "hrt_grid_open_with": (i, [cp, i, ctypes.POINTER(vp), err]),
         "hrt_grid_close": (None, [vp]),
         "hrt_grid_interp": (i, [vp]),
@@ -97,10 +105,13 @@ def load():
         "hrt_builder_set_route_boundaries": (i, [vp, d, _DP, err]),
         "hrt_builder_set_attribute": (i, [vp, cp, cp, err]),
         "hrt_builder_write": (i, [vp, cp, err]),
+        "hrt_grid_upgrade": (i, [cp, cp, err]),
     }
     for name, (res, args) in protos.items():
         fn = getattr(lib, name)
         fn.restype, fn.argtypes = res, args
+    if lib.hrt_abi_version() != HRT_ABI_VERSION:
+        raise RuntimeError("library ABI %d, this mirror is of ABI %d" % (lib.hrt_abi_version(), HRT_ABI_VERSION))
     if lib.hrt_state_size() != ctypes.sizeof(HrtState):
         raise RuntimeError("hrt_state is %d bytes in the library, %d in this mirror"
                            % (lib.hrt_state_size(), ctypes.sizeof(HrtState)))
@@ -125,12 +136,20 @@ def open_grid(lib, path, interp):
 
 
 def evaluate(lib, g, mass_msun, age_yr, z):
-    """hrt_eval over whole arrays at one metallicity; returns (code, error, states as numpy record array)."""
+    """hrt_eval over whole arrays; z is one metallicity (z_all) or an array of them.
+
+    Returns (code, error message, states as a numpy record array)."""
     m = np.ascontiguousarray(mass_msun, dtype=np.float64)
     a = np.ascontiguousarray(age_yr, dtype=np.float64)
     assert m.shape == a.shape and m.ndim == 1
+    if np.ndim(z) == 0:
+        zz, z_all = None, float(z)
+    else:
+        zz, z_all = np.ascontiguousarray(z, dtype=np.float64), 0.0
+        assert zz.shape == m.shape
     out = (HrtState * m.size)()
     e = HrtError()
-    rc = lib.hrt_eval(g, m.size, dptr(m), None, z, dptr(a), out, ctypes.byref(e))
+    rc = lib.hrt_eval(g, m.size, dptr(m), None if zz is None else dptr(zz), z_all, dptr(a), out,
+                      ctypes.byref(e))
     states = np.frombuffer(out, dtype=STATE_DTYPE).copy()
     return rc, e.message.decode(errors="replace"), states

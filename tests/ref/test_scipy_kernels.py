@@ -113,13 +113,14 @@ def write_test_grid(path, shift_ages=False):
     s = np.arange(N_EEP) / (N_EEP - 1)
     ll, lt = log_l_table(), log_teff_table()
     g = age_shift(X) if shift_ages else np.zeros(X.size)
-    tracks = [{"initial_mass": m, "route": 0, "remnant": "co_wd", "remnant_mass": 0.55 + 0.05 * m,
-               "log_age": LOG_AGE + g[i], "log_L": ll[i], "log_Teff": lt[i], "mass": m * (1 - 0.05 * s),
-               "he_core_mass": 0.1 * m * s, "co_core_mass": 0.02 * m * s ** 2, "phase": PHASES}
+    tracks = [{"initial_mass_msun": m, "route": 0, "remnant": "co_wd", "remnant_mass_msun": 0.55 + 0.05 * m,
+               "log_age_yr": LOG_AGE + g[i], "log_l_lsun": ll[i], "log_teff_k": lt[i],
+               "mass_msun": m * (1 - 0.05 * s), "he_core_mass_msun": 0.1 * m * s,
+               "co_core_mass_msun": 0.02 * m * s ** 2, "phase": PHASES}
               for i, m in enumerate(MASSES)]
     W.write_grid(path, Z_REF, [{"name": "giant", "keypoint_names": KEYPOINTS,
                                 "segment_samples": SEGMENTS}],
-                 [{"Z": Z, "tracks": tracks}], attrs={"description": "spline reference test grid"})
+                 [{"z": Z, "tracks": tracks}], attrs={"description": "spline reference test grid"})
     return ll, lt
 
 
@@ -272,7 +273,7 @@ class SplineKernels(unittest.TestCase):
     def compare(self, interp, label, make, skip_kink=False):
         mq, st, eep = self.at_eeps(interp)
         rl, rt = self.references(make, mq)
-        dl = np.abs(st["log_l"].reshape(eep.shape)
+        dl = np.abs(st["log_l_lsun"].reshape(eep.shape)
                     - np.array([blended(rl, eep[j]) for j in range(N_EEP)]))
         dt = np.abs(st["log_teff_k"].reshape(eep.shape)
                     - np.array([blended(rt, eep[j]) for j in range(N_EEP)]))
@@ -319,13 +320,13 @@ class SplineKernels(unittest.TestCase):
                 ref = np.array([[make(X, LOG_L[:, j])(math.log10(m))[0] for j in (a, a + 1)]
                                 for m, a in zip(mq[:300], j0[:300])])
                 want = (1 - f[:300]) * ref[:, 0] + f[:300] * ref[:, 1]
-                self.assertLess(np.max(np.abs(st["log_l"][:300] - want)), TOL_DEX)
+                self.assertLess(np.max(np.abs(st["log_l_lsun"][:300] - want)), TOL_DEX)
                 if interp != "akima":  # SciPy on all stars (Akima: see the module note)
                     rl = np.array([SCIPY_REFERENCE[interp](X, LOG_L[:, j])(log10_libm(mq))
                                    for j in range(N_EEP)])
                     k = np.arange(n)
                     want = (1 - f) * rl[j0, k] + f * rl[j0 + 1, k]
-                    self.assertLess(np.max(np.abs(st["log_l"] - want)), TOL_DEX)
+                    self.assertLess(np.max(np.abs(st["log_l_lsun"] - want)), TOL_DEX)
 
     def test_mass_dependent_ages(self):
         """Second grid: log_age[i, j] = LOG_AGE[j] + g(x_i) with a smooth, non-linear g.
@@ -351,7 +352,7 @@ class SplineKernels(unittest.TestCase):
                 rl = np.array([make(X, LOG_L[:, j])(xq) for j in range(N_EEP)])
                 k = np.arange(n)
                 want = (1 - f) * rl[j0, k] + f * rl[j0 + 1, k]
-                d = np.abs(st["log_l"] - want)
+                d = np.abs(st["log_l_lsun"] - want)
                 if interp == "akima":  # the corner of EEP KINK_EEP: see the module note
                     d[((j0 == KINK_EEP) | (j0 + 1 == KINK_EEP))
                       & (xq > X[KINK_KNOT - 1]) & (xq < X[KINK_KNOT + 1])] = 0.0
@@ -362,10 +363,10 @@ class SplineKernels(unittest.TestCase):
         """log R from L and Teff, log g from the current mass and R, phase of the EEP."""
         mq, st, eep = self.at_eeps("cspline")
         # reference: Stefan-Boltzmann law in nominal solar units, Teff_sun = 5772 K (IAU 2015 B3)
-        want_r = 0.5 * st["log_l"] - 2.0 * (st["log_teff_k"] - np.log10(5772.0))
-        self.assertLess(np.max(np.abs(st["log_r"] - want_r)), 1e-12)
+        want_r = 0.5 * st["log_l_lsun"] - 2.0 * (st["log_teff_k"] - np.log10(5772.0))
+        self.assertLess(np.max(np.abs(st["log_r_rsun"] - want_r)), 1e-12)
         # reference: g = G M / R^2, (GM)sun = 1.3271244e20 m^3 s^-2, Rsun = 6.957e8 m (IAU 2015 B3)
-        want_g = np.log10(1.3271244e20 * st["mass_msun"] / (10.0 ** st["log_r"] * 6.957e8) ** 2 * 100.0)
+        want_g = np.log10(1.3271244e20 * st["mass_msun"] / (10.0 ** st["log_r_rsun"] * 6.957e8) ** 2 * 100.0)
         self.assertLess(np.max(np.abs(st["log_g_cgs"] - want_g)), 1e-10)
         self.assertTrue(np.all(st["route"] == 0))
         keys = [LIB.hrt_phase_key(int(p)).decode() for p in st["phase"]]

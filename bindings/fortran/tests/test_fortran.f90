@@ -1,12 +1,17 @@
 !> Tests of the Fortran module hrtrail against the C library.
 !>
-!>   test_fortran GRID             layout, ABI guard, evaluation, stars, isochrones, errors
+!>   test_fortran GRID             layout, ABI guard, phase and remnant codes, evaluation, stars,
+!>                                 isochrones, errors, grid upgrade (writes test_fortran_upgraded.h5
+!>                                 in the working directory and deletes it)
 !>   test_fortran GRID mismatch    run with a stand-in library preloaded that reports ABI 99:
 !>                                 the guard must refuse it
 !>
 !> The reference is the C library called straight from C (c_side.c, linked into
 !> this program): every state must be equal bit for bit, and the layout of
-!> each derived type equal to the C compiler's offsetof()/sizeof().
+!> each derived type equal to the C compiler's offsetof()/sizeof().  The
+!> phase and remnant parameters are checked against the library's code lists
+!> (hrt_phase_code, hrt_phase_key, ...) and the header's constants
+!> (header_values.c), so that a code changed on one side only fails here.
 program test_fortran
   use, intrinsic :: iso_c_binding
   use, intrinsic :: ieee_arithmetic, only: ieee_value, ieee_quiet_nan, ieee_positive_inf
@@ -25,6 +30,11 @@ program test_fortran
        integer(c_size_t), intent(out) :: offset, size
        integer(c_int) :: rc
      end function ref_state_field
+     function ref_header_value(which) bind(C) result(v)
+       import :: c_int
+       integer(c_int), value :: which
+       integer(c_int) :: v
+     end function ref_header_value
      function ref_sizeof(which) bind(C) result(n)
        import :: c_int, c_size_t
        integer(c_int), value :: which
@@ -83,10 +93,12 @@ program test_fortran
   else
      call test_layout()
      call test_abi()
+     call test_codes()
      call test_eval()
      call test_stars()
      call test_isochrones()
      call test_errors()
+     call test_upgrade()
   end if
   write (*, '(a,i0,a,i0,a)') 'fortran binding: ', checks, ' checks, ', failures, ' failures'
   if (failures > 0) error stop 1
@@ -135,13 +147,13 @@ contains
     if (.not. same(a%initial_mass_msun, b%initial_mass_msun)) field = 'initial_mass_msun'
     if (.not. same(a%z, b%z)) field = 'z'
     if (.not. same(a%age_yr, b%age_yr)) field = 'age_yr'
-    if (.not. same(a%log_l, b%log_l)) field = 'log_l'
+    if (.not. same(a%log_l_lsun, b%log_l_lsun)) field = 'log_l_lsun'
     if (.not. same(a%log_teff_k, b%log_teff_k)) field = 'log_teff_k'
-    if (.not. same(a%log_r, b%log_r)) field = 'log_r'
+    if (.not. same(a%log_r_rsun, b%log_r_rsun)) field = 'log_r_rsun'
     if (.not. same(a%log_g_cgs, b%log_g_cgs)) field = 'log_g_cgs'
     if (.not. same(a%mass_msun, b%mass_msun)) field = 'mass_msun'
-    if (.not. same(a%he_core_msun, b%he_core_msun)) field = 'he_core_msun'
-    if (.not. same(a%co_core_msun, b%co_core_msun)) field = 'co_core_msun'
+    if (.not. same(a%he_core_mass_msun, b%he_core_mass_msun)) field = 'he_core_mass_msun'
+    if (.not. same(a%co_core_mass_msun, b%co_core_mass_msun)) field = 'co_core_mass_msun'
     if (.not. same(a%eep, b%eep)) field = 'eep'
     if (.not. same(a%phase_fraction, b%phase_fraction)) field = 'phase_fraction'
     if (.not. same(a%phase_start_yr, b%phase_start_yr)) field = 'phase_start_yr'
@@ -201,22 +213,22 @@ contains
     integer(c_intptr_t) :: base
     base = addr(c_loc(s))
     names = [character(len=24) :: 'struct_size', 'status', 'phase', 'route', 'remnant', 'flags', &
-         'initial_mass_msun', 'z', 'age_yr', 'log_l', 'log_teff_k', 'log_r', 'log_g_cgs', 'mass_msun', &
-         'he_core_msun', 'co_core_msun', 'eep', 'phase_fraction', 'phase_start_yr', 'phase_end_yr', &
+         'initial_mass_msun', 'z', 'age_yr', 'log_l_lsun', 'log_teff_k', 'log_r_rsun', 'log_g_cgs', &
+         'mass_msun', 'he_core_mass_msun', 'co_core_mass_msun', 'eep', 'phase_fraction', 'phase_start_yr', 'phase_end_yr', &
          'remnant_mass_msun', 'reserved']
     offs = [addr(c_loc(s%struct_size)), addr(c_loc(s%status)), addr(c_loc(s%phase)), &
          addr(c_loc(s%route)), addr(c_loc(s%remnant)), addr(c_loc(s%flags)), &
          addr(c_loc(s%initial_mass_msun)), addr(c_loc(s%z)), addr(c_loc(s%age_yr)), &
-         addr(c_loc(s%log_l)), addr(c_loc(s%log_teff_k)), addr(c_loc(s%log_r)), &
-         addr(c_loc(s%log_g_cgs)), addr(c_loc(s%mass_msun)), addr(c_loc(s%he_core_msun)), &
-         addr(c_loc(s%co_core_msun)), addr(c_loc(s%eep)), addr(c_loc(s%phase_fraction)), &
+         addr(c_loc(s%log_l_lsun)), addr(c_loc(s%log_teff_k)), addr(c_loc(s%log_r_rsun)), &
+         addr(c_loc(s%log_g_cgs)), addr(c_loc(s%mass_msun)), addr(c_loc(s%he_core_mass_msun)), &
+         addr(c_loc(s%co_core_mass_msun)), addr(c_loc(s%eep)), addr(c_loc(s%phase_fraction)), &
          addr(c_loc(s%phase_start_yr)), addr(c_loc(s%phase_end_yr)), &
          addr(c_loc(s%remnant_mass_msun)), addr(c_loc(s%reserved))] - base
     sizes = [c_sizeof(s%struct_size), c_sizeof(s%status), c_sizeof(s%phase), c_sizeof(s%route), &
          c_sizeof(s%remnant), c_sizeof(s%flags), c_sizeof(s%initial_mass_msun), c_sizeof(s%z), &
-         c_sizeof(s%age_yr), c_sizeof(s%log_l), c_sizeof(s%log_teff_k), c_sizeof(s%log_r), &
-         c_sizeof(s%log_g_cgs), c_sizeof(s%mass_msun), c_sizeof(s%he_core_msun), &
-         c_sizeof(s%co_core_msun), c_sizeof(s%eep), c_sizeof(s%phase_fraction), &
+         c_sizeof(s%age_yr), c_sizeof(s%log_l_lsun), c_sizeof(s%log_teff_k), c_sizeof(s%log_r_rsun), &
+         c_sizeof(s%log_g_cgs), c_sizeof(s%mass_msun), c_sizeof(s%he_core_mass_msun), &
+         c_sizeof(s%co_core_mass_msun), c_sizeof(s%eep), c_sizeof(s%phase_fraction), &
          c_sizeof(s%phase_start_yr), c_sizeof(s%phase_end_yr), c_sizeof(s%remnant_mass_msun), &
          c_sizeof(s%reserved)]
     call expect(ref_state_n_fields() == size(names), 'hrt_state has as many fields in Fortran as in C')
@@ -235,13 +247,19 @@ contains
   subroutine test_abi()
     integer :: stat
     character(len=256) :: msg
+    character(len=40) :: want
     call hrtf_check_abi(stat, msg)
     call expect(stat == HRT_OK .and. len_trim(msg) == 0, 'ABI guard accepts the library it was built against')
     call expect(hrt_abi_version() == HRTF_ABI_VERSION, 'module ABI number equals the library''s')
+    call expect(HRTF_ABI_VERSION == ref_header_value(0_c_int), 'module ABI number equals the header''s HRT_ABI_VERSION')
     call hrtf_check_abi_values(99, 200_c_size_t, stat, msg)
     call expect(stat == HRTF_E_ABI .and. index(msg, 'reports ABI 99') > 0, 'ABI guard refuses ABI 99: ' // trim(msg))
-    call hrtf_check_abi_values(1, 208_c_size_t, stat, msg)
+    call hrtf_check_abi_values(HRTF_ABI_VERSION, 208_c_size_t, stat, msg)
     call expect(stat == HRTF_E_ABI .and. index(msg, '= 208 bytes') > 0, 'ABI guard refuses a 208-byte hrt_state')
+    call hrtf_check_abi_values(HRTF_ABI_VERSION - 1, hrt_state_size(), stat, msg)
+    write (want, '(a,i0,a)') 'reports ABI ', HRTF_ABI_VERSION - 1, ' '
+    call expect(stat == HRTF_E_ABI .and. index(msg, want(1:len_trim(want) + 1)) > 0, &
+         'ABI guard refuses the previous ABI with an hrt_state of the same size: ' // trim(msg))
   end subroutine test_abi
 
   subroutine test_guard_refuses()
@@ -254,6 +272,58 @@ contains
     call hrtf_open(g, trim(grid_path), stat=stat, errmsg=msg)
     call expect(stat == HRTF_E_ABI .and. .not. c_associated(g%ptr), 'hrtf_open refuses to open with ABI 99')
   end subroutine test_guard_refuses
+
+  !> Every HRT_PHASE_* and HRT_REMNANT_* parameter against the library's lists: the i-th
+  !> parameter (in the order of HRT_PHASE_LIST) is hrt_phase_code(i) and has the key its
+  !> name says; the counts and slot sizes are the library's and the header's.
+  subroutine test_codes()
+    integer(c_int), parameter :: phases(16) = [HRT_PHASE_UNKNOWN, HRT_PHASE_PRE_MS, HRT_PHASE_MS, &
+         HRT_PHASE_SUBGIANT, HRT_PHASE_RGB, HRT_PHASE_POST_RGB, HRT_PHASE_CHEB, HRT_PHASE_EAGB, &
+         HRT_PHASE_TPAGB, HRT_PHASE_POST_AGB, HRT_PHASE_BSG, HRT_PHASE_RSG, HRT_PHASE_WR, HRT_PHASE_WD, &
+         HRT_PHASE_NS, HRT_PHASE_BH]
+    character(len=*), parameter :: phase_keys(16) = [character(len=8) :: 'unknown', 'pre_ms', 'ms', &
+         'subgiant', 'rgb', 'post_rgb', 'cheb', 'eagb', 'tpagb', 'post_agb', 'bsg', 'rsg', 'wr', 'wd', 'ns', 'bh']
+    integer(c_int), parameter :: remnants(6) = [HRT_REMNANT_NONE, HRT_REMNANT_HE_WD, HRT_REMNANT_CO_WD, &
+         HRT_REMNANT_ONE_WD, HRT_REMNANT_NS, HRT_REMNANT_BH]
+    character(len=*), parameter :: remnant_keys(6) = [character(len=6) :: 'none', 'he_wd', 'co_wd', 'one_wd', &
+         'ns', 'bh']
+    integer :: i
+    integer(c_int) :: last, beyond
+    character(len=:), allocatable :: key, fkey
+    call expect(HRT_PHASE_N == size(phases), 'every HRT_PHASE_* parameter is in the table (HRT_PHASE_N)')
+    call expect(HRT_PHASE_N == ref_header_value(1_c_int), 'HRT_PHASE_N equals the header''s')
+    call expect(HRT_PHASE_SLOTS == ref_header_value(2_c_int), 'HRT_PHASE_SLOTS equals the header''s')
+    last = hrt_phase_code(int(HRT_PHASE_N - 1, c_size_t))
+    beyond = hrt_phase_code(int(HRT_PHASE_N, c_size_t))
+    call expect(last >= 0 .and. beyond == -1, 'the library lists HRT_PHASE_N phases')
+    do i = 1, size(phases)
+       key = hrtf_string(hrt_phase_key(phases(i)))
+       fkey = hrtf_phase_key(int(phases(i)))
+       call expect(hrt_phase_code(int(i - 1, c_size_t)) == phases(i), &
+            'HRT_PHASE_* parameter ' // trim(phase_keys(i)) // ' is the library''s code in list order')
+       call expect(key == trim(phase_keys(i)) .and. fkey == key, &
+            'phase code of ' // trim(phase_keys(i)) // ' has that key in the library, not ' // key)
+       call expect(phases(i) >= 0 .and. phases(i) < HRT_PHASE_SLOTS, &
+            'phase code of ' // trim(phase_keys(i)) // ' below HRT_PHASE_SLOTS')
+       call expect(count(phases == phases(i)) == 1, 'phase code of ' // trim(phase_keys(i)) // ' unique')
+    end do
+    call expect(HRT_REMNANT_N == size(remnants), 'every HRT_REMNANT_* parameter is in the table (HRT_REMNANT_N)')
+    call expect(HRT_REMNANT_N == ref_header_value(3_c_int), 'HRT_REMNANT_N equals the header''s')
+    call expect(HRT_REMNANT_SLOTS == ref_header_value(4_c_int), 'HRT_REMNANT_SLOTS equals the header''s')
+    last = hrt_remnant_code(int(HRT_REMNANT_N - 1, c_size_t))
+    beyond = hrt_remnant_code(int(HRT_REMNANT_N, c_size_t))
+    call expect(last >= 0 .and. beyond == -1, 'the library lists HRT_REMNANT_N remnant kinds')
+    do i = 1, size(remnants)
+       key = hrtf_string(hrt_remnant_key(remnants(i)))
+       call expect(hrt_remnant_code(int(i - 1, c_size_t)) == remnants(i), &
+            'HRT_REMNANT_* parameter ' // trim(remnant_keys(i)) // ' is the library''s code in list order')
+       call expect(key == trim(remnant_keys(i)), &
+            'remnant code of ' // trim(remnant_keys(i)) // ' has that key in the library, not ' // key)
+       call expect(remnants(i) >= 0 .and. remnants(i) < HRT_REMNANT_SLOTS, &
+            'remnant code of ' // trim(remnant_keys(i)) // ' below HRT_REMNANT_SLOTS')
+       call expect(count(remnants == remnants(i)) == 1, 'remnant code of ' // trim(remnant_keys(i)) // ' unique')
+    end do
+  end subroutine test_codes
 
   !> Deterministic stars across the grid and beyond it, with edge cases.
   subroutine draw_stars(g, n, m, z, a)
@@ -346,7 +416,7 @@ contains
     type(hrt_phase_span), allocatable :: fspans(:)
     type(hrt_phase_span) :: cspans(64)
     integer(c_size_t) :: nt, ns
-    integer :: i, k, stat, rc, kind
+    integer :: i, k, stat, rc, remnant
     real(c_double) :: rmass
     logical :: ok
     allocate (ctrack(2000))
@@ -377,8 +447,8 @@ contains
           end do
        end if
        call expect(ok, 'hrtf_star_phases equals hrt_star_phases from C')
-       call hrtf_star_remnant(s, kind, rmass)
-       call expect(kind == fat(1)%remnant .and. same(rmass, fat(1)%remnant_mass_msun), 'remnant as in the state')
+       call hrtf_star_remnant(s, remnant, rmass)
+       call expect(remnant == fat(1)%remnant .and. same(rmass, fat(1)%remnant_mass_msun), 'remnant as in the state')
        call expect(hrtf_star_end_age(s) > 0.0_c_double, 'end age')
        call hrtf_star_free(s)
        call expect(.not. c_associated(s%ptr), 'hrtf_star_free nulls the handle')
@@ -450,5 +520,37 @@ contains
     call hrtf_close(g)
     call expect(.not. c_associated(g%ptr), 'hrtf_close nulls the handle')
   end subroutine test_errors
+
+  !> hrtf_grid_upgrade on a current grid (versions 1 .. current are read) writes a grid that
+  !> answers bit for bit as the original; failures report the path.
+  subroutine test_upgrade()
+    character(len=*), parameter :: out = 'test_fortran_upgraded.h5'
+    type(hrt_grid_t) :: g, u
+    real(c_double), allocatable :: m(:), z(:), a(:)
+    type(hrt_state), allocatable :: fg(:), fu(:)
+    integer :: stat, unit
+    character(len=256) :: msg
+    call hrtf_grid_upgrade(trim(grid_path), out, stat, msg)
+    call expect(stat == HRT_OK .and. len_trim(msg) == 0, 'hrtf_grid_upgrade of the grid: ' // trim(msg))
+    call hrtf_open(g, trim(grid_path))
+    call hrtf_open(u, out, stat=stat, errmsg=msg)
+    call expect(stat == HRT_OK, 'the upgraded grid opens: ' // trim(msg))
+    if (stat == HRT_OK) then
+       call draw_stars(g, 5000, m, z, a)
+       call hrtf_evaluate(g, m, a, z, fg, stat)
+       call hrtf_evaluate(u, m, a, z, fu, stat)
+       call expect_same_states(fu, fg, 'the upgraded grid answers as the original')
+       call hrtf_close(u)
+    end if
+    call hrtf_close(g)
+    open (newunit=unit, file=out, status='old', iostat=stat)
+    if (stat == 0) close (unit, status='delete')
+    call hrtf_grid_upgrade('/nonexistent/old-grid.h5', out, stat, msg)
+    call expect(stat == HRT_E_IO .and. index(msg, '/nonexistent/old-grid.h5') > 0, &
+         'upgrade of a missing file: HRT_E_IO naming the path: ' // trim(msg))
+    call hrtf_grid_upgrade(trim(grid_path), '/nonexistent/dir/new-grid.h5', stat, msg)
+    call expect(stat == HRT_E_IO .and. index(msg, '/nonexistent/dir/new-grid.h5') > 0, &
+         'upgrade into a missing directory: HRT_E_IO naming the path: ' // trim(msg))
+  end subroutine test_upgrade
 
 end program test_fortran

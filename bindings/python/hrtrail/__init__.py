@@ -10,11 +10,15 @@ with NumPy used for whole-array calls when it is installed.
         iso = g.isochrone(1e9, z=0.014)
         star = g.star(2.0, 0.014)                   # one track, any age
         star.phases(), star.keypoints(), star.remnant
+    hrtrail.upgrade_grid("old.h5", "new.h5")       # a grid of an older format version
 
-Units: masses in Msun, ages in yr since birth, Z the metal mass fraction,
-log = log10, L in nominal Lsun, R in nominal Rsun, Teff in K, g in cm s^-2
-(IAU 2015 Resolution B3).  Library errors are raised as HrtrailError
-subclasses carrying the status code and the library's message.
+Names and units: fields are the vocabulary of tracks/FORMAT.md, units in the
+names (initial_mass_msun, age_yr, log_l_lsun, log_teff_k, ...): masses in Msun,
+ages in yr since birth, z the metal mass fraction, log = log10, L in nominal
+Lsun, R in nominal Rsun, Teff in K, g in cm s^-2 (IAU 2015 Resolution B3).
+Phases and remnants are hrtrail's codes (Phase, Remnant).  Library errors are
+raised as HrtrailError subclasses carrying the status code and the library's
+message.
 
 The library is found through the environment variable HRTRAIL_LIB (a path),
 else where meson installed it, else by its soname libhrtrail.so.1.  At import
@@ -26,7 +30,8 @@ population-level work; the answers are as good as the grid.
 """
 from ._clib import ABI_VERSION, AbiMismatchError, HrtError, HrtPhaseSpan, HrtState, lib as _lib
 from ._clib import library_path, text as _text
-from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, wd_log_l, wd_radius_rsun
+from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, upgrade_grid
+from .core import wd_log_l, wd_radius_rsun
 from .enums import Flag, Interp, Phase, Remnant, Status
 from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridError
 
@@ -48,5 +53,6 @@ __all__ = [
     "ABI_VERSION", "AbiMismatchError", "Flag", "Grid", "GridFileError", "HrtError", "HrtPhaseSpan",
     "HrtState", "HrtrailError", "Interp", "InvalidInputError", "OutsideGridError", "Phase",
     "PhaseSpan", "Remnant", "RemnantInfo", "STATE_DTYPE", "Star", "State", "Status",
-    "default_grid_path", "library_abi_version", "library_path", "wd_log_l", "wd_radius_rsun",
+    "default_grid_path", "library_abi_version", "library_path", "upgrade_grid", "wd_log_l",
+    "wd_radius_rsun",
 ]

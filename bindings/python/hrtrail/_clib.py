@@ -11,7 +11,7 @@ import os
 # The ABI this package was written for (HRT_ABI_VERSION of include/hrtrail.h).
 # It is deliberately not generated from the build: when the header's ABI number
 # changes, this file must be reviewed and the number changed by hand.
-ABI_VERSION = 1
+ABI_VERSION = 2
 
 _DP = ctypes.POINTER(ctypes.c_double)
 
@@ -26,8 +26,8 @@ STATE_FIELDS = [("struct_size", ctypes.c_uint32), ("status", ctypes.c_int32),
                 ("phase", ctypes.c_int32), ("route", ctypes.c_int32),
                 ("remnant", ctypes.c_int32), ("flags", ctypes.c_int32)] + \
     [(name, ctypes.c_double) for name in (
-        "initial_mass_msun", "z", "age_yr", "log_l", "log_teff_k", "log_r", "log_g_cgs",
-        "mass_msun", "he_core_msun", "co_core_msun", "eep", "phase_fraction",
+        "initial_mass_msun", "z", "age_yr", "log_l_lsun", "log_teff_k", "log_r_rsun", "log_g_cgs",
+        "mass_msun", "he_core_mass_msun", "co_core_mass_msun", "eep", "phase_fraction",
         "phase_start_yr", "phase_end_yr", "remnant_mass_msun")] + \
     [("reserved", ctypes.c_double * 7)]
 
@@ -106,12 +106,16 @@ def _declare(lib):
         "hrt_phase_name": (cp, [i]),
         "hrt_phase_key": (cp, [i]),
         "hrt_phase_from_key": (i, [cp]),
+        "hrt_phase_code": (i, [sz]),
         "hrt_remnant_name": (cp, [i]),
         "hrt_remnant_key": (cp, [i]),
+        "hrt_remnant_from_key": (i, [cp]),
+        "hrt_remnant_code": (i, [sz]),
         "hrt_interp_name": (cp, [i]),
         "hrt_interp_from_name": (i, [cp]),
         "hrt_grid_open_with": (i, [cp, i, pvp, err]),
         "hrt_grid_close": (None, [vp]),
+        "hrt_grid_upgrade": (i, [cp, cp, err]),
         "hrt_default_grid_path": (cp, []),
         "hrt_grid_interp": (i, [vp]),
         "hrt_grid_n_z": (sz, [vp]),

@@ -31,15 +31,18 @@ STATE_DTYPE = _np.dtype(HrtState) if _np is not None else None
 _STATE_SIZE = ctypes.sizeof(HrtState)
 _FLOAT_FIELDS = [n for n, t in HrtState._fields_ if t is ctypes.c_double]
 
-PhaseSpan = collections.namedtuple("PhaseSpan", "phase start_yr end_yr")
-PhaseSpan.__doc__ = """One phase of a star's life, [start_yr, end_yr).
+PhaseSpan = collections.namedtuple("PhaseSpan", "phase phase_start_yr phase_end_yr")
+PhaseSpan.__doc__ = """One phase of a star's life, [phase_start_yr, phase_end_yr) (struct hrt_phase_span).
 
-phase     Phase
-start_yr  age at which the phase begins, yr
-end_yr    age at which it ends, yr (+inf for a remnant that lasts forever)"""
+phase           Phase
+phase_start_yr  age at which the phase begins, yr
+phase_end_yr    age at which it ends, yr (+inf for a remnant that lasts forever)"""
 
-RemnantInfo = collections.namedtuple("RemnantInfo", "kind mass_msun")
-RemnantInfo.__doc__ = "Final remnant of a star: kind (Remnant) and mass (Msun, NaN if unknown)."
+RemnantInfo = collections.namedtuple("RemnantInfo", "remnant remnant_mass_msun")
+RemnantInfo.__doc__ = """Final remnant of a star.
+
+remnant            Remnant (its kind)
+remnant_mass_msun  its mass, Msun (NaN if unknown)"""
 
 
 def _need_numpy(what):
@@ -50,22 +53,22 @@ def _need_numpy(what):
 class State:
     """State of one star at one age (struct hrt_state as a Python object).
 
-    Attributes (units in the names, as in the C struct):
+    Attributes (the vocabulary of tracks/FORMAT.md, units in the names, as in the C struct):
       status             Status of this star (OK or the HRT_E_* code)
-      phase              Phase
+      phase              Phase (hrtrail's code, e.g. Phase.MS = 11)
       route              index of the route in the grid (Grid.routes), -1 if none
       remnant            Remnant: the kind of remnant this star will leave (or is)
       flags              Flag bits (DARK, REMNANT, EXTRAPOLATED, NOT_MODELLED)
       initial_mass_msun  initial mass, Msun
       z                  metal mass fraction
       age_yr             age since birth, yr
-      log_l              log10 L/Lsun (NaN if dark)
+      log_l_lsun         log10 L/Lsun (NaN if dark)
       log_teff_k         log10 Teff/K (NaN if dark)
-      log_r              log10 R/Rsun (from L and Teff by the Stefan-Boltzmann law)
+      log_r_rsun         log10 R/Rsun (from L and Teff by the Stefan-Boltzmann law)
       log_g_cgs          log10 g / (cm s^-2)
       mass_msun          current mass, Msun
-      he_core_msun       helium core mass, Msun
-      co_core_msun       carbon-oxygen core mass, Msun
+      he_core_mass_msun  helium core mass, Msun
+      co_core_mass_msun  carbon-oxygen core mass, Msun
       eep                fractional EEP index on the route (NaN for remnants, pre-MS)
       phase_fraction     0..1 through the current phase in age (NaN if open-ended)
       phase_start_yr     age at which the current phase began, yr
@@ -110,12 +113,12 @@ class State:
     @property
     def l_lsun(self):
         """Luminosity, Lsun."""
-        return 10.0 ** self.log_l
+        return 10.0 ** self.log_l_lsun
 
     @property
     def r_rsun(self):
         """Radius, Rsun."""
-        return 10.0 ** self.log_r
+        return 10.0 ** self.log_r_rsun
 
     def as_dict(self):
         """All fields as a dict."""
@@ -123,10 +126,10 @@ class State:
 
     def __repr__(self):
         ph = self.phase.key if isinstance(self.phase, Phase) else self.phase
-        return ("State(M0=%.6g Msun, Z=%.6g, age=%.6g yr, phase=%s, log_l=%.4f, log_teff_k=%.4f, "
-                "mass_msun=%.4f, status=%s)" % (self.initial_mass_msun, self.z, self.age_yr, ph,
-                                                self.log_l, self.log_teff_k, self.mass_msun,
-                                                getattr(self.status, "name", self.status)))
+        return ("State(initial_mass_msun=%.6g, z=%.6g, age_yr=%.6g, phase=%s, log_l_lsun=%.4f, "
+                "log_teff_k=%.4f, mass_msun=%.4f, status=%s)" % (
+                    self.initial_mass_msun, self.z, self.age_yr, ph, self.log_l_lsun, self.log_teff_k,
+                    self.mass_msun, getattr(self.status, "name", self.status)))
 
 
 def _as_f8(a):
@@ -316,7 +319,7 @@ class Grid(_Owned):
         threads    split the batch over this many threads (the library is
                    thread-safe on a shared grid; results are identical)
         Returns a NumPy structured array of STATE_DTYPE: the library's output
-        itself, fields as in State (states["log_l"], states["phase"], ...).
+        itself, fields as in State (states["log_l_lsun"], states["phase"], ...).
         Without NumPy, sequences are accepted and a list of State is returned.
         """
         if errors not in ("raise", "ignore"):
@@ -451,7 +454,7 @@ class Star(_Owned):
         lib.hrt_star_free(h)
 
     @property
-    def mass_msun(self):
+    def initial_mass_msun(self):
         """Initial mass, Msun."""
         return lib.hrt_star_mass(self._handle)
 
@@ -477,7 +480,7 @@ class Star(_Owned):
 
     @property
     def remnant(self):
-        """Final remnant: RemnantInfo(kind=Remnant, mass_msun)."""
+        """Final remnant: RemnantInfo(remnant=Remnant, remnant_mass_msun)."""
         k, m = ctypes.c_int(), ctypes.c_double()
         check(lib.hrt_star_remnant(self._handle, ctypes.byref(k), ctypes.byref(m)), None, "hrt_star_remnant")
         return RemnantInfo(Remnant(k.value), m.value)
@@ -497,7 +500,7 @@ class Star(_Owned):
                   "hrt_star_at(%r yr)" % (age_yr,))
             return State.from_c(out)
         a = _as_f8(age_yr)
-        return self.grid.evaluate(_np.full(a.shape, self.mass_msun), a, self.z)
+        return self.grid.evaluate(_np.full(a.shape, self.initial_mass_msun), a, self.z)
 
     def track(self):
         """The star's interpolated track: its state at every EEP (STATE_DTYPE array, or list of State)."""
@@ -515,7 +518,7 @@ class Star(_Owned):
         return out
 
     def phases(self):
-        """The star's timetable: list of PhaseSpan(phase, start_yr, end_yr), remnant included."""
+        """The star's timetable: list of PhaseSpan(phase, phase_start_yr, phase_end_yr), remnant included."""
         h = self._handle
         n = ctypes.c_size_t()
         cap = 32
@@ -542,7 +545,8 @@ class Star(_Owned):
     def __repr__(self):
         if self._h is None:
             return "<hrtrail.Star closed>"
-        return "<hrtrail.Star %.6g Msun, Z = %.6g, route %s>" % (self.mass_msun, self.z, self.route_name)
+        return "<hrtrail.Star %.6g Msun, Z = %.6g, route %s>" % (self.initial_mass_msun, self.z,
+                                                                  self.route_name)
 
 
 def wd_radius_rsun(mass_msun):
@@ -557,3 +561,22 @@ def wd_log_l(mass_msun, kind, log_l0, dt_yr):
     583) law; accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun."""
     return lib.hrt_wd_log_l(float(mass_msun), int(kind), float(log_l0), float(dt_yr))
 
+
+def upgrade_grid(old_path, new_path):
+    """Convert a grid file of an older format version to the current one (hrt_grid_upgrade).
+
+    old_path  a grid file of format version 1 up to the library's (tracks/FORMAT.md)
+    new_path  where the converted grid is written; written under a temporary name
+              and renamed when complete, so it may be old_path itself
+
+    Grid(path) refuses a file of an older version (GridFileError with code
+    Status.VERSION, whose message names this conversion); the converted file
+    has the datasets of today's vocabulary and hrtrail's phase and remnant
+    codes, with every value copied bit for bit, so it gives the same answers.
+    Root text attributes are kept and 'converted_from' records the conversion.
+    Raises GridFileError (missing, unreadable or invalid file, newer version,
+    unwritable destination).
+    """
+    e, pe = new_error()
+    check(lib.hrt_grid_upgrade(str(old_path).encode(), str(new_path).encode(), pe), e,
+          "hrt_grid_upgrade(%s -> %s)" % (old_path, new_path))

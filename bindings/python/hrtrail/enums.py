@@ -1,17 +1,25 @@
 """Enumerations of hrtrail as Python enums.
 
-Phase, Remnant and Interp are built from the loaded library itself: member
-names are the library's keys in upper case (hrt_phase_key: "ms" -> Phase.MS,
-hrt_remnant_key, hrt_interp_name), values are the C enum values, and
-``.label`` is the library's descriptive name (hrt_phase_name: "main
-sequence").  Status mirrors HRT_ERROR_LIST of include/hrtrail.h (the tests
-check it against the header); Flag mirrors the HRT_FLAG_* bits.
+Phase and Remnant are built from the loaded library itself, entry by entry of
+its lists (HRT_PHASE_LIST, HRT_REMNANT_LIST of include/hrtrail/core.h, walked
+with hrt_phase_code(i) / hrt_remnant_code(i)): values are hrtrail's own codes,
+grouped by tens (tracks/FORMAT.md, "Phase and remnant codes": Phase.MS = 11,
+Phase.RGB = 21, Remnant.CO_WD = 11, ...), member names the library's keys in
+upper case (hrt_phase_key: "ms" -> Phase.MS), ``.key`` the key itself and
+``.label`` the library's descriptive name (hrt_phase_name: "main sequence").
+Interp is read from hrt_interp_name (0, 1, ... until "unknown").  Status mirrors
+HRT_ERROR_LIST of the header (the tests check it, and the two lists above,
+against the header); Flag mirrors the HRT_FLAG_* bits.
 """
 import enum
 
 from ._clib import lib, text
 
 _MAX_SCAN = 256  # far more values than any of these enumerations will have
+# HRT_PHASE_SLOTS and HRT_REMNANT_SLOTS of include/hrtrail/core.h: every code is below
+# them, so a list cannot have more entries (the tests check the numbers against the header).
+_PHASE_SLOTS = 64
+_REMNANT_SLOTS = 32
 
 
 class Status(enum.IntEnum):
@@ -48,15 +56,30 @@ class Flag(enum.IntFlag):
     NOT_MODELLED = 0x8  #: before the zero-age main sequence: only phase and masses are set
 
 
-def _scan(key_fn, first_unknown_ok):
-    """(key, value) pairs of a C enumeration, read from the library until it says 'unknown'."""
+def _scan(key_fn):
+    """(NAME, value) pairs of an enumeration numbered 0, 1, ..., read until the library says 'unknown'."""
     members = []
     for v in range(_MAX_SCAN):
         k = text(key_fn(v))
-        if k == "unknown" and not (v == 0 and first_unknown_ok):
+        if k == "unknown":
             break
         members.append((k.upper(), v))
     return members
+
+
+def _listed(what, code_fn, key_fn, slots):
+    """(NAME, code) pairs of a code list in the library's order: code_fn(i) for i = 0, 1, ...
+    until it returns -1 (HRT_PHASE_N / HRT_REMNANT_N entries), NAME the key in upper case."""
+    members = []
+    for i in range(slots + 1):
+        code = code_fn(i)
+        if code < 0:
+            return members
+        if code >= slots:
+            break
+        members.append((text(key_fn(code)).upper(), code))
+    raise ImportError("hrtrail: the library's %s list does not fit its %d slots: not the library "
+                      "this package was written for" % (what, slots))
 
 
 class _LabelledEnum(enum.IntEnum):
@@ -64,7 +87,7 @@ class _LabelledEnum(enum.IntEnum):
 
     @property
     def key(self):
-        """The library's short key, as stored in grid files."""
+        """The library's short key, as in CSV/JSON output and in the phases/ and remnants/ tables."""
         return self.name.lower()
 
 
@@ -90,11 +113,22 @@ class _InterpBase(_LabelledEnum):
 
 
 # Phase 0 is the library's own "unknown" phase; remnant 0 is "none".
-Phase = _PhaseBase("Phase", _scan(lib.hrt_phase_key, True), module=__name__)
-Phase.__doc__ = "Evolutionary phase (hrt_phase): member names are the library's keys (hrt_phase_key)."
-Remnant = _RemnantBase("Remnant", _scan(lib.hrt_remnant_key, False), module=__name__)
-Remnant.__doc__ = "Kind of stellar remnant (hrt_remnant), named by hrt_remnant_key."
-Interp = _InterpBase("Interp", _scan(lib.hrt_interp_name, False), module=__name__)
+Phase = _PhaseBase("Phase", _listed("phase", lib.hrt_phase_code, lib.hrt_phase_key, _PHASE_SLOTS),
+                   module=__name__)
+Phase.__doc__ = """Evolutionary phase (hrt_phase): hrtrail's phase codes, grouped by tens.
+
+Values are the codes of HRT_PHASE_LIST (0 unknown; 1x hydrogen in the core, 2x
+hydrogen-shell giants, 3x helium burning and the AGB, 4x massive stars after the
+main sequence, 5x remnants); member names are the library's keys in upper case
+(hrt_phase_key), ``.label`` its descriptive name (hrt_phase_name)."""
+Remnant = _RemnantBase("Remnant", _listed("remnant", lib.hrt_remnant_code, lib.hrt_remnant_key,
+                                          _REMNANT_SLOTS), module=__name__)
+Remnant.__doc__ = """Kind of stellar remnant (hrt_remnant): hrtrail's remnant codes, grouped by tens.
+
+Values are the codes of HRT_REMNANT_LIST (0 none, 1x white dwarfs, 20 neutron star,
+30 black hole); member names are the library's keys in upper case (hrt_remnant_key),
+``.label`` its descriptive name (hrt_remnant_name)."""
+Interp = _InterpBase("Interp", _scan(lib.hrt_interp_name), module=__name__)
 Interp.__doc__ = "Interpolation type across initial mass and [Fe/H] (hrt_interp)."
 
 

@@ -10,7 +10,9 @@ exceptions carrying the code and the library's message.
 
 Environment (set by meson test): HRTRAIL_LIB, HRTRAIL_GRID (the default grid),
 HRTRAIL_C_REFERENCE, HRTRAIL_FAKE_ABI_LIB, HRTRAIL_FAKE_SIZE_LIB,
-HRTRAIL_HEADER, PYTHONPATH (bindings/python).
+HRTRAIL_HEADER (include/hrtrail/core.h: the X-macro lists of phases, remnants
+and status codes), PYTHONPATH (bindings/python).  Field names are checked
+against the vocabulary table of tracks/FORMAT.md (found beside this file).
 """
 import ctypes
 import ctypes.util
@@ -30,6 +32,7 @@ from hrtrail import _clib
 GRID = os.environ["HRTRAIL_GRID"]
 C_REF = os.environ["HRTRAIL_C_REFERENCE"]
 HEADER = os.environ["HRTRAIL_HEADER"]
+FORMAT_MD = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "..", "tracks", "FORMAT.md")
 
 
 def run_ref(*args):
@@ -179,7 +182,7 @@ class AbiGuard(unittest.TestCase):
 
 
 class Enums(unittest.TestCase):
-    """Enums against the header and the library's names."""
+    """Enums against the header (HRTRAIL_HEADER: include/hrtrail/core.h) and the library's functions."""
 
     @classmethod
     def setUpClass(cls):
@@ -190,21 +193,67 @@ class Enums(unittest.TestCase):
         return {m.group(1): int(m.group(2))
                 for m in re.finditer(r"\b%s([A-Z_]+)\s*=\s*(\d+)" % prefix, self.header)}
 
-    def test_phase(self):
-        h = self.header_enum("HRT_PHASE_")
-        self.assertEqual({p.name: int(p) for p in hrtrail.Phase}, h)
-        lib = _clib.lib
-        for p in hrtrail.Phase:
-            self.assertEqual(p.key, lib.hrt_phase_key(int(p)).decode())
-            self.assertEqual(p.label, lib.hrt_phase_name(int(p)).decode())
-            self.assertEqual(lib.hrt_phase_from_key(p.key.encode()), int(p))
-        self.assertEqual(hrtrail.Phase.MS.label, "main sequence")  # header comment: core hydrogen burning
+    def header_number(self, pattern):
+        m = re.search(pattern, self.header)
+        self.assertIsNotNone(m, pattern)
+        return int(m.group(1))
 
-    def test_remnant_and_interp(self):
-        self.assertEqual({p.name: int(p) for p in hrtrail.Remnant}, self.header_enum("HRT_REMNANT_"))
+    def header_list(self, macro):
+        """[(NAME, code, key, text)] of the X-macro list `macro` of the header: X(NAME, code, "key", "text")."""
+        lines = self.header.splitlines()
+        i = next(k for k, line in enumerate(lines) if line.startswith("#define %s(X)" % macro))
+        body = []
+        while lines[i].rstrip().endswith("\\"):
+            i += 1
+            body.append(lines[i])
+        entries = [(n, int(c), k, t) for n, c, k, t in
+                   re.findall(r'X\((\w+),\s*(-?\d+),\s*"([^"]*)",\s*"([^"]*)"\)', "\n".join(body))]
+        self.assertGreater(len(entries), 1, macro)
+        return entries
+
+    def check_codes(self, enum, what, slots_attr):
+        """enum (Phase or Remnant) against HRT_<WHAT>_LIST, HRT_<WHAT>_N, HRT_<WHAT>_SLOTS and the
+        library's hrt_<what>_code/_key/_name/_from_key, in both directions."""
+        W = what.upper()
+        lib = _clib.lib
+        code_fn, key_fn, name_fn, from_key = (getattr(lib, "hrt_%s_%s" % (what, f))
+                                              for f in ("code", "key", "name", "from_key"))
+        header = self.header_list("HRT_%s_LIST" % W)
+        n = self.header_number(r"#define HRT_%s_N (\d+)" % W)
+        slots = self.header_number(r"\bHRT_%s_SLOTS\s*=\s*(\d+)" % W)
+        self.assertEqual(len(header), n, "HRT_%s_N counts HRT_%s_LIST" % (W, W))
+        self.assertEqual(getattr(hrtrail.enums, slots_attr), slots)
+        # header -> Python
+        for name, code, key, text in header:
+            self.assertIn(name, enum.__members__, "%s of HRT_%s_LIST is not in %s" % (name, W, enum.__name__))
+            m = enum[name]
+            self.assertEqual((int(m), m.key, m.label), (code, key, text), name)
+            self.assertLess(code, slots, name)
+        # Python -> header, in the list's order
+        self.assertEqual([(m.name, int(m), m.key, m.label) for m in enum], header)
+        # library -> Python: the i-th code, and every code below the slots the library names
+        self.assertEqual([code_fn(i) for i in range(n)], [int(m) for m in enum])
+        self.assertEqual(code_fn(n), -1)
+        named = [c for c in range(slots) if from_key(key_fn(c)) == c]  # unlisted codes: key "unknown"
+        self.assertEqual(named, sorted(int(m) for m in enum))
+        # Python -> library
+        for m in enum:
+            self.assertEqual(key_fn(int(m)).decode(), m.key, m.name)
+            self.assertEqual(name_fn(int(m)).decode(), m.label, m.name)
+            self.assertEqual(from_key(m.key.encode()), int(m), m.name)
+
+    def test_phase(self):
+        self.check_codes(hrtrail.Phase, "phase", "_PHASE_SLOTS")
+        # tracks/FORMAT.md "Phase and remnant codes": grouped by tens
+        self.assertEqual((hrtrail.Phase.MS, hrtrail.Phase.RGB, hrtrail.Phase.CHEB), (11, 21, 30))
+        self.assertEqual(hrtrail.Phase.MS.label, "main sequence")
+
+    def test_remnant(self):
+        self.check_codes(hrtrail.Remnant, "remnant", "_REMNANT_SLOTS")
+        self.assertEqual((hrtrail.Remnant.NONE, hrtrail.Remnant.CO_WD, hrtrail.Remnant.BH), (0, 11, 30))
+
+    def test_interp(self):
         self.assertEqual({p.name: int(p) for p in hrtrail.Interp}, self.header_enum("HRT_INTERP_"))
-        for r in hrtrail.Remnant:
-            self.assertEqual(_clib.lib.hrt_remnant_from_key(r.key.encode()), int(r))
         for i in hrtrail.Interp:
             self.assertEqual(_clib.lib.hrt_interp_from_name(i.key.encode()), int(i))
 
@@ -218,6 +267,23 @@ class Enums(unittest.TestCase):
         h = {m.group(1): int(m.group(2), 16)
              for m in re.finditer(r"#define HRT_FLAG_([A-Z_]+) 0x([0-9a-fA-F]+)", self.header)}
         self.assertEqual({f.name: int(f) for f in hrtrail.Flag if f.name != "NONE"}, h)
+
+
+class Vocabulary(unittest.TestCase):
+    """Every field name the binding exposes is a name of tracks/FORMAT.md's vocabulary."""
+
+    def test_field_names(self):
+        with open(FORMAT_MD, encoding="utf-8") as f:
+            block = f.read().split("<!-- vocabulary")[1].split("<!-- end vocabulary -->")[0]
+        names = set(re.findall(r"^\|\s*`([a-z0-9_]+)`", block, re.M))
+        self.assertIn("log_l_lsun", names)
+        # struct_size and reserved: the C struct's own bookkeeping, not quantities
+        dtype_names = [n for n in hrtrail.STATE_DTYPE.names if n not in ("struct_size", "reserved")]
+        for what, fields in (("State", hrtrail.State.__slots__), ("STATE_DTYPE", dtype_names),
+                             ("PhaseSpan", hrtrail.PhaseSpan._fields),
+                             ("RemnantInfo", hrtrail.RemnantInfo._fields)):
+            for n in fields:
+                self.assertIn(n, names, "%s field %s is not in FORMAT.md's vocabulary" % (what, n))
 
 
 class Evaluate(Base):
@@ -326,7 +392,7 @@ class StarAndIsochrone(Base):
                 with open(out + ".phases", "rb") as f:
                     spans = np.frombuffer(f.read(), dtype=np.dtype(hrtrail.HrtPhaseSpan))
                 ph = s.phases()
-                self.assertEqual([(int(p.phase), bits(p.start_yr), bits(p.end_yr)) for p in ph],
+                self.assertEqual([(int(p.phase), bits(p.phase_start_yr), bits(p.phase_end_yr)) for p in ph],
                                  [(int(x["phase"]), bits(x["start_yr"]), bits(x["end_yr"])) for x in spans])
                 kp = np.fromfile(out + ".keypoints", dtype="<f8")
                 self.assertEqual([bits(v) for v in s.keypoints().values()], [bits(v) for v in kp])
@@ -410,7 +476,7 @@ class Errors(Base):
     def test_errors_ignore(self):
         st = self.grid.evaluate([1.0, 500.0, 1.0], [1e9, 1e9, -1.0], 0.014, errors="ignore")
         self.assertEqual(list(st["status"]), [hrtrail.Status.OK, hrtrail.Status.MASS_RANGE, hrtrail.Status.DOMAIN])
-        self.assertTrue(np.isnan(st["log_l"][1]))
+        self.assertTrue(np.isnan(st["log_l_lsun"][1]))
         with self.assertRaises(ValueError):
             self.grid.evaluate([1.0], [1e9], 0.014, errors="sometimes")
 
@@ -472,6 +538,72 @@ class Grid(Base):
         self.assertRegex(hrtrail.__version__, r"^\d+\.\d+\.\d+")
 
 
+def write_format_1(src, dst):
+    """The grid src (format 2) in the layout of format version 1 (tracks/FORMAT.md, "Version
+    history"): old dataset names, phase and remnant as indices into the key tables phase_keys and
+    remnant_keys (here in reverse order of the codes, -1 beyond n_eep), group attribute Z."""
+    import h5py
+    old = {"initial_mass_msun": "initial_mass", "remnant_mass_msun": "remnant_mass",
+           "route_boundary_mass_msun": "route_boundary_mass", "log_age_yr": "log_age", "log_l_lsun": "log_L",
+           "log_teff_k": "log_Teff", "log_r_rsun": "log_R", "mass_msun": "mass",
+           "he_core_mass_msun": "he_core_mass", "co_core_mass_msun": "co_core_mass"}
+    with h5py.File(src, "r") as f, h5py.File(dst, "w") as o:
+        for k, v in f.attrs.items():
+            o.attrs[k] = v
+        o.attrs["format_version"] = np.int32(1)
+        f.copy("routes", o)
+        index = {}
+        for table, kind in (("phases", "phase"), ("remnants", "remnant")):
+            codes = f[table + "/code"][()]
+            keys = f[table + "/key"][()]
+            keep = [i for i in range(codes.size)[::-1] if kind == "remnant" or codes[i] != 0]
+            o.create_dataset(kind + "_keys", data=keys[keep])
+            index[kind] = {int(codes[i]): j for j, i in enumerate(keep)}
+        for iz, g in f["metallicity"].items():
+            og = o.create_group("metallicity/" + iz)
+            og.attrs["Z"] = g.attrs["z"]
+            n_eep = g["n_eep"][()]
+            for name, ds in g.items():
+                data = ds[()]
+                if name == "remnant":
+                    data = np.array([index["remnant"][c] for c in data], dtype="<i4")
+                elif name == "phase":
+                    out = np.full(data.shape, -1, dtype="<i4")
+                    for i, n in enumerate(n_eep):
+                        out[i, :n] = [index["phase"][c] for c in data[i, :n]]
+                    data = out
+                og.create_dataset(old.get(name, name), data=data)
+
+
+class Upgrade(Base):
+    """hrtrail.upgrade_grid (hrt_grid_upgrade) on the default grid written in format version 1."""
+
+    def test_format_1_refused_then_upgraded(self):
+        v1, new = self.path("v1.h5"), self.path("upgraded.h5")
+        write_format_1(GRID, v1)
+        with self.assertRaises(hrtrail.GridFileError) as cm:
+            hrtrail.Grid(v1)
+        self.assertEqual(cm.exception.code, hrtrail.Status.VERSION)
+        self.assertIn("hrtrail grid upgrade", cm.exception.message)
+        self.assertIsNone(hrtrail.upgrade_grid(v1, new))
+        m, z, a = draw_stars(self.grid, 3000, seed=20260103)
+        want = self.grid.evaluate(m, a, z, errors="ignore")
+        with hrtrail.Grid(new) as g:
+            got = g.evaluate(m, a, z, errors="ignore")
+            self.assertIn("format_version 1", g.attribute("converted_from"))
+            self.assertEqual(g.attribute("source"), self.grid.attribute("source"))
+        self.assertEqual(got.tobytes(), want.tobytes(), "upgraded grid: other answers than the default grid")
+        self.assertGreater(np.count_nonzero(want["status"] == 0), 2000)
+
+    def test_errors(self):
+        with self.assertRaises(hrtrail.GridFileError) as cm:
+            hrtrail.upgrade_grid(self.path("missing.h5"), self.path("x.h5"))
+        self.assertEqual(cm.exception.code, hrtrail.Status.IO)
+        self.assertIn("missing.h5", cm.exception.message)
+        self.assertFalse(os.path.exists(self.path("x.h5")))
+        self.assertIn("hrt_grid_upgrade", hrtrail.upgrade_grid.__doc__)
+
+
 class WithoutNumpy(unittest.TestCase):
     """The package works without NumPy: scalar calls and lists of State."""
 
@@ -482,7 +614,7 @@ sys.modules["numpy"] = None
 import hrtrail
 g = hrtrail.Grid()
 out = g.evaluate([1.0, 2.3, 500.0], [4.57e9, 8e8, 1e9], 0.014, errors="ignore")
-print(" ".join(float.hex(s.log_l) for s in out), int(out[2].status))
+print(" ".join(float.hex(s.log_l_lsun) for s in out), int(out[2].status))
 print(float.hex(g.star(1.0, 0.014).at(1e9).log_teff_k), len(g.star(1.0, 0.014).track()))
 try:
     g.isochrone(1e9, 0.014)
@@ -495,7 +627,7 @@ except RuntimeError as e:
         with hrtrail.Grid(GRID) as g:
             st = g.evaluate([1.0, 2.3, 500.0], [4.57e9, 8e8, 1e9], 0.014, errors="ignore")
             s = g.star(1.0, 0.014)
-            self.assertEqual(l1, " ".join(float.hex(float(x)) for x in st["log_l"]) + " 7")
+            self.assertEqual(l1, " ".join(float.hex(float(x)) for x in st["log_l_lsun"]) + " 7")
             self.assertEqual(l2, "%s %d" % (float.hex(s.at(1e9).log_teff_k), len(s.track())))
         self.assertIn("needs NumPy", l3)
 
