@@ -232,7 +232,7 @@ START_TEST(test_hot_path_equals_gsl)
         double x[64], y[64];
         for (size_t k = 0; k < n; k++) {
             x[k] = gp->logm[lo + k];
-            y[k] = trail_hv(gp, (size_t)j, lo + k, Q_L)[0];
+            y[k] = trail_knot(gp, (size_t)j, lo + k, Q_L)[0];
         }
         gsl_interp *it = gsl_interp_alloc(gtype(t), n);
         gsl_interp_init(it, x, y, n);

@@ -58,7 +58,7 @@ module hrtrail
        HRT_INTERP_CSPLINE = 2, HRT_INTERP_AKIMA = 3
   ! Bits of hrt_state%flags
   integer(c_int32_t), parameter, public :: HRT_FLAG_DARK = 1, HRT_FLAG_REMNANT = 2, &
-       HRT_FLAG_EXTRAPOLATED = 4, HRT_FLAG_NOT_MODELLED = 8
+       HRT_FLAG_EXTRAPOLATED = 4, HRT_FLAG_NOT_MODELLED = 8, HRT_FLAG_BEYOND_LAW = 16
 
   !> State of one star at one age: struct hrt_state field for field, with its
   !> names (the vocabulary of tracks/FORMAT.md).

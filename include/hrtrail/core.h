@@ -454,9 +454,10 @@ HRT_API int hrt_star_at(const hrt_star *star, double age_yr, hrt_state *out);
 HRT_API size_t hrt_star_n_eep(const hrt_star *star);
 /**
  * State at EEP j of the star's track (0 <= j < hrt_star_n_eep); HRT_E_INVALID
- * if out of range.  The last EEP is the star as its track ends (white dwarf
- * onset, or just before core collapse), in the phase it ends in; from that
- * age on hrt_star_at() gives the remnant.
+ * if out of range.  The last EEP is the star as its track ends: a white
+ * dwarf at the onset of cooling, or, before core collapse, the luminous star
+ * in the phase it ends in (not labelled with the dark remnant, which
+ * hrt_star_at() gives from that age on).
  */
 HRT_API int hrt_star_eep_state(const hrt_star *star, size_t j, hrt_state *out);
 /** Route index of the star. */

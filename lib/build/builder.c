@@ -271,6 +271,23 @@ static int check_column(const hrt_track_data *t, int q, const double *v, const c
     return HRT_OK;
 }
 
+/* Cores nested in the star at every point (the reader checks the same). */
+static int check_cores(const hrt_track_data *t, const char *who, hrt_error *err)
+{
+    for (size_t i = 0; i < t->n; i++) {
+        double m = t->mass_msun[i], he = t->he_core_mass_msun[i], co = t->co_core_mass_msun[i];
+        if (he > m * (1.0 + TRAIL_CORE_REL_TOL))
+            return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g exceeds %s %g", who,
+                                   t->initial_mass_msun, quantity_name(TRAIL_F_HE_CORE), i, he,
+                                   quantity_name(TRAIL_F_MASS), m);
+        if (co > he * (1.0 + TRAIL_CORE_REL_TOL))
+            return trail_set_error(err, HRT_E_DOMAIN, "%s %g Msun: %s[%zu] = %g exceeds %s %g", who,
+                                   t->initial_mass_msun, quantity_name(TRAIL_F_CO_CORE), i, co,
+                                   quantity_name(TRAIL_F_HE_CORE), he);
+    }
+    return HRT_OK;
+}
+
 /* A track's identity and columns (log R may be NULL); eep says which entry point. */
 static int check_track(const hrt_builder *b, double z, const hrt_track_data *t, int eep, hrt_error *err)
 {
@@ -289,6 +306,8 @@ static int check_track(const hrt_builder *b, double z, const hrt_track_data *t, 
             rc = trail_set_error(err, HRT_E_NULL, "%s %g Msun: column %s is NULL", who, t->initial_mass_msun,
                                  quantity_name(q));
     }
+    if (rc == HRT_OK)
+        rc = check_cores(t, who, err);
     if (rc != HRT_OK)
         return rc;
     if (!t->phase)

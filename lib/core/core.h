@@ -143,6 +143,11 @@ void trail_hermite_weights(int interp, double x0, double x1, double x, double w[
  * exist (HRT_E_NOT_FOUND for the default grid, else HRT_E_IO). */
 int trail_file_read_code(const char *path, int oldest, int missing_code, trail_file *f, hrt_error *err);
 
+/* grid_check.c: the rules of a file's values, as the reader reads them */
+int trail_check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
+                          size_t J, hrt_error *err);
+int trail_check_nested_cores(const char *where, const trail_file *f, const trail_file_group *gp, hrt_error *err);
+
 /* grid_prep.c */
 /* Prepare an open grid from the file as read; takes f's routes and
  * attributes (f is freed by the caller). */

@@ -347,80 +347,29 @@ void trail_q_phase_run(const qctx *q, int j, int *js, int *je)
         *js = *je;
 }
 
-/* An interpolated remnant mass its kind does not allow (not positive, or a
- * white dwarf at or above TRAIL_WD_MASS_MAX_MSUN: extrapolation past a route's last track,
- * overshoot of a cubic type) is replaced by the nearest track's. */
-static double remnant_bounded(int kind, double m, double nearest)
-{
-    int wd = trail_remnant_is_wd(kind);
-    return (m > 0.0 && (!wd || m < TRAIL_WD_MASS_MAX_MSUN)) ? m : nearest;
-}
-
-void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
-{
-    const mctx *mn = near_track(q);
-    if (q->zp.single) {
-        /* the common case: one group, two knots */
-        const zgroup *gp = mn->gp;
-        size_t i = mn->i;
-        int k0 = gp->remnant[mn->near];
-        *kind = k0;
-        int f0 = trail_remnant_family(k0);
-        int use0 = mn->w_val[0] != 0.0 || mn->w_val[1] != 0.0, use1 = mn->w_val[2] != 0.0 || mn->w_val[3] != 0.0;
-        if (k0 == HRT_REMNANT_NONE) {
-            *mass_msun = NAN;
-        } else if ((use0 && trail_remnant_family(gp->remnant[i]) != f0) ||
-                   (use1 && trail_remnant_family(gp->remnant[i + 1]) != f0)) {
-            *mass_msun = gp->remnant_knots[2 * mn->near];
-        } else {
-            const double *p = gp->remnant_knots + 2 * i, *w = mn->w_val;
-            *mass_msun = remnant_bounded(k0, w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3],
-                                         gp->remnant_knots[2 * mn->near]);
-        }
-        return;
-    }
-    size_t gb = q->zp.g0 + 1;
-    int k0 = mn->gp->remnant[mn->near], same = 1;
-    for (size_t k = q->zp.g0; k <= gb; k++) {
-        const mctx *m = &q->m[k];
-        for (int s = 0; s < 2; s++) {
-            size_t t = m->i + (size_t)s;
-            if ((m->w_val[2 * s] != 0.0 || m->w_val[2 * s + 1] != 0.0) &&
-                trail_remnant_family(m->gp->remnant[t]) != trail_remnant_family(k0))
-                same = 0;
-        }
-    }
-    *kind = k0;
-    if (k0 == HRT_REMNANT_NONE) {
-        *mass_msun = NAN;
-        return;
-    }
-    if (!same) {
-        *mass_msun = mn->gp->remnant_knots[2 * mn->near];
-        return;
-    }
-    double v[2];
-    for (size_t k = q->zp.g0; k <= gb; k++) {
-        const mctx *m = &q->m[k];
-        const double *p = m->gp->remnant_knots + 2 * m->i;
-        v[k - q->zp.g0] = m->w_val[0] * p[0] + m->w_val[1] * p[1] + m->w_val[2] * p[2] + m->w_val[3] * p[3];
-    }
-    *mass_msun = remnant_bounded(k0, q->zp.single ? v[0] : (1.0 - q->zp.t_feh) * v[0] + q->zp.t_feh * v[1],
-                                 mn->gp->remnant_knots[2 * mn->near]);
-}
-
 void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
 {
-    memset(s, 0, sizeof *s);
-    s->struct_size = (uint32_t)sizeof *s;
-    s->route = -1;
-    s->initial_mass_msun = mass;
-    s->z = z;
-    s->age_yr = age_yr;
-    s->log_l_lsun = s->log_teff_k = s->log_r_rsun = s->log_g_cgs = NAN;
-    s->mass_msun = s->he_core_mass_msun = s->co_core_mass_msun = NAN;
-    s->eep = s->phase_fraction = s->phase_start_yr = s->phase_end_yr = NAN;
-    s->remnant_mass_msun = NAN;
+    /* one assignment rather than memset and stores: the compiler writes
+     * the struct once */
+    *s = (hrt_state){
+        .struct_size = (uint32_t)sizeof *s,
+        .route = -1,
+        .initial_mass_msun = mass,
+        .z = z,
+        .age_yr = age_yr,
+        .log_l_lsun = NAN,
+        .log_teff_k = NAN,
+        .log_r_rsun = NAN,
+        .log_g_cgs = NAN,
+        .mass_msun = NAN,
+        .he_core_mass_msun = NAN,
+        .co_core_mass_msun = NAN,
+        .eep = NAN,
+        .phase_fraction = NAN,
+        .phase_start_yr = NAN,
+        .phase_end_yr = NAN,
+        .remnant_mass_msun = NAN,
+    };
 }
 
 void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f)
@@ -435,8 +384,10 @@ void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1
     /* Cores interpolated separately from the star can overshoot it where
      * the envelope is thin (stripped stars): a core is never heavier than
      * what contains it. */
-    s->he_core_mass_msun = fmin(m0 * v[Q_HE - 1], s->mass_msun);
-    s->co_core_mass_msun = fmin(m0 * v[Q_CO - 1], s->he_core_mass_msun);
+    double he = m0 * v[Q_HE - 1], co = m0 * v[Q_CO - 1];
+    he = he < s->mass_msun ? he : s->mass_msun;
+    s->he_core_mass_msun = he;
+    s->co_core_mass_msun = co < he ? co : he;
     s->log_r_rsun = trail_log_r_from(s->log_l_lsun, s->log_teff_k);
     s->log_g_cgs = trail_log_g_from(s->mass_msun, s->log_r_rsun);
 }

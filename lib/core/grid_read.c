@@ -400,31 +400,6 @@ static int read_remnants_and_boundaries(hid_t gr, const char *where, const trail
     return rc;
 }
 
-/* One value of an EEP quantity inside a track's valid EEPs. */
-static int check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
-                           size_t J, hrt_error *err)
-{
-    const double *row = gp->q[q] + i * J;
-    double v = row[j];
-    if (!isfinite(v))
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g inside the track's valid EEPs", where, name, i,
-                               j, v);
-    if (q == TRAIL_F_LOG_AGE && j > 0 && !(v > row[j - 1]))
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %.17g does not exceed the previous EEP's %.17g",
-                               where, name, i, j, v, row[j - 1]);
-    if (TRAIL_F_IS_MASS(q) && v < 0.0)
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: negative mass %g", where, name, i, j, v);
-    /* Bounds far outside any star, so that the spline slopes and weights
-     * cannot overflow to inf and NaN. */
-    if (TRAIL_F_IS_MASS(q) && !(v <= TRAIL_MAX_MASS_FACTOR * gp->initial_mass[i]))
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g Msun exceeds %g times the initial mass", where,
-                               name, i, j, v, TRAIL_MAX_MASS_FACTOR);
-    if (!TRAIL_F_IS_MASS(q) && !(fabs(v) <= TRAIL_MAX_LOG_ABS))
-        return trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g is not a plausible log10 value", where, name, i,
-                               j, v);
-    return HRT_OK;
-}
-
 /* The per-EEP quantities and phases. */
 static int read_eep_data(hid_t gr, const char *where, const trail_file *f, const code_map *cm, trail_file_group *gp,
                          int *ibuf, hrt_error *err)
@@ -439,12 +414,14 @@ static int read_eep_data(hid_t gr, const char *where, const trail_file *f, const
         for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
             for (size_t j = 0; j < J && rc == HRT_OK; j++) {
                 if (j < (size_t)gp->n_eep[i])
-                    rc = check_eep_value(where, name, q, gp, i, j, J, err);
+                    rc = trail_check_eep_value(where, name, q, gp, i, j, J, err);
                 else
                     gp->q[q][i * J + j] = NAN; /* not read: not part of the track */
             }
         }
     }
+    if (rc == HRT_OK)
+        rc = trail_check_nested_cores(where, f, gp, err);
     if (rc == HRT_OK)
         rc = read_named(gr, where, v, &S->phase, 2, d2, 1, ibuf, err);
     for (size_t i = 0; i < nm && rc == HRT_OK; i++) {

@@ -134,3 +134,67 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
     }
 }
 
+/* The remnant a star of a query context leaves: the kind of the track
+ * nearest in mass and [Fe/H], the mass interpolated like any quantity where
+ * its neighbours leave the same family of remnant. */
+/* An interpolated remnant mass its kind does not allow (not positive, or a
+ * white dwarf at or above TRAIL_WD_MASS_MAX_MSUN: extrapolation past a route's last track,
+ * overshoot of a cubic type) is replaced by the nearest track's. */
+static double remnant_bounded(int kind, double m, double nearest)
+{
+    int wd = trail_remnant_is_wd(kind);
+    return (m > 0.0 && (!wd || m < TRAIL_WD_MASS_MAX_MSUN)) ? m : nearest;
+}
+
+void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
+{
+    const mctx *mn = &q->m[q->zp.g_near];
+    if (q->zp.single) {
+        /* the common case: one group, two knots */
+        const zgroup *gp = mn->gp;
+        size_t i = mn->i;
+        int k0 = gp->remnant[mn->near];
+        *kind = k0;
+        int f0 = trail_remnant_family(k0);
+        int use0 = mn->w_val[0] != 0.0 || mn->w_val[1] != 0.0, use1 = mn->w_val[2] != 0.0 || mn->w_val[3] != 0.0;
+        if (k0 == HRT_REMNANT_NONE) {
+            *mass_msun = NAN;
+        } else if ((use0 && trail_remnant_family(gp->remnant[i]) != f0) ||
+                   (use1 && trail_remnant_family(gp->remnant[i + 1]) != f0)) {
+            *mass_msun = gp->remnant_knots[2 * mn->near];
+        } else {
+            const double *p = gp->remnant_knots + 2 * i, *w = mn->w_val;
+            *mass_msun = remnant_bounded(k0, w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3],
+                                         gp->remnant_knots[2 * mn->near]);
+        }
+        return;
+    }
+    size_t gb = q->zp.g0 + 1;
+    int k0 = mn->gp->remnant[mn->near], same = 1;
+    for (size_t k = q->zp.g0; k <= gb; k++) {
+        const mctx *m = &q->m[k];
+        for (int s = 0; s < 2; s++) {
+            size_t t = m->i + (size_t)s;
+            if ((m->w_val[2 * s] != 0.0 || m->w_val[2 * s + 1] != 0.0) &&
+                trail_remnant_family(m->gp->remnant[t]) != trail_remnant_family(k0))
+                same = 0;
+        }
+    }
+    *kind = k0;
+    if (k0 == HRT_REMNANT_NONE) {
+        *mass_msun = NAN;
+        return;
+    }
+    if (!same) {
+        *mass_msun = mn->gp->remnant_knots[2 * mn->near];
+        return;
+    }
+    double v[2];
+    for (size_t k = q->zp.g0; k <= gb; k++) {
+        const mctx *m = &q->m[k];
+        const double *p = m->gp->remnant_knots + 2 * m->i;
+        v[k - q->zp.g0] = m->w_val[0] * p[0] + m->w_val[1] * p[1] + m->w_val[2] * p[2] + m->w_val[3] * p[3];
+    }
+    *mass_msun = remnant_bounded(k0, q->zp.single ? v[0] : (1.0 - q->zp.t_feh) * v[0] + q->zp.t_feh * v[1],
+                                 mn->gp->remnant_knots[2 * mn->near]);
+}

@@ -98,10 +98,13 @@ int hrt_star_eep_state(const hrt_star *s, size_t j, hrt_state *out)
     const double *v = s->val + j * NQS;
     trail_state_from_values(out, v, v, 0.0);
     out->eep = (double)j;
-    /* The last EEP is the star as its track ends (at the white dwarf's
-     * onset, or just before core collapse): it carries the phase it ends
-     * in, not the remnant's, which hrt_star_at gives from that age on. */
-    size_t jp = j + 1 == (size_t)s->n && j > 0 ? j - 1 : j;
+    /* The last EEP of a track ending in core collapse is the star just
+     * before it: luminous, in the phase it ends in, not under the name of
+     * the dark remnant hrt_star_at gives from that age on.  (A track ending
+     * at the white dwarf's onset is a white dwarf there, and says so.) */
+    size_t jp = j;
+    if (j + 1 == (size_t)s->n && j > 0 && (s->phase[j] == HRT_PHASE_NS || s->phase[j] == HRT_PHASE_BH))
+        jp = j - 1;
     out->phase = s->phase[jp];
     out->phase_start_yr = (s->age_yr[s->runs[2 * jp]]);
     out->phase_end_yr = (s->age_yr[s->runs[2 * jp + 1]]);

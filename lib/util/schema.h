@@ -44,6 +44,9 @@
  * larger values would overflow the splines). */
 #define TRAIL_MAX_LOG_ABS 100.0
 #define TRAIL_MAX_MASS_FACTOR 2.0
+/* Cores are nested: helium core <= current mass, CO core <= helium core,
+ * at every EEP (a relative allowance for the rounding of text tables). */
+#define TRAIL_CORE_REL_TOL 1e-6
 
 /* Per-EEP quantities of a metallicity group, in the order of the tables. */
 enum {

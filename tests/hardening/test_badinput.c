@@ -739,7 +739,7 @@ static const struct {
     {"z: 0", d_z_zero, HRT_E_FORMAT, "metallicity/0 attribute 'z': 0"},
     {"z: named Z as in format 1", d_z_old, HRT_E_FORMAT, "metallicity/2 attribute 'z' is missing"},
     {"metallicity groups: gap", d_group_gap, HRT_E_FORMAT, "group 'metallicity/3' is missing"},
-    {"dangling soft link", d_dangling_link, HRT_E_FORMAT, "metallicity/0/mass_msun: not a dataset"},
+    {"dangling soft link", d_dangling_link, HRT_E_FORMAT, "metallicity/0/mass_msun: a soft or external link"},
     {"group where a dataset belongs", d_group_as_dataset, HRT_E_FORMAT, "metallicity/0/phase: not a dataset"},
     {"extra attributes (accepted)", x_extra_attrs, HRT_OK, NULL},
     {"extra datasets (accepted)", x_extra_dataset, HRT_OK, NULL},

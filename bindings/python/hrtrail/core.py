@@ -58,7 +58,7 @@ class State:
       phase              Phase (hrtrail's code, e.g. Phase.MS = 11)
       route              index of the route in the grid (Grid.routes), -1 if none
       remnant            Remnant: the kind of remnant this star will leave (or is)
-      flags              Flag bits (DARK, REMNANT, EXTRAPOLATED, NOT_MODELLED)
+      flags              Flag bits (DARK, REMNANT, EXTRAPOLATED, NOT_MODELLED, BEYOND_LAW)
       initial_mass_msun  initial mass, Msun
       z                  metal mass fraction
       age_yr             age since birth, yr
