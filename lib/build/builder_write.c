@@ -138,8 +138,14 @@ static void w_data(wctx *w, hid_t loc, const char *name, int rank, const hsize_t
                    const void *v, const char *units, const char *meaning)
 {
     hid_t s = H5Screate_simple(rank, dims, NULL);
-    hid_t ds = H5Dcreate2(loc, name, is_int ? H5T_STD_I32LE : H5T_IEEE_F64LE, s, H5P_DEFAULT, w->dcpl,
-                          H5P_DEFAULT);
+    /* one chunk with a Fletcher-32 checksum: the reader requires it, and
+     * HDF5 verifies it on every read (a flipped bit is refused) */
+    hid_t dcpl = H5Pcopy(w->dcpl);
+    if (dcpl < 0 || H5Pset_chunk(dcpl, rank, dims) < 0 || H5Pset_fletcher32(dcpl) < 0)
+        w->failed = 1;
+    hid_t ds = H5Dcreate2(loc, name, is_int ? H5T_STD_I32LE : H5T_IEEE_F64LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
+    if (dcpl >= 0)
+        H5Pclose(dcpl);
     if (ds < 0 || H5Dwrite(ds, is_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) < 0)
         w->failed = 1;
     if (ds >= 0) {

@@ -147,6 +147,8 @@ int trail_file_read_code(const char *path, int oldest, int missing_code, trail_f
 int trail_check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
                           size_t J, hrt_error *err);
 int trail_check_nested_cores(const char *where, const trail_file *f, const trail_file_group *gp, hrt_error *err);
+/* Format 2: every numeric dataset stored with a checksum (fh: the open file, an HDF5 hid_t). */
+int trail_check_checksums(int64_t fh, const trail_file *f, hrt_error *err);
 
 /* grid_prep.c */
 /* Prepare an open grid from the file as read; takes f's routes and

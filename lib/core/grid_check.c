@@ -1,9 +1,13 @@
 /* The rules the values of a grid file obey, checked as the reader reads
  * them (grid_read.c): finite, ordered ages, plausible logs and masses,
- * cores nested in the star. */
+ * cores nested in the star, checksums on every numeric dataset. */
 #include <math.h>
+#include <stdio.h>
+
+#include <hdf5.h>
 
 #include "core/core.h"
+#include "core/h5read.h"
 
 /* One value of an EEP quantity inside a track's valid EEPs. */
 int trail_check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
@@ -47,4 +51,53 @@ int trail_check_nested_cores(const char *where, const trail_file *f, const trail
                                        trail_name_in(&S->eep[TRAIL_F_CO_CORE], f->version), i, j, co, he);
         }
     return HRT_OK;
+}
+
+/* Format 2 stores every numeric dataset with a Fletcher-32 checksum, which
+ * HDF5 verifies on each read: checked last, so that the other faults of a
+ * file are named first. */
+static int require_checksum(hid_t loc, const char *where, const char *name, hrt_error *err)
+{
+    if (trail_h5_link(loc, name) != 1 || trail_h5_has_checksum(loc, name))
+        return HRT_OK; /* absent optional datasets were refused or skipped earlier */
+    return trail_set_error(err, HRT_E_FORMAT,
+                           "%s/%s: stored without a checksum (HDF5's Fletcher-32 filter), which format 2 requires", where,
+                           name);
+}
+
+int trail_check_checksums(int64_t fh, const trail_file *f, hrt_error *err)
+{
+    const trail_schema *S = &trail_schema_names;
+    const trail_name *per_track[] = {&S->initial_mass, &S->route, &S->n_eep, &S->remnant, &S->remnant_mass,
+                                     &S->boundary, &S->phase};
+    int rc = HRT_OK;
+    for (size_t iz = 0; iz < f->n_z && rc == HRT_OK; iz++) {
+        char where[64];
+        snprintf(where, sizeof where, "metallicity/%zu", iz);
+        hid_t gr = trail_h5_group(fh, where);
+        for (size_t k = 0; k < sizeof per_track / sizeof per_track[0] && rc == HRT_OK; k++)
+            rc = require_checksum(gr, where, per_track[k]->v2, err);
+        for (int q = 0; q < TRAIL_NF && rc == HRT_OK; q++)
+            rc = require_checksum(gr, where, S->eep[q].v2, err);
+        if (gr >= 0)
+            H5Gclose(gr);
+    }
+    for (size_t r = 0; r < f->n_routes && rc == HRT_OK; r++) {
+        char where[96];
+        snprintf(where, sizeof where, "routes/%s", f->routes[r].name);
+        hid_t sub = trail_h5_group(fh, where);
+        rc = require_checksum(sub, where, "keypoint_eep", err);
+        if (rc == HRT_OK)
+            rc = require_checksum(sub, where, "segment_samples", err);
+        if (sub >= 0)
+            H5Gclose(sub);
+    }
+    for (int t = 0; t < 2 && rc == HRT_OK; t++) {
+        const char *group = t ? "remnants" : "phases";
+        hid_t g = trail_h5_group(fh, group);
+        rc = require_checksum(g, group, "code", err);
+        if (g >= 0)
+            H5Gclose(g);
+    }
+    return rc;
 }

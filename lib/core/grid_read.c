@@ -575,6 +575,8 @@ static int read_file(hid_t fh, int oldest, trail_file *f, hrt_error *err)
         rc = open_groups(fh, f, &mg, err);
     for (size_t iz = 0; iz < f->n_z && rc == HRT_OK; iz++)
         rc = read_group(fh, f, iz, &cm, err);
+    if (rc == HRT_OK && f->version >= 2)
+        rc = trail_check_checksums(fh, f, err);
     if (mg >= 0)
         H5Gclose(mg);
     return rc;

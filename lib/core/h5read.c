@@ -258,10 +258,29 @@ int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, h
                              as_int ? "integers" : "floating-point numbers");
     } else if (buf && H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT,
                               buf) < 0) {
-        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read", where, name);
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read (a checksum that does not match, or "
+                             "damaged storage)", where, name);
     }
     H5Dclose(d);
     return rc;
+}
+
+int trail_h5_has_checksum(hid_t loc, const char *name)
+{
+    if (trail_h5_link(loc, name) != 1)
+        return 0;
+    hid_t d = H5Dopen2(loc, name, H5P_DEFAULT);
+    if (d < 0)
+        return 0;
+    hid_t dcpl = H5Dget_create_plist(d);
+    unsigned flags = 0, config = 0;
+    size_t nelm = 0;
+    int found = dcpl >= 0 && H5Pget_filter_by_id2(dcpl, H5Z_FILTER_FLETCHER32, &flags, &nelm, NULL, 0, NULL,
+                                                   &config) >= 0;
+    if (dcpl >= 0)
+        H5Pclose(dcpl);
+    H5Dclose(d);
+    return found;
 }
 
 int trail_h5_strings(hid_t loc, const char *where, const char *name, size_t *n, char ***out,

@@ -34,6 +34,8 @@ int trail_h5_attr_number(hid_t loc, const char *name, const char *where, int wan
  * read as int or double into buf (NULL: only checked). */
 int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims, int as_int, void *buf,
                      hrt_error *err);
+/* 1 if dataset `name` is stored with HDF5's Fletcher-32 checksum filter. */
+int trail_h5_has_checksum(hid_t loc, const char *name);
 /* A 1-D string dataset of 1..TRAIL_MAX_STRINGS entries, newly allocated in *out. */
 int trail_h5_strings(hid_t loc, const char *where, const char *name, size_t *n, char ***out, hrt_error *err);
 

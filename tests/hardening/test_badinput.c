@@ -641,11 +641,29 @@ static void x_codes_reordered(void)
     hid_t ds = H5Dcreate2(H5F, "phases/key", t, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
     H5Dwrite(ds, t, H5S_ALL, H5S_ALL, H5P_DEFAULT, k);
     H5Dclose(ds);
-    ds = H5Dcreate2(H5F, "phases/code", H5T_STD_I16LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
+    hid_t dcpl = H5Pcreate(H5P_DATASET_CREATE); /* numeric datasets carry checksums (FORMAT.md) */
+    H5Pset_chunk(dcpl, 1, &d);
+    H5Pset_fletcher32(dcpl);
+    ds = H5Dcreate2(H5F, "phases/code", H5T_STD_I16LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
+    H5Dwrite(ds, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, c);
+    H5Dclose(ds);
+    H5Pclose(dcpl);
+    H5Sclose(s);
+    H5Tclose(t);
+}
+static void d_no_checksum(void)
+{
+    /* the same values stored again without the Fletcher-32 filter */
+    hsize_t d = HRT_PHASE_N;
+    int c[HRT_PHASE_N];
+    for (size_t i = 0; i < HRT_PHASE_N; i++)
+        c[i] = hrt_phase_code(i);
+    del("phases/code");
+    hid_t s = H5Screate_simple(1, &d, NULL);
+    hid_t ds = H5Dcreate2(H5F, "phases/code", H5T_STD_I32LE, s, H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT);
     H5Dwrite(ds, H5T_NATIVE_INT, H5S_ALL, H5S_ALL, H5P_DEFAULT, c);
     H5Dclose(ds);
     H5Sclose(s);
-    H5Tclose(t);
 }
 static void x_remnant_none(void) { elem(M0 "remnant", 1, 0, 0); } /* track 1 leaves no known remnant */
 static void x_remnant_steep(void) { elem(M0 "remnant_mass_msun", 8, 0, 0.01); } /* last low-route track: 0.01 Msun WD */
@@ -746,6 +764,7 @@ static const struct {
     {"values after the valid EEPs (accepted)", x_nan_padding, HRT_OK, NULL},
     {"long_name missing or other (accepted)", x_long_name, HRT_OK, NULL},
     {"code tables in another order, fixed-length keys, 16-bit codes (accepted)", x_codes_reordered, HRT_OK, NULL},
+    {"numeric dataset without a checksum", d_no_checksum, HRT_E_FORMAT, "phases/code: stored without a checksum"},
     {"a track without remnant beside ones with (accepted)", x_remnant_none, HRT_OK, NULL},
     {"remnant masses falling steeply to a route's end (accepted)", x_remnant_steep, HRT_OK, NULL},
 };

@@ -139,7 +139,7 @@ def retype(f, name, dtype):
     with np.errstate(invalid="ignore"):  # NaN padding beyond n_eep has no integer value
         data = f[name][()].astype(dtype)
     del f[name]
-    f.create_dataset(name, data=data)
+    f.create_dataset(name, data=data, fletcher32=True)  # FORMAT.md: checksums required
     for k, v in attrs.items():
         f[name].attrs[k] = v
 
@@ -359,6 +359,33 @@ class H5pyWrittenGrid(unittest.TestCase):
                 rc, msg = self.broken("bad%d.h5" % k, edit)
                 self.assertEqual(rc, code, "%s: got %d (%s)" % (what, rc, msg))
                 self.assertIn(word, msg, "%s: message does not name the culprit: %r" % (what, msg))
+
+    def test_checksums_required_and_verified(self):
+        """FORMAT.md: every numeric dataset carries a Fletcher-32 checksum that HDF5 verifies on reading."""
+        path = self.write("no-checksum.h5")
+        with h5py.File(path, "r+") as f:
+            g = f["metallicity/0"]
+            data, attrs = g["mass_msun"][()], dict(g["mass_msun"].attrs)
+            del g["mass_msun"]
+            g.create_dataset("mass_msun", data=data)  # same values, no checksum
+            for k, v in attrs.items():
+                g["mass_msun"].attrs[k] = v
+        rc, msg = open_code(path)
+        self.assertEqual(rc, HRT_E_FORMAT, msg)
+        self.assertIn("metallicity/0/mass_msun", msg)
+        self.assertIn("checksum", msg)
+        # one flipped bit inside the stored data of a checksummed dataset
+        path = self.write("flipped.h5")
+        with h5py.File(path, "r") as f:
+            offset = f["metallicity/0/log_l_lsun"].id.get_chunk_info(0).byte_offset
+        with open(path, "r+b") as raw:
+            raw.seek(offset + 100)
+            byte = raw.read(1)
+            raw.seek(offset + 100)
+            raw.write(bytes([byte[0] ^ 0x10]))
+        rc, msg = open_code(path)
+        self.assertEqual(rc, HRT_E_FORMAT, msg)
+        self.assertIn("metallicity/0/log_l_lsun", msg)
 
     def test_values_beyond_n_eep_are_not_read(self):
         path = self.write("padding.h5")

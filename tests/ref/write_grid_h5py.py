@@ -87,15 +87,15 @@ def _strings(strings):
     return text_list, text
 
 
-def _write_routes(f, routes, text_list):
+def _write_routes(f, routes, text_list, checksum):
     rg = f.create_group("routes")
     rg.create_dataset("names", data=text_list([r["name"] for r in routes]))
     for r in routes:
         g = rg.create_group(r["name"])
         g.create_dataset("keypoint_names", data=text_list(r["keypoint_names"]))
         seg = np.asarray(r["segment_samples"], dtype="<i4")
-        g.create_dataset("keypoint_eep", data=np.concatenate([[0], np.cumsum(seg)]).astype("<i4"))
-        g.create_dataset("segment_samples", data=seg)
+        g.create_dataset("keypoint_eep", data=np.concatenate([[0], np.cumsum(seg)]).astype("<i4"), **checksum)
+        g.create_dataset("segment_samples", data=seg, **checksum)
     return max(sum(r["segment_samples"]) + 1 for r in routes)
 
 
@@ -127,6 +127,10 @@ def _group_columns(grp, n_routes, n_eep_max):
     return cols
 
 
+# FORMAT.md: every numeric dataset of format 2 carries HDF5's Fletcher-32 checksum.
+CHECKSUM = {"fletcher32": True}
+
+
 def write_grid(path, z_ref, routes, groups, attrs=None, strings="vlen"):
     """Write a grid in format version 2 (tracks/FORMAT.md)."""
     text_list, text = _strings(strings)
@@ -138,16 +142,16 @@ def write_grid(path, z_ref, routes, groups, attrs=None, strings="vlen"):
             f.attrs[key] = text(value)
         for group, table in (("phases", PHASES), ("remnants", REMNANTS)):
             g = f.create_group(group)
-            g.create_dataset("code", data=np.array([c for c, _, _ in table], dtype="<i4"))
+            g.create_dataset("code", data=np.array([c for c, _, _ in table], dtype="<i4"), **CHECKSUM)
             g.create_dataset("key", data=text_list([k for _, k, _ in table]))
             g.create_dataset("name", data=text_list([n for _, _, n in table]))
-        n_eep_max = _write_routes(f, routes, text_list)
+        n_eep_max = _write_routes(f, routes, text_list, CHECKSUM)
         mg = f.create_group("metallicity")
         for iz, grp in enumerate(groups):
             g = mg.create_group(str(iz))
             g.attrs["z"] = np.float64(grp["z"])
             for name, data in _group_columns(grp, len(routes), n_eep_max).items():
-                g.create_dataset(name, data=data)
+                g.create_dataset(name, data=data, **CHECKSUM)
                 if name in UNITS:
                     g[name].attrs["units"] = text(UNITS[name])
 
@@ -167,7 +171,7 @@ def write_grid_v1(path, z_ref, routes, groups, attrs=None, strings="vlen"):
             f.attrs[key] = text(value)
         f.create_dataset("phase_keys", data=text_list(V1_PHASE_KEYS))
         f.create_dataset("remnant_keys", data=text_list(V1_REMNANT_KEYS))
-        n_eep_max = _write_routes(f, routes, text_list)
+        n_eep_max = _write_routes(f, routes, text_list, {})  # format 1 had no checksums
         mg = f.create_group("metallicity")
         for iz, grp in enumerate(groups):
             g = mg.create_group(str(iz))
