@@ -14,7 +14,8 @@
  *  - Every fallible function returns HRT_OK (0) or one of the HRT_E_* codes,
  *    and writes its results through pointers.  When an hrt_error pointer is
  *    given it receives the code and a specific message (which argument,
- *    which dataset, which index).  NULL may be passed for it.
+ *    which dataset, which index), and on success HRT_OK and "success": it
+ *    never keeps an earlier call's failure.  NULL may be passed for it.
  *  - Nothing is printed, nothing aborts, no global state is kept.  A grid is
  *    immutable after hrt_grid_open() and may be shared by any number of
  *    threads; an hrt_star belongs to one thread at a time.

@@ -594,7 +594,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
              const double *age_yr, hrt_state *out, hrt_error *err)
 {
     if (n == 0)
-        return HRT_OK;
+        return trail_set_error(err, HRT_OK, NULL);
     if (!g || !mass_msun || !age_yr || !out)
         return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
                              !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
@@ -659,5 +659,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         enxt = te;
         rc_cur = rc_nxt;
     }
+    if (first == HRT_OK && err)
+        trail_set_error(err, HRT_OK, NULL);
     return first;
 }
