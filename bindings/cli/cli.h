@@ -5,8 +5,11 @@
 #ifndef HRTRAIL_CLI_H
 #define HRTRAIL_CLI_H
 
-#include <stdio.h>
 #include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <sys/stat.h>
+#include <sys/types.h>
 
 #include "hrtrail.h"
 
@@ -59,26 +62,44 @@ void dlist_free(dlist *l);
 int add_mass_list(const cli *c, const char *opt, const char *s, dlist *l);
 int add_age_list(const cli *c, const char *opt, const char *s, dlist *l);
 
-/* ---- options ---- */
-enum { OPT_END = 0, OPT_POSITIONAL = -1, OPT_ERROR = -2 };
+/* ---- options (opts.c): getopt_long, so long options by any unique prefix, --opt=value or
+ * --opt value, bundled short options (-kj4), and '--' ending the options ---- */
+enum { OPT_ARG = -1 };  /* the id take() gets for an argument that is no option */
+enum { CLI_STOP = -1 }; /* returned when --help was given: the command's help is shown, exit 0 */
+enum { ACCEPT_Z = 1u, ACCEPT_FORMAT = 2u };
 typedef struct optdef {
     const char *name;  /* long name without "--" */
     char short_name;   /* 0 if none */
     int has_arg;
     int id;            /* > 0 */
 } optdef;
+typedef struct cmdopts {
+    const optdef *defs, *more; /* the command's own options: NULL-terminated tables (more may be NULL) */
+    unsigned accept;           /* ACCEPT_Z (--z, --feh), ACCEPT_FORMAT (--csv, --json); --grid, --interp and
+                                * --help are always taken; an own option of the same name wins */
+    /* An own option (its id) or an argument (OPT_ARG) with its value; 0 or an exit code (message printed). */
+    int (*take)(cli *c, void *ctx, int id, const char *val);
+    const char *no_args;       /* NULL: arguments go to take(); else they are refused, with this hint ("": none) */
+    int before_command;        /* the options before the command: stop at the first argument */
+} cmdopts;
 typedef struct argparse {
     int argc;
-    char **argv;
-    int i;
-    int only_positional;
+    char **argv; /* argv[0]: the program or the command */
+    int next;    /* after cli_parse with before_command: index of the command */
 } argparse;
-/* Next option of the subcommand (defs) or a common one (--grid, --interp,
- * --csv, --json, --z, --feh, --help are handled here when common_z says so).
- * Returns the id, OPT_POSITIONAL (value in *val), OPT_END or OPT_ERROR
- * (message printed). */
-int next_option(cli *c, argparse *p, const optdef *defs, int accept_z, int accept_format,
-                const char **val);
+/* Parse the options of p into ctx (through o->take) and the common ones into c, in order.
+ * Returns 0, an exit code (message printed), or CLI_STOP when --help was given (main shows it). */
+int cli_parse(cli *c, argparse *p, const cmdopts *o, void *ctx);
+
+/* ---- the commands (main.c): one table for running them, the help and the messages ---- */
+typedef struct cli_command {
+    const char *name;
+    int (*run)(cli *c, argparse *p);
+    const char *summary; /* one line */
+    const char *example; /* lines of examples, separated by newlines */
+} cli_command;
+extern const cli_command cli_commands[];
+extern const size_t cli_n_commands;
 
 /* ---- the grid ---- */
 int cli_open_grid(cli *c);
@@ -140,6 +161,48 @@ void jw_records(FILE *f, const table *t);
 void csv_write_text(FILE *f, const char *s);
 void csv_write_num(FILE *f, double v);
 
+/* The command's table on standard output as CSV or as JSON records (1); 0 when the format is the
+ * text table, which the caller writes. */
+int out_records(const cli *c, const table *t);
+/* A table of states: CSV, JSON records, or the heading (NULL: none), the text table and what its
+ * phase keys mean. */
+void out_states(const cli *c, const table *t, const char *heading);
+
+/* ---- text from files and users (text.c) ---- */
+/* Length (1 to 4) of the UTF-8 character at s, its code point in *cp; 0 if the bytes at s are not
+ * UTF-8 (a stray or truncated sequence, an overlong form, a surrogate, beyond U+10FFFF). */
+size_t utf8_decode(const unsigned char *s, uint32_t *cp);
+/* s for a terminal, as a new string: control characters and bytes that are not UTF-8 become visible
+ * escapes (\x1b, \u009b; \xff for a byte that is not UTF-8); *bad_utf8 (if not NULL) says whether
+ * there were such bytes. */
+char *text_safe(const char *s, int *bad_utf8);
+void text_write(FILE *f, const char *s);
+
+/* ---- output files (outfile.c) ---- */
+/* Standard output ("-"), a device or a FIFO is written in place.  Anything else is written to a new
+ * temporary file (mkstemp) beside the file it replaces, which is renamed over it at the end; the
+ * file a symbolic link points to is the one replaced (the link stays), with its mode. */
+typedef struct outfile {
+    FILE *f;
+    const char *path; /* as given, for messages; NULL for standard output */
+    char *target;     /* the file replaced: path, or the end of its chain of links */
+    char *tmp;        /* the temporary beside target; NULL when written in place */
+    int direct;       /* written in place */
+    int exists;       /* target existed: its mode, owner and group kept */
+    struct stat st;   /* of the target */
+} outfile;
+/* Open path ("-": standard output) for writing; 0 or an exit code (message printed). */
+int outfile_open(const cli *c, outfile *o, const char *path);
+/* Check every write and put the file in place; 0 or an exit code (message printed).  On a failure the
+ * previous file is intact and the temporary gone. */
+int outfile_close(const cli *c, outfile *o);
+/* Give up: the temporary removed, the target untouched. */
+void outfile_abort(outfile *o);
+/* A file the library writes itself, atomically (import, grid upgrade): a symbolic link resolved to the
+ * file it names (*target, to free), standard output, a device, a FIFO or a directory refused
+ * (a grid is no stream).  what names the argument in messages.  0 or an exit code. */
+int outfile_target(const cli *c, const char *path, const char *what, char **target);
+
 /* ---- states of stars: the common table of at, track, isochrone and demo ---- */
 enum { SC_NAME = 1u, SC_STATUS = 2u };
 table *state_table_new(unsigned extra);
@@ -159,11 +222,18 @@ int csv_read(const cli *c, const char *path, csvfile *out);
 void csv_free(csvfile *f);
 /* Index of the column named exactly name (a vocabulary name of tracks/FORMAT.md), or -1. */
 long csv_column(const csvfile *f, const char *name);
-/* Refuse a header that spells one of the known names in another case, or uses one of the
- * old[2*i] spellings of earlier versions (old[2*i+1]: today's name); NULL-terminated lists.
- * The message names the file, the column and the expected names; returns the exit code or 0. */
-int csv_check_header(const cli *c, const csvfile *f, const char *shown, int exit_code, const char *const *known,
-                     const char *const *old, const char *expected);
+/* The columns a command reads (names of the vocabulary, tracks/FORMAT.md) and the old spellings it refuses. */
+typedef struct csvnames {
+    const char *const *known; /* NULL-terminated */
+    const char *const *old;   /* old[2*i]: a spelling of an earlier version, old[2*i+1]: today's name; NULL-terminated */
+    const char *expected;     /* the columns, for messages */
+    int exit_code;            /* of a refused header */
+} csvnames;
+/* csv_read, then refuse a header that spells one of the known names in another case or uses an
+ * old spelling (the message names the file, the column and the expected names). */
+int csv_read_named(const cli *c, const char *path, const csvnames *names, csvfile *out);
+/* How messages name an input path: "standard input" for "-". */
+const char *csv_shown(const char *path);
 
 /* ---- the HR diagram ---- */
 typedef struct plot_line {
@@ -197,6 +267,7 @@ int plot_add_track(const cli *c, plot *p, const hrt_star *s, const char *label);
 int plot_add_isochrone(const cli *c, plot *p, double age_yr, double z, const char *label);
 /* Write the SVG; 0 on success, -1 (errno set) on a write failure. */
 int plot_write_svg(const plot *p, FILE *f);
+/* The SVG to path (NULL or "-": standard output) through an outfile; 0 or an exit code. */
 int plot_save(const cli *c, const plot *p, const char *path);
 int isochrone_compute(const cli *c, double age_yr, double z, hrt_state **out, size_t *n);
 

@@ -55,14 +55,11 @@ static const char *const at_old[] = {"mass", "initial_mass_msun", "initial_mass"
 /* Stars from a CSV file; columns the file lacks come from single --mass/--age/--z values. */
 static int stars_from_csv(cli *c, const char *path, const dlist *ml, const dlist *al, double z_opt, stars *s)
 {
+    static const csvnames names = {at_known, at_old, AT_COLUMNS, CLI_EXIT_USAGE};
     csvfile f;
-    const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
-    int rc = csv_read(c, path, &f);
+    const char *shown = csv_shown(path);
+    int rc = csv_read_named(c, path, &names, &f);
     if (rc) return rc;
-    if ((rc = csv_check_header(c, &f, shown, CLI_EXIT_USAGE, at_known, at_old, AT_COLUMNS))) {
-        csv_free(&f);
-        return rc;
-    }
     long cm = csv_column(&f, "initial_mass_msun"), cz = csv_column(&f, "z"), cf = csv_column(&f, "feh");
     long ca = csv_column(&f, "age_yr"), cn = csv_column(&f, "name");
     if (cm < 0 && ml->n != 1) {
@@ -134,9 +131,8 @@ static int stars_from_csv(cli *c, const char *path, const dlist *ml, const dlist
 
 static void who_of(const cli *c, const stars *s, size_t i, int code, const char *input, char *buf, size_t n)
 {
-    const char *src = input && strcmp(input, "-") == 0 ? "standard input" : input;
     if (input)
-        snprintf(buf, n, "%s line %ld (mass %s Msun, Z %.6g, age %s)", src, s->line[i], s->mass_text[i], s->z[i],
+        snprintf(buf, n, "%s line %ld (mass %s Msun, Z %.6g, age %s)", csv_shown(input), s->line[i], s->mass_text[i], s->z[i],
                  s->age_text[i]);
     else if (code == HRT_E_MASS_RANGE || code == HRT_E_NO_TRACK)
         snprintf(buf, n, "--mass %s", s->mass_text[i]);
@@ -148,97 +144,110 @@ static void who_of(const cli *c, const stars *s, size_t i, int code, const char 
         snprintf(buf, n, "star of %s Msun at age %s", s->mass_text[i], s->age_text[i]);
 }
 
-int cmd_at(cli *c, argparse *p)
+typedef struct at_args {
+    dlist ml, al;
+    const char *input;
+    int keep;
+} at_args;
+
+static int at_take(cli *c, void *ctx, int id, const char *val)
 {
-    dlist ml = {0}, al = {0};
-    const char *input = NULL, *val;
-    int keep = 0, id, rc = 0;
+    at_args *a = ctx;
+    switch (id) {
+    case O_MASS: return add_mass_list(c, "--mass", val, &a->ml);
+    case O_AGE: return add_age_list(c, "--age", val, &a->al);
+    case O_INPUT: a->input = val; return 0;
+    case O_KEEP: a->keep = 1; return 0;
+    default: return 0;
+    }
+}
+
+static const cmdopts at_cmdopts = {at_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, at_take,
+                                   "give stars with --mass, --age or --input", 0};
+
+/* The stars: every mass at every age of the options, or the lines of --input. */
+static int at_stars(cli *c, const at_args *a, stars *s)
+{
+    double z = NAN;
+    int rc;
+    /* a metallicity is needed unless every star brings its own */
+    if ((c->have_z || c->have_feh || !a->input) && (rc = cli_resolve_z(c, &z))) return rc;
+    if (a->input) return stars_from_csv(c, a->input, &a->ml, &a->al, isnan(z) ? hrt_grid_z_ref(c->grid) : z, s);
+    size_t k = 0;
+    stars_alloc(s, a->ml.n * a->al.n, 0);
+    for (size_t i = 0; i < a->ml.n; i++)
+        for (size_t j = 0; j < a->al.n; j++, k++) {
+            s->mass[k] = a->ml.v[i];
+            s->age[k] = a->al.v[j];
+            s->z[k] = z;
+            s->mass_text[k] = xstrdup(a->ml.text[i]);
+            s->age_text[k] = xstrdup(a->al.text[j]);
+            s->z_text[k] = xstrdup(c->z_text ? c->z_text : "");
+        }
+    return 0;
+}
+
+/* A message for every star that failed: the first ends the command, or (--keep-going) all are told. */
+static int at_failures(const cli *c, const at_args *a, const stars *s, const hrt_state *out)
+{
+    int rc = 0;
+    for (size_t i = 0; i < s->n; i++) {
+        char who[512];
+        if (out[i].status == HRT_OK) continue;
+        who_of(c, s, i, out[i].status, a->input, who, sizeof who);
+        int r1 = cli_star_failure(c, who, out[i].status, s->mass[i], s->z[i], s->age[i], NULL);
+        if (!a->keep) return r1;
+        if (!rc) rc = r1;
+    }
+    return rc;
+}
+
+static int at_run(cli *c, const at_args *a)
+{
     stars s = {0};
     hrt_state *out = NULL;
     hrt_error err = {0, ""};
-    double z = NAN;
-
-    while ((id = next_option(c, p, at_opts, 1, 1, &val)) != OPT_END) {
-        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
-        if (id == OPT_POSITIONAL) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (give stars with --mass, --age or --input)", val);
-            goto done;
-        }
-        if (id == O_MASS && (rc = add_mass_list(c, "--mass", val, &ml))) goto done;
-        if (id == O_AGE && (rc = add_age_list(c, "--age", val, &al))) goto done;
-        if (id == O_INPUT) input = val;
-        if (id == O_KEEP) keep = 1;
-    }
-    if (c->want_help) { help_command("at", stdout); goto done; }
-    if (!input && (ml.n == 0 || al.n == 0)) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or --input FILE (see hrtrail at --help)");
-        goto done;
-    }
-    if (input && (ml.n > 1 || al.n > 1)) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "with --input, --mass and --age may give only one value each (for columns the file lacks)");
-        goto done;
-    }
-    if ((rc = cli_open_grid(c))) goto done;
-    /* a metallicity is needed unless every star brings its own */
-    if ((c->have_z || c->have_feh || !input) && (rc = cli_resolve_z(c, &z))) goto done;
-    if (input && isnan(z)) z = hrt_grid_z_ref(c->grid);
-    if (input) {
-        if ((rc = stars_from_csv(c, input, &ml, &al, z, &s))) goto done;
-    } else {
-        size_t k = 0;
-        stars_alloc(&s, ml.n * al.n, 0);
-        for (size_t i = 0; i < ml.n; i++)
-            for (size_t j = 0; j < al.n; j++, k++) {
-                s.mass[k] = ml.v[i];
-                s.age[k] = al.v[j];
-                s.z[k] = z;
-                s.mass_text[k] = xstrdup(ml.text[i]);
-                s.age_text[k] = xstrdup(al.text[j]);
-                s.z_text[k] = xstrdup(c->z_text ? c->z_text : "");
-            }
+    int rc;
+    if (!a->input && (a->ml.n == 0 || a->al.n == 0))
+        return cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or --input FILE (see hrtrail at --help)");
+    if (a->input && (a->ml.n > 1 || a->al.n > 1))
+        return cli_fail(c, CLI_EXIT_USAGE, "with --input, --mass and --age may give only one value each (for columns the file lacks)");
+    if ((rc = cli_open_grid(c)) || (rc = at_stars(c, a, &s))) {
+        stars_free(&s);
+        return rc;
     }
     out = xcalloc(s.n, sizeof *out);
     int st = hrt_eval(c->grid, s.n, s.mass, s.z, 0.0, s.age, out, &err);
     if (st != HRT_OK && st != HRT_E_MASS_RANGE && st != HRT_E_Z_RANGE && st != HRT_E_AGE_RANGE &&
-        st != HRT_E_NO_TRACK && st != HRT_E_DOMAIN) {
+        st != HRT_E_NO_TRACK && st != HRT_E_DOMAIN)
         rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message[0] ? err.message : hrt_strerror(st));
-        goto done;
-    }
-    for (size_t i = 0; i < s.n; i++) {
-        char who[512];
-        if (out[i].status == HRT_OK) continue;
-        who_of(c, &s, i, out[i].status, input, who, sizeof who);
-        if (!keep) {
-            rc = cli_star_failure(c, who, out[i].status, s.mass[i], s.z[i], s.age[i], NULL);
-            goto done;
+    else if ((rc = at_failures(c, a, &s, out)) == 0 || a->keep) {
+        table *t = state_table_new((s.name ? SC_NAME : 0u) | (a->keep ? SC_STATUS : 0u));
+        for (size_t i = 0; i < s.n; i++) {
+            if (out[i].status != HRT_OK) {
+                /* the library leaves the failed star's inputs for us to fill in */
+                out[i].initial_mass_msun = s.mass[i];
+                out[i].z = s.z[i];
+                out[i].age_yr = s.age[i];
+            }
+            state_table_add(t, c, &out[i], s.name ? s.name[i] : NULL,
+                            out[i].status == HRT_OK ? "ok" : hrt_strerror(out[i].status));
         }
-        int r1 = cli_star_failure(c, who, out[i].status, s.mass[i], s.z[i], s.age[i], NULL);
-        if (!rc) rc = r1;
+        out_states(c, t, NULL);
+        table_free(t);
     }
-    table *t = state_table_new((s.name ? SC_NAME : 0u) | (keep ? SC_STATUS : 0u));
-    for (size_t i = 0; i < s.n; i++) {
-        if (out[i].status != HRT_OK) {
-            /* the library leaves the failed star's inputs for us to fill in */
-            out[i].initial_mass_msun = s.mass[i];
-            out[i].z = s.z[i];
-            out[i].age_yr = s.age[i];
-        }
-        state_table_add(t, c, &out[i], s.name ? s.name[i] : NULL,
-                        out[i].status == HRT_OK ? "ok" : hrt_strerror(out[i].status));
-    }
-    if (c->fmt == FMT_CSV) {
-        table_write_csv(t, stdout);
-    } else if (c->fmt == FMT_JSON) {
-        jw_records(stdout, t);
-    } else {
-        table_write_text(t, stdout, NULL);
-        phase_footnote(stdout, t);
-    }
-    table_free(t);
-done:
     free(out);
     stars_free(&s);
-    dlist_free(&ml);
-    dlist_free(&al);
+    return rc;
+}
+
+int cmd_at(cli *c, argparse *p)
+{
+    at_args a;
+    memset(&a, 0, sizeof a);
+    int rc = cli_parse(c, p, &at_cmdopts, &a);
+    if (rc == 0) rc = at_run(c, &a);
+    dlist_free(&a.ml);
+    dlist_free(&a.al);
     return rc;
 }

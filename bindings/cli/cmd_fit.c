@@ -103,19 +103,6 @@ int fitopt_take(cli *c, fitopts *f, int id, const char *val)
     }
 }
 
-int fit_next_option(cli *c, argparse *p, const optdef *own, const char **val)
-{
-    optdef all[64];
-    size_t n = 0;
-    for (const optdef *d = own; d && d->name && n < 40; d++) all[n++] = *d;
-    for (const optdef *d = fit_optdefs; d->name && n < 63; d++) all[n++] = *d;
-    all[n].name = NULL;
-    all[n].short_name = 0;
-    all[n].has_arg = 0;
-    all[n].id = 0;
-    return next_option(c, p, all, 0, 1, val);
-}
-
 int fit_make_model(cli *c, fitopts *f, const fitstar *s, size_t n, hrt_fit_model **m)
 {
     hrt_error err = {0, ""};
@@ -176,15 +163,12 @@ static const char *const fit_old[] = {
 
 static int stars_from_csv(cli *c, const char *path, const fitopts *f, fitstar **out, size_t *nout)
 {
+    static const csvnames names = {fit_known, fit_old, FIT_COLUMNS, CLI_EXIT_USAGE};
     csvfile cf;
-    const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
-    int rc = csv_read(c, path, &cf);
-    if (rc) return rc;
+    const char *shown = csv_shown(path);
     long col[16];
-    if ((rc = csv_check_header(c, &cf, shown, CLI_EXIT_USAGE, fit_known, fit_old, FIT_COLUMNS))) {
-        csv_free(&cf);
-        return rc;
-    }
+    int rc = csv_read_named(c, path, &names, &cf);
+    if (rc) return rc;
     for (int k = 0; k < 16; k++) col[k] = csv_column(&cf, meas_names[k / 2][k % 2].col);
     long cn = csv_column(&cf, "name");
     if (col[0] < 0 && isnan(f->obs.teff_k)) {
@@ -323,81 +307,102 @@ static void print_one(const cli *c, const hrt_fit_result *r, const hrt_fit_obs *
     printf("Intervals are statistical only; the default grid is a semi-analytic model (see hrtrail --help).\n");
 }
 
-int cmd_fit(cli *c, argparse *p)
-{
-    enum { O_INPUT = 1, O_KEEP };
-    static const optdef own[] = {{"input", 'i', 1, O_INPUT}, {"keep-going", 'k', 0, O_KEEP}, {NULL, 0, 0, 0}};
+enum { O_INPUT = 1, O_KEEP };
+static const optdef fit_opts[] = {{"input", 'i', 1, O_INPUT}, {"keep-going", 'k', 0, O_KEEP}, {NULL, 0, 0, 0}};
+
+typedef struct fit_args {
     fitopts f;
-    fitstar *stars = NULL;
-    size_t n = 0;
-    int id, rc = 0, keep = 0;
-    const char *val;
-    hrt_fit_model *m = NULL;
-    fitopts_init(&f);
-    while ((id = fit_next_option(c, p, own, &val)) != OPT_END) {
-        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
-        if (id == OPT_POSITIONAL) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (see hrtrail fit --help)", val);
-            goto done;
-        }
-        if (id == O_INPUT) { f.input = val; continue; }
-        if (id == O_KEEP) { keep = 1; continue; }
-        if (fitopt_take(c, &f, id, val) < 0) { rc = CLI_EXIT_USAGE; goto done; }
-    }
-    if (c->want_help) { help_command("fit", stdout); goto done; }
-    if (!f.input && isnan(f.obs.teff_k)) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "give --teff and --teff-sigma (and --log-l, --feh, --logg, ...), or --input FILE");
-        goto done;
-    }
-    if ((rc = cli_open_grid(c))) goto done;
-    if (f.input) {
-        if ((rc = stars_from_csv(c, f.input, &f, &stars, &n))) goto done;
-    } else {
-        n = 1;
-        stars = xcalloc(1, sizeof *stars);
-        stars[0].name = xstrdup("");
-        stars[0].obs = f.obs;
-    }
-    if ((rc = fit_make_model(c, &f, stars, n, &m))) goto done;
-    table *t = table_new(fit_cols, N_FIT_COLS);
-    hrt_fit_result one;
-    memset(&one, 0, sizeof one);
-    one.status = -1;
+    int keep;
+} fit_args;
+
+static int fit_take(cli *c, void *ctx, int id, const char *val)
+{
+    fit_args *a = ctx;
+    if (id == O_INPUT) a->f.input = val;
+    else if (id == O_KEEP) a->keep = 1;
+    else if (fitopt_take(c, &a->f, id, val) < 0) return CLI_EXIT_USAGE;
+    return 0;
+}
+
+static const cmdopts fit_cmdopts = {fit_opts, fit_optdefs, ACCEPT_FORMAT, fit_take, "see hrtrail fit --help", 0};
+
+/* Every star fitted, one row each; the first star's result in *one. */
+static int fit_stars(cli *c, const fit_args *a, const hrt_fit_model *m, const fitstar *stars, size_t n, table *t,
+                     hrt_fit_result *one)
+{
+    int rc = 0;
     for (size_t i = 0; i < n; i++) {
         hrt_fit_result r;
         hrt_error err = {0, ""};
-        int st = hrt_fit_star(m, &stars[i].obs, (uint64_t)f.seed, 0, NULL, &r, &err);
+        int st = hrt_fit_star(m, &stars[i].obs, (uint64_t)a->f.seed, 0, NULL, &r, &err);
         if (st != HRT_OK) {
             char who[300];
-            if (f.input)
-                snprintf(who, sizeof who, "%s line %ld%s%s", strcmp(f.input, "-") ? f.input : "standard input",
+            if (a->f.input)
+                snprintf(who, sizeof who, "%s line %ld%s%s", csv_shown(a->f.input),
                          stars[i].line, stars[i].name[0] ? ", star " : "", stars[i].name);
             else
                 snprintf(who, sizeof who, "the star");
             int r1 = fit_failure(c, who, st, err.message);
-            if (!keep) { rc = r1; table_free(t); goto done; }
+            if (!a->keep) return r1;
             if (!rc) rc = r1;
         }
-        if (i == 0) one = r;
+        if (i == 0) *one = r;
         add_row(t, stars[i].name, st == HRT_OK ? "ok" : hrt_strerror(st), &r);
     }
-    if (c->fmt == FMT_CSV) {
-        table_write_csv(t, stdout);
-    } else if (c->fmt == FMT_JSON) {
-        jw_records(stdout, t);
-    } else if (!f.input && one.status == HRT_OK) {
-        print_one(c, &one, &stars[0].obs);
+    return rc;
+}
+
+/* The text: one star in full, or the table of all. */
+static void fit_text(const cli *c, const fit_args *a, const table *t, const hrt_fit_result *one, const fitstar *first)
+{
+    if (!a->f.input && one->status == HRT_OK) {
+        print_one(c, one, &first->obs);
         printf("Mass prior %s, age uniform in [0, %.4g Gyr], [Fe/H] uniform on the lattice.\n",
-               hrt_fit_mass_prior_name(f.mo.mass_prior), f.mo.age_max_yr / 1e9);
-    } else {
-        table_write_text(t, stdout, NULL);
-        printf("Medians with 16%% (-) and 84%% (+) points; mass prior %s, age uniform in [0, %.4g Gyr].\n",
-               hrt_fit_mass_prior_name(f.mo.mass_prior), f.mo.age_max_yr / 1e9);
+               hrt_fit_mass_prior_name(a->f.mo.mass_prior), a->f.mo.age_max_yr / 1e9);
+        return;
     }
-    table_free(t);
-done:
+    table_write_text(t, stdout, NULL);
+    printf("Medians with 16%% (-) and 84%% (+) points; mass prior %s, age uniform in [0, %.4g Gyr].\n",
+           hrt_fit_mass_prior_name(a->f.mo.mass_prior), a->f.mo.age_max_yr / 1e9);
+}
+
+static int fit_run(cli *c, fit_args *a)
+{
+    fitstar *stars = NULL;
+    size_t n = 0;
+    hrt_fit_model *m = NULL;
+    int rc;
+    if (!a->f.input && isnan(a->f.obs.teff_k))
+        return cli_fail(c, CLI_EXIT_USAGE, "give --teff and --teff-sigma (and --log-l, --feh, --logg, ...), or --input FILE");
+    if ((rc = cli_open_grid(c))) return rc;
+    if (a->f.input) {
+        rc = stars_from_csv(c, a->f.input, &a->f, &stars, &n);
+    } else {
+        n = 1;
+        stars = xcalloc(1, sizeof *stars);
+        stars[0].name = xstrdup("");
+        stars[0].obs = a->f.obs;
+    }
+    if (rc == 0 && (rc = fit_make_model(c, &a->f, stars, n, &m)) == 0) {
+        table *t = table_new(fit_cols, N_FIT_COLS);
+        hrt_fit_result one;
+        memset(&one, 0, sizeof one);
+        one.status = -1;
+        rc = fit_stars(c, a, m, stars, n, t, &one);
+        if ((rc == 0 || a->keep) && !out_records(c, t)) fit_text(c, a, t, &one, &stars[0]);
+        table_free(t);
+    }
     hrt_fit_model_free(m);
     for (size_t i = 0; i < n; i++) free(stars[i].name);
     free(stars);
     return rc;
+}
+
+int cmd_fit(cli *c, argparse *p)
+{
+    fit_args a;
+    memset(&a, 0, sizeof a);
+    fitopts_init(&a.f);
+    int rc = cli_parse(c, p, &fit_cmdopts, &a);
+    return rc ? rc : fit_run(c, &a);
 }

@@ -45,110 +45,94 @@ static const col st_cols[] = {
     {"mass_msun_hi", NULL, COL_NUM, NULL, 0},      {"luminous_frac", NULL, COL_NUM, NULL, 0},
 };
 
-int cmd_forecast(cli *c, argparse *p)
-{
-    enum { O_MASS = 1, O_AGE, O_Z, O_AT, O_SAMPLES };
-    static const optdef own[] = {{"mass", 'm', 1, O_MASS}, {"age", 'a', 1, O_AGE}, {"z", 0, 1, O_Z},
-                                 {"at", 0, 1, O_AT},       {"samples", 'n', 1, O_SAMPLES}, {NULL, 0, 0, 0}};
+enum { O_MASS = 1, O_AGE, O_Z, O_AT, O_SAMPLES };
+static const optdef forecast_opts[] = {{"mass", 'm', 1, O_MASS}, {"age", 'a', 1, O_AGE},         {"z", 0, 1, O_Z},
+                                       {"at", 0, 1, O_AT},       {"samples", 'n', 1, O_SAMPLES}, {NULL, 0, 0, 0}};
+
+typedef struct forecast_args {
     fitopts f;
-    dlist at = {0};
-    double mass = NAN, age = NAN, z = NAN;
-    long nsamp = 400;
-    int id, rc = 0;
-    const char *val;
-    hrt_fit_model *m = NULL;
-    hrt_fit_sample *smp = NULL;
-    hrt_forecast_state *fs = NULL;
-    size_t n = 0;
-    fitopts_init(&f);
-    while ((id = fit_next_option(c, p, own, &val)) != OPT_END) {
-        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
-        if (id == OPT_POSITIONAL) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (see hrtrail forecast --help)", val);
-            goto done;
-        }
-        if (id == O_MASS && (parse_number(val, &mass) != 0 || !(mass > 0))) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--mass: '%s' is not an initial mass > 0 (Msun)", val);
-            goto done;
-        }
-        if (id == O_AGE && parse_age_yr(val, &age) != 0) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--age: '%s' is not an age >= 0 (yr, kyr, Myr, Gyr)", val);
-            goto done;
-        }
-        if (id == O_Z && (parse_number(val, &z) != 0 || !(z > 0 && z < 1))) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--z: '%s' is not a metal mass fraction (0 < Z < 1)", val);
-            goto done;
-        }
-        if (id == O_AT && (rc = add_age_list(c, "--at", val, &at))) goto done;
-        if (id == O_SAMPLES && parse_count(val, 1, 100000, &nsamp) != 0) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--samples: '%s' is not a count between 1 and 100000", val);
-            goto done;
-        }
-        if (id >= FIT_OPT_BASE && fitopt_take(c, &f, id, val) < 0) { rc = CLI_EXIT_USAGE; goto done; }
+    dlist at;
+    double mass, age, z;
+    long nsamp;
+} forecast_args;
+
+static int forecast_take(cli *c, void *ctx, int id, const char *val)
+{
+    forecast_args *a = ctx;
+    switch (id) {
+    case O_MASS:
+        if (parse_number(val, &a->mass) != 0 || !(a->mass > 0))
+            return cli_fail(c, CLI_EXIT_USAGE, "--mass: '%s' is not an initial mass > 0 (Msun)", val);
+        return 0;
+    case O_AGE:
+        if (parse_age_yr(val, &a->age) != 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "--age: '%s' is not an age >= 0 (yr, kyr, Myr, Gyr)", val);
+        return 0;
+    case O_Z:
+        if (parse_number(val, &a->z) != 0 || !(a->z > 0 && a->z < 1))
+            return cli_fail(c, CLI_EXIT_USAGE, "--z: '%s' is not a metal mass fraction (0 < Z < 1)", val);
+        return 0;
+    case O_AT: return add_age_list(c, "--at", val, &a->at);
+    case O_SAMPLES:
+        if (parse_count(val, 1, 100000, &a->nsamp) != 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "--samples: '%s' is not a count between 1 and 100000", val);
+        return 0;
+    default: return fitopt_take(c, &a->f, id, val) < 0 ? CLI_EXIT_USAGE : 0;
     }
-    if (c->want_help) { help_command("forecast", stdout); goto done; }
-    int exact = !isnan(mass);
-    if (exact && (isnan(age) || !isnan(f.obs.teff_k))) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "give either --mass and --age (an exact star) or measurements (--teff ...), not both");
-        goto done;
+}
+
+static const cmdopts forecast_cmdopts = {forecast_opts, fit_optdefs, ACCEPT_FORMAT, forecast_take,
+                                         "see hrtrail forecast --help", 0};
+
+/* The star: one exact sample (--mass, --age), or posterior draws of the star of the measurements. */
+static int forecast_samples(cli *c, forecast_args *a, hrt_fit_model **m, hrt_fit_sample **smp, size_t *n)
+{
+    int rc;
+    if (!isnan(a->mass)) {
+        if (!isnan(a->z) && !isnan(a->f.obs.feh)) return cli_fail(c, CLI_EXIT_USAGE, "give --z or --feh, not both");
+        if (isnan(a->z))
+            a->z = hrt_grid_z_ref(c->grid) * (isnan(a->f.obs.feh) ? 1.0 : pow(10.0, a->f.obs.feh));
+        if ((rc = cli_check_z(c, "the star's metallicity", a->z)) || (rc = cli_check_mass(c, "--mass", a->mass, a->z)))
+            return rc;
+        *n = 1;
+        *smp = xcalloc(1, sizeof **smp);
+        (*smp)[0].initial_mass_msun = a->mass;
+        (*smp)[0].z = a->z;
+        (*smp)[0].age_yr = a->age;
+        return 0;
     }
-    if (!exact && isnan(f.obs.teff_k)) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or the measurements of a star (--teff, --teff-sigma, ...)");
-        goto done;
-    }
-    if ((rc = cli_open_grid(c))) goto done;
-    if (exact) {
-        if (!isnan(z) && !isnan(f.obs.feh)) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "give --z or --feh, not both");
-            goto done;
-        }
-        if (isnan(z)) z = isnan(f.obs.feh) ? hrt_grid_z_ref(c->grid) : hrt_grid_z_ref(c->grid) * pow(10.0, f.obs.feh);
-        if ((rc = cli_check_z(c, "the star's metallicity", z)) || (rc = cli_check_mass(c, "--mass", mass, z))) goto done;
-        n = 1;
-        smp = xcalloc(1, sizeof *smp);
-        smp[0].initial_mass_msun = mass;
-        smp[0].z = z;
-        smp[0].age_yr = age;
-    } else {
-        fitstar one = {NULL, 0, f.obs};
-        if ((rc = fit_make_model(c, &f, &one, 1, &m))) goto done;
-        n = (size_t)nsamp;
-        smp = xcalloc(n, sizeof *smp);
-        hrt_fit_result r;
-        hrt_error err = {0, ""};
-        int st = hrt_fit_star(m, &f.obs, (uint64_t)f.seed, n, smp, &r, &err);
-        if (st != HRT_OK) { rc = fit_failure(c, "the star", st, err.message); goto done; }
-    }
-    fs = xcalloc(at.n ? at.n : 1, sizeof *fs);
-    hrt_forecast_result r;
+    fitstar one = {NULL, 0, a->f.obs};
+    if ((rc = fit_make_model(c, &a->f, &one, 1, m))) return rc;
+    *n = (size_t)a->nsamp;
+    *smp = xcalloc(*n, sizeof **smp);
+    hrt_fit_result r;
     hrt_error err = {0, ""};
-    int st = hrt_forecast(c->grid, n, smp, at.n, at.v, fs, &r, &err);
-    if (st != HRT_OK) {
-        rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message);
-        goto done;
-    }
-    table *te = table_new(ev_cols, sizeof ev_cols / sizeof ev_cols[0]);
-    for (size_t k = 0; k < r.n_events; k++) {
-        size_t row = table_add_row(te);
-        table_text(te, row, 0, r.events[k].name);
-        table_num(te, row, 1, r.events[k].prob);
-        table_num(te, row, 2, r.events[k].in_yr.median);
-        table_num(te, row, 3, r.events[k].in_yr.lo);
-        table_num(te, row, 4, r.events[k].in_yr.hi);
-    }
+    int st = hrt_fit_star(*m, &a->f.obs, (uint64_t)a->f.seed, *n, *smp, &r, &err);
+    return st != HRT_OK ? fit_failure(c, "the star", st, err.message) : 0;
+}
+
+/* The three tables of a forecast: keypoints ahead, phases ahead, states at the --at times. */
+typedef struct forecast_tables {
+    table *te, *tp, *ts;
+} forecast_tables;
+
+static table *phases_ahead(const hrt_forecast_result *r)
+{
     table *tp = table_new(ph_cols, sizeof ph_cols / sizeof ph_cols[0]);
     /* phases to come in the order of their median start (ties: the order of HRT_PHASE_LIST) */
     int order[HRT_PHASE_N], no = 0;
     for (size_t i = 1; i < HRT_PHASE_N; i++) {
         int ph = hrt_phase_code(i);
-        if (r.future[ph].prob > 0) order[no++] = ph;
+        if (r->future[ph].prob > 0) order[no++] = ph;
     }
     for (int a = 1; a < no; a++)
-        for (int b = a; b > 0 && r.future[order[b]].start_in_yr.median < r.future[order[b - 1]].start_in_yr.median; b--) {
-            int tmp = order[b]; order[b] = order[b - 1]; order[b - 1] = tmp;
+        for (int b = a; b > 0 && r->future[order[b]].start_in_yr.median < r->future[order[b - 1]].start_in_yr.median; b--) {
+            int tmp = order[b];
+            order[b] = order[b - 1];
+            order[b - 1] = tmp;
         }
     for (int k = 0; k < no; k++) {
-        const hrt_forecast_phase *F = &r.future[order[k]];
+        const hrt_forecast_phase *F = &r->future[order[k]];
         size_t row = table_add_row(tp);
         table_text(tp, row, 0, hrt_phase_key(order[k]));
         table_num(tp, row, 1, F->prob);
@@ -157,68 +141,126 @@ int cmd_forecast(cli *c, argparse *p)
         table_num(tp, row, 4, F->start_in_yr.hi);
         table_num(tp, row, 5, F->duration_yr.median);
     }
-    table *ts = table_new(st_cols, sizeof st_cols / sizeof st_cols[0]);
-    for (size_t k = 0; k < at.n; k++) {
+    return tp;
+}
+
+static void forecast_tables_make(forecast_tables *T, const hrt_forecast_result *r, const hrt_forecast_state *fs, size_t nat)
+{
+    T->te = table_new(ev_cols, sizeof ev_cols / sizeof ev_cols[0]);
+    for (size_t k = 0; k < r->n_events; k++) {
+        size_t row = table_add_row(T->te);
+        table_text(T->te, row, 0, r->events[k].name);
+        table_num(T->te, row, 1, r->events[k].prob);
+        table_num(T->te, row, 2, r->events[k].in_yr.median);
+        table_num(T->te, row, 3, r->events[k].in_yr.lo);
+        table_num(T->te, row, 4, r->events[k].in_yr.hi);
+    }
+    T->tp = phases_ahead(r);
+    T->ts = table_new(st_cols, sizeof st_cols / sizeof st_cols[0]);
+    for (size_t k = 0; k < nat; k++) {
         const hrt_forecast_state *S = &fs[k];
-        size_t row = table_add_row(ts);
-        double v[] = {S->dt_yr, 0, S->phase_prob[S->phase], S->log_l_lsun.median, S->log_l_lsun.lo, S->log_l_lsun.hi, S->teff_k.median,
-                      S->teff_k.lo, S->teff_k.hi, S->r_rsun.median, S->r_rsun.lo, S->r_rsun.hi,
+        size_t row = table_add_row(T->ts);
+        double v[] = {S->dt_yr, 0, S->phase_prob[S->phase], S->log_l_lsun.median, S->log_l_lsun.lo, S->log_l_lsun.hi,
+                      S->teff_k.median, S->teff_k.lo, S->teff_k.hi, S->r_rsun.median, S->r_rsun.lo, S->r_rsun.hi,
                       S->mass_msun.median, S->mass_msun.lo, S->mass_msun.hi, S->luminous_frac};
         for (size_t q = 0; q < sizeof v / sizeof v[0]; q++)
-            if (q != 1) table_num(ts, row, q, v[q]);
-        table_text(ts, row, 1, hrt_phase_key(S->phase));
+            if (q != 1) table_num(T->ts, row, q, v[q]);
+        table_text(T->ts, row, 1, hrt_phase_key(S->phase));
     }
-    if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "grid", c->grid_used);
-        jw_int(&w, "n_samples", (long)n);
-        jw_str(&w, "phase_now", hrt_phase_key(r.phase_now));
-        jw_num(&w, "phase_now_prob", r.phase_now_prob[r.phase_now]);
-        jw_num(&w, "ms_prob", r.ms_prob);
-        iv_json(&w, "ms_left_yr", r.ms_left_yr);
-        iv_json(&w, "end_in_yr", r.end_in_yr);
-        jw_str(&w, "remnant", hrt_remnant_key(r.remnant));
-        jw_num(&w, "remnant_prob", r.remnant_prob[r.remnant]);
-        iv_json(&w, "remnant_mass_msun", r.remnant_mass_msun);
-        jw_table(&w, "keypoints", te);
-        jw_table(&w, "phases", tp);
-        jw_table(&w, "states", ts);
-        jw_end_object(&w);
-        jw_finish(&w);
-    } else if (c->fmt == FMT_CSV) {
-        /* CSV carries one table: the states if times were asked, else the keypoints */
-        table_write_csv(at.n ? ts : te, stdout);
-    } else {
-        if (exact)
-            printf("Forecast of a star of %.4g Msun, Z %.4g, at %.4g Myr\n", mass, z, age / 1e6);
+}
+
+static void forecast_json(const cli *c, const hrt_forecast_result *r, const forecast_tables *T, size_t n)
+{
+    jw w;
+    jw_init(&w, stdout);
+    jw_begin_object(&w, NULL);
+    jw_str(&w, "grid", c->grid_used);
+    jw_int(&w, "n_samples", (long)n);
+    jw_str(&w, "phase_now", hrt_phase_key(r->phase_now));
+    jw_num(&w, "phase_now_prob", r->phase_now_prob[r->phase_now]);
+    jw_num(&w, "ms_prob", r->ms_prob);
+    iv_json(&w, "ms_left_yr", r->ms_left_yr);
+    iv_json(&w, "end_in_yr", r->end_in_yr);
+    jw_str(&w, "remnant", hrt_remnant_key(r->remnant));
+    jw_num(&w, "remnant_prob", r->remnant_prob[r->remnant]);
+    iv_json(&w, "remnant_mass_msun", r->remnant_mass_msun);
+    jw_table(&w, "keypoints", T->te);
+    jw_table(&w, "phases", T->tp);
+    jw_table(&w, "states", T->ts);
+    jw_end_object(&w);
+    jw_finish(&w);
+}
+
+static void forecast_text(const forecast_args *a, const hrt_forecast_result *r, const forecast_tables *T, size_t n)
+{
+    if (!isnan(a->mass))
+        printf("Forecast of a star of %.4g Msun, Z %.4g, at %.4g Myr\n", a->mass, a->z, a->age / 1e6);
+    else
+        printf("Forecast from %zu posterior draws of the fitted star (seed %ld)\n", n, a->f.seed);
+    printf("Now: %s (probability %.2f)\n", hrt_phase_name(r->phase_now), r->phase_now_prob[r->phase_now]);
+    if (r->ms_prob > 0) {
+        printf("  main sequence: probability %.2f\n", r->ms_prob);
+        iv_text("main-sequence time left [Myr]", r->ms_left_yr, 1e-6);
+    }
+    iv_text("time to the end of the track [Myr]", r->end_in_yr, 1e-6);
+    printf("Final remnant: %s (probability %.2f)\n", hrt_remnant_name(r->remnant), r->remnant_prob[r->remnant]);
+    iv_text("remnant mass [Msun]", r->remnant_mass_msun, 1.0);
+    printf("\nKeypoints ahead:\n");
+    table_write_text(T->te, stdout, "  ");
+    printf("\nPhases ahead:\n");
+    table_write_text(T->tp, stdout, "  ");
+    if (a->at.n) {
+        printf("\nAt the times asked:\n");
+        table_write_text(T->ts, stdout, "  ");
+    }
+}
+
+static int forecast_run(cli *c, forecast_args *a)
+{
+    hrt_fit_model *m = NULL;
+    hrt_fit_sample *smp = NULL;
+    hrt_forecast_state *fs = NULL;
+    hrt_forecast_result r;
+    hrt_error err = {0, ""};
+    size_t n = 0;
+    int rc, exact = !isnan(a->mass);
+    if (exact && (isnan(a->age) || !isnan(a->f.obs.teff_k)))
+        return cli_fail(c, CLI_EXIT_USAGE, "give either --mass and --age (an exact star) or measurements (--teff ...), not both");
+    if (!exact && isnan(a->f.obs.teff_k))
+        return cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or the measurements of a star (--teff, --teff-sigma, ...)");
+    if ((rc = cli_open_grid(c)) == 0 && (rc = forecast_samples(c, a, &m, &smp, &n)) == 0) {
+        fs = xcalloc(a->at.n ? a->at.n : 1, sizeof *fs);
+        int st = hrt_forecast(c->grid, n, smp, a->at.n, a->at.v, fs, &r, &err);
+        if (st != HRT_OK) rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message);
+    }
+    if (rc == 0) {
+        forecast_tables T;
+        forecast_tables_make(&T, &r, fs, a->at.n);
+        if (c->fmt == FMT_JSON)
+            forecast_json(c, &r, &T, n);
+        else if (c->fmt == FMT_CSV)
+            table_write_csv(a->at.n ? T.ts : T.te, stdout); /* CSV carries one table: the states if times were asked */
         else
-            printf("Forecast from %zu posterior draws of the fitted star (seed %ld)\n", n, f.seed);
-        printf("Now: %s (probability %.2f)\n", hrt_phase_name(r.phase_now), r.phase_now_prob[r.phase_now]);
-        if (r.ms_prob > 0) {
-            printf("  main sequence: probability %.2f\n", r.ms_prob);
-            iv_text("main-sequence time left [Myr]", r.ms_left_yr, 1e-6);
-        }
-        iv_text("time to the end of the track [Myr]", r.end_in_yr, 1e-6);
-        printf("Final remnant: %s (probability %.2f)\n", hrt_remnant_name(r.remnant), r.remnant_prob[r.remnant]);
-        iv_text("remnant mass [Msun]", r.remnant_mass_msun, 1.0);
-        printf("\nKeypoints ahead:\n");
-        table_write_text(te, stdout, "  ");
-        printf("\nPhases ahead:\n");
-        table_write_text(tp, stdout, "  ");
-        if (at.n) {
-            printf("\nAt the times asked:\n");
-            table_write_text(ts, stdout, "  ");
-        }
+            forecast_text(a, &r, &T, n);
+        table_free(T.te);
+        table_free(T.tp);
+        table_free(T.ts);
     }
-    table_free(te);
-    table_free(tp);
-    table_free(ts);
-done:
     hrt_fit_model_free(m);
     free(smp);
     free(fs);
-    dlist_free(&at);
+    return rc;
+}
+
+int cmd_forecast(cli *c, argparse *p)
+{
+    forecast_args a;
+    memset(&a, 0, sizeof a);
+    fitopts_init(&a.f);
+    a.mass = a.age = a.z = NAN;
+    a.nsamp = 400;
+    int rc = cli_parse(c, p, &forecast_cmdopts, &a);
+    if (rc == 0) rc = forecast_run(c, &a);
+    dlist_free(&a.at);
     return rc;
 }

@@ -28,134 +28,194 @@ static void route_counts(const cli *c, size_t iz, size_t *count, size_t nr)
     }
 }
 
-static int grid_info(cli *c)
+static void info_csv(const cli *c)
+{
+    static const col cols[] = {
+        {"z", NULL, COL_NUM, NULL, 0},          {"feh", NULL, COL_NUM, NULL, 0},
+        {"initial_mass_msun", NULL, COL_NUM, NULL, 0}, {"route", NULL, COL_TEXT, NULL, 0},
+        {"n_eep", NULL, COL_NUM, NULL, 0},
+    };
+    const hrt_grid *g = c->grid;
+    table *t = table_new(cols, 5);
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++)
+        for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
+            size_t r = table_add_row(t);
+            table_num(t, r, 0, hrt_grid_z(g, iz));
+            table_num(t, r, 1, cli_feh(c, hrt_grid_z(g, iz)));
+            table_num(t, r, 2, hrt_grid_mass(g, iz, im));
+            table_text(t, r, 3, cli_route_name(c, hrt_grid_track_route(g, iz, im)));
+            table_num(t, r, 4, (double)hrt_grid_track_n_eep(g, iz, im));
+        }
+    table_write_csv(t, stdout);
+    table_free(t);
+}
+
+static void info_json_routes(jw *w, const hrt_grid *g)
+{
+    jw_begin_array(w, "routes");
+    for (size_t r = 0; r < hrt_grid_n_routes(g); r++) {
+        jw_begin_object(w, NULL);
+        jw_str(w, "route", hrt_grid_route_name(g, r));
+        jw_int(w, "n_eep", (long)hrt_grid_route_n_eep(g, r));
+        jw_begin_array(w, "keypoints");
+        for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++) {
+            jw_begin_object(w, NULL);
+            jw_str(w, "keypoint", hrt_grid_keypoint_name(g, r, k));
+            jw_int(w, "eep", hrt_grid_keypoint_eep(g, r, k));
+            jw_end_object(w);
+        }
+        jw_end_array(w);
+        jw_end_object(w);
+    }
+    jw_end_array(w);
+}
+
+static void info_json_metallicities(const cli *c, jw *w)
 {
     const hrt_grid *g = c->grid;
-    size_t nz = hrt_grid_n_z(g), nr = hrt_grid_n_routes(g);
-    long bytes = file_size(c->grid_used);
-    size_t *count = xcalloc(nr, sizeof *count);
-
-    if (c->fmt == FMT_CSV) {
-        static const col cols[] = {
-            {"z", NULL, COL_NUM, NULL, 0},          {"feh", NULL, COL_NUM, NULL, 0},
-            {"initial_mass_msun", NULL, COL_NUM, NULL, 0}, {"route", NULL, COL_TEXT, NULL, 0},
-            {"n_eep", NULL, COL_NUM, NULL, 0},
-        };
-        table *t = table_new(cols, 5);
-        for (size_t iz = 0; iz < nz; iz++)
-            for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
-                size_t r = table_add_row(t);
-                table_num(t, r, 0, hrt_grid_z(g, iz));
-                table_num(t, r, 1, cli_feh(c, hrt_grid_z(g, iz)));
-                table_num(t, r, 2, hrt_grid_mass(g, iz, im));
-                table_text(t, r, 3, cli_route_name(c, hrt_grid_track_route(g, iz, im)));
-                table_num(t, r, 4, (double)hrt_grid_track_n_eep(g, iz, im));
-            }
-        table_write_csv(t, stdout);
-        table_free(t);
-    } else if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_str(&w, "file", c->grid_used);
-        jw_num(&w, "file_bytes", bytes >= 0 ? (double)bytes : NAN);
-        jw_num(&w, "memory_bytes", (double)hrt_grid_memory_bytes(g));
-        jw_str(&w, "interp", hrt_interp_name(hrt_grid_interp(g)));
-        jw_num(&w, "z_ref", hrt_grid_z_ref(g));
-        /* records, so that every key is a field name of the vocabulary */
-        jw_begin_array(&w, "attributes");
-        for (const char *const *a = attr_names; *a; a++)
-            if (hrt_grid_attribute(g, *a)) {
-                jw_begin_object(&w, NULL);
-                jw_str(&w, "attribute", *a);
-                jw_str(&w, "value", hrt_grid_attribute(g, *a));
-                jw_end_object(&w);
-            }
-        jw_end_array(&w);
-        jw_begin_array(&w, "routes");
-        for (size_t r = 0; r < nr; r++) {
-            jw_begin_object(&w, NULL);
-            jw_str(&w, "route", hrt_grid_route_name(g, r));
-            jw_int(&w, "n_eep", (long)hrt_grid_route_n_eep(g, r));
-            jw_begin_array(&w, "keypoints");
-            for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++) {
-                jw_begin_object(&w, NULL);
-                jw_str(&w, "keypoint", hrt_grid_keypoint_name(g, r, k));
-                jw_int(&w, "eep", hrt_grid_keypoint_eep(g, r, k));
-                jw_end_object(&w);
-            }
-            jw_end_array(&w);
-            jw_end_object(&w);
+    jw_begin_array(w, "metallicities");
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
+        hrt_grid_mass_range(g, z, &lo, &hi);
+        jw_begin_object(w, NULL);
+        jw_num(w, "z", z);
+        jw_num(w, "feh", cli_feh(c, z));
+        jw_num(w, "initial_mass_msun_lo", lo);
+        jw_num(w, "initial_mass_msun_hi", hi);
+        jw_begin_array(w, "route_boundary_mass_msun");
+        for (size_t b = 0; b + 1 < hrt_grid_n_routes(g); b++) jw_num(w, NULL, hrt_grid_route_boundary(g, iz, b));
+        jw_end_array(w);
+        jw_begin_array(w, "tracks");
+        for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
+            jw_begin_object(w, NULL);
+            jw_num(w, "initial_mass_msun", hrt_grid_mass(g, iz, im));
+            jw_str(w, "route", cli_route_name(c, hrt_grid_track_route(g, iz, im)));
+            jw_int(w, "n_eep", (long)hrt_grid_track_n_eep(g, iz, im));
+            jw_end_object(w);
         }
-        jw_end_array(&w);
-        jw_begin_array(&w, "metallicities");
-        for (size_t iz = 0; iz < nz; iz++) {
-            double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
-            hrt_grid_mass_range(g, z, &lo, &hi);
-            jw_begin_object(&w, NULL);
-            jw_num(&w, "z", z);
-            jw_num(&w, "feh", cli_feh(c, z));
-            jw_num(&w, "initial_mass_msun_lo", lo);
-            jw_num(&w, "initial_mass_msun_hi", hi);
-            jw_begin_array(&w, "route_boundary_mass_msun");
-            for (size_t b = 0; b + 1 < nr; b++) jw_num(&w, NULL, hrt_grid_route_boundary(g, iz, b));
-            jw_end_array(&w);
-            jw_begin_array(&w, "tracks");
-            for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) {
-                jw_begin_object(&w, NULL);
-                jw_num(&w, "initial_mass_msun", hrt_grid_mass(g, iz, im));
-                jw_str(&w, "route", cli_route_name(c, hrt_grid_track_route(g, iz, im)));
-                jw_int(&w, "n_eep", (long)hrt_grid_track_n_eep(g, iz, im));
-                jw_end_object(&w);
-            }
-            jw_end_array(&w);
-            jw_end_object(&w);
-        }
-        jw_end_array(&w);
-        jw_end_object(&w);
-        jw_finish(&w);
-    } else {
-        size_t ntracks = 0;
-        for (size_t iz = 0; iz < nz; iz++) ntracks += hrt_grid_n_masses(g, iz);
-        printf("grid file       %s\n", c->grid_used);
-        if (bytes >= 0) printf("size            %.3f MB on disk, %.3f MB in memory when open\n", bytes / 1e6,
-                               (double)hrt_grid_memory_bytes(g) / 1e6);
-        for (const char *const *a = attr_names; *a; a++)
-            if (hrt_grid_attribute(g, *a)) printf("%-15s %s\n", *a, hrt_grid_attribute(g, *a));
-        printf("interpolation   %s across initial mass and [Fe/H]\n", hrt_interp_name(hrt_grid_interp(g)));
-        printf("Z_ref           %.6g  ([Fe/H] = log10(Z / Z_ref))\n", hrt_grid_z_ref(g));
-        printf("tracks          %zu in %zu metallicities and %zu routes\n\n", ntracks, nz, nr);
-        printf("Metallicities\n");
-        printf("  %-10s %8s %7s  %-22s", "Z", "[Fe/H]", "tracks", "initial mass [Msun]");
-        for (size_t r = 0; r < nr; r++) printf("  %s", hrt_grid_route_name(g, r));
-        printf("  route boundaries [Msun]\n");
-        for (size_t iz = 0; iz < nz; iz++) {
-            double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
-            char range[64];
-            hrt_grid_mass_range(g, z, &lo, &hi);
-            snprintf(range, sizeof range, "%.4g to %.4g", lo, hi);
-            route_counts(c, iz, count, nr);
-            printf("  %-10.6g %+8.3f %7zu  %-22s", z, cli_feh(c, z), hrt_grid_n_masses(g, iz), range);
-            for (size_t r = 0; r < nr; r++) printf("  %*zu", (int)strlen(hrt_grid_route_name(g, r)), count[r]);
-            printf(" ");
-            for (size_t b = 0; b + 1 < nr; b++) printf(" %.4g", hrt_grid_route_boundary(g, iz, b));
-            printf("\n");
-        }
-        printf("\nRoutes and their keypoints (EEP index of each keypoint)\n");
-        for (size_t r = 0; r < nr; r++) {
-            printf("  %s: %zu EEPs;", hrt_grid_route_name(g, r), hrt_grid_route_n_eep(g, r));
-            for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++)
-                printf(" %s@%ld", hrt_grid_keypoint_name(g, r, k), hrt_grid_keypoint_eep(g, r, k));
-            printf("\n");
-        }
-        printf("\nMasses per metallicity [Msun]\n");
-        for (size_t iz = 0; iz < nz; iz++) {
-            printf("  Z = %.6g:", hrt_grid_z(g, iz));
-            for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) printf(" %.4g", hrt_grid_mass(g, iz, im));
-            printf("\n");
-        }
+        jw_end_array(w);
+        jw_end_object(w);
     }
+    jw_end_array(w);
+}
+
+/* JSON strings are valid UTF-8 whatever the file holds (out.c: control characters escaped,
+ * bytes that are not UTF-8 as U+FFFD). */
+static void info_json(const cli *c, long bytes)
+{
+    const hrt_grid *g = c->grid;
+    jw w;
+    jw_init(&w, stdout);
+    jw_begin_object(&w, NULL);
+    jw_str(&w, "file", c->grid_used);
+    jw_num(&w, "file_bytes", bytes >= 0 ? (double)bytes : NAN);
+    jw_num(&w, "memory_bytes", (double)hrt_grid_memory_bytes(g));
+    jw_str(&w, "interp", hrt_interp_name(hrt_grid_interp(g)));
+    jw_num(&w, "z_ref", hrt_grid_z_ref(g));
+    /* records, so that every key is a field name of the vocabulary */
+    jw_begin_array(&w, "attributes");
+    for (const char *const *a = attr_names; *a; a++)
+        if (hrt_grid_attribute(g, *a)) {
+            jw_begin_object(&w, NULL);
+            jw_str(&w, "attribute", *a);
+            jw_str(&w, "value", hrt_grid_attribute(g, *a));
+            jw_end_object(&w);
+        }
+    jw_end_array(&w);
+    info_json_routes(&w, g);
+    info_json_metallicities(c, &w);
+    jw_end_object(&w);
+    jw_finish(&w);
+}
+
+/* The provenance attributes, made safe for the terminal, with a note on text that is not UTF-8. */
+static void info_text_attributes(const hrt_grid *g)
+{
+    char bad[160] = "";
+    for (const char *const *a = attr_names; *a; a++) {
+        int not_utf8 = 0;
+        char *v = hrt_grid_attribute(g, *a) ? text_safe(hrt_grid_attribute(g, *a), &not_utf8) : NULL;
+        if (!v) continue;
+        printf("%-15s %s\n", *a, v);
+        free(v);
+        if (not_utf8) snprintf(bad + strlen(bad), sizeof bad - strlen(bad), "%s%s", bad[0] ? ", " : "", *a);
+    }
+    if (bad[0])
+        printf("%-15s %s: not valid UTF-8; such bytes are shown as \\xNN here and replaced by U+FFFD in --json\n",
+               "note", bad);
+}
+
+static void info_text_metallicities(const cli *c)
+{
+    const hrt_grid *g = c->grid;
+    size_t nr = hrt_grid_n_routes(g), *count = xcalloc(nr, sizeof *count);
+    char **names = xcalloc(nr, sizeof *names); /* the route names, safe for the terminal: the column heads */
+    printf("Metallicities\n");
+    printf("  %-10s %8s %7s  %-22s", "Z", "[Fe/H]", "tracks", "initial mass [Msun]");
+    for (size_t r = 0; r < nr; r++) printf("  %s", names[r] = text_safe(hrt_grid_route_name(g, r), NULL));
+    printf("  route boundaries [Msun]\n");
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        double lo = NAN, hi = NAN, z = hrt_grid_z(g, iz);
+        char range[64];
+        hrt_grid_mass_range(g, z, &lo, &hi);
+        snprintf(range, sizeof range, "%.4g to %.4g", lo, hi);
+        route_counts(c, iz, count, nr);
+        printf("  %-10.6g %+8.3f %7zu  %-22s", z, cli_feh(c, z), hrt_grid_n_masses(g, iz), range);
+        for (size_t r = 0; r < nr; r++) printf("  %*zu", (int)strlen(names[r]), count[r]);
+        printf(" ");
+        for (size_t b = 0; b + 1 < nr; b++) printf(" %.4g", hrt_grid_route_boundary(g, iz, b));
+        printf("\n");
+    }
+    for (size_t r = 0; r < nr; r++) free(names[r]);
+    free(names);
     free(count);
+}
+
+static void info_text(const cli *c, long bytes)
+{
+    const hrt_grid *g = c->grid;
+    size_t nz = hrt_grid_n_z(g), nr = hrt_grid_n_routes(g), ntracks = 0;
+    for (size_t iz = 0; iz < nz; iz++) ntracks += hrt_grid_n_masses(g, iz);
+    printf("grid file       ");
+    text_write(stdout, c->grid_used);
+    printf("\n");
+    if (bytes >= 0)
+        printf("size            %.3f MB on disk, %.3f MB in memory when open\n", bytes / 1e6,
+               (double)hrt_grid_memory_bytes(g) / 1e6);
+    info_text_attributes(g);
+    printf("interpolation   %s across initial mass and [Fe/H]\n", hrt_interp_name(hrt_grid_interp(g)));
+    printf("Z_ref           %.6g  ([Fe/H] = log10(Z / Z_ref))\n", hrt_grid_z_ref(g));
+    printf("tracks          %zu in %zu metallicities and %zu routes\n\n", ntracks, nz, nr);
+    info_text_metallicities(c);
+    printf("\nRoutes and their keypoints (EEP index of each keypoint)\n");
+    for (size_t r = 0; r < nr; r++) {
+        printf("  ");
+        text_write(stdout, hrt_grid_route_name(g, r));
+        printf(": %zu EEPs;", hrt_grid_route_n_eep(g, r));
+        for (size_t k = 0; k < hrt_grid_route_n_keypoints(g, r); k++) {
+            printf(" ");
+            text_write(stdout, hrt_grid_keypoint_name(g, r, k));
+            printf("@%ld", hrt_grid_keypoint_eep(g, r, k));
+        }
+        printf("\n");
+    }
+    printf("\nMasses per metallicity [Msun]\n");
+    for (size_t iz = 0; iz < nz; iz++) {
+        printf("  Z = %.6g:", hrt_grid_z(g, iz));
+        for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) printf(" %.4g", hrt_grid_mass(g, iz, im));
+        printf("\n");
+    }
+}
+
+static int grid_info(cli *c)
+{
+    long bytes = file_size(c->grid_used);
+    if (c->fmt == FMT_CSV)
+        info_csv(c);
+    else if (c->fmt == FMT_JSON)
+        info_json(c, bytes);
+    else
+        info_text(c, bytes);
     return 0;
 }
 
@@ -299,104 +359,81 @@ static void check_star(checker *k, const hrt_star *s, const char *where, int own
     }
 }
 
-static int grid_check(cli *c)
+/* The grid's own track im at metallicity iz, then the star halfway (in log mass) to the next track
+ * of the same route; the ZAMS and end ages seen widen [*amin, *amax]. */
+static void check_track(checker *k, size_t iz, size_t im, double *amin, double *amax)
 {
-    checker k = {0};
-    int rc = 0;
-    const char *path = c->grid_path ? c->grid_path : hrt_default_grid_path();
+    const hrt_grid *g = k->c->grid;
+    double z = hrt_grid_z(g, iz), m = hrt_grid_mass(g, iz, im);
     hrt_error err = {0, ""};
-    struct stat stt;
-    const char *verdict = "passed";
-
-    if (c->grid_path && stat(c->grid_path, &stt) != 0)
-        return cli_fail(c, CLI_EXIT_FILE, "--grid '%s': %s", c->grid_path, strerror(errno));
-    k.c = c;
-    k.problems = table_new(problem_cols, 2);
-    k.progress = isatty(STDERR_FILENO);
-    rc = hrt_grid_open_with(c->grid_path, c->interp, &c->grid, &err);
-    if (rc == HRT_E_NOT_FOUND) {
-        table_free(k.problems);
-        c->grid = NULL;
-        return cli_fail(c, CLI_EXIT_FILE, "no default grid found (%s); name one with --grid FILE", err.message);
-    }
-    if (rc == HRT_E_VERSION) {
-        /* a file of another format version is not checked: the message says how to convert it */
-        table_free(k.problems);
-        c->grid = NULL;
-        return cli_fail(c, CLI_EXIT_FILE, "grid '%s': %s", path ? path : "(default)", err.message);
-    }
-    if (rc != HRT_OK) {
-        c->grid = NULL;
-        problem(&k, "validator", "%s", err.message[0] ? err.message : hrt_strerror(rc));
-        verdict = "failed";
+    hrt_star *s = NULL;
+    char where[160];
+    snprintf(where, sizeof where, "Z = %.6g, track %zu (%.6g Msun)", z, im, m);
+    if (hrt_star_new(g, m, z, &s, &err) != HRT_OK) {
+        problem(k, where, "cannot interpolate the star of the track's own mass: %s", err.message);
     } else {
-        const hrt_grid *g = c->grid;
-        size_t nz = hrt_grid_n_z(g);
-        char where[160];
-        c->grid_used = path ? path : "(default grid)";
-        for (size_t iz = 0; iz < nz; iz++) k.total += 2 * hrt_grid_n_masses(g, iz) + 8;
-        for (size_t iz = 0; iz < nz; iz++) {
-            double z = hrt_grid_z(g, iz), amin = INFINITY, amax = 0;
-            size_t nm = hrt_grid_n_masses(g, iz);
-            for (size_t im = 0; im < nm; im++) {
-                double m = hrt_grid_mass(g, iz, im);
-                hrt_star *s = NULL;
-                snprintf(where, sizeof where, "Z = %.6g, track %zu (%.6g Msun)", z, im, m);
-                int r = hrt_star_new(g, m, z, &s, &err);
-                if (r != HRT_OK) {
-                    problem(&k, where, "cannot interpolate the star of the track's own mass: %s", err.message);
-                } else {
-                    hrt_state st;
-                    check_star(&k, s, where, 1);
-                    if (hrt_star_eep_state(s, 0, &st) == HRT_OK) amin = fmin(amin, st.age_yr);
-                    amax = fmax(amax, hrt_star_end_age(s));
-                    k.n_tracks++;
-                }
-                hrt_star_free(s);
-                tick(&k);
-                /* halfway (in log mass) to the next track of the same route */
-                if (im + 1 < nm && hrt_grid_track_route(g, iz, im) == hrt_grid_track_route(g, iz, im + 1)) {
-                    double mm = sqrt(m * hrt_grid_mass(g, iz, im + 1));
-                    snprintf(where, sizeof where, "Z = %.6g, %.6g Msun (between tracks %zu and %zu)", z, mm, im, im + 1);
-                    r = hrt_star_new(g, mm, z, &s, &err);
-                    if (r != HRT_OK)
-                        problem(&k, where, "cannot interpolate: %s", err.message);
-                    else {
-                        check_star(&k, s, where, 0);
-                        k.n_mid++;
-                    }
-                    hrt_star_free(s);
-                }
-                tick(&k);
-            }
-            /* isochrones at eight ages spread in log age between the first ZAMS and the last end of a track */
-            for (int q = 0; q < 8; q++) {
-                if (!(amin > 0 && amax > amin)) {
-                    tick(&k);
-                    continue;
-                }
-                double la = log10(amin) + (log10(amax) - log10(amin)) * (q + 1) / 9.0, age = pow(10, la);
-                hrt_state *pts = NULL;
-                size_t n = 0;
-                snprintf(where, sizeof where, "Z = %.6g, isochrone at %.6g yr", z, age);
-                int r = isochrone_compute(c, age, z, &pts, &n);
-                if (r != HRT_OK)
-                    problem(&k, where, "%s", hrt_strerror(r));
-                else if (n == 0)
-                    problem(&k, where, "no points");
-                else
-                    k.n_iso++;
-                free(pts);
-                tick(&k);
-            }
-        }
-        if (k.problems->nrow) verdict = "passed, but the tracks have problems";
+        hrt_state st;
+        check_star(k, s, where, 1);
+        if (hrt_star_eep_state(s, 0, &st) == HRT_OK) *amin = fmin(*amin, st.age_yr);
+        *amax = fmax(*amax, hrt_star_end_age(s));
+        k->n_tracks++;
     }
-    if (k.progress && k.total) fputs("\r\033[K", stderr);
+    hrt_star_free(s);
+    tick(k);
+    if (im + 1 < hrt_grid_n_masses(g, iz) && hrt_grid_track_route(g, iz, im) == hrt_grid_track_route(g, iz, im + 1)) {
+        double mm = sqrt(m * hrt_grid_mass(g, iz, im + 1));
+        s = NULL;
+        snprintf(where, sizeof where, "Z = %.6g, %.6g Msun (between tracks %zu and %zu)", z, mm, im, im + 1);
+        if (hrt_star_new(g, mm, z, &s, &err) != HRT_OK)
+            problem(k, where, "cannot interpolate: %s", err.message);
+        else
+            check_star(k, s, where, 0), k->n_mid++;
+        hrt_star_free(s);
+    }
+    tick(k);
+}
 
-    size_t np = k.problems->nrow;
+/* Isochrones at eight ages spread in log age between the first ZAMS and the last end of a track. */
+static void check_isochrones(checker *k, double z, double amin, double amax)
+{
+    for (int q = 0; q < 8; q++) {
+        if (amin > 0 && amax > amin) {
+            double age = pow(10, log10(amin) + (log10(amax) - log10(amin)) * (q + 1) / 9.0);
+            hrt_state *pts = NULL;
+            size_t n = 0;
+            char where[160];
+            snprintf(where, sizeof where, "Z = %.6g, isochrone at %.6g yr", z, age);
+            int r = isochrone_compute(k->c, age, z, &pts, &n);
+            if (r != HRT_OK)
+                problem(k, where, "%s", hrt_strerror(r));
+            else if (n == 0)
+                problem(k, where, "no points");
+            else
+                k->n_iso++;
+            free(pts);
+        }
+        tick(k);
+    }
+}
+
+static void check_grid(checker *k)
+{
+    const hrt_grid *g = k->c->grid;
+    size_t nz = hrt_grid_n_z(g);
+    for (size_t iz = 0; iz < nz; iz++) k->total += 2 * hrt_grid_n_masses(g, iz) + 8;
+    for (size_t iz = 0; iz < nz; iz++) {
+        double amin = INFINITY, amax = 0;
+        for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++) check_track(k, iz, im, &amin, &amax);
+        check_isochrones(k, hrt_grid_z(g, iz), amin, amax);
+    }
+    if (k->progress && k->total) fputs("\r\033[K", stderr);
+}
+
+static void check_report(const cli *c, const checker *k, const char *path, const char *verdict)
+{
+    size_t np = k->problems->nrow;
     if (c->fmt == FMT_CSV) {
-        table_write_csv(k.problems, stdout);
+        table_write_csv(k->problems, stdout);
     } else if (c->fmt == FMT_JSON) {
         jw w;
         jw_init(&w, stdout);
@@ -404,25 +441,62 @@ static int grid_check(cli *c)
         jw_str(&w, "file", path);
         jw_bool(&w, "ok", np == 0);
         jw_bool(&w, "validator_passed", c->grid != NULL);
-        jw_int(&w, "tracks_checked", (long)k.n_tracks);
-        jw_int(&w, "interpolated_stars_checked", (long)k.n_mid);
-        jw_int(&w, "isochrones_checked", (long)k.n_iso);
-        jw_table(&w, "problems", k.problems);
+        jw_int(&w, "tracks_checked", (long)k->n_tracks);
+        jw_int(&w, "interpolated_stars_checked", (long)k->n_mid);
+        jw_int(&w, "isochrones_checked", (long)k->n_iso);
+        jw_table(&w, "problems", k->problems);
         jw_end_object(&w);
         jw_finish(&w);
     } else {
-        printf("grid file   %s\n", path ? path : "(default grid)");
-        printf("validator   %s\n", verdict);
+        printf("grid file   ");
+        text_write(stdout, path ? path : "(default grid)");
+        printf("\nvalidator   %s\n", verdict);
         if (c->grid)
-            printf("checked     %zu tracks, %zu interpolated stars between them, %zu isochrones\n", k.n_tracks, k.n_mid,
-                   k.n_iso);
+            printf("checked     %zu tracks, %zu interpolated stars between them, %zu isochrones\n", k->n_tracks,
+                   k->n_mid, k->n_iso);
         if (np) {
             printf("problems    %zu\n", np);
-            table_write_text(k.problems, stdout, "  ");
+            table_write_text(k->problems, stdout, "  ");
         } else {
             printf("result      no problems found\n");
         }
     }
+}
+
+static int grid_check(cli *c)
+{
+    checker k = {0};
+    const char *path = c->grid_path ? c->grid_path : hrt_default_grid_path();
+    hrt_error err = {0, ""};
+    struct stat stt;
+    const char *verdict = "passed";
+
+    if (c->grid_path && stat(c->grid_path, &stt) != 0)
+        return cli_fail(c, CLI_EXIT_FILE, "--grid '%s': %s", c->grid_path, strerror(errno));
+    int rc = hrt_grid_open_with(c->grid_path, c->interp, &c->grid, &err);
+    if (rc == HRT_E_NOT_FOUND) {
+        c->grid = NULL;
+        return cli_fail(c, CLI_EXIT_FILE, "no default grid found (%s); name one with --grid FILE", err.message);
+    }
+    if (rc == HRT_E_VERSION) {
+        /* a file of another format version is not checked: the message says how to convert it */
+        c->grid = NULL;
+        return cli_fail(c, CLI_EXIT_FILE, "grid '%s': %s", path ? path : "(default)", err.message);
+    }
+    k.c = c;
+    k.problems = table_new(problem_cols, 2);
+    k.progress = isatty(STDERR_FILENO);
+    if (rc != HRT_OK) {
+        c->grid = NULL;
+        problem(&k, "validator", "%s", err.message[0] ? err.message : hrt_strerror(rc));
+        verdict = "failed";
+    } else {
+        c->grid_used = path ? path : "(default grid)";
+        check_grid(&k);
+        if (k.problems->nrow) verdict = "passed, but the tracks have problems";
+    }
+    check_report(c, &k, path, verdict);
+    size_t np = k.problems->nrow;
     table_free(k.problems);
     if (np) return cli_fail(c, CLI_EXIT_FILE, "%zu problem%s found in '%s'", np, np == 1 ? "" : "s", path);
     return 0;
@@ -435,14 +509,20 @@ static int grid_upgrade(cli *c, const char *old_path, const char *new_path)
     hrt_error err = {0, ""};
     hrt_grid *g = NULL;
     struct stat st;
+    char *target = NULL;
     int rc, from = 0;
     if (stat(old_path, &st) != 0) return cli_fail(c, CLI_EXIT_FILE, "'%s': %s", old_path, strerror(errno));
     if (S_ISDIR(st.st_mode)) return cli_fail(c, CLI_EXIT_FILE, "'%s': is a directory, not a grid file", old_path);
-    rc = hrt_grid_upgrade(old_path, new_path, &err);
-    if (rc != HRT_OK)
+    /* NEW: a symbolic link written through, a device or FIFO refused */
+    if ((rc = outfile_target(c, new_path, "NEW", &target))) return rc;
+    rc = hrt_grid_upgrade(old_path, target, &err);
+    if (rc != HRT_OK) {
+        free(target);
         return cli_fail(c, cli_exit_of_status(rc), "%s", err.message[0] ? err.message : hrt_strerror(rc));
+    }
     /* what was converted: the new file, opened as any grid is */
-    rc = hrt_grid_open(new_path, &g, &err);
+    rc = hrt_grid_open(target, &g, &err);
+    free(target);
     if (rc != HRT_OK)
         return cli_fail(c, cli_exit_of_status(rc), "'%s' was written but does not open: %s", new_path, err.message);
     size_t nz = hrt_grid_n_z(g), ntracks = 0;
@@ -458,30 +538,36 @@ static int grid_upgrade(cli *c, const char *old_path, const char *new_path)
     return 0;
 }
 
-enum { O_NONE = 0 };
+/* ------------------------------------------------------------------ the command */
+
 static const optdef grid_opts[] = {{NULL, 0, 0, 0}};
+
+typedef struct grid_args {
+    const char *pos[3];
+    size_t npos;
+} grid_args;
+
+/* Arguments: the action (checked at once, before any --help), then files. */
+static int grid_take(cli *c, void *ctx, int id, const char *val)
+{
+    grid_args *a = ctx;
+    if (id != OPT_ARG) return 0;
+    if (a->npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
+    if (a->npos == 0 && strcmp(val, "info") && strcmp(val, "check") && strcmp(val, "upgrade"))
+        return cli_fail(c, CLI_EXIT_USAGE,
+                        "unknown action '%s'; use 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade'", val);
+    a->pos[a->npos++] = val;
+    return 0;
+}
+
+static const cmdopts grid_cmdopts = {grid_opts, NULL, ACCEPT_FORMAT, grid_take, NULL, 0};
 
 int cmd_grid(cli *c, argparse *p)
 {
-    const char *val, *action = NULL, *pos[3] = {NULL, NULL, NULL};
-    size_t npos = 0;
-    int id, rc;
-    while ((id = next_option(c, p, grid_opts, 0, 1, &val)) != OPT_END) {
-        if (id == OPT_ERROR) return CLI_EXIT_USAGE;
-        if (id == OPT_POSITIONAL) {
-            if (npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
-            pos[npos++] = val;
-        }
-    }
-    action = pos[0];
-    if (action && strcmp(action, "info") && strcmp(action, "check") && strcmp(action, "upgrade"))
-        return cli_fail(c, CLI_EXIT_USAGE,
-                        "unknown action '%s'; use 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade'",
-                        action);
-    if (c->want_help) {
-        help_command("grid", stdout);
-        return 0;
-    }
+    grid_args a = {{NULL, NULL, NULL}, 0};
+    int rc = cli_parse(c, p, &grid_cmdopts, &a);
+    const char *action = a.pos[0];
+    if (rc) return rc;
     if (!action)
         return cli_fail(c, CLI_EXIT_USAGE,
                         "say 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade OLD NEW' (see hrtrail grid --help)");
@@ -489,15 +575,15 @@ int cmd_grid(cli *c, argparse *p)
         c->cmd = "grid upgrade";
         if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "--grid does not apply: give the files as 'hrtrail grid upgrade OLD NEW'");
         if (c->fmt != FMT_TABLE) return cli_fail(c, CLI_EXIT_USAGE, "--csv and --json do not apply: the command prints one line");
-        if (npos != 3)
+        if (a.npos != 3)
             return cli_fail(c, CLI_EXIT_USAGE, "give the file to convert and the file to write: hrtrail grid upgrade OLD NEW");
-        return grid_upgrade(c, pos[1], pos[2]);
+        return grid_upgrade(c, a.pos[1], a.pos[2]);
     }
     c->cmd = !strcmp(action, "info") ? "grid info" : "grid check";
-    if (npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", pos[2]);
-    if (npos == 2) {
-        if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the grid is given with --grid)", pos[1]);
-        c->grid_path = pos[1];
+    if (a.npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", a.pos[2]);
+    if (a.npos == 2) {
+        if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the grid is given with --grid)", a.pos[1]);
+        c->grid_path = a.pos[1];
     }
     if (!strcmp(action, "check")) return grid_check(c);
     if ((rc = cli_open_grid(c))) return rc;

@@ -216,6 +216,40 @@ static void report_json(const hrt_import *imp, const char *out, int dry)
     jw_finish(&w);
 }
 
+/* printf of one line whose text comes from the files: made safe for the terminal. */
+static void put_line(const char *indent, const char *label, const char *s)
+{
+    fputs(indent, stdout);
+    fputs(label, stdout);
+    text_write(stdout, s);
+    putchar('\n');
+}
+
+static void report_text_track(const hrt_import *imp, const hrt_import_track_report *r)
+{
+    printf("%-9s ", result_of(r));
+    put_line("", "", r->file);
+    if (r->status != HRT_OK) {
+        put_line("          ", "", r->message);
+        if (r->missing[0]) put_line("          ", "first keypoint not found: ", r->missing);
+    } else {
+        printf("          %.6g Msun, Z = %.6g, route ", r->initial_mass_msun, r->z);
+        text_write(stdout, hrt_import_route_name(imp, (size_t)r->route));
+        printf(", %zu rows", r->n_rows);
+        if (r->n_rows_dropped) printf(" (%zu dropped)", r->n_rows_dropped);
+        printf(", remnant %s", hrt_remnant_key(r->remnant));
+        if (isfinite(r->remnant_mass_msun)) printf(" %.4g Msun", r->remnant_mass_msun);
+        printf("\n          keypoints [Myr, line, found by]:");
+        for (size_t k = 0; k < r->n_keypoints; k++) {
+            printf("%s ", k ? "," : "");
+            text_write(stdout, hrt_import_keypoint_name(imp, (size_t)r->route, k));
+            printf(" %.6g (%ld, %s)", r->keypoint_age_yr[k] / 1e6, r->keypoint_line[k], how_name(r->keypoint_how[k]));
+        }
+        printf("\n");
+    }
+    if (r->notes[0]) put_line("          ", "notes: ", r->notes);
+}
+
 static void report_text(const hrt_import *imp, const char *out, int dry)
 {
     size_t n = hrt_import_n_tracks(imp), used = 0, trunc = 0;
@@ -228,7 +262,7 @@ static void report_text(const hrt_import *imp, const char *out, int dry)
     else
         printf("wrote %s: %zu of %zu tracks (%zu truncated), %zu dropped\n", out, used, n, trunc, n - used);
     printf("routes:");
-    for (size_t k = 0; k < hrt_import_n_routes(imp); k++) printf(" %s", hrt_import_route_name(imp, k));
+    for (size_t k = 0; k < hrt_import_n_routes(imp); k++) putchar(' '), text_write(stdout, hrt_import_route_name(imp, k));
     printf("\n");
     for (size_t iz = 0; iz < hrt_import_n_z(imp); iz++) {
         printf("Z = %-8.6g route boundaries [Msun]:", hrt_import_z(imp, iz));
@@ -236,26 +270,8 @@ static void report_text(const hrt_import *imp, const char *out, int dry)
         printf("\n");
     }
     printf("\n");
-    for (size_t i = 0; i < n; i++) {
-        if (hrt_import_track(imp, i, &r) != HRT_OK) continue;
-        printf("%-9s %s\n", result_of(&r), r.file);
-        if (r.status == HRT_OK) {
-            printf("          %.6g Msun, Z = %.6g, route %s, %zu rows", r.initial_mass_msun, r.z,
-                   hrt_import_route_name(imp, (size_t)r.route), r.n_rows);
-            if (r.n_rows_dropped) printf(" (%zu dropped)", r.n_rows_dropped);
-            printf(", remnant %s", hrt_remnant_key(r.remnant));
-            if (isfinite(r.remnant_mass_msun)) printf(" %.4g Msun", r.remnant_mass_msun);
-            printf("\n          keypoints [Myr, line, found by]:");
-            for (size_t k = 0; k < r.n_keypoints; k++)
-                printf("%s %s %.6g (%ld, %s)", k ? "," : "", hrt_import_keypoint_name(imp, (size_t)r.route, k),
-                       r.keypoint_age_yr[k] / 1e6, r.keypoint_line[k], how_name(r.keypoint_how[k]));
-            printf("\n");
-        } else {
-            printf("          %s\n", r.message);
-            if (r.missing[0]) printf("          first keypoint not found: %s\n", r.missing);
-        }
-        if (r.notes[0]) printf("          notes: %s\n", r.notes);
-    }
+    for (size_t i = 0; i < n; i++)
+        if (hrt_import_track(imp, i, &r) == HRT_OK) report_text_track(imp, &r);
 }
 
 static void report_csv(const hrt_import *imp)
@@ -289,80 +305,86 @@ static void report_csv(const hrt_import *imp)
     table_free(t);
 }
 
+typedef struct import_args {
+    hrt_import *imp;
+    const char *out;
+    int dry, nfiles;
+    double z;
+} import_args;
+
+/* Options and files in order: --z applies to the files after it. */
+static int import_take(cli *c, void *ctx, int id, const char *val)
+{
+    import_args *a = ctx;
+    hrt_error err = {0, ""};
+    double v;
+    switch (id) {
+    case O_OUT: a->out = val; return 0;
+    case O_MAP:
+        return hrt_import_map(a->imp, val, &err) == HRT_OK ? 0 : cli_fail(c, CLI_EXIT_USAGE, "--map: %s", err.message);
+    case O_MAP_FILE:
+        if (hrt_import_map_file(a->imp, val, &err) == HRT_OK) return 0;
+        return cli_fail(c, err.code == HRT_E_IO ? CLI_EXIT_FILE : CLI_EXIT_USAGE, "--map-file: %s", err.message);
+    case O_Z:
+        if (parse_number(val, &a->z) != 0 || !(a->z > 0.0 && a->z < 1.0))
+            return cli_fail(c, CLI_EXIT_USAGE, "--z %s: expected a metal mass fraction in (0, 1)", val);
+        return 0;
+    case O_Z_REF:
+        if (parse_number(val, &v) != 0 || hrt_import_set_z_ref(a->imp, v, &err) != HRT_OK)
+            return cli_fail(c, CLI_EXIT_USAGE, "--z-ref %s: expected a metal mass fraction in (0, 1)", val);
+        return 0;
+    case O_ROUTES: return read_routes(c, a->imp, val);
+    case O_KEEP: hrt_import_set_lenient(a->imp, 1); return 0;
+    case O_DRY: a->dry = 1; return 0;
+    case OPT_ARG: a->nfiles++; return add_path(c, a->imp, val, a->z);
+    default: return 0;
+    }
+}
+
+static const cmdopts import_cmdopts = {import_opts, NULL, ACCEPT_FORMAT, import_take, NULL, 0};
+
+/* A failed import: every problem, one line each, then the first as the summary. */
+static int import_failure(const cli *c, const import_args *a, int st, const hrt_error *err)
+{
+    hrt_import_track_report r;
+    for (size_t i = 0; i < hrt_import_n_tracks(a->imp); i++)
+        if (hrt_import_track(a->imp, i, &r) == HRT_OK && r.status != HRT_OK && r.status != HRT_E_NO_TRACK &&
+            strcmp(r.message, err->message) != 0)
+            cli_fail(c, 0, "%s", r.message);
+    return cli_fail(c, st == HRT_E_NOMEM ? CLI_EXIT_INTERNAL : CLI_EXIT_FILE, "%s%s", err->message,
+                    a->out && !a->dry ? " (nothing written)" : "");
+}
+
+static int import_run(cli *c, import_args *a)
+{
+    hrt_error err = {0, ""};
+    char *target = NULL;
+    int rc;
+    if (a->nfiles == 0) return cli_fail(c, CLI_EXIT_USAGE, "no track files or directories given (see hrtrail import --help)");
+    if (!a->out && !a->dry) return cli_fail(c, CLI_EXIT_USAGE, "no output file: give -o GRID.h5 (or --dry-run)");
+    /* the library writes the grid atomically beside the path it is given: a symbolic link is resolved
+     * first (the link stays), and a device or FIFO refused before any work */
+    if (!a->dry && (rc = outfile_target(c, a->out, "-o", &target))) return rc;
+    if (isatty(STDERR_FILENO)) hrt_import_set_progress(a->imp, progress, NULL);
+    int st = hrt_import_run(a->imp, a->dry ? NULL : target, &err);
+    free(target);
+    if (st != HRT_OK) return import_failure(c, a, st, &err);
+    if (c->fmt == FMT_JSON)
+        report_json(a->imp, a->out, a->dry);
+    else if (c->fmt == FMT_CSV)
+        report_csv(a->imp);
+    else
+        report_text(a->imp, a->out, a->dry);
+    return 0;
+}
+
 int cmd_import(cli *c, argparse *p)
 {
-    hrt_import *imp = NULL;
+    import_args a = {NULL, NULL, 0, 0, NAN};
     hrt_error err = {0, ""};
-    const char *val, *out = NULL;
-    int id, rc = 0, dry = 0, nfiles = 0;
-    double z = NAN;
-
-    if (hrt_import_new(&imp, &err) != HRT_OK) return cli_fail(c, CLI_EXIT_INTERNAL, "%s", err.message);
-    while (!rc && (id = next_option(c, p, import_opts, 0, 1, &val)) != OPT_END) {
-        switch (id) {
-        case OPT_ERROR: rc = CLI_EXIT_USAGE; break;
-        case O_OUT: out = val; break;
-        case O_MAP:
-            if (hrt_import_map(imp, val, &err) != HRT_OK) rc = cli_fail(c, CLI_EXIT_USAGE, "--map: %s", err.message);
-            break;
-        case O_MAP_FILE:
-            if (hrt_import_map_file(imp, val, &err) != HRT_OK)
-                rc = cli_fail(c, err.code == HRT_E_IO ? CLI_EXIT_FILE : CLI_EXIT_USAGE, "--map-file: %s", err.message);
-            break;
-        case O_Z:
-            if (parse_number(val, &z) != 0 || !(z > 0.0 && z < 1.0))
-                rc = cli_fail(c, CLI_EXIT_USAGE, "--z %s: expected a metal mass fraction in (0, 1)", val);
-            break;
-        case O_Z_REF: {
-            double v;
-            if (parse_number(val, &v) != 0 || hrt_import_set_z_ref(imp, v, &err) != HRT_OK)
-                rc = cli_fail(c, CLI_EXIT_USAGE, "--z-ref %s: expected a metal mass fraction in (0, 1)", val);
-            break;
-        }
-        case O_ROUTES: rc = read_routes(c, imp, val); break;
-        case O_KEEP: hrt_import_set_lenient(imp, 1); break;
-        case O_DRY: dry = 1; break;
-        case OPT_POSITIONAL:
-            rc = add_path(c, imp, val, z);
-            nfiles++;
-            break;
-        default: break;
-        }
-    }
-    if (!rc && c->want_help) {
-        hrt_import_free(imp);
-        help_command("import", stdout);
-        return 0;
-    }
-    if (!rc && nfiles == 0) rc = cli_fail(c, CLI_EXIT_USAGE, "no track files or directories given (see hrtrail import --help)");
-    if (!rc && !out && !dry) rc = cli_fail(c, CLI_EXIT_USAGE, "no output file: give -o GRID.h5 (or --dry-run)");
-    if (rc) {
-        hrt_import_free(imp);
-        return rc;
-    }
-    if (isatty(STDERR_FILENO)) hrt_import_set_progress(imp, progress, NULL);
-    int st = hrt_import_run(imp, dry ? NULL : out, &err);
-    if (st != HRT_OK) {
-        /* every problem, one line each, then the first as the summary */
-        hrt_import_track_report r;
-        size_t nprob = 0;
-        for (size_t i = 0; i < hrt_import_n_tracks(imp); i++)
-            if (hrt_import_track(imp, i, &r) == HRT_OK && r.status != HRT_OK && r.status != HRT_E_NO_TRACK) {
-                if (strcmp(r.message, err.message) != 0) cli_fail(c, 0, "%s", r.message);
-                nprob++;
-            }
-        rc = cli_fail(c, st == HRT_E_NOMEM ? CLI_EXIT_INTERNAL : CLI_EXIT_FILE, "%s%s", err.message,
-                      out && !dry ? " (nothing written)" : "");
-        (void)nprob;
-        hrt_import_free(imp);
-        return rc;
-    }
-    if (c->fmt == FMT_JSON)
-        report_json(imp, out, dry);
-    else if (c->fmt == FMT_CSV)
-        report_csv(imp);
-    else
-        report_text(imp, out, dry);
-    hrt_import_free(imp);
-    return 0;
+    if (hrt_import_new(&a.imp, &err) != HRT_OK) return cli_fail(c, CLI_EXIT_INTERNAL, "%s", err.message);
+    int rc = cli_parse(c, p, &import_cmdopts, &a);
+    if (rc == 0) rc = import_run(c, &a);
+    hrt_import_free(a.imp);
+    return rc;
 }

@@ -91,8 +91,10 @@ void life_print_text(const cli *c, const life *L, const char *indent)
 {
     char a[64];
     double z = hrt_star_z(L->s);
+    char *route = text_safe(cli_route_name(c, hrt_star_route(L->s)), NULL);
     printf("%sLife of a %.6g Msun star at Z = %.6g ([Fe/H] = %+.3f), route %s\n", indent, hrt_star_mass(L->s), z,
-           cli_feh(c, z), cli_route_name(c, hrt_star_route(L->s)));
+           cli_feh(c, z), route);
+    free(route);
     printf("%sKeypoints (ages since birth; '-' = not reached)\n", indent);
     char ind2[32];
     snprintf(ind2, sizeof ind2, "%s  ", indent);
@@ -139,48 +141,42 @@ void life_records_add(const cli *c, const life *L, table *t, const char *name)
     }
 }
 
+static int life_take(cli *c, void *ctx, int id, const char *val)
+{
+    return id == O_MASS ? add_mass_list(c, "--mass", val, ctx) : 0;
+}
+
+static const cmdopts life_cmdopts = {life_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, life_take,
+                                     "the star is given with --mass", 0};
+
+static void life_output(const cli *c, const life *L, size_t n)
+{
+    if (c->fmt == FMT_CSV || c->fmt == FMT_JSON) {
+        table *t = life_records_new(0);
+        for (size_t i = 0; i < n; i++) life_records_add(c, &L[i], t, NULL);
+        out_records(c, t);
+        table_free(t);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        if (i) putchar('\n');
+        life_print_text(c, &L[i], "");
+    }
+}
+
 int cmd_life(cli *c, argparse *p)
 {
     dlist ml = {0};
-    const char *val;
-    int id, rc = 0;
     double z;
     life *L = NULL;
-
-    while ((id = next_option(c, p, life_opts, 1, 1, &val)) != OPT_END) {
-        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
-        if (id == OPT_POSITIONAL) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the star is given with --mass)", val);
-            goto done;
-        }
-        if (id == O_MASS && (rc = add_mass_list(c, "--mass", val, &ml))) goto done;
+    int rc = cli_parse(c, p, &life_cmdopts, &ml);
+    if (rc == 0 && ml.n == 0) rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass M[,M...] (initial mass, Msun)");
+    if (rc == 0 && !(rc = cli_open_grid(c)) && !(rc = cli_resolve_z(c, &z))) {
+        L = xcalloc(ml.n, sizeof *L);
+        for (size_t i = 0; i < ml.n && rc == 0; i++) rc = life_build(c, ml.text[i], ml.v[i], z, &L[i]);
+        if (rc == 0) life_output(c, L, ml.n);
     }
-    if (c->want_help) { help_command("life", stdout); goto done; }
-    if (ml.n == 0) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "give --mass M[,M...] (initial mass, Msun)");
-        goto done;
-    }
-    if ((rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) goto done;
-    L = xcalloc(ml.n, sizeof *L);
-    for (size_t i = 0; i < ml.n; i++)
-        if ((rc = life_build(c, ml.text[i], ml.v[i], z, &L[i]))) goto done;
-    if (c->fmt == FMT_CSV || c->fmt == FMT_JSON) {
-        table *t = life_records_new(0);
-        for (size_t i = 0; i < ml.n; i++) life_records_add(c, &L[i], t, NULL);
-        if (c->fmt == FMT_CSV)
-            table_write_csv(t, stdout);
-        else
-            jw_records(stdout, t);
-        table_free(t);
-    } else {
-        for (size_t i = 0; i < ml.n; i++) {
-            if (i) putchar('\n');
-            life_print_text(c, &L[i], "");
-        }
-    }
-done:
-    if (L)
-        for (size_t i = 0; i < ml.n; i++) life_free(&L[i]);
+    for (size_t i = 0; L && i < ml.n; i++) life_free(&L[i]);
     free(L);
     dlist_free(&ml);
     return rc;

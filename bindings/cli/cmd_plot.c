@@ -41,14 +41,11 @@ static const char *const points_old[] = {"log_Teff_K", "log_teff_k", "log_teff",
 
 static int read_points(const cli *c, plot *pl, const char *path)
 {
+    static const csvnames names = {points_known, points_old, POINTS_COLUMNS, CLI_EXIT_FILE};
     csvfile f;
-    const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
-    int rc = csv_read(c, path, &f);
+    const char *shown = csv_shown(path);
+    int rc = csv_read_named(c, path, &names, &f);
     if (rc) return rc;
-    if ((rc = csv_check_header(c, &f, shown, CLI_EXIT_FILE, points_known, points_old, POINTS_COLUMNS))) {
-        csv_free(&f);
-        return rc;
-    }
     long ct = csv_column(&f, "log_teff_k"), cl = csv_column(&f, "log_l_lsun");
     long cn = csv_column(&f, "name"), cp = csv_column(&f, "phase");
     if (ct < 0 || cl < 0) {
@@ -72,85 +69,91 @@ static int read_points(const cli *c, plot *pl, const char *path)
     return rc;
 }
 
+typedef struct plot_args {
+    dlist tl, il;
+    const char *points, *title, *out;
+    plot pl;
+} plot_args;
+
+static int plot_take(cli *c, void *ctx, int id, const char *val)
+{
+    plot_args *a = ctx;
+    int rc = 0;
+    switch (id) {
+    case O_TRACK: return add_mass_list(c, "--track", val, &a->tl);
+    case O_ISO: return add_age_list(c, "--isochrone", val, &a->il);
+    case O_POINTS: a->points = val; return 0;
+    case O_TITLE: a->title = val; return 0;
+    case O_OUT: a->out = val; return 0;
+    case O_XRANGE:
+        if (!(rc = parse_range(c, "--log-teff", val, &a->pl.xlo, &a->pl.xhi))) a->pl.have_xrange = 1;
+        return rc;
+    case O_YRANGE:
+        if (!(rc = parse_range(c, "--log-l", val, &a->pl.ylo, &a->pl.yhi))) a->pl.have_yrange = 1;
+        return rc;
+    default: return 0;
+    }
+}
+
+static const cmdopts plot_cmdopts = {plot_opts, NULL, ACCEPT_Z, plot_take, "the output file is given with -o FILE", 0};
+
+/* The tracks and isochrones of the options, at the metallicity of the options. */
+static int plot_grid_lines(cli *c, plot_args *a, char *subtitle, size_t n)
+{
+    double z;
+    int rc;
+    if ((rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) return rc;
+    for (size_t i = 0; i < a->tl.n; i++) {
+        hrt_star *s = NULL;
+        char label[96];
+        if ((rc = cli_new_star(c, a->tl.text[i], a->tl.v[i], z, &s))) return rc;
+        snprintf(label, sizeof label, "%.4g Msun", a->tl.v[i]);
+        rc = plot_add_track(c, &a->pl, s, label);
+        hrt_star_free(s);
+        if (rc) return rc;
+    }
+    for (size_t i = 0; i < a->il.n; i++) {
+        char age[64], who[96];
+        format_age(age, sizeof age, a->il.v[i]);
+        int st = plot_add_isochrone(c, &a->pl, a->il.v[i], z, age);
+        if (st != HRT_OK) {
+            snprintf(who, sizeof who, "--isochrone %s", a->il.text[i]);
+            return cli_star_failure(c, who, st, NAN, z, a->il.v[i], NULL);
+        }
+    }
+    snprintf(subtitle, n, "Z = %.6g ([Fe/H] = %+.2f); grid %s, %s interpolation%s%s", z, cli_feh(c, z), c->grid_used,
+             hrt_interp_name(c->interp), a->points ? "; points from " : "", a->points ? csv_shown(a->points) : "");
+    return 0;
+}
+
+static int plot_run(cli *c, plot_args *a)
+{
+    char subtitle[512];
+    int rc;
+    if (!a->tl.n && !a->il.n && !a->points)
+        return cli_fail(c, CLI_EXIT_USAGE, "nothing to draw: give --track M[,M...], --isochrone AGE[,AGE...] or --points FILE");
+    for (size_t i = 0; i < a->il.n; i++)
+        if (!(a->il.v[i] > 0))
+            return cli_fail(c, CLI_EXIT_USAGE, "--isochrone %s: an isochrone needs an age > 0", a->il.text[i]);
+    if (a->points && (rc = read_points(c, &a->pl, a->points))) return rc;
+    snprintf(subtitle, sizeof subtitle, "points from %s", a->points ? csv_shown(a->points) : "");
+    if ((a->tl.n || a->il.n) && (rc = plot_grid_lines(c, a, subtitle, sizeof subtitle))) return rc;
+    if (a->pl.npoints == 0 && a->tl.n == 0 && a->il.n == 0)
+        return cli_fail(c, CLI_EXIT_FILE, "%s: no star with a finite log_teff_k and log_l_lsun to plot", csv_shown(a->points));
+    a->pl.title = a->title ? a->title : "Hertzsprung-Russell diagram";
+    a->pl.subtitle = subtitle;
+    return plot_save(c, &a->pl, a->out);
+}
+
 int cmd_plot(cli *c, argparse *p)
 {
-    dlist tl = {0}, il = {0};
-    const char *val, *points = NULL, *title = NULL, *out = NULL;
-    int id, rc = 0;
-    double z = NAN;
-    plot pl;
-    char subtitle[512], label[96];
-    hrt_star *s = NULL;
-
-    plot_init(&pl);
-    while ((id = next_option(c, p, plot_opts, 1, 0, &val)) != OPT_END) {
-        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
-        if (id == OPT_POSITIONAL) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the output file is given with -o FILE)", val);
-            goto done;
-        }
-        if (id == O_TRACK && (rc = add_mass_list(c, "--track", val, &tl))) goto done;
-        if (id == O_ISO && (rc = add_age_list(c, "--isochrone", val, &il))) goto done;
-        if (id == O_POINTS) points = val;
-        if (id == O_TITLE) title = val;
-        if (id == O_OUT) out = val;
-        if (id == O_XRANGE) {
-            if ((rc = parse_range(c, "--log-teff", val, &pl.xlo, &pl.xhi))) goto done;
-            pl.have_xrange = 1;
-        }
-        if (id == O_YRANGE) {
-            if ((rc = parse_range(c, "--log-l", val, &pl.ylo, &pl.yhi))) goto done;
-            pl.have_yrange = 1;
-        }
-    }
-    if (c->want_help) { help_command("plot", stdout); goto done; }
-    if (!tl.n && !il.n && !points) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "nothing to draw: give --track M[,M...], --isochrone AGE[,AGE...] or --points FILE");
-        goto done;
-    }
-    for (size_t i = 0; i < il.n; i++)
-        if (!(il.v[i] > 0)) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--isochrone %s: an isochrone needs an age > 0", il.text[i]);
-            goto done;
-        }
-    if (points && (rc = read_points(c, &pl, points))) goto done;
-    snprintf(subtitle, sizeof subtitle, "points from %s", points ? (strcmp(points, "-") ? points : "standard input") : "");
-    if (tl.n || il.n) {
-        if ((rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) goto done;
-        for (size_t i = 0; i < tl.n; i++) {
-            if ((rc = cli_new_star(c, tl.text[i], tl.v[i], z, &s))) goto done;
-            snprintf(label, sizeof label, "%.4g Msun", tl.v[i]);
-            if ((rc = plot_add_track(c, &pl, s, label))) goto done;
-            hrt_star_free(s);
-            s = NULL;
-        }
-        for (size_t i = 0; i < il.n; i++) {
-            char age[64];
-            format_age(age, sizeof age, il.v[i]);
-            int st = plot_add_isochrone(c, &pl, il.v[i], z, age);
-            if (st != HRT_OK) {
-                char who[96];
-                snprintf(who, sizeof who, "--isochrone %s", il.text[i]);
-                rc = cli_star_failure(c, who, st, NAN, z, il.v[i], NULL);
-                goto done;
-            }
-        }
-        snprintf(subtitle, sizeof subtitle, "Z = %.6g ([Fe/H] = %+.2f); grid %s, %s interpolation%s%s", z, cli_feh(c, z),
-                 c->grid_used, hrt_interp_name(c->interp), points ? "; points from " : "",
-                 points ? (strcmp(points, "-") ? points : "standard input") : "");
-    }
-    if (pl.npoints == 0 && tl.n == 0 && il.n == 0) {
-        rc = cli_fail(c, CLI_EXIT_FILE, "%s: no star with a finite log_teff_k and log_l_lsun to plot",
-                      strcmp(points, "-") ? points : "standard input");
-        goto done;
-    }
-    pl.title = title ? title : "Hertzsprung-Russell diagram";
-    pl.subtitle = subtitle;
-    rc = plot_save(c, &pl, out);
-done:
-    hrt_star_free(s);
-    plot_free(&pl);
-    dlist_free(&tl);
-    dlist_free(&il);
+    plot_args a;
+    memset(&a, 0, sizeof a);
+    plot_init(&a.pl);
+    int rc = cli_parse(c, p, &plot_cmdopts, &a);
+    if (rc == 0) rc = plot_run(c, &a);
+    plot_free(&a.pl);
+    dlist_free(&a.tl);
+    dlist_free(&a.il);
     return rc;
 }

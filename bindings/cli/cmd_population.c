@@ -5,7 +5,6 @@
  * with an HR-diagram density as SVG.  The library does the work in chunks;
  * this command prints progress between chunks when stderr is a terminal.
  */
-#include <errno.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -55,16 +54,6 @@ static const col rec_cols[] = {
     {"l_lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
 };
 #define N_REC_COLS (sizeof rec_cols / sizeof rec_cols[0])
-static const col rec_cols_text[N_REC_COLS] = {
-    {"age_yr", NULL, COL_NUM, NULL, 0},
-    {"record", NULL, COL_TEXT, NULL, 0},
-    {"key", "", COL_TEXT, NULL, 0},
-    {"stars", "stars", COL_NUM, "%.0f", 0},
-    {"fraction", "fraction", COL_NUM, "%.5f", 0},
-    {"initial_mass_msun", "initial mass [Msun]", COL_NUM, "%.6g", 0},
-    {"mass_msun", "mass now [Msun]", COL_NUM, "%.6g", 0},
-    {"l_lsun", "L [Lsun]", COL_NUM, "%.6g", 0},
-};
 
 static void add_rec(table *t, double age, const char *record, const char *key, uint64_t n, uint64_t of, double m0,
                     double m, double l)
@@ -120,7 +109,10 @@ void pop_print_text(const hrt_pop_summary *s, FILE *f, const char *indent)
                 (unsigned long long)(s->n_drawn - s->n_unborn - s->n_evaluated), hrt_pop_sum_value(&s->failed_initial_mass_msun));
     fprintf(f, "\n\n");
     /* the human tables drop the age column: it is in the heading */
-    ph->cols = rem->cols = rec_cols_text;
+    col text_cols[N_REC_COLS];
+    memcpy(text_cols, rec_cols, sizeof text_cols);
+    text_cols[0].head = NULL;
+    ph->cols = rem->cols = text_cols;
     table_write_text(ph, f, indent);
     fputc('\n', f);
     table_write_text(rem, f, indent);
@@ -183,45 +175,14 @@ void pop_json(const hrt_pop_summary *s, jw *w, int with_hr)
 /* Sequential palette, light to dark (hrtrail's own), indexed by log count. */
 static const char palette[8][8] = {"#f3eed9", "#dcd6a8", "#b9c98a", "#86b27c", "#5a9478", "#3b7272", "#2c4f68", "#221f4f"};
 
-/*
- * The HR diagram of plot p (axes, isochrone, legend from svg.c) with the
- * summary's histogram drawn under it: the SVG is written to memory by
- * plot_write_svg and the density layer inserted inside its clipped plot
- * area, placed by the plot-area rectangle's data attributes.
- */
-int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const char *path)
-{
-    char *buf = NULL;
-    size_t len = 0;
-    FILE *m = open_memstream(&buf, &len);
-    if (!m) return cli_fail(c, CLI_EXIT_INTERNAL, "out of memory for the SVG");
-    p->have_xrange = p->have_yrange = 1;
-    p->xlo = s->hr.log_teff_k_lo, p->xhi = s->hr.log_teff_k_hi, p->ylo = s->hr.log_l_lsun_lo, p->yhi = s->hr.log_l_lsun_hi;
-    int bad = plot_write_svg(p, m);
-    fclose(m);
-    const char *area = buf ? strstr(buf, "<rect id=\"plot-area\"") : NULL, *clip = buf ? strstr(buf, "<g clip-path=\"url(#area)\">\n") : NULL;
+/* Where the plot area of the SVG lies: its data ranges and its box. */
+typedef struct area {
     double tl, tr, lb, lt, x0, y0, w, h;
-    if (bad || !area || !clip ||
-        sscanf(area, "<rect id=\"plot-area\" data-log-teff-left=\"%lf\" data-log-teff-right=\"%lf\" data-log-l-bottom=\"%lf\" "
-                     "data-log-l-top=\"%lf\" x=\"%lf\" y=\"%lf\" width=\"%lf\" height=\"%lf\"",
-               &tl, &tr, &lb, &lt, &x0, &y0, &w, &h) != 8) {
-        free(buf);
-        return cli_fail(c, CLI_EXIT_INTERNAL, "cannot lay out the density SVG");
-    }
-    size_t n = strlen(path) + 16;
-    char *tmp = xmalloc(n);
-    snprintf(tmp, n, "%s.tmp", path);
-    FILE *f = strcmp(path, "-") ? fopen(tmp, "w") : stdout;
-    if (!f) {
-        int e = errno;
-        free(buf);
-        free(tmp);
-        return cli_fail(c, CLI_EXIT_FILE, "cannot write '%s': %s", path, strerror(e));
-    }
-    const char *after = clip + strlen("<g clip-path=\"url(#area)\">\n");
-    fwrite(buf, 1, (size_t)(after - buf), f);
-    uint64_t cmax = 0;
-    for (uint64_t k = 0; k < s->hr.nx * s->hr.ny; k++) cmax = s->hr_count[k] > cmax ? s->hr_count[k] : cmax;
+} area;
+
+/* The density layer: a rectangle per non-empty bin, coloured by log count. */
+static void density_layer(FILE *f, const hrt_pop_summary *s, const area *A, uint64_t cmax)
+{
     double bw = (s->hr.log_teff_k_hi - s->hr.log_teff_k_lo) / (double)s->hr.nx;
     double bh = (s->hr.log_l_lsun_hi - s->hr.log_l_lsun_lo) / (double)s->hr.ny;
     fprintf(f, "<g id=\"density\" data-max-count=\"%llu\">\n", (unsigned long long)cmax);
@@ -230,8 +191,8 @@ int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const
             uint64_t k = s->hr_count[iy * s->hr.nx + ix];
             if (!k) continue;
             double t_hi = s->hr.log_teff_k_lo + (double)(ix + 1) * bw, l_hi = s->hr.log_l_lsun_lo + (double)(iy + 1) * bh;
-            double px = x0 + (tl - t_hi) / (tl - tr) * w, py = y0 + (lt - l_hi) / (lt - lb) * h;
-            double pw = bw / (tl - tr) * w, phh = bh / (lt - lb) * h;
+            double px = A->x0 + (A->tl - t_hi) / (A->tl - A->tr) * A->w, py = A->y0 + (A->lt - l_hi) / (A->lt - A->lb) * A->h;
+            double pw = bw / (A->tl - A->tr) * A->w, phh = bh / (A->lt - A->lb) * A->h;
             int ci = cmax > 1 ? (int)floor(7.999 * log((double)k) / log((double)cmax)) : 7;
             fprintf(f, "<rect class=\"density\" data-count=\"%llu\" data-log-teff=\"%.6g\" data-log-l=\"%.6g\" x=\"%.2f\" "
                        "y=\"%.2f\" width=\"%.2f\" height=\"%.2f\" fill=\"%s\"/>\n",
@@ -239,10 +200,11 @@ int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const
                     palette[ci < 0 ? 0 : ci]);
         }
     fprintf(f, "</g>\n");
-    /* everything else, with a colour scale before the closing tag */
-    const char *end = strstr(after, "</svg>");
-    fwrite(after, 1, end ? (size_t)(end - after) : strlen(after), f);
-    double kx = x0 + w + 22, ky = y0 + h - 150;
+}
+
+static void density_scale(FILE *f, const area *A, uint64_t cmax)
+{
+    double kx = A->x0 + A->w + 22, ky = A->y0 + A->h - 150;
     fprintf(f, "<g id=\"density-scale\" font-size=\"11\" fill=\"#1a1a1a\">\n<text x=\"%.1f\" y=\"%.1f\" font-weight=\"bold\">"
                "Stars per bin</text>\n", kx, ky);
     for (int i = 0; i < 8; i++) {
@@ -252,23 +214,49 @@ int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const
                 kx, ky + 8 + 15.0 * i, palette[i], kx + 22, ky + 19 + 15.0 * i, i ? "\xe2\x89\xa5 " : "", i ? ceil(lo) : 1.0);
     }
     fprintf(f, "</g>\n</svg>\n");
+}
+
+/*
+ * The HR diagram of plot p (axes, isochrone, legend from svg.c) with the
+ * summary's histogram drawn under it: the SVG is written to memory by
+ * plot_write_svg and the density layer inserted inside its clipped plot
+ * area, placed by the plot-area rectangle's data attributes.
+ */
+int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const char *path)
+{
+    static const char clip_tag[] = "<g clip-path=\"url(#area)\">\n";
+    char *buf = NULL;
+    size_t len = 0;
+    area A;
+    outfile o;
+    FILE *m = open_memstream(&buf, &len);
+    if (!m) return cli_fail(c, CLI_EXIT_INTERNAL, "out of memory for the SVG");
+    p->have_xrange = p->have_yrange = 1;
+    p->xlo = s->hr.log_teff_k_lo, p->xhi = s->hr.log_teff_k_hi, p->ylo = s->hr.log_l_lsun_lo, p->yhi = s->hr.log_l_lsun_hi;
+    int bad = plot_write_svg(p, m);
+    fclose(m);
+    const char *rect = buf ? strstr(buf, "<rect id=\"plot-area\"") : NULL, *clip = buf ? strstr(buf, clip_tag) : NULL;
+    if (bad || !rect || !clip ||
+        sscanf(rect, "<rect id=\"plot-area\" data-log-teff-left=\"%lf\" data-log-teff-right=\"%lf\" data-log-l-bottom=\"%lf\" "
+                     "data-log-l-top=\"%lf\" x=\"%lf\" y=\"%lf\" width=\"%lf\" height=\"%lf\"",
+               &A.tl, &A.tr, &A.lb, &A.lt, &A.x0, &A.y0, &A.w, &A.h) != 8) {
+        free(buf);
+        return cli_fail(c, CLI_EXIT_INTERNAL, "cannot lay out the density SVG");
+    }
+    int rc = outfile_open(c, &o, path);
+    if (rc == 0) {
+        const char *after = clip + strlen(clip_tag), *end = strstr(after, "</svg>");
+        uint64_t cmax = 0;
+        for (uint64_t k = 0; k < s->hr.nx * s->hr.ny; k++) cmax = s->hr_count[k] > cmax ? s->hr_count[k] : cmax;
+        fwrite(buf, 1, (size_t)(after - buf), o.f);
+        density_layer(o.f, s, &A, cmax);
+        /* everything else, with a colour scale before the closing tag */
+        fwrite(after, 1, end ? (size_t)(end - after) : strlen(after), o.f);
+        density_scale(o.f, &A, cmax);
+        rc = outfile_close(c, &o); /* a failed write shows here */
+    }
     free(buf);
-    if (f == stdout) {
-        free(tmp);
-        return fflush(stdout) ? cli_fail(c, CLI_EXIT_FILE, "cannot write the SVG to standard output") : 0;
-    }
-    int e = 0;
-    bad = ferror(f) != 0;
-    if (bad) e = errno;
-    if (fclose(f) != 0 && !bad) bad = 1, e = errno;
-    if (!bad && rename(tmp, path) != 0) bad = 1, e = errno;
-    if (bad) {
-        remove(tmp);
-        free(tmp);
-        return cli_fail(c, CLI_EXIT_FILE, "cannot write '%s': %s", path, strerror(e));
-    }
-    free(tmp);
-    return 0;
+    return rc;
 }
 
 /* Run the population in pieces, with progress on stderr when it is a terminal. */
@@ -326,238 +314,293 @@ static int read_sfh_table(const cli *c, const char *path, dlist *t, dlist *r)
     return 0;
 }
 
-int cmd_population(cli *c, argparse *p)
+/* ------------------------------------------------------------- the command */
+
+typedef struct pop_args {
+    const char *out, *imf_name, *sfh_name, *table_path;
+    int threads, z_uniform, have_range, have_zr;
+    double n_stars, alpha, m_lo, m_hi, t_from, t_to, tau, spread, z_lo, z_hi, seedv;
+    hrt_pop_hr hr;
+    dlist ages, tt, tr; /* the ages; the SFH table's times and rates */
+    /* what the run made of them */
+    int imf, sfh;
+    double z;
+    hrt_pop_spec spec;
+} pop_args;
+
+static int pop_take_hr_bins(cli *c, pop_args *a, const char *val)
 {
-    const char *val, *out = NULL, *imf_name = "kroupa2001", *sfh_name = "burst", *table_path = NULL;
-    int id, rc = 0, threads = 0, z_uniform = 0, have_range = 0, have_zr = 0;
-    double n_stars = 0, alpha = NAN, m_lo = 0.08, m_hi = 100, t_from = 0, t_to = NAN, tau = NAN, spread = NAN;
-    double z_lo = NAN, z_hi = NAN, seedv = 1;
-    hrt_pop_hr hr = {3.3, 4.9, -5.0, 6.5, 64, 64};
-    dlist ages = {0}, tt = {0}, tr = {0};
-    hrt_pop_summary *sums = NULL;
+    long nx, ny;
+    char tmp[64];
+    const char *cm = strchr(val, ',');
+    if (!cm || (size_t)(cm - val) >= sizeof tmp) return cli_fail(c, CLI_EXIT_USAGE, "--hr-bins '%s': expected NX,NY", val);
+    memcpy(tmp, val, (size_t)(cm - val));
+    tmp[cm - val] = 0;
+    if (parse_count(tmp, 1, 10000, &nx) || parse_count(cm + 1, 1, 10000, &ny) || nx * ny > HRT_POP_HR_MAX_BINS)
+        return cli_fail(c, CLI_EXIT_USAGE, "--hr-bins '%s': expected NX,NY with NX x NY <= %d", val, HRT_POP_HR_MAX_BINS);
+    a->hr.nx = (uint64_t)nx, a->hr.ny = (uint64_t)ny;
+    return 0;
+}
+
+/* A time option: --sfh-from, --sfh-to, --tau. */
+static int pop_take_time(cli *c, const char *opt, const char *val, double *t, const char *example)
+{
+    if (parse_age_yr(val, t)) return cli_fail(c, CLI_EXIT_USAGE, "%s '%s': expected a time, e.g. %s", opt, val, example);
+    return 0;
+}
+
+static int pop_take_number(cli *c, pop_args *a, int id, const char *val)
+{
+    long v;
+    switch (id) {
+    case O_STARS:
+        if (parse_number(val, &a->n_stars) || !(a->n_stars >= 1 && a->n_stars <= 1e15) || a->n_stars != floor(a->n_stars))
+            return cli_fail(c, CLI_EXIT_USAGE, "--stars '%s': expected a whole number from 1 to 1e15, e.g. 1e8", val);
+        return 0;
+    case O_ALPHA:
+        return parse_number(val, &a->alpha) ? cli_fail(c, CLI_EXIT_USAGE, "--alpha '%s': expected a number", val) : 0;
+    case O_SEED:
+        if (parse_number(val, &a->seedv) || !(a->seedv >= 0 && a->seedv < 1.8e19) || a->seedv != floor(a->seedv))
+            return cli_fail(c, CLI_EXIT_USAGE, "--seed '%s': expected a whole number >= 0", val);
+        return 0;
+    case O_THREADS:
+        if (parse_count(val, 0, 4096, &v)) return cli_fail(c, CLI_EXIT_USAGE, "--threads '%s': expected 0 (all) to 4096", val);
+        a->threads = (int)v;
+        return 0;
+    default: /* O_FEH_SPREAD */
+        if (parse_number(val, &a->spread) || !(a->spread > 0))
+            return cli_fail(c, CLI_EXIT_USAGE, "--feh-spread '%s': expected a spread in dex > 0", val);
+        return 0;
+    }
+}
+
+static int pop_take(cli *c, void *ctx, int id, const char *val)
+{
+    pop_args *a = ctx;
+    switch (id) {
+    case O_STARS: case O_ALPHA: case O_SEED: case O_THREADS: case O_FEH_SPREAD: return pop_take_number(c, a, id, val);
+    case O_IMF: a->imf_name = val; return 0;
+    case O_MASS_RANGE: a->have_range = 1; return parse_pair(c, "--mass-range", val, &a->m_lo, &a->m_hi, 0);
+    case O_SFH: a->sfh_name = val; return 0;
+    case O_SFH_FROM: return pop_take_time(c, "--sfh-from", val, &a->t_from, "2Gyr");
+    case O_SFH_TO: return pop_take_time(c, "--sfh-to", val, &a->t_to, "10Gyr");
+    case O_TAU: return pop_take_time(c, "--tau", val, &a->tau, "3Gyr");
+    case O_SFH_TABLE: a->table_path = val, a->sfh_name = "table"; return 0;
+    case O_AGE: return add_age_list(c, "--age", val, &a->ages);
+    case O_Z_RANGE: a->have_zr = 1; return parse_pair(c, "--z-range", val, &a->z_lo, &a->z_hi, 0);
+    case O_Z_UNIFORM: a->z_uniform = 1; return 0;
+    case O_HR_BINS: return pop_take_hr_bins(c, a, val);
+    case O_LOG_TEFF: return parse_pair(c, "--log-teff", val, &a->hr.log_teff_k_lo, &a->hr.log_teff_k_hi, 0);
+    case O_LOG_L: return parse_pair(c, "--log-l", val, &a->hr.log_l_lsun_lo, &a->hr.log_l_lsun_hi, 0);
+    case O_OUT: a->out = val; return 0;
+    default: return 0;
+    }
+}
+
+static const cmdopts pop_cmdopts = {pop_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, pop_take, "", 0};
+
+/* What is required and the names of the IMF and the SFH. */
+static int pop_check(const cli *c, pop_args *a)
+{
+    if (a->n_stars == 0) return cli_fail(c, CLI_EXIT_USAGE, "--stars N is required, e.g. --stars 1e6");
+    if (a->ages.n == 0) return cli_fail(c, CLI_EXIT_USAGE, "--age AGE[,AGE...] is required, e.g. --age 1Gyr,10Gyr");
+    a->imf = hrt_imf_from_name(a->imf_name);
+    a->sfh = hrt_sfh_from_name(a->sfh_name);
+    if (a->imf < 0)
+        return cli_fail(c, CLI_EXIT_USAGE, "--imf '%s': one of salpeter1955, kroupa2001, chabrier2003, powerlaw", a->imf_name);
+    if (a->imf == HRT_IMF_POWER_LAW && isnan(a->alpha))
+        return cli_fail(c, CLI_EXIT_USAGE, "--imf powerlaw needs --alpha A (dN/dm ~ m^-A)");
+    if (a->sfh < 0)
+        return cli_fail(c, CLI_EXIT_USAGE, "--sfh '%s': one of burst, constant, exponential, table", a->sfh_name);
+    return 0;
+}
+
+/* The population's specification from the options and the grid. */
+static int pop_spec(cli *c, pop_args *a)
+{
+    hrt_pop_spec *spec = &a->spec;
+    hrt_error err;
+    double gl, gh, gzl, gzh;
+    int rc;
+    hrt_pop_spec_default(spec);
+    spec->n_stars = (uint64_t)a->n_stars;
+    spec->seed = (uint64_t)a->seedv;
+    if ((rc = cli_resolve_z(c, &a->z))) return rc;
+    if (hrt_grid_mass_range(c->grid, a->z, &gl, &gh) == HRT_OK && !a->have_range) {
+        a->m_lo = fmax(a->m_lo, gl);
+        a->m_hi = fmin(a->m_hi, gh);
+    }
+    if (hrt_imf_init(&spec->imf, a->imf, a->m_lo, a->m_hi, a->alpha, &err) != HRT_OK)
+        return cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
+    spec->sfh.kind = a->sfh;
+    spec->sfh.t_start_yr = a->t_from;
+    spec->sfh.t_end_yr = isnan(a->t_to) ? a->ages.v[a->ages.n - 1] : a->t_to;
+    spec->sfh.tau_yr = a->tau;
+    if (a->sfh == HRT_SFH_TABLE) {
+        if (!a->table_path) return cli_fail(c, CLI_EXIT_USAGE, "--sfh table needs --sfh-table FILE (CSV with t_yr and rate)");
+        if ((rc = read_sfh_table(c, a->table_path, &a->tt, &a->tr))) return rc;
+        spec->sfh.n_table = a->tt.n;
+        spec->sfh.table_t_yr = a->tt.v;
+        spec->sfh.table_rate = a->tr.v;
+    }
+    hrt_grid_z_range(c->grid, &gzl, &gzh);
+    if (!a->have_zr) a->z_lo = gzl, a->z_hi = gzh;
+    if (a->z_uniform) {
+        spec->zdist.kind = HRT_ZDIST_LOG_UNIFORM;
+    } else if (!isnan(a->spread)) {
+        spec->zdist.kind = HRT_ZDIST_LOG_NORMAL;
+        spec->zdist.sigma_dex = a->spread;
+    }
+    spec->zdist.z = a->z;
+    spec->zdist.z_lo = a->z_lo;
+    spec->zdist.z_hi = a->z_hi;
+    if (hrt_pop_spec_check(spec, &err) != HRT_OK) return cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
+    return 0;
+}
+
+/* The HR-diagram density at the first age (-o). */
+static int pop_svg(cli *c, const pop_args *a, const hrt_pop_summary *first)
+{
+    char title[200], sub[300], agebuf[64];
     plot pl;
     plot_init(&pl);
-    while ((id = next_option(c, p, pop_opts, 1, 1, &val)) != OPT_END) {
-        switch (id) {
-        case OPT_ERROR: rc = CLI_EXIT_USAGE; goto done;
-        case OPT_POSITIONAL: rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val); goto done;
-        case O_STARS:
-            if (parse_number(val, &n_stars) || !(n_stars >= 1 && n_stars <= 1e15) || n_stars != floor(n_stars)) {
-                rc = cli_fail(c, CLI_EXIT_USAGE, "--stars '%s': expected a whole number from 1 to 1e15, e.g. 1e8", val);
-                goto done;
-            }
-            break;
-        case O_IMF: imf_name = val; break;
-        case O_ALPHA:
-            if (parse_number(val, &alpha)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--alpha '%s': expected a number", val); goto done; }
-            break;
-        case O_MASS_RANGE:
-            if ((rc = parse_pair(c, "--mass-range", val, &m_lo, &m_hi, 0))) goto done;
-            have_range = 1;
-            break;
-        case O_SFH: sfh_name = val; break;
-        case O_SFH_FROM:
-            if (parse_age_yr(val, &t_from)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh-from '%s': expected a time, e.g. 2Gyr", val); goto done; }
-            break;
-        case O_SFH_TO:
-            if (parse_age_yr(val, &t_to)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh-to '%s': expected a time, e.g. 10Gyr", val); goto done; }
-            break;
-        case O_TAU:
-            if (parse_age_yr(val, &tau)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--tau '%s': expected a time, e.g. 3Gyr", val); goto done; }
-            break;
-        case O_SFH_TABLE: table_path = val; sfh_name = "table"; break;
-        case O_AGE:
-            if ((rc = add_age_list(c, "--age", val, &ages))) goto done;
-            break;
-        case O_SEED:
-            if (parse_number(val, &seedv) || !(seedv >= 0 && seedv < 1.8e19) || seedv != floor(seedv)) {
-                rc = cli_fail(c, CLI_EXIT_USAGE, "--seed '%s': expected a whole number >= 0", val);
-                goto done;
-            }
-            break;
-        case O_THREADS: {
-            long v;
-            if (parse_count(val, 0, 4096, &v)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--threads '%s': expected 0 (all) to 4096", val); goto done; }
-            threads = (int)v;
-            break;
-        }
-        case O_FEH_SPREAD:
-            if (parse_number(val, &spread) || !(spread > 0)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--feh-spread '%s': expected a spread in dex > 0", val); goto done; }
-            break;
-        case O_Z_RANGE:
-            if ((rc = parse_pair(c, "--z-range", val, &z_lo, &z_hi, 0))) goto done;
-            have_zr = 1;
-            break;
-        case O_Z_UNIFORM: z_uniform = 1; break;
-        case O_HR_BINS: {
-            long nx, ny;
-            char tmp[64];
-            const char *cm = strchr(val, ',');
-            if (!cm || (size_t)(cm - val) >= sizeof tmp) { rc = cli_fail(c, CLI_EXIT_USAGE, "--hr-bins '%s': expected NX,NY", val); goto done; }
-            memcpy(tmp, val, (size_t)(cm - val));
-            tmp[cm - val] = 0;
-            if (parse_count(tmp, 1, 10000, &nx) || parse_count(cm + 1, 1, 10000, &ny) || nx * ny > HRT_POP_HR_MAX_BINS) {
-                rc = cli_fail(c, CLI_EXIT_USAGE, "--hr-bins '%s': expected NX,NY with NX x NY <= %d", val, HRT_POP_HR_MAX_BINS);
-                goto done;
-            }
-            hr.nx = (uint64_t)nx, hr.ny = (uint64_t)ny;
-            break;
-        }
-        case O_LOG_TEFF:
-            if ((rc = parse_pair(c, "--log-teff", val, &hr.log_teff_k_lo, &hr.log_teff_k_hi, 0))) goto done;
-            break;
-        case O_LOG_L:
-            if ((rc = parse_pair(c, "--log-l", val, &hr.log_l_lsun_lo, &hr.log_l_lsun_hi, 0))) goto done;
-            break;
-        case O_OUT: out = val; break;
-        }
-    }
-    if (c->want_help) { help_command("population", stdout); goto done; }
-    if (n_stars == 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--stars N is required, e.g. --stars 1e6"); goto done; }
-    if (ages.n == 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--age AGE[,AGE...] is required, e.g. --age 1Gyr,10Gyr"); goto done; }
-    int imf = hrt_imf_from_name(imf_name), sfh = hrt_sfh_from_name(sfh_name);
-    if (imf < 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--imf '%s': one of salpeter1955, kroupa2001, chabrier2003, powerlaw", imf_name); goto done; }
-    if (imf == HRT_IMF_POWER_LAW && isnan(alpha)) { rc = cli_fail(c, CLI_EXIT_USAGE, "--imf powerlaw needs --alpha A (dN/dm ~ m^-A)"); goto done; }
-    if (sfh < 0) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh '%s': one of burst, constant, exponential, table", sfh_name); goto done; }
-    if ((rc = cli_open_grid(c))) goto done;
-
-    hrt_pop_spec spec;
-    hrt_error err;
-    hrt_pop_spec_default(&spec);
-    spec.n_stars = (uint64_t)n_stars;
-    spec.seed = (uint64_t)seedv;
-    double z;
-    if ((rc = cli_resolve_z(c, &z))) goto done;
-    double gl, gh;
-    if (hrt_grid_mass_range(c->grid, z, &gl, &gh) == HRT_OK && !have_range) {
-        m_lo = fmax(m_lo, gl);
-        m_hi = fmin(m_hi, gh);
-    }
-    int st = hrt_imf_init(&spec.imf, imf, m_lo, m_hi, alpha, &err);
-    if (st != HRT_OK) { rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message); goto done; }
-    spec.sfh.kind = sfh;
-    spec.sfh.t_start_yr = t_from;
-    spec.sfh.t_end_yr = isnan(t_to) ? ages.v[ages.n - 1] : t_to;
-    spec.sfh.tau_yr = tau;
-    if (sfh == HRT_SFH_TABLE) {
-        if (!table_path) { rc = cli_fail(c, CLI_EXIT_USAGE, "--sfh table needs --sfh-table FILE (CSV with t_yr and rate)"); goto done; }
-        if ((rc = read_sfh_table(c, table_path, &tt, &tr))) goto done;
-        spec.sfh.n_table = tt.n;
-        spec.sfh.table_t_yr = tt.v;
-        spec.sfh.table_rate = tr.v;
-    }
-    double gzl, gzh;
-    hrt_grid_z_range(c->grid, &gzl, &gzh);
-    if (!have_zr) z_lo = gzl, z_hi = gzh;
-    if (z_uniform) {
-        spec.zdist.kind = HRT_ZDIST_LOG_UNIFORM;
-    } else if (!isnan(spread)) {
-        spec.zdist.kind = HRT_ZDIST_LOG_NORMAL;
-        spec.zdist.sigma_dex = spread;
-    }
-    spec.zdist.z = z;
-    spec.zdist.z_lo = z_lo;
-    spec.zdist.z_hi = z_hi;
-    if ((st = hrt_pop_spec_check(&spec, &err)) != HRT_OK) { rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message); goto done; }
-
-    sums = xmalloc(ages.n * sizeof *sums);
-    for (size_t i = 0; i < ages.n; i++)
-        if ((st = hrt_pop_summary_init(&sums[i], ages.v[i], &hr, &err)) != HRT_OK) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
-            goto done;
-        }
-    double t0 = seconds();
-    if ((rc = pop_run_progress(c, &spec, threads, ages.n, sums, isatty(STDERR_FILENO)))) goto done;
-    double dt = seconds() - t0;
-    int nthreads = threads > 0 ? threads : hrt_pop_max_threads();
-
-    if (out) {
-        char title[200], sub[300], agebuf[64];
-        format_age(agebuf, sizeof agebuf, ages.v[0]);
-        snprintf(title, sizeof title, "HR-diagram density: %.4g stars at %s", (double)spec.n_stars, agebuf);
-        snprintf(sub, sizeof sub, "%s IMF %g-%g Msun, SFH %s, Z %s %g; seed %llu; grid %s", hrt_imf_name(imf), m_lo, m_hi,
-                 hrt_sfh_name(sfh), spec.zdist.kind == HRT_ZDIST_FIXED ? "=" : "around", z,
-                 (unsigned long long)spec.seed, c->grid_used);
-        pl.title = title;
-        pl.subtitle = sub;
-        /* a single burst at one Z: its isochrone over the density */
-        if (sfh == HRT_SFH_BURST && spec.zdist.kind == HRT_ZDIST_FIXED && ages.v[0] > t_from)
-            plot_add_isochrone(c, &pl, ages.v[0] - t_from, z, agebuf);
-        if ((rc = pop_write_density_svg(c, &pl, &sums[0], out))) goto done;
-    }
-    if (c->fmt == FMT_CSV) {
-        table *all = table_new(rec_cols, N_REC_COLS), *rem = table_new(rec_cols, N_REC_COLS);
-        for (size_t i = 0; i < ages.n; i++) {
-            summary_rows(&sums[i], all, rem);
-            for (size_t r = 0; r < rem->nrow; r++) {
-                size_t k = table_add_row(all);
-                for (size_t cc = 0; cc < N_REC_COLS; cc++) {
-                    if (rec_cols[cc].type == COL_TEXT) table_text(all, k, cc, rem->text[r * N_REC_COLS + cc]);
-                    else table_num(all, k, cc, rem->num[r * N_REC_COLS + cc]);
-                }
-            }
-            table_free(rem);
-            rem = table_new(rec_cols, N_REC_COLS);
-        }
-        table_write_csv(all, stdout);
-        table_free(all);
-        table_free(rem);
-    } else if (c->fmt == FMT_JSON) {
-        jw w;
-        jw_init(&w, stdout);
-        jw_begin_object(&w, NULL);
-        jw_begin_object(&w, "population");
-        jw_num(&w, "stars", (double)spec.n_stars);
-        jw_str(&w, "imf", hrt_imf_name(imf));
-        jw_num(&w, "initial_mass_msun_lo", m_lo);
-        jw_num(&w, "initial_mass_msun_hi", m_hi);
-        jw_num(&w, "imf_mean_mass_msun", hrt_imf_mean_mass(&spec.imf));
-        jw_str(&w, "sfh", hrt_sfh_name(sfh));
-        jw_num(&w, "sfh_from_yr", t_from);
-        jw_num(&w, "sfh_to_yr", sfh == HRT_SFH_CONSTANT || sfh == HRT_SFH_EXPONENTIAL ? spec.sfh.t_end_yr : NAN);
-        jw_num(&w, "tau_yr", sfh == HRT_SFH_EXPONENTIAL ? tau : NAN);
-        jw_str(&w, "z_distribution", spec.zdist.kind == HRT_ZDIST_FIXED ? "fixed" : spec.zdist.kind == HRT_ZDIST_LOG_UNIFORM ? "log-uniform" : "log-normal");
-        jw_num(&w, "z", z);
-        jw_num(&w, "feh_spread_dex", spec.zdist.kind == HRT_ZDIST_LOG_NORMAL ? spread : NAN);
-        jw_num(&w, "z_lo", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_lo);
-        jw_num(&w, "z_hi", spec.zdist.kind == HRT_ZDIST_FIXED ? NAN : z_hi);
-        jw_num(&w, "seed", (double)spec.seed);
-        jw_int(&w, "chunk_size", (long)spec.chunk_size);
-        jw_end_object(&w);
-        jw_str(&w, "grid", c->grid_used);
-        jw_begin_array(&w, "epochs");
-        for (size_t i = 0; i < ages.n; i++) pop_json(&sums[i], &w, 1);
-        jw_end_array(&w);
-        if (out) jw_str(&w, "svg", out);
-        jw_end_object(&w);
-        jw_finish(&w);
-    } else {
-        printf("Population: %.6g stars, %s IMF over %g-%g Msun (mean %.4g Msun), SFH %s", (double)spec.n_stars,
-               hrt_imf_name(imf), m_lo, m_hi, hrt_imf_mean_mass(&spec.imf), hrt_sfh_name(sfh));
-        if (sfh == HRT_SFH_BURST) printf(" at %g Myr", t_from / 1e6);
-        else if (sfh != HRT_SFH_TABLE) printf(" from %g to %g Myr", t_from / 1e6, spec.sfh.t_end_yr / 1e6);
-        if (sfh == HRT_SFH_EXPONENTIAL) printf(" (tau %g Myr)", tau / 1e6);
-        if (spec.zdist.kind == HRT_ZDIST_FIXED) printf(", Z = %g\n", z);
-        else if (spec.zdist.kind == HRT_ZDIST_LOG_UNIFORM) printf(", Z log-uniform in %g-%g\n", z_lo, z_hi);
-        else printf(", Z log-normal around %g (%.3g dex) in %g-%g\n", z, spread, z_lo, z_hi);
-        printf("seed %llu; %d thread%s, %.3g s (%.3g stars per second per epoch)\ngrid: %s\n\n", (unsigned long long)spec.seed,
-               nthreads, nthreads == 1 ? "" : "s", dt, (double)spec.n_stars * (double)ages.n / dt, c->grid_used);
-        for (size_t i = 0; i < ages.n; i++) {
-            pop_print_text(&sums[i], stdout, "  ");
-            putchar('\n');
-        }
-        printf("Ages are the population's, since star formation began; remnant 'none' counts stars that are\n"
-               "not remnants. The turnoff is for a single burst at one metallicity. Sampling noise: counts are\n"
-               "Poisson; same seed, same numbers, whatever the number of threads.\n");
-        if (out) printf("HR-diagram density at the first age written to %s\n", out);
-        printf("\nAccuracy: the answers are as good as the grid; the default grid is a semi-analytic model\n"
-               "(tracks/MODEL.md), meant for population-level work, not precision stellar physics.\n");
-    }
-done:
-    free(sums);
-    dlist_free(&ages);
-    dlist_free(&tt);
-    dlist_free(&tr);
+    format_age(agebuf, sizeof agebuf, a->ages.v[0]);
+    snprintf(title, sizeof title, "HR-diagram density: %.4g stars at %s", (double)a->spec.n_stars, agebuf);
+    snprintf(sub, sizeof sub, "%s IMF %g-%g Msun, SFH %s, Z %s %g; seed %llu; grid %s", hrt_imf_name(a->imf), a->m_lo,
+             a->m_hi, hrt_sfh_name(a->sfh), a->spec.zdist.kind == HRT_ZDIST_FIXED ? "=" : "around", a->z,
+             (unsigned long long)a->spec.seed, c->grid_used);
+    pl.title = title;
+    pl.subtitle = sub;
+    /* a single burst at one Z: its isochrone over the density */
+    if (a->sfh == HRT_SFH_BURST && a->spec.zdist.kind == HRT_ZDIST_FIXED && a->ages.v[0] > a->t_from)
+        plot_add_isochrone(c, &pl, a->ages.v[0] - a->t_from, a->z, agebuf);
+    int rc = pop_write_density_svg(c, &pl, first, a->out);
     plot_free(&pl);
+    return rc;
+}
+
+/* CSV: one table of every age, the phases of each age followed by its remnants and failures. */
+static void pop_csv(const pop_args *a, const hrt_pop_summary *sums)
+{
+    table *all = table_new(rec_cols, N_REC_COLS);
+    for (size_t i = 0; i < a->ages.n; i++) {
+        table *rem = table_new(rec_cols, N_REC_COLS);
+        summary_rows(&sums[i], all, rem);
+        for (size_t r = 0; r < rem->nrow; r++) {
+            size_t k = table_add_row(all);
+            for (size_t cc = 0; cc < N_REC_COLS; cc++) {
+                if (rec_cols[cc].type == COL_TEXT)
+                    table_text(all, k, cc, rem->text[r * N_REC_COLS + cc]);
+                else
+                    table_num(all, k, cc, rem->num[r * N_REC_COLS + cc]);
+            }
+        }
+        table_free(rem);
+    }
+    table_write_csv(all, stdout);
+    table_free(all);
+}
+
+static void pop_json_doc(const cli *c, const pop_args *a, const hrt_pop_summary *sums)
+{
+    const hrt_pop_spec *spec = &a->spec;
+    int kind = spec->zdist.kind;
+    jw w;
+    jw_init(&w, stdout);
+    jw_begin_object(&w, NULL);
+    jw_begin_object(&w, "population");
+    jw_num(&w, "stars", (double)spec->n_stars);
+    jw_str(&w, "imf", hrt_imf_name(a->imf));
+    jw_num(&w, "initial_mass_msun_lo", a->m_lo);
+    jw_num(&w, "initial_mass_msun_hi", a->m_hi);
+    jw_num(&w, "imf_mean_mass_msun", hrt_imf_mean_mass(&spec->imf));
+    jw_str(&w, "sfh", hrt_sfh_name(a->sfh));
+    jw_num(&w, "sfh_from_yr", a->t_from);
+    jw_num(&w, "sfh_to_yr", a->sfh == HRT_SFH_CONSTANT || a->sfh == HRT_SFH_EXPONENTIAL ? spec->sfh.t_end_yr : NAN);
+    jw_num(&w, "tau_yr", a->sfh == HRT_SFH_EXPONENTIAL ? a->tau : NAN);
+    jw_str(&w, "z_distribution", kind == HRT_ZDIST_FIXED ? "fixed" : kind == HRT_ZDIST_LOG_UNIFORM ? "log-uniform" : "log-normal");
+    jw_num(&w, "z", a->z);
+    jw_num(&w, "feh_spread_dex", kind == HRT_ZDIST_LOG_NORMAL ? a->spread : NAN);
+    jw_num(&w, "z_lo", kind == HRT_ZDIST_FIXED ? NAN : a->z_lo);
+    jw_num(&w, "z_hi", kind == HRT_ZDIST_FIXED ? NAN : a->z_hi);
+    jw_num(&w, "seed", (double)spec->seed);
+    jw_int(&w, "chunk_size", (long)spec->chunk_size);
+    jw_end_object(&w);
+    jw_str(&w, "grid", c->grid_used);
+    jw_begin_array(&w, "epochs");
+    for (size_t i = 0; i < a->ages.n; i++) pop_json(&sums[i], &w, 1);
+    jw_end_array(&w);
+    if (a->out) jw_str(&w, "svg", a->out);
+    jw_end_object(&w);
+    jw_finish(&w);
+}
+
+static void pop_text(const cli *c, const pop_args *a, const hrt_pop_summary *sums, double dt)
+{
+    const hrt_pop_spec *spec = &a->spec;
+    int nthreads = a->threads > 0 ? a->threads : hrt_pop_max_threads();
+    printf("Population: %.6g stars, %s IMF over %g-%g Msun (mean %.4g Msun), SFH %s", (double)spec->n_stars,
+           hrt_imf_name(a->imf), a->m_lo, a->m_hi, hrt_imf_mean_mass(&spec->imf), hrt_sfh_name(a->sfh));
+    if (a->sfh == HRT_SFH_BURST)
+        printf(" at %g Myr", a->t_from / 1e6);
+    else if (a->sfh != HRT_SFH_TABLE)
+        printf(" from %g to %g Myr", a->t_from / 1e6, spec->sfh.t_end_yr / 1e6);
+    if (a->sfh == HRT_SFH_EXPONENTIAL) printf(" (tau %g Myr)", a->tau / 1e6);
+    if (spec->zdist.kind == HRT_ZDIST_FIXED)
+        printf(", Z = %g\n", a->z);
+    else if (spec->zdist.kind == HRT_ZDIST_LOG_UNIFORM)
+        printf(", Z log-uniform in %g-%g\n", a->z_lo, a->z_hi);
+    else
+        printf(", Z log-normal around %g (%.3g dex) in %g-%g\n", a->z, a->spread, a->z_lo, a->z_hi);
+    printf("seed %llu; %d thread%s, %.3g s (%.3g stars per second per epoch)\ngrid: %s\n\n", (unsigned long long)spec->seed,
+           nthreads, nthreads == 1 ? "" : "s", dt, (double)spec->n_stars * (double)a->ages.n / dt, c->grid_used);
+    for (size_t i = 0; i < a->ages.n; i++) {
+        pop_print_text(&sums[i], stdout, "  ");
+        putchar('\n');
+    }
+    printf("Ages are the population's, since star formation began; remnant 'none' counts stars that are\n"
+           "not remnants. The turnoff is for a single burst at one metallicity. Sampling noise: counts are\n"
+           "Poisson; same seed, same numbers, whatever the number of threads.\n");
+    if (a->out) printf("HR-diagram density at the first age written to %s\n", a->out);
+    printf("\nAccuracy: the answers are as good as the grid; the default grid is a semi-analytic model\n"
+           "(tracks/MODEL.md), meant for population-level work, not precision stellar physics.\n");
+}
+
+static int pop_run(cli *c, pop_args *a)
+{
+    hrt_error err;
+    int rc;
+    if ((rc = pop_check(c, a)) || (rc = cli_open_grid(c)) || (rc = pop_spec(c, a))) return rc;
+    hrt_pop_summary *sums = xmalloc(a->ages.n * sizeof *sums);
+    for (size_t i = 0; i < a->ages.n && rc == 0; i++)
+        if (hrt_pop_summary_init(&sums[i], a->ages.v[i], &a->hr, &err) != HRT_OK)
+            rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
+    double t0 = seconds();
+    if (rc == 0) rc = pop_run_progress(c, &a->spec, a->threads, a->ages.n, sums, isatty(STDERR_FILENO));
+    double dt = seconds() - t0;
+    if (rc == 0 && a->out) rc = pop_svg(c, a, &sums[0]);
+    if (rc == 0 && c->fmt == FMT_CSV)
+        pop_csv(a, sums);
+    else if (rc == 0 && c->fmt == FMT_JSON)
+        pop_json_doc(c, a, sums);
+    else if (rc == 0)
+        pop_text(c, a, sums, dt);
+    free(sums);
+    return rc;
+}
+
+int cmd_population(cli *c, argparse *p)
+{
+    pop_args a;
+    memset(&a, 0, sizeof a);
+    a.imf_name = "kroupa2001", a.sfh_name = "burst";
+    a.alpha = a.t_to = a.tau = a.spread = a.z_lo = a.z_hi = NAN;
+    a.m_lo = 0.08, a.m_hi = 100, a.seedv = 1;
+    a.hr = (hrt_pop_hr){3.3, 4.9, -5.0, 6.5, 64, 64};
+    int rc = cli_parse(c, p, &pop_cmdopts, &a);
+    if (rc == 0) rc = pop_run(c, &a);
+    dlist_free(&a.ages);
+    dlist_free(&a.tt);
+    dlist_free(&a.tr);
     return rc;
 }

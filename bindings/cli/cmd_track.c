@@ -27,118 +27,129 @@ int cli_new_star(cli *c, const char *mass_text, double mass, double z, hrt_star 
     return 0;
 }
 
-int cmd_track(cli *c, argparse *p)
+typedef struct track_args {
+    dlist ml, al;
+    const char *from_text, *to_text;
+    long steps;
+    int eeps;
+    double from, to;
+} track_args;
+
+static int track_take(cli *c, void *ctx, int id, const char *val)
 {
-    dlist ml = {0}, al = {0};
-    const char *val, *from_text = NULL, *to_text = NULL;
-    long steps = 0;
-    int id, rc = 0, eeps = 0;
-    double z, from = NAN, to = NAN;
+    track_args *a = ctx;
+    double age;
+    switch (id) {
+    case O_MASS: return add_mass_list(c, "--mass", val, &a->ml);
+    case O_AGES: return add_age_list(c, "--ages", val, &a->al);
+    case O_STEPS:
+        if (parse_count(val, 2, 10000000, &a->steps) != 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "--steps '%s': give a whole number of ages from 2 to 10000000", val);
+        return 0;
+    case O_FROM:
+    case O_TO:
+        if (parse_age_yr(val, &age) != 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "%s '%s': not an age >= 0; write years with an optional unit yr, kyr, Myr or Gyr",
+                            id == O_FROM ? "--from" : "--to", val);
+        if (id == O_FROM)
+            a->from = age, a->from_text = val;
+        else
+            a->to = age, a->to_text = val;
+        return 0;
+    case O_EEPS: a->eeps = 1; return 0;
+    default: return 0;
+    }
+}
+
+static const cmdopts track_cmdopts = {track_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, track_take,
+                                      "the star is given with --mass", 0};
+
+static int track_check(const cli *c, const track_args *a)
+{
+    if (a->ml.n != 1)
+        return cli_fail(c, CLI_EXIT_USAGE, "give exactly one --mass (initial mass, Msun); for many stars use hrtrail at");
+    if ((a->steps > 0) + (a->al.n > 0) + a->eeps > 1)
+        return cli_fail(c, CLI_EXIT_USAGE, "choose one of --eeps, --steps N and --ages LIST");
+    if (a->al.n > 0 && (a->from_text || a->to_text))
+        return cli_fail(c, CLI_EXIT_USAGE, "--from and --to go with --steps or --eeps, not with --ages");
+    return 0;
+}
+
+/* --steps: the ages, evenly in log age from --from (default the ZAMS) to --to (default the end). */
+static int track_step_ages(const cli *c, track_args *a, const hrt_star *s)
+{
+    hrt_state st;
+    double zams = NAN, end = hrt_star_end_age(s);
+    if (hrt_star_eep_state(s, 0, &st) == HRT_OK) zams = st.age_yr;
+    double lo = a->from_text ? a->from : zams, hi = a->to_text ? a->to : end;
+    if (!(lo > 0) || !(hi > lo)) {
+        char sa[64], sb[64];
+        format_age(sa, sizeof sa, lo);
+        format_age(sb, sizeof sb, hi);
+        return cli_fail(c, CLI_EXIT_USAGE, "--steps needs 0 < --from < --to (got %s to %s)", sa, sb);
+    }
+    for (long i = 0; i < a->steps; i++) {
+        double la = log10(lo) + (log10(hi) - log10(lo)) * (double)i / (double)(a->steps - 1);
+        dlist_push(&a->al, i == a->steps - 1 ? hi : (i == 0 ? lo : pow(10.0, la)), NULL);
+    }
+    return 0;
+}
+
+/* The rows: the star at the ages, or at its EEPs between --from and --to. */
+static int track_rows(const cli *c, const track_args *a, const hrt_star *s, double z, table *t)
+{
+    hrt_state st;
+    for (size_t i = 0; i < a->al.n; i++) {
+        int r = hrt_star_at(s, a->al.v[i], &st);
+        if (r != HRT_OK) {
+            char who[128];
+            if (a->steps > 0)
+                snprintf(who, sizeof who, "%s %s", a->to_text ? "--to" : "--from", a->to_text ? a->to_text : a->from_text);
+            else
+                snprintf(who, sizeof who, "--ages %s", a->al.text[i]);
+            return cli_star_failure(c, who, r, a->ml.v[0], z, a->al.v[i], NULL);
+        }
+        state_table_add(t, c, &st, NULL, NULL);
+    }
+    for (size_t j = 0; a->al.n == 0 && j < hrt_star_n_eep(s); j++) {
+        int r = hrt_star_eep_state(s, j, &st);
+        if (r != HRT_OK) return cli_fail(c, cli_exit_of_status(r), "EEP %zu of the star: %s", j, hrt_strerror(r));
+        if ((a->from_text && st.age_yr < a->from) || (a->to_text && st.age_yr > a->to)) continue;
+        state_table_add(t, c, &st, NULL, NULL);
+    }
+    return 0;
+}
+
+static int track_run(cli *c, track_args *a)
+{
+    double z;
     hrt_star *s = NULL;
     table *t = NULL;
-
-    while ((id = next_option(c, p, track_opts, 1, 1, &val)) != OPT_END) {
-        if (id == OPT_ERROR) { rc = CLI_EXIT_USAGE; goto done; }
-        if (id == OPT_POSITIONAL) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the star is given with --mass)", val);
-            goto done;
-        }
-        if (id == O_MASS && (rc = add_mass_list(c, "--mass", val, &ml))) goto done;
-        if (id == O_AGES && (rc = add_age_list(c, "--ages", val, &al))) goto done;
-        if (id == O_STEPS && parse_count(val, 2, 10000000, &steps) != 0) {
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--steps '%s': give a whole number of ages from 2 to 10000000", val);
-            goto done;
-        }
-        if (id == O_FROM || id == O_TO) {
-            double a;
-            int r = parse_age_yr(val, &a);
-            if (r != 0) {
-                rc = cli_fail(c, CLI_EXIT_USAGE, "%s '%s': not an age >= 0; write years with an optional unit yr, kyr, Myr or Gyr",
-                              id == O_FROM ? "--from" : "--to", val);
-                goto done;
-            }
-            if (id == O_FROM) from = a, from_text = val;
-            else to = a, to_text = val;
-        }
-        if (id == O_EEPS) eeps = 1;
-    }
-    if (c->want_help) { help_command("track", stdout); goto done; }
-    if (ml.n != 1) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "give exactly one --mass (initial mass, Msun); for many stars use hrtrail at");
-        goto done;
-    }
-    if ((steps > 0) + (al.n > 0) + eeps > 1) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "choose one of --eeps, --steps N and --ages LIST");
-        goto done;
-    }
-    if (al.n > 0 && (from_text || to_text)) {
-        rc = cli_fail(c, CLI_EXIT_USAGE, "--from and --to go with --steps or --eeps, not with --ages");
-        goto done;
-    }
-    if ((rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) goto done;
-    if ((rc = cli_new_star(c, ml.text[0], ml.v[0], z, &s))) goto done;
-
-    double zams = NAN, end = hrt_star_end_age(s);
-    hrt_state st;
-    if (hrt_star_eep_state(s, 0, &st) == HRT_OK) zams = st.age_yr;
-    if (steps > 0) {
-        double a = from_text ? from : zams, b = to_text ? to : end;
-        if (!(a > 0) || !(b > a)) {
-            char sa[64], sb[64];
-            format_age(sa, sizeof sa, a);
-            format_age(sb, sizeof sb, b);
-            rc = cli_fail(c, CLI_EXIT_USAGE, "--steps needs 0 < --from < --to (got %s to %s)", sa, sb);
-            goto done;
-        }
-        for (long i = 0; i < steps; i++) {
-            double la = log10(a) + (log10(b) - log10(a)) * (double)i / (double)(steps - 1);
-            double age = i == steps - 1 ? b : (i == 0 ? a : pow(10.0, la));
-            dlist_push(&al, age, NULL);
-        }
-    }
+    int rc;
+    if ((rc = track_check(c, a)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) return rc;
+    if ((rc = cli_new_star(c, a->ml.text[0], a->ml.v[0], z, &s))) return rc;
     t = state_table_new(0);
-    if (al.n > 0) {
-        for (size_t i = 0; i < al.n; i++) {
-            int r = hrt_star_at(s, al.v[i], &st);
-            if (r != HRT_OK) {
-                char who[128];
-                if (steps > 0)
-                    snprintf(who, sizeof who, "%s %s", to_text ? "--to" : "--from", to_text ? to_text : from_text);
-                else
-                    snprintf(who, sizeof who, "--ages %s", al.text[i]);
-                rc = cli_star_failure(c, who, r, ml.v[0], z, al.v[i], NULL);
-                goto done;
-            }
-            state_table_add(t, c, &st, NULL, NULL);
-        }
-    } else {
-        size_t n = hrt_star_n_eep(s);
-        for (size_t j = 0; j < n; j++) {
-            int r = hrt_star_eep_state(s, j, &st);
-            if (r != HRT_OK) {
-                rc = cli_fail(c, cli_exit_of_status(r), "EEP %zu of the star: %s", j, hrt_strerror(r));
-                goto done;
-            }
-            if ((from_text && st.age_yr < from) || (to_text && st.age_yr > to)) continue;
-            state_table_add(t, c, &st, NULL, NULL);
-        }
+    if ((a->steps == 0 || (rc = track_step_ages(c, a, s)) == 0) && (rc = track_rows(c, a, s, z, t)) == 0) {
+        const char *sampling = a->steps > 0 ? "log-age steps" : a->al.n > 0 ? "given ages" : "EEPs";
+        char *route = text_safe(cli_route_name(c, hrt_star_route(s)), NULL), heading[512];
+        snprintf(heading, sizeof heading, "Track of %.6g Msun at Z = %.6g ([Fe/H] = %+.3f), route %s, sampled at %s (%zu rows)\n",
+                 hrt_star_mass(s), hrt_star_z(s), cli_feh(c, hrt_star_z(s)), route, sampling, t->nrow);
+        free(route);
+        out_states(c, t, heading);
     }
-    const char *sampling = steps > 0 ? "log-age steps" : al.n > 0 ? "given ages" : "EEPs";
-    if (c->fmt == FMT_CSV) {
-        table_write_csv(t, stdout);
-    } else if (c->fmt == FMT_JSON) {
-        jw_records(stdout, t);
-    } else {
-        printf("Track of %.6g Msun at Z = %.6g ([Fe/H] = %+.3f), route %s, sampled at %s (%zu rows)\n",
-               hrt_star_mass(s), hrt_star_z(s), cli_feh(c, hrt_star_z(s)), cli_route_name(c, hrt_star_route(s)),
-               sampling, t->nrow);
-        table_write_text(t, stdout, NULL);
-        phase_footnote(stdout, t);
-    }
-done:
     table_free(t);
     hrt_star_free(s);
-    dlist_free(&ml);
-    dlist_free(&al);
+    return rc;
+}
+
+int cmd_track(cli *c, argparse *p)
+{
+    track_args a;
+    memset(&a, 0, sizeof a);
+    a.from = a.to = NAN;
+    int rc = cli_parse(c, p, &track_cmdopts, &a);
+    if (rc == 0) rc = track_run(c, &a);
+    dlist_free(&a.ml);
+    dlist_free(&a.al);
     return rc;
 }

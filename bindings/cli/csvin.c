@@ -28,46 +28,54 @@ static char *trim_dup(const char *s, size_t n)
     return p;
 }
 
+static void free_fields(char **f, size_t n)
+{
+    for (size_t i = 0; i < n; i++) free(f[i]);
+    free(f);
+}
+
+/* The rest of a quoted field, up to its closing quote ("" inside is one quote): 0, or -1 when the
+ * file ends first. */
+static int read_quoted(FILE *f, strbuf *cur, long *line)
+{
+    for (;;) {
+        int ch = getc(f);
+        if (ch == EOF) return -1;
+        if (ch == '"') {
+            int nx = getc(f);
+            if (nx != '"') {
+                if (nx != EOF) ungetc(nx, f);
+                return 0;
+            }
+        } else if (ch == '\n') {
+            (*line)++;
+        }
+        sb_add(cur, (char)ch);
+    }
+}
+
 /* Read one record; returns the number of fields, 0 at end of file, -1 on an open quote. */
 static long read_record(FILE *f, char ***fields, long *line)
 {
     strbuf cur = {0};
     size_t nf = 0, cap = 0;
     char **out = NULL;
-    int ch, inq = 0, any = 0, quoted = 0;
+    int ch, any = 0, quoted = 0;
     for (;;) {
         ch = getc(f);
         if (ch == EOF && !any && cur.n == 0 && nf == 0) {
             free(cur.s);
             return 0;
         }
-        if (inq) {
-            if (ch == EOF) {
-                free(cur.s);
-                for (size_t i = 0; i < nf; i++) free(out[i]);
-                free(out);
-                return -1;
-            }
-            if (ch == '"') {
-                int nx = getc(f);
-                if (nx == '"')
-                    sb_add(&cur, '"');
-                else {
-                    inq = 0;
-                    if (nx != EOF) ungetc(nx, f);
-                }
-            } else {
-                if (ch == '\n') (*line)++;
-                sb_add(&cur, (char)ch);
-            }
-            continue;
-        }
         any = 1;
         if (ch == '"' && (cur.n == 0 || strspn(cur.s, " \t") == cur.n)) {
-            cur.n = 0;
-            inq = 1;
+            cur.n = 0; /* blanks before the opening quote do not count */
+            if (cur.s) cur.s[0] = '\0';
             quoted = 1;
-            continue;
+            if (read_quoted(f, &cur, line) == 0) continue;
+            free(cur.s);
+            free_fields(out, nf);
+            return -1;
         }
         if (ch == ',' || ch == '\n' || ch == EOF) {
             if (nf == cap) {
@@ -84,24 +92,17 @@ static long read_record(FILE *f, char ***fields, long *line)
             }
             continue;
         }
-        if (ch == '\r') continue;
-        sb_add(&cur, (char)ch);
+        if (ch != '\r') sb_add(&cur, (char)ch);
     }
     free(cur.s);
     *fields = out;
     return (long)nf;
 }
 
-static void free_fields(char **f, size_t n)
-{
-    for (size_t i = 0; i < n; i++) free(f[i]);
-    free(f);
-}
-
 int csv_read(const cli *c, const char *path, csvfile *out)
 {
     FILE *f = strcmp(path, "-") == 0 ? stdin : fopen(path, "r");
-    const char *shown = strcmp(path, "-") == 0 ? "standard input" : path;
+    const char *shown = csv_shown(path);
     long line = 1;
     size_t cap = 0;
     memset(out, 0, sizeof *out);
@@ -168,19 +169,31 @@ long csv_column(const csvfile *f, const char *name)
     return -1;
 }
 
-int csv_check_header(const cli *c, const csvfile *f, const char *shown, int exit_code, const char *const *known,
-                     const char *const *old, const char *expected)
+static int check_header(const cli *c, const csvfile *f, const char *shown, const csvnames *names)
 {
     for (size_t k = 0; k < f->ncol; k++) {
         const char *h = f->head[k];
-        for (const char *const *n = known; *n; n++)
+        for (const char *const *n = names->known; *n; n++)
             if (strcmp(h, *n) != 0 && strcasecmp(h, *n) == 0)
-                return cli_fail(c, exit_code, "%s: column '%s' is spelled '%s' (names are case-sensitive; the columns are %s)",
-                                shown, h, *n, expected);
-        for (const char *const *o = old; o && *o; o += 2)
+                return cli_fail(c, names->exit_code,
+                                "%s: column '%s' is spelled '%s' (names are case-sensitive; the columns are %s)", shown, h,
+                                *n, names->expected);
+        for (const char *const *o = names->old; o && *o; o += 2)
             if (strcmp(h, o[0]) == 0)
-                return cli_fail(c, exit_code, "%s: column '%s' is now called '%s' (the columns are %s)", shown, h, o[1],
-                                expected);
+                return cli_fail(c, names->exit_code, "%s: column '%s' is now called '%s' (the columns are %s)", shown, h,
+                                o[1], names->expected);
     }
     return 0;
+}
+
+const char *csv_shown(const char *path)
+{
+    return strcmp(path, "-") == 0 ? "standard input" : path;
+}
+
+int csv_read_named(const cli *c, const char *path, const csvnames *names, csvfile *out)
+{
+    int rc = csv_read(c, path, out);
+    if (rc == 0 && (rc = check_header(c, out, csv_shown(path), names)) != 0) csv_free(out);
+    return rc;
 }

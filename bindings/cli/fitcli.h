@@ -19,14 +19,12 @@ typedef struct fitstar {
     hrt_fit_obs obs;
 } fitstar;
 
-/* Option table entries handled by fitopt_take(); ids from FIT_OPT_BASE. */
+/* Option table entries handled by fitopt_take() (the commands' cmdopts.more); ids from FIT_OPT_BASE. */
 #define FIT_OPT_BASE 100
 extern const optdef fit_optdefs[];
 void fitopts_init(fitopts *f);
 /* 1 if id was one of the fit options (value parsed into f), 0 if not, -1 on a bad value (message printed). */
 int fitopt_take(cli *c, fitopts *f, int id, const char *val);
-/* Next option: the command's own defs first, then the fit options. */
-int fit_next_option(cli *c, argparse *p, const optdef *own, const char **val);
 /* Model whose [Fe/H] range covers the stars (+-5 sigma where [Fe/H] is measured). */
 int fit_make_model(cli *c, fitopts *f, const fitstar *s, size_t n, hrt_fit_model **m);
 /* Message and exit code of a failed fit. */

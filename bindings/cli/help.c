@@ -14,6 +14,30 @@ static const char common_text[] =
     "                  monotone, no overshoot), linear, cspline or akima\n"
     "  -h, --help      this help\n";
 
+static const char syntax_text[] =
+    "Option syntax:\n"
+    "  a long option may be shortened to any unique prefix (--st for --stars); a\n"
+    "  value follows as --opt VALUE or --opt=VALUE (the = form for a value that\n"
+    "  starts with --); short options bundle (-kj4 is -k -j 4); -- ends the options\n";
+
+/* Files written with -o by the command itself (plot, population, demo). */
+static const char outfile_text[] =
+    "Output file (-o FILE):\n"
+    "  FILE is replaced at once: the SVG goes to a new temporary file of an\n"
+    "  unpredictable name beside it, which is renamed over FILE at the end, with\n"
+    "  FILE's mode (a new file: 0644 less the umask). If writing fails, FILE stays\n"
+    "  as it was and no temporary file is left. A symbolic link is written through:\n"
+    "  the file it points to is replaced and the link stays. '-' (standard output),\n"
+    "  a device such as /dev/null or a FIFO is written directly, never replaced.\n";
+
+/* Grid files the library writes (import -o, grid upgrade NEW). */
+static const char gridfile_text[] =
+    "Output grid:\n"
+    "  written to a temporary file beside it and renamed over it at the end; if\n"
+    "  anything fails, nothing is written. A symbolic link is written through: the\n"
+    "  file it points to is replaced and the link stays. '-', a device or a FIFO is\n"
+    "  refused (an HDF5 grid cannot be streamed).\n";
+
 static const char values_text[] =
     "Values:\n"
     "  masses   initial masses in Msun, e.g. 2.3; lists are comma-separated: 0.8,1,2.5\n"
@@ -34,6 +58,14 @@ static const char output_text[] =
     "  --json the same names and digits in JSON; a table is a list of records\n"
     "         (pandas.read_json reads it as it is); null where a value is undefined\n"
     "         or infinite (such as the end of a phase that lasts forever)\n";
+
+static const char main_outfile_text[] =
+    "Output files (-o FILE of plot, population and demo; import -o; grid upgrade NEW):\n"
+    "  replaced at once through a new temporary file beside them, renamed over them\n"
+    "  at the end (their mode kept); a failed write leaves them as they were. A\n"
+    "  symbolic link is written through (the file it points to is replaced, the\n"
+    "  link stays); '-', a device such as /dev/null or a FIFO is written directly\n"
+    "  by plot, population and demo, and refused for a grid.\n";
 
 static const char exit_text[] =
     "Exit status:\n"
@@ -79,6 +111,21 @@ static const char accuracy_text[] =
     "model built from published relations, meant for population-level work, not for\n"
     "precision stellar physics.\n";
 
+/* The commands of the command table (main.c), each with its one line and its examples. */
+static void help_commands(FILE *f)
+{
+    fputs("Commands:\n", f);
+    for (size_t k = 0; k < cli_n_commands; k++) {
+        const char *e = cli_commands[k].example;
+        fprintf(f, "  %-10s %s\n", cli_commands[k].name, cli_commands[k].summary);
+        while (*e) {
+            size_t n = strcspn(e, "\n");
+            fprintf(f, "               %.*s\n", (int)n, e);
+            e += n + (e[n] == '\n');
+        }
+    }
+}
+
 void help_main(FILE *f)
 {
     const char *def = hrt_default_grid_path();
@@ -86,48 +133,23 @@ void help_main(FILE *f)
             "hrtrail %s: stellar evolution tracks, isochrones and timetables from a track grid\n"
             "\n"
             "Usage: hrtrail [--grid FILE] [--interp NAME] COMMAND [OPTIONS]\n"
-            "\n"
-            "Commands:\n"
-            "  at         state of one or many stars at given ages\n"
-            "               hrtrail at --mass 2.3 --z 0.008 --age 800Myr\n"
-            "  track      one star's track: at its EEPs, evenly in log age, or at given ages\n"
-            "               hrtrail track --mass 1 --steps 50 --csv\n"
-            "  isochrone  stars of every initial mass at one or several ages, one Z\n"
-            "               hrtrail isochrone --age 1Gyr --z 0.014 --csv > iso.csv\n"
-            "  life       a star's timetable: keypoint ages, phases, route and remnant\n"
-            "               hrtrail life --mass 2.3 --feh -0.24\n"
-            "  plot       an HR diagram as SVG: tracks, isochrones, points from a CSV\n"
-            "               hrtrail plot --track 1,2,5 --isochrone 1Gyr -o hr.svg\n"
-            "  grid       what a grid holds (grid info), whether it is sound (grid check),\n"
-            "             or convert an older grid file to this format (grid upgrade)\n"
-            "               hrtrail grid info; hrtrail grid check --grid my.h5\n"
-            "               hrtrail grid upgrade old.h5 new.h5\n"
-            "  population many stars from an IMF, a star-formation history and a metallicity\n"
-            "             spread, evolved to given ages and summarised (threads, progress)\n"
-            "               hrtrail population --stars 1e8 --imf kroupa2001 --age 10Gyr -o hr.svg\n"
-            "  fit        mass, age, phase and distance of an observed star (or a CSV\n"
-            "             catalogue) from Teff, luminosity, [Fe/H], log g or flux\n"
-            "               hrtrail fit --teff 5772 --teff-sigma 50 --log-l 0 --log-l-sigma 0.02\n"
-            "  forecast   the future of a star: phases and keypoints ahead, main-sequence\n"
-            "             time left, remnant, state at given times\n"
-            "               hrtrail forecast --mass 1 --age 4.57Gyr --at 1Gyr,6Gyr\n"
-            "  demo       worked example: an invented cluster's members, their timetables\n"
-            "             and fates, its turnoff mass, and its HR diagram (SVG)\n"
-            "               hrtrail demo\n"
-            "  import     build a grid from text tracks with a column map, and report\n"
-            "               hrtrail import -o my.h5 --map-file map.txt tracks/\n"
+            "\n",
+            HRT_VERSION_STRING);
+    help_commands(f);
+    fprintf(f,
             "\n"
             "Run 'hrtrail COMMAND --help' for the options of each command.\n"
             "\n"
             "%s"
             "  --version       versions of the command, the library, its ABI and grid format\n"
             "  The default grid now: %s\n"
-            "\n%s\n%s\n%s\n%s",
-            HRT_VERSION_STRING, common_text, def ? def : "(none found)", values_text, output_text, exit_text,
+            "\n%s\n%s\n%s\n%s\n%s\n%s",
+            common_text, def ? def : "(none found)", syntax_text, values_text, output_text, main_outfile_text, exit_text,
             accuracy_text);
 }
 
-static const struct help_entry { const char *cmd; const char *text; int state_cols; } helps[] = {
+enum { OUT_NONE = 0, OUT_SVG = 1, OUT_GRID = 2 };
+static const struct help_entry { const char *cmd; const char *text; int state_cols, outputs; } helps[] = {
     {"at",
      "Usage: hrtrail at --mass M[,M...] --age AGE[,AGE...] [--z Z | --feh X] [OPTIONS]\n"
      "       hrtrail at --input FILE [OPTIONS]\n"
@@ -160,7 +182,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail at --mass 2.3 --z 0.008 --age 800Myr\n"
      "  hrtrail at --mass 1,1.5,2 --age 1Gyr,2Gyr --csv\n"
      "  printf 'name,initial_mass_msun,age_yr\\nA,1.0,4.6Gyr\\nB,3,300Myr\\n' | hrtrail at --input - --json\n",
-     1},
+     1, OUT_NONE},
     {"track",
      "Usage: hrtrail track --mass M [--z Z | --feh X] [--eeps | --steps N | --ages LIST] [OPTIONS]\n"
      "\n"
@@ -184,7 +206,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail track --mass 1 --z 0.014\n"
      "  hrtrail track --mass 2.3 --feh -0.24 --steps 200 --csv > track.csv\n"
      "  hrtrail track --mass 5 --ages 10Myr,50Myr,100Myr --json\n",
-     1},
+     1, OUT_NONE},
     {"isochrone",
      "Usage: hrtrail isochrone --age AGE[,AGE...] [--z Z | --feh X] [OPTIONS]\n"
      "\n"
@@ -201,7 +223,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Examples:\n"
      "  hrtrail isochrone --age 1Gyr --z 0.014 --csv > iso-1gyr.csv\n"
      "  hrtrail isochrone --age 100Myr,1Gyr --feh -0.5 --json\n",
-     1},
+     1, OUT_NONE},
     {"life",
      "Usage: hrtrail life --mass M[,M...] [--z Z | --feh X] [OPTIONS]\n"
      "\n"
@@ -227,7 +249,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Examples:\n"
      "  hrtrail life --mass 2.3 --z 0.008\n"
      "  hrtrail life --mass 1,5,20 --json\n",
-     0},
+     0, OUT_NONE},
     {"plot",
      "Usage: hrtrail plot [--track M[,M...]] [--isochrone AGE[,AGE...]] [--points FILE]\n"
      "                    [--z Z | --feh X] [-o FILE.svg] [OPTIONS]\n"
@@ -249,12 +271,13 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --title TEXT                title (default: Hertzsprung-Russell diagram)\n"
      "  --log-teff LO,HI            log10 Teff/K range (default: fit the data)\n"
      "  --log-l LO,HI               log10 L/Lsun range (default: fit the data)\n"
-     "  -o, --output FILE           SVG file (default: standard output)\n"
+     "  -o, --output FILE           SVG file (default: standard output); a symbolic\n"
+     "                              link is written through, a device or FIFO directly\n"
      "\n"
      "Examples:\n"
      "  hrtrail plot --track 1,2,5 --isochrone 300Myr,1Gyr -o hr.svg\n"
      "  hrtrail at --mass 1,2 --age 1Gyr --csv | hrtrail plot --points - --isochrone 1Gyr -o stars.svg\n",
-     0},
+     0, OUT_SVG},
     {"grid",
      "Usage: hrtrail grid info [FILE] [--grid FILE] [--csv | --json]\n"
      "       hrtrail grid check [FILE] [--grid FILE] [--csv | --json]\n"
@@ -265,7 +288,9 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "         [Fe/H], number of tracks, mass range, tracks per route and route-boundary\n"
      "         masses, every route with its EEPs and keypoints, and the masses.\n"
      "         --csv: one row per track (z, feh, initial_mass_msun, route, n_eep);\n"
-     "         --json: all of it.\n"
+     "         --json: all of it. Text from the file is shown with control characters\n"
+     "         and bytes that are not UTF-8 as escapes (\\x1b); --json escapes control\n"
+     "         characters (\\u001b) and writes U+FFFD for bytes that are not UTF-8.\n"
      "  check  run the library's validator (format, shapes, ascending masses, ages,\n"
      "         finite values, phase and remnant tables, keypoints, route boundaries;\n"
      "         it stops at its first problem and names group, dataset and index), then\n"
@@ -289,7 +314,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail grid info\n"
      "  hrtrail grid check my-grid.h5\n"
      "  hrtrail grid upgrade my-grid-v1.h5 my-grid.h5\n",
-     0},
+     0, OUT_GRID},
     {"population",
      "Usage: hrtrail population --stars N --age AGE[,AGE...] [--imf NAME] [--sfh KIND]\n"
      "                          [--z Z | --feh X] [--feh-spread DEX] [-o FILE.svg] [OPTIONS]\n"
@@ -321,7 +346,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --seed S               random seed (default 1)\n"
      "  -j, --threads T        threads (default 0: all OpenMP offers)\n"
      "  -o, --output FILE      HR-diagram density SVG at the first age (a single\n"
-     "                         burst at one Z also shows its isochrone)\n"
+     "                         burst at one Z also shows its isochrone); '-' for\n"
+     "                         standard output\n"
      "  --hr-bins NX,NY        histogram bins (default 64,64), --log-teff LO,HI\n"
      "                         (default 3.3,4.9) and --log-l LO,HI (default -5,6.5)\n"
      "  --csv                  one row per age and record (phase, remnant, failed):\n"
@@ -336,7 +362,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail population --stars 1e6 --age 1Gyr,5Gyr,10Gyr -o burst.svg\n"
      "  hrtrail population -n 1e8 --imf chabrier2003 --sfh constant --sfh-to 10Gyr \\\n"
      "      --age 10Gyr --feh -0.3 --feh-spread 0.2 --json > disc.json\n",
-     0},
+     0, OUT_SVG},
     {"fit",
      "Usage: hrtrail fit --teff K --teff-sigma K [--log-l X --log-l-sigma S]\n"
      "                   [--feh X --feh-sigma S] [--logg X --logg-sigma S]\n"
@@ -383,7 +409,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail fit --teff 6100 --teff-sigma 80 --logg 4.1 --logg-sigma 0.1 \\\n"
      "      --flux 2.1e-12 --flux-sigma 4e-14 --feh -0.2 --feh-sigma 0.1\n"
      "  hrtrail fit --input survey.csv --keep-going --csv > fits.csv\n",
-     0},
+     0, OUT_NONE},
     {"forecast",
      "Usage: hrtrail forecast --mass M --age AGE [--z Z | --feh X] [--at AGE[,AGE...]]\n"
      "       hrtrail forecast --teff K --teff-sigma K [fit options] [--samples N] [--at ...]\n"
@@ -406,7 +432,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Examples:\n"
      "  hrtrail forecast --mass 1 --age 4.57Gyr --at 10Myr,2Gyr\n"
      "  hrtrail forecast --teff 4600 --teff-sigma 80 --log-l 1.6 --log-l-sigma 0.05 --at 100Myr\n",
-     0},
+     0, OUT_NONE},
     {"demo",
      "Usage: hrtrail demo [-o FILE.svg] [--grid FILE] [--csv | --json]\n"
      "\n"
@@ -419,11 +445,14 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "and their fates; writes an HR diagram with the members, their tracks and the\n"
      "cluster isochrone.\n"
      "\n"
-     "  -o, --output FILE  the SVG (default: marrowind-hr.svg in the current directory)\n"
+     "  -o, --output FILE  the SVG (default: marrowind-hr.svg in the current directory);\n"
+     "                     beside it FILE-density.svg (FILE less .svg), the density\n"
+     "                     of the synthetic cluster, unless FILE is '-' (standard\n"
+     "                     output), a device or a FIFO\n"
      "  --csv              the members' states as CSV (columns as in hrtrail at)\n"
      "  --json             everything: cluster, members now, timetables (records as\n"
      "                     in hrtrail life), fates, the synthetic cluster\n",
-     0},
+     0, OUT_SVG},
     {"import",
      "Usage: hrtrail import -o GRID.h5 [--map SPEC]... [--map-file FILE]... [--z Z]\n"
      "                      [--routes FILE] [--keep-going] [--dry-run] [--csv | --json]\n"
@@ -436,7 +465,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "masses per metallicity and writes the grid atomically. Prints what it did\n"
      "with every track: keypoints found (age, line, how), what was dropped and why.\n"
      "\n"
-     "  -o, --output FILE  the grid to write (nothing is written if the import fails)\n"
+     "  -o, --output FILE  the grid to write (nothing is written if the import fails;\n"
+     "                     a symbolic link is written through, a device refused)\n"
      "  --map SPEC         column map entries key=column[*unit], comma-separated;\n"
      "                     the keys are names of the vocabulary (tracks/FORMAT.md):\n"
      "                     age_yr (or log_age_yr) with unit yr, kyr, Myr, Gyr;\n"
@@ -465,7 +495,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Example:\n"
      "  hrtrail import -o my.h5 --map 'age_yr=t*Myr,l_lsun=lum,teff_k=teff,mass_msun=m' \\\n"
      "      --map 'pattern=track_M{mass}_Z{z}.txt' tracks/\n",
-     0},
+     0, OUT_GRID},
 };
 
 int help_command(const char *cmd, FILE *f)
@@ -476,7 +506,8 @@ int help_command(const char *cmd, FILE *f)
         fputs(helps[i].text, f);
         fputs("\n", f);
         if (helps[i].state_cols) fprintf(f, "%s\n", state_cols_text);
-        fprintf(f, "%s\n%s\n%s", common_text, values_text, exit_text);
+        if (helps[i].outputs) fprintf(f, "%s\n", helps[i].outputs == OUT_SVG ? outfile_text : gridfile_text);
+        fprintf(f, "%s\n%s\n%s\n%s", common_text, syntax_text, values_text, exit_text);
         return 0;
     }
     return -1;

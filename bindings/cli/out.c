@@ -54,7 +54,9 @@ static void human_cell(const table *t, size_t r, size_t c, char *buf, size_t n)
     const col *k = &t->cols[c];
     if (k->type == COL_TEXT) {
         const char *s = t->text[r * t->ncol + c];
-        snprintf(buf, n, "%s", s && *s ? s : "-");
+        char *safe = text_safe(s && *s ? s : "-", NULL); /* no control character reaches the terminal */
+        snprintf(buf, n, "%s", safe);
+        free(safe);
         return;
     }
     double v = t->num[r * t->ncol + c];
@@ -171,22 +173,33 @@ void jw_init(jw *w, FILE *f)
     w->first[0] = 1;
 }
 
+/* A JSON string: valid UTF-8 whatever s holds.  Control characters (C0, DEL, C1) are escaped as
+ * \u00XX, and every byte that is not part of a UTF-8 character becomes U+FFFD. */
 static void jw_string(FILE *f, const char *s)
 {
+    const unsigned char *p = (const unsigned char *)(s ? s : "");
     fputc('"', f);
-    for (const unsigned char *p = (const unsigned char *)(s ? s : ""); *p; p++) {
-        switch (*p) {
-        case '"': fputs("\\\"", f); break;
-        case '\\': fputs("\\\\", f); break;
-        case '\n': fputs("\\n", f); break;
-        case '\r': fputs("\\r", f); break;
-        case '\t': fputs("\\t", f); break;
-        default:
-            if (*p < 0x20)
-                fprintf(f, "\\u%04x", *p);
-            else
-                fputc(*p, f);
+    while (*p) {
+        uint32_t cp = 0;
+        size_t k = utf8_decode(p, &cp);
+        if (k == 0) {
+            fputs("\xef\xbf\xbd", f); /* U+FFFD REPLACEMENT CHARACTER */
+            p++;
+            continue;
         }
+        if (cp == '"' || cp == '\\')
+            fprintf(f, "\\%c", (int)cp);
+        else if (cp == '\n')
+            fputs("\\n", f);
+        else if (cp == '\r')
+            fputs("\\r", f);
+        else if (cp == '\t')
+            fputs("\\t", f);
+        else if (cp < 0x20 || (cp >= 0x7f && cp < 0xa0))
+            fprintf(f, "\\u%04x", (unsigned)cp);
+        else
+            fwrite(p, 1, k, f);
+        p += k;
     }
     fputc('"', f);
 }
@@ -287,6 +300,25 @@ void jw_records(FILE *f, const table *t)
     jw_init(&w, f);
     jw_table(&w, NULL, t);
     jw_finish(&w);
+}
+
+int out_records(const cli *c, const table *t)
+{
+    if (c->fmt == FMT_CSV)
+        table_write_csv(t, stdout);
+    else if (c->fmt == FMT_JSON)
+        jw_records(stdout, t);
+    else
+        return 0;
+    return 1;
+}
+
+void out_states(const cli *c, const table *t, const char *heading)
+{
+    if (out_records(c, t)) return;
+    if (heading) fputs(heading, stdout);
+    table_write_text(t, stdout, NULL);
+    phase_footnote(stdout, t);
 }
 
 /* ------------------------------------------------------------------ states */

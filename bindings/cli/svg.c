@@ -150,18 +150,24 @@ static double py(const frame *f, double log_l)
     return f->y1 - (log_l - f->ylo) / (f->yhi - f->ylo) * (f->y1 - f->y0);
 }
 
+/* Text in XML: the five entities escaped, control characters XML cannot hold dropped, and a byte
+ * that is not UTF-8 written as U+FFFD, so that the file stays well-formed whatever the text. */
 static void xml_text(FILE *o, const char *s)
 {
-    for (; s && *s; s++) {
-        switch (*s) {
-        case '&': fputs("&amp;", o); break;
-        case '<': fputs("&lt;", o); break;
-        case '>': fputs("&gt;", o); break;
-        case '"': fputs("&quot;", o); break;
-        case '\'': fputs("&apos;", o); break;
-        default:
-            if ((unsigned char)*s >= 0x20 || *s == '\t') fputc(*s, o);
-        }
+    static const char special[] = "&<>\"'";
+    static const char *const entity[] = {"&amp;", "&lt;", "&gt;", "&quot;", "&apos;"};
+    const unsigned char *p = (const unsigned char *)(s ? s : "");
+    while (*p) {
+        uint32_t cp = 0;
+        size_t k = utf8_decode(p, &cp);
+        const char *e = k == 1 ? strchr(special, (int)cp) : NULL;
+        if (k == 0)
+            fputs("\xef\xbf\xbd", o); /* U+FFFD */
+        else if (e)
+            fputs(entity[e - special], o);
+        else if (cp >= 0x20 || cp == '\t')
+            fwrite(p, 1, k, o);
+        p += k ? k : 1;
     }
 }
 
@@ -505,32 +511,11 @@ int plot_write_svg(const plot *p, FILE *o)
     return ferror(o) ? -1 : 0;
 }
 
-/* Write to path (or stdout for NULL or "-"); a file is written under a temporary name and renamed. */
 int plot_save(const cli *c, const plot *p, const char *path)
 {
-    if (!path || strcmp(path, "-") == 0) {
-        if (plot_write_svg(p, stdout) != 0 || fflush(stdout) != 0)
-            return cli_fail(c, CLI_EXIT_FILE, "cannot write the SVG to standard output: %s", strerror(errno));
-        return 0;
-    }
-    size_t n = strlen(path) + 16;
-    char *tmp = xmalloc(n);
-    snprintf(tmp, n, "%s.tmp", path);
-    FILE *f = fopen(tmp, "w");
-    if (!f) {
-        int e = errno;
-        free(tmp);
-        return cli_fail(c, CLI_EXIT_FILE, "cannot write '%s': %s", path, strerror(e));
-    }
-    int bad = plot_write_svg(p, f) != 0;
-    int e = errno;
-    if (fclose(f) != 0 && !bad) bad = 1, e = errno;
-    if (!bad && rename(tmp, path) != 0) bad = 1, e = errno;
-    if (bad) {
-        remove(tmp);
-        free(tmp);
-        return cli_fail(c, CLI_EXIT_FILE, "cannot write '%s': %s", path, strerror(e));
-    }
-    free(tmp);
-    return 0;
+    outfile o;
+    int rc = outfile_open(c, &o, path);
+    if (rc) return rc;
+    plot_write_svg(p, o.f); /* a failed write shows in outfile_close */
+    return outfile_close(c, &o);
 }

@@ -1,10 +1,9 @@
-/* Memory, messages, value parsing, options and grid access of the hrtrail command. */
+/* Memory, messages, value parsing and grid access of the hrtrail command. */
 #include <errno.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
-#include <strings.h>
 #include <sys/stat.h>
 
 #include "cli.h"
@@ -44,18 +43,29 @@ char *xstrdup(const char *s)
     return p;
 }
 
+/* The message is made safe for a terminal (text.c): it may quote names and values from files. */
 int cli_fail(const cli *c, int code, const char *fmt, ...)
 {
     va_list ap;
+    char small[512], *msg = small, *safe;
+    int n;
     fflush(stdout);
-    if (c && c->cmd)
-        fprintf(stderr, "hrtrail %s: ", c->cmd);
-    else
-        fputs("hrtrail: ", stderr);
     va_start(ap, fmt);
-    vfprintf(stderr, fmt, ap);
+    n = vsnprintf(small, sizeof small, fmt, ap);
     va_end(ap);
-    fputc('\n', stderr);
+    if (n >= (int)sizeof small) {
+        msg = xmalloc((size_t)n + 1);
+        va_start(ap, fmt);
+        vsnprintf(msg, (size_t)n + 1, fmt, ap);
+        va_end(ap);
+    }
+    safe = text_safe(n < 0 ? fmt : msg, NULL);
+    if (c && c->cmd)
+        fprintf(stderr, "hrtrail %s: %s\n", c->cmd, safe);
+    else
+        fprintf(stderr, "hrtrail: %s\n", safe);
+    free(safe);
+    if (msg != small) free(msg);
     return code;
 }
 
@@ -231,146 +241,6 @@ int add_mass_list(const cli *c, const char *opt, const char *s, dlist *l)
 int add_age_list(const cli *c, const char *opt, const char *s, dlist *l)
 {
     return split_list(c, opt, s, l, one_age);
-}
-
-/* ------------------------------------------------------------------ options */
-
-enum { COMMON_GRID = 1000, COMMON_INTERP, COMMON_CSV, COMMON_JSON, COMMON_HELP, COMMON_Z, COMMON_FEH };
-static const optdef common_opts[] = {
-    {"grid", 0, 1, COMMON_GRID}, {"interp", 0, 1, COMMON_INTERP}, {"csv", 0, 0, COMMON_CSV},
-    {"json", 0, 0, COMMON_JSON}, {"help", 'h', 0, COMMON_HELP},   {"z", 0, 1, COMMON_Z},
-    {"feh", 0, 1, COMMON_FEH},   {NULL, 0, 0, 0},
-};
-
-static const optdef *find_opt(const optdef *defs, const char *name, size_t len, char short_name)
-{
-    for (; defs && defs->name; defs++) {
-        if (short_name ? defs->short_name == short_name
-                       : (strlen(defs->name) == len && strncmp(defs->name, name, len) == 0))
-            return defs;
-    }
-    return NULL;
-}
-
-static int handle_common(cli *c, int id, const char *arg, const char *val)
-{
-    double v;
-    switch (id) {
-    case COMMON_GRID:
-        c->grid_path = val;
-        return 0;
-    case COMMON_INTERP: {
-        int k = hrt_interp_from_name(val);
-        if (k < 0)
-            return cli_fail(c, CLI_EXIT_USAGE, "%s '%s': unknown interpolation; allowed: steffen, linear, cspline, akima",
-                            arg, val);
-        c->interp = k;
-        return 0;
-    }
-    case COMMON_CSV:
-        c->fmt = FMT_CSV;
-        return 0;
-    case COMMON_JSON:
-        c->fmt = FMT_JSON;
-        return 0;
-    case COMMON_HELP:
-        c->want_help = 1;
-        return 0;
-    case COMMON_Z:
-        if (parse_number(val, &v) != 0 || !(v > 0 && v < 1))
-            return cli_fail(c, CLI_EXIT_USAGE,
-                            "--z '%s': not a metal mass fraction (0 < Z < 1, e.g. 0.014); for [Fe/H] use --feh", val);
-        if (c->have_feh) return cli_fail(c, CLI_EXIT_USAGE, "give either --z or --feh, not both");
-        c->have_z = 1;
-        c->z_arg = v;
-        c->z_text = val;
-        return 0;
-    case COMMON_FEH:
-        if (parse_number(val, &v) != 0 || fabs(v) > 10)
-            return cli_fail(c, CLI_EXIT_USAGE, "--feh '%s': not an [Fe/H] value (dex, e.g. -0.3)", val);
-        if (c->have_z) return cli_fail(c, CLI_EXIT_USAGE, "give either --z or --feh, not both");
-        c->have_feh = 1;
-        c->feh_arg = v;
-        c->z_text = val;
-        return 0;
-    default:
-        return CLI_EXIT_INTERNAL;
-    }
-}
-
-int next_option(cli *c, argparse *p, const optdef *defs, int accept_z, int accept_format, const char **val)
-{
-    for (;;) {
-        const char *arg, *name, *eq;
-        size_t len;
-        char sn = 0;
-        const optdef *d;
-        int common;
-        char shown[64];
-        if (p->i >= p->argc) return OPT_END;
-        arg = p->argv[p->i++];
-        if (p->only_positional || arg[0] != '-' || strcmp(arg, "-") == 0) {
-            *val = arg;
-            return OPT_POSITIONAL;
-        }
-        if (strcmp(arg, "--") == 0) {
-            p->only_positional = 1;
-            continue;
-        }
-        if (arg[1] == '-') {
-            name = arg + 2;
-            eq = strchr(name, '=');
-            len = eq ? (size_t)(eq - name) : strlen(name);
-        } else {
-            name = arg + 1;
-            sn = arg[1];
-            eq = NULL;
-            len = 1;
-            if (arg[2]) eq = arg + 1; /* "-oFILE": value follows the letter */
-        }
-        d = find_opt(defs, name, len, sn);
-        common = 0;
-        if (!d) {
-            d = find_opt(common_opts, name, len, sn);
-            common = d != NULL;
-            if (d && !accept_z && (d->id == COMMON_Z || d->id == COMMON_FEH)) d = NULL;
-            if (d && !accept_format && (d->id == COMMON_CSV || d->id == COMMON_JSON)) d = NULL;
-        }
-        if (sn)
-            snprintf(shown, sizeof shown, "-%c", sn);
-        else
-            snprintf(shown, sizeof shown, "--%.*s", (int)(len < 50 ? len : 50), name);
-        if (!d) {
-            if (c->cmd)
-                cli_fail(c, CLI_EXIT_USAGE, "unknown option '%s' (see hrtrail %s --help)", shown, c->cmd);
-            else
-                cli_fail(c, CLI_EXIT_USAGE, "unknown option '%s' (see hrtrail --help)", shown);
-            return OPT_ERROR;
-        }
-        if (d->has_arg) {
-            if (eq)
-                *val = eq + 1;
-            else if (p->i < p->argc && strncmp(p->argv[p->i], "--", 2) != 0)
-                *val = p->argv[p->i++];
-            else {
-                cli_fail(c, CLI_EXIT_USAGE, "option %s needs a value (see hrtrail %s%s--help)", shown,
-                         c->cmd ? c->cmd : "", c->cmd ? " " : "");
-                return OPT_ERROR;
-            }
-        } else {
-            if (eq && !sn) {
-                cli_fail(c, CLI_EXIT_USAGE, "option %s takes no value", shown);
-                return OPT_ERROR;
-            }
-            if (sn && arg[2]) {
-                cli_fail(c, CLI_EXIT_USAGE, "unknown option '%s'", arg);
-                return OPT_ERROR;
-            }
-            *val = NULL;
-        }
-        if (!common) return d->id;
-        if (handle_common(c, d->id, shown, *val) != 0) return OPT_ERROR;
-    }
 }
 
 /* ------------------------------------------------------------------ the grid */

@@ -1,8 +1,8 @@
-/* libFuzzer target: the hrtrail command's value parsers and option scanner
- * (bindings/cli/util.c).  The input is split at NUL bytes into arguments;
- * each is given to parse_number, parse_age_yr and parse_count, and the
- * whole list to next_option with a subcommand's option table, masses and
- * ages going to the list parsers as the commands do.  Properties: accepted
+/* libFuzzer target: the hrtrail command's value parsers and option parser
+ * (bindings/cli/util.c, opts.c, text.c).  The input is split at NUL bytes
+ * into arguments; each is given to parse_number, parse_age_yr and
+ * parse_count, and the whole list to cli_parse with a subcommand's option
+ * table, masses and ages going to the list parsers as the commands do.  Properties: accepted
  * numbers are finite, ages finite and not negative, counts in range, an
  * age with a unit is the plain number times the unit, and nothing reads or
  * writes out of bounds (ASan). */
@@ -43,6 +43,19 @@ static void check_value(const char *s)
     FUZZ_REQUIRE(strlen(out) < sizeof out);
 }
 
+typedef struct fuzz_ctx {
+    dlist masses, ages;
+} fuzz_ctx;
+
+static int take(cli *c, void *ctx, int id, const char *val)
+{
+    fuzz_ctx *f = ctx;
+    if (id == O_MASS) return add_mass_list(c, "--mass", val, &f->masses);
+    if (id == O_AGE) return add_age_list(c, "--age", val, &f->ages);
+    FUZZ_REQUIRE(id == O_FLAG ? val == NULL : val != NULL);
+    return 0;
+}
+
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 {
     if (size == 0 || size > 4096)
@@ -61,29 +74,22 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     cli c;
     memset(&c, 0, sizeof c);
     c.cmd = "fuzz";
-    argparse p = {argc, argv, 1, 0};
-    dlist masses = {0}, ages = {0};
-    const char *val = NULL;
-    int id;
-    while ((id = next_option(&c, &p, defs, data[0] & 1, data[0] & 2, &val)) != OPT_END && id != OPT_ERROR) {
-        if (id == O_MASS)
-            add_mass_list(&c, "--mass", val, &masses);
-        else if (id == O_AGE)
-            add_age_list(&c, "--age", val, &ages);
-        else if (id == O_FLAG || id == OPT_POSITIONAL)
-            FUZZ_REQUIRE(id == O_FLAG ? val == NULL : val != NULL);
-        else
-            FUZZ_REQUIRE(val != NULL);
-    }
-    for (size_t k = 0; k < masses.n; k++)
-        FUZZ_REQUIRE(masses.v[k] > 0 && isfinite(masses.v[k]));
-    for (size_t k = 0; k < ages.n; k++)
-        FUZZ_REQUIRE(ages.v[k] >= 0 && isfinite(ages.v[k]));
+    argparse p = {argc, argv, 1};
+    cmdopts o = {defs, NULL, (data[0] & 1 ? ACCEPT_Z : 0u) | (data[0] & 2 ? ACCEPT_FORMAT : 0u), take, NULL,
+                 data[0] & 4};
+    fuzz_ctx f = {{0}, {0}};
+    int rc = cli_parse(&c, &p, &o, &f);
+    FUZZ_REQUIRE(rc == 0 || rc == CLI_STOP || rc == CLI_EXIT_USAGE);
+    FUZZ_REQUIRE(p.next >= 1 && p.next <= argc);
+    for (size_t k = 0; k < f.masses.n; k++)
+        FUZZ_REQUIRE(f.masses.v[k] > 0 && isfinite(f.masses.v[k]));
+    for (size_t k = 0; k < f.ages.n; k++)
+        FUZZ_REQUIRE(f.ages.v[k] >= 0 && isfinite(f.ages.v[k]));
     if (c.have_z)
         FUZZ_REQUIRE(c.z_arg > 0 && c.z_arg < 1);
     FUZZ_REQUIRE(!(c.have_z && c.have_feh));
-    dlist_free(&masses);
-    dlist_free(&ages);
+    dlist_free(&f.masses);
+    dlist_free(&f.ages);
     free(buf);
     return 0;
 }

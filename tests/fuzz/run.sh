@@ -31,10 +31,14 @@ for src in "$top"/lib/*/*.c; do
     $CC $cflags -fsanitize=fuzzer-no-link -DHRT_BUILDING_LIBRARY -DHRT_DATADIR=\"/nonexistent\" -c "$src" -o "$o"
     objs="$objs $o"
 done
-$CC $cflags -fsanitize=fuzzer-no-link -c "$top/bindings/cli/util.c" -o "$out/obj/cli_util.o"
+cli_objs=""
+for src in util opts text; do
+    $CC $cflags -fsanitize=fuzzer-no-link -c "$top/bindings/cli/$src.c" -o "$out/obj/cli_$src.o"
+    cli_objs="$cli_objs $out/obj/cli_$src.o"
+done
 for t in fuzz_grid_file fuzz_grid_edit fuzz_cli_args fuzz_import; do
     extra=""
-    [ "$t" = fuzz_cli_args ] && extra="$out/obj/cli_util.o"
+    [ "$t" = fuzz_cli_args ] && extra="$cli_objs"
     $CC $cflags -fsanitize=fuzzer "$top/tests/fuzz/$t.c" $extra $objs $deps_libs -o "$out/$t"
 done
 $CC $cflags "$top/tests/fuzz/mkseed.c" $objs $deps_libs -o "$out/mkseed"
