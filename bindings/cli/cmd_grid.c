@@ -416,10 +416,35 @@ static void check_isochrones(checker *k, double z, double amin, double amax)
     }
 }
 
+/* Routes with fewer than two tracks in a metallicity group: their masses
+ * are extrapolated from one track (at most half the gap to the next one)
+ * or, with none, refused there. */
+static void check_thin_routes(checker *k)
+{
+    const hrt_grid *g = k->c->grid;
+    size_t nz = hrt_grid_n_z(g), nr = hrt_grid_n_routes(g);
+    for (size_t iz = 0; iz < nz; iz++) {
+        size_t count[16] = {0};
+        route_counts(k->c, iz, count, nr < 16 ? nr : 16);
+        for (size_t r = 0; r < nr && r < 16; r++) {
+            if (count[r] >= 2)
+                continue;
+            char where[160];
+            snprintf(where, sizeof where, "Z = %g, route %s", hrt_grid_z(g, iz), hrt_grid_route_name(g, r));
+            if (count[r] == 1)
+                problem(k, where, "a thin route: one track; its other masses are extrapolated from it, at most "
+                        "half the gap to the next track");
+            else
+                problem(k, where, "an empty route: no track; stars of this route at this Z are refused");
+        }
+    }
+}
+
 static void check_grid(checker *k)
 {
     const hrt_grid *g = k->c->grid;
     size_t nz = hrt_grid_n_z(g);
+    check_thin_routes(k);
     for (size_t iz = 0; iz < nz; iz++) k->total += 2 * hrt_grid_n_masses(g, iz) + 8;
     for (size_t iz = 0; iz < nz; iz++) {
         double amin = INFINITY, amax = 0;

@@ -9,13 +9,15 @@ different set of masses at each metallicity).  grid_content() gives the grid
 independently of the file layout, so that tests can write it in another
 format version too (tests/cli/test_upgrade.py writes format 1).
 
-    make_test_grid.py OUT.h5 [--break ages|format|cores]
+    make_test_grid.py OUT.h5 [--break ages|format|cores|thin]
 
 --break writes a deliberately faulty grid:
   ages    log_age_yr not increasing inside a track (the library's validator must refuse it)
   format  a wrong 'format' attribute (refused by the validator)
   cores   CO core heavier than the helium core at two EEPs of two tracks
-          (the validator accepts it; 'hrtrail grid check' must report both)
+          (the validator refuses it: cores are nested in the star)
+  thin    one supergiant track at the lower Z ('hrtrail grid check' reports the thin
+          route; masses far from the track are refused)
 """
 import argparse
 import math
@@ -150,6 +152,8 @@ def grid_content(brk=None):
     n_eep_max = max(sum(r[2]) + 1 for r in ROUTES)
     groups = []
     for iz, (z, route_masses) in enumerate(GROUPS):
+        if brk == "thin" and iz == 0:  # one supergiant track left at the lower Z
+            route_masses = route_masses[:2] + [[15.0]]
         tracks = [(r, m) for r, ms in enumerate(route_masses) for m in ms]
         nm = len(tracks)
         arr = {k: np.full((nm, n_eep_max), np.nan) for k, _ in EEP_QUANTITIES}
@@ -182,8 +186,8 @@ def write_routes(f, sdt):
     for name, kps, segs, _, _ in ROUTES:
         g = rg.create_group(name)
         g.create_dataset("keypoint_names", data=np.array(kps, dtype=object), dtype=sdt)
-        g.create_dataset("keypoint_eep", data=np.concatenate([[0], np.cumsum(segs)]).astype("<i4"))
-        g.create_dataset("segment_samples", data=np.array(segs, dtype="<i4"))
+        g.create_dataset("keypoint_eep", data=np.concatenate([[0], np.cumsum(segs)]).astype("<i4"), fletcher32=True)
+        g.create_dataset("segment_samples", data=np.array(segs, dtype="<i4"), fletcher32=True)
 
 
 def write(path, brk=None):
@@ -199,7 +203,7 @@ def write(path, brk=None):
         f.attrs["description"] = "small three-route test grid for the hrtrail command"
         for group, table in (("phases", PHASES), ("remnants", REMNANTS)):
             g = f.create_group(group)
-            g.create_dataset("code", data=np.array([c for c, _, _ in table], dtype="<i4"))
+            g.create_dataset("code", data=np.array([c for c, _, _ in table], dtype="<i4"), fletcher32=True)
             g.create_dataset("key", data=np.array([k for _, k, _ in table], dtype=object), dtype=sdt)
             g.create_dataset("name", data=np.array([n for _, _, n in table], dtype=object), dtype=sdt)
         write_routes(f, sdt)
@@ -208,25 +212,25 @@ def write(path, brk=None):
             g = mg.create_group(str(iz))
             g.attrs["z"] = np.float64(grp["z"])
             nm = len(grp["initial_mass_msun"])
-            g.create_dataset("initial_mass_msun", data=grp["initial_mass_msun"]).attrs["units"] = "solMass"
-            g.create_dataset("route", data=grp["route"])
-            g.create_dataset("n_eep", data=grp["n_eep"])
-            g.create_dataset("remnant", data=np.array([REMNANT_CODE[k] for k in grp["remnant"]], dtype="<i4"))
-            g.create_dataset("remnant_mass_msun", data=grp["remnant_mass_msun"]).attrs["units"] = "solMass"
-            g.create_dataset("route_boundary_mass_msun",
-                             data=np.array(ROUTE_BOUNDARIES, dtype="<f8")).attrs["units"] = "solMass"
+            g.create_dataset("initial_mass_msun", data=grp["initial_mass_msun"], fletcher32=True).attrs["units"] = "solMass"
+            g.create_dataset("route", data=grp["route"], fletcher32=True)
+            g.create_dataset("n_eep", data=grp["n_eep"], fletcher32=True)
+            g.create_dataset("remnant", data=np.array([REMNANT_CODE[k] for k in grp["remnant"]], dtype="<i4"), fletcher32=True)
+            g.create_dataset("remnant_mass_msun", data=grp["remnant_mass_msun"], fletcher32=True).attrs["units"] = "solMass"
+            g.create_dataset("route_boundary_mass_msun", data=np.array(ROUTE_BOUNDARIES, dtype="<f8"),
+                             fletcher32=True).attrs["units"] = "solMass"
             for key, units in EEP_QUANTITIES:
-                g.create_dataset(key, data=grp["q"][key].astype("<f8")).attrs["units"] = units
+                g.create_dataset(key, data=grp["q"][key].astype("<f8"), fletcher32=True).attrs["units"] = units
             phase = np.zeros((nm, n_eep_max), dtype="<i4")  # 0 (unknown) beyond n_eep
             for i, keys in enumerate(grp["phase"]):
                 phase[i, :len(keys)] = [PHASE_CODE[k] for k in keys]
-            g.create_dataset("phase", data=phase)
+            g.create_dataset("phase", data=phase, fletcher32=True)
 
 
 def main():
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     ap.add_argument("out")
-    ap.add_argument("--break", dest="brk", choices=["ages", "format", "cores"])
+    ap.add_argument("--break", dest="brk", choices=["ages", "format", "cores", "thin"])
     a = ap.parse_args()
     write(a.out, a.brk)
 

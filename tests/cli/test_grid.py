@@ -68,17 +68,28 @@ rc, out, err = run(["grid", "check", bad, "--csv"])
 rows = parse_csv(out)
 t.eq([r["where"] for r in rows], ["validator"], "check --csv: the validator's problem")
 
-# ---- check: a grid the validator accepts with unphysical cores: every problem printed
+# ---- check: unphysical cores (a CO core heavier than the helium core) are refused by the validator
 cores = make_grid(d, "cores")
 rc, out, err = run(["grid", "check", cores, "--json"])
 doc = parse_json(out)
-t.eq(rc, EXIT_FILE, "check of a grid with faults: exit code")
-t.eq(doc["validator_passed"], True, "the validator accepts the core fault")
-where = sorted(p["where"] for p in doc["problems"])
-t.eq(len(where), 2, "both faults reported: %r" % where)
-t.ok(any("Z = 0.006, track 3 (1.4 Msun), EEP 20" in w for w in where) and
-     any("Z = 0.02, track 4 (1.8 Msun), EEP 20" in w for w in where), "faults named by Z, track, EEP")
-t.ok(all("CO core" in p["problem"] for p in doc["problems"]), "fault explained")
+t.eq(rc, EXIT_FILE, "check of a grid with nested-core faults: exit code")
+t.eq(doc["validator_passed"], False, "the validator refuses a CO core heavier than the helium core")
+t.ok(any("co_core_mass_msun" in p["problem"] and "exceeds the helium core" in p["problem"] for p in doc["problems"]),
+     "the fault named by its dataset: %r" % doc["problems"])
+
+# ---- check: a route with one track at a metallicity is reported, and masses far from it refused
+thin = make_grid(d, "thin")
+rc, out, err = run(["grid", "check", thin, "--json"])
+doc = parse_json(out)
+t.eq(rc, EXIT_FILE, "check of a grid with a thin route: exit code")
+t.ok(any("Z = 0.006, route supergiant" in p["where"] and "thin route" in p["problem"] for p in doc["problems"]),
+     "the thin route reported: %r" % doc["problems"])
+rc, out, err = run(["at", "--grid", thin, "--mass", "9", "--z", "0.006", "--age", "1Myr", "--csv"])
+t.ok(rc != EXIT_OK and "no track" in err, "9 Msun, 0.22 dex from the only supergiant track, refused: %r" % err)
+rc, out, err = run(["at", "--grid", thin, "--mass", "12", "--z", "0.006", "--age", "1Myr", "--csv"])
+rows = parse_csv(out)
+t.ok(rc == EXIT_OK and len(rows) == 1 and int(rows[0]["flags"]) & 4,
+     "12 Msun, within half the gap to the next track, extrapolated and flagged")
 
 # ---- progress on stderr: shown on a terminal, never otherwise
 master, slave = pty.openpty()
