@@ -287,6 +287,7 @@ void life_records_add(const cli *c, const life *L, table *t, const char *name);
 
 /* ---- subcommands ---- */
 int cmd_at(cli *c, argparse *p);
+int cmd_codes(cli *c, argparse *p);
 int cmd_track(cli *c, argparse *p);
 int cmd_isochrone(cli *c, argparse *p);
 int cmd_life(cli *c, argparse *p);

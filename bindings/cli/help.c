@@ -496,6 +496,21 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail import -o my.h5 --map 'age_yr=t*Myr,l_lsun=lum,teff_k=teff,mass_msun=m' \\\n"
      "      --map 'pattern=track_M{mass}_Z{z}.txt' tracks/\n",
      0, OUT_GRID},
+    {"codes",
+     "Usage: hrtrail codes [--csv | --json]\n"
+     "\n"
+     "hrtrail's phase and remnant codes, each with its key and name: the integers\n"
+     "grid files, the C structs and every binding store (grouped by tens: phases\n"
+     "1x hydrogen in the core, 2x hydrogen-shell giants, 3x helium burning and the\n"
+     "AGB, 4x massive stars after the main sequence, 5x remnants; remnant kinds 1x\n"
+     "white dwarfs, 20 neutron star, 30 black hole), and the keys text output uses.\n"
+     "\n"
+     "  --csv, --json      one record per code: kind (phase or remnant), code, key,\n"
+     "                     name\n"
+     "\n"
+     "Example:\n"
+     "  hrtrail codes --csv\n",
+     0, 0},
 };
 
 int help_command(const char *cmd, FILE *f)

@@ -28,6 +28,8 @@ const cli_command cli_commands[] = {
      "hrtrail demo"},
     {"import", cmd_import, "build a grid from text tracks with a column map, and report",
      "hrtrail import -o my.h5 --map-file map.txt tracks/"},
+    {"codes", cmd_codes, "hrtrail's phase and remnant codes with their keys and names",
+     "hrtrail codes --csv"},
 };
 const size_t cli_n_commands = sizeof cli_commands / sizeof cli_commands[0];
 
