@@ -427,18 +427,6 @@ void trail_grid_free_contents(hrt_grid *g)
         free(gp->age_interval);
     }
     free(g->grp);
-    for (size_t r = 0; r < g->n_routes; r++) {
-        free(g->routes[r].name);
-        if (g->routes[r].kp_names)
-            for (size_t k = 0; k < g->routes[r].n_kp; k++)
-                free(g->routes[r].kp_names[k]);
-        free(g->routes[r].kp_names);
-        free(g->routes[r].kp_eep);
-    }
-    free(g->routes);
-    for (size_t a = 0; a < g->n_attrs; a++) {
-        free(g->attrs[a].name);
-        free(g->attrs[a].value);
-    }
-    free(g->attrs);
+    trail_routes_free(g->routes, g->n_routes);
+    trail_attrs_free(g->attrs, g->n_attrs);
 }

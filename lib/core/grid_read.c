@@ -648,16 +648,7 @@ void trail_file_free(trail_file *f)
         free(gp->phase);
     }
     free(f->grp);
-    for (size_t r = 0; r < f->n_routes; r++) {
-        free(f->routes[r].name);
-        trail_h5_free_strings(f->routes[r].kp_names, f->routes[r].n_kp);
-        free(f->routes[r].kp_eep);
-    }
-    free(f->routes);
-    for (size_t a = 0; a < f->n_attrs; a++) {
-        free(f->attrs[a].name);
-        free(f->attrs[a].value);
-    }
-    free(f->attrs);
+    trail_routes_free(f->routes, f->n_routes);
+    trail_attrs_free(f->attrs, f->n_attrs);
     memset(f, 0, sizeof *f);
 }

@@ -1,6 +1,7 @@
 /* The grid file's dataset names, units and meanings, by format version
  * (tracks/FORMAT.md).  Units are astropy unit strings: dex(...) for a log10
  * of a quantity in that unit. */
+#include <stdlib.h>
 #include <string.h>
 
 #include "util/schema.h"
@@ -38,4 +39,25 @@ int trail_keypoint_index(const char *name)
         if (strcmp(name, trail_known_keypoints[k]) == 0)
             return k;
     return -1;
+}
+
+void trail_routes_free(route_layout *routes, size_t n)
+{
+    for (size_t r = 0; routes && r < n; r++) {
+        free(routes[r].name);
+        for (size_t k = 0; routes[r].kp_names && k < routes[r].n_kp; k++)
+            free(routes[r].kp_names[k]);
+        free(routes[r].kp_names);
+        free(routes[r].kp_eep);
+    }
+    free(routes);
+}
+
+void trail_attrs_free(attr_pair *attrs, size_t n)
+{
+    for (size_t a = 0; attrs && a < n; a++) {
+        free(attrs[a].name);
+        free(attrs[a].value);
+    }
+    free(attrs);
 }

@@ -112,6 +112,12 @@ typedef struct attr_pair {
     char *name, *value;
 } attr_pair;
 
+/* Free the contents of n route layouts and of n attributes, and the arrays
+ * (NULL allowed): one place for what readers, the prepared grid and the
+ * builder all hold. */
+void trail_routes_free(route_layout *routes, size_t n);
+void trail_attrs_free(attr_pair *attrs, size_t n);
+
 /* One metallicity group as the file holds it (validated). */
 typedef struct trail_file_group {
     double z;
