@@ -37,6 +37,7 @@ typedef struct cli {
     int have_z, have_feh;
     double z_arg, feh_arg;
     const char *z_text;
+    hrt_isochrone_options iso; /* what isochrones hold: --phases, --leave-out, --max-dlog-l */
 } cli;
 
 /* ---- memory (the command owns its process: out of memory ends it with exit 1) ---- */
@@ -286,6 +287,11 @@ table *life_records_new(int named);
 void life_records_add(const cli *c, const life *L, table *t, const char *name);
 
 /* ---- subcommands ---- */
+/* The isochrone options (isochrone, plot): an extra option table and its handler (ids >= ISO_OPT_FIRST). */
+enum { ISO_OPT_FIRST = 500 };
+extern const optdef iso_more_opts[];
+int iso_option_take(cli *c, int id, const char *val);
+
 int cmd_at(cli *c, argparse *p);
 int cmd_codes(cli *c, argparse *p);
 int cmd_track(cli *c, argparse *p);

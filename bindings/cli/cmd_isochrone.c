@@ -12,7 +12,7 @@ int isochrone_compute(const cli *c, double age_yr, double z, hrt_state **out, si
     hrt_state *buf = xcalloc(cap, sizeof *buf);
     int st;
     for (;;) {
-        st = hrt_isochrone(c->grid, age_yr, z, buf, cap, n, &err);
+        st = hrt_isochrone_with(c->grid, age_yr, z, &c->iso, buf, cap, n, &err);
         if (st != HRT_E_BUFFER) break;
         if (*n <= cap) { /* should not happen; avoid looping forever */
             st = HRT_E_INTERNAL;
@@ -32,15 +32,69 @@ int isochrone_compute(const cli *c, double age_yr, double z, hrt_state **out, si
     return HRT_OK;
 }
 
+/* ---- what an isochrone holds: phases by key, the step in log L ---- */
+enum { O_ISO_PHASES = ISO_OPT_FIRST, O_ISO_LEAVE_OUT, O_ISO_MAX_DLOG_L };
+const optdef iso_more_opts[] = {
+    {"phases", 0, 1, O_ISO_PHASES}, {"leave-out", 0, 1, O_ISO_LEAVE_OUT}, {"max-dlog-l", 0, 1, O_ISO_MAX_DLOG_L},
+    {NULL, 0, 0, 0},
+};
+
+/* A list of phase keys as a mask; the words "luminous" (the default: every
+ * phase of a modelled star alive) and "remnants" (wd, ns, bh) stand for
+ * their phases.  0 and a message for an unknown key. */
+static int phase_mask(const cli *c, const char *opt, const char *list, uint64_t *mask)
+{
+    hrt_isochrone_options d;
+    hrt_isochrone_options_default(&d);
+    char *copy = xstrdup(list), *save = NULL;
+    int rc = 0;
+    *mask = 0;
+    for (char *k = strtok_r(copy, ",", &save); k && rc == 0; k = strtok_r(NULL, ",", &save)) {
+        if (!strcmp(k, "luminous"))
+            *mask |= d.phases;
+        else if (!strcmp(k, "remnants"))
+            *mask |= HRT_PHASES_REMNANT;
+        else if (hrt_phase_from_key(k) != HRT_PHASE_UNKNOWN)
+            *mask |= HRT_PHASE_BIT(hrt_phase_from_key(k));
+        else
+            rc = cli_fail(c, CLI_EXIT_USAGE, "%s %s: '%s' is not a phase key (hrtrail codes lists them), "
+                          "'luminous' or 'remnants'", opt, list, k);
+    }
+    free(copy);
+    return rc;
+}
+
+int iso_option_take(cli *c, int id, const char *val)
+{
+    uint64_t mask;
+    int rc;
+    switch (id) {
+    case O_ISO_PHASES:
+        if (!(rc = phase_mask(c, "--phases", val, &mask))) c->iso.phases = mask;
+        return rc;
+    case O_ISO_LEAVE_OUT:
+        if (!(rc = phase_mask(c, "--leave-out", val, &mask))) c->iso.phases &= ~mask;
+        return rc;
+    case O_ISO_MAX_DLOG_L:
+        if (parse_number(val, &c->iso.max_dlog_l) != 0 || !(c->iso.max_dlog_l > 0))
+            return cli_fail(c, CLI_EXIT_USAGE, "--max-dlog-l %s: a step in log L > 0 (dex)", val);
+        return 0;
+    default:
+        return 0;
+    }
+}
+
 enum { O_AGE = 1 };
 static const optdef iso_opts[] = {{"age", 'a', 1, O_AGE}, {"ages", 0, 1, O_AGE}, {NULL, 0, 0, 0}};
 
 static int iso_take(cli *c, void *ctx, int id, const char *val)
 {
+    if (id >= ISO_OPT_FIRST) return iso_option_take(c, id, val);
     return id == O_AGE ? add_age_list(c, "--age", val, ctx) : 0;
 }
 
-static const cmdopts iso_cmdopts = {iso_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, iso_take, "ages are given with --age", 0};
+static const cmdopts iso_cmdopts = {iso_opts, iso_more_opts, ACCEPT_Z | ACCEPT_FORMAT, iso_take,
+                                    "ages are given with --age", 0};
 
 static int iso_run(cli *c, const dlist *al)
 {
@@ -68,7 +122,7 @@ static int iso_run(cli *c, const dlist *al)
     if (rc == 0) {
         char heading[160];
         snprintf(heading, sizeof heading,
-                 "Isochrone%s at Z = %.6g ([Fe/H] = %+.3f): %zu points, ordered by route, EEP and initial mass\n",
+                 "Isochrone%s at Z = %.6g ([Fe/H] = %+.3f): %zu points, ordered by route and initial mass\n",
                  al->n > 1 ? "s" : "", z, cli_feh(c, z), t->nrow);
         out_states(c, t, heading);
     }

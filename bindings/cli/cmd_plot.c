@@ -79,6 +79,7 @@ static int plot_take(cli *c, void *ctx, int id, const char *val)
 {
     plot_args *a = ctx;
     int rc = 0;
+    if (id >= ISO_OPT_FIRST) return iso_option_take(c, id, val);
     switch (id) {
     case O_TRACK: return add_mass_list(c, "--track", val, &a->tl);
     case O_ISO: return add_age_list(c, "--isochrone", val, &a->il);
@@ -95,7 +96,8 @@ static int plot_take(cli *c, void *ctx, int id, const char *val)
     }
 }
 
-static const cmdopts plot_cmdopts = {plot_opts, NULL, ACCEPT_Z, plot_take, "the output file is given with -o FILE", 0};
+static const cmdopts plot_cmdopts = {plot_opts, iso_more_opts, ACCEPT_Z, plot_take,
+                                     "the output file is given with -o FILE", 0};
 
 /* The tracks and isochrones of the options, at the metallicity of the options. */
 static int plot_grid_lines(cli *c, plot_args *a, char *subtitle, size_t n)

@@ -149,6 +149,15 @@ void help_main(FILE *f)
 }
 
 enum { OUT_NONE = 0, OUT_SVG = 1, OUT_GRID = 2 };
+/* The options of what an isochrone holds (isochrone, plot). */
+#define ISO_OPTIONS_TEXT                                                                            \
+    "  --phases KEY[,KEY...]   phases to include: phase keys (hrtrail codes lists them),\n"        \
+    "                          'luminous' (the default: every phase of a star alive) and\n"      \
+    "                          'remnants' (wd, ns, bh), e.g. --phases luminous,wd\n"             \
+    "  --leave-out KEY[,...]   phases to leave out, e.g. --leave-out post_agb\n"                 \
+    "  --max-dlog-l DEX        largest step in log L between neighbours of one phase\n"          \
+    "                          (default 0.02)\n"
+
 static const struct help_entry { const char *cmd; const char *text; int state_cols, outputs; } helps[] = {
     {"at",
      "Usage: hrtrail at --mass M[,M...] --age AGE[,AGE...] [--z Z | --feh X] [OPTIONS]\n"
@@ -210,14 +219,18 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
     {"isochrone",
      "Usage: hrtrail isochrone --age AGE[,AGE...] [--z Z | --feh X] [OPTIONS]\n"
      "\n"
-     "The isochrone: at each age, the stars of every initial mass the grid covers,\n"
-     "sampled at the grid's EEPs (so fast phases get as many points as the grid has\n"
-     "EEPs there). Points are ordered by route, then EEP, then initial mass. Remnants\n"
-     "are not included. With several ages the rows of all ages follow each other;\n"
-     "the age_yr column tells them apart.\n"
+     "The isochrone: at each age, the stars of every initial mass the grid covers\n"
+     "that are alive and modelled: one at each EEP the age falls on (so fast phases\n"
+     "get as many points as the grid has EEPs there), the ends of each route's\n"
+     "masses, and in between as many masses as keep each step in log L within\n"
+     "--max-dlog-l (the lower main sequence, where no EEP is reached). Points are\n"
+     "ordered by route, then initial mass. Remnants are left out unless asked for.\n"
+     "With several ages the rows of all ages follow each other; the age_yr column\n"
+     "tells them apart.\n"
      "\n"
      "  -a, --age AGE[,AGE...]  ages (> 0), e.g. 1Gyr or 100Myr,1Gyr,5Gyr\n"
      "  --z Z | --feh X         metallicity (default: the grid's Z_ref)\n"
+     ISO_OPTIONS_TEXT
      "  --csv, --json           CSV, or JSON records, instead of the table\n"
      "\n"
      "Examples:\n"
@@ -262,7 +275,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "their age at their brightest point.\n"
      "\n"
      "  -t, --track M[,M...]        tracks of these initial masses, Msun\n"
-     "  -a, --isochrone AGE[,...]   isochrones at these ages\n"
+     "  -a, --isochrone AGE[,...]   isochrones at these ages (--phases, --leave-out and\n"
+     "                              --max-dlog-l as for hrtrail isochrone)\n"
      "  -p, --points FILE           stars from a CSV ('-': standard input) with columns\n"
      "                              log_teff_k and log_l_lsun, optional name (label)\n"
      "                              and phase (key; ring colour); 'hrtrail at --csv'\n"

@@ -76,6 +76,7 @@ int main(int argc, char **argv)
 
     memset(&c, 0, sizeof c);
     c.interp = HRT_INTERP_STEFFEN;
+    hrt_isochrone_options_default(&c.iso);
     /* refuse a library this command was not built for */
     if (hrt_abi_version() != HRT_ABI_VERSION || hrt_state_size() != sizeof(hrt_state)) {
         fprintf(stderr, "hrtrail: the hrtrail library loaded (version %s, ABI %d) is not the one this command was built for (ABI %d)\n",

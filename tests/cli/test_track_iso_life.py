@@ -98,6 +98,30 @@ for p, r in zip([p for p in sample], at_rows):
     t.close(r["log_l_lsun"], p["log_l_lsun"], 1e-6, "isochrone point %g Msun vs at" % p["initial_mass_msun"],
             abs_=1e-6)
 
+# ---- what an isochrone holds: every modelled mass alive, dense main sequence, phases chosen
+rc, out, err = run(["isochrone"] + G + ["--age", "3Gyr", "--z", "0.02", "--csv"])
+iso = parse_csv(out)
+lo_mass = min(num(r["initial_mass_msun"]) for r in iso)
+t.ok(abs(lo_mass - 0.7) < 1e-9, "3 Gyr isochrone starts at the grid's lowest mass, 0.7 Msun: %g" % lo_mass)
+ms = [(num(r["initial_mass_msun"]), num(r["log_l_lsun"])) for r in iso if r["phase"] == "ms"]
+steps = [abs(b[1] - a[1]) for a, b in zip(ms, ms[1:])]
+t.ok(len(ms) > 10 and max(steps) <= 0.02 + 1e-12, "main-sequence neighbours within 0.02 dex in log L (largest "
+     "%.4f over %d points)" % (max(steps), len(ms)))
+t.ok(all(num(b["initial_mass_msun"]) > num(a["initial_mass_msun"]) for a, b in zip(iso, iso[1:])
+         if a["route"] == b["route"]),
+     "ordered by initial mass within a route")
+t.ok(not any(r["phase"] in ("wd", "ns", "bh") for r in iso), "remnants left out by default")
+rc, out, err = run(["isochrone"] + G + ["--age", "3Gyr", "--z", "0.02", "--csv", "--phases", "luminous,remnants"])
+with_rem = parse_csv(out)
+t.ok(any(r["phase"] == "wd" for r in with_rem) and len(with_rem) > len(iso),
+     "--phases luminous,remnants adds the white dwarfs")
+rc, out, err = run(["isochrone"] + G + ["--age", "3Gyr", "--z", "0.02", "--csv", "--leave-out", "post_agb,tpagb"])
+left = parse_csv(out)
+t.ok(not any(r["phase"] in ("post_agb", "tpagb") for r in left) and any(r["phase"] == "rgb" for r in left),
+     "--leave-out post_agb,tpagb removes those phases only")
+rc, out, err = run(["isochrone"] + G + ["--age", "3Gyr", "--phases", "ms,foo"])
+t.ok(rc != EXIT_OK and "'foo' is not a phase key" in err, "an unknown phase key refused: %r" % err.strip())
+
 # ---- life: keypoints, phases, remnant
 for m, z in ((2.3, 0.008), (1.0, 0.02), (15.0, 0.014), (0.7, 0.006)):
     s = g.star(m, z)
