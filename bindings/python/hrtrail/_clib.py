@@ -43,6 +43,11 @@ class HrtPhaseSpan(ctypes.Structure):
                 ("start_yr", ctypes.c_double), ("end_yr", ctypes.c_double)]
 
 
+class HrtIsochroneOptions(ctypes.Structure):
+    """struct hrt_isochrone_options."""
+    _fields_ = [("phases", ctypes.c_uint64), ("max_dlog_l", ctypes.c_double), ("reserved", ctypes.c_double * 6)]
+
+
 class AbiMismatchError(ImportError):
     """The shared library found is not the one this package was written for."""
 
@@ -154,6 +159,8 @@ def _declare(lib):
         "hrt_star_remnant": (i, [vp, pi, pd]),
         "hrt_star_phases": (i, [vp, ctypes.POINTER(HrtPhaseSpan), sz, psz]),
         "hrt_isochrone": (i, [vp, d, d, vp, sz, psz, err]),
+        "hrt_isochrone_options_default": (None, [ctypes.POINTER(HrtIsochroneOptions)]),
+        "hrt_isochrone_with": (i, [vp, d, d, ctypes.POINTER(HrtIsochroneOptions), vp, sz, psz, err]),
         "hrt_wd_radius_rsun": (d, [d]),
         "hrt_wd_log_l": (d, [d, i, d, d]),
     }

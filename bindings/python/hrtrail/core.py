@@ -15,9 +15,9 @@ import ctypes
 import re as _re
 import weakref
 
-from ._clib import HrtPhaseSpan, HrtState, lib, text
+from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
 from .enums import Flag, Phase, Remnant, Status, as_interp
-from .errors import check, error_for, new_error
+from .errors import InvalidInputError, check, error_for, new_error
 
 try:
     import numpy as _np
@@ -135,6 +135,19 @@ class State:
 def _as_f8(a):
     """C-contiguous float64 array of a's shape, 0-d included (no copy when a already is one)."""
     return _np.asarray(a, dtype=_np.float64, order="C")
+
+
+def _phase_mask(phases):
+    """A bit mask of phases given as Phase members, codes or keys (HRT_PHASE_BIT)."""
+    mask = 0
+    for p in phases:
+        try:
+            code = Phase[p.upper()] if isinstance(p, str) else Phase(int(p))
+        except (KeyError, ValueError):
+            raise InvalidInputError(Status.INVALID, "%r is not a phase (a Phase, its code or its key)" % (p,)) \
+                from None
+        mask |= 1 << int(code)
+    return mask
 
 
 class _Owned:
@@ -404,21 +417,34 @@ class Grid(_Owned):
             raise exc
         return states
 
-    def isochrone(self, age_yr, z):
-        """The isochrone at age_yr (yr, > 0) and metallicity z, sampled at EEPs.
+    def isochrone(self, age_yr, z, phases=None, leave_out=(), max_dlog_l=None):
+        """The isochrone at age_yr (yr, > 0) and metallicity z.
 
-        Returns a STATE_DTYPE array ordered by route, then EEP, then initial mass
-        (remnants excluded).  Raises OutsideGridError (Z out of range) or
-        InvalidInputError (age not positive and finite).
+        Every initial mass alive and modelled at that age: one point at each EEP
+        the age falls on, the ends of each route's masses, and between
+        neighbours of one phase as many masses as keep log L steps within
+        max_dlog_l (dex; default 0.02).  phases: the phases to include, as
+        Phase members or keys (default: every phase of a luminous star, no
+        remnants); leave_out: phases to remove.  Returns a STATE_DTYPE array
+        ordered by route, then initial mass.  Raises OutsideGridError (Z out of
+        range) or InvalidInputError (age not positive and finite, unknown phase).
         """
         _need_numpy("Grid.isochrone")
         h = self._handle
+        opt = HrtIsochroneOptions()
+        lib.hrt_isochrone_options_default(ctypes.byref(opt))
+        if phases is not None:
+            opt.phases = _phase_mask(phases)
+        opt.phases &= ~_phase_mask(leave_out)
+        if max_dlog_l is not None:
+            opt.max_dlog_l = float(max_dlog_l)
         cap = 4096
         n = ctypes.c_size_t()
         while True:
             out = _np.empty(cap, dtype=STATE_DTYPE)
             e, pe = new_error()
-            rc = lib.hrt_isochrone(h, float(age_yr), float(z), out.ctypes.data, cap, ctypes.byref(n), pe)
+            rc = lib.hrt_isochrone_with(h, float(age_yr), float(z), ctypes.byref(opt), out.ctypes.data, cap,
+                                        ctypes.byref(n), pe)
             if rc == Status.BUFFER and n.value > cap:
                 cap = n.value
                 continue

@@ -415,6 +415,23 @@ class StarAndIsochrone(Base):
                 self.assertGreater(iso.size, 100)
                 self.assertSameBytes(iso, out, "isochrone(%g yr, Z = %g)" % (age, z))
 
+    def test_isochrone_phases(self):
+        """phases / leave_out / max_dlog_l reach hrt_isochrone_with: what is asked is what comes back."""
+        base = self.grid.isochrone(1e9, 0.014)
+        phases = set(int(p) for p in base["phase"])
+        self.assertNotIn(int(hrtrail.Phase.WD), phases)  # remnants left out by default
+        ms = self.grid.isochrone(1e9, 0.014, phases=["ms"])
+        self.assertEqual(set(int(p) for p in ms["phase"]), {int(hrtrail.Phase.MS)})
+        self.assertEqual(ms["initial_mass_msun"].min(), base["initial_mass_msun"].min())
+        no_pagb = self.grid.isochrone(1e9, 0.014, leave_out=[hrtrail.Phase.POST_AGB])
+        self.assertEqual(set(int(p) for p in no_pagb["phase"]), phases - {int(hrtrail.Phase.POST_AGB)})
+        with_wd = self.grid.isochrone(1e9, 0.014, phases=[p for p in hrtrail.Phase if p != hrtrail.Phase.UNKNOWN])
+        self.assertIn(int(hrtrail.Phase.WD), set(int(p) for p in with_wd["phase"]))
+        coarse = self.grid.isochrone(1e9, 0.014, max_dlog_l=0.2)
+        self.assertLess(coarse.size, base.size)
+        with self.assertRaises(hrtrail.InvalidInputError):
+            self.grid.isochrone(1e9, 0.014, phases=["no_such_phase"])
+
 
 class Errors(Base):
     """Library errors as exceptions carrying the code and the library's message."""
