@@ -10,6 +10,7 @@ semi-analytic model built from published relations (tracks/MODEL.md), meant
 for population-level work, not precision stellar physics.
 """
 import collections
+import os
 import concurrent.futures
 import ctypes
 import re as _re
@@ -17,6 +18,7 @@ import weakref
 
 from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
 from .enums import Flag, Phase, Remnant, Status, as_interp
+from . import units as _u
 from .errors import InvalidInputError, check, error_for, new_error
 
 try:
@@ -206,10 +208,10 @@ class Grid(_Owned):
         it = as_interp(interp)
         h = ctypes.c_void_p()
         e, pe = new_error()
-        cpath = None if path is None else str(path).encode()
+        cpath = None if path is None else _u.path(path)
         check(lib.hrt_grid_open_with(cpath, int(it), ctypes.byref(h), pe), e, "opening grid")
         self._h = h
-        self.path = str(path) if path is not None else text(lib.hrt_default_grid_path())
+        self.path = os.fsdecode(cpath) if path is not None else text(lib.hrt_default_grid_path())
         """Path of the grid file."""
 
     _what = "grid"
@@ -252,7 +254,7 @@ class Grid(_Owned):
     def mass_range(self, z):
         """(lowest, highest) initial mass covered at metallicity z, Msun."""
         lo, hi = ctypes.c_double(), ctypes.c_double()
-        check(lib.hrt_grid_mass_range(self._handle, float(z), ctypes.byref(lo), ctypes.byref(hi)),
+        check(lib.hrt_grid_mass_range(self._handle, _u.value(z, "fraction", "z"), ctypes.byref(lo), ctypes.byref(hi)),
               None, "mass_range(Z = %r)" % (z,))
         return lo.value, hi.value
 
@@ -265,7 +267,8 @@ class Grid(_Owned):
     def route_of(self, mass_msun, z):
         """Index of the route a star of initial mass (Msun) and metallicity z follows."""
         r = ctypes.c_int()
-        check(lib.hrt_grid_route_of(self._handle, float(mass_msun), float(z), ctypes.byref(r)), None,
+        check(lib.hrt_grid_route_of(self._handle, _u.value(mass_msun, "mass", "mass_msun"), _u.value(z, "fraction", "z"),
+                                    ctypes.byref(r)), None,
               "route_of(%r Msun, Z = %r)" % (mass_msun, z))
         return r.value
 
@@ -309,10 +312,11 @@ class Grid(_Owned):
 
         Raises OutsideGridError or InvalidInputError as the library reports.
         """
-        m, a = ctypes.c_double(mass_msun), ctypes.c_double(age_yr)
+        m = ctypes.c_double(_u.value(mass_msun, "mass", "mass_msun"))
+        a = ctypes.c_double(_u.value(age_yr, "age", "age_yr"))
         out = HrtState()
         e, pe = new_error()
-        rc = lib.hrt_eval(self._handle, 1, ctypes.addressof(m), None, float(z), ctypes.addressof(a),
+        rc = lib.hrt_eval(self._handle, 1, ctypes.addressof(m), None, _u.value(z, "fraction", "z"), ctypes.addressof(a),
                           ctypes.addressof(out), pe)
         check(rc, e, "hrt_eval")
         return State.from_c(out)
@@ -340,6 +344,9 @@ class Grid(_Owned):
         if _np is None:
             return self._evaluate_plain(mass_msun, age_yr, z, errors)
         h = self._handle
+        mass_msun = _u.array(mass_msun, "mass", "mass_msun")
+        age_yr = _u.array(age_yr, "age", "age_yr")
+        z = _u.array(z, "fraction", "z")
         z_is_scalar = _np.ndim(z) == 0
         if z_is_scalar:
             m, a = _np.broadcast_arrays(_as_f8(mass_msun), _as_f8(age_yr))
@@ -393,16 +400,16 @@ class Grid(_Owned):
         return out
 
     def _evaluate_plain(self, mass_msun, age_yr, z, errors):
-        m = [float(x) for x in mass_msun]
-        a = [float(x) for x in age_yr]
+        m = [_u.value(x, "mass", "mass_msun") for x in mass_msun]
+        a = [_u.value(x, "age", "age_yr") for x in age_yr]
         if len(m) != len(a):
             raise ValueError("mass_msun and age_yr differ in length")
         n = len(m)
         cm, ca = (ctypes.c_double * n)(*m), (ctypes.c_double * n)(*a)
-        if isinstance(z, (int, float)):
-            cz, z_all = None, float(z)
+        if not isinstance(z, (list, tuple)):
+            cz, z_all = None, _u.value(z, "fraction", "z")
         else:
-            zl = [float(x) for x in z]
+            zl = [_u.value(x, "fraction", "z") for x in z]
             if len(zl) != n:
                 raise ValueError("z differs in length from mass_msun")
             cz, z_all = (ctypes.c_double * n)(*zl), 0.0
@@ -443,7 +450,8 @@ class Grid(_Owned):
         while True:
             out = _np.empty(cap, dtype=STATE_DTYPE)
             e, pe = new_error()
-            rc = lib.hrt_isochrone_with(h, float(age_yr), float(z), ctypes.byref(opt), out.ctypes.data, cap,
+            rc = lib.hrt_isochrone_with(h, _u.value(age_yr, "age", "age_yr"), _u.value(z, "fraction", "z"),
+                                        ctypes.byref(opt), out.ctypes.data, cap,
                                         ctypes.byref(n), pe)
             if rc == Status.BUFFER and n.value > cap:
                 cap = n.value
@@ -469,7 +477,8 @@ class Star(_Owned):
         self.grid = grid
         h = ctypes.c_void_p()
         e, pe = new_error()
-        check(lib.hrt_star_new(grid._handle, float(mass_msun), float(z), ctypes.byref(h), pe), e,
+        check(lib.hrt_star_new(grid._handle, _u.value(mass_msun, "mass", "mass_msun"), _u.value(z, "fraction", "z"),
+                               ctypes.byref(h), pe), e,
               "hrt_star_new(%r Msun, Z = %r)" % (mass_msun, z))
         self._h = h
         grid._stars.add(self)
@@ -520,12 +529,12 @@ class Star(_Owned):
         InvalidInputError (NaN or negative age) or OutsideGridError (past a
         truncated track with no known remnant).
         """
-        if _np is None or _np.ndim(age_yr) == 0:
+        if _np is None or (_np.ndim(age_yr) == 0 and not _u._holds_quantity(age_yr)):
             out = HrtState()
-            check(lib.hrt_star_at(self._handle, float(age_yr), ctypes.addressof(out)), None,
+            check(lib.hrt_star_at(self._handle, _u.value(age_yr, "age", "age_yr"), ctypes.addressof(out)), None,
                   "hrt_star_at(%r yr)" % (age_yr,))
             return State.from_c(out)
-        a = _as_f8(age_yr)
+        a = _u.array(age_yr, "age", "age_yr")
         return self.grid.evaluate(_np.full(a.shape, self.initial_mass_msun), a, self.z)
 
     def track(self):
@@ -604,5 +613,5 @@ def upgrade_grid(old_path, new_path):
     unwritable destination).
     """
     e, pe = new_error()
-    check(lib.hrt_grid_upgrade(str(old_path).encode(), str(new_path).encode(), pe), e,
+    check(lib.hrt_grid_upgrade(_u.path(old_path, "old_path"), _u.path(new_path, "new_path"), pe), e,
           "hrt_grid_upgrade(%s -> %s)" % (old_path, new_path))

@@ -433,6 +433,45 @@ class StarAndIsochrone(Base):
             self.grid.isochrone(1e9, 0.014, phases=["no_such_phase"])
 
 
+class Units(Base):
+    """Inputs in the library's units: astropy Quantities converted (astropy 5.2, Debian), plain numbers
+    taken as Msun / yr / fraction, anything else refused; paths as str, bytes or PathLike, NUL refused."""
+
+    def test_quantities_are_converted(self):
+        import astropy.units as u  # reference: astropy's own unit conversions
+        st = self.grid.state(1.0, 1 * u.Gyr, 0.014)
+        self.assertEqual(st.age_yr, 1e9)  # not 1 yr
+        self.assertEqual(self.grid.state(1 * u.Msun, 1e9, 0.014).initial_mass_msun, 1.0)
+        ref = self.grid.evaluate([1.0, 2.0], [1e9, 2e9], 0.014)
+        got = self.grid.evaluate([1.0, 2.0] * u.Msun, [1.0, 2.0] * u.Gyr, 0.014 * u.dimensionless_unscaled)
+        self.assertEqual(ref.tobytes(), got.tobytes())
+        self.assertEqual(self.grid.evaluate([1.0], [1 * u.Gyr], 0.014)["age_yr"][0], 1e9)  # a list of Quantities
+        self.assertEqual(self.grid.evaluate([1.0], [1000 * u.Myr], 0.014).tobytes(),
+                         self.grid.evaluate([1.0], [1e9], 0.014).tobytes())
+        s = self.grid.star(1.0 * u.Msun, 0.014)
+        self.assertEqual(s.at(4.57 * u.Gyr).age_yr, 4.57e9)
+        self.assertEqual(len(self.grid.isochrone(1 * u.Gyr, 0.014)), len(self.grid.isochrone(1e9, 0.014)))
+
+    def test_what_cannot_be_read_exactly_is_refused(self):
+        import astropy.units as u
+        for what, call in [("age in metres", lambda: self.grid.state(1.0, 1 * u.m, 0.014)),
+                           ("age as text", lambda: self.grid.state(1.0, "1Gyr", 0.014)),
+                           ("mass as a boolean", lambda: self.grid.state(True, 1e9, 0.014)),
+                           ("z in kelvin", lambda: self.grid.evaluate([1.0], [1e9], 5 * u.K)),
+                           ("ages as text", lambda: self.grid.evaluate([1.0], ["1e9"], 0.014)),
+                           ("mass in seconds", lambda: self.grid.star(1 * u.s, 0.014)),
+                           ("path with NUL", lambda: hrtrail.Grid(GRID + "\0.h5")),
+                           ("path of another type", lambda: hrtrail.Grid(42))]:
+            with self.subTest(what):
+                with self.assertRaises(hrtrail.InvalidInputError):
+                    call()
+
+    def test_paths(self):
+        self.assertEqual(hrtrail.Grid(os.fsencode(GRID)).path, GRID)
+        import pathlib
+        self.assertEqual(hrtrail.Grid(pathlib.Path(GRID)).path, GRID)
+
+
 class Errors(Base):
     """Library errors as exceptions carrying the code and the library's message."""
 
