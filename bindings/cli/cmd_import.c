@@ -9,12 +9,37 @@
 
 #include "cli.h"
 
-enum { O_OUT = 1, O_MAP, O_MAP_FILE, O_Z, O_Z_REF, O_ROUTES, O_KEEP, O_DRY };
+enum { O_OUT = 1, O_MAP, O_MAP_FILE, O_Z, O_Z_REF, O_ROUTES, O_KEEP, O_DRY, O_FORCE, O_BOUNDS };
 static const optdef import_opts[] = {
     {"output", 'o', 1, O_OUT},   {"map", 0, 1, O_MAP},          {"map-file", 0, 1, O_MAP_FILE},
     {"z", 0, 1, O_Z},            {"z-ref", 0, 1, O_Z_REF},      {"routes", 0, 1, O_ROUTES},
-    {"keep-going", 0, 0, O_KEEP}, {"dry-run", 0, 0, O_DRY},     {NULL, 0, 0, 0},
+    {"keep-going", 0, 0, O_KEEP}, {"dry-run", 0, 0, O_DRY},     {"force", 0, 0, O_FORCE},
+    {"route-boundaries", 0, 1, O_BOUNDS}, {NULL, 0, 0, 0},
 };
+
+/* --route-boundaries [Z:]M1,M2,...: the route-boundary masses of metallicity Z (every Z without one). */
+static int route_boundaries(cli *c, hrt_import *imp, const char *val)
+{
+    char buf[1024], *masses = buf, *colon;
+    double z = NAN, m[32];
+    size_t n = 0;
+    hrt_error err = {0, ""};
+    snprintf(buf, sizeof buf, "%s", val);
+    if ((colon = strchr(buf, ':')) != NULL) {
+        *colon = '\0';
+        masses = colon + 1;
+        if (parse_number(buf, &z) != 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "--route-boundaries %s: '%s' is not a metallicity", val, buf);
+    }
+    for (char *tok = strtok(masses, ","); tok; tok = strtok(NULL, ",")) {
+        if (n == sizeof m / sizeof m[0] || parse_number(tok, &m[n]) != 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "--route-boundaries %s: expected [Z:]MASS,MASS,... (Msun)", val);
+        n++;
+    }
+    if (hrt_import_set_route_boundaries(imp, z, n, m, &err) != HRT_OK)
+        return cli_fail(c, CLI_EXIT_USAGE, "--route-boundaries %s: %s", val, err.message);
+    return 0;
+}
 
 static int cmp_str(const void *a, const void *b) { return strcmp(*(char *const *)a, *(char *const *)b); }
 
@@ -335,6 +360,8 @@ static int import_take(cli *c, void *ctx, int id, const char *val)
         return 0;
     case O_ROUTES: return read_routes(c, a->imp, val);
     case O_KEEP: hrt_import_set_lenient(a->imp, 1); return 0;
+    case O_FORCE: hrt_import_set_force(a->imp, 1); return 0;
+    case O_BOUNDS: return route_boundaries(c, a->imp, val);
     case O_DRY: a->dry = 1; return 0;
     case OPT_ARG: a->nfiles++; return add_path(c, a->imp, val, a->z);
     default: return 0;

@@ -177,9 +177,11 @@ typedef struct hrt_kp_result {
  *   Flags naming keypoints the route does not have are ignored here.
  * Notes:
  *   1. Keypoints are searched in the route's order, each strictly after the
- *      previous one.  A sample flagged with a keypoint's name takes
- *      precedence over every criterion; then the physical criteria of
- *      tracks/FORMAT.md on the columns given; then the phase column.
+ *      previous one.  Precedence: a sample flagged with a keypoint's name
+ *      outranks the phase column, which outranks the physical criteria:
+ *      the flag; the phase column where it marks the keypoint; the
+ *      physical criteria of tracks/FORMAT.md on the columns given; last,
+ *      for tams and cheb_end, an estimate from the phase column.
  *   2. Keypoint names hrtrail knows: zams, tams, rgb_base, he_ignition,
  *      cheb_start, cheb_end, first_pulse, agb_end, envelope_loss, wd_onset,
  *      core_collapse.  Other names can only be found by flags.
@@ -272,11 +274,49 @@ HRT_API int hrt_import_set_routes(hrt_import *imp, size_t n_routes, const hrt_ro
 /** Reference metallicity written to the grid (default 0.014); also used by {feh} in patterns. */
 HRT_API int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err);
 /**
- * Lenient mode (on != 0): a file that cannot be read, a row with a value
- * that is not finite, or a track the builder refuses is dropped and
- * reported instead of failing the import.  Default: strict.
+ * Lenient mode (on != 0): a bad data row (a value that is not a number,
+ * not finite or not positive, a phase that is not one, too few or too many
+ * fields, an age that does not increase) is dropped and reported
+ * (hrt_import_dropped_row()), and a file that cannot be read or is not a
+ * table, a track left with fewer than 2 rows or keypoints, or a track the
+ * builder refuses is dropped and reported, instead of failing the import.
+ * Default: strict (the first problem fails the import).  HRT_E_NULL if
+ * imp is NULL.
  */
 HRT_API int hrt_import_set_lenient(hrt_import *imp, int on);
+/**
+ * Force (on != 0): write a grid even when its routes collapse.  By default
+ * hrt_import_run() refuses, with HRT_E_INVALID and a message naming the
+ * metallicity and route, a grid in which a route of the layout has no
+ * track at some metallicity (e.g. every track on one route) or whose route
+ * boundaries do not increase.  HRT_E_NULL if imp is NULL.
+ */
+HRT_API int hrt_import_set_force(hrt_import *imp, int on);
+/**
+ * @brief Set the route-boundary masses of one metallicity instead of the
+ * geometric-mean rule.
+ *
+ * Given:
+ *   z          the metallicity (matched to the tracks' Z within a relative
+ *              1e-6), or NaN for every metallicity without its own setting
+ *   n          number of boundaries: one less than the number of routes
+ *              (checked when the import runs, as routes may still change)
+ *   mass_msun  n masses, Msun, finite, positive and non-decreasing;
+ *              boundary b separates route b from route b + 1
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (a mass not finite, not positive or
+ *   decreasing; z not NaN and not in (0, 1)), HRT_E_INVALID (n above the
+ *   most routes, or more metallicities than a grid holds).
+ * Notes:
+ *   1. hrt_import_run() checks them against the tracks: every track of a
+ *      route up to b must lie below boundary b and every track of a later
+ *      route above it, else HRT_E_INVALID naming the track.  A setting for
+ *      a metallicity no track has is an error (HRT_E_INVALID) unless the
+ *      import is lenient.
+ *   2. Setting the same z again replaces the earlier masses.
+ */
+HRT_API int hrt_import_set_route_boundaries(hrt_import *imp, double z, size_t n, const double *mass_msun,
+                                            hrt_error *err);
 /** Callback after each file is read: (user, files done, files in total, file name). May be NULL. */
 HRT_API int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *user, size_t done, size_t total,
                                                                       const char *file),
@@ -300,17 +340,24 @@ HRT_API int hrt_import_add_file(hrt_import *imp, const char *path, double z, hrt
  *   HRT_E_FORMAT (a file is not a usable table: parse errors, missing or
  *   absent mapped columns, non-increasing ages, non-finite values, binary
  *   data); HRT_E_INVALID (map incomplete, no usable track, tracks whose
- *   routes overlap in mass); HRT_E_NOMEM.
+ *   routes overlap in mass, route boundaries given that do not fit the
+ *   tracks, collapsed routes: see note 4); HRT_E_NOMEM.
  * Notes:
- *   1. Strict mode: any file problem fails the import.  Lenient: such
- *      tracks are dropped and reported; it fails only if none is left.
+ *   1. Strict mode: any file problem fails the import.  Lenient: a bad row
+ *      is dropped (hrt_import_dropped_row()), a bad file dropped; both are
+ *      reported; it fails only if no track is left.
  *   2. A track that stops between keypoints is cut at the last keypoint it
  *      reaches (reported as truncated); one reaching fewer than 2 is dropped.
  *   3. Resampling onto EEPs is hrt_builder_add_track(); route-boundary
- *      masses per metallicity are the geometric mean of the last track of
- *      one route and the first of the next.  The grid is written atomically
- *      and only when everything succeeded: on failure no file is created
- *      and an existing one is left as it was.
+ *      masses per metallicity are those of hrt_import_set_route_boundaries()
+ *      or else the geometric mean of the last track of one route and the
+ *      first of the next.  The grid is written atomically and only when
+ *      everything succeeded: on failure no file is created and an existing
+ *      one is left as it was.
+ *   4. Unless hrt_import_set_force() is on, a grid whose routes collapse is
+ *      refused: a route of the layout without a track at some metallicity
+ *      (e.g. every track on one route) or two equal route boundaries; the
+ *      message names the metallicity and the route.
  *   4. May be called once per import.
  */
 HRT_API int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err);
@@ -329,7 +376,7 @@ typedef struct hrt_import_track_report {
     int remnant;                /**< hrt_remnant assigned */
     double remnant_mass_msun;   /**< NaN if none */
     size_t n_rows;              /**< data rows read */
-    size_t n_rows_dropped;      /**< rows dropped in lenient mode (non-finite values) */
+    size_t n_rows_dropped;      /**< rows dropped in lenient mode (hrt_import_dropped_row()) */
     size_t n_keypoints;         /**< keypoints reached on the route */
     double keypoint_age_yr[HRT_IMPORT_MAX_KP]; /**< age of each */
     long keypoint_line[HRT_IMPORT_MAX_KP];     /**< file line of each */
@@ -337,10 +384,23 @@ typedef struct hrt_import_track_report {
     char missing[192];          /**< why the next keypoint of the route was not found */
 } hrt_import_track_report;
 
+/** A data row dropped in lenient mode (hrt_import_dropped_row()). */
+typedef struct hrt_import_row_report {
+    long line, column;          /**< where in the file (1-based) */
+    int code;                   /**< status code of the problem (HRT_E_FORMAT, ...) */
+    char message[320];          /**< "file:line:column: problem" */
+} hrt_import_row_report;
+
 /** Number of files added. */
 HRT_API size_t hrt_import_n_tracks(const hrt_import *imp);
-/** Report of file i (in the order added); HRT_E_INVALID if i is out of range. */
+/** Report of file i (in the order added); HRT_E_NULL, or HRT_E_INVALID if i is out of range. */
 HRT_API int hrt_import_track(const hrt_import *imp, size_t i, hrt_import_track_report *out);
+/**
+ * Dropped row k of file i, in the order of the file (k below the file's
+ * n_rows_dropped; the first 10000 are kept).  HRT_E_NULL, or HRT_E_INVALID
+ * if i or k is out of range.
+ */
+HRT_API int hrt_import_dropped_row(const hrt_import *imp, size_t i, size_t k, hrt_import_row_report *out);
 /** Number of routes of the import's layout. */
 HRT_API size_t hrt_import_n_routes(const hrt_import *imp);
 /** Name of route r; NULL if out of range. */
@@ -349,7 +409,11 @@ HRT_API const char *hrt_import_route_name(const hrt_import *imp, size_t r);
 HRT_API size_t hrt_import_route_n_keypoints(const hrt_import *imp, size_t r);
 /** Name of keypoint k of route r; NULL if out of range. */
 HRT_API const char *hrt_import_keypoint_name(const hrt_import *imp, size_t r, size_t k);
-/** Metallicity groups written (after a run): count, Z of group iz, boundary b of group iz (Msun). */
+/**
+ * Metallicity groups written (after a run): count, Z of group iz, boundary
+ * b of group iz (Msun).  Before a run, or for any index out of range, 0 or
+ * NaN.
+ */
 HRT_API size_t hrt_import_n_z(const hrt_import *imp);
 HRT_API double hrt_import_z(const hrt_import *imp, size_t iz);
 HRT_API double hrt_import_route_boundary(const hrt_import *imp, size_t iz, size_t b);

@@ -15,6 +15,15 @@
 #define MAX_TRACK_SAMPLES 10000000
 /* Longest route, keypoint or attribute name. */
 #define MAX_NAME_LEN 200
+/* The EEP distance is measured on a despiked track (tracks/FORMAT.md, "EEP
+ * resampling"): a sample more than DESPIKE_DEX (in the metric's weighted
+ * units) from the median of the samples within DESPIKE_HALF of it counts
+ * as if on the line between the samples around it, so an excursion of up
+ * to DESPIKE_HALF samples does not take the segment's EEPs.  On the
+ * default grid's raw tracks no sample lies more than 0.06 from that
+ * median: they are not changed. */
+#define DESPIKE_HALF 5
+#define DESPIKE_DEX 0.2
 
 static const char *quantity_name(int q) { return trail_schema_names.eep[q].v2; }
 
@@ -138,7 +147,7 @@ int hrt_builder_new(size_t n_routes, const hrt_route_spec *routes, double z_ref,
         return rc;
     }
     *out = b;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 static trail_z_group *find_group(hrt_builder *b, double z, int create)
@@ -194,11 +203,21 @@ static trail_eep_track *new_track(hrt_builder *b, double z, int n, hrt_error *er
     return t;
 }
 
+/* Remove the track just added to the group of z; a group it leaves empty
+ * goes too unless its route boundaries were set (a metallicity whose every
+ * track was refused is no part of the grid). */
 static void drop_last(hrt_builder *b, double z)
 {
     trail_z_group *g = find_group(b, z, 0);
-    if (g && g->n > 0)
-        free_track(&g->t[--g->n]);
+    if (!g || g->n == 0)
+        return;
+    free_track(&g->t[--g->n]);
+    if (g->n == 0 && !g->has_boundary) {
+        free(g->t);
+        size_t i = (size_t)(g - b->grp);
+        memmove(&b->grp[i], &b->grp[i + 1], (b->n_groups - i - 1) * sizeof *g);
+        b->n_groups--;
+    }
 }
 
 /* t's columns in the file's order of quantities (TRAIL_F_*); log R may be NULL. */
@@ -241,8 +260,9 @@ static int check_identity(const hrt_builder *b, double z, const hrt_track_data *
                                "the white dwarf mass-radius relation", who, m, t->remnant_mass_msun,
                                TRAIL_WD_MASS_MAX_MSUN);
     if (t->n < TRAIL_MIN_SAMPLES || t->n > MAX_TRACK_SAMPLES)
-        return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: %zu points (at least %d)", who, m, t->n,
-                               TRAIL_MIN_SAMPLES);
+        return trail_set_error(err, HRT_E_INVALID, "%s %g Msun: %zu points (%s %d)", who, m, t->n,
+                               t->n < TRAIL_MIN_SAMPLES ? "at least" : "at most",
+                               t->n < TRAIL_MIN_SAMPLES ? TRAIL_MIN_SAMPLES : MAX_TRACK_SAMPLES);
     return HRT_OK;
 }
 
@@ -357,7 +377,7 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
             bt->q[q][i] = value_at(t, cols, q, i);
         bt->phase[i] = t->phase[i];
     }
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 /* The keypoints a raw track reaches: a prefix of its route's, in order,
@@ -365,7 +385,10 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
 static int check_keypoints(const route_layout *L, const hrt_track_data *t, hrt_error *err)
 {
     size_t nk = t->n_keypoints;
-    if (nk < TRAIL_MIN_KEYPOINTS || nk > L->n_kp || !t->keypoint_sample)
+    if (!t->keypoint_sample)
+        return trail_set_error(err, HRT_E_NULL, "track %g Msun: keypoint_sample is NULL (a raw track needs the sample "
+                               "of each keypoint it reaches)", t->initial_mass_msun);
+    if (nk < TRAIL_MIN_KEYPOINTS || nk > L->n_kp)
         return trail_set_error(err, HRT_E_INVALID, "track %g Msun: %zu keypoints reached, route '%s' needs %d..%zu",
                                t->initial_mass_msun, nk, L->name, TRAIL_MIN_KEYPOINTS, L->n_kp);
     for (size_t k = 0; k < nk; k++) {
@@ -381,17 +404,62 @@ static int check_keypoints(const route_layout *L, const hrt_track_data *t, hrt_e
     return HRT_OK;
 }
 
-/* Cumulative distance from sample sa to each sample up to sb in the metric
- * of tracks/FORMAT.md: dist[s - sa], dist[0] = 0. */
-static void segment_distance(const hrt_track_data *t, size_t sa, size_t sb, double *dist)
+/* Median of the n (<= 2 DESPIKE_HALF + 1) values v, which it reorders. */
+static double median_of(double *v, size_t n)
 {
+    for (size_t i = 1; i < n; i++)
+        for (size_t j = i; j > 0 && v[j - 1] > v[j]; j--) {
+            double x = v[j];
+            v[j] = v[j - 1];
+            v[j - 1] = x;
+        }
+    return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+/* The despiked copy of x[sa..sb] (tracks/FORMAT.md, "EEP resampling") into
+ * y[0..sb-sa]: a sample inside the segment lying more than tol from the
+ * median of the samples within DESPIKE_HALF of it (a window symmetric
+ * about it and inside the segment) is an excursion, and counts at the
+ * value linear in age between the samples around its run; the keypoints
+ * and every other sample count as they are. */
+static void despike(const double *x, const double *log_age, size_t sa, size_t sb, double tol, double *y)
+{
+    double w[2 * DESPIKE_HALF + 1];
+    y[0] = x[sa];
+    y[sb - sa] = x[sb];
+    for (size_t s = sa + 1; s < sb; s++) {
+        size_t h = s - sa < sb - s ? s - sa : sb - s;
+        if (h > DESPIKE_HALF)
+            h = DESPIKE_HALF;
+        for (size_t j = 0; j <= 2 * h; j++)
+            w[j] = x[s - h + j];
+        y[s - sa] = fabs(x[s] - median_of(w, 2 * h + 1)) > tol ? NAN : x[s]; /* NaN: an excursion */
+    }
+    size_t kept = 0; /* offset of the last sample kept */
+    for (size_t i = 1; i <= sb - sa; i++) {
+        if (isnan(y[i]))
+            continue;
+        double a0 = pow(10.0, log_age[sa + kept]), a1 = pow(10.0, log_age[sa + i]);
+        for (size_t j = kept + 1; j < i; j++)
+            y[j] = y[kept] + (pow(10.0, log_age[sa + j]) - a0) / (a1 - a0) * (y[i] - y[kept]);
+        kept = i;
+    }
+}
+
+/* Cumulative distance from sample sa to each sample up to sb in the metric
+ * of tracks/FORMAT.md: dist[s - sa], dist[0] = 0.  l and teff are the
+ * segment's despiked log L and log Teff, from sa on (work space). */
+static void segment_distance(const hrt_track_data *t, size_t sa, size_t sb, double *dist, double *l, double *teff)
+{
+    despike(t->log_l_lsun, t->log_age_yr, sa, sb, DESPIKE_DEX / HRT_EEP_WEIGHT_LOG_L, l);
+    despike(t->log_teff_k, t->log_age_yr, sa, sb, DESPIKE_DEX / HRT_EEP_WEIGHT_LOG_TEFF, teff);
     double age_a = pow(10.0, t->log_age_yr[sa]), age_b = pow(10.0, t->log_age_yr[sb]);
     dist[0] = 0.0;
     double f_prev = 0.0;
     for (size_t s = sa + 1; s <= sb; s++) {
         double f = (pow(10.0, t->log_age_yr[s]) - age_a) / (age_b - age_a); /* fraction of the segment's age */
-        double d_teff = HRT_EEP_WEIGHT_LOG_TEFF * (t->log_teff_k[s] - t->log_teff_k[s - 1]);
-        double d_l = HRT_EEP_WEIGHT_LOG_L * (t->log_l_lsun[s] - t->log_l_lsun[s - 1]);
+        double d_teff = HRT_EEP_WEIGHT_LOG_TEFF * (teff[s - sa] - teff[s - sa - 1]);
+        double d_l = HRT_EEP_WEIGHT_LOG_L * (l[s - sa] - l[s - sa - 1]);
         double d_age = HRT_EEP_WEIGHT_AGE * (f - f_prev);
         dist[s - sa] = dist[s - sa - 1] + sqrt(d_teff * d_teff + d_l * d_l + d_age * d_age);
         f_prev = f;
@@ -433,7 +501,7 @@ static int resample(const route_layout *L, trail_eep_track *bt, const hrt_track_
         if (len > longest)
             longest = len;
     }
-    double *dist = malloc(longest * sizeof(double));
+    double *dist = malloc(3 * longest * sizeof(double)); /* distances, then despiked log L and log Teff */
     if (!dist)
         return trail_set_error(err, HRT_E_NOMEM, "out of memory resampling a track");
     const double *cols[TRAIL_NF];
@@ -442,7 +510,7 @@ static int resample(const route_layout *L, trail_eep_track *bt, const hrt_track_
     for (size_t k = 0; k + 1 < nk; k++) {
         size_t sa = t->keypoint_sample[k], sb = t->keypoint_sample[k + 1];
         int n_eep = (int)(L->kp_eep[k + 1] - L->kp_eep[k]);
-        segment_distance(t, sa, sb, dist);
+        segment_distance(t, sa, sb, dist, dist + longest, dist + 2 * longest);
         resample_segment(bt, eep, t, cols, sa, sb, n_eep, dist);
         eep += n_eep;
     }
@@ -476,9 +544,11 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
     if (!bt)
         return rc;
     rc = resample(L, bt, t, err);
-    if (rc != HRT_OK)
+    if (rc != HRT_OK) {
         drop_last(b, z);
-    return rc;
+        return rc;
+    }
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const double *m, hrt_error *err)
@@ -495,7 +565,7 @@ int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const double *m, 
     g->has_boundary = 1;
     for (size_t k = 0; k + 1 < b->n_routes; k++)
         g->boundary[k] = m[k];
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *value, hrt_error *err)
@@ -515,7 +585,7 @@ int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *valu
                 return trail_set_error(err, HRT_E_NOMEM, "out of memory");
             free(b->attrs[a].value);
             b->attrs[a].value = v;
-            return HRT_OK;
+            return trail_set_error(err, HRT_OK, NULL);
         }
     }
     attr_pair *p = realloc(b->attrs, (b->n_attrs + 1) * sizeof *p);
@@ -530,5 +600,5 @@ int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *valu
         return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     }
     b->n_attrs++;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }

@@ -40,7 +40,7 @@ static int cmp_group(const void *a, const void *b)
 /* Tracks of g sorted by mass: no mass twice, routes in order of mass. */
 static int sort_tracks(const hrt_builder *b, trail_z_group *g, hrt_error *err)
 {
-    if (g->n == 0)
+    if (g->n == 0) /* only hrt_builder_set_route_boundaries() makes a group without tracks */
         return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundaries set but no tracks", g->z);
     qsort(g->t, g->n, sizeof *g->t, cmp_track);
     for (size_t i = 1; i < g->n; i++) {
@@ -77,6 +77,15 @@ static int boundaries(const hrt_builder *b, trail_z_group *g, hrt_error *err)
 /* Check the builder's content and compute boundaries; sorts in place. */
 static int prepare_write(hrt_builder *b, hrt_error *err)
 {
+    /* a group left without tracks by refused ones (and no boundaries set) is no part of the grid */
+    size_t kept = 0;
+    for (size_t gi = 0; gi < b->n_groups; gi++) {
+        if (b->grp[gi].n == 0 && !b->grp[gi].has_boundary)
+            free(b->grp[gi].t);
+        else
+            b->grp[kept++] = b->grp[gi];
+    }
+    b->n_groups = kept;
     if (b->n_groups == 0)
         return trail_set_error(err, HRT_E_INVALID, "no tracks to write");
     qsort(b->grp, b->n_groups, sizeof *b->grp, cmp_group);
@@ -454,5 +463,5 @@ int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
     if (rc != HRT_OK)
         unlink(tmp);
     free(tmp);
-    return rc;
+    return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
 }

@@ -87,7 +87,7 @@ int hrt_import_new(hrt_import **out, hrt_error *err)
         return rc;
     }
     *out = imp;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 void trail_import_free_data(trail_import_track *t)
@@ -124,8 +124,12 @@ void hrt_import_free(hrt_import *imp)
     free(imp->pattern);
     free_routes(imp);
     for (size_t i = 0; i < imp->n_tracks; i++) {
-        trail_import_free_data(&imp->t[i]);
-        free(imp->t[i].path);
+        trail_import_track *t = &imp->t[i];
+        trail_import_free_data(t);
+        free(t->path);
+        for (size_t k = 0; k < t->n_dropped; k++)
+            free(t->dropped[k].message);
+        free(t->dropped);
     }
     free(imp->t);
     free(imp);
@@ -151,7 +155,8 @@ int hrt_import_set_routes(hrt_import *imp, size_t n, const hrt_route_spec *route
                 return trail_set_error(err, HRT_E_INVALID, "route '%s': segment %zu has %d EEPs (1..%d)", s->name, k,
                                        s->segment_samples[k], TRAIL_MAX_SEGMENT_EEP);
     }
-    return store_routes(imp, n, routes, err);
+    int rc = store_routes(imp, n, routes, err);
+    return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
 }
 
 int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err)
@@ -161,7 +166,7 @@ int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err)
     if (!(isfinite(z_ref) && z_ref > 0.0 && z_ref < 1.0))
         return trail_set_error(err, HRT_E_DOMAIN, "Z_ref = %g is not in (0, 1)", z_ref);
     imp->z_ref = z_ref;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 int hrt_import_set_lenient(hrt_import *imp, int on)
@@ -170,6 +175,53 @@ int hrt_import_set_lenient(hrt_import *imp, int on)
         return HRT_E_NULL;
     imp->lenient = on != 0;
     return HRT_OK;
+}
+
+int hrt_import_set_force(hrt_import *imp, int on)
+{
+    if (!imp)
+        return HRT_E_NULL;
+    imp->force = on != 0;
+    return HRT_OK;
+}
+
+/* The masses of a route-boundary setting: finite, positive, non-decreasing. */
+static int check_bounds(size_t n, const double *m, hrt_error *err)
+{
+    if (n + 1 > TRAIL_MAX_ROUTES)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_import_set_route_boundaries: %zu boundaries, at most %d",
+                               n, TRAIL_MAX_ROUTES - 1);
+    for (size_t k = 0; k < n; k++)
+        if (!(isfinite(m[k]) && m[k] > 0.0) || (k > 0 && m[k] < m[k - 1]))
+            return trail_set_error(err, HRT_E_DOMAIN, "route boundary %zu: %g Msun is not finite, positive and at "
+                                   "least the one before", k, m[k]);
+    return HRT_OK;
+}
+
+int hrt_import_set_route_boundaries(hrt_import *imp, double z, size_t n, const double *mass_msun, hrt_error *err)
+{
+    if (!imp || (!mass_msun && n > 0))
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_set_route_boundaries: NULL argument");
+    if (!isnan(z) && !(isfinite(z) && z > 0.0 && z < 1.0))
+        return trail_set_error(err, HRT_E_DOMAIN, "route boundaries: Z = %g is not in (0, 1) (NaN: every Z)", z);
+    int rc = check_bounds(n, mass_msun, err);
+    if (rc != HRT_OK)
+        return rc;
+    size_t i = 0;
+    while (i < imp->n_user_bounds && !(isnan(z) ? isnan(imp->user_bounds[i].z) : imp->user_bounds[i].z == z))
+        i++;
+    if (i == imp->n_user_bounds) {
+        if (i == sizeof imp->user_bounds / sizeof imp->user_bounds[0])
+            return trail_set_error(err, HRT_E_INVALID, "route boundaries for more than %d metallicities",
+                                   TRAIL_MAX_Z);
+        imp->n_user_bounds++;
+    }
+    trail_user_bounds *u = &imp->user_bounds[i];
+    u->z = z;
+    u->n = n;
+    for (size_t k = 0; k < n; k++)
+        u->mass_msun[k] = mass_msun[k];
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *, size_t, size_t, const char *), void *user)
@@ -206,7 +258,7 @@ int hrt_import_add_file(hrt_import *imp, const char *path, double z, hrt_error *
     t->report.route = -1;
     t->report.remnant_mass_msun = NAN;
     imp->n_tracks++;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 /* ---- notes and problems of a track ----------------------------------------- */
@@ -228,6 +280,28 @@ int trail_import_problem(trail_import_track *t, int code, long line, long column
     if (err && err->code == HRT_OK)
         trail_set_error(err, code, "%s", t->report.message);
     return code;
+}
+
+int trail_import_drop_row(trail_import_track *t, int code, long line, long column, const char *msg)
+{
+    t->report.n_rows_dropped++;
+    if (t->n_dropped == TRAIL_MAX_DROPPED_LISTED)
+        return 0;
+    if (t->n_dropped == t->cap_dropped) {
+        size_t cap = t->cap_dropped ? 2 * t->cap_dropped : 16;
+        trail_dropped_row *d = realloc(t->dropped, cap * sizeof *d);
+        if (!d)
+            return -1;
+        t->dropped = d;
+        t->cap_dropped = cap;
+    }
+    char text[sizeof ((hrt_import_row_report *)0)->message];
+    snprintf(text, sizeof text, "%.120s:%ld:%ld: %.180s", t->path, line, column, msg);
+    char *m = trail_strdup(text);
+    if (!m)
+        return -1;
+    t->dropped[t->n_dropped++] = (trail_dropped_row){line, column, code, m};
+    return 0;
 }
 
 void trail_import_note(trail_import_track *t, const char *fmt, ...)
@@ -270,6 +344,20 @@ int hrt_import_track(const hrt_import *imp, size_t i, hrt_import_track_report *o
     return HRT_OK;
 }
 
+int hrt_import_dropped_row(const hrt_import *imp, size_t i, size_t k, hrt_import_row_report *out)
+{
+    if (!imp || !out)
+        return HRT_E_NULL;
+    if (i >= imp->n_tracks || k >= imp->t[i].n_dropped)
+        return HRT_E_INVALID;
+    const trail_dropped_row *d = &imp->t[i].dropped[k];
+    out->line = d->line;
+    out->column = d->column;
+    out->code = d->code;
+    snprintf(out->message, sizeof out->message, "%s", d->message);
+    return HRT_OK;
+}
+
 size_t hrt_import_n_routes(const hrt_import *imp) { return imp ? imp->n_routes : 0; }
 
 const char *hrt_import_route_name(const hrt_import *imp, size_t r)
@@ -296,5 +384,7 @@ double hrt_import_z(const hrt_import *imp, size_t iz)
 
 double hrt_import_route_boundary(const hrt_import *imp, size_t iz, size_t b)
 {
-    return imp && imp->ran && iz < imp->n_z && b + 1 < imp->n_routes ? imp->boundary[iz][b] : NAN;
+    /* b < n_routes - 1, written so that no index wraps (b = SIZE_MAX, n_routes = 0) */
+    return imp && imp->ran && iz < imp->n_z && b < imp->n_routes && b + 1 < imp->n_routes ? imp->boundary[iz][b]
+                                                                                           : NAN;
 }

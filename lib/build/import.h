@@ -58,6 +58,16 @@ typedef struct trail_map_entry {
     double constant; /* for initial_mass_msun, z */
 } trail_map_entry;
 
+/* A data row dropped in lenient mode: where, why (file:line:column: ...). */
+typedef struct trail_dropped_row {
+    long line, column;
+    int code;
+    char *message;
+} trail_dropped_row;
+
+/* Dropped rows a track's report lists (all are counted). */
+#define TRAIL_MAX_DROPPED_LISTED 10000
+
 /* Line of a sample in its file, and the column of its keypoint flag (0 if none). */
 typedef struct trail_source_pos {
     long line, flag_column;
@@ -68,6 +78,8 @@ typedef struct trail_import_track {
     char *path;
     double z_given; /* Z given with the file; NaN: from the map, pattern or a column */
     hrt_import_track_report report;
+    trail_dropped_row *dropped; /* the first TRAIL_MAX_DROPPED_LISTED rows dropped (lenient mode) */
+    size_t n_dropped, cap_dropped;
     /* data, freed once the track is in the builder */
     size_t n;
     double *age_yr, *log_l, *log_teff, *log_r, *mass, *central_x, *central_y, *he_core, *co_core;
@@ -80,11 +92,21 @@ typedef struct trail_import_track {
     int route_definite;          /* one route fits best */
 } trail_import_track;
 
+/* Route boundaries the user set for one metallicity (z NaN: every
+ * metallicity without its own). */
+typedef struct trail_user_bounds {
+    double z;
+    size_t n;
+    double mass_msun[TRAIL_MAX_ROUTES];
+} trail_user_bounds;
+
 struct hrt_import {
     trail_map_entry map[TRAIL_MAP_N];
     char *pattern;
     double z_ref;
-    int lenient, ran;
+    int lenient, force, ran;
+    size_t n_user_bounds;
+    trail_user_bounds user_bounds[TRAIL_MAX_Z + 1];
     size_t n_routes;
     route_layout routes[TRAIL_MAX_ROUTES]; /* names and keypoint names, owned */
     int *segment_samples[TRAIL_MAX_ROUTES];
@@ -118,6 +140,9 @@ void trail_import_free_data(trail_import_track *t);
  * and, if err holds none yet, in err; returns code. */
 int trail_import_problem(trail_import_track *t, int code, long line, long column, hrt_error *err, const char *fmt,
                          ...) __attribute__((format(printf, 6, 7)));
+/* Record a dropped row of track t (lenient mode): counted, listed with its
+ * file:line:column message; 0, or -1 when out of memory. */
+int trail_import_drop_row(trail_import_track *t, int code, long line, long column, const char *msg);
 /* Append a note to t's report. */
 void trail_import_note(trail_import_track *t, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 /* Mark t as not used, with why; fails the import (returns code) in strict
@@ -131,6 +156,14 @@ int trail_import_drop(const hrt_import *imp, trail_import_track *t, int code, hr
 int trail_import_routes(hrt_import *imp, hrt_error *err);
 void trail_import_settle_routes(hrt_import *imp, const size_t *idx, size_t n);
 int trail_import_check_order(hrt_import *imp, const size_t *idx, size_t n, double z, hrt_error *err);
+/* The route boundaries of group g (its tracks idx[0..n-1] in order of
+ * mass, all in the builder) into imp->boundary[g]: the user's, checked
+ * against the tracks, else placed by the rule of build/build.h; then,
+ * unless forced, refused when a route has no track or the boundaries do
+ * not increase. */
+int trail_import_group_boundaries(hrt_import *imp, size_t g, const size_t *idx, size_t n, hrt_error *err);
+/* Every user boundary set for a metallicity must name one of the grid's. */
+int trail_import_check_user_z(const hrt_import *imp, hrt_error *err);
 /* The report's keypoints, truncation, remnant and (without a phase column)
  * phases of a track with its route. */
 void trail_import_finish_track(hrt_import *imp, trail_import_track *t);

@@ -1,6 +1,7 @@
 /* The column map of an import: its keys (tracks/FORMAT.md's vocabulary),
  * "key=value" entries from a string or a mapping file, and the file-name
- * patterns of the 'pattern' entry. */
+ * patterns of the 'pattern' entry; and reading a whole file, for mapping
+ * files and track tables. */
 #include <errno.h>
 #include <math.h>
 #include <stdio.h>
@@ -41,6 +42,9 @@ static const char key_z_ref[] = "z_ref";
 
 /* Longest "key=value" entry. */
 #define MAX_ENTRY 512
+/* A file is read in chunks starting at this size, doubling, up to MAX_FILE_BYTES. */
+#define FIRST_CHUNK 65536
+#define MAX_FILE_BYTES ((size_t)1 << 31)
 
 const trail_map_key *trail_map_key_at(size_t k) { return k < N_MAP_KEYS ? &map_keys[k] : NULL; }
 
@@ -66,6 +70,48 @@ int trail_parse_double(const char *s, size_t len, double *v)
     if (end != buf + len)
         return -1;
     return 0;
+}
+
+int trail_read_file(const char *path, char **out, size_t *len, hrt_error *err)
+{
+    *out = NULL;
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return trail_set_error(err, HRT_E_IO, "%s: cannot open: %s", path, strerror(errno));
+    size_t cap = FIRST_CHUNK, n = 0;
+    char *b = malloc(cap + 1);
+    int rc = HRT_OK;
+    while (b) {
+        size_t got = fread(b + n, 1, cap - n, f);
+        n += got;
+        if (n < cap)
+            break;
+        if (cap > MAX_FILE_BYTES) {
+            rc = trail_set_error(err, HRT_E_IO, "%s: larger than %zu GB", path, MAX_FILE_BYTES >> 30);
+            break;
+        }
+        char *nb = realloc(b, 2 * cap + 1);
+        if (!nb) {
+            free(b);
+            b = NULL;
+            break;
+        }
+        b = nb;
+        cap *= 2;
+    }
+    if (rc == HRT_OK && !b)
+        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory reading the file", path);
+    if (rc == HRT_OK && ferror(f))
+        rc = trail_set_error(err, HRT_E_IO, "%s: read error: %s", path, strerror(errno));
+    fclose(f);
+    if (rc != HRT_OK) {
+        free(b);
+        return rc;
+    }
+    b[n] = '\0';
+    *out = b;
+    *len = n;
+    return HRT_OK;
 }
 
 /* The factor of a "column*unit" entry: a time unit or a positive number. */
@@ -215,7 +261,8 @@ int hrt_import_map(hrt_import *imp, const char *entries, hrt_error *err)
 {
     if (!imp || !entries)
         return trail_set_error(err, HRT_E_NULL, "hrt_import_map: NULL argument");
-    return map_text(imp, entries, NULL, err);
+    int rc = map_text(imp, entries, NULL, err);
+    return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
 }
 
 int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *err)
@@ -232,7 +279,7 @@ int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *err)
     else
         rc = map_text(imp, b, path, err);
     free(b);
-    return rc;
+    return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
 }
 
 /* ---- file-name patterns --------------------------------------------------- */

@@ -2,8 +2,8 @@
  * map's quantities, every data row converted and checked with its
  * file:line:column, then the track's initial mass and Z and the defaults
  * for absent columns (tracks/FORMAT.md, "Importing text tracks"). */
-#include <errno.h>
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -17,9 +17,6 @@
 #define MAX_FIELDS 512
 /* Rows the columns first have room for; they double as needed. */
 #define FIRST_ROWS 1024
-/* A file is read in chunks starting at this size, doubling, up to MAX_FILE_BYTES. */
-#define FIRST_CHUNK 65536
-#define MAX_FILE_BYTES ((size_t)1 << 31)
 /* Characters of a value, and of a header name, shown in messages. */
 #define VALUE_SHOWN 32
 #define HEADER_NAME_SHOWN 24
@@ -27,48 +24,6 @@
 #define HEADER_LIST_LEN 120
 
 /* ---- files, fields, values ------------------------------------------------- */
-
-int trail_read_file(const char *path, char **out, size_t *len, hrt_error *err)
-{
-    *out = NULL;
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return trail_set_error(err, HRT_E_IO, "%s: cannot open: %s", path, strerror(errno));
-    size_t cap = FIRST_CHUNK, n = 0;
-    char *b = malloc(cap + 1);
-    int rc = HRT_OK;
-    while (b) {
-        size_t got = fread(b + n, 1, cap - n, f);
-        n += got;
-        if (n < cap)
-            break;
-        if (cap > MAX_FILE_BYTES) {
-            rc = trail_set_error(err, HRT_E_IO, "%s: larger than %zu GB", path, MAX_FILE_BYTES >> 30);
-            break;
-        }
-        char *nb = realloc(b, 2 * cap + 1);
-        if (!nb) {
-            free(b);
-            b = NULL;
-            break;
-        }
-        b = nb;
-        cap *= 2;
-    }
-    if (rc == HRT_OK && !b)
-        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory reading the file", path);
-    if (rc == HRT_OK && ferror(f))
-        rc = trail_set_error(err, HRT_E_IO, "%s: read error: %s", path, strerror(errno));
-    fclose(f);
-    if (rc != HRT_OK) {
-        free(b);
-        return rc;
-    }
-    b[n] = '\0';
-    *out = b;
-    *len = n;
-    return HRT_OK;
-}
 
 typedef struct field {
     const char *s;
@@ -126,10 +81,22 @@ static size_t split(const char *a, const char *e, int comma, field *f, size_t ca
     return n;
 }
 
-/* Number of continuation bytes of a UTF-8 sequence starting with byte c; -1 if c cannot start one. */
+/* Number of continuation bytes of a UTF-8 sequence starting with byte c
+ * (lead bytes 0xc2-0xdf, 0xe0-0xef, 0xf0-0xf4); -1 if c cannot start one
+ * (0x80-0xc1: continuations and overlong leads; 0xf5-0xff: beyond U+10FFFF). */
 static int utf8_continuations(unsigned c)
 {
-    return c >= 0xf0 && c <= 0xf4 ? 3 : c >= 0xe0 ? 2 : c >= 0xc2 && c < 0xe0 ? 1 : -1;
+    return c >= 0xc2 && c <= 0xdf ? 1 : c >= 0xe0 && c <= 0xef ? 2 : c >= 0xf0 && c <= 0xf4 ? 3 : -1;
+}
+
+/* The range of the byte after lead byte c (Unicode's table of well-formed
+ * UTF-8 byte sequences): no overlong forms, no surrogates, nothing beyond
+ * U+10FFFF. */
+static int utf8_second_ok(unsigned c, unsigned b)
+{
+    unsigned lo = c == 0xe0 ? 0xa0 : c == 0xf0 ? 0x90 : 0x80;
+    unsigned hi = c == 0xed ? 0x9f : c == 0xf4 ? 0x8f : 0xbf;
+    return b >= lo && b <= hi;
 }
 
 /* Binary data or invalid UTF-8 in [a, e)?  Returns the offset of the bad byte or -1. */
@@ -144,9 +111,9 @@ static long bad_byte(const unsigned char *a, const unsigned char *e)
         if (c < 0x80)
             continue;
         int k = utf8_continuations(c);
-        if (k < 0 || e - p <= k)
+        if (k < 0 || e - p <= k || !utf8_second_ok(c, p[1]))
             return (long)(p - a);
-        for (int j = 1; j <= k; j++)
+        for (int j = 2; j <= k; j++)
             if ((p[j] & 0xc0) != 0x80)
                 return (long)(p - a);
         p += k;
@@ -226,9 +193,10 @@ typedef struct table {
     const hrt_import *imp;
     trail_import_track *t;
     hrt_error *err;
-    field *header, *fields; /* MAX_FIELDS each */
+    field *header, *fields; /* MAX_FIELDS each; fields one more (where a row's extra field starts) */
     size_t n_header, cap;
     int comma; /* comma-separated (else blank-separated), from the header line */
+    int row_dropped; /* the row being read is dropped (lenient mode) */
     long line, header_line;
     long column[TRAIL_MAP_N];              /* header index of each quantity's column; -1 */
     const trail_map_key *key[TRAIL_MAP_N]; /* what that column is read as */
@@ -323,11 +291,30 @@ static int read_header(table *tb, const char *a, const char *e)
     return rc;
 }
 
+/* A problem of the data row being read, at column col: in lenient mode the
+ * row is dropped and listed (tb->row_dropped set, HRT_OK returned), else
+ * it fails the track. */
+static int row_problem(table *tb, long col, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+static int row_problem(table *tb, long col, const char *fmt, ...)
+{
+    char msg[256];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    va_end(ap);
+    if (!tb->imp->lenient)
+        return trail_import_problem(tb->t, HRT_E_FORMAT, tb->line, col, tb->err, "%s", msg);
+    tb->row_dropped = 1;
+    if (trail_import_drop_row(tb->t, HRT_E_FORMAT, tb->line, col, msg) != 0)
+        return trail_import_problem(tb->t, HRT_E_NOMEM, tb->line, col, tb->err, "out of memory");
+    return HRT_OK;
+}
+
 /* A problem with the value of field f of quantity q. */
 static int value_problem(table *tb, int q, const field *f, const char *what)
 {
-    return trail_import_problem(tb->t, HRT_E_FORMAT, tb->line, f->col, tb->err, "%.*s in column '%.*s' (%s) %s",
-                                FIELD_TEXT(f), HEADER_NAME(tb, q), tb->key[q]->key, what);
+    return row_problem(tb, f->col, "%.*s in column '%.*s' (%s) %s", FIELD_TEXT(f), HEADER_NAME(tb, q),
+                       tb->key[q]->key, what);
 }
 
 /* Quantities that are positive by nature: read linearly they must be > 0. */
@@ -336,22 +323,19 @@ static int is_positive(int q)
     return q == TRAIL_MAP_L || q == TRAIL_MAP_TEFF || q == TRAIL_MAP_R || q == TRAIL_MAP_AGE;
 }
 
+/* Current and core masses: not negative. */
+static int is_mass(int q) { return q == TRAIL_MAP_MASS || q == TRAIL_MAP_HE_CORE || q == TRAIL_MAP_CO_CORE; }
+
 /* The number in field f, converted to quantity q (log columns to linear,
- * times the map's factor).  *drop: a non-finite value in lenient mode. */
-static int row_number(table *tb, int q, const field *f, double *out, int *drop)
+ * times the map's factor). */
+static int row_number(table *tb, int q, const field *f, double *out)
 {
     double x;
     if (trail_parse_double(f->s, f->len, &x) != 0)
-        return trail_import_problem(tb->t, HRT_E_FORMAT, tb->line, f->col, tb->err,
-                                    "'%.*s' in column '%.*s' (%s) is not a number", FIELD_TEXT(f), HEADER_NAME(tb, q),
-                                    tb->key[q]->key);
-    if (!isfinite(x)) {
-        if (tb->imp->lenient) {
-            *drop = 1;
-            return HRT_OK;
-        }
+        return row_problem(tb, f->col, "'%.*s' in column '%.*s' (%s) is not a number", FIELD_TEXT(f),
+                           HEADER_NAME(tb, q), tb->key[q]->key);
+    if (!isfinite(x))
         return value_problem(tb, q, f, "is not finite");
-    }
     if (tb->key[q]->is_log)
         x = q == TRAIL_MAP_Z ? tb->imp->z_ref * pow(10.0, x) : tb->factor[q] * pow(10.0, x);
     else {
@@ -361,32 +345,33 @@ static int row_number(table *tb, int q, const field *f, double *out, int *drop)
     }
     if (!isfinite(x) || (is_positive(q) && !(x > 0.0)))
         return value_problem(tb, q, f, "overflows or underflows after conversion");
+    if (is_mass(q) && x < 0.0)
+        return value_problem(tb, q, f, "is negative");
     *out = x;
     return HRT_OK;
 }
 
 /* Every quantity of row i from its fields (NaN where it has no column);
  * phases go straight to the track. */
-static int row_values(table *tb, size_t i, double v[TRAIL_MAP_N], int *drop)
+static int row_values(table *tb, size_t i, double v[TRAIL_MAP_N])
 {
     int rc = HRT_OK;
-    for (int q = 0; q < TRAIL_MAP_N && rc == HRT_OK && !*drop; q++) {
+    for (int q = 0; q < TRAIL_MAP_N && rc == HRT_OK && !tb->row_dropped; q++) {
         v[q] = NAN;
         if (tb->column[q] < 0 || q == TRAIL_MAP_KEYPOINTS)
             continue;
         const field *f = &tb->fields[tb->column[q]];
         if (q != TRAIL_MAP_PHASE) {
-            rc = row_number(tb, q, f, &v[q], drop);
+            rc = row_number(tb, q, f, &v[q]);
             continue;
         }
         int ph = HRT_PHASE_UNKNOWN;
         if (phase_of_text(f->s, f->len, &ph) != 0)
-            rc = trail_import_problem(tb->t, HRT_E_FORMAT, tb->line, f->col, tb->err,
-                                      "'%.*s' in column '%.*s' is not an hrtrail phase key (%s, %s, %s, %s, ...) "
-                                      "or code (%d, %d, %d, %d, ...)", FIELD_TEXT(f), HEADER_NAME(tb, q),
-                                      hrt_phase_key(HRT_PHASE_MS), hrt_phase_key(HRT_PHASE_SUBGIANT),
-                                      hrt_phase_key(HRT_PHASE_RGB), hrt_phase_key(HRT_PHASE_CHEB), HRT_PHASE_MS,
-                                      HRT_PHASE_SUBGIANT, HRT_PHASE_RGB, HRT_PHASE_CHEB);
+            rc = row_problem(tb, f->col, "'%.*s' in column '%.*s' is not an hrtrail phase key (%s, %s, %s, %s, "
+                             "...) or code (%d, %d, %d, %d, ...)", FIELD_TEXT(f), HEADER_NAME(tb, q),
+                             hrt_phase_key(HRT_PHASE_MS), hrt_phase_key(HRT_PHASE_SUBGIANT),
+                             hrt_phase_key(HRT_PHASE_RGB), hrt_phase_key(HRT_PHASE_CHEB), HRT_PHASE_MS,
+                             HRT_PHASE_SUBGIANT, HRT_PHASE_RGB, HRT_PHASE_CHEB);
         tb->t->phase[i] = ph;
     }
     return rc;
@@ -411,17 +396,13 @@ static int row_flag(table *tb, size_t i)
 static int store_row(table *tb, size_t i, const double v[TRAIL_MAP_N])
 {
     trail_import_track *t = tb->t;
-    if (t->n == 0) {
-        tb->first_initial_mass = v[TRAIL_MAP_INITIAL_MASS];
-        tb->first_z = v[TRAIL_MAP_Z];
-    }
     long age_col = tb->fields[tb->column[TRAIL_MAP_AGE]].col;
     if (t->n > 0 && !(v[TRAIL_MAP_AGE] > t->age_yr[i - 1]))
-        return trail_import_problem(t, HRT_E_FORMAT, tb->line, age_col, tb->err,
-                                    v[TRAIL_MAP_AGE] == t->age_yr[i - 1]
-                                        ? "age %.10g yr repeats the age on line %ld (duplicate row?)"
-                                        : "age %.10g yr is less than the age on line %ld: ages must increase",
-                                    v[TRAIL_MAP_AGE], t->pos[i - 1].line);
+        return row_problem(tb, age_col,
+                           v[TRAIL_MAP_AGE] == t->age_yr[i - 1]
+                               ? "age %.10g yr repeats the age on line %ld (duplicate row?)"
+                               : "age %.10g yr is less than the age on line %ld: ages must increase",
+                           v[TRAIL_MAP_AGE], t->pos[i - 1].line);
     t->age_yr[i] = v[TRAIL_MAP_AGE];
     t->log_l[i] = log10(v[TRAIL_MAP_L]);
     t->log_teff[i] = log10(v[TRAIL_MAP_TEFF]);
@@ -441,21 +422,26 @@ static int store_row(table *tb, size_t i, const double v[TRAIL_MAP_N])
     }
     if (tb->column[TRAIL_MAP_PHASE] < 0)
         t->phase[i] = HRT_PHASE_UNKNOWN;
+    if (t->n == 0) {
+        tb->first_initial_mass = v[TRAIL_MAP_INITIAL_MASS];
+        tb->first_z = v[TRAIL_MAP_Z];
+    }
     t->n++;
     return HRT_OK;
 }
 
-/* A data row [a, e): as many fields as the header, values converted; rows
- * with non-finite values are dropped in lenient mode. */
+/* A data row [a, e): as many fields as the header, values converted; a bad
+ * row is dropped in lenient mode. */
 static int read_row(table *tb, const char *a, const char *e)
 {
     trail_import_track *t = tb->t;
-    size_t nf = split(a, e, tb->comma, tb->fields, MAX_FIELDS, a);
+    /* one field more than a header may have: where an extra field starts */
+    size_t nf = split(a, e, tb->comma, tb->fields, MAX_FIELDS + 1, a);
+    tb->row_dropped = 0;
     if (nf != tb->n_header) {
         long col = nf < tb->n_header ? (long)(e - a) + 1 : tb->fields[tb->n_header].col;
-        return trail_import_problem(t, HRT_E_FORMAT, tb->line, col, tb->err, "%zu fields, the header (line %ld) has "
-                                    "%zu%s", nf, tb->header_line, tb->n_header,
-                                    nf < tb->n_header ? ": truncated line?" : "");
+        return row_problem(tb, col, "%zu fields, the header (line %ld) has %zu%s", nf, tb->header_line, tb->n_header,
+                           nf < tb->n_header ? ": truncated line?" : "");
     }
     if (t->n == tb->cap) {
         tb->cap = tb->cap ? 2 * tb->cap : FIRST_ROWS;
@@ -463,15 +449,9 @@ static int read_row(table *tb, const char *a, const char *e)
             return trail_import_problem(t, HRT_E_NOMEM, tb->line, 1, tb->err, "out of memory");
     }
     double v[TRAIL_MAP_N];
-    int drop = 0;
-    int rc = row_values(tb, t->n, v, &drop);
-    if (rc != HRT_OK)
+    int rc = row_values(tb, t->n, v);
+    if (rc != HRT_OK || tb->row_dropped)
         return rc;
-    if (drop) {
-        if (t->report.n_rows_dropped++ == 0)
-            trail_import_note(t, "rows with non-finite values dropped (first: line %ld)", tb->line);
-        return HRT_OK;
-    }
     return store_row(tb, t->n, v);
 }
 
@@ -518,9 +498,26 @@ static int read_lines(table *tb, const char *buf, size_t len)
                                              : "no header line (only comments or blank lines)");
     if (t->n < TRAIL_MIN_SAMPLES)
         return trail_import_problem(t, HRT_E_FORMAT, tb->line + 1, 1, tb->err,
-                                    "%zu data row%s after the header (line %ld): at least %d needed", t->n,
-                                    t->n == 1 ? "" : "s", tb->header_line, TRAIL_MIN_SAMPLES);
+                                    "%zu data row%s after the header (line %ld)%s: at least %d needed", t->n,
+                                    t->n == 1 ? "" : "s", tb->header_line,
+                                    t->report.n_rows_dropped ? " once the bad rows are dropped" : "",
+                                    TRAIL_MIN_SAMPLES);
     return HRT_OK;
+}
+
+/* The note on the rows dropped: how many, and the first lines (all of them
+ * are listed by hrt_import_dropped_row()). */
+static void note_dropped_rows(trail_import_track *t)
+{
+    size_t n = t->report.n_rows_dropped;
+    if (n == 0)
+        return;
+    char lines[200] = "";
+    size_t len = 0, shown = 0;
+    for (; shown < t->n_dropped && len + 24 < sizeof lines; shown++)
+        len += (size_t)snprintf(lines + len, sizeof lines - len, "%s%ld", shown ? ", " : "", t->dropped[shown].line);
+    trail_import_note(t, "%zu bad row%s dropped (line%s %s%s)", n, n == 1 ? "" : "s", n == 1 ? "" : "s", lines,
+                      shown < n ? ", ..." : "");
 }
 
 /* ---- the track's identity and defaults -------------------------------------- */
@@ -617,7 +614,7 @@ int trail_import_read(const hrt_import *imp, trail_import_track *t, hrt_error *e
     }
     table tb = {.imp = imp, .t = t, .err = err};
     tb.header = malloc(MAX_FIELDS * sizeof(field));
-    tb.fields = malloc(MAX_FIELDS * sizeof(field));
+    tb.fields = malloc((MAX_FIELDS + 1) * sizeof(field));
     if (!tb.header || !tb.fields) {
         free(buf);
         free(tb.header);
@@ -629,6 +626,7 @@ int trail_import_read(const hrt_import *imp, trail_import_track *t, hrt_error *e
         tb.column[q] = -1;
     t->n = 0;
     rc = read_lines(&tb, buf, len);
+    note_dropped_rows(t);
     int failed = rc != HRT_OK || t->report.status != HRT_OK;
     for (int q = 0; q < TRAIL_MAP_N && !failed; q++)
         t->has_column[q] = tb.column[q] >= 0;

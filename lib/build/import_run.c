@@ -138,27 +138,21 @@ static int add_track(hrt_import *imp, hrt_builder *b, trail_import_track *t, siz
 }
 
 /* 5. Route boundaries per metallicity, from the tracks in the grid (those
- * dropped in step 4 excluded; a metallicity left without tracks goes). */
+ * dropped in step 4 excluded; a metallicity left without tracks goes):
+ * the user's or the rule's, and (unless forced) no route collapsed. */
 static int boundaries(hrt_import *imp, hrt_builder *b, size_t *idx, hrt_error *err)
 {
-    int fatal = HRT_OK;
+    size_t kept = 0;
+    for (size_t g = 0; g < imp->n_z; g++)
+        if (group_tracks(imp, imp->z[g], idx) > 0)
+            imp->z[kept++] = imp->z[g];
+    imp->n_z = kept;
+    int fatal = trail_import_check_user_z(imp, err);
     for (size_t g = 0; g < imp->n_z && !fatal; g++) {
         size_t n = group_tracks(imp, imp->z[g], idx);
-        double *bound = imp->boundary[g];
-        if (n == 0) {
-            memmove(&imp->z[g], &imp->z[g + 1], (imp->n_z - g - 1) * sizeof(double));
-            imp->n_z--;
-            g--;
-            continue;
-        }
-        for (size_t k = 0; k + 1 < imp->n_routes; k++) {
-            trail_boundary_scan scan = trail_boundary_start(k);
-            for (size_t a = 0; a < n; a++)
-                trail_boundary_see(&scan, imp->t[idx[a]].report.route, imp->t[idx[a]].report.initial_mass_msun);
-            bound[k] = trail_boundary_place(&scan, bound);
-        }
-        if (imp->n_routes > 1)
-            fatal = hrt_builder_set_route_boundaries(b, imp->z[g], bound, err);
+        fatal = trail_import_group_boundaries(imp, g, idx, n, err);
+        if (!fatal && imp->n_routes > 1)
+            fatal = hrt_builder_set_route_boundaries(b, imp->z[g], imp->boundary[g], err);
     }
     return fatal;
 }
@@ -212,5 +206,5 @@ int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err)
         return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     fatal = build(imp, out_path, idx, err);
     free(idx);
-    return fatal;
+    return fatal ? fatal : trail_set_error(err, HRT_OK, NULL);
 }

@@ -258,3 +258,115 @@ void trail_import_finish_track(hrt_import *imp, trail_import_track *t)
     if (!t->has_column[TRAIL_MAP_PHASE])
         default_phases(t, r, nk);
 }
+
+/* ---- route boundaries --------------------------------------------------------- */
+
+/* Relative difference within which a metallicity given with route
+ * boundaries names a group's Z. */
+#define Z_MATCH_REL 1e-6
+
+static int same_z(double a, double b) { return fabs(a - b) <= Z_MATCH_REL * fmax(fabs(a), fabs(b)); }
+
+/* The user's boundaries for metallicity z: its own setting, else the one
+ * for every metallicity (z NaN); NULL if none. */
+static const trail_user_bounds *user_bounds_for(const hrt_import *imp, double z)
+{
+    const trail_user_bounds *all = NULL;
+    for (size_t i = 0; i < imp->n_user_bounds; i++) {
+        const trail_user_bounds *u = &imp->user_bounds[i];
+        if (isnan(u->z))
+            all = u;
+        else if (same_z(u->z, z))
+            return u;
+    }
+    return all;
+}
+
+int trail_import_check_user_z(const hrt_import *imp, hrt_error *err)
+{
+    for (size_t i = 0; i < imp->n_user_bounds; i++) {
+        const trail_user_bounds *u = &imp->user_bounds[i];
+        size_t g = 0;
+        while (!isnan(u->z) && g < imp->n_z && !same_z(u->z, imp->z[g]))
+            g++;
+        if (!isnan(u->z) && g == imp->n_z && !imp->lenient)
+            return trail_set_error(err, HRT_E_INVALID, "route boundaries given for Z = %g, but no track in the grid "
+                                   "has that metallicity", u->z);
+        if (u->n + 1 != imp->n_routes) {
+            char which[48] = "every metallicity";
+            if (!isnan(u->z))
+                snprintf(which, sizeof which, "Z = %g", u->z);
+            return trail_set_error(err, HRT_E_INVALID, "route boundaries for %s: %zu masses given, the %zu routes "
+                                   "need %zu", which, u->n, imp->n_routes, imp->n_routes - 1);
+        }
+    }
+    return HRT_OK;
+}
+
+/* The user's boundaries u must separate the routes' tracks of group g. */
+static int check_user_bounds(const hrt_import *imp, size_t g, const trail_user_bounds *u, const size_t *idx,
+                             size_t n, hrt_error *err)
+{
+    for (size_t a = 0; a < n; a++) {
+        const trail_import_track *t = &imp->t[idx[a]];
+        double m = t->report.initial_mass_msun;
+        for (size_t k = 0; k < u->n; k++) {
+            int below = t->report.route <= (int)k;
+            if (below ? m < u->mass_msun[k] : m > u->mass_msun[k])
+                continue;
+            return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundary %zu at %g Msun (given) does not "
+                                   "separate the routes: %s (%g Msun) follows route '%s', so the boundary must lie "
+                                   "%s it", imp->z[g], k, u->mass_msun[k], t->path, m,
+                                   imp->spec[t->report.route].name, below ? "above" : "below");
+        }
+    }
+    return HRT_OK;
+}
+
+/* Unless forced: every route of the layout has a track at this
+ * metallicity, and the boundaries increase. */
+static int check_collapse(const hrt_import *imp, size_t g, const size_t *idx, size_t n, hrt_error *err)
+{
+    size_t count[TRAIL_MAX_ROUTES] = {0};
+    for (size_t a = 0; a < n; a++)
+        count[imp->t[idx[a]].report.route]++;
+    for (size_t r = 0; r < imp->n_routes; r++) {
+        if (count[r] > 0)
+            continue;
+        size_t most = 0;
+        for (size_t q = 1; q < imp->n_routes; q++)
+            most = count[q] > count[most] ? q : most;
+        return trail_set_error(err, HRT_E_INVALID, "Z = %g: route '%s' has no track (%zu of the %zu tracks follow "
+                               "'%s'): the routes collapse; give the columns that find the keypoints (phase or "
+                               "centre composition), route layouts the tracks follow (--routes), or force the "
+                               "import (--force, hrt_import_set_force())", imp->z[g], imp->spec[r].name, count[most],
+                               n, imp->spec[most].name);
+    }
+    for (size_t k = 1; k + 1 < imp->n_routes; k++)
+        if (!(imp->boundary[g][k] > imp->boundary[g][k - 1]))
+            return trail_set_error(err, HRT_E_INVALID, "Z = %g: route boundaries %zu and %zu are both %g Msun: route "
+                                   "'%s' is empty; force the import (--force, hrt_import_set_force()) to write it",
+                                   imp->z[g], k - 1, k, imp->boundary[g][k], imp->spec[k].name);
+    return HRT_OK;
+}
+
+int trail_import_group_boundaries(hrt_import *imp, size_t g, const size_t *idx, size_t n, hrt_error *err)
+{
+    double *bound = imp->boundary[g];
+    const trail_user_bounds *u = user_bounds_for(imp, imp->z[g]);
+    if (u) {
+        int rc = check_user_bounds(imp, g, u, idx, n, err);
+        if (rc != HRT_OK)
+            return rc;
+        for (size_t k = 0; k + 1 < imp->n_routes; k++)
+            bound[k] = u->mass_msun[k];
+    } else {
+        for (size_t k = 0; k + 1 < imp->n_routes; k++) {
+            trail_boundary_scan scan = trail_boundary_start(k);
+            for (size_t a = 0; a < n; a++)
+                trail_boundary_see(&scan, imp->t[idx[a]].report.route, imp->t[idx[a]].report.initial_mass_msun);
+            bound[k] = trail_boundary_place(&scan, bound);
+        }
+    }
+    return imp->force ? HRT_OK : check_collapse(imp, g, idx, n, err);
+}

@@ -1,7 +1,9 @@
 /* Keypoint detection on raw tracks and route assignment from the keypoints a
  * track reaches.  Every criterion and threshold is documented in
  * tracks/FORMAT.md ("Keypoint criteria"); the constants below are the ones
- * named there. */
+ * named there.  Precedence: a flag, then the phase column where it marks
+ * the keypoint, then the physical criterion, then an estimate from the
+ * phase column. */
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -26,6 +28,7 @@
 #define WD_COMPACT 0.5         /* and log R within this many dex of the white-dwarf radius */
 #define CC_LOG_R 0.0           /* core collapse: last sample still extended (log R > this) */
 #define CC_CO 1.0              /* and a CO core of at least this many Msun */
+#define CHEB_FRACTION 0.99     /* a collapsing star's helium burning: this fraction of cheb_start to collapse */
 
 /* A fraction as the percentage messages give. */
 #define PERCENT(f) (100.0 * (f))
@@ -60,26 +63,43 @@ static size_t fail(kp_search *k, const char *fmt, ...)
     return NOT_FOUND;
 }
 
-static int is_phase(const kp_search *k, size_t s, int p) { return k->c->phase && k->c->phase[s] == p; }
+/* ---- the phase column ------------------------------------------------------- */
 
-/* First sample after p whose phase is one of the list (terminated by 0). */
-static size_t first_phase(const kp_search *k, size_t p, const int *ph)
+/* Post-main-sequence phases of a star that keeps its envelope: the first of
+ * them marks the TAMS. */
+static const int after_ms[] = {HRT_PHASE_SUBGIANT, HRT_PHASE_RGB, HRT_PHASE_CHEB, HRT_PHASE_BSG, HRT_PHASE_RSG,
+                               HRT_PHASE_WR, 0};
+
+static int in_list(int p, const int *ph)
+{
+    for (const int *code = ph; *code; code++)
+        if (p == *code)
+            return 1;
+    return 0;
+}
+
+/* First sample at or after s0 whose phase is one of the list (terminated by 0). */
+static size_t first_phase(const kp_search *k, size_t s0, const int *ph)
 {
     if (!k->c->phase)
         return NOT_FOUND;
-    for (size_t s = p + 1; s < k->c->n; s++)
-        for (const int *code = ph; *code; code++)
-            if (k->c->phase[s] == *code)
-                return s;
+    for (size_t s = s0; s < k->c->n; s++)
+        if (in_list(k->c->phase[s], ph))
+            return s;
     return NOT_FOUND;
 }
 
-/* The phase fallback: the first sample after the previous keypoint in one of the phases ph. */
-static size_t by_phase(kp_search *k, const int *ph)
+/* A sample found on the phase column: so reported. */
+static size_t marked(kp_search *k, size_t s)
 {
-    k->how = HRT_KP_FOUND_BY_PHASE;
-    return first_phase(k, k->prev, ph);
+    if (s != NOT_FOUND)
+        k->how = HRT_KP_FOUND_BY_PHASE;
+    return s;
 }
+
+/* The phase marker of most keypoints: the first sample after the previous
+ * keypoint in one of the phases ph. */
+static size_t by_phase(kp_search *k, const int *ph) { return marked(k, first_phase(k, k->from, ph)); }
 
 static double envelope(const kp_search *k, size_t s) { return k->c->mass_msun[s] - k->c->he_core_mass_msun[s]; }
 
@@ -121,14 +141,21 @@ static size_t min_log_l(const kp_search *k, size_t a, size_t b)
     return m;
 }
 
-/* ---- one function per keypoint (tracks/FORMAT.md, "Keypoint criteria") ---- */
+/* ---- one function per keypoint (tracks/FORMAT.md, "Keypoint criteria") ----
+ * Each tries, in this order: the phase marker (the phase column says where
+ * the keypoint is), the physical criterion on the columns, and for a few
+ * keypoints an estimate from the phase column that marks nothing for them. */
 
 static size_t find_zams(kp_search *k)
 {
+    static const int ms[] = {HRT_PHASE_MS, 0};
     const hrt_kp_columns *c = k->c;
+    size_t s = by_phase(k, ms);
+    if (s != NOT_FOUND)
+        return s;
     if (c->central_x) {
         double x0 = c->central_x[k->from];
-        for (size_t s = k->from + 1; s < c->n; s++) {
+        for (s = k->from + 1; s < c->n; s++) {
             if (c->central_x[s] > x0)
                 x0 = c->central_x[s];
             if (c->central_x[s] <= x0 - ZAMS_DX)
@@ -136,13 +163,8 @@ static size_t find_zams(kp_search *k)
         }
         return fail(k, "zams: central_x never falls %g below its initial value", ZAMS_DX);
     }
-    if (c->phase) {
-        k->how = HRT_KP_FOUND_BY_PHASE;
-        for (size_t s = k->from; s < c->n; s++)
-            if (is_phase(k, s, HRT_PHASE_MS))
-                return s;
+    if (c->phase)
         return fail(k, "zams: no central_x column and no sample of phase %s", hrt_phase_key(HRT_PHASE_MS));
-    }
     k->how = HRT_KP_FOUND_BY_START;
     return k->from;
 }
@@ -150,18 +172,22 @@ static size_t find_zams(kp_search *k)
 static size_t find_tams(kp_search *k)
 {
     const hrt_kp_columns *c = k->c;
+    size_t s = by_phase(k, after_ms);
+    if (s != NOT_FOUND)
+        return s;
     if (c->central_x) {
-        for (size_t s = k->from; s < c->n; s++)
+        for (s = k->from; s < c->n; s++)
             if (c->central_x[s] <= TAMS_X)
                 return s;
-        return fail(k, "tams: central_x never falls to " TRAIL_STR(TAMS_X));
+        if (!c->phase)
+            return fail(k, "tams: central_x never falls to " TRAIL_STR(TAMS_X));
     }
     if (c->phase) {
-        k->how = HRT_KP_FOUND_BY_PHASE;
-        for (size_t s = k->from; s < c->n; s++)
-            if (!is_phase(k, s, HRT_PHASE_MS) && !is_phase(k, s, HRT_PHASE_PRE_MS))
-                return s;
-        return fail(k, "tams: no sample after the main sequence (phase column)");
+        /* the estimate: the main sequence ends where the phase column leaves it */
+        for (s = k->from; s < c->n; s++)
+            if (c->phase[s] != HRT_PHASE_MS && c->phase[s] != HRT_PHASE_PRE_MS)
+                return marked(k, s);
+        return fail(k, "tams: no sample after the main sequence (central_x or phase column)");
     }
     return fail(k, "tams: needs a central_x or phase column");
 }
@@ -182,43 +208,66 @@ static int climbs_giant_branch(const hrt_kp_columns *c, size_t s)
 
 static size_t find_rgb_base(kp_search *k)
 {
+    static const int rgb[] = {HRT_PHASE_RGB, 0};
     const hrt_kp_columns *c = k->c;
-    for (size_t s = k->from; s + 1 < c->n; s++)
+    size_t s = by_phase(k, rgb);
+    if (s != NOT_FOUND)
+        return s;
+    for (s = k->from; s + 1 < c->n; s++)
         if (climbs_giant_branch(c, s))
             return s;
-    if (c->phase) {
-        static const int ph[] = {HRT_PHASE_RGB, 0};
-        size_t s = by_phase(k, ph);
-        if (s != NOT_FOUND)
-            return s;
-    }
-    return fail(k, "rgb_base: the track never climbs %g dex in L along a giant branch (cooling, with "
-                   "-dlog Teff/dlog L <= %g)", RGB_SPAN, RGB_SLOPE);
+    return fail(k, "rgb_base: no %s sample, and the track never climbs %g dex in L along a giant branch (cooling, "
+                   "with -dlog Teff/dlog L <= %g)", hrt_phase_key(HRT_PHASE_RGB), RGB_SPAN, RGB_SLOPE);
 }
 
 static size_t find_he_ignition(kp_search *k)
 {
+    static const int cheb[] = {HRT_PHASE_CHEB, 0};
     const hrt_kp_columns *c = k->c;
-    size_t s0 = k->from, e = NOT_FOUND;
-    if (c->central_y)
+    size_t s0 = k->from;
+    size_t e = marked(k, first_phase(k, s0, cheb));
+    if (e == NOT_FOUND && c->central_y) {
+        k->how = HRT_KP_FOUND_BY_COLUMNS;
         e = he_drop(k, s0 - (s0 > 0));
-    else if (c->phase) {
-        static const int ph[] = {HRT_PHASE_CHEB, 0};
-        k->how = HRT_KP_FOUND_BY_PHASE;
-        e = first_phase(k, s0 - 1 + (s0 == 0), ph);
-    } else
+    } else if (e == NOT_FOUND && !c->phase)
         return fail(k, "he_ignition: needs a central_y or phase column");
     if (e == NOT_FOUND || e < s0)
-        return fail(k, "he_ignition: helium never starts burning in the core (central_y or phase)");
+        return fail(k, "he_ignition: helium never starts burning in the core (central_y or phase %s)",
+                    hrt_phase_key(HRT_PHASE_CHEB));
     return max_log_l(k, s0, e);
+}
+
+/* The phase marker of cheb_start: after a separate ignition (the tip of the
+ * giant branch), the luminosity minimum of the core-helium-burning phase
+ * that follows, up to its last sample (the zero-age core-helium-burning
+ * star); without one (supergiants), the first sample of a helium-burning
+ * phase after the previous keypoint. */
+static size_t cheb_start_marker(kp_search *k)
+{
+    static const int cheb[] = {HRT_PHASE_CHEB, 0};
+    static const int burning[] = {HRT_PHASE_CHEB, HRT_PHASE_BSG, HRT_PHASE_RSG, HRT_PHASE_WR, 0};
+    if (k->prev_kind != KP_HE_IGNITION)
+        return by_phase(k, burning);
+    size_t a = first_phase(k, k->from, cheb);
+    if (a == NOT_FOUND)
+        return NOT_FOUND;
+    size_t e = a;
+    while (e + 1 < k->c->n && k->c->phase[e + 1] == HRT_PHASE_CHEB)
+        e++;
+    return marked(k, min_log_l(k, k->from, e));
 }
 
 static size_t find_cheb_start(kp_search *k)
 {
     const hrt_kp_columns *c = k->c;
     size_t s0 = k->from;
+    size_t s = cheb_start_marker(k);
+    if (s != NOT_FOUND)
+        return s;
     if (!c->central_y)
-        return fail(k, "cheb_start: needs a central_y column");
+        return fail(k, "cheb_start: needs a central_y column or a phase column with %s (or %s, %s, %s)",
+                    hrt_phase_key(HRT_PHASE_CHEB), hrt_phase_key(HRT_PHASE_BSG), hrt_phase_key(HRT_PHASE_RSG),
+                    hrt_phase_key(HRT_PHASE_WR));
     size_t e = he_drop(k, s0 - (s0 > 0));
     if (e == NOT_FOUND || e < s0)
         return fail(k, "cheb_start: central_y never falls %g below its maximum", HE_DY);
@@ -229,42 +278,60 @@ static size_t find_cheb_start(kp_search *k)
     return e;
 }
 
-static size_t find_cheb_end(kp_search *k)
+/* The estimate of cheb_end for a star that collapses (the phase column marks
+ * no end of helium burning in a supergiant): the last sample before
+ * CHEB_FRACTION of the time from cheb_start to the collapse. */
+static size_t cheb_end_estimate(kp_search *k)
 {
     const hrt_kp_columns *c = k->c;
-    if (c->central_y) {
-        for (size_t s = k->from; s < c->n; s++)
+    size_t last = c->n - 1;
+    if (!c->phase || k->prev_kind != KP_CHEB_START || k->from >= last ||
+        (c->phase[last] != HRT_PHASE_NS && c->phase[last] != HRT_PHASE_BH))
+        return NOT_FOUND;
+    double t_end = c->age_yr[k->prev] + CHEB_FRACTION * (c->age_yr[last] - c->age_yr[k->prev]);
+    size_t s = k->from;
+    while (s + 1 < last && c->age_yr[s + 1] <= t_end)
+        s++;
+    return marked(k, s);
+}
+
+static size_t find_cheb_end(kp_search *k)
+{
+    static const int ph[] = {HRT_PHASE_EAGB, HRT_PHASE_TPAGB, HRT_PHASE_POST_AGB, HRT_PHASE_WD, 0};
+    const hrt_kp_columns *c = k->c;
+    size_t s = by_phase(k, ph);
+    if (s != NOT_FOUND)
+        return s;
+    if (c->central_y)
+        for (s = k->from; s < c->n; s++)
             if (c->central_y[s] <= CHEB_END_Y)
                 return s;
+    s = cheb_end_estimate(k);
+    if (s != NOT_FOUND)
+        return s;
+    if (c->central_y)
         return fail(k, "cheb_end: central_y never falls to " TRAIL_STR(CHEB_END_Y));
-    }
-    if (c->phase) {
-        static const int ph[] = {HRT_PHASE_EAGB, HRT_PHASE_TPAGB, HRT_PHASE_POST_AGB, HRT_PHASE_WD, 0};
-        size_t s = by_phase(k, ph);
-        if (s != NOT_FOUND)
-            return s;
+    if (c->phase)
         return fail(k, "cheb_end: no sample after core helium burning (phase column)");
-    }
     return fail(k, "cheb_end: needs a central_y or phase column");
 }
 
 static size_t find_first_pulse(kp_search *k)
 {
+    static const int ph[] = {HRT_PHASE_TPAGB, 0};
     const hrt_kp_columns *c = k->c;
+    size_t s = by_phase(k, ph);
+    if (s != NOT_FOUND)
+        return s;
     if (c->he_core_mass_msun && c->co_core_mass_msun) {
-        for (size_t s = k->from; s < c->n; s++)
+        for (s = k->from; s < c->n; s++)
             if (c->he_core_mass_msun[s] > 0.0 && c->co_core_mass_msun[s] >= PULSE_CO_HE * c->he_core_mass_msun[s])
                 return s;
-        if (!c->phase)
-            return fail(k, "first_pulse: the CO core never reaches %g %% of the He core", PERCENT(PULSE_CO_HE));
+        return fail(k, "first_pulse: the CO core never reaches %g %% of the He core, and no %s sample",
+                    PERCENT(PULSE_CO_HE), hrt_phase_key(HRT_PHASE_TPAGB));
     }
-    if (c->phase) {
-        static const int ph[] = {HRT_PHASE_TPAGB, 0};
-        size_t s = by_phase(k, ph);
-        if (s != NOT_FOUND)
-            return s;
+    if (c->phase)
         return fail(k, "first_pulse: no thermal pulses (core masses or phase %s)", hrt_phase_key(HRT_PHASE_TPAGB));
-    }
     return fail(k, "first_pulse: needs he_core_mass_msun and co_core_mass_msun or a phase column");
 }
 
@@ -294,46 +361,63 @@ static size_t envelope_loss_sample(const kp_search *k)
     return NOT_FOUND;
 }
 
-/* agb_end and envelope_loss: from the envelope (mass and He core), else
- * from the phases that follow (ph). */
+/* agb_end and envelope_loss: the sample marker found by phase (NOT_FOUND:
+ * none), else from the envelope (mass and He core). */
 static size_t find_envelope_end(kp_search *k, const char *name, size_t (*from_envelope)(const kp_search *),
-                                const int *ph)
+                                size_t marker)
 {
     const hrt_kp_columns *c = k->c;
+    if (marker != NOT_FOUND)
+        return marked(k, marker);
     if (c->mass_msun && c->he_core_mass_msun) {
         size_t s = from_envelope(k);
         if (s != NOT_FOUND)
             return s;
-        if (!c->phase)
-            return fail(k, "%s: the envelope never falls to %g %% of the mass", name, PERCENT(ENV_FRAC));
+        return fail(k, "%s: the envelope never falls to %g %% of the mass (and no phase marks it)", name,
+                    PERCENT(ENV_FRAC));
     }
-    if (c->phase) {
-        size_t s = by_phase(k, ph);
-        if (s != NOT_FOUND)
-            return s;
+    if (c->phase)
         return fail(k, "%s: the envelope is never lost (mass_msun and he_core_mass_msun, or phase)", name);
-    }
     return fail(k, "%s: needs mass_msun and he_core_mass_msun or a phase column", name);
 }
 
 static size_t find_agb_end(kp_search *k)
 {
     static const int ph[] = {HRT_PHASE_POST_AGB, HRT_PHASE_WD, 0};
-    return find_envelope_end(k, "agb_end", agb_tip, ph);
+    return find_envelope_end(k, "agb_end", agb_tip, first_phase(k, k->from, ph));
+}
+
+/* The phase marker of envelope_loss: the first post_rgb sample, or a white
+ * dwarf reached without helium burning (no 3x or 4x phase before it). */
+static size_t envelope_loss_marker(const kp_search *k)
+{
+    if (!k->c->phase)
+        return NOT_FOUND;
+    for (size_t s = k->from; s < k->c->n; s++) {
+        int p = k->c->phase[s];
+        if (p == HRT_PHASE_POST_RGB || p == HRT_PHASE_WD)
+            return s;
+        if (p >= HRT_PHASE_CHEB && p < HRT_PHASE_WD)
+            return NOT_FOUND;
+    }
+    return NOT_FOUND;
 }
 
 static size_t find_envelope_loss(kp_search *k)
 {
-    static const int ph[] = {HRT_PHASE_POST_RGB, HRT_PHASE_WD, 0};
-    return find_envelope_end(k, "envelope_loss", envelope_loss_sample, ph);
+    return find_envelope_end(k, "envelope_loss", envelope_loss_sample, envelope_loss_marker(k));
 }
 
 static size_t find_wd_onset(kp_search *k)
 {
+    static const int wd[] = {HRT_PHASE_WD, 0};
     const hrt_kp_columns *c = k->c;
+    size_t s = by_phase(k, wd);
+    if (s != NOT_FOUND)
+        return s;
     double l_prev = k->prev == NOT_FOUND ? c->log_l_lsun[0] : c->log_l_lsun[k->prev];
     double l_max = fmin(WD_LOG_L, l_prev - WD_FADE);
-    for (size_t s = k->from; s < c->n; s++) {
+    for (s = k->from; s < c->n; s++) {
         if (c->log_l_lsun[s] > l_max)
             continue;
         if (c->mass_msun) {
@@ -344,12 +428,6 @@ static size_t find_wd_onset(kp_search *k)
         }
         return s;
     }
-    if (c->phase) {
-        static const int ph[] = {HRT_PHASE_WD, 0};
-        size_t s = by_phase(k, ph);
-        if (s != NOT_FOUND)
-            return s;
-    }
     return fail(k, "wd_onset: the star never fades onto a white-dwarf cooling track (log L <= min(%g, L_prev - "
                    "%g) with a white-dwarf radius)", WD_LOG_L, WD_FADE);
 }
@@ -359,13 +437,11 @@ static size_t find_core_collapse(kp_search *k)
     const hrt_kp_columns *c = k->c;
     size_t s = c->n - 1;
     if (s >= k->from) {
+        if (c->phase && (c->phase[s] == HRT_PHASE_NS || c->phase[s] == HRT_PHASE_BH))
+            return marked(k, s);
         double log_r = trail_log_r_from(c->log_l_lsun[s], c->log_teff_k[s]);
         if (log_r > CC_LOG_R && (!c->co_core_mass_msun || c->co_core_mass_msun[s] >= CC_CO))
             return s;
-        if (c->phase && (c->phase[s] == HRT_PHASE_NS || c->phase[s] == HRT_PHASE_BH)) {
-            k->how = HRT_KP_FOUND_BY_PHASE;
-            return s;
-        }
     }
     return fail(k, "core_collapse: the track does not end as an extended star with a CO core >= %g Msun", CC_CO);
 }
@@ -488,7 +564,7 @@ int hrt_keypoints_find(const hrt_kp_columns *c, const hrt_route_spec *route, hrt
         p = s;
         prev_kind = kind;
     }
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 /* The routes (bit r for route r) having every flagged keypoint of the track. */
@@ -562,11 +638,11 @@ int hrt_keypoints_route(const hrt_kp_columns *c, size_t n_routes, const hrt_rout
         /* report the reason on the first route */
         if (out)
             hrt_keypoints_find(c, &routes[0], out, NULL);
-        return HRT_OK;
+        return trail_set_error(err, HRT_OK, NULL);
     }
     if (candidates)
         *candidates = tie;
     if (out)
         *out = best;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }

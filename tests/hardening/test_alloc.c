@@ -429,6 +429,7 @@ static int op_import(void)
         return check_failure("hrt_import_new", rc, &e);
     }
     rc = hrt_import_map(imp, "age_yr=age_Myr*Myr log_l_lsun=logL log_teff_k=logT keypoints=kp initial_mass_msun=1.0 z=0.014", &e);
+    hrt_import_set_force(imp, 1); /* one track: the other routes are empty */
     if (rc == HRT_OK)
         rc = hrt_import_add_file(imp, track_file, NAN, &e);
     if (rc == HRT_OK)
