@@ -45,7 +45,8 @@ os.mkdir(tracks)
 rc, out, err = run(["track"] + G + ["--mass", "1", "--csv"])
 with open(os.path.join(tracks, "-m1.csv"), "w") as f:
     f.write(out)
-rc, out, err = run(["import", "--dry-run", "--map", "initial_mass_msun=initial_mass_msun,z=z", "--json", "--", "-m1.csv"],
+rc, out, err = run(["import", "--dry-run", "--force", "--map", "initial_mass_msun=initial_mass_msun,z=z", "--json", "--",
+                    "-m1.csv"],
                    cwd=tracks)
 t.ok(rc == EXIT_OK and '"-m1.csv"' in out, "import -- -m1.csv: the file named like an option is read (%s)" % err)
 

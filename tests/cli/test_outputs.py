@@ -291,7 +291,7 @@ for m in ("1", "1.5", "2"):
     rc, out, err = run(["track"] + G + ["--mass", m, "--csv"])
     with open(os.path.join(src, "m%s.csv" % m), "w") as f:
         f.write(out)
-IMPORT = ["import", "--map", "initial_mass_msun=initial_mass_msun,z=z", src, "-o"]
+IMPORT = ["import", "--force", "--map", "initial_mass_msun=initial_mass_msun,z=z", src, "-o"]
 w = os.path.join(d, "grids")
 os.makedirs(os.path.join(w, "real"))
 target = os.path.join(w, "real", "grid.h5")

@@ -178,7 +178,7 @@ for m in (1.0, 1.2):
         f.write("age_yr log_l_lsun log_teff_k mass_msun phase keypoints\n" + "\n".join(rows) + "\n")
 with open(os.path.join(tracks, "track_1.4.txt"), "w") as f:
     f.write("age_yr log_l_lsun log_teff_k mass_msun phase keypoints\n1e7 0.1 3.76 1.4 ms zams\n2e7 abc 3.76 1.4 ms -\n")
-imp = ["import", "--dry-run", "--keep-going", "--z", "0.014", "--map", "pattern=track_{mass}.txt", tracks]
+imp = ["import", "--dry-run", "--keep-going", "--force", "--z", "0.014", "--map", "pattern=track_{mass}.txt", tracks]
 both("import", imp)
 
 # ---------------------------------------------------------------- the comparisons
