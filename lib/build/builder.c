@@ -38,26 +38,15 @@ void hrt_builder_free(hrt_builder *b)
 {
     if (!b)
         return;
-    for (size_t r = 0; r < b->n_routes; r++) {
-        route_layout *L = &b->routes[r];
-        free(L->name);
-        if (L->kp_names)
-            for (size_t k = 0; k < L->n_kp; k++)
-                free(L->kp_names[k]);
-        free(L->kp_names);
-        free(L->kp_eep);
-    }
+    for (size_t r = 0; r < b->n_routes; r++)
+        trail_route_clear(&b->routes[r]);
     for (size_t i = 0; i < b->n_groups; i++) {
         for (size_t k = 0; k < b->grp[i].n; k++)
             free_track(&b->grp[i].t[k]);
         free(b->grp[i].t);
     }
     free(b->grp);
-    for (size_t a = 0; a < b->n_attrs; a++) {
-        free(b->attrs[a].name);
-        free(b->attrs[a].value);
-    }
-    free(b->attrs);
+    trail_attrs_free(b->attrs, b->n_attrs);
     free(b);
 }
 

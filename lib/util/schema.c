@@ -41,15 +41,19 @@ int trail_keypoint_index(const char *name)
     return -1;
 }
 
+void trail_route_clear(route_layout *L)
+{
+    free(L->name);
+    for (size_t k = 0; L->kp_names && k < L->n_kp; k++)
+        free(L->kp_names[k]);
+    free(L->kp_names);
+    free(L->kp_eep);
+}
+
 void trail_routes_free(route_layout *routes, size_t n)
 {
-    for (size_t r = 0; routes && r < n; r++) {
-        free(routes[r].name);
-        for (size_t k = 0; routes[r].kp_names && k < routes[r].n_kp; k++)
-            free(routes[r].kp_names[k]);
-        free(routes[r].kp_names);
-        free(routes[r].kp_eep);
-    }
+    for (size_t r = 0; routes && r < n; r++)
+        trail_route_clear(&routes[r]);
     free(routes);
 }
 

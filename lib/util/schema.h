@@ -115,6 +115,7 @@ typedef struct attr_pair {
 /* Free the contents of n route layouts and of n attributes, and the arrays
  * (NULL allowed): one place for what readers, the prepared grid and the
  * builder all hold. */
+void trail_route_clear(route_layout *L);
 void trail_routes_free(route_layout *routes, size_t n);
 void trail_attrs_free(attr_pair *attrs, size_t n);
 
