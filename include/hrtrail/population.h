@@ -245,15 +245,29 @@ HRT_API int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_po
 /**
  * @brief Add n evaluated states (from hrt_eval or elsewhere) to a summary.
  * Each state counts as one drawn, born star; its status decides whether it is
- * evaluated or failed.  No allocation.  Returned: HRT_OK, HRT_E_NULL.
+ * evaluated or failed.  No allocation.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (s unchanged):
+ * the summary is not one hrt_pop_summary_init() could have made (see
+ * hrt_pop_summary_merge()), or a state's status is not a status code, or a
+ * state evaluated without error (status HRT_OK) has a phase not in
+ * HRT_PHASE_LIST or a remnant not in HRT_REMNANT_LIST; the message names the
+ * state by its index.
  */
 HRT_API int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, hrt_error *err);
 /** Count n stars drawn but not yet born at the summary's epoch. */
 HRT_API void hrt_pop_summary_add_unborn(hrt_pop_summary *s, uint64_t n);
 /**
  * @brief dst += src, exactly (counts and sums add, extrema combine).
- * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (different
- * epoch or binning; dst unchanged).  Commutative and associative bit for bit.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (dst
+ * unchanged; the message says which summary and field): different epoch or
+ * binning, or either summary not one hrt_pop_summary_init() could have made
+ * -- struct_size not sizeof(hrt_pop_summary), epoch not finite and >= 0,
+ * histogram neither none (0 x 0 bins, ranges zero) nor nx, ny >= 1 with
+ * nx * ny <= HRT_POP_HR_MAX_BINS and finite ranges low < high, largest main-sequence
+ * mass not >= 0 or smallest evolved mass NaN.  Every field a merge uses is
+ * checked before any memory is touched, so summaries received as bytes
+ * (from another process or MPI rank) are safe to merge.  Commutative and
+ * associative bit for bit.
  */
 HRT_API int hrt_pop_summary_merge(hrt_pop_summary *dst, const hrt_pop_summary *src, hrt_error *err);
 /**
@@ -292,8 +306,9 @@ HRT_API int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_ms
  * Given and returned:
  *   sums         n_ages summaries from hrt_pop_summary_init(), one per
  *                epoch (their age_yr); the chunks' stars are added.
- * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID,
- *   HRT_E_DOMAIN, HRT_E_NOMEM (sums unchanged on any failure).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (also a
+ *   summary hrt_pop_summary_merge() would refuse), HRT_E_DOMAIN,
+ *   HRT_E_NOMEM (sums unchanged on any failure).
  *   Stars that fail (outside the grid, ...) are not an error: they are
  *   counted in n_status and failed_initial_mass_msun.
  * Notes:

@@ -85,6 +85,7 @@ typedef struct cell {
 
 /* One row of sub-cells: a mass between A and C, along the EEP interval. */
 typedef struct cell_row {
+    int i_mass;                  /* the row's index along the mass */
     double f_mass;               /* position between A (0) and C (1) */
     double log_age0, log_age1;   /* log ages at the row's two EEP edges */
     float edge0[LQ_COUNT], edge1[LQ_COUNT]; /* the row's two EEP edges */
@@ -151,6 +152,7 @@ static int start_row(const cell *c, const trail_fit_points *S, int i_mass, cell_
     }
     if (box_out(c->F, S, row_min, row_max, c->chi2_feh))
         return 0;
+    r->i_mass = i_mass;
     r->f_mass = fa;
     r->log_age0 = A0;
     r->log_age1 = A1;
@@ -207,6 +209,12 @@ static void store_point(const cell *c, cell_row *r, double f_eep, double log_l, 
     P->chi2 = chi2;
     P->phase = (r->f_mass < 0.5 ? c->m->phase[A->first_node + (size_t)c->j] : c->m->phase[C->first_node + (size_t)c->j]);
     P->feh_node = (uint16_t)A->feh_node;
+    P->track = (uint32_t)(A - c->m->track);
+    P->eep = c->j;
+    P->f_eep_lo = (float)(f_eep - hb);
+    P->f_eep_hi = (float)(f_eep + hb);
+    P->i_mass = (uint8_t)r->i_mass;
+    P->n_mass = (uint8_t)na;
     const float *e0 = r->edge0, *e1 = r->edge1, *hq = r->half_extent;
     P->value[PQ_LOG_INITIAL_MASS] = (float)r->log_mass;
     P->half[PQ_LOG_INITIAL_MASS] = (float)(0.5 * dlm / na);

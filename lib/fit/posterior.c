@@ -20,6 +20,13 @@
  * fraction of age_max_yr, and HRT_FIT_FEW_POINTS below this many effective points. */
 #define AGE_LIMIT_FRACTION 0.95
 #define FEW_POINTS_N_EFF 20.0
+/* The age of a posterior draw is searched on the grid's own track until its
+ * fractional EEP is within DRAW_EEP_TOL of the lattice point's, or the
+ * bracket is DRAW_LOG_AGE_TOL dex wide (a few ulps of a log age), in at
+ * most DRAW_SEARCH_MAX steps of each stage. */
+#define DRAW_EEP_TOL 1e-9
+#define DRAW_LOG_AGE_TOL 1e-14
+#define DRAW_SEARCH_MAX 64
 
 /* ------------------------------------------------------------------ quantiles */
 
@@ -322,20 +329,128 @@ static double draw_in_box(const trail_fit_point *P, int q, gsl_rng *R)
     return P->value[q] + (2.0 * gsl_rng_uniform(R) - 1.0) * P->half[q];
 }
 
+/* Value of lattice quantity q at position f between the cell's lighter
+ * nodes a (EEP j, then j + 1) and heavier nodes c, and log-age fraction fe
+ * of the EEP interval: bilinear, as the likelihood interpolates a sub-cell. */
+static double cell_value(const hrt_fit_model *m, size_t a, size_t c, double f, double fe, int q)
+{
+    const float *A0 = m->node_value + a * LQ_COUNT, *A1 = A0 + LQ_COUNT;
+    const float *C0 = m->node_value + c * LQ_COUNT, *C1 = C0 + LQ_COUNT;
+    double e0 = A0[q] + f * ((double)C0[q] - A0[q]), e1 = A1[q] + f * ((double)C1[q] - A1[q]);
+    return e0 + fe * (e1 - e0);
+}
+
+/* Fractional EEP of the star (mass, z) at log age lt on the grid's own
+ * interpolated track (hrt_eval): -1 before the track begins, +inf past its
+ * end, NaN if the grid cannot evaluate the star. */
+static double eep_at(const hrt_grid *g, double mass, double z, double lt)
+{
+    double age = trail_exp10(lt);
+    hrt_state s;
+    int rc = hrt_eval(g, 1, &mass, &z, 0.0, &age, &s, NULL);
+    if (rc == HRT_E_AGE_RANGE)
+        return INFINITY;
+    if (rc != HRT_OK)
+        return NAN;
+    if (s.flags & HRT_FLAG_NOT_MODELLED)
+        return -1.0;
+    return s.flags & HRT_FLAG_REMNANT ? INFINITY : s.eep;
+}
+
+/* The log age at which the grid's star (mass, z) reaches fractional EEP
+ * target, starting from the lattice's guess lt (dlt: the lattice's log-age
+ * span of one EEP there).  Across the mass between two lattice tracks their
+ * log ages are interpolated linearly, the grid's own track is not: in fast
+ * phases the difference spans many EEPs.  The EEP is continuous,
+ * increasing and linear in log age within each EEP interval, so the target
+ * is bracketed by steps that double, then found by regula falsi (Illinois
+ * variant), exact once both ends lie in the target's interval.  The
+ * lattice's guess stands when the star cannot be evaluated or the target
+ * lies beyond its track. */
+static double log_age_at_eep(const hrt_grid *g, double mass, double z, double target, double lt, double dlt)
+{
+    double a = lt, ea = eep_at(g, mass, z, lt);
+    if (isnan(ea) || fabs(ea - target) <= DRAW_EEP_TOL)
+        return lt;
+    double dir = ea < target ? 1.0 : -1.0;
+    double step = dir * dlt * (isfinite(ea) && ea >= 0.0 ? fabs(target - ea) + 1.0 : 1.0);
+    double b = a, eb = ea;
+    int k = 0;
+    for (; k < DRAW_SEARCH_MAX && (eb - target) * dir < 0.0; k++, step *= 2.0) {
+        a = b;
+        ea = eb;
+        b = a + step;
+        eb = eep_at(g, mass, z, b);
+        if (isnan(eb))
+            return lt;
+    }
+    if (k == DRAW_SEARCH_MAX)
+        return lt;
+    if (a > b) { /* order the bracket: E(a) < target <= E(b) */
+        double t = a, te = ea;
+        a = b, ea = eb, b = t, eb = te;
+    }
+    double wa = 1.0, wb = 1.0; /* Illinois: halve the weight of an end kept twice */
+    int kept = 0;
+    for (k = 0; k < DRAW_SEARCH_MAX && b - a > DRAW_LOG_AGE_TOL; k++) {
+        int finite = isfinite(ea) && ea >= 0.0 && isfinite(eb);
+        double da = wa * (target - ea), db = wb * (eb - target);
+        double x = finite && da + db > 0.0 ? a + (b - a) * da / (da + db) : 0.5 * (a + b);
+        if (!(x > a && x < b))
+            x = 0.5 * (a + b);
+        double ex = eep_at(g, mass, z, x);
+        if (isnan(ex))
+            return lt;
+        if (fabs(ex - target) <= DRAW_EEP_TOL)
+            return x;
+        if (ex < target) {
+            a = x, ea = ex, wa = 1.0;
+            wb = kept < 0 ? 0.5 * wb : 1.0;
+            kept = -1;
+        } else {
+            b = x, eb = ex, wb = 1.0;
+            wa = kept > 0 ? 0.5 * wa : 1.0;
+            kept = 1;
+        }
+    }
+    return ea >= 0.0 ? a : b;
+}
+
+/* One posterior draw inside sub-cell P: a position f across the mass
+ * between its tracks (uniform in log mass over the sub-cell's row) and a
+ * log-age fraction fe of the EEP interval (uniform in age over the
+ * sub-cell's span at that mass); log L and log Teff at that (log mass, fe)
+ * are the ones the likelihood interpolates there, the phase is the
+ * sub-cell's (so the draws' phases are a sample of phase_prob), and the age
+ * is the one at which the grid's star of that mass is at that point of its
+ * EEP interval. */
+static void draw_in_cell(const hrt_fit_model *m, const trail_fit_point *P, gsl_rng *R, hrt_fit_sample *o)
+{
+    const trail_fit_track *A = &m->track[P->track], *C = A + 1;
+    size_t a = A->first_node + (size_t)P->eep, c = C->first_node + (size_t)P->eep;
+    double f = ((double)P->i_mass + gsl_rng_uniform(R)) / (double)P->n_mass;
+    double la0 = m->log_age[a] + f * (m->log_age[c] - m->log_age[a]);
+    double la1 = m->log_age[a + 1] + f * (m->log_age[c + 1] - m->log_age[a + 1]);
+    double dla = la1 - la0; /* > 0: log age increases along every track */
+    double t_lo = trail_exp10(la0 + P->f_eep_lo * dla), t_hi = trail_exp10(la0 + P->f_eep_hi * dla);
+    double age = t_lo + gsl_rng_uniform(R) * (t_hi - t_lo);
+    double fe = (log10(age) - la0) / dla;
+    fe = fe < P->f_eep_lo ? P->f_eep_lo : fe > P->f_eep_hi ? P->f_eep_hi : fe;
+    memset(o, 0, sizeof *o);
+    o->initial_mass_msun = trail_exp10(A->log_m + f * (C->log_m - A->log_m));
+    o->z = m->z[P->feh_node];
+    double lt = log_age_at_eep(m->g, o->initial_mass_msun, o->z, P->eep + fe, la0 + fe * dla, dla);
+    o->age_yr = trail_exp10(lt);
+    o->log_l_lsun = cell_value(m, a, c, f, fe, LQ_LOG_L);
+    o->log_teff_k = cell_value(m, a, c, f, fe, LQ_LOG_TEFF);
+    o->phase = P->phase; /* the phase the posterior counted the sub-cell in */
+}
+
 static void draw_samples(const hrt_fit_model *m, const trail_fit_points *S, const double *cum, gsl_rng *R, size_t n,
                          hrt_fit_sample *samples)
 {
-    for (size_t i = 0; i < n; i++) {
-        const trail_fit_point *P = draw_point(S, cum, R);
-        hrt_fit_sample *o = &samples[i];
-        memset(o, 0, sizeof *o);
-        o->initial_mass_msun = pow(10.0, draw_in_box(P, PQ_LOG_INITIAL_MASS, R));
-        o->age_yr = P->age_lo_yr + gsl_rng_uniform(R) * (P->age_hi_yr - P->age_lo_yr);
-        o->z = m->z[P->feh_node];
-        o->log_l_lsun = P->value[PQ_LOG_L];
-        o->log_teff_k = log10(P->value[PQ_TEFF]);
-        o->phase = P->phase;
-    }
+    for (size_t i = 0; i < n; i++)
+        draw_in_cell(m, draw_point(S, cum, R), R, &samples[i]);
 }
 
 /* d = sqrt(L / (4 pi F)): L from the posterior, F from its Gaussian error. */

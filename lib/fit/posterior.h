@@ -41,11 +41,19 @@ typedef struct trail_fit_obs {
     int n_obs;
 } trail_fit_obs;
 
-/* A weighted sub-cell of the lattice. */
+/* A weighted sub-cell of the lattice.  Its place in the cell (lighter
+ * track, EEP interval, and the ranges of the position between the two
+ * tracks and of the log-age fraction of the EEP interval) lets a posterior
+ * draw pick a point inside it and interpolate that point's state exactly as
+ * the sub-cell's own was (lib/fit/posterior.c). */
 typedef struct trail_fit_point {
     double prior, chi2, weight;
     double age_lo_yr, age_hi_yr;            /* its age span */
     float value[PQ_COUNT], half[PQ_COUNT];  /* value and half-extent of each reported quantity */
+    uint32_t track;                         /* the cell's lighter track (index into the model's tracks) */
+    int32_t eep;                            /* the cell's first EEP: it spans EEPs eep, eep + 1 */
+    float f_eep_lo, f_eep_hi;               /* its range of the log-age fraction of the EEP interval */
+    uint8_t i_mass, n_mass;                 /* its row i_mass of n_mass across the mass between the tracks */
     int8_t phase;
     uint16_t feh_node;
 } trail_fit_point;

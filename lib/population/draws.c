@@ -181,5 +181,5 @@ int hrt_pop_draw(const hrt_pop_spec *spec, uint64_t chunk, double *mass_msun, do
     }
     trail_pop_stream_free(&s);
     trail_pop_prep_free(&P);
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }

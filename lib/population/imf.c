@@ -144,7 +144,7 @@ int hrt_imf_init(hrt_imf *imf, int kind, double m_lo_msun, double m_hi_msun, dou
         c += part[k];
     }
     imf->seg_cum[imf->n_seg] = 1.0;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 int trail_imf_is_set(const hrt_imf *f)

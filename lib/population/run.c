@@ -1,6 +1,7 @@
 /* hrtrail: evaluating many stars on several threads: hrt_eval in parallel,
  * and population runs (draw, evaluate and summarise chunks of stars). */
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 #ifdef _OPENMP
@@ -80,7 +81,7 @@ int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_msun, cons
         }
     }
     if (first_bad < 0)
-        return HRT_OK;
+        return trail_set_error(err, HRT_OK, NULL);
     return first_failure(g, n, mass_msun, z, z_all, age_yr, out, (size_t)first_bad, err);
 }
 
@@ -200,9 +201,13 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
         return trail_set_error(err, HRT_E_NULL, "hrt_pop_run: %s is NULL", !g ? "grid" : !spec ? "spec" : "sums");
     if (n_ages == 0)
         return trail_set_error(err, HRT_E_INVALID, "hrt_pop_run: no epochs");
-    for (size_t e = 0; e < n_ages; e++)
-        if (sums[e].struct_size != sizeof sums[e] || !isfinite(sums[e].age_yr) || sums[e].age_yr < 0.0)
-            return trail_set_error(err, HRT_E_INVALID, "hrt_pop_run: summary %zu is not initialised (hrt_pop_summary_init)", e);
+    for (size_t e = 0; e < n_ages; e++) {
+        char who[64];
+        snprintf(who, sizeof who, "hrt_pop_run: summary %zu", e);
+        int rc = trail_pop_summary_check(&sums[e], who, err);
+        if (rc != HRT_OK)
+            return rc;
+    }
     trail_pop_prep P;
     int rc = trail_pop_prep_init(&P, spec, err);
     if (rc != HRT_OK)
@@ -212,7 +217,7 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
     uint64_t c1 = n_chunk < nc - c0 ? c0 + n_chunk : nc;
     if (c1 == c0) {
         trail_pop_prep_free(&P);
-        return HRT_OK;
+        return trail_set_error(err, HRT_OK, NULL);
     }
     hrt_pop_summary *stage = malloc(n_ages * sizeof *stage);
     if (!stage) {
@@ -233,5 +238,5 @@ int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_firs
     for (size_t e = 0; e < n_ages; e++)
         hrt_pop_summary_merge(&sums[e], &stage[e], NULL);
     free(stage);
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }

@@ -12,6 +12,11 @@
 
 #include "hrtrail.h"
 
+/* HRT_OK if every field of summary s that adding, merging or a run relies
+ * on is valid (its size, epoch, binning and extrema), else HRT_E_INVALID
+ * with a message starting with who. */
+int trail_pop_summary_check(const hrt_pop_summary *s, const char *who, hrt_error *err);
+
 /* 1 if f was set up by hrt_imf_init. */
 int trail_imf_is_set(const hrt_imf *f);
 

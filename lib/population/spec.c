@@ -127,7 +127,9 @@ int hrt_pop_spec_check(const hrt_pop_spec *spec, hrt_error *err)
         return trail_set_error(err, HRT_E_INVALID, "chunk size %llu: need 1 .. 2^%d", (unsigned long long)spec->chunk_size,
                                CHUNK_SIZE_MAX_LOG2);
     int rc = check_sfh(&spec->sfh, err);
-    return rc != HRT_OK ? rc : check_zdist(&spec->zdist, err);
+    if (rc == HRT_OK)
+        rc = check_zdist(&spec->zdist, err);
+    return rc != HRT_OK ? rc : trail_set_error(err, HRT_OK, NULL);
 }
 
 uint64_t hrt_pop_n_chunks(const hrt_pop_spec *spec)

@@ -4,6 +4,7 @@
 #include <string.h>
 
 #include "util/util.h"
+#include "population/sampling.h"
 
 #define FIX_SCALE 4294967296.0 /* 2^32 units per Msun or Lsun */
 #define TWO_POW_64 18446744073709551616.0
@@ -38,16 +39,63 @@ double hrt_pop_sum_value(const hrt_pop_sum *s)
     return ((double)s->hi * TWO_POW_64 + (double)s->lo) / FIX_SCALE;
 }
 
-static int check_hr(const hrt_pop_hr *hr, hrt_error *err)
+/* The phase codes and remnant kinds of the lists, as bit masks. */
+#define PHASE_BIT_(name, code, key, text) | HRT_PHASE_BIT(code)
+#define REMNANT_BIT_(name, code, key, text) | ((uint32_t)1 << (code))
+static const uint64_t phase_codes = 0 HRT_PHASE_LIST(PHASE_BIT_);
+static const uint32_t remnant_codes = 0 HRT_REMNANT_LIST(REMNANT_BIT_);
+#undef PHASE_BIT_
+#undef REMNANT_BIT_
+
+static inline int is_phase_code(int32_t p) { return p >= 0 && p < HRT_PHASE_SLOTS && (phase_codes >> p & 1); }
+static inline int is_remnant_code(int32_t r) { return r >= 0 && r < HRT_REMNANT_SLOTS && (remnant_codes >> r & 1); }
+
+/* A binning with nx, ny >= 1, nx * ny <= HRT_POP_HR_MAX_BINS (each factor
+ * checked first, so the product cannot wrap) and finite ranges, low < high;
+ * range_code for bad ranges.  who names the function and the summary. */
+static int check_hr(const hrt_pop_hr *hr, const char *who, int range_code, hrt_error *err)
 {
     if (hr->nx == 0 || hr->ny == 0 || hr->nx > HRT_POP_HR_MAX_BINS || hr->ny > HRT_POP_HR_MAX_BINS ||
         hr->nx * hr->ny > HRT_POP_HR_MAX_BINS)
-        return trail_set_error(err, HRT_E_INVALID, "HR histogram of %llu x %llu bins: need nx, ny >= 1 and nx * ny <= %d",
-                               (unsigned long long)hr->nx, (unsigned long long)hr->ny, HRT_POP_HR_MAX_BINS);
+        return trail_set_error(err, HRT_E_INVALID, "%s: HR histogram of %llu x %llu bins: need nx, ny >= 1 and nx * ny <= %d",
+                               who, (unsigned long long)hr->nx, (unsigned long long)hr->ny, HRT_POP_HR_MAX_BINS);
     if (!isfinite(hr->log_teff_k_lo) || !isfinite(hr->log_teff_k_hi) || !(hr->log_teff_k_hi > hr->log_teff_k_lo) ||
         !isfinite(hr->log_l_lsun_lo) || !isfinite(hr->log_l_lsun_hi) || !(hr->log_l_lsun_hi > hr->log_l_lsun_lo))
-        return trail_set_error(err, HRT_E_DOMAIN, "HR histogram ranges log Teff %g .. %g, log L %g .. %g: need finite "
-                                                  "low < high", hr->log_teff_k_lo, hr->log_teff_k_hi, hr->log_l_lsun_lo, hr->log_l_lsun_hi);
+        return trail_set_error(err, range_code, "%s: HR histogram ranges log Teff %g .. %g, log L %g .. %g: need finite "
+                                                "low < high", who, hr->log_teff_k_lo, hr->log_teff_k_hi, hr->log_l_lsun_lo,
+                               hr->log_l_lsun_hi);
+    return HRT_OK;
+}
+
+/* Every field of a summary that adding or merging relies on, before any
+ * memory is touched: a summary may arrive as bytes (from another process or
+ * rank).  Its size, a finite epoch >= 0, a binning that is either none
+ * (0 x 0, every field zero, as hrt_pop_summary_init leaves it: a run's
+ * partial summaries must merge into it) or valid, and extrema a summary can
+ * hold (the largest main-sequence mass >= 0, the smallest evolved one not
+ * NaN). */
+int trail_pop_summary_check(const hrt_pop_summary *s, const char *who, hrt_error *err)
+{
+    if (s->struct_size != sizeof *s)
+        return trail_set_error(err, HRT_E_INVALID, "%s: not an initialised summary (struct_size %llu, expected %zu; "
+                                                   "use hrt_pop_summary_init)", who, (unsigned long long)s->struct_size,
+                               sizeof *s);
+    if (!isfinite(s->age_yr) || s->age_yr < 0.0)
+        return trail_set_error(err, HRT_E_INVALID, "%s: epoch %g yr: need a finite age >= 0", who, s->age_yr);
+    const hrt_pop_hr none = {0};
+    if (s->hr.nx || s->hr.ny) {
+        int rc = check_hr(&s->hr, who, HRT_E_INVALID, err);
+        if (rc != HRT_OK)
+            return rc;
+    } else if (memcmp(&s->hr, &none, sizeof none) != 0) {
+        return trail_set_error(err, HRT_E_INVALID, "%s: no HR histogram (0 x 0 bins) but ranges log Teff %g .. %g, log L "
+                                                   "%g .. %g set", who, s->hr.log_teff_k_lo, s->hr.log_teff_k_hi,
+                               s->hr.log_l_lsun_lo, s->hr.log_l_lsun_hi);
+    }
+    if (!(s->ms_max_initial_mass_msun >= 0.0) || isnan(s->evolved_min_initial_mass_msun))
+        return trail_set_error(err, HRT_E_INVALID, "%s: extrema %g (main sequence, largest) and %g Msun (evolved, smallest) "
+                                                   "no summary can hold", who, s->ms_max_initial_mass_msun,
+                               s->evolved_min_initial_mass_msun);
     return HRT_OK;
 }
 
@@ -56,9 +104,9 @@ int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_pop_hr *hr
     if (!s)
         return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_init: summary is NULL");
     if (!isfinite(age_yr) || age_yr < 0.0)
-        return trail_set_error(err, HRT_E_DOMAIN, "epoch %g yr: need a finite age >= 0", age_yr);
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_pop_summary_init: epoch %g yr: need a finite age >= 0", age_yr);
     if (hr && (hr->nx || hr->ny)) {
-        int rc = check_hr(hr, err);
+        int rc = check_hr(hr, "hrt_pop_summary_init", HRT_E_DOMAIN, err);
         if (rc != HRT_OK)
             return rc;
     }
@@ -68,7 +116,7 @@ int hrt_pop_summary_init(hrt_pop_summary *s, double age_yr, const hrt_pop_hr *hr
     s->evolved_min_initial_mass_msun = INFINITY;
     if (hr && hr->nx && hr->ny)
         s->hr = *hr;
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 static inline int evolved_phase(int p) { return p != HRT_PHASE_UNKNOWN && p != HRT_PHASE_PRE_MS && p != HRT_PHASE_MS; }
@@ -87,20 +135,20 @@ static void summary_add_one(hrt_pop_summary *s, const hrt_state *st, double bx, 
 {
     s->n_drawn++;
     int code = st->status;
-    s->n_status[code >= 0 && code < HRT_POP_MAX_STATUS ? code : HRT_E_INTERNAL]++;
+    s->n_status[code]++;
     double m0 = st->initial_mass_msun;
     if (code != HRT_OK) {
         fix_add(&s->failed_initial_mass_msun, m0);
         return;
     }
     s->n_evaluated++;
-    int p = st->phase >= 0 && st->phase < HRT_PHASE_SLOTS ? st->phase : HRT_PHASE_UNKNOWN;
+    int p = st->phase;
     double l = isfinite(st->log_l_lsun) ? trail_exp10(st->log_l_lsun) : 0.0;
     s->n_phase[p]++;
     fix_add(&s->phase_initial_mass_msun[p], m0);
     fix_add(&s->phase_mass_msun[p], st->mass_msun);
     fix_add(&s->phase_l_lsun[p], l);
-    int r = (st->flags & HRT_FLAG_REMNANT) && st->remnant > 0 && st->remnant < HRT_REMNANT_SLOTS ? st->remnant : 0;
+    int r = (st->flags & HRT_FLAG_REMNANT) ? st->remnant : 0;
     s->n_remnant[r]++;
     fix_add(&s->remnant_mass_msun[r], st->mass_msun);
     fix_add(&s->initial_mass_msun, m0);
@@ -114,10 +162,35 @@ static void summary_add_one(hrt_pop_summary *s, const hrt_state *st, double bx, 
         count_in_hr(s, st, bx, by);
 }
 
+/* The codes a summary counts states by: a status of the list, and for a
+ * state evaluated without error (the only ones whose phase and remnant are
+ * counted) a phase and a remnant kind of the lists. */
+static int check_states(const hrt_state *states, size_t n, hrt_error *err)
+{
+    for (size_t i = 0; i < n; i++) {
+        const hrt_state *st = &states[i];
+        if (st->status < 0 || st->status >= HRT_STATUS_COUNT_)
+            return trail_set_error(err, HRT_E_INVALID, "hrt_pop_summary_add: state %zu: status %d is not a status code", i,
+                                   (int)st->status);
+        if (st->status == HRT_OK && !is_phase_code(st->phase))
+            return trail_set_error(err, HRT_E_INVALID, "hrt_pop_summary_add: state %zu: phase %d is not a phase code", i,
+                                   (int)st->phase);
+        if (st->status == HRT_OK && !is_remnant_code(st->remnant))
+            return trail_set_error(err, HRT_E_INVALID, "hrt_pop_summary_add: state %zu: remnant %d is not a remnant kind",
+                                   i, (int)st->remnant);
+    }
+    return HRT_OK;
+}
+
 int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, hrt_error *err)
 {
     if (!s || (!states && n))
         return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_add: %s is NULL", !s ? "summary" : "states");
+    int rc = trail_pop_summary_check(s, "hrt_pop_summary_add", err);
+    if (rc == HRT_OK)
+        rc = check_states(states, n, err);
+    if (rc != HRT_OK)
+        return rc;
     double bx = 0.0, by = 0.0;
     if (s->hr.nx) {
         bx = (double)s->hr.nx / (s->hr.log_teff_k_hi - s->hr.log_teff_k_lo);
@@ -125,7 +198,7 @@ int hrt_pop_summary_add(hrt_pop_summary *s, const hrt_state *states, size_t n, h
     }
     for (size_t i = 0; i < n; i++)
         summary_add_one(s, &states[i], bx, by);
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 void hrt_pop_summary_add_unborn(hrt_pop_summary *s, uint64_t n)
@@ -140,14 +213,17 @@ int hrt_pop_summary_merge(hrt_pop_summary *d, const hrt_pop_summary *s, hrt_erro
 {
     if (!d || !s)
         return trail_set_error(err, HRT_E_NULL, "hrt_pop_summary_merge: %s is NULL", !d ? "dst" : "src");
-    if (d->struct_size != sizeof *d || s->struct_size != sizeof *s)
-        return trail_set_error(err, HRT_E_INVALID, "summary not initialised (struct_size %llu, %llu; expected %zu)",
-                               (unsigned long long)d->struct_size, (unsigned long long)s->struct_size, sizeof *d);
+    int rc = trail_pop_summary_check(d, "hrt_pop_summary_merge: dst", err);
+    if (rc == HRT_OK)
+        rc = trail_pop_summary_check(s, "hrt_pop_summary_merge: src", err);
+    if (rc != HRT_OK)
+        return rc;
     if (memcmp(&d->age_yr, &s->age_yr, sizeof d->age_yr) != 0)
-        return trail_set_error(err, HRT_E_INVALID, "summaries of different epochs (%.17g and %.17g yr) do not merge",
-                               d->age_yr, s->age_yr);
+        return trail_set_error(err, HRT_E_INVALID, "hrt_pop_summary_merge: summaries of different epochs (%.17g and %.17g "
+                                                   "yr) do not merge", d->age_yr, s->age_yr);
     if (memcmp(&d->hr, &s->hr, sizeof d->hr) != 0)
-        return trail_set_error(err, HRT_E_INVALID, "summaries with different HR-histogram binning do not merge");
+        return trail_set_error(err, HRT_E_INVALID,
+                               "hrt_pop_summary_merge: summaries with different HR-histogram binning do not merge");
     d->n_drawn += s->n_drawn;
     d->n_unborn += s->n_unborn;
     d->n_evaluated += s->n_evaluated;
@@ -175,7 +251,7 @@ int hrt_pop_summary_merge(hrt_pop_summary *d, const hrt_pop_summary *s, hrt_erro
     uint64_t nb = d->hr.nx * d->hr.ny;
     for (uint64_t k = 0; k < nb; k++)
         d->hr_count[k] += s->hr_count[k];
-    return HRT_OK;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 double hrt_pop_turnoff_mass(const hrt_pop_summary *s)

@@ -497,6 +497,222 @@ START_TEST(priors_and_names)
 }
 END_TEST
 
+/* ------------------------------------------------------------------ draws on their tracks */
+
+/* Posterior draws re-evaluated with hrt_eval (the grid's own track at each
+ * draw's initial mass, Z and age) against the lattice state the fit
+ * weighted there.  Limits (measured, common practice for a sampler's
+ * consistency): the phase the same for at least DRAW_PHASE_AGREE of the
+ * draws; log L within DRAW_DLOG_L_DEX (absolute) for at least the share the
+ * caller asks (0.99 for the red giant; DRAW_DLOG_L_SHARE for stars near the
+ * tip of the red giant branch of 2-5 Msun, where the lattice's linear
+ * interpolation across 0.02 dex of mass misses the grid's track by up to
+ * 0.05 dex in 1.7 % of 4000 draws) and within DRAW_DLOG_L_MAX_DEX for
+ * every draw; the median |d log Teff| within DRAW_DLOG_TEFF_MEDIAN_DEX
+ * (absolute); no draw of a luminous star a remnant or before its track. */
+#define N_DRAWS 400
+#define DRAW_PHASE_AGREE 0.99
+#define DRAW_DLOG_L_DEX 0.02
+#define DRAW_DLOG_L_SHARE 0.97
+#define DRAW_DLOG_L_MAX_DEX 0.1
+#define DRAW_DLOG_TEFF_MEDIAN_DEX 0.005
+/* The forecast's present phase and the fit's phase probabilities agree
+ * within the sampling error of N_DRAWS draws at 3 sigma: the count of each
+ * phase is not in a tail of its binomial holding less than Phi(-3) (common
+ * practice; exact tails, the normal approximation fails for rare phases). */
+#define PHASE_TAIL_3SIGMA 0.00134989803163009
+
+/* P(K >= k) (upper) or P(K <= k) for K ~ Binomial(n, q), summed exactly. */
+static double binomial_tail(int n, double q, int k, int upper)
+{
+    if (upper ? k <= 0 : k >= n)
+        return 1.0;
+    if (q <= 0.0 || q >= 1.0)
+        return (q <= 0.0) == !upper ? 1.0 : 0.0;
+    double sum = 0.0;
+    for (int i = upper ? k : 0; i <= (upper ? n : k); i++)
+        sum += exp(lgamma(n + 1.0) - lgamma(i + 1.0) - lgamma(n - i + 1.0) + i * log(q) + (n - i) * log1p(-q));
+    return sum;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return x < y ? -1 : x > y;
+}
+
+/* Quantile p of n values (sorts v), nearest rank. */
+static double quantile(double *v, size_t n, double p)
+{
+    qsort(v, n, sizeof *v, cmp_double);
+    return v[(size_t)floor(p * (double)(n - 1) + 0.5)];
+}
+
+/* Fit obs with 400 draws on model m, re-evaluate the draws and check them
+ * (and the forecast's present phase) against the fit; prints the figures. */
+static void check_draws(const hrt_fit_model *m, const hrt_fit_obs *o, uint64_t seed, const char *label, double l_share)
+{
+    static hrt_fit_sample smp[N_DRAWS];
+    static hrt_state st[N_DRAWS];
+    double mass[N_DRAWS], z[N_DRAWS], age[N_DRAWS], dl[N_DRAWS], dt[N_DRAWS];
+    hrt_fit_result res;
+    hrt_error err;
+    int rc = hrt_fit_star(m, o, seed, N_DRAWS, smp, &res, &err);
+    ck_assert_msg(rc == HRT_OK, "%s: %s", label, err.message);
+    for (int i = 0; i < N_DRAWS; i++) {
+        mass[i] = smp[i].initial_mass_msun;
+        z[i] = smp[i].z;
+        age[i] = smp[i].age_yr;
+    }
+    rc = hrt_eval(G, N_DRAWS, mass, z, 0.0, age, st, &err);
+    ck_assert_msg(rc == HRT_OK, "%s: a draw outside the grid: %s", label, err.message);
+    int same = 0, n_l = 0;
+    for (int i = 0; i < N_DRAWS; i++) {
+        ck_assert_msg(!(st[i].flags & (HRT_FLAG_REMNANT | HRT_FLAG_NOT_MODELLED)) && isfinite(st[i].log_l_lsun),
+                      "%s: draw %d (%.17g Msun, Z %.17g, %.17g yr) is %s, not a luminous star", label, i, mass[i], z[i],
+                      age[i], hrt_phase_key(st[i].phase));
+        same += st[i].phase == smp[i].phase;
+        dl[i] = fabs(st[i].log_l_lsun - smp[i].log_l_lsun);
+        dt[i] = fabs(st[i].log_teff_k - smp[i].log_teff_k);
+        n_l += dl[i] <= DRAW_DLOG_L_DEX;
+    }
+    double agree = (double)same / N_DRAWS, share_l = (double)n_l / N_DRAWS;
+    hrt_forecast_result fr;
+    rc = hrt_forecast(G, N_DRAWS, smp, 0, NULL, NULL, &fr, &err);
+    ck_assert_msg(rc == HRT_OK, "%s: forecast: %s", label, err.message);
+    printf("draws %-13s fit %-8s %.2f, now %-8s %.2f | phase same %5.1f %% | |dlogL| median %.1e, 95 %% %.1e, max %.1e "
+           "| |dlogTeff| median %.1e, 95 %% %.1e, max %.1e\n",
+           label, hrt_phase_key(res.phase), res.phase_prob[res.phase], hrt_phase_key(fr.phase_now),
+           fr.phase_now_prob[fr.phase_now], 100 * agree, quantile(dl, N_DRAWS, 0.5), quantile(dl, N_DRAWS, 0.95),
+           quantile(dl, N_DRAWS, 1.0), quantile(dt, N_DRAWS, 0.5), quantile(dt, N_DRAWS, 0.95), quantile(dt, N_DRAWS, 1.0));
+    ck_assert_msg(agree >= DRAW_PHASE_AGREE, "%s: the phase of only %.1f %% of the draws is the one the fit weighted", label,
+                  100 * agree);
+    ck_assert_msg(share_l >= l_share, "%s: log L of only %.1f %% of the draws within %g dex", label, 100 * share_l,
+                  DRAW_DLOG_L_DEX);
+    ck_assert_msg(dl[N_DRAWS - 1] <= DRAW_DLOG_L_MAX_DEX, "%s: a draw's log L %g dex from the lattice's", label,
+                  dl[N_DRAWS - 1]);
+    ck_assert_msg(dt[N_DRAWS / 2] <= DRAW_DLOG_TEFF_MEDIAN_DEX, "%s: median |d log Teff| %g dex", label, dt[N_DRAWS / 2]);
+    /* the draws' phases are a multinomial sample of phase_prob; the forecast
+     * re-evaluates them (hrt_star_at: the phases hrt_eval gave), which moves
+     * only the draws counted above */
+    int moved = N_DRAWS - same;
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++) {
+        int k_eval = 0;
+        for (int i = 0; i < N_DRAWS; i++)
+            k_eval += st[i].phase == p;
+        int k = (int)lround(fr.phase_now_prob[p] * N_DRAWS);
+        ck_assert_msg(k == k_eval, "%s: phase %s: %d draws now in the forecast, %d by hrt_eval", label, hrt_phase_key(p), k,
+                      k_eval);
+        double q = res.phase_prob[p];
+        double up = binomial_tail(N_DRAWS, q, k - moved, 1), down = binomial_tail(N_DRAWS, q, k + moved, 0);
+        ck_assert_msg(up >= PHASE_TAIL_3SIGMA && down >= PHASE_TAIL_3SIGMA,
+                      "%s: phase %s: %d of %d draws now in the forecast, probability %.5f in the fit (tails %.2g, %.2g)", label,
+                      hrt_phase_key(p), k, N_DRAWS, q, up, down);
+    }
+}
+
+static hrt_fit_model *default_model(void)
+{
+    hrt_fit_model *m = NULL;
+    hrt_error err;
+    int rc = hrt_fit_model_new(G, NULL, &m, &err);
+    ck_assert_msg(rc == HRT_OK, "default model: %s", err.message);
+    return m;
+}
+
+START_TEST(draws_red_giant)
+{
+    /* the red giant of the report: Teff 4700 +- 80 K, log L 1.7 +- 0.05 (an
+     * invented star), default grid and model; the forecast's present phase
+     * is the fit's most probable one */
+    hrt_fit_model *m = default_model();
+    hrt_fit_obs o;
+    hrt_fit_obs_init(&o);
+    o.teff_k = 4700;
+    o.teff_k_sigma = 80;
+    o.log_l_lsun = 1.7;
+    o.log_l_lsun_sigma = 0.05;
+    check_draws(m, &o, 11, "red giant", 0.99);
+    hrt_fit_sample smp[N_DRAWS];
+    hrt_fit_result res;
+    hrt_forecast_result fr;
+    ck_assert_int_eq(hrt_fit_star(m, &o, 11, N_DRAWS, smp, &res, NULL), HRT_OK);
+    ck_assert_int_eq(hrt_forecast(G, N_DRAWS, smp, 0, NULL, NULL, &fr, NULL), HRT_OK);
+    ck_assert_int_eq(fr.phase_now, res.phase);
+    hrt_fit_model_free(m);
+}
+END_TEST
+
+START_TEST(draws_every_phase)
+{
+    /* stars of the grid itself in the middle of every luminous phase they
+     * reach within 13.8 Gyr, at Z_ref, observed in Teff (1.5 %) and log L
+     * (0.05 dex) */
+    hrt_fit_model *m = default_model();
+    const double masses[] = {1.0, 1.5, 2.5, 5.0, 12.0, 30.0, 60.0};
+    int n_stars = 0;
+    for (size_t k = 0; k < sizeof masses / sizeof masses[0]; k++) {
+        hrt_star *s;
+        ck_assert_int_eq(hrt_star_new(G, masses[k], Z_SUN, &s, NULL), HRT_OK);
+        hrt_phase_span sp[64];
+        size_t n = 0;
+        ck_assert_int_eq(hrt_star_phases(s, sp, 64, &n), HRT_OK);
+        for (size_t i = 0; i < n; i++) {
+            double age = 0.5 * (sp[i].start_yr + sp[i].end_yr);
+            hrt_state x;
+            if (sp[i].phase == HRT_PHASE_PRE_MS || !isfinite(age) || age > 13.8e9 || hrt_star_at(s, age, &x) != HRT_OK ||
+                (x.flags & HRT_FLAG_REMNANT) || !isfinite(x.log_l_lsun))
+                continue;
+            hrt_fit_obs o;
+            hrt_fit_obs_init(&o);
+            o.teff_k = pow(10.0, x.log_teff_k);
+            o.teff_k_sigma = 0.015 * o.teff_k;
+            o.log_l_lsun = x.log_l_lsun;
+            o.log_l_lsun_sigma = 0.05;
+            char label[32];
+            snprintf(label, sizeof label, "%g %s", masses[k], hrt_phase_key(x.phase));
+            check_draws(m, &o, (uint64_t)(100 + n_stars), label, DRAW_DLOG_L_SHARE);
+            n_stars++;
+        }
+        hrt_star_free(s);
+    }
+    printf("draws: %d stars checked\n", n_stars);
+    ck_assert_int_ge(n_stars, 12);
+    hrt_fit_model_free(m);
+}
+END_TEST
+
+/* Every fit function that takes an hrt_error reports success in it. */
+START_TEST(errors_cleared_on_success)
+{
+    hrt_error err = {HRT_E_INTERNAL, "stale"};
+    hrt_fit_model_options o;
+    hrt_fit_model_options_default(&o);
+    o.feh_min = o.feh_max = 0.0;
+    o.mass_min_msun = 0.8;
+    o.mass_max_msun = 1.2;
+    hrt_fit_model *m = NULL;
+    ck_assert_int_eq(hrt_fit_model_new(G, &o, &m, &err), HRT_OK);
+    ck_assert_int_eq(err.code, HRT_OK);
+    ck_assert_str_eq(err.message, "success");
+    hrt_fit_obs ob = obs_tlf(5772.0, 50.0, 0.0, 0.02, 0.0, 0.05);
+    hrt_fit_sample smp[10];
+    hrt_fit_result res;
+    err = (hrt_error){HRT_E_INTERNAL, "stale"};
+    ck_assert_int_eq(hrt_fit_star(m, &ob, 1, 10, smp, &res, &err), HRT_OK);
+    ck_assert_int_eq(err.code, HRT_OK);
+    ck_assert_str_eq(err.message, "success");
+    hrt_forecast_result fr;
+    hrt_forecast_state fs;
+    double dt = 1e9;
+    err = (hrt_error){HRT_E_INTERNAL, "stale"};
+    ck_assert_int_eq(hrt_forecast(G, 10, smp, 1, &dt, &fs, &fr, &err), HRT_OK);
+    ck_assert_int_eq(err.code, HRT_OK);
+    ck_assert_str_eq(err.message, "success");
+    hrt_fit_model_free(m);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("fit");
@@ -512,6 +728,9 @@ int main(void)
     tcase_add_test(tc, bad_inputs);
     tcase_add_test(tc, priors_and_names);
     tcase_add_test(tc, injection_coverage);
+    tcase_add_test(tc, draws_red_giant);
+    tcase_add_test(tc, draws_every_phase);
+    tcase_add_test(tc, errors_cleared_on_success);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_set_fork_status(sr, CK_NOFORK);

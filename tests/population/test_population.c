@@ -733,6 +733,215 @@ START_TEST(test_bad_input)
 }
 END_TEST
 
+/* ---------------------------------------- summaries received as bytes */
+
+/* A summary in a buffer with room after it: a merge or an add that trusted
+ * a corrupt binning would write into the room (and be caught by its return
+ * code) rather than into someone else's memory. */
+#define SLACK_BINS 20000
+
+static hrt_pop_summary *summary_with_slack(void)
+{
+    hrt_pop_summary *s = calloc(1, sizeof *s + SLACK_BINS * sizeof(uint64_t));
+    ck_assert_ptr_nonnull(s);
+    return s;
+}
+
+/* A valid summary of a few evaluated stars (every HR bin of the last row reachable). */
+static void small_summary(const hrt_grid *g, hrt_pop_summary *s)
+{
+    ck_assert_int_eq(hrt_pop_summary_init(s, 1e9, &HR, NULL), HRT_OK);
+    double m[] = {0.5, 1.0, 2.0, 5.0, 30.0, 200.0}, a[] = {1e9, 1e9, 1e9, 1e9, 1e9, 1e9};
+    hrt_state st[6];
+    hrt_eval(g, 6, m, NULL, 0.014, a, st, NULL);
+    ck_assert_int_eq(hrt_pop_summary_add(s, st, 6, NULL), HRT_OK);
+}
+
+/* Each corruption of the bytes of a summary, applied to src alone, dst
+ * alone, or both (so that dst and src still agree on the field, which the
+ * epoch and binning comparisons alone would let through). */
+typedef void (*corrupt_fn)(hrt_pop_summary *s);
+static void bad_size(hrt_pop_summary *s) { s->struct_size = sizeof *s + 8; }
+static void no_size(hrt_pop_summary *s) { s->struct_size = 0; }
+static void bins_over(hrt_pop_summary *s) { s->hr.nx = 101, s->hr.ny = 100; }   /* 10100 > 10000 bins */
+static void bins_wrap(hrt_pop_summary *s) { s->hr.nx = s->hr.ny = (uint64_t)1 << 32; } /* nx * ny wraps to 0 */
+static void bins_half(hrt_pop_summary *s) { s->hr.nx = 0, s->hr.ny = 7; }
+static void bins_huge(hrt_pop_summary *s) { s->hr.nx = UINT64_MAX, s->hr.ny = 1; }
+static void bins_none_ranged(hrt_pop_summary *s) { s->hr.nx = s->hr.ny = 0; } /* ranges kept */
+static void range_nan(hrt_pop_summary *s) { s->hr.log_teff_k_lo = NAN; }
+static void range_inf(hrt_pop_summary *s) { s->hr.log_l_lsun_hi = INFINITY; }
+static void range_empty(hrt_pop_summary *s) { s->hr.log_l_lsun_hi = s->hr.log_l_lsun_lo; }
+static void epoch_nan(hrt_pop_summary *s) { s->age_yr = NAN; }
+static void epoch_negative(hrt_pop_summary *s) { s->age_yr = -1e9; }
+static void epoch_inf(hrt_pop_summary *s) { s->age_yr = INFINITY; }
+static void extremum_nan(hrt_pop_summary *s) { s->evolved_min_initial_mass_msun = NAN; }
+static void extremum_negative(hrt_pop_summary *s) { s->ms_max_initial_mass_msun = -1; }
+
+static const struct {
+    const char *name;
+    corrupt_fn f;
+} corruptions[] = {
+    {"101 x 100 bins", bins_over},  {"2^32 x 2^32 bins", bins_wrap}, {"0 x 7 bins", bins_half},
+    {"2^64-1 x 1 bins", bins_huge}, {"0 x 0 bins with ranges", bins_none_ranged},
+    {"struct_size + 8", bad_size},  {"struct_size 0", no_size},
+    {"NaN range", range_nan},       {"infinite range", range_inf},  {"empty range", range_empty},
+    {"NaN epoch", epoch_nan},       {"negative epoch", epoch_negative}, {"infinite epoch", epoch_inf},
+    {"NaN extremum", extremum_nan}, {"negative extremum", extremum_negative},
+};
+
+START_TEST(test_merge_refuses_bad_bytes)
+{
+    hrt_grid *g = open_grid();
+    hrt_pop_summary *good = summary_with_slack(), *d = summary_with_slack(), *s = summary_with_slack();
+    hrt_pop_summary *before = summary_with_slack();
+    small_summary(g, good);
+    const size_t bytes = sizeof *good + SLACK_BINS * sizeof(uint64_t);
+    for (size_t c = 0; c < sizeof corruptions / sizeof corruptions[0]; c++)
+        for (int which = 3; which >= 1; which--) { /* 3: both, 2: dst, 1: src */
+            memcpy(d, good, bytes);
+            memcpy(s, good, bytes);
+            if (which & 1) corruptions[c].f(s);
+            if (which & 2) corruptions[c].f(d);
+            memcpy(before, d, bytes);
+            hrt_error err = {HRT_OK, "untouched"};
+            int rc = hrt_pop_summary_merge(d, s, &err);
+            ck_assert_msg(rc == HRT_E_INVALID, "merge with %s in %s: %s (%d), expected HRT_E_INVALID", corruptions[c].name,
+                          which == 1 ? "src" : which == 2 ? "dst" : "both", hrt_strerror(rc), rc);
+            ck_assert_int_eq(err.code, HRT_E_INVALID);
+            ck_assert_msg(strstr(err.message, which == 2 ? "dst" : which == 1 ? "src" : "dst") != NULL,
+                          "the message names the summary at fault: %s", err.message);
+            ck_assert_msg(memcmp(d, before, bytes) == 0, "merge with %s changed dst (or memory after it)", corruptions[c].name);
+        }
+    /* the control: the same merge of good bytes succeeds and doubles the counts */
+    memcpy(d, good, bytes);
+    ck_assert_int_eq(hrt_pop_summary_merge(d, good, NULL), HRT_OK);
+    ck_assert_uint_eq(d->n_drawn, 2 * good->n_drawn);
+    free(good);
+    free(d);
+    free(s);
+    free(before);
+    hrt_grid_close(g);
+}
+END_TEST
+
+START_TEST(test_add_refuses_bad_codes)
+{
+    hrt_grid *g = open_grid();
+    hrt_pop_summary *good = summary_with_slack(), *x = summary_with_slack(), *before = summary_with_slack();
+    small_summary(g, good);
+    const size_t bytes = sizeof *good + SLACK_BINS * sizeof(uint64_t);
+    /* a luminous star in the top-right corner of a histogram said to have 101 x 100 bins */
+    double m = 1.0, a = 4.6e9;
+    hrt_state st;
+    ck_assert_int_eq(hrt_eval(g, 1, &m, NULL, 0.014, &a, &st, NULL), HRT_OK);
+    for (size_t c = 0; c < sizeof corruptions / sizeof corruptions[0]; c++) {
+        memcpy(x, good, bytes);
+        corruptions[c].f(x);
+        if (x->hr.nx == 101) { /* put the star in bin (100, 99), past the 10000 bins */
+            x->hr.log_teff_k_lo = st.log_teff_k - 100.5 * (x->hr.log_teff_k_hi - x->hr.log_teff_k_lo) / 101;
+            x->hr.log_l_lsun_lo = st.log_l_lsun - 99.5 * (x->hr.log_l_lsun_hi - x->hr.log_l_lsun_lo) / 100;
+        }
+        memcpy(before, x, bytes);
+        hrt_error err = {HRT_OK, "untouched"};
+        ck_assert_msg(hrt_pop_summary_add(x, &st, 1, &err) == HRT_E_INVALID, "add to a summary with %s accepted",
+                      corruptions[c].name);
+        ck_assert_msg(strstr(err.message, "hrt_pop_summary_add") != NULL, "%s", err.message);
+        ck_assert_msg(memcmp(x, before, bytes) == 0, "add to a summary with %s changed it", corruptions[c].name);
+    }
+    /* states with codes outside the lists; the summary is unchanged */
+    const struct {
+        const char *field;
+        int32_t status, phase, remnant;
+    } bad[] = {{"status", 77, HRT_PHASE_MS, 0}, {"status", -2, HRT_PHASE_MS, 0}, {"phase", HRT_OK, 99, 0},
+               {"phase", HRT_OK, -1, 0},     {"phase", HRT_OK, 12, 0},         {"remnant", HRT_OK, HRT_PHASE_WD, 40},
+               {"remnant", HRT_OK, HRT_PHASE_WD, -5}, {"remnant", HRT_OK, HRT_PHASE_WD, 13}};
+    for (size_t k = 0; k < sizeof bad / sizeof bad[0]; k++) {
+        hrt_state two[2] = {st, st};
+        two[1].status = bad[k].status;
+        two[1].phase = bad[k].phase;
+        two[1].remnant = bad[k].remnant;
+        two[1].flags |= HRT_FLAG_REMNANT;
+        memcpy(x, good, bytes);
+        hrt_error err = {HRT_OK, "untouched"};
+        ck_assert_msg(hrt_pop_summary_add(x, two, 2, &err) == HRT_E_INVALID, "a state with %s %d/%d/%d accepted",
+                      bad[k].field, bad[k].status, bad[k].phase, bad[k].remnant);
+        ck_assert_msg(strstr(err.message, "state 1") && strstr(err.message, bad[k].field), "%s", err.message);
+        ck_assert(memcmp(x, good, bytes) == 0);
+    }
+    /* a failed star's phase and remnant are not counted, so not checked */
+    hrt_state failed = st;
+    failed.status = HRT_E_MASS_RANGE;
+    failed.phase = 99;
+    memcpy(x, good, bytes);
+    ck_assert_int_eq(hrt_pop_summary_add(x, &failed, 1, NULL), HRT_OK);
+    ck_assert_uint_eq(x->n_status[HRT_E_MASS_RANGE], good->n_status[HRT_E_MASS_RANGE] + 1);
+    /* a run refuses summaries it would have to trust */
+    hrt_pop_spec spec;
+    hrt_pop_spec_default(&spec);
+    spec.n_stars = 100;
+    memcpy(x, good, bytes);
+    bins_over(x);
+    memcpy(before, x, bytes);
+    hrt_error err = {HRT_OK, "untouched"};
+    ck_assert_int_eq(hrt_pop_run(g, &spec, 0, 1, 1, 1, x, &err), HRT_E_INVALID);
+    ck_assert_msg(strstr(err.message, "summary 0") != NULL, "%s", err.message);
+    ck_assert(memcmp(x, before, bytes) == 0);
+    free(good);
+    free(x);
+    free(before);
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Every population function that takes an hrt_error reports success in it. */
+#define STALE(err) ((err) = (hrt_error){HRT_E_INTERNAL, "stale message"})
+#define ASSERT_SUCCESS(call, err)                                                                                        \
+    do {                                                                                                                 \
+        STALE(err);                                                                                                      \
+        ck_assert_int_eq((call), HRT_OK);                                                                                \
+        ck_assert_msg((err).code == HRT_OK && strcmp((err).message, "success") == 0, "%s left %d '%s'", #call,          \
+                      (err).code, (err).message);                                                                        \
+    } while (0)
+
+START_TEST(test_errors_cleared_on_success)
+{
+    hrt_grid *g = open_grid();
+    hrt_error err;
+    hrt_pop_spec spec;
+    hrt_pop_spec_default(&spec);
+    spec.n_stars = 3000;
+    spec.chunk_size = 1000;
+    ASSERT_SUCCESS(hrt_imf_init(&spec.imf, HRT_IMF_SALPETER_1955, 0.1, 50, 0, &err), err);
+    ASSERT_SUCCESS(hrt_pop_spec_check(&spec, &err), err);
+    double m[1000], z[1000], t[1000];
+    size_t n = 0;
+    ASSERT_SUCCESS(hrt_pop_draw(&spec, 1, m, z, t, 1000, &n, &err), err);
+    hrt_pop_summary *a = malloc(sizeof *a), *b = malloc(sizeof *b);
+    ASSERT_SUCCESS(hrt_pop_summary_init(a, 1e9, &HR, &err), err);
+    ASSERT_SUCCESS(hrt_pop_summary_init(b, 1e9, &HR, &err), err);
+    enum { N_PAR = 10000 }; /* more than one block: the parallel path */
+    double *pm = malloc(N_PAR * sizeof *pm), *pa = malloc(N_PAR * sizeof *pa);
+    hrt_state *st = malloc(N_PAR * sizeof *st);
+    for (int i = 0; i < N_PAR; i++) {
+        pm[i] = 0.1 + 0.005 * i;
+        pa[i] = 1e9;
+    }
+    ASSERT_SUCCESS(hrt_eval_parallel(g, N_PAR, pm, NULL, 0.014, pa, st, 2, &err), err);
+    ASSERT_SUCCESS(hrt_eval_parallel(g, 10, pm, NULL, 0.014, pa, st, 1, &err), err);
+    ASSERT_SUCCESS(hrt_pop_summary_add(a, st, 100, &err), err);
+    ASSERT_SUCCESS(hrt_pop_summary_add(a, st, 0, &err), err);
+    ASSERT_SUCCESS(hrt_pop_summary_merge(b, a, &err), err);
+    ASSERT_SUCCESS(hrt_pop_run(g, &spec, 0, 2, 2, 1, a, &err), err);
+    ASSERT_SUCCESS(hrt_pop_run(g, &spec, 7, 2, 1, 1, a, &err), err); /* no chunk left there: nothing to do */
+    free(pm);
+    free(pa);
+    free(st);
+    free(a);
+    free(b);
+    hrt_grid_close(g);
+}
+END_TEST
+
 static Suite *suite(void)
 {
     Suite *s = suite_create("population");
@@ -748,6 +957,9 @@ static Suite *suite(void)
     tcase_add_test(t, test_single_burst_ages);
     tcase_add_test(t, test_memory_streamed);
     tcase_add_test(t, test_bad_input);
+    tcase_add_test(t, test_merge_refuses_bad_bytes);
+    tcase_add_test(t, test_add_refuses_bad_codes);
+    tcase_add_test(t, test_errors_cleared_on_success);
     suite_add_tcase(s, t);
     return s;
 }
