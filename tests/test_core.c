@@ -755,6 +755,58 @@ static void dmg_empty_group(hid_t f)
     H5Gclose(g);
 }
 
+/* Hostile files: a dataset declaring far more than it stores, links out of
+ * the file, cores not nested in the star, keypoints out of order, a flipped
+ * bit under a checksum. */
+static void dmg_declares_more(hid_t f)
+{
+    hid_t d = H5Dopen2(f, "metallicity/0/log_age_yr", H5P_DEFAULT), s = H5Dget_space(d);
+    hsize_t dims[2];
+    H5Sget_simple_extent_dims(s, dims, NULL);
+    H5Sclose(s);
+    H5Dclose(d);
+    H5Ldelete(f, "metallicity/0/log_age_yr", H5P_DEFAULT);
+    hid_t dcpl = H5Pcreate(H5P_DATASET_CREATE);
+    H5Pset_chunk(dcpl, 2, dims);
+    s = H5Screate_simple(2, dims, NULL); /* nothing written: no storage allocated */
+    d = H5Dcreate2(f, "metallicity/0/log_age_yr", H5T_IEEE_F64LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
+    H5Dclose(d);
+    H5Sclose(s);
+    H5Pclose(dcpl);
+}
+static void dmg_external_link(hid_t f)
+{
+    H5Ldelete(f, "metallicity/1/log_l_lsun", H5P_DEFAULT);
+    H5Lcreate_external("/dev/zero", "/anything", f, "metallicity/1/log_l_lsun", H5P_DEFAULT, H5P_DEFAULT);
+}
+static void dmg_soft_link(hid_t f)
+{
+    H5Ldelete(f, "metallicity/1/mass_msun", H5P_DEFAULT);
+    H5Lcreate_soft("/metallicity/1/he_core_mass_msun", f, "metallicity/1/mass_msun", H5P_DEFAULT, H5P_DEFAULT);
+}
+static void dmg_core_heavier(hid_t f) { write_elem(f, "metallicity/2/co_core_mass_msun", 5, 7, 50.0); }
+static void dmg_keypoints_swapped(hid_t f)
+{
+    hid_t d = H5Dopen2(f, "routes/low/keypoint_names", H5P_DEFAULT), t = H5Dget_type(d), s = H5Dget_space(d);
+    hssize_t n = H5Sget_simple_extent_npoints(s);
+    char **v = calloc((size_t)n, sizeof *v);
+    hid_t mt = H5Tcopy(H5T_C_S1);
+    H5Tset_size(mt, H5T_VARIABLE);
+    H5Dread(d, mt, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+    const char *w[64];
+    for (hssize_t k = 0; k < n && k < 64; k++)
+        w[k] = v[k];
+    w[0] = "tams"; /* known keypoints out of the order of a star's life */
+    w[1] = "zams";
+    H5Dwrite(d, mt, H5S_ALL, H5S_ALL, H5P_DEFAULT, w);
+    H5Dvlen_reclaim(mt, s, H5P_DEFAULT, v);
+    free(v);
+    H5Tclose(mt);
+    H5Tclose(t);
+    H5Sclose(s);
+    H5Dclose(d);
+}
+
 /* The reader's checks of format 2: units, floating-point data, the code
  * tables (tracks/FORMAT.md, "What the reader checks"). */
 static void set_text_attr(hid_t f, const char *obj, const char *name, const char *value)
@@ -863,6 +915,14 @@ static const struct {
     {"phase code of no phase", dmg_phase_slot, HRT_E_FORMAT, "metallicity/2/phase[4][6]: 12 is not a phase code"},
     {"group attribute Z of format 1", dmg_old_z, HRT_E_FORMAT, "metallicity/1 attribute 'z' is missing"},
     {"dataset name of format 1", dmg_old_name, HRT_E_FORMAT, "metallicity/0/log_age_yr: dataset is missing"},
+    {"declares more than it stores", dmg_declares_more, HRT_E_FORMAT,
+     "metallicity/0/log_age_yr: declares"},
+    {"external link", dmg_external_link, HRT_E_FORMAT, "metallicity/1/log_l_lsun: a soft or external link"},
+    {"soft link", dmg_soft_link, HRT_E_FORMAT, "metallicity/1/mass_msun: a soft or external link"},
+    {"CO core heavier than the helium core", dmg_core_heavier, HRT_E_FORMAT,
+     "metallicity/2/co_core_mass_msun[5][7]"},
+    {"keypoints out of order", dmg_keypoints_swapped, HRT_E_FORMAT,
+     "routes/low/keypoint_names[1]: 'zams' after 'tams'"},
 };
 
 START_TEST(test_damaged_files)
@@ -1188,6 +1248,144 @@ START_TEST(test_builder_rejects)
 }
 END_TEST
 
+/* A grid of two routes written through the builder: route "a" with tracks
+ * of 1, 1.2 and 1.44 Msun, route "b" with one track of 10 Msun, the
+ * boundary at 2 Msun.  One Z. */
+static void write_thin_route_grid(const char *path)
+{
+    const char *kp[] = {"zams", "tams"};
+    int seg[] = {10};
+    hrt_route_spec r[2] = {{"a", 2, kp, seg}, {"b", 2, kp, seg}};
+    hrt_builder *b;
+    hrt_error e;
+    ck_assert_int_eq(hrt_builder_new(2, r, 0.02, &b, &e), HRT_OK);
+    const double masses[4] = {1.0, 1.2, 1.44, 10.0};
+    for (int k = 0; k < 4; k++) {
+        double m0 = masses[k], age[11], l[11], t[11], m[11], he[11], co[11];
+        int ph[11];
+        for (int i = 0; i < 11; i++) {
+            age[i] = 10.0 - 2.5 * log10(m0) + 0.05 * i;
+            l[i] = 3.5 * log10(m0) + 0.02 * i;
+            t[i] = 3.76 + 0.5 * log10(m0) - 0.002 * i;
+            m[i] = m0;
+            he[i] = co[i] = 0.0;
+            ph[i] = HRT_PHASE_MS;
+        }
+        hrt_track_data td = {m0, k == 3, HRT_REMNANT_NONE, NAN, 11, age, l, t, NULL, m, he, co, ph, 0, NULL};
+        ck_assert_int_eq(hrt_builder_add_eep_track(b, 0.02, &td, &e), HRT_OK);
+    }
+    double bound = 2.0;
+    ck_assert_int_eq(hrt_builder_set_route_boundaries(b, 0.02, &bound, &e), HRT_OK);
+    ck_assert_msg(hrt_builder_write(b, path, &e) == HRT_OK, "%s", e.message);
+    hrt_builder_free(b);
+}
+
+/* Extrapolation is bounded: beyond a route's end track at most two inner
+ * spacings, for a one-track route half the gap to the next track; farther a
+ * query is refused with a message, never answered from a distant track. */
+START_TEST(test_extrapolation_bounded)
+{
+    char p[320];
+    path_in_tmp(p, sizeof p, "thin.h5");
+    write_thin_route_grid(p);
+    hrt_grid *g = open_or_fail(p, HRT_INTERP_STEFFEN);
+    hrt_error e;
+    hrt_state st;
+    double limit = 0.5 * log10(10.0 / 1.44), age = 1e5;
+    double near = 10.0 / pow(10.0, 0.9 * limit), far = 10.0 / pow(10.0, 1.1 * limit);
+    ck_assert_int_eq(hrt_eval(g, 1, &near, NULL, 0.02, &age, &st, &e), HRT_OK);
+    ck_assert(st.flags & HRT_FLAG_EXTRAPOLATED);
+    ck_assert_int_eq(hrt_eval(g, 1, &far, NULL, 0.02, &age, &st, &e), HRT_E_NO_TRACK);
+    ck_assert_msg(strstr(e.message, "extrapolation reaches") && strstr(e.message, "route 'b'"), "%s", e.message);
+    hrt_star *s = NULL;
+    ck_assert_int_eq(hrt_star_new(g, far, 0.02, &s, &e), HRT_E_NO_TRACK);
+    ck_assert_ptr_null(s);
+    /* route "a": up to two inner spacings beyond 1.44 Msun, i.e. to the boundary here */
+    double below = 1.99;
+    ck_assert_int_eq(hrt_eval(g, 1, &below, NULL, 0.02, &age, &st, &e), HRT_OK);
+    ck_assert(st.flags & HRT_FLAG_EXTRAPOLATED);
+    /* index guards: no wrap at SIZE_MAX */
+    ck_assert(isnan(hrt_grid_route_boundary(g, 0, (size_t)-1)));
+    ck_assert(isnan(hrt_grid_route_boundary(g, 0, 1)));
+    double mb;
+    ck_assert_int_eq(hrt_grid_boundary_at(g, 0.02, (size_t)-1, &mb), HRT_E_INVALID);
+    ck_assert_int_eq(hrt_grid_boundary_at(g, 0.02, 0, &mb), HRT_OK);
+    ck_assert_double_eq(mb, 2.0);
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Truths of every state: cores nested in the star; white dwarfs beyond the
+ * cooling law's range flagged; hrt_wd_log_l only for white dwarfs; every
+ * error reset to success by a successful call. */
+START_TEST(test_state_truths)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_CSPLINE); /* cubic: overshoots where it can */
+    gsl_rng *r = gsl_rng_alloc(gsl_rng_mt19937);
+    gsl_rng_set(r, 20261205);
+    enum { N = 20000 };
+    static double m[N], a[N];
+    static hrt_state st[N];
+    double lo, hi;
+    ck_assert_int_eq(hrt_grid_mass_range(g, 0.01, &lo, &hi), HRT_OK);
+    for (int i = 0; i < N; i++) {
+        m[i] = lo * pow(hi / lo, gsl_rng_uniform(r));
+        a[i] = pow(10.0, 6.0 + 5.0 * gsl_rng_uniform(r));
+    }
+    hrt_error e = {HRT_E_DOMAIN, "an earlier failure"};
+    hrt_eval(g, N, m, NULL, 0.01, a, st, &e);
+    for (int i = 0; i < N; i++) {
+        if (st[i].status != HRT_OK || (st[i].flags & (HRT_FLAG_DARK | HRT_FLAG_NOT_MODELLED)))
+            continue;
+        ck_assert_msg(st[i].he_core_mass_msun <= st[i].mass_msun && st[i].co_core_mass_msun <= st[i].he_core_mass_msun,
+                      "repro: mass=%.17g z=0.01 age=%.17g: cores %g, %g in %g", m[i], a[i], st[i].he_core_mass_msun,
+                      st[i].co_core_mass_msun, st[i].mass_msun);
+        if (st[i].phase == HRT_PHASE_WD)
+            ck_assert_int_eq(!!(st[i].flags & HRT_FLAG_BEYOND_LAW),
+                             !(st[i].log_l_lsun >= -4.5 && st[i].log_l_lsun <= -1.0));
+    }
+    /* a white dwarf at 1e20 yr is far beyond Mestel cooling: flagged */
+    double m0 = hi, age = 1e20;
+    hrt_state w;
+    ck_assert_int_eq(hrt_eval(g, 1, &m0, NULL, 0.01, &age, &w, &e), HRT_OK);
+    if (w.phase == HRT_PHASE_WD)
+        ck_assert(w.flags & HRT_FLAG_BEYOND_LAW);
+    ck_assert(isnan(hrt_wd_log_l(0.6, HRT_REMNANT_NS, 0.0, 1e9)));
+    ck_assert(isnan(hrt_wd_log_l(0.6, HRT_REMNANT_BH, 0.0, 1e9)));
+    ck_assert(isnan(hrt_wd_log_l(0.6, 99, 0.0, 1e9)));
+    ck_assert(isfinite(hrt_wd_log_l(0.6, HRT_REMNANT_CO_WD, 0.0, 1e9)));
+    /* errors reset on success */
+    e = (hrt_error){HRT_E_DOMAIN, "an earlier failure"};
+    double one = 1.0 * lo * 2.0, t9 = 1e9;
+    ck_assert_int_eq(hrt_eval(g, 1, &one, NULL, 0.01, &t9, &w, &e), HRT_OK);
+    ck_assert_int_eq(e.code, HRT_OK);
+    ck_assert_str_eq(e.message, "success");
+    e = (hrt_error){HRT_E_DOMAIN, "an earlier failure"};
+    ck_assert_int_eq(hrt_eval(g, 0, NULL, NULL, 0.01, NULL, NULL, &e), HRT_OK);
+    ck_assert_int_eq(e.code, HRT_OK);
+    e = (hrt_error){HRT_E_DOMAIN, "an earlier failure"};
+    size_t n;
+    ck_assert_int_eq(hrt_isochrone(g, 1e9, 0.01, NULL, 0, &n, &e) == HRT_E_BUFFER || n == 0, 1);
+    hrt_state *iso = malloc((n + 1) * sizeof *iso);
+    e = (hrt_error){HRT_E_DOMAIN, "an earlier failure"};
+    ck_assert_int_eq(hrt_isochrone(g, 1e9, 0.01, iso, n + 1, &n, &e), HRT_OK);
+    ck_assert_int_eq(e.code, HRT_OK);
+    free(iso);
+    hrt_star *s;
+    e = (hrt_error){HRT_E_DOMAIN, "an earlier failure"};
+    ck_assert_int_eq(hrt_star_new(g, one, 0.01, &s, &e), HRT_OK);
+    ck_assert_int_eq(e.code, HRT_OK);
+    hrt_star_free(s);
+    hrt_grid *g2;
+    e = (hrt_error){HRT_E_DOMAIN, "an earlier failure"};
+    ck_assert_int_eq(hrt_grid_open(grid_path, &g2, &e), HRT_OK);
+    ck_assert_int_eq(e.code, HRT_OK);
+    hrt_grid_close(g2);
+    gsl_rng_free(r);
+    hrt_grid_close(g);
+}
+END_TEST
+
 /* Resampling a raw track: EEPs land on the keypoints, are equally spaced in
  * the metric of tracks/FORMAT.md, and reproduce a linear track exactly. */
 START_TEST(test_resampling)
@@ -1256,6 +1454,8 @@ static Suite *core_suite(void)
         const TTest *fn;
     } cases[] = {
         {"names", test_names},
+        {"extrapolation_bounded", test_extrapolation_bounded},
+        {"state_truths", test_state_truths},
         {"phase_codes", test_phase_codes},
         {"remnant_codes", test_remnant_codes},
         {"slopes_gsl", test_slopes_match_gsl},

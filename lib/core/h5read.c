@@ -198,6 +198,17 @@ static int check_storage(hid_t d, hid_t t, hssize_t points, const char *where, c
     return HRT_OK;
 }
 
+static int check_dataset_storage(hid_t d, const char *where, const char *name, hrt_error *err)
+{
+    hid_t t = H5Dget_type(d), s = H5Dget_space(d);
+    int rc = check_storage(d, t, s >= 0 ? H5Sget_simple_extent_npoints(s) : 0, where, name, err);
+    if (t >= 0)
+        H5Tclose(t);
+    if (s >= 0)
+        H5Sclose(s);
+    return rc;
+}
+
 static int h5_open_dataset(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims,
                         H5T_class_t *cls, hid_t *out, hrt_error *err)
 {
@@ -227,8 +238,6 @@ static int h5_open_dataset(hid_t loc, const char *where, const char *name, int r
                                    k, (unsigned long long)found[k], (unsigned long long)dims[k]);
         }
     }
-    if (rc == HRT_OK)
-        rc = check_storage(d, t, H5Sget_simple_extent_npoints(s), where, name, err);
     *cls = t >= 0 ? H5Tget_class(t) : H5T_NO_CLASS;
     if (t >= 0)
         H5Tclose(t);
@@ -256,6 +265,8 @@ int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, h
     if (cls != (as_int ? H5T_INTEGER : H5T_FLOAT)) {
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: must hold %s", where, name,
                              as_int ? "integers" : "floating-point numbers");
+    } else if ((rc = check_dataset_storage(d, where, name, err)) != HRT_OK) {
+        /* declares more than it stores: nothing is allocated for it */
     } else if (buf && H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT,
                               buf) < 0) {
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read (a checksum that does not match, or "

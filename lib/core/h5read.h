@@ -13,7 +13,7 @@
  * dataset storing less than 1/TRAIL_MAX_FILTER_RATIO of what it declares
  * (plus some slack for tiny ones) is refused before anything is allocated. */
 #define TRAIL_MAX_FILTER_RATIO 1100.0
-#define TRAIL_STORAGE_SLACK_BYTES 65536.0
+#define TRAIL_STORAGE_SLACK_BYTES 4096.0
 
 /* 1 if loc holds a hard link `name`, 0 if nothing of that name, -1 if a
  * soft or external link (refused: it could name another file, or a FIFO). */

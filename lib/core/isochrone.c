@@ -292,9 +292,20 @@ static int route_candidates(const hrt_grid *g, const trail_zplace *zp, double z,
     if (!knot_ages(g, z, r, nk, b))
         return HRT_OK;
     double lt = trail_log10(age_yr);
-    int rc = list_push(c, b->knots[0]);
+    /* the zone's ends, taken a rounding inside it (10^log10(m) can land an
+     * ulp beyond m, on the next route), and the route's tracks inside it:
+     * kept masses from which edge_point() and refine() find the rest even
+     * where every EEP root falls on the wrong side of an edge by rounding */
+    double x_lo = b->knots[0], x_hi = b->knots[nk - 1];
+    while (trail_exp10(x_lo) < lo)
+        x_lo = nextafter(x_lo, INFINITY);
+    while (trail_exp10(x_hi) > hi)
+        x_hi = nextafter(x_hi, -INFINITY);
+    int rc = list_push(c, x_lo);
     if (rc == HRT_OK)
-        rc = list_push(c, b->knots[nk - 1]);
+        rc = list_push(c, x_hi);
+    for (size_t k = 1; k + 1 < nk && rc == HRT_OK; k++)
+        rc = list_push(c, b->knots[k]);
     for (size_t j = 0; j < g->routes[r].n_eep && rc == HRT_OK; j++)
         for (size_t k = 0; k + 1 < nk && rc == HRT_OK; k++) {
             double x;

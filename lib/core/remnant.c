@@ -114,7 +114,10 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
         s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
         if (!(s->log_l_lsun >= TRAIL_WD_LOG_L_VALID_MIN && s->log_l_lsun <= TRAIL_WD_LOG_L_VALID_MAX))
             s->flags |= HRT_FLAG_BEYOND_LAW;
-        s->he_core_mass_msun = kind == HRT_REMNANT_HE_WD ? rem_mass : 0.0;
+        /* cores nested as in every state: the helium core is the whole
+         * white dwarf (no hydrogen left), the CO core all of it but in a
+         * helium white dwarf */
+        s->he_core_mass_msun = rem_mass;
         s->co_core_mass_msun = kind == HRT_REMNANT_HE_WD ? 0.0 : rem_mass;
         break;
     case HRT_REMNANT_NS:
