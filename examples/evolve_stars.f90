@@ -65,7 +65,7 @@ program evolve_stars
           remnant_mass_msun, ' Msun'
      do k = 1, size(spans)
         phase = hrtf_phase_name(int(spans(k)%phase))
-        write (*, '(8x,a,es11.3,a,es11.3,a)') phase, spans(k)%start_yr, ' ..', spans(k)%end_yr, ' yr'
+        write (*, '(8x,a,es11.3,a,es11.3,a)') phase, spans(k)%phase_start_yr, ' ..', spans(k)%phase_end_yr, ' yr'
      end do
      call hrtf_star_free(star)
   end do

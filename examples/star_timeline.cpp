@@ -31,7 +31,7 @@ int main(int argc, char **argv)
             double ms_end = NAN;
             for (const hrt_phase_span &p : star.phases())
                 if (p.phase == HRT_PHASE_MS)
-                    ms_end = p.end_yr;
+                    ms_end = p.phase_end_yr;
             double left = ms_end - c.age_yr;
             std::printf("%-4s %5.2f Msun Z=%.3f age %.3g yr: %-26s log L %6.3f, Teff %6.0f K; ", c.label,
                         c.mass_msun, c.z, c.age_yr, hrt_phase_name(now.phase), now.log_l_lsun,

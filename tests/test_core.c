@@ -492,17 +492,17 @@ START_TEST(test_phases_keypoints_remnant)
     for (size_t k = 0; k < n; k++) {
         ck_assert_int_eq(sp[k].phase, want[k]);
         if (k > 0)
-            ck_assert_double_eq(sp[k].start_yr, sp[k - 1].end_yr);
+            ck_assert_double_eq(sp[k].phase_start_yr, sp[k - 1].phase_end_yr);
         /* states inside each span carry that phase */
-        double mid = k + 1 < n ? sqrt(sp[k].start_yr * sp[k].end_yr) : sp[k].start_yr * 3.0;
+        double mid = k + 1 < n ? sqrt(sp[k].phase_start_yr * sp[k].phase_end_yr) : sp[k].phase_start_yr * 3.0;
         if (k == 0)
-            mid = 0.5 * sp[k].end_yr;
+            mid = 0.5 * sp[k].phase_end_yr;
         hrt_state st;
         ck_assert_int_eq(hrt_star_at(s, mid, &st), HRT_OK);
         ck_assert_int_eq(st.phase, want[k]);
         if (k > 0 && k + 1 < n) {
             ck_assert(st.phase_fraction > 0.0 && st.phase_fraction < 1.0);
-            ck_assert_double_eq_tol(st.phase_start_yr, sp[k].start_yr, 1e-6 * sp[k].start_yr);
+            ck_assert_double_eq_tol(st.phase_start_yr, sp[k].phase_start_yr, 1e-6 * sp[k].phase_start_yr);
         }
     }
     /* White dwarf: cools (L falls) and keeps its mass and radius. */

@@ -342,12 +342,12 @@ static void check_star(checker *k, const hrt_star *s, const char *where, int own
         problem(k, where, "timetable: %s", hrt_strerror(r));
     } else {
         for (size_t i = 0; i < nsp; i++) {
-            if (!(sp[i].end_yr >= sp[i].start_yr))
+            if (!(sp[i].phase_end_yr >= sp[i].phase_start_yr))
                 problem(k, where, "phase %s ends (%.6g yr) before it starts (%.6g yr)", hrt_phase_key(sp[i].phase),
-                        sp[i].end_yr, sp[i].start_yr);
-            if (i > 0 && sp[i].start_yr != sp[i - 1].end_yr)
+                        sp[i].phase_end_yr, sp[i].phase_start_yr);
+            if (i > 0 && sp[i].phase_start_yr != sp[i - 1].phase_end_yr)
                 problem(k, where, "phase %s starts at %.17g yr, not where %s ended (%.17g yr)", hrt_phase_key(sp[i].phase),
-                        sp[i].start_yr, hrt_phase_key(sp[i - 1].phase), sp[i - 1].end_yr);
+                        sp[i].phase_start_yr, hrt_phase_key(sp[i - 1].phase), sp[i - 1].phase_end_yr);
         }
     }
     int kind = HRT_REMNANT_NONE;

@@ -67,9 +67,9 @@ int life_build(cli *c, const char *mass_text, double mass, double z, life *L)
         size_t r = table_add_row(L->ph);
         table_text(L->ph, r, 0, hrt_phase_key(sp[i].phase));
         table_text(L->ph, r, 1, hrt_phase_name(sp[i].phase));
-        table_num(L->ph, r, 2, sp[i].start_yr);
-        table_num(L->ph, r, 3, sp[i].end_yr);
-        table_num(L->ph, r, 4, sp[i].end_yr - sp[i].start_yr);
+        table_num(L->ph, r, 2, sp[i].phase_start_yr);
+        table_num(L->ph, r, 3, sp[i].phase_end_yr);
+        table_num(L->ph, r, 4, sp[i].phase_end_yr - sp[i].phase_start_yr);
     }
     free(sp);
     L->remnant = HRT_REMNANT_NONE;

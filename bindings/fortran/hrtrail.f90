@@ -93,12 +93,12 @@ module hrtrail
      character(kind=c_char) :: message(256)
   end type hrt_error
 
-  !> struct hrt_phase_span: one phase [start_yr, end_yr).
+  !> struct hrt_phase_span: one phase [phase_start_yr, phase_end_yr).
   type, bind(C), public :: hrt_phase_span
      integer(c_int32_t) :: phase
      integer(c_int32_t) :: reserved_
-     real(c_double) :: start_yr              !< yr
-     real(c_double) :: end_yr                !< yr (+inf for a lasting remnant)
+     real(c_double) :: phase_start_yr        !< yr
+     real(c_double) :: phase_end_yr          !< yr (+inf for a lasting remnant)
   end type hrt_phase_span
 
   !> An open grid (idiomatic layer).  Copies share the same C grid: close once.

@@ -485,8 +485,8 @@ HRT_API int hrt_star_remnant(const hrt_star *star, int *kind, double *mass_msun)
 typedef struct hrt_phase_span {
     int32_t phase;     /**< hrt_phase */
     int32_t reserved_; /**< zero */
-    double start_yr;   /**< age at which the phase begins, yr */
-    double end_yr;     /**< age at which it ends, yr (+inf for a remnant that lasts forever) */
+    double phase_start_yr; /**< age at which the phase begins, yr */
+    double phase_end_yr;   /**< age at which it ends, yr (+inf for a remnant that lasts forever) */
 } hrt_phase_span;
 
 /**

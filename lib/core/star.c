@@ -169,8 +169,8 @@ int hrt_star_phases(const hrt_star *s, hrt_phase_span *spans, size_t cap, size_t
         if (k < cap) {                                \
             spans[k].phase = (ph);                    \
             spans[k].reserved_ = 0;                   \
-            spans[k].start_yr = (a);                  \
-            spans[k].end_yr = (b);                    \
+            spans[k].phase_start_yr = (a);                  \
+            spans[k].phase_end_yr = (b);                    \
         }                                             \
         k++;                                          \
     } while (0)

@@ -86,13 +86,13 @@ static void gather_phases(const hrt_star *s, double age_yr, size_t i, forecast_w
     for (size_t k = 0; k < nsp; k++) {
         const hrt_phase_span *sp = &w->spans[k];
         int p = sp->phase;
-        if (p <= 0 || p >= HRT_PHASE_SLOTS || !(sp->start_yr > age_yr))
+        if (p <= 0 || p >= HRT_PHASE_SLOTS || !(sp->phase_start_yr > age_yr))
             continue;
         double *start_in = w->phase_ahead + (size_t)p * 2 * n, *duration = start_in + n;
         if (!isnan(start_in[i]))
             continue;
-        start_in[i] = sp->start_yr - age_yr;
-        duration[i] = sp->end_yr - sp->start_yr;
+        start_in[i] = sp->phase_start_yr - age_yr;
+        duration[i] = sp->phase_end_yr - sp->phase_start_yr;
     }
 }
 

@@ -128,8 +128,8 @@ class HrtState(ctypes.Structure):
 
 
 class HrtPhaseSpan(ctypes.Structure):
-    _fields_ = [("phase", ctypes.c_int32), ("reserved_", ctypes.c_int32), ("start_yr", ctypes.c_double),
-                ("end_yr", ctypes.c_double)]
+    _fields_ = [("phase", ctypes.c_int32), ("reserved_", ctypes.c_int32), ("phase_start_yr", ctypes.c_double),
+                ("phase_end_yr", ctypes.c_double)]
 
 
 # numeric fields of a state: the C struct's field names are the command's CSV/JSON names (the vocabulary
@@ -285,7 +285,7 @@ class Star:
         sp = (HrtPhaseSpan * 64)()
         n = ctypes.c_size_t(0)
         self.L.hrt_star_phases(self.s, sp, 64, ctypes.byref(n))
-        return [(x.phase, x.start_yr, x.end_yr) for x in list(sp)[:n.value]]
+        return [(x.phase, x.phase_start_yr, x.phase_end_yr) for x in list(sp)[:n.value]]
 
     def remnant(self):
         k = ctypes.c_int()

@@ -658,7 +658,7 @@ START_TEST(draws_every_phase)
         size_t n = 0;
         ck_assert_int_eq(hrt_star_phases(s, sp, 64, &n), HRT_OK);
         for (size_t i = 0; i < n; i++) {
-            double age = 0.5 * (sp[i].start_yr + sp[i].end_yr);
+            double age = 0.5 * (sp[i].phase_start_yr + sp[i].phase_end_yr);
             hrt_state x;
             if (sp[i].phase == HRT_PHASE_PRE_MS || !isfinite(age) || age > 13.8e9 || hrt_star_at(s, age, &x) != HRT_OK ||
                 (x.flags & HRT_FLAG_REMNANT) || !isfinite(x.log_l_lsun))

@@ -442,8 +442,8 @@ contains
        ok = size(fspans) == int(ns)
        if (ok) then
           do i = 1, size(fspans)
-             ok = ok .and. fspans(i)%phase == cspans(i)%phase .and. same(fspans(i)%start_yr, cspans(i)%start_yr) &
-                  .and. same(fspans(i)%end_yr, cspans(i)%end_yr)
+             ok = ok .and. fspans(i)%phase == cspans(i)%phase .and. same(fspans(i)%phase_start_yr, cspans(i)%phase_start_yr) &
+                  .and. same(fspans(i)%phase_end_yr, cspans(i)%phase_end_yr)
           end do
        end if
        call expect(ok, 'hrtf_star_phases equals hrt_star_phases from C')

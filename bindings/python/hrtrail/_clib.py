@@ -40,7 +40,7 @@ class HrtState(ctypes.Structure):
 class HrtPhaseSpan(ctypes.Structure):
     """struct hrt_phase_span."""
     _fields_ = [("phase", ctypes.c_int32), ("reserved_", ctypes.c_int32),
-                ("start_yr", ctypes.c_double), ("end_yr", ctypes.c_double)]
+                ("phase_start_yr", ctypes.c_double), ("phase_end_yr", ctypes.c_double)]
 
 
 class HrtIsochroneOptions(ctypes.Structure):

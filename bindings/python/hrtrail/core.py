@@ -565,7 +565,7 @@ class Star(_Owned):
                 continue
             check(rc, None, "hrt_star_phases")
             return [PhaseSpan(Phase(s.phase) if s.phase in Phase._value2member_map_ else s.phase,
-                              s.start_yr, s.end_yr) for s in spans[:n.value]]
+                              s.phase_start_yr, s.phase_end_yr) for s in spans[:n.value]]
 
     def keypoints(self):
         """Ages (yr) of the keypoints of the star's route, as an ordered dict {name: age_yr} (NaN if not reached)."""

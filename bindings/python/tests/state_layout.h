@@ -10,6 +10,6 @@
     X(phase_start_yr) X(phase_end_yr) X(remnant_mass_msun) X(reserved)
 
 #define HRT_ERROR_FIELDS(X) X(code) X(message)
-#define HRT_PHASE_SPAN_FIELDS(X) X(phase) X(reserved_) X(start_yr) X(end_yr)
+#define HRT_PHASE_SPAN_FIELDS(X) X(phase) X(reserved_) X(phase_start_yr) X(phase_end_yr)
 
 #endif

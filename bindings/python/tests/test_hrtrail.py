@@ -393,7 +393,7 @@ class StarAndIsochrone(Base):
                     spans = np.frombuffer(f.read(), dtype=np.dtype(hrtrail.HrtPhaseSpan))
                 ph = s.phases()
                 self.assertEqual([(int(p.phase), bits(p.phase_start_yr), bits(p.phase_end_yr)) for p in ph],
-                                 [(int(x["phase"]), bits(x["start_yr"]), bits(x["end_yr"])) for x in spans])
+                                 [(int(x["phase"]), bits(x["phase_start_yr"]), bits(x["phase_end_yr"])) for x in spans])
                 kp = np.fromfile(out + ".keypoints", dtype="<f8")
                 self.assertEqual([bits(v) for v in s.keypoints().values()], [bits(v) for v in kp])
                 names = [l.split()[1] for l in lines if l.startswith("keypoint ")]
