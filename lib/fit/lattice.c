@@ -134,23 +134,21 @@ static int out_of_memory(hrt_error *err) { return trail_set_error(err, HRT_E_NOM
 typedef struct lattice_build {
     hrt_fit_model *m;
     hrt_imf imf; /* the mass prior */
-    size_t cap_tracks, cap_nodes;
+    /* capacities, one per array: each grows geometrically and only when full
+     * (a realloc per track copied the whole lattice each time) */
+    size_t cap_tracks, cap_age, cap_values, cap_phase;
 } lattice_build;
 
-/* Room for one more track of n nodes; node_value and phase follow log_age's capacity. */
 static int reserve_track(lattice_build *B, size_t n)
 {
     hrt_fit_model *m = B->m;
+    size_t need = m->n_nodes + n;
     if (trail_fit_grow((void **)&m->track, &B->cap_tracks, m->n_tracks + 1, sizeof *m->track) ||
-        trail_fit_grow((void **)&m->log_age, &B->cap_nodes, m->n_nodes + n, sizeof *m->log_age))
+        trail_fit_grow((void **)&m->log_age, &B->cap_age, need, sizeof *m->log_age) ||
+        trail_fit_grow((void **)&m->node_value, &B->cap_values, need, LQ_COUNT * sizeof *m->node_value) ||
+        trail_fit_grow((void **)&m->phase, &B->cap_phase, need, sizeof *m->phase))
         return -1;
-    float *values = realloc(m->node_value, B->cap_nodes * LQ_COUNT * sizeof *values);
-    if (values)
-        m->node_value = values;
-    int8_t *phase = values ? realloc(m->phase, B->cap_nodes) : NULL;
-    if (phase)
-        m->phase = phase;
-    return values && phase ? 0 : -1;
+    return 0;
 }
 
 /* Add the lattice track of mass (Msun) at node k; skipped silently if the grid cannot make it. */
