@@ -400,7 +400,7 @@ static int build_lattice(hrt_fit_model *m, hrt_error *err)
     int rc = place_feh_nodes(m, err);
     if (rc != HRT_OK)
         return rc;
-    lattice_build B = {m, {0}, 0, 0};
+    lattice_build B = {.m = m};
     rc = prior_imf(&m->o, &B.imf, err);
     for (size_t k = 0; k < m->n_feh && rc == HRT_OK; k++)
         rc = add_node_tracks(&B, k, err);
