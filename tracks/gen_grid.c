@@ -104,6 +104,10 @@ static int dump_raw(const char *dir, const gen_track *t, const hrt_route_spec *r
     double t_zams = t->s[t->kp[0]].age_yr, t_tams = t->s[t->kp[1]].age_yr;
     double t_cheb_start = INFINITY, t_cheb_end = INFINITY;
     for (size_t k = 0; k < t->n_kp; k++) {
+        if (!strcmp(keypoint[k], "zams"))
+            t_zams = t->s[t->kp[k]].age_yr;
+        if (!strcmp(keypoint[k], "tams"))
+            t_tams = t->s[t->kp[k]].age_yr;
         if (!strcmp(keypoint[k], "cheb_start"))
             t_cheb_start = t->s[t->kp[k]].age_yr;
         if (!strcmp(keypoint[k], "cheb_end"))

@@ -119,50 +119,66 @@ void gen_params_default(gen_params *p)
 /* ------------------------------------------------------------------------
  * Main sequence
  * ------------------------------------------------------------------------ */
-/* Empirical mass-luminosity relation of Eker et al. (2018, MNRAS 479, 5491):
- * six power laws over 0.179-31 Msun (form and range [read], coefficients
- * [from memory]), extrapolated below 0.179 Msun; above 31 Msun
- * log L = 5.378 + 1.65 log(M/31) [engineering choice, matches O3V-O5V mean
- * dwarfs].  Pieces joined by logistic blends of +-2 % in mass. */
-static double logl_mlr(double m)
+/* Present-day field dwarfs: log L and log Teff against log M, a smooth fit
+ * [derived] to the mean-dwarf table of Pecaut & Mamajek (2013, ApJS 208, 9),
+ * as updated by Mamajek (table version 2024.05.15: O3V-M9V, 87 rows) [read].
+ * The fit is a straight line plus softplus corners of width 0.1 dex at the
+ * knots FIELD_KNOTS and a term log10(1 - 0.072/M) for the steep fall of L
+ * and Teff towards the hydrogen-burning limit (about 0.072 Msun: common
+ * practice); least squares with a small ridge on the corners (1e-3) and
+ * the G2V row (the Sun) weighted 30-fold.  Residuals: log L rms 0.03 dex
+ * (largest 0.09, A6V), Teff rms 2 % (largest 5 %, K9V-M0V).  Every
+ * derivative is continuous, so lifetimes and the ZAMS have no kink in mass.
+ * Extrapolated above 59 Msun (O3V) along the fit's end slope (d log L /
+ * d log M = 1.75 there). */
+#define N_FIELD_KNOTS 15
+static const double field_knots[N_FIELD_KNOTS] = {-1.0, -0.85, -0.7, -0.55, -0.4, -0.25, -0.1, 0.05,
+                                                  0.2,  0.35,  0.5,  0.7,   0.9,  1.2,   1.5};
+static const double field_logl[N_FIELD_KNOTS + 3] = {
+    -0.716399, 1.997284,  0.020067,  -0.335148, -0.724495, -0.012271, 2.192774,  3.203358, -0.501245,
+    -2.650814, 0.372478,  0.894976,  -0.404093, -0.577505, -0.263942, -0.661711, -0.777498, 0.562726};
+static const double field_logt[N_FIELD_KNOTS + 3] = {
+    3.556674,  0.047321,  0.038648,  -0.009036, -0.178193, -0.104190, 0.581847,  0.816740, -0.490825,
+    -0.592332, 0.536734,  0.273803,  -0.189385, -0.147503, -0.100357, -0.127705, -0.121034, 0.121353};
+#define FIELD_CORNER 0.1
+#define H_LIMIT_MSUN 0.072
+
+static double softplus(double u) { return u > 30.0 ? u : log1p(exp(u)); }
+
+static double field_fit(const double *c, double m)
 {
-    static const double brk[6] = {0.45, 0.72, 1.05, 2.4, 7.0, 31.0};
-    static const double a[7] = {2.028, 4.572, 5.743, 4.329, 3.967, 2.865, 1.65};
-    static const double b[7] = {-0.976, -0.102, -0.007, 0.010, 0.093, 1.105, 0.0};
     double x = log10(m);
-    double v = a[0] * x + b[0];
-    for (int j = 0; j < 6; j++) {
-        double bj = (j == 5) ? 5.378 - 1.65 * log10(31.0) : b[j + 1];
-        double s = logistic((x - log10(brk[j])) / 0.01);
-        v = v * (1.0 - s) + (a[j + 1] * x + bj) * s;
-    }
-    return v;
+    double v = c[0] + c[1] * x;
+    for (int k = 0; k < N_FIELD_KNOTS; k++)
+        v += c[2 + k] * FIELD_CORNER * softplus((x - field_knots[k]) / FIELD_CORNER);
+    return v + c[2 + N_FIELD_KNOTS] * log10(1.0 - H_LIMIT_MSUN / fmax(m, 1.01 * H_LIMIT_MSUN));
 }
 
-/* Mass-radius relation of Demircan & Kahraman (1991, Ap&SS 181, 313):
- * R = 1.06 M^0.945 below 1.66 Msun, 1.33 M^0.555 above (break [read],
- * coefficients [from memory]).  Solar calibration [engineering choice]: the
- * low-mass coefficient is lowered from 1.06 to 1.00 at and below 1 Msun
- * (fading back to 1.06 by 1.5 Msun) so that the 1 Msun track passes through
- * the nominal Sun; the Sun lies 6 % below the mean field relation. */
+/* Field relations at solar metallicity: log L and log R of a present-day
+ * dwarf of mass m (R from L and Teff by the Stefan-Boltzmann law). */
+static double logl_mlr(double m) { return field_fit(field_logl, m); }
 static double logr_field(double m)
 {
-    double x = log10(m);
-    double s = logistic((x - log10(1.66)) / 0.01);
-    double c = 1.0 + 0.06 * sstep(x, 0.0, log10(1.5));
-    return (log10(c) + 0.945 * x) * (1.0 - s) + (log10(1.33) + 0.555 * x) * s;
+    return 0.5 * logl_mlr(m) - 2.0 * (field_fit(field_logt, m) - log10(HRT_TEFF_SUN_K));
 }
 
-/* Metallicity trend of the main sequence [engineering choice]: lower Z gives
- * brighter, smaller stars; d log L / d log Z = -0.10 (M <= 1.5) to -0.03
- * (M >= 10), d log R / d log Z = +0.03 to +0.06. */
-static double dlogl_dzeta(double m) { return -0.10 + 0.07 * sstep(log10(m), log10(1.5), 1.0); }
-static double dlogr_dzeta(double m) { return 0.03 + 0.03 * sstep(log10(m), log10(1.5), 1.0); }
+/* Metallicity [engineering choice, tuned to published trends]: lower Z gives
+ * brighter stars of nearly the same radius, so hotter and shorter-lived ones.
+ * d log L / d[Fe/H] = -0.20 for M <= 0.8 Msun easing to -0.05 above 10 Msun
+ * (from memory: a 1 Msun star at Z = 1e-4 starts near 1.2 Lsun and 6500 K;
+ * metal-poor turnoffs of 12-13 Gyr lie near 0.8 Msun), and d log R /
+ * d[Fe/H] = +0.01 to +0.05.  The metal opacity loses its hold at very low Z,
+ * so [Fe/H] enters through 1.5 tanh([Fe/H]/1.5) (linear near the Sun). */
+static double zeta_eff(double zeta) { return 1.5 * tanh(zeta / 1.5); }
+static double dlogl_dzeta(double m) { return -0.20 + 0.15 * logistic((log10(m) - 0.5) / 0.15); }
+static double dlogr_dzeta(double m) { return 0.01 + 0.04 * logistic((log10(m) - 0.5) / 0.15); }
 
-/* The empirical relations describe field stars; we place them at the
- * fractional main-sequence age TAU_FIELD, chosen so that the 1 Msun, Z = 0.014
- * track passes through the Sun at 4.57 Gyr [engineering choice]. */
-#define TAU_FIELD 0.47
+/* Which age the field relations describe [engineering choice]: a field dwarf
+ * is seen at the age of the local disc, a few Gyr (FIELD_AGE_YR, the Sun's
+ * age), or half-way through its main sequence if it lives shorter than
+ * that: tau_f = smooth min(0.5, FIELD_AGE_YR / t_MS). */
+#define FIELD_AGE_YR 4.5e9
+#define TAU_FIELD_MAX 0.5
 
 /* L_TAMS / L_ZAMS [engineering choice, guided by textbook values: 2.5 at
  * 1 Msun (Gough 1981 extrapolated), 2 at 2-15 Msun, 1.6 at 60 Msun; fully
@@ -183,42 +199,52 @@ static double ms_rad_ratio(double m)
     return pow(10.0, soft_table(x, y, 6, 0.05, log10(m)));
 }
 
-/* Efficiency f of t_MS = f 0.00712 M c^2 / L [engineering choice]: fit
- * f = 0.09 M^(1/3) to textbook lifetimes, rising to 0.85 for fully
- * convective stars, which burn most of their hydrogen (Laughlin et al. 1997). */
+/* Efficiency f of t_MS = f 0.00712 M c^2 / L(tau = 0.5) [engineering
+ * choice]: f0 = 0.09 M^(1/3), rising to 0.85 for fully convective stars,
+ * which burn most of their hydrogen (Laughlin et al. 1997), times a smooth
+ * correction (softplus corners, 0.1 dex) fitted to lifetimes at solar Z
+ * [from memory, typical published values]: 9.8 Gyr (1 Msun), 1.1 Gyr (2),
+ * 100 Myr (5), 12 Myr (15), 8.4 Myr (20), 7.0 Myr (25), 4.6 Myr (40),
+ * 3.7 Myr (60), 2.8 Myr (120). */
 static double ms_efficiency(double m)
 {
+    static const double x[] = {0.0, 0.301, 0.699, 1.176, 1.40, 1.778, 2.079};
+    static const double y[] = {0.037, -0.050, -0.045, 0.0, 0.048, 0.050, 0.065};
     double f0 = 0.09 * cbrt(m);
-    return f0 + (0.85 - f0) / (1.0 + pow(m / 0.35, 6.0));
+    f0 += (0.85 - f0) / (1.0 + pow(m / 0.35, 6.0));
+    return f0 * pow(10.0, soft_table(x, y, 7, 0.1, log10(m)));
 }
 
 typedef struct ms_model {
     double logl_z, logr_z; /* ZAMS */
     double a, k;           /* L = L_Z / (1 - a tau), R = R_Z (L/L_Z)^k */
-    double t_ms, t_pre;    /* yr */
+    double t_ms;           /* yr, ZAMS to TAMS */
+    double tau_field;      /* fractional main-sequence age the field relations describe */
 } ms_model;
 
 static void ms_setup(const gen_params *p, double m, double z, ms_model *ms)
 {
-    double zeta = zeta_of(p, z);
-    double logl_mid = logl_mlr(m) + dlogl_dzeta(m) * zeta;
-    double logr_mid = logr_field(m) + dlogr_dzeta(m) * zeta;
+    double zeta = zeta_eff(zeta_of(p, z));
+    double logl_f = logl_mlr(m) + dlogl_dzeta(m) * zeta;
+    double logr_f = logr_field(m) + dlogr_dzeta(m) * zeta;
     double r = ms_lum_ratio(m), rr = ms_rad_ratio(m);
     /* Gough (1981, Sol. Phys. 74, 21) solar brightening L = L0 / (1 - a t)
      * (form [read]) generalised to every mass [engineering choice]. */
     ms->a = 1.0 - 1.0 / r;
     ms->k = log(rr) / log(r);
-    ms->logl_z = logl_mid + log10(1.0 - ms->a * TAU_FIELD);
-    ms->logr_z = logr_mid + ms->k * log10(1.0 - ms->a * TAU_FIELD);
-    /* Lifetime from the fuel: t = f 0.00712 M c^2 / L_mid (X / X_sun)
-     * [derived; f is an engineering choice]. */
-    ms->t_ms = ms_efficiency(m) * nuclear_time_yr() * m / pow(10.0, logl_mid) * gen_x_hydrogen(z) /
-               gen_x_hydrogen(p->z_sun);
-    /* Pre-main-sequence contraction time: Kelvin-Helmholtz time at the ZAMS,
-     * times M/Msun below 1 Msun because low-mass stars contract while much
-     * brighter than on the ZAMS [engineering choice; 50 Myr for the Sun,
-     * about 0.5 Gyr at 0.1 Msun]. */
-    ms->t_pre = kh_time_yr() * m * m / pow(10.0, ms->logl_z + ms->logr_z) * smin(m, 1.0, 0.1);
+    /* Lifetime from the fuel: t = f 0.00712 M c^2 / L(tau = 0.5) (X / X_sun)
+     * [derived; f an engineering choice]; the field age fixes tau_f and tau_f
+     * the ZAMS, so iterate (a contraction: 60 steps reach rounding). */
+    double fuel = ms_efficiency(m) * nuclear_time_yr() * m * gen_x_hydrogen(z) / gen_x_hydrogen(p->z_sun);
+    double tau = TAU_FIELD_MAX;
+    for (int it = 0; it < 60; it++) {
+        double logl_half = logl_f + log10(1.0 - ms->a * tau) - log10(1.0 - 0.5 * ms->a);
+        ms->t_ms = fuel / pow(10.0, logl_half);
+        tau = pow(pow(TAU_FIELD_MAX, -6.0) + pow(FIELD_AGE_YR / ms->t_ms, -6.0), -1.0 / 6.0);
+    }
+    ms->tau_field = tau;
+    ms->logl_z = logl_f + log10(1.0 - ms->a * tau);
+    ms->logr_z = logr_f + ms->k * log10(1.0 - ms->a * tau);
 }
 
 double gen_ms_lifetime_yr(const gen_params *p, double m, double z)
@@ -432,22 +458,127 @@ static void set_last_phase(ctx *c, int phase)
         c->t->s[c->t->n - 1].phase = phase;
 }
 
-/* Main sequence: ZAMS (keypoint 0) to TAMS (keypoint 1). */
+/* ---------------- pre-main sequence: birthline to ZAMS ----------------
+ * A star is counted from its arrival on the birthline, the locus where a
+ * protostar stops accreting and becomes optically visible (Stahler 1983,
+ * ApJ 274, 822; Stahler 1988, ApJ 332, 804: deuterium burning holds the
+ * accreting core near 10^6 K, fixing its mass-radius relation [read:
+ * abstract]).  Ages before BIRTH_AGE_YR are not modelled.
+ *
+ * Birthline radius [engineering choice, the form of the deuterium
+ * thermostat, R proportional to M at fixed central temperature, softened to
+ * the observed spread of T Tauri radii]: R_b = 5 Rsun (M/Msun)^0.5, fading to
+ * 1.1 R_ZAMS for stars that are born on the main sequence (above about
+ * 8 Msun, where the birthline meets the ZAMS: Palla & Stahler 1990, ApJ 360,
+ * L47 [from memory]).
+ *
+ * Path [engineering choice after Hayashi 1961 and Henyey, Lelevier & Levee
+ * 1955]: down the Hayashi track at the constant temperature of a fully
+ * convective star (HAYASHI_* table: 2600 K at 0.08 Msun, 3100 K at 0.2,
+ * 3700 K at 0.5, 4300 K at 1, 4900 K at 2, 5300 K at 3 [from memory: T Tauri
+ * temperatures]) until a radiative core forms at R_turn (twice the ZAMS
+ * radius above 0.8 Msun, no turn below 0.35 Msun: fully convective stars
+ * contract straight onto the main sequence), then along the radiative
+ * (Henyey) track, log Teff linear in log R, to the ZAMS.
+ *
+ * Time: Kelvin-Helmholtz contraction dt = beta G M^2 d(1/R) / L [derived]
+ * with beta = 3/7 (polytrope n = 1.5) on the Hayashi track and 3/4 (n = 3)
+ * on the radiative track, times 1.8 for the slow final approach while
+ * nuclear burning starts (3He, 12C) [engineering choice: the Sun reaches the
+ * ZAMS after about 40 Myr; common practice: 30-50 Myr]. */
+#define BIRTH_AGE_YR 1.0e3
+
+static double logt_hayashi_pms(double m)
+{
+    static const double x[] = {-1.097, -0.699, -0.301, 0.0, 0.301, 0.477};
+    static const double y[] = {3.415, 3.491, 3.568, 3.633, 3.690, 3.724};
+    return soft_table(x, y, 6, 0.08, log10(m));
+}
+
+typedef struct pms_path {
+    double logr_b, logr_z, logt_z, logt_h, span; /* span = log(R_turn / R_ZAMS), >= 0.02 */
+} pms_path;
+
+static void pms_plan(const ctx *c, pms_path *q)
+{
+    double m = c->m0, x = log10(m);
+    q->logr_z = c->ms.logr_z;
+    q->logt_z = logt_from_lr(c->ms.logl_z, c->ms.logr_z);
+    /* a fully convective star sits just cool of its ZAMS point */
+    q->logt_h = smin(logt_hayashi_pms(m), q->logt_z - 0.01, 0.02);
+    q->span = fmax(log10(2.0) * logistic((x - log10(0.55)) / 0.06), 0.02);
+    double born_ms = logistic((x - log10(5.0)) / 0.1);
+    double lb = log10(5.0) + 0.5 * x - q->logr_z;
+    q->logr_b = q->logr_z + smax(lb * (1.0 - born_ms), log10(1.1), 0.02);
+}
+
+/* log Teff at radius log R on the path: Hayashi above R_turn, radiative below,
+ * the corner rounded over a tenth of the radiative span. */
+static double pms_logt(const pms_path *q, double logr)
+{
+    double u = (logr - q->logr_z) / q->span, s0 = smin(0.0, 1.0, 0.1);
+    return q->logt_z + (q->logt_h - q->logt_z) * (smin(u, 1.0, 0.1) - s0) / (1.0 - s0);
+}
+
+static void seg_pms(ctx *c)
+{
+    const int n = 300;
+    pms_path q;
+    pms_plan(c, &q);
+    double m = c->m0, age = BIRTH_AGE_YR, inv_r_prev = 0.0, l_prev = 0.0;
+    for (int i = 0; i <= n; i++) {
+        double u = (double)i / n;
+        double logr = q.logr_b + (q.logr_z - q.logr_b) * (1.0 - pow(1.0 - u, 1.2));
+        double logt = i == n ? q.logt_z : pms_logt(&q, logr);
+        double logl = i == n ? c->ms.logl_z : 2.0 * logr + 4.0 * (logt - log10(HRT_TEFF_SUN_K));
+        double inv_r = pow(10.0, -logr), l = pow(10.0, logl);
+        if (i > 0) {
+            double hay = logistic(((logr - q.logr_z) / q.span - 1.0) / 0.05);
+            double beta = 1.8 * (0.75 + (3.0 / 7.0 - 0.75) * hay);
+            age += beta * kh_time_yr() * m * m * (inv_r - inv_r_prev) * 0.5 * (1.0 / l + 1.0 / l_prev);
+        }
+        inv_r_prev = inv_r;
+        l_prev = l;
+        if (i < n)
+            push(c, age, logl, logt, m, 0.0, 0.0, HRT_PHASE_PRE_MS);
+        if (i == 0)
+            keypoint(c); /* birthline */
+    }
+    c->age = age; /* the ZAMS: seg_ms pushes it */
+}
+
+/* The hook at core-hydrogen exhaustion of stars with a convective core
+ * [engineering choice after the physics of the overall-contraction phase
+ * (stellar-structure texts; Maeder & Mermilliod 1981 for its presence in
+ * cluster turnoffs)]: over the last HOOK_TAU of the main sequence the star
+ * contracts, its radius falling by HOOK_DLOGR (dex) while L rises by
+ * HOOK_DLOGL, so it turns hotter before leaving the main sequence; the
+ * amplitude grows in over 1.1-1.4 Msun, where convective cores appear
+ * (common practice: about 1.1-1.2 Msun at solar Z). */
+#define HOOK_TAU 0.03
+#define HOOK_DLOGR 0.07
+#define HOOK_DLOGL 0.03
+
+static double hook_weight(double m) { return logistic((log10(m) - log10(1.25)) / 0.03); }
+
+/* Main sequence: ZAMS (keypoint) to TAMS (keypoint), after the pre-main sequence. */
 static void seg_ms(ctx *c)
 {
-    const int n = 400;
+    seg_pms(c);
+    const int n = 500;
     const ms_model *ms = &c->ms;
-    double q = q_tams(c->m0);
-    double m = c->m0, age0 = ms->t_pre, prev_t = 0.0, prev_mdot = 0.0;
+    double q = q_tams(c->m0), w_hook = hook_weight(c->m0);
+    double m = c->m0, age0 = c->age, prev_t = 0.0, prev_mdot = 0.0;
     double slope = (logl_mlr(c->m0 * 1.01) - logl_mlr(c->m0 / 1.01)) / (2.0 * log10(1.01));
     for (int i = 0; i <= n; i++) {
         double u = (double)i / n;
         double tau = 1.0 - pow(1.0 - u, 1.5); /* denser near the TAMS */
+        double h = w_hook * sstep(tau, 1.0 - HOOK_TAU, 1.0);
         /* luminosity follows the current mass along the local slope of the
          * mass-luminosity relation (matters only for winds of massive stars)
          * [engineering choice] */
-        double logl = ms->logl_z - log10(1.0 - ms->a * tau) + slope * log10(m / c->m0);
-        double logr = ms->logr_z + ms->k * (logl - ms->logl_z);
+        double logl = ms->logl_z - log10(1.0 - ms->a * tau) + slope * log10(m / c->m0) + HOOK_DLOGL * h;
+        double logr = ms->logr_z + ms->k * (logl - HOOK_DLOGL * h - ms->logl_z) - HOOK_DLOGR * h;
         double logt = logt_from_lr(logl, logr);
         double t = tau * ms->t_ms;
         m -= prev_mdot * (t - prev_t);

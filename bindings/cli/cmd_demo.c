@@ -48,7 +48,7 @@ static int turnoff_mass(const cli *c, double z, double age, double *m_to)
     hrt_state st;
     if (hrt_grid_mass_range(c->grid, z, &lo, &hi) != HRT_OK) return -1;
     int plo = phase_at(c, lo, z, age, &st), phi = phase_at(c, hi, z, age, &st);
-    if (plo != HRT_PHASE_MS || phi == HRT_PHASE_MS) return -1;
+    if ((plo != HRT_PHASE_MS && plo != HRT_PHASE_PRE_MS) || phi == HRT_PHASE_MS) return -1;
     for (int i = 0; i < 200 && hi / lo - 1 > 1e-13; i++) {
         double mid = sqrt(lo * hi);
         int ph = phase_at(c, mid, z, age, &st);

@@ -9,12 +9,12 @@
 
 #include "cli.h"
 
-enum { O_OUT = 1, O_MAP, O_MAP_FILE, O_Z, O_Z_REF, O_ROUTES, O_KEEP, O_DRY, O_FORCE, O_BOUNDS };
+enum { O_OUT = 1, O_MAP, O_MAP_FILE, O_Z, O_Z_REF, O_ROUTES, O_KEEP, O_DRY, O_FORCE, O_BOUNDS, O_PRE_MS };
 static const optdef import_opts[] = {
     {"output", 'o', 1, O_OUT},   {"map", 0, 1, O_MAP},          {"map-file", 0, 1, O_MAP_FILE},
     {"z", 0, 1, O_Z},            {"z-ref", 0, 1, O_Z_REF},      {"routes", 0, 1, O_ROUTES},
     {"keep-going", 0, 0, O_KEEP}, {"dry-run", 0, 0, O_DRY},     {"force", 0, 0, O_FORCE},
-    {"route-boundaries", 0, 1, O_BOUNDS}, {NULL, 0, 0, 0},
+    {"route-boundaries", 0, 1, O_BOUNDS}, {"pre-ms", 0, 0, O_PRE_MS}, {NULL, 0, 0, 0},
 };
 
 /* --route-boundaries [Z:]M1,M2,...: the route-boundary masses of metallicity Z (every Z without one). */
@@ -361,6 +361,10 @@ static int import_take(cli *c, void *ctx, int id, const char *val)
     case O_ROUTES: return read_routes(c, a->imp, val);
     case O_KEEP: hrt_import_set_lenient(a->imp, 1); return 0;
     case O_FORCE: hrt_import_set_force(a->imp, 1); return 0;
+    case O_PRE_MS: {
+        hrt_error err = {0, ""};
+        return hrt_import_set_pre_ms(a->imp, 1, &err) == HRT_OK ? 0 : cli_fail(c, CLI_EXIT_USAGE, "--pre-ms: %s", err.message);
+    }
     case O_BOUNDS: return route_boundaries(c, a->imp, val);
     case O_DRY: a->dry = 1; return 0;
     case OPT_ARG: a->nfiles++; return add_path(c, a->imp, val, a->z);

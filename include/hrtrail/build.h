@@ -271,6 +271,15 @@ HRT_API int hrt_import_map_file(hrt_import *imp, const char *path, hrt_error *er
 /** Replace the route layouts (in order of increasing mass; copied). HRT_E_INVALID for a bad layout. */
 HRT_API int hrt_import_set_routes(hrt_import *imp, size_t n_routes, const hrt_route_spec *routes,
                                   hrt_error *err);
+/**
+ * Route layouts of the default grid with (on != 0) or without (on == 0, the
+ * default) their pre-main-sequence segment: with it every track must start
+ * on its birthline (the first row) and the keypoint zams is found after it;
+ * without it every track starts at its ZAMS and rows before are labelled
+ * pre_ms and left out.  Replaces layouts set by hrt_import_set_routes().
+ * HRT_E_NULL if imp is NULL, HRT_E_NOMEM.
+ */
+HRT_API int hrt_import_set_pre_ms(hrt_import *imp, int on, hrt_error *err);
 /** Reference metallicity written to the grid (default 0.014); also used by {feh} in patterns. */
 HRT_API int hrt_import_set_z_ref(hrt_import *imp, double z_ref, hrt_error *err);
 /**

@@ -422,9 +422,11 @@ HRT_API int hrt_grid_boundary_at(const hrt_grid *g, double z, size_t b, double *
  *   whatever the others do; a failed star has NaN quantities.
  * Notes:
  *   1. No allocation; O(log n_eep) per star.  Thread-safe on a shared grid.
- *   2. A star younger than its zero-age main sequence is not an error: its
- *      phase is HRT_PHASE_PRE_MS, flag HRT_FLAG_NOT_MODELLED, quantities NaN
- *      except masses.
+ *   2. A star younger than its track's first EEP is not an error: its phase
+ *      is HRT_PHASE_PRE_MS, flag HRT_FLAG_NOT_MODELLED, quantities NaN
+ *      except masses.  The first EEP is the birthline where the grid models
+ *      the pre-main sequence (the default grid: 1000 yr after arrival on
+ *      the birthline), else the ZAMS (most imported grids).
  *   3. Identical to hrt_star_new() + hrt_star_at() bit for bit.
  */
 HRT_API int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double *z,
@@ -510,7 +512,8 @@ HRT_API int hrt_star_phases(const hrt_star *star, hrt_phase_span *spans, size_t 
 /** What an isochrone holds (hrt_isochrone_options_default() fills it). */
 typedef struct hrt_isochrone_options {
     uint64_t phases;   /**< phases included, HRT_PHASE_BIT(code) each; default: every phase of a
-                        *   luminous, modelled star (all but unknown, pre_ms and the remnants) */
+                        *   luminous, modelled star (all but unknown and the remnants; pre_ms
+                        *   where the grid models it, from the birthline) */
     double max_dlog_l; /**< largest log L step between neighbouring points of one phase, dex
                         *   (default HRT_ISOCHRONE_MAX_DLOG_L) */
     double reserved[6];/**< zero */

@@ -9,7 +9,7 @@
 #include "hrtrail.h"
 
 /* Most keypoints of a route of the default layout. */
-#define DEFAULT_MAX_KP 9
+#define DEFAULT_MAX_KP 10
 
 typedef struct default_route {
     char name[16];
@@ -22,12 +22,13 @@ typedef struct default_route {
  * ignite helium, stars that end as white dwarfs after helium burning, and
  * stars that end in core collapse. */
 static const default_route default_routes[] = {
-    {"low_mass", 4, {"zams", "tams", "envelope_loss", "wd_onset"}, {150, 150, 40}},
+    {"low_mass", 5, {"birthline", "zams", "tams", "envelope_loss", "wd_onset"}, {100, 150, 150, 40}},
     {"giant",
-     9,
-     {"zams", "tams", "rgb_base", "he_ignition", "cheb_start", "cheb_end", "first_pulse", "agb_end", "wd_onset"},
-     {150, 60, 120, 40, 100, 60, 80, 40}},
-    {"supergiant", 5, {"zams", "tams", "cheb_start", "cheb_end", "core_collapse"}, {150, 60, 150, 40}},
+     10,
+     {"birthline", "zams", "tams", "rgb_base", "he_ignition", "cheb_start", "cheb_end", "first_pulse", "agb_end",
+      "wd_onset"},
+     {100, 150, 60, 120, 40, 100, 60, 80, 40}},
+    {"supergiant", 6, {"birthline", "zams", "tams", "cheb_start", "cheb_end", "core_collapse"}, {100, 150, 60, 150, 40}},
 };
 #define N_DEFAULT_ROUTES (sizeof default_routes / sizeof default_routes[0])
 

@@ -67,6 +67,24 @@ static int store_routes(hrt_import *imp, size_t n, const hrt_route_spec *routes,
     return HRT_OK;
 }
 
+/* The default layout (hrt_default_route), with or without its leading
+ * pre-main-sequence segment (birthline to zams). */
+static int default_layout(hrt_import *imp, int pre_ms, hrt_error *err)
+{
+    hrt_route_spec routes[TRAIL_MAX_ROUTES];
+    const char *names[TRAIL_MAX_ROUTES][HRT_IMPORT_MAX_KP];
+    size_t n = 0;
+    while (n < TRAIL_MAX_ROUTES && hrt_default_route(n, &routes[n], names[n]) == HRT_OK) {
+        if (!pre_ms && routes[n].n_keypoints > 2 && !strcmp(routes[n].keypoint_names[0], "birthline")) {
+            routes[n].keypoint_names++;
+            routes[n].segment_samples++;
+            routes[n].n_keypoints--;
+        }
+        n++;
+    }
+    return store_routes(imp, n, routes, err);
+}
+
 int hrt_import_new(hrt_import **out, hrt_error *err)
 {
     if (!out)
@@ -76,18 +94,23 @@ int hrt_import_new(hrt_import **out, hrt_error *err)
     if (!imp)
         return trail_set_error(err, HRT_E_NOMEM, "out of memory");
     imp->z_ref = DEFAULT_Z_REF;
-    hrt_route_spec routes[TRAIL_MAX_ROUTES];
-    const char *names[TRAIL_MAX_ROUTES][HRT_IMPORT_MAX_KP];
-    size_t n = 0;
-    while (n < TRAIL_MAX_ROUTES && hrt_default_route(n, &routes[n], names[n]) == HRT_OK)
-        n++;
-    int rc = store_routes(imp, n, routes, err);
+    /* imported tracks start at the ZAMS unless the caller says otherwise
+     * (hrt_import_set_pre_ms, hrt_import_set_routes) */
+    int rc = default_layout(imp, 0, err);
     if (rc != HRT_OK) {
         hrt_import_free(imp);
         return rc;
     }
     *out = imp;
     return trail_set_error(err, HRT_OK, NULL);
+}
+
+int hrt_import_set_pre_ms(hrt_import *imp, int on, hrt_error *err)
+{
+    if (!imp)
+        return trail_set_error(err, HRT_E_NULL, "hrt_import_set_pre_ms: import is NULL");
+    int rc = default_layout(imp, on != 0, err);
+    return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
 }
 
 void trail_import_free_data(trail_import_track *t)

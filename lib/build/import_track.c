@@ -196,6 +196,8 @@ static int supergiant_phase(const trail_import_track *t, size_t i)
 static int segment_phase(const trail_import_track *t, size_t i, const char *from, const char *to, double l_from,
                          int massive, int ph)
 {
+    if (!strcmp(from, "birthline"))
+        return HRT_PHASE_PRE_MS;
     if (!strcmp(from, "zams"))
         return HRT_PHASE_MS;
     if (!strcmp(from, "tams"))

@@ -38,7 +38,7 @@
 /* Keypoint kinds hrtrail can detect, in the order of known_names[]. */
 enum {
     KP_ZAMS = 0, KP_TAMS, KP_RGB_BASE, KP_HE_IGNITION, KP_CHEB_START, KP_CHEB_END, KP_FIRST_PULSE,
-    KP_AGB_END, KP_ENVELOPE_LOSS, KP_WD_ONSET, KP_CORE_COLLAPSE, KP_N_KNOWN
+    KP_AGB_END, KP_ENVELOPE_LOSS, KP_WD_ONSET, KP_CORE_COLLAPSE, KP_BIRTHLINE, KP_N_KNOWN
 };
 
 /* The search for one keypoint on one track. */
@@ -165,6 +165,14 @@ static size_t find_zams(kp_search *k)
     }
     if (c->phase)
         return fail(k, "zams: no central_x column and no sample of phase %s", hrt_phase_key(HRT_PHASE_MS));
+    k->how = HRT_KP_FOUND_BY_START;
+    return k->from;
+}
+
+/* The birthline, where a track with a pre-main sequence starts: its first
+ * sample (a layout that has it puts it before zams). */
+static size_t find_birthline(kp_search *k)
+{
     k->how = HRT_KP_FOUND_BY_START;
     return k->from;
 }
@@ -454,7 +462,7 @@ static size_t find_core_collapse(kp_search *k)
  * .data.rel.ro, which the hygiene test (tests/hardening/hygiene.sh) refuses. */
 static const char known_names[KP_N_KNOWN][16] = {
     "zams", "tams", "rgb_base", "he_ignition", "cheb_start", "cheb_end", "first_pulse",
-    "agb_end", "envelope_loss", "wd_onset", "core_collapse",
+    "agb_end", "envelope_loss", "wd_onset", "core_collapse", "birthline",
 };
 
 static int known_index(const char *name)
@@ -488,6 +496,8 @@ static size_t find_known(kp_search *k, int kind)
         return find_envelope_loss(k);
     case KP_WD_ONSET:
         return find_wd_onset(k);
+    case KP_BIRTHLINE:
+        return find_birthline(k);
     case KP_CORE_COLLAPSE:
     default: /* kind comes from known_index(): always one of the above */
         return find_core_collapse(k);

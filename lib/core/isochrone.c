@@ -330,7 +330,7 @@ void hrt_isochrone_options_default(hrt_isochrone_options *o)
     memset(o, 0, sizeof *o);
     for (size_t i = 0; i < HRT_PHASE_N; i++)
         o->phases |= HRT_PHASE_BIT(hrt_phase_code(i));
-    o->phases &= ~(HRT_PHASE_BIT(HRT_PHASE_UNKNOWN) | HRT_PHASE_BIT(HRT_PHASE_PRE_MS) | HRT_PHASES_REMNANT);
+    o->phases &= ~(HRT_PHASE_BIT(HRT_PHASE_UNKNOWN) | HRT_PHASES_REMNANT);
     o->max_dlog_l = HRT_ISOCHRONE_MAX_DLOG_L;
 }
 

@@ -174,11 +174,14 @@ int hrt_star_phases(const hrt_star *s, hrt_phase_span *spans, size_t cap, size_t
         }                                             \
         k++;                                          \
     } while (0)
-    PUSH(HRT_PHASE_PRE_MS, 0.0, (s->age_yr[0]));
+    /* Before the first EEP the star is not modelled (pre_ms); a grid whose
+     * tracks start on the birthline continues that span to the ZAMS. */
+    if (s->phase[0] != HRT_PHASE_PRE_MS)
+        PUSH(HRT_PHASE_PRE_MS, 0.0, (s->age_yr[0]));
     int j = 0;
     while (j < s->n - 1) {
         int je = s->runs[2 * j + 1];
-        PUSH(s->phase[j], (s->age_yr[j]), (s->age_yr[je]));
+        PUSH(s->phase[j], (j == 0 && s->phase[0] == HRT_PHASE_PRE_MS ? 0.0 : s->age_yr[j]), (s->age_yr[je]));
         j = je > j ? je : j + 1;
     }
     if (s->remnant != HRT_REMNANT_NONE)

@@ -123,8 +123,9 @@ try:
         f.write(open(mapping).read().replace(" central_x=Xc central_y=Yc", ""))
 
     def run_import(src, out, extra=(), mapped=True, map_file=None):
-        p = subprocess.run([EXE, "import", "-o", out] + (["--map-file", map_file or mapping] if mapped else []) +
-                           ["--json"] + list(extra) + [src],
+        # the generator's tracks start on the birthline: the default layouts with their pre-main sequence
+        p = subprocess.run([EXE, "import", "-o", out, "--pre-ms"] +
+                           (["--map-file", map_file or mapping] if mapped else []) + ["--json"] + list(extra) + [src],
                            capture_output=True, text=True)
         check(p.returncode == 0, "import of %s exits 0 (got %d: %s)" % (src, p.returncode, p.stderr[-500:]))
         return json.loads(p.stdout) if p.returncode == 0 else None
@@ -184,6 +185,22 @@ try:
             print("  %-14s %.3g  (%s)" % (k, v[0], v[1]))
         return kpw, how
 
+    # 0. without --pre-ms the same tables import from the ZAMS: the rows before it are left out and every
+    # other keypoint is where the generator put it
+    p0 = subprocess.run([EXE, "import", "--dry-run", "--json", "--map-file", mapping, tables], capture_output=True,
+                        text=True)
+    check(p0.returncode == 0, "import from the ZAMS exits 0 (%s)" % p0.stderr[-300:])
+    if p0.returncode == 0:
+        worst0 = 0.0
+        for t in json.loads(p0.stdout)["tracks"]:
+            ages = truth[(t["z"], t["initial_mass_msun"])]
+            ok = len(t["keypoints"]) == len(ages) - 1 and t["keypoints"][0]["keypoint"] == "zams"
+            check(ok, "from the ZAMS: %s: keypoints zams onwards" % t["file"])
+            if ok:
+                worst0 = max([worst0] + [abs(kp["age_yr"] / a - 1) for kp, a in zip(t["keypoints"], ages[1:])])
+        print("import from the ZAMS: largest relative keypoint age error %.3g" % worst0)
+        check(worst0 < 1e-9, "from the ZAMS: keypoint ages as generated (%.3g)" % worst0)
+
     # 1a. detection with the phase column and the centre composition: the phase column outranks the
     # physical criteria, and the generator's phases begin at its keypoints (absolute 1e-8: rounding)
     rep = run_import(tables, os.path.join(work, "phased.h5"))
@@ -191,8 +208,8 @@ try:
         kpw, how = keypoint_errors(rep, "phase and centre columns")
         # the phase column marks every keypoint but the TAMS of the lightest stars, whose phase goes from ms
         # straight to post_rgb: central_x finds that one
-        check(how == {"phase", "columns"}, "phase and centre columns: keypoints from the phase column and central_x "
-              "only (%s)" % sorted(how))
+        check(how == {"phase", "columns", "first row"}, "phase and centre columns: keypoints from the phase column "
+              "and central_x only, the birthline the first row (%s)" % sorted(how))
         worst = compare(os.path.join(work, "phased.h5"), "phased")
         big = max(v[0] for k, v in worst.items() if isinstance(k, tuple))
         print("phase-column import vs default grid: largest difference %.3g" % big)

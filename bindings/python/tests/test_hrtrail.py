@@ -422,7 +422,12 @@ class StarAndIsochrone(Base):
         self.assertNotIn(int(hrtrail.Phase.WD), phases)  # remnants left out by default
         ms = self.grid.isochrone(1e9, 0.014, phases=["ms"])
         self.assertEqual(set(int(p) for p in ms["phase"]), {int(hrtrail.Phase.MS)})
-        self.assertEqual(ms["initial_mass_msun"].min(), base["initial_mass_msun"].min())
+        # at 1 Gyr the lightest stars are still contracting: pre_ms below the main sequence's lowest mass
+        pre = self.grid.isochrone(1e9, 0.014, phases=["pre_ms"])
+        self.assertEqual(set(int(p) for p in pre["phase"]), {int(hrtrail.Phase.PRE_MS)})
+        self.assertEqual(min(ms["initial_mass_msun"].min(), pre["initial_mass_msun"].min()),
+                         base["initial_mass_msun"].min())
+        self.assertLessEqual(pre["initial_mass_msun"].max(), ms["initial_mass_msun"].min() * (1 + 1e-9))
         no_pagb = self.grid.isochrone(1e9, 0.014, leave_out=[hrtrail.Phase.POST_AGB])
         self.assertEqual(set(int(p) for p in no_pagb["phase"]), phases - {int(hrtrail.Phase.POST_AGB)})
         with_wd = self.grid.isochrone(1e9, 0.014, phases=[p for p in hrtrail.Phase if p != hrtrail.Phase.UNKNOWN])
@@ -578,7 +583,8 @@ class Grid(Base):
         for m in (0.3, 1.0, 2.3, 9.0, 30.0):
             with g.star(m, 0.014) as s:
                 self.assertEqual(g.route_of(m, 0.014), s.route)
-        self.assertEqual(g.route_keypoints(0)[0], ("zams", 0))
+        self.assertEqual(g.route_keypoints(0)[0], ("birthline", 0))  # the default grid models the pre-main sequence
+        self.assertEqual(g.route_keypoints(0)[1][0], "zams")
         self.assertEqual(len(g.route_boundaries(0)), len(g.routes) - 1)
         self.assertGreater(g.memory_bytes, 1e6)
         self.assertIsNone(g.attribute("no-such-attribute"))
