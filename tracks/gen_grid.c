@@ -39,18 +39,21 @@ static int cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-/* Masses at metallicity z: the base list plus tracks at 1, 3 and 6 % on both
+/* Masses at metallicity z: the base list plus tracks at 0.1, 1, 3 and 6 % on both
  * sides of each route boundary; base masses closer than 1.5 % to an added
  * one are dropped.  Returns the count. */
 static size_t masses_for_z(const gen_params *p, double z, double *out, size_t cap)
 {
     double bnd[2];
     gen_route_boundaries(p, z, bnd);
-    double added[12];
+    double added[16];
     size_t na = 0;
-    static const double off[3] = {0.01, 0.03, 0.06};
+    /* 0.1 %: the library extrapolates a route's end track with the slopes
+     * it stores (a flat stretch where ages may not be extrapolated), so the
+     * tracks hug the boundary and the two routes meet without a visible step */
+    static const double off[4] = {0.001, 0.01, 0.03, 0.06};
     for (int b = 0; b < 2; b++)
-        for (int k = 0; k < 3; k++) {
+        for (int k = 0; k < 4; k++) {
             added[na++] = bnd[b] * (1.0 - off[k]);
             added[na++] = bnd[b] * (1.0 + off[k]);
         }
@@ -64,7 +67,7 @@ static size_t masses_for_z(const gen_params *p, double z, double *out, size_t ca
             out[n++] = base_masses[i];
     }
     for (size_t j = 0; j < na && n < cap; j++)
-        out[n++] = round(added[j] * 1e4) / 1e4;
+        out[n++] = round(added[j] * 1e5) / 1e5;
     qsort(out, n, sizeof *out, cmp_double);
     return n;
 }

@@ -130,7 +130,7 @@ void gen_params_default(gen_params *p)
  * (largest 0.09, A6V), Teff rms 2 % (largest 5 %, K9V-M0V).  Every
  * derivative is continuous, so lifetimes and the ZAMS have no kink in mass.
  * Extrapolated above 59 Msun (O3V) along the fit's end slope (d log L /
- * d log M = 1.75 there). */
+ * d log M = 1.75 there); Teff levels off above about 80 Msun (logr_field). */
 #define N_FIELD_KNOTS 15
 static const double field_knots[N_FIELD_KNOTS] = {-1.0, -0.85, -0.7, -0.55, -0.4, -0.25, -0.1, 0.05,
                                                   0.2,  0.35,  0.5,  0.7,   0.9,  1.2,   1.5};
@@ -159,19 +159,23 @@ static double field_fit(const double *c, double m)
 static double logl_mlr(double m) { return field_fit(field_logl, m); }
 static double logr_field(double m)
 {
-    return 0.5 * logl_mlr(m) - 2.0 * (field_fit(field_logt, m) - log10(HRT_TEFF_SUN_K));
+    /* above the table's heaviest dwarfs Teff levels off (very massive stars
+     * swell as they near the Eddington limit: common practice): the
+     * temperature fit is held at about 80 Msun (smooth minimum) */
+    double m_t = pow(10.0, smin(log10(m), log10(80.0), 0.1));
+    return 0.5 * logl_mlr(m) - 2.0 * (field_fit(field_logt, m_t) - log10(HRT_TEFF_SUN_K));
 }
 
 /* Metallicity [engineering choice, tuned to published trends]: lower Z gives
  * brighter stars of nearly the same radius, so hotter and shorter-lived ones.
- * d log L / d[Fe/H] = -0.20 for M <= 0.8 Msun easing to -0.05 above 10 Msun
+ * d log L / d[Fe/H] = -0.25 for M <= 1 Msun easing to -0.05 above 10 Msun
  * (from memory: a 1 Msun star at Z = 1e-4 starts near 1.2 Lsun and 6500 K;
- * metal-poor turnoffs of 12-13 Gyr lie near 0.8 Msun), and d log R /
- * d[Fe/H] = +0.01 to +0.05.  The metal opacity loses its hold at very low Z,
+ * metal-poor turnoffs of 12-13 Gyr lie near 0.8 Msun, hotter and brighter
+ * than solar ones), and d log R / d[Fe/H] = +0.03 to +0.05.  The metal opacity loses its hold at very low Z,
  * so [Fe/H] enters through 1.5 tanh([Fe/H]/1.5) (linear near the Sun). */
 static double zeta_eff(double zeta) { return 1.5 * tanh(zeta / 1.5); }
-static double dlogl_dzeta(double m) { return -0.20 + 0.15 * logistic((log10(m) - 0.5) / 0.15); }
-static double dlogr_dzeta(double m) { return 0.01 + 0.04 * logistic((log10(m) - 0.5) / 0.15); }
+static double dlogl_dzeta(double m) { return -0.25 + 0.20 * logistic((log10(m) - 0.5) / 0.15); }
+static double dlogr_dzeta(double m) { return 0.03 + 0.02 * logistic((log10(m) - 0.5) / 0.15); }
 
 /* Which age the field relations describe [engineering choice]: a field dwarf
  * is seen at the age of the local disc, a few Gyr (FIELD_AGE_YR, the Sun's
@@ -181,22 +185,24 @@ static double dlogr_dzeta(double m) { return 0.01 + 0.04 * logistic((log10(m) - 
 #define TAU_FIELD_MAX 0.5
 
 /* L_TAMS / L_ZAMS [engineering choice, guided by textbook values: 2.5 at
- * 1 Msun (Gough 1981 extrapolated), 2 at 2-15 Msun, 1.6 at 60 Msun; fully
+ * 1 Msun (Gough 1981 extrapolated), 2 at 2-15 Msun, 1.6 at 60 Msun, 1.4 at
+ * 150 Msun (keeping the most massive below the Eddington limit); fully
  * convective stars brighten several-fold (Laughlin, Bodenheimer & Adams 1997)]. */
 static double ms_lum_ratio(double m)
 {
-    static const double x[] = {-1.0, -0.602, -0.301, -0.155, 0.079, 0.301, 1.176, 1.778};
-    static const double y[] = {0.778, 0.699, 0.477, 0.398, 0.398, 0.301, 0.301, 0.204};
-    return pow(10.0, soft_table(x, y, 8, 0.05, log10(m)));
+    static const double x[] = {-1.0, -0.602, -0.301, -0.155, 0.079, 0.301, 1.176, 1.778, 2.176};
+    static const double y[] = {0.778, 0.699, 0.477, 0.398, 0.398, 0.301, 0.301, 0.204, 0.146};
+    return pow(10.0, soft_table(x, y, 9, 0.05, log10(m)));
 }
 
 /* R_TAMS / R_ZAMS [engineering choice]: 1 for fully convective stars, 1.5 at
- * 1 Msun, 2.2 at 2-15 Msun, 2.75 at >= 60 Msun. */
+ * 1 Msun, 2.2 at 2-5 Msun, 2.0 at 15 Msun, 2.5 at >= 60 Msun (before the
+ * hook's contraction). */
 static double ms_rad_ratio(double m)
 {
-    static const double x[] = {-0.602, -0.301, 0.0, 0.301, 1.176, 1.778};
-    static const double y[] = {0.0, 0.079, 0.176, 0.342, 0.342, 0.439};
-    return pow(10.0, soft_table(x, y, 6, 0.05, log10(m)));
+    static const double x[] = {-0.602, -0.301, 0.0, 0.301, 0.699, 1.176, 1.778};
+    static const double y[] = {0.0, 0.079, 0.176, 0.342, 0.342, 0.30, 0.40};
+    return pow(10.0, soft_table(x, y, 7, 0.05, log10(m)));
 }
 
 /* Efficiency f of t_MS = f 0.00712 M c^2 / L(tau = 0.5) [engineering
@@ -217,21 +223,39 @@ static double ms_efficiency(double m)
 
 typedef struct ms_model {
     double logl_z, logr_z; /* ZAMS */
-    double a, k;           /* L = L_Z / (1 - a tau), R = R_Z (L/L_Z)^k */
+    double a;              /* L = L_Z / (1 - a tau) */
+    double log_r, log_rr;  /* log10 L_TAMS/L_ZAMS, log10 R_TAMS/R_ZAMS */
+    double p;              /* radius growth: log(R/R_Z) = log_rr (log(L/L_Z) / log_r)^p */
     double t_ms;           /* yr, ZAMS to TAMS */
     double tau_field;      /* fractional main-sequence age the field relations describe */
 } ms_model;
+
+/* log(R / R_ZAMS) on the main sequence when log(L / L_ZAMS) = dl >= 0. */
+static double ms_radius_growth(const ms_model *ms, double dl)
+{
+    return ms->log_rr * pow(fmax(dl, 0.0) / ms->log_r, ms->p);
+}
 
 static void ms_setup(const gen_params *p, double m, double z, ms_model *ms)
 {
     double zeta = zeta_eff(zeta_of(p, z));
     double logl_f = logl_mlr(m) + dlogl_dzeta(m) * zeta;
     double logr_f = logr_field(m) + dlogr_dzeta(m) * zeta;
-    double r = ms_lum_ratio(m), rr = ms_rad_ratio(m);
+    /* metal-poor low-mass stars brighten more over their main sequence
+     * (their turnoffs are brighter at a given age) [engineering choice:
+     * log(L_TAMS/L_ZAMS) grows by 25 % per dex of [Fe/H] below 1.5 Msun] */
+    double w_low = 1.0 - logistic((log10(m) - log10(1.5)) / 0.1);
+    double r = pow(ms_lum_ratio(m), 1.0 - 0.25 * zeta * w_low), rr = ms_rad_ratio(m);
     /* Gough (1981, Sol. Phys. 74, 21) solar brightening L = L0 / (1 - a t)
      * (form [read]) generalised to every mass [engineering choice]. */
     ms->a = 1.0 - 1.0 / r;
-    ms->k = log(rr) / log(r);
+    ms->log_r = log10(r);
+    ms->log_rr = log10(rr);
+    /* Massive stars swell late in their main sequence (their radius grows
+     * little while the core still burns, then fast) [engineering choice:
+     * p = 1 below 5 Msun, 1.5 above 15 Msun; it sets the ZAMS radii of O
+     * stars from the mean dwarfs (hotter by 7 % at 40 Msun with p = 1)]. */
+    ms->p = 1.0 + 0.5 * logistic((log10(m) - log10(8.0)) / 0.12);
     /* Lifetime from the fuel: t = f 0.00712 M c^2 / L(tau = 0.5) (X / X_sun)
      * [derived; f an engineering choice]; the field age fixes tau_f and tau_f
      * the ZAMS, so iterate (a contraction: 60 steps reach rounding). */
@@ -244,7 +268,7 @@ static void ms_setup(const gen_params *p, double m, double z, ms_model *ms)
     }
     ms->tau_field = tau;
     ms->logl_z = logl_f + log10(1.0 - ms->a * tau);
-    ms->logr_z = logr_f + ms->k * log10(1.0 - ms->a * tau);
+    ms->logr_z = logr_f - ms_radius_growth(ms, -log10(1.0 - ms->a * tau));
 }
 
 double gen_ms_lifetime_yr(const gen_params *p, double m, double z)
@@ -387,9 +411,13 @@ double gen_m_hef(const gen_params *p, double z)
 void gen_route_boundaries(const gen_params *p, double z, double bounds[2])
 {
     /* Low-mass / giant: a star can ignite helium only if its mass exceeds the
-     * tip core mass; we put the boundary 0.03 Msun above it (0.50 at Z = 0.014)
-     * [engineering choice; "about 0.5 Msun" is common practice]. */
-    bounds[0] = mc_tip_degenerate(zeta_of(p, z)) + 0.03;
+     * tip core mass; we put the boundary 0.03 Msun above the largest tip core
+     * of the grid's metallicities, that of Z = 1e-4 (0.53 Msun), the same at
+     * every Z, so that interpolation in metallicity never meets a boundary
+     * that moves [engineering choice; "about 0.5 Msun" is common practice;
+     * these stars live far longer than the Universe at every Z]. */
+    (void)z;
+    bounds[0] = mc_tip_degenerate(zeta_of(p, 1e-4)) + 0.03;
     /* Giant / supergiant: 8 Msun, the lowest core-collapse mass (Smartt 2009,
      * ARA&A 47, 63: 8 +- 1 Msun) [from memory]. */
     bounds[1] = 8.0;
@@ -577,8 +605,11 @@ static void seg_ms(ctx *c)
         /* luminosity follows the current mass along the local slope of the
          * mass-luminosity relation (matters only for winds of massive stars)
          * [engineering choice] */
-        double logl = ms->logl_z - log10(1.0 - ms->a * tau) + slope * log10(m / c->m0) + HOOK_DLOGL * h;
-        double logr = ms->logr_z + ms->k * (logl - HOOK_DLOGL * h - ms->logl_z) - HOOK_DLOGR * h;
+        double logl_evol = ms->logl_z - log10(1.0 - ms->a * tau);
+        double logl = logl_evol + slope * log10(m / c->m0) + HOOK_DLOGL * h;
+        /* the radius follows the evolution of the core, not the wind's
+         * dimming [engineering choice] */
+        double logr = ms->logr_z + ms_radius_growth(ms, logl_evol - ms->logl_z) - HOOK_DLOGR * h;
         double logt = logt_from_lr(logl, logr);
         double t = tau * ms->t_ms;
         m -= prev_mdot * (t - prev_t);
