@@ -67,7 +67,7 @@ static size_t masses_for_z(const gen_params *p, double z, double *out, size_t ca
             out[n++] = base_masses[i];
     }
     for (size_t j = 0; j < na && n < cap; j++)
-        out[n++] = round(added[j] * 1e5) / 1e5;
+        out[n++] = round(added[j] * 1e4) / 1e4;
     qsort(out, n, sizeof *out, cmp_double);
     return n;
 }
