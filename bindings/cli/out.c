@@ -376,7 +376,7 @@ table *state_table_new(unsigned extra)
 const char *flags_text(int flags, char *buf, size_t n)
 {
     buf[0] = '\0';
-    if (flags & HRT_FLAG_NOT_MODELLED) snprintf(buf + strlen(buf), n - strlen(buf), "%sbefore-zams", *buf ? "+" : "");
+    if (flags & HRT_FLAG_NOT_MODELLED) snprintf(buf + strlen(buf), n - strlen(buf), "%snot-modelled", *buf ? "+" : "");
     if (flags & HRT_FLAG_REMNANT) snprintf(buf + strlen(buf), n - strlen(buf), "%sremnant", *buf ? "+" : "");
     if (flags & HRT_FLAG_DARK) snprintf(buf + strlen(buf), n - strlen(buf), "%sdark", *buf ? "+" : "");
     if (flags & HRT_FLAG_EXTRAPOLATED)

@@ -234,7 +234,7 @@ HRT_API int hrt_interp_from_name(const char *name);
 #define HRT_FLAG_DARK 0x1          /**< not luminous (neutron star, black hole): L and Teff are NaN */
 #define HRT_FLAG_REMNANT 0x2       /**< past the last EEP: the state is the analytic remnant */
 #define HRT_FLAG_EXTRAPOLATED 0x4  /**< mass slightly outside its route's tracks: linear extrapolation */
-#define HRT_FLAG_NOT_MODELLED 0x8  /**< before the zero-age main sequence: only phase and mass are set */
+#define HRT_FLAG_NOT_MODELLED 0x8  /**< younger than the track's first EEP (birthline or ZAMS): only phase and mass are set */
 #define HRT_FLAG_BEYOND_LAW 0x10   /**< an analytic remnant outside the range where its law holds to its stated
                                     *   accuracy: a white dwarf above 0.1 or below 10^-4.5 Lsun (hrt_wd_log_l) */
 

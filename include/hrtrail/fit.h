@@ -34,9 +34,11 @@ extern "C" {
  * depend on a random draw; posterior samples for a forecast are drawn with a
  * seeded GSL Mersenne Twister (Matsumoto & Nishimura 1998).
  *
- * Stars are fitted from the zero-age main sequence to the last EEP of their
- * track (white dwarf cooling onset or core collapse).  Pre-main-sequence
- * stars and cooling white dwarfs are outside the model.  The answers are as
+ * Stars are fitted from the first EEP of their track (the birthline on the
+ * default grid, so pre-main-sequence solutions count with the weight of the
+ * time spent there; the ZAMS on most imported grids) to the last (white
+ * dwarf cooling onset or core collapse).  Cooling white dwarfs are outside
+ * the model.  The answers are as
  * accurate as the grid: the default grid is semi-analytic (tracks/MODEL.md),
  * so masses and ages carry its systematic errors on top of the statistical
  * intervals reported here.

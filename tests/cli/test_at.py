@@ -100,7 +100,7 @@ rc, out, err = run(["at"] + G + ["--mass", "1", "--age", "1Myr", "--csv"])
 row = parse_csv(out)[0]
 t.eq(rc, EXIT_OK, "pre-ZAMS star is not an error")
 t.eq(row["phase"], "pre_ms", "pre-ZAMS phase")
-t.ok("before-zams" in row["flags"] and math.isnan(num(row["log_l_lsun"])), "pre-ZAMS flag and nan luminosity")
+t.ok("not-modelled" in row["flags"] and math.isnan(num(row["log_l_lsun"])), "pre-ZAMS flag and nan luminosity")
 # after the track: the remnant
 rc, out, err = run(["at"] + G + ["--mass", "1", "--age", "20Gyr", "--json"])
 s0 = read_records(out)[0]
