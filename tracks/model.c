@@ -403,14 +403,14 @@ double f_cheb(double m)
 
 /* Blue-loop amplitude in log Teff [engineering choice]: loops for 4-12 Msun,
  * larger at low Z. */
-double loop_amplitude(double m, double zeta)
+static double loop_amplitude(double m, double zeta)
 {
     double x = log10(m);
     double a = 0.25 * sstep(x, log10(3.5), log10(5.0)) * (1.0 - sstep(x, log10(10.0), log10(14.0)));
     return a * fmin(fmax(1.0 - 0.1 * zeta, 0.8), 1.3);
 }
 
-double loop_shape(double phi)
+static double loop_shape(double phi)
 {
     if (phi <= 0.15 || phi >= 0.95)
         return 0.0;

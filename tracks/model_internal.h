@@ -44,8 +44,6 @@ double logr_from_lt(double logl, double logt);
 double mdot_reimers(const gen_params *p, double logl, double logr, double m);
 double mc_tip_degenerate(double zeta);
 double f_cheb(double m);
-double loop_amplitude(double m, double zeta);
-double loop_shape(double phi);
 
 /* Track assembly (model.c). */
 void push(ctx *c, double age, double logl, double logt, double m, double mhe, double mco, int phase);
