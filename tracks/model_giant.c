@@ -49,12 +49,17 @@ static double logt_rgb(double logl, double m, double zeta)
  * branch, stripped giant) [engineering choice]: log Teff = 4.4. */
 #define LOGT_STRIPPED 4.4
 
-/* Envelope mass below which a giant leaves the Hayashi line [engineering
- * choice]: 0.002 Msun on the giant branches; on the horizontal branch stars
- * are blue below about 0.05 Msun of envelope (RR Lyrae 0.05-0.15, red above
- * 0.2: common practice) and bluer at low Z. */
+/* Envelope mass below which a giant leaves the red giant branch's colour
+ * [engineering choice]: 0.002 Msun on the giant branches.  On the horizontal
+ * branch the half-way mass is m0 = 0.035 (Z/Zsun)^-0.19 Msun: 0.035 at solar
+ * Z (red clump unless the envelope is a few 0.01 Msun), 0.09 at Z = 1e-4,
+ * where zero-age horizontal-branch stars with a 0.5 Msun core are red above
+ * about 0.3 Msun of envelope, RR Lyrae near 0.2 and blue below 0.15
+ * (1e4 K near 0.1) [from memory: metal-poor zero-age horizontal-branch
+ * sequences; common practice: blue horizontal branches need small
+ * envelopes, and more so at higher Z]. */
 static double m0_giant(double zeta) { return 0.002 * pow(10.0, -0.15 * zeta); }
-static double m0_hb(double zeta) { return 0.035 * pow(10.0, -0.08 * zeta); }
+static double m0_hb(double zeta) { return 0.035 * pow(10.0, -0.19 * zeta); }
 
 static double logt_envelope(double logt_red, double env, double m0)
 {
@@ -323,10 +328,13 @@ static void giant_rgb(ctx *c, const giant_plan *g)
     double t_nd = smin_pos(t_en, 0.01 * c->ms.t_ms);
     double t_rgb = exp((1.0 - wnd) * log(t_en) + wnd * log(t_nd));
     double scale = t_rgb / t_en;
-    /* Reimers loss, saturating so that at most 90 % of the envelope above
-     * the tip core goes [engineering choice]. */
+    /* Reimers loss, saturating so that at most 90 % of the envelope E above
+     * the tip core goes: dM = E dM_R / sqrt(E^2 + dM_R^2) [engineering
+     * choice; the former E dM_R / (E + dM_R) halved the loss of metal-poor
+     * 0.8 Msun giants, ~0.1 instead of ~0.2 Msun, and left old metal-poor
+     * horizontal branches red]. */
     double e_av = 0.9 * (m_base - mc_ign);
-    double dm_eff = e_av * dm_r / (e_av + dm_r);
+    double dm_eff = dm_r > 0.0 ? e_av * dm_r / sqrt(e_av * e_av + dm_r * dm_r) : 0.0;
     double age0 = c->age;
     set_last_phase(c, HRT_PHASE_RGB);
     for (int i = 1; i <= N; i++) {
