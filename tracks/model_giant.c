@@ -347,16 +347,18 @@ static void giant_rgb(ctx *c, const giant_plan *g)
 /* --- flash / settling to the zero-age core-helium-burning locus: he_ignition to cheb_start ---
  * [engineering choice, after the textbook picture of the helium flash]: the
  * star falls from the tip, first down along the giant branch and then off
- * it, leaving the RGB for the clump's offset, in the first half of the
- * segment; the sub-flashes that lift the core's degeneracy show as two
- * damped swings in L (0.12 dex, degenerate ignition only, fading out over
- * the 0.5 Msun below the flash limit) while it settles on the red clump /
- * zero-age horizontal branch.  The segment lasts 1.5 % of core helium
- * burning, spread evenly over its samples: the real fall takes only
- * 1e4-1e5 yr [from memory], but an even spread keeps the segment's EEPs
- * (placed by path length, which counts age) comparable between masses
- * whose tips differ by a dex near the flash limit.  Stars above the limit
- * glide down without the swings. */
+ * it towards the clump; 85 % of the drop in log L comes in the first half of
+ * the segment, the rest as (1 - v)^2, so L falls all the way and the
+ * zero-age core-helium-burning star is the luminosity minimum after the tip
+ * (the keypoint criterion of tracks/FORMAT.md).  The sub-flashes that lift
+ * the core's degeneracy show as two damped swings of 0.03 dex in log Teff
+ * (degenerate ignition only, fading out over the 0.5 Msun below the flash
+ * limit) while the star settles on the red clump / zero-age horizontal
+ * branch.  The segment lasts 1.5 % of core helium burning, spread evenly
+ * over its samples: the real fall takes only 1e4-1e5 yr [from memory], but
+ * an even spread keeps the segment's EEPs (placed by path length, which
+ * counts age) comparable between masses whose tips differ by a dex near the
+ * flash limit.  Stars above the limit glide down without the swings. */
 static void giant_settle(ctx *c, const giant_plan *g)
 {
     double t_cheb = g->t_cheb, m0h = g->m0h, logl_c0 = g->logl_c0, mc_ign = g->mc_ign;
@@ -366,23 +368,22 @@ static void giant_settle(ctx *c, const giant_plan *g)
     double age0 = c->age;
     double logt_c0 = logt_envelope(logt_rgb(logl_c0, m_ign, c->zeta) + HB_OFFSET, m_ign - mc_ign, m0h);
     double d_ign = logt_ign - logt_rgb(logl_ign, m_ign, c->zeta); /* the tip's offset from the RGB line */
-    double swing = 0.12 * (1.0 - sstep(c->m0, gen_m_hef(c->p, c->z) - 0.5, gen_m_hef(c->p, c->z) + 0.1));
+    double mhef = gen_m_hef(c->p, c->z);
+    double swing = 0.03 * (1.0 - sstep(c->m0, mhef - 0.5, mhef + 0.1));
     const double v_fall = 0.5;
     set_last_phase(c, HRT_PHASE_CHEB);
     for (int i = 1; i <= n; i++) {
         double v = (double)i / n;
-        /* the fall: most of the drop in L within the first 35 % of the samples,
-         * 2.4 % of the time */
         double fv = fmin(v / v_fall, 1.0), fall = 1.0 - (1.0 - fv) * (1.0 - fv);
-        double w = (v - v_fall) / (1.0 - v_fall);
-        double osc = w > 0.0 ? -swing * sin(2.0 * PI * 2.0 * w) * (1.0 - w) : 0.0;
-        double logl = logl_c0 + (logl_ign - logl_c0) * (1.0 - fall) + osc;
+        double w = fmax(v - v_fall, 0.0) / (1.0 - v_fall);
+        double drop = 0.85 * (1.0 - fall) + 0.15 * (1.0 - v) * (1.0 - v);
+        double logl = logl_c0 + (logl_ign - logl_c0) * drop;
         /* along the giant branch (keeping the tip's offset), then onto the clump */
         double along = logt_rgb(logl, m_ign, c->zeta) + d_ign * (1.0 - fall) + 0.5 * HB_OFFSET * fall;
         double b = sstep(v, 0.2, 1.0);
-        double logt = along * (1.0 - b) + (logt_c0 - (logl - logl_c0) * 0.1) * b;
-        double t = t_set * v;
-        push(c, age0 + t, logl, logt, m_ign, mc_ign, 0.0, HRT_PHASE_CHEB);
+        double osc = swing * sin(2.0 * PI * 2.0 * w) * (1.0 - w);
+        double logt = along * (1.0 - b) + logt_c0 * b + osc;
+        push(c, age0 + t_set * v, logl, logt, m_ign, mc_ign, 0.0, HRT_PHASE_CHEB);
     }
 }
 
