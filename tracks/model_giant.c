@@ -148,7 +148,9 @@ static void seg_to_wd(ctx *c, double m_wd, double env, int phase, double co_frac
     double logr_wd = log10(hrt_wd_radius_rsun(m_wd));
     double logr_k = smax(logr_from_lt(logl_e, logt_pre_wd_max(m_wd)), logr_wd + 0.3, 0.05);
     logr_k = smin(logr_k, logr_e - 0.05, 0.05);
-    double logl0 = smin(c->p->log_l_wd_onset, logl_e - 0.3, 0.1);
+    /* below both bounds of the wd_onset criterion (tracks/FORMAT.md), at most
+     * 0.01 dex, so the criterion meets the keypoint within a sample or two */
+    double logl0 = smin(c->p->log_l_wd_onset, logl_e - 0.3, 0.02);
     double ta = env * c->x / (c->b * pow(10.0, logl_e));
     double tb = 2.0 * ta;
     double mhe0 = c->mhe, mco0 = c->mco, age0 = c->age;
