@@ -271,6 +271,468 @@ START_TEST(initial_final_mass)
 }
 END_TEST
 
+/* ------------------------------------------------------------------------
+ * After the main sequence on the low-mass and giant routes: checks at named
+ * masses and on dense mass sweeps (200 masses per metallicity).
+ * ------------------------------------------------------------------------ */
+#define N_SWEEP 200
+
+/* Lightest and heaviest track of the giant route at metallicity index iz. */
+static void giant_route_span(const hrt_grid *g, size_t iz, double *lo, double *hi)
+{
+    *lo = INFINITY;
+    *hi = -INFINITY;
+    for (size_t im = 0; im < hrt_grid_n_masses(g, iz); im++)
+        if (hrt_grid_track_route(g, iz, im) == 1) {
+            *lo = fmin(*lo, hrt_grid_mass(g, iz, im));
+            *hi = fmax(*hi, hrt_grid_mass(g, iz, im));
+        }
+    ck_assert(*lo < *hi);
+}
+
+/* Mass i of N_SWEEP, log-spaced over [lo, hi]. */
+static double sweep_mass(double lo, double hi, int i) { return lo * pow(hi / lo, (double)i / (N_SWEEP - 1)); }
+
+static size_t keypoint_eep(const hrt_grid *g, const hrt_star *s, const char *name)
+{
+    return (size_t)hrt_grid_keypoint_eep(g, (size_t)hrt_star_route(s), (size_t)keypoint_index(s, name));
+}
+
+static hrt_state eep_state(const hrt_star *s, size_t j)
+{
+    hrt_state st;
+    ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
+    return st;
+}
+
+/* log Teff of the star's red giant branch (EEPs rgb_base..he_ignition) at
+ * luminosity logl, linear between EEPs; NAN if the branch does not reach it. */
+static double rgb_logt_at(const hrt_grid *g, const hrt_star *s, double logl)
+{
+    size_t a = keypoint_eep(g, s, "rgb_base"), b = keypoint_eep(g, s, "he_ignition");
+    for (size_t j = a; j < b; j++) {
+        hrt_state p = eep_state(s, j), q = eep_state(s, j + 1);
+        if ((p.log_l_lsun - logl) * (q.log_l_lsun - logl) <= 0.0 && q.log_l_lsun != p.log_l_lsun) {
+            double f = (logl - p.log_l_lsun) / (q.log_l_lsun - p.log_l_lsun);
+            return p.log_teff_k + f * (q.log_teff_k - p.log_teff_k);
+        }
+    }
+    return NAN;
+}
+
+/* Tip of the red giant branch (degenerate ignition) at every grid Z, 200
+ * masses from the lightest giant-route track to 1.3 Msun (well below the
+ * helium-flash limit, 2.0-2.3 Msun at Z = 0.001-0.02, Sweigart, Greggio &
+ * Renzini 1990, from memory; the grid extrapolates it to 1.77 at Z = 1e-4):
+ *  - log L_tip within 3.25-3.50 everywhere; 3.25-3.40 at Z <= 0.001, where the
+ *    tip magnitude M_I = -4.05 +- 0.04 (Freedman et al. 2020, ApJ 891, 57,
+ *    from memory) with BC_I = +0.55 (from memory) gives log L = 3.32: the
+ *    model's M_I = 4.74 - 2.5 log L - 0.55 (M_bol,sun = 4.74, IAU 2015 B2)
+ *    must lie within 0.2 mag of -4.05 (the bolometric correction is uncertain
+ *    by ~0.15); 3.33-3.50 at Z >= 0.008 (3.35-3.45, Salaris & Cassisi 2005,
+ *    from memory);
+ *  - core mass 0.46-0.51 (0.47-0.50, Salaris & Cassisi 2005, from memory);
+ *  - both smooth in mass (neighbours within 0.01 dex and 0.002 Msun) and
+ *    monotonic in Z: brighter tips, lighter cores at higher Z (common practice). */
+START_TEST(rgb_tip_sweep)
+{
+    hrt_grid *g = open_grid();
+    double prev_l = -INFINITY, prev_mc = INFINITY;
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        double z = hrt_grid_z(g, iz), lo, hi;
+        giant_route_span(g, iz, &lo, &hi);
+        double l_lo = INFINITY, l_hi = -INFINITY, mc_lo = INFINITY, mc_hi = -INFINITY, dl = 0, dmc = 0;
+        double pl = NAN, pmc = NAN, sum_l = 0, sum_mc = 0;
+        for (int i = 0; i < N_SWEEP; i++) {
+            hrt_star *s = new_star(g, sweep_mass(lo, 1.3, i), z);
+            hrt_state tip = state_at_keypoint(g, s, "he_ignition");
+            double l = tip.log_l_lsun, mc = tip.he_core_mass_msun;
+            l_lo = fmin(l_lo, l), l_hi = fmax(l_hi, l), mc_lo = fmin(mc_lo, mc), mc_hi = fmax(mc_hi, mc);
+            if (i > 0)
+                dl = fmax(dl, fabs(l - pl)), dmc = fmax(dmc, fabs(mc - pmc));
+            pl = l, pmc = mc, sum_l += l, sum_mc += mc;
+            hrt_star_free(s);
+        }
+        double m_i_hi = 4.74 - 2.5 * l_lo - 0.55, m_i_lo = 4.74 - 2.5 * l_hi - 0.55;
+        printf("RGB tip, Z = %g, %.3f-1.3 Msun: log L %.3f-%.3f (M_I %.2f to %.2f), Mc %.4f-%.4f; largest step "
+               "%.4f dex, %.4f Msun\n",
+               z, lo, l_lo, l_hi, m_i_lo, m_i_hi, mc_lo, mc_hi, dl, dmc);
+        ck_assert_double_ge(l_lo, 3.25);
+        ck_assert_double_le(l_hi, 3.50);
+        if (z <= 0.001 * (1 + 1e-9)) {
+            ck_assert_double_le(l_hi, 3.40);
+            ck_assert_double_le(fabs(m_i_lo + 4.05), 0.2);
+            ck_assert_double_le(fabs(m_i_hi + 4.05), 0.2);
+        }
+        if (z >= 0.008 * (1 - 1e-9))
+            ck_assert_double_ge(l_lo, 3.33);
+        ck_assert_double_ge(mc_lo, 0.46);
+        ck_assert_double_le(mc_hi, 0.51);
+        ck_assert_double_le(dl, 0.01);
+        ck_assert_double_le(dmc, 0.002);
+        ck_assert_double_gt(sum_l / N_SWEEP, prev_l);
+        ck_assert_double_lt(sum_mc / N_SWEEP, prev_mc);
+        prev_l = sum_l / N_SWEEP, prev_mc = sum_mc / N_SWEEP;
+    }
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Shapes of the giant branch and the Hertzsprung gap.
+ *  - The red giant branch is curved, cooling faster near the tip: at 1 Msun
+ *    d log Teff / d log L between log L 2.8 and 3.2 is at least 1.5 times that
+ *    between 1.0 and 1.5, and the branch departs from its chord by more than
+ *    0.01 dex (common practice).
+ *  - Tip temperatures: 3200-3700 K at Z = 0.014 (3300-3500 K, from memory),
+ *    3800-4500 K at Z = 1e-4 (metal-poor tips near 4000 K, from memory).
+ *  - At log L = 2.5 the branch of 1.2 Msun is hotter at every lower Z, and at
+ *    log L = 2 a 1.8 Msun giant is hotter than a 1.0 Msun one (Teff ~
+ *    Z^(-4/51) M^(7/51), Hayashi 1961; Hansen, Kawaler & Trimble 2004).
+ *  - Subgiants of 1.5 Msun brighten by at least 0.05 dex as they cool; stars
+ *    of 3 and 5 Msun cross the gap at slightly rising L (its brightest point
+ *    at least 0.03 dex above both ends, the ends within -0.1..+0.2 dex of each
+ *    other) (common practice). */
+START_TEST(giant_branch_shape)
+{
+    hrt_grid *g = open_grid();
+    static const double zs[2] = {Z_SUN, 1e-4}, tmin[2] = {3200, 3800}, tmax[2] = {3700, 4500};
+    for (int k = 0; k < 2; k++) {
+        hrt_star *s = new_star(g, 1.0, zs[k]);
+        double s_low = (rgb_logt_at(g, s, 1.5) - rgb_logt_at(g, s, 1.0)) / 0.5;
+        double s_tip = (rgb_logt_at(g, s, 3.2) - rgb_logt_at(g, s, 2.8)) / 0.4;
+        double mid = rgb_logt_at(g, s, 2.1), chord = 0.5 * (rgb_logt_at(g, s, 1.0) + rgb_logt_at(g, s, 3.2));
+        hrt_state tip = state_at_keypoint(g, s, "he_ignition");
+        double t_tip = pow(10.0, tip.log_teff_k);
+        printf("1 Msun, Z = %g: RGB slope d log Teff/d log L %.4f (log L 1-1.5), %.4f (2.8-3.2); off chord %.4f dex; "
+               "tip %.0f K (target %.0f-%.0f)\n",
+               zs[k], s_low, s_tip, mid - chord, t_tip, tmin[k], tmax[k]);
+        ck_assert_double_lt(s_tip, 1.5 * s_low);
+        ck_assert_double_gt(fabs(mid - chord), 0.01);
+        ck_assert_double_ge(t_tip, tmin[k]);
+        ck_assert_double_le(t_tip, tmax[k]);
+        hrt_star_free(s);
+    }
+    double prev = INFINITY;
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        hrt_star *s = new_star(g, 1.2, hrt_grid_z(g, iz));
+        double t = rgb_logt_at(g, s, 2.5);
+        ck_assert_double_lt(t, prev);
+        prev = t;
+        hrt_star_free(s);
+    }
+    hrt_star *a = new_star(g, 1.0, Z_SUN), *b = new_star(g, 1.8, Z_SUN);
+    double ta = rgb_logt_at(g, a, 2.0), tb = rgb_logt_at(g, b, 2.0);
+    printf("RGB at log L = 2 (Z = 0.014): log Teff %.4f (1.0 Msun), %.4f (1.8 Msun)\n", ta, tb);
+    ck_assert_double_gt(tb, ta + 0.003);
+    hrt_star_free(a);
+    hrt_star_free(b);
+
+    static const double mhg[3] = {1.5, 3.0, 5.0};
+    for (int k = 0; k < 3; k++) {
+        hrt_star *s = new_star(g, mhg[k], Z_SUN);
+        size_t j0 = keypoint_eep(g, s, "tams"), j1 = keypoint_eep(g, s, "rgb_base");
+        hrt_state p = eep_state(s, j0), q = eep_state(s, j1);
+        double lmax = -INFINITY;
+        for (size_t j = j0; j <= j1; j++)
+            lmax = fmax(lmax, eep_state(s, j).log_l_lsun);
+        printf("gap of %g Msun: log L %.3f -> %.3f (brightest %.3f), log Teff %.3f -> %.3f\n", mhg[k], p.log_l_lsun,
+               q.log_l_lsun, lmax, p.log_teff_k, q.log_teff_k);
+        ck_assert_double_lt(q.log_teff_k, p.log_teff_k);
+        if (k == 0) {
+            ck_assert_double_ge(q.log_l_lsun - p.log_l_lsun, 0.05);
+        } else {
+            ck_assert_double_ge(lmax - fmax(p.log_l_lsun, q.log_l_lsun), 0.03);
+            ck_assert_double_ge(q.log_l_lsun - p.log_l_lsun, -0.1);
+            ck_assert_double_le(q.log_l_lsun - p.log_l_lsun, 0.2);
+        }
+        hrt_star_free(s);
+    }
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* The helium flash and the red clump, 1.0 and 1.5 Msun at Z = 0.014 and
+ * 0.008:
+ *  - the clump (zero-age core helium burning) lies 0.045-0.10 dex hotter in
+ *    log Teff than the star's own giant branch at the same L (0.05-0.1:
+ *    common practice), at log L 1.5-2.0 (red-clump M_Ks = -1.606, Ruiz-Dern
+ *    et al. 2018, A&A 609, A116, with BC_K ~ 1.95, from memory);
+ *  - the way from the tip to the clump is not a straight line: its log Teff
+ *    departs from the chord (in L) by more than 0.015 dex and turns back and
+ *    forth at least 3 times (sub-flash swings: common practice), while L
+ *    never falls below the clump's (the zero-age core-helium-burning star is
+ *    the luminosity minimum after the tip: tracks/FORMAT.md, keypoint
+ *    criteria); it takes under 3 Myr (settling in ~1-2 Myr: common
+ *    practice). */
+START_TEST(flash_and_clump)
+{
+    hrt_grid *g = open_grid();
+    static const double zs[2] = {Z_SUN, 0.008}, ms[2] = {1.0, 1.5};
+    for (int iz = 0; iz < 2; iz++)
+        for (int im = 0; im < 2; im++) {
+            hrt_star *s = new_star(g, ms[im], zs[iz]);
+            size_t j0 = keypoint_eep(g, s, "he_ignition"), j1 = keypoint_eep(g, s, "cheb_start");
+            hrt_state tip = eep_state(s, j0), zahb = eep_state(s, j1);
+            double off = zahb.log_teff_k - rgb_logt_at(g, s, zahb.log_l_lsun);
+            double dev = 0.0, lmin = INFINITY, prev_d = 0.0, prev_t = tip.log_teff_k;
+            int turns = 0;
+            for (size_t j = j0; j <= j1; j++) {
+                hrt_state st = eep_state(s, j);
+                double f = (st.log_l_lsun - tip.log_l_lsun) / (zahb.log_l_lsun - tip.log_l_lsun);
+                dev = fmax(dev, fabs(st.log_teff_k - (tip.log_teff_k + f * (zahb.log_teff_k - tip.log_teff_k))));
+                lmin = fmin(lmin, st.log_l_lsun);
+                double d = st.log_teff_k - prev_t;
+                if (fabs(d) > 1e-4) {
+                    turns += prev_d * d < 0.0;
+                    prev_d = d;
+                }
+                prev_t = st.log_teff_k;
+            }
+            double dt = keypoint_age(s, "cheb_start") - keypoint_age(s, "he_ignition");
+            printf("%.1f Msun, Z = %g: clump log L %.3f, Teff %.0f K, %.4f dex hotter than the RGB; flash path off "
+                   "its chord by %.3f dex, %d turns in Teff, lowest L %.2e dex below the clump, lasts %.2f Myr\n",
+                   ms[im], zs[iz], zahb.log_l_lsun, pow(10.0, zahb.log_teff_k), off, dev, turns,
+                   zahb.log_l_lsun - lmin, dt / 1e6);
+            ck_assert_double_ge(off, 0.045);
+            ck_assert_double_le(off, 0.10);
+            ck_assert_double_ge(zahb.log_l_lsun, 1.5);
+            ck_assert_double_le(zahb.log_l_lsun, 2.0);
+            ck_assert_double_gt(dev, 0.015);
+            ck_assert_int_ge(turns, 3);
+            ck_assert_double_le(zahb.log_l_lsun - lmin, 1e-9);
+            ck_assert_double_lt(dt, 3e6);
+            hrt_star_free(s);
+        }
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Horizontal branch at Z = 1e-4 and 3e-4, 200 masses from the lightest
+ * giant-route track to 1.2 Msun: its colour is set by the envelope mass left
+ * after the giant branch (common practice): blue (log Teff >= 3.9, hotter
+ * than the RR Lyrae strip's blue edge near 7400 K, from memory) for envelopes
+ * below 0.05 Msun, red (log Teff <= 3.80) above 0.4 Msun, and some stars in
+ * the RR Lyrae strip (log Teff 3.76-3.87, about 5800-7400 K, from memory);
+ * log Teff falls as the envelope grows (neighbours may not rise by more than
+ * 0.002 dex), with no step above 0.03 dex; log L 1.5-2.0. */
+START_TEST(horizontal_branch_low_z)
+{
+    hrt_grid *g = open_grid();
+    static const double zs[2] = {1e-4, 3e-4};
+    for (int k = 0; k < 2; k++) {
+        size_t iz = 0;
+        for (size_t i = 0; i < hrt_grid_n_z(g); i++)
+            if (fabs(hrt_grid_z(g, i) / zs[k] - 1) < 1e-9)
+                iz = i;
+        double lo, hi, prev_t = NAN, prev_env = NAN, step = 0;
+        int n_blue = 0, n_rr = 0, n_red = 0;
+        giant_route_span(g, iz, &lo, &hi);
+        for (int i = 0; i < N_SWEEP; i++) {
+            hrt_star *s = new_star(g, sweep_mass(lo, 1.2, i), zs[k]);
+            hrt_state h = state_at_keypoint(g, s, "cheb_start");
+            double env = h.mass_msun - h.he_core_mass_msun, t = h.log_teff_k;
+            if (env < 0.05)
+                ck_assert_double_ge(t, 3.9);
+            if (env > 0.4)
+                ck_assert_double_le(t, 3.80);
+            n_blue += t >= 3.9;
+            n_rr += t >= 3.76 && t <= 3.87;
+            n_red += t <= 3.80;
+            ck_assert_double_ge(h.log_l_lsun, 1.5);
+            ck_assert_double_le(h.log_l_lsun, 2.0);
+            if (i > 0) {
+                ck_assert_double_gt(env, prev_env);
+                ck_assert_double_le(t, prev_t + 0.002);
+                step = fmax(step, fabs(t - prev_t));
+            }
+            prev_t = t, prev_env = env;
+            hrt_star_free(s);
+        }
+        printf("horizontal branch, Z = %g: %d blue, %d RR Lyrae, %d red of %d; largest step %.4f dex\n", zs[k], n_blue,
+               n_rr, n_red, N_SWEEP, step);
+        ck_assert_int_gt(n_blue, 0);
+        ck_assert_int_gt(n_rr, 0);
+        ck_assert_int_gt(n_red, 0);
+        ck_assert_double_le(step, 0.03);
+    }
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Blue loops, 200 masses over 4-7.5 Msun at every grid Z: the hottest point
+ * of core helium burning against the blue edge of the Cepheid instability
+ * strip, log Teff_BE = 3.83 - 0.04 (log L - 3) (theoretical fundamental blue
+ * edge at solar Z, Bono, Marconi & Stellingwerf 1999, ApJS 122, 167, from
+ * memory; its red edge lies ~0.08 dex cooler).  Classical Cepheids are
+ * blue-loop stars of about 4-10 Msun (common practice): at Z = 0.014 the loops
+ * of 5-7.5 Msun reach the blue edge to within 0.01 dex, those of 4-5 Msun at
+ * least 0.01 dex into the strip (blue edge - 0.07); at lower Z the loops reach
+ * further (the tip at Z <= 0.001 at least 0.03 dex hotter than at 0.014, same
+ * mass: common practice); every loop returns to the red (log Teff at the end
+ * of core helium burning 0.1 dex below the tip); smooth in mass (neighbours
+ * within 0.01 dex). */
+START_TEST(blue_loops)
+{
+    hrt_grid *g = open_grid();
+    double tip_sun[N_SWEEP];
+    size_t iz_sun = 0;
+    for (size_t i = 0; i < hrt_grid_n_z(g); i++)
+        if (fabs(hrt_grid_z(g, i) / Z_SUN - 1) < 1e-9)
+            iz_sun = i;
+    for (int pass = 0; pass < 2; pass++)
+        for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+            if ((pass == 0) != (iz == iz_sun))
+                continue; /* Z = 0.014 first: the others are compared with it */
+            double z = hrt_grid_z(g, iz), prev = NAN, step = 0, worst = INFINITY, worst_m = 0;
+            for (int i = 0; i < N_SWEEP; i++) {
+                double m = sweep_mass(4.0, 7.5, i);
+                hrt_star *s = new_star(g, m, z);
+                size_t j0 = keypoint_eep(g, s, "cheb_start"), j1 = keypoint_eep(g, s, "cheb_end");
+                hrt_state best = eep_state(s, j0);
+                for (size_t j = j0; j <= j1; j++) {
+                    hrt_state st = eep_state(s, j);
+                    if (st.log_teff_k > best.log_teff_k)
+                        best = st;
+                }
+                double be = 3.83 - 0.04 * (best.log_l_lsun - 3.0), margin = best.log_teff_k - be;
+                if (margin < worst)
+                    worst = margin, worst_m = m;
+                if (iz == iz_sun) {
+                    tip_sun[i] = best.log_teff_k;
+                    ck_assert_double_ge(margin, m >= 5.0 ? -0.01 : -0.07);
+                } else if (z <= 0.001 * (1 + 1e-9)) {
+                    ck_assert_double_ge(best.log_teff_k, tip_sun[i] + 0.03);
+                }
+                ck_assert_double_lt(eep_state(s, j1).log_teff_k, best.log_teff_k - 0.1);
+                if (i > 0)
+                    step = fmax(step, fabs(best.log_teff_k - prev));
+                prev = best.log_teff_k;
+                hrt_star_free(s);
+            }
+            printf("blue loops, Z = %g, 4-7.5 Msun: tip vs Cepheid blue edge from %+.3f dex (%.2f Msun); largest step "
+                   "%.4f dex\n",
+                   z, worst, worst_m, step);
+            ck_assert_double_le(step, 0.01);
+        }
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Post-AGB stars, 200 masses from 0.9 to 7.5 Msun at every grid Z:
+ *  - they leave the AGB at the interpulse core-mass-luminosity relation,
+ *    L = 59250 (Mc - 0.495) Lsun (Iben & Renzini 1983, ARA&A 21, 271, after
+ *    Paczynski 1970; from memory), within 0.1 dex, Mc the remnant mass;
+ *  - their hottest Teff rises with the core mass (no sweep neighbour cooler
+ *    by more than 0.002 dex, no step above 0.02 dex): 0.9-1.35e5 K for
+ *    remnants of 0.55-0.60 Msun (~1e5 K at 0.55 Msun, from memory), 2-3.5e5 K
+ *    above 0.9 Msun (2-3e5 K, from memory), never 4e5 K. */
+START_TEST(post_agb_sweep)
+{
+    hrt_grid *g = open_grid();
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        double z = hrt_grid_z(g, iz), prev_t = NAN, prev_mf = NAN, step = 0, worst_l = 0, t_lo = INFINITY,
+               t_hi = -INFINITY;
+        for (int i = 0; i < N_SWEEP; i++) {
+            hrt_star *s = new_star(g, sweep_mass(0.9, 7.5, i), z);
+            int kind;
+            double mf;
+            ck_assert_int_eq(hrt_star_remnant(s, &kind, &mf), HRT_OK);
+            size_t j0 = keypoint_eep(g, s, "agb_end"), j1 = keypoint_eep(g, s, "wd_onset");
+            hrt_state e = eep_state(s, j0);
+            double tmax = -INFINITY;
+            for (size_t j = j0; j <= j1; j++)
+                tmax = fmax(tmax, eep_state(s, j).log_teff_k);
+            double dl = e.log_l_lsun - log10(59250.0 * (mf - 0.495));
+            worst_l = fmax(worst_l, fabs(dl));
+            ck_assert_double_le(fabs(dl), 0.1);
+            if (mf >= 0.55 && mf <= 0.60) {
+                ck_assert_double_ge(tmax, log10(0.9e5));
+                ck_assert_double_le(tmax, log10(1.35e5));
+            }
+            if (mf >= 0.9) {
+                ck_assert_double_ge(tmax, log10(2e5));
+                ck_assert_double_le(tmax, log10(3.5e5));
+            }
+            ck_assert_double_lt(tmax, log10(4e5));
+            if (i > 0) {
+                ck_assert_double_ge(mf, prev_mf);
+                ck_assert_double_ge(tmax, prev_t - 0.002);
+                step = fmax(step, fabs(tmax - prev_t));
+            }
+            t_lo = fmin(t_lo, tmax), t_hi = fmax(t_hi, tmax);
+            prev_t = tmax, prev_mf = mf;
+            hrt_star_free(s);
+        }
+        printf("post-AGB, Z = %g: hottest %.0f-%.0f K; L off the core-mass relation by at most %.3f dex; largest step "
+               "%.4f dex\n",
+               z, pow(10.0, t_lo), pow(10.0, t_hi), worst_l, step);
+        ck_assert_double_le(step, 0.02);
+    }
+    hrt_grid_close(g);
+}
+END_TEST
+
+/* Lifetimes after the main sequence and the final masses:
+ *  - core helium burning of 1.0 and 1.5 Msun at Z = 0.014 and 1e-4: 70-150 Myr
+ *    (~100 Myr, from memory; 81.5 Myr for a 0.6 Msun model, Despain 1981,
+ *    ApJ 251, 639);
+ *  - the thermally pulsing AGB of 200 masses over 0.9-4 Msun at every grid Z:
+ *    0.1-5 Myr (Kalirai, Marigo & Tremblay 2014, ApJ 782, 17: 0.4-3 Myr over
+ *    their clusters; wider bounds for our range of Z);
+ *  - final masses of 200 masses over 0.9-7.5 Msun at Z = 0.014 within 0.06
+ *    Msun, the relation's scatter, of Cummings et al. (2018, ApJ 866, 21), and
+ *    at 5 Msun 0.83-0.98 Msun (semi-empirical relations: Kalirai et al. 2008,
+ *    ApJ 676, 594, 0.94, from memory; a flattening near 0.8-0.9 over 3.5-5.5
+ *    Msun in field white dwarfs, El-Badry, Rix & Weisz 2018, ApJL 860, L17). */
+START_TEST(post_ms_lifetimes)
+{
+    hrt_grid *g = open_grid();
+    static const double zs[2] = {Z_SUN, 1e-4}, ms[2] = {1.0, 1.5};
+    for (int iz = 0; iz < 2; iz++)
+        for (int im = 0; im < 2; im++) {
+            hrt_star *s = new_star(g, ms[im], zs[iz]);
+            double t = keypoint_age(s, "cheb_end") - keypoint_age(s, "cheb_start");
+            printf("core helium burning, %.1f Msun, Z = %g: %.1f Myr (target 70-150)\n", ms[im], zs[iz], t / 1e6);
+            ck_assert_double_ge(t, 70e6);
+            ck_assert_double_le(t, 150e6);
+            hrt_star_free(s);
+        }
+    for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
+        double z = hrt_grid_z(g, iz), t_lo = INFINITY, t_hi = 0;
+        for (int i = 0; i < N_SWEEP; i++) {
+            hrt_star *s = new_star(g, sweep_mass(0.9, 4.0, i), z);
+            double t = keypoint_age(s, "agb_end") - keypoint_age(s, "first_pulse");
+            t_lo = fmin(t_lo, t), t_hi = fmax(t_hi, t);
+            hrt_star_free(s);
+        }
+        printf("TP-AGB, Z = %g, 0.9-4 Msun: %.2f-%.2f Myr (target 0.1-5)\n", z, t_lo / 1e6, t_hi / 1e6);
+        ck_assert_double_ge(t_lo, 0.1e6);
+        ck_assert_double_le(t_hi, 5e6);
+    }
+    double worst = 0;
+    for (int i = 0; i < N_SWEEP; i++) {
+        double m = sweep_mass(0.9, 7.5, i), mf;
+        int kind;
+        hrt_star *s = new_star(g, m, Z_SUN);
+        ck_assert_int_eq(hrt_star_remnant(s, &kind, &mf), HRT_OK);
+        worst = fmax(worst, fabs(mf - ifmr_cummings2018(m)));
+        hrt_star_free(s);
+    }
+    hrt_star *s = new_star(g, 5.0, Z_SUN);
+    int kind;
+    double mf5;
+    ck_assert_int_eq(hrt_star_remnant(s, &kind, &mf5), HRT_OK);
+    printf("final masses, 0.9-7.5 Msun: within %.4f Msun of Cummings et al. 2018 (target 0.06); 5 Msun -> %.3f "
+           "(target 0.83-0.98)\n",
+           worst, mf5);
+    ck_assert_double_le(worst, 0.06);
+    ck_assert_double_ge(mf5, 0.83);
+    ck_assert_double_le(mf5, 0.98);
+    hrt_star_free(s);
+    hrt_grid_close(g);
+}
+END_TEST
+
 /* Limits over every track of every metallicity:
  *  - no white dwarf above the Chandrasekhar mass 5.83/mu_e^2 = 1.457 Msun
  *    (mu_e = 2; Chandrasekhar 1931, ApJ 74, 81; constant from memory);
@@ -582,6 +1044,13 @@ static Suite *suite(void)
     tcase_add_test(tc, routes_and_fates);
     tcase_add_test(tc, solar_giant);
     tcase_add_test(tc, initial_final_mass);
+    tcase_add_test(tc, rgb_tip_sweep);
+    tcase_add_test(tc, giant_branch_shape);
+    tcase_add_test(tc, flash_and_clump);
+    tcase_add_test(tc, horizontal_branch_low_z);
+    tcase_add_test(tc, blue_loops);
+    tcase_add_test(tc, post_agb_sweep);
+    tcase_add_test(tc, post_ms_lifetimes);
     tcase_add_test(tc, limits_everywhere);
     tcase_add_test(tc, wd_handover);
     tcase_add_test(tc, leave_one_out);

@@ -166,7 +166,7 @@ END_TEST
 
 START_TEST(deterministic)
 {
-    hrt_fit_obs o = obs_tlf(4600, 80, 1.6, 0.05, 0.0, 0.1);
+    hrt_fit_obs o = obs_tlf(4840, 80, 1.65, 0.05, 0.0, 0.1);
     hrt_fit_sample a[300], b[300], c[300];
     hrt_fit_result ra, rb, rc_;
     ck_assert_int_eq(hrt_fit_star(M_NARROW, &o, 7, 300, a, &ra, NULL), HRT_OK);
