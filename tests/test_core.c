@@ -807,6 +807,109 @@ static void dmg_keypoints_swapped(hid_t f)
     H5Dclose(d);
 }
 
+static void set_text_attr(hid_t f, const char *obj, const char *name, const char *value);
+
+/* Compressed data the reader must refuse before HDF5 inflates it
+ * (tracks/FORMAT.md, "Storage").  remake() puts the values of `name` back
+ * into a new dataset of the same shape stored through dcpl (maxdims
+ * unlimited when `unlimited`, so that chunks may exceed the shape). */
+static void remake(hid_t f, const char *name, hid_t dcpl, int unlimited)
+{
+    hid_t d = H5Dopen2(f, name, H5P_DEFAULT), s = H5Dget_space(d);
+    hsize_t dims[2], maxd[2] = {H5S_UNLIMITED, H5S_UNLIMITED};
+    int rank = H5Sget_simple_extent_dims(s, dims, NULL);
+    double *v = malloc((size_t)H5Sget_simple_extent_npoints(s) * sizeof *v);
+    H5Dread(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+    H5Dclose(d);
+    H5Sclose(s);
+    H5Ldelete(f, name, H5P_DEFAULT);
+    s = H5Screate_simple(rank, dims, unlimited ? maxd : NULL);
+    d = H5Dcreate2(f, name, H5T_IEEE_F64LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
+    H5Dwrite(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v);
+    H5Dclose(d);
+    H5Sclose(s);
+    free(v);
+    set_text_attr(f, name, "units", "dex(yr)");
+}
+/* A dcpl of [rows, width] chunks: shuffle, deflate `deflates` times, Fletcher-32. */
+static hid_t bomb_dcpl(hsize_t rows, hsize_t width, int deflates)
+{
+    hsize_t chunk[2] = {rows, width};
+    hid_t dcpl = H5Pcreate(H5P_DATASET_CREATE);
+    H5Pset_chunk(dcpl, 2, chunk);
+    H5Pset_shuffle(dcpl);
+    for (int k = 0; k < deflates; k++)
+        H5Pset_deflate(dcpl, 9);
+    H5Pset_fletcher32(dcpl);
+    return dcpl;
+}
+static hsize_t eep_width(hid_t f)
+{
+    hid_t d = H5Dopen2(f, "metallicity/0/log_age_yr", H5P_DEFAULT), s = H5Dget_space(d);
+    hsize_t dims[2];
+    H5Sget_simple_extent_dims(s, dims, NULL);
+    H5Sclose(s);
+    H5Dclose(d);
+    return dims[1];
+}
+/* Deflated twice: each pass can shrink about a thousand times. */
+static void dmg_deflate_twice(hid_t f)
+{
+    hid_t dcpl = bomb_dcpl(1, eep_width(f), 2);
+    remake(f, "metallicity/0/log_age_yr", dcpl, 0);
+    H5Pclose(dcpl);
+}
+/* Chunks of 4096 rows: more than 1 MiB each. */
+static void dmg_huge_chunks(hid_t f)
+{
+    hid_t dcpl = bomb_dcpl(4096, eep_width(f), 1);
+    remake(f, "metallicity/0/log_age_yr", dcpl, 1);
+    H5Pclose(dcpl);
+}
+/* A lossy filter (HDF5's scale-offset, 2 decimal digits). */
+static void dmg_lossy_filter(hid_t f)
+{
+    hsize_t chunk[2] = {1, eep_width(f)};
+    hid_t dcpl = H5Pcreate(H5P_DATASET_CREATE);
+    H5Pset_chunk(dcpl, 2, chunk);
+    H5Pset_scaleoffset(dcpl, H5Z_SO_FLOAT_DSCALE, 2);
+    H5Pset_fletcher32(dcpl);
+    remake(f, "metallicity/0/log_age_yr", dcpl, 0);
+    H5Pclose(dcpl);
+}
+/* The classic bomb: chunk [0][0] of log_age_yr (one row, a few KB) holds a
+ * valid, checksummed stream of 64 MiB of zeros (about 64 KB stored), made
+ * by HDF5 itself in a file in memory and copied over the chunk raw. */
+static void dmg_bomb_chunk(hid_t f)
+{
+    hsize_t width = eep_width(f), big[2] = {8192, 1024}, off[2] = {0, 0};
+    hid_t dcpl = bomb_dcpl(1, width, 1);
+    remake(f, "metallicity/0/log_age_yr", dcpl, 0);
+    H5Pclose(dcpl);
+    hid_t fapl = H5Pcreate(H5P_FILE_ACCESS);
+    H5Pset_fapl_core(fapl, 1 << 20, 0);
+    hid_t mf = H5Fcreate("bomb-in-memory.h5", H5F_ACC_TRUNC, H5P_DEFAULT, fapl);
+    hid_t bcpl = bomb_dcpl(big[0], big[1], 1), s = H5Screate_simple(2, big, NULL);
+    hid_t bd = H5Dcreate2(mf, "zeros", H5T_IEEE_F64LE, s, H5P_DEFAULT, bcpl, H5P_DEFAULT);
+    double *zeros = calloc(big[0] * big[1], sizeof *zeros);
+    H5Dwrite(bd, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, zeros);
+    free(zeros);
+    hsize_t raw_bytes = 0;
+    uint32_t mask = 0;
+    H5Dget_chunk_storage_size(bd, off, &raw_bytes);
+    unsigned char *raw = malloc(raw_bytes);
+    H5Dread_chunk(bd, H5P_DEFAULT, off, &mask, raw);
+    hid_t d = H5Dopen2(f, "metallicity/0/log_age_yr", H5P_DEFAULT);
+    H5Dwrite_chunk(d, H5P_DEFAULT, mask, off, raw_bytes, raw);
+    H5Dclose(d);
+    free(raw);
+    H5Dclose(bd);
+    H5Sclose(s);
+    H5Pclose(bcpl);
+    H5Fclose(mf);
+    H5Pclose(fapl);
+}
+
 /* The reader's checks of format 2: units, floating-point data, the code
  * tables (tracks/FORMAT.md, "What the reader checks"). */
 static void set_text_attr(hid_t f, const char *obj, const char *name, const char *value)
@@ -923,6 +1026,12 @@ static const struct {
      "metallicity/2/co_core_mass_msun[5][7]"},
     {"keypoints out of order", dmg_keypoints_swapped, HRT_E_FORMAT,
      "routes/low/keypoint_names[1]: 'zams' after 'tams'"},
+    {"deflated twice", dmg_deflate_twice, HRT_E_FORMAT, "metallicity/0/log_age_yr: stored through HDF5 filter 1"},
+    {"compressed chunks over 1 MiB", dmg_huge_chunks, HRT_E_FORMAT,
+     "metallicity/0/log_age_yr: compressed chunks of"},
+    {"lossy filter", dmg_lossy_filter, HRT_E_FORMAT, "metallicity/0/log_age_yr: stored through HDF5 filter 6"},
+    {"compression bomb in one chunk", dmg_bomb_chunk, HRT_E_FORMAT,
+     "a stream that inflates beyond its chunk"},
 };
 
 START_TEST(test_damaged_files)

@@ -85,6 +85,16 @@ HRT_API int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const dou
 HRT_API int hrt_builder_set_attribute(hrt_builder *b, const char *name, const char *value,
                                       hrt_error *err);
 /**
+ * @brief Set how the numeric datasets of the file are stored: level 1..9
+ * shuffles and deflates them (zlib's level: 1 fastest, 9 smallest), 0
+ * stores them uncompressed.  The default is 4.  Either way each dataset is
+ * chunked and carries a Fletcher-32 checksum, and a grid reads back the
+ * same values bit for bit (tracks/FORMAT.md, "Storage").
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (level not
+ * in 0..9).
+ */
+HRT_API int hrt_builder_set_compression(hrt_builder *b, int level, hrt_error *err);
+/**
  * @brief Write the grid to path (tracks/FORMAT.md, version HRT_FORMAT_VERSION).
  * The file is written under a temporary name in the same directory and
  * renamed over path only when complete, so a failure leaves any previous

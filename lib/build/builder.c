@@ -128,6 +128,7 @@ int hrt_builder_new(size_t n_routes, const hrt_route_spec *routes, double z_ref,
     if (!b)
         return trail_set_error(err, HRT_E_NOMEM, "hrt_builder_new: out of memory");
     b->z_ref = z_ref;
+    b->deflate = TRAIL_DEFLATE_DEFAULT;
     int rc = HRT_OK;
     for (size_t r = 0; r < n_routes && rc == HRT_OK; r++)
         rc = copy_route(b, r, &routes[r], err);

@@ -37,6 +37,7 @@ struct hrt_builder {
     trail_z_group *grp;
     size_t n_attrs;
     attr_pair *attrs;
+    int deflate; /* deflate level of the file's numeric data, 0: not compressed */
 };
 
 #endif

@@ -1,6 +1,9 @@
 /* Writing the grid a builder holds: checks across tracks, route boundaries
  * where none were set, and the HDF5 file of tracks/FORMAT.md, built in
- * memory and written atomically under its final name. */
+ * memory and written atomically under its final name.  Every dataset is
+ * described for other readers (h5py, xarray): long_name, units, and HDF5
+ * dimension scales naming its dimensions (track, eep, ...); numeric data
+ * are chunked, shuffled and deflated, with Fletcher-32 checksums. */
 #include <errno.h>
 #include <math.h>
 #include <stdio.h>
@@ -10,6 +13,7 @@
 #include <unistd.h>
 
 #include <hdf5.h>
+#include <hdf5_hl.h>
 
 #include "build/build.h"
 #include "build/builder.h"
@@ -101,11 +105,13 @@ static int prepare_write(hrt_builder *b, hrt_error *err)
 
 /* ---- HDF5 objects ---------------------------------------------------------- */
 
-/* Property lists and string type of one file; failed is set by any HDF5
- * call that fails, and the file is then not written. */
+/* Property lists and string type of one file, and the deflate level
+ * (0: none); failed is set by any HDF5 call that fails, and the file is
+ * then not written. */
 typedef struct wctx {
     hid_t dcpl, gcpl, str_t;
-    int failed;
+    int deflate;
+    int failed, nomem; /* nomem: what failed was our own allocation */
 } wctx;
 
 static void w_text_attr(wctx *w, hid_t loc, const char *name, const char *value)
@@ -131,27 +137,46 @@ static void w_num_attr(wctx *w, hid_t loc, const char *name, hid_t type, const v
     H5Sclose(s);
 }
 
-static void w_strings(wctx *w, hid_t loc, const char *name, size_t n, const char *const *v)
+static void w_strings(wctx *w, hid_t loc, const char *name, size_t n, const char *const *v, const char *meaning)
 {
     hsize_t d[1] = {n};
     hid_t s = H5Screate_simple(1, d, NULL);
     hid_t ds = H5Dcreate2(loc, name, w->str_t, s, H5P_DEFAULT, w->dcpl, H5P_DEFAULT);
     if (ds < 0 || H5Dwrite(ds, w->str_t, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) < 0)
         w->failed = 1;
-    if (ds >= 0)
+    if (ds >= 0) {
+        w_text_attr(w, ds, "long_name", meaning);
         H5Dclose(ds);
+    }
     H5Sclose(s);
+}
+
+/* Storage of a numeric dataset: chunks of whole rows of at most
+ * TRAIL_MAX_CHUNK_BYTES (the reader's cap for compressed data), then
+ * shuffle and deflate when compressing, and always a Fletcher-32 checksum,
+ * which the reader requires and HDF5 verifies on every read (a flipped
+ * bit is refused). */
+static hid_t w_storage(wctx *w, int rank, const hsize_t *dims, size_t value_bytes)
+{
+    hsize_t chunk[2] = {dims[0], rank > 1 ? dims[1] : 1};
+    hsize_t rows = TRAIL_MAX_CHUNK_BYTES / (chunk[1] * value_bytes);
+    if (chunk[0] > rows)
+        chunk[0] = rows > 0 ? rows : 1;
+    if (chunk[0] == 0)
+        chunk[0] = 1;
+    hid_t dcpl = H5Pcopy(w->dcpl);
+    if (dcpl < 0 || H5Pset_chunk(dcpl, rank, chunk) < 0 ||
+        (w->deflate > 0 && (H5Pset_shuffle(dcpl) < 0 || H5Pset_deflate(dcpl, (unsigned)w->deflate) < 0)) ||
+        H5Pset_fletcher32(dcpl) < 0)
+        w->failed = 1;
+    return dcpl;
 }
 
 static void w_data(wctx *w, hid_t loc, const char *name, int rank, const hsize_t *dims, int is_int,
                    const void *v, const char *units, const char *meaning)
 {
     hid_t s = H5Screate_simple(rank, dims, NULL);
-    /* one chunk with a Fletcher-32 checksum: the reader requires it, and
-     * HDF5 verifies it on every read (a flipped bit is refused) */
-    hid_t dcpl = H5Pcopy(w->dcpl);
-    if (dcpl < 0 || H5Pset_chunk(dcpl, rank, dims) < 0 || H5Pset_fletcher32(dcpl) < 0)
-        w->failed = 1;
+    hid_t dcpl = w_storage(w, rank, dims, is_int ? sizeof(int32_t) : sizeof(double));
     hid_t ds = H5Dcreate2(loc, name, is_int ? H5T_STD_I32LE : H5T_IEEE_F64LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
     if (dcpl >= 0)
         H5Pclose(dcpl);
@@ -165,6 +190,50 @@ static void w_data(wctx *w, hid_t loc, const char *name, int rank, const hsize_t
         H5Dclose(ds);
     }
     H5Sclose(s);
+}
+
+/* ---- dimension scales ------------------------------------------------------ */
+
+/* Dimension scale `name` under loc: the indices 0..n-1 (n >= 1), a
+ * dataset HDF5 marks as the scale of a dimension of that name (h5py's
+ * dims, netCDF-4 and xarray read it as the dimension). */
+static void w_scale(wctx *w, hid_t loc, const char *name, size_t n, const char *meaning)
+{
+    int *idx = malloc((n + 1) * sizeof *idx);
+    if (!idx) {
+        w->failed = w->nomem = 1;
+        return;
+    }
+    for (size_t i = 0; i < n; i++)
+        idx[i] = (int)i;
+    hsize_t d[1] = {n};
+    w_data(w, loc, name, 1, d, 1, idx, NULL, meaning);
+    free(idx);
+    hid_t ds = w->failed ? -1 : H5Dopen2(loc, name, H5P_DEFAULT);
+    if (ds < 0 || H5DSset_scale(ds, name) < 0)
+        w->failed = 1;
+    if (ds >= 0)
+        H5Dclose(ds);
+}
+
+/* Attach to dataset `name` under loc the scales (datasets under
+ * scale_loc) of its dimensions, in order; a NULL scale leaves the rest. */
+static void w_dims(wctx *w, hid_t loc, const char *name, hid_t scale_loc, const char *dim0, const char *dim1)
+{
+    const char *dim[2] = {dim0, dim1};
+    hid_t ds = w->failed ? -1 : H5Dopen2(loc, name, H5P_DEFAULT);
+    if (ds < 0) {
+        w->failed = 1;
+        return;
+    }
+    for (unsigned k = 0; k < 2 && dim[k]; k++) {
+        hid_t sc = H5Dopen2(scale_loc, dim[k], H5P_DEFAULT);
+        if (sc < 0 || H5DSattach_scale(ds, sc, k) < 0)
+            w->failed = 1;
+        if (sc >= 0)
+            H5Dclose(sc);
+    }
+    H5Dclose(ds);
 }
 
 /* A dataset of the schema, with its units and meaning. */
@@ -203,8 +272,16 @@ static void w_code_table(wctx *w, hid_t f, const char *group, size_t n, int (*co
         name[i] = name_of(code[i]);
     }
     w_data(w, g, "code", 1, d, 1, code, NULL, "hrtrail code stored in the datasets");
-    w_strings(w, g, "key", n, key);
-    w_strings(w, g, "name", n, name);
+    w_strings(w, g, "key", n, key, "hrtrail key of each code");
+    w_strings(w, g, "name", n, name, "name of each code");
+    /* the codes are the dimension (and its coordinate) of the table */
+    hid_t c = w->failed ? -1 : H5Dopen2(g, "code", H5P_DEFAULT);
+    if (c < 0 || H5DSset_scale(c, "code") < 0)
+        w->failed = 1;
+    if (c >= 0)
+        H5Dclose(c);
+    w_dims(w, g, "key", g, "code", NULL);
+    w_dims(w, g, "name", g, "code", NULL);
     H5Gclose(g);
 }
 
@@ -243,9 +320,15 @@ static void write_route(const route_layout *L, hid_t sub, wctx *w)
                 seg[k] = (int)(L->kp_eep[k + 1] - L->kp_eep[k]);
         }
         hsize_t dims_kp[1] = {L->n_kp}, dims_seg[1] = {L->n_kp - 1};
-        w_strings(w, sub, "keypoint_names", L->n_kp, (const char *const *)L->kp_names);
+        w_strings(w, sub, "keypoint_names", L->n_kp, (const char *const *)L->kp_names,
+                  "keypoints of the route, in order");
         w_data(w, sub, "keypoint_eep", 1, dims_kp, 1, kp_eep, NULL, "EEP index of each keypoint");
         w_data(w, sub, "segment_samples", 1, dims_seg, 1, seg, NULL, "EEPs in each segment");
+        w_scale(w, sub, "keypoint", L->n_kp, "index of a keypoint of the route");
+        w_scale(w, sub, "segment", L->n_kp - 1, "index of a segment: from keypoint k to keypoint k+1");
+        w_dims(w, sub, "keypoint_names", sub, "keypoint", NULL);
+        w_dims(w, sub, "keypoint_eep", sub, "keypoint", NULL);
+        w_dims(w, sub, "segment_samples", sub, "segment", NULL);
     }
     if (kp_eep != kp_stack)
         free(kp_eep);
@@ -262,7 +345,11 @@ static void write_routes(const hrt_builder *b, hid_t f, wctx *w)
         names[r] = b->routes[r].name;
     if (rg < 0)
         return;
-    w_strings(w, rg, "names", b->n_routes, names);
+    w_strings(w, rg, "names", b->n_routes, names, "route names in order of increasing initial mass");
+    /* the route dimension lives at the root: routes/ holds a group per
+     * route, of any name */
+    w_scale(w, f, "route", b->n_routes, "route index: position in routes/names");
+    w_dims(w, rg, "names", f, "route", NULL);
     for (size_t r = 0; r < b->n_routes && !w->failed; r++) {
         hid_t sub = w_group(w, rg, b->routes[r].name);
         if (sub < 0)
@@ -319,6 +406,45 @@ static void write_eep_tables(const hrt_builder *b, const trail_z_group *g, hid_t
     w_named(w, gg, &S->phase, 2, dims_table, 1, codes);
 }
 
+/* A text attribute on dataset `name` under loc. */
+static void w_dataset_attr(wctx *w, hid_t loc, const char *name, const char *attr, const char *value)
+{
+    hid_t ds = w->failed ? -1 : H5Dopen2(loc, name, H5P_DEFAULT);
+    if (ds < 0) {
+        w->failed = 1;
+        return;
+    }
+    w_text_attr(w, ds, attr, value);
+    H5Dclose(ds);
+}
+
+/* The dimensions of group g's datasets (track, eep, route_boundary), and
+ * the initial mass of each track as a coordinate of the track dimension
+ * (CF's `coordinates` attribute, which xarray follows). */
+static void write_group_dims(const hrt_builder *b, const trail_z_group *g, hid_t gg, wctx *w)
+{
+    const trail_schema *S = &trail_schema_names;
+    const char *coord = S->initial_mass.v2;
+    w_scale(w, gg, "track", g->n, "index of a track in its metallicity group, in order of initial mass");
+    w_scale(w, gg, "eep", b->n_eep_max, "EEP index: the same evolutionary stage on every track of a route");
+    w_dims(w, gg, coord, gg, "track", NULL);
+    const trail_name *per_track[] = {&S->route, &S->n_eep, &S->remnant, &S->remnant_mass};
+    for (size_t k = 0; k < sizeof per_track / sizeof *per_track; k++) {
+        w_dims(w, gg, per_track[k]->v2, gg, "track", NULL);
+        w_dataset_attr(w, gg, per_track[k]->v2, "coordinates", coord);
+    }
+    for (int q = 0; q <= TRAIL_NF; q++) {
+        const char *name = q < TRAIL_NF ? S->eep[q].v2 : S->phase.v2;
+        w_dims(w, gg, name, gg, "track", "eep");
+        w_dataset_attr(w, gg, name, "coordinates", coord);
+    }
+    if (b->n_routes > 1) {
+        w_scale(w, gg, "route_boundary", b->n_routes - 1,
+                "index b of the route boundary between route b and route b+1");
+        w_dims(w, gg, S->boundary.v2, gg, "route_boundary", NULL);
+    }
+}
+
 /* metallicity/<gi>/: the group's Z, its tracks and their tables.  Only out
  * of memory is returned; HDF5 failures set w->failed. */
 static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_error *err)
@@ -341,6 +467,7 @@ static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_e
     }
     write_track_list(b, g, gg, w, values, codes);
     write_eep_tables(b, g, gg, w, values, codes);
+    write_group_dims(b, g, gg, w);
     free(values);
     free(codes);
     H5Gclose(gg);
@@ -360,6 +487,8 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
     H5Gclose(mg);
     if (rc != HRT_OK)
         return rc;
+    if (w->nomem)
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory writing the grid's dimension scales");
     return w->failed ? trail_set_error(err, HRT_E_IO, "HDF5 refused to write part of the grid") : HRT_OK;
 }
 
@@ -374,7 +503,7 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
 static int make_image(const hrt_builder *b, const char *tmp, void **img, ssize_t *img_size, hrt_error *err)
 {
     int rc = HRT_OK;
-    wctx w = {-1, -1, -1, 0};
+    wctx w = {-1, -1, -1, b->deflate, 0, 0};
     H5E_BEGIN_TRY
     {
         w.dcpl = H5Pcreate(H5P_DATASET_CREATE);
@@ -427,6 +556,16 @@ static int write_image(int fd, const char *tmp, const void *img, ssize_t img_siz
             done += (size_t)k;
     }
     return rc;
+}
+
+int hrt_builder_set_compression(hrt_builder *b, int level, hrt_error *err)
+{
+    if (!b)
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_set_compression: builder is NULL");
+    if (level < 0 || level > 9)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_builder_set_compression: level %d is not in 0..9", level);
+    b->deflate = level;
+    return trail_set_error(err, HRT_OK, NULL);
 }
 
 int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)

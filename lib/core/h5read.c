@@ -198,10 +198,103 @@ static int check_storage(hid_t d, hid_t t, hssize_t points, const char *where, c
     return HRT_OK;
 }
 
+/* ---- filters: what a dataset's storage may ask the reader to undo --------- */
+
+/* Chunks of a compressed dataset: at most this many per KiB declared (h5py
+ * makes chunks of 8 KiB or more), so that checking each is quick. */
+#define MAX_CHUNKS_PER_KIB 1.0
+#define MAX_CHUNKS_SLACK 64.0
+
+/* Every chunk of a deflated dataset stores at most what deflate makes of
+ * the chunk's bytes at worst (zlib's deflateBound: a stored block every
+ * 16 KiB, the stream's header and trailer), plus the checksum: a chunk
+ * storing more is a stream that inflates beyond the chunk (a compression
+ * bomb), which HDF5 1.10 would inflate whole before noticing. */
+static int check_chunks(hid_t d, int rank, const hsize_t *dims, const hsize_t *chunk, double chunk_bytes,
+                        const char *where, const char *name, hrt_error *err)
+{
+    double n_chunks = 1.0, declared = chunk_bytes;
+    hsize_t per[8], off[8] = {0};
+    for (int k = 0; k < rank; k++) {
+        per[k] = (dims[k] + chunk[k] - 1) / chunk[k];
+        n_chunks *= (double)per[k];
+        declared *= (double)per[k];
+    }
+    if (n_chunks > MAX_CHUNKS_PER_KIB * declared / 1024.0 + MAX_CHUNKS_SLACK)
+        return trail_set_error(err, HRT_E_FORMAT, "%s/%s: %.0f compressed chunks of %.0f bytes: too many to check",
+                               where, name, n_chunks, chunk_bytes);
+    double most = chunk_bytes + chunk_bytes / 1024.0 + 64.0;
+    for (double c = 0; c < n_chunks; c++) {
+        hsize_t stored = 0;
+        /* a chunk never written (the fill value) has no storage */
+        if (H5Dget_chunk_storage_size(d, off, &stored) >= 0 && (double)stored > most)
+            return trail_set_error(err, HRT_E_FORMAT,
+                                   "%s/%s: a compressed chunk of %.0f bytes stores %.0f (a stream that inflates "
+                                   "beyond its chunk)", where, name, chunk_bytes, (double)stored);
+        for (int k = rank - 1; k >= 0; k--) { /* next chunk, last dimension fastest */
+            off[k] += chunk[k];
+            if (off[k] < dims[k])
+                break;
+            off[k] = 0;
+        }
+    }
+    return HRT_OK;
+}
+
+/* The filters of a dataset's storage: only those whose output the reader
+ * can bound (Fletcher-32, shuffle, deflate, each at most once); a deflated
+ * dataset has chunks of at most TRAIL_MAX_CHUNK_BYTES, each storing no more
+ * than deflate makes of it. */
+static int check_filters(hid_t d, hid_t t, const char *where, const char *name, hrt_error *err)
+{
+    hid_t dcpl = H5Dget_create_plist(d);
+    int n = dcpl >= 0 ? H5Pget_nfilters(dcpl) : -1, rc = HRT_OK, deflated = 0, seen[3] = {0, 0, 0};
+    if (n < 0)
+        rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: storage properties cannot be read", where, name);
+    for (int i = 0; i < n && rc == HRT_OK; i++) {
+        unsigned flags = 0, config = 0, cd[8];
+        size_t ncd = 8;
+        char fname[64] = "";
+        H5Z_filter_t id = H5Pget_filter2(dcpl, (unsigned)i, &flags, &ncd, cd, sizeof fname, fname, &config);
+        int k = id == H5Z_FILTER_FLETCHER32 ? 0 : id == H5Z_FILTER_SHUFFLE ? 1 : id == H5Z_FILTER_DEFLATE ? 2 : -1;
+        if (k < 0 || seen[k]++)
+            rc = trail_set_error(err, HRT_E_FORMAT,
+                                 "%s/%s: stored through HDF5 filter %d ('%.40s')%s; hrtrail reads data stored "
+                                 "with shuffle, deflate and Fletcher-32, each at most once",
+                                 where, name, (int)id, fname, k < 0 ? "" : " twice");
+        deflated |= k == 2;
+    }
+    if (rc == HRT_OK && deflated) {
+        hsize_t chunk[8], dims[8];
+        int rank = H5Pget_chunk(dcpl, 8, chunk);
+        hid_t s = H5Dget_space(d);
+        int srank = s >= 0 ? H5Sget_simple_extent_dims(s, dims, NULL) : -1;
+        double bytes = t >= 0 ? (double)H5Tget_size(t) : 0.0;
+        for (int k = 0; k < rank; k++)
+            bytes *= (double)chunk[k];
+        if (rank < 1 || rank != srank || rank > 8)
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: compressed but its chunks cannot be read", where, name);
+        else if (bytes > TRAIL_MAX_CHUNK_BYTES)
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: compressed chunks of %.0f bytes (at most %d)", where,
+                                 name, bytes, TRAIL_MAX_CHUNK_BYTES);
+        else
+            rc = check_chunks(d, rank, dims, chunk, bytes, where, name, err);
+        if (s >= 0)
+            H5Sclose(s);
+    }
+    if (dcpl >= 0)
+        H5Pclose(dcpl);
+    return rc;
+}
+
+/* Storage of dataset d: the values it declares stored (check_storage) by
+ * filters the reader can bound (check_filters). */
 static int check_dataset_storage(hid_t d, const char *where, const char *name, hrt_error *err)
 {
     hid_t t = H5Dget_type(d), s = H5Dget_space(d);
     int rc = check_storage(d, t, s >= 0 ? H5Sget_simple_extent_npoints(s) : 0, where, name, err);
+    if (rc == HRT_OK)
+        rc = check_filters(d, t, where, name, err);
     if (t >= 0)
         H5Tclose(t);
     if (s >= 0)
@@ -310,6 +403,8 @@ int trail_h5_strings(hid_t loc, const char *where, const char *name, size_t *n, 
     } else if (dims[0] == 0 || dims[0] > TRAIL_MAX_STRINGS) {
         rc = trail_set_error(err, HRT_E_FORMAT, "%s: unusable length %llu (1..%d)", what, (unsigned long long)dims[0],
                              TRAIL_MAX_STRINGS);
+    } else if ((rc = check_dataset_storage(d, where, name, err)) != HRT_OK) {
+        /* declares more than it stores, or filters the reader cannot bound */
     } else {
         hid_t t = H5Dget_type(d), s = H5Dget_space(d);
         rc = h5_read_strings(d, 0, t, s, (size_t)dims[0], out, what, err);

@@ -37,6 +37,13 @@
 #define TRAIL_MAX_GRID_VALUES 67108864.0
 /* Most entries of a string dataset (keypoint names, route names, codes). */
 #define TRAIL_MAX_STRINGS 100000
+/* Compressed numeric data: the writer's chunks hold at most this many
+ * bytes (whole rows), and the reader refuses a deflated dataset with larger
+ * chunks, so that inflating one chunk is bounded (h5py's automatic chunks
+ * are at most 1 MiB too).  Deflate level the builder writes by default
+ * (h5py's default gzip level). */
+#define TRAIL_MAX_CHUNK_BYTES 1048576
+#define TRAIL_DEFLATE_DEFAULT 4
 
 /* Plausibility bounds the reader enforces and the builder too: log10
  * values within +-TRAIL_MAX_LOG_ABS, current, core and remnant masses at

@@ -2,6 +2,7 @@
  *
  *   bench [GRID.h5]      default: a synthetic grid of 6 metallicities x 50
  *                        masses x ~600 EEPs written to a temporary file
+ *   bench --open-only GRID.h5...   only the open time of each grid
  *
  * Figures: hrt_eval at one grid metallicity and at random Z, hrt_star_at,
  * hrt_isochrone, grid open, 2 threads against 1, growth with 10x masses,
@@ -120,31 +121,75 @@ static double time_threads(const hrt_grid *g, batch *b, int nt)
     return best;
 }
 
-static hrt_grid *open_timed(const char *path, double *ms)
+static double thread_cpu(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_THREAD_CPUTIME_ID, &ts);
+    return ts.tv_sec + 1e-9 * ts.tv_nsec;
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* Grid open times over OPEN_RUNS opens: the calling thread's CPU time (HDF5
+ * reads, decompresses and checks on this thread; other engineers' load on
+ * a shared machine barely moves it), its minimum and median, and the
+ * minimum wall time. */
+#define OPEN_RUNS 11
+typedef struct open_times {
+    double cpu_min_ms, cpu_median_ms, wall_min_ms;
+} open_times;
+
+static hrt_grid *open_timed(const char *path, open_times *ot)
 {
     hrt_grid *g = NULL;
     hrt_error e;
-    double best = 1e30;
-    for (int r = 0; r < 5; r++) {
+    double cpu[OPEN_RUNS], wall = 1e30;
+    for (int r = 0; r < OPEN_RUNS; r++) {
         if (g)
             hrt_grid_close(g);
-        double t0 = now();
+        double t0 = now(), c0 = thread_cpu();
         if (hrt_grid_open(path, &g, &e) != HRT_OK) {
             fprintf(stderr, "bench: %s\n", e.message);
             exit(1);
         }
+        cpu[r] = thread_cpu() - c0;
         double t = now() - t0;
-        if (t < best)
-            best = t;
+        if (t < wall)
+            wall = t;
     }
-    *ms = best * 1e3;
+    qsort(cpu, OPEN_RUNS, sizeof *cpu, cmp_double);
+    *ot = (open_times){cpu[0] * 1e3, cpu[OPEN_RUNS / 2] * 1e3, wall * 1e3};
     return g;
+}
+
+static void print_open(const char *what, const open_times *ot)
+{
+    printf("%-37s %8.2f ms   (thread CPU, min of %d; median %.2f ms; wall min %.2f ms; target <= 50 ms)\n", what,
+           ot->cpu_min_ms, OPEN_RUNS, ot->cpu_median_ms, ot->wall_min_ms);
+}
+
+/* bench --open-only GRID...: only the open times of each grid. */
+static int open_only(int n, char **paths)
+{
+    for (int i = 0; i < n; i++) {
+        open_times ot;
+        hrt_grid_close(open_timed(paths[i], &ot));
+        printf("grid: %s\n", paths[i]);
+        print_open("open + validate + precompute", &ot);
+    }
+    return 0;
 }
 
 int main(int argc, char **argv)
 {
     char tmp[] = "/tmp/hrt-bench-XXXXXX";
     char path[128], path10[128];
+    if (argc > 1 && strcmp(argv[1], "--open-only") == 0)
+        return open_only(argc - 2, argv + 2);
     const char *grid = argc > 1 ? argv[1] : NULL;
     if (!mkdtemp(tmp))
         return 1;
@@ -167,8 +212,8 @@ int main(int argc, char **argv)
         return 1;
     }
 
-    double open_ms;
-    hrt_grid *g = open_timed(grid, &open_ms);
+    open_times open_t;
+    hrt_grid *g = open_timed(grid, &open_t);
     size_t nm = 0, jmax = 0;
     for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++)
         nm += hrt_grid_n_masses(g, iz);
@@ -177,7 +222,7 @@ int main(int argc, char **argv)
             jmax = hrt_grid_route_n_eep(g, r);
     printf("grid: %s\n  %zu metallicities, %zu tracks, %zu EEPs max, %.1f MB in memory\n", grid, hrt_grid_n_z(g), nm,
            jmax, hrt_grid_memory_bytes(g) / 1e6);
-    printf("open + validate + precompute          %8.2f ms   (target <= 50 ms)\n", open_ms);
+    print_open("open + validate + precompute", &open_t);
 
     const size_t N = 1000000;
     batch b1, bz;
@@ -228,7 +273,7 @@ int main(int argc, char **argv)
     printf("2 threads against 1 (shared grid)     %8.2f x    (target >= 1.7; %ld cores online)\n", t1 / t2,
            sysconf(_SC_NPROCESSORS_ONLN));
 
-    double open10;
+    open_times open10;
     hrt_grid *g10 = open_timed(path10, &open10);
     batch b10;
     make_batch(g10, &b10, N, 0, 1234567);
@@ -236,7 +281,7 @@ int main(int argc, char **argv)
     make_batch(g, &b1s, N, 0, 1234567);
     double ns_base = time_eval(g, &b1s, 5), ns10 = time_eval(g10, &b10, 5);
     printf("10x more masses (%zu tracks): cost    %8.2f x    (target <= 1.5; open %.1f ms)\n",
-           hrt_grid_n_masses(g10, 0) * hrt_grid_n_z(g10), ns10 / ns_base, open10);
+           hrt_grid_n_masses(g10, 0) * hrt_grid_n_z(g10), ns10 / ns_base, open10.cpu_min_ms);
     hrt_grid_close(g10);
     free_batch(&b10);
     free_batch(&b1s);

@@ -104,6 +104,7 @@ def load():
         "hrt_builder_add_eep_track": (i, [vp, d, ctypes.POINTER(HrtTrackData), err]),
         "hrt_builder_set_route_boundaries": (i, [vp, d, _DP, err]),
         "hrt_builder_set_attribute": (i, [vp, cp, cp, err]),
+        "hrt_builder_set_compression": (i, [vp, i, err]),
         "hrt_builder_write": (i, [vp, cp, err]),
         "hrt_grid_upgrade": (i, [cp, cp, err]),
     }
