@@ -10,10 +10,8 @@ semi-analytic model built from published relations (tracks/MODEL.md), meant
 for population-level work, not precision stellar physics.
 """
 import collections
-import os
-import concurrent.futures
 import ctypes
-import re as _re
+import os
 import weakref
 
 from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
@@ -29,6 +27,29 @@ except ImportError:  # NumPy is optional: scalar calls work without it
 #: NumPy dtype of hrt_state, field for field (names, offsets, itemsize 200 bytes).
 #: Arrays of this dtype are handed to the library as they are: no per-star copy.
 STATE_DTYPE = _np.dtype(HrtState) if _np is not None else None
+
+if _np is not None:
+    class States(_np.ndarray):
+        """A NumPy array of STATE_DTYPE (what Grid.evaluate, Grid.isochrone and Star.track return),
+        with conversions: to_pandas() (a DataFrame, phase and remnant as categoricals) and
+        to_table() (an astropy QTable with units).  Otherwise a plain ndarray: fields by name
+        (states["log_l_lsun"]), slicing, the library's own bytes."""
+
+        def to_pandas(self):
+            """A pandas DataFrame (hrtrail.to_pandas)."""
+            from .convert import to_pandas
+            return to_pandas(self)
+
+        def to_table(self):
+            """An astropy QTable with units (hrtrail.to_table)."""
+            from .convert import to_table
+            return to_table(self)
+else:  # pragma: no cover
+    States = None
+
+
+def _states(a):
+    return a.view(States) if States is not None and isinstance(a, _np.ndarray) else a
 
 _STATE_SIZE = ctypes.sizeof(HrtState)
 _FLOAT_FIELDS = [n for n, t in HrtState._fields_ if t is ctypes.c_double]
@@ -209,12 +230,20 @@ class Grid(_Owned):
         h = ctypes.c_void_p()
         e, pe = new_error()
         cpath = None if path is None else _u.path(path)
-        check(lib.hrt_grid_open_with(cpath, int(it), ctypes.byref(h), pe), e, "opening grid")
+        if it == 0:  # hrt_grid_open is hrt_grid_open_with(path, HRT_INTERP_STEFFEN, ...)
+            check(lib.hrt_grid_open(cpath, ctypes.byref(h), pe), e, "opening grid")
+        else:
+            check(lib.hrt_grid_open_with(cpath, int(it), ctypes.byref(h), pe), e, "opening grid")
         self._h = h
         self.path = os.fsdecode(cpath) if path is not None else text(lib.hrt_default_grid_path())
         """Path of the grid file."""
 
     _what = "grid"
+
+    def __reduce__(self):
+        """A grid pickles as its path and interpolation type: unpickling opens the file again
+        (in a worker process, say), so the file must be readable there."""
+        return (Grid, (self.path, self.interp.key))
 
     def _free(self, h):
         """Every Star made from the grid goes first (close() frees both)."""
@@ -291,6 +320,26 @@ class Grid(_Owned):
         h = self._handle
         return tuple(lib.hrt_grid_route_boundary(h, iz, b) for b in range(lib.hrt_grid_n_routes(h) - 1))
 
+    def boundary_at(self, z, b):
+        """Route-boundary mass b (Msun) at metallicity z: stars above it follow route b + 1 (hrt_grid_boundary_at)."""
+        m = ctypes.c_double()
+        e = lib.hrt_grid_boundary_at(self._handle, _u.value(z, "fraction", "z"), int(b), ctypes.byref(m))
+        check(e, None, "hrt_grid_boundary_at(Z = %r, %d)" % (z, b))
+        return m.value
+
+    def tracks(self, iz):
+        """Tracks of metallicity group iz: list of (initial mass Msun, route index, number of valid EEPs)."""
+        h = self._handle
+        if not 0 <= iz < lib.hrt_grid_n_z(h):
+            raise IndexError("metallicity group %d out of range" % iz)
+        return [(lib.hrt_grid_mass(h, iz, i), lib.hrt_grid_track_route(h, iz, i), lib.hrt_grid_track_n_eep(h, iz, i))
+                for i in range(lib.hrt_grid_n_masses(h, iz))]
+
+    def route_n_eep(self, route):
+        """Number of EEPs in the layout of a route (index or name)."""
+        r = self.routes.index(route) if isinstance(route, str) else int(route)
+        return lib.hrt_grid_route_n_eep(self._handle, r)
+
     def attribute(self, name):
         """A text root attribute of the file ('description', 'source', ...), or None."""
         return text(lib.hrt_grid_attribute(self._handle, name.encode()))
@@ -333,8 +382,9 @@ class Grid(_Owned):
         errors     "raise": raise the first failing star's error (message names its
                    index; the states are attached as exc.states); "ignore": return
                    anyway, each star's code in states["status"] (failed stars NaN)
-        threads    split the batch over this many threads (the library is
-                   thread-safe on a shared grid; results are identical)
+        threads    threads of the library's hrt_eval_parallel (0: as many as OpenMP
+                   offers, hrtrail.max_threads()); 1 (default) is hrt_eval itself.
+                   The states, code and message are identical bit for bit.
         Returns a NumPy structured array of STATE_DTYPE: the library's output
         itself, fields as in State (states["log_l_lsun"], states["phase"], ...).
         Without NumPy, sequences are accepted and a list of State is returned.
@@ -366,38 +416,22 @@ class Grid(_Owned):
         n = m.size
         pm, pa, po = m.ctypes.data, a.ctypes.data, out.ctypes.data
         pz = zz.ctypes.data if zz is not None else None
-        threads = max(1, min(int(threads), n // 1024 or 1))
+        if isinstance(threads, bool) or not isinstance(threads, (int, _np.integer)) or threads < 0:
+            raise InvalidInputError(Status.DOMAIN, "threads: a whole number >= 0 expected, not %r" % (threads,))
+        e, pe = new_error()
         if threads == 1:
-            e, pe = new_error()
             rc = lib.hrt_eval(h, n, pm, pz, z_all, pa, po, pe)
-            failures = [(rc, e)]
         else:
-            bounds = [n * k // threads for k in range(threads + 1)]
-
-            def part(k):
-                s, c = bounds[k], bounds[k + 1] - bounds[k]
-                e, pe = new_error()
-                rc = lib.hrt_eval(h, c, pm + 8 * s, None if pz is None else pz + 8 * s, z_all,
-                                  pa + 8 * s, po + _STATE_SIZE * s, pe)
-                return rc, e, s
-
-            with concurrent.futures.ThreadPoolExecutor(threads) as ex:
-                res = list(ex.map(part, range(threads)))
-            failures = [(rc, e) for rc, e, s in res if rc != 0]
-            if failures:  # a chunk's message counts stars from the chunk's start
-                rc, e, s = next(r for r in res if r[0] != 0)
-                msg = _re.sub(rb"^star (\d+):", lambda mt: b"star %d:" % (int(mt.group(1)) + s),
-                              e.message)
-                e.message = msg[:255]
-                failures = [(rc, e)]
+            rc = lib.hrt_eval_parallel(h, n, pm, pz, z_all, pa, po, int(threads), pe)
+        failures = [(rc, e)]
         rc, e = failures[0] if failures else (0, None)
         if rc != 0 and errors == "raise":
             try:
                 check(rc, e, "hrt_eval")
             except Exception as exc:
-                exc.states = out
+                exc.states = _states(out)
                 raise
-        return out
+        return _states(out)
 
     def _evaluate_plain(self, mass_msun, age_yr, z, errors):
         m = [_u.value(x, "mass", "mass_msun") for x in mass_msun]
@@ -457,7 +491,7 @@ class Grid(_Owned):
                 cap = n.value
                 continue
             check(rc, e, "hrt_isochrone")
-            return out[:n.value].copy() if n.value < cap else out
+            return _states(out[:n.value].copy() if n.value < cap else out)
 
     def star(self, mass_msun, z):
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""
@@ -550,7 +584,7 @@ class Star(_Owned):
         base = out.ctypes.data
         for j in range(n):  # one call per EEP: a few hundred at most
             check(lib.hrt_star_eep_state(h, j, base + j * _STATE_SIZE), None, "hrt_star_eep_state(%d)" % j)
-        return out
+        return _states(out)
 
     def phases(self):
         """The star's timetable: list of PhaseSpan(phase, phase_start_yr, phase_end_yr), remnant included."""
@@ -587,14 +621,27 @@ class Star(_Owned):
 def wd_radius_rsun(mass_msun):
     """White dwarf radius (Rsun) at mass (Msun), zero-temperature mass-radius relation
     of Eggleton (quoted by Verbunt & Rappaport 1988, ApJ 332, 193); NaN outside (0, 1.44)."""
-    return lib.hrt_wd_radius_rsun(float(mass_msun))
+    return lib.hrt_wd_radius_rsun(_u.value(mass_msun, "mass", "mass_msun"))
 
 
 def wd_log_l(mass_msun, kind, log_l0, dt_yr):
     """log10 L/Lsun of a white dwarf of mass (Msun) and kind (Remnant HE_WD/CO_WD/ONE_WD)
     dt_yr years after cooling began at log10 L/Lsun = log_l0, by Mestel's (1952, MNRAS 112,
     583) law; accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun."""
-    return lib.hrt_wd_log_l(float(mass_msun), int(kind), float(log_l0), float(dt_yr))
+    return lib.hrt_wd_log_l(_u.value(mass_msun, "mass", "mass_msun"), int(kind), _u.value(log_l0, "fraction", "log_l0"),
+                            _u.value(dt_yr, "age", "dt_yr"))
+
+
+def collapse_remnant(co_core_mass_msun, final_mass_msun):
+    """Remnant of core collapse from the final CO core and total masses (Msun): RemnantInfo(Remnant.NS or
+    Remnant.BH, gravitational mass Msun) by the "delayed" prescription of Fryer et al. (2012, ApJ 749, 91) as
+    hrt_collapse_remnant applies it (good to a factor of about 2 for black holes).  InvalidInputError for
+    masses not finite, negative, or a core heavier than the star."""
+    k, m = ctypes.c_int(), ctypes.c_double()
+    check(lib.hrt_collapse_remnant(_u.value(co_core_mass_msun, "mass", "co_core_mass_msun"),
+                                   _u.value(final_mass_msun, "mass", "final_mass_msun"), ctypes.byref(k),
+                                   ctypes.byref(m)), None, "hrt_collapse_remnant")
+    return RemnantInfo(Remnant(k.value), m.value)
 
 
 def upgrade_grid(old_path, new_path):
