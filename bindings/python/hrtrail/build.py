@@ -14,7 +14,10 @@ import collections
 import ctypes
 from typing import Callable, List, Optional, Sequence
 
-import numpy as _np
+try:
+    import numpy as _np
+except ImportError:  # NumPy is needed by these calls, not by importing the package
+    _np = None
 
 from ._clib import (IMPORT_MAX_KP, KP_COLUMNS, PROGRESS_FN, HrtImportRowReport, HrtImportTrackReport, HrtKpColumns,
                     HrtKpResult, HrtRouteSpec, HrtTrackData, lib, text)

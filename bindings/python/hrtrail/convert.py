@@ -13,7 +13,10 @@ is L in solar luminosities (astropy's solLum is the IAU 2015 nominal value,
 as hrtrail's).  pandas (python3-pandas) and astropy (python3-astropy) are
 needed only by these functions.
 """
-import numpy as _np
+try:
+    import numpy as _np
+except ImportError:  # needed by these calls only
+    _np = None
 
 from .enums import Phase, Remnant, Status
 

@@ -11,11 +11,12 @@ for population-level work, not precision stellar physics.
 """
 import collections
 import ctypes
+import numbers
 import os
 import weakref
 
 from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
-from .enums import Flag, Phase, Remnant, Status, as_interp
+from .enums import Flag, Phase, Remnant, Status, as_interp, phase_from_key
 from . import units as _u
 from .errors import InvalidInputError, check, error_for, new_error
 
@@ -165,8 +166,8 @@ def _phase_mask(phases):
     mask = 0
     for p in phases:
         try:
-            code = Phase[p.upper()] if isinstance(p, str) else Phase(int(p))
-        except (KeyError, ValueError):
+            code = phase_from_key(p) if isinstance(p, str) else Phase(int(p))
+        except (KeyError, ValueError, AttributeError):
             raise InvalidInputError(Status.INVALID, "%r is not a phase (a Phase, its code or its key)" % (p,)) \
                 from None
         mask |= 1 << int(code)
@@ -407,7 +408,7 @@ class Grid(_Owned):
             zz = _as_f8(zz)
         m, a = _as_f8(m), _as_f8(a)
         if out is None:
-            out = _np.empty(m.shape, dtype=STATE_DTYPE)
+            out = _np.empty(m.shape, dtype=STATE_DTYPE).view(States)
         else:
             if (not isinstance(out, _np.ndarray) or out.dtype != STATE_DTYPE or out.shape != m.shape
                     or not out.flags.c_contiguous or not out.flags.writeable):
@@ -416,7 +417,7 @@ class Grid(_Owned):
         n = m.size
         pm, pa, po = m.ctypes.data, a.ctypes.data, out.ctypes.data
         pz = zz.ctypes.data if zz is not None else None
-        if isinstance(threads, bool) or not isinstance(threads, (int, _np.integer)) or threads < 0:
+        if isinstance(threads, bool) or not isinstance(threads, numbers.Integral) or threads < 0:
             raise InvalidInputError(Status.DOMAIN, "threads: a whole number >= 0 expected, not %r" % (threads,))
         e, pe = new_error()
         if threads == 1:
@@ -429,9 +430,9 @@ class Grid(_Owned):
             try:
                 check(rc, e, "hrt_eval")
             except Exception as exc:
-                exc.states = _states(out)
+                exc.states = out
                 raise
-        return _states(out)
+        return out
 
     def _evaluate_plain(self, mass_msun, age_yr, z, errors):
         m = [_u.value(x, "mass", "mass_msun") for x in mass_msun]
@@ -478,15 +479,18 @@ class Grid(_Owned):
             opt.phases = _phase_mask(phases)
         opt.phases &= ~_phase_mask(leave_out)
         if max_dlog_l is not None:
-            opt.max_dlog_l = float(max_dlog_l)
+            opt.max_dlog_l = _u.value(max_dlog_l, "fraction", "max_dlog_l")
+        defaults = phases is None and not leave_out and max_dlog_l is None
+        age, zz = _u.value(age_yr, "age", "age_yr"), _u.value(z, "fraction", "z")
         cap = 4096
         n = ctypes.c_size_t()
         while True:
             out = _np.empty(cap, dtype=STATE_DTYPE)
             e, pe = new_error()
-            rc = lib.hrt_isochrone_with(h, _u.value(age_yr, "age", "age_yr"), _u.value(z, "fraction", "z"),
-                                        ctypes.byref(opt), out.ctypes.data, cap,
-                                        ctypes.byref(n), pe)
+            if defaults:  # hrt_isochrone is hrt_isochrone_with(..., NULL, ...)
+                rc = lib.hrt_isochrone(h, age, zz, out.ctypes.data, cap, ctypes.byref(n), pe)
+            else:
+                rc = lib.hrt_isochrone_with(h, age, zz, ctypes.byref(opt), out.ctypes.data, cap, ctypes.byref(n), pe)
             if rc == Status.BUFFER and n.value > cap:
                 cap = n.value
                 continue

@@ -18,10 +18,14 @@ on the grid's tracks; the default grid's systematic errors come on top.
 import collections
 import concurrent.futures
 import ctypes
+import numbers
 import enum
 from typing import List, Optional, Sequence, Union
 
-import numpy as _np
+try:
+    import numpy as _np
+except ImportError:  # NumPy is needed by these calls, not by importing the package
+    _np = None
 
 from ._clib import (FIT_OBS_QUANTITIES, FIT_RESULT_INTERVALS, HrtFitModelOptions, HrtFitObs, HrtFitResult,
                     HrtFitSample, HrtForecastResult, HrtForecastState, lib, text)
@@ -35,7 +39,7 @@ Interval = collections.namedtuple("Interval", "median lo hi")
 Interval.__doc__ = "A posterior summary (hrt_fit_interval): median and the 15.87th (lo) and 84.13th (hi) percentiles."
 
 #: NumPy dtype of a posterior draw (struct hrt_fit_sample), field for field.
-SAMPLE_DTYPE = _np.dtype(HrtFitSample)
+SAMPLE_DTYPE = _np.dtype(HrtFitSample) if _np is not None else None
 #: Names of the mass priors (hrt_fit_mass_prior_name).
 MASS_PRIORS = ("kroupa2001", "chabrier2003", "log-flat")
 
@@ -257,9 +261,9 @@ class FitModel:
     def _fit(self, obs, seed, n_samples):
         if not isinstance(obs, Observation):
             raise InvalidInputError(Status.INVALID, "an Observation expected, not %s" % type(obs).__name__)
-        if isinstance(seed, bool) or not isinstance(seed, (int, _np.integer)) or not 0 <= seed < 2 ** 64:
+        if isinstance(seed, bool) or not isinstance(seed, numbers.Integral) or not 0 <= seed < 2 ** 64:
             raise InvalidInputError(Status.DOMAIN, "seed: a whole number in [0, 2^64) expected, not %r" % (seed,))
-        if isinstance(n_samples, bool) or not isinstance(n_samples, (int, _np.integer)) or n_samples < 0:
+        if isinstance(n_samples, bool) or not isinstance(n_samples, numbers.Integral) or n_samples < 0:
             raise InvalidInputError(Status.DOMAIN, "n_samples: a whole number >= 0 expected, not %r" % (n_samples,))
         res = HrtFitResult()
         samples = _np.zeros(int(n_samples), dtype=SAMPLE_DTYPE)

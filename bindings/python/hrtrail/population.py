@@ -18,6 +18,7 @@ and merge exactly in any order.
 """
 import collections
 import ctypes
+import numbers
 from typing import Iterable, List, Optional, Sequence, Tuple, Union
 
 from ._clib import HrtImf, HrtPopHr, HrtPopSpec, HrtPopSummary, HrtSfh, HrtZdist, POP_MAX_STATUS, lib, text
@@ -25,7 +26,10 @@ from .enums import Phase, Remnant, Status
 from .errors import InvalidInputError, check, new_error
 from . import units as _u
 
-import numpy as _np
+try:
+    import numpy as _np
+except ImportError:  # NumPy is needed by these calls, not by importing the package
+    _np = None
 
 Number = Union[float, int]
 
@@ -109,7 +113,7 @@ class IMF:
         return self._c.alpha if self._c.kind == IMF_KINDS["powerlaw"] else None
 
     def _map(self, fn, x, kind, name):
-        if _np.ndim(x) == 0 and not _u._holds_quantity(x):
+        if _np is None or (_np.ndim(x) == 0 and not _u._holds_quantity(x)):
             return fn(self._p, _u.value(x, kind, name))
         a = _u.array(x, kind, name)
         p = self._p
@@ -246,7 +250,7 @@ def _hr_c(hr):
     hr = HRBinning(*hr)
     for n in ("nx", "ny"):
         v = getattr(hr, n)
-        if isinstance(v, bool) or not isinstance(v, (int, _np.integer)) or v < 0:
+        if isinstance(v, bool) or not isinstance(v, numbers.Integral) or v < 0:
             raise InvalidInputError(Status.DOMAIN, "hr.%s: a whole number >= 0 expected, not %r" % (n, v))
     return HrtPopHr(*[_u.value(v, "fraction", "hr." + n) for n, v in zip(HRBinning._fields[:4], hr[:4])],
                     int(hr.nx), int(hr.ny))
@@ -319,7 +323,7 @@ class Summary:
 
     def add_unborn(self, n: int) -> "Summary":
         """Count n stars drawn but not yet born at this epoch (hrt_pop_summary_add_unborn); returns self."""
-        if isinstance(n, bool) or not isinstance(n, (int, _np.integer)) or n < 0:
+        if isinstance(n, bool) or not isinstance(n, numbers.Integral) or n < 0:
             raise InvalidInputError(Status.DOMAIN, "n: a whole number >= 0 expected, not %r" % (n,))
         lib.hrt_pop_summary_add_unborn(ctypes.byref(self._c), int(n))
         return self
@@ -435,12 +439,14 @@ class Population:
             raise InvalidInputError(Status.INVALID, "give zdist or z, not both")
         self.zdist = zdist if zdist is not None else ZDist.fixed(0.014 if z is None else z)
         for n, v in (("n_stars", n_stars), ("seed", seed), ("chunk_size", chunk_size)):
-            if isinstance(v, bool) or not isinstance(v, (int, _np.integer)) or not 0 <= v < 2 ** 64:
+            if isinstance(v, bool) or not isinstance(v, numbers.Integral) or not 0 <= v < 2 ** 64:
                 raise InvalidInputError(Status.DOMAIN, "%s: a whole number in [0, 2^64) expected, not %r" % (n, v))
         if not isinstance(self.imf, IMF) or not isinstance(self.sfh, SFH) or not isinstance(self.zdist, ZDist):
             raise InvalidInputError(Status.INVALID, "imf, sfh and zdist must be an IMF, an SFH and a ZDist")
-        self._c = HrtPopSpec(imf=self.imf._c, sfh=self.sfh._c, zdist=self.zdist._c, n_stars=int(n_stars),
-                             seed=int(seed), chunk_size=int(chunk_size))
+        self._c = HrtPopSpec()
+        lib.hrt_pop_spec_default(ctypes.byref(self._c))  # then every field set from the arguments
+        self._c.imf, self._c.sfh, self._c.zdist = self.imf._c, self.sfh._c, self.zdist._c
+        self._c.n_stars, self._c.seed, self._c.chunk_size = int(n_stars), int(seed), int(chunk_size)
         e, pe = new_error()
         check(lib.hrt_pop_spec_check(ctypes.byref(self._c), pe), e, "hrt_pop_spec_check")
 
@@ -461,7 +467,7 @@ class Population:
         """The stars of one chunk (hrt_pop_draw): (initial mass Msun, Z, birth time yr) as three arrays.
 
         These are exactly the stars run() evaluates.  InvalidInputError if chunk is out of range."""
-        if isinstance(chunk, bool) or not isinstance(chunk, (int, _np.integer)) or chunk < 0:
+        if isinstance(chunk, bool) or not isinstance(chunk, numbers.Integral) or chunk < 0:
             raise InvalidInputError(Status.INVALID, "chunk: a whole number >= 0 expected, not %r" % (chunk,))
         n = ctypes.c_size_t()
         cap = int(min(self._c.chunk_size, self._c.n_stars))
@@ -494,7 +500,7 @@ class Population:
             first, count = chunks.start, max(0, len(chunks))
         else:
             first, count = chunks
-        if isinstance(threads, bool) or not isinstance(threads, (int, _np.integer)) or threads < 0:
+        if isinstance(threads, bool) or not isinstance(threads, numbers.Integral) or threads < 0:
             raise InvalidInputError(Status.DOMAIN, "threads: a whole number >= 0 expected, not %r" % (threads,))
         sums = [Summary(a, hr) for a in ages] if into is None else list(into)
         if len(sums) != ages.size:
