@@ -136,6 +136,14 @@ class Coverage(unittest.TestCase):
             n += 1
         self.assertGreater(n, 200)
 
+    def test_readme_python_example_runs(self):
+        text = read(os.path.join(ROOT, "README.md"))
+        block = re.search(r"## From Python.*?```python\n(.*?)```", text, re.S).group(1)
+        ns = {}
+        exec(compile(block, "README.md (From Python)", "exec"), ns)
+        self.assertEqual(len(ns["sums"]), 2)
+        self.assertEqual(ns["r"].status, hrtrail.Status.OK)
+
     def test_help_documents_every_public_call(self):
         missing = []
         for name in hrtrail.__all__:
