@@ -184,6 +184,7 @@ class FitModel:
     None takes the library's default.  Cost: about 0.5 s and 40 MB on the
     default grid with the defaults.  The model keeps its grid open.  Raises
     InvalidInputError / OutsideGridError as hrt_fit_model_new reports.
+    Grid.close() also closes the model.
     """
 
     def __init__(self, grid, mass_prior: Union[str, int] = "kroupa2001", mass_min_msun: Optional[Number] = None,
@@ -211,6 +212,7 @@ class FitModel:
         e, pe = new_error()
         check(lib.hrt_fit_model_new(grid._handle, ctypes.byref(o), ctypes.byref(h), pe), e, "hrt_fit_model_new")
         self._h = h
+        grid._stars.add(self)  # Grid.close() frees the model first: it refers to the grid
 
     def __del__(self):
         self.close()
