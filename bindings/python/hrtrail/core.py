@@ -14,6 +14,7 @@ import ctypes
 import numbers
 import os
 import weakref
+from typing import Any, Iterable, List, Optional, Sequence, Tuple, Union
 
 from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
 from .enums import Flag, Phase, Remnant, Status, as_interp, phase_from_key
@@ -53,6 +54,13 @@ def _states(a):
     return a.view(States) if States is not None and isinstance(a, _np.ndarray) else a
 
 _STATE_SIZE = ctypes.sizeof(HrtState)
+
+#: a number in the library's units, or an astropy Quantity converted to them
+Num = Any
+#: a number, a sequence or a NumPy array (or Quantities) in the library's units
+ArrayArg = Union[float, Sequence[float], Any]
+#: a path: str, bytes or os.PathLike
+PathArg = Union[str, bytes, "os.PathLike[str]"]
 _FLOAT_FIELDS = [n for n, t in HrtState._fields_ if t is ctypes.c_double]
 
 PhaseSpan = collections.namedtuple("PhaseSpan", "phase phase_start_yr phase_end_yr")
@@ -224,7 +232,7 @@ class Grid(_Owned):
     unreadable or invalid file) or InvalidInputError (unknown interp).
     """
 
-    def __init__(self, path=None, interp="steffen"):
+    def __init__(self, path: Optional[PathArg] = None, interp: Union[str, int] = "steffen"):
         self._h = None
         self._stars = weakref.WeakSet()
         it = as_interp(interp)
@@ -281,7 +289,7 @@ class Grid(_Owned):
         check(lib.hrt_grid_z_range(self._handle, ctypes.byref(lo), ctypes.byref(hi)), None, "z_range")
         return lo.value, hi.value
 
-    def mass_range(self, z):
+    def mass_range(self, z: Num) -> Tuple[float, float]:
         """(lowest, highest) initial mass covered at metallicity z, Msun."""
         lo, hi = ctypes.c_double(), ctypes.c_double()
         check(lib.hrt_grid_mass_range(self._handle, _u.value(z, "fraction", "z"), ctypes.byref(lo), ctypes.byref(hi)),
@@ -294,7 +302,7 @@ class Grid(_Owned):
         h = self._handle
         return tuple(text(lib.hrt_grid_route_name(h, r)) for r in range(lib.hrt_grid_n_routes(h)))
 
-    def route_of(self, mass_msun, z):
+    def route_of(self, mass_msun: Num, z: Num) -> int:
         """Index of the route a star of initial mass (Msun) and metallicity z follows."""
         r = ctypes.c_int()
         check(lib.hrt_grid_route_of(self._handle, _u.value(mass_msun, "mass", "mass_msun"), _u.value(z, "fraction", "z"),
@@ -302,33 +310,33 @@ class Grid(_Owned):
               "route_of(%r Msun, Z = %r)" % (mass_msun, z))
         return r.value
 
-    def route_keypoints(self, route):
+    def route_keypoints(self, route: Union[int, str]) -> List[Tuple[str, int]]:
         """Keypoints of a route (index or name) as a list of (name, EEP index)."""
         h = self._handle
         r = self.routes.index(route) if isinstance(route, str) else int(route)
         return [(text(lib.hrt_grid_keypoint_name(h, r, k)), lib.hrt_grid_keypoint_eep(h, r, k))
                 for k in range(lib.hrt_grid_route_n_keypoints(h, r))]
 
-    def masses(self, iz):
+    def masses(self, iz: int) -> Tuple[float, ...]:
         """Initial masses (Msun, ascending) of the tracks of group iz (tuple)."""
         h = self._handle
         if not 0 <= iz < lib.hrt_grid_n_z(h):
             raise IndexError("metallicity group %d out of range" % iz)
         return tuple(lib.hrt_grid_mass(h, iz, i) for i in range(lib.hrt_grid_n_masses(h, iz)))
 
-    def route_boundaries(self, iz):
+    def route_boundaries(self, iz: int) -> Tuple[float, ...]:
         """Route-boundary masses of group iz, Msun: boundary b separates route b from b+1."""
         h = self._handle
         return tuple(lib.hrt_grid_route_boundary(h, iz, b) for b in range(lib.hrt_grid_n_routes(h) - 1))
 
-    def boundary_at(self, z, b):
+    def boundary_at(self, z: Num, b: int) -> float:
         """Route-boundary mass b (Msun) at metallicity z: stars above it follow route b + 1 (hrt_grid_boundary_at)."""
         m = ctypes.c_double()
         e = lib.hrt_grid_boundary_at(self._handle, _u.value(z, "fraction", "z"), int(b), ctypes.byref(m))
         check(e, None, "hrt_grid_boundary_at(Z = %r, %d)" % (z, b))
         return m.value
 
-    def tracks(self, iz):
+    def tracks(self, iz: int) -> List[Tuple[float, int, int]]:
         """Tracks of metallicity group iz: list of (initial mass Msun, route index, number of valid EEPs)."""
         h = self._handle
         if not 0 <= iz < lib.hrt_grid_n_z(h):
@@ -336,12 +344,12 @@ class Grid(_Owned):
         return [(lib.hrt_grid_mass(h, iz, i), lib.hrt_grid_track_route(h, iz, i), lib.hrt_grid_track_n_eep(h, iz, i))
                 for i in range(lib.hrt_grid_n_masses(h, iz))]
 
-    def route_n_eep(self, route):
+    def route_n_eep(self, route: Union[int, str]) -> int:
         """Number of EEPs in the layout of a route (index or name)."""
         r = self.routes.index(route) if isinstance(route, str) else int(route)
         return lib.hrt_grid_route_n_eep(self._handle, r)
 
-    def attribute(self, name):
+    def attribute(self, name: str) -> Optional[str]:
         """A text root attribute of the file ('description', 'source', ...), or None."""
         return text(lib.hrt_grid_attribute(self._handle, name.encode()))
 
@@ -357,7 +365,7 @@ class Grid(_Owned):
             self.path, self.n_z, ",".join(self.routes), self.interp.key)
 
     # -- evaluation -------------------------------------------------------
-    def state(self, mass_msun, age_yr, z):
+    def state(self, mass_msun: Num, age_yr: Num, z: Num) -> "State":
         """State (a State object) of one star of initial mass (Msun) and metallicity z at age_yr (yr).
 
         Raises OutsideGridError or InvalidInputError as the library reports.
@@ -371,7 +379,8 @@ class Grid(_Owned):
         check(rc, e, "hrt_eval")
         return State.from_c(out)
 
-    def evaluate(self, mass_msun, age_yr, z, out=None, errors="raise", threads=1):
+    def evaluate(self, mass_msun: ArrayArg, age_yr: ArrayArg, z: ArrayArg, out=None, errors: str = "raise",
+                 threads: int = 1):
         """States of many unrelated stars in one call of hrt_eval (no Python loop).
 
         mass_msun  initial masses, Msun (array-like)
@@ -459,7 +468,8 @@ class Grid(_Owned):
             raise exc
         return states
 
-    def isochrone(self, age_yr, z, phases=None, leave_out=(), max_dlog_l=None):
+    def isochrone(self, age_yr: Num, z: Num, phases: Optional[Iterable] = None, leave_out: Iterable = (),
+                  max_dlog_l: Optional[Num] = None):
         """The isochrone at age_yr (yr, > 0) and metallicity z.
 
         Every initial mass alive and modelled at that age: one point at each EEP
@@ -497,7 +507,7 @@ class Grid(_Owned):
             check(rc, e, "hrt_isochrone")
             return _states(out[:n.value].copy() if n.value < cap else out)
 
-    def star(self, mass_msun, z):
+    def star(self, mass_msun: Num, z: Num) -> "Star":
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""
         return Star(self, mass_msun, z)
 
@@ -510,7 +520,7 @@ class Star(_Owned):
     alive; Grid.close() also closes its stars.  One thread at a time.
     """
 
-    def __init__(self, grid, mass_msun, z):
+    def __init__(self, grid: Grid, mass_msun: Num, z: Num):
         self._h = None
         self.grid = grid
         h = ctypes.c_void_p()
@@ -558,7 +568,7 @@ class Star(_Owned):
         check(lib.hrt_star_remnant(self._handle, ctypes.byref(k), ctypes.byref(m)), None, "hrt_star_remnant")
         return RemnantInfo(Remnant(k.value), m.value)
 
-    def at(self, age_yr):
+    def at(self, age_yr: ArrayArg):
         """State at age_yr (yr since birth).
 
         A scalar age gives a State (hrt_star_at); an array of ages gives a
@@ -590,7 +600,7 @@ class Star(_Owned):
             check(lib.hrt_star_eep_state(h, j, base + j * _STATE_SIZE), None, "hrt_star_eep_state(%d)" % j)
         return _states(out)
 
-    def phases(self):
+    def phases(self) -> List[PhaseSpan]:
         """The star's timetable: list of PhaseSpan(phase, phase_start_yr, phase_end_yr), remnant included."""
         h = self._handle
         n = ctypes.c_size_t()
@@ -605,7 +615,7 @@ class Star(_Owned):
             return [PhaseSpan(Phase(s.phase) if s.phase in Phase._value2member_map_ else s.phase,
                               s.phase_start_yr, s.phase_end_yr) for s in spans[:n.value]]
 
-    def keypoints(self):
+    def keypoints(self) -> "collections.OrderedDict[str, float]":
         """Ages (yr) of the keypoints of the star's route, as an ordered dict {name: age_yr} (NaN if not reached)."""
         h = self._handle
         out = collections.OrderedDict()
@@ -622,13 +632,13 @@ class Star(_Owned):
                                                                   self.route_name)
 
 
-def wd_radius_rsun(mass_msun):
+def wd_radius_rsun(mass_msun: Num) -> float:
     """White dwarf radius (Rsun) at mass (Msun), zero-temperature mass-radius relation
     of Eggleton (quoted by Verbunt & Rappaport 1988, ApJ 332, 193); NaN outside (0, 1.44)."""
     return lib.hrt_wd_radius_rsun(_u.value(mass_msun, "mass", "mass_msun"))
 
 
-def wd_log_l(mass_msun, kind, log_l0, dt_yr):
+def wd_log_l(mass_msun: Num, kind: int, log_l0: Num, dt_yr: Num) -> float:
     """log10 L/Lsun of a white dwarf of mass (Msun) and kind (Remnant HE_WD/CO_WD/ONE_WD)
     dt_yr years after cooling began at log10 L/Lsun = log_l0, by Mestel's (1952, MNRAS 112,
     583) law; accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun."""
@@ -636,7 +646,7 @@ def wd_log_l(mass_msun, kind, log_l0, dt_yr):
                             _u.value(dt_yr, "age", "dt_yr"))
 
 
-def collapse_remnant(co_core_mass_msun, final_mass_msun):
+def collapse_remnant(co_core_mass_msun: Num, final_mass_msun: Num) -> RemnantInfo:
     """Remnant of core collapse from the final CO core and total masses (Msun): RemnantInfo(Remnant.NS or
     Remnant.BH, gravitational mass Msun) by the "delayed" prescription of Fryer et al. (2012, ApJ 749, 91) as
     hrt_collapse_remnant applies it (good to a factor of about 2 for black holes).  InvalidInputError for
@@ -648,7 +658,7 @@ def collapse_remnant(co_core_mass_msun, final_mass_msun):
     return RemnantInfo(Remnant(k.value), m.value)
 
 
-def upgrade_grid(old_path, new_path):
+def upgrade_grid(old_path: PathArg, new_path: PathArg) -> None:
     """Convert a grid file of an older format version to the current one (hrt_grid_upgrade).
 
     old_path  a grid file of format version 1 up to the library's (tracks/FORMAT.md)

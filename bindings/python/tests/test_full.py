@@ -157,6 +157,44 @@ class Coverage(unittest.TestCase):
         self.assertEqual(missing, [])
         self.assertTrue(os.path.exists(os.path.join(HERE, "..", "hrtrail", "py.typed")))
 
+    def public_callables(self):
+        for name in hrtrail.__all__:
+            obj = getattr(hrtrail, name)
+            if isinstance(obj, type) and obj.__module__.startswith("hrtrail"):
+                for attr, v in vars(obj).items():
+                    if callable(v) and (not attr.startswith("_") or attr == "__init__"):
+                        yield "%s.%s" % (name, attr), v, obj
+            elif callable(obj) and getattr(obj, "__module__", "").startswith("hrtrail"):
+                yield name, obj, None
+
+    def test_help_gives_the_unit_of_every_argument(self):
+        """An argument named with a unit (mass_msun, age_yr, teff_k, ...) has that unit in its help text
+        (the call's docstring, or its class's for a constructor)."""
+        import inspect
+        unit_of = {"_msun": "Msun", "_yr": "yr", "_k": "K", "_pc": "pc", "_mas": "mas", "_w_m2": "W m^-2",
+                   "_dex": "dex", "_w": "W"}
+        missing = []
+        for name, fn, cls in self.public_callables():
+            try:
+                params = inspect.signature(fn).parameters
+            except (TypeError, ValueError):
+                continue
+            doc = (fn.__doc__ or "") + ((cls.__doc__ or "") if cls is not None else "")
+            for p in params:
+                for suffix, unit in unit_of.items():
+                    if p.endswith(suffix) and unit not in doc:
+                        missing.append("%s(%s): %s" % (name, p, unit))
+        self.assertEqual(missing, [])
+
+    def test_type_hints_resolve(self):
+        import typing
+        n = 0
+        for name, fn, _ in self.public_callables():
+            if getattr(fn, "__annotations__", None):
+                typing.get_type_hints(fn)  # a NameError here is a broken hint
+                n += 1
+        self.assertGreater(n, 40)
+
 
 # ---------------------------------------------------------------------------- populations
 def random_population(rng, grid):
