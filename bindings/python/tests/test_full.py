@@ -456,6 +456,16 @@ class Pickling(Base):
         self.assertEqual(merged, pop.run(self.grid, [2e9])[0])
         ga.close()
 
+    def test_grid_in_dask_processes(self):
+        try:
+            import dask
+        except ImportError:
+            self.skipTest("dask missing (Debian python3-dask)")
+        pop = hrtrail.Population(12000, z=0.006, seed=8, chunk_size=1500)
+        parts = [dask.delayed(_worker_run)(self.grid, pop, 1e9, k, 2) for k in range(0, pop.n_chunks, 2)]
+        got = dask.compute(*parts, scheduler="processes", num_workers=2)
+        self.assertEqual(hrtrail.merge(got), pop.run(self.grid, [1e9])[0])
+
 
 if __name__ == "__main__":
     unittest.main()
