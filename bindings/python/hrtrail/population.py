@@ -500,6 +500,9 @@ class Population:
             first, count = chunks.start, max(0, len(chunks))
         else:
             first, count = chunks
+        for n, v in (("first chunk", first), ("chunk count", count)):
+            if isinstance(v, bool) or not isinstance(v, numbers.Integral) or not 0 <= v < 2 ** 64:
+                raise InvalidInputError(Status.INVALID, "chunks: %s must be a whole number >= 0, not %r" % (n, v))
         if isinstance(threads, bool) or not isinstance(threads, numbers.Integral) or threads < 0:
             raise InvalidInputError(Status.DOMAIN, "threads: a whole number >= 0 expected, not %r" % (threads,))
         sums = [Summary(a, hr) for a in ages] if into is None else list(into)

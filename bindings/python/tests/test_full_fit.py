@@ -343,6 +343,8 @@ class Errors(Base):
         self.check_error(E.InvalidInputError, lambda: E.Population(100, chunk_size=0))
         self.check_error(E.InvalidInputError, lambda: E.Population(100, z=0.014).draw(5))
         self.check_error(E.InvalidInputError, lambda: E.Summary(-1.0))
+        self.check_error(E.InvalidInputError, lambda: E.Population(100, z=0.014).run(g, [1e9], chunks=(-1, 2)))
+        self.check_error(E.InvalidInputError, lambda: E.Population(100, z=0.014).run(g, [1e9], threads=-2))
         self.check_error(E.InvalidInputError, lambda: E.Summary(1e9, E.HRBinning(3, 4, 0, 1, 200, 200)))
         self.check_error(E.InvalidInputError, lambda: E.Summary(1e9).merge(E.Summary(2e9)))
         bad = E.Summary(1e9).to_bytes()
