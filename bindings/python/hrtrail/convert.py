@@ -105,11 +105,34 @@ def fits_to_pandas(results):
     return df
 
 
-def _summary_frame(s):
+def _summary_frame(s, table="phases"):
     import pandas as pd
-    rows = s.phases()
-    keys = [r["phase"].key for r in rows]
-    df = pd.DataFrame(rows, columns=["phase", "stars", "initial_mass_msun", "mass_msun", "l_lsun"])
-    df["phase"] = pd.Categorical(keys, categories=[m.key for m in Phase])
+    if table == "phases":
+        rows, key, enum_cls = s.phases(), "phase", Phase
+        cols = ["phase", "stars", "initial_mass_msun", "mass_msun", "l_lsun"]
+    else:
+        rows, key, enum_cls = s.remnants(), "remnant", Remnant
+        cols = ["remnant", "stars", "mass_msun"]
+    keys = [r[key].key for r in rows]
+    df = pd.DataFrame(rows, columns=cols)
+    df[key] = pd.Categorical(keys, categories=[m.key for m in enum_cls])
     df.insert(0, "age_yr", s.age_yr)
+    return df
+
+
+def forecast_to_pandas(f):
+    """The states of a Forecast (one row per future time) as a DataFrame: dt_yr, phase (a categorical of
+    the phase keys), luminous_frac, and each interval as NAME, NAME_lo, NAME_hi (log_l_lsun dex, teff_k K,
+    r_rsun Rsun, mass_msun Msun)."""
+    import pandas as pd
+    rows = []
+    for st in f.states:
+        r = {"dt_yr": st["dt_yr"], "phase": getattr(st["phase"], "key", str(st["phase"])),
+             "luminous_frac": st["luminous_frac"]}
+        for n in ("log_l_lsun", "teff_k", "r_rsun", "mass_msun"):
+            r[n], r[n + "_lo"], r[n + "_hi"] = st[n].median, st[n].lo, st[n].hi
+        rows.append(r)
+    df = pd.DataFrame(rows)
+    if len(df):
+        df["phase"] = pd.Categorical(df["phase"], categories=[m.key for m in Phase])
     return df

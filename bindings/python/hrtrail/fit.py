@@ -358,6 +358,11 @@ class Forecast:
                         "luminous_frac": s.luminous_frac, "log_l_lsun": _iv(s.log_l_lsun), "teff_k": _iv(s.teff_k),
                         "r_rsun": _iv(s.r_rsun), "mass_msun": _iv(s.mass_msun)} for s in states]
 
+    def to_pandas(self):
+        """The states at the times asked as a pandas DataFrame (hrtrail.convert.forecast_to_pandas)."""
+        from .convert import forecast_to_pandas
+        return forecast_to_pandas(self)
+
     def __repr__(self):
         return "<hrtrail.Forecast now %s, remnant %s, %d events>" % (
             getattr(self.phase_now, "key", self.phase_now), getattr(self.remnant, "key", self.remnant), len(self.events))

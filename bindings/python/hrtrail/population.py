@@ -407,10 +407,16 @@ class Summary:
         return [{"remnant": r, "stars": c.n_remnant[r], "mass_msun": self._v(c.remnant_mass_msun[r])}
                 for r in Remnant if c.n_remnant[r] or r != Remnant.NONE]
 
-    def to_pandas(self):
-        """The per-phase table as a pandas DataFrame (phase a categorical of the phase keys)."""
+    def to_pandas(self, table: str = "phases"):
+        """A table of the summary as a pandas DataFrame, one row per phase or remnant kind with stars.
+
+        table="phases": age_yr, phase (a categorical of the phase keys), stars, initial_mass_msun,
+        mass_msun, l_lsun (sums: Msun, Msun, Lsun); table="remnants": age_yr, remnant (a categorical
+        of the remnant keys; none = not a remnant), stars, mass_msun (sum, Msun)."""
         from .convert import _summary_frame
-        return _summary_frame(self)
+        if table not in ("phases", "remnants"):
+            raise ValueError("table is 'phases' or 'remnants', not %r" % (table,))
+        return _summary_frame(self, table)
 
     def __repr__(self):
         return "<hrtrail.Summary at %.4g yr: %d drawn, %d unborn, %d evaluated>" % (

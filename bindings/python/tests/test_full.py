@@ -426,6 +426,14 @@ class Conversions(Base):
         df = s.to_pandas()
         self.assertEqual(df["stars"].sum(), s.n_evaluated)
         self.assertEqual(str(df["phase"].dtype), "category")
+        rem = s.to_pandas("remnants")
+        self.assertEqual(rem["stars"].sum(), s.n_evaluated)
+        self.assertEqual(str(rem["remnant"].dtype), "category")
+        f = hrtrail.forecast(self.grid, initial_mass_msun=2.0, z=0.014, age_yr=5e8, dt_yr=[0.0, 1e8])
+        fd = f.to_pandas()
+        self.assertEqual(list(fd["dt_yr"]), [0.0, 1e8])
+        self.assertEqual(fd["phase"].iloc[0], f.phase_now.key)
+        self.assertEqual(fd["log_l_lsun_lo"].iloc[1], f.states[1]["log_l_lsun"].lo)
 
 
 # ---------------------------------------------------------------------------- pickling into processes
