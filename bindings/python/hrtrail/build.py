@@ -201,7 +201,7 @@ class Builder:
                                                     "remnant_mass_msun"))
         n = None
         for name in TRACK_COLUMNS:
-            a = _f8(track.get(name), name)
+            a = _f8(track.get(name), name, "mass" if name.endswith("_msun") else "fraction")
             if a is not None:
                 if n is not None and a.size != n:
                     raise InvalidInputError(Status.INVALID, "column %s has %d values, not %d" % (name, a.size, n))
