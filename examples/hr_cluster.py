@@ -4,10 +4,12 @@
     hr_cluster.py [--out hr_cluster.png] [--n 3000] [--age-yr 6.5e8] [--z 0.008] [--grid GRID]
 
 The scenario is invented: the young open cluster "Amberfall", 650 Myr old at
-Z = 0.008, 3000 members drawn from a two-part power-law initial mass function
-(slope -1.3 below 0.5 Msun and -2.3 above, in dN/dM; common practice since
-Kroupa 2001, MNRAS 322, 231).  All members are evaluated in one call of
-hrt_eval through the binding; the script prints the census by phase and, when
+Z = 0.008, 3000 members drawn by the library from the Kroupa (2001, MNRAS 322,
+231) initial mass function (hrtrail.Population: hrt_imf_init and hrt_pop_draw,
+seeded, so the same seed gives the same members in C, Python or the command
+line).  All members are evaluated in one call of hrt_eval through the
+binding; the census by phase comes from the library's population summary of
+the same stars (hrt_pop_run); the script prints it and, when
 matplotlib (Debian python3-matplotlib) is installed, draws the HR diagram
 (log Teff decreasing to the right, log L up), coloured by phase, over the
 isochrone of the same age.  Without matplotlib it prints the census only.
@@ -24,20 +26,9 @@ import numpy as np
 import hrtrail
 
 
-def draw_masses(rng, n, lo, hi):
-    """Initial masses (Msun) from dN/dM ~ M^-1.3 (M < 0.5) and M^-2.3 (M >= 0.5), continuous at 0.5."""
-    edges, slopes = [lo, 0.5, hi], [-1.3, -2.3]
-    # weight of each segment: integral of the (continuous) density over it
-    k = [1.0, 0.5 ** (slopes[0] - slopes[1])]
-    w = [k[i] * (edges[i + 1] ** (slopes[i] + 1) - edges[i] ** (slopes[i] + 1)) / (slopes[i] + 1) for i in range(2)]
-    seg = rng.choice(2, size=n, p=np.array(w) / sum(w))
-    u = rng.random(n)
-    out = np.empty(n)
-    for i in range(2):
-        s, a, b = slopes[i] + 1, edges[i], edges[i + 1]
-        j = seg == i
-        out[j] = (a ** s + u[j] * (b ** s - a ** s)) ** (1.0 / s)  # inverse CDF of a power law
-    return out
+def draw_members(pop):
+    """Initial masses (Msun) of every member, as the library draws them (hrt_pop_draw, chunk by chunk)."""
+    return np.concatenate([pop.draw(k)[0] for k in range(pop.n_chunks)])
 
 
 def main(argv=None):
@@ -50,16 +41,22 @@ def main(argv=None):
     p.add_argument("--seed", type=int, default=2026)
     a = p.parse_args(argv)
 
-    rng = np.random.default_rng(a.seed)
     with hrtrail.Grid(a.grid) as g:
         lo, hi = g.mass_range(a.z)
-        mass = draw_masses(rng, a.n, max(lo, 0.1), min(hi, 20.0))
+        imf = hrtrail.IMF("kroupa2001", max(lo, 0.1), min(hi, 20.0))
+        pop = hrtrail.Population(a.n, imf=imf, sfh=hrtrail.SFH.burst(0.0), z=a.z, seed=a.seed)
+        mass = draw_members(pop)
         st = g.evaluate(mass, np.full(a.n, a.age_yr), a.z)        # one hrt_eval call, no loop
+        summary = pop.run(g, [a.age_yr], threads=1)[0]            # the library's census of the same stars
         iso = g.isochrone(a.age_yr, a.z)
     census = collections.Counter(int(p) for p in st["phase"])
     print("Amberfall (invented cluster): %d members, age %.3g yr, Z = %g" % (a.n, a.age_yr, a.z))
-    for ph, count in sorted(census.items()):
-        print("  %-34s %5d" % (hrtrail.Phase(ph).label, count))
+    for row in summary.phases():
+        print("  %-34s %5d" % (row["phase"].label, row["stars"]))
+    if {int(r["phase"]): r["stars"] for r in summary.phases()} != dict(census):
+        print("the summary and the evaluated members disagree", file=sys.stderr)
+        return 1
+    print("  main-sequence turnoff %.4g Msun (hrt_pop_turnoff_mass)" % summary.turnoff_mass_msun)
     luminous = np.isfinite(st["log_l_lsun"]) & np.isfinite(st["log_teff_k"])
     turnoff = st[luminous & (st["phase"] == hrtrail.Phase.MS)]
     if turnoff.size:

@@ -10,7 +10,14 @@ with NumPy used for whole-array calls when it is installed.
         iso = g.isochrone(1e9, z=0.014)
         star = g.star(2.0, 0.014)                   # one track, any age
         star.phases(), star.keypoints(), star.remnant
+        st.to_pandas(), st.to_table()               # DataFrame; astropy QTable with units
+        pop = hrtrail.Population(10**6, imf=hrtrail.IMF("kroupa2001", 0.08, 100), z=0.014)
+        sums = pop.run(g, [1e9, 1e10])              # Summary per epoch (population.py)
+        model = hrtrail.FitModel(g)                 # fitting (fit.py)
+        r = model.fit(hrtrail.Observation(teff_k=5772, teff_k_sigma=50, log_l_lsun=0, log_l_lsun_sigma=0.02))
+        hrtrail.forecast(g, r.samples, dt_yr=[1e8])
     hrtrail.upgrade_grid("old.h5", "new.h5")       # a grid of an older format version
+    hrtrail.Importer(), hrtrail.Builder(...)       # building grids (build.py)
 
 Names and units: fields are the vocabulary of tracks/FORMAT.md, units in the
 names (initial_mass_msun, age_yr, log_l_lsun, log_teff_k, ...): masses in Msun,
@@ -30,10 +37,16 @@ population-level work; the answers are as good as the grid.
 """
 from ._clib import ABI_VERSION, AbiMismatchError, HrtError, HrtPhaseSpan, HrtState, lib as _lib
 from ._clib import library_path, text as _text
-from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, upgrade_grid
-from .core import wd_log_l, wd_radius_rsun
-from .enums import Flag, Interp, Phase, Remnant, Status
+from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, States, upgrade_grid
+from .core import collapse_remnant, wd_log_l, wd_radius_rsun
+from .enums import Flag, Interp, Phase, Remnant, Status, phase_from_key, remnant_from_key
 from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridError
+from .population import DEFAULT_HR, IMF, SFH, HRBinning, Population, Summary, ZDist, max_threads, merge
+from .fit import (SAMPLE_DTYPE, FitFlag, FitModel, FitResult, Forecast, Interval, Observation, distance_m,
+                  flux_from_mbol, forecast)
+from .build import (Builder, ImportReport, Importer, KeypointResult, RouteSpec, TrackReport, default_route,
+                    default_routes, keypoints_find, keypoints_route)
+from .convert import fits_to_pandas, samples_to_pandas, to_pandas, to_table
 
 #: Version of the loaded library (hrt_version), e.g. "0.1.0".
 __version__ = _text(_lib.hrt_version())
@@ -52,7 +65,13 @@ def default_grid_path():
 __all__ = [
     "ABI_VERSION", "AbiMismatchError", "Flag", "Grid", "GridFileError", "HrtError", "HrtPhaseSpan",
     "HrtState", "HrtrailError", "Interp", "InvalidInputError", "OutsideGridError", "Phase",
-    "PhaseSpan", "Remnant", "RemnantInfo", "STATE_DTYPE", "Star", "State", "Status",
+    "PhaseSpan", "Remnant", "RemnantInfo", "STATE_DTYPE", "Star", "State", "States", "Status",
     "default_grid_path", "library_abi_version", "library_path", "upgrade_grid", "wd_log_l",
-    "wd_radius_rsun",
+    "wd_radius_rsun", "collapse_remnant", "phase_from_key", "remnant_from_key",
+    "DEFAULT_HR", "IMF", "SFH", "HRBinning", "Population", "Summary", "ZDist", "max_threads", "merge",
+    "SAMPLE_DTYPE", "FitFlag", "FitModel", "FitResult", "Forecast", "Interval", "Observation", "distance_m",
+    "flux_from_mbol", "forecast",
+    "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
+    "default_routes", "keypoints_find", "keypoints_route",
+    "fits_to_pandas", "samples_to_pandas", "to_pandas", "to_table",
 ]

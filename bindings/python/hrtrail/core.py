@@ -10,14 +10,14 @@ semi-analytic model built from published relations (tracks/MODEL.md), meant
 for population-level work, not precision stellar physics.
 """
 import collections
-import os
-import concurrent.futures
 import ctypes
-import re as _re
+import numbers
+import os
 import weakref
+from typing import Any, Iterable, List, Optional, Sequence, Tuple, Union
 
 from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
-from .enums import Flag, Phase, Remnant, Status, as_interp
+from .enums import Flag, Phase, Remnant, Status, as_interp, phase_from_key
 from . import units as _u
 from .errors import InvalidInputError, check, error_for, new_error
 
@@ -30,7 +30,37 @@ except ImportError:  # NumPy is optional: scalar calls work without it
 #: Arrays of this dtype are handed to the library as they are: no per-star copy.
 STATE_DTYPE = _np.dtype(HrtState) if _np is not None else None
 
+if _np is not None:
+    class States(_np.ndarray):
+        """A NumPy array of STATE_DTYPE (what Grid.evaluate, Grid.isochrone and Star.track return),
+        with conversions: to_pandas() (a DataFrame, phase and remnant as categoricals) and
+        to_table() (an astropy QTable with units).  Otherwise a plain ndarray: fields by name
+        (states["log_l_lsun"]), slicing, the library's own bytes."""
+
+        def to_pandas(self):
+            """A pandas DataFrame (hrtrail.to_pandas)."""
+            from .convert import to_pandas
+            return to_pandas(self)
+
+        def to_table(self):
+            """An astropy QTable with units (hrtrail.to_table)."""
+            from .convert import to_table
+            return to_table(self)
+else:  # pragma: no cover
+    States = None
+
+
+def _states(a):
+    return a.view(States) if States is not None and isinstance(a, _np.ndarray) else a
+
 _STATE_SIZE = ctypes.sizeof(HrtState)
+
+#: a number in the library's units, or an astropy Quantity converted to them
+Num = Any
+#: a number, a sequence or a NumPy array (or Quantities) in the library's units
+ArrayArg = Union[float, Sequence[float], Any]
+#: a path: str, bytes or os.PathLike
+PathArg = Union[str, bytes, "os.PathLike[str]"]
 _FLOAT_FIELDS = [n for n, t in HrtState._fields_ if t is ctypes.c_double]
 
 PhaseSpan = collections.namedtuple("PhaseSpan", "phase phase_start_yr phase_end_yr")
@@ -144,8 +174,8 @@ def _phase_mask(phases):
     mask = 0
     for p in phases:
         try:
-            code = Phase[p.upper()] if isinstance(p, str) else Phase(int(p))
-        except (KeyError, ValueError):
+            code = phase_from_key(p) if isinstance(p, str) else Phase(int(p))
+        except (KeyError, ValueError, AttributeError):
             raise InvalidInputError(Status.INVALID, "%r is not a phase (a Phase, its code or its key)" % (p,)) \
                 from None
         mask |= 1 << int(code)
@@ -202,19 +232,27 @@ class Grid(_Owned):
     unreadable or invalid file) or InvalidInputError (unknown interp).
     """
 
-    def __init__(self, path=None, interp="steffen"):
+    def __init__(self, path: Optional[PathArg] = None, interp: Union[str, int] = "steffen"):
         self._h = None
         self._stars = weakref.WeakSet()
         it = as_interp(interp)
         h = ctypes.c_void_p()
         e, pe = new_error()
         cpath = None if path is None else _u.path(path)
-        check(lib.hrt_grid_open_with(cpath, int(it), ctypes.byref(h), pe), e, "opening grid")
+        if it == 0:  # hrt_grid_open is hrt_grid_open_with(path, HRT_INTERP_STEFFEN, ...)
+            check(lib.hrt_grid_open(cpath, ctypes.byref(h), pe), e, "opening grid")
+        else:
+            check(lib.hrt_grid_open_with(cpath, int(it), ctypes.byref(h), pe), e, "opening grid")
         self._h = h
         self.path = os.fsdecode(cpath) if path is not None else text(lib.hrt_default_grid_path())
         """Path of the grid file."""
 
     _what = "grid"
+
+    def __reduce__(self):
+        """A grid pickles as its path and interpolation type: unpickling opens the file again
+        (in a worker process, say), so the file must be readable there."""
+        return (Grid, (self.path, self.interp.key))
 
     def _free(self, h):
         """Every Star made from the grid goes first (close() frees both)."""
@@ -251,7 +289,7 @@ class Grid(_Owned):
         check(lib.hrt_grid_z_range(self._handle, ctypes.byref(lo), ctypes.byref(hi)), None, "z_range")
         return lo.value, hi.value
 
-    def mass_range(self, z):
+    def mass_range(self, z: Num) -> Tuple[float, float]:
         """(lowest, highest) initial mass covered at metallicity z, Msun."""
         lo, hi = ctypes.c_double(), ctypes.c_double()
         check(lib.hrt_grid_mass_range(self._handle, _u.value(z, "fraction", "z"), ctypes.byref(lo), ctypes.byref(hi)),
@@ -264,7 +302,7 @@ class Grid(_Owned):
         h = self._handle
         return tuple(text(lib.hrt_grid_route_name(h, r)) for r in range(lib.hrt_grid_n_routes(h)))
 
-    def route_of(self, mass_msun, z):
+    def route_of(self, mass_msun: Num, z: Num) -> int:
         """Index of the route a star of initial mass (Msun) and metallicity z follows."""
         r = ctypes.c_int()
         check(lib.hrt_grid_route_of(self._handle, _u.value(mass_msun, "mass", "mass_msun"), _u.value(z, "fraction", "z"),
@@ -272,26 +310,46 @@ class Grid(_Owned):
               "route_of(%r Msun, Z = %r)" % (mass_msun, z))
         return r.value
 
-    def route_keypoints(self, route):
+    def route_keypoints(self, route: Union[int, str]) -> List[Tuple[str, int]]:
         """Keypoints of a route (index or name) as a list of (name, EEP index)."""
         h = self._handle
         r = self.routes.index(route) if isinstance(route, str) else int(route)
         return [(text(lib.hrt_grid_keypoint_name(h, r, k)), lib.hrt_grid_keypoint_eep(h, r, k))
                 for k in range(lib.hrt_grid_route_n_keypoints(h, r))]
 
-    def masses(self, iz):
+    def masses(self, iz: int) -> Tuple[float, ...]:
         """Initial masses (Msun, ascending) of the tracks of group iz (tuple)."""
         h = self._handle
         if not 0 <= iz < lib.hrt_grid_n_z(h):
             raise IndexError("metallicity group %d out of range" % iz)
         return tuple(lib.hrt_grid_mass(h, iz, i) for i in range(lib.hrt_grid_n_masses(h, iz)))
 
-    def route_boundaries(self, iz):
+    def route_boundaries(self, iz: int) -> Tuple[float, ...]:
         """Route-boundary masses of group iz, Msun: boundary b separates route b from b+1."""
         h = self._handle
         return tuple(lib.hrt_grid_route_boundary(h, iz, b) for b in range(lib.hrt_grid_n_routes(h) - 1))
 
-    def attribute(self, name):
+    def boundary_at(self, z: Num, b: int) -> float:
+        """Route-boundary mass b (Msun) at metallicity z: stars above it follow route b + 1 (hrt_grid_boundary_at)."""
+        m = ctypes.c_double()
+        e = lib.hrt_grid_boundary_at(self._handle, _u.value(z, "fraction", "z"), int(b), ctypes.byref(m))
+        check(e, None, "hrt_grid_boundary_at(Z = %r, %d)" % (z, b))
+        return m.value
+
+    def tracks(self, iz: int) -> List[Tuple[float, int, int]]:
+        """Tracks of metallicity group iz: list of (initial mass Msun, route index, number of valid EEPs)."""
+        h = self._handle
+        if not 0 <= iz < lib.hrt_grid_n_z(h):
+            raise IndexError("metallicity group %d out of range" % iz)
+        return [(lib.hrt_grid_mass(h, iz, i), lib.hrt_grid_track_route(h, iz, i), lib.hrt_grid_track_n_eep(h, iz, i))
+                for i in range(lib.hrt_grid_n_masses(h, iz))]
+
+    def route_n_eep(self, route: Union[int, str]) -> int:
+        """Number of EEPs in the layout of a route (index or name)."""
+        r = self.routes.index(route) if isinstance(route, str) else int(route)
+        return lib.hrt_grid_route_n_eep(self._handle, r)
+
+    def attribute(self, name: str) -> Optional[str]:
         """A text root attribute of the file ('description', 'source', ...), or None."""
         return text(lib.hrt_grid_attribute(self._handle, name.encode()))
 
@@ -307,7 +365,7 @@ class Grid(_Owned):
             self.path, self.n_z, ",".join(self.routes), self.interp.key)
 
     # -- evaluation -------------------------------------------------------
-    def state(self, mass_msun, age_yr, z):
+    def state(self, mass_msun: Num, age_yr: Num, z: Num) -> "State":
         """State (a State object) of one star of initial mass (Msun) and metallicity z at age_yr (yr).
 
         Raises OutsideGridError or InvalidInputError as the library reports.
@@ -321,7 +379,8 @@ class Grid(_Owned):
         check(rc, e, "hrt_eval")
         return State.from_c(out)
 
-    def evaluate(self, mass_msun, age_yr, z, out=None, errors="raise", threads=1):
+    def evaluate(self, mass_msun: ArrayArg, age_yr: ArrayArg, z: ArrayArg, out=None, errors: str = "raise",
+                 threads: int = 1):
         """States of many unrelated stars in one call of hrt_eval (no Python loop).
 
         mass_msun  initial masses, Msun (array-like)
@@ -333,8 +392,9 @@ class Grid(_Owned):
         errors     "raise": raise the first failing star's error (message names its
                    index; the states are attached as exc.states); "ignore": return
                    anyway, each star's code in states["status"] (failed stars NaN)
-        threads    split the batch over this many threads (the library is
-                   thread-safe on a shared grid; results are identical)
+        threads    threads of the library's hrt_eval_parallel (0: as many as OpenMP
+                   offers, hrtrail.max_threads()); 1 (default) is hrt_eval itself.
+                   The states, code and message are identical bit for bit.
         Returns a NumPy structured array of STATE_DTYPE: the library's output
         itself, fields as in State (states["log_l_lsun"], states["phase"], ...).
         Without NumPy, sequences are accepted and a list of State is returned.
@@ -357,7 +417,7 @@ class Grid(_Owned):
             zz = _as_f8(zz)
         m, a = _as_f8(m), _as_f8(a)
         if out is None:
-            out = _np.empty(m.shape, dtype=STATE_DTYPE)
+            out = _np.empty(m.shape, dtype=STATE_DTYPE).view(States)
         else:
             if (not isinstance(out, _np.ndarray) or out.dtype != STATE_DTYPE or out.shape != m.shape
                     or not out.flags.c_contiguous or not out.flags.writeable):
@@ -366,30 +426,14 @@ class Grid(_Owned):
         n = m.size
         pm, pa, po = m.ctypes.data, a.ctypes.data, out.ctypes.data
         pz = zz.ctypes.data if zz is not None else None
-        threads = max(1, min(int(threads), n // 1024 or 1))
+        if isinstance(threads, bool) or not isinstance(threads, numbers.Integral) or threads < 0:
+            raise InvalidInputError(Status.DOMAIN, "threads: a whole number >= 0 expected, not %r" % (threads,))
+        e, pe = new_error()
         if threads == 1:
-            e, pe = new_error()
             rc = lib.hrt_eval(h, n, pm, pz, z_all, pa, po, pe)
-            failures = [(rc, e)]
         else:
-            bounds = [n * k // threads for k in range(threads + 1)]
-
-            def part(k):
-                s, c = bounds[k], bounds[k + 1] - bounds[k]
-                e, pe = new_error()
-                rc = lib.hrt_eval(h, c, pm + 8 * s, None if pz is None else pz + 8 * s, z_all,
-                                  pa + 8 * s, po + _STATE_SIZE * s, pe)
-                return rc, e, s
-
-            with concurrent.futures.ThreadPoolExecutor(threads) as ex:
-                res = list(ex.map(part, range(threads)))
-            failures = [(rc, e) for rc, e, s in res if rc != 0]
-            if failures:  # a chunk's message counts stars from the chunk's start
-                rc, e, s = next(r for r in res if r[0] != 0)
-                msg = _re.sub(rb"^star (\d+):", lambda mt: b"star %d:" % (int(mt.group(1)) + s),
-                              e.message)
-                e.message = msg[:255]
-                failures = [(rc, e)]
+            rc = lib.hrt_eval_parallel(h, n, pm, pz, z_all, pa, po, int(threads), pe)
+        failures = [(rc, e)]
         rc, e = failures[0] if failures else (0, None)
         if rc != 0 and errors == "raise":
             try:
@@ -424,7 +468,8 @@ class Grid(_Owned):
             raise exc
         return states
 
-    def isochrone(self, age_yr, z, phases=None, leave_out=(), max_dlog_l=None):
+    def isochrone(self, age_yr: Num, z: Num, phases: Optional[Iterable] = None, leave_out: Iterable = (),
+                  max_dlog_l: Optional[Num] = None):
         """The isochrone at age_yr (yr, > 0) and metallicity z.
 
         Every initial mass alive and modelled at that age: one point at each EEP
@@ -444,22 +489,25 @@ class Grid(_Owned):
             opt.phases = _phase_mask(phases)
         opt.phases &= ~_phase_mask(leave_out)
         if max_dlog_l is not None:
-            opt.max_dlog_l = float(max_dlog_l)
+            opt.max_dlog_l = _u.value(max_dlog_l, "fraction", "max_dlog_l")
+        defaults = phases is None and not leave_out and max_dlog_l is None
+        age, zz = _u.value(age_yr, "age", "age_yr"), _u.value(z, "fraction", "z")
         cap = 4096
         n = ctypes.c_size_t()
         while True:
             out = _np.empty(cap, dtype=STATE_DTYPE)
             e, pe = new_error()
-            rc = lib.hrt_isochrone_with(h, _u.value(age_yr, "age", "age_yr"), _u.value(z, "fraction", "z"),
-                                        ctypes.byref(opt), out.ctypes.data, cap,
-                                        ctypes.byref(n), pe)
+            if defaults:  # hrt_isochrone is hrt_isochrone_with(..., NULL, ...)
+                rc = lib.hrt_isochrone(h, age, zz, out.ctypes.data, cap, ctypes.byref(n), pe)
+            else:
+                rc = lib.hrt_isochrone_with(h, age, zz, ctypes.byref(opt), out.ctypes.data, cap, ctypes.byref(n), pe)
             if rc == Status.BUFFER and n.value > cap:
                 cap = n.value
                 continue
             check(rc, e, "hrt_isochrone")
-            return out[:n.value].copy() if n.value < cap else out
+            return _states(out[:n.value].copy() if n.value < cap else out)
 
-    def star(self, mass_msun, z):
+    def star(self, mass_msun: Num, z: Num) -> "Star":
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""
         return Star(self, mass_msun, z)
 
@@ -472,7 +520,7 @@ class Star(_Owned):
     alive; Grid.close() also closes its stars.  One thread at a time.
     """
 
-    def __init__(self, grid, mass_msun, z):
+    def __init__(self, grid: Grid, mass_msun: Num, z: Num):
         self._h = None
         self.grid = grid
         h = ctypes.c_void_p()
@@ -520,7 +568,7 @@ class Star(_Owned):
         check(lib.hrt_star_remnant(self._handle, ctypes.byref(k), ctypes.byref(m)), None, "hrt_star_remnant")
         return RemnantInfo(Remnant(k.value), m.value)
 
-    def at(self, age_yr):
+    def at(self, age_yr: ArrayArg):
         """State at age_yr (yr since birth).
 
         A scalar age gives a State (hrt_star_at); an array of ages gives a
@@ -550,9 +598,9 @@ class Star(_Owned):
         base = out.ctypes.data
         for j in range(n):  # one call per EEP: a few hundred at most
             check(lib.hrt_star_eep_state(h, j, base + j * _STATE_SIZE), None, "hrt_star_eep_state(%d)" % j)
-        return out
+        return _states(out)
 
-    def phases(self):
+    def phases(self) -> List[PhaseSpan]:
         """The star's timetable: list of PhaseSpan(phase, phase_start_yr, phase_end_yr), remnant included."""
         h = self._handle
         n = ctypes.c_size_t()
@@ -567,7 +615,7 @@ class Star(_Owned):
             return [PhaseSpan(Phase(s.phase) if s.phase in Phase._value2member_map_ else s.phase,
                               s.phase_start_yr, s.phase_end_yr) for s in spans[:n.value]]
 
-    def keypoints(self):
+    def keypoints(self) -> "collections.OrderedDict[str, float]":
         """Ages (yr) of the keypoints of the star's route, as an ordered dict {name: age_yr} (NaN if not reached)."""
         h = self._handle
         out = collections.OrderedDict()
@@ -584,20 +632,33 @@ class Star(_Owned):
                                                                   self.route_name)
 
 
-def wd_radius_rsun(mass_msun):
+def wd_radius_rsun(mass_msun: Num) -> float:
     """White dwarf radius (Rsun) at mass (Msun), zero-temperature mass-radius relation
     of Eggleton (quoted by Verbunt & Rappaport 1988, ApJ 332, 193); NaN outside (0, 1.44)."""
-    return lib.hrt_wd_radius_rsun(float(mass_msun))
+    return lib.hrt_wd_radius_rsun(_u.value(mass_msun, "mass", "mass_msun"))
 
 
-def wd_log_l(mass_msun, kind, log_l0, dt_yr):
+def wd_log_l(mass_msun: Num, kind: int, log_l0: Num, dt_yr: Num) -> float:
     """log10 L/Lsun of a white dwarf of mass (Msun) and kind (Remnant HE_WD/CO_WD/ONE_WD)
     dt_yr years after cooling began at log10 L/Lsun = log_l0, by Mestel's (1952, MNRAS 112,
     583) law; accurate to a factor of about 1.5 in age between 1e-4.5 and 1e-1 Lsun."""
-    return lib.hrt_wd_log_l(float(mass_msun), int(kind), float(log_l0), float(dt_yr))
+    return lib.hrt_wd_log_l(_u.value(mass_msun, "mass", "mass_msun"), int(kind), _u.value(log_l0, "fraction", "log_l0"),
+                            _u.value(dt_yr, "age", "dt_yr"))
 
 
-def upgrade_grid(old_path, new_path):
+def collapse_remnant(co_core_mass_msun: Num, final_mass_msun: Num) -> RemnantInfo:
+    """Remnant of core collapse from the final CO core and total masses (Msun): RemnantInfo(Remnant.NS or
+    Remnant.BH, gravitational mass Msun) by the "delayed" prescription of Fryer et al. (2012, ApJ 749, 91) as
+    hrt_collapse_remnant applies it (good to a factor of about 2 for black holes).  InvalidInputError for
+    masses not finite, negative, or a core heavier than the star."""
+    k, m = ctypes.c_int(), ctypes.c_double()
+    check(lib.hrt_collapse_remnant(_u.value(co_core_mass_msun, "mass", "co_core_mass_msun"),
+                                   _u.value(final_mass_msun, "mass", "final_mass_msun"), ctypes.byref(k),
+                                   ctypes.byref(m)), None, "hrt_collapse_remnant")
+    return RemnantInfo(Remnant(k.value), m.value)
+
+
+def upgrade_grid(old_path: PathArg, new_path: PathArg) -> None:
     """Convert a grid file of an older format version to the current one (hrt_grid_upgrade).
 
     old_path  a grid file of format version 1 up to the library's (tracks/FORMAT.md)

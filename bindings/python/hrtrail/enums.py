@@ -133,12 +133,29 @@ Interp = _InterpBase("Interp", _scan(lib.hrt_interp_name), module=__name__)
 Interp.__doc__ = "Interpolation type across initial mass and [Fe/H] (hrt_interp)."
 
 
+def phase_from_key(key):
+    """Phase of a key such as 'rgb' (hrt_phase_from_key); ValueError for a key the library does not know."""
+    code = lib.hrt_phase_from_key(key.encode())
+    if code == 0 and key != "unknown":
+        raise ValueError("%r is not a phase key (known: %s)" % (key, ", ".join(m.key for m in Phase)))
+    return Phase(code)
+
+
+def remnant_from_key(key):
+    """Remnant of a key such as 'co_wd' (hrt_remnant_from_key); ValueError for a key the library does not know."""
+    code = lib.hrt_remnant_from_key(key.encode())
+    if code < 0:
+        raise ValueError("%r is not a remnant key (known: %s)" % (key, ", ".join(m.key for m in Remnant)))
+    return Remnant(code)
+
+
 def as_interp(interp):
     """Interp member from an Interp, an int or a name such as 'steffen'."""
     if isinstance(interp, str):
-        try:
-            return Interp[interp.upper()]
-        except KeyError:
+        code = lib.hrt_interp_from_name(interp.lower().encode())
+        if code >= 0:
+            return Interp(code)
+        else:
             raise ValueError("unknown interpolation type %r (known: %s)"
                              % (interp, ", ".join(m.key for m in Interp))) from None
     return Interp(interp)

@@ -76,7 +76,8 @@ def check(code, err=None, what=""):
     if not msg:
         from ._clib import lib
         msg = text(lib.hrt_strerror(code))
-    raise error_for(code, (what + ": " if what else "") + msg)
+    prefix = what + ": " if what and not msg.startswith(what.split("(")[0] + ":") else ""
+    raise error_for(code, prefix + msg)
 
 
 def new_error():

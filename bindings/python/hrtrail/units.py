@@ -2,7 +2,9 @@
 
 Every number the binding passes to the library is in the units of the
 vocabulary (tracks/FORMAT.md): masses in solar masses, ages in years, Z a
-plain fraction.  Plain numbers and NumPy arrays are taken as already in those
+plain fraction (also [Fe/H], log g, log L: dex as plain numbers); Teff in
+K, distances in pc, parallaxes in mas, fluxes in W m^-2, magnitudes in mag,
+luminosities in W.  Plain numbers and NumPy arrays are taken as already in those
 units.  An astropy Quantity (or a list of them) is converted to them, so
 ``1 * u.Gyr`` is 1e9 yr, never 1 yr; a quantity in a unit that cannot be
 converted, and anything that is not a number (text, bytes, None, booleans),
@@ -21,7 +23,8 @@ except ImportError:  # pragma: no cover - NumPy is optional for the scalar API
     _np = None
 
 # the library's unit of each kind of input, as astropy spells it
-_UNITS = {"mass": "solMass", "age": "yr", "fraction": ""}
+_UNITS = {"mass": "solMass", "age": "yr", "fraction": "", "temperature": "K", "distance": "pc",
+          "parallax": "mas", "flux": "W / m2", "magnitude": "mag", "power": "W"}
 
 
 def _has_unit(x):
