@@ -883,12 +883,13 @@ static double eddington_logl(double m, double x)
 #define EDD_MARGIN_DEX 0.046
 
 /* Surface hydrogen fraction of a supergiant whose hydrogen envelope holds a
- * fraction ef of its mass: the initial X down to 20 %, then falling to 0 with
- * the envelope (the layers the receding convective core left, richer in
- * helium, come to the surface; late-type WN stars show X = 0.1-0.5, from
- * memory) [engineering choice]: X_s = X (3 u^2 - 2 u^3), u = ef / 0.2; at the
- * Wolf-Rayet label (ef < 0.05) X_s < 0.16 X. */
-static double sg_surface_x(double x0, double ef) { return x0 * sstep(ef, 0.0, 0.2); }
+ * fraction ef of its mass: the initial X while the envelope holds 5 % of the
+ * mass or more, then falling to 0 with it (the layers the receding
+ * convective core left, richer in helium, come to the surface; late-type WN
+ * stars show X = 0.1-0.5, from memory) [engineering choice]:
+ * X_s = X (3 u^2 - 2 u^3), u = ef / 0.05.  A star is labelled Wolf-Rayet
+ * only below ef = 0.05, so every other state has the initial X at its surface. */
+static double sg_surface_x(double x0, double ef) { return x0 * sstep(ef, 0.0, 0.05); }
 
 static int sg_phase(double logt, double env_frac)
 {
@@ -938,12 +939,16 @@ static double sg_logt(const sg_surface *sf, double logl, double m, double mhe, d
     return lt + (LOGT_WR - lt) * w;
 }
 
-/* Luminosity kept below the Eddington luminosity of the star's surface
- * composition (times 0.9, smoothly). */
+/* Luminosity kept below 0.9 times the Eddington luminosity for the initial
+ * hydrogen fraction, smoothly, in every state [engineering choice]: stricter
+ * than the surface composition requires (a helium star's X = 0 allows 1.75
+ * times more), so that interpolation between a stripped star and one that
+ * keeps its envelope stays below the limit too; helium stars of 5-40 Msun
+ * have L / L_Edd(X = 0) = 0.2-0.5 (from memory), well inside it. */
 static double sg_edd_cap(const ctx *c, double logl, double m, double mhe)
 {
-    double ef = fmax(m - mhe, 0.0) / m;
-    return smin(logl, eddington_logl(m, sg_surface_x(c->x, ef)) - EDD_MARGIN_DEX, 0.02);
+    (void)mhe;
+    return smin(logl, eddington_logl(m, c->x) - EDD_MARGIN_DEX, 0.02);
 }
 
 /* What the supergiant segments share. */
