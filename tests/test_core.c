@@ -545,7 +545,8 @@ END_TEST
 
 /* Core collapse (Fryer et al. 2012 delayed prescription, from memory):
  * neutron stars of 1.2-1.5 Msun +- 0.2 for small CO cores (observed birth
- * masses: Ozel et al. 2012, ApJ 757, 55), black holes for large ones. */
+ * masses: Ozel et al. 2012, ApJ 757, 55), black holes for large ones, and
+ * the pair-instability gap. */
 START_TEST(test_collapse_remnant)
 {
     int kind;
@@ -556,6 +557,21 @@ START_TEST(test_collapse_remnant)
     ck_assert_int_eq(hrt_collapse_remnant(12.0, 14.0, &kind, &m), HRT_OK);
     ck_assert_int_eq(kind, HRT_REMNANT_BH);
     ck_assert_double_eq_tol(m, 0.9 * 14.0, 1e-12); /* all of the star falls back */
+    /* pair instability: pulsations leave at most a 45 Msun black hole (Farmer
+     * et al. 2019, ApJ 887, 53: the lower edge of the gap at 45 Msun); CO
+     * cores of 60-120 Msun (helium cores of about 64-133, Woosley 2017, ApJ
+     * 836, 244) leave nothing; heavier ones collapse whole */
+    ck_assert_int_eq(hrt_collapse_remnant(45.0, 80.0, &kind, &m), HRT_OK);
+    ck_assert_int_eq(kind, HRT_REMNANT_BH);
+    ck_assert(m > 40.0 && m <= 45.0 + 1e-9);
+    ck_assert_int_eq(hrt_collapse_remnant(20.0, 60.0, &kind, &m), HRT_OK); /* below pulsations: direct collapse */
+    ck_assert_double_eq_tol(m, 0.9 * 60.0, 1e-12);
+    ck_assert_int_eq(hrt_collapse_remnant(70.0, 75.0, &kind, &m), HRT_OK);
+    ck_assert_int_eq(kind, HRT_REMNANT_NONE);
+    ck_assert_double_eq(m, 0.0);
+    ck_assert_int_eq(hrt_collapse_remnant(125.0, 140.0, &kind, &m), HRT_OK);
+    ck_assert_int_eq(kind, HRT_REMNANT_BH);
+    ck_assert_double_eq_tol(m, 0.9 * 140.0, 1e-12);
     ck_assert_int_eq(hrt_collapse_remnant(5.0, 4.0, &kind, &m), HRT_E_DOMAIN);
     ck_assert_int_eq(hrt_collapse_remnant(NAN, 4.0, &kind, &m), HRT_E_DOMAIN);
     ck_assert_int_eq(hrt_collapse_remnant(1.0, 4.0, NULL, &m), HRT_E_NULL);

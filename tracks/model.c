@@ -303,30 +303,46 @@ double mdot_reimers(const gen_params *p, double logl, double logr, double m)
     return 4e-13 * p->eta_reimers * pow(10.0, logl + logr) / m;
 }
 
-/* Vink, de Koter & Lamers (2001, A&A 369, 574) hot-side rate, Z^0.85 scaling
- * [read], coefficients [from memory], v_inf/v_esc = 2.6, applied to all hot
- * stars (log Teff > 4.0, blended in over 0.1 dex) [engineering choice]. */
+/* Vink, de Koter & Lamers (2001, A&A 369, 574) line-driven winds of hot
+ * stars, both sides of the bi-stability jump, each with its Z^0.85 scaling
+ * [read: form, the Z^0.85 exponent, v_inf/v_esc = 2.6 hot and 1.3 cool;
+ * coefficients from memory]:
+ *   hot  (Teff > 27.5 kK): log Mdot = -6.697 + 2.194 log(L/1e5) - 1.313 log(M/30)
+ *        - 1.226 log(2.6/2) + 0.933 log(T/40 kK) - 10.92 log^2(T/40 kK) + 0.85 log(Z/Zsun)
+ *   cool (12.5-22.5 kK): log Mdot = -6.688 + 2.210 log(L/1e5) - 1.339 log(M/30)
+ *        - 1.601 log(1.3/2) + 1.07 log(T/20 kK) + 0.85 log(Z/Zsun)
+ * The jump (25 kK, Vink et al. 2001 [from memory]) is a logistic of width
+ * 0.015 dex in Teff, and the cool side fades out between log Teff 4.0 and
+ * 3.9 where the cool-star rate takes over [engineering choice].  The paper
+ * covers 1/30-3 Zsun; below Z = 5e-4 the scaling is extrapolated. */
 static double mdot_vink(double logl, double m, double logt, double zeta)
 {
-    double lt = logt - log10(40000.0);
-    double lg = -6.697 + 2.194 * (logl - 5.0) - 1.313 * log10(m / 30.0) - 1.226 * log10(2.6 / 2.0) +
-                0.933 * lt - 10.92 * lt * lt + 0.85 * zeta;
-    return pow(10.0, lg) * sstep(logt, 4.0, 4.1);
+    double lt40 = logt - log10(40000.0), lt20 = logt - log10(20000.0);
+    double hot = -6.697 + 2.194 * (logl - 5.0) - 1.313 * log10(m / 30.0) - 1.226 * log10(2.6 / 2.0) + 0.933 * lt40 -
+                 10.92 * lt40 * lt40;
+    double cool = -6.688 + 2.210 * (logl - 5.0) - 1.339 * log10(m / 30.0) - 1.601 * log10(1.3 / 2.0) + 1.07 * lt20;
+    double w = logistic((logt - log10(25000.0)) / 0.015);
+    return (w * pow(10.0, hot) + (1.0 - w) * pow(10.0, cool)) * pow(10.0, 0.85 * zeta) * sstep(logt, 3.9, 4.0);
 }
 
-/* Nieuwenhuijzen & de Jager (1990, A&A 231, 134): 9.6e-15 R^0.81 L^1.24 M^0.16
- * [from memory], scaled by (Z/Zsun)^0.5 [engineering choice]. */
+/* Cool supergiants: Nieuwenhuijzen & de Jager (1990, A&A 231, 134)
+ * 9.6e-15 R^0.81 L^1.24 M^0.16 Msun/yr [from memory], scaled by (Z/Zsun)^0.7
+ * as Mauron & Josselin (2011, A&A 526, A156) propose for red supergiants of
+ * other metallicities [from memory]. */
 static double mdot_ndj(double logl, double logr, double m, double zeta)
 {
-    return 9.6e-15 * pow(10.0, 0.81 * logr + 1.24 * logl) * pow(m, 0.16) * pow(10.0, 0.5 * zeta);
+    return 9.6e-15 * pow(10.0, 0.81 * logr + 1.24 * logl) * pow(m, 0.16) * pow(10.0, 0.7 * zeta);
 }
 
-/* Wolf-Rayet winds 1e-13 L^1.5 Msun/yr (Hamann, Koesterke & Wessolowski 1995,
- * as reduced by a factor 10 for clumping) [from memory], scaled by
- * (Z/Zsun)^0.85 [engineering choice]. */
-static double mdot_wr(double logl, double zeta)
+/* Wolf-Rayet (helium-star) winds: Nugis & Lamers (2000, A&A 360, 227)
+ * log Mdot = -11.00 + 1.29 log L + 1.73 log Y + 0.47 log Z_s [from memory],
+ * taken with the solar Z_s = 0.014 and scaled by (Z/Zsun)^0.86, the
+ * metallicity dependence Vink & de Koter (2005, A&A 442, 587) find for WN
+ * stars [from memory] (the iron lines drive the wind; the star's own carbon
+ * and oxygen do not scale with Z).  y_s: surface helium fraction. */
+static double mdot_wr(double logl, double y_s, double zeta)
 {
-    return 1e-14 * pow(10.0, 1.5 * logl) * pow(10.0, 0.85 * zeta);
+    return pow(10.0, -11.0 + 1.29 * logl + 1.73 * log10(y_s) + 0.47 * log10(0.014) + 0.86 * zeta);
 }
 
 /* ------------------------------------------------------------------------
@@ -597,21 +613,34 @@ static void route_giant(ctx *c)
 #define LOGL_HD 5.5
 /* Width in log L over which stars turn from red to blue supergiants at the
  * limit (yellow supergiants in between) [engineering choice]. */
-#define HD_WIDTH 0.12
+#define HD_WIDTH 0.2
 
 /* Red-supergiant temperature: 3800 K at Z = 0.014 (Levesque et al. 2005, ApJ
  * 628, 973: 3500-4300 K) [from memory], hotter at low Z (Davies et al. 2018)
  * [read: trend; slope engineering choice]. */
 static double logt_rsg(double zeta) { return 3.58 - 0.04 * zeta; }
 #define LOGT_BSG 4.3 /* hot post-main-sequence star above the limit [engineering choice] */
-#define LOGT_WR 4.8  /* stripped helium star [engineering choice] */
+#define LOGT_WR 4.8  /* stripped helium star (WN stars: 40-90 kK, from memory) [engineering choice] */
 
+/* Eddington luminosity for electron scattering, L_Edd = 4 pi G M c / kappa,
+ * kappa = 0.02 (1 + X) m^2/kg with X the surface hydrogen fraction [read:
+ * textbook]. */
 static double eddington_logl(double m, double x)
 {
-    /* L_Edd = 4 pi G M c / kappa_es, kappa_es = 0.02 (1 + X) m^2/kg [read: textbook]. */
     double kappa = 0.02 * (1.0 + x);
     return log10(4.0 * PI * HRT_G_SI * m * msun_kg() * HRT_C_M_S / kappa / HRT_LSUN_W);
 }
+/* Largest L / L_Edd the route allows: 0.9, reached smoothly (0.02 dex) [engineering choice]. */
+#define EDD_MARGIN_DEX 0.046
+
+/* Surface hydrogen fraction of a supergiant whose hydrogen envelope holds a
+ * fraction ef of its mass: the initial X while the envelope holds 5 % of the
+ * mass or more, then falling to 0 with it (the layers the receding
+ * convective core left, richer in helium, come to the surface; late-type WN
+ * stars show X = 0.1-0.5, from memory) [engineering choice]:
+ * X_s = X (3 u^2 - 2 u^3), u = ef / 0.05.  A star is labelled Wolf-Rayet
+ * only below ef = 0.05, so every other state has the initial X at its surface. */
+static double sg_surface_x(double x0, double ef) { return x0 * sstep(ef, 0.0, 0.05); }
 
 static int sg_phase(double logt, double env_frac)
 {
@@ -619,6 +648,30 @@ static int sg_phase(double logt, double env_frac)
         return HRT_PHASE_WR;
     return logt > 3.8 ? HRT_PHASE_BSG : HRT_PHASE_RSG;
 }
+
+/* Helium-core mass at the end of core helium burning without wind erosion
+ * [engineering choice]: 0.1 M^1.4 below about 30 Msun, 0.5 M - 4 above, which
+ * follows M_He = (13/24)(M - 20) of Heger & Woosley (2002, ApJ 567, 532)
+ * [from memory] to 2 Msun at 60-150 Msun; joined by a logistic of 0.04 dex in
+ * mass at 30 Msun (the pieces differ by 0.7 Msun there). */
+static double sg_he_core(double m0)
+{
+    double s = logistic((log10(m0) - log10(30.0)) / 0.04);
+    return (1.0 - s) * 0.1 * pow(m0, 1.4) + s * (0.5 * m0 - 4.0);
+}
+
+/* Carbon-oxygen core at collapse as a fraction of the helium core: 0.70 for
+ * cores up to 8 Msun, 0.88 above 40 Msun (the helium shell of a very massive
+ * core is a small part of it) [engineering choice]. */
+static double sg_co_fraction(double mhe)
+{
+    return 0.70 + 0.18 * sstep(log10(fmax(mhe, 1e-3)), log10(8.0), log10(40.0));
+}
+
+/* Luminosity of a stripped helium core eroded below the mass it would have
+ * had: L proportional to M^1.8, the slope of helium-star mass-luminosity
+ * relations at 5-30 Msun [from memory: 1.5-2] [engineering choice]. */
+#define HE_STAR_MLR_SLOPE 1.8
 
 /* Supergiant surface temperature [engineering choice]: red below the
  * Humphreys-Davidson limit (with the blue loop of 8-12 Msun stars), blue above
@@ -637,104 +690,138 @@ static double sg_logt(const sg_surface *sf, double logl, double m, double mhe, d
     return lt + (LOGT_WR - lt) * w;
 }
 
+/* Luminosity kept below 0.9 times the Eddington luminosity for the initial
+ * hydrogen fraction, smoothly, in every state [engineering choice]: stricter
+ * than the surface composition requires (a helium star's X = 0 allows 1.75
+ * times more), so that interpolation between a stripped star and one that
+ * keeps its envelope stays below the limit too; helium stars of 5-40 Msun
+ * have L / L_Edd(X = 0) = 0.2-0.5 (from memory), well inside it. */
+static double sg_edd_cap(const ctx *c, double logl, double m, double mhe)
+{
+    (void)mhe;
+    return smin(logl, eddington_logl(m, c->x) - EDD_MARGIN_DEX, 0.02);
+}
+
+/* What the supergiant segments share. */
+typedef struct sg_plan {
+    double m_t, logl_t, logt_t, mhe_t; /* the star and its helium core at the TAMS */
+    double mhe_fin0;                    /* helium core at the end of helium burning, before erosion */
+    double logl_c0, logl_c1;            /* luminosity at the start and end of helium burning */
+    double t_cross, t_cheb, t_late;     /* durations, yr */
+    sg_surface sf;
+} sg_plan;
+
+/* Wind mass-loss rate (Msun/yr) of a supergiant: the hydrogen envelope's
+ * winds (cool: Nieuwenhuijzen & de Jager; hot: Vink et al.; above the
+ * Humphreys-Davidson limit an eruptive rate) give way to the helium star's
+ * (Nugis & Lamers) as the envelope goes (its fraction of the mass below 5 %). */
+static double sg_mdot(const ctx *c, const sg_plan *g, double logl, double logt, double m, double mhe)
+{
+    double ef = fmax(m - mhe, 0.0) / m, xs = sg_surface_x(c->x, ef);
+    double logr = logr_from_lt(logl, logt);
+    /* Eruptive (LBV-like) loss above the limit [engineering choice]: at solar
+     * Z it would strip the envelope within 60 % of helium burning, fading in
+     * over 0.15 dex in L; scaled by (Z/Zsun)^0.5, because the instability that
+     * drives it sits in the iron-opacity bump of the envelope, weaker at low Z
+     * (our reading; continuum-driven eruptions may not depend on Z at all). */
+    double erupt = logistic((logl - LOGL_HD) / 0.2) * (g->m_t - g->mhe_t) / (0.6 * g->t_cheb) * pow(10.0, 0.5 * c->zeta);
+    double md_env = mdot_ndj(logl, logr, m, c->zeta) * (1.0 - sstep(logt, 3.8, 4.0)) +
+                    mdot_vink(logl, m, logt, c->zeta) + erupt;
+    double w = 1.0 - sstep(ef, 0.0, 0.05);
+    return (1.0 - w) * md_env + w * mdot_wr(logl, 1.0 - xs - c->z, c->zeta);
+}
+
+/* --- Hertzsprung-gap crossing: tams to cheb_start --- */
+static void sg_cross(ctx *c, const sg_plan *g)
+{
+    const int n = 200;
+    double age0 = c->age, m = g->m_t;
+    double logt_c0 = sg_logt(&g->sf, g->logl_c0, g->m_t, g->mhe_t, 0.0);
+    set_last_phase(c, HRT_PHASE_SUBGIANT);
+    for (int i = 1; i <= n; i++) {
+        double u = (double)i / n, dt = g->t_cross / n;
+        double mhe = g->mhe_t + (g->mhe_fin0 - g->mhe_t) * 0.02 * u;
+        double logl = sg_edd_cap(c, g->logl_t + (g->logl_c0 - g->logl_t) * u, m, mhe);
+        double logt = g->logt_t + (logt_c0 - g->logt_t) * u;
+        m -= sg_mdot(c, g, logl, logt, m, mhe) * dt;
+        push(c, age0 + g->t_cross * u, logl, logt, m, mhe, 0.0, HRT_PHASE_SUBGIANT);
+    }
+}
+
+/* --- core helium burning as a supergiant: cheb_start to cheb_end --- */
+static void sg_cheb(ctx *c, const sg_plan *g)
+{
+    const int n = 400;
+    double age0 = c->age, mhe_s = c->mhe, m = c->m;
+    for (int i = 1; i <= n; i++) {
+        double phi = (double)i / n, dt = g->t_cheb / n;
+        double mhe_target = mhe_s + (g->mhe_fin0 - mhe_s) * phi;
+        double mhe = fmin(mhe_target, m);
+        /* an eroded helium core is fainter [engineering choice] */
+        double logl = g->logl_c0 + (g->logl_c1 - g->logl_c0) * phi + HE_STAR_MLR_SLOPE * log10(mhe / mhe_target);
+        logl = sg_edd_cap(c, logl, m, mhe);
+        double logt = sg_logt(&g->sf, logl, m, mhe, phi);
+        m -= sg_mdot(c, g, logl, logt, m, mhe) * dt;
+        if (m < 0.5 * mhe_s)
+            m = 0.5 * mhe_s;
+        mhe = fmin(mhe_target, m);
+        double env = fmax(m - mhe, 0.0);
+        push(c, age0 + g->t_cheb * phi, logl, logt, m, mhe, sg_co_fraction(mhe) * mhe * phi,
+             sg_phase(logt, env / m));
+    }
+    /* the keypoint sample opening this segment takes the phase of the segment */
+    c->t->s[c->t->kp[c->t->n_kp - 1]].phase = c->t->s[c->t->kp[c->t->n_kp - 1] + 1].phase;
+}
+
+/* --- carbon burning onwards, 1 % of t_CHeB [engineering choice]: cheb_end to core_collapse --- */
+static void sg_late(ctx *c, const sg_plan *g)
+{
+    const int n = 100;
+    double age0 = c->age, logl0 = c->logl, m1 = c->m, mhe1 = c->mhe, co0 = c->mco;
+    double co1 = sg_co_fraction(mhe1) * mhe1;
+    for (int i = 1; i <= n; i++) {
+        double u = (double)i / n;
+        double logl = sg_edd_cap(c, logl0 + 0.08 * u, m1, mhe1); /* [engineering choice] */
+        double logt = sg_logt(&g->sf, logl, m1, mhe1, 1.0);
+        int ph = sg_phase(logt, (m1 - mhe1) / m1);
+        push(c, age0 + g->t_late * u, logl, logt, m1, mhe1, co0 + (co1 - co0) * u, ph);
+        if (i == 1)
+            c->t->s[c->t->kp[c->t->n_kp - 1]].phase = ph;
+    }
+}
+
 static void route_supergiant(ctx *c)
 {
+    sg_plan g;
     seg_ms(c);
-    double m_t = c->m, logl_t = c->logl, logt_t = c->logt;
-    double mhe_t = q_tams(c->m0) * m_t;
-    /* Final He-core mass before winds: 0.1 M^1.4 [engineering choice]. */
-    double mhe_fin0 = 0.1 * pow(c->m0, 1.4);
-    if (mhe_fin0 < mhe_t * 1.05)
-        mhe_fin0 = mhe_t * 1.05;
-    /* CHeB luminosity 1.4 -> 1.9 L_TAMS at 10 Msun, 1.1 -> 1.25 at >= 60 Msun,
-     * kept below 0.9 L_Edd [engineering choice; 1.5-2 L_TAMS is textbook]. */
+    g.m_t = c->m, g.logl_t = c->logl, g.logt_t = c->logt;
+    g.mhe_t = q_tams(c->m0) * g.m_t;
+    g.mhe_fin0 = smax(sg_he_core(c->m0), 1.05 * g.mhe_t, 0.05);
+    /* CHeB luminosity 1.4 -> 1.9 L_TAMS at 10 Msun, 1.1 -> 1.25 at >= 60 Msun
+     * [engineering choice; 1.5-2 L_TAMS is textbook]. */
     static const double fx[] = {1.0, 1.778};
     static const double f0y[] = {0.146, 0.041}, f1y[] = {0.279, 0.097};
     double lx = log10(c->m0);
-    double logl_c0 = logl_t + soft_table(fx, f0y, 2, 0.05, lx);
-    double logl_c1 = logl_t + soft_table(fx, f1y, 2, 0.05, lx);
-    double t_cross = 0.008 * c->ms.t_ms;   /* [from memory: 0.5-1 % of t_MS] */
-    double t_cheb = f_cheb(c->m0) * c->ms.t_ms;
-    double t_late = 0.01 * t_cheb;         /* C burning onwards [engineering choice] */
-    sg_surface sf = {logt_rsg(c->zeta), loop_amplitude(c->m0, c->zeta)};
+    g.logl_c0 = g.logl_t + soft_table(fx, f0y, 2, 0.05, lx);
+    g.logl_c1 = g.logl_t + soft_table(fx, f1y, 2, 0.05, lx);
+    g.t_cross = 0.008 * c->ms.t_ms;   /* [from memory: 0.5-1 % of t_MS] */
+    g.t_cheb = f_cheb(c->m0) * c->ms.t_ms;
+    g.t_late = 0.01 * g.t_cheb;
+    g.sf = (sg_surface){logt_rsg(c->zeta), loop_amplitude(c->m0, c->zeta)};
 
-
-    double m = m_t, mhe = mhe_t, mco = 0.0;
-    /* --- Hertzsprung-gap crossing --- */
-    {
-        const int n = 200;
-        double age0 = c->age;
-        double logt_c0 = sg_logt(&sf, logl_c0, m_t, mhe_t, 0.0);
-        set_last_phase(c, HRT_PHASE_SUBGIANT);
-        for (int i = 1; i <= n; i++) {
-            double u = (double)i / n, dt = t_cross / n;
-            double logl = logl_t + (logl_c0 - logl_t) * u;
-            double logt = logt_t + (logt_c0 - logt_t) * u;
-            double logr = logr_from_lt(logl, logt);
-            double md = mdot_vink(logl, m, logt, c->zeta) + mdot_ndj(logl, logr, m, c->zeta) * (1.0 - sstep(logt, 3.8, 4.0));
-            m -= md * dt;
-            mhe = mhe_t + (mhe_fin0 - mhe_t) * 0.02 * u;
-            push(c, age0 + t_cross * u, logl, logt, m, mhe, 0.0, HRT_PHASE_SUBGIANT);
-        }
-    }
+    sg_cross(c, &g);
     keypoint(c); /* cheb_start */
-    /* --- core helium burning as a supergiant --- */
-    {
-        const int n = 400;
-        double age0 = c->age, mhe_s = c->mhe;
-        for (int i = 1; i <= n; i++) {
-            double phi = (double)i / n, dt = t_cheb / n;
-            double logl = logl_c0 + (logl_c1 - logl_c0) * phi;
-            double ledd = eddington_logl(m, c->x);
-            logl = smin(logl, ledd - 0.046, 0.02);
-            double mhe_target = mhe_s + (mhe_fin0 - mhe_s) * phi;
-            mhe = fmin(mhe_target, m);
-            double logt = sg_logt(&sf, logl, m, mhe, phi);
-            double logr = logr_from_lt(logl, logt);
-            double env = fmax(m - mhe, 0.0);
-            double h = logistic((logl - LOGL_HD) / 0.15);
-            /* envelope winds: cool (de Jager type), hot (Vink), and above the
-             * Humphreys-Davidson limit an eruptive rate that would strip the
-             * envelope within 60 % of CHeB, fading in over 0.15 dex in L
-             * [engineering choice] */
-            double md_env = mdot_ndj(logl, logr, m, c->zeta) * (1.0 - sstep(logt, 3.8, 4.0)) +
-                            mdot_vink(logl, m, logt, c->zeta) + h * (m_t - mhe_t) / (0.6 * t_cheb);
-            md_env *= env / (env + 0.02 * m);
-            double md = md_env + mdot_wr(logl, c->zeta) * (1.0 - env / (env + 0.02 * m));
-            m -= md * dt;
-            if (m < 0.5 * mhe_s)
-                m = 0.5 * mhe_s;
-            mhe = fmin(mhe_target, m);
-            mco = 0.65 * mhe * phi;
-            push(c, age0 + t_cheb * phi, logl, logt, m, mhe, mco, HRT_PHASE_BSG);
-            c->t->s[c->t->n - 1].phase = sg_phase(logt, env / m);
-        }
-        /* the keypoint sample opening this segment takes the phase of the segment */
-        c->t->s[c->t->kp[c->t->n_kp - 1]].phase = c->t->s[c->t->kp[c->t->n_kp - 1] + 1].phase;
-    }
+    sg_cheb(c, &g);
     keypoint(c); /* cheb_end */
-    /* --- late burning stages to core collapse --- */
-    {
-        const int n = 100;
-        double age0 = c->age, logl0 = c->logl, m1 = c->m, mhe1 = c->mhe;
-        for (int i = 1; i <= n; i++) {
-            double u = (double)i / n;
-            double logl = logl0 + 0.08 * u; /* [engineering choice] */
-            double logt = sg_logt(&sf, logl, m1, mhe1, 1.0);
-            double co = 0.65 * mhe1 + (0.70 * mhe1 - 0.65 * mhe1) * u;
-            int ph = sg_phase(logt, (m1 - mhe1) / m1);
-            push(c, age0 + t_late * u, logl, logt, m1, mhe1, co, i == n ? HRT_PHASE_NS : ph);
-            if (i == 1)
-                c->t->s[c->t->kp[c->t->n_kp - 1]].phase = ph;
-        }
-    }
+    sg_late(c, &g);
     keypoint(c); /* core_collapse */
     int kind = HRT_REMNANT_NS;
     double mrem = NAN; /* refused by the grid builder if the rule cannot apply */
-    hrt_collapse_remnant(c->mco, c->m, &kind, &mrem); /* Fryer et al. 2012, in lib/core/remnant.c */
+    hrt_collapse_remnant(c->mco, c->m, &kind, &mrem); /* Fryer et al. 2012 and pair instability, lib/core/remnant.c */
     c->t->remnant = kind;
-    c->t->remnant_mass = mrem;
-    c->t->s[c->t->n - 1].phase = kind == HRT_REMNANT_BH ? HRT_PHASE_BH : HRT_PHASE_NS;
+    c->t->remnant_mass = kind == HRT_REMNANT_NONE ? NAN : mrem;
+    if (kind != HRT_REMNANT_NONE) /* a pair-instability supernova keeps the star's last phase */
+        c->t->s[c->t->n - 1].phase = kind == HRT_REMNANT_BH ? HRT_PHASE_BH : HRT_PHASE_NS;
 }
 
 int gen_track_compute(const gen_params *p, double m, double z, int route, gen_track *t, char *msg,

@@ -87,6 +87,15 @@ void life_free(life *L)
     memset(L, 0, sizeof *L);
 }
 
+/* Whether the star's track reaches its route's last keypoint: then a star
+ * with no remnant was disrupted, rather than followed only part-way. */
+static int life_track_complete(const life *L)
+{
+    size_t nk = hrt_star_n_keypoints(L->s);
+    double a_last = NAN;
+    return nk > 0 && hrt_star_keypoint_age(L->s, nk - 1, &a_last) == HRT_OK && isfinite(a_last);
+}
+
 void life_print_text(const cli *c, const life *L, const char *indent)
 {
     char a[64];
@@ -104,6 +113,8 @@ void life_print_text(const cli *c, const life *L, const char *indent)
     format_age(a, sizeof a, L->end_age);
     if (L->remnant != HRT_REMNANT_NONE)
         printf("%sFate: %s of %.4g Msun, from age %s\n", indent, hrt_remnant_name(L->remnant), L->remnant_mass, a);
+    else if (life_track_complete(L))
+        printf("%sFate: disrupted at age %s, nothing left (no remnant: a pair-instability supernova)\n", indent, a);
     else
         printf("%sFate: unknown; the track ends at age %s and the grid names no remnant\n", indent, a);
 }

@@ -450,7 +450,11 @@ HRT_API void hrt_star_free(hrt_star *star);
  * @brief State of the star at age_yr (years since birth).
  * O(log n_eep), no allocation.  Returned (function value) and out->status:
  * HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (NaN, infinite or negative age),
- * HRT_E_AGE_RANGE (past a truncated track with no known remnant).
+ * HRT_E_AGE_RANGE (past a truncated track with no known remnant).  Past
+ * the end of a complete track that leaves no remnant (a pair-instability
+ * supernova) the state is HRT_OK, flagged HRT_FLAG_REMNANT | HRT_FLAG_DARK,
+ * with remnant HRT_REMNANT_NONE, phase HRT_PHASE_UNKNOWN, mass 0 and L, Teff,
+ * R, g NaN: nothing is left.
  */
 HRT_API int hrt_star_at(const hrt_star *star, double age_yr, hrt_state *out);
 /** Number of EEPs of the star's interpolated track. */
@@ -570,15 +574,20 @@ HRT_API double hrt_wd_log_l(double mass_msun, int kind, double log_l0, double dt
 
 /**
  * @brief Remnant of core collapse from the final carbon-oxygen core and
- * total masses (Msun): kind (HRT_REMNANT_NS or HRT_REMNANT_BH) and
- * gravitational mass (Msun).
+ * total masses (Msun): kind (HRT_REMNANT_NS, HRT_REMNANT_BH, or
+ * HRT_REMNANT_NONE for a star disrupted by a pair-instability supernova) and
+ * gravitational mass (Msun; 0 for none).
  *
  * The "delayed" prescription of Fryer et al. (2012, ApJ 749, 91) [from
  * memory], with the steps of its proto-neutron-star mass smoothed over 0.3
  * Msun of CO core; baryonic masses below 2.5 Msun make neutron stars with
  * M_bar = M_grav + 0.075 M_grav^2 (Lattimer & Yahil 1989, ApJ 340, 426),
- * heavier ones black holes of 0.9 M_bar.  Good to a factor of about 2 for
- * black holes; real explodability is not monotonic in mass.
+ * heavier ones black holes of 0.9 M_bar.  Pair instability (Woosley 2017,
+ * ApJ 836, 244; Farmer et al. 2019, ApJ 887, 53): pulsations fading in over
+ * CO cores of 26-34 Msun leave at most 50 Msun of baryons (a 45 Msun black
+ * hole); CO cores of 60-120 Msun leave nothing; heavier ones collapse whole.
+ * Good to a factor of about 2 for black holes and about 10 Msun on the
+ * edges of the gap; real explodability is not monotonic in mass.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (masses not
  * finite, negative, or a core heavier than the star).
  */

@@ -286,6 +286,21 @@ static size_t find_cheb_start(kp_search *k)
     return e;
 }
 
+/* Whether the last sample is a core collapse by the phase column: labelled
+ * with its remnant (ns, bh), or a star whose CO core the remnant rule
+ * disrupts by pair instability (a supernova that leaves no remnant to label). */
+static int ends_collapsing(const hrt_kp_columns *c, size_t last)
+{
+    if (c->phase[last] == HRT_PHASE_NS || c->phase[last] == HRT_PHASE_BH)
+        return 1;
+    int kind = HRT_REMNANT_NS;
+    double m_rem;
+    return c->co_core_mass_msun && c->mass_msun &&
+           hrt_collapse_remnant(fmin(c->co_core_mass_msun[last], c->mass_msun[last]), c->mass_msun[last], &kind,
+                                &m_rem) == HRT_OK &&
+           kind == HRT_REMNANT_NONE;
+}
+
 /* The estimate of cheb_end for a star that collapses (the phase column marks
  * no end of helium burning in a supergiant): the last sample before
  * CHEB_FRACTION of the time from cheb_start to the collapse. */
@@ -293,8 +308,7 @@ static size_t cheb_end_estimate(kp_search *k)
 {
     const hrt_kp_columns *c = k->c;
     size_t last = c->n - 1;
-    if (!c->phase || k->prev_kind != KP_CHEB_START || k->from >= last ||
-        (c->phase[last] != HRT_PHASE_NS && c->phase[last] != HRT_PHASE_BH))
+    if (!c->phase || k->prev_kind != KP_CHEB_START || k->from >= last || !ends_collapsing(c, last))
         return NOT_FOUND;
     double t_end = c->age_yr[k->prev] + CHEB_FRACTION * (c->age_yr[last] - c->age_yr[k->prev]);
     size_t s = k->from;

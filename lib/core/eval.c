@@ -533,7 +533,10 @@ int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind,
         return HRT_OK;
     }
     if (lt >= a_last) {
-        if (kind == HRT_REMNANT_NONE) {
+        /* no remnant: a track that stops early has no answer past its end;
+         * one that reaches its route's last EEP ends in a star disrupted
+         * without remnant (pair-instability supernova) */
+        if (kind == HRT_REMNANT_NONE && (size_t)n < q->g->routes[q->route].n_eep) {
             s->status = HRT_E_AGE_RANGE;
             return HRT_E_AGE_RANGE;
         }

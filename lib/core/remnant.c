@@ -24,13 +24,45 @@ double hrt_wd_radius_rsun(double m)
 
 static double logistic(double x) { return 1.0 / (1.0 + exp(-x)); }
 
+/* C1 smoothstep of x between a and b (0 below a, 1 above b). */
+static double smoothstep(double x, double a, double b)
+{
+    double u = (x - a) / (b - a);
+    return u <= 0.0 ? 0.0 : u >= 1.0 ? 1.0 : u * u * (3.0 - 2.0 * u);
+}
+
+/* Pair instability, by the carbon-oxygen core mass at collapse (Msun).
+ * Pulsations begin in helium cores of about 30-35 Msun and remove mass,
+ * pair-instability supernovae leave nothing for helium cores of about 64 to
+ * 133 Msun, and heavier cores collapse (Woosley 2017, ApJ 836, 244 [read:
+ * abstract and introduction, "no black holes between 52 and 133 Msun"]);
+ * the heaviest black hole below the gap is 45 Msun (Farmer et al. 2019, ApJ
+ * 887, 53 [read: abstract]) and pair-instability supernovae begin at CO cores
+ * of about 60 Msun [from memory].  Helium-core limits are taken to CO cores
+ * with CO/He = 0.88-0.9 [engineering choice]:
+ *   pulsational mass loss fades in over CO 26-34 Msun (helium cores of 30-39); with it the baryonic
+ *   mass left is at most 50 Msun (45 Msun black hole);
+ *   CO 60-120 Msun: pair-instability supernova, no remnant;
+ *   above 120 Msun: direct collapse. */
+#define TRAIL_CO_PPI_LO 26.0
+#define TRAIL_CO_PPI_HI 34.0
+#define TRAIL_CO_PISN_LO 60.0
+#define TRAIL_CO_PISN_HI 120.0
+#define TRAIL_PPI_MAX_BARYONIC 50.0
+
 int hrt_collapse_remnant(double m_co, double m_fin, int *kind, double *m_rem)
 {
     if (!kind || !m_rem)
         return HRT_E_NULL;
     if (!(isfinite(m_co) && isfinite(m_fin) && m_co >= 0.0 && m_fin > 0.0 && m_co <= m_fin))
         return HRT_E_DOMAIN;
-    /* proto-neutron-star mass 1.2 / 1.3 / 1.4 / 1.6 Msun with steps at CO
+    if (m_co >= TRAIL_CO_PISN_LO && m_co < TRAIL_CO_PISN_HI) {
+        *kind = HRT_REMNANT_NONE; /* pair-instability supernova: the star is disrupted */
+        *m_rem = 0.0;
+        return HRT_OK;
+    }
+    /* Fryer et al. (2012, ApJ 749, 91) "delayed" prescription [from memory]:
+     * proto-neutron-star mass 1.2 / 1.3 / 1.4 / 1.6 Msun with steps at CO
      * cores of 3.5, 6 and 11 Msun, smoothed [engineering choice] */
     double mp = 1.2 + 0.1 * logistic((m_co - 3.5) / 0.1) + 0.1 * logistic((m_co - 6.0) / 0.1) +
                 0.2 * logistic((m_co - 11.0) / 0.1);
@@ -45,6 +77,13 @@ int hrt_collapse_remnant(double m_co, double m_fin, int *kind, double *m_rem)
     } else
         mfb = m_fin - mp;
     double mbar = fmin(mp + mfb, m_fin);
+    if (m_co > TRAIL_CO_PPI_LO && m_co < TRAIL_CO_PISN_LO) {
+        /* pulsations eject what lies above the largest mass that survives,
+         * fading in with the core [engineering choice]; a smooth max of
+         * width 2 Msun */
+        double w = smoothstep(m_co, TRAIL_CO_PPI_LO, TRAIL_CO_PPI_HI), x = mbar - TRAIL_PPI_MAX_BARYONIC;
+        mbar -= w * 0.5 * (x + sqrt(x * x + 4.0));
+    }
     if (mbar < 2.5) {
         *kind = HRT_REMNANT_NS;
         *m_rem = (-1.0 + sqrt(1.0 + 0.3 * mbar)) / 0.15;
@@ -127,6 +166,13 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
         s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
         s->log_l_lsun = s->log_teff_k = NAN;
         s->he_core_mass_msun = s->co_core_mass_msun = NAN;
+        break;
+    case HRT_REMNANT_NONE: /* disrupted without remnant (pair-instability supernova): nothing left */
+        s->phase = HRT_PHASE_UNKNOWN;
+        s->flags |= HRT_FLAG_DARK;
+        s->mass_msun = 0.0;
+        s->log_l_lsun = s->log_teff_k = s->log_r_rsun = s->log_g_cgs = NAN;
+        s->he_core_mass_msun = s->co_core_mass_msun = 0.0;
         break;
     default: /* black hole */
         s->phase = HRT_PHASE_BH;
