@@ -814,8 +814,8 @@ static size_t sweep_zs(const hrt_grid *g, double *zs)
     return n;
 }
 
-#define N_SWEEP 200 /* masses of a dense sweep, log-spaced over 8-150 Msun */
-static double sweep_mass(int i) { return 8.0 * pow(150.0 / 8.0, (double)i / (N_SWEEP - 1)); }
+#define N_SWEEP_MASSIVE 200 /* masses of a dense sweep, log-spaced over 8-150 Msun */
+static double sweep_massive(int i) { return 8.0 * pow(150.0 / 8.0, (double)i / (N_SWEEP_MASSIVE - 1)); }
 
 /* Largest L / L_Edd over every EEP of a star, with the surface hydrogen
  * fraction X = 0 in a Wolf-Rayet state (a stripped helium star) and the
@@ -860,16 +860,16 @@ START_TEST(eddington_surface_everywhere)
         }
     size_t nzs = sweep_zs(g, zs);
     for (size_t k = 0; k < nzs; k++)
-        for (int i = 0; i < N_SWEEP; i++) {
-            hrt_star *s = new_star(g, sweep_mass(i), zs[k]);
-            star_max_gamma(s, sweep_mass(i), zs[k], &ws);
+        for (int i = 0; i < N_SWEEP_MASSIVE; i++) {
+            hrt_star *s = new_star(g, sweep_massive(i), zs[k]);
+            star_max_gamma(s, sweep_massive(i), zs[k], &ws);
             hrt_star_free(s);
         }
     printf("largest L/L_Edd (X = 0 in Wolf-Rayet states, the initial X elsewhere; limit 1): %.3f over %zu EEPs of the "
            "grid's tracks (%g Msun, Z = %g, EEP %zu, %s); %.3f over %zu EEPs of %zu interpolated stars of 8-150 Msun "
            "at %zu metallicities (%.2f Msun, Z = %.3g, EEP %zu, %s)\n",
            wg.gamma, wg.n_states, wg.m, wg.z, wg.eep, hrt_phase_key(wg.phase), ws.gamma, ws.n_states,
-           nzs * N_SWEEP, nzs, ws.m, ws.z, ws.eep, hrt_phase_key(ws.phase));
+           nzs * N_SWEEP_MASSIVE, nzs, ws.m, ws.z, ws.eep, hrt_phase_key(ws.phase));
     printf("  of which the supergiant route's tracks: %.3f (%g Msun, Z = %g, EEP %zu, %s)\n", wsg.gamma, wsg.m, wsg.z,
            wsg.eep, hrt_phase_key(wsg.phase));
     ck_assert_double_lt(wg.gamma, 1.0);
@@ -920,17 +920,17 @@ START_TEST(massive_winds_metallicity)
     hrt_star_free(b);
 
     size_t nzs = sweep_zs(g, zs), bad_z = 0, bad_smooth = 0;
-    double prev_mf[N_SWEEP], rem[N_SWEEP], bh_max_sun = 0.0, worst_jump = 0.0;
-    int kinds[N_SWEEP];
+    double prev_mf[N_SWEEP_MASSIVE], rem[N_SWEEP_MASSIVE], bh_max_sun = 0.0, worst_jump = 0.0;
+    int kinds[N_SWEEP_MASSIVE];
     for (size_t k = nzs; k-- > 0;) { /* from the highest Z down */
-        for (int i = 0; i < N_SWEEP; i++) {
-            hrt_star *s = new_star(g, sweep_mass(i), zs[k]);
+        for (int i = 0; i < N_SWEEP_MASSIVE; i++) {
+            hrt_star *s = new_star(g, sweep_massive(i), zs[k]);
             double mf = final_mass(s);
             ck_assert_int_eq(hrt_star_remnant(s, &kinds[i], &rem[i]), HRT_OK);
             if (k + 1 < nzs && mf < 0.98 * prev_mf[i] - 0.05) {
                 if (bad_z++ < 5)
                     printf("  final mass of %.2f Msun grows with Z: %.3f at Z = %.3g, %.3f at Z = %.3g\n",
-                           sweep_mass(i), mf, zs[k], prev_mf[i], zs[k + 1]);
+                           sweep_massive(i), mf, zs[k], prev_mf[i], zs[k + 1]);
             }
             prev_mf[i] = mf;
             if (fabs(zs[k] / Z_SUN - 1.0) < 1e-9 && kinds[i] == HRT_REMNANT_BH)
@@ -942,21 +942,21 @@ START_TEST(massive_winds_metallicity)
          * within 30 % in mass below a star that leaves nothing: there the
          * library takes the nearest track's mass (its rule across a change
          * of remnant kind, lib/core/remnant.c), not an interpolated one. */
-        for (int i = 1; i < N_SWEEP; i++) {
+        for (int i = 1; i < N_SWEEP_MASSIVE; i++) {
             int near_none = 0;
-            for (int j = i; j < N_SWEEP && sweep_mass(j) <= 1.3 * sweep_mass(i); j++)
+            for (int j = i; j < N_SWEEP_MASSIVE && sweep_massive(j) <= 1.3 * sweep_massive(i); j++)
                 near_none |= kinds[j] == HRT_REMNANT_NONE;
             if (kinds[i] != HRT_REMNANT_BH || kinds[i - 1] != HRT_REMNANT_BH || near_none)
                 continue;
             worst_jump = fmax(worst_jump, fabs(rem[i] - rem[i - 1]));
             if (fabs(rem[i] - rem[i - 1]) > 2.5 && bad_smooth++ < 5)
                 printf("  black-hole mass jumps from %.2f to %.2f Msun at %.2f Msun, Z = %.3g\n", rem[i - 1], rem[i],
-                       sweep_mass(i), zs[k]);
+                       sweep_massive(i), zs[k]);
         }
     }
     printf("dense sweeps (%d masses of 8-150 Msun at %zu metallicities): %zu final masses growing with Z, largest "
            "black-hole step %.2f Msun (limit 2.5), %zu above; heaviest black hole at Z = 0.014: %.2f Msun (target "
-           "10-30)\n", N_SWEEP, nzs, bad_z, worst_jump, bad_smooth, bh_max_sun);
+           "10-30)\n", N_SWEEP_MASSIVE, nzs, bad_z, worst_jump, bad_smooth, bh_max_sun);
     ck_assert_uint_eq(bad_z, 0);
     ck_assert_uint_eq(bad_smooth, 0);
     ck_assert_double_ge(bh_max_sun, 10.0);
@@ -1014,15 +1014,15 @@ START_TEST(pair_instability_gap)
     double bh_max = 0.0, bh_below_none = 0.0, lowest_none = INFINITY;
     for (size_t k = 0; k < nzs; k++) {
         double prev_bh = NAN;
-        for (int i = 0; i < N_SWEEP; i++) {
-            s = new_star(g, sweep_mass(i), zs[k]);
+        for (int i = 0; i < N_SWEEP_MASSIVE; i++) {
+            s = new_star(g, sweep_massive(i), zs[k]);
             ck_assert_int_eq(hrt_star_remnant(s, &kind, &mr), HRT_OK);
             if (kind == HRT_REMNANT_BH) {
                 bh_max = fmax(bh_max, mr);
                 in_gap += mr >= 60.0 && mr <= 130.0;
                 prev_bh = mr;
             } else if (kind == HRT_REMNANT_NONE) {
-                lowest_none = fmin(lowest_none, sweep_mass(i));
+                lowest_none = fmin(lowest_none, sweep_massive(i));
                 if (isfinite(prev_bh))
                     bh_below_none = fmax(bh_below_none, prev_bh);
                 prev_bh = NAN;
@@ -1088,8 +1088,8 @@ START_TEST(supergiant_phases_published)
     ck_assert_double_le(t_rsg, 2.0e6);
     ck_assert_double_ge(t_wr, 0.1e6);
     ck_assert_double_le(t_wr, 1.0e6);
-    for (int i = 0; i < N_SWEEP; i++) {
-        double mi = sweep_mass(i);
+    for (int i = 0; i < N_SWEEP_MASSIVE; i++) {
+        double mi = sweep_massive(i);
         if (mi > 100.0)
             break;
         s = new_star(g, mi, 1e-4);
