@@ -979,7 +979,8 @@ module hrtrail
        hrtf_evaluate, hrtf_star_new, hrtf_star_at, hrtf_star_track, hrtf_star_phases, hrtf_star_remnant, &
        hrtf_star_end_age, hrtf_star_free, hrtf_isochrone, hrtf_z_values, hrtf_mass_range, hrtf_route_name, &
        hrtf_phase_name, hrtf_phase_key, hrtf_remnant_name, hrtf_strerror, hrtf_version, hrtf_string, &
-       hrtf_phase_bit, hrtf_isochrone_options, hrtf_default_route, hrtf_grid_attribute, hrtf_route_of, &
+       hrtf_phase_bit, hrtf_isochrone_options, hrtf_isochrone_with, hrtf_evaluate_parallel, &
+       hrtf_default_route, hrtf_grid_attribute, hrtf_route_of, &
        hrtf_grid_masses, hrtf_star_keypoints
   public :: hrtf_imf_init, hrtf_pop_spec_default, hrtf_sfh_burst, hrtf_sfh_span, hrtf_sfh_table, &
        hrtf_zdist_fixed, hrtf_zdist_spread, hrtf_pop_check, hrtf_pop_draw, hrtf_pop_summaries, hrtf_pop_run, &
@@ -991,6 +992,10 @@ module hrtrail
   interface hrtf_evaluate
      module procedure evaluate_z_all, evaluate_z_each
   end interface hrtf_evaluate
+  !> hrtf_evaluate on n_threads threads (hrt_eval_parallel): the same bits for any thread count.
+  interface hrtf_evaluate_parallel
+     module procedure evaluate_z_all_parallel, evaluate_z_each_parallel
+  end interface hrtf_evaluate_parallel
 
 contains
 
@@ -1159,20 +1164,52 @@ contains
   !> States of size(mass_msun) stars of initial masses mass_msun (Msun), all of
   !> metallicity z, at ages age_yr (yr).  states(i)%status holds each star's code;
   !> stat the first failure's (every star is evaluated whatever the others do).
-  !> With n_threads (>= 1, or 0 for OpenMP's maximum): hrt_eval_parallel, the same bits.
-  subroutine evaluate_z_all(grid, mass_msun, age_yr, z, states, stat, errmsg, n_threads)
+  subroutine evaluate_z_all(grid, mass_msun, age_yr, z, states, stat, errmsg)
     type(hrt_grid_t), intent(in) :: grid
     real(c_double), intent(in) :: mass_msun(:), age_yr(:)
     real(c_double), intent(in) :: z
     type(hrt_state), allocatable, intent(out) :: states(:)
     integer, intent(out), optional :: stat
     character(len=*), intent(out), optional :: errmsg
-    integer, intent(in), optional :: n_threads
-    call evaluate_core(grid, mass_msun, age_yr, c_null_ptr, z, states, stat, errmsg, n_threads)
+    call evaluate_core(grid, mass_msun, age_yr, c_null_ptr, z, states, stat, errmsg)
   end subroutine evaluate_z_all
 
   !> As above with one metallicity per star.
-  subroutine evaluate_z_each(grid, mass_msun, age_yr, z, states, stat, errmsg, n_threads)
+  subroutine evaluate_z_each(grid, mass_msun, age_yr, z, states, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    real(c_double), intent(in) :: mass_msun(:), age_yr(:)
+    real(c_double), intent(in), contiguous, target :: z(:)
+    type(hrt_state), allocatable, intent(out) :: states(:)
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    call evaluate_each_core(grid, mass_msun, age_yr, z, states, stat, errmsg)
+  end subroutine evaluate_z_each
+
+  !> hrtf_evaluate_parallel: hrtf_evaluate on n_threads threads (>= 1; 0: OpenMP's maximum) by
+  !> hrt_eval_parallel, the same states, stat and message bit for bit whatever the thread count.
+  subroutine evaluate_z_all_parallel(grid, mass_msun, age_yr, z, states, n_threads, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    real(c_double), intent(in) :: mass_msun(:), age_yr(:)
+    real(c_double), intent(in) :: z
+    type(hrt_state), allocatable, intent(out) :: states(:)
+    integer, intent(in) :: n_threads
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    call evaluate_core(grid, mass_msun, age_yr, c_null_ptr, z, states, stat, errmsg, n_threads)
+  end subroutine evaluate_z_all_parallel
+
+  subroutine evaluate_z_each_parallel(grid, mass_msun, age_yr, z, states, n_threads, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    real(c_double), intent(in) :: mass_msun(:), age_yr(:)
+    real(c_double), intent(in), contiguous, target :: z(:)
+    type(hrt_state), allocatable, intent(out) :: states(:)
+    integer, intent(in) :: n_threads
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    call evaluate_each_core(grid, mass_msun, age_yr, z, states, stat, errmsg, n_threads)
+  end subroutine evaluate_z_each_parallel
+
+  subroutine evaluate_each_core(grid, mass_msun, age_yr, z, states, stat, errmsg, n_threads)
     type(hrt_grid_t), intent(in) :: grid
     real(c_double), intent(in) :: mass_msun(:), age_yr(:)
     real(c_double), intent(in), contiguous, target :: z(:)
@@ -1190,7 +1227,7 @@ contains
     else
        call evaluate_core(grid, mass_msun, age_yr, c_loc(z), 0.0_c_double, states, stat, errmsg, n_threads)
     end if
-  end subroutine evaluate_z_each
+  end subroutine evaluate_each_core
 
   !> Interpolate the track of one star of initial mass (Msun) and metallicity z.
   subroutine hrtf_star_new(star, grid, mass_msun, z, stat, errmsg)
@@ -1282,20 +1319,37 @@ contains
   end subroutine hrtf_star_free
 
   !> The isochrone at age_yr (yr) and metallicity z: states ordered by route, then initial mass.
-  !> options (hrtf_isochrone_options(), changed as needed) choose the phases and the sampling.
-  subroutine hrtf_isochrone(grid, age_yr, z, states, stat, errmsg, options)
+  subroutine hrtf_isochrone(grid, age_yr, z, states, stat, errmsg)
     type(hrt_grid_t), intent(in) :: grid
     real(c_double), intent(in) :: age_yr, z
     type(hrt_state), allocatable, target, intent(out) :: states(:)
     integer, intent(out), optional :: stat
     character(len=*), intent(out), optional :: errmsg
-    type(hrt_isochrone_options), intent(in), target, optional :: options
+    call isochrone_core(grid, age_yr, z, c_null_ptr, states, stat, errmsg)
+  end subroutine hrtf_isochrone
+
+  !> As hrtf_isochrone with options (hrtf_isochrone_options(), changed as needed) that choose
+  !> the phases (a mask of hrtf_phase_bit) and the sampling (max_dlog_l).
+  subroutine hrtf_isochrone_with(grid, age_yr, z, options, states, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    real(c_double), intent(in) :: age_yr, z
+    type(hrt_isochrone_options), intent(in), target :: options
+    type(hrt_state), allocatable, target, intent(out) :: states(:)
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    call isochrone_core(grid, age_yr, z, c_loc(options), states, stat, errmsg)
+  end subroutine hrtf_isochrone_with
+
+  subroutine isochrone_core(grid, age_yr, z, op, states, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    real(c_double), intent(in) :: age_yr, z
+    type(c_ptr), intent(in) :: op
+    type(hrt_state), allocatable, target, intent(out) :: states(:)
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
     type(hrt_error) :: err
-    type(c_ptr) :: op
     integer(c_size_t) :: n, cap
     integer :: rc
-    op = c_null_ptr
-    if (present(options)) op = c_loc(options)
     n = 0
     err = blank_error()
     rc = hrt_isochrone_with(grid%ptr, age_yr, z, op, c_null_ptr, 0_c_size_t, n, err)
@@ -1310,7 +1364,7 @@ contains
        allocate (states(0))
     end if
     call report(rc, error_text(err), stat, errmsg)
-  end subroutine hrtf_isochrone
+  end subroutine isochrone_core
 
   !> Metal mass fractions of the grid's groups, ascending.
   function hrtf_z_values(grid) result(z)
