@@ -75,4 +75,6 @@ if command -v doxygen > /dev/null 2>&1; then
 fi
 grep -q 'share/doc/hrtrail' "$(pkg-config --variable=includedir hrtrail)/hrtrail.h"
 check $? "the installed hrtrail.h names share/doc/hrtrail"
+grep -aq 'share/doc/hrtrail' "$grid"
+check $? "the installed default grid's attributes name share/doc/hrtrail"
 exit $fail
