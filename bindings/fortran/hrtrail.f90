@@ -2,13 +2,26 @@
 !>
 !> Two layers in one module:
 !>  * bind(C) interfaces named as the C functions of include/hrtrail.h
-!>    (hrt_eval, hrt_star_at, ...) and derived types mirroring its structs
-!>    (hrt_state, hrt_error, hrt_phase_span), for code that wants the C API;
-!>  * an idiomatic layer (hrtf_*): handle types hrt_grid_t and hrt_star_t,
-!>    assumed-shape inputs, allocatable outputs, Fortran strings, optional
-!>    arguments, and an optional status out-argument `stat` (with `errmsg`):
-!>    when `stat` is absent a failure stops the program with the library's
-!>    message, as ALLOCATE does without STAT=.
+!>    (hrt_eval, hrt_star_at, hrt_pop_run, hrt_fit_star, ...) and derived
+!>    types mirroring its structs field for field (hrt_state, hrt_imf,
+!>    hrt_pop_spec, hrt_pop_summary, hrt_fit_obs, hrt_fit_result,
+!>    hrt_forecast_result, ...), for code that wants the C API: every public
+!>    function but those that write grids (hrt_builder_*, hrt_import_*,
+!>    hrt_keypoints_*; the command line's `hrtrail import` does that);
+!>  * an idiomatic layer (hrtf_*): handle types hrt_grid_t, hrt_star_t and
+!>    hrt_fit_model_t, assumed-shape inputs, allocatable outputs, Fortran
+!>    strings, optional arguments, and an optional status out-argument `stat`
+!>    (with `errmsg`): when `stat` is absent a failure stops the program with
+!>    the library's message, as ALLOCATE does without STAT=.  Grids, batches
+!>    (hrtf_evaluate, hrtf_evaluate_parallel), stars, isochrones
+!>    (hrtf_isochrone, hrtf_isochrone_with), the default routes, populations
+!>    (hrtf_imf_init, hrtf_sfh_*, hrtf_zdist_*, hrtf_pop_draw, hrtf_pop_run,
+!>    hrtf_pop_summary_add, hrtf_pop_summary_merge), fits (hrtf_fit_model_new,
+!>    hrtf_fit_star) and forecasts (hrtf_forecast).
+!>
+!> Arrays that C indexes by code (phase_prob, n_phase, n_remnant, n_status,
+!> remnant_prob, future) start at 1 here: the entry of code c is (c + 1).
+!> C's uint64_t fields are integer(c_int64_t).
 !>
 !> Units as in the C header: masses in Msun, ages in yr since birth, Z the
 !> metal mass fraction, log = log10, L in nominal Lsun, R in nominal Rsun,
@@ -331,7 +344,7 @@ module hrtrail
 
   ! ---------------------------------------------------------------- C API
   public :: hrt_abi_version, hrt_state_size, hrt_strerror, hrt_version, hrt_phase_name, hrt_phase_key, &
-       hrt_phase_code, hrt_remnant_name, hrt_remnant_key, hrt_remnant_code, hrt_grid_open_with, &
+       hrt_phase_code, hrt_remnant_name, hrt_remnant_key, hrt_remnant_code, hrt_grid_open_with, hrt_grid_open, &
        hrt_grid_close, hrt_default_grid_path, hrt_grid_n_z, hrt_grid_z, hrt_grid_z_ref, &
        hrt_grid_mass_range, hrt_grid_z_range, hrt_grid_n_routes, hrt_grid_route_name, hrt_grid_upgrade, &
        hrt_eval, hrt_star_new, hrt_star_free, hrt_star_at, hrt_star_n_eep, hrt_star_eep_state, &
@@ -411,6 +424,14 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_grid_open_with
+     !> hrt_grid_open_with(path, HRT_INTERP_STEFFEN, grid, err).
+     function hrt_grid_open(path, grid, err) bind(C, name="hrt_grid_open") result(rc)
+       import :: c_int, c_ptr, hrt_error
+       type(c_ptr), value :: path
+       type(c_ptr), intent(out) :: grid
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_grid_open
      subroutine hrt_grid_close(grid) bind(C, name="hrt_grid_close")
        import :: c_ptr
        type(c_ptr), value :: grid

@@ -487,6 +487,16 @@ contains
        r = r + 1
     end do
     nr = int(hrt_grid_n_routes(g%ptr))
+    block
+      type(hrt_error) :: err
+      type(c_ptr) :: raw
+      character(kind=c_char, len=:), allocatable, target :: cpath
+      cpath = cstr(grid_path)
+      call expect(hrt_grid_open(c_loc(cpath), raw, err) == HRT_OK .and. hrt_grid_n_routes(raw) == &
+           hrt_grid_n_routes(g%ptr) .and. hrt_grid_interp(raw) == HRT_INTERP_STEFFEN, &
+           'hrt_grid_open: the grid, with Steffen interpolation')
+      call hrt_grid_close(raw)
+    end block
     call expect(stat == HRT_E_INVALID .and. r == nr, &
          'hrtf_default_route: as many routes as the default grid, then HRT_E_INVALID')
     call hrtf_default_route(-1, name, kp, seg, stat)
