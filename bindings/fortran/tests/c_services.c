@@ -82,6 +82,41 @@ static const struct {
                          SIZE_(hrt_fit_result) SIZE_(hrt_forecast_state) SIZE_(hrt_forecast_event)
                              SIZE_(hrt_forecast_phase) SIZE_(hrt_forecast_result)};
 
+/* The header's constants that the module writes by hand, by name. */
+#define CONST_(c) {#c, (double)(c)},
+static const struct {
+    const char *name;
+    double value;
+} constants[] = {CONST_(HRT_IMF_SALPETER_1955) CONST_(HRT_IMF_KROUPA_2001) CONST_(HRT_IMF_CHABRIER_2003_SYSTEM)
+                     CONST_(HRT_IMF_POWER_LAW) CONST_(HRT_SFH_BURST) CONST_(HRT_SFH_CONSTANT)
+                         CONST_(HRT_SFH_EXPONENTIAL) CONST_(HRT_SFH_TABLE) CONST_(HRT_ZDIST_FIXED)
+                             CONST_(HRT_ZDIST_LOG_UNIFORM) CONST_(HRT_ZDIST_LOG_NORMAL) CONST_(HRT_IMF_MAX_SEGMENTS)
+                                 CONST_(HRT_POP_MAX_STATUS) CONST_(HRT_POP_HR_MAX_BINS)
+                                     CONST_(HRT_FIT_PRIOR_KROUPA_2001) CONST_(HRT_FIT_PRIOR_CHABRIER_2003)
+                                         CONST_(HRT_FIT_PRIOR_LOG_FLAT) CONST_(HRT_FIT_MULTIMODAL)
+                                             CONST_(HRT_FIT_MASS_EDGE) CONST_(HRT_FIT_AGE_LIMIT)
+                                                 CONST_(HRT_FIT_FEH_EDGE) CONST_(HRT_FIT_POOR_MATCH)
+                                                     CONST_(HRT_FIT_FEW_POINTS) CONST_(HRT_FIT_MULTIMODAL_PROB)
+                                                         CONST_(HRT_FORECAST_MAX_EVENTS) CONST_(HRT_IMPORT_MAX_KP)
+                                                             CONST_(HRT_ISOCHRONE_MAX_DLOG_L)
+                                                                 CONST_(HRT_PHASES_REMNANT)};
+
+int svc_n_constants(void);
+int svc_constant(const char *name, double *value);
+
+int svc_n_constants(void) { return (int)(sizeof constants / sizeof constants[0]); }
+
+/* Value of a header constant by name (as a double: every one is exact in a double); -1 if not in the table. */
+int svc_constant(const char *name, double *value)
+{
+    for (int i = 0; i < svc_n_constants(); i++)
+        if (strcmp(constants[i].name, name) == 0) {
+            *value = constants[i].value;
+            return 0;
+        }
+    return -1;
+}
+
 int svc_n_fields(void);
 int svc_field(const char *name, size_t *offset, size_t *size);
 int svc_n_types(void);

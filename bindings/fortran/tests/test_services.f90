@@ -25,6 +25,16 @@ program test_services
        integer(c_size_t), intent(out) :: offset, size
        integer(c_int) :: rc
      end function svc_field
+     function svc_n_constants() bind(C) result(n)
+       import :: c_int
+       integer(c_int) :: n
+     end function svc_n_constants
+     function svc_constant(name, value) bind(C) result(rc)
+       import :: c_char, c_double, c_int
+       character(kind=c_char), intent(in) :: name(*)
+       real(c_double), intent(out) :: value
+       integer(c_int) :: rc
+     end function svc_constant
      function svc_n_types() bind(C) result(n)
        import :: c_int
        integer(c_int) :: n
@@ -116,7 +126,7 @@ program test_services
      end function svc_default_route
   end interface
 
-  integer :: failures = 0, checks = 0, fields_checked = 0, types_checked = 0
+  integer :: failures = 0, checks = 0, fields_checked = 0, types_checked = 0, constants_checked = 0
   character(len=4096) :: grid_path
   integer(c_int8_t), parameter :: byte = 0
 
@@ -126,6 +136,7 @@ program test_services
   end if
   call get_command_argument(1, grid_path)
   call test_layout()
+  call test_constants()
   call test_names()
   call test_routes_and_keypoints()
   call test_isochrone_options()
@@ -426,6 +437,48 @@ contains
     call expect(fields_checked == svc_n_fields(), 'every field of the C table is checked here')
     call expect(types_checked == svc_n_types(), 'every type of the C table is checked here')
   end subroutine test_layout
+
+  !> One of the module's parameters against the header's constant of that name.
+  subroutine constant(name, value)
+    character(len=*), intent(in) :: name
+    real(c_double), intent(in) :: value
+    real(c_double) :: c
+    constants_checked = constants_checked + 1
+    call expect(svc_constant(cstr(name), c) == 0, 'constant ' // name // ' is in the C table')
+    call expect(same(c, value), 'the module''s ' // name // ' equals the header''s')
+  end subroutine constant
+
+  subroutine test_constants()
+    call constant('HRT_IMF_SALPETER_1955', real(HRT_IMF_SALPETER_1955, c_double))
+    call constant('HRT_IMF_KROUPA_2001', real(HRT_IMF_KROUPA_2001, c_double))
+    call constant('HRT_IMF_CHABRIER_2003_SYSTEM', real(HRT_IMF_CHABRIER_2003_SYSTEM, c_double))
+    call constant('HRT_IMF_POWER_LAW', real(HRT_IMF_POWER_LAW, c_double))
+    call constant('HRT_SFH_BURST', real(HRT_SFH_BURST, c_double))
+    call constant('HRT_SFH_CONSTANT', real(HRT_SFH_CONSTANT, c_double))
+    call constant('HRT_SFH_EXPONENTIAL', real(HRT_SFH_EXPONENTIAL, c_double))
+    call constant('HRT_SFH_TABLE', real(HRT_SFH_TABLE, c_double))
+    call constant('HRT_ZDIST_FIXED', real(HRT_ZDIST_FIXED, c_double))
+    call constant('HRT_ZDIST_LOG_UNIFORM', real(HRT_ZDIST_LOG_UNIFORM, c_double))
+    call constant('HRT_ZDIST_LOG_NORMAL', real(HRT_ZDIST_LOG_NORMAL, c_double))
+    call constant('HRT_IMF_MAX_SEGMENTS', real(HRT_IMF_MAX_SEGMENTS, c_double))
+    call constant('HRT_POP_MAX_STATUS', real(HRT_POP_MAX_STATUS, c_double))
+    call constant('HRT_POP_HR_MAX_BINS', real(HRT_POP_HR_MAX_BINS, c_double))
+    call constant('HRT_FIT_PRIOR_KROUPA_2001', real(HRT_FIT_PRIOR_KROUPA_2001, c_double))
+    call constant('HRT_FIT_PRIOR_CHABRIER_2003', real(HRT_FIT_PRIOR_CHABRIER_2003, c_double))
+    call constant('HRT_FIT_PRIOR_LOG_FLAT', real(HRT_FIT_PRIOR_LOG_FLAT, c_double))
+    call constant('HRT_FIT_MULTIMODAL', real(HRT_FIT_MULTIMODAL, c_double))
+    call constant('HRT_FIT_MASS_EDGE', real(HRT_FIT_MASS_EDGE, c_double))
+    call constant('HRT_FIT_AGE_LIMIT', real(HRT_FIT_AGE_LIMIT, c_double))
+    call constant('HRT_FIT_FEH_EDGE', real(HRT_FIT_FEH_EDGE, c_double))
+    call constant('HRT_FIT_POOR_MATCH', real(HRT_FIT_POOR_MATCH, c_double))
+    call constant('HRT_FIT_FEW_POINTS', real(HRT_FIT_FEW_POINTS, c_double))
+    call constant('HRT_FIT_MULTIMODAL_PROB', HRT_FIT_MULTIMODAL_PROB)
+    call constant('HRT_FORECAST_MAX_EVENTS', real(HRT_FORECAST_MAX_EVENTS, c_double))
+    call constant('HRT_IMPORT_MAX_KP', real(HRT_IMPORT_MAX_KP, c_double))
+    call constant('HRT_ISOCHRONE_MAX_DLOG_L', HRT_ISOCHRONE_MAX_DLOG_L)
+    call constant('HRT_PHASES_REMNANT', real(HRT_PHASES_REMNANT, c_double))
+    call expect(constants_checked == svc_n_constants(), 'every constant of the C table is checked here')
+  end subroutine test_constants
 
   !> Names and their inverses: each kind's name from the library maps back to the kind.
   subroutine test_names()
