@@ -110,5 +110,6 @@ program cluster_census
   end do
   call hrtf_fit_model_free(model)
   call hrtf_close(grid)
+  deallocate (rank0, rank1, draws, later)
 
 end program cluster_census
