@@ -5,9 +5,10 @@
 !>    (hrt_eval, hrt_star_at, hrt_pop_run, hrt_fit_star, ...) and derived
 !>    types mirroring its structs field for field (hrt_state, hrt_imf,
 !>    hrt_pop_spec, hrt_pop_summary, hrt_fit_obs, hrt_fit_result,
-!>    hrt_forecast_result, ...), for code that wants the C API: every public
-!>    function but those that write grids (hrt_builder_*, hrt_import_*,
-!>    hrt_keypoints_*; the command line's `hrtrail import` does that);
+!>    hrt_forecast_result, hrt_import_track_report, ...), for code that wants
+!>    the C API: every public function but the low-level grid builder and
+!>    keypoint search (hrt_builder_*, hrt_keypoints_*), whose column structs
+!>    hold C arrays by address;
 !>  * an idiomatic layer (hrtf_*): handle types hrt_grid_t, hrt_star_t and
 !>    hrt_fit_model_t, assumed-shape inputs, allocatable outputs, Fortran
 !>    strings, optional arguments, and an optional status out-argument `stat`
@@ -17,7 +18,9 @@
 !>    (hrtf_isochrone, hrtf_isochrone_with), the default routes, populations
 !>    (hrtf_imf_init, hrtf_sfh_*, hrtf_zdist_*, hrtf_pop_draw, hrtf_pop_run,
 !>    hrtf_pop_summary_add, hrtf_pop_summary_merge), fits (hrtf_fit_model_new,
-!>    hrtf_fit_star) and forecasts (hrtf_forecast).
+!>    hrtf_fit_star), forecasts (hrtf_forecast) and importing text tracks into
+!>    a grid (hrtf_import_new, hrtf_import_map, hrtf_import_add_file,
+!>    hrtf_import_run, hrtf_import_report).
 !>
 !> Arrays that C indexes by code (phase_prob, n_phase, n_remnant, n_status,
 !> remnant_prob, future) start at 1 here: the entry of code c is (c + 1).
@@ -39,6 +42,7 @@
 module hrtrail
   use, intrinsic :: iso_c_binding
   use, intrinsic :: iso_fortran_env, only: error_unit
+  use, intrinsic :: ieee_arithmetic, only: ieee_value, ieee_quiet_nan
   implicit none
   private
 
@@ -327,6 +331,42 @@ module hrtrail
      real(c_double) :: reserved(8)
   end type hrt_forecast_result
 
+
+  ! ------------------------------------------------------------ importing text tracks
+  !> struct hrt_import_track_report: what an import did with one track file (hrtf_import_report).
+  type, bind(C), public :: hrt_import_track_report
+     type(c_ptr) :: file = c_null_ptr                !< const char *: path as added (hrtf_string)
+     integer(c_int) :: status = 0                    !< HRT_OK: in the grid; else the reason's code
+     integer(c_long) :: line = 0, column = 0         !< where the problem is (1-based; 0 if none)
+     character(kind=c_char) :: message(320)          !< the problem (hrtf_chars), or ""
+     character(kind=c_char) :: notes(320)            !< what was assumed or changed
+     real(c_double) :: initial_mass_msun = 0         !< NaN if unknown
+     real(c_double) :: z = 0                         !< NaN if unknown
+     integer(c_int) :: route = -1                    !< route index, -1 if none
+     integer(c_int) :: truncated = 0                 !< 1: stops before its route's last keypoint
+     integer(c_int) :: remnant = 0                   !< HRT_REMNANT_* assigned
+     real(c_double) :: remnant_mass_msun = 0         !< NaN if none
+     integer(c_size_t) :: n_rows = 0                 !< data rows read
+     integer(c_size_t) :: n_rows_dropped = 0         !< rows dropped in lenient mode
+     integer(c_size_t) :: n_keypoints = 0            !< keypoints reached on the route
+     real(c_double) :: keypoint_age_yr(HRT_IMPORT_MAX_KP) = 0 !< age of each, yr
+     integer(c_long) :: keypoint_line(HRT_IMPORT_MAX_KP) = 0  !< file line of each
+     integer(c_int) :: keypoint_how(HRT_IMPORT_MAX_KP) = 0    !< how each was found (HRT_KP_FOUND_* in C)
+     character(kind=c_char) :: missing(192)          !< why the next keypoint was not found
+  end type hrt_import_track_report
+
+  !> struct hrt_import_row_report: a data row dropped in lenient mode.
+  type, bind(C), public :: hrt_import_row_report
+     integer(c_long) :: line = 0, column = 0         !< where in the file (1-based)
+     integer(c_int) :: code = 0                      !< status code of the problem
+     character(kind=c_char) :: message(320)          !< "file:line:column: problem"
+  end type hrt_import_row_report
+
+  !> An import being set up, run, and its report (idiomatic layer).
+  type, public :: hrt_import_t
+     type(c_ptr) :: ptr = c_null_ptr
+  end type hrt_import_t
+
   !> A fitting lattice (idiomatic layer); the grid must outlive it.  Copies share it: free once.
   type, public :: hrt_fit_model_t
      type(c_ptr) :: ptr = c_null_ptr
@@ -365,6 +405,11 @@ module hrtrail
        hrt_fit_model_new, hrt_fit_model_free, hrt_fit_model_memory_bytes, hrt_fit_model_get_options, &
        hrt_fit_model_n_feh, hrt_fit_model_feh, hrt_fit_obs_init, hrt_fit_star, hrt_fit_distance_m, &
        hrt_fit_flux_from_mbol, hrt_forecast
+  public :: hrt_import_new, hrt_import_free, hrt_import_map, hrt_import_map_file, hrt_import_set_routes, &
+       hrt_import_set_z_ref, hrt_import_set_lenient, hrt_import_set_force, hrt_import_set_route_boundaries, &
+       hrt_import_set_progress, hrt_import_add_file, hrt_import_run, hrt_import_n_tracks, hrt_import_track, &
+       hrt_import_dropped_row, hrt_import_n_routes, hrt_import_route_name, hrt_import_route_n_keypoints, &
+       hrt_import_keypoint_name, hrt_import_n_z, hrt_import_z, hrt_import_route_boundary
   interface
      function hrt_abi_version() bind(C, name="hrt_abi_version") result(r)
        import :: c_int
@@ -988,6 +1033,151 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_forecast
+     ! ---- importing text tracks
+     function hrt_import_new(imp, err) bind(C, name="hrt_import_new") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), intent(out) :: imp
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_new
+     subroutine hrt_import_free(imp) bind(C, name="hrt_import_free")
+       import :: c_ptr
+       type(c_ptr), value :: imp
+     end subroutine hrt_import_free
+     function hrt_import_map(imp, entries, err) bind(C, name="hrt_import_map") result(rc)
+       import :: c_ptr, c_char, c_int, hrt_error
+       type(c_ptr), value :: imp
+       character(kind=c_char), intent(in) :: entries(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_map
+     function hrt_import_map_file(imp, path, err) bind(C, name="hrt_import_map_file") result(rc)
+       import :: c_ptr, c_char, c_int, hrt_error
+       type(c_ptr), value :: imp
+       character(kind=c_char), intent(in) :: path(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_map_file
+     function hrt_import_set_routes(imp, n_routes, routes, err) bind(C, name="hrt_import_set_routes") result(rc)
+       import :: c_ptr, c_size_t, c_int, hrt_route_spec, hrt_error
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: n_routes
+       type(hrt_route_spec), intent(in) :: routes(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_set_routes
+     function hrt_import_set_z_ref(imp, z_ref, err) bind(C, name="hrt_import_set_z_ref") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_error
+       type(c_ptr), value :: imp
+       real(c_double), value :: z_ref
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_set_z_ref
+     function hrt_import_set_lenient(imp, on) bind(C, name="hrt_import_set_lenient") result(rc)
+       import :: c_ptr, c_int
+       type(c_ptr), value :: imp
+       integer(c_int), value :: on
+       integer(c_int) :: rc
+     end function hrt_import_set_lenient
+     function hrt_import_set_force(imp, on) bind(C, name="hrt_import_set_force") result(rc)
+       import :: c_ptr, c_int
+       type(c_ptr), value :: imp
+       integer(c_int), value :: on
+       integer(c_int) :: rc
+     end function hrt_import_set_force
+     function hrt_import_set_route_boundaries(imp, z, n, mass_msun, err) &
+          bind(C, name="hrt_import_set_route_boundaries") result(rc)
+       import :: c_ptr, c_double, c_size_t, c_int, hrt_error
+       type(c_ptr), value :: imp
+       real(c_double), value :: z
+       integer(c_size_t), value :: n
+       real(c_double), intent(in) :: mass_msun(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_set_route_boundaries
+     !> progress: a bind(C) procedure (c_funloc) taking (user, done, total, file) by value, or c_null_funptr.
+     function hrt_import_set_progress(imp, progress, user) bind(C, name="hrt_import_set_progress") result(rc)
+       import :: c_ptr, c_funptr, c_int
+       type(c_ptr), value :: imp
+       type(c_funptr), value :: progress
+       type(c_ptr), value :: user
+       integer(c_int) :: rc
+     end function hrt_import_set_progress
+     function hrt_import_add_file(imp, path, z, err) bind(C, name="hrt_import_add_file") result(rc)
+       import :: c_ptr, c_char, c_double, c_int, hrt_error
+       type(c_ptr), value :: imp
+       character(kind=c_char), intent(in) :: path(*)
+       real(c_double), value :: z
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_add_file
+     !> out_path: NUL-terminated path of the grid to write, or c_null_ptr to check the files only.
+     function hrt_import_run(imp, out_path, err) bind(C, name="hrt_import_run") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: imp
+       type(c_ptr), value :: out_path
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_run
+     function hrt_import_n_tracks(imp) bind(C, name="hrt_import_n_tracks") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: imp
+       integer(c_size_t) :: n
+     end function hrt_import_n_tracks
+     function hrt_import_track(imp, i, out) bind(C, name="hrt_import_track") result(rc)
+       import :: c_ptr, c_size_t, c_int, hrt_import_track_report
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: i
+       type(hrt_import_track_report), intent(out) :: out
+       integer(c_int) :: rc
+     end function hrt_import_track
+     function hrt_import_dropped_row(imp, i, k, out) bind(C, name="hrt_import_dropped_row") result(rc)
+       import :: c_ptr, c_size_t, c_int, hrt_import_row_report
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: i, k
+       type(hrt_import_row_report), intent(out) :: out
+       integer(c_int) :: rc
+     end function hrt_import_dropped_row
+     function hrt_import_n_routes(imp) bind(C, name="hrt_import_n_routes") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: imp
+       integer(c_size_t) :: n
+     end function hrt_import_n_routes
+     function hrt_import_route_name(imp, r) bind(C, name="hrt_import_route_name") result(p)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: r
+       type(c_ptr) :: p
+     end function hrt_import_route_name
+     function hrt_import_route_n_keypoints(imp, r) bind(C, name="hrt_import_route_n_keypoints") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: r
+       integer(c_size_t) :: n
+     end function hrt_import_route_n_keypoints
+     function hrt_import_keypoint_name(imp, r, k) bind(C, name="hrt_import_keypoint_name") result(p)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: r, k
+       type(c_ptr) :: p
+     end function hrt_import_keypoint_name
+     function hrt_import_n_z(imp) bind(C, name="hrt_import_n_z") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: imp
+       integer(c_size_t) :: n
+     end function hrt_import_n_z
+     function hrt_import_z(imp, iz) bind(C, name="hrt_import_z") result(z)
+       import :: c_ptr, c_size_t, c_double
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: iz
+       real(c_double) :: z
+     end function hrt_import_z
+     function hrt_import_route_boundary(imp, iz, b) bind(C, name="hrt_import_route_boundary") result(m)
+       import :: c_ptr, c_size_t, c_double
+       type(c_ptr), value :: imp
+       integer(c_size_t), value :: iz, b
+       real(c_double) :: m
+     end function hrt_import_route_boundary
      function c_strlen(s) bind(C, name="strlen") result(n)
        import :: c_ptr, c_size_t
        type(c_ptr), value :: s
@@ -1008,6 +1198,8 @@ module hrtrail
        hrtf_pop_summary_add, hrtf_pop_summary_merge, hrtf_pop_sum_value, hrtf_imf_name, hrtf_sfh_name
   public :: hrtf_fit_model_options, hrtf_fit_model_new, hrtf_fit_model_free, hrtf_fit_model_feh, hrtf_fit_obs, &
        hrtf_fit_star, hrtf_forecast, hrtf_forecast_event_name, hrtf_fit_mass_prior_name
+  public :: hrtf_import_new, hrtf_import_free, hrtf_import_map, hrtf_import_settings, hrtf_import_add_file, &
+       hrtf_import_run, hrtf_import_report, hrtf_chars
 
   !> States of many stars in one hrt_eval call; z is one metallicity or one per star.
   interface hrtf_evaluate
@@ -1916,5 +2108,136 @@ contains
     character(len=:), allocatable :: s
     s = hrtf_string(hrt_fit_mass_prior_name(int(prior, c_int)))
   end function hrtf_fit_mass_prior_name
+
+  ! ================================================================ importing text tracks
+
+  !> Start an import with the default grid's routes and Z_ref 0.014.
+  subroutine hrtf_import_new(imp, stat, errmsg)
+    type(hrt_import_t), intent(out) :: imp
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    type(hrt_error) :: err
+    integer :: rc
+    err = blank_error()
+    rc = hrt_import_new(imp%ptr, err)
+    if (rc /= HRT_OK) imp%ptr = c_null_ptr
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_import_new
+
+  !> Free an import and its report; a null import is allowed.
+  subroutine hrtf_import_free(imp)
+    type(hrt_import_t), intent(inout) :: imp
+    call hrt_import_free(imp%ptr)
+    imp%ptr = c_null_ptr
+  end subroutine hrtf_import_free
+
+  !> Add "key=value" entries to the column map (include/hrtrail/build.h, hrt_import_map), or, with
+  !> from_file = .true., the entries of the file named by entries.
+  subroutine hrtf_import_map(imp, entries, from_file, stat, errmsg)
+    type(hrt_import_t), intent(in) :: imp
+    character(len=*), intent(in) :: entries
+    logical, intent(in), optional :: from_file
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    type(hrt_error) :: err
+    integer :: rc
+    logical :: file
+    file = .false.
+    if (present(from_file)) file = from_file
+    err = blank_error()
+    if (file) then
+       rc = hrt_import_map_file(imp%ptr, trim(entries) // c_null_char, err)
+    else
+       rc = hrt_import_map(imp%ptr, entries // c_null_char, err)
+    end if
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_import_map
+
+  !> Settings of an import: Z_ref written to the grid, lenient (drop bad rows and files, and
+  !> report them, instead of failing), force (write a grid even when its routes collapse).
+  subroutine hrtf_import_settings(imp, z_ref, lenient, force, stat, errmsg)
+    type(hrt_import_t), intent(in) :: imp
+    real(c_double), intent(in), optional :: z_ref
+    logical, intent(in), optional :: lenient, force
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    type(hrt_error) :: err
+    integer :: rc
+    rc = HRT_OK
+    err = blank_error()
+    if (present(z_ref)) rc = hrt_import_set_z_ref(imp%ptr, z_ref, err)
+    if (rc == HRT_OK .and. present(lenient)) rc = hrt_import_set_lenient(imp%ptr, merge(1_c_int, 0_c_int, lenient))
+    if (rc == HRT_OK .and. present(force)) rc = hrt_import_set_force(imp%ptr, merge(1_c_int, 0_c_int, force))
+    if (rc /= HRT_OK .and. err%code == HRT_OK) then
+       call report(rc, 'hrtf_import_settings: ' // hrtf_string(hrt_strerror(int(rc, c_int))), stat, errmsg)
+    else
+       call report(rc, error_text(err), stat, errmsg)
+    end if
+  end subroutine hrtf_import_settings
+
+  !> Add a track file; z its metal mass fraction, or absent to take it from the map, the file-name
+  !> pattern or a column.  Nothing is read yet.
+  subroutine hrtf_import_add_file(imp, path, z, stat, errmsg)
+    type(hrt_import_t), intent(in) :: imp
+    character(len=*), intent(in) :: path
+    real(c_double), intent(in), optional :: z
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    type(hrt_error) :: err
+    real(c_double) :: zz
+    integer :: rc
+    zz = ieee_value(0.0_c_double, ieee_quiet_nan)
+    if (present(z)) zz = z
+    err = blank_error()
+    rc = hrt_import_add_file(imp%ptr, trim(path) // c_null_char, zz, err)
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_import_add_file
+
+  !> Read every file, find keypoints and routes, resample and write the grid to out_path (absent:
+  !> check the files only).  Each file's outcome: hrtf_import_report.
+  subroutine hrtf_import_run(imp, out_path, stat, errmsg)
+    type(hrt_import_t), intent(in) :: imp
+    character(len=*), intent(in), optional :: out_path
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    character(kind=c_char, len=:), allocatable, target :: cpath
+    type(hrt_error) :: err
+    integer :: rc
+    err = blank_error()
+    if (present(out_path)) then
+       cpath = trim(out_path) // c_null_char
+       rc = hrt_import_run(imp%ptr, c_loc(cpath), err)
+    else
+       rc = hrt_import_run(imp%ptr, c_null_ptr, err)
+    end if
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_import_run
+
+  !> The report of every file added, in the order added.
+  subroutine hrtf_import_report(imp, reports)
+    type(hrt_import_t), intent(in) :: imp
+    type(hrt_import_track_report), allocatable, intent(out) :: reports(:)
+    integer(c_size_t) :: i, n
+    integer :: rc
+    n = hrt_import_n_tracks(imp%ptr)
+    allocate (reports(n))
+    do i = 1, n
+       rc = hrt_import_track(imp%ptr, i - 1, reports(i))
+    end do
+  end subroutine hrtf_import_report
+
+  !> Fortran text of a NUL-terminated character array of a struct (message, notes, missing, name).
+  function hrtf_chars(chars) result(s)
+    character(kind=c_char), intent(in) :: chars(:)
+    character(len=:), allocatable :: s
+    integer :: n
+    n = 0
+    do while (n < size(chars))
+       if (chars(n + 1) == c_null_char) exit
+       n = n + 1
+    end do
+    allocate (character(len=n) :: s)
+    s = transfer(chars(1:n), s)
+  end function hrtf_chars
 
 end module hrtrail

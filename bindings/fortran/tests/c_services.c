@@ -2,6 +2,7 @@
  * options and routes (test_services.f90): the layout of every public struct
  * the module mirrors, as the C compiler sees it, and the same library calls
  * made straight from C into caller buffers, for bit-for-bit comparison. */
+#include <math.h>
 #include <stddef.h>
 #include <string.h>
 
@@ -65,7 +66,18 @@
     X(hrt_forecast_result, phase_now_prob) X(hrt_forecast_result, ms_prob)                                 \
     X(hrt_forecast_result, ms_left_yr) X(hrt_forecast_result, end_in_yr) X(hrt_forecast_result, future)    \
     X(hrt_forecast_result, n_events) X(hrt_forecast_result, events) X(hrt_forecast_result, remnant_prob)   \
-    X(hrt_forecast_result, remnant_mass_msun) X(hrt_forecast_result, reserved)
+    X(hrt_forecast_result, remnant_mass_msun) X(hrt_forecast_result, reserved)                           \
+    X(hrt_import_track_report, file) X(hrt_import_track_report, status) X(hrt_import_track_report, line)  \
+    X(hrt_import_track_report, column) X(hrt_import_track_report, message) X(hrt_import_track_report, notes) \
+    X(hrt_import_track_report, initial_mass_msun) X(hrt_import_track_report, z)                         \
+    X(hrt_import_track_report, route) X(hrt_import_track_report, truncated)                             \
+    X(hrt_import_track_report, remnant) X(hrt_import_track_report, remnant_mass_msun)                   \
+    X(hrt_import_track_report, n_rows) X(hrt_import_track_report, n_rows_dropped)                       \
+    X(hrt_import_track_report, n_keypoints) X(hrt_import_track_report, keypoint_age_yr)                 \
+    X(hrt_import_track_report, keypoint_line) X(hrt_import_track_report, keypoint_how)                  \
+    X(hrt_import_track_report, missing)                                                                   \
+    X(hrt_import_row_report, line) X(hrt_import_row_report, column) X(hrt_import_row_report, code)      \
+    X(hrt_import_row_report, message)
 
 static const struct {
     const char *name;
@@ -80,7 +92,8 @@ static const struct {
                  SIZE_(hrt_pop_spec) SIZE_(hrt_pop_sum) SIZE_(hrt_pop_hr) SIZE_(hrt_pop_summary)
                      SIZE_(hrt_fit_model_options) SIZE_(hrt_fit_obs) SIZE_(hrt_fit_interval) SIZE_(hrt_fit_sample)
                          SIZE_(hrt_fit_result) SIZE_(hrt_forecast_state) SIZE_(hrt_forecast_event)
-                             SIZE_(hrt_forecast_phase) SIZE_(hrt_forecast_result)};
+                             SIZE_(hrt_forecast_phase) SIZE_(hrt_forecast_result)
+                                 SIZE_(hrt_import_track_report) SIZE_(hrt_import_row_report)};
 
 /* The header's constants that the module writes by hand, by name. */
 #define CONST_(c) {#c, (double)(c)},
@@ -291,4 +304,35 @@ int svc_default_route(size_t r, char *name, size_t *n_keypoints, char *names, in
             segments[k] = spec.segment_samples[k];
     }
     return HRT_OK;
+}
+
+int svc_import(size_t n, const char *paths, size_t width, const char *map, const char *out,
+               hrt_import_track_report *reports, char *msg);
+
+/* Import n files (paths: n names of width bytes each, NUL-terminated) with a column map, forced
+ * (routes may collapse), into out; the reports of every file (their file pointers cleared, which
+ * point into this import) and the error message. */
+int svc_import(size_t n, const char *paths, size_t width, const char *map, const char *out,
+               hrt_import_track_report *reports, char *msg)
+{
+    hrt_import *imp = NULL;
+    hrt_error err;
+    memset(&err, 0, sizeof err);
+    int rc = hrt_import_new(&imp, &err);
+    if (rc == HRT_OK)
+        rc = hrt_import_map(imp, map, &err);
+    if (rc == HRT_OK)
+        rc = hrt_import_set_force(imp, 1);
+    for (size_t i = 0; rc == HRT_OK && i < n; i++)
+        rc = hrt_import_add_file(imp, paths + i * width, NAN, &err);
+    if (rc == HRT_OK)
+        rc = hrt_import_run(imp, out, &err);
+    for (size_t i = 0; imp && i < n; i++) {
+        memset(&reports[i], 0, sizeof reports[i]);
+        hrt_import_track(imp, i, &reports[i]);
+        reports[i].file = NULL;
+    }
+    hrt_import_free(imp);
+    copy_message(msg, rc, &err);
+    return rc;
 }

@@ -116,6 +116,14 @@ program test_services
        character(kind=c_char) :: msg(256)
        integer(c_int) :: rc
      end function svc_forecast
+     function svc_import(n, paths, width, map, out, reports, msg) bind(C) result(rc)
+       import :: c_size_t, c_char, c_int, hrt_import_track_report
+       integer(c_size_t), value :: n, width
+       character(kind=c_char), intent(in) :: paths(*), map(*), out(*)
+       type(hrt_import_track_report), intent(inout) :: reports(*)
+       character(kind=c_char) :: msg(256)
+       integer(c_int) :: rc
+     end function svc_import
      function svc_default_route(r, name, n_keypoints, names, segments) bind(C) result(rc)
        import :: c_size_t, c_char, c_int
        integer(c_size_t), value :: r
@@ -142,6 +150,7 @@ program test_services
   call test_isochrone_options()
   call test_population()
   call test_fit_and_forecast()
+  call test_import()
   write (*, '(a,i0,a,i0,a)') 'fortran services: ', checks, ' checks, ', failures, ' failures'
   if (failures > 0) error stop 1
 
@@ -434,9 +443,169 @@ contains
     call field('hrt_forecast_result.remnant_mass_msun', c_loc(fo), c_loc(fo%remnant_mass_msun), &
          c_sizeof(fo%remnant_mass_msun))
     call field('hrt_forecast_result.reserved', c_loc(fo), c_loc(fo%reserved), c_sizeof(fo%reserved))
+    call import_layout()
     call expect(fields_checked == svc_n_fields(), 'every field of the C table is checked here')
     call expect(types_checked == svc_n_types(), 'every type of the C table is checked here')
   end subroutine test_layout
+
+  subroutine import_layout()
+    type(hrt_import_track_report), target :: t
+    type(hrt_import_row_report), target :: w
+    call type_size('hrt_import_track_report', c_sizeof(t))
+    call field('hrt_import_track_report.file', c_loc(t), c_loc(t%file), c_sizeof(t%file))
+    call field('hrt_import_track_report.status', c_loc(t), c_loc(t%status), c_sizeof(t%status))
+    call field('hrt_import_track_report.line', c_loc(t), c_loc(t%line), c_sizeof(t%line))
+    call field('hrt_import_track_report.column', c_loc(t), c_loc(t%column), c_sizeof(t%column))
+    call field('hrt_import_track_report.message', c_loc(t), c_loc(t%message), c_sizeof(t%message))
+    call field('hrt_import_track_report.notes', c_loc(t), c_loc(t%notes), c_sizeof(t%notes))
+    call field('hrt_import_track_report.initial_mass_msun', c_loc(t), c_loc(t%initial_mass_msun), &
+         c_sizeof(t%initial_mass_msun))
+    call field('hrt_import_track_report.z', c_loc(t), c_loc(t%z), c_sizeof(t%z))
+    call field('hrt_import_track_report.route', c_loc(t), c_loc(t%route), c_sizeof(t%route))
+    call field('hrt_import_track_report.truncated', c_loc(t), c_loc(t%truncated), c_sizeof(t%truncated))
+    call field('hrt_import_track_report.remnant', c_loc(t), c_loc(t%remnant), c_sizeof(t%remnant))
+    call field('hrt_import_track_report.remnant_mass_msun', c_loc(t), c_loc(t%remnant_mass_msun), &
+         c_sizeof(t%remnant_mass_msun))
+    call field('hrt_import_track_report.n_rows', c_loc(t), c_loc(t%n_rows), c_sizeof(t%n_rows))
+    call field('hrt_import_track_report.n_rows_dropped', c_loc(t), c_loc(t%n_rows_dropped), c_sizeof(t%n_rows_dropped))
+    call field('hrt_import_track_report.n_keypoints', c_loc(t), c_loc(t%n_keypoints), c_sizeof(t%n_keypoints))
+    call field('hrt_import_track_report.keypoint_age_yr', c_loc(t), c_loc(t%keypoint_age_yr), &
+         c_sizeof(t%keypoint_age_yr))
+    call field('hrt_import_track_report.keypoint_line', c_loc(t), c_loc(t%keypoint_line), c_sizeof(t%keypoint_line))
+    call field('hrt_import_track_report.keypoint_how', c_loc(t), c_loc(t%keypoint_how), c_sizeof(t%keypoint_how))
+    call field('hrt_import_track_report.missing', c_loc(t), c_loc(t%missing), c_sizeof(t%missing))
+    call type_size('hrt_import_row_report', c_sizeof(w))
+    call field('hrt_import_row_report.line', c_loc(w), c_loc(w%line), c_sizeof(w%line))
+    call field('hrt_import_row_report.column', c_loc(w), c_loc(w%column), c_sizeof(w%column))
+    call field('hrt_import_row_report.code', c_loc(w), c_loc(w%code), c_sizeof(w%code))
+    call field('hrt_import_row_report.message', c_loc(w), c_loc(w%message), c_sizeof(w%message))
+  end subroutine import_layout
+
+  !> Text tracks written here from the grid's own EEP tracks (every fourth track of the group
+  !> at Z_ref: vocabulary columns, phase codes, keypoints flagged at their EEPs), imported by the
+  !> module and by C with the same map: the same status, message, reports (file pointers aside)
+  !> and grid file, byte for byte; the imported grid opens and has the default routes.
+  subroutine test_import()
+    character(len=*), parameter :: fgrid = 'test_services_import_f.h5', cgrid = 'test_services_import_c.h5'
+    integer, parameter :: width = 64
+    type(hrt_grid_t) :: g, imported
+    type(hrt_star_t) :: s
+    type(hrt_import_t) :: imp
+    type(hrt_state), allocatable :: track(:)
+    type(hrt_import_track_report), allocatable :: frep(:), crep(:)
+    real(c_double), allocatable :: zg(:), m(:)
+    character(len=width), allocatable :: names(:)
+    character(kind=c_char), allocatable :: cnames(:)
+    character(kind=c_char) :: cmsg(256)
+    character(len=256) :: msg
+    character(len=32) :: kp, zs, ms
+    character(len=:), allocatable :: map
+    integer(c_int8_t), allocatable :: fbytes(:), cbytes(:)
+    integer :: iz, i, j, k, n, u, stat, rc, route, nk
+    integer(c_long) :: e
+    call hrtf_open(g, trim(grid_path))
+    allocate (zg(hrt_grid_n_z(g%ptr)))
+    zg(:) = hrtf_z_values(g)
+    iz = minloc(abs(log(zg / hrt_grid_z_ref(g%ptr))), 1)
+    allocate (m(hrt_grid_n_masses(g%ptr, int(iz - 1, c_size_t))))
+    m(:) = hrtf_grid_masses(g, iz)
+    n = (size(m) + 3) / 4
+    allocate (names(n))
+    do i = 1, n
+       j = 4 * (i - 1) + 1
+       write (zs, '(es23.16)') zg(iz)
+       write (ms, '(es23.16)') m(j)
+       names(i) = 'trk_z' // trim(adjustl(zs)) // '_m' // trim(adjustl(ms)) // '.csv'
+       call hrtf_star_new(s, g, m(j), zg(iz))
+       call hrtf_star_track(s, track)
+       route = hrt_star_route(s%ptr)
+       nk = int(hrt_grid_route_n_keypoints(g%ptr, int(route, c_size_t)))
+       open (newunit=u, file=trim(names(i)), status='replace', action='write')
+       write (u, '(a)') 'age_yr,log_l_lsun,log_teff_k,mass_msun,he_core_mass_msun,co_core_mass_msun,phase,keypoints'
+       do j = 1, size(track)
+          kp = '-'
+          do k = 1, nk
+             e = hrt_grid_keypoint_eep(g%ptr, int(route, c_size_t), int(k - 1, c_size_t))
+             if (e == j - 1) kp = hrtf_string(hrt_grid_keypoint_name(g%ptr, int(route, c_size_t), int(k - 1, c_size_t)))
+          end do
+          write (u, '(6(es25.17,","),i0,",",a)') track(j)%age_yr, track(j)%log_l_lsun, track(j)%log_teff_k, &
+               track(j)%mass_msun, track(j)%he_core_mass_msun, track(j)%co_core_mass_msun, track(j)%phase, trim(kp)
+       end do
+       close (u)
+       call hrtf_star_free(s)
+    end do
+    map = 'pattern=trk_z{z}_m{mass}.csv keypoints=keypoints'
+    ! Fortran
+    call hrtf_import_new(imp)
+    call hrtf_import_map(imp, map)
+    call hrtf_import_settings(imp, force=.true.)
+    do i = 1, n
+       call hrtf_import_add_file(imp, trim(names(i)))
+    end do
+    call hrtf_import_run(imp, fgrid, stat, msg)
+    call hrtf_import_report(imp, frep)
+    call expect(stat == HRT_OK, 'hrtf_import_run of the grid''s own tracks: ' // trim(msg))
+    call expect(size(frep) == n .and. all(frep%status == HRT_OK), 'every track imported')
+    if (size(frep) > 0) call expect(hrtf_string(frep(1)%file) == trim(names(1)), 'report names the file')
+    call expect(int(hrt_import_n_z(imp%ptr)) == 1 .and. same(hrt_import_z(imp%ptr, 0_c_size_t), zg(iz)), &
+         'one metallicity group, of the files'' Z')
+    frep%file = c_null_ptr
+    call hrtf_import_free(imp)
+    ! C
+    allocate (cnames(n * width), crep(n))
+    cnames = c_null_char
+    do i = 1, n
+       do k = 1, len_trim(names(i))
+          cnames((i - 1) * width + k) = names(i)(k:k)
+       end do
+    end do
+    rc = svc_import(int(n, c_size_t), cnames, int(width, c_size_t), cstr(map), cstr(cgrid), crep, cmsg)
+    call expect(rc == stat .and. trim(msg) == c_text(cmsg), 'the import from C: the same status and message')
+    call expect_bytes(transfer(frep, [byte]), transfer(crep, [byte]), 'import reports equal C''s')
+    call read_bytes(fgrid, fbytes)
+    call read_bytes(cgrid, cbytes)
+    call expect(size(fbytes) > 0, 'the imported grid was written')
+    call expect_bytes(fbytes, cbytes, 'the grid imported from Fortran is the grid imported from C, byte for byte')
+    call hrtf_open(imported, fgrid, stat=stat, errmsg=msg)
+    call expect(stat == HRT_OK, 'the imported grid opens: ' // trim(msg))
+    if (stat == HRT_OK) then
+       call expect(hrtf_route_name(imported, 0) == hrtf_route_name(g, 0), 'the imported grid has the default routes')
+       call hrtf_close(imported)
+    end if
+    ! errors: a missing file fails the run and names it
+    call hrtf_import_new(imp)
+    call hrtf_import_add_file(imp, '/nonexistent/track.csv', 0.014_c_double)
+    call hrtf_import_run(imp, stat=stat, errmsg=msg)
+    call expect(stat /= HRT_OK .and. index(msg, '/nonexistent/track.csv') > 0, &
+         'import of a missing file fails naming it: ' // trim(msg))
+    call hrtf_import_map(imp, 'no_such_key=3', stat=stat, errmsg=msg)
+    call expect(stat /= HRT_OK .and. len_trim(msg) > 0, 'an unknown map key is refused: ' // trim(msg))
+    call hrtf_import_free(imp)
+    do i = 1, n
+       open (newunit=u, file=trim(names(i)), status='old', iostat=stat)
+       if (stat == 0) close (u, status='delete')
+    end do
+    do k = 1, 2
+       open (newunit=u, file=merge(fgrid, cgrid, k == 1), status='old', iostat=stat)
+       if (stat == 0) close (u, status='delete')
+    end do
+    call hrtf_close(g)
+  end subroutine test_import
+
+  subroutine read_bytes(path, bytes)
+    character(len=*), intent(in) :: path
+    integer(c_int8_t), allocatable, intent(out) :: bytes(:)
+    integer :: u, stat, n
+    open (newunit=u, file=path, access='stream', form='unformatted', status='old', action='read', iostat=stat)
+    if (stat /= 0) then
+       allocate (bytes(0))
+       return
+    end if
+    inquire (unit=u, size=n)
+    allocate (bytes(max(n, 0)))
+    if (n > 0) read (u) bytes
+    close (u)
+  end subroutine read_bytes
 
   !> One of the module's parameters against the header's constant of that name.
   subroutine constant(name, value)
