@@ -222,14 +222,16 @@ static int start_grid(const layout *lay, const gen_params *p, hrt_builder **b, h
     snprintf(version, sizeof version, "hrtrail-gen-grid %s", HRT_VERSION_STRING);
     if (hrt_builder_set_attribute(*b, "created_by", version, err) != HRT_OK ||
         hrt_builder_set_attribute(*b, "source",
-                                  "semi-analytic model from published relations (tracks/MODEL.md); no "
-                                  "evolution-code output used",
+                                  "semi-analytic model from published relations (MODEL.md: tracks/ in "
+                                  "the source, share/doc/hrtrail/ where installed); no evolution-code "
+                                  "output used",
                                   err) != HRT_OK ||
         hrt_builder_set_attribute(*b, "description",
                                   "hrtrail default grid: 0.08-150 Msun, Z = 0.0001-0.03, zero-age main "
                                   "sequence to white-dwarf cooling onset or core collapse. A "
                                   "semi-analytic model for population-level work; accuracy in "
-                                  "tracks/MODEL.md.",
+                                  "MODEL.md (tracks/ in the source, share/doc/hrtrail/ where installed); "
+                                  "format and phase codes in FORMAT.md beside it.",
                                   err) != HRT_OK)
         return -1;
     return 0;

@@ -1,6 +1,7 @@
 // hrtrail.hpp: a thin C++ layer over the C API of hrtrail.h (header only).
 //
-// RAII handles (hrtrail::Grid, hrtrail::Star), library errors as
+// RAII handles (hrtrail::Grid, hrtrail::Star), the default route table
+// (hrtrail::default_route, default_routes), library errors as
 // hrtrail::Error exceptions carrying the status code and the library's
 // message, std::vector outputs.  The C header itself compiles as C++
 // (extern "C"); this layer only adds idioms.  Units as in hrtrail.h: Msun,
@@ -93,23 +94,77 @@ public:
         return out;
     }
 
-    /** The isochrone at age_yr and metallicity z. */
-    std::vector<hrt_state> isochrone(double age_yr, double z) const
+    /** The isochrone at age_yr and metallicity z (the default phases and sampling). */
+    std::vector<hrt_state> isochrone(double age_yr, double z) const { return isochrone_(age_yr, z, nullptr); }
+
+    /** The isochrone with options o (from hrtrail::isochrone_options(), changed as needed):
+     *  the phases it holds (HRT_PHASE_BIT(code) each) and its largest log L step. */
+    std::vector<hrt_state> isochrone(double age_yr, double z, const hrt_isochrone_options &o) const
+    {
+        return isochrone_(age_yr, z, &o);
+    }
+
+private:
+    std::vector<hrt_state> isochrone_(double age_yr, double z, const hrt_isochrone_options *o) const
     {
         size_t n = 0;
         hrt_error err = hrt_error();
-        int rc = hrt_isochrone(g_, age_yr, z, nullptr, 0, &n, &err);
+        int rc = hrt_isochrone_with(g_, age_yr, z, o, nullptr, 0, &n, &err);
         std::vector<hrt_state> out(n);
         if (rc == HRT_E_BUFFER)
-            rc = hrt_isochrone(g_, age_yr, z, out.data(), out.size(), &n, &err);
-        check(rc, err, "hrt_isochrone");
+            rc = hrt_isochrone_with(g_, age_yr, z, o, out.data(), out.size(), &n, &err);
+        check(rc, err, "hrt_isochrone_with");
         out.resize(n);
         return out;
     }
 
-private:
     hrt_grid *g_ = nullptr;
 };
+
+/** The default isochrone options: every luminous, modelled phase, HRT_ISOCHRONE_MAX_DLOG_L. */
+inline hrt_isochrone_options isochrone_options()
+{
+    hrt_isochrone_options o;
+    hrt_isochrone_options_default(&o);
+    return o;
+}
+
+/** One route of the default grid's EEP layout (hrt_default_route), as owned strings. */
+struct Route {
+    std::string name;                        ///< route name
+    std::vector<std::string> keypoint_names; ///< its keypoints, in order
+    std::vector<int> segment_samples;        ///< EEPs of each segment between them (one fewer)
+};
+
+/** Route r (from 0, by increasing mass) of the default layout; throws Error (HRT_E_INVALID) past the last. */
+inline Route default_route(size_t r)
+{
+    hrt_route_spec spec;
+    const char *names[HRT_IMPORT_MAX_KP];
+    int rc = hrt_default_route(r, &spec, names);
+    if (rc != HRT_OK)
+        throw Error(rc, "hrt_default_route: no route " + std::to_string(r) + " in the default layout (" +
+                            hrt_strerror(rc) + ")");
+    Route out;
+    out.name = spec.name;
+    for (size_t k = 0; k < spec.n_keypoints; k++) {
+        out.keypoint_names.push_back(spec.keypoint_names[k]);
+        if (k + 1 < spec.n_keypoints)
+            out.segment_samples.push_back(spec.segment_samples[k]);
+    }
+    return out;
+}
+
+/** Every route of the default layout, in order. */
+inline std::vector<Route> default_routes()
+{
+    std::vector<Route> v;
+    hrt_route_spec spec;
+    const char *names[HRT_IMPORT_MAX_KP];
+    for (size_t r = 0; hrt_default_route(r, &spec, names) == HRT_OK; r++)
+        v.push_back(default_route(r));
+    return v;
+}
 
 /** One star's interpolated track; the grid must outlive it. */
 class Star {

@@ -2,7 +2,8 @@
 // layer hrtrail.hpp, and the answers against the same calls made from C
 // (bindings/python/tests/c_side.c, compiled as C and linked in).
 //
-//   test_cxx GRID            layout, phase and remnant codes, evaluation, isochrone, star, errors
+//   test_cxx GRID            layout, phase and remnant codes, evaluation, isochrones (with options),
+//                            default routes, star, errors
 //   test_cxx GRID mismatch   with a stand-in reporting ABI 99 preloaded: the guard must throw
 #include <cmath>
 #include <cstddef>
@@ -146,6 +147,55 @@ int main(int argc, char **argv)
     ref_isochrone(grid.c_str(), 1e9, 0.014, ciso.size(), ciso.data(), &n);
     ciso.resize(n);
     expect(iso.size() > 100 && same_bytes(iso, ciso), "isochrone from C++ equals C");
+
+    // Isochrones with options: the same bytes as hrt_isochrone_with called directly; only the phases asked.
+    hrt_isochrone_options o = hrtrail::isochrone_options(), od;
+    hrt_isochrone_options_default(&od);
+    expect(std::memcmp(&o, &od, sizeof o) == 0, "isochrone_options() is hrt_isochrone_options_default");
+    expect(same_bytes(g.isochrone(1e9, 0.014, o), iso), "isochrone with the default options equals the plain one");
+    o.phases = HRT_PHASE_BIT(HRT_PHASE_MS) | HRT_PHASES_REMNANT;
+    o.max_dlog_l = 0.05;
+    std::vector<hrt_state> oiso = g.isochrone(2e9, 0.014, o), coiso(20000);
+    rc = hrt_isochrone_with(g.get(), 2e9, 0.014, &o, coiso.data(), coiso.size(), &n, nullptr);
+    coiso.resize(rc == HRT_OK ? n : 0);
+    expect(!oiso.empty() && same_bytes(oiso, coiso), "isochrone with options equals hrt_isochrone_with");
+    bool only_asked = true, has_wd = false;
+    for (const hrt_state &p : oiso) {
+        only_asked = only_asked && (o.phases & HRT_PHASE_BIT(p.phase)) != 0;
+        has_wd = has_wd || p.phase == HRT_PHASE_WD;
+    }
+    expect(only_asked && has_wd, "only the phases asked, white dwarfs included");
+    o.max_dlog_l = -1.0;
+    try {
+        g.isochrone(2e9, 0.014, o);
+        expect(false, "no exception for a negative max_dlog_l");
+    } catch (const hrtrail::Error &e) {
+        expect(e.code() == HRT_E_DOMAIN, std::string("negative max_dlog_l: ") + e.what());
+    }
+
+    // The default routes: as hrt_default_route gives them, and as the default grid (written with them) has them.
+    std::vector<hrtrail::Route> routes = hrtrail::default_routes();
+    expect(!routes.empty() && routes.size() == hrt_grid_n_routes(g.get()), "as many default routes as the grid's");
+    for (size_t r = 0; r < routes.size(); r++) {
+        hrt_route_spec spec;
+        const char *names[HRT_IMPORT_MAX_KP];
+        bool same = hrt_default_route(r, &spec, names) == HRT_OK && routes[r].name == spec.name &&
+                    routes[r].keypoint_names.size() == spec.n_keypoints &&
+                    routes[r].segment_samples.size() + 1 == spec.n_keypoints;
+        for (size_t k = 0; same && k < spec.n_keypoints; k++) {
+            same = routes[r].keypoint_names[k] == spec.keypoint_names[k] &&
+                   routes[r].keypoint_names[k] == hrt_grid_keypoint_name(g.get(), r, k) &&
+                   (k + 1 == spec.n_keypoints || routes[r].segment_samples[k] == spec.segment_samples[k]);
+        }
+        expect(same && routes[r].name == hrt_grid_route_name(g.get(), r),
+               "default route " + routes[r].name + " equals hrt_default_route and the grid's route");
+    }
+    try {
+        hrtrail::default_route(routes.size());
+        expect(false, "no exception past the last default route");
+    } catch (const hrtrail::Error &e) {
+        expect(e.code() == HRT_E_INVALID, std::string("past the last route: ") + e.what());
+    }
 
     hrtrail::Star s(g, 1.0, 0.014);
     hrt_state st = s.at(4.57e9), ref;

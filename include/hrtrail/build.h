@@ -1,4 +1,4 @@
-/*
+/** @file
  * hrtrail: building grids: the EEP writer, keypoints and the importer of text tracks
  *
  * Copyright (C) 2026 the hrtrail authors.  GPL-3.0-or-later.
@@ -51,9 +51,11 @@ typedef struct hrt_track_data {
     const size_t *keypoint_sample;/**< sample index of each reached keypoint (raw tracks only) */
 } hrt_track_data;
 
-/** Weights of the EEP distance metric (see tracks/FORMAT.md). */
+/** Weight of log Teff in the EEP distance metric (see tracks/FORMAT.md). */
 #define HRT_EEP_WEIGHT_LOG_TEFF 2.0
+/** Weight of log L in the EEP distance metric. */
 #define HRT_EEP_WEIGHT_LOG_L 1.0
+/** Weight of age in the EEP distance metric. */
 #define HRT_EEP_WEIGHT_AGE 1.0
 
 /**
@@ -385,7 +387,8 @@ HRT_API int hrt_import_run(hrt_import *imp, const char *out_path, hrt_error *err
 typedef struct hrt_import_track_report {
     const char *file;           /**< path as added (lives as long as the import) */
     int status;                 /**< HRT_OK: in the grid; else the code of the reason it is not */
-    long line, column;          /**< location of the problem in the file (1-based; 0 if none) */
+    long line;                  /**< line of the problem in the file (1-based; 0 if none) */
+    long column;                /**< column of the problem (1-based; 0 if none) */
     char message[320];          /**< the problem, or "" */
     char notes[320];            /**< what was assumed or changed (defaults, truncation, ...) */
     double initial_mass_msun;   /**< NaN if unknown */
@@ -405,7 +408,8 @@ typedef struct hrt_import_track_report {
 
 /** A data row dropped in lenient mode (hrt_import_dropped_row()). */
 typedef struct hrt_import_row_report {
-    long line, column;          /**< where in the file (1-based) */
+    long line;                  /**< line in the file (1-based) */
+    long column;                /**< column in the line (1-based) */
     int code;                   /**< status code of the problem (HRT_E_FORMAT, ...) */
     char message[320];          /**< "file:line:column: problem" */
 } hrt_import_row_report;
@@ -434,7 +438,9 @@ HRT_API const char *hrt_import_keypoint_name(const hrt_import *imp, size_t r, si
  * NaN.
  */
 HRT_API size_t hrt_import_n_z(const hrt_import *imp);
+/** Metal mass fraction of group iz written by the run; NaN before a run or out of range. */
 HRT_API double hrt_import_z(const hrt_import *imp, size_t iz);
+/** Route-boundary mass b of group iz written by the run, Msun; NaN before a run or out of range. */
 HRT_API double hrt_import_route_boundary(const hrt_import *imp, size_t iz, size_t b);
 
 #ifdef __cplusplus

@@ -1,4 +1,4 @@
-/*
+/** @file
  * hrtrail core: opening a grid and asking it for stars, batches and
  * isochrones.  Part of the public API; include <hrtrail.h>.
  *
@@ -42,6 +42,7 @@
 extern "C" {
 #endif
 
+/** Marks the exported functions (default visibility while the library is built; empty for users). */
 #if defined(HRT_BUILDING_LIBRARY) && defined(__GNUC__)
 #define HRT_API __attribute__((visibility("default")))
 #else
@@ -79,6 +80,7 @@ extern "C" {
 /* ------------------------------------------------------------------------
  * Status codes (one list: the enum and hrt_strerror() come from it)
  * ------------------------------------------------------------------------ */
+/** The status codes: X(NAME, value, text) for each, in order (hrt_status, hrt_strerror()). */
 #define HRT_ERROR_LIST(X)                                                              \
     X(HRT_OK, 0, "success")                                                            \
     X(HRT_E_NULL, 1, "a required pointer argument is NULL")                            \
@@ -469,8 +471,9 @@ HRT_API size_t hrt_star_n_eep(const hrt_star *star);
 HRT_API int hrt_star_eep_state(const hrt_star *star, size_t j, hrt_state *out);
 /** Route index of the star. */
 HRT_API int hrt_star_route(const hrt_star *star);
-/** Initial mass (Msun) and metallicity of the star. */
+/** Initial mass of the star, Msun. */
 HRT_API double hrt_star_mass(const hrt_star *star);
+/** Metallicity (metal mass fraction Z) of the star. */
 HRT_API double hrt_star_z(const hrt_star *star);
 /** Number of keypoints of the star's route; keypoints the star does not reach have age NaN. */
 HRT_API size_t hrt_star_n_keypoints(const hrt_star *star);

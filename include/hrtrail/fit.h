@@ -1,4 +1,4 @@
-/*
+/** @file
  * hrtrail: fitting an observed star and forecasting its future
  *
  * Copyright (C) 2026 the hrtrail authors.  GPL-3.0-or-later.
@@ -68,8 +68,9 @@ typedef struct hrt_fit_model_options {
     double mass_min_msun;     /**< lower limit of the mass prior, Msun (default: the grid's lowest mass) */
     double mass_max_msun;     /**< upper limit (default: the grid's highest mass) */
     double age_max_yr;        /**< age prior uniform in [0, age_max_yr] (default 13.8e9 yr) */
-    double feh_min, feh_max;  /**< [Fe/H] range of the lattice, dex (default: the grid's range); the
-                               *   metallicity prior is uniform in [Fe/H] over it */
+    double feh_min;           /**< lower end of the [Fe/H] range of the lattice, dex (default: the
+                               *   grid's range); the metallicity prior is uniform in [Fe/H] over it */
+    double feh_max;           /**< upper end of the [Fe/H] range, dex */
     double feh_step_dex;      /**< spacing of the [Fe/H] nodes (default 0.1 dex; grid groups are nodes
                                *   when they fall on the spacing) */
     double log_mass_step_dex; /**< spacing of the lattice in log10 initial mass (default 0.02 dex) */
@@ -108,8 +109,9 @@ HRT_API void hrt_fit_model_free(hrt_fit_model *model);
 HRT_API size_t hrt_fit_model_memory_bytes(const hrt_fit_model *model);
 /** Options the model was made with (defaults filled in). */
 HRT_API int hrt_fit_model_get_options(const hrt_fit_model *model, hrt_fit_model_options *o);
-/** Number of [Fe/H] nodes of the model, and the [Fe/H] of node k (NaN if out of range). */
+/** Number of [Fe/H] nodes of the model. */
 HRT_API size_t hrt_fit_model_n_feh(const hrt_fit_model *model);
+/** [Fe/H] of node k of the model, dex (ascending; NaN if out of range). */
 HRT_API double hrt_fit_model_feh(const hrt_fit_model *model, size_t k);
 
 /**
@@ -124,15 +126,23 @@ HRT_API double hrt_fit_model_feh(const hrt_fit_model *model, size_t k);
  * distance gives the HR-diagram distance of the star instead.
  */
 typedef struct hrt_fit_obs {
-    double teff_k, teff_k_sigma;          /**< effective temperature, K (required) */
-    double log_l_lsun, log_l_lsun_sigma;            /**< log10 L/Lsun (nominal), dex */
-    double feh, feh_sigma;                /**< [Fe/H] = log10(Z/Z_ref) of the grid, dex */
-    double log_g_cgs, log_g_cgs_sigma;        /**< log10 g/(cm s^-2) */
-    double flux_w_m2, flux_w_m2_sigma;    /**< bolometric flux at the observer, W m^-2 */
-    double mbol, mbol_sigma;              /**< apparent bolometric magnitude (alternative to the flux) */
-    double distance_pc, distance_pc_sigma;/**< distance, pc */
-    double parallax_mas, parallax_mas_sigma; /**< parallax, mas (alternative to the distance;
-                                           *   sigma/parallax <= 0.2: it is inverted) */
+    double teff_k;             /**< effective temperature, K (required) */
+    double teff_k_sigma;       /**< its 1-sigma error, K */
+    double log_l_lsun;         /**< log10 L/Lsun (nominal), dex */
+    double log_l_lsun_sigma;   /**< its 1-sigma error, dex */
+    double feh;                /**< [Fe/H] = log10(Z/Z_ref) of the grid, dex */
+    double feh_sigma;          /**< its 1-sigma error, dex */
+    double log_g_cgs;          /**< log10 g/(cm s^-2) */
+    double log_g_cgs_sigma;    /**< its 1-sigma error, dex */
+    double flux_w_m2;          /**< bolometric flux at the observer, W m^-2 */
+    double flux_w_m2_sigma;    /**< its 1-sigma error, W m^-2 */
+    double mbol;               /**< apparent bolometric magnitude (alternative to the flux) */
+    double mbol_sigma;         /**< its 1-sigma error, mag */
+    double distance_pc;        /**< distance, pc */
+    double distance_pc_sigma;  /**< its 1-sigma error, pc */
+    double parallax_mas;       /**< parallax, mas (alternative to the distance;
+                                *   sigma/parallax <= 0.2: it is inverted) */
+    double parallax_mas_sigma; /**< its 1-sigma error, mas */
 } hrt_fit_obs;
 
 /** Set every field of an observation to NaN (not measured). */
@@ -140,7 +150,7 @@ HRT_API void hrt_fit_obs_init(hrt_fit_obs *obs);
 
 /** A posterior summary: median and the central 68.27 % interval (15.87th and 84.13th percentiles). */
 typedef struct hrt_fit_interval {
-    double median;
+    double median; /**< 50th percentile */
     double lo; /**< 15.87th percentile */
     double hi; /**< 84.13th percentile */
 } hrt_fit_interval;
@@ -171,7 +181,7 @@ typedef struct hrt_fit_sample {
     double log_l_lsun;        /**< log10 L/Lsun of the lattice point drawn */
     double log_teff_k;        /**< log10 Teff/K of the lattice point drawn */
     int32_t phase;            /**< hrt_phase of the lattice point drawn */
-    int32_t reserved_;
+    int32_t reserved_;        /**< zero */
 } hrt_fit_sample;
 
 /** Summary of the posterior of one star (caller-owned; plain data). */
@@ -271,7 +281,7 @@ HRT_API double hrt_fit_flux_from_mbol(double mbol);
 typedef struct hrt_forecast_state {
     double dt_yr;                       /**< time from now, yr */
     int32_t phase;                      /**< most probable phase then */
-    int32_t reserved_;
+    int32_t reserved_;                  /**< zero */
     double phase_prob[HRT_PHASE_SLOTS]; /**< fraction of samples in each phase (remnants: wd, ns, bh) */
     double luminous_frac;               /**< fraction of samples with a finite L and Teff */
     hrt_fit_interval log_l_lsun;             /**< log10 L/Lsun, over luminous samples */
@@ -280,10 +290,11 @@ typedef struct hrt_forecast_state {
     hrt_fit_interval mass_msun;         /**< current mass, Msun, over all samples */
 } hrt_forecast_state;
 
+/** Most keypoints a forecast reports (hrt_forecast_result.events). */
 #define HRT_FORECAST_MAX_EVENTS 24
 /** A keypoint still to come (named as in the grid's routes: "tams", "rgb_base", ...). */
 typedef struct hrt_forecast_event {
-    char name[32];
+    char name[32];        /**< keypoint name, NUL-terminated */
     double prob;          /**< fraction of samples that still have it ahead */
     hrt_fit_interval in_yr; /**< time until it, yr, over those samples */
 } hrt_forecast_event;
@@ -298,7 +309,7 @@ typedef struct hrt_forecast_phase {
 /** The future of a star (caller-owned; plain data). */
 typedef struct hrt_forecast_result {
     uint32_t struct_size;                     /**< sizeof(hrt_forecast_result) */
-    int32_t status;
+    int32_t status;                           /**< HRT_OK or the code returned */
     int32_t remnant;                          /**< most probable final remnant (hrt_remnant) */
     int32_t phase_now;                        /**< most probable current phase */
     double n_samples;                         /**< samples used */
@@ -308,10 +319,10 @@ typedef struct hrt_forecast_result {
     hrt_fit_interval end_in_yr;               /**< time until the last EEP (remnant formation), yr */
     hrt_forecast_phase future[HRT_PHASE_SLOTS]; /**< indexed by hrt_phase: phases still to come */
     size_t n_events;                          /**< keypoints in events[], soonest median first */
-    hrt_forecast_event events[HRT_FORECAST_MAX_EVENTS];
+    hrt_forecast_event events[HRT_FORECAST_MAX_EVENTS]; /**< keypoints still to come */
     double remnant_prob[HRT_REMNANT_SLOTS];   /**< final remnant kind over the samples */
     hrt_fit_interval remnant_mass_msun;       /**< final remnant mass, Msun */
-    double reserved[8];
+    double reserved[8];                       /**< zero */
 } hrt_forecast_result;
 
 /**

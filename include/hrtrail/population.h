@@ -1,4 +1,4 @@
-/*
+/** @file
  * hrtrail: populations: IMFs, star-formation histories, metallicity spreads,
  * runs over chunks and exact summaries
  *
@@ -47,6 +47,7 @@ typedef enum hrt_imf_kind {
     HRT_IMF_COUNT
 } hrt_imf_kind;
 
+/** Most segments an IMF has (hrt_imf). */
 #define HRT_IMF_MAX_SEGMENTS 4
 
 /**
@@ -56,11 +57,12 @@ typedef enum hrt_imf_kind {
 typedef struct hrt_imf {
     int32_t kind;                           /**< hrt_imf_kind */
     int32_t n_seg;                          /**< segments between m_lo and m_hi */
-    double m_lo_msun, m_hi_msun;            /**< mass limits, Msun */
+    double m_lo_msun;                       /**< lower mass limit, Msun */
+    double m_hi_msun;                       /**< upper mass limit, Msun */
     double alpha;                           /**< slope of HRT_IMF_POWER_LAW (unused otherwise) */
     int32_t seg_lognormal[HRT_IMF_MAX_SEGMENTS]; /**< 1: log-normal segment, 0: power law */
-    double seg_lo[HRT_IMF_MAX_SEGMENTS];    /**< segment limits, Msun */
-    double seg_hi[HRT_IMF_MAX_SEGMENTS];
+    double seg_lo[HRT_IMF_MAX_SEGMENTS];    /**< lower limit of each segment, Msun */
+    double seg_hi[HRT_IMF_MAX_SEGMENTS];    /**< upper limit of each segment, Msun */
     double seg_a[HRT_IMF_MAX_SEGMENTS];     /**< power law: alpha; log-normal: log10 m_c */
     double seg_s[HRT_IMF_MAX_SEGMENTS];     /**< log-normal: sigma (dex) */
     double seg_amp[HRT_IMF_MAX_SEGMENTS];   /**< amplitude of dN/dm (power law) or dN/dlog10 m (log-normal) */
@@ -135,19 +137,21 @@ typedef enum hrt_zdist_kind {
     HRT_ZDIST_COUNT
 } hrt_zdist_kind;
 
+/** A metallicity distribution (hrt_zdist_kind and its parameters). */
 typedef struct hrt_zdist {
     int32_t kind;     /**< hrt_zdist_kind */
     int32_t reserved_;/**< zero */
     double z;         /**< FIXED: the metallicity; LOG_NORMAL: the median */
-    double z_lo, z_hi;/**< limits of LOG_UNIFORM and LOG_NORMAL */
+    double z_lo;      /**< lower limit of LOG_UNIFORM and LOG_NORMAL */
+    double z_hi;      /**< upper limit of LOG_UNIFORM and LOG_NORMAL */
     double sigma_dex; /**< LOG_NORMAL: spread of log10 Z (= of [Fe/H]), dex, > 0 */
 } hrt_zdist;
 
 /** Everything that defines a population, hence its random draws. */
 typedef struct hrt_pop_spec {
     hrt_imf imf;          /**< from hrt_imf_init() */
-    hrt_sfh sfh;
-    hrt_zdist zdist;
+    hrt_sfh sfh;          /**< star-formation history */
+    hrt_zdist zdist;      /**< metallicity distribution */
     uint64_t n_stars;     /**< stars drawn */
     uint64_t seed;        /**< any value; with chunk_size it fixes every draw */
     uint64_t chunk_size;  /**< stars per random stream (> 0; hrt_pop_spec_default: 65536) */
@@ -189,7 +193,8 @@ HRT_API int hrt_pop_draw(const hrt_pop_spec *spec, uint64_t chunk, double *mass_
 
 /** A non-negative sum in fixed point: value = (hi * 2^64 + lo) * 2^-32, exact under addition. */
 typedef struct hrt_pop_sum {
-    uint64_t hi, lo;
+    uint64_t hi; /**< high 64 bits */
+    uint64_t lo; /**< low 64 bits */
 } hrt_pop_sum;
 /** Value of a fixed-point sum as a double (rounded once). */
 HRT_API double hrt_pop_sum_value(const hrt_pop_sum *s);
@@ -199,9 +204,12 @@ HRT_API double hrt_pop_sum_value(const hrt_pop_sum *s);
 
 /** Binning of the HR-diagram histogram: log10 Teff/K (x) by log10 L/Lsun (y). */
 typedef struct hrt_pop_hr {
-    double log_teff_k_lo, log_teff_k_hi; /**< x range, lo < hi */
-    double log_l_lsun_lo, log_l_lsun_hi;       /**< y range, lo < hi */
-    uint64_t nx, ny;                 /**< bins, nx * ny <= HRT_POP_HR_MAX_BINS (0 x 0: no histogram) */
+    double log_teff_k_lo;            /**< x range: lower edge, log10 Teff/K */
+    double log_teff_k_hi;            /**< x range: upper edge (> lower) */
+    double log_l_lsun_lo;            /**< y range: lower edge, log10 L/Lsun */
+    double log_l_lsun_hi;            /**< y range: upper edge (> lower) */
+    uint64_t nx;                     /**< bins in x; nx * ny <= HRT_POP_HR_MAX_BINS (0 x 0: no histogram) */
+    uint64_t ny;                     /**< bins in y */
 } hrt_pop_hr;
 
 /**
