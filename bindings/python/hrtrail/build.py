@@ -245,6 +245,13 @@ class Builder:
         check(lib.hrt_builder_set_route_boundaries(self._handle, _u.value(z, "fraction", "z"), m.ctypes.data, pe), e,
               "hrt_builder_set_route_boundaries")
 
+    def set_compression(self, level: int) -> None:
+        """Deflate level 0..9 of the numeric datasets (hrt_builder_set_compression; 0: none)."""
+        if isinstance(level, bool) or not isinstance(level, int):
+            raise InvalidInputError(Status.INVALID, "level must be an integer 0..9, not %r" % (level,))
+        e, pe = new_error()
+        check(lib.hrt_builder_set_compression(self._handle, level, pe), e, "hrt_builder_set_compression")
+
     def set_attribute(self, name: str, value: str) -> None:
         """A text root attribute of the file (description, source, created_by, ...)."""
         e, pe = new_error()
@@ -324,8 +331,10 @@ class ImportReport:
 class Importer:
     """An import of text tracks into a grid (hrt_import): map columns, add files, run.
 
-    Importer(routes=None, z_ref=None, lenient=False, force=False, progress=None)
-    routes    RouteSpecs (default: the default grid's); z_ref default 0.014
+    Importer(routes=None, z_ref=None, lenient=False, force=False, progress=None, pre_ms=False)
+    routes    RouteSpecs (default: the default grid's, each from its ZAMS); z_ref default 0.014
+    pre_ms    the tracks start on their birthline: the default grid's layouts whole
+              (hrt_import_set_pre_ms; ignored when routes are given)
     lenient   drop and report bad rows and files instead of failing
     force     write a grid even when its routes collapse
     progress  callable(done, total, file) after each file is read
@@ -337,7 +346,7 @@ class Importer:
 
     def __init__(self, routes: Optional[Sequence[RouteSpec]] = None, z_ref: Optional[float] = None,
                  lenient: bool = False, force: bool = False,
-                 progress: Optional[Callable[[int, int, str], None]] = None):
+                 progress: Optional[Callable[[int, int, str], None]] = None, pre_ms: bool = False):
         self._h = None
         h = ctypes.c_void_p()
         e, pe = new_error()
@@ -345,6 +354,9 @@ class Importer:
         self._h = h
         self._cb = None
         self._report = None
+        if pre_ms and routes is None:
+            e, pe = new_error()
+            check(lib.hrt_import_set_pre_ms(h, 1, pe), e, "hrt_import_set_pre_ms")
         if routes is not None:
             rt = _Routes(routes)
             e, pe = new_error()
