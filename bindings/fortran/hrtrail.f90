@@ -406,7 +406,8 @@ module hrtrail
        hrt_fit_model_n_feh, hrt_fit_model_feh, hrt_fit_obs_init, hrt_fit_star, hrt_fit_distance_m, &
        hrt_fit_flux_from_mbol, hrt_forecast
   public :: hrt_import_new, hrt_import_free, hrt_import_map, hrt_import_map_file, hrt_import_set_routes, &
-       hrt_import_set_z_ref, hrt_import_set_lenient, hrt_import_set_force, hrt_import_set_route_boundaries, &
+       hrt_import_set_z_ref, hrt_import_set_lenient, hrt_import_set_force, hrt_import_set_pre_ms, &
+       hrt_import_set_route_boundaries, &
        hrt_import_set_progress, hrt_import_add_file, hrt_import_run, hrt_import_n_tracks, hrt_import_track, &
        hrt_import_dropped_row, hrt_import_n_routes, hrt_import_route_name, hrt_import_route_n_keypoints, &
        hrt_import_keypoint_name, hrt_import_n_z, hrt_import_z, hrt_import_route_boundary
@@ -1085,6 +1086,13 @@ module hrtrail
        integer(c_int), value :: on
        integer(c_int) :: rc
      end function hrt_import_set_force
+     function hrt_import_set_pre_ms(imp, on, err) bind(C, name="hrt_import_set_pre_ms") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: imp
+       integer(c_int), value :: on
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_import_set_pre_ms
      function hrt_import_set_route_boundaries(imp, z, n, mass_msun, err) &
           bind(C, name="hrt_import_set_route_boundaries") result(rc)
        import :: c_ptr, c_double, c_size_t, c_int, hrt_error
@@ -2154,11 +2162,13 @@ contains
   end subroutine hrtf_import_map
 
   !> Settings of an import: Z_ref written to the grid, lenient (drop bad rows and files, and
-  !> report them, instead of failing), force (write a grid even when its routes collapse).
-  subroutine hrtf_import_settings(imp, z_ref, lenient, force, stat, errmsg)
+  !> report them, instead of failing), force (write a grid even when its routes collapse),
+  !> pre_ms (the tracks start on their birthline: the default layouts with their pre-main
+  !> sequence; without it they start at the ZAMS).
+  subroutine hrtf_import_settings(imp, z_ref, lenient, force, stat, errmsg, pre_ms)
     type(hrt_import_t), intent(in) :: imp
     real(c_double), intent(in), optional :: z_ref
-    logical, intent(in), optional :: lenient, force
+    logical, intent(in), optional :: lenient, force, pre_ms
     integer, intent(out), optional :: stat
     character(len=*), intent(out), optional :: errmsg
     type(hrt_error) :: err
@@ -2168,6 +2178,7 @@ contains
     if (present(z_ref)) rc = hrt_import_set_z_ref(imp%ptr, z_ref, err)
     if (rc == HRT_OK .and. present(lenient)) rc = hrt_import_set_lenient(imp%ptr, merge(1_c_int, 0_c_int, lenient))
     if (rc == HRT_OK .and. present(force)) rc = hrt_import_set_force(imp%ptr, merge(1_c_int, 0_c_int, force))
+    if (rc == HRT_OK .and. present(pre_ms)) rc = hrt_import_set_pre_ms(imp%ptr, merge(1_c_int, 0_c_int, pre_ms), err)
     if (rc /= HRT_OK .and. err%code == HRT_OK) then
        call report(rc, 'hrtf_import_settings: ' // hrtf_string(hrt_strerror(int(rc, c_int))), stat, errmsg)
     else

@@ -43,6 +43,7 @@ GEN, EXE, GRID = (os.path.abspath(a) for a in sys.argv[1:4])
 # a little above them (tracks/FORMAT.md states them).
 TOL = {
     # phase: (log_age dex, log_L dex, log_Teff dex, mass / M_init)
+    "pre_ms": (1e-6, 1e-6, 1e-6, 1e-6),
     "ms": (1e-6, 1e-6, 1e-6, 1e-6),
     "subgiant": (0.04, 0.2, 0.08, 0.02),
     "rgb": (0.04, 0.3, 0.02, 0.006),
@@ -53,8 +54,8 @@ TOL = {
     "post_rgb": (1e-6, 0.01, 0.004, 1e-6),
     "wd": (1e-6, 0.01, 0.003, 1e-6),
     "bsg": (0.003, 0.05, 0.02, 0.06),
-    "rsg": (0.001, 0.003, 0.006, 0.01),
-    "wr": (0.001, 0.006, 0.012, 0.005),
+    "rsg": (0.001, 0.003, 0.006, 0.015),
+    "wr": (0.001, 0.008, 0.012, 0.005),
     "ns": (1e-6, 1e-6, 1e-6, 1e-6),
     "bh": (1e-6, 1e-6, 1e-6, 1e-6),
 }

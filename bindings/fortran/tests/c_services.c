@@ -323,6 +323,8 @@ int svc_import(size_t n, const char *paths, size_t width, const char *map, const
         rc = hrt_import_map(imp, map, &err);
     if (rc == HRT_OK)
         rc = hrt_import_set_force(imp, 1);
+    if (rc == HRT_OK) /* the grid's own tracks start on the birthline */
+        rc = hrt_import_set_pre_ms(imp, 1, &err);
     for (size_t i = 0; rc == HRT_OK && i < n; i++)
         rc = hrt_import_add_file(imp, paths + i * width, NAN, &err);
     if (rc == HRT_OK)

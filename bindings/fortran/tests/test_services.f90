@@ -541,7 +541,7 @@ contains
     ! Fortran
     call hrtf_import_new(imp)
     call hrtf_import_map(imp, map)
-    call hrtf_import_settings(imp, force=.true.)
+    call hrtf_import_settings(imp, force=.true., pre_ms=.true.)
     do i = 1, n
        call hrtf_import_add_file(imp, trim(names(i)))
     end do
