@@ -22,6 +22,7 @@ except ImportError:  # NumPy is needed by these calls, not by importing the pack
 from ._clib import (IMPORT_MAX_KP, KP_COLUMNS, PROGRESS_FN, HrtImportRowReport, HrtImportTrackReport, HrtKpColumns,
                     HrtKpResult, HrtRouteSpec, HrtTrackData, lib, text)
 from .enums import Remnant, Status
+from .core import _Owned
 from .errors import InvalidInputError, check, new_error
 from . import units as _u
 
@@ -156,7 +157,7 @@ TRACK_COLUMNS = ("log_age_yr", "log_l_lsun", "log_teff_k", "log_r_rsun", "mass_m
                  "co_core_mass_msun")
 
 
-class Builder:
+class Builder(_Owned):
     """A grid under construction (hrt_builder): add tracks, then write the HDF5 file.
 
     Builder(routes, z_ref)   routes: RouteSpecs by increasing mass (e.g. default_routes()),
@@ -172,26 +173,11 @@ class Builder:
                                   ctypes.byref(h), pe), e, "hrt_builder_new")
         self._h = h
 
-    def __del__(self):
-        self.close()
+    _what = "builder"
 
-    def close(self):
-        """Free the builder (idempotent)."""
-        if getattr(self, "_h", None) is not None:
-            h, self._h = self._h, None
-            lib.hrt_builder_free(h)
-
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
-
-    @property
-    def _handle(self):
-        if self._h is None:
-            raise ValueError("hrtrail: the builder is closed")
-        return self._h
+    def _free(self, h):
+        """Free the builder (close() or collection)."""
+        lib.hrt_builder_free(h)
 
     def _track(self, track):
         keep = []
@@ -328,7 +314,7 @@ class ImportReport:
         return "<ImportReport %d of %d tracks in the grid, %d metallicities>" % (ok, len(self.tracks), len(self.z_values))
 
 
-class Importer:
+class Importer(_Owned):
     """An import of text tracks into a grid (hrt_import): map columns, add files, run.
 
     Importer(routes=None, z_ref=None, lenient=False, force=False, progress=None, pre_ms=False)
@@ -375,26 +361,11 @@ class Importer:
             self._cb = PROGRESS_FN(cb)
             check(lib.hrt_import_set_progress(h, self._cb, None), None, "hrt_import_set_progress")
 
-    def __del__(self):
-        self.close()
+    _what = "importer"
 
-    def close(self):
-        """Free the import and its report (idempotent)."""
-        if getattr(self, "_h", None) is not None:
-            h, self._h = self._h, None
-            lib.hrt_import_free(h)
-
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
-
-    @property
-    def _handle(self):
-        if self._h is None:
-            raise ValueError("hrtrail: the importer is closed")
-        return self._h
+    def _free(self, h):
+        """Free the import and its report (close() or collection)."""
+        lib.hrt_import_free(h)
 
     def map(self, entries: str) -> "Importer":
         """Add column-map entries, "key=value" separated by commas, semicolons, blanks or new lines (hrt_import_map)."""

@@ -30,6 +30,7 @@ except ImportError:  # NumPy is needed by these calls, not by importing the pack
 from ._clib import (FIT_OBS_QUANTITIES, FIT_RESULT_INTERVALS, HrtFitModelOptions, HrtFitObs, HrtFitResult,
                     HrtFitSample, HrtForecastResult, HrtForecastState, lib, text)
 from .enums import Phase, Remnant, Status
+from .core import _Owned
 from .errors import InvalidInputError, check, error_for, new_error
 from . import units as _u
 
@@ -169,7 +170,7 @@ class FitResult:
             getattr(self.phase, "key", self.phase)))
 
 
-class FitModel:
+class FitModel(_Owned):
     """The fitting lattice of a grid (hrt_fit_model): prepared once, shared by any number of fits and threads.
 
     FitModel(grid, mass_prior="kroupa2001", mass_min_msun=None, mass_max_msun=None, age_max_yr=None,
@@ -214,26 +215,11 @@ class FitModel:
         self._h = h
         grid._stars.add(self)  # Grid.close() frees the model first: it refers to the grid
 
-    def __del__(self):
-        self.close()
+    _what = "fit model"
 
-    def close(self):
-        """Free the lattice (idempotent)."""
-        if getattr(self, "_h", None) is not None:
-            h, self._h = self._h, None
-            lib.hrt_fit_model_free(h)
-
-    def __enter__(self):
-        return self
-
-    def __exit__(self, *exc):
-        self.close()
-
-    @property
-    def _handle(self):
-        if self._h is None:
-            raise ValueError("hrtrail: the fit model is closed")
-        return self._h
+    def _free(self, h):
+        """Free the lattice (close() or collection)."""
+        lib.hrt_fit_model_free(h)
 
     @property
     def options(self) -> dict:
