@@ -20,9 +20,12 @@ lap() {
 # sanitizer builds inline differently and GCC then warns where it does not
 # otherwise (format-truncation), so they are built without -Werror.
 unset CFLAGS
-# 1. ASan + UBSan over the whole meson test suite, less the two tests that
-#    build many fitting models (suite slow-sanitized: 15 minutes under the
-#    sanitizers; the fit library itself is covered by the 'fit' Check suite).
+# 1. ASan + UBSan over the whole meson test suite, less the slow ones (suite
+#    slow-sanitized): the tests that build many fitting models (15 minutes
+#    under the sanitizers; the fit library itself is covered by the 'fit'
+#    Check suite), the default grid's leave-one-out and the import round trip
+#    of its raw tracks (the builder and the import are covered by the import
+#    suite), pip into a virtual environment.
 [ -d build-asan ] || meson setup build-asan -Db_sanitize=address,undefined -Db_lundef=false > build-asan.log
 ninja -C build-asan > /dev/null
 ASAN_OPTIONS=detect_leaks=1 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1 \
