@@ -170,6 +170,8 @@ static void print_text(const hrt_ms_estimate *e, const char *given, const hrt_ms
     table_free(t);
 }
 
+static void print_heading(const cli *c, const ms_args *a, double z);
+
 /* One star: an estimate, and a distance when a flux is given (Teff stars only). */
 static int one_star(cli *c, const hrt_ms *ms, const ms_args *a, int by_teff, double v, const char *text, table *rec,
                     int first)
@@ -203,7 +205,10 @@ static int one_star(cli *c, const hrt_ms *ms, const ms_args *a, int by_teff, dou
         snprintf(given, sizeof given, "Teff %s +- %g K", text, a->teff_sigma);
     else
         snprintf(given, sizeof given, "log L/Lsun %s +- %g", text, a->log_l_sigma);
-    if (!first) putchar('\n');
+    if (first)
+        print_heading(c, a, e.z);
+    else
+        putchar('\n');
     print_text(&e, given, &d);
     return 0;
 }
@@ -213,9 +218,9 @@ static void print_heading(const cli *c, const ms_args *a, double z)
     char a0[64], a1[64];
     format_age(a0, sizeof a0, a->o.age_min_yr);
     format_age(a1, sizeof a1, a->o.age_max_yr);
-    printf("Main sequence at Z = %.6g ([Fe/H] = %+.3f), ages %s to %s (within each star's ZAMS to TAMS);\n"
+    printf("Main sequence at Z = %.6g ([Fe/H] = %+.3f), ages from %s to %s (of each star's main sequence);\n"
            "weights: M^-%g dM x time spent; intervals 15.87-84.13 %%, band: all models of exactly the value\n\n",
-           z, cli_feh(c, z), a->o.age_min_yr > 0 ? a0 : "ZAMS", isfinite(a->o.age_max_yr) ? a1 : "TAMS",
+           z, cli_feh(c, z), a->o.age_min_yr > 0 ? a0 : "the ZAMS", isfinite(a->o.age_max_yr) ? a1 : "the TAMS",
            a->o.imf_alpha);
 }
 
@@ -227,7 +232,6 @@ static int run_all(cli *c, const ms_args *a, double z)
     if (rc != HRT_OK)
         return cli_fail(c, cli_exit_of_status(rc), "%s", err.message);
     table *rec = c->fmt == FMT_TABLE ? NULL : table_new(rec_cols, N_REC_COLS);
-    if (!rec) print_heading(c, a, z);
     int first = 1;
     for (size_t i = 0; i < a->teff.n && rc == 0; i++, first = 0)
         rc = one_star(c, ms, a, 1, a->teff.v[i], a->teff.text[i], rec, first);
@@ -248,6 +252,8 @@ int cmd_mainseq(cli *c, argparse *p)
     int rc = cli_parse(c, p, &ms_cmdopts, &a);
     if (rc == 0 && a.teff.n + a.log_l.n == 0)
         rc = cli_fail(c, CLI_EXIT_USAGE, "give --teff K[,K...] or --log-l X[,X...] (log10 L/Lsun)");
+    if (rc == 0 && !(a.o.age_max_yr > a.o.age_min_yr))
+        rc = cli_fail(c, CLI_EXIT_USAGE, "--age-max must be above --age-min");
     if (rc == 0 && a.have_flux && a.have_mbol)
         rc = cli_fail(c, CLI_EXIT_USAGE, "give --flux or --mbol, not both");
     if (rc == 0 && (a.have_flux || a.have_mbol) && a.teff.n == 0)
