@@ -417,7 +417,7 @@ typedef struct hrt_ms hrt_ms; /**< opaque sampled main sequence; immutable, shar
  * of the wrong sign), HRT_E_INVALID (n_masses or n_ages too small, age_min_yr >= age_max_yr),
  * HRT_E_Z_RANGE, HRT_E_NO_MATCH (no star of the grid is on its main sequence within the ages),
  * HRT_E_NOMEM, or a failure of hrt_star_new.
- * Note: n_masses star tracks and n_masses x n_ages states; about 25 ms and 2.5 MB at the defaults on the
+ * Note: n_masses star tracks and n_masses x n_ages states; 13 ms (25 ms under load) and 2.5 MB at the defaults on the
  * default grid (tests/fit/ms_bench.c, 2-core VM of December 2026).
  */
 HRT_API int hrt_ms_new(const hrt_grid *g, double z, const hrt_ms_options *o, hrt_ms **ms, hrt_error *err);
@@ -459,7 +459,7 @@ typedef struct hrt_ms_estimate {
  * positive, sigma negative or not finite), HRT_E_NO_MATCH (no main-sequence model of this Teff within
  * 4 sigma, or, with sigma 0, none of exactly this Teff; the message gives the main sequence's range),
  * HRT_E_NOMEM.  Reentrant; allocates scratch memory.  Cost: a scan of the sampled models and sorts of
- * those that carry weight: about 1 ms per query with sigma 0 and 5 ms with sigma 300 K at the defaults.
+ * those that carry weight: 0.4-1 ms per query with sigma 0 and 2-5 ms with sigma 300 K at the defaults.
  */
 HRT_API int hrt_ms_from_teff(const hrt_ms *ms, double teff_k, double teff_k_sigma, hrt_ms_estimate *out,
                              hrt_error *err);
