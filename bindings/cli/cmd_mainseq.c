@@ -62,7 +62,10 @@ static int ms_take(cli *c, void *ctx, int id, const char *val)
         if (parse_age_yr(val, &a->o.age_min_yr)) return cli_fail(c, CLI_EXIT_USAGE, "--age-min: '%s' is not an age", val);
         return 0;
     case O_AGE_MAX:
-        if (parse_age_yr(val, &a->o.age_max_yr)) return cli_fail(c, CLI_EXIT_USAGE, "--age-max: '%s' is not an age", val);
+        if (strcmp(val, "inf") == 0)
+            a->o.age_max_yr = INFINITY; /* every main-sequence age */
+        else if (parse_age_yr(val, &a->o.age_max_yr))
+            return cli_fail(c, CLI_EXIT_USAGE, "--age-max: '%s' is not an age", val);
         return 0;
     default: return 0;
     }

@@ -378,15 +378,19 @@ HRT_API int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *samp
  * least and greatest value among main-sequence models of exactly that Teff
  * (log L), with linear interpolation between the sampled masses and ages
  * (along each star's main sequence, and along the ZAMS and TAMS loci).
- * The default ages are every main-sequence age; on the default grid that
- * includes stars below about 0.3 Msun late in main sequences of up to
- * 10^13 yr, hotter and brighter than on their ZAMS, and their long lives
- * weigh heavily: for stars of today's Universe set age_max_yr = 13.8e9.
+ * The default ages are those of today's stars, up to the age of the
+ * Universe (HRT_MS_AGE_MAX_DEFAULT_YR, 13.8 Gyr: Planck 2018, from memory).
+ * age_max_yr = INFINITY counts every main-sequence age; on the default grid
+ * that includes stars below about 0.3 Msun late in main sequences of up to
+ * 10^13 yr, hotter and brighter than on their ZAMS, whose long lives weigh
+ * heavily (a 4440 K dwarf then comes out at log L -1.67 instead of -0.78).
  * Accuracy: the grid's own (tracks/MODEL.md) plus the sampling: on the
  * default grid the band's edges agree with hrt_eval on 3000 random
  * main-sequence stars to 0.0006 dex in log L and 0.0001 dex in log Teff
  * (tests/fit/test_ms.c).
  */
+/** Default oldest age of hrt_ms_options: the age of the Universe, yr (Planck 2018, from memory). */
+#define HRT_MS_AGE_MAX_DEFAULT_YR 13.8e9
 /** Width of the sampling kernel in log Teff, dex (added in quadrature to the measurement error). */
 #define HRT_MS_KERNEL_LOG_TEFF_DEX 0.002
 /** Width of the sampling kernel in log L, dex (added in quadrature to the measurement error). */
@@ -395,7 +399,8 @@ HRT_API int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *samp
 /** Which main sequence (hrt_ms_options_default() fills it). */
 typedef struct hrt_ms_options {
     double age_min_yr;  /**< youngest age counted, yr (default 0: from each star's ZAMS) */
-    double age_max_yr;  /**< oldest age counted, yr (default +inf: to each star's TAMS) */
+    double age_max_yr;  /**< oldest age counted, yr (default HRT_MS_AGE_MAX_DEFAULT_YR; INFINITY:
+                         *   to each star's TAMS) */
     double imf_alpha;   /**< mass prior dN/dM ~ M^-imf_alpha (default 0: flat in initial mass;
                          *   2.35 for Salpeter 1955, ApJ 121, 161) */
     int32_t n_masses;   /**< initial masses sampled (default 400, at least 8) */

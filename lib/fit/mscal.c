@@ -35,7 +35,7 @@ void hrt_ms_options_default(hrt_ms_options *o)
         return;
     memset(o, 0, sizeof *o);
     o->age_min_yr = 0.0;
-    o->age_max_yr = INFINITY;
+    o->age_max_yr = HRT_MS_AGE_MAX_DEFAULT_YR;
     o->imf_alpha = 0.0;
     o->n_masses = 400;
     o->n_ages = 96;

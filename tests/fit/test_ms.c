@@ -48,8 +48,13 @@ static void setup(void)
     gsl_set_error_handler(counting_handler);
     if (!G)
         ck_assert_msg(hrt_grid_open(NULL, &G, &err) == HRT_OK, "grid: %s", err.message);
-    if (!MS)
-        ck_assert_msg(hrt_ms_new(G, Z_SUN, NULL, &MS, &err) == HRT_OK, "ms: %s", err.message);
+    if (!MS) { /* every main-sequence age (the default stops at 13.8 Gyr) */
+        hrt_ms_options o;
+        hrt_ms_options_default(&o);
+        ck_assert(o.age_max_yr == HRT_MS_AGE_MAX_DEFAULT_YR);
+        o.age_max_yr = INFINITY;
+        ck_assert_msg(hrt_ms_new(G, Z_SUN, &o, &MS, &err) == HRT_OK, "ms: %s", err.message);
+    }
     if (!MS_AGE) {
         hrt_ms_options o;
         hrt_ms_options_default(&o);

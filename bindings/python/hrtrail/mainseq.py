@@ -12,9 +12,9 @@ M^-imf_alpha dM x the time spent there (a population formed at a constant
 rate), times a Gaussian in the measured quantity.  Each quantity comes as the
 weighted median and 15.87/84.13 % points (band width and measurement error
 together) and the band's ends at exactly the given value.  The default counts
-every main-sequence age, which on the default grid includes very-low-mass
-stars of up to 1e13 yr, hotter and brighter late in their main sequence: give
-age_max_yr=13.8e9 for stars of today's Universe.
+the ages of today's stars, up to 13.8 Gyr; age_max_yr=math.inf counts every
+main-sequence age, which on the default grid includes very-low-mass stars of
+up to 1e13 yr, hotter and brighter late in their main sequence.
 """
 import collections
 import ctypes
@@ -80,7 +80,7 @@ class MainSequence(_Owned):
 
     z or feh        metallicity (default: the grid's Z_ref); [Fe/H] = log10(z / z_ref)
     age_min_yr      youngest age counted, yr (default 0: each star's ZAMS)
-    age_max_yr      oldest age counted, yr (default: each star's TAMS; 13.8e9 for today's stars)
+    age_max_yr      oldest age counted, yr (default 13.8e9, today's stars; math.inf: to each star's TAMS)
     imf_alpha       mass prior dN/dM ~ M^-imf_alpha (default 0; 2.35: Salpeter 1955)
     n_masses, n_ages   sampling (default 400 x 96)
     Cost: about 25 ms on the default grid.  Raises OutsideGridError for a Z outside the grid,
