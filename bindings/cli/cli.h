@@ -301,6 +301,7 @@ int cmd_plot(cli *c, argparse *p);
 int cmd_grid(cli *c, argparse *p);
 int cmd_demo(cli *c, argparse *p);
 int cmd_fit(cli *c, argparse *p);
+int cmd_mainseq(cli *c, argparse *p);
 int cmd_forecast(cli *c, argparse *p);
 int cmd_import(cli *c, argparse *p);
 int cmd_population(cli *c, argparse *p);

@@ -22,6 +22,8 @@ const cli_command cli_commands[] = {
      "hrtrail population --stars 1e8 --imf kroupa2001 --age 10Gyr -o hr.svg"},
     {"fit", cmd_fit, "mass, age, phase and distance of observed stars (one, or a CSV)",
      "hrtrail fit --teff 5772 --teff-sigma 50 --log-l 0 --log-l-sigma 0.02"},
+    {"mainseq", cmd_mainseq, "the main sequence as a calibration: Teff <-> L, R, mass, log g, distance",
+     "hrtrail mainseq --teff 5770 --teff-sigma 60 --mbol 4.9 --mbol-sigma 0.05"},
     {"forecast", cmd_forecast, "a star's future: phases ahead, main-sequence time left, remnant",
      "hrtrail forecast --mass 1 --age 4.57Gyr --at 1Gyr,6Gyr"},
     {"demo", cmd_demo, "worked example: an invented cluster, its members, its HR diagram",

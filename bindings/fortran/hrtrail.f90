@@ -331,6 +331,34 @@ module hrtrail
      real(c_double) :: reserved(8)
   end type hrt_forecast_result
 
+  !> struct hrt_ms_options: which main sequence hrt_ms_new samples (hrt_ms_options_default fills it).
+  type, bind(C), public :: hrt_ms_options
+     real(c_double) :: age_min_yr = 0                 !< youngest age counted, yr
+     real(c_double) :: age_max_yr = huge(1.0_c_double) !< oldest age counted, yr (default +inf from C)
+     real(c_double) :: imf_alpha = 0                  !< mass prior dN/dM ~ M^-imf_alpha
+     integer(c_int32_t) :: n_masses = 400, n_ages = 96 !< sampling
+     real(c_double) :: reserved(4) = 0
+  end type hrt_ms_options
+
+  !> struct hrt_ms_value: weighted median, 15.87/84.13 % points, and the band's ends at the given value.
+  type, bind(C), public :: hrt_ms_value
+     real(c_double) :: median, lo, hi, band_lo, band_hi
+  end type hrt_ms_value
+
+  !> struct hrt_ms_estimate: the main-sequence star(s) of a given Teff or L.
+  type, bind(C), public :: hrt_ms_estimate
+     integer(c_int32_t) :: status, n_models
+     real(c_double) :: z
+     type(hrt_ms_value) :: log_l_lsun, log_teff_k, log_r_rsun, log_g_cgs, mass_msun, initial_mass_msun, age_yr
+     real(c_double) :: reserved(4)
+  end type hrt_ms_estimate
+
+  !> struct hrt_ms_distance_result: a distance from the main sequence and a bolometric flux.
+  type, bind(C), public :: hrt_ms_distance_result
+     integer(c_int32_t) :: status, n_models
+     type(hrt_fit_interval) :: distance_pc, parallax_mas
+     real(c_double) :: reserved(4)
+  end type hrt_ms_distance_result
 
   ! ------------------------------------------------------------ importing text tracks
   !> struct hrt_import_track_report: what an import did with one track file (hrtf_import_report).
@@ -405,6 +433,8 @@ module hrtrail
        hrt_fit_model_new, hrt_fit_model_free, hrt_fit_model_memory_bytes, hrt_fit_model_get_options, &
        hrt_fit_model_n_feh, hrt_fit_model_feh, hrt_fit_obs_init, hrt_fit_star, hrt_fit_distance_m, &
        hrt_fit_flux_from_mbol, hrt_forecast
+  public :: hrt_ms_options_default, hrt_ms_new, hrt_ms_free, hrt_ms_teff_range, hrt_ms_log_l_range, &
+       hrt_ms_from_teff, hrt_ms_from_log_l, hrt_ms_distance
   public :: hrt_import_new, hrt_import_free, hrt_import_map, hrt_import_map_file, hrt_import_set_routes, &
        hrt_import_set_z_ref, hrt_import_set_lenient, hrt_import_set_force, hrt_import_set_pre_ms, &
        hrt_import_set_route_boundaries, &
@@ -1021,6 +1051,61 @@ module hrtrail
        real(c_double), value :: mbol
        real(c_double) :: f
      end function hrt_fit_flux_from_mbol
+     subroutine hrt_ms_options_default(o) bind(C, name="hrt_ms_options_default")
+       import :: hrt_ms_options
+       type(hrt_ms_options), intent(out) :: o
+     end subroutine hrt_ms_options_default
+     !> o: address of an hrt_ms_options, or c_null_ptr for the defaults.
+     function hrt_ms_new(grid, z, o, ms, err) bind(C, name="hrt_ms_new") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_error
+       type(c_ptr), value :: grid
+       real(c_double), value :: z
+       type(c_ptr), value :: o
+       type(c_ptr), intent(out) :: ms
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_ms_new
+     subroutine hrt_ms_free(ms) bind(C, name="hrt_ms_free")
+       import :: c_ptr
+       type(c_ptr), value :: ms
+     end subroutine hrt_ms_free
+     function hrt_ms_teff_range(ms, lo_k, hi_k) bind(C, name="hrt_ms_teff_range") result(rc)
+       import :: c_ptr, c_double, c_int
+       type(c_ptr), value :: ms
+       real(c_double), intent(out) :: lo_k, hi_k
+       integer(c_int) :: rc
+     end function hrt_ms_teff_range
+     function hrt_ms_log_l_range(ms, lo, hi) bind(C, name="hrt_ms_log_l_range") result(rc)
+       import :: c_ptr, c_double, c_int
+       type(c_ptr), value :: ms
+       real(c_double), intent(out) :: lo, hi
+       integer(c_int) :: rc
+     end function hrt_ms_log_l_range
+     function hrt_ms_from_teff(ms, teff_k, teff_k_sigma, out, err) bind(C, name="hrt_ms_from_teff") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_ms_estimate, hrt_error
+       type(c_ptr), value :: ms
+       real(c_double), value :: teff_k, teff_k_sigma
+       type(hrt_ms_estimate), intent(inout) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_ms_from_teff
+     function hrt_ms_from_log_l(ms, log_l_lsun, log_l_sigma, out, err) bind(C, name="hrt_ms_from_log_l") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_ms_estimate, hrt_error
+       type(c_ptr), value :: ms
+       real(c_double), value :: log_l_lsun, log_l_sigma
+       type(hrt_ms_estimate), intent(inout) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_ms_from_log_l
+     function hrt_ms_distance(ms, teff_k, teff_k_sigma, flux_w_m2, flux_sigma_w_m2, out, err) &
+          bind(C, name="hrt_ms_distance") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_ms_distance_result, hrt_error
+       type(c_ptr), value :: ms
+       real(c_double), value :: teff_k, teff_k_sigma, flux_w_m2, flux_sigma_w_m2
+       type(hrt_ms_distance_result), intent(inout) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_ms_distance
      !> dt_yr, states: addresses of n_times values, or c_null_ptr when n_times is 0.
      function hrt_forecast(grid, n, samples, n_times, dt_yr, states, res, err) bind(C, name="hrt_forecast") &
           result(rc)

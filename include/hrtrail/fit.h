@@ -354,6 +354,149 @@ HRT_API int hrt_forecast(const hrt_grid *g, size_t n, const hrt_fit_sample *samp
                          const double *dt_yr, hrt_forecast_state *states, hrt_forecast_result *res,
                          hrt_error *err);
 
+/* ------------------------------------------------------------------------
+ * The main sequence as a calibration curve (hrt_ms_*)
+ * ------------------------------------------------------------------------ */
+/*
+ * The main-sequence band of a grid at one metallicity, sampled once
+ * (hrt_ms_new): n_masses initial masses evenly spaced in log M over the
+ * grid's range, and for each, n_ages ages evenly spaced from the start of
+ * its main sequence (phase ms: from the ZAMS; the pre-main sequence is not
+ * part of it) to its end (the TAMS), clipped to [age_min_yr, age_max_yr].
+ * Each sampled model stands for the stars that would be there in a
+ * population formed at a constant rate: its weight is
+ *     M^-imf_alpha dM (the mass prior) x d age (time spent, in yr),
+ * so the long-lived lower part of the band at a temperature counts more
+ * than its short-lived upper part.
+ *
+ * Asked a Teff (or a log L), the call weights every model by a Gaussian in
+ * log Teff (log L) whose width is the measurement error combined in
+ * quadrature with the sampling kernel (HRT_MS_KERNEL_LOG_TEFF_DEX,
+ * HRT_MS_KERNEL_LOG_L_DEX), and reports for each quantity the weighted
+ * median and central 68.27 % interval (the width of the band at that
+ * value and the measurement error together), and the band itself: the
+ * least and greatest value among main-sequence models of exactly that Teff
+ * (log L), with linear interpolation between the sampled masses and ages
+ * (along each star's main sequence, and along the ZAMS and TAMS loci).
+ * The default ages are those of today's stars, up to the age of the
+ * Universe (HRT_MS_AGE_MAX_DEFAULT_YR, 13.8 Gyr: Planck 2018, from memory).
+ * age_max_yr = INFINITY counts every main-sequence age; on the default grid
+ * that includes stars below about 0.3 Msun late in main sequences of up to
+ * 10^13 yr, hotter and brighter than on their ZAMS, whose long lives weigh
+ * heavily (a 4440 K dwarf then comes out at log L -1.67 instead of -0.78).
+ * Accuracy: the grid's own (tracks/MODEL.md) plus the sampling: on the
+ * default grid the band's edges agree with hrt_eval on 3000 random
+ * main-sequence stars to 0.0006 dex in log L and 0.0001 dex in log Teff
+ * (tests/fit/test_ms.c).
+ */
+/** Default oldest age of hrt_ms_options: the age of the Universe, yr (Planck 2018, from memory). */
+#define HRT_MS_AGE_MAX_DEFAULT_YR 13.8e9
+/** Width of the sampling kernel in log Teff, dex (added in quadrature to the measurement error). */
+#define HRT_MS_KERNEL_LOG_TEFF_DEX 0.002
+/** Width of the sampling kernel in log L, dex (added in quadrature to the measurement error). */
+#define HRT_MS_KERNEL_LOG_L_DEX 0.01
+
+/** Which main sequence (hrt_ms_options_default() fills it). */
+typedef struct hrt_ms_options {
+    double age_min_yr;  /**< youngest age counted, yr (default 0: from each star's ZAMS) */
+    double age_max_yr;  /**< oldest age counted, yr (default HRT_MS_AGE_MAX_DEFAULT_YR; INFINITY:
+                         *   to each star's TAMS) */
+    double imf_alpha;   /**< mass prior dN/dM ~ M^-imf_alpha (default 0: flat in initial mass;
+                         *   2.35 for Salpeter 1955, ApJ 121, 161) */
+    int32_t n_masses;   /**< initial masses sampled (default 400, at least 8) */
+    int32_t n_ages;     /**< ages sampled per mass (default 96, at least 4) */
+    double reserved[4]; /**< zero */
+} hrt_ms_options;
+
+/** Fill o with the defaults listed in hrt_ms_options (NULL allowed: nothing happens). */
+HRT_API void hrt_ms_options_default(hrt_ms_options *o);
+
+typedef struct hrt_ms hrt_ms; /**< opaque sampled main sequence; immutable, shareable across threads */
+
+/**
+ * @brief Sample the main sequence of grid g at metallicity z.
+ * Given:   g (must outlive the result), z (metal mass fraction; [Fe/H] = log10(z / hrt_grid_z_ref(g))),
+ *          o (NULL: defaults).
+ * Returned: *ms, free with hrt_ms_free().
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (z, ages or imf_alpha not finite or
+ * of the wrong sign), HRT_E_INVALID (n_masses or n_ages too small, age_min_yr >= age_max_yr),
+ * HRT_E_Z_RANGE, HRT_E_NO_MATCH (no star of the grid is on its main sequence within the ages),
+ * HRT_E_NOMEM, or a failure of hrt_star_new.
+ * Note: n_masses star tracks and n_masses x n_ages states; 13 ms (25 ms under load) and 2.5 MB at the defaults on the
+ * default grid (tests/fit/ms_bench.c, 2-core VM of December 2026).
+ */
+HRT_API int hrt_ms_new(const hrt_grid *g, double z, const hrt_ms_options *o, hrt_ms **ms, hrt_error *err);
+/** Free a sampled main sequence; NULL is allowed. */
+HRT_API void hrt_ms_free(hrt_ms *ms);
+/** Range of Teff (K) of the sampled main sequence; HRT_E_NULL for a NULL argument. */
+HRT_API int hrt_ms_teff_range(const hrt_ms *ms, double *lo_k, double *hi_k);
+/** Range of log L/Lsun of the sampled main sequence; HRT_E_NULL for a NULL argument. */
+HRT_API int hrt_ms_log_l_range(const hrt_ms *ms, double *lo, double *hi);
+
+/** One quantity of a main-sequence estimate. */
+typedef struct hrt_ms_value {
+    double median;  /**< weighted median */
+    double lo;      /**< 15.87th weighted percentile */
+    double hi;      /**< 84.13th weighted percentile */
+    double band_lo; /**< least value among main-sequence models of exactly the given value (NaN: none) */
+    double band_hi; /**< greatest value among them (NaN: none) */
+} hrt_ms_value;
+
+/** The main-sequence star(s) of a given Teff or luminosity. */
+typedef struct hrt_ms_estimate {
+    int32_t status;               /**< HRT_OK or the code the call returned */
+    int32_t n_models;             /**< sampled models that carry weight (within 4 sigma) */
+    double z;                     /**< metallicity of the main sequence */
+    hrt_ms_value log_l_lsun;      /**< log10 L/Lsun */
+    hrt_ms_value log_teff_k;      /**< log10 Teff/K */
+    hrt_ms_value log_r_rsun;      /**< log10 R/Rsun */
+    hrt_ms_value log_g_cgs;       /**< log10 g / (cm s^-2) */
+    hrt_ms_value mass_msun;       /**< current mass, Msun */
+    hrt_ms_value initial_mass_msun; /**< initial mass, Msun */
+    hrt_ms_value age_yr;          /**< age, yr */
+    double reserved[4];           /**< zero */
+} hrt_ms_estimate;
+
+/**
+ * @brief The main-sequence luminosity, radius, mass, log g and age of a star of effective temperature
+ * teff_k +- teff_k_sigma (K, Gaussian; sigma 0 allowed).
+ * Returned (function value and out->status): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (Teff not finite and
+ * positive, sigma negative or not finite), HRT_E_NO_MATCH (no main-sequence model of this Teff within
+ * 4 sigma, or, with sigma 0, none of exactly this Teff; the message gives the main sequence's range),
+ * HRT_E_NOMEM.  Reentrant; allocates scratch memory.  Cost: a scan of the sampled models and sorts of
+ * those that carry weight: 0.4-1 ms per query with sigma 0 and 2-5 ms with sigma 300 K at the defaults.
+ */
+HRT_API int hrt_ms_from_teff(const hrt_ms *ms, double teff_k, double teff_k_sigma, hrt_ms_estimate *out,
+                             hrt_error *err);
+/**
+ * @brief The inverse: the main-sequence Teff (and the rest) of a star of luminosity
+ * log_l_lsun +- log_l_sigma (dex, Gaussian in log L).  Codes as hrt_ms_from_teff().
+ */
+HRT_API int hrt_ms_from_log_l(const hrt_ms *ms, double log_l_lsun, double log_l_sigma, hrt_ms_estimate *out,
+                              hrt_error *err);
+
+/** A distance from the main sequence and a bolometric flux (spectroscopic parallax). */
+typedef struct hrt_ms_distance_result {
+    int32_t status;                /**< HRT_OK or the code the call returned */
+    int32_t n_models;              /**< sampled models that carry weight */
+    hrt_fit_interval distance_pc;  /**< distance, pc: median and central 68.27 % interval */
+    hrt_fit_interval parallax_mas; /**< parallax 1000 / distance_pc, mas */
+    double reserved[4];            /**< zero */
+} hrt_ms_distance_result;
+
+/**
+ * @brief Distance of a main-sequence star of Teff teff_k +- teff_k_sigma (K) whose bolometric flux is
+ * flux_w_m2 +- flux_sigma_w_m2 (W m^-2; for an apparent bolometric magnitude m use
+ * hrt_fit_flux_from_mbol(m) and sigma = flux x 0.4 ln 10 x sigma_m).
+ * d = sqrt(L / (4 pi F)) for every weighted model (hrt_ms_from_teff), each spread by the flux error
+ * taken as Gaussian in log F (sigma_log F = sigma_F / (F ln 10)); the quantiles are those of that
+ * mixture in log d.
+ * Returned (function value and out->status): as hrt_ms_from_teff(), and HRT_E_DOMAIN for a flux not
+ * finite and positive or a negative flux sigma.
+ */
+HRT_API int hrt_ms_distance(const hrt_ms *ms, double teff_k, double teff_k_sigma, double flux_w_m2,
+                            double flux_sigma_w_m2, hrt_ms_distance_result *out, hrt_error *err);
+
 #ifdef __cplusplus
 }
 #endif

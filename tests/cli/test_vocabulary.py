@@ -157,6 +157,9 @@ catalogue = "name,teff_k,teff_k_sigma,log_l_lsun,log_l_lsun_sigma\nQF-1,5700,80,
 rc, out, err = run(["fit"] + G + ["--input", "-", "--json"], stdin=catalogue)
 t.eq(rc, EXIT_OK, "fit --input --json: exit code (%s)" % err.strip())
 walk("fit", json.loads(out), "fit")
+both("mainseq", ["mainseq"] + G + ["--teff", "5800,9000", "--teff-sigma", "80", "--mbol", "7.5", "--mbol-sigma", "0.05"],
+     table=True)
+both("mainseq", ["mainseq"] + G + ["--log-l", "0.5", "--log-l-sigma", "0.05", "--age-max", "10Gyr"], table=True)
 both("forecast", ["forecast"] + G + ["--mass", "1.1", "--age", "2Gyr", "--at", "100Myr,6Gyr"])
 csv_run("forecast", ["forecast"] + G + ["--mass", "1.1", "--age", "2Gyr"])  # without --at: the keypoints ahead
 both("demo", ["demo"] + G + ["-o", os.path.join(d, "demo.svg")])

@@ -67,6 +67,15 @@
     X(hrt_forecast_result, ms_left_yr) X(hrt_forecast_result, end_in_yr) X(hrt_forecast_result, future)    \
     X(hrt_forecast_result, n_events) X(hrt_forecast_result, events) X(hrt_forecast_result, remnant_prob)   \
     X(hrt_forecast_result, remnant_mass_msun) X(hrt_forecast_result, reserved)                           \
+    X(hrt_ms_options, age_min_yr) X(hrt_ms_options, age_max_yr) X(hrt_ms_options, imf_alpha)                \
+    X(hrt_ms_options, n_masses) X(hrt_ms_options, n_ages) X(hrt_ms_options, reserved)                       \
+    X(hrt_ms_value, median) X(hrt_ms_value, lo) X(hrt_ms_value, hi) X(hrt_ms_value, band_lo)                \
+    X(hrt_ms_value, band_hi) X(hrt_ms_estimate, status) X(hrt_ms_estimate, n_models) X(hrt_ms_estimate, z)  \
+    X(hrt_ms_estimate, log_l_lsun) X(hrt_ms_estimate, log_teff_k) X(hrt_ms_estimate, log_r_rsun)            \
+    X(hrt_ms_estimate, log_g_cgs) X(hrt_ms_estimate, mass_msun) X(hrt_ms_estimate, initial_mass_msun)       \
+    X(hrt_ms_estimate, age_yr) X(hrt_ms_estimate, reserved) X(hrt_ms_distance_result, status)               \
+    X(hrt_ms_distance_result, n_models) X(hrt_ms_distance_result, distance_pc)                              \
+    X(hrt_ms_distance_result, parallax_mas) X(hrt_ms_distance_result, reserved)                             \
     X(hrt_import_track_report, file) X(hrt_import_track_report, status) X(hrt_import_track_report, line)  \
     X(hrt_import_track_report, column) X(hrt_import_track_report, message) X(hrt_import_track_report, notes) \
     X(hrt_import_track_report, initial_mass_msun) X(hrt_import_track_report, z)                         \
@@ -93,7 +102,9 @@ static const struct {
                      SIZE_(hrt_fit_model_options) SIZE_(hrt_fit_obs) SIZE_(hrt_fit_interval) SIZE_(hrt_fit_sample)
                          SIZE_(hrt_fit_result) SIZE_(hrt_forecast_state) SIZE_(hrt_forecast_event)
                              SIZE_(hrt_forecast_phase) SIZE_(hrt_forecast_result)
-                                 SIZE_(hrt_import_track_report) SIZE_(hrt_import_row_report)};
+                                 SIZE_(hrt_import_track_report) SIZE_(hrt_import_row_report)
+                                     SIZE_(hrt_ms_options) SIZE_(hrt_ms_value) SIZE_(hrt_ms_estimate)
+                                         SIZE_(hrt_ms_distance_result)};
 
 /* The header's constants that the module writes by hand, by name. */
 #define CONST_(c) {#c, (double)(c)},

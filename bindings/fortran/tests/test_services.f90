@@ -257,6 +257,10 @@ contains
     type(hrt_forecast_event), target :: fe
     type(hrt_forecast_phase), target :: fp
     type(hrt_forecast_result), target :: fo
+    type(hrt_ms_options), target :: mso
+    type(hrt_ms_value), target :: msv
+    type(hrt_ms_estimate), target :: mse
+    type(hrt_ms_distance_result), target :: msd
     allocate (sm)
     call type_size('hrt_isochrone_options', c_sizeof(io))
     call field('hrt_isochrone_options.phases', c_loc(io), c_loc(io%phases), c_sizeof(io%phases))
@@ -422,6 +426,39 @@ contains
     call field('hrt_forecast_event.name', c_loc(fe), c_loc(fe%name), c_sizeof(fe%name))
     call field('hrt_forecast_event.prob', c_loc(fe), c_loc(fe%prob), c_sizeof(fe%prob))
     call field('hrt_forecast_event.in_yr', c_loc(fe), c_loc(fe%in_yr), c_sizeof(fe%in_yr))
+    call type_size('hrt_ms_options', c_sizeof(mso))
+    call field('hrt_ms_options.age_min_yr', c_loc(mso), c_loc(mso%age_min_yr), c_sizeof(mso%age_min_yr))
+    call field('hrt_ms_options.age_max_yr', c_loc(mso), c_loc(mso%age_max_yr), c_sizeof(mso%age_max_yr))
+    call field('hrt_ms_options.imf_alpha', c_loc(mso), c_loc(mso%imf_alpha), c_sizeof(mso%imf_alpha))
+    call field('hrt_ms_options.n_masses', c_loc(mso), c_loc(mso%n_masses), c_sizeof(mso%n_masses))
+    call field('hrt_ms_options.n_ages', c_loc(mso), c_loc(mso%n_ages), c_sizeof(mso%n_ages))
+    call field('hrt_ms_options.reserved', c_loc(mso), c_loc(mso%reserved), c_sizeof(mso%reserved))
+    call type_size('hrt_ms_value', c_sizeof(msv))
+    call field('hrt_ms_value.median', c_loc(msv), c_loc(msv%median), c_sizeof(msv%median))
+    call field('hrt_ms_value.lo', c_loc(msv), c_loc(msv%lo), c_sizeof(msv%lo))
+    call field('hrt_ms_value.hi', c_loc(msv), c_loc(msv%hi), c_sizeof(msv%hi))
+    call field('hrt_ms_value.band_lo', c_loc(msv), c_loc(msv%band_lo), c_sizeof(msv%band_lo))
+    call field('hrt_ms_value.band_hi', c_loc(msv), c_loc(msv%band_hi), c_sizeof(msv%band_hi))
+    call type_size('hrt_ms_estimate', c_sizeof(mse))
+    call field('hrt_ms_estimate.status', c_loc(mse), c_loc(mse%status), c_sizeof(mse%status))
+    call field('hrt_ms_estimate.n_models', c_loc(mse), c_loc(mse%n_models), c_sizeof(mse%n_models))
+    call field('hrt_ms_estimate.z', c_loc(mse), c_loc(mse%z), c_sizeof(mse%z))
+    call field('hrt_ms_estimate.log_l_lsun', c_loc(mse), c_loc(mse%log_l_lsun), c_sizeof(mse%log_l_lsun))
+    call field('hrt_ms_estimate.log_teff_k', c_loc(mse), c_loc(mse%log_teff_k), c_sizeof(mse%log_teff_k))
+    call field('hrt_ms_estimate.log_r_rsun', c_loc(mse), c_loc(mse%log_r_rsun), c_sizeof(mse%log_r_rsun))
+    call field('hrt_ms_estimate.log_g_cgs', c_loc(mse), c_loc(mse%log_g_cgs), c_sizeof(mse%log_g_cgs))
+    call field('hrt_ms_estimate.mass_msun', c_loc(mse), c_loc(mse%mass_msun), c_sizeof(mse%mass_msun))
+    call field('hrt_ms_estimate.initial_mass_msun', c_loc(mse), c_loc(mse%initial_mass_msun), &
+         c_sizeof(mse%initial_mass_msun))
+    call field('hrt_ms_estimate.age_yr', c_loc(mse), c_loc(mse%age_yr), c_sizeof(mse%age_yr))
+    call field('hrt_ms_estimate.reserved', c_loc(mse), c_loc(mse%reserved), c_sizeof(mse%reserved))
+    call type_size('hrt_ms_distance_result', c_sizeof(msd))
+    call field('hrt_ms_distance_result.status', c_loc(msd), c_loc(msd%status), c_sizeof(msd%status))
+    call field('hrt_ms_distance_result.n_models', c_loc(msd), c_loc(msd%n_models), c_sizeof(msd%n_models))
+    call field('hrt_ms_distance_result.distance_pc', c_loc(msd), c_loc(msd%distance_pc), c_sizeof(msd%distance_pc))
+    call field('hrt_ms_distance_result.parallax_mas', c_loc(msd), c_loc(msd%parallax_mas), &
+         c_sizeof(msd%parallax_mas))
+    call field('hrt_ms_distance_result.reserved', c_loc(msd), c_loc(msd%reserved), c_sizeof(msd%reserved))
     call type_size('hrt_forecast_phase', c_sizeof(fp))
     call field('hrt_forecast_phase.prob', c_loc(fp), c_loc(fp%prob), c_sizeof(fp%prob))
     call field('hrt_forecast_phase.start_in_yr', c_loc(fp), c_loc(fp%start_in_yr), c_sizeof(fp%start_in_yr))

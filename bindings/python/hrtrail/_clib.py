@@ -132,6 +132,30 @@ class HrtFitInterval(ctypes.Structure):
     _fields_ = [("median", ctypes.c_double), ("lo", ctypes.c_double), ("hi", ctypes.c_double)]
 
 
+class HrtMsOptions(ctypes.Structure):
+    """struct hrt_ms_options."""
+    _fields_ = [("age_min_yr", ctypes.c_double), ("age_max_yr", ctypes.c_double), ("imf_alpha", ctypes.c_double),
+                ("n_masses", ctypes.c_int32), ("n_ages", ctypes.c_int32), ("reserved", ctypes.c_double * 4)]
+
+
+class HrtMsValue(ctypes.Structure):
+    """struct hrt_ms_value."""
+    _fields_ = [(n, ctypes.c_double) for n in ("median", "lo", "hi", "band_lo", "band_hi")]
+
+
+class HrtMsEstimate(ctypes.Structure):
+    """struct hrt_ms_estimate."""
+    _fields_ = [("status", ctypes.c_int32), ("n_models", ctypes.c_int32), ("z", ctypes.c_double)] + \
+        [(n, HrtMsValue) for n in ("log_l_lsun", "log_teff_k", "log_r_rsun", "log_g_cgs", "mass_msun",
+                                   "initial_mass_msun", "age_yr")] + [("reserved", ctypes.c_double * 4)]
+
+
+class HrtMsDistanceResult(ctypes.Structure):
+    """struct hrt_ms_distance_result."""
+    _fields_ = [("status", ctypes.c_int32), ("n_models", ctypes.c_int32), ("distance_pc", HrtFitInterval),
+                ("parallax_mas", HrtFitInterval), ("reserved", ctypes.c_double * 4)]
+
+
 class HrtFitSample(ctypes.Structure):
     """struct hrt_fit_sample."""
     _fields_ = [(n, ctypes.c_double) for n in ("initial_mass_msun", "z", "age_yr", "log_l_lsun", "log_teff_k")] + \
@@ -398,6 +422,15 @@ def _declare(lib):
         "hrt_fit_distance_m": (d, [d, d]),
         "hrt_fit_flux_from_mbol": (d, [d]),
         "hrt_forecast": (i, [vp, sz, vp, sz, vp, vp, vp, err]),
+        # the main sequence as a calibration curve
+        "hrt_ms_options_default": (None, [vp]),
+        "hrt_ms_new": (i, [vp, d, vp, pvp, err]),
+        "hrt_ms_free": (None, [vp]),
+        "hrt_ms_teff_range": (i, [vp, pd, pd]),
+        "hrt_ms_log_l_range": (i, [vp, pd, pd]),
+        "hrt_ms_from_teff": (i, [vp, d, d, vp, err]),
+        "hrt_ms_from_log_l": (i, [vp, d, d, vp, err]),
+        "hrt_ms_distance": (i, [vp, d, d, d, d, vp, err]),
         # building and importing grids
         "hrt_builder_new": (i, [sz, vp, d, pvp, err]),
         "hrt_builder_free": (None, [vp]),
