@@ -265,9 +265,12 @@ typedef struct plot {
     plot_line *lines;
     plot_point *points;
     int have_xrange, have_yrange;
-    double xlo, xhi, ylo, yhi; /* log Teff and log L ranges when given */
+    double xlo, xhi, ylo, yhi; /* log Teff and y ranges when given */
+    int y_kind;                /* what the y axis shows (PLOT_Y_*); the lines' and points' log_l_lsun hold it */
+    double y_offset_mag;       /* PLOT_Y_MV: distance modulus plus A_V, mag */
     int width, height;
 } plot;
+enum { PLOT_Y_LOG_L = 0, PLOT_Y_ABS_MV = 1, PLOT_Y_MV = 2 };
 void plot_init(plot *p);
 void plot_free(plot *p);
 plot_line *plot_add_line(plot *p, size_t n, const char *label, int is_isochrone);
