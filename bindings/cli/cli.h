@@ -38,7 +38,7 @@ typedef struct cli {
     double z_arg, feh_arg;
     const char *z_text;
     hrt_isochrone_options iso; /* what isochrones hold: --phases, --leave-out, --max-dlog-l */
-    /* magnitudes (at, isochrone, plot): --magnitudes, --distance PC, --av MAG */
+    /* magnitudes (at, isochrone, plot): --vmag, --distance PC, --av MAG */
     int mags;             /* write abs_mbol, bc_v, abs_mv */
     int have_distance;    /* --distance given: also mv */
     double distance_pc;   /* --distance */
@@ -301,7 +301,7 @@ void life_records_add(const cli *c, const life *L, table *t, const char *name);
 /* The magnitude options (at, isochrone, plot): put MAG_OPTDEFS in the command's own option table and
  * pass ids >= MAG_OPT_FIRST to mag_option_take; mag_check_options after parsing (--av needs --distance). */
 enum { MAG_OPT_FIRST = 600, O_MAG_ABS = MAG_OPT_FIRST, O_MAG_DISTANCE, O_MAG_AV };
-#define MAG_OPTDEFS {"magnitudes", 0, 0, O_MAG_ABS}, {"distance", 0, 1, O_MAG_DISTANCE}, {"av", 0, 1, O_MAG_AV}
+#define MAG_OPTDEFS {"vmag", 0, 0, O_MAG_ABS}, {"distance", 0, 1, O_MAG_DISTANCE}, {"av", 0, 1, O_MAG_AV}
 int mag_option_take(cli *c, int id, const char *val);
 int mag_check_options(const cli *c);
 /* Magnitudes of one state (hrt_magnitudes): M_bol, BC_V, M_V, m_V (NaN without --distance), flags. */
