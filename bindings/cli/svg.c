@@ -107,6 +107,7 @@ void plot_add_point(plot *p, double log_teff, double log_l, int phase, const cha
         hrt_state s;
         memset(&s, 0, sizeof s);
         s.log_teff_k = log_teff, s.log_l_lsun = log_l;
+        if (phase / 10 == HRT_PHASE_WD / 10) s.flags = HRT_FLAG_REMNANT; /* no BC_V for remnants */
         log_l = y_of(p, &s);
         if (!isfinite(log_l)) return;
     }
