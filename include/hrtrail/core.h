@@ -240,7 +240,7 @@ HRT_API int hrt_interp_from_name(const char *name);
 #define HRT_FLAG_BEYOND_LAW 0x10   /**< an analytic remnant outside the range where its law holds to its stated
                                     *   accuracy: a white dwarf above 0.1 or below 10^-4.5 Lsun (hrt_wd_log_l);
                                     *   in the flags hrt_magnitudes() returns, also a star its bolometric
-                                    *   correction was not calibrated on (Teff outside HRT_BC_V_TEFF_MIN_K ..
+                                    *   correction was not calibrated on (Teff outside HRT_BC_V_TEFF_MIN_K to
                                     *   HRT_BC_V_TEFF_MAX_K, or a remnant) */
 
 /**
@@ -656,7 +656,7 @@ HRT_API double hrt_bc_v(double log_teff_k);
  *   mv           apparent V, m_V = M_V + 5 log10(distance_pc / 10) + A_V
  *   flags        the state's flags, with HRT_FLAG_BEYOND_LAW added when the
  *                bolometric correction does not hold: Teff outside
- *                HRT_BC_V_TEFF_MIN_K .. HRT_BC_V_TEFF_MAX_K, or a remnant
+ *                HRT_BC_V_TEFF_MIN_K to HRT_BC_V_TEFF_MAX_K, or a remnant
  *                (HRT_FLAG_REMNANT: a white dwarf's BC_V is not Flower's);
  *                0 for a state whose status is not HRT_OK
  *   err          code and message
