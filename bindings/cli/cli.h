@@ -38,6 +38,12 @@ typedef struct cli {
     double z_arg, feh_arg;
     const char *z_text;
     hrt_isochrone_options iso; /* what isochrones hold: --phases, --leave-out, --max-dlog-l */
+    /* magnitudes (at, isochrone, plot): --vmag, --distance PC, --av MAG */
+    int mags;             /* write abs_mbol, bc_v, abs_mv */
+    int have_distance;    /* --distance given: also mv */
+    double distance_pc;   /* --distance */
+    double a_v_mag;       /* --av (0 by default) */
+    int have_av;
 } cli;
 
 /* ---- memory (the command owns its process: out of memory ends it with exit 1) ---- */
@@ -205,7 +211,9 @@ void outfile_abort(outfile *o);
 int outfile_target(const cli *c, const char *path, const char *what, char **target);
 
 /* ---- states of stars: the common table of at, track, isochrone and demo ---- */
-enum { SC_NAME = 1u, SC_STATUS = 2u };
+enum { SC_NAME = 1u, SC_STATUS = 2u, SC_MAGS = 4u, SC_MV = 8u };
+/* The magnitude columns the options ask for (SC_MAGS, SC_MV), for state_table_new. */
+unsigned mag_columns(const cli *c);
 table *state_table_new(unsigned extra);
 void state_table_add(table *t, const cli *c, const hrt_state *s, const char *name, const char *status);
 void phase_footnote(FILE *f, const table *t);
@@ -257,9 +265,12 @@ typedef struct plot {
     plot_line *lines;
     plot_point *points;
     int have_xrange, have_yrange;
-    double xlo, xhi, ylo, yhi; /* log Teff and log L ranges when given */
+    double xlo, xhi, ylo, yhi; /* log Teff and y ranges when given */
+    int y_kind;                /* what the y axis shows (PLOT_Y_*); the lines' and points' log_l_lsun hold it */
+    double y_offset_mag;       /* PLOT_Y_MV: distance modulus plus A_V, mag */
     int width, height;
 } plot;
+enum { PLOT_Y_LOG_L = 0, PLOT_Y_ABS_MV = 1, PLOT_Y_MV = 2 };
 void plot_init(plot *p);
 void plot_free(plot *p);
 plot_line *plot_add_line(plot *p, size_t n, const char *label, int is_isochrone);
@@ -287,6 +298,15 @@ table *life_records_new(int named);
 void life_records_add(const cli *c, const life *L, table *t, const char *name);
 
 /* ---- subcommands ---- */
+/* The magnitude options (at, isochrone, plot): put MAG_OPTDEFS in the command's own option table and
+ * pass ids >= MAG_OPT_FIRST to mag_option_take; mag_check_options after parsing (--av needs --distance). */
+enum { MAG_OPT_FIRST = 600, O_MAG_ABS = MAG_OPT_FIRST, O_MAG_DISTANCE, O_MAG_AV };
+#define MAG_OPTDEFS {"vmag", 0, 0, O_MAG_ABS}, {"distance", 0, 1, O_MAG_DISTANCE}, {"av", 0, 1, O_MAG_AV}
+int mag_option_take(cli *c, int id, const char *val);
+int mag_check_options(const cli *c);
+/* Magnitudes of one state (hrt_magnitudes): M_bol, BC_V, M_V, m_V (NaN without --distance), flags. */
+void state_magnitudes(const cli *c, const hrt_state *s, double out[4], int32_t *flags);
+
 /* The isochrone options (isochrone, plot): an extra option table and its handler (ids >= ISO_OPT_FIRST). */
 enum { ISO_OPT_FIRST = 500 };
 extern const optdef iso_more_opts[];

@@ -8,7 +8,7 @@
 enum { O_MASS = 1, O_AGE, O_INPUT, O_KEEP };
 static const optdef at_opts[] = {
     {"mass", 'm', 1, O_MASS}, {"age", 'a', 1, O_AGE}, {"input", 'i', 1, O_INPUT},
-    {"keep-going", 'k', 0, O_KEEP}, {NULL, 0, 0, 0},
+    {"keep-going", 'k', 0, O_KEEP}, MAG_OPTDEFS, {NULL, 0, 0, 0},
 };
 
 typedef struct stars {
@@ -153,6 +153,7 @@ typedef struct at_args {
 static int at_take(cli *c, void *ctx, int id, const char *val)
 {
     at_args *a = ctx;
+    if (id >= MAG_OPT_FIRST) return mag_option_take(c, id, val);
     switch (id) {
     case O_MASS: return add_mass_list(c, "--mass", val, &a->ml);
     case O_AGE: return add_age_list(c, "--age", val, &a->al);
@@ -212,7 +213,7 @@ static int at_run(cli *c, const at_args *a)
         return cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or --input FILE (see hrtrail at --help)");
     if (a->input && (a->ml.n > 1 || a->al.n > 1))
         return cli_fail(c, CLI_EXIT_USAGE, "with --input, --mass and --age may give only one value each (for columns the file lacks)");
-    if ((rc = cli_open_grid(c)) || (rc = at_stars(c, a, &s))) {
+    if ((rc = mag_check_options(c)) || (rc = cli_open_grid(c)) || (rc = at_stars(c, a, &s))) {
         stars_free(&s);
         return rc;
     }
@@ -222,7 +223,7 @@ static int at_run(cli *c, const at_args *a)
         st != HRT_E_NO_TRACK && st != HRT_E_DOMAIN)
         rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message[0] ? err.message : hrt_strerror(st));
     else if ((rc = at_failures(c, a, &s, out)) == 0 || a->keep) {
-        table *t = state_table_new((s.name ? SC_NAME : 0u) | (a->keep ? SC_STATUS : 0u));
+        table *t = state_table_new((s.name ? SC_NAME : 0u) | (a->keep ? SC_STATUS : 0u) | mag_columns(c));
         for (size_t i = 0; i < s.n; i++) {
             if (out[i].status != HRT_OK) {
                 /* the library leaves the failed star's inputs for us to fill in */

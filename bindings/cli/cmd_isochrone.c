@@ -85,10 +85,11 @@ int iso_option_take(cli *c, int id, const char *val)
 }
 
 enum { O_AGE = 1 };
-static const optdef iso_opts[] = {{"age", 'a', 1, O_AGE}, {"ages", 0, 1, O_AGE}, {NULL, 0, 0, 0}};
+static const optdef iso_opts[] = {{"age", 'a', 1, O_AGE}, {"ages", 0, 1, O_AGE}, MAG_OPTDEFS, {NULL, 0, 0, 0}};
 
 static int iso_take(cli *c, void *ctx, int id, const char *val)
 {
+    if (id >= MAG_OPT_FIRST) return mag_option_take(c, id, val);
     if (id >= ISO_OPT_FIRST) return iso_option_take(c, id, val);
     return id == O_AGE ? add_age_list(c, "--age", val, ctx) : 0;
 }
@@ -104,8 +105,8 @@ static int iso_run(cli *c, const dlist *al)
     if (al->n == 0) return cli_fail(c, CLI_EXIT_USAGE, "give --age AGE[,AGE...] (e.g. --age 1Gyr)");
     for (size_t i = 0; i < al->n; i++)
         if (!(al->v[i] > 0)) return cli_fail(c, CLI_EXIT_USAGE, "--age %s: an isochrone needs an age > 0", al->text[i]);
-    if ((rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) return rc;
-    t = state_table_new(0);
+    if ((rc = mag_check_options(c)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) return rc;
+    t = state_table_new(mag_columns(c));
     for (size_t i = 0; i < al->n && rc == 0; i++) {
         hrt_state *pts;
         size_t n;

@@ -6,11 +6,12 @@
 
 #include "cli.h"
 
-enum { O_TRACK = 1, O_ISO, O_POINTS, O_TITLE, O_OUT, O_XRANGE, O_YRANGE };
+enum { O_TRACK = 1, O_ISO, O_POINTS, O_TITLE, O_OUT, O_XRANGE, O_YRANGE, O_Y, O_YR };
 static const optdef plot_opts[] = {
     {"track", 't', 1, O_TRACK},      {"tracks", 0, 1, O_TRACK},   {"isochrone", 'a', 1, O_ISO},
     {"isochrones", 0, 1, O_ISO},     {"points", 'p', 1, O_POINTS}, {"title", 0, 1, O_TITLE},
     {"output", 'o', 1, O_OUT},       {"log-teff", 0, 1, O_XRANGE}, {"log-l", 0, 1, O_YRANGE},
+    {"y", 0, 1, O_Y},                {"y-range", 0, 1, O_YR},     MAG_OPTDEFS,
     {NULL, 0, 0, 0},
 };
 
@@ -79,8 +80,18 @@ static int plot_take(cli *c, void *ctx, int id, const char *val)
 {
     plot_args *a = ctx;
     int rc = 0;
+    if (id >= MAG_OPT_FIRST) return mag_option_take(c, id, val);
     if (id >= ISO_OPT_FIRST) return iso_option_take(c, id, val);
     switch (id) {
+    case O_Y:
+        if (!strcmp(val, "log_l_lsun")) a->pl.y_kind = PLOT_Y_LOG_L;
+        else if (!strcmp(val, "abs_mv")) a->pl.y_kind = PLOT_Y_ABS_MV;
+        else if (!strcmp(val, "mv")) a->pl.y_kind = PLOT_Y_MV;
+        else return cli_fail(c, CLI_EXIT_USAGE, "--y %s: the y axis is log_l_lsun (the default), abs_mv or mv", val);
+        return 0;
+    case O_YR:
+        if (!(rc = parse_range(c, "--y-range", val, &a->pl.ylo, &a->pl.yhi))) a->pl.have_yrange = 1;
+        return rc;
     case O_TRACK: return add_mass_list(c, "--track", val, &a->tl);
     case O_ISO: return add_age_list(c, "--isochrone", val, &a->il);
     case O_POINTS: a->points = val; return 0;
@@ -132,6 +143,12 @@ static int plot_run(cli *c, plot_args *a)
 {
     char subtitle[512];
     int rc;
+    if ((rc = mag_check_options(c))) return rc;
+    if (a->pl.y_kind == PLOT_Y_MV && !c->have_distance)
+        return cli_fail(c, CLI_EXIT_USAGE, "--y mv is the apparent magnitude: give --distance PC (and --av MAG)");
+    if (a->pl.y_kind != PLOT_Y_MV && c->have_distance)
+        return cli_fail(c, CLI_EXIT_USAGE, "--distance and --av apply to --y mv only");
+    a->pl.y_offset_mag = c->have_distance ? 5.0 * log10(c->distance_pc / 10.0) + c->a_v_mag : 0.0;
     if (!a->tl.n && !a->il.n && !a->points)
         return cli_fail(c, CLI_EXIT_USAGE, "nothing to draw: give --track M[,M...], --isochrone AGE[,AGE...] or --points FILE");
     for (size_t i = 0; i < a->il.n; i++)
@@ -142,7 +159,9 @@ static int plot_run(cli *c, plot_args *a)
     if ((a->tl.n || a->il.n) && (rc = plot_grid_lines(c, a, subtitle, sizeof subtitle))) return rc;
     if (a->pl.npoints == 0 && a->tl.n == 0 && a->il.n == 0)
         return cli_fail(c, CLI_EXIT_FILE, "%s: no star with a finite log_teff_k and log_l_lsun to plot", csv_shown(a->points));
-    a->pl.title = a->title ? a->title : "Hertzsprung-Russell diagram";
+    a->pl.title = a->title ? a->title
+                  : a->pl.y_kind == PLOT_Y_LOG_L ? "Hertzsprung-Russell diagram"
+                  : "Magnitude-temperature diagram";
     a->pl.subtitle = subtitle;
     return plot_save(c, &a->pl, a->out);
 }

@@ -105,7 +105,22 @@ static const char state_cols_text[] =
     "                                the birthline or the ZAMS: only masses are set),\n"
     "                                remnant (past the track: analytic remnant),\n"
     "                                dark (no light: L, Teff undefined),\n"
-    "                                extrapolated (just outside its route's tracks)\n";
+    "                                extrapolated (just outside its route's tracks),\n"
+    "                                bc-uncalibrated (with magnitudes: BC_V not\n"
+    "                                fitted there, Teff outside 2900-52500 K or a\n"
+    "                                remnant; the magnitudes are written anyway)\n"
+    "  abs_mbol, bc_v, abs_mv   M_bol, BC_V, M_V   at, isochrone: --vmag\n"
+    "  mv                 m_V        at, isochrone: --distance, apparent V\n";
+
+/* The magnitude options (at, isochrone). */
+#define MAG_OPTIONS_TEXT                                                                            \
+    "  --vmag                  add abs_mbol (M_bol = 4.74 - 2.5 log L, IAU 2015\n"      \
+    "                          Resolution B2), bc_v (BC_V of Flower 1996 with the\n"            \
+    "                          coefficients of Torres 2010; fitted on 2900-52500 K,\n"          \
+    "                          within about 0.06 mag of mean B3-K5 dwarfs, worse for\n"         \
+    "                          M dwarfs) and abs_mv (M_V = M_bol - BC_V)\n"                     \
+    "  --distance PC           also the apparent V, mv = M_V + 5 log10(PC/10) + A_V\n"          \
+    "  --av MAG                extinction A_V in magnitudes (default 0; needs --distance)\n"
 
 static const char accuracy_text[] =
     "Accuracy: answers are as good as the grid. The default grid is a semi-analytic\n"
@@ -181,6 +196,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  -k, --keep-going       print every star even if some fail: failed stars get a\n"
      "                         status column and nan values, a message each on\n"
      "                         standard error, and the exit status of the first failure\n"
+     MAG_OPTIONS_TEXT
      "  --csv, --json          CSV, or JSON records (a list of objects), instead of\n"
      "                         the table\n"
      "\n"
@@ -194,6 +210,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Examples:\n"
      "  hrtrail at --mass 2.3 --z 0.008 --age 800Myr\n"
      "  hrtrail at --mass 1,1.5,2 --age 1Gyr,2Gyr --csv\n"
+     "  hrtrail at --mass 0.8,1,1.2 --age 3Gyr --distance 850 --av 0.25\n"
      "  printf 'name,initial_mass_msun,age_yr\\nA,1.0,4.6Gyr\\nB,3,300Myr\\n' | hrtrail at --input - --json\n",
      1, OUT_NONE},
     {"track",
@@ -235,11 +252,13 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  -a, --age AGE[,AGE...]  ages (> 0), e.g. 1Gyr or 100Myr,1Gyr,5Gyr\n"
      "  --z Z | --feh X         metallicity (default: the grid's Z_ref)\n"
      ISO_OPTIONS_TEXT
+     MAG_OPTIONS_TEXT
      "  --csv, --json           CSV, or JSON records, instead of the table\n"
      "\n"
      "Examples:\n"
      "  hrtrail isochrone --age 1Gyr --z 0.014 --csv > iso-1gyr.csv\n"
-     "  hrtrail isochrone --age 100Myr,1Gyr --feh -0.5 --json\n",
+     "  hrtrail isochrone --age 100Myr,1Gyr --feh -0.5 --json\n"
+     "  hrtrail isochrone --age 2Gyr --distance 1200 --av 0.4 --csv\n",
      1, OUT_NONE},
     {"life",
      "Usage: hrtrail life --mass M[,M...] [--z Z | --feh X] [OPTIONS]\n"
@@ -277,6 +296,9 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "phases apart; a legend names them. Tracks are thin lines labelled with their\n"
      "mass at the zero-age main sequence; isochrones are thick lines labelled with\n"
      "their age at their brightest point.\n"
+     "With --y abs_mv (or mv) the y axis is the V magnitude instead, brighter upward:\n"
+     "a magnitude-temperature diagram; states outside the range of the bolometric\n"
+     "correction (2900-52500 K) and remnants are left out of it.\n"
      "\n"
      "  -t, --track M[,M...]        tracks of these initial masses, Msun\n"
      "  -a, --isochrone AGE[,...]   isochrones at these ages (--phases, --leave-out and\n"
@@ -289,12 +311,17 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --title TEXT                title (default: Hertzsprung-Russell diagram)\n"
      "  --log-teff LO,HI            log10 Teff/K range (default: fit the data)\n"
      "  --log-l LO,HI               log10 L/Lsun range (default: fit the data)\n"
+     "  --y AXIS                    log_l_lsun (default), abs_mv (M_V) or mv (apparent\n"
+     "                              V: needs --distance PC, optional --av MAG; see\n"
+     "                              hrtrail at --help)\n"
+     "  --y-range LO,HI             range of the y axis, whatever it shows\n"
      "  -o, --output FILE           SVG file (default: standard output); a symbolic\n"
      "                              link is written through, a device or FIFO directly\n"
      "\n"
      "Examples:\n"
      "  hrtrail plot --track 1,2,5 --isochrone 300Myr,1Gyr -o hr.svg\n"
-     "  hrtrail at --mass 1,2 --age 1Gyr --csv | hrtrail plot --points - --isochrone 1Gyr -o stars.svg\n",
+     "  hrtrail at --mass 1,2 --age 1Gyr --csv | hrtrail plot --points - --isochrone 1Gyr -o stars.svg\n"
+     "  hrtrail plot --isochrone 300Myr,1Gyr,3Gyr --y abs_mv -o cmd.svg\n",
      0, OUT_SVG},
     {"grid",
      "Usage: hrtrail grid info [FILE] [--grid FILE] [--csv | --json]\n"

@@ -343,6 +343,10 @@ static const col state_cols[] = {
     {"phase_end_yr", NULL, COL_NUM, NULL, 0},
     {"remnant", NULL, COL_TEXT, NULL, 0},
     {"remnant_mass_msun", NULL, COL_NUM, NULL, 0},
+    {"abs_mbol", "M_bol", COL_NUM, "%.3f", 0},
+    {"bc_v", "BC_V", COL_NUM, "%.3f", 0},
+    {"abs_mv", "M_V", COL_NUM, "%.3f", 0},
+    {"mv", "m_V", COL_NUM, "%.3f", 0},
     {"flags", "notes", COL_TEXT, NULL, 0},
     {"status", "status", COL_TEXT, NULL, 0},
 };
@@ -361,7 +365,9 @@ table *state_table_new(unsigned extra)
     size_t n = 0;
     for (size_t i = 0; i < N_STATE_COLS; i++) {
         const char *key = state_cols[i].key;
-        if ((!strcmp(key, "name") && !(extra & SC_NAME)) || (!strcmp(key, "status") && !(extra & SC_STATUS))) {
+        int is_mag = !strcmp(key, "abs_mbol") || !strcmp(key, "bc_v") || !strcmp(key, "abs_mv");
+        if ((!strcmp(key, "name") && !(extra & SC_NAME)) || (!strcmp(key, "status") && !(extra & SC_STATUS)) ||
+            (is_mag && !(extra & SC_MAGS)) || (!strcmp(key, "mv") && !(extra & SC_MV))) {
             st->map[i] = -1;
             continue;
         }
@@ -388,11 +394,15 @@ void state_table_add(table *t, const cli *c, const hrt_state *s, const char *nam
 {
     state_table *st = (state_table *)t;
     size_t r = table_add_row(t);
-    char fl[96];
+    char fl[128];
+    double mag[4];
+    int32_t mflags = 0;
+    state_magnitudes(c, s, mag, &mflags);
     const double nums[N_STATE_COLS] = {
         0, s->initial_mass_msun, s->z, s->age_yr, 0, 0, s->log_l_lsun, s->log_teff_k, s->log_r_rsun, s->log_g_cgs,
         s->mass_msun, s->he_core_mass_msun, s->co_core_mass_msun, s->eep, s->phase_fraction, s->phase_start_yr,
-        s->phase_end_yr, 0, s->remnant_mass_msun, 0, 0};
+        s->phase_end_yr, 0, s->remnant_mass_msun, mag[0], mag[1], mag[2], mag[3], 0, 0};
+    int mag_cols = st->map[19] >= 0; /* abs_mbol shown: the magnitudes were asked for */
     for (size_t i = 0; i < N_STATE_COLS; i++) {
         int k = st->map[i];
         const char *key = state_cols[i].key;
@@ -407,8 +417,13 @@ void state_table_add(table *t, const cli *c, const hrt_state *s, const char *nam
             table_text(t, r, (size_t)k, s->status == HRT_OK ? cli_route_name(c, s->route) : "");
         else if (!strcmp(key, "remnant"))
             table_text(t, r, (size_t)k, s->status == HRT_OK ? hrt_remnant_key(s->remnant) : "");
-        else if (!strcmp(key, "flags"))
-            table_text(t, r, (size_t)k, s->status == HRT_OK ? flags_text(s->flags, fl, sizeof fl) : "");
+        else if (!strcmp(key, "flags")) {
+            flags_text(s->flags, fl, sizeof fl);
+            /* the bolometric correction outside the stars it was fitted to (hrt_magnitudes) */
+            if (mag_cols && (mflags & HRT_FLAG_BEYOND_LAW) && isfinite(mag[1]))
+                snprintf(fl + strlen(fl), sizeof fl - strlen(fl), "%sbc-uncalibrated", *fl ? "+" : "");
+            table_text(t, r, (size_t)k, s->status == HRT_OK ? fl : "");
+        }
         else if (!strcmp(key, "status"))
             table_text(t, r, (size_t)k, status);
     }
@@ -436,4 +451,46 @@ void phase_footnote(FILE *f, const table *t)
         any = 1;
     }
     if (any) fputc('\n', f);
+}
+
+/* ------------------------------------------------------------------ magnitudes */
+
+unsigned mag_columns(const cli *c)
+{
+    return (c->mags || c->have_distance ? SC_MAGS : 0u) | (c->have_distance ? SC_MV : 0u);
+}
+
+int mag_option_take(cli *c, int id, const char *val)
+{
+    switch (id) {
+    case O_MAG_ABS: c->mags = 1; return 0;
+    case O_MAG_DISTANCE:
+        if (parse_number(val, &c->distance_pc) != 0 || !(c->distance_pc > 0) || !isfinite(c->distance_pc))
+            return cli_fail(c, CLI_EXIT_USAGE, "--distance %s: a distance > 0 in parsecs", val);
+        c->have_distance = 1;
+        return 0;
+    case O_MAG_AV:
+        if (parse_number(val, &c->a_v_mag) != 0 || !(c->a_v_mag >= 0) || !isfinite(c->a_v_mag))
+            return cli_fail(c, CLI_EXIT_USAGE, "--av %s: an extinction A_V >= 0 in magnitudes", val);
+        c->have_av = 1;
+        return 0;
+    default: return 0;
+    }
+}
+
+int mag_check_options(const cli *c)
+{
+    if (c->have_av && !c->have_distance)
+        return cli_fail(c, CLI_EXIT_USAGE, "--av applies to the apparent magnitude: give --distance PC too");
+    return 0;
+}
+
+void state_magnitudes(const cli *c, const hrt_state *s, double out[4], int32_t *flags)
+{
+    out[0] = out[1] = out[2] = out[3] = NAN;
+    *flags = 0;
+    if (!c->mags && !c->have_distance) return;
+    /* the options were checked: the call cannot fail */
+    (void)hrt_magnitudes(1, s, c->distance_pc, c->a_v_mag, &out[0], &out[1], &out[2], c->have_distance ? &out[3] : NULL,
+                         flags, NULL);
 }

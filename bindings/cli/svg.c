@@ -88,8 +88,29 @@ plot_line *plot_add_line(plot *p, size_t n, const char *label, int is_isochrone)
     return l;
 }
 
+/* The y value of a state: log L, or its V magnitude (absolute, or apparent with the plot's offset);
+ * NaN where the bolometric correction was not fitted (hrt_magnitudes flags it): outside 2900-52500 K
+ * its polynomial runs away, and white dwarfs are not among its stars. */
+static double y_of(const plot *p, const hrt_state *s)
+{
+    double mv;
+    int32_t fl;
+    if (p->y_kind == PLOT_Y_LOG_L) return s->log_l_lsun;
+    if (hrt_magnitudes(1, s, 10.0, 0.0, NULL, NULL, &mv, NULL, &fl, NULL) != HRT_OK || (fl & HRT_FLAG_BEYOND_LAW))
+        return NAN;
+    return mv + (p->y_kind == PLOT_Y_MV ? p->y_offset_mag : 0.0);
+}
+
 void plot_add_point(plot *p, double log_teff, double log_l, int phase, const char *label)
 {
+    if (p->y_kind != PLOT_Y_LOG_L) {
+        hrt_state s;
+        memset(&s, 0, sizeof s);
+        s.log_teff_k = log_teff, s.log_l_lsun = log_l;
+        if (phase / 10 == HRT_PHASE_WD / 10) s.flags = HRT_FLAG_REMNANT; /* no BC_V for remnants */
+        log_l = y_of(p, &s);
+        if (!isfinite(log_l)) return;
+    }
     p->points = xrealloc(p->points, (p->npoints + 1) * sizeof *p->points);
     p->points[p->npoints].log_teff = log_teff;
     p->points[p->npoints].log_l_lsun = log_l;
@@ -98,11 +119,12 @@ void plot_add_point(plot *p, double log_teff, double log_l, int phase, const cha
     p->npoints++;
 }
 
-static void line_push(plot_line *l, const hrt_state *s)
+static void line_push(const plot *p, plot_line *l, const hrt_state *s)
 {
-    if (!isfinite(s->log_teff_k) || !isfinite(s->log_l_lsun)) return;
+    double y = y_of(p, s);
+    if (!isfinite(s->log_teff_k) || !isfinite(y)) return;
     l->log_teff[l->n] = s->log_teff_k;
-    l->log_l_lsun[l->n] = s->log_l_lsun;
+    l->log_l_lsun[l->n] = y;
     l->phase[l->n] = s->phase;
     l->route[l->n] = s->route;
     l->n++;
@@ -116,7 +138,7 @@ int plot_add_track(const cli *c, plot *p, const hrt_star *s, const char *label)
         hrt_state st;
         int r = hrt_star_eep_state(s, j, &st);
         if (r != HRT_OK) return cli_fail(c, cli_exit_of_status(r), "EEP %zu of the track %s: %s", j, label, hrt_strerror(r));
-        line_push(l, &st);
+        line_push(p, l, &st);
     }
     return 0;
 }
@@ -128,16 +150,22 @@ int plot_add_isochrone(const cli *c, plot *p, double age_yr, double z, const cha
     int st = isochrone_compute(c, age_yr, z, &pts, &n);
     if (st != HRT_OK) return st;
     plot_line *l = plot_add_line(p, n, label, 1);
-    for (size_t k = 0; k < n; k++) line_push(l, &pts[k]);
+    for (size_t k = 0; k < n; k++) line_push(p, l, &pts[k]);
     free(pts);
     return HRT_OK;
 }
 
 /* ------------------------------------------------------------------ drawing */
 
+/* The y axis by PLOT_Y_*: its title and the name of its data attributes. */
+static const char *const y_title[] = {"log10 (L / Lsun)", "M_V (absolute V magnitude; BC_V of Flower 1996)",
+                                      "V (apparent magnitude; BC_V of Flower 1996)"};
+static const char *const y_attr[] = {"log-l", "abs-mv", "mv"};
+
 typedef struct frame {
     double x0, x1, y0, y1;     /* plot area, px */
-    double xlo, xhi, ylo, yhi; /* data range: log Teff, log L */
+    double xlo, xhi, ylo, yhi; /* data range: log Teff, log L (or a magnitude) */
+    int y_kind;                /* PLOT_Y_*: magnitudes grow downward */
 } frame;
 
 static double px(const frame *f, double log_teff)
@@ -147,6 +175,7 @@ static double px(const frame *f, double log_teff)
 
 static double py(const frame *f, double log_l)
 {
+    if (f->y_kind != PLOT_Y_LOG_L) return f->y0 + (log_l - f->ylo) / (f->yhi - f->ylo) * (f->y1 - f->y0);
     return f->y1 - (log_l - f->ylo) / (f->yhi - f->ylo) * (f->y1 - f->y0);
 }
 
@@ -270,6 +299,7 @@ static void axes(FILE *o, const frame *f)
     double yspan = f->yhi - f->ylo;
     /* log L: a tick at every decade of L; wider steps for very tall ranges, halves for very short */
     ys = yspan > 14 ? 2 : yspan < 2 ? 0.5 : 1;
+    if (f->y_kind != PLOT_Y_LOG_L) ys = nice_step(yspan, 10); /* magnitudes: round steps */
     fprintf(o, "<g id=\"x-axis\" font-size=\"12\" text-anchor=\"middle\" fill=\"#2b2b2b\">\n");
     for (double v = ceil(f->xlo / xs - 1e-9) * xs; v <= f->xhi + 1e-9; v += xs) {
         double x = px(f, v);
@@ -290,7 +320,7 @@ static void axes(FILE *o, const frame *f)
         fprintf(o, "<text x=\"%.3f\" y=\"%.3f\">%.*f</text>\n", f->x0 - 8, y + 4, d, v + 0.0);
     }
     /* minor ticks at 2..9 times each decade of L, when decades are far enough apart */
-    if (ys == 1 && (f->y1 - f->y0) / yspan > 40)
+    if (ys == 1 && (f->y1 - f->y0) / yspan > 40 && f->y_kind == PLOT_Y_LOG_L)
         for (double dec = floor(f->ylo); dec <= f->yhi; dec += 1)
             for (int k = 2; k <= 9; k++) {
                 double v = dec + log10((double)k);
@@ -303,8 +333,8 @@ static void axes(FILE *o, const frame *f)
                "log10 (Teff / K)   \xe2\x80\x94 hotter to the left</text>\n",
             (f->x0 + f->x1) / 2, f->y1 + 44);
     fprintf(o, "<text transform=\"translate(%.1f %.1f) rotate(-90)\" font-size=\"14\" text-anchor=\"middle\" fill=\"#1a1a1a\">"
-               "log10 (L / Lsun)</text>\n",
-            f->x0 - 48, (f->y0 + f->y1) / 2);
+               "%s</text>\n",
+            f->x0 - 48, (f->y0 + f->y1) / 2, y_title[f->y_kind]);
 }
 
 /* One line drawn as runs of equal phase; each run begins where the previous ended. */
@@ -390,7 +420,7 @@ static void draw_labels(FILE *o, const plot *p, const frame *f)
         size_t at = 0;
         if (!l->is_isochrone || !l->n || !l->label[0]) continue;
         for (size_t k = 1; k < l->n; k++)
-            if (l->log_l_lsun[k] > l->log_l_lsun[at]) at = k;
+            if ((l->log_l_lsun[k] > l->log_l_lsun[at]) == (f->y_kind == PLOT_Y_LOG_L)) at = k; /* the brightest */
         place_label(o, &L, f, px(f, l->log_teff[at]), py(f, l->log_l_lsun[at]), l->label, 12, 1);
     }
     for (size_t i = 0; i < p->npoints; i++)
@@ -465,6 +495,7 @@ int plot_write_svg(const plot *p, FILE *o)
 {
     frame f;
     f.x0 = 84, f.x1 = p->width - 400, f.y0 = 70, f.y1 = p->height - 72;
+    f.y_kind = p->y_kind;
     data_range(p, &f);
     fprintf(o, "<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
     fprintf(o, "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
@@ -474,9 +505,10 @@ int plot_write_svg(const plot *p, FILE *o)
     xml_text(o, p->title ? p->title : "HR diagram");
     fprintf(o, "</title>\n");
     fprintf(o, "<rect id=\"background\" x=\"0\" y=\"0\" width=\"%d\" height=\"%d\" fill=\"#fbfaf6\"/>\n", p->width, p->height);
-    fprintf(o, "<rect id=\"plot-area\" data-log-teff-left=\"%.17g\" data-log-teff-right=\"%.17g\" data-log-l-bottom=\"%.17g\" "
-               "data-log-l-top=\"%.17g\" x=\"%.3f\" y=\"%.3f\" width=\"%.3f\" height=\"%.3f\" fill=\"#ffffff\"/>\n",
-            f.xhi, f.xlo, f.ylo, f.yhi, f.x0, f.y0, f.x1 - f.x0, f.y1 - f.y0);
+    fprintf(o, "<rect id=\"plot-area\" data-log-teff-left=\"%.17g\" data-log-teff-right=\"%.17g\" data-%s-bottom=\"%.17g\" "
+               "data-%s-top=\"%.17g\" x=\"%.3f\" y=\"%.3f\" width=\"%.3f\" height=\"%.3f\" fill=\"#ffffff\"/>\n",
+            f.xhi, f.xlo, y_attr[f.y_kind], f.y_kind ? f.yhi : f.ylo, y_attr[f.y_kind], f.y_kind ? f.ylo : f.yhi, f.x0, f.y0,
+            f.x1 - f.x0, f.y1 - f.y0);
     fprintf(o, "<text x=\"%.1f\" y=\"30\" font-size=\"18\" font-weight=\"bold\" fill=\"#1a1a1a\">", f.x0);
     xml_text(o, p->title ? p->title : "HR diagram");
     fprintf(o, "</text>\n");
@@ -498,9 +530,9 @@ int plot_write_svg(const plot *p, FILE *o)
         const plot_point *q = &p->points[i];
         double x = px(&f, q->log_teff), y = py(&f, q->log_l_lsun);
         const char *ring = q->phase > 0 ? style_of(q->phase)->colour : "#ffffff";
-        fprintf(o, "<circle class=\"point\" data-log-teff=\"%.17g\" data-log-l=\"%.17g\" cx=\"%.3f\" cy=\"%.3f\" r=\"5.5\" "
+        fprintf(o, "<circle class=\"point\" data-log-teff=\"%.17g\" data-%s=\"%.17g\" cx=\"%.3f\" cy=\"%.3f\" r=\"5.5\" "
                    "fill=\"#111111\" stroke=\"%s\" stroke-width=\"%s\"/>\n",
-                q->log_teff, q->log_l_lsun, x, y, ring, q->phase > 0 ? "2.6" : "1.5");
+                q->log_teff, y_attr[f.y_kind], q->log_l_lsun, x, y, ring, q->phase > 0 ? "2.6" : "1.5");
     }
     fprintf(o, "</g>\n</g>\n");
     fprintf(o, "<rect x=\"%.3f\" y=\"%.3f\" width=\"%.3f\" height=\"%.3f\" fill=\"none\" stroke=\"#2b2b2b\" stroke-width=\"1.2\"/>\n",

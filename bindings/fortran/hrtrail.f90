@@ -423,7 +423,7 @@ module hrtrail
        hrt_grid_attribute, hrt_grid_memory_bytes, hrt_grid_route_of, hrt_grid_boundary_at, hrt_star_mass, &
        hrt_star_z, hrt_star_n_keypoints, hrt_star_keypoint_name, hrt_star_keypoint_age, &
        hrt_isochrone_options_default, hrt_isochrone_with, hrt_wd_radius_rsun, hrt_wd_log_l, &
-       hrt_collapse_remnant, hrt_default_route
+       hrt_collapse_remnant, hrt_default_route, hrt_bc_v, hrt_magnitudes
   public :: hrt_imf_name, hrt_imf_from_name, hrt_imf_init, hrt_imf_pdf, hrt_imf_cdf, hrt_imf_quantile, &
        hrt_imf_mean_mass, hrt_sfh_name, hrt_sfh_from_name, hrt_pop_spec_default, hrt_pop_spec_check, &
        hrt_pop_n_chunks, hrt_pop_draw, hrt_pop_sum_value, hrt_pop_summary_init, hrt_pop_summary_add, &
@@ -817,6 +817,23 @@ module hrtrail
        real(c_double), intent(out) :: mass_msun
        integer(c_int) :: rc
      end function hrt_collapse_remnant
+     ! ---- magnitudes
+     function hrt_bc_v(log_teff_k) bind(C, name="hrt_bc_v") result(bc)
+       import :: c_double
+       real(c_double), value :: log_teff_k
+       real(c_double) :: bc
+     end function hrt_bc_v
+     !> abs_mbol, bc_v, abs_mv, mv (n doubles each) and flags (n int32): c_loc of an array, or c_null_ptr.
+     function hrt_magnitudes(n, states, distance_pc, a_v_mag, abs_mbol, bc_v, abs_mv, mv, flags, err) &
+          bind(C, name="hrt_magnitudes") result(rc)
+       import :: c_size_t, c_double, c_ptr, c_int, hrt_state, hrt_error
+       integer(c_size_t), value :: n
+       type(hrt_state), intent(in) :: states(*)
+       real(c_double), value :: distance_pc, a_v_mag
+       type(c_ptr), value :: abs_mbol, bc_v, abs_mv, mv, flags
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_magnitudes
      ! ---- the default grid's routes
      !> keypoint_names: address of HRT_IMPORT_MAX_KP pointers, filled by the call.
      function hrt_default_route(r, spec, keypoint_names) bind(C, name="hrt_default_route") result(rc)

@@ -238,7 +238,10 @@ HRT_API int hrt_interp_from_name(const char *name);
 #define HRT_FLAG_EXTRAPOLATED 0x4  /**< mass slightly outside its route's tracks: linear extrapolation */
 #define HRT_FLAG_NOT_MODELLED 0x8  /**< younger than the track's first EEP (birthline or ZAMS): only phase and mass are set */
 #define HRT_FLAG_BEYOND_LAW 0x10   /**< an analytic remnant outside the range where its law holds to its stated
-                                    *   accuracy: a white dwarf above 0.1 or below 10^-4.5 Lsun (hrt_wd_log_l) */
+                                    *   accuracy: a white dwarf above 0.1 or below 10^-4.5 Lsun (hrt_wd_log_l);
+                                    *   in the flags hrt_magnitudes() returns, also a star its bolometric
+                                    *   correction was not calibrated on (Teff outside HRT_BC_V_TEFF_MIN_K to
+                                    *   HRT_BC_V_TEFF_MAX_K, or a remnant) */
 
 /**
  * State of one star at one age.  Plain data, so ctypes and Fortran bind(C)
@@ -595,6 +598,83 @@ HRT_API double hrt_wd_log_l(double mass_msun, int kind, double log_l0, double dt
  * finite, negative, or a core heavier than the star).
  */
 HRT_API int hrt_collapse_remnant(double co_core_mass_msun, double final_mass_msun, int *kind, double *mass_msun);
+
+/* ------------------------------------------------------------------------
+ * Magnitudes
+ * ------------------------------------------------------------------------ */
+/** Coolest Teff (K) of the stars Flower's (1996) bolometric corrections were fitted to (hrt_bc_v). */
+#define HRT_BC_V_TEFF_MIN_K 2900.0
+/** Hottest Teff (K) of the stars Flower's (1996) bolometric corrections were fitted to (hrt_bc_v). */
+#define HRT_BC_V_TEFF_MAX_K 52500.0
+
+/**
+ * @brief Bolometric correction in Johnson V, BC_V = M_bol - M_V (mag), at
+ * log10 Teff/K.
+ *
+ * The polynomials in log Teff of Flower (1996, ApJ 469, 355), with the
+ * coefficients as reprinted by Torres (2010, AJ 140, 1158, Table 1) because
+ * the original publication misprinted them: three pieces, below log Teff =
+ * 3.70, from 3.70 to 3.90, and above 3.90 (they join to 0.022 mag at 3.70
+ * and 0.003 mag at 3.90).  Fitted to stars of 2900 to 52500 K (dwarfs,
+ * subgiants, giants and supergiants; not white dwarfs).
+ *
+ * Zero point: the Sun (5772 K) gets BC_V = -0.081, hence M_V = 4.82 with
+ * the IAU 2015 B2 M_bol,sun = 4.74; Torres (2010) pairs the table with
+ * M_bol,sun = 4.73 to reproduce V_sun = -26.76 +- 0.03, so V magnitudes here
+ * are 0.01 mag fainter than on his scale, well inside that error.
+ *
+ * Accuracy: the papers give no single figure; measured here against the
+ * mean-dwarf sequence of Pecaut & Mamajek (2013, ApJS 208, 9; E. Mamajek's
+ * table, version 2019.3.22) in tests/test_magnitude.c: within 0.06 mag
+ * from B3 to K5 dwarfs (A0-F5 about 0.05 mag less negative), 0.10 mag at
+ * B2; below 4000 K it drifts from the dwarfs (-0.07 at K7, -0.18 at M0,
+ * -0.5 at M2, -1.1 at M4: the cool piece is fitted mostly to giants).  In
+ * hot stars BC_V changes by 0.1 mag per 1000 K at 30000 K, so an error in
+ * Teff dominates.  Outside 2900-52500 K the polynomial runs away (-5.9 mag
+ * at 2900 K already): the value is returned, but is not a bolometric
+ * correction.
+ *
+ * Returned (function value): BC_V in mag; NaN for a non-finite log_teff_k.
+ * Thread-safe, pure.
+ */
+HRT_API double hrt_bc_v(double log_teff_k);
+
+/**
+ * @brief Bolometric and V magnitudes of n states, absolute and (for a
+ * distance and an extinction) apparent.
+ *
+ * Given:
+ *   n            number of states
+ *   states       n states (from hrt_eval(), hrt_star_at(), hrt_isochrone(), ...)
+ *   distance_pc  distance, pc (finite, > 0); used only when mv is given
+ *   a_v_mag      extinction in V, A_V, mag (finite, >= 0); used only when mv is given
+ * Returned (each array of n entries, or NULL when not wanted):
+ *   abs_mbol     M_bol = 4.74 - 2.5 log10 L/Lsun (IAU 2015 Resolution B2:
+ *                M_bol = -2.5 log10(L / 3.0128e28 W))
+ *   bc_v         BC_V = hrt_bc_v(log_teff_k), mag
+ *   abs_mv       M_V = M_bol - BC_V
+ *   mv           apparent V, m_V = M_V + 5 log10(distance_pc / 10) + A_V
+ *   flags        the state's flags, with HRT_FLAG_BEYOND_LAW added when the
+ *                bolometric correction does not hold: Teff outside
+ *                HRT_BC_V_TEFF_MIN_K to HRT_BC_V_TEFF_MAX_K, or a remnant
+ *                (HRT_FLAG_REMNANT: a white dwarf's BC_V is not Flower's);
+ *                0 for a state whose status is not HRT_OK
+ *   err          code and message
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL (states NULL while n > 0), HRT_E_DOMAIN (mv given and
+ *   distance_pc not finite and positive, or a_v_mag not finite and >= 0).
+ * Notes:
+ *   1. A state whose status is not HRT_OK, or that has no finite L and Teff
+ *      (dark remnants, ages before the first EEP), gets NaN magnitudes; this
+ *      is not a failure of the call.  M_bol needs only L, so it is finite
+ *      whenever log_l_lsun is.
+ *   2. Magnitudes computed outside the relation's range are still written
+ *      (and flagged): a colour-magnitude diagram keeps its points, the caller
+ *      decides what to trust.
+ *   3. Reentrant, allocates nothing, any number of threads.
+ */
+HRT_API int hrt_magnitudes(size_t n, const hrt_state *states, double distance_pc, double a_v_mag, double *abs_mbol,
+                           double *bc_v, double *abs_mv, double *mv, int32_t *flags, hrt_error *err);
 
 #ifdef __cplusplus
 }

@@ -24,6 +24,11 @@
 /* log10 of the nominal solar Teff, 5772 K (IAU 2015 B3). */
 #define TRAIL_LOG_TEFF_SUN 3.7613263224214566
 
+/* Absolute bolometric magnitude of the nominal Sun, -2.5 log10(Lsun / L0)
+ * with L0 = HRT_MBOL_ZERO_POINT_W (IAU 2015 B2) and Lsun = HRT_LSUN_W (B3):
+ * 4.7399959..., the "4.74" of Resolution B2. */
+#define TRAIL_MBOL_SUN 4.739995933919459
+
 /* Upper end of the white dwarf mass-radius relation hrt_wd_radius_rsun()
  * uses (Eggleton's, with M_ch = 1.44 Msun): no white dwarf of this mass or
  * more can be described, so none is written, read or extrapolated to. */

@@ -1,6 +1,10 @@
 #!/usr/bin/python3
 """hrtrail plot: well-formed SVG (xmllint), rendered by rsvg-convert to a non-blank PNG, and a star's marker
-at the pixel its (log Teff, log L) maps to on the drawn axes."""
+at the pixel its (log Teff, log L) maps to on the drawn axes; with --y abs_mv or mv, at its V magnitude as
+'hrtrail at' writes it."""
+import csv
+import io
+import math
 import os
 import subprocess
 import xml.etree.ElementTree as ET
@@ -130,5 +134,37 @@ area = ET.parse(svg3).getroot().find(".//%srect[@id='plot-area']" % SVG)
 t.eq((float(area.get("data-log-teff-left")), float(area.get("data-log-teff-right")),
       float(area.get("data-log-l-bottom")), float(area.get("data-log-l-top"))), (4.2, 3.5, -1.0, 3.0),
      "--log-teff/--log-l set the axes")
+# ---- a magnitude-temperature diagram: the points' V magnitudes are those 'hrtrail at' writes,
+# drawn where the axes say, brighter upward; remnants and misuse refused or left out
+rc, csvtext, err = run(["at"] + G + ["--mass", "0.8,1,2.4,7", "--z", "0.014", "--age", "300Myr", "--csv",
+                                     "--distance", "320", "--av", "0.3"])
+rows_at = list(csv.DictReader(io.StringIO(csvtext)))
+t.eq((rc, len(rows_at)), (EXIT_OK, 4), "at --distance --av: four stars (%s)" % err)
+t.ok(all(abs(float(r["mv"]) - float(r["abs_mv"]) - (5 * math.log10(32.0) + 0.3)) < 1e-9 for r in rows_at
+         if r["mv"] not in ("", "nan")), "at: mv = abs_mv + 5 log10(d / 10 pc) + A_V")
+for yk, extra, col in (("abs_mv", [], "abs_mv"), ("mv", ["--distance", "320", "--av", "0.3"], "mv")):
+    msvg = os.path.join(d, "mags-%s.svg" % yk)
+    rc, out, err = run(["plot", "--points", "-", "--y", yk, "-o", msvg] + extra, stdin=csvtext)
+    t.eq((rc, err), (EXIT_OK, ""), "plot --y %s: exit code" % yk)
+    root = ET.parse(msvg).getroot()
+    yt, ymap = axis_map(root, "y-axis", "y1")
+    t.ok(all(b[1] > a[1] for a, b in zip(yt, yt[1:])), "--y %s: magnitudes grow downward %r" % (yk, yt))
+    circles = [e for e in root.iter(SVG + "circle") if e.get("class") == "point"]
+    want = [float(r[col]) for r in rows_at if r["phase"] not in ("wd", "ns", "bh") and r[col] not in ("", "nan")]
+    got = [float(c.get("data-" + yk.replace("_", "-"))) for c in circles]
+    t.ok(len(got) == len(want) and all(abs(a - b) < 1e-12 for a, b in zip(got, want)),
+         "--y %s: the points are the stars' %s as 'at' writes them (remnants left out): %r vs %r" % (yk, col, got, want))
+    t.ok(all(abs(float(c.get("cy")) - ymap(v)) < 0.01 for c, v in zip(circles, got)), "--y %s: markers where the axis says" % yk)
+    well_formed_and_rendered(msvg, "plot --y " + yk)
+for args, why in ((["--y", "mv"], "--y mv without --distance"), (["--y", "teff"], "an unknown --y"),
+                  (["--y", "abs_mv", "--distance", "10"], "--distance with --y abs_mv"),
+                  (["--av", "0.3", "--y", "mv"], "--av without --distance")):
+    rc, out, err = run(["plot", "--points", "-", "-o", os.path.join(d, "no.svg")] + args, stdin=csvtext)
+    t.ok(rc == 2 and out == "" and err.startswith("hrtrail plot:"), "plot %s refused: %d %r" % (why, rc, err))
+rc, out, err = run(["at"] + G + ["--mass", "1", "--age", "1Gyr", "--av", "0.2"])
+t.ok(rc == 2 and "--distance" in err, "at --av without --distance refused: %r" % err)
+rc, out, err = run(["at"] + G + ["--mass", "1", "--age", "1Gyr", "--distance", "-3"])
+t.ok(rc == 2 and "--distance" in err, "at --distance -3 refused: %r" % err)
+
 g.close()
 t.finish()

@@ -145,6 +145,7 @@ for args in (["--mass", "0.7,2.3,15", "--age", "1Myr,800Myr,5Gyr,100Gyr"], ["--i
             walk("at", json.loads(out), "at")
 both("track", ["track"] + G + ["--mass", "2.3", "--z", "0.008", "--ages", "10Myr,1Gyr,3Gyr"], table=True)
 both("isochrone", ["isochrone"] + G + ["--age", "100Myr,1Gyr"], table=True)
+both("isochrone --distance", ["isochrone"] + G + ["--age", "1Gyr", "--distance", "500", "--av", "0.2"], table=True)
 both("life", ["life"] + G + ["--mass", "1,15"], table=True)
 both("codes", ["codes"], table=True)
 both("grid info", ["grid", "info", grid])

@@ -95,6 +95,7 @@ program test_fortran
      call test_abi()
      call test_codes()
      call test_eval()
+     call test_magnitudes()
      call test_stars()
      call test_isochrones()
      call test_errors()
@@ -360,6 +361,45 @@ contains
     a(n + 1:) = [1e9_c_double, 1e9_c_double, nan, -5.0_c_double, 1e9_c_double, 1e9_c_double, &
          1e9_c_double, 0.0_c_double, inf, 1e9_c_double]
   end subroutine draw_stars
+
+  !> hrt_magnitudes and hrt_bc_v through the module's interfaces: the definitions of their header
+  !> (M_bol = 4.74 - 2.5 log L, IAU 2015 B2; M_V = M_bol - BC_V; m_V = M_V + 5 log10(d/10 pc) + A_V)
+  !> hold star by star, so an argument passed in the wrong place fails here.
+  subroutine test_magnitudes()
+    type(hrt_grid_t) :: g
+    real(c_double), allocatable :: m(:), z(:), a(:)
+    type(hrt_state), allocatable :: f(:)
+    real(c_double), allocatable, target :: mb(:), bc(:), mva(:), mv(:)
+    integer(c_int32_t), allocatable, target :: fl(:)
+    type(hrt_error) :: err
+    integer :: stat, rc, i, bad, lit
+    character(len=96) :: msg
+    real(c_double), parameter :: d = 850.0_c_double, av = 0.4_c_double
+    call hrtf_open(g, trim(grid_path), stat=stat)
+    if (stat /= HRT_OK) return
+    call draw_stars(g, 2000, m, z, a)
+    call hrtf_evaluate(g, m, a, z, f, stat)
+    allocate (mb(size(f)), bc(size(f)), mva(size(f)), mv(size(f)), fl(size(f)))
+    rc = hrt_magnitudes(int(size(f), c_size_t), f, d, av, c_loc(mb), c_loc(bc), c_loc(mva), c_loc(mv), c_loc(fl), err)
+    call expect(rc == HRT_OK .and. err%code == HRT_OK, 'hrt_magnitudes from Fortran returns HRT_OK')
+    bad = 0
+    lit = 0
+    do i = 1, size(f)
+       if (f(i)%status /= HRT_OK .or. iand(f(i)%flags, HRT_FLAG_DARK + HRT_FLAG_NOT_MODELLED) /= 0) cycle
+       lit = lit + 1
+       if (abs(mb(i) - (4.74_c_double - 2.5_c_double * f(i)%log_l_lsun)) > 1e-4_c_double) bad = bad + 1
+       if (abs(bc(i) - hrt_bc_v(f(i)%log_teff_k)) > 0.0_c_double) bad = bad + 1
+       if (abs(mva(i) - (mb(i) - bc(i))) > 1e-12_c_double) bad = bad + 1
+       if (abs(mv(i) - (mva(i) + 5.0_c_double * log10(d / 10.0_c_double) + av)) > 1e-9_c_double) bad = bad + 1
+       if (iand(fl(i), not(HRT_FLAG_BEYOND_LAW)) /= iand(f(i)%flags, not(HRT_FLAG_BEYOND_LAW))) bad = bad + 1
+    end do
+    write (msg, '(i0,a,i0,a)') bad, ' breaches in ', lit, ' luminous stars'
+    call expect(lit > 500 .and. bad == 0, 'hrt_magnitudes from Fortran follows its definitions: ' // trim(msg))
+    rc = hrt_magnitudes(1_c_size_t, f, -1.0_c_double, 0.0_c_double, c_null_ptr, c_null_ptr, c_null_ptr, c_loc(mv), &
+         c_null_ptr, err)
+    call expect(rc == HRT_E_DOMAIN .and. err%code == HRT_E_DOMAIN, 'hrt_magnitudes refuses a negative distance')
+    call hrtf_close(g)
+  end subroutine test_magnitudes
 
   subroutine test_eval()
     type(hrt_grid_t) :: g

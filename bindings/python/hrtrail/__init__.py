@@ -39,6 +39,7 @@ from ._clib import ABI_VERSION, AbiMismatchError, HrtError, HrtPhaseSpan, HrtSta
 from ._clib import library_path, text as _text
 from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, States, upgrade_grid
 from .core import collapse_remnant, wd_log_l, wd_radius_rsun
+from .core import BC_V_TEFF_RANGE_K, Magnitudes, bc_v, magnitudes
 from .enums import Flag, Interp, Phase, Remnant, Status, phase_from_key, remnant_from_key
 from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridError
 from .population import DEFAULT_HR, IMF, SFH, HRBinning, Population, Summary, ZDist, max_threads, merge
@@ -69,6 +70,7 @@ __all__ = [
     "PhaseSpan", "Remnant", "RemnantInfo", "STATE_DTYPE", "Star", "State", "States", "Status",
     "default_grid_path", "library_abi_version", "library_path", "upgrade_grid", "wd_log_l",
     "wd_radius_rsun", "collapse_remnant", "phase_from_key", "remnant_from_key",
+    "BC_V_TEFF_RANGE_K", "Magnitudes", "bc_v", "magnitudes",
     "DEFAULT_HR", "IMF", "SFH", "HRBinning", "Population", "Summary", "ZDist", "max_threads", "merge",
     "SAMPLE_DTYPE", "FitFlag", "FitModel", "FitResult", "Forecast", "Interval", "Observation", "distance_m",
     "flux_from_mbol", "forecast", "MainSequence", "MsDistance", "MsEstimate", "MsValue",

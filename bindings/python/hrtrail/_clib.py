@@ -384,6 +384,8 @@ def _declare(lib):
         "hrt_grid_open": (i, [cp, pvp, err]),
         "hrt_grid_boundary_at": (i, [vp, d, sz, pd]),
         "hrt_collapse_remnant": (i, [d, d, pi, pd]),
+        "hrt_bc_v": (d, [d]),
+        "hrt_magnitudes": (i, [sz, vp, d, d, vp, vp, vp, vp, vp, err]),
         # populations
         "hrt_imf_name": (cp, [i]),
         "hrt_imf_from_name": (i, [cp]),

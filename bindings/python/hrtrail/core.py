@@ -658,6 +658,65 @@ def collapse_remnant(co_core_mass_msun: Num, final_mass_msun: Num) -> RemnantInf
     return RemnantInfo(Remnant(k.value), m.value)
 
 
+#: Teff range (K) of the stars Flower's (1996) bolometric corrections were fitted to (HRT_BC_V_TEFF_MIN_K/MAX_K).
+BC_V_TEFF_RANGE_K = (2900.0, 52500.0)
+
+Magnitudes = collections.namedtuple("Magnitudes", "abs_mbol bc_v abs_mv mv flags")
+Magnitudes.__doc__ = """Magnitudes of states (hrt_magnitudes); NumPy arrays of the states' shape.
+
+abs_mbol  absolute bolometric magnitude, M_bol = 4.74 - 2.5 log10 L/Lsun (IAU 2015 B2)
+bc_v      bolometric correction in V, BC_V (Flower 1996 with the coefficients of Torres 2010), mag
+abs_mv    absolute V magnitude, M_V = M_bol - BC_V
+mv        apparent V magnitude, M_V + 5 log10(distance_pc / 10) + A_V (NaN without a distance)
+flags     the states' Flag bits, with Flag.BEYOND_LAW where BC_V was not fitted (Teff outside
+          BC_V_TEFF_RANGE_K, or a remnant); 0 for a state whose status is not OK"""
+
+
+def bc_v(log_teff_k: Num) -> float:
+    """Bolometric correction in Johnson V, BC_V = M_bol - M_V (mag), at log10 Teff/K (hrt_bc_v): the
+    polynomials of Flower (1996, ApJ 469, 355) with the coefficients reprinted by Torres (2010, AJ 140,
+    1158).  Fitted to stars of 2900-52500 K (BC_V_TEFF_RANGE_K); within about 0.06 mag of the mean B3-K5
+    dwarfs of Pecaut & Mamajek (2013), 0.2 mag or more off for M dwarfs; outside the range the
+    polynomial is returned but is no bolometric correction.  NaN for a non-finite argument."""
+    return lib.hrt_bc_v(_u.value(log_teff_k, "fraction", "log_teff_k"))
+
+
+def magnitudes(states, distance_pc: Optional[Num] = None, a_v_mag: Num = 0.0) -> Magnitudes:
+    """Bolometric and V magnitudes of states (hrt_magnitudes): a STATE_DTYPE array (Grid.evaluate,
+    Grid.isochrone, Star.track), one of its records, or a State.
+
+    distance_pc  distance (pc, > 0; or an astropy Quantity) for the apparent magnitude mv; None: mv is NaN
+    a_v_mag      extinction A_V (mag, >= 0), added to mv
+
+    Returns Magnitudes (arrays of the states' shape).  States without a finite L and Teff, or whose
+    status is not OK, get NaN.  InvalidInputError for a distance not finite and positive or A_V < 0."""
+    _need_numpy("magnitudes")
+    if isinstance(states, State):
+        a = _np.zeros((), dtype=STATE_DTYPE)
+        for n in State.__slots__:
+            a[n] = int(getattr(states, n)) if n in ("status", "phase", "route", "remnant", "flags") else \
+                getattr(states, n)
+        a["struct_size"] = _STATE_SIZE
+    else:
+        a = _np.asarray(states)
+        if a.dtype != STATE_DTYPE:
+            raise InvalidInputError(Status.DOMAIN, "magnitudes: states must be a STATE_DTYPE array or a State, "
+                                    "not %r" % (a.dtype if isinstance(states, _np.ndarray) else type(states).__name__))
+    a = _np.require(a, requirements="C")  # keeps a 0-d array 0-d
+    n = a.size
+    mb, bc, ma, mv = (_np.empty(a.shape) for _ in range(4))
+    fl = _np.empty(a.shape, dtype=_np.int32)
+    d = _u.value(distance_pc, "distance", "distance_pc") if distance_pc is not None else 10.0
+    av = _u.value(a_v_mag, "magnitude", "a_v_mag")
+    e, pe = new_error()
+    check(lib.hrt_magnitudes(n, a.ctypes.data if n else None, d, av, mb.ctypes.data, bc.ctypes.data,
+                             ma.ctypes.data, mv.ctypes.data if distance_pc is not None else None, fl.ctypes.data, pe),
+          e, "hrt_magnitudes")
+    if distance_pc is None:
+        mv.fill(_np.nan)
+    return Magnitudes(mb, bc, ma, mv, fl)
+
+
 def upgrade_grid(old_path: PathArg, new_path: PathArg) -> None:
     """Convert a grid file of an older format version to the current one (hrt_grid_upgrade).
 

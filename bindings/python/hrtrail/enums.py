@@ -54,7 +54,7 @@ class Flag(enum.IntFlag):
     REMNANT = 0x2       #: past the last EEP: the state is the analytic remnant
     EXTRAPOLATED = 0x4  #: mass slightly outside its route's tracks: linear extrapolation
     NOT_MODELLED = 0x8  #: before the zero-age main sequence: only phase and masses are set
-    BEYOND_LAW = 0x10  #: an analytic remnant outside the range where its law holds (white dwarf above 0.1 or below 10^-4.5 Lsun)
+    BEYOND_LAW = 0x10  #: an analytic remnant outside the range where its law holds (white dwarf above 0.1 or below 10^-4.5 Lsun); from magnitudes(): BC_V not fitted there
 
 
 def _scan(key_fn):

@@ -198,6 +198,63 @@ def random_population(rng, grid):
     return pop, ages, args
 
 
+class Magnitudes(Base):
+    """hrtrail.magnitudes and bc_v against the command line (at --vmag --distance --av) on random stars,
+    bit for bit, and against the definitions; the Sun against IAU 2015 B2 and Torres (2010)."""
+
+    def test_random_states_match_the_command_line(self):
+        rng = random.Random(SEED + 7)
+        n = 300
+        mass = [10 ** rng.uniform(-0.9, 1.6) for _ in range(n)]
+        age = [10 ** rng.uniform(6.0, 10.1) for _ in range(n)]
+        z = [rng.choice([0.001, 0.004, 0.014, 0.02]) for _ in range(n)]
+        d, av = 10 ** rng.uniform(0.5, 4.5), rng.uniform(0.0, 2.0)
+        st = self.grid.evaluate(mass, age, z, errors="ignore")
+        m = hrtrail.magnitudes(st, distance_pc=d, a_v_mag=av)
+        csv = os.path.join(self.tmp.name, "mag-stars.csv")
+        with open(csv, "w") as f:
+            f.write("initial_mass_msun,age_yr,z\n")
+            for i in range(n):
+                f.write("%r,%r,%r\n" % (mass[i], age[i], z[i]))
+        doc, _ = cli_json("at", "--input", csv, "--keep-going", "--vmag", "--distance", repr(d), "--av", repr(av))
+        self.assertEqual(len(doc), n)
+        finite = 0
+        for i, rec in enumerate(doc):
+            for key, col in (("abs_mbol", m.abs_mbol), ("bc_v", m.bc_v), ("abs_mv", m.abs_mv), ("mv", m.mv)):
+                self.assertTrue(same(rec[key], col[i]), "star %d (%r Msun, %r yr, Z %r): %s CLI %r, Python %r"
+                                % (i, mass[i], age[i], z[i], key, rec[key], col[i]))
+            self.assertEqual("bc-uncalibrated" in rec["flags"], bool(m.flags[i] & hrtrail.Flag.BEYOND_LAW)
+                             and math.isfinite(m.bc_v[i]), "star %d flags %r" % (i, rec["flags"]))
+            if math.isfinite(m.abs_mv[i]):
+                finite += 1
+                # the definitions (header of hrt_magnitudes): exact to rounding
+                self.assertAlmostEqual(m.abs_mbol[i], 4.739995933919459 - 2.5 * st["log_l_lsun"][i], delta=1e-12)
+                self.assertEqual(m.bc_v[i], hrtrail.bc_v(st["log_teff_k"][i]))
+                self.assertAlmostEqual(m.abs_mv[i], m.abs_mbol[i] - m.bc_v[i], delta=1e-12)
+                self.assertAlmostEqual(m.mv[i], m.abs_mv[i] + 5 * math.log10(d / 10) + av, delta=1e-9)
+                lo, hi = (math.log10(t) for t in hrtrail.BC_V_TEFF_RANGE_K)
+                outside = not lo <= st["log_teff_k"][i] <= hi or st["flags"][i] & hrtrail.Flag.REMNANT
+                self.assertEqual(bool(m.flags[i] & hrtrail.Flag.BEYOND_LAW), bool(outside))
+        self.assertGreater(finite, n // 2)
+
+    def test_sun_and_arguments(self):
+        sun = np.zeros((), dtype=hrtrail.STATE_DTYPE)
+        sun["log_l_lsun"], sun["log_teff_k"] = 0.0, math.log10(5772.0)
+        m = hrtrail.magnitudes(sun, distance_pc=10.0)
+        self.assertAlmostEqual(float(m.abs_mbol), 4.74, delta=1e-4)  # IAU 2015 Resolution B2
+        # Torres (2010, AJ 140, 1158) [read: abstract] V_sun = -26.76 +- 0.03, i.e. M_V,sun = 4.81 +- 0.03
+        self.assertAlmostEqual(float(m.abs_mv), -26.76 + 31.572, delta=0.03)
+        self.assertEqual(float(m.mv), float(m.abs_mv))
+        self.assertTrue(math.isnan(float(hrtrail.magnitudes(sun).mv)))
+        for bad in ({"distance_pc": -1.0}, {"distance_pc": 0.0}, {"distance_pc": 10.0, "a_v_mag": -0.5}):
+            with self.assertRaises(hrtrail.InvalidInputError):
+                hrtrail.magnitudes(sun, **bad)
+        with self.assertRaises(hrtrail.InvalidInputError):
+            hrtrail.magnitudes(np.zeros(3))
+        if u is not None:  # astropy distances
+            self.assertEqual(float(hrtrail.magnitudes(sun, distance_pc=1 * u.kpc).mv), float(m.abs_mv) + 10.0)
+
+
 class Populations(Base):
     def test_equal_to_the_command_line_on_random_cases(self):
         rng = random.Random(SEED)
