@@ -518,7 +518,9 @@ HRT_API int hrt_accuracy_set_progress(hrt_accuracy *acc, void (*progress)(void *
  *      are |interpolated - track| at each EEP, grouped by the phase the
  *      track gives that EEP.
  *   2. Quantiles are nearest-rank: the sorted value at
- *      floor(q (n - 1) + 0.5).
+ *      floor(q (n - 1) + 0.5).  Of equal largest errors the worst track
+ *      named is the one of lowest Z, then mass, then EEP, so that the
+ *      result does not depend on the number of threads.
  *   3. A dropped track's neighbours are farther apart than the grid's
  *      spacing, so the errors bound from above those of a star between two
  *      tracks of the full grid (roughly 2^k times, k the order of the

@@ -144,13 +144,26 @@ int trail_acc_record(hrt_accuracy *acc, int it, int r, const trail_acc_point *pt
     return HRT_OK;
 }
 
+/* Whether point a is a worse error of quantity q than b; ties go to the lower
+ * Z, mass and EEP, so that the answer does not depend on the threads' order. */
+static int worse(const trail_acc_point *a, const trail_acc_point *b, int q)
+{
+    if (a->e[q] != b->e[q])
+        return a->e[q] > b->e[q];
+    if (a->z != b->z)
+        return a->z < b->z;
+    if (a->m != b->m)
+        return a->m < b->m;
+    return a->eep < b->eep;
+}
+
 /* Median, 95th percentile and maximum of quantity q (nearest rank), and where the maximum is. */
 static void cell_stats(const acc_cell *c, int q, double *buf, hrt_accuracy_row *row)
 {
     size_t worst = 0;
     for (size_t i = 0; i < c->n; i++) {
         buf[i] = c->p[i].e[q];
-        if (c->p[i].e[q] > c->p[worst].e[q])
+        if (worse(&c->p[i], &c->p[worst], q))
             worst = i;
     }
     qsort(buf, c->n, sizeof *buf, trail_cmp_double);

@@ -44,7 +44,7 @@ from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridE
 from .population import DEFAULT_HR, IMF, SFH, HRBinning, Population, Summary, ZDist, max_threads, merge
 from .fit import (SAMPLE_DTYPE, FitFlag, FitModel, FitResult, Forecast, Interval, Observation, distance_m,
                   flux_from_mbol, forecast)
-from .build import (Builder, ImportReport, Importer, KeypointResult, RouteSpec, TrackReport, default_route,
+from .build import (accuracy, Builder, ImportReport, Importer, KeypointResult, RouteSpec, TrackReport, default_route,
                     default_routes, keypoints_find, keypoints_route)
 from .convert import fits_to_pandas, samples_to_pandas, to_pandas, to_table
 
@@ -71,7 +71,7 @@ __all__ = [
     "DEFAULT_HR", "IMF", "SFH", "HRBinning", "Population", "Summary", "ZDist", "max_threads", "merge",
     "SAMPLE_DTYPE", "FitFlag", "FitModel", "FitResult", "Forecast", "Interval", "Observation", "distance_m",
     "flux_from_mbol", "forecast",
-    "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
+    "accuracy", "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
     "default_routes", "keypoints_find", "keypoints_route",
     "fits_to_pandas", "samples_to_pandas", "to_pandas", "to_table",
 ]
