@@ -262,6 +262,9 @@ START_TEST(errors_have_codes_and_messages)
     ck_assert_uint_eq(hrt_accuracy_n_rows(a), 0);
     ck_assert_uint_eq(hrt_accuracy_n_rows(NULL), 0);
     ck_assert_int_eq(hrt_accuracy_row_at(a, 0, &(hrt_accuracy_row){0}), HRT_E_INVALID);
+    ck_assert_int_eq(hrt_accuracy_set_z(a, -1.0, &err), HRT_E_DOMAIN);
+    ck_assert_int_eq(hrt_accuracy_set_z(a, INFINITY, &err), HRT_E_DOMAIN);
+    ck_assert_int_eq(hrt_accuracy_set_z(NULL, NAN, &err), HRT_E_NULL);
     /* two tracks per route: none is interior */
     synth_spec thin = spec;
     thin.n_low = thin.n_high = 2;
@@ -270,6 +273,25 @@ START_TEST(errors_have_codes_and_messages)
     ck_assert_int_eq(hrt_accuracy_run(a, g, &err), HRT_E_INVALID);
     ck_assert_int_eq(err.code, HRT_E_INVALID);
     ck_assert_ptr_nonnull(strstr(err.message, "three tracks"));
+    hrt_grid_close(g);
+    /* a metallicity the grid does not hold */
+    g = synth_grid(&spec, "noz");
+    ck_assert_int_eq(hrt_accuracy_set_z(a, 0.5, &err), HRT_OK);
+    ck_assert_int_eq(hrt_accuracy_run(a, g, &err), HRT_E_Z_RANGE);
+    ck_assert_ptr_nonnull(strstr(err.message, "no metallicity group"));
+    /* one that it does: every worst track is of that Z */
+    double z1 = hrt_grid_z(g, 1);
+    ck_assert_int_eq(hrt_accuracy_set_z(a, z1, &err), HRT_OK);
+    ck_assert_int_eq(hrt_accuracy_set_interp(a, HRT_INTERP_LINEAR, &err), HRT_OK);
+    ck_assert_int_eq(hrt_accuracy_run(a, g, &err), HRT_OK);
+    ck_assert_uint_gt(hrt_accuracy_n_rows(a), 0);
+    for (size_t i = 0; i < hrt_accuracy_n_rows(a); i++) {
+        hrt_accuracy_row w;
+        ck_assert_int_eq(hrt_accuracy_row_at(a, i, &w), HRT_OK);
+        for (int q = 0; q < HRT_ACCURACY_NQ; q++)
+            ck_assert_double_eq(w.worst_z[q], z1);
+    }
+    ck_assert_int_eq(hrt_accuracy_set_z(a, NAN, &err), HRT_OK);
     hrt_grid_close(g);
     /* a temporary directory that cannot be written */
     g = synth_grid(&spec, "tmpdir");

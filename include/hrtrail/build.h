@@ -492,6 +492,13 @@ HRT_API int hrt_accuracy_set_interp(hrt_accuracy *acc, int interp, hrt_error *er
  */
 HRT_API int hrt_accuracy_set_threads(hrt_accuracy *acc, int n, hrt_error *err);
 /**
+ * @brief Measure one metallicity only: the group whose Z equals z (relative
+ * 1e-9), or NaN for every group (the default).  hrt_accuracy_run() fails
+ * with HRT_E_Z_RANGE when the grid has no such group.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (z <= 0 or infinite).
+ */
+HRT_API int hrt_accuracy_set_z(hrt_accuracy *acc, double z, hrt_error *err);
+/**
  * Callback after each dropped track: (user, tracks done, tracks in total).
  * Called from one thread at a time, not necessarily the caller's. May be NULL.
  */
@@ -505,7 +512,8 @@ HRT_API int hrt_accuracy_set_progress(hrt_accuracy *acc, void (*progress)(void *
  * Returned: acc holds one hrt_accuracy_row per interpolation type, route
  *          and phase (hrt_accuracy_n_rows, hrt_accuracy_row_at).
  * Returned (function value):
- *   HRT_OK; HRT_E_NULL; HRT_E_INVALID (no route of any metallicity has
+ *   HRT_OK; HRT_E_NULL; HRT_E_Z_RANGE (hrt_accuracy_set_z() named a
+ *   metallicity the grid does not hold); HRT_E_INVALID (no route of any metallicity has
  *   three tracks, so no track is interior); HRT_E_IO (a rebuilt grid
  *   cannot be written in $TMPDIR or /tmp); HRT_E_NOMEM; any code of the
  *   builder or of hrt_grid_open_with() on a rebuilt group, with its message.

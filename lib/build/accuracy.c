@@ -135,7 +135,7 @@ static int ctx_groups(acc_ctx *c, hrt_error *err)
 {
     c->n_groups = hrt_grid_n_z(c->g);
     c->grp = calloc(c->n_groups, sizeof *c->grp);
-    size_t total = 0;
+    size_t total = 0, taken = 0;
     for (size_t iz = 0; iz < c->n_groups; iz++)
         total += hrt_grid_n_masses(c->g, iz);
     c->jobs = malloc((total ? total : 1) * sizeof *c->jobs);
@@ -145,6 +145,9 @@ static int ctx_groups(acc_ctx *c, hrt_error *err)
         acc_group *G = &c->grp[iz];
         G->z = hrt_grid_z(c->g, iz);
         G->nm = hrt_grid_n_masses(c->g, iz);
+        if (!trail_acc_takes_z(c->acc, G->z))
+            continue; /* no tracks read: no jobs */
+        taken++;
         G->tr = calloc(G->nm ? G->nm : 1, sizeof *G->tr);
         if (!G->tr)
             return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
@@ -159,6 +162,8 @@ static int ctx_groups(acc_ctx *c, hrt_error *err)
             if (interior(G, k))
                 c->jobs[c->n_jobs++] = (acc_job){iz, k};
     }
+    if (!taken)
+        return trail_set_error(err, HRT_E_Z_RANGE, "hrt_accuracy_run: the grid has no metallicity group of the Z chosen");
     if (!c->n_jobs)
         return trail_set_error(err, HRT_E_INVALID,
                                "hrt_accuracy_run: no route of any metallicity has three tracks, so no track "

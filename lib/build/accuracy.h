@@ -15,6 +15,8 @@ typedef struct trail_acc_point {
 
 /* Whether interpolation type it is measured. */
 int trail_acc_wants(const hrt_accuracy *acc, int it);
+/* Whether the group of metallicity z is measured. */
+int trail_acc_takes_z(const hrt_accuracy *acc, double z);
 /* Threads asked (0: OpenMP's default). */
 int trail_acc_threads(const hrt_accuracy *acc);
 /* The progress callback and its user pointer. */

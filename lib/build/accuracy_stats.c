@@ -16,6 +16,7 @@ typedef struct acc_cell {
 struct hrt_accuracy {
     int interp;  /* -1: every type */
     int threads; /* 0: OpenMP's default */
+    double z;    /* NaN: every metallicity */
     void (*progress)(void *, size_t, size_t);
     void *user;
     size_t nr;
@@ -33,6 +34,7 @@ int hrt_accuracy_new(hrt_accuracy **acc, hrt_error *err)
     if (!*acc)
         return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_new: out of memory");
     (*acc)->interp = -1;
+    (*acc)->z = NAN;
     return HRT_OK;
 }
 
@@ -77,6 +79,18 @@ int hrt_accuracy_set_threads(hrt_accuracy *acc, int n, hrt_error *err)
     acc->threads = n;
     return HRT_OK;
 }
+
+int hrt_accuracy_set_z(hrt_accuracy *acc, double z, hrt_error *err)
+{
+    if (!acc)
+        return trail_set_error(err, HRT_E_NULL, "hrt_accuracy_set_z: acc is NULL");
+    if (!isnan(z) && !(z > 0 && isfinite(z)))
+        return trail_set_error(err, HRT_E_DOMAIN, "hrt_accuracy_set_z: Z = %g (give Z > 0, or NaN for every group)", z);
+    acc->z = z;
+    return HRT_OK;
+}
+
+int trail_acc_takes_z(const hrt_accuracy *acc, double z) { return isnan(acc->z) || fabs(z / acc->z - 1) <= 1e-9; }
 
 int hrt_accuracy_set_progress(hrt_accuracy *acc, void (*progress)(void *user, size_t done, size_t total), void *user)
 {

@@ -438,7 +438,8 @@ def _accuracy_record(grid, r) -> dict:
     return rec
 
 
-def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[int, int], None]] = None) -> List[dict]:
+def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[int, int], None]] = None,
+             z=None) -> List[dict]:
     """Leave-one-out interpolation accuracy of a grid (hrt_accuracy_run).
 
     Each interior track of each route is dropped in turn, its metallicity
@@ -452,7 +453,8 @@ def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[i
     grid: a Grid (or a path, opened for the run); interp: a type ('steffen',
     'linear', 'cspline', 'akima' or an Interp), None for all four; threads:
     0 for every core; progress: called as progress(done, total) after each
-    dropped track (from a worker thread; exceptions are ignored).
+    dropped track (from a worker thread; exceptions are ignored); z: one
+    metallicity group of the grid only (None: every group).
     """
     from .core import Grid
     own = not isinstance(grid, Grid)
@@ -469,6 +471,9 @@ def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[i
         check(lib.hrt_accuracy_set_interp(h, code, pe), e, "hrt_accuracy_set_interp")
         e, pe = new_error()
         check(lib.hrt_accuracy_set_threads(h, int(threads), pe), e, "hrt_accuracy_set_threads")
+        e, pe = new_error()
+        zv = float("nan") if z is None else _u.value(z, "fraction", "z")
+        check(lib.hrt_accuracy_set_z(h, zv, pe), e, "hrt_accuracy_set_z")
         cb = None
         if progress is not None:
             def _cb(user, done, total):

@@ -483,6 +483,17 @@ class Accuracy(unittest.TestCase):
         with self.assertRaises(hrtrail.InvalidInputError) as cm:
             hrtrail.accuracy(self.path, threads=-1)
         self.assertIn("threads", str(cm.exception))
+        with self.assertRaises(hrtrail.OutsideGridError):
+            hrtrail.accuracy(self.path, z=0.5)
+
+    def test_one_metallicity(self):
+        with hrtrail.Grid(self.path) as g:
+            z0 = g.z_values[0]
+            rows = g.accuracy(interp="linear", z=z0)
+        self.assertTrue(rows)
+        for a in rows:
+            for q in ("log_l", "log_teff", "log_age"):
+                self.assertEqual(a[q + "_worst_z"], z0)
 
 
 if __name__ == "__main__":
