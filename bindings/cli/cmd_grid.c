@@ -610,7 +610,8 @@ int cmd_grid(cli *c, argparse *p)
     if (rc) return rc;
     if (!action)
         return cli_fail(c, CLI_EXIT_USAGE,
-                        "say 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade OLD NEW' (see hrtrail grid --help)");
+                        "say 'hrtrail grid info', 'hrtrail grid check', 'hrtrail grid accuracy' or 'hrtrail grid upgrade OLD NEW' "
+                        "(see hrtrail grid --help)");
     if (!strcmp(action, "upgrade")) {
         c->cmd = "grid upgrade";
         if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "--grid does not apply: give the files as 'hrtrail grid upgrade OLD NEW'");
