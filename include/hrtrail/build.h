@@ -533,8 +533,15 @@ HRT_API int hrt_accuracy_set_progress(hrt_accuracy *acc, void (*progress)(void *
  *      spacing, so the errors bound from above those of a star between two
  *      tracks of the full grid (roughly 2^k times, k the order of the
  *      interpolation: about 4 for linear, up to 16 for cubic types).
- *   4. Time: one write and open per dropped track and type; on the default
- *      grid see DEVELOPERS.md.
+ *   4. The rebuilt group holds the dropped track's route only: for the
+ *      local types (steffen, linear, akima) the four tracks either side of
+ *      it, which give the same interpolated values as the whole group (each
+ *      value depends on at most three tracks either side; tests/
+ *      test_accuracy.c compares with whole-group rebuilds); for cspline,
+ *      which is global, the whole route.
+ *   5. The run writes and opens grids (HDF5): as for hrt_grid_open(), open
+ *      no grid in another thread while it runs.  Time: on the default grid
+ *      see DEVELOPERS.md.
  */
 HRT_API int hrt_accuracy_run(hrt_accuracy *acc, const hrt_grid *g, hrt_error *err);
 /** Number of rows of the last run (0 before one). */

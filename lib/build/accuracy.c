@@ -14,6 +14,7 @@
 #endif
 
 #include "build/accuracy.h"
+#include "build/builder.h"
 #include "util/schema.h"
 #include "util/util.h"
 
@@ -272,7 +273,7 @@ static int job_pass(acc_ctx *c, const acc_job *J, int global, hrt_error *err)
     hrt_grid *h[HRT_INTERP_COUNT] = {NULL};
 #pragma omp critical
     {
-        rc = hrt_builder_write(b, path, err);
+        rc = trail_builder_write_scratch(b, path, err);
         for (int it = 0; it < HRT_INTERP_COUNT && rc == HRT_OK; it++)
             if (trail_acc_wants(c->acc, it) && (it == HRT_INTERP_CSPLINE) == global)
                 rc = hrt_grid_open_with(path, it, &h[it], err);
