@@ -1139,226 +1139,68 @@ START_TEST(wd_handover)
 END_TEST
 
 /* ------------------------------------------------------------------------
- * Leave-one-out: smoothness in mass inside each route.
+ * Leave-one-out: smoothness in mass inside each route (hrt_accuracy_run).
  * ------------------------------------------------------------------------ */
-typedef struct eep_track {
-    double m;
-    int route, remnant;
-    double remnant_mass;
-    size_t n;
-    double *la, *ll, *lt, *mass, *he, *co;
-    int *ph;
-} eep_track;
-
-static void read_track(const hrt_grid *g, size_t iz, size_t im, eep_track *t)
-{
-    hrt_star *s = new_star(g, hrt_grid_mass(g, iz, im), hrt_grid_z(g, iz));
-    t->m = hrt_grid_mass(g, iz, im);
-    t->route = hrt_grid_track_route(g, iz, im);
-    ck_assert_int_eq(hrt_star_remnant(s, &t->remnant, &t->remnant_mass), HRT_OK);
-    t->n = hrt_star_n_eep(s);
-    t->la = malloc(t->n * sizeof(double));
-    t->ll = malloc(t->n * sizeof(double));
-    t->lt = malloc(t->n * sizeof(double));
-    t->mass = malloc(t->n * sizeof(double));
-    t->he = malloc(t->n * sizeof(double));
-    t->co = malloc(t->n * sizeof(double));
-    t->ph = malloc(t->n * sizeof(int));
-    ck_assert(t->la && t->ll && t->lt && t->mass && t->he && t->co && t->ph);
-    for (size_t j = 0; j < t->n; j++) {
-        hrt_state st;
-        ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
-        t->la[j] = log10(st.age_yr);
-        t->ll[j] = st.log_l_lsun;
-        t->lt[j] = st.log_teff_k;
-        t->mass[j] = st.mass_msun;
-        t->he[j] = st.he_core_mass_msun;
-        t->co[j] = st.co_core_mass_msun;
-        t->ph[j] = st.phase;
-    }
-    hrt_star_free(s);
-}
-
-static void free_track(eep_track *t)
-{
-    free(t->la);
-    free(t->ll);
-    free(t->lt);
-    free(t->mass);
-    free(t->he);
-    free(t->co);
-    free(t->ph);
-}
-
-static int cmp_d(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
-typedef struct err_list {
-    double *v;
-    size_t n, cap;
-} err_list;
-
-static void err_push(err_list *e, double v)
-{
-    if (e->n == e->cap) {
-        e->cap = e->cap ? 2 * e->cap : 256;
-        e->v = realloc(e->v, e->cap * sizeof(double));
-        ck_assert_ptr_nonnull(e->v);
-    }
-    e->v[e->n++] = v;
-}
-
-static double quantile(err_list *e, double q)
-{
-    if (!e->n)
-        return NAN;
-    qsort(e->v, e->n, sizeof(double), cmp_d);
-    return e->v[(size_t)floor(q * (double)(e->n - 1) + 0.5)];
-}
-
-/* Rebuild group iz without track `skip` and predict it; errors per phase. */
-static void loo_group(const hrt_grid *g, size_t iz, err_list el[HRT_PHASE_SLOTS], err_list et[HRT_PHASE_SLOTS],
-                      err_list ea[HRT_PHASE_SLOTS], double *worst_mf)
-{
-    size_t nr = hrt_grid_n_routes(g), nm = hrt_grid_n_masses(g, iz);
-    double z = hrt_grid_z(g, iz);
-    hrt_route_spec specs[8];
-    const char *names[8][16];
-    int segs[8][16];
-    ck_assert_uint_le(nr, 8);
-    for (size_t r = 0; r < nr; r++) {
-        size_t k = hrt_grid_route_n_keypoints(g, r);
-        ck_assert_uint_le(k, 16);
-        for (size_t i = 0; i < k; i++) {
-            names[r][i] = hrt_grid_keypoint_name(g, r, i);
-            if (i + 1 < k)
-                segs[r][i] = (int)(hrt_grid_keypoint_eep(g, r, i + 1) - hrt_grid_keypoint_eep(g, r, i));
-        }
-        specs[r] = (hrt_route_spec){hrt_grid_route_name(g, r), k, names[r], segs[r]};
-    }
-    double bnd[8];
-    for (size_t b = 0; b + 1 < nr; b++)
-        bnd[b] = hrt_grid_route_boundary(g, iz, b);
-    eep_track *tr = calloc(nm, sizeof *tr);
-    ck_assert_ptr_nonnull(tr);
-    for (size_t im = 0; im < nm; im++)
-        read_track(g, iz, im, &tr[im]);
-
-    char path[256];
-    const char *tmp = getenv("TMPDIR");
-    snprintf(path, sizeof path, "%s/hrtrail-loo-%ld.h5", tmp && *tmp ? tmp : "/tmp", (long)getpid());
-    for (size_t k = 1; k + 1 < nm; k++) {
-        /* interior tracks of a route only: no extrapolation */
-        if (tr[k - 1].route != tr[k].route || tr[k + 1].route != tr[k].route)
-            continue;
-        hrt_builder *b = NULL;
-        hrt_error err = {0};
-        ck_assert_int_eq(hrt_builder_new(nr, specs, hrt_grid_z_ref(g), &b, &err), HRT_OK);
-        for (size_t im = 0; im < nm; im++) {
-            if (im == k)
-                continue;
-            hrt_track_data d = {.initial_mass_msun = tr[im].m, .route = tr[im].route, .remnant = tr[im].remnant,
-                                .remnant_mass_msun = tr[im].remnant_mass, .n = tr[im].n, .log_age_yr = tr[im].la,
-                                .log_l_lsun = tr[im].ll, .log_teff_k = tr[im].lt, .log_r_rsun = NULL,
-                                .mass_msun = tr[im].mass, .he_core_mass_msun = tr[im].he, .co_core_mass_msun = tr[im].co,
-                                .phase = tr[im].ph};
-            int rc = hrt_builder_add_eep_track(b, z, &d, &err);
-            ck_assert_msg(rc == HRT_OK, "add_eep_track: %s", err.message);
-        }
-        ck_assert_int_eq(hrt_builder_set_route_boundaries(b, z, bnd, &err), HRT_OK);
-        int rc = hrt_builder_write(b, path, &err);
-        ck_assert_msg(rc == HRT_OK, "builder_write: %s", err.message);
-        hrt_builder_free(b);
-        hrt_grid *h = NULL;
-        rc = hrt_grid_open(path, &h, &err);
-        ck_assert_msg(rc == HRT_OK, "open LOO grid: %s", err.message);
-        hrt_star *s = new_star(h, tr[k].m, z);
-        size_t n = hrt_star_n_eep(s) < tr[k].n ? hrt_star_n_eep(s) : tr[k].n;
-        for (size_t j = 0; j < n; j++) {
-            hrt_state st;
-            ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
-            int p = tr[k].ph[j];
-            if (p <= HRT_PHASE_UNKNOWN || p >= HRT_PHASE_SLOTS)
-                continue;
-            err_push(&el[p], fabs(st.log_l_lsun - tr[k].ll[j]));
-            err_push(&et[p], fabs(st.log_teff_k - tr[k].lt[j]));
-            err_push(&ea[p], fabs(log10(st.age_yr) - tr[k].la[j]));
-        }
-        int kind;
-        double mr;
-        ck_assert_int_eq(hrt_star_remnant(s, &kind, &mr), HRT_OK);
-        /* white-dwarf masses where both neighbours leave the same kind; across a
-         * change of kind (CO to ONe near 6 Msun) the library takes the nearest
-         * track's mass, which is its rule, not the grid's smoothness */
-        int same_kind = tr[k - 1].remnant == tr[k].remnant && tr[k + 1].remnant == tr[k].remnant;
-        if (kind >= HRT_REMNANT_HE_WD && kind <= HRT_REMNANT_ONE_WD) {
-            if (same_kind)
-                *worst_mf = fmax(*worst_mf, fabs(mr - tr[k].remnant_mass));
-            else
-                printf("  (remnant kind changes at %g Msun: predicted %.4f, track %.4f Msun)\n", tr[k].m, mr,
-                       tr[k].remnant_mass);
-        }
-        hrt_star_free(s);
-        hrt_grid_close(h);
-    }
-    unlink(path);
-    for (size_t im = 0; im < nm; im++)
-        free_track(&tr[im]);
-    free(tr);
-}
 
 /* Leave-one-out at Z = 0.014 and Z = 0.001: each interior track of each route is
- * dropped and predicted from the rest.  Smooth quantities give small errors;
- * a jump inside a route would show as an error as large as the jump.
- * Bounds [engineering choice]: median |d log L| <= 0.05 dex, median
- * |d log Teff| <= 0.02 dex and median |d log age| <= 0.02 dex in every phase;
- * 95th percentiles within 4 times those (0.25 dex in Teff for blue, red and
+ * dropped and predicted from the rest by the library's own tool.  Smooth
+ * quantities give small errors; a jump inside a route would show as an error as
+ * large as the jump.
+ * Bounds [engineering choice], per route and phase: median |d log L| <= 0.05 dex,
+ * median |d log Teff| <= 0.02 dex and median |d log age| <= 0.02 dex; 95th
+ * percentiles within 4 times those (0.25 dex in Teff for blue, red and
  * Wolf-Rayet supergiants, which bifurcate at the Humphreys-Davidson limit);
  * white-dwarf masses within 0.03 Msun. */
 START_TEST(leave_one_out)
 {
     hrt_grid *g = open_grid();
     static const double zs[] = {Z_SUN, 0.001};
+    hrt_accuracy *a = NULL;
+    hrt_error err;
+    ck_assert_int_eq(hrt_accuracy_new(&a, &err), HRT_OK);
+    ck_assert_int_eq(hrt_accuracy_set_interp(a, HRT_INTERP_STEFFEN, &err), HRT_OK);
     for (int iz_i = 0; iz_i < 2; iz_i++) {
-        size_t iz = 0;
-        for (size_t i = 0; i < hrt_grid_n_z(g); i++)
-            if (fabs(hrt_grid_z(g, i) / zs[iz_i] - 1) < 1e-9)
-                iz = i;
-        err_list el[HRT_PHASE_SLOTS] = {{0}}, et[HRT_PHASE_SLOTS] = {{0}}, ea[HRT_PHASE_SLOTS] = {{0}};
-        double worst_mf = 0;
-        loo_group(g, iz, el, et, ea, &worst_mf);
-        printf("leave-one-out, Z = %g: |error| median / 95th percentile / max per phase\n", hrt_grid_z(g, iz));
-        printf("  %-10s %6s  %-23s %-23s %-23s\n", "phase", "EEPs", "log L [dex]", "log Teff [dex]",
+        ck_assert_int_eq(hrt_accuracy_set_z(a, zs[iz_i], &err), HRT_OK);
+        ck_assert_msg(hrt_accuracy_run(a, g, &err) == HRT_OK, "%s", err.message);
+        printf("leave-one-out, Z = %g: |error| median / 95th percentile / max per route and phase\n", zs[iz_i]);
+        printf("  %-10s %-10s %6s  %-23s %-23s %-23s\n", "route", "phase", "EEPs", "log L [dex]", "log Teff [dex]",
                "log age [dex]");
-        for (size_t i = 1; i < HRT_PHASE_N; i++) {
-            int p = hrt_phase_code(i);
-            if (!el[p].n)
-                continue;
-            double l50 = quantile(&el[p], 0.5), l95 = quantile(&el[p], 0.95), lmx = quantile(&el[p], 1.0);
-            double t50 = quantile(&et[p], 0.5), t95 = quantile(&et[p], 0.95), tmx = quantile(&et[p], 1.0);
-            double a50 = quantile(&ea[p], 0.5), a95 = quantile(&ea[p], 0.95), amx = quantile(&ea[p], 1.0);
-            printf("  %-10s %6zu  %.4f/%.4f/%.4f  %.4f/%.4f/%.4f  %.4f/%.4f/%.4f\n", hrt_phase_key(p), el[p].n,
-                   l50, l95, lmx, t50, t95, tmx, a50, a95, amx);
-            ck_assert_double_le(l50, 0.05);
-            ck_assert_double_le(t50, 0.02);
-            ck_assert_double_le(a50, 0.02);
-            ck_assert_double_le(l95, 0.20);
+        /* per phase over the routes: EEPs and the largest errors */
+        size_t n_phase[HRT_PHASE_SLOTS] = {0};
+        double max_phase[HRT_PHASE_SLOTS][HRT_ACCURACY_NQ] = {{0}};
+        for (size_t i = 0; i < hrt_accuracy_n_rows(a); i++) {
+            hrt_accuracy_row w;
+            ck_assert_int_eq(hrt_accuracy_row_at(a, i, &w), HRT_OK);
+            int p = w.phase;
+            const double *m = w.median, *q = w.p95, *x = w.max;
+            printf("  %-10s %-10s %6zu  %.4f/%.4f/%.4f  %.4f/%.4f/%.4f  %.4f/%.4f/%.4f\n",
+                   hrt_grid_route_name(g, (size_t)w.route), hrt_phase_key(p), w.n_points, m[0], q[0], x[0], m[1], q[1],
+                   x[1], m[2], q[2], x[2]);
+            n_phase[p] += w.n_points;
+            for (int k = 0; k < HRT_ACCURACY_NQ; k++)
+                max_phase[p][k] = fmax(max_phase[p][k], x[k]);
+            ck_assert_double_le(m[HRT_ACCURACY_LOG_L], 0.05);
+            ck_assert_double_le(m[HRT_ACCURACY_LOG_TEFF], 0.02);
+            ck_assert_double_le(m[HRT_ACCURACY_LOG_AGE], 0.02);
+            ck_assert_double_le(q[HRT_ACCURACY_LOG_L], 0.20);
             /* supergiants near the Humphreys-Davidson limit (24-28 Msun) turn from
              * red to blue within a few tracks: a wider Teff tail there */
             int sg = p == HRT_PHASE_BSG || p == HRT_PHASE_RSG || p == HRT_PHASE_WR || p == HRT_PHASE_NS ||
                      p == HRT_PHASE_BH; /* ns, bh: the core-collapse EEP of a supergiant */
-            ck_assert_double_le(t95, sg ? 0.25 : 0.08);
-            ck_assert_double_le(a95, 0.08);
-            free(el[p].v);
-            free(et[p].v);
-            free(ea[p].v);
+            ck_assert_double_le(q[HRT_ACCURACY_LOG_TEFF], sg ? 0.25 : 0.08);
+            ck_assert_double_le(q[HRT_ACCURACY_LOG_AGE], 0.08);
+            if (!isnan(w.wd_mass_max_msun))
+                ck_assert_double_le(w.wd_mass_max_msun, 0.03);
         }
-        printf("  white-dwarf mass: worst %.4f Msun\n", worst_mf);
-        ck_assert_double_le(worst_mf, 0.03);
+        printf("  per phase over the routes: EEPs, max |d log L| / |d log Teff| / |d log age|\n");
+        for (size_t i = 1; i < HRT_PHASE_N; i++) {
+            int p = hrt_phase_code(i);
+            if (n_phase[p])
+                printf("  %-10s %6zu  %.4f %.4f %.4f\n", hrt_phase_key(p), n_phase[p], max_phase[p][0],
+                       max_phase[p][1], max_phase[p][2]);
+        }
     }
+    hrt_accuracy_free(a);
     hrt_grid_close(g);
 }
 END_TEST

@@ -110,6 +110,8 @@ extern const size_t cli_n_commands;
 
 /* ---- the grid ---- */
 int cli_open_grid(cli *c);
+/* hrtrail grid accuracy (cmd_accuracy.c): c->interp -1 for every type; threads 0 for every core. */
+int grid_accuracy(cli *c, int threads);
 void cli_close_grid(cli *c);
 /* Metallicity from --z / --feh (default: the grid's z_ref); checks the grid's range. */
 int cli_resolve_z(cli *c, double *z);

@@ -565,22 +565,33 @@ static int grid_upgrade(cli *c, const char *old_path, const char *new_path)
 
 /* ------------------------------------------------------------------ the command */
 
-static const optdef grid_opts[] = {{NULL, 0, 0, 0}};
+enum { O_GRID_THREADS = 1 };
+static const optdef grid_opts[] = {{"threads", 'j', 1, O_GRID_THREADS}, {NULL, 0, 0, 0}};
 
 typedef struct grid_args {
     const char *pos[3];
     size_t npos;
+    int threads; /* grid accuracy: 0 for every core */
 } grid_args;
 
 /* Arguments: the action (checked at once, before any --help), then files. */
 static int grid_take(cli *c, void *ctx, int id, const char *val)
 {
     grid_args *a = ctx;
+    if (id == O_GRID_THREADS) {
+        char *end;
+        long n = strtol(val, &end, 10);
+        if (*end || end == val || n < 0 || n > 4096)
+            return cli_fail(c, CLI_EXIT_USAGE, "--threads '%s': give a whole number from 0 (every core) to 4096", val);
+        a->threads = (int)n;
+        return 0;
+    }
     if (id != OPT_ARG) return 0;
     if (a->npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
-    if (a->npos == 0 && strcmp(val, "info") && strcmp(val, "check") && strcmp(val, "upgrade"))
+    if (a->npos == 0 && strcmp(val, "info") && strcmp(val, "check") && strcmp(val, "upgrade") && strcmp(val, "accuracy"))
         return cli_fail(c, CLI_EXIT_USAGE,
-                        "unknown action '%s'; use 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade'", val);
+                        "unknown action '%s'; use 'hrtrail grid info', 'hrtrail grid check', 'hrtrail grid accuracy' or "
+                        "'hrtrail grid upgrade'", val);
     a->pos[a->npos++] = val;
     return 0;
 }
@@ -589,13 +600,18 @@ static const cmdopts grid_cmdopts = {grid_opts, NULL, ACCEPT_FORMAT, grid_take, 
 
 int cmd_grid(cli *c, argparse *p)
 {
-    grid_args a = {{NULL, NULL, NULL}, 0};
+    grid_args a = {{NULL, NULL, NULL}, 0, 0};
+    int interp = c->interp;
+    c->interp = -1; /* grid accuracy without --interp: every type */
     int rc = cli_parse(c, p, &grid_cmdopts, &a);
+    int all_types = c->interp == -1;
+    if (all_types) c->interp = interp;
     const char *action = a.pos[0];
     if (rc) return rc;
     if (!action)
         return cli_fail(c, CLI_EXIT_USAGE,
-                        "say 'hrtrail grid info', 'hrtrail grid check' or 'hrtrail grid upgrade OLD NEW' (see hrtrail grid --help)");
+                        "say 'hrtrail grid info', 'hrtrail grid check', 'hrtrail grid accuracy' or 'hrtrail grid upgrade OLD NEW' "
+                        "(see hrtrail grid --help)");
     if (!strcmp(action, "upgrade")) {
         c->cmd = "grid upgrade";
         if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "--grid does not apply: give the files as 'hrtrail grid upgrade OLD NEW'");
@@ -604,13 +620,19 @@ int cmd_grid(cli *c, argparse *p)
             return cli_fail(c, CLI_EXIT_USAGE, "give the file to convert and the file to write: hrtrail grid upgrade OLD NEW");
         return grid_upgrade(c, a.pos[1], a.pos[2]);
     }
-    c->cmd = !strcmp(action, "info") ? "grid info" : "grid check";
+    if (a.threads && strcmp(action, "accuracy"))
+        return cli_fail(c, CLI_EXIT_USAGE, "--threads applies to 'hrtrail grid accuracy' only");
+    c->cmd = !strcmp(action, "info") ? "grid info" : !strcmp(action, "check") ? "grid check" : "grid accuracy";
     if (a.npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", a.pos[2]);
     if (a.npos == 2) {
         if (c->grid_path) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s' (the grid is given with --grid)", a.pos[1]);
         c->grid_path = a.pos[1];
     }
     if (!strcmp(action, "check")) return grid_check(c);
+    if (!strcmp(action, "accuracy")) {
+        if (all_types) c->interp = -1;
+        return grid_accuracy(c, a.threads);
+    }
     if ((rc = cli_open_grid(c))) return rc;
     return grid_info(c);
 }

@@ -326,6 +326,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
     {"grid",
      "Usage: hrtrail grid info [FILE] [--grid FILE] [--csv | --json]\n"
      "       hrtrail grid check [FILE] [--grid FILE] [--csv | --json]\n"
+     "       hrtrail grid accuracy [FILE] [--grid FILE] [--interp NAME] [-j N] [--csv | --json]\n"
      "       hrtrail grid upgrade OLD NEW\n"
      "\n"
      "  info   what the grid holds: file, size on disk and in memory, provenance\n"
@@ -346,6 +347,19 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "         below the Chandrasekhar mass. Every problem is printed (--csv/--json:\n"
      "         where, problem); exit status 4 if there is any. Shows progress on\n"
      "         standard error when that is a terminal.\n"
+     "  accuracy  how well the grid interpolates between its own tracks: each\n"
+     "         interior track of each route (both neighbours in its route) is dropped\n"
+     "         in turn, its metallicity rebuilt without it by the library's builder\n"
+     "         and the track interpolated from the rest; the |error| at every EEP is\n"
+     "         reported per type, route and phase: median / 95th percentile / max\n"
+     "         of log L, log Teff and log age (dex), with the worst track (initial\n"
+     "         mass, Z, EEP) and the worst white-dwarf mass (Msun). Every type\n"
+     "         (steffen, linear, cspline, akima) unless --interp names one;\n"
+     "         -j/--threads N at most N threads (default 0: every core). Dropping\n"
+     "         a track doubles the local spacing, so the figures bound the errors\n"
+     "         between tracks of the full grid from above. Prints the time taken\n"
+     "         (--json: \"seconds\"); --csv/--json: one record per row. Shows progress\n"
+     "         on standard error when that is a terminal.\n"
      "  upgrade  convert the grid file OLD, of an older format version, to the\n"
      "         current one (format " HELP_STR(HRT_FORMAT_VERSION) ") and write it to NEW (atomically: NEW is\n"
      "         replaced only when complete; it may be OLD itself). Values are copied\n"
@@ -358,6 +372,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Examples:\n"
      "  hrtrail grid info\n"
      "  hrtrail grid check my-grid.h5\n"
+     "  hrtrail grid accuracy my-grid.h5 --interp linear --csv\n"
      "  hrtrail grid upgrade my-grid-v1.h5 my-grid.h5\n",
      0, OUT_GRID},
     {"population",

@@ -443,6 +443,116 @@ HRT_API double hrt_import_z(const hrt_import *imp, size_t iz);
 /** Route-boundary mass b of group iz written by the run, Msun; NaN before a run or out of range. */
 HRT_API double hrt_import_route_boundary(const hrt_import *imp, size_t iz, size_t b);
 
+/* ------------------------------------------------------------------------
+ * Interpolation accuracy of a grid: leave one track out (hrt_accuracy_*)
+ * ------------------------------------------------------------------------ */
+typedef struct hrt_accuracy hrt_accuracy; /**< opaque leave-one-out run and its result */
+
+/** Quantities compared by hrt_accuracy_run(): indices of the arrays of hrt_accuracy_row. */
+#define HRT_ACCURACY_LOG_L 0
+/** Index of |d log Teff| (dex) in the arrays of hrt_accuracy_row. */
+#define HRT_ACCURACY_LOG_TEFF 1
+/** Index of |d log age| (dex) in the arrays of hrt_accuracy_row. */
+#define HRT_ACCURACY_LOG_AGE 2
+/** Number of quantities compared. */
+#define HRT_ACCURACY_NQ 3
+
+/** Errors of one interpolation type, route and phase, over every dropped track. */
+typedef struct hrt_accuracy_row {
+    int interp;                             /**< hrt_interp type of the rebuilt grids */
+    int route;                              /**< route index in the grid */
+    int phase;                              /**< hrt_phase code of the dropped track's EEPs */
+    size_t n_points;                        /**< EEPs compared */
+    size_t n_tracks;                        /**< dropped tracks with EEPs in this phase */
+    double median[HRT_ACCURACY_NQ];         /**< median |error|, dex, per quantity */
+    double p95[HRT_ACCURACY_NQ];            /**< 95th percentile of |error| (nearest rank), dex */
+    double max[HRT_ACCURACY_NQ];            /**< largest |error|, dex */
+    double worst_mass_msun[HRT_ACCURACY_NQ];/**< initial mass of the track with the largest error, Msun */
+    double worst_z[HRT_ACCURACY_NQ];        /**< its metal mass fraction */
+    size_t worst_eep[HRT_ACCURACY_NQ];      /**< its EEP index */
+    double wd_mass_max_msun;                /**< route's largest |error| of white-dwarf mass, Msun, over tracks
+                                                 whose neighbours leave the same kind (NaN if none); the same in
+                                                 every row of one route and type */
+} hrt_accuracy_row;
+
+/** Start a leave-one-out run (every interpolation type, one thread per core, no progress callback). */
+HRT_API int hrt_accuracy_new(hrt_accuracy **acc, hrt_error *err);
+/** Free a run and its result; NULL is allowed. */
+HRT_API void hrt_accuracy_free(hrt_accuracy *acc);
+/**
+ * @brief Choose the interpolation type: an hrt_interp, or -1 for all four.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID.
+ */
+HRT_API int hrt_accuracy_set_interp(hrt_accuracy *acc, int interp, hrt_error *err);
+/**
+ * @brief Threads for the run: 0 for OpenMP's default, n >= 1 at most n.
+ * Writing and opening the rebuilt grids (HDF5) is done one thread at a
+ * time; interpolating and comparing run in parallel.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (n < 0).
+ */
+HRT_API int hrt_accuracy_set_threads(hrt_accuracy *acc, int n, hrt_error *err);
+/**
+ * @brief Measure one metallicity only: the group whose Z equals z (relative
+ * 1e-9), or NaN for every group (the default).  hrt_accuracy_run() fails
+ * with HRT_E_Z_RANGE when the grid has no such group.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (z <= 0 or infinite).
+ */
+HRT_API int hrt_accuracy_set_z(hrt_accuracy *acc, double z, hrt_error *err);
+/**
+ * Callback after each dropped track: (user, tracks done, tracks in total).
+ * Called from one thread at a time, not necessarily the caller's. May be NULL.
+ */
+HRT_API int hrt_accuracy_set_progress(hrt_accuracy *acc, void (*progress)(void *user, size_t done, size_t total),
+                                      void *user);
+/**
+ * @brief Measure how well the grid interpolates between its own tracks.
+ *
+ * Given:   g, an open grid (any file: hrt_grid_open_with(); its own
+ *          interpolation type does not matter).
+ * Returned: acc holds one hrt_accuracy_row per interpolation type, route
+ *          and phase (hrt_accuracy_n_rows, hrt_accuracy_row_at).
+ * Returned (function value):
+ *   HRT_OK; HRT_E_NULL; HRT_E_Z_RANGE (hrt_accuracy_set_z() named a
+ *   metallicity the grid does not hold); HRT_E_INVALID (no route of any metallicity has
+ *   three tracks, so no track is interior); HRT_E_IO (a rebuilt grid
+ *   cannot be written in $TMPDIR or /tmp); HRT_E_NOMEM; any code of the
+ *   builder or of hrt_grid_open_with() on a rebuilt group, with its message.
+ * Notes:
+ *   1. Each interior track of each route (both neighbours in the same route)
+ *      of each metallicity is dropped in turn; the group is rebuilt without
+ *      it by hrt_builder_add_eep_track() (other metallicities left out, route
+ *      boundaries kept), written to a temporary file, opened with each type,
+ *      and the dropped track is interpolated at its own mass and Z.  Errors
+ *      are |interpolated - track| at each EEP, grouped by the phase the
+ *      track gives that EEP.
+ *   2. Quantiles are nearest-rank: the sorted value at
+ *      floor(q (n - 1) + 0.5).  Of equal largest errors the worst track
+ *      named is the one of lowest Z, then mass, then EEP, so that the
+ *      result does not depend on the number of threads.
+ *   3. A dropped track's neighbours are farther apart than the grid's
+ *      spacing, so the errors bound from above those of a star between two
+ *      tracks of the full grid (roughly 2^k times, k the order of the
+ *      interpolation: about 4 for linear, up to 16 for cubic types).
+ *   4. The rebuilt group holds the dropped track's route only: for the
+ *      local types (steffen, linear, akima) the four tracks either side of
+ *      it, which give the same interpolated values as the whole group (each
+ *      value depends on at most three tracks either side; tests/
+ *      test_accuracy.c compares with whole-group rebuilds); for cspline,
+ *      which is global, the whole route.
+ *   5. The run writes and opens grids (HDF5): as for hrt_grid_open(), open
+ *      no grid in another thread while it runs.  Time: on the default grid
+ *      see DEVELOPERS.md.
+ */
+HRT_API int hrt_accuracy_run(hrt_accuracy *acc, const hrt_grid *g, hrt_error *err);
+/** Number of rows of the last run (0 before one). */
+HRT_API size_t hrt_accuracy_n_rows(const hrt_accuracy *acc);
+/**
+ * @brief Row i of the last run: types in hrt_interp order, then routes,
+ * then phases in the order of hrt_phase_code().
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (i out of range).
+ */
+HRT_API int hrt_accuracy_row_at(const hrt_accuracy *acc, size_t i, hrt_accuracy_row *out);
+
 #ifdef __cplusplus
 }
 #endif

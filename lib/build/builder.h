@@ -40,4 +40,8 @@ struct hrt_builder {
     int deflate; /* deflate level of the file's numeric data, 0: not compressed */
 };
 
+/* hrt_builder_write() without the fsync: for a scratch grid read back at once
+ * and deleted (build/accuracy.c), where durability only costs time. */
+int trail_builder_write_scratch(hrt_builder *b, const char *path, hrt_error *err);
+
 #endif

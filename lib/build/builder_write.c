@@ -568,7 +568,9 @@ int hrt_builder_set_compression(hrt_builder *b, int level, hrt_error *err)
     return trail_set_error(err, HRT_OK, NULL);
 }
 
-int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
+/* Write through a temporary file renamed over path; durable: fsync first
+ * (a grid kept), else not (a scratch grid read back at once and deleted). */
+static int write_file(hrt_builder *b, const char *path, int durable, hrt_error *err)
 {
     if (!b || !path)
         return trail_set_error(err, HRT_E_NULL, "hrt_builder_write: %s is NULL", !b ? "builder" : "path");
@@ -593,7 +595,7 @@ int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
     if (rc == HRT_OK)
         rc = write_image(fd, tmp, img, img_size, err);
     free(img);
-    if (rc == HRT_OK && fsync(fd) != 0)
+    if (rc == HRT_OK && durable && fsync(fd) != 0)
         rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' to the disk: %s", tmp, strerror(errno));
     if (close(fd) != 0 && rc == HRT_OK)
         rc = trail_set_error(err, HRT_E_IO, "cannot finish writing '%s': %s", tmp, strerror(errno));
@@ -603,4 +605,11 @@ int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err)
         unlink(tmp);
     free(tmp);
     return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
+}
+
+int hrt_builder_write(hrt_builder *b, const char *path, hrt_error *err) { return write_file(b, path, 1, err); }
+
+int trail_builder_write_scratch(hrt_builder *b, const char *path, hrt_error *err)
+{
+    return write_file(b, path, 0, err);
 }

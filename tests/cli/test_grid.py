@@ -111,4 +111,53 @@ t.eq(p.returncode, EXIT_OK, "check with a terminal on stderr: exit code")
 t.ok("checked" in tty_err and "/" in tty_err and "\r" in tty_err, "progress shown on a terminal: %r" % tty_err[:120])
 rc, out, err = run(["grid", "check", grid])
 t.ok("checked" not in err and err == "", "no progress when stderr is a pipe")
+
+# ---- accuracy (leave one track out): CSV and JSON agree; the worst tracks are tracks of the grid;
+# every type unless --interp names one; progress only on a terminal; errors
+rc, out, err = run(["grid", "accuracy", grid, "--json", "-j", "2"])
+t.eq(rc, EXIT_OK, "grid accuracy --json exit code (%s)" % err)
+acc = parse_json(out)
+t.ok(acc["seconds"] > 0 and acc["rows"], "accuracy --json: time and rows")
+t.eq(sorted({r["interp"] for r in acc["rows"]}), ["akima", "cspline", "linear", "steffen"], "accuracy: every type")
+all_masses = {(z, m) for z, ms in zip(zs, masses) for m in ms}
+t.ok(all((r["log_l_worst_z"], r["log_l_worst_mass_msun"]) in all_masses for r in acc["rows"]),
+     "accuracy: each worst track is a track of the grid")
+t.ok(all(r["route"] in routes for r in acc["rows"]), "accuracy: routes named as in the file")
+t.ok(all(r["log_teff_median_dex"] <= r["log_teff_p95_dex"] <= r["log_teff_max_dex"] for r in acc["rows"]),
+     "accuracy: median <= 95th percentile <= max")
+rc, out, err = run(["grid", "accuracy", "--grid", grid, "--csv", "--threads", "1"])
+rows = parse_csv(out)
+t.eq(len(rows), len(acc["rows"]), "accuracy --csv: as many rows as --json")
+same_csv = all(str(r[k]) == str(j[k]) if isinstance(j[k], str) else
+               (j[k] is None and r[k] in ("", "nan")) or float(r[k]) == float(j[k])
+               for r, j in zip(rows, acc["rows"]) for k in j)
+t.ok(same_csv, "accuracy --csv and --json give the same values (1 and 2 threads)")
+rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear"])
+t.eq(rc, EXIT_OK, "accuracy table exit code (%s)" % err)
+t.ok("linear, route low_mass" in out and "steffen" not in out and "time" in out and " s\n" in out,
+     "accuracy table: one type, by route, with the time")
+rc, out, err = run(["grid", "accuracy", grid, "--threads", "x"])
+t.ok(rc != EXIT_OK and "--threads 'x'" in err, "accuracy: --threads must be a number (%s)" % err)
+rc, out, err = run(["grid", "info", grid, "--threads", "2"])
+t.ok(rc != EXIT_OK and "grid accuracy" in err, "--threads is refused by grid info (%s)" % err)
+master, slave = pty.openpty()
+p = subprocess.Popen([EXE, "grid", "accuracy", grid, "--interp", "linear"], stdout=subprocess.PIPE, stderr=slave,
+                     stdin=subprocess.DEVNULL)
+os.close(slave)
+chunks = []
+while True:
+    try:
+        b = os.read(master, 4096)
+    except OSError:
+        break
+    if not b:
+        break
+    chunks.append(b)
+p.wait()
+os.close(master)
+tty_err = b"".join(chunks).decode(errors="replace")
+t.ok(p.returncode == EXIT_OK and "tracks dropped and predicted" in tty_err and "\r" in tty_err,
+     "accuracy progress shown on a terminal: %r" % tty_err[:120])
+rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear"])
+t.ok(err == "", "accuracy: no progress when stderr is a pipe")
 t.finish()

@@ -47,14 +47,14 @@ rc, out, err = run(["at", "-h"], env={"HRTRAIL_GRID": "/nonexistent/grid.h5"})
 t.eq(rc, EXIT_OK, "at -h works without a grid")
 t.ok("Columns of a state" in out and "log_teff_k" in out and "initial_mass_msun" in out,
      "at --help explains the columns")
-for cmd in ("grid info", "grid check", "grid upgrade"):
+for cmd in ("grid info", "grid check", "grid accuracy", "grid upgrade"):
     rc, out, err = run(cmd.split() + ["--help"])
     t.ok(rc == EXIT_OK and out.startswith("Usage: hrtrail grid"), "%s --help" % cmd)
 
 # the man page documents the same commands, options and exit codes
 import os  # noqa: E402
 man = open(os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "bindings", "cli", "hrtrail.1")).read()
-for cmd in ("at", "track", "isochrone", "life", "plot", "grid info", "grid check", "grid upgrade", "demo"):
+for cmd in ("at", "track", "isochrone", "life", "plot", "grid info", "grid check", "grid accuracy", "grid upgrade", "demo"):
     t.ok(".B %s" % cmd in man, "man page documents %s" % cmd)
 for opt in ("grid", "interp", "z", "feh", "csv", "json", "help", "version", "keep\\-going", "steps", "points"):
     t.ok("\\-\\-" + opt in man, "man page documents --%s" % opt.replace("\\", ""))
@@ -82,7 +82,7 @@ for c in table:
     t.ok(rc == EXIT_OK and out.startswith("Usage: hrtrail " + c), "%s --help: its usage (%s)" % (c, err))
 rc, out, err = run(["grid", "--help"])
 actions = re.findall(r"^(?:Usage:|      ) hrtrail grid ([a-z]+)", out, re.M)
-t.eq(actions, ["info", "check", "upgrade"], "grid --help: a usage line for each action")
+t.eq(actions, ["info", "check", "accuracy", "upgrade"], "grid --help: a usage line for each action")
 t.eq(re.findall(r"^\.TP\n\.B grid ([a-z]+)", section, re.M), actions, "the man page documents each action of grid")
 rc, out, err = run(["grid", "frobnicate"])
 t.ok(rc == EXIT_USAGE and all(a in err for a in actions), "an unknown grid action: the message lists the actions")

@@ -262,6 +262,22 @@ class HrtImportRowReport(ctypes.Structure):
                 ("message", ctypes.c_char * 320)]
 
 
+ACCURACY_NQ = 3  # HRT_ACCURACY_NQ: log L, log Teff, log age
+
+
+class HrtAccuracyRow(ctypes.Structure):
+    """struct hrt_accuracy_row."""
+    _fields_ = [("interp", ctypes.c_int), ("route", ctypes.c_int), ("phase", ctypes.c_int),
+                ("n_points", ctypes.c_size_t), ("n_tracks", ctypes.c_size_t),
+                ("median", ctypes.c_double * ACCURACY_NQ), ("p95", ctypes.c_double * ACCURACY_NQ),
+                ("max", ctypes.c_double * ACCURACY_NQ), ("worst_mass_msun", ctypes.c_double * ACCURACY_NQ),
+                ("worst_z", ctypes.c_double * ACCURACY_NQ), ("worst_eep", ctypes.c_size_t * ACCURACY_NQ),
+                ("wd_mass_max_msun", ctypes.c_double)]
+
+
+#: void (*progress)(void *user, size_t done, size_t total)
+ACCURACY_PROGRESS_FN = ctypes.CFUNCTYPE(None, ctypes.c_void_p, ctypes.c_size_t, ctypes.c_size_t)
+
 #: void (*progress)(void *user, size_t done, size_t total, const char *file)
 PROGRESS_FN = ctypes.CFUNCTYPE(None, ctypes.c_void_p, ctypes.c_size_t, ctypes.c_size_t, ctypes.c_char_p)
 
@@ -468,6 +484,16 @@ def _declare(lib):
         "hrt_import_n_z": (sz, [vp]),
         "hrt_import_z": (d, [vp, sz]),
         "hrt_import_route_boundary": (d, [vp, sz, sz]),
+        # interpolation accuracy (leave one track out)
+        "hrt_accuracy_new": (i, [pvp, err]),
+        "hrt_accuracy_free": (None, [vp]),
+        "hrt_accuracy_set_interp": (i, [vp, i, err]),
+        "hrt_accuracy_set_threads": (i, [vp, i, err]),
+        "hrt_accuracy_set_z": (i, [vp, d, err]),
+        "hrt_accuracy_set_progress": (i, [vp, ACCURACY_PROGRESS_FN, vp]),
+        "hrt_accuracy_run": (i, [vp, vp, err]),
+        "hrt_accuracy_n_rows": (sz, [vp]),
+        "hrt_accuracy_row_at": (i, [vp, sz, vp]),
     }
     for fname, (res, args) in protos.items():
         fn = getattr(lib, fname)

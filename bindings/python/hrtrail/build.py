@@ -19,7 +19,7 @@ try:
 except ImportError:  # NumPy is needed by these calls, not by importing the package
     _np = None
 
-from ._clib import (IMPORT_MAX_KP, KP_COLUMNS, PROGRESS_FN, HrtImportRowReport, HrtImportTrackReport, HrtKpColumns,
+from ._clib import (ACCURACY_PROGRESS_FN, IMPORT_MAX_KP, KP_COLUMNS, PROGRESS_FN, HrtAccuracyRow, HrtImportRowReport, HrtImportTrackReport, HrtKpColumns,
                     HrtKpResult, HrtRouteSpec, HrtTrackData, lib, text)
 from .enums import Remnant, Status
 from .core import _Owned
@@ -417,3 +417,81 @@ class Importer(_Owned):
             exc.report = rep
             raise
         return rep
+
+
+_ACC_Q = ("log_l", "log_teff", "log_age")
+
+
+def _accuracy_record(grid, r) -> dict:
+    """One hrt_accuracy_row as a flat dict, keyed as 'hrtrail grid accuracy --csv' names the columns."""
+    from .enums import Interp, Phase
+    rec = {"interp": Interp(r.interp).key, "route": grid.routes[r.route], "phase": Phase(r.phase).key,
+           "n_points": int(r.n_points), "n_tracks": int(r.n_tracks)}
+    for q, name in enumerate(_ACC_Q):
+        rec[name + "_median_dex"] = r.median[q]
+        rec[name + "_p95_dex"] = r.p95[q]
+        rec[name + "_max_dex"] = r.max[q]
+        rec[name + "_worst_mass_msun"] = r.worst_mass_msun[q]
+        rec[name + "_worst_z"] = r.worst_z[q]
+        rec[name + "_worst_eep"] = int(r.worst_eep[q])
+    rec["wd_mass_max_msun"] = r.wd_mass_max_msun
+    return rec
+
+
+def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[int, int], None]] = None,
+             z=None) -> List[dict]:
+    """Leave-one-out interpolation accuracy of a grid (hrt_accuracy_run).
+
+    Each interior track of each route is dropped in turn, its metallicity
+    group rebuilt without it by the library's builder, and the track
+    interpolated from the rest.  Returns one dict per interpolation type,
+    route and phase: n_points, n_tracks, and for log_l, log_teff and log_age
+    the median, 95th percentile (nearest rank) and maximum of |error| in dex
+    (keys such as 'log_l_p95_dex') with the worst track (initial mass, Z,
+    EEP), plus the route's worst white-dwarf mass error (Msun, NaN if none).
+
+    grid: a Grid (or a path, opened for the run); interp: a type ('steffen',
+    'linear', 'cspline', 'akima' or an Interp), None for all four; threads:
+    0 for every core; progress: called as progress(done, total) after each
+    dropped track (from a worker thread; exceptions are ignored); z: one
+    metallicity group of the grid only (None: every group).
+    """
+    from .core import Grid
+    own = not isinstance(grid, Grid)
+    g = Grid(grid) if own else grid
+    h = ctypes.c_void_p()
+    try:
+        e, pe = new_error()
+        check(lib.hrt_accuracy_new(ctypes.byref(h), pe), e, "hrt_accuracy_new")
+        code = -1
+        if interp is not None:
+            from .enums import as_interp
+            code = int(as_interp(interp))
+        e, pe = new_error()
+        check(lib.hrt_accuracy_set_interp(h, code, pe), e, "hrt_accuracy_set_interp")
+        e, pe = new_error()
+        check(lib.hrt_accuracy_set_threads(h, int(threads), pe), e, "hrt_accuracy_set_threads")
+        e, pe = new_error()
+        zv = float("nan") if z is None else _u.value(z, "fraction", "z")
+        check(lib.hrt_accuracy_set_z(h, zv, pe), e, "hrt_accuracy_set_z")
+        cb = None
+        if progress is not None:
+            def _cb(user, done, total):
+                try:
+                    progress(done, total)
+                except Exception:  # an exception cannot cross the C call: the run goes on
+                    pass
+            cb = ACCURACY_PROGRESS_FN(_cb)
+            check(lib.hrt_accuracy_set_progress(h, cb, None), None, "hrt_accuracy_set_progress")
+        e, pe = new_error()
+        check(lib.hrt_accuracy_run(h, g._handle, pe), e, "hrt_accuracy_run")
+        rows = []
+        for i in range(lib.hrt_accuracy_n_rows(h)):
+            r = HrtAccuracyRow()
+            check(lib.hrt_accuracy_row_at(h, i, ctypes.byref(r)), None, "hrt_accuracy_row_at")
+            rows.append(_accuracy_record(g, r))
+        return rows
+    finally:
+        lib.hrt_accuracy_free(h)
+        if own:
+            g.close()

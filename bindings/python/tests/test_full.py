@@ -490,5 +490,68 @@ class Pickling(Base):
         self.assertEqual(hrtrail.merge(got), pop.run(self.grid, [1e9])[0])
 
 
+class Accuracy(unittest.TestCase):
+    """hrtrail.accuracy / Grid.accuracy (hrt_accuracy_run) against 'hrtrail grid accuracy' --json and --csv
+    on the command-line tests' small invented grid (tests/cli/make_test_grid.py)."""
+
+    @classmethod
+    def setUpClass(cls):
+        cls.tmp = tempfile.TemporaryDirectory()
+        cls.path = os.path.join(cls.tmp.name, "small.h5")
+        subprocess.run(["/usr/bin/python3", os.path.join(ROOT, "tests", "cli", "make_test_grid.py"), cls.path],
+                       check=True)
+
+    @classmethod
+    def tearDownClass(cls):
+        cls.tmp.cleanup()
+
+    def test_same_as_the_command_line(self):
+        calls = []
+        with hrtrail.Grid(self.path) as g:
+            rows = g.accuracy(threads=2, progress=lambda done, total: calls.append((done, total)))
+        self.assertTrue(calls and calls[-1][0] == calls[-1][1] == len(calls))
+        r = subprocess.run([CLI, "grid", "accuracy", self.path, "--json"], capture_output=True, text=True, check=True)
+        doc = json.loads(r.stdout)
+        self.assertGreater(doc["seconds"], 0)
+        self.assertEqual(len(doc["rows"]), len(rows))
+        for a, b in zip(rows, doc["rows"]):
+            self.assertEqual(list(a), list(b))
+            for k in a:
+                self.assertTrue(a[k] == b[k] if isinstance(a[k], str) else same(a[k], b[k]), (k, a[k], b[k]))
+        r = subprocess.run([CLI, "grid", "accuracy", self.path, "--csv", "--interp", "cspline"], capture_output=True,
+                           text=True, check=True)
+        csv_rows = list(__import__("csv").DictReader(r.stdout.splitlines()))
+        one = hrtrail.accuracy(self.path, interp="cspline", threads=1)
+        self.assertEqual(len(csv_rows), len(one))
+        self.assertEqual(json.dumps([a for a in rows if a["interp"] == "cspline"]), json.dumps(one))  # NaN == NaN here
+        for a, b in zip(one, csv_rows):
+            for k in a:
+                if isinstance(a[k], str):
+                    self.assertEqual(a[k], b[k], k)
+                else:
+                    self.assertTrue(same(a[k], float(b[k]) if b[k] not in ("", "nan") else None), (k, a[k], b[k]))
+        for a in rows:
+            self.assertLessEqual(a["log_l_median_dex"], a["log_l_p95_dex"])
+            self.assertLessEqual(a["log_l_p95_dex"], a["log_l_max_dex"])
+
+    def test_errors(self):
+        with self.assertRaises(ValueError):
+            hrtrail.accuracy(self.path, interp="quintic")
+        with self.assertRaises(hrtrail.InvalidInputError) as cm:
+            hrtrail.accuracy(self.path, threads=-1)
+        self.assertIn("threads", str(cm.exception))
+        with self.assertRaises(hrtrail.OutsideGridError):
+            hrtrail.accuracy(self.path, z=0.5)
+
+    def test_one_metallicity(self):
+        with hrtrail.Grid(self.path) as g:
+            z0 = g.z_values[0]
+            rows = g.accuracy(interp="linear", z=z0)
+        self.assertTrue(rows)
+        for a in rows:
+            for q in ("log_l", "log_teff", "log_age"):
+                self.assertEqual(a[q + "_worst_z"], z0)
+
+
 if __name__ == "__main__":
     unittest.main()

@@ -1,0 +1,32 @@
+/* Private: the leave-one-out run's result object, shared by accuracy.c (the
+ * run) and accuracy_stats.c (the object, its samples and its rows). */
+#ifndef TRAIL_BUILD_ACCURACY_H
+#define TRAIL_BUILD_ACCURACY_H
+
+#include "hrtrail.h"
+
+/* One compared EEP: |error| per quantity and where it was. */
+typedef struct trail_acc_point {
+    double e[HRT_ACCURACY_NQ];
+    double m, z;
+    size_t eep;
+    int phase;
+} trail_acc_point;
+
+/* Whether interpolation type it is measured. */
+int trail_acc_wants(const hrt_accuracy *acc, int it);
+/* Whether the group of metallicity z is measured. */
+int trail_acc_takes_z(const hrt_accuracy *acc, double z);
+/* Threads asked (0: OpenMP's default). */
+int trail_acc_threads(const hrt_accuracy *acc);
+/* The progress callback and its user pointer. */
+void (*trail_acc_progress(const hrt_accuracy *acc, void **user))(void *, size_t, size_t);
+/* Forget any previous result; n_routes cells per type. */
+int trail_acc_begin(hrt_accuracy *acc, size_t n_routes, hrt_error *err);
+/* Add one dropped track's points for type it and route r (wd: its white-dwarf mass error or NaN). */
+int trail_acc_record(hrt_accuracy *acc, int it, int r, const trail_acc_point *pt, size_t n, double wd,
+                     hrt_error *err);
+/* Turn the samples into rows. */
+int trail_acc_finish(hrt_accuracy *acc, hrt_error *err);
+
+#endif
