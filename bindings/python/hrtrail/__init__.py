@@ -45,12 +45,8 @@ from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridE
 from .population import DEFAULT_HR, IMF, SFH, HRBinning, Population, Summary, ZDist, max_threads, merge
 from .fit import (SAMPLE_DTYPE, FitFlag, FitModel, FitResult, Forecast, Interval, Observation, distance_m,
                   flux_from_mbol, forecast)
-<<<<<<< HEAD
 from .mainseq import MainSequence, MsDistance, MsEstimate, MsValue
-from .build import (Builder, ImportReport, Importer, KeypointResult, RouteSpec, TrackReport, default_route,
-=======
 from .build import (accuracy, Builder, ImportReport, Importer, KeypointResult, RouteSpec, TrackReport, default_route,
->>>>>>> w19a
                     default_routes, keypoints_find, keypoints_route)
 from .convert import fits_to_pandas, samples_to_pandas, to_pandas, to_table
 
@@ -77,13 +73,8 @@ __all__ = [
     "BC_V_TEFF_RANGE_K", "Magnitudes", "bc_v", "magnitudes",
     "DEFAULT_HR", "IMF", "SFH", "HRBinning", "Population", "Summary", "ZDist", "max_threads", "merge",
     "SAMPLE_DTYPE", "FitFlag", "FitModel", "FitResult", "Forecast", "Interval", "Observation", "distance_m",
-<<<<<<< HEAD
     "flux_from_mbol", "forecast", "MainSequence", "MsDistance", "MsEstimate", "MsValue",
-    "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
-=======
-    "flux_from_mbol", "forecast",
     "accuracy", "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
->>>>>>> w19a
     "default_routes", "keypoints_find", "keypoints_route",
     "fits_to_pandas", "samples_to_pandas", "to_pandas", "to_table",
 ]
