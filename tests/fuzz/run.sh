@@ -20,14 +20,16 @@ mkdir -p "$out/obj" "$out/crashes"
 sh "$top/tests/fuzz/version-header.sh" "$out"
 
 deps_cflags=$(pkg-config --cflags gsl hdf5)
-deps_libs="$(pkg-config --libs gsl hdf5) -lm -lpthread"
+# hdf5_hl: HDF5's high-level library (dimension scales), not in Debian's hdf5.pc
+deps_libs="-lhdf5_hl $(pkg-config --libs gsl hdf5) -lm -lpthread"
 san="-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
 cflags="-std=c11 -g -O1 $san -D_POSIX_C_SOURCE=200809L -I$top/include -I$top/lib -I$out $deps_cflags"
 
 echo "fuzz: building into $out"
 objs=""
 for src in "$top"/lib/*/*.c; do
-    o="$out/obj/lib_$(basename "$src" .c).o"
+    # named by layer and file: lib/core/names.c and lib/population/names.c are two files
+    o="$out/obj/lib_$(basename "$(dirname "$src")")_$(basename "$src" .c).o"
     $CC $cflags -fsanitize=fuzzer-no-link -DHRT_BUILDING_LIBRARY -DHRT_DATADIR=\"/nonexistent\" -c "$src" -o "$o"
     objs="$objs $o"
 done
