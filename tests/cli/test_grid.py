@@ -92,21 +92,26 @@ t.ok(rc == EXIT_OK and len(rows) == 1 and "extrapolated" in rows[0]["flags"],
      "12 Msun, within half the gap to the next track, extrapolated and flagged")
 
 # ---- progress on stderr: shown on a terminal, never otherwise
-master, slave = pty.openpty()
-p = subprocess.Popen([EXE, "grid", "check", grid], stdout=subprocess.PIPE, stderr=slave, stdin=subprocess.DEVNULL)
-os.close(slave)
-chunks = []
-while True:
-    try:
-        b = os.read(master, 4096)
-    except OSError:
-        break
-    if not b:
-        break
-    chunks.append(b)
-p.wait()
-os.close(master)
-tty_err = b"".join(chunks).decode(errors="replace")
+def stderr_on_terminal(args):
+    """Run hrtrail with a pseudo-terminal as stderr; (process, what it wrote there)."""
+    master, slave = pty.openpty()
+    p = subprocess.Popen([EXE] + args, stdout=subprocess.PIPE, stderr=slave, stdin=subprocess.DEVNULL)
+    os.close(slave)
+    chunks = []
+    while True:
+        try:
+            b = os.read(master, 4096)
+        except OSError:
+            break
+        if not b:
+            break
+        chunks.append(b)
+    p.wait()
+    os.close(master)
+    return p, b"".join(chunks).decode(errors="replace")
+
+
+p, tty_err = stderr_on_terminal(["grid", "check", grid])
 t.eq(p.returncode, EXIT_OK, "check with a terminal on stderr: exit code")
 t.ok("checked" in tty_err and "/" in tty_err and "\r" in tty_err, "progress shown on a terminal: %r" % tty_err[:120])
 rc, out, err = run(["grid", "check", grid])
@@ -140,22 +145,7 @@ rc, out, err = run(["grid", "accuracy", grid, "--threads", "x"])
 t.ok(rc != EXIT_OK and "--threads 'x'" in err, "accuracy: --threads must be a number (%s)" % err)
 rc, out, err = run(["grid", "info", grid, "--threads", "2"])
 t.ok(rc != EXIT_OK and "grid accuracy" in err, "--threads is refused by grid info (%s)" % err)
-master, slave = pty.openpty()
-p = subprocess.Popen([EXE, "grid", "accuracy", grid, "--interp", "linear"], stdout=subprocess.PIPE, stderr=slave,
-                     stdin=subprocess.DEVNULL)
-os.close(slave)
-chunks = []
-while True:
-    try:
-        b = os.read(master, 4096)
-    except OSError:
-        break
-    if not b:
-        break
-    chunks.append(b)
-p.wait()
-os.close(master)
-tty_err = b"".join(chunks).decode(errors="replace")
+p, tty_err = stderr_on_terminal(["grid", "accuracy", grid, "--interp", "linear"])
 t.ok(p.returncode == EXIT_OK and "tracks dropped and predicted" in tty_err and "\r" in tty_err,
      "accuracy progress shown on a terminal: %r" % tty_err[:120])
 rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear"])

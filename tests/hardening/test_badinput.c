@@ -1170,6 +1170,9 @@ static void import_defects(void)
                        hrt_import_map(NULL, "a=b", &e) == HRT_E_NULL && hrt_import_add_file(imp, "x", 2.0, &e) ==
                        HRT_E_DOMAIN && hrt_import_set_z_ref(imp, NAN, &e) == HRT_E_DOMAIN,
          "NULL arguments, Z = 2, z_ref NaN");
+    CASE("import", hrt_import_set_pre_ms(NULL, 1, &e) == HRT_E_NULL && strstr(e.message, "hrt_import_set_pre_ms") &&
+                       hrt_import_set_pre_ms(imp, 1, &e) == HRT_OK && e.code == HRT_OK,
+         "hrt_import_set_pre_ms: NULL refused with a message, success resets the error: %s", e.message);
     hrt_import_free(imp);
     HARD_CHECK(hrt_import_new(&imp, &e) == HRT_OK, "import");
     char missing[160];
