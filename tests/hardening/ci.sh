@@ -80,7 +80,11 @@ else
     echo "ci-hardening: WARNING: fuzzing found a new problem; reproducers in build-fuzz/crashes/ (see above)"
 fi
 for t in fuzz_grid_file fuzz_grid_edit fuzz_cli_args fuzz_import; do
-    [ -x "build-fuzz/$t" ] || continue
+    if [ ! -x "build-fuzz/$t" ]; then
+        # a target that no longer builds is a failure, not a skipped stage
+        echo "ci-hardening: $t was not built (see the fuzz build output above)"
+        exit 1
+    fi
     if ASAN_OPTIONS=detect_leaks=1:allocator_may_return_null=1 UBSAN_OPTIONS=halt_on_error=1:print_stacktrace=1 \
         "build-fuzz/$t" tests/fuzz/corpus/$t/* > "build-fuzz/$t-replay.log" 2>&1; then
         echo "ci-hardening: $t: committed corpus replayed clean ($(ls tests/fuzz/corpus/$t | wc -l) inputs)"
