@@ -571,7 +571,8 @@ HRT_API int hrt_star_phases(const hrt_star *star, hrt_phase_span *spans, size_t 
  *      branches, the carbon-oxygen core once helium burns) and the new
  *      current mass; out's matching core equals now's to 1e-9 relative.
  *   3. A new mass equal to now->mass_msun returns now's own point (the state
- *      hrt_eval() gives at now's initial mass, Z and age).
+ *      hrt_eval() gives at now's initial mass, Z and age), in every phase,
+ *      remnants and stars before their first EEP included.
  *   4. No allocation; O(n_eep) per trial track, typically 3-10 trial tracks.
  *      Thread-safe on a shared grid.
  */

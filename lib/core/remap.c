@@ -369,18 +369,19 @@ int hrt_remap(const hrt_grid *g, const hrt_state *now, double new_mass_msun, hrt
     if (now->status != HRT_OK)
         return trail_set_error(err, HRT_E_INVALID, "hrt_remap: the state given has status %d (%s)", now->status,
                                hrt_strerror(now->status));
-    const char *why = no_equivalent_reason(now);
-    if (why)
-        return trail_set_error(err, HRT_E_NO_EQUIVALENT, "hrt_remap: no equivalent point: %s", why);
     qctx q;
     hrt_state own;
     int rc = own_point(g, now, &q, &own, err);
     if (rc != HRT_OK)
         return rc;
+    /* no change: the star's own point, whatever it is (remnants included) */
     if (new_mass_msun == now->mass_msun) {
         *out = own;
         return trail_set_error(err, HRT_OK, NULL);
     }
+    const char *why = no_equivalent_reason(&own);
+    if (why)
+        return trail_set_error(err, HRT_E_NO_EQUIVALENT, "hrt_remap: no equivalent point: %s", why);
     rctx c = {.g = g, .z = now->z, .phase = own.phase, .new_mass = new_mass_msun, .eep = own.eep};
     if (own.phase == HRT_PHASE_MS) {
         rc = ms_setup(&c, &q, &own, err);
