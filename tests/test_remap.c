@@ -287,6 +287,82 @@ START_TEST(rejuvenation)
 }
 END_TEST
 
+/* The fraction of its main-sequence energy a star has radiated at age_yr,
+ * and its core at the end of the main sequence, recomputed from the public
+ * track (hrt_star_eep_state): trapezoids of L over age between EEPs, the
+ * part-interval with L linear in age (tracks/MODEL.md). */
+static void burnt_and_core(double m0, double z, double age_yr, double *burnt, double *core)
+{
+    hrt_star *st = new_star(G, m0, z);
+    size_t n = hrt_star_n_eep(st), js = n, je = n;
+    hrt_state a, b;
+    for (size_t j = 0; j < n; j++) {
+        ck_assert_int_eq(hrt_star_eep_state(st, j, &a), HRT_OK);
+        if (js == n && a.phase == HRT_PHASE_MS)
+            js = j;
+        else if (js < n && a.phase != HRT_PHASE_MS) {
+            je = j;
+            break;
+        }
+    }
+    ck_assert(js < je && je < n);
+    double total = 0.0, upto = 0.0;
+    for (size_t j = js; j < je; j++) {
+        hrt_star_eep_state(st, j, &a);
+        hrt_star_eep_state(st, j + 1, &b);
+        double h = b.age_yr - a.age_yr, l0 = pow(10.0, a.log_l_lsun), l1 = pow(10.0, b.log_l_lsun);
+        double e = h * 0.5 * (l0 + l1);
+        if (age_yr >= b.age_yr)
+            upto += e;
+        else if (age_yr > a.age_yr) {
+            double s = age_yr - a.age_yr;
+            upto += s * (l0 + 0.5 * (l1 - l0) * s / h);
+        }
+        total += e;
+    }
+    hrt_star_eep_state(st, je, &b);
+    *core = b.he_core_mass_msun;
+    *burnt = upto / total;
+    hrt_star_free(st);
+}
+
+static double mixed_weight(double m)
+{
+    double lm = log10(m);
+    return 1.0 / (1.0 + exp((lm - log10(HRT_REMAP_FULLY_CONVECTIVE_MSUN)) / HRT_REMAP_BLEND_DEX)) +
+           1.0 / (1.0 + exp(-(lm - log10(HRT_REMAP_CONVECTIVE_CORE_MSUN)) / HRT_REMAP_BLEND_DEX));
+}
+
+/* The derivation holds: the hydrogen burnt is conserved where matter mixes
+ * into a growing core (f1 Q1 = f0 Q0), the fraction is kept otherwise. */
+START_TEST(hydrogen_burnt_is_conserved)
+{
+    uint64_t seed = 0x5eed0007;
+    double worst = 0.0, rejuvenated = 0.0;
+    int n = 0;
+    for (int i = 0; i < 60; i++) {
+        hrt_state s = random_star(&seed, i % 2 ? 0.4 : 2.0, i % 2 ? 1.0 : 40.0, 1.0), out;
+        double factor = exp((rnd(&seed) - 0.4) * 0.5);
+        if (hrt_remap(G, &s, factor * s.mass_msun, &out, NULL) != HRT_OK || out.phase != HRT_PHASE_MS)
+            continue;
+        double f0, q0, f1, q1;
+        burnt_and_core(s.initial_mass_msun, s.z, s.age_yr, &f0, &q0);
+        burnt_and_core(out.initial_mass_msun, out.z, out.age_yr, &f1, &q1);
+        double w = mixed_weight(out.initial_mass_msun);
+        double want = f0 * (1.0 - w + w * (q1 > q0 ? q0 / q1 : 1.0));
+        worst = fmax(worst, fabs(f1 - want));
+        rejuvenated = fmax(rejuvenated, f0 - f1);
+        n++;
+        ck_assert_msg(fabs(f1 - want) < 1e-6, "star %d (%g -> %g Msun): burnt %.9f -> %.9f, derivation %.9f", i,
+                      s.initial_mass_msun, out.initial_mass_msun, f0, f1, want);
+    }
+    printf("hydrogen burnt: %d stars, largest departure from the derivation %.1e, largest rejuvenation %.3f\n", n,
+           worst, rejuvenated);
+    ck_assert_int_gt(n, 40);
+    ck_assert_msg(rejuvenated > 0.05, "no star was rejuvenated");
+}
+END_TEST
+
 static void expect_refusal(const hrt_state *s, double m1, int code, const char *what)
 {
     hrt_state out;
@@ -445,6 +521,7 @@ int main(void)
     tcase_add_test(tc, random_changes);
     tcase_add_test(tc, tiny_change_is_continuous);
     tcase_add_test(tc, rejuvenation);
+    tcase_add_test(tc, hydrogen_burnt_is_conserved);
     tcase_add_test(tc, refusals);
     tcase_add_test(tc, step_with_change);
     tcase_add_test(tc, threads_agree);
