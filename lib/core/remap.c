@@ -254,6 +254,26 @@ static int search_add(search *b, double lx, double m, double new_mass)
     return 0;
 }
 
+/* The bracket is down to rounding: the root as closely as the track family
+ * resolves it, or a jump of the current mass across initial mass. */
+static int collapsed(const rctx *c, const search *b, hrt_state *out, hrt_error *err)
+{
+    hrt_state s_lo, s_hi;
+    int ok_lo = point(c, exp(b->lx_lo), &s_lo) == HRT_OK, ok_hi = point(c, exp(b->lx_hi), &s_hi) == HRT_OK;
+    double d_lo = ok_lo ? fabs(s_lo.mass_msun - c->new_mass) : INFINITY;
+    double d_hi = ok_hi ? fabs(s_hi.mass_msun - c->new_mass) : INFINITY;
+    const hrt_state *best = d_lo < d_hi ? &s_lo : &s_hi;
+    if ((d_lo < d_hi ? d_lo : d_hi) <= TRAIL_REMAP_MASS_LOOSE * c->new_mass) {
+        *out = *best;
+        return trail_set_error(err, HRT_OK, NULL);
+    }
+    return trail_set_error(err, HRT_E_NO_EQUIVALENT,
+                           "hrt_remap: at Z = %g the current mass of the %s points jumps from %g to %g Msun at an "
+                           "initial mass of %g Msun: no track has %g Msun there",
+                           c->z, hrt_phase_name(c->phase), ok_lo ? s_lo.mass_msun : NAN,
+                           ok_hi ? s_hi.mass_msun : NAN, exp(b->lx_lo), c->new_mass);
+}
+
 /* The effective initial mass whose equivalent point has the new mass. */
 static int solve(const rctx *c, const hrt_state *now, hrt_state *out, hrt_error *err)
 {
@@ -276,19 +296,8 @@ static int solve(const rctx *c, const hrt_state *now, hrt_state *out, hrt_error 
             if (fabs(out->mass_msun - c->new_mass) <= TRAIL_REMAP_MASS_TOL * c->new_mass)
                 return trail_set_error(err, HRT_OK, NULL);
             if (search_add(&b, lx, out->mass_msun, c->new_mass)) {
-                if (b.lx_hi - b.lx_lo < 1e-13) {
-                    /* converged onto the root as closely as the track family
-                     * resolves it, or onto a jump */
-                    double lx_end = fabs(b.g_lo) < fabs(b.g_hi) ? b.lx_lo : b.lx_hi;
-                    if (point(c, exp(lx_end), out) == HRT_OK &&
-                        fabs(out->mass_msun - c->new_mass) <= TRAIL_REMAP_MASS_LOOSE * c->new_mass)
-                        return trail_set_error(err, HRT_OK, NULL);
-                    return trail_set_error(err, HRT_E_NO_EQUIVALENT,
-                                           "hrt_remap: at Z = %g the current mass of the %s points jumps from %g to "
-                                           "%g Msun at an initial mass of %g Msun: no track has %g Msun there",
-                                           c->z, hrt_phase_name(c->phase), c->new_mass + b.g_lo,
-                                           c->new_mass + b.g_hi, exp(b.lx_lo), c->new_mass);
-                }
+                if (b.lx_hi - b.lx_lo < 1e-13)
+                    return collapsed(c, &b, out, err);
                 lx = bracket_next(&b);
                 continue;
             }
