@@ -520,7 +520,7 @@ class Grid(_Owned):
     def remap(self, state: "State", new_mass_msun: Num) -> "State":
         """The point of the track family from which a star continues after its current mass changed
         (hrt_remap): a State whose initial_mass_msun is the effective initial mass and age_yr the
-        effective age; its mass_msun is new_mass_msun.
+        effective age; its mass_msun is new_mass_msun, the current mass after the change (Msun).
 
         state is a State from this grid (Grid.state, Grid.evaluate, Star.at, Grid.step, Grid.remap).
         Raises HrtrailError with Status.NO_EQUIVALENT where the grid holds no equivalent point (a
