@@ -80,6 +80,7 @@ int cli_exit_of_status(int s)
     case HRT_E_AGE_RANGE:
     case HRT_E_NO_TRACK:
     case HRT_E_NO_MATCH:
+    case HRT_E_NO_EQUIVALENT:
         return CLI_EXIT_RANGE;
     case HRT_E_IO:
     case HRT_E_FORMAT:

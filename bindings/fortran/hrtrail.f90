@@ -55,7 +55,8 @@ module hrtrail
   integer(c_int), parameter, public :: HRT_OK = 0, HRT_E_NULL = 1, HRT_E_NOMEM = 2, HRT_E_IO = 3, &
        HRT_E_FORMAT = 4, HRT_E_VERSION = 5, HRT_E_DOMAIN = 6, HRT_E_MASS_RANGE = 7, &
        HRT_E_Z_RANGE = 8, HRT_E_AGE_RANGE = 9, HRT_E_BUFFER = 10, HRT_E_INVALID = 11, &
-       HRT_E_NOT_FOUND = 12, HRT_E_INTERNAL = 13, HRT_E_NO_TRACK = 14, HRT_E_NO_MATCH = 15
+       HRT_E_NOT_FOUND = 12, HRT_E_INTERNAL = 13, HRT_E_NO_TRACK = 14, HRT_E_NO_MATCH = 15, &
+       HRT_E_NO_EQUIVALENT = 16
   ! Phases (HRT_PHASE_LIST): hrtrail's codes, grouped by tens (tracks/FORMAT.md,
   ! "Phase and remnant codes"), in the order of the list.  Arrays indexed by
   ! phase code have HRT_PHASE_SLOTS entries (codes 0 .. HRT_PHASE_SLOTS-1);
@@ -423,7 +424,7 @@ module hrtrail
        hrt_grid_attribute, hrt_grid_memory_bytes, hrt_grid_route_of, hrt_grid_boundary_at, hrt_star_mass, &
        hrt_star_z, hrt_star_n_keypoints, hrt_star_keypoint_name, hrt_star_keypoint_age, &
        hrt_isochrone_options_default, hrt_isochrone_with, hrt_wd_radius_rsun, hrt_wd_log_l, &
-       hrt_collapse_remnant, hrt_default_route, hrt_bc_v, hrt_magnitudes
+       hrt_collapse_remnant, hrt_default_route, hrt_bc_v, hrt_magnitudes, hrt_remap, hrt_step
   public :: hrt_imf_name, hrt_imf_from_name, hrt_imf_init, hrt_imf_pdf, hrt_imf_cdf, hrt_imf_quantile, &
        hrt_imf_mean_mass, hrt_sfh_name, hrt_sfh_from_name, hrt_pop_spec_default, hrt_pop_spec_check, &
        hrt_pop_n_chunks, hrt_pop_draw, hrt_pop_sum_value, hrt_pop_summary_init, hrt_pop_summary_add, &
@@ -834,6 +835,27 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_magnitudes
+     ! ---- stars whose mass changes
+     function hrt_remap(grid, now, new_mass_msun, out, err) bind(C, name="hrt_remap") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_state, hrt_error
+       type(c_ptr), value :: grid
+       type(hrt_state), intent(in) :: now
+       real(c_double), value :: new_mass_msun
+       type(hrt_state), intent(out) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_remap
+     !> dt_next_yr: the largest next step, yr (the C function also accepts NULL; here always given).
+     function hrt_step(grid, now, dt_yr, mdot_msun_yr, next, dt_next_yr, err) bind(C, name="hrt_step") result(rc)
+       import :: c_ptr, c_double, c_int, hrt_state, hrt_error
+       type(c_ptr), value :: grid
+       type(hrt_state), intent(in) :: now
+       real(c_double), value :: dt_yr, mdot_msun_yr
+       type(hrt_state), intent(out) :: next
+       real(c_double), intent(out) :: dt_next_yr
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_step
      ! ---- the default grid's routes
      !> keypoint_names: address of HRT_IMPORT_MAX_KP pointers, filled by the call.
      function hrt_default_route(r, spec, keypoint_names) bind(C, name="hrt_default_route") result(rc)

@@ -97,7 +97,8 @@ extern "C" {
     X(HRT_E_NOT_FOUND, 12, "no default grid found")                                    \
     X(HRT_E_INTERNAL, 13, "internal numerical failure")                                \
     X(HRT_E_NO_TRACK, 14, "no track of this route to interpolate at this metallicity")  \
-    X(HRT_E_NO_MATCH, 15, "no model of the grid matches the observation")
+    X(HRT_E_NO_MATCH, 15, "no model of the grid matches the observation")             \
+    X(HRT_E_NO_EQUIVALENT, 16, "no point of the grid is equivalent to the changed star")
 
 #define HRT_ERROR_ENUM_ENTRY_(name, value, text) name = value,
 /** Status codes returned by every fallible function. */
@@ -508,6 +509,122 @@ typedef struct hrt_phase_span {
  * HRT_E_NULL, HRT_E_BUFFER.
  */
 HRT_API int hrt_star_phases(const hrt_star *star, hrt_phase_span *spans, size_t cap, size_t *n);
+
+/* ------------------------------------------------------------------------
+ * Stars whose mass changes: remapping onto the track family, and stepping
+ * ------------------------------------------------------------------------ */
+/** Initial mass (Msun) about which main-sequence stars gain a convective core (hrt_remap()). */
+#define HRT_REMAP_CONVECTIVE_CORE_MSUN 1.2
+/** Initial mass (Msun) below which main-sequence stars are convective throughout (hrt_remap()). */
+#define HRT_REMAP_FULLY_CONVECTIVE_MSUN 0.35
+/** Width (dex in mass) of the two logistic blends between mixed and unmixed cores (hrt_remap()). */
+#define HRT_REMAP_BLEND_DEX 0.03
+/** Fraction of the current phase's duration that hrt_step() proposes as the next step. */
+#define HRT_STEP_PHASE_FRACTION 0.02
+/** Largest fraction of the current mass that hrt_step() lets one proposed step add or remove. */
+#define HRT_STEP_MASS_FRACTION 0.01
+
+/**
+ * @brief The point of the track family from which a star continues after
+ * its current mass changed (gain or loss) to new_mass_msun.
+ *
+ * Given:
+ *   g              open grid
+ *   now            the star before the change: a state from hrt_eval(),
+ *                  hrt_star_at(), hrt_step() or an earlier hrt_remap()
+ *                  (status HRT_OK; its initial_mass_msun, z, age_yr, phase,
+ *                  mass_msun and core masses are used)
+ *   new_mass_msun  current mass after the change, Msun (finite, > 0)
+ * Returned:
+ *   out            the equivalent state: out->initial_mass_msun is the
+ *                  effective initial mass and out->age_yr the effective
+ *                  age from which hrt_eval(), hrt_star_new() + hrt_star_at()
+ *                  or hrt_step() continue; out->mass_msun = new_mass_msun
+ *                  (to 1e-12 relative, 1e-9 where the interpolated track
+ *                  family resolves no closer)
+ *   err            code and message
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (new mass not finite and positive),
+ *   HRT_E_INVALID (now->status is not HRT_OK), HRT_E_Z_RANGE,
+ *   HRT_E_MASS_RANGE (the equivalent initial mass lies outside the grid's
+ *   masses at this Z: the message gives the mass needed and the range),
+ *   HRT_E_NO_EQUIVALENT (no point of the grid is equivalent: a remnant, a
+ *   star before its first modelled EEP, a new mass at or below the helium
+ *   core (a stripped core, which the tracks do not contain), or no track of
+ *   the grid reaching the star's core mass in its phase at the new mass;
+ *   the message says which).
+ * Notes:
+ *   1. Main sequence: the star keeps the hydrogen its core has burnt.  The
+ *      fraction burnt is the energy radiated since the ZAMS over the energy
+ *      of the whole main sequence (integral of L dt, trapezoidal over the
+ *      EEPs).  Where the core is mixed (convective cores, and fully
+ *      convective stars), matter gained is mixed into the core the grid
+ *      gives at the new mass (helium core mass at the end of the main
+ *      sequence), so the fraction burnt falls by the ratio of the old to the
+ *      new core (rejuvenation); a radiative core (between
+ *      HRT_REMAP_FULLY_CONVECTIVE_MSUN and HRT_REMAP_CONVECTIVE_CORE_MSUN)
+ *      keeps its fraction; a core that shrinks keeps its composition and so
+ *      its fraction.  Derivation, sources and limits: tracks/MODEL.md,
+ *      "Stars whose mass changes".
+ *   2. After the main sequence: the equivalent point has the same phase, the
+ *      same core mass (the helium core on the subgiant and red giant
+ *      branches, the carbon-oxygen core once helium burns) and the new
+ *      current mass; out's matching core equals now's to 1e-9 relative.
+ *   3. A new mass equal to now->mass_msun returns now's own point (the state
+ *      hrt_eval() gives at now's initial mass, Z and age), in every phase,
+ *      remnants and stars before their first EEP included.
+ *   4. No allocation; O(n_eep) per trial track, typically 3-10 trial tracks.
+ *      Thread-safe on a shared grid.
+ */
+HRT_API int hrt_remap(const hrt_grid *g, const hrt_state *now, double new_mass_msun, hrt_state *out, hrt_error *err);
+
+/**
+ * @brief Advance a star by dt_yr along its track while its mass changes at
+ * mdot_msun_yr, and propose the next step.
+ *
+ * Given:
+ *   g             open grid
+ *   now           the star's present state (as for hrt_remap(); a remnant
+ *                 or a star before its first EEP may be stepped only with
+ *                 mdot_msun_yr = 0)
+ *   dt_yr         step, yr (finite, >= 0)
+ *   mdot_msun_yr  rate of mass change imposed from outside (accretion > 0,
+ *                 transfer or stripping < 0), Msun/yr, on top of the
+ *                 track's own wind; finite
+ * Returned:
+ *   next          the state dt_yr later: the star's track at now->age_yr +
+ *                 dt_yr, then, when mdot_msun_yr * dt_yr != 0, remapped by
+ *                 hrt_remap() to the mass its track gives plus
+ *                 mdot_msun_yr * dt_yr
+ *   dt_next_yr    (may be NULL) largest step that keeps the next call
+ *                 accurate: the smaller of HRT_STEP_PHASE_FRACTION of the
+ *                 current phase (of the time spent in it, but at least that
+ *                 fraction of the phase's start age, when the phase is open
+ *                 ended), the time left to the end of the phase when that is
+ *                 shorter (phases end at keypoints: the step lands on it), and,
+ *                 when mdot_msun_yr != 0, the time to change the mass by
+ *                 HRT_STEP_MASS_FRACTION and, for a loss, to strip the
+ *                 envelope down to the helium core
+ *   err           code and message
+ * Returned (function value):
+ *   HRT_OK, HRT_E_NULL, HRT_E_DOMAIN (dt or the rate not finite, dt < 0,
+ *   a mass that would fall to zero or below), HRT_E_INVALID (now->status not
+ *   HRT_OK), HRT_E_AGE_RANGE (past the end of a truncated track), and
+ *   every code of hrt_remap().  On failure next holds the star's track state
+ *   at the new age with status set to the code.
+ * Notes:
+ *   1. With mdot_msun_yr = 0 the star follows its own track exactly: next
+ *      is the hrt_eval() state at now's initial mass and Z and age + dt_yr,
+ *      bit for bit.
+ *   2. Operator splitting, first order in dt: the track's own evolution
+ *      (winds included), then the imposed mass change.  Steps no larger
+ *      than dt_next_yr keep the splitting error within about
+ *      HRT_STEP_MASS_FRACTION of the mass.
+ *   3. No allocation (a test counts every allocation of the library during
+ *      stepping).  Thread-safe on a shared grid.
+ */
+HRT_API int hrt_step(const hrt_grid *g, const hrt_state *now, double dt_yr, double mdot_msun_yr, hrt_state *next,
+                     double *dt_next_yr, hrt_error *err);
 
 /* ------------------------------------------------------------------------
  * Isochrones

@@ -96,6 +96,7 @@ program test_fortran
      call test_codes()
      call test_eval()
      call test_magnitudes()
+     call test_remap()
      call test_stars()
      call test_isochrones()
      call test_errors()
@@ -495,6 +496,42 @@ contains
     end do
     call hrtf_close(g)
   end subroutine test_stars
+
+  !> hrt_remap and hrt_step through the module's interfaces: an unchanged star stays on its own
+  !> track (bit for bit with hrt_eval), a changed one gets the new mass, a white dwarf is refused.
+  subroutine test_remap()
+    type(hrt_grid_t) :: g
+    type(hrt_error) :: err
+    type(hrt_state) :: s(1), r(1), nx(1), ref(1), wd(1)
+    real(c_double) :: m(1), a(1), dtn
+    integer(c_int) :: rc
+    call hrtf_open(g, trim(grid_path))
+    m = 2.0_c_double
+    a = 3e8_c_double
+    rc = hrt_eval(g%ptr, 1_c_size_t, m, c_null_ptr, 0.014_c_double, a, s, err)
+    call expect(rc == HRT_OK .and. s(1)%phase == HRT_PHASE_MS, 'hrt_eval of a 2 Msun main-sequence star')
+    rc = hrt_remap(g%ptr, s(1), s(1)%mass_msun, r(1), err)
+    call expect(rc == HRT_OK, 'hrt_remap to the same mass from Fortran')
+    call expect_same_states(r, s, 'hrt_remap to the same mass returns the star''s own state')
+    rc = hrt_remap(g%ptr, s(1), 1.2_c_double * s(1)%mass_msun, r(1), err)
+    call expect(rc == HRT_OK .and. abs(r(1)%mass_msun - 1.2_c_double * s(1)%mass_msun) < 1e-9_c_double .and. &
+         r(1)%initial_mass_msun > s(1)%initial_mass_msun, 'hrt_remap of a gain: new mass, heavier initial mass')
+    rc = hrt_step(g%ptr, s(1), 1e6_c_double, 0.0_c_double, nx(1), dtn, err)
+    a = 3e8_c_double + 1e6_c_double
+    rc = max(rc, hrt_eval(g%ptr, 1_c_size_t, m, c_null_ptr, 0.014_c_double, a, ref, err))
+    call expect(rc == HRT_OK .and. dtn > 0.0_c_double, 'hrt_step without a mass change from Fortran')
+    call expect_same_states(nx, ref, 'hrt_step without a mass change follows the track')
+    rc = hrt_step(g%ptr, s(1), 1e6_c_double, 1e-8_c_double, nx(1), dtn, err)
+    call expect(rc == HRT_OK .and. abs(nx(1)%mass_msun - ref(1)%mass_msun - 1e-2_c_double) < 1e-9_c_double, &
+         'hrt_step with a gain adds it to the track''s mass')
+    m = 1.0_c_double
+    a = 2e10_c_double
+    rc = hrt_eval(g%ptr, 1_c_size_t, m, c_null_ptr, 0.014_c_double, a, wd, err)
+    rc = hrt_remap(g%ptr, wd(1), 0.7_c_double, r(1), err)
+    call expect(rc == HRT_E_NO_EQUIVALENT .and. err%code == HRT_E_NO_EQUIVALENT, &
+         'hrt_remap refuses a white dwarf with HRT_E_NO_EQUIVALENT')
+    call hrtf_close(g)
+  end subroutine test_remap
 
   subroutine test_isochrones()
     type(hrt_grid_t) :: g

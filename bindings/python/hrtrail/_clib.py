@@ -381,6 +381,8 @@ def _declare(lib):
         "hrt_star_new": (i, [vp, d, d, pvp, err]),
         "hrt_star_free": (None, [vp]),
         "hrt_star_at": (i, [vp, d, vp]),
+        "hrt_remap": (i, [vp, vp, d, vp, err]),
+        "hrt_step": (i, [vp, vp, d, d, vp, pd, err]),
         "hrt_star_n_eep": (sz, [vp]),
         "hrt_star_eep_state": (i, [vp, sz, vp]),
         "hrt_star_route": (i, [vp]),

@@ -516,6 +516,51 @@ class Grid(_Owned):
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""
         return Star(self, mass_msun, z)
 
+    # -- stars whose mass changes ------------------------------------------
+    def remap(self, state: "State", new_mass_msun: Num) -> "State":
+        """The point of the track family from which a star continues after its current mass changed
+        (hrt_remap): a State whose initial_mass_msun is the effective initial mass and age_yr the
+        effective age; its mass_msun is new_mass_msun, the current mass after the change (Msun).
+
+        state is a State from this grid (Grid.state, Grid.evaluate, Star.at, Grid.step, Grid.remap).
+        Raises HrtrailError with Status.NO_EQUIVALENT where the grid holds no equivalent point (a
+        remnant, a stripped core, a star before its first EEP, no track with the star's core in its
+        phase at that mass), OutsideGridError (MASS_RANGE) where the equivalent initial mass lies
+        outside the grid.  Method and limits: tracks/MODEL.md, "Stars whose mass changes".
+        """
+        out = HrtState()
+        e, pe = new_error()
+        rc = lib.hrt_remap(self._handle, ctypes.byref(_state_to_c(state)),
+                           _u.value(new_mass_msun, "mass", "new_mass_msun"), ctypes.byref(out), pe)
+        check(rc, e, "hrt_remap")
+        return State.from_c(out)
+
+    def step(self, state: "State", dt_yr: Num, mdot_msun_yr: Num = 0.0) -> Tuple["State", float]:
+        """Advance a star by dt_yr along its track while its mass changes at mdot_msun_yr (Msun/yr,
+        > 0 gained) on top of its own wind (hrt_step).  Returns (the new State, the largest next step
+        in yr).  With mdot_msun_yr = 0 the star follows its own track exactly.  Raises as remap().
+        """
+        out = HrtState()
+        dtn = ctypes.c_double()
+        e, pe = new_error()
+        rc = lib.hrt_step(self._handle, ctypes.byref(_state_to_c(state)), _u.value(dt_yr, "age", "dt_yr"),
+                          float(mdot_msun_yr), ctypes.byref(out), ctypes.byref(dtn), pe)
+        check(rc, e, "hrt_step")
+        return State.from_c(out), dtn.value
+
+
+def _state_to_c(state) -> HrtState:
+    """A State (or a record of Grid.evaluate) as the C struct the library reads."""
+    if not isinstance(state, State):
+        state = State.from_record(state)
+    c = HrtState()
+    c.struct_size = ctypes.sizeof(HrtState)
+    for n in ("status", "phase", "route", "remnant", "flags"):
+        setattr(c, n, int(getattr(state, n)))
+    for n in _FLOAT_FIELDS:
+        setattr(c, n, float(getattr(state, n)))
+    return c
+
 
 class Star(_Owned):
     """One star: its track interpolated once (hrt_star), then asked any age.

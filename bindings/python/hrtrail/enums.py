@@ -40,6 +40,7 @@ class Status(enum.IntEnum):
     INTERNAL = 13
     NO_TRACK = 14
     NO_MATCH = 15
+    NO_EQUIVALENT = 16
 
     @property
     def description(self):
