@@ -77,6 +77,36 @@ HRT_API int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data
 /** Add a track already on EEPs (t->n <= the route's EEP count). Same codes. */
 HRT_API int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err);
 /**
+ * @brief Declare an extra per-EEP quantity of the grid (tracks/FORMAT.md,
+ * "Extra quantities"), before any track is added.
+ * Given: name (lower-case letters, digits and '_', starting with a letter,
+ * under 64 characters, not a standard quantity's name), unit (an astropy
+ * unit string, "" if dimensionless) and meaning (printable ASCII under 256
+ * characters).  At most 32 per grid.  Once one is declared, every track is
+ * added with hrt_builder_add_track_extra() or
+ * hrt_builder_add_eep_track_extra(), giving one column per declared
+ * quantity in the order of declaration.  The file stores them by name, and
+ * hrt_grid_extra_name() lists them in name order.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (bad name or
+ * text, a name declared twice, more than 32, or tracks already added).
+ */
+HRT_API int hrt_builder_declare_extra(hrt_builder *b, const char *name, const char *unit, const char *meaning,
+                                      hrt_error *err);
+/** Number of extra quantities declared so far (0 for NULL). */
+HRT_API size_t hrt_builder_extra_count(const hrt_builder *b);
+/**
+ * @brief hrt_builder_add_track() with the extra quantities: extra[k] holds
+ * t->n values of the k-th declared quantity (finite), resampled onto the
+ * EEPs exactly as the standard columns are (linear in the EEP distance).
+ * n_extra must equal the number declared.  Codes of hrt_builder_add_track(),
+ * and HRT_E_INVALID for a wrong n_extra, HRT_E_DOMAIN for a value not finite.
+ */
+HRT_API int hrt_builder_add_track_extra(hrt_builder *b, double z, const hrt_track_data *t, size_t n_extra,
+                                        const double *const *extra, hrt_error *err);
+/** hrt_builder_add_eep_track() with the extra quantities (as hrt_builder_add_track_extra()). */
+HRT_API int hrt_builder_add_eep_track_extra(hrt_builder *b, double z, const hrt_track_data *t, size_t n_extra,
+                                            const double *const *extra, hrt_error *err);
+/**
  * @brief Set the n_routes-1 route-boundary masses (Msun) of metallicity z.
  * Without it, writing places each boundary at the geometric mean of the
  * last track of one route and the first of the next.

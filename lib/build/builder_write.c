@@ -445,6 +445,29 @@ static void write_group_dims(const hrt_builder *b, const trail_z_group *g, hid_t
     }
 }
 
+/* metallicity/<gi>/extra/<name>: the extra quantities' tables, [track][EEP]
+ * as the standard ones, with their units and meanings. */
+static void write_extra_tables(const hrt_builder *b, const trail_z_group *g, hid_t gg, wctx *w, double *values)
+{
+    if (b->n_extra == 0)
+        return;
+    hid_t gx = w_group(w, gg, TRAIL_EXTRA_GROUP);
+    if (gx < 0)
+        return;
+    size_t n = g->n, width = b->n_eep_max;
+    hsize_t dims_table[2] = {n, width};
+    for (size_t k = 0; k < b->n_extra; k++) {
+        for (size_t i = 0; i < n; i++) {
+            size_t ne = (size_t)g->t[i].n_eep;
+            for (size_t j = 0; j < width; j++)
+                values[i * width + j] = j < ne ? g->t[i].x[k * ne + j] : NAN;
+        }
+        w_data(w, gx, b->extra[k].name, 2, dims_table, 0, values, b->extra[k].units, b->extra[k].meaning);
+        w_dims(w, gx, b->extra[k].name, gg, "track", "eep");
+    }
+    H5Gclose(gx);
+}
+
 /* metallicity/<gi>/: the group's Z, its tracks and their tables.  Only out
  * of memory is returned; HDF5 failures set w->failed. */
 static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_error *err)
@@ -468,6 +491,7 @@ static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_e
     write_track_list(b, g, gg, w, values, codes);
     write_eep_tables(b, g, gg, w, values, codes);
     write_group_dims(b, g, gg, w);
+    write_extra_tables(b, g, gg, w, values);
     free(values);
     free(codes);
     H5Gclose(gg);
