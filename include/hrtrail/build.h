@@ -92,6 +92,13 @@ HRT_API int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_
  */
 HRT_API int hrt_builder_declare_extra(hrt_builder *b, const char *name, const char *unit, const char *meaning,
                                       hrt_error *err);
+/**
+ * @brief Store the declared extra quantity `name` in single precision
+ * (on != 0: IEEE binary32, relative rounding 6e-8, half the space) or in
+ * double precision (on = 0, the default, values read back bit for bit).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (not declared).
+ */
+HRT_API int hrt_builder_set_extra_single(hrt_builder *b, const char *name, int on, hrt_error *err);
 /** Number of extra quantities declared so far (0 for NULL). */
 HRT_API size_t hrt_builder_extra_count(const hrt_builder *b);
 /**

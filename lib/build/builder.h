@@ -41,6 +41,7 @@ struct hrt_builder {
     int deflate; /* deflate level of the file's numeric data, 0: not compressed */
     size_t n_extra; /* extra per-EEP quantities declared (builder_extra.c) */
     trail_extra_decl extra[TRAIL_MAX_EXTRA];
+    int extra_single[TRAIL_MAX_EXTRA]; /* stored as IEEE binary32 (hrt_builder_set_extra_single) */
 };
 
 /* builder.c: add a raw (eep = 0) or EEP (eep = 1) track with the builder's

@@ -44,6 +44,19 @@ int hrt_builder_declare_extra(hrt_builder *b, const char *name, const char *unit
     return trail_set_error(err, HRT_OK, NULL);
 }
 
+int hrt_builder_set_extra_single(hrt_builder *b, const char *name, int on, hrt_error *err)
+{
+    if (!b || !name)
+        return trail_set_error(err, HRT_E_NULL, "hrt_builder_set_extra_single: %s is NULL", !b ? "builder" : "name");
+    for (size_t k = 0; k < b->n_extra; k++)
+        if (strcmp(b->extra[k].name, name) == 0) {
+            b->extra_single[k] = on != 0;
+            return trail_set_error(err, HRT_OK, NULL);
+        }
+    return trail_set_error(err, HRT_E_INVALID, "hrt_builder_set_extra_single: no extra quantity '%.80s' declared",
+                           name);
+}
+
 size_t hrt_builder_extra_count(const hrt_builder *b) { return b ? b->n_extra : 0; }
 
 /* The extra columns of t: one per declared quantity, finite. */

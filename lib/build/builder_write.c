@@ -445,6 +445,25 @@ static void write_group_dims(const hrt_builder *b, const trail_z_group *g, hid_t
     }
 }
 
+/* A [track][EEP] table stored as IEEE binary32 (HDF5 converts the doubles). */
+static void w_data_single(wctx *w, hid_t loc, const char *name, const hsize_t *dims, const double *v,
+                          const char *units, const char *meaning)
+{
+    hid_t s = H5Screate_simple(2, dims, NULL);
+    hid_t dcpl = w_storage(w, 2, dims, sizeof(float));
+    hid_t ds = H5Dcreate2(loc, name, H5T_IEEE_F32LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
+    if (dcpl >= 0)
+        H5Pclose(dcpl);
+    if (ds < 0 || H5Dwrite(ds, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) < 0)
+        w->failed = 1;
+    if (ds >= 0) {
+        w_text_attr(w, ds, "units", units);
+        w_text_attr(w, ds, "long_name", meaning);
+        H5Dclose(ds);
+    }
+    H5Sclose(s);
+}
+
 /* metallicity/<gi>/extra/<name>: the extra quantities' tables, [track][EEP]
  * as the standard ones, with their units and meanings. */
 static void write_extra_tables(const hrt_builder *b, const trail_z_group *g, hid_t gg, wctx *w, double *values)
@@ -462,7 +481,10 @@ static void write_extra_tables(const hrt_builder *b, const trail_z_group *g, hid
             for (size_t j = 0; j < width; j++)
                 values[i * width + j] = j < ne ? g->t[i].x[k * ne + j] : NAN;
         }
-        w_data(w, gx, b->extra[k].name, 2, dims_table, 0, values, b->extra[k].units, b->extra[k].meaning);
+        if (b->extra_single[k])
+            w_data_single(w, gx, b->extra[k].name, dims_table, values, b->extra[k].units, b->extra[k].meaning);
+        else
+            w_data(w, gx, b->extra[k].name, 2, dims_table, 0, values, b->extra[k].units, b->extra[k].meaning);
         w_dims(w, gx, b->extra[k].name, gg, "track", "eep");
     }
     H5Gclose(gx);
