@@ -402,6 +402,14 @@ def _declare(lib):
         "hrt_collapse_remnant": (i, [d, d, pi, pd]),
         "hrt_bc_v": (d, [d]),
         "hrt_magnitudes": (i, [sz, vp, d, d, vp, vp, vp, vp, vp, err]),
+        # extra quantities of a grid
+        "hrt_grid_extra_count": (sz, [vp]),
+        "hrt_grid_extra_name": (cp, [vp, sz]),
+        "hrt_grid_extra_unit": (cp, [vp, sz]),
+        "hrt_grid_extra_meaning": (cp, [vp, sz]),
+        "hrt_grid_extra_index": (lg, [vp, cp]),
+        "hrt_state_extra": (i, [vp, vp, sz, psz, vp, err]),
+        "hrt_extra_at": (i, [vp, d, d, d, sz, psz, vp, vp, err]),
         # populations
         "hrt_imf_name": (cp, [i]),
         "hrt_imf_from_name": (i, [cp]),

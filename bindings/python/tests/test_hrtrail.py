@@ -626,6 +626,8 @@ def write_format_1(src, dst):
             og.attrs["Z"] = g.attrs["z"]
             n_eep = g["n_eep"][()]
             for name, ds in g.items():
+                if isinstance(ds, h5py.Group):
+                    continue  # extra/: format 1 had no extra quantities
                 data = ds[()]
                 if name == "remnant":
                     data = np.array([index["remnant"][c] for c in data], dtype="<i4")
@@ -635,6 +637,37 @@ def write_format_1(src, dst):
                         out[i, :n] = [index["phase"][c] for c in data[i, :n]]
                     data = out
                 og.create_dataset(old.get(name, name), data=data)
+
+
+class Extras(Base):
+    """The grid's extra quantities (hrt_grid_extra_*, hrt_state_extra, hrt_extra_at)."""
+
+    def test_declared(self):
+        q = self.grid.extra_quantities
+        names = [x.name for x in q]
+        self.assertEqual(names, sorted(names))
+        self.assertIn("gyration_k2", names)
+        self.assertEqual(dict((x.name, x.unit) for x in q)["envelope_mass_msun"], "solMass")
+
+    def test_states_and_stars_agree(self):
+        g = self.grid
+        m, a = np.array([0.5, 1.0, 2.0, 8.0]), np.array([1e9, 4.6e9, 5e8, 2e7])
+        st = g.evaluate(m, a, 0.014)
+        got = g.extras_of(st, ["gyration_k2", "lambda_ce"])
+        self.assertEqual(got["lambda_ce"].shape, m.shape)
+        for i in range(m.size):
+            one = g.extra(m[i], a[i], 0.014, ["gyration_k2", "lambda_ce"])
+            self.assertEqual(one["gyration_k2"], got["gyration_k2"][i])  # the same interpolation, bit for bit
+            self.assertEqual(one["lambda_ce"], got["lambda_ce"][i])
+        # envelope mass: the state's M - M_He (to the single precision of the file and the interpolation)
+        env = g.extras_of(st, "envelope_mass_msun")["envelope_mass_msun"]
+        np.testing.assert_allclose(env, st["mass_msun"] - st["he_core_mass_msun"], rtol=1e-3)
+        # a remnant has none
+        self.assertTrue(np.isnan(g.extra(1.0, 13e9, 0.014, "gyration_k2")["gyration_k2"]))
+
+    def test_unknown_name(self):
+        with self.assertRaises(hrtrail.InvalidInputError):
+            self.grid.extra(1.0, 1e9, 0.014, "no_such_quantity")
 
 
 class Upgrade(Base):
