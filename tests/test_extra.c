@@ -7,6 +7,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include "hrtrail.h"
@@ -320,6 +321,90 @@ START_TEST(test_raw_resample)
 }
 END_TEST
 
+/* The importer maps a user's columns to extra quantities: one by a map
+ * entry (extra.NAME=COLUMN, extra.NAME.units=UNIT), one by
+ * hrt_import_add_extra; a copy of the luminosity column must come out equal
+ * to log L at every EEP, a linear function of log L exactly that function. */
+START_TEST(test_import_extra)
+{
+    char dir[256];
+    snprintf(dir, sizeof dir, "/tmp/hrt_extra_import_%d", (int)getpid());
+    ck_assert_int_eq(mkdir(dir, 0700), 0);
+    const char *kp[] = {"zams", "tams"};
+    int seg[] = {40};
+    hrt_route_spec r = {"only", 2, kp, seg};
+    hrt_import *imp;
+    hrt_error e;
+    ck_assert_int_eq(hrt_import_new(&imp, &e), HRT_OK);
+    ck_assert_msg(hrt_import_set_routes(imp, 1, &r, &e) == HRT_OK, "%s", e.message);
+    ck_assert_msg(hrt_import_map(imp, "extra.l_copy=L_again extra.l_copy.units=dex(solLum)", &e) == HRT_OK, "%s",
+                  e.message);
+    ck_assert_int_eq(hrt_import_map(imp, "extra.Bad=x", &e), HRT_E_INVALID);
+    ck_assert_int_eq(hrt_import_map(imp, "extra.nope.units=erg", &e), HRT_E_INVALID);
+    ck_assert_msg(hrt_import_add_extra(imp, "twice_l", "Q2", "dex(solLum)", "twice log L plus one", &e) == HRT_OK,
+                  "%s", e.message);
+    ck_assert_uint_eq(hrt_import_n_extra(imp), 2);
+    const double masses[] = {1.0, 1.3, 1.7, 2.2};
+    for (int k = 0; k < 4; k++) {
+        char path[320];
+        snprintf(path, sizeof path, "%s/m%d.csv", dir, k);
+        FILE *f = fopen(path, "w");
+        ck_assert_ptr_nonnull(f);
+        fprintf(f, "initial_mass_msun,age_yr,log_l_lsun,log_teff_k,keypoints,L_again,Q2\n");
+        double m = masses[k];
+        for (int s = 0; s < 200; s++) {
+            double u = s / 199.0, ll = 4.0 * log10(m) + 0.4 * u + 0.1 * sin(6.0 * u);
+            fprintf(f, "%.17g,%.17g,%.17g,%.17g,%s,%.17g,%.17g\n", m, 1e6 + 1e10 * pow(m, -2.5) * u, ll,
+                    3.76 + 0.2 * log10(m) - 0.03 * u, s == 0 ? "zams" : s == 199 ? "tams" : "-", ll, 2.0 * ll + 1.0);
+        }
+        fclose(f);
+        ck_assert_msg(hrt_import_add_file(imp, path, 0.014, &e) == HRT_OK, "%s", e.message);
+    }
+    char out[320];
+    snprintf(out, sizeof out, "%s/grid.h5", dir);
+    ck_assert_msg(hrt_import_run(imp, out, &e) == HRT_OK, "%s", e.message);
+    hrt_import_free(imp);
+    hrt_grid *g;
+    ck_assert_msg(hrt_grid_open(out, &g, &e) == HRT_OK, "%s", e.message);
+    ck_assert_uint_eq(hrt_grid_extra_count(g), 2);
+    long kc = hrt_grid_extra_index(g, "l_copy"), kt = hrt_grid_extra_index(g, "twice_l");
+    ck_assert(kc >= 0 && kt >= 0);
+    ck_assert_str_eq(hrt_grid_extra_unit(g, (size_t)kc), "dex(solLum)");
+    ck_assert_str_eq(hrt_grid_extra_meaning(g, (size_t)kc), "column L_again of the imported tables");
+    ck_assert_str_eq(hrt_grid_extra_meaning(g, (size_t)kt), "twice log L plus one");
+    hrt_star *st;
+    ck_assert_int_eq(hrt_star_new(g, 1.5, 0.014, &st, &e), HRT_OK);
+    for (size_t j = 0; j < hrt_star_n_eep(st); j++) {
+        hrt_state s;
+        hrt_star_eep_state(st, j, &s);
+        size_t idx[2] = {(size_t)kc, (size_t)kt};
+        double v[2];
+        ck_assert_int_eq(hrt_state_extra(g, &s, 2, idx, v, &e), HRT_OK);
+        ck_assert_msg(fabs(v[0] - s.log_l_lsun) < TOL_EXACT, "EEP %zu: %g vs %g", j, v[0], s.log_l_lsun);
+        ck_assert_msg(fabs(v[1] - (2.0 * s.log_l_lsun + 1.0)) < TOL_EXACT, "EEP %zu: %g", j, v[1]);
+    }
+    hrt_star_free(st);
+    hrt_grid_close(g);
+    /* a table without the mapped column is a problem of the file */
+    ck_assert_int_eq(hrt_import_new(&imp, &e), HRT_OK);
+    ck_assert_int_eq(hrt_import_set_routes(imp, 1, &r, &e), HRT_OK);
+    ck_assert_int_eq(hrt_import_add_extra(imp, "missing_q", "NoSuchColumn", NULL, NULL, &e), HRT_OK);
+    char path0[320];
+    snprintf(path0, sizeof path0, "%s/m0.csv", dir);
+    ck_assert_int_eq(hrt_import_add_file(imp, path0, 0.014, &e), HRT_OK);
+    ck_assert_int_ne(hrt_import_run(imp, NULL, &e), HRT_OK);
+    ck_assert_msg(strstr(e.message, "NoSuchColumn") != NULL, "%s", e.message);
+    hrt_import_free(imp);
+    for (int k = 0; k < 4; k++) {
+        char path[320];
+        snprintf(path, sizeof path, "%s/m%d.csv", dir, k);
+        unlink(path);
+    }
+    unlink(out);
+    rmdir(dir);
+}
+END_TEST
+
 /* Threads: many queries at once on one grid give each thread's answers
  * of a single-threaded run. */
 typedef struct thr_arg {
@@ -385,6 +470,7 @@ int main(void)
     tcase_add_test(tc, test_bad_requests);
     tcase_add_test(tc, test_builder_rules);
     tcase_add_test(tc, test_raw_resample);
+    tcase_add_test(tc, test_import_extra);
     tcase_add_test(tc, test_threads);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);

@@ -380,6 +380,23 @@ HRT_API int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *user
                                                                       const char *file),
                                     void *user);
 /**
+ * @brief Read the tables' column `column` as the grid's extra quantity
+ * `name` (tracks/FORMAT.md, "Extra quantities"), with its unit (an astropy
+ * unit string, "" or NULL: dimensionless) and meaning (NULL: "column COLUMN
+ * of the imported tables").  Every table must have the column; each value
+ * must be a finite number (a row without one is a problem of the row, as
+ * for the standard columns).  The values are resampled onto the EEPs as
+ * the standard columns are.  The map entries extra.NAME=COLUMN and
+ * extra.NAME.units=UNIT (hrt_import_map(), `hrtrail import --map`) do
+ * the same.  Calling it again for a name re-maps it.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (a name that
+ * is not a valid extra name, more than 32, text not printable ASCII).
+ */
+HRT_API int hrt_import_add_extra(hrt_import *imp, const char *name, const char *column, const char *unit,
+                                 const char *meaning, hrt_error *err);
+/** Number of extra quantities the import reads (0 for NULL). */
+HRT_API size_t hrt_import_n_extra(const hrt_import *imp);
+/**
  * @brief Add a track file.
  * z: its metal mass fraction, or NaN to take it from the map (z=...), the
  * file-name pattern ({z} or {feh}) or a column.  Nothing is read yet.
