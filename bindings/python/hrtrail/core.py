@@ -388,8 +388,9 @@ class Grid(_Owned):
         return list(names), (ctypes.c_size_t * max(len(idx), 1))(*idx)
 
     def extra(self, mass_msun: Num, age_yr: Num, z: Num, names=None) -> dict:
-        """Extra quantities of one star (hrt_extra_at): {name: value}, NaN before the track's first EEP and
-        for remnants.  names: a name, a list of names, or None for all of them."""
+        """Extra quantities of one star (hrt_extra_at) of initial mass mass_msun (Msun), age age_yr (yr since
+        birth) and metal mass fraction z: {name: value}, NaN before the track's first EEP and for remnants.
+        names: a name, a list of names, or None for all of them."""
         names, idx = self._extra_indices(names)
         out = (ctypes.c_double * max(len(names), 1))()
         e, pe = new_error()

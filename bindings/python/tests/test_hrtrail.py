@@ -669,6 +669,37 @@ class Extras(Base):
         with self.assertRaises(hrtrail.InvalidInputError):
             self.grid.extra(1.0, 1e9, 0.014, "no_such_quantity")
 
+    def test_builder_and_importer(self):
+        """Extras through the Python builder (a copy of log L) and the importer's settings."""
+        routes = [hrtrail.RouteSpec("only", ("zams", "tams"), (30,))]
+        with tempfile.TemporaryDirectory() as d:
+            b = hrtrail.Builder(routes, 0.014)
+            b.declare_extra("l_copy", "dex(solLum)", "log L again")
+            b.declare_extra("l_single", "dex(solLum)", "log L in single precision", single=True)
+            self.assertEqual(b.extra_count, 2)
+            for m in (1.0, 1.4, 2.0):
+                e = np.linspace(0.0, 1.0, 31)
+                ll = 4.0 * np.log10(m) + 0.5 * e
+                tr = dict(initial_mass_msun=m, route=0, log_age_yr=10.0 - 2.5 * np.log10(m) + 0.3 * e, log_l_lsun=ll,
+                          log_teff_k=3.76 + 0.1 * np.log10(m) - 0.02 * e, mass_msun=np.full(31, m),
+                          he_core_mass_msun=np.zeros(31), co_core_mass_msun=np.zeros(31),
+                          phase=np.full(31, int(hrtrail.Phase.MS)), extra={"l_copy": ll, "l_single": ll})
+                b.add_eep_track(0.014, tr)
+            with self.assertRaises(hrtrail.InvalidInputError):
+                b.add_eep_track(0.014, dict(tr, extra={"l_copy": ll}))  # a declared quantity missing
+            path = os.path.join(d, "x.h5")
+            b.write(path)
+            b.close()
+            with hrtrail.Grid(path) as g:
+                st = g.evaluate([1.2, 1.7], [3e9, 5e8], 0.014)
+                x = g.extras_of(st)
+                np.testing.assert_allclose(x["l_copy"], st["log_l_lsun"], rtol=0, atol=1e-12)
+                np.testing.assert_allclose(x["l_single"], st["log_l_lsun"], rtol=0, atol=1e-6)  # binary32
+        imp = hrtrail.Importer()
+        imp.add_extra("q_col", "Q", "erg", "a user's column")
+        self.assertEqual(imp.n_extra, 1)
+        imp.close()
+
 
 class Upgrade(Base):
     """hrtrail.upgrade_grid (hrt_grid_upgrade) on the default grid written in format version 1."""
