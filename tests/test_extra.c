@@ -10,6 +10,8 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include <hdf5.h>
+
 #include "hrtrail.h"
 #include "synth.h"
 
@@ -321,6 +323,60 @@ START_TEST(test_raw_resample)
 }
 END_TEST
 
+/* A copy of the extra grid, changed by f(file), must be refused on open
+ * with a message naming what is wrong. */
+static void expect_refused(void (*change)(hid_t), const char *needle)
+{
+    char path[256];
+    snprintf(path, sizeof path, "/tmp/hrt_extra_bad_%d.h5", (int)getpid());
+    FILE *in = fopen(grid_path, "rb"), *out = fopen(path, "wb");
+    ck_assert(in && out);
+    char buf[65536];
+    size_t k;
+    while ((k = fread(buf, 1, sizeof buf, in)) > 0)
+        ck_assert_uint_eq(fwrite(buf, 1, k, out), k);
+    fclose(in);
+    fclose(out);
+    hid_t f = H5Fopen(path, H5F_ACC_RDWR, H5P_DEFAULT);
+    ck_assert(f >= 0);
+    change(f);
+    H5Fclose(f);
+    hrt_grid *g = NULL;
+    hrt_error e;
+    int rc = hrt_grid_open(path, &g, &e);
+    unlink(path);
+    ck_assert_msg(rc == HRT_E_FORMAT, "%s: opened with code %d (%s)", needle, rc, e.message);
+    ck_assert_msg(strstr(e.message, needle) != NULL, "message '%s' lacks '%s'", e.message, needle);
+    ck_assert_ptr_null(g);
+}
+
+static void drop_group_extra(hid_t f) { ck_assert(H5Ldelete(f, "metallicity/2/extra", H5P_DEFAULT) >= 0); }
+static void drop_one_extra(hid_t f) { ck_assert(H5Ldelete(f, "metallicity/1/extra/lin_q", H5P_DEFAULT) >= 0); }
+static void drop_units(hid_t f) { ck_assert(H5Adelete_by_name(f, "metallicity/0/extra/lin_q", "units", H5P_DEFAULT) >= 0); }
+
+static void nan_value(hid_t f)
+{
+    hid_t d = H5Dopen2(f, "metallicity/3/extra/copy_log_l", H5P_DEFAULT);
+    hid_t s = H5Dget_space(d);
+    hsize_t start[2] = {2, 5}, count[2] = {1, 1};
+    H5Sselect_hyperslab(s, H5S_SELECT_SET, start, NULL, count, NULL);
+    hid_t m = H5Screate_simple(2, count, NULL);
+    double v = NAN;
+    ck_assert(H5Dwrite(d, H5T_NATIVE_DOUBLE, m, s, H5P_DEFAULT, &v) >= 0);
+    H5Sclose(m);
+    H5Sclose(s);
+    H5Dclose(d);
+}
+
+START_TEST(test_reader_refuses)
+{
+    expect_refused(drop_group_extra, "metallicity/2/extra");
+    expect_refused(drop_one_extra, "metallicity/1/extra");
+    expect_refused(drop_units, "units");
+    expect_refused(nan_value, "copy_log_l[2][5]");
+}
+END_TEST
+
 /* The importer maps a user's columns to extra quantities: one by a map
  * entry (extra.NAME=COLUMN, extra.NAME.units=UNIT), one by
  * hrt_import_add_extra; a copy of the luminosity column must come out equal
@@ -471,6 +527,7 @@ int main(void)
     tcase_add_test(tc, test_builder_rules);
     tcase_add_test(tc, test_raw_resample);
     tcase_add_test(tc, test_import_extra);
+    tcase_add_test(tc, test_reader_refuses);
     tcase_add_test(tc, test_threads);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
