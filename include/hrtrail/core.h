@@ -590,8 +590,9 @@ HRT_API long hrt_grid_extra_index(const hrt_grid *g, const char *name);
  *   out   n values, out[t] of quantity idx[t] (or t); NaN where the state
  *         has no EEP (before the first EEP, a remnant, a failed star)
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (an index out
- * of range, or an EEP not on the star's track), and the codes of
- * hrt_star_new() for a state whose mass or Z is not on the grid.
+ * of range, or an EEP not on the star's track), HRT_E_NOMEM (first call
+ * only), and the codes of hrt_star_new() for a state whose mass or Z is not
+ * on the grid.
  * Notes:
  *   1. Interpolated exactly as log L is: the grid's type across log initial
  *      mass and [Fe/H] at each EEP, linear in the EEP fraction the age gives.
@@ -600,8 +601,13 @@ HRT_API long hrt_grid_extra_index(const hrt_grid *g, const char *name);
  *      extra is interpolated as stored, not as a fraction of the initial mass).
  *   2. The extras live apart from the standard quantities: hrt_eval() and
  *      hrt_star_at() never read them and cost the same on a grid with or
- *      without.  This call costs about one hrt_eval() per state plus two
- *      interpolations per quantity.  No allocation, thread-safe.
+ *      without (the same instructions, measured).  Their slopes across mass
+ *      are computed by the first call on a grid that needs them (once, under
+ *      the grid's lock: the first call allocates and takes about as long as
+ *      a third of the open; HRT_E_NOMEM if that fails), so opening a grid
+ *      does not pay for them; hrt_grid_memory_bytes() counts them prepared.
+ *      Later calls allocate nothing and cost about 1300 instructions per
+ *      state for six quantities.  Thread-safe, also on first use.
  */
 HRT_API int hrt_state_extra(const hrt_grid *g, const hrt_state *s, size_t n, const size_t *idx, double *out,
                             hrt_error *err);

@@ -7,7 +7,9 @@
 #ifndef HRTRAIL_LIB_CORE_H
 #define HRTRAIL_LIB_CORE_H
 
+#include <pthread.h>
 #include <stdarg.h>
+#include <stdatomic.h>
 #include <stddef.h>
 #include <math.h>
 #include <stdint.h>
@@ -79,6 +81,15 @@ struct hrt_grid {
     size_t bytes;
     size_t n_extra;           /* extra per-EEP quantities (extra.c) */
     trail_extra_decl *extra;  /* [n_extra] their names, units, meanings */
+    /* The extras' knots are prepared on their first query (extra.c), so that
+     * opening a grid costs their slopes only for those who ask: until then
+     * extra_raw[iz] holds the file's values [n_extra][n_mass][n_eep_max].
+     * extra_ready is set (release) once every group's xknots is filled,
+     * under extra_lock; the only part of an open grid that changes. */
+    double **extra_raw;
+    pthread_mutex_t extra_lock;
+    int extra_lock_init;
+    atomic_int extra_ready;
 };
 
 /* Mass context inside one metallicity group: which interval, which weights. */

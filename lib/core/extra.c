@@ -87,18 +87,17 @@ static int xslopes_at(const hrt_grid *g, zgroup *gp, size_t k, size_t j, xrun *r
     return HRT_OK;
 }
 
-static int prepare_group(const hrt_grid *g, zgroup *gp, const trail_file_group *fg, xrun *rb, size_t *bytes)
+static int prepare_group(const hrt_grid *g, zgroup *gp, const double *raw, xrun *rb)
 {
     size_t nm = gp->n_mass, J = g->n_eep_max, nx = g->n_extra;
     size_t cells = J * (nm + 1) * nx * 2;
     gp->xknots = calloc(cells, sizeof(double));
     if (!gp->xknots)
         return HRT_E_NOMEM;
-    *bytes += cells * sizeof(double);
     for (size_t k = 0; k < nx; k++)
         for (size_t i = 0; i < nm; i++)
             for (size_t j = 0; j < (size_t)gp->n_eep[i]; j++)
-                xknot(g, gp, j, i, k)[0] = fg->x[(k * nm + i) * J + j];
+                xknot(g, gp, j, i, k)[0] = raw[(k * nm + i) * J + j];
     for (size_t k = 0; k < nx; k++)
         for (size_t j = 0; j < J; j++) {
             int rc = xslopes_at(g, gp, k, j, rb);
@@ -108,15 +107,10 @@ static int prepare_group(const hrt_grid *g, zgroup *gp, const trail_file_group *
     return HRT_OK;
 }
 
-int trail_extra_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
+/* Every group's knots from extra_raw (which is freed); on failure nothing
+ * changes (a later query tries again). */
+static int prepare_all(hrt_grid *g)
 {
-    if (f->n_extra == 0)
-        return HRT_OK;
-    g->n_extra = f->n_extra;
-    g->extra = f->extra; /* taken: f keeps none */
-    f->extra = NULL;
-    f->n_extra = 0;
-    g->bytes += g->n_extra * sizeof *g->extra;
     size_t maxn = 1;
     for (size_t iz = 0; iz < g->n_z; iz++)
         maxn = g->grp[iz].n_mass > maxn ? g->grp[iz].n_mass : maxn;
@@ -129,17 +123,65 @@ int trail_extra_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
         rb.y = rb.x + maxn + 1;
         rb.d = rb.y + maxn + 1;
     }
-    size_t iz = 0;
-    for (; iz < g->n_z && rc == HRT_OK; iz++)
-        rc = prepare_group(g, &g->grp[iz], &f->grp[iz], &rb, &g->bytes);
+    for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++)
+        rc = prepare_group(g, &g->grp[iz], g->extra_raw[iz], &rb);
     for (size_t n = 0; rb.obj && n <= maxn; n++)
         if (rb.obj[n])
             gsl_interp_free(rb.obj[n]);
     free(rb.obj);
     free(rb.x);
-    if (rc != HRT_OK)
-        return trail_set_error(err, rc, "metallicity/%zu: cannot prepare the extra quantities (%s)",
-                               iz > 0 ? iz - 1 : 0, hrt_strerror(rc));
+    for (size_t iz = 0; iz < g->n_z; iz++) {
+        if (rc != HRT_OK) {
+            free(g->grp[iz].xknots);
+            g->grp[iz].xknots = NULL;
+        } else {
+            free(g->extra_raw[iz]);
+            g->extra_raw[iz] = NULL;
+        }
+    }
+    return rc;
+}
+
+/* The extras' knots, prepared by the first query that needs them (the
+ * grid was allocated writable by hrt_grid_open: only the const of the
+ * caller's pointer is cast away). */
+static int extra_ready(const hrt_grid *cg, hrt_error *err)
+{
+    hrt_grid *g = (hrt_grid *)cg;
+    if (atomic_load_explicit(&g->extra_ready, memory_order_acquire))
+        return HRT_OK;
+    int rc = HRT_OK;
+    pthread_mutex_lock(&g->extra_lock);
+    if (!atomic_load_explicit(&g->extra_ready, memory_order_relaxed)) {
+        rc = prepare_all(g);
+        if (rc == HRT_OK)
+            atomic_store_explicit(&g->extra_ready, 1, memory_order_release);
+    }
+    pthread_mutex_unlock(&g->extra_lock);
+    return rc == HRT_OK ? HRT_OK
+                        : trail_set_error(err, rc, "cannot prepare the extra quantities (%s)", hrt_strerror(rc));
+}
+
+int trail_extra_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
+{
+    atomic_init(&g->extra_ready, 0);
+    if (f->n_extra == 0)
+        return HRT_OK;
+    g->extra_raw = calloc(g->n_z, sizeof *g->extra_raw);
+    if (!g->extra_raw || pthread_mutex_init(&g->extra_lock, NULL) != 0)
+        return trail_set_error(err, HRT_E_NOMEM, "out of memory for the extra quantities");
+    g->extra_lock_init = 1;
+    g->n_extra = f->n_extra;
+    g->extra = f->extra; /* taken: f keeps none */
+    f->extra = NULL;
+    f->n_extra = 0;
+    g->bytes += g->n_extra * sizeof *g->extra;
+    for (size_t iz = 0; iz < g->n_z; iz++) {
+        g->extra_raw[iz] = f->grp[iz].x;
+        f->grp[iz].x = NULL;
+        /* what the prepared knots will hold (value and slope of each) */
+        g->bytes += g->n_eep_max * (g->grp[iz].n_mass + 1) * g->n_extra * 2 * sizeof(double);
+    }
     return HRT_OK;
 }
 
@@ -148,7 +190,14 @@ void trail_extra_free(hrt_grid *g)
     for (size_t iz = 0; g->grp && iz < g->n_z; iz++) {
         free(g->grp[iz].xknots);
         g->grp[iz].xknots = NULL;
+        if (g->extra_raw)
+            free(g->extra_raw[iz]);
     }
+    free(g->extra_raw);
+    g->extra_raw = NULL;
+    if (g->extra_lock_init)
+        pthread_mutex_destroy(&g->extra_lock);
+    g->extra_lock_init = 0;
     free(g->extra);
     g->extra = NULL;
     g->n_extra = 0;
@@ -251,6 +300,9 @@ int hrt_state_extra(const hrt_grid *g, const hrt_state *s, size_t n, const size_
     /* not modelled (before the first EEP), a remnant, or a failed star */
     if (s->status != HRT_OK || !isfinite(s->eep) || n == 0)
         return trail_set_error(err, HRT_OK, NULL);
+    rc = extra_ready(g, err);
+    if (rc != HRT_OK)
+        return rc;
     qctx q;
     rc = trail_qctx_init(g, s->initial_mass_msun, s->z, &q, err);
     if (rc != HRT_OK)
