@@ -606,8 +606,9 @@ HRT_API long hrt_grid_extra_index(const hrt_grid *g, const char *name);
  *      the grid's lock: the first call allocates and takes about as long as
  *      a third of the open; HRT_E_NOMEM if that fails), so opening a grid
  *      does not pay for them; hrt_grid_memory_bytes() counts them prepared.
- *      Later calls allocate nothing and cost about 1300 instructions per
- *      state for six quantities.  Thread-safe, also on first use.
+ *      Later calls allocate nothing and cost about what hrt_eval() costs per
+ *      star (1600 instructions per state for six quantities on the default
+ *      grid, 1700 for hrt_eval).  Thread-safe, also on first use.
  */
 HRT_API int hrt_state_extra(const hrt_grid *g, const hrt_state *s, size_t n, const size_t *idx, double *out,
                             hrt_error *err);
