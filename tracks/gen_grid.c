@@ -16,6 +16,7 @@
 
 #include "hrtrail.h"
 #include "model.h"
+#include "structure.h"
 
 /* Metallicities of the grid (metal mass fraction). */
 static const double grid_z[] = {0.0001, 0.0003, 0.001, 0.004, 0.008, 0.014, 0.03};
@@ -138,6 +139,7 @@ static int dump_raw(const char *dir, const gen_track *t, const hrt_route_spec *r
 typedef struct columns {
     double *log_age, *log_l, *log_teff, *mass, *he_core, *co_core;
     int *phase;
+    double *extra; /* [GEN_N_STRUCT][n] structural quantities (structure.c) */
 } columns;
 
 static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
@@ -151,8 +153,9 @@ static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
     c.he_core = malloc(n * sizeof(double));
     c.co_core = malloc(n * sizeof(double));
     c.phase = malloc(n * sizeof(int));
+    c.extra = malloc(GEN_N_STRUCT * n * sizeof(double));
     int rc = HRT_E_NOMEM;
-    if (c.log_age && c.log_l && c.log_teff && c.mass && c.he_core && c.co_core && c.phase) {
+    if (c.log_age && c.log_l && c.log_teff && c.mass && c.he_core && c.co_core && c.phase && c.extra) {
         for (size_t i = 0; i < n; i++) {
             c.log_age[i] = log10(t->s[i].age_yr);
             c.log_l[i] = t->s[i].log_l_lsun;
@@ -161,7 +164,14 @@ static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
             c.he_core[i] = t->s[i].he_core;
             c.co_core[i] = t->s[i].co_core;
             c.phase[i] = t->s[i].phase;
+            double v[GEN_N_STRUCT];
+            gen_structure(c.mass[i], c.he_core[i], c.log_l[i], c.log_teff[i], c.phase[i], v);
+            for (int k = 0; k < GEN_N_STRUCT; k++)
+                c.extra[k * n + i] = v[k];
         }
+        const double *xcols[GEN_N_STRUCT];
+        for (int k = 0; k < GEN_N_STRUCT; k++)
+            xcols[k] = c.extra + k * n;
         hrt_track_data d = {
             .initial_mass_msun = t->initial_mass,
             .route = t->route,
@@ -179,8 +189,9 @@ static int add_track(hrt_builder *b, const gen_track *t, hrt_error *err)
             .n_keypoints = t->n_kp,
             .keypoint_sample = t->kp,
         };
-        rc = hrt_builder_add_track(b, t->z, &d, err);
+        rc = hrt_builder_add_track_extra(b, t->z, &d, GEN_N_STRUCT, xcols, err);
     }
+    free(c.extra);
     free(c.log_age);
     free(c.log_l);
     free(c.log_teff);
@@ -219,6 +230,11 @@ static int start_grid(const layout *lay, const gen_params *p, hrt_builder **b, h
 {
     if (hrt_builder_new(GEN_N_ROUTES, lay->route, p->z_sun, b, err) != HRT_OK)
         return -1;
+    for (int k = 0; k < GEN_N_STRUCT; k++)
+        if (hrt_builder_declare_extra(*b, gen_struct_table[k].name, gen_struct_table[k].units,
+                                      gen_struct_table[k].meaning, err) != HRT_OK ||
+            hrt_builder_set_extra_single(*b, gen_struct_table[k].name, 1, err) != HRT_OK)
+            return -1; /* single precision: far below their accuracy (MODEL.md), half the space */
     char version[64];
     snprintf(version, sizeof version, "hrtrail-gen-grid %s", HRT_VERSION_STRING);
     if (hrt_builder_set_attribute(*b, "created_by", version, err) != HRT_OK ||

@@ -44,7 +44,15 @@ typedef struct cli {
     double distance_pc;   /* --distance */
     double a_v_mag;       /* --av (0 by default) */
     int have_av;
+    /* extra quantities of the grid (at, track, isochrone): --extra NAME,... */
+    const char *extra_text;          /* as given; resolved by cli_resolve_extras() */
+    size_t n_extra;                  /* columns asked for */
+    size_t extra_idx[32];            /* their indices in the grid */
+    char extra_head[32][128];        /* table headers: "name [unit]" */
 } cli;
+
+/* --extra: the names given, checked against the grid's extra quantities (after cli_open_grid). */
+int cli_resolve_extras(cli *c);
 
 /* ---- memory (the command owns its process: out of memory ends it with exit 1) ---- */
 void *xmalloc(size_t n);
@@ -73,7 +81,7 @@ int add_age_list(const cli *c, const char *opt, const char *s, dlist *l);
  * --opt value, bundled short options (-kj4), and '--' ending the options ---- */
 enum { OPT_ARG = -1 };  /* the id take() gets for an argument that is no option */
 enum { CLI_STOP = -1 }; /* returned when --help was given: the command's help is shown, exit 0 */
-enum { ACCEPT_Z = 1u, ACCEPT_FORMAT = 2u };
+enum { ACCEPT_Z = 1u, ACCEPT_FORMAT = 2u, ACCEPT_EXTRA = 4u }; /* ACCEPT_EXTRA: --extra NAME,... */
 typedef struct optdef {
     const char *name;  /* long name without "--" */
     char short_name;   /* 0 if none */
@@ -217,6 +225,8 @@ enum { SC_NAME = 1u, SC_STATUS = 2u, SC_MAGS = 4u, SC_MV = 8u };
 /* The magnitude columns the options ask for (SC_MAGS, SC_MV), for state_table_new. */
 unsigned mag_columns(const cli *c);
 table *state_table_new(unsigned extra);
+/* Append the columns of the extra quantities --extra asked for (before any row is added). */
+void state_table_add_extras(table *t, const cli *c);
 void state_table_add(table *t, const cli *c, const hrt_state *s, const char *name, const char *status);
 void phase_footnote(FILE *f, const table *t);
 const char *flags_text(int flags, char *buf, size_t n);

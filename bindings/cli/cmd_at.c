@@ -163,7 +163,7 @@ static int at_take(cli *c, void *ctx, int id, const char *val)
     }
 }
 
-static const cmdopts at_cmdopts = {at_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, at_take,
+static const cmdopts at_cmdopts = {at_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT | ACCEPT_EXTRA, at_take,
                                    "give stars with --mass, --age or --input", 0};
 
 /* The stars: every mass at every age of the options, or the lines of --input. */
@@ -213,7 +213,8 @@ static int at_run(cli *c, const at_args *a)
         return cli_fail(c, CLI_EXIT_USAGE, "give --mass and --age, or --input FILE (see hrtrail at --help)");
     if (a->input && (a->ml.n > 1 || a->al.n > 1))
         return cli_fail(c, CLI_EXIT_USAGE, "with --input, --mass and --age may give only one value each (for columns the file lacks)");
-    if ((rc = mag_check_options(c)) || (rc = cli_open_grid(c)) || (rc = at_stars(c, a, &s))) {
+    if ((rc = mag_check_options(c)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_extras(c)) ||
+        (rc = at_stars(c, a, &s))) {
         stars_free(&s);
         return rc;
     }
@@ -224,6 +225,7 @@ static int at_run(cli *c, const at_args *a)
         rc = cli_fail(c, cli_exit_of_status(st), "%s", err.message[0] ? err.message : hrt_strerror(st));
     else if ((rc = at_failures(c, a, &s, out)) == 0 || a->keep) {
         table *t = state_table_new((s.name ? SC_NAME : 0u) | (a->keep ? SC_STATUS : 0u) | mag_columns(c));
+        state_table_add_extras(t, c);
         for (size_t i = 0; i < s.n; i++) {
             if (out[i].status != HRT_OK) {
                 /* the library leaves the failed star's inputs for us to fill in */

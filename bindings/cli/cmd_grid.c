@@ -199,6 +199,18 @@ static void info_text(const cli *c, long bytes)
         }
         printf("\n");
     }
+    if (hrt_grid_extra_count(g) > 0) {
+        printf("\nExtra quantities (--extra NAME of at, track, isochrone)\n");
+        for (size_t k = 0; k < hrt_grid_extra_count(g); k++) {
+            printf("  ");
+            text_write(stdout, hrt_grid_extra_name(g, k));
+            printf(" [");
+            text_write(stdout, hrt_grid_extra_unit(g, k));
+            printf("]: ");
+            text_write(stdout, hrt_grid_extra_meaning(g, k));
+            printf("\n");
+        }
+    }
     printf("\nMasses per metallicity [Msun]\n");
     for (size_t iz = 0; iz < nz; iz++) {
         printf("  Z = %.6g:", hrt_grid_z(g, iz));

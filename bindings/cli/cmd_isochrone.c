@@ -94,7 +94,7 @@ static int iso_take(cli *c, void *ctx, int id, const char *val)
     return id == O_AGE ? add_age_list(c, "--age", val, ctx) : 0;
 }
 
-static const cmdopts iso_cmdopts = {iso_opts, iso_more_opts, ACCEPT_Z | ACCEPT_FORMAT, iso_take,
+static const cmdopts iso_cmdopts = {iso_opts, iso_more_opts, ACCEPT_Z | ACCEPT_FORMAT | ACCEPT_EXTRA, iso_take,
                                     "ages are given with --age", 0};
 
 static int iso_run(cli *c, const dlist *al)
@@ -105,8 +105,11 @@ static int iso_run(cli *c, const dlist *al)
     if (al->n == 0) return cli_fail(c, CLI_EXIT_USAGE, "give --age AGE[,AGE...] (e.g. --age 1Gyr)");
     for (size_t i = 0; i < al->n; i++)
         if (!(al->v[i] > 0)) return cli_fail(c, CLI_EXIT_USAGE, "--age %s: an isochrone needs an age > 0", al->text[i]);
-    if ((rc = mag_check_options(c)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) return rc;
+    if ((rc = mag_check_options(c)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_extras(c)) ||
+        (rc = cli_resolve_z(c, &z)))
+        return rc;
     t = state_table_new(mag_columns(c));
+    state_table_add_extras(t, c);
     for (size_t i = 0; i < al->n && rc == 0; i++) {
         hrt_state *pts;
         size_t n;

@@ -61,7 +61,7 @@ static int track_take(cli *c, void *ctx, int id, const char *val)
     }
 }
 
-static const cmdopts track_cmdopts = {track_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT, track_take,
+static const cmdopts track_cmdopts = {track_opts, NULL, ACCEPT_Z | ACCEPT_FORMAT | ACCEPT_EXTRA, track_take,
                                       "the star is given with --mass", 0};
 
 static int track_check(const cli *c, const track_args *a)
@@ -126,9 +126,12 @@ static int track_run(cli *c, track_args *a)
     hrt_star *s = NULL;
     table *t = NULL;
     int rc;
-    if ((rc = track_check(c, a)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_z(c, &z))) return rc;
+    if ((rc = track_check(c, a)) || (rc = cli_open_grid(c)) || (rc = cli_resolve_extras(c)) ||
+        (rc = cli_resolve_z(c, &z)))
+        return rc;
     if ((rc = cli_new_star(c, a->ml.text[0], a->ml.v[0], z, &s))) return rc;
     t = state_table_new(0);
+    state_table_add_extras(t, c);
     if ((a->steps == 0 || (rc = track_step_ages(c, a, s)) == 0) && (rc = track_rows(c, a, s, z, t)) == 0) {
         const char *sampling = a->steps > 0 ? "log-age steps" : a->al.n > 0 ? "given ages" : "EEPs";
         char *route = text_safe(cli_route_name(c, hrt_star_route(s)), NULL), heading[512];

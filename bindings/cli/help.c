@@ -113,6 +113,11 @@ static const char state_cols_text[] =
     "  mv                 m_V        at, isochrone: --distance, apparent V\n";
 
 /* The magnitude options (at, isochrone). */
+#define EXTRA_OPTIONS_TEXT                                                                          \
+    "  --extra NAME[,NAME...]  also the grid's extra quantities of these names\n"                \
+    "                         (hrtrail grid info lists them; the default grid's:\n"              \
+    "                         envelope and convective-envelope masses, k^2, binding\n"           \
+    "                         energy, lambda), interpolated like log L\n"
 #define MAG_OPTIONS_TEXT                                                                            \
     "  --vmag                  add abs_mbol (M_bol = 4.74 - 2.5 log L, IAU 2015\n"      \
     "                          Resolution B2), bc_v (BC_V of Flower 1996 with the\n"            \
@@ -196,6 +201,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  -k, --keep-going       print every star even if some fail: failed stars get a\n"
      "                         status column and nan values, a message each on\n"
      "                         standard error, and the exit status of the first failure\n"
+     EXTRA_OPTIONS_TEXT
      MAG_OPTIONS_TEXT
      "  --csv, --json          CSV, or JSON records (a list of objects), instead of\n"
      "                         the table\n"
@@ -229,6 +235,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --from AGE         first age (with --steps), or keep EEPs from this age on\n"
      "  --to AGE           last age (with --steps; may lie beyond the track's end when\n"
      "                     the remnant is known), or keep EEPs up to this age\n"
+     EXTRA_OPTIONS_TEXT
      "  --csv, --json      CSV, or JSON records (a list of objects), instead of the\n"
      "                     table\n"
      "\n"
@@ -252,6 +259,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  -a, --age AGE[,AGE...]  ages (> 0), e.g. 1Gyr or 100Myr,1Gyr,5Gyr\n"
      "  --z Z | --feh X         metallicity (default: the grid's Z_ref)\n"
      ISO_OPTIONS_TEXT
+     EXTRA_OPTIONS_TEXT
      MAG_OPTIONS_TEXT
      "  --csv, --json           CSV, or JSON records, instead of the table\n"
      "\n"

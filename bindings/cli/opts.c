@@ -12,11 +12,11 @@
 
 #include "cli.h"
 
-enum { COMMON_GRID = 1000, COMMON_INTERP, COMMON_CSV, COMMON_JSON, COMMON_HELP, COMMON_Z, COMMON_FEH };
+enum { COMMON_GRID = 1000, COMMON_INTERP, COMMON_CSV, COMMON_JSON, COMMON_HELP, COMMON_Z, COMMON_FEH, COMMON_EXTRA };
 static const optdef common_opts[] = {
     {"grid", 0, 1, COMMON_GRID}, {"interp", 0, 1, COMMON_INTERP}, {"csv", 0, 0, COMMON_CSV},
     {"json", 0, 0, COMMON_JSON}, {"help", 'h', 0, COMMON_HELP},   {"z", 0, 1, COMMON_Z},
-    {"feh", 0, 1, COMMON_FEH},   {NULL, 0, 0, 0},
+    {"feh", 0, 1, COMMON_FEH},   {"extra", 0, 1, COMMON_EXTRA}, {NULL, 0, 0, 0},
 };
 
 /* The options one command takes: its own, then the common ones it accepts, as getopt_long wants them. */
@@ -41,6 +41,7 @@ static void optset_add(optset *s, const optdef *defs, int common, unsigned accep
     for (const optdef *d = defs; d && d->name && s->n < MAX_OPTS; d++) {
         if (common && !(accept & ACCEPT_Z) && (d->id == COMMON_Z || d->id == COMMON_FEH)) continue;
         if (common && !(accept & ACCEPT_FORMAT) && (d->id == COMMON_CSV || d->id == COMMON_JSON)) continue;
+        if (common && !(accept & ACCEPT_EXTRA) && d->id == COMMON_EXTRA) continue;
         if (taken(s, d)) continue; /* the command's own option of that name */
         size_t i = s->n++, k = strlen(s->shorts);
         s->def[i] = *d;
@@ -138,6 +139,9 @@ static int handle_common(cli *c, int id, const char *name, const char *val)
         return 0;
     case COMMON_HELP:
         c->want_help = 1;
+        return 0;
+    case COMMON_EXTRA:
+        c->extra_text = val;
         return 0;
     case COMMON_Z:
         if (parse_number(val, &v) != 0 || !(v > 0 && v < 1))

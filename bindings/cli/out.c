@@ -355,8 +355,9 @@ static const col state_cols[] = {
 /* Per-table copy of the column list, so that the optional columns can be dropped. */
 typedef struct state_table {
     table t;
-    col cols[N_STATE_COLS];
+    col cols[N_STATE_COLS + 32];
     int map[N_STATE_COLS]; /* index in cols or -1 */
+    size_t n_extra;        /* the grid's extra quantities (--extra), in the last columns */
 } state_table;
 
 table *state_table_new(unsigned extra)
@@ -377,6 +378,15 @@ table *state_table_new(unsigned extra)
     st->t.cols = st->cols;
     st->t.ncol = n;
     return &st->t; /* first member: table_free() frees the whole state_table */
+}
+
+void state_table_add_extras(table *t, const cli *c)
+{
+    state_table *st = (state_table *)t;
+    for (size_t k = 0; k < c->n_extra && st->n_extra < 32; k++) {
+        st->cols[t->ncol++] = (col){hrt_grid_extra_name(c->grid, c->extra_idx[k]), c->extra_head[k], COL_NUM, "%.5g", 0};
+        st->n_extra++;
+    }
 }
 
 const char *flags_text(int flags, char *buf, size_t n)
@@ -426,6 +436,14 @@ void state_table_add(table *t, const cli *c, const hrt_state *s, const char *nam
         }
         else if (!strcmp(key, "status"))
             table_text(t, r, (size_t)k, status);
+    }
+    if (st->n_extra > 0) {
+        double xv[32];
+        if (hrt_state_extra(c->grid, s, st->n_extra, c->extra_idx, xv, NULL) != HRT_OK)
+            for (size_t k = 0; k < st->n_extra; k++)
+                xv[k] = NAN; /* a failed star (kept with --keep-going) */
+        for (size_t k = 0; k < st->n_extra; k++)
+            table_num(t, r, t->ncol - st->n_extra + k, xv[k]);
     }
 }
 

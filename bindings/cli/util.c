@@ -360,3 +360,33 @@ int cli_star_failure(const cli *c, const char *who, int code, double m, double z
                         libmsg && *libmsg ? libmsg : hrt_strerror(code));
     }
 }
+
+int cli_resolve_extras(cli *c)
+{
+    c->n_extra = 0;
+    if (!c->extra_text) return 0;
+    size_t avail = hrt_grid_extra_count(c->grid);
+    char list[1024] = "";
+    for (size_t k = 0; k < avail; k++) {
+        size_t l = strlen(list);
+        snprintf(list + l, sizeof list - l, "%s%s", k ? ", " : "", hrt_grid_extra_name(c->grid, k));
+    }
+    char *copy = xstrdup(c->extra_text), *save = NULL;
+    int rc = 0;
+    for (char *tok = strtok_r(copy, ",", &save); tok && rc == 0; tok = strtok_r(NULL, ",", &save)) {
+        long k = hrt_grid_extra_index(c->grid, tok);
+        if (k < 0)
+            rc = cli_fail(c, CLI_EXIT_USAGE, "--extra '%s': the grid has no extra quantity of that name (%s)", tok,
+                          avail ? list : "it has none");
+        else if (c->n_extra >= 32)
+            rc = cli_fail(c, CLI_EXIT_USAGE, "--extra: at most 32 quantities");
+        else {
+            const char *u = hrt_grid_extra_unit(c->grid, (size_t)k);
+            snprintf(c->extra_head[c->n_extra], sizeof c->extra_head[0], *u ? "%s [%s]" : "%s", tok, u);
+            c->extra_idx[c->n_extra++] = (size_t)k;
+        }
+    }
+    if (rc == 0 && c->n_extra == 0) rc = cli_fail(c, CLI_EXIT_USAGE, "--extra: give NAME[,NAME...] (%s)", avail ? list : "the grid has none");
+    free(copy);
+    return rc;
+}

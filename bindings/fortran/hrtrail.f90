@@ -425,6 +425,8 @@ module hrtrail
        hrt_star_z, hrt_star_n_keypoints, hrt_star_keypoint_name, hrt_star_keypoint_age, &
        hrt_isochrone_options_default, hrt_isochrone_with, hrt_wd_radius_rsun, hrt_wd_log_l, &
        hrt_collapse_remnant, hrt_default_route, hrt_bc_v, hrt_magnitudes, hrt_remap, hrt_step
+  public :: hrt_grid_extra_count, hrt_grid_extra_name, hrt_grid_extra_unit, hrt_grid_extra_meaning, &
+       hrt_grid_extra_index, hrt_state_extra, hrt_extra_at
   public :: hrt_imf_name, hrt_imf_from_name, hrt_imf_init, hrt_imf_pdf, hrt_imf_cdf, hrt_imf_quantile, &
        hrt_imf_mean_mass, hrt_sfh_name, hrt_sfh_from_name, hrt_pop_spec_default, hrt_pop_spec_check, &
        hrt_pop_n_chunks, hrt_pop_draw, hrt_pop_sum_value, hrt_pop_summary_init, hrt_pop_summary_add, &
@@ -856,6 +858,62 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_step
+     ! ---- extra quantities of a grid
+     function hrt_grid_extra_count(grid) bind(C, name="hrt_grid_extra_count") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: grid
+       integer(c_size_t) :: n
+     end function hrt_grid_extra_count
+     !> Result: a C string owned by the grid, or c_null_ptr (k out of range).
+     function hrt_grid_extra_name(grid, k) bind(C, name="hrt_grid_extra_name") result(p)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: grid
+       integer(c_size_t), value :: k
+       type(c_ptr) :: p
+     end function hrt_grid_extra_name
+     function hrt_grid_extra_unit(grid, k) bind(C, name="hrt_grid_extra_unit") result(p)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: grid
+       integer(c_size_t), value :: k
+       type(c_ptr) :: p
+     end function hrt_grid_extra_unit
+     function hrt_grid_extra_meaning(grid, k) bind(C, name="hrt_grid_extra_meaning") result(p)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: grid
+       integer(c_size_t), value :: k
+       type(c_ptr) :: p
+     end function hrt_grid_extra_meaning
+     !> name: NUL-terminated.  Result: the 0-based index, -1 if the grid has no such quantity.
+     function hrt_grid_extra_index(grid, name) bind(C, name="hrt_grid_extra_index") result(k)
+       import :: c_ptr, c_char, c_long
+       type(c_ptr), value :: grid
+       character(kind=c_char), intent(in) :: name(*)
+       integer(c_long) :: k
+     end function hrt_grid_extra_index
+     !> idx: c_loc of n 0-based indices (integer(c_size_t)), or c_null_ptr for the first n.
+     function hrt_state_extra(grid, state, n, idx, out, err) bind(C, name="hrt_state_extra") result(rc)
+       import :: c_ptr, c_size_t, c_double, c_int, hrt_state, hrt_error
+       type(c_ptr), value :: grid
+       type(hrt_state), intent(in) :: state
+       integer(c_size_t), value :: n
+       type(c_ptr), value :: idx
+       real(c_double), intent(out) :: out(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_state_extra
+     !> idx as for hrt_state_extra; state: c_loc of an hrt_state to receive the star's state, or c_null_ptr.
+     function hrt_extra_at(grid, mass_msun, z, age_yr, n, idx, out, state, err) bind(C, name="hrt_extra_at") &
+          result(rc)
+       import :: c_ptr, c_size_t, c_double, c_int, hrt_error
+       type(c_ptr), value :: grid
+       real(c_double), value :: mass_msun, z, age_yr
+       integer(c_size_t), value :: n
+       type(c_ptr), value :: idx
+       real(c_double), intent(out) :: out(*)
+       type(c_ptr), value :: state
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_extra_at
      ! ---- the default grid's routes
      !> keypoint_names: address of HRT_IMPORT_MAX_KP pointers, filled by the call.
      function hrt_default_route(r, spec, keypoint_names) bind(C, name="hrt_default_route") result(rc)
@@ -1323,7 +1381,7 @@ module hrtrail
        hrtf_star_end_age, hrtf_star_free, hrtf_isochrone, hrtf_z_values, hrtf_mass_range, hrtf_route_name, &
        hrtf_phase_name, hrtf_phase_key, hrtf_remnant_name, hrtf_strerror, hrtf_version, hrtf_string, &
        hrtf_phase_bit, hrtf_isochrone_options, hrtf_isochrone_with, hrtf_evaluate_parallel, &
-       hrtf_default_route, hrtf_grid_attribute, hrtf_route_of, &
+       hrtf_default_route, hrtf_grid_attribute, hrtf_grid_extra_name, hrtf_route_of, &
        hrtf_grid_masses, hrtf_star_keypoints
   public :: hrtf_imf_init, hrtf_pop_spec_default, hrtf_sfh_burst, hrtf_sfh_span, hrtf_sfh_table, &
        hrtf_zdist_fixed, hrtf_zdist_spread, hrtf_pop_check, hrtf_pop_draw, hrtf_pop_summaries, hrtf_pop_run, &
@@ -1841,6 +1899,14 @@ contains
     character(len=:), allocatable :: s
     s = hrtf_string(hrt_grid_attribute(grid%ptr, trim(name) // c_null_char))
   end function hrtf_grid_attribute
+
+  !> Name of the grid's extra quantity k (0-based, tracks/FORMAT.md "Extra quantities"); '' if out of range.
+  function hrtf_grid_extra_name(grid, k) result(s)
+    type(hrt_grid_t), intent(in) :: grid
+    integer, intent(in) :: k
+    character(len=:), allocatable :: s
+    s = hrtf_string(hrt_grid_extra_name(grid%ptr, int(k, c_size_t)))
+  end function hrtf_grid_extra_name
 
   !> Route (0-based, as hrt_state%route) that a star of initial mass (Msun) and metallicity z follows.
   subroutine hrtf_route_of(grid, mass_msun, z, route, stat, errmsg)

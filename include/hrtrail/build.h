@@ -77,6 +77,43 @@ HRT_API int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data
 /** Add a track already on EEPs (t->n <= the route's EEP count). Same codes. */
 HRT_API int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err);
 /**
+ * @brief Declare an extra per-EEP quantity of the grid (tracks/FORMAT.md,
+ * "Extra quantities"), before any track is added.
+ * Given: name (lower-case letters, digits and '_', starting with a letter,
+ * under 64 characters, not a standard quantity's name), unit (an astropy
+ * unit string, "" if dimensionless) and meaning (printable ASCII under 256
+ * characters).  At most 32 per grid.  Once one is declared, every track is
+ * added with hrt_builder_add_track_extra() or
+ * hrt_builder_add_eep_track_extra(), giving one column per declared
+ * quantity in the order of declaration.  The file stores them by name, and
+ * hrt_grid_extra_name() lists them in name order.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (bad name or
+ * text, a name declared twice, more than 32, or tracks already added).
+ */
+HRT_API int hrt_builder_declare_extra(hrt_builder *b, const char *name, const char *unit, const char *meaning,
+                                      hrt_error *err);
+/**
+ * @brief Store the declared extra quantity `name` in single precision
+ * (on != 0: IEEE binary32, relative rounding 6e-8, half the space) or in
+ * double precision (on = 0, the default, values read back bit for bit).
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (not declared).
+ */
+HRT_API int hrt_builder_set_extra_single(hrt_builder *b, const char *name, int on, hrt_error *err);
+/** Number of extra quantities declared so far (0 for NULL). */
+HRT_API size_t hrt_builder_extra_count(const hrt_builder *b);
+/**
+ * @brief hrt_builder_add_track() with the extra quantities: extra[k] holds
+ * t->n values of the k-th declared quantity (finite), resampled onto the
+ * EEPs exactly as the standard columns are (linear in the EEP distance).
+ * n_extra must equal the number declared.  Codes of hrt_builder_add_track(),
+ * and HRT_E_INVALID for a wrong n_extra, HRT_E_DOMAIN for a value not finite.
+ */
+HRT_API int hrt_builder_add_track_extra(hrt_builder *b, double z, const hrt_track_data *t, size_t n_extra,
+                                        const double *const *extra, hrt_error *err);
+/** hrt_builder_add_eep_track() with the extra quantities (as hrt_builder_add_track_extra()). */
+HRT_API int hrt_builder_add_eep_track_extra(hrt_builder *b, double z, const hrt_track_data *t, size_t n_extra,
+                                            const double *const *extra, hrt_error *err);
+/**
  * @brief Set the n_routes-1 route-boundary masses (Msun) of metallicity z.
  * Without it, writing places each boundary at the geometric mean of the
  * last track of one route and the first of the next.
@@ -342,6 +379,23 @@ HRT_API int hrt_import_set_route_boundaries(hrt_import *imp, double z, size_t n,
 HRT_API int hrt_import_set_progress(hrt_import *imp, void (*progress)(void *user, size_t done, size_t total,
                                                                       const char *file),
                                     void *user);
+/**
+ * @brief Read the tables' column `column` as the grid's extra quantity
+ * `name` (tracks/FORMAT.md, "Extra quantities"), with its unit (an astropy
+ * unit string, "" or NULL: dimensionless) and meaning (NULL: "column COLUMN
+ * of the imported tables").  Every table must have the column; each value
+ * must be a finite number (a row without one is a problem of the row, as
+ * for the standard columns).  The values are resampled onto the EEPs as
+ * the standard columns are.  The map entries extra.NAME=COLUMN and
+ * extra.NAME.units=UNIT (hrt_import_map(), `hrtrail import --map`) do
+ * the same.  Calling it again for a name re-maps it.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (a name that
+ * is not a valid extra name, more than 32, text not printable ASCII).
+ */
+HRT_API int hrt_import_add_extra(hrt_import *imp, const char *name, const char *column, const char *unit,
+                                 const char *meaning, hrt_error *err);
+/** Number of extra quantities the import reads (0 for NULL). */
+HRT_API size_t hrt_import_n_extra(const hrt_import *imp);
 /**
  * @brief Add a track file.
  * z: its metal mass fraction, or NaN to take it from the map (z=...), the

@@ -676,6 +676,68 @@ HRT_API int hrt_isochrone(const hrt_grid *g, double age_yr, double z, hrt_state 
                           size_t *n, hrt_error *err);
 
 /* ------------------------------------------------------------------------
+ * Extra quantities: further per-EEP quantities a grid may carry
+ * ------------------------------------------------------------------------ */
+/**
+ * Number of extra per-EEP quantities the grid carries beyond the standard
+ * ones (tracks/FORMAT.md, "Extra quantities"); 0 for a grid without them
+ * or NULL.  Their order (by name) is the index k of the calls below.
+ */
+HRT_API size_t hrt_grid_extra_count(const hrt_grid *g);
+/** Name of extra quantity k (lower-case letters, digits, '_'); NULL if out of range. */
+HRT_API const char *hrt_grid_extra_name(const hrt_grid *g, size_t k);
+/** Unit of extra quantity k as an astropy unit string ("" if dimensionless); NULL if out of range. */
+HRT_API const char *hrt_grid_extra_unit(const hrt_grid *g, size_t k);
+/** Meaning of extra quantity k as the file states it; NULL if out of range. */
+HRT_API const char *hrt_grid_extra_meaning(const hrt_grid *g, size_t k);
+/** Index of the extra quantity called name; -1 if the grid has none of that name (or NULL). */
+HRT_API long hrt_grid_extra_index(const hrt_grid *g, const char *name);
+
+/**
+ * @brief Extra quantities of a star in the state s (from hrt_eval(),
+ * hrt_star_at(), hrt_star_eep_state() or hrt_isochrone() on the same grid).
+ *
+ * Given:
+ *   g     the grid that produced s
+ *   s     a state; its initial mass, Z and fractional EEP are used
+ *   n     number of quantities wanted
+ *   idx   their indices (0 <= idx[t] < hrt_grid_extra_count); NULL: the
+ *         first n quantities in order
+ * Returned:
+ *   out   n values, out[t] of quantity idx[t] (or t); NaN where the state
+ *         has no EEP (before the first EEP, a remnant, a failed star)
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (an index out
+ * of range, or an EEP not on the star's track), HRT_E_NOMEM (first call
+ * only), and the codes of hrt_star_new() for a state whose mass or Z is not
+ * on the grid.
+ * Notes:
+ *   1. Interpolated exactly as log L is: the grid's type across log initial
+ *      mass and [Fe/H] at each EEP, linear in the EEP fraction the age gives.
+ *      On a grid whose extra is a column equal to log L the answer equals
+ *      s->log_l_lsun to rounding.  Values are not converted (a mass-like
+ *      extra is interpolated as stored, not as a fraction of the initial mass).
+ *   2. The extras live apart from the standard quantities: hrt_eval() and
+ *      hrt_star_at() never read them and cost the same on a grid with or
+ *      without (the same instructions, measured).  Their slopes across mass
+ *      are computed by the first call on a grid that needs them (once, under
+ *      the grid's lock: the first call allocates and takes about as long as
+ *      a third of the open; HRT_E_NOMEM if that fails), so opening a grid
+ *      does not pay for them; hrt_grid_memory_bytes() counts them prepared.
+ *      Later calls allocate nothing and cost about what hrt_eval() costs per
+ *      star (1600 instructions per state for six quantities on the default
+ *      grid, 1700 for hrt_eval).  Thread-safe, also on first use.
+ */
+HRT_API int hrt_state_extra(const hrt_grid *g, const hrt_state *s, size_t n, const size_t *idx, double *out,
+                            hrt_error *err);
+/**
+ * @brief Extra quantities of the star of initial mass (Msun), Z and age (yr):
+ * hrt_eval() of that star, then hrt_state_extra().  state (NULL allowed)
+ * receives the star's state.  Codes of both; out is NaN on failure.
+ */
+HRT_API int hrt_extra_at(const hrt_grid *g, double mass_msun, double z, double age_yr, size_t n, const size_t *idx,
+                         double *out, hrt_state *state, hrt_error *err);
+
+/* ------------------------------------------------------------------------
  * Remnant physics (also used by the default-grid generator)
  * ------------------------------------------------------------------------ */
 /**

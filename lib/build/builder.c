@@ -32,6 +32,7 @@ static void free_track(trail_eep_track *t)
     for (int q = 0; q < TRAIL_NF; q++)
         free(t->q[q]);
     free(t->phase);
+    free(t->x);
 }
 
 void hrt_builder_free(hrt_builder *b)
@@ -183,6 +184,8 @@ static trail_eep_track *new_track(hrt_builder *b, double z, int n, hrt_error *er
     for (int q = 0; q < TRAIL_NF; q++)
         ok &= (t->q[q] = malloc((size_t)n * sizeof(double))) != NULL;
     ok &= (t->phase = malloc((size_t)n * sizeof(int))) != NULL;
+    if (b->n_extra > 0)
+        ok &= (t->x = malloc(b->n_extra * (size_t)n * sizeof(double))) != NULL;
     if (!ok) {
         free_track(t);
         *rc = trail_set_error(err, HRT_E_NOMEM, "out of memory for a track of %d points", n);
@@ -343,10 +346,9 @@ static trail_eep_track *start_track(hrt_builder *b, double z, const hrt_track_da
     return bt;
 }
 
-int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
+static int add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, const double *const *xcols,
+                         hrt_error *err)
 {
-    if (!b)
-        return trail_set_error(err, HRT_E_NULL, "builder is NULL");
     int rc = check_track(b, z, t, 1, err);
     if (rc != HRT_OK)
         return rc;
@@ -366,6 +368,8 @@ int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t,
         for (int q = 0; q < TRAIL_NF; q++)
             bt->q[q][i] = value_at(t, cols, q, i);
         bt->phase[i] = t->phase[i];
+        for (size_t k = 0; k < b->n_extra; k++)
+            bt->x[k * t->n + i] = xcols[k][i];
     }
     return trail_set_error(err, HRT_OK, NULL);
 }
@@ -460,7 +464,8 @@ static void segment_distance(const hrt_track_data *t, size_t sa, size_t sb, doub
  * distance from sa (the EEP at sb opens the next segment), into bt from EEP
  * first on. */
 static void resample_segment(trail_eep_track *bt, int first, const hrt_track_data *t,
-                             const double *const cols[TRAIL_NF], size_t sa, size_t sb, int n_eep, const double *dist)
+                             const double *const cols[TRAIL_NF], size_t sa, size_t sb, int n_eep, const double *dist,
+                             size_t nx, const double *const *xcols)
 {
     double total = dist[sb - sa];
     size_t s = 0; /* sample offset: dist[s] <= target < dist[s + 1] */
@@ -476,13 +481,18 @@ static void resample_segment(trail_eep_track *bt, int first, const hrt_track_dat
             double v0 = value_at(t, cols, q, sa + s), v1 = value_at(t, cols, q, sa + s + 1);
             bt->q[q][first + i] = u == 0.0 ? v0 : v0 + u * (v1 - v0);
         }
+        for (size_t k = 0; k < nx; k++) {
+            double v0 = xcols[k][sa + s], v1 = xcols[k][sa + s + 1];
+            bt->x[k * (size_t)bt->n_eep + (size_t)(first + i)] = u == 0.0 ? v0 : v0 + u * (v1 - v0);
+        }
         bt->phase[first + i] = t->phase[sa + s];
     }
 }
 
 /* bt's EEPs from the raw track t: every segment between reached keypoints,
  * then the last keypoint's sample. */
-static int resample(const route_layout *L, trail_eep_track *bt, const hrt_track_data *t, hrt_error *err)
+static int resample(const route_layout *L, trail_eep_track *bt, const hrt_track_data *t, size_t nx,
+                    const double *const *xcols, hrt_error *err)
 {
     size_t nk = t->n_keypoints;
     size_t longest = 0;
@@ -501,12 +511,14 @@ static int resample(const route_layout *L, trail_eep_track *bt, const hrt_track_
         size_t sa = t->keypoint_sample[k], sb = t->keypoint_sample[k + 1];
         int n_eep = (int)(L->kp_eep[k + 1] - L->kp_eep[k]);
         segment_distance(t, sa, sb, dist, dist + longest, dist + 2 * longest);
-        resample_segment(bt, eep, t, cols, sa, sb, n_eep, dist);
+        resample_segment(bt, eep, t, cols, sa, sb, n_eep, dist, nx, xcols);
         eep += n_eep;
     }
     size_t s_last = t->keypoint_sample[nk - 1];
     for (int q = 0; q < TRAIL_NF; q++)
         bt->q[q][eep] = value_at(t, cols, q, s_last);
+    for (size_t k = 0; k < nx; k++)
+        bt->x[k * (size_t)bt->n_eep + (size_t)eep] = xcols[k][s_last];
     bt->phase[eep] = t->phase[s_last];
     free(dist);
     /* Equal distance steps can still give equal log ages where a segment has
@@ -518,10 +530,9 @@ static int resample(const route_layout *L, trail_eep_track *bt, const hrt_track_
     return HRT_OK;
 }
 
-int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
+static int add_raw_track(hrt_builder *b, double z, const hrt_track_data *t, const double *const *xcols,
+                         hrt_error *err)
 {
-    if (!b)
-        return trail_set_error(err, HRT_E_NULL, "builder is NULL");
     int rc = check_track(b, z, t, 0, err);
     if (rc != HRT_OK)
         return rc;
@@ -533,12 +544,36 @@ int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt
     trail_eep_track *bt = start_track(b, z, t, n_eep, err, &rc);
     if (!bt)
         return rc;
-    rc = resample(L, bt, t, err);
+    rc = resample(L, bt, t, b->n_extra, xcols, err);
     if (rc != HRT_OK) {
         drop_last(b, z);
         return rc;
     }
     return trail_set_error(err, HRT_OK, NULL);
+}
+
+int trail_builder_add(hrt_builder *b, double z, const hrt_track_data *t, const double *const *xcols, int eep,
+                      hrt_error *err)
+{
+    if (!b)
+        return trail_set_error(err, HRT_E_NULL, "builder is NULL");
+    return eep ? add_eep_track(b, z, t, xcols, err) : add_raw_track(b, z, t, xcols, err);
+}
+
+int hrt_builder_add_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
+{
+    if (b && b->n_extra > 0)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_builder_add_track: the grid declares %zu extra quantities: "
+                               "add its tracks with hrt_builder_add_track_extra()", b->n_extra);
+    return trail_builder_add(b, z, t, NULL, 0, err);
+}
+
+int hrt_builder_add_eep_track(hrt_builder *b, double z, const hrt_track_data *t, hrt_error *err)
+{
+    if (b && b->n_extra > 0)
+        return trail_set_error(err, HRT_E_INVALID, "hrt_builder_add_eep_track: the grid declares %zu extra "
+                               "quantities: add its tracks with hrt_builder_add_eep_track_extra()", b->n_extra);
+    return trail_builder_add(b, z, t, NULL, 1, err);
 }
 
 int hrt_builder_set_route_boundaries(hrt_builder *b, double z, const double *m, hrt_error *err)

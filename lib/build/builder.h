@@ -17,6 +17,7 @@ typedef struct trail_eep_track {
     int route, remnant, n_eep;
     double *q[TRAIL_NF]; /* [n_eep] per-EEP quantities in the file's order (TRAIL_F_*) */
     int *phase;          /* [n_eep] hrt_phase codes */
+    double *x;           /* [n_extra][n_eep] extra quantities in the builder's order (NULL without) */
 } trail_eep_track;
 
 /* The tracks of one metallicity. */
@@ -38,7 +39,15 @@ struct hrt_builder {
     size_t n_attrs;
     attr_pair *attrs;
     int deflate; /* deflate level of the file's numeric data, 0: not compressed */
+    size_t n_extra; /* extra per-EEP quantities declared (builder_extra.c) */
+    trail_extra_decl extra[TRAIL_MAX_EXTRA];
+    int extra_single[TRAIL_MAX_EXTRA]; /* stored as IEEE binary32 (hrt_builder_set_extra_single) */
 };
+
+/* builder.c: add a raw (eep = 0) or EEP (eep = 1) track with the builder's
+ * n_extra extra columns xcols[k] (t->n values each; NULL when n_extra = 0). */
+int trail_builder_add(hrt_builder *b, double z, const hrt_track_data *t, const double *const *xcols, int eep,
+                      hrt_error *err);
 
 /* hrt_builder_write() without the fsync: for a scratch grid read back at once
  * and deleted (build/accuracy.c), where durability only costs time. */

@@ -445,6 +445,51 @@ static void write_group_dims(const hrt_builder *b, const trail_z_group *g, hid_t
     }
 }
 
+/* A [track][EEP] table stored as IEEE binary32 (HDF5 converts the doubles). */
+static void w_data_single(wctx *w, hid_t loc, const char *name, const hsize_t *dims, const double *v,
+                          const char *units, const char *meaning)
+{
+    hid_t s = H5Screate_simple(2, dims, NULL);
+    hid_t dcpl = w_storage(w, 2, dims, sizeof(float));
+    hid_t ds = H5Dcreate2(loc, name, H5T_IEEE_F32LE, s, H5P_DEFAULT, dcpl, H5P_DEFAULT);
+    if (dcpl >= 0)
+        H5Pclose(dcpl);
+    if (ds < 0 || H5Dwrite(ds, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, v) < 0)
+        w->failed = 1;
+    if (ds >= 0) {
+        w_text_attr(w, ds, "units", units);
+        w_text_attr(w, ds, "long_name", meaning);
+        H5Dclose(ds);
+    }
+    H5Sclose(s);
+}
+
+/* metallicity/<gi>/extra/<name>: the extra quantities' tables, [track][EEP]
+ * as the standard ones, with their units and meanings. */
+static void write_extra_tables(const hrt_builder *b, const trail_z_group *g, hid_t gg, wctx *w, double *values)
+{
+    if (b->n_extra == 0)
+        return;
+    hid_t gx = w_group(w, gg, TRAIL_EXTRA_GROUP);
+    if (gx < 0)
+        return;
+    size_t n = g->n, width = b->n_eep_max;
+    hsize_t dims_table[2] = {n, width};
+    for (size_t k = 0; k < b->n_extra; k++) {
+        for (size_t i = 0; i < n; i++) {
+            size_t ne = (size_t)g->t[i].n_eep;
+            for (size_t j = 0; j < width; j++)
+                values[i * width + j] = j < ne ? g->t[i].x[k * ne + j] : NAN;
+        }
+        if (b->extra_single[k])
+            w_data_single(w, gx, b->extra[k].name, dims_table, values, b->extra[k].units, b->extra[k].meaning);
+        else
+            w_data(w, gx, b->extra[k].name, 2, dims_table, 0, values, b->extra[k].units, b->extra[k].meaning);
+        w_dims(w, gx, b->extra[k].name, gg, "track", "eep");
+    }
+    H5Gclose(gx);
+}
+
 /* metallicity/<gi>/: the group's Z, its tracks and their tables.  Only out
  * of memory is returned; HDF5 failures set w->failed. */
 static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_error *err)
@@ -468,6 +513,7 @@ static int write_group(const hrt_builder *b, hid_t mg, size_t gi, wctx *w, hrt_e
     write_track_list(b, g, gg, w, values, codes);
     write_eep_tables(b, g, gg, w, values, codes);
     write_group_dims(b, g, gg, w);
+    write_extra_tables(b, g, gg, w, values);
     free(values);
     free(codes);
     H5Gclose(gg);

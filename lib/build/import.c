@@ -130,6 +130,8 @@ void trail_import_free_data(trail_import_track *t)
             free(t->flag[i]);
     free(t->flag);
     free(t->pos);
+    free(t->x);
+    t->x = NULL;
     t->age_yr = t->log_l = t->log_teff = t->log_r = t->mass = t->central_x = t->central_y = t->he_core = t->co_core =
         NULL;
     t->phase = NULL;

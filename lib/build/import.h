@@ -86,6 +86,8 @@ typedef struct trail_import_track {
     int *phase;
     char **flag; /* explicit keypoint name of each sample, NULL for none */
     trail_source_pos *pos;
+    double *x;                   /* [cap][n_extra] the extra quantities' columns, row by row (NULL without) */
+    size_t n_extra_cols;         /* the import's n_extra when the track was read */
     int has_column[TRAIL_MAP_N]; /* the table has the quantity's column */
     hrt_kp_result kp;            /* keypoints on the route */
     unsigned route_candidates;   /* bit r: route r fits as well as the chosen one */
@@ -102,6 +104,9 @@ typedef struct trail_user_bounds {
 
 struct hrt_import {
     trail_map_entry map[TRAIL_MAP_N];
+    size_t n_extra;                          /* extra quantities read from columns (import_extra.c) */
+    trail_extra_decl extra[TRAIL_MAX_EXTRA]; /* their names, units and meanings */
+    char extra_column[TRAIL_MAX_EXTRA][TRAIL_EXTRA_TEXT_LEN]; /* the column each is read from */
     char *pattern;
     double z_ref;
     int lenient, force, ran;
@@ -167,5 +172,15 @@ int trail_import_check_user_z(const hrt_import *imp, hrt_error *err);
 /* The report's keypoints, truncation, remnant and (without a phase column)
  * phases of a track with its route. */
 void trail_import_finish_track(hrt_import *imp, trail_import_track *t);
+
+/* import_extra.c: the map entries "extra.NAME=COLUMN" and "extra.NAME.units=UNIT" (key without
+ * the "extra." prefix, the value); the builder's declarations of the import's extra quantities,
+ * and one track's extra columns for it (xcols[k] = n values; *buf to free). */
+int trail_import_extra_entry(hrt_import *imp, const char *key, const char *val, const char *where, hrt_error *err);
+
+int trail_import_declare_extras(const hrt_import *imp, hrt_builder *b, hrt_error *err);
+int trail_import_extra_columns(const hrt_import *imp, const trail_import_track *t, size_t n,
+                               const double *xcols[TRAIL_MAX_EXTRA], double **buf);
+
 
 #endif

@@ -208,6 +208,8 @@ static int map_entry(hrt_import *imp, const char *s, size_t len, const char *whe
     const char *key = buf, *val = eq + 1;
     if (!*val)
         return trail_set_error(err, HRT_E_INVALID, "%smap entry '%s=' has no value", where, key);
+    if (strncmp(key, "extra.", 6) == 0) /* a column read as an extra quantity (import_extra.c) */
+        return trail_import_extra_entry(imp, key + 6, val, where, err);
     int done;
     int rc = setting_entry(imp, key, val, where, &done, err);
     if (done)

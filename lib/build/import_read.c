@@ -183,6 +183,11 @@ static int alloc_cols(trail_import_track *t, size_t cap)
     if (!fl)
         return -1;
     t->flag = fl;
+    size_t nx = t->n_extra_cols;
+    double *x = nx ? realloc(t->x, cap * nx * sizeof(double)) : NULL;
+    if (nx && !x)
+        return -1;
+    t->x = x;
     return 0;
 }
 
@@ -201,6 +206,7 @@ typedef struct table {
     long column[TRAIL_MAP_N];              /* header index of each quantity's column; -1 */
     const trail_map_key *key[TRAIL_MAP_N]; /* what that column is read as */
     double factor[TRAIL_MAP_N];
+    long xcol[TRAIL_MAX_EXTRA];         /* header index of each extra quantity's column */
     double first_initial_mass, first_z; /* of the first row kept */
 } table;
 
@@ -285,6 +291,13 @@ static int read_header(table *tb, const char *a, const char *e)
     int rc = HRT_OK;
     for (int q = 0; q < TRAIL_MAP_N && rc == HRT_OK; q++)
         rc = resolve_column(tb, q);
+    for (size_t k = 0; k < tb->imp->n_extra && rc == HRT_OK; k++) {
+        tb->xcol[k] = find_col(tb->header, tb->n_header, tb->imp->extra_column[k]);
+        if (tb->xcol[k] < 0)
+            rc = trail_import_problem(tb->t, HRT_E_FORMAT, tb->line, 1, tb->err,
+                                      "the map names column '%s' (for extra quantity %s), which is not in the header",
+                                      tb->imp->extra_column[k], tb->imp->extra[k].name);
+    }
     static const int required[3] = {TRAIL_MAP_AGE, TRAIL_MAP_L, TRAIL_MAP_TEFF};
     for (int r = 0; r < 3 && rc == HRT_OK; r++)
         rc = require_column(tb, required[r]);
@@ -450,6 +463,15 @@ static int read_row(table *tb, const char *a, const char *e)
     }
     double v[TRAIL_MAP_N];
     int rc = row_values(tb, t->n, v);
+    for (size_t k = 0; k < tb->imp->n_extra && rc == HRT_OK && !tb->row_dropped; k++) {
+        const field *f = &tb->fields[tb->xcol[k]];
+        double x;
+        if (trail_parse_double(f->s, f->len, &x) != 0 || !isfinite(x))
+            rc = row_problem(tb, f->col, "'%.*s' in column '%s' (extra quantity %s) is not a finite number",
+                             FIELD_TEXT(f), tb->imp->extra_column[k], tb->imp->extra[k].name);
+        else
+            t->x[t->n * tb->imp->n_extra + k] = x;
+    }
     if (rc != HRT_OK || tb->row_dropped)
         return rc;
     return store_row(tb, t->n, v);
@@ -625,6 +647,7 @@ int trail_import_read(const hrt_import *imp, trail_import_track *t, hrt_error *e
     for (int q = 0; q < TRAIL_MAP_N; q++)
         tb.column[q] = -1;
     t->n = 0;
+    t->n_extra_cols = imp->n_extra;
     rc = read_lines(&tb, buf, len);
     note_dropped_rows(t);
     int failed = rc != HRT_OK || t->report.status != HRT_OK;

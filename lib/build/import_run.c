@@ -121,7 +121,16 @@ static int add_track(hrt_import *imp, hrt_builder *b, trail_import_track *t, siz
         .keypoint_sample = t->kp.sample,
     };
     hrt_error e = {0, ""};
-    int rc = hrt_builder_add_track(b, t->report.z, &d, &e);
+    const double *xcols[TRAIL_MAX_EXTRA];
+    double *xbuf;
+    int rc = trail_import_extra_columns(imp, t, d.n, xcols, &xbuf);
+    if (rc != HRT_OK)
+        snprintf(e.message, sizeof e.message, "out of memory");
+    else if (imp->n_extra > 0)
+        rc = hrt_builder_add_track_extra(b, t->report.z, &d, imp->n_extra, xcols, &e);
+    else
+        rc = hrt_builder_add_track(b, t->report.z, &d, &e);
+    free(xbuf);
     free(log_age);
     int fatal = HRT_OK;
     if (rc == HRT_E_NOMEM)
@@ -164,6 +173,8 @@ static int build(hrt_import *imp, const char *out_path, size_t *idx, hrt_error *
     hrt_builder *b = NULL;
     if (!fatal)
         fatal = hrt_builder_new(imp->n_routes, imp->spec, imp->z_ref, &b, err);
+    if (!fatal)
+        fatal = trail_import_declare_extras(imp, b, err);
     size_t used = 0;
     for (size_t i = 0; i < imp->n_tracks && !fatal; i++)
         if (imp->t[i].report.status == HRT_OK)

@@ -7,7 +7,9 @@
 #ifndef HRTRAIL_LIB_CORE_H
 #define HRTRAIL_LIB_CORE_H
 
+#include <pthread.h>
 #include <stdarg.h>
+#include <stdatomic.h>
 #include <stddef.h>
 #include <math.h>
 #include <stdint.h>
@@ -59,6 +61,10 @@ typedef struct zgroup {
     double *age_interval;
     double *age_dx_max;    /* [n_mass][2] largest log-mass step below / above a track for which
                             * extrapolated log age stays increasing in EEP */
+    /* [n_eep_max][n_mass + 1][n_extra][2]: value and slope across log mass
+     * of every extra quantity (extra.c), apart from the standard knots so
+     * that queries without extras never touch them; NULL without extras. */
+    double *xknots;
 } zgroup;
 
 
@@ -73,6 +79,17 @@ struct hrt_grid {
     size_t n_attrs;
     attr_pair *attrs;
     size_t bytes;
+    size_t n_extra;           /* extra per-EEP quantities (extra.c) */
+    trail_extra_decl *extra;  /* [n_extra] their names, units, meanings */
+    /* The extras' knots are prepared on their first query (extra.c), so that
+     * opening a grid costs their slopes only for those who ask: until then
+     * extra_raw[iz] holds the file's values [n_extra][n_mass][n_eep_max].
+     * extra_ready is set (release) once every group's xknots is filled,
+     * under extra_lock; the only part of an open grid that changes. */
+    double **extra_raw;
+    pthread_mutex_t extra_lock;
+    int extra_lock_init;
+    atomic_int extra_ready;
 };
 
 /* Mass context inside one metallicity group: which interval, which weights. */
@@ -143,6 +160,11 @@ void trail_hermite_weights(int interp, double x0, double x1, double x, double w[
  * exist (HRT_E_NOT_FOUND for the default grid, else HRT_E_IO). */
 int trail_file_read_code(const char *path, int oldest, int missing_code, trail_file *f, hrt_error *err);
 
+/* grid_extra_read.c: the extra per-EEP quantities of a file (fh: the open
+ * file, an HDF5 hid_t), and their release (trail_file_free calls it). */
+int trail_file_read_extras(int64_t fh, trail_file *f, hrt_error *err);
+void trail_file_free_extras(trail_file *f);
+
 /* grid_check.c: the rules of a file's values, as the reader reads them */
 int trail_check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
                           size_t J, hrt_error *err);
@@ -155,6 +177,11 @@ int trail_check_checksums(int64_t fh, const trail_file *f, hrt_error *err);
  * attributes (f is freed by the caller). */
 int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err);
 void trail_grid_free_contents(hrt_grid *g);
+
+/* extra.c: the extra quantities' knots (taken from f after
+ * trail_grid_prepare) and their release. */
+int trail_extra_prepare(hrt_grid *g, trail_file *f, hrt_error *err);
+void trail_extra_free(hrt_grid *g);
 
 /* eval.c: query contexts */
 int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err);

@@ -38,6 +38,8 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
     int rc = trail_file_read_code(path, HRT_FORMAT_VERSION, missing_code, &f, err);
     if (rc == HRT_OK)
         rc = trail_grid_prepare(g, &f, err);
+    if (rc == HRT_OK)
+        rc = trail_extra_prepare(g, &f, err);
     trail_file_free(&f);
     if (rc != HRT_OK) {
         hrt_grid_close(g);
@@ -59,6 +61,7 @@ void hrt_grid_close(hrt_grid *g)
 {
     if (!g)
         return;
+    trail_extra_free(g);
     trail_grid_free_contents(g);
     free(g);
 }

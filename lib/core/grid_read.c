@@ -576,6 +576,8 @@ static int read_file(hid_t fh, int oldest, trail_file *f, hrt_error *err)
     for (size_t iz = 0; iz < f->n_z && rc == HRT_OK; iz++)
         rc = read_group(fh, f, iz, &cm, err);
     if (rc == HRT_OK && f->version >= 2)
+        rc = trail_file_read_extras(fh, f, err);
+    if (rc == HRT_OK && f->version >= 2)
         rc = trail_check_checksums(fh, f, err);
     if (mg >= 0)
         H5Gclose(mg);
@@ -635,6 +637,7 @@ void trail_file_free(trail_file *f)
 {
     if (!f)
         return;
+    trail_file_free_extras(f);
     for (size_t iz = 0; iz < f->n_z; iz++) {
         trail_file_group *gp = &f->grp[iz];
         free(gp->initial_mass);

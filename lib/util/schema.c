@@ -65,3 +65,34 @@ void trail_attrs_free(attr_pair *attrs, size_t n)
     }
     free(attrs);
 }
+
+/* Names an extra quantity may not take: the standard quantities of the
+ * vocabulary (tracks/FORMAT.md) and what the state and the CLI already name. */
+static const char *const reserved_extra_names[] = {
+    "initial_mass_msun", "z", "feh", "z_ref", "age_yr", "log_age_yr", "log_l_lsun", "l_lsun", "log_teff_k",
+    "teff_k", "log_r_rsun", "r_rsun", "log_g_cgs", "mass_msun", "he_core_mass_msun", "co_core_mass_msun",
+    "phase", "route", "remnant", "remnant_mass_msun", "eep", "flags", "status", "phase_fraction",
+    "phase_start_yr", "phase_end_yr", "n_eep", "track"};
+
+int trail_extra_name_ok(const char *name)
+{
+    if (!name || !(name[0] >= 'a' && name[0] <= 'z') || strlen(name) >= TRAIL_EXTRA_NAME_LEN)
+        return 0;
+    for (const char *p = name; *p; p++)
+        if (!((*p >= 'a' && *p <= 'z') || (*p >= '0' && *p <= '9') || *p == '_'))
+            return 0;
+    for (size_t k = 0; k < sizeof reserved_extra_names / sizeof *reserved_extra_names; k++)
+        if (strcmp(name, reserved_extra_names[k]) == 0)
+            return 0;
+    return 1;
+}
+
+int trail_extra_text_ok(const char *s)
+{
+    if (!s || strlen(s) >= TRAIL_EXTRA_TEXT_LEN)
+        return 0;
+    for (const char *p = s; *p; p++)
+        if ((unsigned char)*p < 0x20 || (unsigned char)*p > 0x7e)
+            return 0;
+    return 1;
+}

@@ -126,6 +126,25 @@ void trail_route_clear(route_layout *L);
 void trail_routes_free(route_layout *routes, size_t n);
 void trail_attrs_free(attr_pair *attrs, size_t n);
 
+/* Extra per-EEP quantities a grid may carry beyond the standard ones
+ * (tracks/FORMAT.md, "Extra quantities"): at most TRAIL_MAX_EXTRA, names of
+ * lower-case letters, digits and '_' (starting with a letter) of at most
+ * TRAIL_EXTRA_NAME_LEN - 1 characters, units and meanings printable text. */
+#define TRAIL_MAX_EXTRA 32
+#define TRAIL_EXTRA_NAME_LEN 64
+#define TRAIL_EXTRA_TEXT_LEN 256
+/* Name of the subgroup of a metallicity group holding them. */
+#define TRAIL_EXTRA_GROUP "extra"
+typedef struct trail_extra_decl {
+    char name[TRAIL_EXTRA_NAME_LEN];
+    char units[TRAIL_EXTRA_TEXT_LEN];   /* astropy unit string, "" when dimensionless */
+    char meaning[TRAIL_EXTRA_TEXT_LEN];
+} trail_extra_decl;
+/* 1 if name is a valid extra name (and not a standard quantity's). */
+int trail_extra_name_ok(const char *name);
+/* 1 if s is printable ASCII text shorter than TRAIL_EXTRA_TEXT_LEN. */
+int trail_extra_text_ok(const char *s);
+
 /* One metallicity group as the file holds it (validated). */
 typedef struct trail_file_group {
     double z;
@@ -138,6 +157,7 @@ typedef struct trail_file_group {
     double *boundary;      /* [n_routes - 1] Msun */
     double *q[TRAIL_NF];   /* [n_mass][n_eep_max], NaN beyond n_eep */
     int8_t *phase;         /* [n_mass][n_eep_max] hrt_phase codes, 0 beyond n_eep */
+    double *x;             /* [n_extra][n_mass][n_eep_max] extra quantities (NULL without), NaN beyond n_eep */
 } trail_file_group;
 
 /* A whole grid file as read (validated), in the current schema's terms
@@ -152,6 +172,8 @@ typedef struct trail_file {
     attr_pair *attrs;      /* root text attributes */
     size_t n_z;
     trail_file_group *grp;
+    size_t n_extra;        /* extra per-EEP quantities (metallicity/N/extra/, tracks/FORMAT.md) */
+    trail_extra_decl *extra; /* [n_extra] their names, units and meanings */
     double values;         /* tracks x EEPs over the groups read so far */
     size_t bytes;          /* memory held */
 } trail_file;

@@ -61,6 +61,12 @@ def hdf5_names():
             for k in g.attrs:
                 names[k] = None
             for k, ds in g.items():
+                if isinstance(ds, h5py.Group):  # extra/: the default grid's extra quantities are names too
+                    for kx, dx in ds.items():
+                        u = dx.attrs.get("units")
+                        u = u.decode() if isinstance(u, bytes) else u
+                        names[kx] = u if u else None  # "" is dimensionless
+                    continue
                 u = ds.attrs.get("units")
                 names[k] = u.decode() if isinstance(u, bytes) else u
     return names

@@ -107,6 +107,10 @@ def load():
         "hrt_builder_set_compression": (i, [vp, i, err]),
         "hrt_builder_write": (i, [vp, cp, err]),
         "hrt_grid_upgrade": (i, [cp, cp, err]),
+        "hrt_grid_extra_count": (sz, [vp]),
+        "hrt_grid_extra_name": (cp, [vp, sz]),
+        "hrt_grid_extra_unit": (cp, [vp, sz]),
+        "hrt_state_extra": (i, [vp, ctypes.POINTER(HrtState), sz, ctypes.POINTER(sz), _DP, err]),
     }
     for name, (res, args) in protos.items():
         fn = getattr(lib, name)

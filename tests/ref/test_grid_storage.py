@@ -47,7 +47,7 @@ def expected_dims(path):
     if parts[0] == "metallicity":
         if name in PER_TRACK:
             return ("track",)
-        if name in PER_EEP:
+        if name in PER_EEP or (len(parts) == 4 and parts[2] == "extra"):  # FORMAT.md, "Extra quantities"
             return ("track", "eep")
         if name == "route_boundary_mass_msun":
             return ("route_boundary",)

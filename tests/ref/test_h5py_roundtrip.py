@@ -267,6 +267,37 @@ class H5pyWrittenGrid(unittest.TestCase):
             f.create_group("notes").attrs["text"] = "extra group"
         self.check_grid(path)
 
+    def test_extra_quantities_written_with_h5py(self):
+        """FORMAT.md "Extra quantities" written by h5py alone: metallicity/<i>/extra/<name>, [track][eep],
+        NaN beyond n_eep, units and long_name, checksummed; the library reads them back and interpolates
+        them as log L: at a track's own EEPs the file's values."""
+        path = self.write("extras.h5")
+        with h5py.File(path, "r+") as f:
+            for grp in f["metallicity"].values():
+                x = grp.create_group("extra")
+                ds = x.create_dataset("l_twice", data=2.0 * grp["log_l_lsun"][()], fletcher32=True)
+                ds.attrs["units"] = "dex(solLum)"
+                ds.attrs["long_name"] = "twice log L"
+        g = H.open_grid(LIB, path, "steffen")
+        try:
+            self.assertEqual(LIB.hrt_grid_extra_count(g), 1)
+            self.assertEqual(LIB.hrt_grid_extra_name(g, 0), b"l_twice")
+            self.assertEqual(LIB.hrt_grid_extra_unit(g, 0), b"dex(solLum)")
+            z = self.groups[0]["z"]
+            t = sorted(self.groups[0]["tracks"], key=lambda t: t["initial_mass_msun"])[1]
+            star, e = ctypes.c_void_p(), H.HrtError()
+            self.assertEqual(LIB.hrt_star_new(g, t["initial_mass_msun"], z, ctypes.byref(star), ctypes.byref(e)), 0)
+            try:
+                st, v = H.HrtState(), ctypes.c_double()
+                for j in range(LIB.hrt_star_n_eep(star)):
+                    LIB.hrt_star_eep_state(star, j, ctypes.byref(st))
+                    self.assertEqual(LIB.hrt_state_extra(g, ctypes.byref(st), 1, None, ctypes.byref(v), None), 0)
+                    self.assertAlmostEqual(v.value, 2.0 * t["log_l_lsun"][j], delta=1e-12)
+            finally:
+                LIB.hrt_star_free(star)
+        finally:
+            LIB.hrt_grid_close(g)
+
     def broken(self, name, edit):
         path = self.write(name)
         with h5py.File(path, "r+") as f:

@@ -97,6 +97,7 @@ program test_fortran
      call test_eval()
      call test_magnitudes()
      call test_remap()
+     call test_extras()
      call test_stars()
      call test_isochrones()
      call test_errors()
@@ -401,6 +402,38 @@ contains
     call expect(rc == HRT_E_DOMAIN .and. err%code == HRT_E_DOMAIN, 'hrt_magnitudes refuses a negative distance')
     call hrtf_close(g)
   end subroutine test_magnitudes
+
+  !> The grid's extra quantities through the module: names, and hrt_extra_at equal to hrt_state_extra of the
+  !> state hrtf_evaluate gives (the same interpolation), and gyration_k2 of a radiative star that of an n = 3
+  !> polytrope (0.0754, tracks/MODEL.md; from memory, checked by tests/test_structure.c).
+  subroutine test_extras()
+    type(hrt_grid_t) :: g
+    type(hrt_error) :: err
+    type(hrt_state), target :: st
+    type(hrt_state), allocatable :: f(:)
+    integer(c_size_t), target :: idx(2)
+    real(c_double) :: v(2), w(2)
+    character(len=256) :: msg
+    integer :: stat, rc
+    call hrtf_open(g, trim(grid_path), stat=stat, errmsg=msg)
+    call expect(stat == HRT_OK, 'open ' // trim(grid_path) // ': ' // trim(msg))
+    if (stat /= HRT_OK) return
+    call expect(hrt_grid_extra_count(g%ptr) >= 2, 'the default grid has extra quantities')
+    idx(1) = int(hrt_grid_extra_index(g%ptr, 'gyration_k2' // c_null_char), c_size_t)
+    idx(2) = int(hrt_grid_extra_index(g%ptr, 'lambda_ce' // c_null_char), c_size_t)
+    call expect(hrtf_grid_extra_name(g, int(idx(1))) == 'gyration_k2', 'hrtf_grid_extra_name')
+    rc = hrt_extra_at(g%ptr, 5.0_c_double, 0.014_c_double, 3.0e7_c_double, 2_c_size_t, c_loc(idx), v, c_loc(st), err)
+    call expect(rc == HRT_OK, 'hrt_extra_at from Fortran')
+    call expect(abs(v(1) / 0.0754_c_double - 1) < 0.002_c_double, 'k2 of a 5 Msun main-sequence star')
+    call hrtf_evaluate(g, [5.0_c_double], [3.0e7_c_double], 0.014_c_double, f, stat, msg)
+    rc = hrt_state_extra(g%ptr, f(1), 2_c_size_t, c_loc(idx), w, err)
+    call expect(rc == HRT_OK .and. maxval(abs(v - w)) <= 0.0_c_double, &
+         'hrt_state_extra of hrtf_evaluate''s state equals hrt_extra_at')
+    idx(1) = 99
+    rc = hrt_state_extra(g%ptr, f(1), 1_c_size_t, c_loc(idx), w, err)
+    call expect(rc == HRT_E_INVALID, 'an index out of range is refused')
+    call hrtf_close(g)
+  end subroutine test_extras
 
   subroutine test_eval()
     type(hrt_grid_t) :: g

@@ -37,7 +37,7 @@ population-level work; the answers are as good as the grid.
 """
 from ._clib import ABI_VERSION, AbiMismatchError, HrtError, HrtPhaseSpan, HrtState, lib as _lib
 from ._clib import library_path, text as _text
-from .core import STATE_DTYPE, Grid, PhaseSpan, RemnantInfo, Star, State, States, upgrade_grid
+from .core import STATE_DTYPE, ExtraQuantity, Grid, PhaseSpan, RemnantInfo, Star, State, States, upgrade_grid
 from .core import collapse_remnant, wd_log_l, wd_radius_rsun
 from .core import BC_V_TEFF_RANGE_K, Magnitudes, bc_v, magnitudes
 from .enums import Flag, Interp, Phase, Remnant, Status, phase_from_key, remnant_from_key
@@ -75,6 +75,6 @@ __all__ = [
     "SAMPLE_DTYPE", "FitFlag", "FitModel", "FitResult", "Forecast", "Interval", "Observation", "distance_m",
     "flux_from_mbol", "forecast", "MainSequence", "MsDistance", "MsEstimate", "MsValue",
     "accuracy", "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
-    "default_routes", "keypoints_find", "keypoints_route",
+    "default_routes", "keypoints_find", "keypoints_route", "ExtraQuantity",
     "fits_to_pandas", "samples_to_pandas", "to_pandas", "to_table",
 ]

@@ -167,6 +167,7 @@ class Builder(_Owned):
     def __init__(self, routes: Sequence[RouteSpec], z_ref: float):
         self._h = None
         self._routes = _Routes(routes)
+        self._extra_names = []
         h = ctypes.c_void_p()
         e, pe = new_error()
         check(lib.hrt_builder_new(self._routes.n, self._routes.arr, _u.value(z_ref, "fraction", "z_ref"),
@@ -205,24 +206,67 @@ class Builder(_Owned):
             t.keypoint_sample = ks.ctypes.data_as(ctypes.POINTER(ctypes.c_size_t))
         return t, keep
 
+    def declare_extra(self, name: str, unit: str = "", meaning: str = "", single: bool = False) -> None:
+        """Declare an extra per-EEP quantity (hrt_builder_declare_extra), before any track; single=True stores
+        it in single precision (hrt_builder_set_extra_single).  Tracks then give it in their dict's "extra"
+        entry: {name: array of the track's length}."""
+        e, pe = new_error()
+        check(lib.hrt_builder_declare_extra(self._handle, name.encode(), unit.encode(), meaning.encode(), pe), e,
+              "hrt_builder_declare_extra")
+        self._extra_names.append(name)
+        if single:
+            check(lib.hrt_builder_set_extra_single(self._handle, name.encode(), 1, pe), e,
+                  "hrt_builder_set_extra_single")
+
+    @property
+    def extra_count(self) -> int:
+        """Number of extra quantities declared (hrt_builder_extra_count)."""
+        return lib.hrt_builder_extra_count(self._handle)
+
+    def _extra_columns(self, track, n):
+        extra = track.get("extra") or {}
+        unknown = set(extra) - set(self._extra_names)
+        if unknown:
+            raise InvalidInputError(Status.INVALID, "extra columns %s were not declared" % sorted(unknown))
+        cols = []
+        for name in self._extra_names:
+            if name not in extra:
+                raise InvalidInputError(Status.INVALID, "the track lacks the declared extra quantity %r" % name)
+            a = _f8(extra[name], name)
+            if a.size != n:
+                raise InvalidInputError(Status.INVALID, "extra %s has %d values, not %d" % (name, a.size, n))
+            cols.append(a)
+        ptrs = (ctypes.c_void_p * max(len(cols), 1))(*[a.ctypes.data for a in cols])
+        return cols, ptrs
+
+    def _add(self, z, track, eep):
+        t, keep = self._track(track)
+        e, pe = new_error()
+        zz = _u.value(z, "fraction", "z")
+        if not self._extra_names:
+            fn, name = (lib.hrt_builder_add_eep_track, "hrt_builder_add_eep_track") if eep else \
+                (lib.hrt_builder_add_track, "hrt_builder_add_track")
+            check(fn(self._handle, zz, ctypes.byref(t), pe), e, name)
+            return
+        cols, ptrs = self._extra_columns(track, t.n)
+        fn, name = (lib.hrt_builder_add_eep_track_extra, "hrt_builder_add_eep_track_extra") if eep else \
+            (lib.hrt_builder_add_track_extra, "hrt_builder_add_track_extra")
+        check(fn(self._handle, zz, ctypes.byref(t), len(cols), ptrs, pe), e, name)
+
     def add_track(self, z: float, track: dict) -> None:
         """Resample a raw track onto its route's EEPs and add it at metallicity z (hrt_builder_add_track).
 
         track: {initial_mass_msun, route (index), remnant (Remnant, default NONE), remnant_mass_msun,
         log_age_yr, log_l_lsun, log_teff_k, log_r_rsun (optional), mass_msun, he_core_mass_msun,
         co_core_mass_msun (arrays in increasing age), phase (codes), keypoint_sample (sample index of
-        each keypoint reached)}."""
-        t, keep = self._track(track)
-        e, pe = new_error()
-        check(lib.hrt_builder_add_track(self._handle, _u.value(z, "fraction", "z"), ctypes.byref(t), pe), e,
-              "hrt_builder_add_track")
+        each keypoint reached), extra ({name: array}, every declared extra quantity;
+        hrt_builder_add_track_extra)}."""
+        self._add(z, track, False)
 
     def add_eep_track(self, z: float, track: dict) -> None:
-        """Add a track already on the route's EEPs (hrt_builder_add_eep_track); keypoint_sample not used."""
-        t, keep = self._track(track)
-        e, pe = new_error()
-        check(lib.hrt_builder_add_eep_track(self._handle, _u.value(z, "fraction", "z"), ctypes.byref(t), pe), e,
-              "hrt_builder_add_eep_track")
+        """Add a track already on the route's EEPs (hrt_builder_add_eep_track, with extras
+        hrt_builder_add_eep_track_extra); keypoint_sample not used."""
+        self._add(z, track, True)
 
     def set_route_boundaries(self, z: float, mass_msun) -> None:
         """The n_routes - 1 route-boundary masses (Msun) of metallicity z (hrt_builder_set_route_boundaries)."""
@@ -372,6 +416,20 @@ class Importer(_Owned):
         e, pe = new_error()
         check(lib.hrt_import_map(self._handle, entries.encode(), pe), e, "hrt_import_map")
         return self
+
+    def add_extra(self, name: str, column: str, unit: Optional[str] = None,
+                  meaning: Optional[str] = None) -> "Importer":
+        """Read the tables' column as the grid's extra quantity name (hrt_import_add_extra)."""
+        e, pe = new_error()
+        check(lib.hrt_import_add_extra(self._handle, name.encode(), column.encode(),
+                                       None if unit is None else unit.encode(),
+                                       None if meaning is None else meaning.encode(), pe), e, "hrt_import_add_extra")
+        return self
+
+    @property
+    def n_extra(self) -> int:
+        """Number of extra quantities the import reads (hrt_import_n_extra)."""
+        return lib.hrt_import_n_extra(self._handle)
 
     def map_file(self, path) -> "Importer":
         """hrt_import_map() on a mapping file's contents (messages give file:line)."""

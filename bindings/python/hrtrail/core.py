@@ -164,6 +164,10 @@ class State:
                     self.mass_msun, getattr(self.status, "name", self.status)))
 
 
+ExtraQuantity = collections.namedtuple("ExtraQuantity", "name unit meaning")
+ExtraQuantity.__doc__ = "An extra per-EEP quantity of a grid: its name, astropy unit string and meaning."
+
+
 def _as_f8(a):
     """C-contiguous float64 array of a's shape, 0-d included (no copy when a already is one)."""
     return _np.asarray(a, dtype=_np.float64, order="C")
@@ -357,6 +361,63 @@ class Grid(_Owned):
     def memory_bytes(self):
         """Bytes of memory held by the opened grid."""
         return lib.hrt_grid_memory_bytes(self._handle)
+
+    # -- extra quantities ---------------------------------------------------
+    @property
+    def extra_quantities(self) -> Tuple["ExtraQuantity", ...]:
+        """The grid's extra per-EEP quantities (tracks/FORMAT.md, "Extra quantities"), in name order:
+        ExtraQuantity(name, unit, meaning), unit an astropy unit string ("" dimensionless)."""
+        h = self._handle
+        return tuple(ExtraQuantity(text(lib.hrt_grid_extra_name(h, k)), text(lib.hrt_grid_extra_unit(h, k)),
+                                   text(lib.hrt_grid_extra_meaning(h, k)))
+                     for k in range(lib.hrt_grid_extra_count(h)))
+
+    def _extra_indices(self, names):
+        h = self._handle
+        if names is None:
+            names = [q.name for q in self.extra_quantities]
+        elif isinstance(names, str):
+            names = [names]
+        idx = []
+        for n in names:
+            k = lib.hrt_grid_extra_index(h, str(n).encode())
+            if k < 0:
+                have = ", ".join(q.name for q in self.extra_quantities) or "none"
+                raise InvalidInputError(Status.INVALID, "the grid has no extra quantity %r (it has: %s)" % (n, have))
+            idx.append(k)
+        return list(names), (ctypes.c_size_t * max(len(idx), 1))(*idx)
+
+    def extra(self, mass_msun: Num, age_yr: Num, z: Num, names=None) -> dict:
+        """Extra quantities of one star (hrt_extra_at) of initial mass mass_msun (Msun), age age_yr (yr since
+        birth) and metal mass fraction z: {name: value}, NaN before the track's first EEP and for remnants.
+        names: a name, a list of names, or None for all of them."""
+        names, idx = self._extra_indices(names)
+        out = (ctypes.c_double * max(len(names), 1))()
+        e, pe = new_error()
+        rc = lib.hrt_extra_at(self._handle, _u.value(mass_msun, "mass", "mass_msun"), _u.value(z, "fraction", "z"),
+                              _u.value(age_yr, "age", "age_yr"), len(names), idx, ctypes.addressof(out), None, pe)
+        check(rc, e, "hrt_extra_at")
+        return {n: out[k] for k, n in enumerate(names)}
+
+    def extras_of(self, states, names=None) -> dict:
+        """Extra quantities of the states evaluate(), isochrone() or Star.at() returned (a NumPy array of
+        STATE_DTYPE), interpolated as log L is (hrt_state_extra): {name: array of the states' shape}."""
+        _need_numpy("Grid.extras_of")
+        names, idx = self._extra_indices(names)
+        st = _np.ascontiguousarray(states)
+        if st.dtype != STATE_DTYPE:
+            raise ValueError("states must be an array of STATE_DTYPE")
+        flat = st.reshape(-1)
+        vals = _np.empty((flat.size, max(len(names), 1)))
+        e, pe = new_error()
+        base, step, row = flat.ctypes.data, flat.dtype.itemsize, vals.strides[0]
+        for i in range(flat.size):
+            rc = lib.hrt_state_extra(self._handle, base + i * step, len(names), idx, vals.ctypes.data + i * row, pe)
+            if rc not in (0, Status.MASS_RANGE, Status.Z_RANGE, Status.NO_TRACK, Status.DOMAIN):
+                check(rc, e, "hrt_state_extra")
+            if rc != 0:
+                vals[i, :] = _np.nan
+        return {n: vals[:, k].reshape(st.shape).copy() for k, n in enumerate(names)}
 
     def __repr__(self):
         if self._h is None:

@@ -626,6 +626,8 @@ def write_format_1(src, dst):
             og.attrs["Z"] = g.attrs["z"]
             n_eep = g["n_eep"][()]
             for name, ds in g.items():
+                if isinstance(ds, h5py.Group):
+                    continue  # extra/: format 1 had no extra quantities
                 data = ds[()]
                 if name == "remnant":
                     data = np.array([index["remnant"][c] for c in data], dtype="<i4")
@@ -635,6 +637,68 @@ def write_format_1(src, dst):
                         out[i, :n] = [index["phase"][c] for c in data[i, :n]]
                     data = out
                 og.create_dataset(old.get(name, name), data=data)
+
+
+class Extras(Base):
+    """The grid's extra quantities (hrt_grid_extra_*, hrt_state_extra, hrt_extra_at)."""
+
+    def test_declared(self):
+        q = self.grid.extra_quantities
+        names = [x.name for x in q]
+        self.assertEqual(names, sorted(names))
+        self.assertIn("gyration_k2", names)
+        self.assertEqual(dict((x.name, x.unit) for x in q)["envelope_mass_msun"], "solMass")
+
+    def test_states_and_stars_agree(self):
+        g = self.grid
+        m, a = np.array([0.5, 1.0, 2.0, 8.0]), np.array([1e9, 4.6e9, 5e8, 2e7])
+        st = g.evaluate(m, a, 0.014)
+        got = g.extras_of(st, ["gyration_k2", "lambda_ce"])
+        self.assertEqual(got["lambda_ce"].shape, m.shape)
+        for i in range(m.size):
+            one = g.extra(m[i], a[i], 0.014, ["gyration_k2", "lambda_ce"])
+            self.assertEqual(one["gyration_k2"], got["gyration_k2"][i])  # the same interpolation, bit for bit
+            self.assertEqual(one["lambda_ce"], got["lambda_ce"][i])
+        # envelope mass: the state's M - M_He (to the single precision of the file and the interpolation)
+        env = g.extras_of(st, "envelope_mass_msun")["envelope_mass_msun"]
+        np.testing.assert_allclose(env, st["mass_msun"] - st["he_core_mass_msun"], rtol=1e-3)
+        # a remnant has none
+        self.assertTrue(np.isnan(g.extra(1.0, 13e9, 0.014, "gyration_k2")["gyration_k2"]))
+
+    def test_unknown_name(self):
+        with self.assertRaises(hrtrail.InvalidInputError):
+            self.grid.extra(1.0, 1e9, 0.014, "no_such_quantity")
+
+    def test_builder_and_importer(self):
+        """Extras through the Python builder (a copy of log L) and the importer's settings."""
+        routes = [hrtrail.RouteSpec("only", ("zams", "tams"), (30,))]
+        with tempfile.TemporaryDirectory() as d:
+            b = hrtrail.Builder(routes, 0.014)
+            b.declare_extra("l_copy", "dex(solLum)", "log L again")
+            b.declare_extra("l_single", "dex(solLum)", "log L in single precision", single=True)
+            self.assertEqual(b.extra_count, 2)
+            for m in (1.0, 1.4, 2.0):
+                e = np.linspace(0.0, 1.0, 31)
+                ll = 4.0 * np.log10(m) + 0.5 * e
+                tr = dict(initial_mass_msun=m, route=0, log_age_yr=10.0 - 2.5 * np.log10(m) + 0.3 * e, log_l_lsun=ll,
+                          log_teff_k=3.76 + 0.1 * np.log10(m) - 0.02 * e, mass_msun=np.full(31, m),
+                          he_core_mass_msun=np.zeros(31), co_core_mass_msun=np.zeros(31),
+                          phase=np.full(31, int(hrtrail.Phase.MS)), extra={"l_copy": ll, "l_single": ll})
+                b.add_eep_track(0.014, tr)
+            with self.assertRaises(hrtrail.InvalidInputError):
+                b.add_eep_track(0.014, dict(tr, extra={"l_copy": ll}))  # a declared quantity missing
+            path = os.path.join(d, "x.h5")
+            b.write(path)
+            b.close()
+            with hrtrail.Grid(path) as g:
+                st = g.evaluate([1.2, 1.7], [3e9, 5e8], 0.014)
+                x = g.extras_of(st)
+                np.testing.assert_allclose(x["l_copy"], st["log_l_lsun"], rtol=0, atol=1e-12)
+                np.testing.assert_allclose(x["l_single"], st["log_l_lsun"], rtol=0, atol=1e-6)  # binary32
+        imp = hrtrail.Importer()
+        imp.add_extra("q_col", "Q", "erg", "a user's column")
+        self.assertEqual(imp.n_extra, 1)
+        imp.close()
 
 
 class Upgrade(Base):
