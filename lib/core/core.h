@@ -137,6 +137,9 @@ int trail_interp_effective(int interp, size_t n);
 static inline int trail_z_type(const hrt_grid *g) { return trail_interp_effective(g->interp, g->n_z); }
 int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *gsl_interp_obj);
 void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d);
+/* Scratch of trail_slopes_work for n knots (akima: n + 4, cspline: 3 n). */
+#define TRAIL_SLOPES_WORK(n) (3 * (size_t)(n) + 8)
+void trail_slopes_work(int interp, size_t n, const double *x, const double *y, double *d, double *work);
 void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4]);
 
 /* grid_read.c: trail_file_read, with the code for a file that does not
