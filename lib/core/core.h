@@ -168,6 +168,8 @@ void trail_interval_weights(const hrt_grid *g, mctx *m, double log_mass);
 
 /* eval.c: values, phases, remnants and states from a context */
 double trail_q_value(const qctx *q, int quantity, int j);
+/* Log age at EEPs 0 .. n - 1, as trail_q_value(q, Q_AGE, j) gives each. */
+void trail_q_ages(const qctx *q, int n, double *a);
 void trail_q_values(const qctx *q, int j, double v[NQS]);
 int trail_q_phase(const qctx *q, int j);
 void trail_q_phase_run(const qctx *q, int j, int *js, int *je);

@@ -400,6 +400,26 @@ static inline double grid_age(const qctx *q, int j)
     return (1.0 - q->zp.t_feh) * group_value(q, q->zp.g0, Q_AGE, j) + q->zp.t_feh * group_value(q, q->zp.g0 + 1, Q_AGE, j);
 }
 
+/* Log age at EEPs 0 .. n - 1 (n <= q->n_eep) into a[]: grid_age at each,
+ * the same numbers, in one pass over the contiguous age tables. */
+void trail_q_ages(const qctx *q, int n, double *a)
+{
+    size_t J = q->g->n_eep_max;
+    const mctx *m0 = &q->m[q->zp.g0];
+    const double *p0 = m0->gp->age_interval + m0->i * J * 4, *w0 = m0->w_age;
+    if (q->zp.single) {
+        for (int j = 0; j < n; j++, p0 += 4)
+            a[j] = w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3];
+        return;
+    }
+    const mctx *m1 = &q->m[q->zp.g0 + 1];
+    const double *p1 = m1->gp->age_interval + m1->i * J * 4, *w1 = m1->w_age;
+    double t = q->zp.t_feh;
+    for (int j = 0; j < n; j++, p0 += 4, p1 += 4)
+        a[j] = (1.0 - t) * (w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3]) +
+               t * (w1[0] * p1[0] + w1[1] * p1[1] + w1[2] * p1[2] + w1[3] * p1[3]);
+}
+
 /* Where a state's ages and values come from: a star's stored track (S
  * non-NULL) or the grid. Both give the same numbers for the same EEP, so
  * hrt_star_at and hrt_eval agree to the bit. */

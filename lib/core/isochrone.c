@@ -139,8 +139,7 @@ static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *
         if (trail_qctx_init(g, trail_exp10(b->knots[k]), z, b->q, NULL) != HRT_OK || b->q->route != (int)r)
             continue;
         b->knot_n_eep[k] = b->q->n_eep;
-        for (int j = 0; j < b->q->n_eep; j++)
-            b->ages[k * J + (size_t)j] = trail_q_value(b->q, Q_AGE, j);
+        trail_q_ages(b->q, b->q->n_eep, b->ages + k * J);
         usable = 1;
     }
     return usable;
@@ -194,12 +193,39 @@ typedef struct iso_out {
 
 /* The state at log mass x, and whether the isochrone keeps it: evaluated
  * without error on this route, modelled, of a phase the options include. */
+static int iso_keep(const iso_out *io, const hrt_state *st)
+{
+    return st->status == HRT_OK && st->route == io->route && !(st->flags & HRT_FLAG_NOT_MODELLED) &&
+           st->phase >= 0 && st->phase < HRT_PHASE_SLOTS && (io->o->phases & HRT_PHASE_BIT(st->phase));
+}
+
 static int iso_state(const iso_out *io, double x, hrt_state *st)
 {
     double m = trail_exp10(x);
     hrt_eval(io->g, 1, &m, NULL, io->z, &io->age_yr, st, NULL);
-    return st->status == HRT_OK && st->route == io->route && !(st->flags & HRT_FLAG_NOT_MODELLED) &&
-           st->phase >= 0 && st->phase < HRT_PHASE_SLOTS && (io->o->phases & HRT_PHASE_BIT(st->phase));
+    return iso_keep(io, st);
+}
+
+/* The states of every candidate in one hrt_eval call (the same states as
+ * one call per candidate); NULL if out of memory, and the caller evaluates
+ * them one at a time. */
+static hrt_state *candidate_states(const iso_out *io, const mass_list *c)
+{
+    hrt_state *st = malloc(c->n * sizeof *st);
+    double *m = malloc(2 * c->n * sizeof *m);
+    if (!st || !m) {
+        free(st);
+        free(m);
+        return NULL;
+    }
+    double *age = m + c->n;
+    for (size_t i = 0; i < c->n; i++) {
+        m[i] = trail_exp10(c->x[i]);
+        age[i] = io->age_yr;
+    }
+    hrt_eval(io->g, c->n, m, NULL, io->z, age, st, NULL);
+    free(m);
+    return st;
 }
 
 static void iso_emit(iso_out *io, const hrt_state *st)
@@ -256,8 +282,15 @@ static void route_points(iso_out *io, const mass_list *c)
     hrt_state prev, st, edge;
     double xprev = 0.0, xe;
     int have = 0, prev_kept = 0;
+    hrt_state *cs = c->n ? candidate_states(io, c) : NULL;
     for (size_t i = 0; i < c->n; i++) {
-        int kept = iso_state(io, c->x[i], &st);
+        int kept;
+        if (cs) {
+            st = cs[i];
+            kept = iso_keep(io, &st);
+        } else {
+            kept = iso_state(io, c->x[i], &st);
+        }
         if (kept && !prev_kept && i > 0 && edge_point(io, c->x[i], c->x[i - 1], &xe, &edge)) {
             iso_emit(io, &edge);
             prev = edge;
@@ -277,6 +310,7 @@ static void route_points(iso_out *io, const mass_list *c)
         }
         have = prev_kept = kept;
     }
+    free(cs);
 }
 
 /* Candidate log masses of route r: its zone's ends and the root at every
