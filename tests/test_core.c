@@ -304,6 +304,74 @@ START_TEST(test_hot_path_equals_gsl)
 }
 END_TEST
 
+/* hrt_eval over a large batch (evaluated in buckets of metallicity and
+ * mass, batch.c) gives every star the state a one-star call gives it, to the
+ * byte, and reports the first failure in the caller's order with the same
+ * code and message: 70,000 random stars (more than one bucketing chunk), at
+ * grid metallicities, between them and outside, masses and ages inside and
+ * outside the grid. */
+START_TEST(test_batch_equals_one_star)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    const size_t n = 70000;
+    double *m = malloc(n * sizeof *m), *z = malloc(n * sizeof *z), *age = malloc(n * sizeof *age);
+    hrt_state *batch = malloc(n * sizeof *batch);
+    double zlo, zhi;
+    ck_assert_int_eq(hrt_grid_z_range(g, &zlo, &zhi), HRT_OK);
+    for (int pass = 0; pass < 2; pass++) {
+        for (size_t i = 0; i < n; i++) {
+            double u = gsl_rng_uniform(rng);
+            z[i] = u < 0.3 ? hrt_grid_z(g, gsl_rng_uniform_int(rng, hrt_grid_n_z(g)))
+                           : zlo * pow(zhi / zlo, 1.1 * gsl_rng_uniform(rng) - 0.05);
+            double lo, hi;
+            if (hrt_grid_mass_range(g, z[i], &lo, &hi) != HRT_OK) {
+                lo = 0.5;
+                hi = 20.0;
+            }
+            m[i] = lo * pow(hi / lo, 1.04 * gsl_rng_uniform(rng) - 0.02);
+            double r = gsl_rng_uniform(rng);
+            age[i] = r < 0.005 ? 0.0 : r < 0.01 ? NAN : 1e5 * pow(1e6, gsl_rng_uniform(rng));
+        }
+        if (pass == 1) /* no failure before the middle: the first is not the first evaluated */
+            for (size_t i = 0; i < n / 2; i++) {
+                z[i] = hrt_grid_z(g, 1);
+                m[i] = 1.0 + (double)(i % 7);
+                age[i] = 1e8;
+            }
+        hrt_error eb, e1;
+        int rcb = hrt_eval(g, n, m, z, 0.0, age, batch, &eb);
+        int rc1 = HRT_OK;
+        size_t first = n;
+        for (size_t i = 0; i < n; i++) {
+            hrt_state s;
+            hrt_error e;
+            int rc = hrt_eval(g, 1, &m[i], &z[i], 0.0, &age[i], &s, &e);
+            ck_assert_msg(memcmp(&s, &batch[i], sizeof s) == 0, "star %zu (%g Msun, Z %g, %g yr) differs", i, m[i], z[i],
+                          age[i]);
+            if (rc != HRT_OK && first == n) {
+                first = i;
+                rc1 = rc;
+                e1 = e;
+            }
+        }
+        ck_assert_uint_lt(first, n); /* the inputs include failures */
+        ck_assert_int_eq(rcb, rc1);
+        char want[sizeof e1.message + 32];
+        const char *colon = strchr(e1.message, ':'); /* one-star message: "star 0: ..." */
+        ck_assert_ptr_nonnull(colon);
+        snprintf(want, sizeof want, "star %zu%s", first, colon);
+        ck_assert_str_eq(eb.message, want);
+    }
+    free(m);
+    free(z);
+    free(age);
+    free(batch);
+    gsl_rng_free(rng);
+    hrt_grid_close(g);
+}
+END_TEST
+
 /* ---- round trip: what was written is what is read --------------------- */
 
 START_TEST(test_roundtrip_exact_at_knots)
@@ -1638,6 +1706,7 @@ static Suite *core_suite(void)
         {"remnant_codes", test_remnant_codes},
         {"slopes_gsl", test_slopes_match_gsl},
         {"open_slopes_gsl", test_open_slopes_match_gsl_deriv},
+        {"batch_one_star", test_batch_equals_one_star},
         {"hot_path_gsl", test_hot_path_equals_gsl},
         {"roundtrip", test_roundtrip_exact_at_knots},
         {"writer", test_writer_atomic_and_deterministic},

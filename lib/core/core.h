@@ -161,6 +161,12 @@ void trail_grid_free_contents(hrt_grid *g);
 
 /* eval.c: query contexts */
 int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err);
+/* place.c: the message of a bracketing group k that cannot place q's mass */
+int trail_no_track(const qctx *q, size_t k, hrt_error *err);
+/* eval.c: stars order[0 .. n - 1] (all in turn if order is NULL), hrt_eval's
+ * answers and message; batch.c: hrt_eval, which chooses the order. */
+int trail_eval_run(const hrt_grid *g, size_t n, const uint32_t *order, const double *mass_msun, const double *z,
+                   double z_all, const double *age_yr, hrt_state *out, hrt_error *err);
 int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err);
 void trail_qctx_copy_z(qctx *dst, const qctx *src);
 int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int route, double log_mass, mctx *m);
@@ -168,8 +174,6 @@ void trail_interval_weights(const hrt_grid *g, mctx *m, double log_mass);
 
 /* eval.c: values, phases, remnants and states from a context */
 double trail_q_value(const qctx *q, int quantity, int j);
-/* Log age at EEPs 0 .. n - 1, as trail_q_value(q, Q_AGE, j) gives each. */
-void trail_q_ages(const qctx *q, int n, double *a);
 void trail_q_values(const qctx *q, int j, double v[NQS]);
 int trail_q_phase(const qctx *q, int j);
 void trail_q_phase_run(const qctx *q, int j, int *js, int *je);

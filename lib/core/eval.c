@@ -2,8 +2,8 @@
  * can inline the whole chain: query contexts (the mass context of one group,
  * the context of a (mass, Z) with its stencil of groups across [Fe/H]),
  * values across log mass and [Fe/H] at one EEP, phases and remnants, the
- * EEP search in age, the state at an age, and the batch entry point
- * hrt_eval. */
+ * EEP search in age, the state at an age, and the loop over stars behind
+ * hrt_eval (batch.c chooses their order). */
 #include <math.h>
 #include <string.h>
 
@@ -156,21 +156,6 @@ static inline int outer_group(const hrt_grid *g, size_t k, int route, double mas
     return 1;
 }
 
-/* The message of a bracketing group that cannot place the mass. */
-static int no_track(const qctx *q, size_t k, hrt_error *err)
-{
-    const hrt_grid *g = q->g;
-    const mctx *m = &q->m[k];
-    if (isfinite(m->extrap_limit))
-        return trail_set_error(err, HRT_E_NO_TRACK,
-                               "%g Msun lies %.3g dex from the nearest track of route '%s' at Z = %g (%g Msun); "
-                               "extrapolation reaches %.3g dex there",
-                               q->mass, fabs(m->extrap_dex), g->routes[q->route].name, g->grp[k].z,
-                               g->grp[k].mass[m->near], m->extrap_limit);
-    return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
-                           g->routes[q->route].name, g->grp[k].z, q->mass);
-}
-
 static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
 {
     const hrt_grid *g = q->g;
@@ -191,7 +176,7 @@ static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
     for (size_t k = g0; k <= gb; k++) {
         mctx *m = &q->m[k];
         if (mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
-            return no_track(q, k, err);
+            return trail_no_track(q, k, err);
         if (m->n_eep < ne)
             ne = m->n_eep;
         if (m->extrapolated)
@@ -347,31 +332,6 @@ void trail_q_phase_run(const qctx *q, int j, int *js, int *je)
         *js = *je;
 }
 
-void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
-{
-    /* one assignment rather than memset and stores: the compiler writes
-     * the struct once */
-    *s = (hrt_state){
-        .struct_size = (uint32_t)sizeof *s,
-        .route = -1,
-        .initial_mass_msun = mass,
-        .z = z,
-        .age_yr = age_yr,
-        .log_l_lsun = NAN,
-        .log_teff_k = NAN,
-        .log_r_rsun = NAN,
-        .log_g_cgs = NAN,
-        .mass_msun = NAN,
-        .he_core_mass_msun = NAN,
-        .co_core_mass_msun = NAN,
-        .eep = NAN,
-        .phase_fraction = NAN,
-        .phase_start_yr = NAN,
-        .phase_end_yr = NAN,
-        .remnant_mass_msun = NAN,
-    };
-}
-
 void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f)
 {
     double v[NQS];
@@ -398,26 +358,6 @@ static inline double grid_age(const qctx *q, int j)
     if (q->zp.single)
         return group_value(q, q->zp.g0, Q_AGE, j);
     return (1.0 - q->zp.t_feh) * group_value(q, q->zp.g0, Q_AGE, j) + q->zp.t_feh * group_value(q, q->zp.g0 + 1, Q_AGE, j);
-}
-
-/* Log age at EEPs 0 .. n - 1 (n <= q->n_eep) into a[]: grid_age at each,
- * the same numbers, in one pass over the contiguous age tables. */
-void trail_q_ages(const qctx *q, int n, double *a)
-{
-    size_t J = q->g->n_eep_max;
-    const mctx *m0 = &q->m[q->zp.g0];
-    const double *p0 = m0->gp->age_interval + m0->i * J * 4, *w0 = m0->w_age;
-    if (q->zp.single) {
-        for (int j = 0; j < n; j++, p0 += 4)
-            a[j] = w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3];
-        return;
-    }
-    const mctx *m1 = &q->m[q->zp.g0 + 1];
-    const double *p1 = m1->gp->age_interval + m1->i * J * 4, *w1 = m1->w_age;
-    double t = q->zp.t_feh;
-    for (int j = 0; j < n; j++, p0 += 4, p1 += 4)
-        a[j] = (1.0 - t) * (w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3]) +
-               t * (w1[0] * p1[0] + w1[1] * p1[1] + w1[2] * p1[2] + w1[3] * p1[3]);
 }
 
 /* Where a state's ages and values come from: a star's stored track (S
@@ -687,14 +627,12 @@ static inline void prefetch_star(const qctx *q, double lt)
     }
 }
 
-int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, double z_all,
-             const double *age_yr, hrt_state *out, hrt_error *err)
+/* Stars order[0 .. n - 1] (0 .. n - 1 when order is NULL) in that order:
+ * the states, and the first failure met (hrt_eval's message, naming the
+ * star by its index).  Arguments are checked by the caller (batch.c). */
+int trail_eval_run(const hrt_grid *g, size_t n, const uint32_t *order, const double *mass_msun, const double *z,
+                   double z_all, const double *age_yr, hrt_state *out, hrt_error *err)
 {
-    if (n == 0)
-        return trail_set_error(err, HRT_OK, NULL);
-    if (!g || !mass_msun || !age_yr || !out)
-        return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
-                             !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
     int first = HRT_OK;
     /* The next star's context is prepared, and the grid data its age
      * search will start from is prefetched, while this star is evaluated:
@@ -709,16 +647,19 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     zcache zc;
     zc.z = NAN;
     zc.rc = HRT_E_DOMAIN;
-    int rc_cur = init_star(g, mass_msun[0], z ? z[0] : z_all, cur, &zc, ecur);
-    double lt_cur = log_age(age_yr[0]);
-    for (size_t i = 0; i < n; i++) {
+    size_t s0 = order ? order[0] : 0;
+    int rc_cur = init_star(g, mass_msun[s0], z ? z[s0] : z_all, cur, &zc, ecur);
+    double lt_cur = log_age(age_yr[s0]);
+    for (size_t k = 0; k < n; k++) {
+        size_t i = order ? order[k] : k;
         double zi = z ? z[i] : z_all;
         int rc_nxt = HRT_OK;
         double lt_nxt = 0.0;
-        if (i + 1 < n) {
-            rc_nxt = init_star(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
-            lt_nxt = log_age(age_yr[i + 1]);
-            if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0)
+        if (k + 1 < n) {
+            size_t i1 = order ? order[k + 1] : k + 1;
+            rc_nxt = init_star(g, mass_msun[i1], z ? z[i1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
+            lt_nxt = log_age(age_yr[i1]);
+            if (rc_nxt == HRT_OK && age_yr[i1] > 0.0)
                 prefetch_star(nxt, lt_nxt);
         }
         int rc = rc_cur;

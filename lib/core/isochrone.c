@@ -129,6 +129,27 @@ static size_t route_knots(const hrt_grid *g, const trail_zplace *zp, size_t r, d
     return u;
 }
 
+/* Log age at EEPs 0 .. n - 1 (n <= q->n_eep) into a[]: the numbers
+ * trail_q_value(q, Q_AGE, j) gives (group_value and grid_age in eval.c), in
+ * one pass over the contiguous age tables. */
+static void q_ages(const qctx *q, int n, double *a)
+{
+    size_t J = q->g->n_eep_max;
+    const mctx *m0 = &q->m[q->zp.g0];
+    const double *p0 = m0->gp->age_interval + m0->i * J * 4, *w0 = m0->w_age;
+    if (q->zp.single) {
+        for (int j = 0; j < n; j++, p0 += 4)
+            a[j] = w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3];
+        return;
+    }
+    const mctx *m1 = &q->m[q->zp.g0 + 1];
+    const double *p1 = m1->gp->age_interval + m1->i * J * 4, *w1 = m1->w_age;
+    double t = q->zp.t_feh;
+    for (int j = 0; j < n; j++, p0 += 4, p1 += 4)
+        a[j] = (1.0 - t) * (w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3]) +
+               t * (w1[0] * p1[0] + w1[1] * p1[1] + w1[2] * p1[2] + w1[3] * p1[3]);
+}
+
 /* Log age at every EEP of every knot; 0 if no knot is usable. */
 static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *b)
 {
@@ -139,7 +160,7 @@ static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *
         if (trail_qctx_init(g, trail_exp10(b->knots[k]), z, b->q, NULL) != HRT_OK || b->q->route != (int)r)
             continue;
         b->knot_n_eep[k] = b->q->n_eep;
-        trail_q_ages(b->q, b->q->n_eep, b->ages + k * J);
+        q_ages(b->q, b->q->n_eep, b->ages + k * J);
         usable = 1;
     }
     return usable;
