@@ -59,6 +59,12 @@ typedef struct zgroup {
     double *age_interval;
     double *age_dx_max;    /* [n_mass][2] largest log-mass step below / above a track for which
                             * extrapolated log age stays increasing in EEP */
+    /* Log mass -> track table, a starting point for the interval search:
+     * bin k (of n_mass_bin, uniform in log mass from logm[0], mass_bin_x =
+     * {logm[0], bins per dex}) holds the last track at or below its start. */
+    uint32_t *mass_bin;
+    size_t n_mass_bin;
+    double mass_bin_x[2];
 } zgroup;
 
 

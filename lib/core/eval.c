@@ -83,14 +83,15 @@ static inline int mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x,
         m->extrapolated = x != lm[k];
         return HRT_OK;
     }
-    size_t a = lo, b = hi - 1; /* lm[a] < x < lm[b] */
-    while (b - a > 1) {
-        size_t c = a + (b - a) / 2;
-        if (lm[c] <= x)
-            a = c;
-        else
-            b = c;
-    }
+    /* the last track at or below x (unique: log masses never decrease),
+     * which lies in [lo, hi - 2]: walked to from the log-mass table's
+     * guess, a step or two at most */
+    double kf = (x - gp->mass_bin_x[0]) * gp->mass_bin_x[1];
+    size_t a = gp->mass_bin[kf >= (double)gp->n_mass_bin ? gp->n_mass_bin - 1 : kf > 0.0 ? (size_t)kf : 0];
+    while (a > 0 && lm[a] > x)
+        a--;
+    while (lm[a + 1] <= x)
+        a++;
     m->i = a;
     m->interior = 1;
     interval_weights(g, m, x);

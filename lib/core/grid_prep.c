@@ -316,8 +316,37 @@ static void extrapolation_limits(zgroup *gp, size_t i)
     gp->age_dx_max[2 * i + 1] = 0.5 * up;
 }
 
+/* The log mass -> track table (zgroup.mass_bin): TRAIL_MASS_BINS bins per
+ * track over the group's span. */
+#define TRAIL_MASS_BINS 4
+static int mass_bins(zgroup *gp)
+{
+    size_t nm = gp->n_mass;
+    if (nm < 2)
+        return HRT_OK; /* n_mass_bin = 0: no interval to find */
+    size_t nb = TRAIL_MASS_BINS * nm;
+    gp->mass_bin = malloc(nb * sizeof *gp->mass_bin);
+    if (!gp->mass_bin)
+        return HRT_E_NOMEM;
+    const double *lm = gp->logm;
+    double per_dex = (double)nb / (lm[nm - 1] - lm[0]);
+    size_t i = 0;
+    for (size_t k = 0; k < nb; k++) {
+        double start = lm[0] + (double)k / per_dex;
+        while (i + 1 < nm && lm[i + 1] <= start)
+            i++;
+        gp->mass_bin[k] = (uint32_t)i;
+    }
+    gp->n_mass_bin = nb;
+    gp->mass_bin_x[0] = lm[0];
+    gp->mass_bin_x[1] = per_dex;
+    return HRT_OK;
+}
+
 static int prepare_group(const hrt_grid *g, zgroup *gp, run_buf *rb)
 {
+    if (mass_bins(gp) != HRT_OK)
+        return HRT_E_NOMEM;
     route_ranges(g, gp);
     for (int qty = 0; qty < NQ; qty++)
         for (size_t j = 0; j < g->n_eep_max; j++) {
@@ -375,7 +404,7 @@ int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
         run_buf rb = {x + 3 * (maxn + 1), x, x + maxn + 1, x + 2 * (maxn + 1)};
         rc = prepare_group(g, &g->grp[iz], &rb);
         if (rc != HRT_OK)
-            trail_set_error(err, rc, "metallicity/%zu: cannot compute spline slopes (%s)", iz, hrt_strerror(rc));
+            trail_set_error(err, rc, "metallicity/%zu: cannot prepare the group (%s)", iz, hrt_strerror(rc));
     }
     free(x);
     return rc;
@@ -400,6 +429,7 @@ void trail_grid_free_contents(hrt_grid *g)
         free(gp->age_lambda);
         free(gp->age_dx_max);
         free(gp->age_interval);
+        free(gp->mass_bin);
     }
     free(g->grp);
     trail_routes_free(g->routes, g->n_routes);
