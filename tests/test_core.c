@@ -218,6 +218,59 @@ START_TEST(test_slopes_match_gsl)
 }
 END_TEST
 
+/* The closed-form slopes the grid computes at open (trail_slopes_work, any
+ * number of knots, as many as a grid's tracks per metallicity and ten times
+ * more) equal GSL 2.7's derivative of its own interpolant at every knot:
+ * reference GSL gsl_interp_eval_deriv (trail_slopes_gsl), relative 1e-14 of
+ * the knots' largest secant (GSL takes the last knot's slope from the cubic
+ * of the last interval, which rounds differently). */
+START_TEST(test_open_slopes_match_gsl_deriv)
+{
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    enum { NMAX = 1200 };
+    double *x = malloc(NMAX * sizeof(double)), *y = malloc(NMAX * sizeof(double));
+    double *d = malloc(NMAX * sizeof(double)), *ref = malloc(NMAX * sizeof(double));
+    double *work = malloc(TRAIL_SLOPES_WORK(NMAX) * sizeof(double));
+    double worst = 0.0;
+    static const size_t sizes[] = {2, 3, 4, 5, 6, 17, 64, 110, 300, 1100};
+    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
+        for (size_t si = 0; si < sizeof sizes / sizeof *sizes; si++) {
+            for (int trial = 0; trial < 20; trial++) {
+                size_t n = sizes[si];
+                x[0] = -1.0 + gsl_rng_uniform(rng);
+                for (size_t i = 1; i < n; i++)
+                    x[i] = x[i - 1] + (0.2 + gsl_rng_uniform(rng)) * 3.0 / (double)n;
+                for (size_t i = 0; i < n; i++)
+                    y[i] = 4.0 * sin(3.0 * x[i]) + (trial % 2 ? 0.05 * gsl_rng_uniform(rng) : 0.0) + (trial % 3) * 1e3;
+                int eff = trail_interp_effective(t, n);
+                trail_slopes_work(t, n, x, y, d, work);
+                gsl_interp *it = gsl_interp_alloc(gtype(eff), n);
+                ck_assert_int_eq(trail_slopes_gsl(n, x, y, ref, it), HRT_OK);
+                gsl_interp_free(it);
+                double scale = 0.0;
+                for (size_t i = 0; i + 1 < n; i++) {
+                    double sec = fabs((y[i + 1] - y[i]) / (x[i + 1] - x[i]));
+                    scale = sec > scale ? sec : scale;
+                }
+                for (size_t i = 0; i < n; i++) {
+                    double e = fabs(d[i] - ref[i]) / scale;
+                    worst = e > worst ? e : worst;
+                    ck_assert_msg(e <= 1e-14, "%s n=%zu knot %zu: %.17g vs GSL %.17g (%.3g)", hrt_interp_name(t), n,
+                                  i, d[i], ref[i], e);
+                }
+            }
+        }
+    }
+    printf("open slopes against GSL's derivative: largest difference %.3g of the largest secant\n", worst);
+    free(x);
+    free(y);
+    free(d);
+    free(ref);
+    free(work);
+    gsl_rng_free(rng);
+}
+END_TEST
+
 /* The grid's hot path (Hermite with slopes from GSL at open) equals GSL's
  * own spline evaluation across log mass: reference GSL gsl_interp_eval,
  * relative 1e-13.  Knot values are read back from the file. */
@@ -248,6 +301,74 @@ START_TEST(test_hot_path_equals_gsl)
         gsl_interp_free(it);
         hrt_grid_close(g);
     }
+}
+END_TEST
+
+/* hrt_eval over a large batch (evaluated in buckets of metallicity and
+ * mass, batch.c) gives every star the state a one-star call gives it, to the
+ * byte, and reports the first failure in the caller's order with the same
+ * code and message: 70,000 random stars (more than one bucketing chunk), at
+ * grid metallicities, between them and outside, masses and ages inside and
+ * outside the grid. */
+START_TEST(test_batch_equals_one_star)
+{
+    hrt_grid *g = open_or_fail(grid_path, HRT_INTERP_STEFFEN);
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    const size_t n = 70000;
+    double *m = malloc(n * sizeof *m), *z = malloc(n * sizeof *z), *age = malloc(n * sizeof *age);
+    hrt_state *batch = malloc(n * sizeof *batch);
+    double zlo, zhi;
+    ck_assert_int_eq(hrt_grid_z_range(g, &zlo, &zhi), HRT_OK);
+    for (int pass = 0; pass < 2; pass++) {
+        for (size_t i = 0; i < n; i++) {
+            double u = gsl_rng_uniform(rng);
+            z[i] = u < 0.3 ? hrt_grid_z(g, gsl_rng_uniform_int(rng, hrt_grid_n_z(g)))
+                           : zlo * pow(zhi / zlo, 1.1 * gsl_rng_uniform(rng) - 0.05);
+            double lo, hi;
+            if (hrt_grid_mass_range(g, z[i], &lo, &hi) != HRT_OK) {
+                lo = 0.5;
+                hi = 20.0;
+            }
+            m[i] = lo * pow(hi / lo, 1.04 * gsl_rng_uniform(rng) - 0.02);
+            double r = gsl_rng_uniform(rng);
+            age[i] = r < 0.005 ? 0.0 : r < 0.01 ? NAN : 1e5 * pow(1e6, gsl_rng_uniform(rng));
+        }
+        if (pass == 1) /* no failure before the middle: the first is not the first evaluated */
+            for (size_t i = 0; i < n / 2; i++) {
+                z[i] = hrt_grid_z(g, 1);
+                m[i] = 1.0 + (double)(i % 7);
+                age[i] = 1e8;
+            }
+        hrt_error eb, e1;
+        int rcb = hrt_eval(g, n, m, z, 0.0, age, batch, &eb);
+        int rc1 = HRT_OK;
+        size_t first = n;
+        for (size_t i = 0; i < n; i++) {
+            hrt_state s;
+            hrt_error e;
+            int rc = hrt_eval(g, 1, &m[i], &z[i], 0.0, &age[i], &s, &e);
+            ck_assert_msg(memcmp(&s, &batch[i], sizeof s) == 0, "star %zu (%g Msun, Z %g, %g yr) differs", i, m[i], z[i],
+                          age[i]);
+            if (rc != HRT_OK && first == n) {
+                first = i;
+                rc1 = rc;
+                e1 = e;
+            }
+        }
+        ck_assert_uint_lt(first, n); /* the inputs include failures */
+        ck_assert_int_eq(rcb, rc1);
+        char want[sizeof e1.message + 32];
+        const char *colon = strchr(e1.message, ':'); /* one-star message: "star 0: ..." */
+        ck_assert_ptr_nonnull(colon);
+        snprintf(want, sizeof want, "star %zu%s", first, colon);
+        ck_assert_str_eq(eb.message, want);
+    }
+    free(m);
+    free(z);
+    free(age);
+    free(batch);
+    gsl_rng_free(rng);
+    hrt_grid_close(g);
 }
 END_TEST
 
@@ -1584,6 +1705,8 @@ static Suite *core_suite(void)
         {"phase_codes", test_phase_codes},
         {"remnant_codes", test_remnant_codes},
         {"slopes_gsl", test_slopes_match_gsl},
+        {"open_slopes_gsl", test_open_slopes_match_gsl_deriv},
+        {"batch_one_star", test_batch_equals_one_star},
         {"hot_path_gsl", test_hot_path_equals_gsl},
         {"roundtrip", test_roundtrip_exact_at_knots},
         {"writer", test_writer_atomic_and_deterministic},

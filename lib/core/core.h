@@ -65,6 +65,12 @@ typedef struct zgroup {
      * of every extra quantity (extra.c), apart from the standard knots so
      * that queries without extras never touch them; NULL without extras. */
     double *xknots;
+    /* Log mass -> track table, a starting point for the interval search:
+     * bin k (of n_mass_bin, uniform in log mass from logm[0], mass_bin_x =
+     * {logm[0], bins per dex}) holds the last track at or below its start. */
+    uint32_t *mass_bin;
+    size_t n_mass_bin;
+    double mass_bin_x[2];
 } zgroup;
 
 
@@ -154,6 +160,9 @@ int trail_interp_effective(int interp, size_t n);
 static inline int trail_z_type(const hrt_grid *g) { return trail_interp_effective(g->interp, g->n_z); }
 int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *gsl_interp_obj);
 void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d);
+/* Scratch of trail_slopes_work for n knots (akima: n + 4, cspline: 3 n). */
+#define TRAIL_SLOPES_WORK(n) (3 * (size_t)(n) + 8)
+void trail_slopes_work(int interp, size_t n, const double *x, const double *y, double *d, double *work);
 void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4]);
 
 /* grid_read.c: trail_file_read, with the code for a file that does not
@@ -185,6 +194,12 @@ void trail_extra_free(hrt_grid *g);
 
 /* eval.c: query contexts */
 int trail_qctx_init(const hrt_grid *g, double mass, double z, qctx *q, hrt_error *err);
+/* place.c: the message of a bracketing group k that cannot place q's mass */
+int trail_no_track(const qctx *q, size_t k, hrt_error *err);
+/* eval.c: stars order[0 .. n - 1] (all in turn if order is NULL), hrt_eval's
+ * answers and message; batch.c: hrt_eval, which chooses the order. */
+int trail_eval_run(const hrt_grid *g, size_t n, const uint32_t *order, const double *mass_msun, const double *z,
+                   double z_all, const double *age_yr, hrt_state *out, hrt_error *err);
 int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err);
 void trail_qctx_copy_z(qctx *dst, const qctx *src);
 int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int route, double log_mass, mctx *m);

@@ -2,8 +2,8 @@
  * can inline the whole chain: query contexts (the mass context of one group,
  * the context of a (mass, Z) with its stencil of groups across [Fe/H]),
  * values across log mass and [Fe/H] at one EEP, phases and remnants, the
- * EEP search in age, the state at an age, and the batch entry point
- * hrt_eval. */
+ * EEP search in age, the state at an age, and the loop over stars behind
+ * hrt_eval (batch.c chooses their order). */
 #include <math.h>
 #include <string.h>
 
@@ -83,14 +83,15 @@ static inline int mass_ctx(const hrt_grid *g, const zgroup *gp, int r, double x,
         m->extrapolated = x != lm[k];
         return HRT_OK;
     }
-    size_t a = lo, b = hi - 1; /* lm[a] < x < lm[b] */
-    while (b - a > 1) {
-        size_t c = a + (b - a) / 2;
-        if (lm[c] <= x)
-            a = c;
-        else
-            b = c;
-    }
+    /* the last track at or below x (unique: log masses never decrease),
+     * which lies in [lo, hi - 2]: walked to from the log-mass table's
+     * guess, a step or two at most */
+    double kf = (x - gp->mass_bin_x[0]) * gp->mass_bin_x[1];
+    size_t a = gp->mass_bin[kf >= (double)gp->n_mass_bin ? gp->n_mass_bin - 1 : kf > 0.0 ? (size_t)kf : 0];
+    while (a > 0 && lm[a] > x)
+        a--;
+    while (lm[a + 1] <= x)
+        a++;
     m->i = a;
     m->interior = 1;
     interval_weights(g, m, x);
@@ -156,21 +157,6 @@ static inline int outer_group(const hrt_grid *g, size_t k, int route, double mas
     return 1;
 }
 
-/* The message of a bracketing group that cannot place the mass. */
-static int no_track(const qctx *q, size_t k, hrt_error *err)
-{
-    const hrt_grid *g = q->g;
-    const mctx *m = &q->m[k];
-    if (isfinite(m->extrap_limit))
-        return trail_set_error(err, HRT_E_NO_TRACK,
-                               "%g Msun lies %.3g dex from the nearest track of route '%s' at Z = %g (%g Msun); "
-                               "extrapolation reaches %.3g dex there",
-                               q->mass, fabs(m->extrap_dex), g->routes[q->route].name, g->grp[k].z,
-                               g->grp[k].mass[m->near], m->extrap_limit);
-    return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
-                           g->routes[q->route].name, g->grp[k].z, q->mass);
-}
-
 static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
 {
     const hrt_grid *g = q->g;
@@ -191,7 +177,7 @@ static inline int qctx_mass(qctx *q, double mass, hrt_error *err)
     for (size_t k = g0; k <= gb; k++) {
         mctx *m = &q->m[k];
         if (mass_ctx(g, &g->grp[k], route, x, m) != HRT_OK)
-            return no_track(q, k, err);
+            return trail_no_track(q, k, err);
         if (m->n_eep < ne)
             ne = m->n_eep;
         if (m->extrapolated)
@@ -347,31 +333,6 @@ void trail_q_phase_run(const qctx *q, int j, int *js, int *je)
         *js = *je;
 }
 
-void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
-{
-    /* one assignment rather than memset and stores: the compiler writes
-     * the struct once */
-    *s = (hrt_state){
-        .struct_size = (uint32_t)sizeof *s,
-        .route = -1,
-        .initial_mass_msun = mass,
-        .z = z,
-        .age_yr = age_yr,
-        .log_l_lsun = NAN,
-        .log_teff_k = NAN,
-        .log_r_rsun = NAN,
-        .log_g_cgs = NAN,
-        .mass_msun = NAN,
-        .he_core_mass_msun = NAN,
-        .co_core_mass_msun = NAN,
-        .eep = NAN,
-        .phase_fraction = NAN,
-        .phase_start_yr = NAN,
-        .phase_end_yr = NAN,
-        .remnant_mass_msun = NAN,
-    };
-}
-
 void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f)
 {
     double v[NQS];
@@ -508,49 +469,45 @@ static int find_eep(const qctx *q, const trail_track_arrays *S, int n, double lt
     return lo;
 }
 
-int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
-                         hrt_state *s)
+/* Log ages already known at four EEPs of one state (the ends of the track
+ * and the bracket of the age): the phase run's ends are usually among them,
+ * and the grid's log age at an EEP is the same number however often it is
+ * computed, so looking it up changes no result. */
+typedef struct age_memo {
+    int j[4];
+    double a[4];
+} age_memo;
+
+static inline double memo_age(const qctx *q, const trail_track_arrays *S, const age_memo *mo, int j)
 {
-    trail_state_clear(s, q->mass, q->z, age_yr);
-    s->route = q->route;
-    s->flags = q->flags;
-    if (!isfinite(age_yr) || age_yr < 0.0) {
-        s->status = HRT_E_DOMAIN;
-        return HRT_E_DOMAIN;
-    }
+    for (int k = 0; k < 4; k++)
+        if (mo->j[k] == j)
+            return mo->a[k];
+    return src_age(q, S, j);
+}
+
+/* The state of a star between two EEPs of its track, every field stored
+ * once (no clearing of the struct first). */
+static inline void state_on_track(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
+                                  double lt, double a_first, double a_last, hrt_state *s)
+{
     int n = q->n_eep;
-    double lt = age_yr > 0.0 ? trail_log10(age_yr) : -INFINITY;
-    s->remnant = kind;
-    s->remnant_mass_msun = rmass;
-    double a_first = src_age(q, S, 0), a_last = src_age(q, S, n - 1);
-    if (lt < a_first) {
-        s->phase = HRT_PHASE_PRE_MS;
-        s->flags |= HRT_FLAG_NOT_MODELLED;
-        s->mass_msun = q->mass;
-        s->phase_start_yr = 0.0;
-        s->phase_end_yr = src_age_yr(q, S, 0);
-        s->phase_fraction = age_yr / s->phase_end_yr;
-        return HRT_OK;
-    }
-    if (lt >= a_last) {
-        /* no remnant: a track that stops early has no answer past its end;
-         * one that reaches its route's last EEP ends in a star disrupted
-         * without remnant (pair-instability supernova) */
-        if (kind == HRT_REMNANT_NONE && (size_t)n < q->g->routes[q->route].n_eep) {
-            s->status = HRT_E_AGE_RANGE;
-            return HRT_E_AGE_RANGE;
-        }
-        double v[NQS];
-        src_values(q, S, n - 1, v);
-        trail_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1));
-        return HRT_OK;
-    }
     double aj, aj1;
     int j = find_eep(q, S, n, lt, a_first, a_last, &aj, &aj1);
     double f = aj1 > aj ? (lt - aj) / (aj1 - aj) : 0.0;
     double v0[NQS], v1[NQS];
     src_values(q, S, j, v0);
     src_values(q, S, j + 1, v1);
+    s->struct_size = (uint32_t)sizeof *s;
+    s->status = HRT_OK;
+    s->route = q->route;
+    s->remnant = kind;
+    s->flags = q->flags;
+    s->initial_mass_msun = q->mass;
+    s->z = q->z;
+    s->age_yr = age_yr;
+    s->remnant_mass_msun = rmass;
+    memset(s->reserved, 0, sizeof s->reserved);
     trail_state_from_values(s, v0, v1, f);
     s->eep = j + f;
     int js, je;
@@ -562,15 +519,69 @@ int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind,
         s->phase = trail_q_phase(q, j);
         trail_q_phase_run(q, j, &js, &je);
     }
-    s->phase_start_yr = src_age_yr(q, S, js);
-    s->phase_end_yr = src_age_yr(q, S, je);
-    double span = s->phase_end_yr - s->phase_start_yr;
-    s->phase_fraction = span > 0.0 ? (age_yr - s->phase_start_yr) / span : 0.0;
-    if (s->phase_fraction < 0.0)
-        s->phase_fraction = 0.0;
-    if (s->phase_fraction > 1.0)
-        s->phase_fraction = 1.0;
+    const age_memo mo = {{0, n - 1, j, j + 1}, {a_first, a_last, aj, aj1}};
+    double t0 = S ? S->age_yr[js] : trail_exp10(memo_age(q, S, &mo, js));
+    double t1 = S ? S->age_yr[je] : trail_exp10(memo_age(q, S, &mo, je));
+    s->phase_start_yr = t0;
+    s->phase_end_yr = t1;
+    double span = t1 - t0;
+    double pf = span > 0.0 ? (age_yr - t0) / span : 0.0;
+    if (pf < 0.0)
+        pf = 0.0;
+    if (pf > 1.0)
+        pf = 1.0;
+    s->phase_fraction = pf;
+}
+
+/* trail_state_at_generic with the log10 of the age given (-inf at 0). */
+static inline int state_at_lt(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
+                              double lt, hrt_state *s)
+{
+    int n = q->n_eep;
+    if (isfinite(age_yr) && age_yr >= 0.0) {
+        double a_first = src_age(q, S, 0), a_last = src_age(q, S, n - 1);
+        if (lt >= a_first && lt < a_last) {
+            state_on_track(q, S, kind, rmass, age_yr, lt, a_first, a_last, s);
+            return HRT_OK;
+        }
+    }
+    trail_state_clear(s, q->mass, q->z, age_yr);
+    s->route = q->route;
+    s->flags = q->flags;
+    if (!isfinite(age_yr) || age_yr < 0.0) {
+        s->status = HRT_E_DOMAIN;
+        return HRT_E_DOMAIN;
+    }
+    s->remnant = kind;
+    s->remnant_mass_msun = rmass;
+    if (lt < src_age(q, S, 0)) {
+        s->phase = HRT_PHASE_PRE_MS;
+        s->flags |= HRT_FLAG_NOT_MODELLED;
+        s->mass_msun = q->mass;
+        s->phase_start_yr = 0.0;
+        s->phase_end_yr = src_age_yr(q, S, 0);
+        s->phase_fraction = age_yr / s->phase_end_yr;
+        return HRT_OK;
+    }
+    /* no remnant: a track that stops early has no answer past its end;
+     * one that reaches its route's last EEP ends in a star disrupted
+     * without remnant (pair-instability supernova) */
+    if (kind == HRT_REMNANT_NONE && (size_t)n < q->g->routes[q->route].n_eep) {
+        s->status = HRT_E_AGE_RANGE;
+        return HRT_E_AGE_RANGE;
+    }
+    double v[NQS];
+    src_values(q, S, n - 1, v);
+    trail_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1));
     return HRT_OK;
+}
+
+static inline double log_age(double age_yr) { return age_yr > 0.0 ? trail_log10(age_yr) : -INFINITY; }
+
+int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
+                           hrt_state *s)
+{
+    return state_at_lt(q, S, kind, rmass, age_yr, log_age(age_yr), s);
 }
 
 /* The metallicity part of the last context built, for reuse. */
@@ -593,14 +604,36 @@ static int init_star(const hrt_grid *g, double mass, double z, qctx *q, zcache *
     return qctx_mass(q, mass, err);
 }
 
-int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, double z_all,
-             const double *age_yr, hrt_state *out, hrt_error *err)
+/* Prefetch the grid data the age search of a star will start from: the
+ * knots of its mass interval at the EEPs of its hint, in each group it
+ * interpolates between (one at a grid metallicity, two between groups).
+ * Prefetches change no result. */
+static inline void prefetch_star(const qctx *q, double lt)
 {
-    if (n == 0)
-        return trail_set_error(err, HRT_OK, NULL);
-    if (!g || !mass_msun || !age_yr || !out)
-        return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
-                             !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
+    int j = q_hint(q, lt);
+    if (j < 0 || j + 1 >= q->n_eep)
+        return;
+    size_t J = q->g->n_eep_max;
+    for (size_t k = q->zp.g0; k <= trail_place_last(&q->zp); k++) {
+        const mctx *m = &q->m[k];
+        const char *p0 = (const char *)trail_knot(m->gp, (size_t)j, m->i, 0);
+        const char *p1 = (const char *)trail_knot(m->gp, (size_t)j + 1, m->i, 0);
+        const char *pa = (const char *)(m->gp->age_interval + (m->i * J + (size_t)j) * 4);
+        __builtin_prefetch(pa);
+        __builtin_prefetch(pa + 64);
+        for (int b = 0; b < 4 * NQ * 8; b += 64) {
+            __builtin_prefetch(p0 + b);
+            __builtin_prefetch(p1 + b);
+        }
+    }
+}
+
+/* Stars order[0 .. n - 1] (0 .. n - 1 when order is NULL) in that order:
+ * the states, and the first failure met (hrt_eval's message, naming the
+ * star by its index).  Arguments are checked by the caller (batch.c). */
+int trail_eval_run(const hrt_grid *g, size_t n, const uint32_t *order, const double *mass_msun, const double *z,
+                   double z_all, const double *age_yr, hrt_state *out, hrt_error *err)
+{
     int first = HRT_OK;
     /* The next star's context is prepared, and the grid data its age
      * search will start from is prefetched, while this star is evaluated:
@@ -615,34 +648,27 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     zcache zc;
     zc.z = NAN;
     zc.rc = HRT_E_DOMAIN;
-    int rc_cur = init_star(g, mass_msun[0], z ? z[0] : z_all, cur, &zc, ecur);
-    for (size_t i = 0; i < n; i++) {
+    size_t s0 = order ? order[0] : 0;
+    int rc_cur = init_star(g, mass_msun[s0], z ? z[s0] : z_all, cur, &zc, ecur);
+    double lt_cur = log_age(age_yr[s0]);
+    for (size_t k = 0; k < n; k++) {
+        size_t i = order ? order[k] : k;
         double zi = z ? z[i] : z_all;
         int rc_nxt = HRT_OK;
-        if (i + 1 < n) {
-            rc_nxt = init_star(g, mass_msun[i + 1], z ? z[i + 1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
-            if (rc_nxt == HRT_OK && age_yr[i + 1] > 0.0 && nxt->zp.single) {
-                int j = q_hint(nxt, trail_log10(age_yr[i + 1]));
-                const mctx *m = &nxt->m[nxt->zp.g0];
-                if (j >= 0 && j + 1 < nxt->n_eep) {
-                    const char *p0 = (const char *)trail_knot(m->gp, (size_t)j, m->i, 0);
-                    const char *p1 = (const char *)trail_knot(m->gp, (size_t)j + 1, m->i, 0);
-                    const char *pa = (const char *)(m->gp->age_interval + (m->i * g->n_eep_max + (size_t)j) * 4);
-                    __builtin_prefetch(pa);
-                    __builtin_prefetch(pa + 64);
-                    for (int k = 0; k < 4 * NQ * 8; k += 64) {
-                        __builtin_prefetch(p0 + k);
-                        __builtin_prefetch(p1 + k);
-                    }
-                }
-            }
+        double lt_nxt = 0.0;
+        if (k + 1 < n) {
+            size_t i1 = order ? order[k + 1] : k + 1;
+            rc_nxt = init_star(g, mass_msun[i1], z ? z[i1] : z_all, nxt, &zc, first == HRT_OK ? enxt : NULL);
+            lt_nxt = log_age(age_yr[i1]);
+            if (rc_nxt == HRT_OK && age_yr[i1] > 0.0)
+                prefetch_star(nxt, lt_nxt);
         }
         int rc = rc_cur;
         if (rc == HRT_OK) {
             int kind;
             double rmass;
             trail_q_remnant(cur, &kind, &rmass);
-            rc = trail_state_at_generic(cur, NULL, kind, rmass, age_yr[i], &out[i]);
+            rc = state_at_lt(cur, NULL, kind, rmass, age_yr[i], lt_cur, &out[i]);
             if (rc != HRT_OK && first == HRT_OK)
                 trail_set_error(ecur, rc, "age %g yr: %s", age_yr[i], hrt_strerror(rc));
         } else {
@@ -661,6 +687,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         ecur = enxt;
         enxt = te;
         rc_cur = rc_nxt;
+        lt_cur = lt_nxt;
     }
     if (first == HRT_OK && err)
         trail_set_error(err, HRT_OK, NULL);

@@ -1,5 +1,5 @@
 /* Preparing a grid for queries, from the file as read (trail_file): the
- * value/slope layout across log initial mass (slopes from GSL), route track
+ * value/slope layout across log initial mass (slopes as GSL's), route track
  * ranges, phase runs, log age tables and monotonicity guards for log age. */
 #define _DEFAULT_SOURCE /* madvise() and MADV_HUGEPAGE (Linux) */
 #include <math.h>
@@ -8,23 +8,7 @@
 #include <string.h>
 #include <sys/mman.h>
 
-#include <gsl/gsl_interp.h>
-
 #include "core/core.h"
-
-static const gsl_interp_type *gsl_type(int interp)
-{
-    switch (interp) {
-    case HRT_INTERP_AKIMA:
-        return gsl_interp_akima;
-    case HRT_INTERP_CSPLINE:
-        return gsl_interp_cspline;
-    case HRT_INTERP_STEFFEN:
-        return gsl_interp_steffen;
-    default:
-        return gsl_interp_linear;
-    }
-}
 
 /* The knot tables are tens of MB written once at open: on Linux, ask for
  * transparent huge pages over the 2 MiB-aligned part of each, so that
@@ -46,43 +30,13 @@ static void advise_huge(void *p, size_t bytes)
 #endif
 }
 
-/* gsl_interp objects by (effective type, size), allocated on first use. */
-typedef struct interp_cache {
-    size_t cap;
-    gsl_interp **obj[HRT_INTERP_COUNT];
-} interp_cache;
-
-static void cache_free(interp_cache *c)
+/* Slopes of one run of knots with the grid's type, in closed form with
+ * GSL 2.7's formulas (slopes.c; tests/test_core.c checks them against GSL's
+ * derivative at every knot). */
+static int run_slopes(int interp, double *work, size_t n, const double *x, const double *y, double *d)
 {
-    for (int t = 0; t < HRT_INTERP_COUNT; t++) {
-        if (!c->obj[t])
-            continue;
-        for (size_t n = 0; n <= c->cap; n++)
-            if (c->obj[t][n])
-                gsl_interp_free(c->obj[t][n]);
-        free(c->obj[t]);
-    }
-}
-
-/* Slopes of one run of knots with the grid's type, through GSL. */
-static int run_slopes(int interp, interp_cache *c, size_t n, const double *x, const double *y, double *d)
-{
-    int eff = trail_interp_effective(interp, n);
-    if (eff == HRT_INTERP_LINEAR || n > c->cap) {
-        trail_slopes_local(HRT_INTERP_LINEAR, n, x, y, d);
-        return n > c->cap ? HRT_E_INTERNAL : HRT_OK;
-    }
-    if (!c->obj[eff]) {
-        c->obj[eff] = calloc(c->cap + 1, sizeof(gsl_interp *));
-        if (!c->obj[eff])
-            return HRT_E_NOMEM;
-    }
-    if (!c->obj[eff][n]) {
-        c->obj[eff][n] = gsl_interp_alloc(gsl_type(eff), n);
-        if (!c->obj[eff][n])
-            return HRT_E_NOMEM;
-    }
-    return trail_slopes_gsl(n, x, y, d, c->obj[eff][n]);
+    trail_slopes_work(interp, n, x, y, d, work);
+    return HRT_OK;
 }
 
 /* Is the cubic Hermite p(t) with end values p0, p1 > 0 and end slopes
@@ -177,7 +131,7 @@ static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp,
 
 /* Scratch of the slope computations: one run of knots. */
 typedef struct run_buf {
-    interp_cache *cache;
+    double *work; /* TRAIL_SLOPES_WORK(n) */
     double *x, *y, *d;
 } run_buf;
 
@@ -220,7 +174,7 @@ static int knot_slopes_at(const hrt_grid *g, zgroup *gp, int qty, size_t j, run_
                 rb->x[k] = gp->logm[a + k];
                 rb->y[k] = trail_knot(gp, j, a + k, qty)[0];
             }
-            int rc = run_slopes(g->interp, rb->cache, n, rb->x, rb->y, rb->d);
+            int rc = run_slopes(g->interp, rb->work, n, rb->x, rb->y, rb->d);
             if (rc != HRT_OK)
                 return rc;
             for (size_t k = 0; k < n; k++)
@@ -247,7 +201,7 @@ static int remnant_slopes(const hrt_grid *g, zgroup *gp, run_buf *rb)
                 rb->x[k] = gp->logm[a + k];
                 rb->y[k] = gp->remnant_knots[2 * (a + k)];
             }
-            int rc = run_slopes(g->interp, rb->cache, n, rb->x, rb->y, rb->d);
+            int rc = run_slopes(g->interp, rb->work, n, rb->x, rb->y, rb->d);
             if (rc != HRT_OK)
                 return rc;
             for (size_t k = 0; k < n; k++)
@@ -362,8 +316,37 @@ static void extrapolation_limits(zgroup *gp, size_t i)
     gp->age_dx_max[2 * i + 1] = 0.5 * up;
 }
 
+/* The log mass -> track table (zgroup.mass_bin): TRAIL_MASS_BINS bins per
+ * track over the group's span. */
+#define TRAIL_MASS_BINS 4
+static int mass_bins(zgroup *gp)
+{
+    size_t nm = gp->n_mass;
+    if (nm < 2)
+        return HRT_OK; /* n_mass_bin = 0: no interval to find */
+    size_t nb = TRAIL_MASS_BINS * nm;
+    gp->mass_bin = malloc(nb * sizeof *gp->mass_bin);
+    if (!gp->mass_bin)
+        return HRT_E_NOMEM;
+    const double *lm = gp->logm;
+    double per_dex = (double)nb / (lm[nm - 1] - lm[0]);
+    size_t i = 0;
+    for (size_t k = 0; k < nb; k++) {
+        double start = lm[0] + (double)k / per_dex;
+        while (i + 1 < nm && lm[i + 1] <= start)
+            i++;
+        gp->mass_bin[k] = (uint32_t)i;
+    }
+    gp->n_mass_bin = nb;
+    gp->mass_bin_x[0] = lm[0];
+    gp->mass_bin_x[1] = per_dex;
+    return HRT_OK;
+}
+
 static int prepare_group(const hrt_grid *g, zgroup *gp, run_buf *rb)
 {
+    if (mass_bins(gp) != HRT_OK)
+        return HRT_E_NOMEM;
     route_ranges(g, gp);
     for (int qty = 0; qty < NQ; qty++)
         for (size_t j = 0; j < g->n_eep_max; j++) {
@@ -413,20 +396,16 @@ int trail_grid_prepare(hrt_grid *g, trail_file *f, hrt_error *err)
         if (g->grp[iz].n_mass > maxn)
             maxn = g->grp[iz].n_mass;
     }
-    double *x = malloc(3 * (maxn + 1) * sizeof(double));
+    double *x = malloc((3 * (maxn + 1) + TRAIL_SLOPES_WORK(maxn)) * sizeof(double));
     if (!x)
         return trail_set_error(err, HRT_E_NOMEM, "out of memory preparing the grid");
-    interp_cache cache;
-    memset(&cache, 0, sizeof cache);
-    cache.cap = maxn;
     int rc = HRT_OK;
     for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++) {
-        run_buf rb = {&cache, x, x + maxn + 1, x + 2 * (maxn + 1)};
+        run_buf rb = {x + 3 * (maxn + 1), x, x + maxn + 1, x + 2 * (maxn + 1)};
         rc = prepare_group(g, &g->grp[iz], &rb);
         if (rc != HRT_OK)
-            trail_set_error(err, rc, "metallicity/%zu: cannot compute spline slopes (%s)", iz, hrt_strerror(rc));
+            trail_set_error(err, rc, "metallicity/%zu: cannot prepare the group (%s)", iz, hrt_strerror(rc));
     }
-    cache_free(&cache);
     free(x);
     return rc;
 }
@@ -450,6 +429,7 @@ void trail_grid_free_contents(hrt_grid *g)
         free(gp->age_lambda);
         free(gp->age_dx_max);
         free(gp->age_interval);
+        free(gp->mass_bin);
     }
     free(g->grp);
     trail_routes_free(g->routes, g->n_routes);

@@ -129,6 +129,27 @@ static size_t route_knots(const hrt_grid *g, const trail_zplace *zp, size_t r, d
     return u;
 }
 
+/* Log age at EEPs 0 .. n - 1 (n <= q->n_eep) into a[]: the numbers
+ * trail_q_value(q, Q_AGE, j) gives (group_value and grid_age in eval.c), in
+ * one pass over the contiguous age tables. */
+static void q_ages(const qctx *q, int n, double *a)
+{
+    size_t J = q->g->n_eep_max;
+    const mctx *m0 = &q->m[q->zp.g0];
+    const double *p0 = m0->gp->age_interval + m0->i * J * 4, *w0 = m0->w_age;
+    if (q->zp.single) {
+        for (int j = 0; j < n; j++, p0 += 4)
+            a[j] = w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3];
+        return;
+    }
+    const mctx *m1 = &q->m[q->zp.g0 + 1];
+    const double *p1 = m1->gp->age_interval + m1->i * J * 4, *w1 = m1->w_age;
+    double t = q->zp.t_feh;
+    for (int j = 0; j < n; j++, p0 += 4, p1 += 4)
+        a[j] = (1.0 - t) * (w0[0] * p0[0] + w0[1] * p0[1] + w0[2] * p0[2] + w0[3] * p0[3]) +
+               t * (w1[0] * p1[0] + w1[1] * p1[1] + w1[2] * p1[2] + w1[3] * p1[3]);
+}
+
 /* Log age at every EEP of every knot; 0 if no knot is usable. */
 static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *b)
 {
@@ -139,8 +160,7 @@ static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *
         if (trail_qctx_init(g, trail_exp10(b->knots[k]), z, b->q, NULL) != HRT_OK || b->q->route != (int)r)
             continue;
         b->knot_n_eep[k] = b->q->n_eep;
-        for (int j = 0; j < b->q->n_eep; j++)
-            b->ages[k * J + (size_t)j] = trail_q_value(b->q, Q_AGE, j);
+        q_ages(b->q, b->q->n_eep, b->ages + k * J);
         usable = 1;
     }
     return usable;
@@ -194,12 +214,39 @@ typedef struct iso_out {
 
 /* The state at log mass x, and whether the isochrone keeps it: evaluated
  * without error on this route, modelled, of a phase the options include. */
+static int iso_keep(const iso_out *io, const hrt_state *st)
+{
+    return st->status == HRT_OK && st->route == io->route && !(st->flags & HRT_FLAG_NOT_MODELLED) &&
+           st->phase >= 0 && st->phase < HRT_PHASE_SLOTS && (io->o->phases & HRT_PHASE_BIT(st->phase));
+}
+
 static int iso_state(const iso_out *io, double x, hrt_state *st)
 {
     double m = trail_exp10(x);
     hrt_eval(io->g, 1, &m, NULL, io->z, &io->age_yr, st, NULL);
-    return st->status == HRT_OK && st->route == io->route && !(st->flags & HRT_FLAG_NOT_MODELLED) &&
-           st->phase >= 0 && st->phase < HRT_PHASE_SLOTS && (io->o->phases & HRT_PHASE_BIT(st->phase));
+    return iso_keep(io, st);
+}
+
+/* The states of every candidate in one hrt_eval call (the same states as
+ * one call per candidate); NULL if out of memory, and the caller evaluates
+ * them one at a time. */
+static hrt_state *candidate_states(const iso_out *io, const mass_list *c)
+{
+    hrt_state *st = malloc(c->n * sizeof *st);
+    double *m = malloc(2 * c->n * sizeof *m);
+    if (!st || !m) {
+        free(st);
+        free(m);
+        return NULL;
+    }
+    double *age = m + c->n;
+    for (size_t i = 0; i < c->n; i++) {
+        m[i] = trail_exp10(c->x[i]);
+        age[i] = io->age_yr;
+    }
+    hrt_eval(io->g, c->n, m, NULL, io->z, age, st, NULL);
+    free(m);
+    return st;
 }
 
 static void iso_emit(iso_out *io, const hrt_state *st)
@@ -256,8 +303,15 @@ static void route_points(iso_out *io, const mass_list *c)
     hrt_state prev, st, edge;
     double xprev = 0.0, xe;
     int have = 0, prev_kept = 0;
+    hrt_state *cs = c->n ? candidate_states(io, c) : NULL;
     for (size_t i = 0; i < c->n; i++) {
-        int kept = iso_state(io, c->x[i], &st);
+        int kept;
+        if (cs) {
+            st = cs[i];
+            kept = iso_keep(io, &st);
+        } else {
+            kept = iso_state(io, c->x[i], &st);
+        }
         if (kept && !prev_kept && i > 0 && edge_point(io, c->x[i], c->x[i - 1], &xe, &edge)) {
             iso_emit(io, &edge);
             prev = edge;
@@ -277,6 +331,7 @@ static void route_points(iso_out *io, const mass_list *c)
         }
         have = prev_kept = kept;
     }
+    free(cs);
 }
 
 /* Candidate log masses of route r: its zone's ends and the root at every

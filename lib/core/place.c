@@ -54,3 +54,18 @@ int hrt_grid_boundary_at(const hrt_grid *g, double z, size_t b, double *mass_msu
     *mass_msun = trail_boundary_at(g, &p, b);
     return HRT_OK;
 }
+
+/* The message of a bracketing group that cannot place the mass. */
+int trail_no_track(const qctx *q, size_t k, hrt_error *err)
+{
+    const hrt_grid *g = q->g;
+    const mctx *m = &q->m[k];
+    if (isfinite(m->extrap_limit))
+        return trail_set_error(err, HRT_E_NO_TRACK,
+                               "%g Msun lies %.3g dex from the nearest track of route '%s' at Z = %g (%g Msun); "
+                               "extrapolation reaches %.3g dex there",
+                               q->mass, fabs(m->extrap_dex), g->routes[q->route].name, g->grp[k].z,
+                               g->grp[k].mass[m->near], m->extrap_limit);
+    return trail_set_error(err, HRT_E_NO_TRACK, "no track of route '%s' at Z = %g to interpolate %g Msun",
+                           g->routes[q->route].name, g->grp[k].z, q->mass);
+}

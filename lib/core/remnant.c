@@ -247,3 +247,28 @@ void trail_q_remnant(const qctx *q, int *kind, double *mass_msun)
     *mass_msun = remnant_bounded(k0, q->zp.single ? v[0] : (1.0 - q->zp.t_feh) * v[0] + q->zp.t_feh * v[1],
                                  mn->gp->remnant_knots[2 * mn->near]);
 }
+
+void trail_state_clear(hrt_state *s, double mass, double z, double age_yr)
+{
+    /* one assignment rather than memset and stores: the compiler writes
+     * the struct once */
+    *s = (hrt_state){
+        .struct_size = (uint32_t)sizeof *s,
+        .route = -1,
+        .initial_mass_msun = mass,
+        .z = z,
+        .age_yr = age_yr,
+        .log_l_lsun = NAN,
+        .log_teff_k = NAN,
+        .log_r_rsun = NAN,
+        .log_g_cgs = NAN,
+        .mass_msun = NAN,
+        .he_core_mass_msun = NAN,
+        .co_core_mass_msun = NAN,
+        .eep = NAN,
+        .phase_fraction = NAN,
+        .phase_start_yr = NAN,
+        .phase_end_yr = NAN,
+        .remnant_mass_msun = NAN,
+    };
+}

@@ -2,11 +2,12 @@
  *
  * Every cubic GSL type (steffen, akima, cspline) is a piecewise cubic fixed
  * by the values and the slopes at the knots, so an interpolant is stored as
- * (value, slope) pairs and evaluated as a cubic Hermite.  Across initial
- * mass the slopes come from GSL itself at open time (trail_slopes_gsl); across
- * [Fe/H] they are needed at query time, where GSL would allocate, so
- * trail_slopes_local() computes them with the same formulas as GSL 2.7
- * (tests/test_core.c compares both with GSL on random data). */
+ * (value, slope) pairs and evaluated as a cubic Hermite.  The slopes are
+ * computed in closed form with the same formulas as GSL 2.7, across initial
+ * mass at open time (trail_slopes_work, any number of knots) and across
+ * [Fe/H] at query time (trail_slopes_local, stack scratch).  GSL's own
+ * derivative at every knot (trail_slopes_gsl) is kept as the reference:
+ * tests/test_core.c compares both with it on random data. */
 #include <math.h>
 #include <string.h>
 
@@ -52,10 +53,9 @@ static void slopes_steffen(size_t n, const double *x, const double *y, double *d
 
 /* Akima 1970 (J. ACM 17, 589) with the two extra secants at each end of
  * GSL's non-periodic gsl_interp_akima: m[-1] = 2 m0 - m1, m[-2] = 3 m0 - 2 m1. */
-static void slopes_akima(size_t n, const double *x, const double *y, double *d)
+static void slopes_akima(size_t n, const double *x, const double *y, double *d, double *mm)
 {
-    double mm[TRAIL_MAX_Z + 8];
-    double *m = mm + 2;
+    double *m = mm + 2; /* mm: n + 2 secants and two more at each end */
     for (size_t i = 0; i + 1 < n; i++)
         m[i] = (y[i + 1] - y[i]) / (x[i + 1] - x[i]);
     m[-2] = 3.0 * m[0] - 2.0 * m[1];
@@ -76,9 +76,9 @@ static void slopes_akima(size_t n, const double *x, const double *y, double *d)
 
 /* Natural cubic spline (second derivative zero at both ends), as GSL's
  * gsl_interp_cspline: tridiagonal system for c = y''/2 at the knots. */
-static void slopes_cspline(size_t n, const double *x, const double *y, double *d)
+static void slopes_cspline(size_t n, const double *x, const double *y, double *d, double *work)
 {
-    double c[TRAIL_MAX_Z], cp[TRAIL_MAX_Z], rp[TRAIL_MAX_Z];
+    double *c = work, *cp = work + n, *rp = work + 2 * n; /* work: 3 n */
     size_t sys = n - 2; /* interior knots */
     for (size_t k = 0; k < sys; k++) {
         size_t i = k + 1;
@@ -119,8 +119,8 @@ int trail_interp_effective(int interp, size_t n)
     return interp;
 }
 
-/* n <= TRAIL_MAX_Z + 4 (stack scratch). */
-void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d)
+/* Any n; work holds TRAIL_SLOPES_WORK(n) doubles. */
+void trail_slopes_work(int interp, size_t n, const double *x, const double *y, double *d, double *work)
 {
     if (n < 2) {
         if (n == 1)
@@ -129,10 +129,10 @@ void trail_slopes_local(int interp, size_t n, const double *x, const double *y, 
     }
     switch (trail_interp_effective(interp, n)) {
     case HRT_INTERP_AKIMA:
-        slopes_akima(n, x, y, d);
+        slopes_akima(n, x, y, d, work);
         break;
     case HRT_INTERP_CSPLINE:
-        slopes_cspline(n, x, y, d);
+        slopes_cspline(n, x, y, d, work);
         break;
     case HRT_INTERP_STEFFEN:
         slopes_steffen(n, x, y, d);
@@ -144,6 +144,13 @@ void trail_slopes_local(int interp, size_t n, const double *x, const double *y, 
         }
         break;
     }
+}
+
+/* n <= TRAIL_MAX_Z + 4 (stack scratch). */
+void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d)
+{
+    double work[TRAIL_SLOPES_WORK(TRAIL_MAX_Z + 4)];
+    trail_slopes_work(interp, n, x, y, d, work);
 }
 
 void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4])
