@@ -109,6 +109,16 @@ int popdist_reduce(const cli *c, const popdist *d, hrt_pop_summary *sums, size_t
 #endif
 }
 
+void popdist_gather(const popdist *d, uint64_t v, uint64_t *all)
+{
+    all[0] = v;
+#ifdef HRTRAIL_CLI_MPI
+    if (d->mpi) MPI_Gather(&v, 1, MPI_UINT64_T, all, 1, MPI_UINT64_T, 0, MPI_COMM_WORLD);
+#else
+    (void)d;
+#endif
+}
+
 int popdist_end(const cli *c, popdist *d, int rc)
 {
     rc = popdist_agree(c, d, rc);

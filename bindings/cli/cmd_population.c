@@ -16,7 +16,8 @@
 
 enum {
     O_STARS = 1, O_IMF, O_ALPHA, O_MASS_RANGE, O_SFH, O_SFH_FROM, O_SFH_TO, O_TAU, O_SFH_TABLE, O_AGE, O_SEED, O_THREADS,
-    O_FEH_SPREAD, O_Z_RANGE, O_Z_UNIFORM, O_HR_BINS, O_LOG_TEFF, O_LOG_L, O_OUT, O_CHUNKS, O_PART, O_SAVE, O_CHUNK_SIZE
+    O_FEH_SPREAD, O_Z_RANGE, O_Z_UNIFORM, O_HR_BINS, O_LOG_TEFF, O_LOG_L, O_OUT, O_CHUNKS, O_PART, O_SAVE, O_CHUNK_SIZE,
+    O_CATALOGUE
 };
 static const optdef pop_opts[] = {
     {"stars", 'n', 1, O_STARS},       {"imf", 0, 1, O_IMF},           {"alpha", 0, 1, O_ALPHA},
@@ -26,7 +27,7 @@ static const optdef pop_opts[] = {
     {"feh-spread", 0, 1, O_FEH_SPREAD}, {"z-range", 0, 1, O_Z_RANGE}, {"z-uniform", 0, 0, O_Z_UNIFORM},
     {"hr-bins", 0, 1, O_HR_BINS},     {"log-teff", 0, 1, O_LOG_TEFF}, {"log-l", 0, 1, O_LOG_L},
     {"output", 'o', 1, O_OUT},        {"chunks", 0, 1, O_CHUNKS},     {"part", 0, 1, O_PART},
-    {"save-summary", 0, 1, O_SAVE},   {"chunk-size", 0, 1, O_CHUNK_SIZE},
+    {"save-summary", 0, 1, O_SAVE},   {"chunk-size", 0, 1, O_CHUNK_SIZE}, {"catalogue", 0, 1, O_CATALOGUE},
     {NULL, 0, 0, 0},
 };
 
@@ -423,6 +424,7 @@ static int pop_take(cli *c, void *ctx, int id, const char *val)
     case O_OUT: a->out = val; return 0;
     case O_CHUNKS: case O_PART: case O_CHUNK_SIZE: return pop_take_chunks(c, a, id, val);
     case O_SAVE: a->save = val; return 0;
+    case O_CATALOGUE: a->catalogue = val; return 0;
     default: return 0;
     }
 }
@@ -627,7 +629,9 @@ static int pop_run(cli *c, pop_args *a, popdist *d)
         if (hrt_pop_summary_init(&sums[i], a->ages.v[i], &a->hr, &err) != HRT_OK)
             rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
     double t0 = seconds();
-    if (rc == 0)
+    if (rc == 0 && a->catalogue)
+        rc = pop_catalogue_run(c, a, d, sums, d->rank == 0 && isatty(STDERR_FILENO));
+    else if (rc == 0)
         rc = pop_run_range(c, &a->spec, d->my_first, d->my_count, a->threads, n, sums, d->rank == 0 && isatty(STDERR_FILENO));
     rc = popdist_agree(c, d, rc);
     if (rc == 0) rc = popdist_reduce(c, d, sums, n);

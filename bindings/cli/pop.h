@@ -42,6 +42,10 @@ int popdist_range(const cli *c, const pop_args *a, popdist *d);
 int popdist_agree(const cli *c, popdist *d, int rc);
 /* The summaries of every rank added up, exactly, on rank 0. */
 int popdist_reduce(const cli *c, const popdist *d, hrt_pop_summary *sums, size_t n_ages);
+/* Every rank's v, on rank 0 into all[size] (collective; size > 1). */
+void popdist_gather(const popdist *d, uint64_t v, uint64_t *all);
+/* --catalogue: this rank's chunks run star by star and written (catalogue.c); the summaries as pop_run_range makes them. */
+int pop_catalogue_run(const cli *c, const pop_args *a, popdist *d, hrt_pop_summary *sums, int progress);
 /* Final agreement and MPI's end; returns the exit code. */
 int popdist_end(const cli *c, popdist *d, int rc);
 /* On rank 0 after the run: --save-summary, and the output if every chunk is done. */

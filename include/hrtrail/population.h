@@ -411,6 +411,44 @@ HRT_API int hrt_pop_part_save(const hrt_pop_part *p, void *buf, size_t cap, size
  */
 HRT_API int hrt_pop_part_load(const void *buf, size_t len, hrt_pop_part **out, hrt_error *err);
 
+/* ------------------------------------------------------------------------
+ * Catalogues: a population's stars streamed to a file (hrt_pop_catalogue_*)
+ * ------------------------------------------------------------------------ */
+/*
+ * One row per star and epoch: star (its index in the population, chunk *
+ * chunk_size + place in the chunk), population_age_yr (the epoch), birth_yr
+ * (time since the population began), then the state's fields by their names
+ * in tracks/FORMAT.md: initial_mass_msun, z, age_yr, status (hrt_status
+ * code), phase, remnant, route, flags, log_l_lsun, log_teff_k, log_r_rsun,
+ * log_g_cgs, mass_msun, he_core_mass_msun, co_core_mass_msun, eep,
+ * phase_fraction, phase_start_yr, phase_end_yr, remnant_mass_msun.
+ * HDF5: one 1-D dataset per column (float64; int32 for the codes; uint64
+ * star), chunked by 16384 rows, shuffled and deflated (level 4), full
+ * precision.  CSV: a header line, numbers to 10 significant digits, phase and
+ * remnant by their keys (empty when status is not 0), NaN as an empty field.
+ * Rows are buffered 16384 at a time: memory does not grow with the stars.
+ */
+typedef struct hrt_pop_catalogue hrt_pop_catalogue;
+enum { HRT_CATALOGUE_CSV = 0, HRT_CATALOGUE_HDF5 = 1 };
+/**
+ * @brief Create (or truncate) a catalogue file.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (format),
+ *   HRT_E_NOMEM, HRT_E_IO (cannot create the file).
+ */
+HRT_API int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out, hrt_error *err);
+/**
+ * @brief Append n stars evaluated at one epoch: their indices, birth times and states.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_IO (a write failed).
+ */
+HRT_API int hrt_pop_catalogue_add(hrt_pop_catalogue *c, double population_age_yr, size_t n, const uint64_t *star,
+                                  const double *birth_yr, const hrt_state *states, hrt_error *err);
+/**
+ * @brief Write the buffered rows, close the file and free c (also on failure).
+ * Returned: *rows (may be NULL) the rows written.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_IO.
+ */
+HRT_API int hrt_pop_catalogue_close(hrt_pop_catalogue *c, uint64_t *rows, hrt_error *err);
+
 #ifdef __cplusplus
 }
 #endif
