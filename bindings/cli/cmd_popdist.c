@@ -327,9 +327,11 @@ int pop_merge(cli *c, argparse *p)
                                          "only with --save-summary FILE)", (unsigned long long)hrt_pop_part_chunks_done(all),
                       (unsigned long long)hrt_pop_n_chunks(hrt_pop_part_spec(all)), miss);
     }
-    if (rc == 0 && !c->grid_path) c->grid_path = hrt_pop_part_note(all); /* the grid the parts ran on */
+    /* the grid the parts ran on (the command's note; parts from Python may have none) */
+    const char *note = rc == 0 ? hrt_pop_part_note(all) : "";
+    if (rc == 0 && !c->grid_path && note[0]) c->grid_path = note;
     if (rc == 0 && m.out) rc = cli_open_grid(c); /* the SVG draws an isochrone */
-    if (rc == 0 && !c->grid_used) c->grid_used = hrt_pop_part_note(all);
+    if (rc == 0 && !c->grid_used) c->grid_used = c->grid_path ? c->grid_path : "(default grid)";
     if (rc == 0 && m.save) rc = save_part(c, all, m.save);
     if (rc == 0 && hrt_pop_part_complete(all)) {
         args_of_part(&a, all);
