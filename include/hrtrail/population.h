@@ -423,7 +423,7 @@ HRT_API int hrt_pop_part_load(const void *buf, size_t len, hrt_pop_part **out, h
  * log_g_cgs, mass_msun, he_core_mass_msun, co_core_mass_msun, eep,
  * phase_fraction, phase_start_yr, phase_end_yr, remnant_mass_msun.
  * HDF5: one 1-D dataset per column (float64; int32 for the codes; uint64
- * star), chunked by 16384 rows, shuffled and deflated (level 4), full
+ * star), chunked by 16384 rows, shuffled and deflated (level 1), full
  * precision.  CSV: a header line, numbers to 10 significant digits, phase and
  * remnant by their keys (empty when status is not 0), NaN as an empty field.
  * Rows are buffered 16384 at a time: memory does not grow with the stars.

@@ -13,7 +13,7 @@
 #include "population/sampling.h"
 
 #define CAT_BUF 16384 /* rows buffered, and the HDF5 chunk length */
-#define CAT_DEFLATE 4
+#define CAT_DEFLATE 1
 
 /* The columns, in the vocabulary of tracks/FORMAT.md and the command's CSV. */
 enum { C_STAR, C_POP_AGE, C_BIRTH, C_M0, C_Z, C_AGE, C_STATUS, C_PHASE, C_REMNANT, C_ROUTE, C_FLAGS, C_LOG_L, C_LOG_TEFF,
