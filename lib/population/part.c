@@ -105,29 +105,47 @@ static uint64_t fnv1a64(const unsigned char *p, size_t n)
 }
 
 /* The specification in its saved words (also its identity: two parts merge
- * only if these words are equal). */
+ * only if these words are equal), section by section: IMF, SFH, Z
+ * distribution, number of stars, seed, chunk size. */
+enum { SPEC_SECTIONS = 6 };
+static const char *const spec_section_name[SPEC_SECTIONS] = {"IMF", "star-formation history", "metallicity distribution",
+                                                             "number of stars", "seed", "chunk size"};
+
+static void put_spec_section(wbuf *w, const hrt_pop_spec *s, int k)
+{
+    size_t nt = s->sfh.kind == HRT_SFH_TABLE ? s->sfh.n_table : 0;
+    switch (k) {
+    case 0:
+        put_u64(w, (uint64_t)(int64_t)s->imf.kind);
+        put_f64(w, s->imf.m_lo_msun);
+        put_f64(w, s->imf.m_hi_msun);
+        put_f64(w, s->imf.kind == HRT_IMF_POWER_LAW ? s->imf.alpha : 0.0);
+        break;
+    case 1:
+        put_u64(w, (uint64_t)(int64_t)s->sfh.kind);
+        put_f64(w, s->sfh.t_start_yr);
+        put_f64(w, s->sfh.t_end_yr);
+        put_f64(w, s->sfh.tau_yr);
+        put_u64(w, nt);
+        for (size_t i = 0; i < nt; i++) put_f64(w, s->sfh.table_t_yr[i]);
+        for (size_t i = 0; i < nt; i++) put_f64(w, s->sfh.table_rate[i]);
+        break;
+    case 2:
+        put_u64(w, (uint64_t)(int64_t)s->zdist.kind);
+        put_f64(w, s->zdist.z);
+        put_f64(w, s->zdist.z_lo);
+        put_f64(w, s->zdist.z_hi);
+        put_f64(w, s->zdist.sigma_dex);
+        break;
+    case 3: put_u64(w, s->n_stars); break;
+    case 4: put_u64(w, s->seed); break;
+    default: put_u64(w, s->chunk_size); break;
+    }
+}
+
 static void put_spec(wbuf *w, const hrt_pop_spec *s)
 {
-    put_u64(w, (uint64_t)(int64_t)s->imf.kind);
-    put_f64(w, s->imf.m_lo_msun);
-    put_f64(w, s->imf.m_hi_msun);
-    put_f64(w, s->imf.kind == HRT_IMF_POWER_LAW ? s->imf.alpha : 0.0);
-    put_u64(w, (uint64_t)(int64_t)s->sfh.kind);
-    put_f64(w, s->sfh.t_start_yr);
-    put_f64(w, s->sfh.t_end_yr);
-    put_f64(w, s->sfh.tau_yr);
-    size_t nt = s->sfh.kind == HRT_SFH_TABLE ? s->sfh.n_table : 0;
-    put_u64(w, nt);
-    for (size_t i = 0; i < nt; i++) put_f64(w, s->sfh.table_t_yr[i]);
-    for (size_t i = 0; i < nt; i++) put_f64(w, s->sfh.table_rate[i]);
-    put_u64(w, (uint64_t)(int64_t)s->zdist.kind);
-    put_f64(w, s->zdist.z);
-    put_f64(w, s->zdist.z_lo);
-    put_f64(w, s->zdist.z_hi);
-    put_f64(w, s->zdist.sigma_dex);
-    put_u64(w, s->n_stars);
-    put_u64(w, s->seed);
-    put_u64(w, s->chunk_size);
+    for (int k = 0; k < SPEC_SECTIONS; k++) put_spec_section(w, s, k);
 }
 
 static void put_summary(wbuf *w, const hrt_pop_summary *s)
@@ -293,29 +311,36 @@ int hrt_pop_part_run(const hrt_grid *g, hrt_pop_part *p, uint64_t chunk_first, u
 
 /* ------------------------------------------------------------ merging */
 
+/* 1 if section k of two specifications is the same, word for word (-1: no memory). */
+static int same_section(const hrt_pop_spec *a, const hrt_pop_spec *b, int k)
+{
+    wbuf wa = {0}, wb = {0};
+    put_spec_section(&wa, a, k);
+    put_spec_section(&wb, b, k);
+    if (wa.len != wb.len) return 0;
+    wa.cap = wb.cap = wa.len;
+    wa.p = malloc(wa.len), wb.p = malloc(wb.len);
+    int same = -1;
+    if (wa.p && wb.p) {
+        wa.len = wb.len = 0;
+        put_spec_section(&wa, a, k);
+        put_spec_section(&wb, b, k);
+        same = memcmp(wa.p, wb.p, wa.len) == 0;
+    }
+    free(wa.p), free(wb.p);
+    return same;
+}
+
 /* HRT_OK if a and b describe the same population, epochs, binning and note. */
 static int same_population(const hrt_pop_part *a, const hrt_pop_part *b, hrt_error *err)
 {
-    wbuf wa = {0}, wb = {0};
-    put_spec(&wa, &a->spec);
-    put_spec(&wb, &b->spec);
-    int same = wa.len == wb.len;
-    if (same) {
-        wa.p = malloc(wa.len), wb.p = malloc(wb.len);
-        wa.cap = wb.cap = wa.len;
-        wa.len = wb.len = 0;
-        if (!wa.p || !wb.p) {
-            free(wa.p), free(wb.p);
-            return trail_set_error(err, HRT_E_NOMEM, "hrt_pop_part_merge: out of memory");
-        }
-        put_spec(&wa, &a->spec);
-        put_spec(&wb, &b->spec);
-        same = memcmp(wa.p, wb.p, wa.len) == 0;
-        free(wa.p), free(wb.p);
+    for (int k = 0; k < SPEC_SECTIONS; k++) {
+        int same = same_section(&a->spec, &b->spec, k);
+        if (same < 0) return trail_set_error(err, HRT_E_NOMEM, "hrt_pop_part_merge: out of memory");
+        if (!same)
+            return trail_set_error(err, HRT_E_INVALID, "hrt_pop_part_merge: parts of different populations (their %s "
+                                                       "differs) do not merge", spec_section_name[k]);
     }
-    if (!same)
-        return trail_set_error(err, HRT_E_INVALID, "hrt_pop_part_merge: parts of different populations (IMF, SFH, "
-                                                   "metallicity, number of stars, seed or chunk size differ) do not merge");
     if (a->n_ages != b->n_ages)
         return trail_set_error(err, HRT_E_INVALID, "hrt_pop_part_merge: parts of %zu and %zu epochs do not merge", a->n_ages,
                                b->n_ages);

@@ -95,7 +95,7 @@ rc, out, err = run(["population", "merge", "burst-0.part", "constant-1.part", "c
 check(rc == 2 and "different populations" in err, "parts of another population are refused: %r" % err)
 rc, _, _ = run(base[:-4] + ["--seed", "32", "--chunk-size", "8000", "--part", "1/4", "--save-summary", "seed32.part"])
 rc, out, err = run(["population", "merge", "burst-0.part", "seed32.part", "burst-2.part", "burst-3.part"])
-check(rc == 2 and "different populations" in err, "parts of another seed are refused: %r" % err)
+check(rc == 2 and "their seed differs" in err, "parts of another seed are refused, naming the seed: %r" % err)
 rc, out, err = run(base + ["--part", "1/4"])
 check(rc == 2 and "--save-summary" in err, "--part without --save-summary is refused: %r" % err)
 rc, out, err = run(base + ["--chunks", "8:1", "--save-summary", "x.part"])

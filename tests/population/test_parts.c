@@ -118,7 +118,7 @@ START_TEST(test_refusals)
     ck_assert_int_eq(hrt_pop_part_merge(a, b, &err), HRT_E_INVALID);
     ck_assert_msg(strstr(err.message, "chunks 3 to 3 are in both parts"), "%s", err.message);
     ck_assert_int_eq(hrt_pop_part_merge(a, other, &err), HRT_E_INVALID);
-    ck_assert_msg(strstr(err.message, "different populations"), "%s", err.message);
+    ck_assert_msg(strstr(err.message, "different populations (their seed differs)"), "%s", err.message);
     ck_assert_int_eq(hrt_pop_part_merge(a, noted, &err), HRT_E_INVALID);
     ck_assert_msg(strstr(err.message, "different notes"), "%s", err.message);
     ck_assert_int_eq(hrt_pop_part_merge(a, a, &err), HRT_E_INVALID);
