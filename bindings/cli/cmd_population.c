@@ -585,7 +585,11 @@ static void pop_text(const cli *c, const pop_args *a, const hrt_pop_summary *sum
         printf(", Z log-uniform in %g-%g\n", a->z_lo, a->z_hi);
     else
         printf(", Z log-normal around %g (%.3g dex) in %g-%g\n", a->z, a->spread, a->z_lo, a->z_hi);
-    if (dt >= 0)
+    if (dt >= 0 && a->ranks > 1)
+        printf("seed %llu; %d MPI ranks x %d thread%s, %.3g s (%.3g stars per second per epoch)\n",
+               (unsigned long long)spec->seed, a->ranks, nthreads, nthreads == 1 ? "" : "s", dt,
+               (double)spec->n_stars * (double)a->ages.n / dt);
+    else if (dt >= 0)
         printf("seed %llu; %d thread%s, %.3g s (%.3g stars per second per epoch)\n", (unsigned long long)spec->seed,
                nthreads, nthreads == 1 ? "" : "s", dt, (double)spec->n_stars * (double)a->ages.n / dt);
     else
@@ -623,6 +627,7 @@ static int pop_run(cli *c, pop_args *a, popdist *d)
     if (rc == 0) rc = cli_open_grid(c);
     if (rc == 0) rc = pop_spec(c, a);
     if (rc == 0) rc = popdist_range(c, a, d);
+    a->ranks = d->size;
     size_t n = a->ages.n;
     hrt_pop_summary *sums = xmalloc((n ? n : 1) * sizeof *sums);
     for (size_t i = 0; i < n && rc == 0; i++)

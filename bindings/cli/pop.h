@@ -18,6 +18,7 @@ typedef struct pop_args {
     int have_chunks, have_part;
     uint64_t ch_first, ch_count, part_k, part_n, chunk_size;
     const char *save, *catalogue;
+    int ranks; /* MPI ranks of the run (1 without) */
     /* what the run made of them */
     int imf, sfh;
     double z;
