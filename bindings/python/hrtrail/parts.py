@@ -6,8 +6,9 @@ run some chunks into a part; the parts travel as bytes (pickle, files) and
 merge exactly, in any order, into the summaries one process running every
 chunk gives; parts of another population, epoch, binning or note, or with a
 chunk in common, are refused (InvalidInputError).  The bytes are the ones
-`hrtrail population --save-summary` writes (the command's note is the path of
-the grid it ran on), so the command and Python merge each other's parts.
+`hrtrail population --save-summary` writes, so the command and Python read each
+other's parts; the command's note is "grid PATH\ninterp NAME" (the grid as it was
+named, and the interpolation), and only parts of equal notes merge.
 
     pop = Population(10**6, seed=3)
     with multiprocessing.Pool(4) as pool:
@@ -139,6 +140,7 @@ class Part:
 
     @property
     def n_ages(self) -> int:
+        """Epochs of the part (one summary each)."""
         return lib.hrt_pop_part_n_ages(self._h)
 
     @property
@@ -148,14 +150,17 @@ class Part:
 
     @property
     def n_stars(self) -> int:
+        """Stars of the whole population."""
         return HrtPopSpec.from_address(lib.hrt_pop_part_spec(self._h)).n_stars
 
     @property
     def seed(self) -> int:
+        """Seed of the population's draws."""
         return HrtPopSpec.from_address(lib.hrt_pop_part_spec(self._h)).seed
 
     @property
     def note(self) -> str:
+        """The note given when the part was made."""
         return text(lib.hrt_pop_part_note(self._h))
 
     @property
@@ -170,6 +175,7 @@ class Part:
 
     @property
     def chunks_done(self) -> int:
+        """Number of chunks done."""
         return lib.hrt_pop_part_chunks_done(self._h)
 
     @property
@@ -218,6 +224,7 @@ class Catalogue:
         self.rows = 0
 
     def add(self, population_age_yr: float, star, birth_yr, states) -> None:
+        """Append stars evaluated at one epoch: their indices in the population, birth times (yr) and states."""
         from .core import STATE_DTYPE
         st = _np.ascontiguousarray(states)
         ids = _np.ascontiguousarray(star, dtype=_np.uint64)
