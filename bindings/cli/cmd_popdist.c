@@ -237,14 +237,20 @@ int popdist_finish(cli *c, pop_args *a, const popdist *d, const hrt_pop_summary 
     int rc = 0;
     if (a->save) {
         hrt_pop_part *part = NULL;
-        if (hrt_pop_part_new(&a->spec, a->ages.n, a->ages.v, &a->hr, c->grid_used, &part, &err) != HRT_OK ||
+        char note[4096];
+        snprintf(note, sizeof note, "grid %s\ninterp %s", c->grid_used, hrt_interp_name(c->interp));
+        if (hrt_pop_part_new(&a->spec, a->ages.n, a->ages.v, &a->hr, note, &part, &err) != HRT_OK ||
             hrt_pop_part_add(part, d->first, d->count, sums, &err) != HRT_OK)
             rc = cli_fail(c, CLI_EXIT_INTERNAL, "%s", err.message);
         if (rc == 0) rc = save_part(c, part, a->save);
         hrt_pop_part_free(part);
     }
     if (rc || d->count != hrt_pop_n_chunks(&a->spec)) {
-        if (rc == 0 && c->fmt == FMT_TABLE)
+        if (rc == 0 && c->fmt == FMT_TABLE && d->count == 0)
+            printf("No chunk in this part (the population has %llu chunks of %llu stars, fewer than the parts); an "
+                   "empty part saved to %s\n", (unsigned long long)hrt_pop_n_chunks(&a->spec),
+                   (unsigned long long)a->spec.chunk_size, a->save);
+        else if (rc == 0 && c->fmt == FMT_TABLE)
             printf("Chunks %llu to %llu of %llu (%llu stars each) saved to %s; combine the parts with "
                    "'hrtrail population merge'\n", (unsigned long long)d->first, (unsigned long long)(d->first + d->count - 1),
                    (unsigned long long)hrt_pop_n_chunks(&a->spec), (unsigned long long)a->spec.chunk_size, a->save);
@@ -327,9 +333,13 @@ int pop_merge(cli *c, argparse *p)
                                          "only with --save-summary FILE)", (unsigned long long)hrt_pop_part_chunks_done(all),
                       (unsigned long long)hrt_pop_n_chunks(hrt_pop_part_spec(all)), miss);
     }
-    /* the grid the parts ran on (the command's note; parts from Python may have none) */
-    const char *note = rc == 0 ? hrt_pop_part_note(all) : "";
-    if (rc == 0 && !c->grid_path && note[0]) c->grid_path = note;
+    /* the grid the parts ran on, and its interpolation (the command's note: "grid PATH\ninterp NAME";
+     * parts made elsewhere may have no note: the default grid, or --grid) */
+    char grid[4096] = "", interp[64] = "";
+    if (rc == 0 && sscanf(hrt_pop_part_note(all), "grid %4095[^\n]\ninterp %63s", grid, interp) == 2) {
+        if (!c->grid_path) c->grid_path = grid;
+        if (hrt_interp_from_name(interp) >= 0) c->interp = hrt_interp_from_name(interp);
+    }
     if (rc == 0 && m.out) rc = cli_open_grid(c); /* the SVG draws an isochrone */
     if (rc == 0 && !c->grid_used) c->grid_used = c->grid_path ? c->grid_path : "(default grid)";
     if (rc == 0 && m.save) rc = save_part(c, all, m.save);

@@ -54,12 +54,14 @@ for name, spec in scenarios.items():
         check(rc == 0, "%s %s: single run exit 0 %s" % (name, fmt or "text", err[:200]))
         whole[fmt] = out
     whole_svg = read("whole.svg")
-    # four parts of a job array: --part K/4, and one more split by --chunks
+    # the parts of a job array: --part K/4 (K/2 for the other scenarios, to save time)
     parts = []
-    for k in range(4):
+    n_parts = 4 if name == "burst" else 2
+    for k in range(n_parts):
         f = "%s-%d.part" % (name, k)
-        rc, out, err = run(base + ["--part", "%d/4" % k, "--save-summary", f] + (["--threads", "1"] if k % 2 else []))
-        check(rc == 0 and "saved to" in out, "%s: part %d/4 saved (%s)" % (name, k, (out + err).strip()[:200]))
+        rc, out, err = run(base + ["--part", "%d/%d" % (k, n_parts), "--save-summary", f] +
+                           (["--threads", "1"] if k % 2 else []))
+        check(rc == 0 and "saved to" in out, "%s: part %d/%d saved (%s)" % (name, k, n_parts, (out + err).strip()[:200]))
         parts.append(f)
     rng.shuffle(parts)
     for fmt in fmts:
@@ -69,9 +71,11 @@ for name, spec in scenarios.items():
         if fmt:
             check(out == whole[fmt], "%s %s: merged output byte-identical to the single run" % (name, fmt))
         else:
-            check(untimed(out) == untimed(whole[fmt]) and "merged from 4 saved parts" in out,
+            check(untimed(out) == untimed(whole[fmt]) and "merged from %d saved parts" % n_parts in out,
                   "%s text: merged tables identical to the single run's (but the timing line)" % name)
     check(read("merged.svg") == whole_svg, "%s: merged SVG byte-identical to the single run's" % name)
+    if name == "burst":
+        burst_csv = whole["--csv"]
 
     # --chunks, and a merge of merges (a subset merged with --save-summary, then the rest)
     if name != "burst":
@@ -91,11 +95,21 @@ rc, out, err = run(["population", "merge", "burst-0.part", "burst-1.part"])
 check(rc == 2 and "missing: " in err, "an incomplete set of parts is refused, naming the missing chunks: %r" % err)
 rc, out, err = run(["population", "merge", "burst-0.part", "burst-1.part", "burst-2.part", "burst-3.part", "burst-a.part"])
 check(rc == 2 and "are in both parts" in err, "overlapping parts are refused: %r" % err)
-rc, out, err = run(["population", "merge", "burst-0.part", "constant-1.part", "constant-2.part", "constant-3.part"])
+rc, out, err = run(["population", "merge", "burst-0.part", "constant-1.part"])
 check(rc == 2 and "different populations" in err, "parts of another population are refused: %r" % err)
 rc, _, _ = run(base[:-4] + ["--seed", "32", "--chunk-size", "8000", "--part", "1/4", "--save-summary", "seed32.part"])
 rc, out, err = run(["population", "merge", "burst-0.part", "seed32.part", "burst-2.part", "burst-3.part"])
 check(rc == 2 and "their seed differs" in err, "parts of another seed are refused, naming the seed: %r" % err)
+rc, _, _ = run(base + ["--part", "1/4", "--interp", "linear", "--save-summary", "linear.part"])
+rc, out, err = run(["population", "merge", "burst-0.part", "linear.part", "burst-2.part", "burst-3.part"])
+check(rc == 2 and "different notes" in err and "interp linear" in err,
+      "a part evaluated with another interpolation is refused: %r" % err)
+# more parts than chunks: some parts are empty, and merge all the same
+rc, out, err = run(base + ["--part", "0/10", "--save-summary", "empty.part"])  # floor(8 * 1 / 10) = 0 chunks
+check(rc == 0 and "No chunk in this part" in out, "--part 0/10 of 8 chunks saves an empty part: %r" % (out + err))
+rc, out, err = run(["population", "merge", "empty.part", "burst-0.part", "burst-1.part", "burst-2.part",
+                    "burst-3.part", "--csv"])
+check(rc == 0 and out == burst_csv, "an empty part merges without changing the result %s" % err[:200])
 rc, out, err = run(base + ["--part", "1/4"])
 check(rc == 2 and "--save-summary" in err, "--part without --save-summary is refused: %r" % err)
 rc, out, err = run(base + ["--chunks", "8:1", "--save-summary", "x.part"])
