@@ -19,12 +19,13 @@
 
 /* ------------------------------------------------------------ MPI */
 
-#ifdef HRTRAIL_CLI_MPI
 /* Launched by an MPI launcher: Open MPI's, or a PMI/PMIx one (MPICH, Slurm). */
 static int launched_by_mpi(void)
 {
     return getenv("OMPI_COMM_WORLD_SIZE") || getenv("PMI_SIZE") || getenv("PMIX_RANK");
 }
+
+#ifdef HRTRAIL_CLI_MPI
 
 static void merge_op(void *in, void *inout, int *len, MPI_Datatype *type)
 {
@@ -39,7 +40,11 @@ void popdist_begin(popdist *d)
 {
     memset(d, 0, sizeof *d);
     d->size = 1;
-#ifdef HRTRAIL_CLI_MPI
+#ifndef HRTRAIL_CLI_MPI
+    if (launched_by_mpi())
+        fprintf(stderr, "hrtrail population: started by an MPI launcher, but this hrtrail was built without MPI: "
+                        "each process runs the whole population (rebuild with -Dmpi=enabled)\n");
+#else
     if (!launched_by_mpi()) return;
     int done = 0;
     MPI_Initialized(&done);
