@@ -342,6 +342,7 @@ HRT_API int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t ch
  * makes, and parts of different populations, epochs, binnings or notes, or
  * with a chunk in common, are refused.
  */
+/** A part of a population (opaque): make with hrt_pop_part_new() or hrt_pop_part_load(). */
 typedef struct hrt_pop_part hrt_pop_part;
 
 /**
@@ -428,8 +429,11 @@ HRT_API int hrt_pop_part_load(const void *buf, size_t len, hrt_pop_part **out, h
  * remnant by their keys (empty when status is not 0), NaN as an empty field.
  * Rows are buffered 16384 at a time: memory does not grow with the stars.
  */
+/** A catalogue file being written (opaque): hrt_pop_catalogue_open() to hrt_pop_catalogue_close(). */
 typedef struct hrt_pop_catalogue hrt_pop_catalogue;
-enum { HRT_CATALOGUE_CSV = 0, HRT_CATALOGUE_HDF5 = 1 };
+/** Catalogue formats (hrt_pop_catalogue_open). */
+enum { HRT_CATALOGUE_CSV = 0, /**< CSV text */
+       HRT_CATALOGUE_HDF5 = 1 /**< HDF5, a dataset per column */ };
 /**
  * @brief Create (or truncate) a catalogue file.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (format),

@@ -2,10 +2,14 @@
  * dataset per column, chunked, shuffled and deflated, extended as rows come)
  * or CSV, through a buffer of CAT_BUF rows: memory does not grow with the
  * number of stars. */
+#include <errno.h>
+#include <fcntl.h>
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include <hdf5.h>
 
@@ -27,7 +31,10 @@ static int col_kind(int c) { return c == C_STAR ? 2 : (c >= C_STATUS && c <= C_F
 
 struct hrt_pop_catalogue {
     int format;
-    FILE *csv;
+    int fd;             /* CSV: the file, written with write(2) (the library holds no stdio stream) */
+    char *text;         /* CSV: the buffered rows as text */
+    size_t text_len, text_cap;
+    int text_bad;       /* out of memory while formatting */
     hid_t file, ds[N_COLS];
     size_t n_buf;
     uint64_t rows;
@@ -35,9 +42,13 @@ struct hrt_pop_catalogue {
     char *path;
 };
 
+static void text_add(hrt_pop_catalogue *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+static int text_write(hrt_pop_catalogue *c);
+
 static void cat_release(hrt_pop_catalogue *c)
 {
-    if (c->csv) fclose(c->csv);
+    if (c->fd >= 0) close(c->fd);
+    free(c->text);
     H5E_BEGIN_TRY
     {
         for (int k = 0; k < N_COLS; k++)
@@ -85,6 +96,7 @@ int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out
     if (format != HRT_CATALOGUE_CSV && format != HRT_CATALOGUE_HDF5)
         return trail_set_error(err, HRT_E_INVALID, "hrt_pop_catalogue_open: format %d: HRT_CATALOGUE_CSV or _HDF5", format);
     hrt_pop_catalogue *c = calloc(1, sizeof *c);
+    if (c) c->fd = -1;
     int ok = c && (c->path = malloc(strlen(path) + 1));
     for (int k = 0; ok && k < N_COLS; k++) ok = (c->u[k] = malloc(CAT_BUF * sizeof(uint64_t))) != NULL;
     if (!ok) {
@@ -96,13 +108,15 @@ int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out
     for (int k = 0; k < N_COLS; k++) c->ds[k] = -1;
     c->file = -1;
     int rc = HRT_OK;
+    c->fd = -1;
     if (format == HRT_CATALOGUE_HDF5) {
         rc = open_hdf5(c, err);
-    } else if (!(c->csv = fopen(path, "w"))) {
-        rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_open: cannot create '%s'", path);
+    } else if ((c->fd = open(path, O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0666)) < 0) {
+        rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_open: cannot create '%s': %s", path, strerror(errno));
     } else {
-        for (int k = 0; k < N_COLS; k++) fprintf(c->csv, "%s%s", k ? "," : "", col_name[k]);
-        fputc('\n', c->csv);
+        for (int k = 0; k < N_COLS; k++) text_add(c, "%s%s", k ? "," : "", col_name[k]);
+        text_add(c, "\n");
+        if (!text_write(c)) rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_open: cannot write '%s'", path);
     }
     if (rc != HRT_OK) {
         cat_release(c);
@@ -119,25 +133,67 @@ static double as_double(uint64_t u)
     return v;
 }
 
-/* One buffered row as CSV: numbers to 10 significant digits, codes by their keys. */
-static void csv_row(FILE *f, uint64_t *const *u, size_t i)
+/* Formatted text appended to the CSV buffer (text_bad set when out of memory). */
+static void text_add(hrt_pop_catalogue *c, const char *fmt, ...)
 {
+    va_list ap;
+    for (;;) {
+        size_t room = c->text_cap - c->text_len;
+        va_start(ap, fmt);
+        int n = vsnprintf(c->text ? c->text + c->text_len : NULL, room, fmt, ap);
+        va_end(ap);
+        if (n < 0) {
+            c->text_bad = 1;
+            return;
+        }
+        if ((size_t)n < room) {
+            c->text_len += (size_t)n;
+            return;
+        }
+        size_t cap = (c->text_cap ? 2 * c->text_cap : 1 << 16) + (size_t)n;
+        char *t = realloc(c->text, cap);
+        if (!t) {
+            c->text_bad = 1;
+            return;
+        }
+        c->text = t, c->text_cap = cap;
+    }
+}
+
+/* The buffered text written whole to the file; 1 if it was. */
+static int text_write(hrt_pop_catalogue *c)
+{
+    size_t at = 0;
+    while (!c->text_bad && at < c->text_len) {
+        ssize_t w = write(c->fd, c->text + at, c->text_len - at);
+        if (w < 0 && errno == EINTR) continue;
+        if (w <= 0) return 0;
+        at += (size_t)w;
+    }
+    c->text_len = 0;
+    return !c->text_bad;
+}
+
+/* One buffered row as CSV: numbers to 10 significant digits, codes by their keys. */
+static void csv_row(hrt_pop_catalogue *c, size_t i)
+{
+    uint64_t *const *u = c->u;
     for (int k = 0; k < N_COLS; k++) {
-        if (k) fputc(',', f);
+        const char *sep = k ? "," : "";
         int32_t code = (int32_t)u[k][i], ok = (int32_t)u[C_STATUS][i] == HRT_OK;
         if (k == C_STAR)
-            fprintf(f, "%llu", (unsigned long long)u[k][i]);
+            text_add(c, "%s%llu", sep, (unsigned long long)u[k][i]);
         else if (k == C_PHASE || k == C_REMNANT)
-            fputs(ok ? (k == C_PHASE ? hrt_phase_key(code) : hrt_remnant_key(code)) : "", f);
+            text_add(c, "%s%s", sep, ok ? (k == C_PHASE ? hrt_phase_key(code) : hrt_remnant_key(code)) : "");
         else if (col_kind(k) == 1)
-            fprintf(f, "%d", (int)code);
+            text_add(c, "%s%d", sep, (int)code);
         else {
             double v = as_double(u[k][i]);
-            if (isfinite(v)) fprintf(f, "%.10g", v);
-            else if (!isnan(v)) fputs(v > 0 ? "inf" : "-inf", f);
+            if (isfinite(v)) text_add(c, "%s%.10g", sep, v);
+            else text_add(c, "%s%s", sep, isnan(v) ? "" : v > 0 ? "inf" : "-inf");
         }
     }
-    fputc('\n', f);
+    text_add(c, "\n");
 }
 
 /* Append the buffered rows to each dataset (ints narrowed back to 32 bits). */
@@ -173,11 +229,12 @@ static int flush(hrt_pop_catalogue *c, const char *who, hrt_error *err)
 {
     if (!c->n_buf) return HRT_OK;
     int ok = 1;
-    if (c->format == HRT_CATALOGUE_HDF5)
+    if (c->format == HRT_CATALOGUE_HDF5) {
         ok = flush_hdf5(c);
-    else
-        for (size_t i = 0; i < c->n_buf; i++) csv_row(c->csv, c->u, i);
-    if (c->csv && ferror(c->csv)) ok = 0;
+    } else {
+        for (size_t i = 0; i < c->n_buf; i++) csv_row(c, i);
+        ok = text_write(c);
+    }
     if (!ok) return trail_set_error(err, HRT_E_IO, "%s: cannot write rows %llu to %llu of '%s'", who,
                                     (unsigned long long)c->rows, (unsigned long long)(c->rows + c->n_buf), c->path);
     c->rows += c->n_buf;
@@ -229,9 +286,9 @@ int hrt_pop_catalogue_close(hrt_pop_catalogue *c, uint64_t *rows, hrt_error *err
     int rc = flush(c, "hrt_pop_catalogue_close", err);
     if (rows) *rows = c->rows;
     int bad = 0;
-    if (c->csv) {
-        bad = fclose(c->csv) != 0;
-        c->csv = NULL;
+    if (c->fd >= 0) {
+        bad = close(c->fd) != 0;
+        c->fd = -1;
     } else {
         H5E_BEGIN_TRY
         {
