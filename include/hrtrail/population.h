@@ -366,8 +366,9 @@ HRT_API int hrt_pop_part_run(const hrt_grid *g, hrt_pop_part *p, uint64_t chunk_
                              hrt_error *err);
 /**
  * @brief Add summaries the caller made of chunks [chunk_first, chunk_first +
- * n_chunk) (e.g. with hrt_pop_run and its own progress report): sums has one
- * summary per epoch of the part, same epochs and binning.
+ * n_chunk) (clipped to the population), e.g. with hrt_pop_run and its own
+ * progress report: sums has one summary per epoch of the part, same epochs
+ * and binning.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (a chunk
  *   already in the part, or a summary hrt_pop_summary_merge refuses), HRT_E_NOMEM.
  */
