@@ -53,9 +53,8 @@ def timed(cmd):
 
 
 def launch(ranks, args):
-    if ranks == 1 and not mpirun:
-        return [exe] + args
-    return ([mpirun, "--oversubscribe", "-np", str(ranks)] if ranks > 1 or mpirun else []) + [exe] + args
+    """Under mpirun; Open MPI binds each rank to one core unless told not to, which would keep a rank's threads on it."""
+    return [mpirun, "--oversubscribe", "--bind-to", "none", "-np", str(ranks), exe] + args
 
 
 pop = ["population", "--age", "10Gyr", "--seed", "11", "--csv"]
