@@ -63,6 +63,8 @@ char *xstrdup(const char *s);
 /* ---- messages: one line on stderr, "hrtrail CMD: ..."; they return the exit code ---- */
 int cli_fail(const cli *c, int code, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
 int cli_exit_of_status(int hrt_code);
+/* Send cli_fail's messages to f instead of stderr (NULL: stderr again). */
+void cli_set_message_sink(FILE *f);
 
 /* ---- parsing values ---- */
 int parse_number(const char *s, double *out);

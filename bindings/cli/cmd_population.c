@@ -12,10 +12,12 @@
 #include <unistd.h>
 
 #include "cli.h"
+#include "pop.h"
 
 enum {
     O_STARS = 1, O_IMF, O_ALPHA, O_MASS_RANGE, O_SFH, O_SFH_FROM, O_SFH_TO, O_TAU, O_SFH_TABLE, O_AGE, O_SEED, O_THREADS,
-    O_FEH_SPREAD, O_Z_RANGE, O_Z_UNIFORM, O_HR_BINS, O_LOG_TEFF, O_LOG_L, O_OUT
+    O_FEH_SPREAD, O_Z_RANGE, O_Z_UNIFORM, O_HR_BINS, O_LOG_TEFF, O_LOG_L, O_OUT, O_CHUNKS, O_PART, O_SAVE, O_CHUNK_SIZE,
+    O_CATALOGUE
 };
 static const optdef pop_opts[] = {
     {"stars", 'n', 1, O_STARS},       {"imf", 0, 1, O_IMF},           {"alpha", 0, 1, O_ALPHA},
@@ -24,7 +26,9 @@ static const optdef pop_opts[] = {
     {"age", 'a', 1, O_AGE},           {"seed", 0, 1, O_SEED},         {"threads", 'j', 1, O_THREADS},
     {"feh-spread", 0, 1, O_FEH_SPREAD}, {"z-range", 0, 1, O_Z_RANGE}, {"z-uniform", 0, 0, O_Z_UNIFORM},
     {"hr-bins", 0, 1, O_HR_BINS},     {"log-teff", 0, 1, O_LOG_TEFF}, {"log-l", 0, 1, O_LOG_L},
-    {"output", 'o', 1, O_OUT},        {NULL, 0, 0, 0},
+    {"output", 'o', 1, O_OUT},        {"chunks", 0, 1, O_CHUNKS},     {"part", 0, 1, O_PART},
+    {"save-summary", 0, 1, O_SAVE},   {"chunk-size", 0, 1, O_CHUNK_SIZE}, {"catalogue", 0, 1, O_CATALOGUE},
+    {NULL, 0, 0, 0},
 };
 
 static int parse_pair(const cli *c, const char *opt, const char *s, double *a, double *b, int ages)
@@ -259,25 +263,33 @@ int pop_write_density_svg(const cli *c, plot *p, const hrt_pop_summary *s, const
     return rc;
 }
 
-/* Run the population in pieces, with progress on stderr when it is a terminal. */
-int pop_run_progress(const cli *c, const hrt_pop_spec *spec, int threads, size_t n_ages, hrt_pop_summary *sums,
-                     int progress)
+/* Run chunks [first, first + count) of the population in pieces, with progress on stderr when asked. */
+int pop_run_range(const cli *c, const hrt_pop_spec *spec, uint64_t first, uint64_t count, int threads, size_t n_ages,
+                  hrt_pop_summary *sums, int progress)
 {
-    uint64_t nc = hrt_pop_n_chunks(spec), step = (uint64_t)(threads > 0 ? threads : hrt_pop_max_threads()) * 4;
+    uint64_t step = (uint64_t)(threads > 0 ? threads : hrt_pop_max_threads()) * 4, end = first + count;
     hrt_error err;
-    if (!progress) step = nc ? nc : 1;
-    for (uint64_t c0 = 0; c0 < nc; c0 += step) {
-        int rc = hrt_pop_run(c->grid, spec, c0, step, threads, n_ages, sums, &err);
+    if (!progress) step = count ? count : 1;
+    for (uint64_t c0 = first; c0 < end; c0 += step) {
+        uint64_t n = end - c0 < step ? end - c0 : step;
+        int rc = hrt_pop_run(c->grid, spec, c0, n, threads, n_ages, sums, &err);
         if (rc != HRT_OK) return cli_fail(c, cli_exit_of_status(rc), "%s", err.message);
         if (progress) {
-            uint64_t done = c0 + step < nc ? c0 + step : nc;
+            uint64_t done = c0 + n - first;
             double stars = (double)(done * spec->chunk_size < spec->n_stars ? done * spec->chunk_size : spec->n_stars);
-            fprintf(stderr, "\rhrtrail %s: %3.0f%% (%.4g of %.4g stars)", c->cmd, 100.0 * (double)done / (double)nc, stars,
-                    (double)spec->n_stars);
+            fprintf(stderr, "\rhrtrail %s: %3.0f%% (%.4g of %.4g stars)", c->cmd, 100.0 * (double)done / (double)count, stars,
+                    (double)(count == hrt_pop_n_chunks(spec) ? spec->n_stars : count * spec->chunk_size));
         }
     }
     if (progress) fprintf(stderr, "\r%60s\r", "");
     return 0;
+}
+
+/* Run the whole population in pieces, with progress on stderr when asked. */
+int pop_run_progress(const cli *c, const hrt_pop_spec *spec, int threads, size_t n_ages, hrt_pop_summary *sums,
+                     int progress)
+{
+    return pop_run_range(c, spec, 0, hrt_pop_n_chunks(spec), threads, n_ages, sums, progress);
 }
 
 static double seconds(void)
@@ -316,17 +328,6 @@ static int read_sfh_table(const cli *c, const char *path, dlist *t, dlist *r)
 
 /* ------------------------------------------------------------- the command */
 
-typedef struct pop_args {
-    const char *out, *imf_name, *sfh_name, *table_path;
-    int threads, z_uniform, have_range, have_zr;
-    double n_stars, alpha, m_lo, m_hi, t_from, t_to, tau, spread, z_lo, z_hi, seedv;
-    hrt_pop_hr hr;
-    dlist ages, tt, tr; /* the ages; the SFH table's times and rates */
-    /* what the run made of them */
-    int imf, sfh;
-    double z;
-    hrt_pop_spec spec;
-} pop_args;
 
 static int pop_take_hr_bins(cli *c, pop_args *a, const char *val)
 {
@@ -374,6 +375,34 @@ static int pop_take_number(cli *c, pop_args *a, int id, const char *val)
     }
 }
 
+/* --chunks FIRST:COUNT, --part K/N, --chunk-size N. */
+static int pop_take_chunks(cli *c, pop_args *a, int id, const char *val)
+{
+    unsigned long long x, y;
+    int end = 0;
+    if (id == O_CHUNK_SIZE) {
+        double v;
+        if (parse_number(val, &v) || !(v >= 1 && v <= 1e9) || v != floor(v))
+            return cli_fail(c, CLI_EXIT_USAGE, "--chunk-size '%s': expected a whole number of stars from 1 to 1e9", val);
+        a->chunk_size = (uint64_t)v;
+        return 0;
+    }
+    int ok = sscanf(val, id == O_CHUNKS ? "%llu:%llu%n" : "%llu/%llu%n", &x, &y, &end) == 2 && !val[end] && val[0] != '-' &&
+             !strchr(val, ' ') && !strchr(val + strcspn(val, ":/") + 1, '-');
+    if (id == O_CHUNKS) {
+        if (!ok || y == 0)
+            return cli_fail(c, CLI_EXIT_USAGE, "--chunks '%s': expected FIRST:COUNT, whole numbers with COUNT >= 1, "
+                                               "e.g. 0:16", val);
+        a->have_chunks = 1, a->ch_first = x, a->ch_count = y;
+    } else {
+        if (!ok || y == 0 || x >= y)
+            return cli_fail(c, CLI_EXIT_USAGE, "--part '%s': expected K/N with 0 <= K < N, e.g. 3/10 (the fourth of ten "
+                                               "parts)", val);
+        a->have_part = 1, a->part_k = x, a->part_n = y;
+    }
+    return 0;
+}
+
 static int pop_take(cli *c, void *ctx, int id, const char *val)
 {
     pop_args *a = ctx;
@@ -393,6 +422,9 @@ static int pop_take(cli *c, void *ctx, int id, const char *val)
     case O_LOG_TEFF: return parse_pair(c, "--log-teff", val, &a->hr.log_teff_k_lo, &a->hr.log_teff_k_hi, 0);
     case O_LOG_L: return parse_pair(c, "--log-l", val, &a->hr.log_l_lsun_lo, &a->hr.log_l_lsun_hi, 0);
     case O_OUT: a->out = val; return 0;
+    case O_CHUNKS: case O_PART: case O_CHUNK_SIZE: return pop_take_chunks(c, a, id, val);
+    case O_SAVE: a->save = val; return 0;
+    case O_CATALOGUE: a->catalogue = val; return 0;
     default: return 0;
     }
 }
@@ -425,6 +457,7 @@ static int pop_spec(cli *c, pop_args *a)
     hrt_pop_spec_default(spec);
     spec->n_stars = (uint64_t)a->n_stars;
     spec->seed = (uint64_t)a->seedv;
+    if (a->chunk_size) spec->chunk_size = a->chunk_size;
     if ((rc = cli_resolve_z(c, &a->z))) return rc;
     if (hrt_grid_mass_range(c->grid, a->z, &gl, &gh) == HRT_OK && !a->have_range) {
         a->m_lo = fmax(a->m_lo, gl);
@@ -535,7 +568,7 @@ static void pop_json_doc(const cli *c, const pop_args *a, const hrt_pop_summary 
     jw_finish(&w);
 }
 
-static void pop_text(const cli *c, const pop_args *a, const hrt_pop_summary *sums, double dt)
+static void pop_text(const cli *c, const pop_args *a, const hrt_pop_summary *sums, double dt, size_t n_merged)
 {
     const hrt_pop_spec *spec = &a->spec;
     int nthreads = a->threads > 0 ? a->threads : hrt_pop_max_threads();
@@ -552,8 +585,16 @@ static void pop_text(const cli *c, const pop_args *a, const hrt_pop_summary *sum
         printf(", Z log-uniform in %g-%g\n", a->z_lo, a->z_hi);
     else
         printf(", Z log-normal around %g (%.3g dex) in %g-%g\n", a->z, a->spread, a->z_lo, a->z_hi);
-    printf("seed %llu; %d thread%s, %.3g s (%.3g stars per second per epoch)\ngrid: %s\n\n", (unsigned long long)spec->seed,
-           nthreads, nthreads == 1 ? "" : "s", dt, (double)spec->n_stars * (double)a->ages.n / dt, c->grid_used);
+    if (dt >= 0 && a->ranks > 1)
+        printf("seed %llu; %d MPI ranks x %d thread%s, %.3g s (%.3g stars per second per epoch)\n",
+               (unsigned long long)spec->seed, a->ranks, nthreads, nthreads == 1 ? "" : "s", dt,
+               (double)spec->n_stars * (double)a->ages.n / dt);
+    else if (dt >= 0)
+        printf("seed %llu; %d thread%s, %.3g s (%.3g stars per second per epoch)\n", (unsigned long long)spec->seed,
+               nthreads, nthreads == 1 ? "" : "s", dt, (double)spec->n_stars * (double)a->ages.n / dt);
+    else
+        printf("seed %llu; merged from %zu saved part%s\n", (unsigned long long)spec->seed, n_merged, n_merged == 1 ? "" : "s");
+    printf("grid: %s\n\n", c->grid_used);
     for (size_t i = 0; i < a->ages.n; i++) {
         pop_print_text(&sums[i], stdout, "  ");
         putchar('\n');
@@ -566,39 +607,62 @@ static void pop_text(const cli *c, const pop_args *a, const hrt_pop_summary *sum
            "(tracks/MODEL.md), meant for population-level work, not precision stellar physics.\n");
 }
 
-static int pop_run(cli *c, pop_args *a)
+int pop_output(cli *c, pop_args *a, const hrt_pop_summary *sums, double dt, size_t n_merged)
 {
-    hrt_error err;
-    int rc;
-    if ((rc = pop_check(c, a)) || (rc = cli_open_grid(c)) || (rc = pop_spec(c, a))) return rc;
-    hrt_pop_summary *sums = xmalloc(a->ages.n * sizeof *sums);
-    for (size_t i = 0; i < a->ages.n && rc == 0; i++)
-        if (hrt_pop_summary_init(&sums[i], a->ages.v[i], &a->hr, &err) != HRT_OK)
-            rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
-    double t0 = seconds();
-    if (rc == 0) rc = pop_run_progress(c, &a->spec, a->threads, a->ages.n, sums, isatty(STDERR_FILENO));
-    double dt = seconds() - t0;
-    if (rc == 0 && a->out) rc = pop_svg(c, a, &sums[0]);
+    int rc = a->out ? pop_svg(c, a, &sums[0]) : 0;
     if (rc == 0 && c->fmt == FMT_CSV)
         pop_csv(a, sums);
     else if (rc == 0 && c->fmt == FMT_JSON)
         pop_json_doc(c, a, sums);
     else if (rc == 0)
-        pop_text(c, a, sums, dt);
+        pop_text(c, a, sums, dt, n_merged);
+    return rc;
+}
+
+/* Parse, run this rank's chunks, add up the ranks' summaries, write what was asked (rank 0). */
+static int pop_run(cli *c, pop_args *a, popdist *d)
+{
+    hrt_error err;
+    int rc = pop_check(c, a);
+    if (rc == 0) rc = cli_open_grid(c);
+    if (rc == 0) rc = pop_spec(c, a);
+    if (rc == 0) rc = popdist_range(c, a, d);
+    a->ranks = d->size;
+    size_t n = a->ages.n;
+    hrt_pop_summary *sums = xmalloc((n ? n : 1) * sizeof *sums);
+    for (size_t i = 0; i < n && rc == 0; i++)
+        if (hrt_pop_summary_init(&sums[i], a->ages.v[i], &a->hr, &err) != HRT_OK)
+            rc = cli_fail(c, CLI_EXIT_USAGE, "%s", err.message);
+    double t0 = seconds();
+    if (rc == 0 && a->catalogue)
+        rc = pop_catalogue_run(c, a, d, sums, d->rank == 0 && isatty(STDERR_FILENO));
+    else if (rc == 0)
+        rc = pop_run_range(c, &a->spec, d->my_first, d->my_count, a->threads, n, sums, d->rank == 0 && isatty(STDERR_FILENO));
+    rc = popdist_agree(c, d, rc);
+    if (rc == 0) rc = popdist_reduce(c, d, sums, n);
+    double dt = seconds() - t0;
+    if (rc == 0 && d->rank == 0) rc = popdist_finish(c, a, d, sums, dt);
     free(sums);
     return rc;
 }
 
 int cmd_population(cli *c, argparse *p)
 {
+    if (p->argc > 1 && strcmp(p->argv[1], "merge") == 0) {
+        argparse sub = {p->argc - 1, p->argv + 1, 1};
+        return pop_merge(c, &sub);
+    }
     pop_args a;
+    popdist d;
     memset(&a, 0, sizeof a);
     a.imf_name = "kroupa2001", a.sfh_name = "burst";
     a.alpha = a.t_to = a.tau = a.spread = a.z_lo = a.z_hi = NAN;
     a.m_lo = 0.08, a.m_hi = 100, a.seedv = 1;
     a.hr = (hrt_pop_hr){3.3, 4.9, -5.0, 6.5, 64, 64};
+    popdist_begin(&d);
     int rc = cli_parse(c, p, &pop_cmdopts, &a);
-    if (rc == 0) rc = pop_run(c, &a);
+    if (rc == 0) rc = pop_run(c, &a, &d);
+    rc = popdist_end(c, &d, rc);
     dlist_free(&a.ages);
     dlist_free(&a.tt);
     dlist_free(&a.tr);

@@ -393,7 +393,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "keeping the stars: counts, initial and current mass and luminosity per phase,\n"
      "counts and mass per remnant kind, integrated bolometric luminosity, M/L, the\n"
      "main-sequence turnoff mass, and an HR-diagram histogram. The same seed gives\n"
-     "the same numbers for any number of threads (and MPI ranks: examples/).\n"
+     "the same numbers for any number of threads, processes or MPI ranks.\n"
      "\n"
      "  -n, --stars N          stars to draw (e.g. 1e8; memory does not grow with N)\n"
      "  -a, --age AGE[,...]    ages at which to summarise, e.g. 1Gyr,10Gyr\n"
@@ -423,13 +423,37 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "                         stars that are no remnant, or the failure), stars,\n"
      "                         fraction, initial_mass_msun, mass_msun, l_lsun\n"
      "  --json                 everything, with the histogram's counts\n"
+     "  --catalogue FILE       also write every star at every age (star, population_age_yr,\n"
+     "                         birth_yr and the state's fields) to FILE.h5 (HDF5) or\n"
+     "                         FILE.csv, in bounded memory\n"
      "\n"
-     "Shows progress on standard error when that is a terminal, never otherwise.\n"
+     "More than one process. The stars come in chunks of --chunk-size N (default\n"
+     "65536; it changes the draws); a part of them runs alone and is saved:\n"
+     "  --part K/N             the K-th of N equal parts of the chunks (K from 0), e.g.\n"
+     "                         --part $SLURM_ARRAY_TASK_ID/100 in a batch job array\n"
+     "  --chunks FIRST:COUNT   chunks FIRST to FIRST+COUNT-1 (COUNT is clipped)\n"
+     "  --save-summary FILE    write the summaries (with the specification, the chunks\n"
+     "                         done, the grid's name and --interp; versioned,\n"
+     "                         checksummed) to FILE\n"
+     "hrtrail population merge FILE... [--csv|--json] [-o FILE.svg] [--save-summary OUT]\n"
+     "adds saved parts up exactly, in any order, and writes what one run would (the\n"
+     "same bytes of CSV, JSON and SVG; the text but its timing line); parts of another\n"
+     "population or seed, with a chunk in common, or damaged are refused, and so is\n"
+     "an incomplete set unless --save-summary OUT keeps it as a larger part.\n"
+     "Under mpirun (when built with MPI), the ranks share the chunks and rank 0 writes\n"
+     "the same bytes as one process; --catalogue then writes FILE.rankR.h5 per rank\n"
+     "and FILE.manifest.csv (file, rank, chunk_first, chunk_count, rows).\n"
+     "\n"
+     "Shows progress on standard error when that is a terminal (rank 0 only), never\n"
+     "otherwise.\n"
      "\n"
      "Examples:\n"
      "  hrtrail population --stars 1e6 --age 1Gyr,5Gyr,10Gyr -o burst.svg\n"
      "  hrtrail population -n 1e8 --imf chabrier2003 --sfh constant --sfh-to 10Gyr \\\n"
-     "      --age 10Gyr --feh -0.3 --feh-spread 0.2 --json > disc.json\n",
+     "      --age 10Gyr --feh -0.3 --feh-spread 0.2 --json > disc.json\n"
+     "  mpirun -np 8 hrtrail population -n 1e9 --age 10Gyr --json > big.json\n"
+     "  hrtrail population -n 1e9 --age 10Gyr --part 7/100 --save-summary p7.part\n"
+     "  hrtrail population merge p*.part --json > big.json\n",
      0, OUT_SVG},
     {"fit",
      "Usage: hrtrail fit --teff K --teff-sigma K [--log-l X --log-l-sigma S]\n"
@@ -637,7 +661,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
 int help_command(const char *cmd, FILE *f)
 {
     for (size_t i = 0; i < sizeof helps / sizeof helps[0]; i++) {
-        if (strcmp(cmd, helps[i].cmd) != 0 && !(strncmp(cmd, "grid", 4) == 0 && strcmp(helps[i].cmd, "grid") == 0))
+        if (strcmp(cmd, helps[i].cmd) != 0 && !(strncmp(cmd, "grid", 4) == 0 && strcmp(helps[i].cmd, "grid") == 0) &&
+            !(strcmp(cmd, "population merge") == 0 && strcmp(helps[i].cmd, "population") == 0))
             continue;
         fputs(helps[i].text, f);
         fputs("\n", f);

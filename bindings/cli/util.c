@@ -44,8 +44,13 @@ char *xstrdup(const char *s)
 }
 
 /* The message is made safe for a terminal (text.c): it may quote names and values from files. */
+/* Where messages go: stderr, or a stream an MPI rank other than 0 keeps them in. */
+static FILE *msg_sink;
+void cli_set_message_sink(FILE *f) { msg_sink = f; }
+
 int cli_fail(const cli *c, int code, const char *fmt, ...)
 {
+    FILE *to = msg_sink ? msg_sink : stderr;
     va_list ap;
     char small[512], *msg = small, *safe;
     int n;
@@ -61,9 +66,9 @@ int cli_fail(const cli *c, int code, const char *fmt, ...)
     }
     safe = text_safe(n < 0 ? fmt : msg, NULL);
     if (c && c->cmd)
-        fprintf(stderr, "hrtrail %s: %s\n", c->cmd, safe);
+        fprintf(to, "hrtrail %s: %s\n", c->cmd, safe);
     else
-        fprintf(stderr, "hrtrail: %s\n", safe);
+        fprintf(to, "hrtrail: %s\n", safe);
     free(safe);
     if (msg != small) free(msg);
     return code;

@@ -151,6 +151,8 @@ module hrtrail
        HRT_SFH_TABLE = 3
   integer(c_int), parameter, public :: HRT_ZDIST_FIXED = 0, HRT_ZDIST_LOG_UNIFORM = 1, HRT_ZDIST_LOG_NORMAL = 2
   integer, parameter, public :: HRT_IMF_MAX_SEGMENTS = 4, HRT_POP_MAX_STATUS = 32, HRT_POP_HR_MAX_BINS = 10000
+  ! catalogue formats (hrt_pop_catalogue_open)
+  integer(c_int), parameter, public :: HRT_CATALOGUE_CSV = 0, HRT_CATALOGUE_HDF5 = 1
 
   !> struct hrt_imf: an IMF between mass limits, set up by hrtf_imf_init (segments are derived data).
   type, bind(C), public :: hrt_imf
@@ -432,6 +434,10 @@ module hrtrail
        hrt_pop_n_chunks, hrt_pop_draw, hrt_pop_sum_value, hrt_pop_summary_init, hrt_pop_summary_add, &
        hrt_pop_summary_add_unborn, hrt_pop_summary_merge, hrt_pop_turnoff_mass, hrt_pop_max_threads, &
        hrt_eval_parallel, hrt_pop_run
+  public :: hrt_pop_part_new, hrt_pop_part_free, hrt_pop_part_run, hrt_pop_part_add, hrt_pop_part_merge, &
+       hrt_pop_part_spec, hrt_pop_part_n_ages, hrt_pop_part_summary, hrt_pop_part_note, hrt_pop_part_n_ranges, &
+       hrt_pop_part_range, hrt_pop_part_chunks_done, hrt_pop_part_complete, hrt_pop_part_save, hrt_pop_part_load, &
+       hrt_pop_catalogue_open, hrt_pop_catalogue_add, hrt_pop_catalogue_close
   public :: hrt_fit_mass_prior_name, hrt_fit_mass_prior_from_name, hrt_fit_model_options_default, &
        hrt_fit_model_new, hrt_fit_model_free, hrt_fit_model_memory_bytes, hrt_fit_model_get_options, &
        hrt_fit_model_n_feh, hrt_fit_model_feh, hrt_fit_obs_init, hrt_fit_star, hrt_fit_distance_m, &
@@ -1072,6 +1078,134 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_pop_run
+     ! ---- parts of a population (opaque hrt_pop_part *) and catalogues (opaque hrt_pop_catalogue *)
+     !> An empty part; hr may be c_null_ptr (no histogram); note NUL-terminated.
+     function hrt_pop_part_new(spec, n_ages, ages_yr, hr, note, out, err) bind(C, name="hrt_pop_part_new") result(rc)
+       import :: c_ptr, c_size_t, c_double, c_char, c_int, hrt_pop_spec, hrt_error
+       type(hrt_pop_spec), intent(in) :: spec
+       integer(c_size_t), value :: n_ages
+       real(c_double), intent(in) :: ages_yr(*)
+       type(c_ptr), value :: hr
+       character(kind=c_char), intent(in) :: note(*)
+       type(c_ptr), intent(out) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_part_new
+     subroutine hrt_pop_part_free(p) bind(C, name="hrt_pop_part_free")
+       import :: c_ptr
+       type(c_ptr), value :: p
+     end subroutine hrt_pop_part_free
+     function hrt_pop_part_run(grid, p, chunk_first, n_chunk, n_threads, err) bind(C, name="hrt_pop_part_run") result(rc)
+       import :: c_ptr, c_int64_t, c_int, hrt_error
+       type(c_ptr), value :: grid, p
+       integer(c_int64_t), value :: chunk_first, n_chunk
+       integer(c_int), value :: n_threads
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_part_run
+     function hrt_pop_part_add(p, chunk_first, n_chunk, sums, err) bind(C, name="hrt_pop_part_add") result(rc)
+       import :: c_ptr, c_int64_t, c_int, hrt_pop_summary, hrt_error
+       type(c_ptr), value :: p
+       integer(c_int64_t), value :: chunk_first, n_chunk
+       type(hrt_pop_summary), intent(in) :: sums(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_part_add
+     function hrt_pop_part_merge(dst, src, err) bind(C, name="hrt_pop_part_merge") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: dst, src
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_part_merge
+     !> const hrt_pop_spec * of the part.
+     function hrt_pop_part_spec(p) bind(C, name="hrt_pop_part_spec") result(s)
+       import :: c_ptr
+       type(c_ptr), value :: p
+       type(c_ptr) :: s
+     end function hrt_pop_part_spec
+     function hrt_pop_part_n_ages(p) bind(C, name="hrt_pop_part_n_ages") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: p
+       integer(c_size_t) :: n
+     end function hrt_pop_part_n_ages
+     !> const hrt_pop_summary * of epoch i (from 0); the epochs' summaries are contiguous.
+     function hrt_pop_part_summary(p, i) bind(C, name="hrt_pop_part_summary") result(s)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: p
+       integer(c_size_t), value :: i
+       type(c_ptr) :: s
+     end function hrt_pop_part_summary
+     function hrt_pop_part_note(p) bind(C, name="hrt_pop_part_note") result(s)
+       import :: c_ptr
+       type(c_ptr), value :: p
+       type(c_ptr) :: s
+     end function hrt_pop_part_note
+     function hrt_pop_part_n_ranges(p) bind(C, name="hrt_pop_part_n_ranges") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: p
+       integer(c_size_t) :: n
+     end function hrt_pop_part_n_ranges
+     function hrt_pop_part_range(p, i, first, count) bind(C, name="hrt_pop_part_range") result(rc)
+       import :: c_ptr, c_size_t, c_int64_t, c_int
+       type(c_ptr), value :: p
+       integer(c_size_t), value :: i
+       integer(c_int64_t), intent(out) :: first, count
+       integer(c_int) :: rc
+     end function hrt_pop_part_range
+     function hrt_pop_part_chunks_done(p) bind(C, name="hrt_pop_part_chunks_done") result(n)
+       import :: c_ptr, c_int64_t
+       type(c_ptr), value :: p
+       integer(c_int64_t) :: n
+     end function hrt_pop_part_chunks_done
+     function hrt_pop_part_complete(p) bind(C, name="hrt_pop_part_complete") result(yes)
+       import :: c_ptr, c_int
+       type(c_ptr), value :: p
+       integer(c_int) :: yes
+     end function hrt_pop_part_complete
+     !> buf: c_null_ptr with cap 0 to ask the size (HRT_E_BUFFER, len set).
+     function hrt_pop_part_save(p, buf, cap, len, err) bind(C, name="hrt_pop_part_save") result(rc)
+       import :: c_ptr, c_size_t, c_int, hrt_error
+       type(c_ptr), value :: p, buf
+       integer(c_size_t), value :: cap
+       integer(c_size_t), intent(out) :: len
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_part_save
+     function hrt_pop_part_load(buf, len, out, err) bind(C, name="hrt_pop_part_load") result(rc)
+       import :: c_ptr, c_size_t, c_int, hrt_error
+       type(c_ptr), value :: buf
+       integer(c_size_t), value :: len
+       type(c_ptr), intent(out) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_part_load
+     function hrt_pop_catalogue_open(path, format, out, err) bind(C, name="hrt_pop_catalogue_open") result(rc)
+       import :: c_ptr, c_char, c_int, hrt_error
+       character(kind=c_char), intent(in) :: path(*)
+       integer(c_int), value :: format
+       type(c_ptr), intent(out) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_catalogue_open
+     function hrt_pop_catalogue_add(c, population_age_yr, n, star, birth_yr, states, err) &
+          bind(C, name="hrt_pop_catalogue_add") result(rc)
+       import :: c_ptr, c_double, c_size_t, c_int64_t, c_int, hrt_state, hrt_error
+       type(c_ptr), value :: c
+       real(c_double), value :: population_age_yr
+       integer(c_size_t), value :: n
+       integer(c_int64_t), intent(in) :: star(*)
+       real(c_double), intent(in) :: birth_yr(*)
+       type(hrt_state), intent(in) :: states(*)
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_catalogue_add
+     function hrt_pop_catalogue_close(c, rows, err) bind(C, name="hrt_pop_catalogue_close") result(rc)
+       import :: c_ptr, c_int64_t, c_int, hrt_error
+       type(c_ptr), value :: c
+       integer(c_int64_t), intent(out) :: rows
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_pop_catalogue_close
      ! ---- fitting and forecasts
      function hrt_fit_mass_prior_name(prior) bind(C, name="hrt_fit_mass_prior_name") result(p)
        import :: c_int, c_ptr

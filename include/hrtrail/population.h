@@ -329,6 +329,131 @@ HRT_API int hrt_eval_parallel(const hrt_grid *g, size_t n, const double *mass_ms
 HRT_API int hrt_pop_run(const hrt_grid *g, const hrt_pop_spec *spec, uint64_t chunk_first, uint64_t n_chunk,
                         int n_threads, size_t n_ages, hrt_pop_summary *sums, hrt_error *err);
 
+/* ------------------------------------------------------------------------
+ * Parts of a population: some chunks' summaries, merged and saved (hrt_pop_part_*)
+ * ------------------------------------------------------------------------ */
+/*
+ * A part is a specification, the epochs and HR binning of its summaries, a
+ * set of chunks done and their summaries, and a note (any text the caller
+ * wants kept with it, e.g. which grid ran it).  Separate processes (batch
+ * job arrays, MPI ranks, Python workers) each run some chunks into a part,
+ * save it as bytes, and one of them loads and merges the others: parts merge
+ * exactly, in any order, into the summaries one process running every chunk
+ * makes, and parts of different populations, epochs, binnings or notes, or
+ * with a chunk in common, are refused.
+ */
+/** A part of a population (opaque): make with hrt_pop_part_new() or hrt_pop_part_load(). */
+typedef struct hrt_pop_part hrt_pop_part;
+
+/**
+ * @brief An empty part: no chunk done, empty summaries at n_ages epochs.
+ * Given: spec (checked; copied with its SFH table), ages_yr[n_ages] (n_ages
+ *   >= 1), hr (NULL: no histogram), note (NULL: ""; at most 4096 bytes, copied)
+ * Returned: *out, free with hrt_pop_part_free()
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID, HRT_E_DOMAIN, HRT_E_NOMEM.
+ */
+HRT_API int hrt_pop_part_new(const hrt_pop_spec *spec, size_t n_ages, const double *ages_yr, const hrt_pop_hr *hr,
+                             const char *note, hrt_pop_part **out, hrt_error *err);
+/** Free a part (NULL is fine). */
+HRT_API void hrt_pop_part_free(hrt_pop_part *p);
+/**
+ * @brief Run chunks [chunk_first, chunk_first + n_chunk) (clipped to the
+ * population) with hrt_pop_run() and add them to the part.
+ * Returned (function value): as hrt_pop_run(); HRT_E_INVALID if a chunk is
+ *   already in the part (the part is unchanged on any failure).
+ */
+HRT_API int hrt_pop_part_run(const hrt_grid *g, hrt_pop_part *p, uint64_t chunk_first, uint64_t n_chunk, int n_threads,
+                             hrt_error *err);
+/**
+ * @brief Add summaries the caller made of chunks [chunk_first, chunk_first +
+ * n_chunk) (clipped to the population), e.g. with hrt_pop_run and its own
+ * progress report: sums has one summary per epoch of the part, same epochs
+ * and binning.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (a chunk
+ *   already in the part, or a summary hrt_pop_summary_merge refuses), HRT_E_NOMEM.
+ */
+HRT_API int hrt_pop_part_add(hrt_pop_part *p, uint64_t chunk_first, uint64_t n_chunk, const hrt_pop_summary *sums,
+                             hrt_error *err);
+/**
+ * @brief dst += src: the chunks and summaries of src added to dst, exactly.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_NOMEM, HRT_E_INVALID
+ *   (dst unchanged; the message says why): different specification, epochs,
+ *   binning or note, or a chunk in both.
+ */
+HRT_API int hrt_pop_part_merge(hrt_pop_part *dst, const hrt_pop_part *src, hrt_error *err);
+/** The part's specification (its SFH table owned by the part); NULL for NULL. */
+HRT_API const hrt_pop_spec *hrt_pop_part_spec(const hrt_pop_part *p);
+/** Epochs of the part (0 for NULL). */
+HRT_API size_t hrt_pop_part_n_ages(const hrt_pop_part *p);
+/** Summary of epoch i (NULL if out of range). */
+HRT_API const hrt_pop_summary *hrt_pop_part_summary(const hrt_pop_part *p, size_t i);
+/** The note given to hrt_pop_part_new(). */
+HRT_API const char *hrt_pop_part_note(const hrt_pop_part *p);
+/** Runs of consecutive chunks done (sorted; touching runs are one). */
+HRT_API size_t hrt_pop_part_n_ranges(const hrt_pop_part *p);
+/** Run i of chunks done: HRT_OK, HRT_E_NULL, HRT_E_INVALID (i out of range). */
+HRT_API int hrt_pop_part_range(const hrt_pop_part *p, size_t i, uint64_t *first, uint64_t *count);
+/** Number of chunks done. */
+HRT_API uint64_t hrt_pop_part_chunks_done(const hrt_pop_part *p);
+/** 1 if every chunk of the population is done, else 0. */
+HRT_API int hrt_pop_part_complete(const hrt_pop_part *p);
+/**
+ * @brief The part as bytes (versioned, little-endian, FNV-1a 64-bit
+ * checksum; layout in lib/population/part.c).
+ * Given: buf of cap bytes (NULL with cap 0 to ask the size)
+ * Returned: *len the size needed (also when the buffer is too small)
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_BUFFER.
+ */
+HRT_API int hrt_pop_part_save(const hrt_pop_part *p, void *buf, size_t cap, size_t *len, hrt_error *err);
+/**
+ * @brief A part from bytes of hrt_pop_part_save(), every field checked.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_NOMEM, HRT_E_VERSION
+ *   (another format version), HRT_E_FORMAT (not a part, truncated, damaged:
+ *   checksum, or a field no part can hold; the message says which).
+ */
+HRT_API int hrt_pop_part_load(const void *buf, size_t len, hrt_pop_part **out, hrt_error *err);
+
+/* ------------------------------------------------------------------------
+ * Catalogues: a population's stars streamed to a file (hrt_pop_catalogue_*)
+ * ------------------------------------------------------------------------ */
+/*
+ * One row per star and epoch: star (its index in the population, chunk *
+ * chunk_size + place in the chunk), population_age_yr (the epoch), birth_yr
+ * (time since the population began), then the state's fields by their names
+ * in tracks/FORMAT.md: initial_mass_msun, z, age_yr, status (hrt_status
+ * code), phase, remnant, route, flags, log_l_lsun, log_teff_k, log_r_rsun,
+ * log_g_cgs, mass_msun, he_core_mass_msun, co_core_mass_msun, eep,
+ * phase_fraction, phase_start_yr, phase_end_yr, remnant_mass_msun.
+ * HDF5: one 1-D dataset per column (float64; int32 for the codes; uint64
+ * star), chunked by 16384 rows, shuffled and deflated (level 1), full
+ * precision.  CSV: a header line, numbers to 10 significant digits, phase and
+ * remnant by their keys (empty when status is not 0), NaN as an empty field.
+ * Rows are buffered 16384 at a time: memory does not grow with the stars.
+ */
+/** A catalogue file being written (opaque): hrt_pop_catalogue_open() to hrt_pop_catalogue_close(). */
+typedef struct hrt_pop_catalogue hrt_pop_catalogue;
+/** Catalogue formats (hrt_pop_catalogue_open). */
+enum { HRT_CATALOGUE_CSV = 0, /**< CSV text */
+       HRT_CATALOGUE_HDF5 = 1 /**< HDF5, a dataset per column */ };
+/**
+ * @brief Create (or truncate) a catalogue file.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (format),
+ *   HRT_E_NOMEM, HRT_E_IO (cannot create the file).
+ */
+HRT_API int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out, hrt_error *err);
+/**
+ * @brief Append n stars evaluated at one epoch: their indices, birth times and states.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_IO (a write failed).
+ */
+HRT_API int hrt_pop_catalogue_add(hrt_pop_catalogue *c, double population_age_yr, size_t n, const uint64_t *star,
+                                  const double *birth_yr, const hrt_state *states, hrt_error *err);
+/**
+ * @brief Write the buffered rows, close the file and free c (also on failure).
+ * Returned: *rows (may be NULL) the rows written.
+ * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_IO.
+ */
+HRT_API int hrt_pop_catalogue_close(hrt_pop_catalogue *c, uint64_t *rows, hrt_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -25,7 +25,7 @@ ALLOWED = {  # folder -> the quoted includes it may use (prefixes)
     "lib/build": ("hrtrail.h", "util/", "build/"),
     "lib/population": ("hrtrail.h", "util/", "population/"),
     "lib/fit": ("hrtrail.h", "util/", "fit/"),
-    "bindings/cli": ("hrtrail.h", "cli.h", "fitcli.h"),
+    "bindings/cli": ("hrtrail.h", "cli.h", "fitcli.h", "pop.h"),
 }
 PUBLIC = {  # public part -> the other parts it may include
     "core.h": (),

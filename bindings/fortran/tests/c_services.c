@@ -115,7 +115,7 @@ static const struct {
                      CONST_(HRT_IMF_POWER_LAW) CONST_(HRT_SFH_BURST) CONST_(HRT_SFH_CONSTANT)
                          CONST_(HRT_SFH_EXPONENTIAL) CONST_(HRT_SFH_TABLE) CONST_(HRT_ZDIST_FIXED)
                              CONST_(HRT_ZDIST_LOG_UNIFORM) CONST_(HRT_ZDIST_LOG_NORMAL) CONST_(HRT_IMF_MAX_SEGMENTS)
-                                 CONST_(HRT_POP_MAX_STATUS) CONST_(HRT_POP_HR_MAX_BINS)
+                                 CONST_(HRT_POP_MAX_STATUS) CONST_(HRT_POP_HR_MAX_BINS) CONST_(HRT_CATALOGUE_CSV) CONST_(HRT_CATALOGUE_HDF5)
                                      CONST_(HRT_FIT_PRIOR_KROUPA_2001) CONST_(HRT_FIT_PRIOR_CHABRIER_2003)
                                          CONST_(HRT_FIT_PRIOR_LOG_FLAT) CONST_(HRT_FIT_MULTIMODAL)
                                              CONST_(HRT_FIT_MASS_EDGE) CONST_(HRT_FIT_AGE_LIMIT)

@@ -687,6 +687,8 @@ contains
     call constant('HRT_IMF_MAX_SEGMENTS', real(HRT_IMF_MAX_SEGMENTS, c_double))
     call constant('HRT_POP_MAX_STATUS', real(HRT_POP_MAX_STATUS, c_double))
     call constant('HRT_POP_HR_MAX_BINS', real(HRT_POP_HR_MAX_BINS, c_double))
+    call constant('HRT_CATALOGUE_CSV', real(HRT_CATALOGUE_CSV, c_double))
+    call constant('HRT_CATALOGUE_HDF5', real(HRT_CATALOGUE_HDF5, c_double))
     call constant('HRT_FIT_PRIOR_KROUPA_2001', real(HRT_FIT_PRIOR_KROUPA_2001, c_double))
     call constant('HRT_FIT_PRIOR_CHABRIER_2003', real(HRT_FIT_PRIOR_CHABRIER_2003, c_double))
     call constant('HRT_FIT_PRIOR_LOG_FLAT', real(HRT_FIT_PRIOR_LOG_FLAT, c_double))
@@ -963,8 +965,51 @@ contains
     rc = svc_pop_add(cstr(grid_path), 2e9_c_double, 500_c_size_t, m, z, ages, hr, csum)
     call expect(rc == HRT_OK, 'C summary of the same states')
     call expect_bytes(transfer(one(1), [byte]), transfer(csum, [byte]), 'hrtf_pop_summary_add equals C')
+    call test_parts(g, spec, epochs, hr, cs)
     call hrtf_close(g)
   end subroutine test_population
+
+  !> Parts (hrt_pop_part_*): chunks 4-6 and 0-3 run into two parts, merged, saved and loaded back,
+  !> hold the summaries of one C run; a part merged twice is refused.
+  subroutine test_parts(g, spec, epochs, hr, cs)
+    type(hrt_grid_t), intent(in) :: g
+    type(hrt_pop_spec), intent(in) :: spec
+    real(c_double), intent(in) :: epochs(:)
+    type(hrt_pop_hr), intent(in), target :: hr
+    type(hrt_pop_summary), intent(in) :: cs(:)
+    type(c_ptr) :: a, b, q
+    type(hrt_pop_summary), pointer :: ps(:)
+    type(hrt_error) :: err
+    integer(c_int8_t), allocatable, target :: buf(:)
+    integer(c_size_t) :: len
+    integer(c_int64_t) :: f, k
+    integer :: rc
+    rc = hrt_pop_part_new(spec, int(size(epochs), c_size_t), epochs, c_loc(hr), cstr('fortran'), a, err)
+    call expect(rc == HRT_OK, 'hrt_pop_part_new')
+    rc = hrt_pop_part_new(spec, int(size(epochs), c_size_t), epochs, c_loc(hr), cstr('fortran'), b, err)
+    rc = hrt_pop_part_run(g%ptr, a, 4_c_int64_t, 3_c_int64_t, 2_c_int, err)
+    call expect(rc == HRT_OK, 'hrt_pop_part_run, chunks 4-6')
+    rc = hrt_pop_part_run(g%ptr, b, 0_c_int64_t, 4_c_int64_t, 1_c_int, err)
+    rc = hrt_pop_part_merge(a, b, err)
+    call expect(rc == HRT_OK .and. hrt_pop_part_complete(a) == 1 .and. hrt_pop_part_chunks_done(a) == 7 .and. &
+         hrt_pop_part_n_ranges(a) == 1, 'parts of chunks 4-6 and 0-3 merge to every chunk, one run of chunks')
+    rc = hrt_pop_part_range(a, 0_c_size_t, f, k)
+    call expect(rc == HRT_OK .and. f == 0 .and. k == 7, 'its run of chunks is 0-6')
+    rc = hrt_pop_part_merge(a, b, err)
+    call expect(rc == HRT_E_INVALID, 'a part merged twice is refused (chunks in both)')
+    rc = hrt_pop_part_save(a, c_null_ptr, 0_c_size_t, len, err)
+    call expect(rc == HRT_E_BUFFER .and. len > 0, 'hrt_pop_part_save tells the size it needs')
+    allocate (buf(len))
+    rc = hrt_pop_part_save(a, c_loc(buf), len, len, err)
+    rc = hrt_pop_part_load(c_loc(buf), len, q, err)
+    call expect(rc == HRT_OK .and. hrt_pop_part_n_ages(q) == size(epochs), 'the saved part loads back')
+    call c_f_pointer(hrt_pop_part_summary(q, 0_c_size_t), ps, [size(epochs)])
+    call expect_bytes(transfer(ps, [byte]), transfer(cs, [byte]), 'the loaded part holds one C run''s summaries')
+    call expect(c_associated(hrt_pop_part_spec(q)) .and. c_associated(hrt_pop_part_note(q)), 'spec and note there')
+    call hrt_pop_part_free(q)
+    call hrt_pop_part_free(b)
+    call hrt_pop_part_free(a)
+  end subroutine test_parts
 
   !> Observations taken from the grid itself (a star in the middle of its main sequence, and one in
   !> the middle of the phase after it): fits, posterior draws and forecasts against C.

@@ -43,6 +43,7 @@ from .core import BC_V_TEFF_RANGE_K, Magnitudes, bc_v, magnitudes
 from .enums import Flag, Interp, Phase, Remnant, Status, phase_from_key, remnant_from_key
 from .errors import GridFileError, HrtrailError, InvalidInputError, OutsideGridError
 from .population import DEFAULT_HR, IMF, SFH, HRBinning, Population, Summary, ZDist, max_threads, merge
+from .parts import Catalogue, Part, merge_parts
 from .fit import (SAMPLE_DTYPE, FitFlag, FitModel, FitResult, Forecast, Interval, Observation, distance_m,
                   flux_from_mbol, forecast)
 from .mainseq import MainSequence, MsDistance, MsEstimate, MsValue
@@ -72,6 +73,7 @@ __all__ = [
     "wd_radius_rsun", "collapse_remnant", "phase_from_key", "remnant_from_key",
     "BC_V_TEFF_RANGE_K", "Magnitudes", "bc_v", "magnitudes",
     "DEFAULT_HR", "IMF", "SFH", "HRBinning", "Population", "Summary", "ZDist", "max_threads", "merge",
+    "Catalogue", "Part", "merge_parts",
     "SAMPLE_DTYPE", "FitFlag", "FitModel", "FitResult", "Forecast", "Interval", "Observation", "distance_m",
     "flux_from_mbol", "forecast", "MainSequence", "MsDistance", "MsEstimate", "MsValue",
     "accuracy", "Builder", "ImportReport", "Importer", "KeypointResult", "RouteSpec", "TrackReport", "default_route",
