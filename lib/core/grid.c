@@ -39,6 +39,8 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
     if (rc == HRT_OK)
         rc = trail_grid_prepare(g, &f, err);
     trail_file_free(&f);
+    if (rc == HRT_OK)
+        rc = trail_errfield_read(path, g, err);
     if (rc != HRT_OK) {
         hrt_grid_close(g);
         return rc;
@@ -60,6 +62,7 @@ void hrt_grid_close(hrt_grid *g)
     if (!g)
         return;
     trail_grid_free_contents(g);
+    trail_errfield_free(g->errf);
     free(g);
 }
 
