@@ -207,18 +207,25 @@ static const ef_block *nearest(const trail_errfield *ef, int route, size_t iz, d
     return NULL;
 }
 
-/* Fold the bracketing tracks' errors of group iz into out (the larger). */
+/* Fold into out (the larger) the errors of group iz's two measured tracks
+ * nearest below the state's mass and two nearest above: one track's error
+ * changes sign along the mass, two either side keep the bound where it
+ * passes through zero. */
 static int from_group(const hrt_grid *g, const hrt_state *s, size_t iz, long j, hrt_interp_error *out)
 {
     int used = 0;
     for (int dir = -1; dir <= 1; dir += 2) {
-        const ef_block *b = nearest(g->errf, s->route, iz, s->initial_mass_msun, j, dir);
-        if (!b)
-            continue;
-        used++;
-        out->log_l_dex = fmax(out->log_l_dex, b->e[0]);
-        out->log_teff_dex = fmax(out->log_teff_dex, b->e[1]);
-        out->log_age_dex = fmax(out->log_age_dex, b->e[2]);
+        double m = s->initial_mass_msun;
+        for (int k = 0; k < 2; k++) {
+            const ef_block *b = nearest(g->errf, s->route, iz, m, j, dir);
+            if (!b)
+                break;
+            used++;
+            out->log_l_dex = fmax(out->log_l_dex, b->e[0]);
+            out->log_teff_dex = fmax(out->log_teff_dex, b->e[1]);
+            out->log_age_dex = fmax(out->log_age_dex, b->e[2]);
+            m = b->m * (dir < 0 ? 1 - 1e-9 : 1 + 1e-9);
+        }
     }
     return used;
 }
