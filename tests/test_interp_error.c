@@ -350,6 +350,65 @@ START_TEST(default_grid_field_is_a_fresh_run)
 }
 END_TEST
 
+/* ---- the fit: the interpolation error added to the measurement errors ---- */
+static void fit_one(const char *path, const hrt_fit_obs *o, hrt_fit_result *res)
+{
+    hrt_grid *g;
+    hrt_fit_model *fm;
+    hrt_error err;
+    ck_assert_int_eq(hrt_grid_open(path, &g, &err), HRT_OK);
+    ck_assert_msg(hrt_fit_model_new(g, NULL, &fm, &err) == HRT_OK, "%s", err.message);
+    ck_assert_msg(hrt_fit_star(fm, o, 7, 0, NULL, res, &err) == HRT_OK, "%s", err.message);
+    hrt_fit_model_free(fm);
+    hrt_grid_close(g);
+}
+
+START_TEST(fit_adds_the_interpolation_error)
+{
+    /* a coarse exact grid (4 and 5 tracks a route): errors of a few 0.01 dex */
+    synth_spec coarse = spec;
+    coarse.n_low = 4, coarse.n_high = 5;
+    char *plain = tmp_path("fit-plain"), *with = tmp_path("fit-with");
+    hrt_error err;
+    ck_assert_int_eq(synth_write(&coarse, plain, &err), 0);
+    ck_assert_int_eq(synth_write(&coarse, with, &err), 0);
+    hrt_grid *g = measure_and_store(with, 0, HRT_INTERP_STEFFEN, HRT_INTERP_STEFFEN);
+    /* a star between tracks, observed with small errors */
+    hrt_star *s;
+    hrt_state st;
+    hrt_interp_error ie;
+    ck_assert_int_eq(hrt_star_new(g, 2.6, hrt_grid_z(g, 1), &s, &err), HRT_OK);
+    ck_assert_int_eq(hrt_star_eep_state(s, 40, &st), HRT_OK);
+    hrt_star_free(s);
+    ck_assert_int_eq(hrt_state_interp_error(g, &st, &ie, &err), HRT_OK);
+    hrt_grid_close(g);
+    hrt_fit_obs o;
+    hrt_fit_obs_init(&o);
+    o.teff_k = pow(10, st.log_teff_k), o.teff_k_sigma = 20;
+    o.log_l_lsun = st.log_l_lsun, o.log_l_lsun_sigma = 0.005;
+    o.feh = synth_feh(st.z), o.feh_sigma = 0.05;
+    hrt_fit_result a, b;
+    fit_one(plain, &o, &a);
+    fit_one(with, &o, &b);
+    double wa = a.log_l_lsun.hi - a.log_l_lsun.lo, wb = b.log_l_lsun.hi - b.log_l_lsun.lo;
+    double ma = a.initial_mass_msun.hi - a.initial_mass_msun.lo, mb = b.initial_mass_msun.hi - b.initial_mass_msun.lo;
+    printf("fit on a coarse exact grid, star of %.3g Msun: estimate log L %.3g, log Teff %.3g dex (sigma 0.005, "
+           "%.3g dex); 68%% interval of log L %.4f -> %.4f dex, of the initial mass %.4f -> %.4f Msun; chi2_min "
+           "%.3g -> %.3g\n",
+           st.initial_mass_msun, ie.log_l_dex, ie.log_teff_dex, 20 / (o.teff_k * log(10)), wa, wb, ma, mb,
+           a.chi2_min, b.chi2_min);
+    fflush(stdout);
+    /* the interpolation error is larger than the measurement's: the intervals widen, the best chi^2 falls */
+    ck_assert_double_gt(ie.log_l_dex, 0.005);
+    ck_assert_double_gt(wb, 1.2 * wa);
+    ck_assert_double_le(b.chi2_min, a.chi2_min);
+    unlink(plain);
+    unlink(with);
+    free(plain);
+    free(with);
+}
+END_TEST
+
 START_TEST(codes_and_messages)
 {
     char *path = tmp_path("codes");
@@ -420,6 +479,7 @@ int main(void)
     tcase_add_test(tc, out_of_sample_on_exact_grid);
     tcase_add_test(tc, default_grid_out_of_sample_and_stored_field);
     tcase_add_test(tc, default_grid_field_is_a_fresh_run);
+    tcase_add_test(tc, fit_adds_the_interpolation_error);
     suite_add_tcase(s, tc);
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
