@@ -122,6 +122,14 @@ static const char state_cols_text[] =
     "  --distance PC           also the apparent V, mv = M_V + 5 log10(PC/10) + A_V\n"          \
     "  --av MAG                extinction A_V in magnitudes (default 0; needs --distance)\n"
 
+/* --interp-error (at, track, isochrone). */
+#define IERR_OPTIONS_TEXT(pad)                                                                      \
+    "  --interp-error " pad "add err_log_l_dex, err_log_teff_dex, err_log_age_dex: the\n"      \
+    "                 " pad "interpolation error the grid file stores (grid accuracy\n"      \
+    "                 " pad "--store): the largest leave-one-out error of the two\n"         \
+    "                 " pad "tracks either side of the mass, at the star's EEP. An\n"       \
+    "                 " pad "upper estimate, not a 1-sigma error; empty for remnants\n"
+
 static const char accuracy_text[] =
     "Accuracy: answers are as good as the grid. The default grid is a semi-analytic\n"
     "model built from published relations, meant for population-level work, not for\n"
@@ -197,6 +205,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "                         status column and nan values, a message each on\n"
      "                         standard error, and the exit status of the first failure\n"
      MAG_OPTIONS_TEXT
+     IERR_OPTIONS_TEXT("         ")
      "  --csv, --json          CSV, or JSON records (a list of objects), instead of\n"
      "                         the table\n"
      "\n"
@@ -229,6 +238,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --from AGE         first age (with --steps), or keep EEPs from this age on\n"
      "  --to AGE           last age (with --steps; may lie beyond the track's end when\n"
      "                     the remnant is known), or keep EEPs up to this age\n"
+     IERR_OPTIONS_TEXT("    ")
      "  --csv, --json      CSV, or JSON records (a list of objects), instead of the\n"
      "                     table\n"
      "\n"
@@ -253,6 +263,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --z Z | --feh X         metallicity (default: the grid's Z_ref)\n"
      ISO_OPTIONS_TEXT
      MAG_OPTIONS_TEXT
+     IERR_OPTIONS_TEXT("         ")
      "  --csv, --json           CSV, or JSON records, instead of the table\n"
      "\n"
      "Examples:\n"
@@ -326,7 +337,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
     {"grid",
      "Usage: hrtrail grid info [FILE] [--grid FILE] [--csv | --json]\n"
      "       hrtrail grid check [FILE] [--grid FILE] [--csv | --json]\n"
-     "       hrtrail grid accuracy [FILE] [--grid FILE] [--interp NAME] [-j N] [--csv | --json]\n"
+     "       hrtrail grid accuracy [FILE] [--grid FILE] [--interp NAME] [-j N] [--store]\n"
+     "                             [--csv | --json]\n"
      "       hrtrail grid upgrade OLD NEW\n"
      "\n"
      "  info   what the grid holds: file, size on disk and in memory, provenance\n"
@@ -359,7 +371,9 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "         a track doubles the local spacing, so the figures bound the errors\n"
      "         between tracks of the full grid from above. Prints the time taken\n"
      "         (--json: \"seconds\"); --csv/--json: one record per row. Shows progress\n"
-     "         on standard error when that is a terminal.\n"
+     "         on standard error when that is a terminal. --store also writes the\n"
+     "         errors into the grid file (group accuracy/ of FORMAT.md) for\n"
+     "         --interp-error and the fit; the default grid ships them.\n"
      "  upgrade  convert the grid file OLD, of an older format version, to the\n"
      "         current one (format " HELP_STR(HRT_FORMAT_VERSION) ") and write it to NEW (atomically: NEW is\n"
      "         replaced only when complete; it may be OLD itself). Values are copied\n"
@@ -373,6 +387,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail grid info\n"
      "  hrtrail grid check my-grid.h5\n"
      "  hrtrail grid accuracy my-grid.h5 --interp linear --csv\n"
+     "  hrtrail grid accuracy my-grid.h5 --store\n"
+     "  hrtrail at --grid my-grid.h5 --mass 1.3 --age 2Gyr --interp-error\n"
      "  hrtrail grid upgrade my-grid-v1.h5 my-grid.h5\n",
      0, OUT_GRID},
     {"population",
