@@ -5,8 +5,10 @@
 #include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include <hdf5.h>
+#include <hdf5_hl.h>
 
 #include "build/accuracy.h"
 #include "util/schema.h"
@@ -28,20 +30,17 @@ static void st_text_attr(st_ctx *w, hid_t loc, const char *name, const char *val
     H5Sclose(s);
 }
 
-/* A 2-D numeric dataset, chunked by whole rows (the reader's cap), shuffled,
- * deflated and checksummed as the grid's own data. */
-static void st_data(st_ctx *w, hid_t loc, const char *name, hsize_t rows, hsize_t cols, int is_int, const void *v,
-                    const char *units, const char *meaning)
+/* A 1-D numeric dataset of n values, chunked (the reader's cap), shuffled,
+ * deflated and checksummed as the grid's own data, with its dimension
+ * scale `dim` (a dataset under loc) attached unless it is the scale itself. */
+static void st_data(st_ctx *w, hid_t loc, const char *name, hsize_t n, int is_int, const void *v, const char *units,
+                    const char *meaning, const char *dim)
 {
-    hsize_t d[2] = {rows, cols};
     size_t vb = is_int ? sizeof(int32_t) : sizeof(double);
-    hsize_t chunk[2] = {rows, cols};
-    hsize_t most = TRAIL_MAX_CHUNK_BYTES / (cols * vb);
-    if (chunk[0] > most)
-        chunk[0] = most;
-    hid_t s = H5Screate_simple(2, d, NULL);
+    hsize_t chunk = n < TRAIL_MAX_CHUNK_BYTES / vb ? n : TRAIL_MAX_CHUNK_BYTES / vb;
+    hid_t s = H5Screate_simple(1, &n, NULL);
     hid_t dcpl = H5Pcopy(w->dcpl);
-    if (dcpl < 0 || H5Pset_chunk(dcpl, 2, chunk) < 0 || H5Pset_shuffle(dcpl) < 0 ||
+    if (dcpl < 0 || H5Pset_chunk(dcpl, 1, &chunk) < 0 || H5Pset_shuffle(dcpl) < 0 ||
         H5Pset_deflate(dcpl, TRAIL_DEFLATE_DEFAULT) < 0 || H5Pset_fletcher32(dcpl) < 0)
         w->failed = 1;
     hid_t ds = w->failed ? -1
@@ -55,37 +54,63 @@ static void st_data(st_ctx *w, hid_t loc, const char *name, hsize_t rows, hsize_
         if (units)
             st_text_attr(w, ds, "units", units);
         st_text_attr(w, ds, "long_name", meaning);
+        if (!strcmp(name, dim)) {
+            if (H5DSset_scale(ds, name) < 0)
+                w->failed = 1;
+        } else {
+            hid_t sc = H5Dopen2(loc, dim, H5P_DEFAULT);
+            if (sc < 0 || H5DSattach_scale(ds, sc, 0) < 0)
+                w->failed = 1;
+            if (sc >= 0)
+                H5Dclose(sc);
+        }
         H5Dclose(ds);
     }
     H5Sclose(s);
 }
 
+/* interp_names: the type of each code, on its scale interp_code. */
 static void st_names(st_ctx *w, hid_t loc)
 {
     const char *names[HRT_INTERP_COUNT];
+    int code[HRT_INTERP_COUNT];
     for (int i = 0; i < HRT_INTERP_COUNT; i++)
-        names[i] = hrt_interp_name(i);
+        names[i] = hrt_interp_name(i), code[i] = i;
+    st_data(w, loc, "interp_code", HRT_INTERP_COUNT, 1, code, NULL, "code of an interpolation type", "interp_code");
     hsize_t d[1] = {HRT_INTERP_COUNT};
     hid_t s = H5Screate_simple(1, d, NULL);
-    hid_t ds = H5Dcreate2(loc, "interp", w->str_t, s, H5P_DEFAULT, w->dcpl, H5P_DEFAULT);
+    hid_t ds = H5Dcreate2(loc, "interp_names", w->str_t, s, H5P_DEFAULT, w->dcpl, H5P_DEFAULT);
     if (ds < 0 || H5Dwrite(ds, w->str_t, H5S_ALL, H5S_ALL, H5P_DEFAULT, names) < 0)
         w->failed = 1;
     if (ds >= 0) {
-        st_text_attr(w, ds, "long_name", "interpolation type of each code of key[:, 0]");
+        st_text_attr(w, ds, "long_name", "interpolation type of each code of interp");
+        hid_t sc = H5Dopen2(loc, "interp_code", H5P_DEFAULT);
+        if (sc < 0 || H5DSattach_scale(ds, sc, 0) < 0)
+            w->failed = 1;
+        if (sc >= 0)
+            H5Dclose(sc);
         H5Dclose(ds);
     }
     H5Sclose(s);
 }
 
-static void st_group(st_ctx *w, hid_t f, const trail_acc_field *fl, size_t n, int32_t *key, double *val)
+enum { C_INTERP, C_ROUTE, C_LO, C_HI, N_ICOL };
+enum { C_Z, C_MASS, C_EL, C_ET, C_EA, N_DCOL };
+
+static void st_group(st_ctx *w, hid_t f, const trail_acc_field *fl, size_t n, int32_t *ic, double *dc)
 {
+    int32_t *col_i[N_ICOL + 1];
+    double *col_d[N_DCOL];
+    for (int k = 0; k <= N_ICOL; k++)
+        col_i[k] = ic + (size_t)k * n;
+    for (int k = 0; k < N_DCOL; k++)
+        col_d[k] = dc + (size_t)k * n;
     for (size_t i = 0; i < n; i++) {
-        int32_t *k = key + 4 * i;
-        double *v = val + 5 * i;
-        k[0] = fl[i].it, k[1] = fl[i].route, k[2] = fl[i].eep_lo, k[3] = fl[i].eep_hi;
-        v[0] = fl[i].z, v[1] = fl[i].m;
+        col_i[C_INTERP][i] = fl[i].it, col_i[C_ROUTE][i] = fl[i].route;
+        col_i[C_LO][i] = fl[i].eep_lo, col_i[C_HI][i] = fl[i].eep_hi, col_i[N_ICOL][i] = (int32_t)i;
+        col_d[C_Z][i] = fl[i].z, col_d[C_MASS][i] = fl[i].m;
         for (int q = 0; q < HRT_ACCURACY_NQ; q++)
-            v[2 + q] = fl[i].e[q];
+            col_d[C_EL + q][i] = fl[i].e[q];
     }
     if (H5Lexists(f, "accuracy", H5P_DEFAULT) > 0 && H5Ldelete(f, "accuracy", H5P_DEFAULT) < 0)
         w->failed = 1;
@@ -100,10 +125,16 @@ static void st_group(st_ctx *w, hid_t f, const trail_acc_field *fl, size_t n, in
     st_text_attr(w, g, "statistic",
                  "largest |interpolated - dropped track| over the EEPs [eep_lo, eep_hi) of one dropped track");
     st_names(w, g);
-    st_data(w, g, "key", n, 4, 1, key, NULL, "interp code, route index, eep_lo, eep_hi (exclusive) of each block");
-    st_data(w, g, "value", n, 5, 0, val, "dex",
-            "Z and initial mass (Msun) of the dropped track, then its largest |error| of log L, log Teff and "
-            "log age (dex) in the block");
+    st_data(w, g, "block", n, 1, col_i[N_ICOL], NULL, "index of a block of EEPs of one dropped track", "block");
+    st_data(w, g, "interp", n, 1, col_i[C_INTERP], NULL, "interpolation type (a code of interp_code)", "block");
+    st_data(w, g, "route", n, 1, col_i[C_ROUTE], NULL, "route index of the dropped track", "block");
+    st_data(w, g, "eep_lo", n, 1, col_i[C_LO], NULL, "first EEP of the block", "block");
+    st_data(w, g, "eep_hi", n, 1, col_i[C_HI], NULL, "EEP after the block's last", "block");
+    st_data(w, g, "z", n, 0, col_d[C_Z], NULL, "metal mass fraction of the dropped track", "block");
+    st_data(w, g, "initial_mass_msun", n, 0, col_d[C_MASS], "solMass", "initial mass of the dropped track", "block");
+    st_data(w, g, "log_l_error", n, 0, col_d[C_EL], "dex", "largest |error| of log L in the block", "block");
+    st_data(w, g, "log_teff_error", n, 0, col_d[C_ET], "dex", "largest |error| of log Teff in the block", "block");
+    st_data(w, g, "log_age_error", n, 0, col_d[C_EA], "dex", "largest |error| of log age in the block", "block");
     H5Gclose(g);
 }
 
@@ -115,8 +146,8 @@ int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err
     const trail_acc_field *fl = trail_acc_field_rows(acc, &n);
     if (!n)
         return trail_set_error(err, HRT_E_INVALID, "hrt_accuracy_store: no error field: run hrt_accuracy_run first");
-    int32_t *key = malloc(n * 4 * sizeof *key);
-    double *val = malloc(n * 5 * sizeof *val);
+    int32_t *key = malloc(n * (N_ICOL + 1) * sizeof *key);
+    double *val = malloc(n * N_DCOL * sizeof *val);
     if (!key || !val) {
         free(key);
         free(val);

@@ -45,12 +45,12 @@ static int group_of(const hrt_grid *g, double z, size_t *iz)
     return 0;
 }
 
-/* The code of the grid's type in the file's interp list, or -1. */
+/* The code of the grid's type in the file's interp_names, or -1. */
 static int file_interp(hid_t gr, int interp, hrt_error *err, int *rc)
 {
     size_t n = 0;
     char **names = NULL;
-    *rc = trail_h5_strings(gr, "accuracy", "interp", &n, &names, err);
+    *rc = trail_h5_strings(gr, "accuracy", "interp_names", &n, &names, err);
     int code = -1;
     for (size_t i = 0; *rc == HRT_OK && i < n; i++)
         if (!strcmp(names[i], hrt_interp_name(interp)))
@@ -59,29 +59,48 @@ static int file_interp(hid_t gr, int interp, hrt_error *err, int *rc)
     return code;
 }
 
+/* The per-block columns of accuracy/: four int, five float. */
+static const char *const col_i[4] = {"interp", "route", "eep_lo", "eep_hi"};
+static const char *const col_d[5] = {"z", "initial_mass_msun", "log_l_error", "log_teff_error", "log_age_error"};
+
 /* Keep the blocks of the grid's type, check them and place them in groups. */
-static int ef_fill(const hrt_grid *g, const int *key, const double *val, size_t n, int code, trail_errfield *ef,
+static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n, int code, trail_errfield *ef,
                    hrt_error *err)
 {
     for (size_t i = 0; i < n; i++) {
-        const int *k = key + 4 * i;
-        const double *v = val + 5 * i;
-        if (k[0] != code)
+        if (k[0][i] != code)
             continue;
         size_t iz;
-        if (k[1] < 0 || (size_t)k[1] >= g->n_routes || k[2] < 0 || k[3] <= k[2] ||
-            (size_t)k[3] > g->routes[k[1]].n_eep + 1 || !(v[1] > 0) || !group_of(g, v[0], &iz))
+        int r = k[1][i], lo = k[2][i], hi = k[3][i];
+        if (r < 0 || (size_t)r >= g->n_routes || lo < 0 || hi <= lo || (size_t)hi > g->routes[r].n_eep + 1 ||
+            !(v[1][i] > 0) || !group_of(g, v[0][i], &iz))
             return trail_set_error(err, HRT_E_FORMAT,
-                                   "accuracy/key, value: row %zu (route %d, EEPs %d-%d, Z %g, %g Msun) matches no "
-                                   "route, EEP range or metallicity group of this grid",
-                                   i, k[1], k[2], k[3], v[0], v[1]);
-        for (int q = 0; q < 3; q++)
-            if (!(v[2 + q] >= 0) && !isnan(v[2 + q]))
-                return trail_set_error(err, HRT_E_FORMAT, "accuracy/value: row %zu has a negative error", i);
-        ef->b[ef->n++] = (ef_block){k[1], iz, v[1], k[2], k[3], {v[2], v[3], v[4]}};
+                                   "accuracy: block %zu (route %d, EEPs %d-%d, Z %g, %g Msun) matches no route, EEP "
+                                   "range or metallicity group of this grid",
+                                   i, r, lo, hi, v[0][i], v[1][i]);
+        for (int q = 2; q < 5; q++)
+            if (!(v[q][i] >= 0) && !isnan(v[q][i]))
+                return trail_set_error(err, HRT_E_FORMAT, "accuracy/%s: block %zu has a negative error", col_d[q], i);
+        ef->b[ef->n++] = (ef_block){r, iz, v[1][i], lo, hi, {v[2][i], v[3][i], v[4][i]}};
     }
     qsort(ef->b, ef->n, sizeof *ef->b, cmp_block);
     return HRT_OK;
+}
+
+/* The columns' common length into *n (checked), then, with buffers, the values. */
+static int ef_columns(hid_t gr, size_t *n, int **k, double **v, hrt_error *err)
+{
+    int rc = HRT_OK;
+    for (int c = 0; c < 9 && rc == HRT_OK; c++) {
+        hsize_t d[1] = {*n};
+        int is_int = c < 4;
+        const char *name = is_int ? col_i[c] : col_d[c - 4];
+        void *buf = k ? (is_int ? (void *)k[c] : (void *)v[c - 4]) : NULL;
+        rc = trail_h5_numeric(gr, "accuracy", name, 1, d, is_int, buf, err);
+        if (rc == HRT_OK && !k && c == 0)
+            *n = (size_t)d[0];
+    }
+    return rc;
 }
 
 static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
@@ -91,31 +110,27 @@ static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
         return trail_set_error(err, HRT_E_FORMAT, "accuracy: not a group");
     int rc;
     int code = file_interp(gr, g->interp, err, &rc);
-    hsize_t dk[2] = {0, 4}, dv[2] = {0, 5};
+    size_t n = 0;
     if (rc == HRT_OK)
-        rc = trail_h5_numeric(gr, "accuracy", "key", 2, dk, 1, NULL, err);
-    if (rc == HRT_OK)
-        rc = trail_h5_numeric(gr, "accuracy", "value", 2, dv, 0, NULL, err);
-    if (rc == HRT_OK && dk[0] != dv[0])
-        rc = trail_set_error(err, HRT_E_FORMAT, "accuracy: key has %llu rows, value %llu",
-                             (unsigned long long)dk[0], (unsigned long long)dv[0]);
-    int *key = NULL;
-    double *val = NULL;
+        rc = ef_columns(gr, &n, NULL, NULL, err);
+    int *k[4] = {NULL};
+    double *v[5] = {NULL};
     trail_errfield *ef = NULL;
-    if (rc == HRT_OK && code >= 0 && dk[0] > 0) {
-        key = malloc(dk[0] * 4 * sizeof *key);
-        val = malloc(dv[0] * 5 * sizeof *val);
+    if (rc == HRT_OK && code >= 0 && n > 0) {
+        int ok = 1;
+        for (int c = 0; c < 4; c++)
+            ok &= (k[c] = malloc(n * sizeof **k)) != NULL;
+        for (int c = 0; c < 5; c++)
+            ok &= (v[c] = malloc(n * sizeof **v)) != NULL;
         ef = calloc(1, sizeof *ef);
         if (ef)
-            ef->b = malloc(dk[0] * sizeof *ef->b);
-        if (!key || !val || !ef || !ef->b)
+            ef->b = malloc(n * sizeof *ef->b);
+        if (!ok || !ef || !ef->b)
             rc = trail_set_error(err, HRT_E_NOMEM, "accuracy: out of memory");
         if (rc == HRT_OK)
-            rc = trail_h5_numeric(gr, "accuracy", "key", 2, dk, 1, key, err);
+            rc = ef_columns(gr, &n, k, v, err);
         if (rc == HRT_OK)
-            rc = trail_h5_numeric(gr, "accuracy", "value", 2, dv, 0, val, err);
-        if (rc == HRT_OK)
-            rc = ef_fill(g, key, val, (size_t)dk[0], code, ef, err);
+            rc = ef_fill(g, k, v, n, code, ef, err);
         if (rc == HRT_OK && ef->n) {
             g->errf = ef;
             g->bytes += sizeof *ef + ef->n * sizeof *ef->b;
@@ -123,8 +138,10 @@ static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
         }
     }
     trail_errfield_free(ef);
-    free(key);
-    free(val);
+    for (int c = 0; c < 4; c++)
+        free(k[c]);
+    for (int c = 0; c < 5; c++)
+        free(v[c]);
     H5Gclose(gr);
     return rc;
 }

@@ -161,13 +161,15 @@ rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear", "--csv", "--
 t.eq(rc, EXIT_OK, "accuracy --store exit code (%s)" % err)
 t.ok("error field stored in" in err and grid in err, "accuracy --store says where (%s)" % err)
 with h5py.File(grid, "r") as f:
-    key, val = f["accuracy/key"][:], f["accuracy/value"][:]
-    names = [x.decode() for x in f["accuracy/interp"][:]]
-t.eq(sorted({names[k] for k in key[:, 0]}), ["linear"], "stored field: the type measured only")
-t.ok(len(key) == len(val) > 0 and (val[:, 2:] >= 0).all() and (key[:, 3] > key[:, 2]).all(),
-     "stored field: blocks with non-negative errors")
-t.ok(all(abs(z - zz) < 1e-12 * z for z in val[:, 0] for zz in [min(zs, key=lambda q: abs(q - z))]) and
-     all(m in [x for ms in masses for x in ms] for m in val[:, 1]), "stored field: Z and masses are the grid's tracks")
+    a = {k: f["accuracy/" + k][:] for k in ("interp", "eep_lo", "eep_hi", "z", "initial_mass_msun", "log_l_error",
+                                            "log_teff_error", "log_age_error")}
+    names = [x.decode() for x in f["accuracy/interp_names"][:]]
+t.eq(sorted({names[k] for k in a["interp"]}), ["linear"], "stored field: the type measured only")
+t.ok(len(a["z"]) > 0 and all((a[k] >= 0).all() for k in ("log_l_error", "log_teff_error", "log_age_error")) and
+     (a["eep_hi"] > a["eep_lo"]).all(), "stored field: blocks with non-negative errors")
+t.ok(all(abs(z - min(zs, key=lambda q: abs(q - z))) < 1e-12 * z for z in a["z"]) and
+     all(m in [x for ms in masses for x in ms] for m in a["initial_mass_msun"]),
+     "stored field: Z and masses are the grid's tracks")
 rc, out, err = run(["at", "--grid", grid, "--interp", "linear", "-m", "1.5", "-a", "100Myr", "--interp-error", "--json"])
 t.eq(rc, EXIT_OK, "at --interp-error exit code (%s)" % err)
 st = parse_json(out)[0]
