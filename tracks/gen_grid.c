@@ -290,6 +290,27 @@ static int add_metallicity(hrt_builder *b, const layout *lay, const gen_params *
     return status;
 }
 
+/* Measure the grid just written by leaving each track out, for every
+ * interpolation type, and store the error field in it (FORMAT.md,
+ * accuracy/): hrt_state_interp_error reads it. */
+static int store_error_field(const char *out, hrt_error *err)
+{
+    hrt_grid *g = NULL;
+    hrt_accuracy *acc = NULL;
+    int rc = hrt_grid_open(out, &g, err);
+    if (rc == HRT_OK)
+        rc = hrt_accuracy_new(&acc, err);
+    if (rc == HRT_OK)
+        rc = hrt_accuracy_run(acc, g, err);
+    hrt_grid_close(g);
+    if (rc == HRT_OK)
+        rc = hrt_accuracy_store(acc, out, err);
+    hrt_accuracy_free(acc);
+    if (rc != HRT_OK)
+        fprintf(stderr, "gen_grid: storing the error field: %s\n", err->message);
+    return rc != HRT_OK;
+}
+
 int main(int argc, char **argv)
 {
     const char *out = NULL, *dump = NULL;
@@ -327,5 +348,7 @@ int main(int argc, char **argv)
         status = 1;
     }
     hrt_builder_free(b);
+    if (!status)
+        status = store_error_field(out, &err);
     return status;
 }

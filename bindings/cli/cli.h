@@ -49,6 +49,7 @@ typedef struct cli {
     size_t n_extra;                  /* columns asked for */
     size_t extra_idx[32];            /* their indices in the grid */
     char extra_head[32][128];        /* table headers: "name [unit]" */
+    int ierr;             /* --interp-error (at, track, isochrone): the stored interpolation error of each state */
 } cli;
 
 /* --extra: the names given, checked against the grid's extra quantities (after cli_open_grid). */
@@ -121,7 +122,7 @@ extern const size_t cli_n_commands;
 /* ---- the grid ---- */
 int cli_open_grid(cli *c);
 /* hrtrail grid accuracy (cmd_accuracy.c): c->interp -1 for every type; threads 0 for every core. */
-int grid_accuracy(cli *c, int threads);
+int grid_accuracy(cli *c, int threads, int store);
 void cli_close_grid(cli *c);
 /* Metallicity from --z / --feh (default: the grid's z_ref); checks the grid's range. */
 int cli_resolve_z(cli *c, double *z);
@@ -223,8 +224,8 @@ void outfile_abort(outfile *o);
 int outfile_target(const cli *c, const char *path, const char *what, char **target);
 
 /* ---- states of stars: the common table of at, track, isochrone and demo ---- */
-enum { SC_NAME = 1u, SC_STATUS = 2u, SC_MAGS = 4u, SC_MV = 8u };
-/* The magnitude columns the options ask for (SC_MAGS, SC_MV), for state_table_new. */
+enum { SC_NAME = 1u, SC_STATUS = 2u, SC_MAGS = 4u, SC_MV = 8u, SC_IERR = 16u };
+/* The magnitude and error columns the options ask for (SC_MAGS, SC_MV, SC_IERR), for state_table_new. */
 unsigned mag_columns(const cli *c);
 table *state_table_new(unsigned extra);
 /* Append the columns of the extra quantities --extra asked for (before any row is added). */
@@ -317,6 +318,9 @@ void life_records_add(const cli *c, const life *L, table *t, const char *name);
 enum { MAG_OPT_FIRST = 600, O_MAG_ABS = MAG_OPT_FIRST, O_MAG_DISTANCE, O_MAG_AV };
 #define MAG_OPTDEFS {"vmag", 0, 0, O_MAG_ABS}, {"distance", 0, 1, O_MAG_DISTANCE}, {"av", 0, 1, O_MAG_AV}
 int mag_option_take(cli *c, int id, const char *val);
+/* --interp-error (at, track, isochrone): columns of hrt_state_interp_error; handled by mag_option_take. */
+enum { O_IERR = MAG_OPT_FIRST + 3 };
+#define IERR_OPTDEF {"interp-error", 0, 0, O_IERR}
 int mag_check_options(const cli *c);
 /* Magnitudes of one state (hrt_magnitudes): M_bol, BC_V, M_V, m_V (NaN without --distance), flags. */
 void state_magnitudes(const cli *c, const hrt_state *s, double out[4], int32_t *flags);

@@ -98,7 +98,21 @@ static void text_report(const cli *c, const hrt_accuracy *a, double secs)
     printf("\ntime        %.1f s\n", secs);
 }
 
-int grid_accuracy(cli *c, int threads)
+/* Write the run's error field into the grid file measured (hrt_accuracy_store). */
+static int store_field(cli *c, const hrt_accuracy *a)
+{
+    hrt_error err = {0, ""};
+    const char *path = c->grid_path ? c->grid_path : hrt_default_grid_path();
+    int rc = hrt_accuracy_store(a, path, &err);
+    if (rc != HRT_OK)
+        return cli_fail(c, cli_exit_of_status(rc), "--store: %s", err.message[0] ? err.message : hrt_strerror(rc));
+    fprintf(stderr, "hrtrail grid accuracy: error field stored in ");
+    text_write(stderr, path);
+    fputc('\n', stderr);
+    return 0;
+}
+
+int grid_accuracy(cli *c, int threads, int store)
 {
     int types = c->interp; /* -1: every type */
     if (types < 0) c->interp = HRT_INTERP_STEFFEN; /* the open grid's own type does not matter */
@@ -119,6 +133,10 @@ int grid_accuracy(cli *c, int threads)
         return cli_fail(c, cli_exit_of_status(rc), "%s", err.message[0] ? err.message : hrt_strerror(rc));
     }
     double secs = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
+    if (store && (rc = store_field(c, a)) != 0) {
+        hrt_accuracy_free(a);
+        return rc;
+    }
     if (c->fmt == FMT_TABLE) {
         text_report(c, a, secs);
     } else {

@@ -8,7 +8,7 @@
 enum { O_MASS = 1, O_AGE, O_INPUT, O_KEEP };
 static const optdef at_opts[] = {
     {"mass", 'm', 1, O_MASS}, {"age", 'a', 1, O_AGE}, {"input", 'i', 1, O_INPUT},
-    {"keep-going", 'k', 0, O_KEEP}, MAG_OPTDEFS, {NULL, 0, 0, 0},
+    {"keep-going", 'k', 0, O_KEEP}, MAG_OPTDEFS, IERR_OPTDEF, {NULL, 0, 0, 0},
 };
 
 typedef struct stars {

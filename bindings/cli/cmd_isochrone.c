@@ -85,7 +85,7 @@ int iso_option_take(cli *c, int id, const char *val)
 }
 
 enum { O_AGE = 1 };
-static const optdef iso_opts[] = {{"age", 'a', 1, O_AGE}, {"ages", 0, 1, O_AGE}, MAG_OPTDEFS, {NULL, 0, 0, 0}};
+static const optdef iso_opts[] = {{"age", 'a', 1, O_AGE}, {"ages", 0, 1, O_AGE}, MAG_OPTDEFS, IERR_OPTDEF, {NULL, 0, 0, 0}};
 
 static int iso_take(cli *c, void *ctx, int id, const char *val)
 {

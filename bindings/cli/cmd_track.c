@@ -8,7 +8,8 @@
 enum { O_MASS = 1, O_STEPS, O_AGES, O_FROM, O_TO, O_EEPS };
 static const optdef track_opts[] = {
     {"mass", 'm', 1, O_MASS}, {"steps", 'n', 1, O_STEPS}, {"ages", 'a', 1, O_AGES}, {"age", 0, 1, O_AGES},
-    {"from", 0, 1, O_FROM},   {"to", 0, 1, O_TO},         {"eeps", 0, 0, O_EEPS},   {NULL, 0, 0, 0},
+    {"from", 0, 1, O_FROM},   {"to", 0, 1, O_TO},         {"eeps", 0, 0, O_EEPS},   IERR_OPTDEF,
+    {NULL, 0, 0, 0},
 };
 
 /* Build the star of --mass at the resolved metallicity, with messages naming the argument. */
@@ -57,6 +58,7 @@ static int track_take(cli *c, void *ctx, int id, const char *val)
             a->to = age, a->to_text = val;
         return 0;
     case O_EEPS: a->eeps = 1; return 0;
+    case O_IERR: c->ierr = 1; return 0;
     default: return 0;
     }
 }
@@ -130,7 +132,7 @@ static int track_run(cli *c, track_args *a)
         (rc = cli_resolve_z(c, &z)))
         return rc;
     if ((rc = cli_new_star(c, a->ml.text[0], a->ml.v[0], z, &s))) return rc;
-    t = state_table_new(0);
+    t = state_table_new(c->ierr ? SC_IERR : 0u);
     state_table_add_extras(t, c);
     if ((a->steps == 0 || (rc = track_step_ages(c, a, s)) == 0) && (rc = track_rows(c, a, s, z, t)) == 0) {
         const char *sampling = a->steps > 0 ? "log-age steps" : a->al.n > 0 ? "given ages" : "EEPs";

@@ -127,6 +127,14 @@ static const char state_cols_text[] =
     "  --distance PC           also the apparent V, mv = M_V + 5 log10(PC/10) + A_V\n"          \
     "  --av MAG                extinction A_V in magnitudes (default 0; needs --distance)\n"
 
+/* --interp-error (at, track, isochrone). */
+#define IERR_OPTIONS_TEXT(pad)                                                                      \
+    "  --interp-error " pad "add err_log_l_dex, err_log_teff_dex, err_log_age_dex: the\n"      \
+    "                 " pad "interpolation error the grid file stores (grid accuracy\n"      \
+    "                 " pad "--store): the largest leave-one-out error of the two\n"         \
+    "                 " pad "tracks either side of the mass, at the star's EEP. An\n"       \
+    "                 " pad "upper estimate, not a 1-sigma error; empty for remnants\n"
+
 static const char accuracy_text[] =
     "Accuracy: answers are as good as the grid. The default grid is a semi-analytic\n"
     "model built from published relations, meant for population-level work, not for\n"
@@ -203,6 +211,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "                         standard error, and the exit status of the first failure\n"
      EXTRA_OPTIONS_TEXT
      MAG_OPTIONS_TEXT
+     IERR_OPTIONS_TEXT("         ")
      "  --csv, --json          CSV, or JSON records (a list of objects), instead of\n"
      "                         the table\n"
      "\n"
@@ -236,6 +245,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  --to AGE           last age (with --steps; may lie beyond the track's end when\n"
      "                     the remnant is known), or keep EEPs up to this age\n"
      EXTRA_OPTIONS_TEXT
+     IERR_OPTIONS_TEXT("    ")
      "  --csv, --json      CSV, or JSON records (a list of objects), instead of the\n"
      "                     table\n"
      "\n"
@@ -261,6 +271,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      ISO_OPTIONS_TEXT
      EXTRA_OPTIONS_TEXT
      MAG_OPTIONS_TEXT
+     IERR_OPTIONS_TEXT("         ")
      "  --csv, --json           CSV, or JSON records, instead of the table\n"
      "\n"
      "Examples:\n"
@@ -334,7 +345,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
     {"grid",
      "Usage: hrtrail grid info [FILE] [--grid FILE] [--csv | --json]\n"
      "       hrtrail grid check [FILE] [--grid FILE] [--csv | --json]\n"
-     "       hrtrail grid accuracy [FILE] [--grid FILE] [--interp NAME] [-j N] [--csv | --json]\n"
+     "       hrtrail grid accuracy [FILE] [--grid FILE] [--interp NAME] [-j N] [--store]\n"
+     "                             [--csv | --json]\n"
      "       hrtrail grid upgrade OLD NEW\n"
      "\n"
      "  info   what the grid holds: file, size on disk and in memory, provenance\n"
@@ -367,7 +379,9 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "         a track doubles the local spacing, so the figures bound the errors\n"
      "         between tracks of the full grid from above. Prints the time taken\n"
      "         (--json: \"seconds\"); --csv/--json: one record per row. Shows progress\n"
-     "         on standard error when that is a terminal.\n"
+     "         on standard error when that is a terminal. --store also writes the\n"
+     "         errors into the grid file (group accuracy/ of FORMAT.md) for\n"
+     "         --interp-error and the fit; the default grid ships them.\n"
      "  upgrade  convert the grid file OLD, of an older format version, to the\n"
      "         current one (format " HELP_STR(HRT_FORMAT_VERSION) ") and write it to NEW (atomically: NEW is\n"
      "         replaced only when complete; it may be OLD itself). Values are copied\n"
@@ -381,6 +395,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail grid info\n"
      "  hrtrail grid check my-grid.h5\n"
      "  hrtrail grid accuracy my-grid.h5 --interp linear --csv\n"
+     "  hrtrail grid accuracy my-grid.h5 --store\n"
+     "  hrtrail at --grid my-grid.h5 --mass 1.3 --age 2Gyr --interp-error\n"
      "  hrtrail grid upgrade my-grid-v1.h5 my-grid.h5\n",
      0, OUT_GRID},
     {"population",

@@ -347,6 +347,9 @@ static const col state_cols[] = {
     {"bc_v", "BC_V", COL_NUM, "%.3f", 0},
     {"abs_mv", "M_V", COL_NUM, "%.3f", 0},
     {"mv", "m_V", COL_NUM, "%.3f", 0},
+    {"err_log_l_dex", "+-log L", COL_NUM, "%.2g", 0},
+    {"err_log_teff_dex", "+-log Teff", COL_NUM, "%.2g", 0},
+    {"err_log_age_dex", "+-log age", COL_NUM, "%.2g", 0},
     {"flags", "notes", COL_TEXT, NULL, 0},
     {"status", "status", COL_TEXT, NULL, 0},
 };
@@ -368,7 +371,8 @@ table *state_table_new(unsigned extra)
         const char *key = state_cols[i].key;
         int is_mag = !strcmp(key, "abs_mbol") || !strcmp(key, "bc_v") || !strcmp(key, "abs_mv");
         if ((!strcmp(key, "name") && !(extra & SC_NAME)) || (!strcmp(key, "status") && !(extra & SC_STATUS)) ||
-            (is_mag && !(extra & SC_MAGS)) || (!strcmp(key, "mv") && !(extra & SC_MV))) {
+            (is_mag && !(extra & SC_MAGS)) || (!strcmp(key, "mv") && !(extra & SC_MV)) ||
+            (!strncmp(key, "err_", 4) && !(extra & SC_IERR))) {
             st->map[i] = -1;
             continue;
         }
@@ -408,10 +412,14 @@ void state_table_add(table *t, const cli *c, const hrt_state *s, const char *nam
     double mag[4];
     int32_t mflags = 0;
     state_magnitudes(c, s, mag, &mflags);
+    /* the interpolation error where the grid has an estimate (NaN for remnants and the like) */
+    hrt_interp_error ie = {NAN, NAN, NAN, 0, {0}};
+    if (st->map[23] >= 0) (void)hrt_state_interp_error(c->grid, s, &ie, NULL);
     const double nums[N_STATE_COLS] = {
         0, s->initial_mass_msun, s->z, s->age_yr, 0, 0, s->log_l_lsun, s->log_teff_k, s->log_r_rsun, s->log_g_cgs,
         s->mass_msun, s->he_core_mass_msun, s->co_core_mass_msun, s->eep, s->phase_fraction, s->phase_start_yr,
-        s->phase_end_yr, 0, s->remnant_mass_msun, mag[0], mag[1], mag[2], mag[3], 0, 0};
+        s->phase_end_yr, 0, s->remnant_mass_msun, mag[0], mag[1], mag[2], mag[3], ie.log_l_dex, ie.log_teff_dex,
+        ie.log_age_dex, 0, 0};
     int mag_cols = st->map[19] >= 0; /* abs_mbol shown: the magnitudes were asked for */
     for (size_t i = 0; i < N_STATE_COLS; i++) {
         int k = st->map[i];
@@ -475,13 +483,14 @@ void phase_footnote(FILE *f, const table *t)
 
 unsigned mag_columns(const cli *c)
 {
-    return (c->mags || c->have_distance ? SC_MAGS : 0u) | (c->have_distance ? SC_MV : 0u);
+    return (c->mags || c->have_distance ? SC_MAGS : 0u) | (c->have_distance ? SC_MV : 0u) | (c->ierr ? SC_IERR : 0u);
 }
 
 int mag_option_take(cli *c, int id, const char *val)
 {
     switch (id) {
     case O_MAG_ABS: c->mags = 1; return 0;
+    case O_IERR: c->ierr = 1; return 0;
     case O_MAG_DISTANCE:
         if (parse_number(val, &c->distance_pc) != 0 || !(c->distance_pc > 0) || !isfinite(c->distance_pc))
             return cli_fail(c, CLI_EXIT_USAGE, "--distance %s: a distance > 0 in parsecs", val);

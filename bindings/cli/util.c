@@ -277,6 +277,11 @@ int cli_open_grid(cli *c)
     }
     c->grid_used = path ? path : hrt_default_grid_path();
     if (!c->grid_used) c->grid_used = "(default grid)";
+    if (c->ierr && !hrt_grid_has_interp_error(c->grid))
+        return cli_fail(c, CLI_EXIT_USAGE,
+                        "--interp-error: grid '%s' stores no interpolation error field for type %s; add one with "
+                        "'hrtrail grid accuracy --store --grid FILE'",
+                        c->grid_used, hrt_interp_name(c->interp));
     return 0;
 }
 

@@ -20,7 +20,8 @@
 !>    hrtf_pop_summary_add, hrtf_pop_summary_merge), fits (hrtf_fit_model_new,
 !>    hrtf_fit_star), forecasts (hrtf_forecast) and importing text tracks into
 !>    a grid (hrtf_import_new, hrtf_import_map, hrtf_import_add_file,
-!>    hrtf_import_run, hrtf_import_report).
+!>    hrtf_import_run, hrtf_import_report), and how accurate a grid's interpolation is
+!>    (hrtf_accuracy, hrtf_interp_error, hrtf_has_interp_error).
 !>
 !> Arrays that C indexes by code (phase_prob, n_phase, n_remnant, n_status,
 !> remnant_prob, future) start at 1 here: the entry of code c is (c + 1).
@@ -403,6 +404,33 @@ module hrtrail
      type(c_ptr) :: ptr = c_null_ptr
   end type hrt_fit_model_t
 
+  !> struct hrt_accuracy_row: leave-one-out errors of one type, route and phase (hrtf_accuracy).
+  !> Quantities (index 1..3): |d log L|, |d log Teff|, |d log age|, dex.
+  integer, parameter, public :: HRT_ACCURACY_NQ = 3
+  type, bind(C), public :: hrt_accuracy_row
+     integer(c_int) :: interp                       !< HRT_INTERP_* of the rebuilt grids
+     integer(c_int) :: route                        !< route index in the grid
+     integer(c_int) :: phase                        !< HRT_PHASE_* of the dropped track's EEPs
+     integer(c_size_t) :: n_points                  !< EEPs compared
+     integer(c_size_t) :: n_tracks                  !< dropped tracks with EEPs in this phase
+     real(c_double) :: median(HRT_ACCURACY_NQ)      !< median |error|, dex
+     real(c_double) :: p95(HRT_ACCURACY_NQ)         !< 95th percentile of |error| (nearest rank), dex
+     real(c_double) :: max(HRT_ACCURACY_NQ)         !< largest |error|, dex
+     real(c_double) :: worst_mass_msun(HRT_ACCURACY_NQ) !< initial mass of the worst track, Msun
+     real(c_double) :: worst_z(HRT_ACCURACY_NQ)     !< its metal mass fraction
+     integer(c_size_t) :: worst_eep(HRT_ACCURACY_NQ) !< its EEP index (from 0)
+     real(c_double) :: wd_mass_max_msun             !< route's largest white-dwarf mass error, Msun (NaN if none)
+  end type hrt_accuracy_row
+
+  !> struct hrt_interp_error: estimated interpolation error of a state (hrtf_interp_error), dex.
+  type, bind(C), public :: hrt_interp_error
+     real(c_double) :: log_l_dex                    !< |error| of log L at the state's EEP
+     real(c_double) :: log_teff_dex                 !< |error| of log Teff
+     real(c_double) :: log_age_dex                  !< |error| of log age
+     integer(c_int32_t) :: n_tracks                 !< measured tracks the estimate comes from
+     real(c_double) :: reserved(4)                  !< zero
+  end type hrt_interp_error
+
   !> An open grid (idiomatic layer).  Copies share the same C grid: close once.
   type, public :: hrt_grid_t
      type(c_ptr) :: ptr = c_null_ptr
@@ -450,6 +478,9 @@ module hrtrail
        hrt_import_set_progress, hrt_import_add_file, hrt_import_run, hrt_import_n_tracks, hrt_import_track, &
        hrt_import_dropped_row, hrt_import_n_routes, hrt_import_route_name, hrt_import_route_n_keypoints, &
        hrt_import_keypoint_name, hrt_import_n_z, hrt_import_z, hrt_import_route_boundary
+  public :: hrt_accuracy_new, hrt_accuracy_free, hrt_accuracy_set_interp, hrt_accuracy_set_threads, &
+       hrt_accuracy_set_z, hrt_accuracy_run, hrt_accuracy_n_rows, hrt_accuracy_row_at, hrt_accuracy_store, &
+       hrt_state_interp_error, hrt_grid_has_interp_error
   interface
      function hrt_abi_version() bind(C, name="hrt_abi_version") result(r)
        import :: c_int
@@ -1502,6 +1533,74 @@ module hrtrail
        integer(c_size_t), value :: iz, b
        real(c_double) :: m
      end function hrt_import_route_boundary
+     function hrt_accuracy_new(acc, err) bind(C, name="hrt_accuracy_new") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), intent(out) :: acc
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_new
+     subroutine hrt_accuracy_free(acc) bind(C, name="hrt_accuracy_free")
+       import :: c_ptr
+       type(c_ptr), value :: acc
+     end subroutine hrt_accuracy_free
+     function hrt_accuracy_set_interp(acc, interp, err) bind(C, name="hrt_accuracy_set_interp") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: acc
+       integer(c_int), value :: interp
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_set_interp
+     function hrt_accuracy_set_threads(acc, n, err) bind(C, name="hrt_accuracy_set_threads") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: acc
+       integer(c_int), value :: n
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_set_threads
+     function hrt_accuracy_set_z(acc, z, err) bind(C, name="hrt_accuracy_set_z") result(rc)
+       import :: c_ptr, c_int, c_double, hrt_error
+       type(c_ptr), value :: acc
+       real(c_double), value :: z
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_set_z
+     function hrt_accuracy_run(acc, grid, err) bind(C, name="hrt_accuracy_run") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: acc, grid
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_run
+     function hrt_accuracy_n_rows(acc) bind(C, name="hrt_accuracy_n_rows") result(n)
+       import :: c_ptr, c_size_t
+       type(c_ptr), value :: acc
+       integer(c_size_t) :: n
+     end function hrt_accuracy_n_rows
+     function hrt_accuracy_row_at(acc, i, out) bind(C, name="hrt_accuracy_row_at") result(rc)
+       import :: c_ptr, c_int, c_size_t, hrt_accuracy_row
+       type(c_ptr), value :: acc
+       integer(c_size_t), value :: i
+       type(hrt_accuracy_row), intent(out) :: out
+       integer(c_int) :: rc
+     end function hrt_accuracy_row_at
+     function hrt_accuracy_store(acc, path, err) bind(C, name="hrt_accuracy_store") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: acc, path
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_store
+     function hrt_state_interp_error(grid, s, out, err) bind(C, name="hrt_state_interp_error") result(rc)
+       import :: c_ptr, c_int, hrt_state, hrt_interp_error, hrt_error
+       type(c_ptr), value :: grid
+       type(hrt_state), intent(in) :: s
+       type(hrt_interp_error), intent(out) :: out
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_state_interp_error
+     function hrt_grid_has_interp_error(grid) bind(C, name="hrt_grid_has_interp_error") result(r)
+       import :: c_ptr, c_int
+       type(c_ptr), value :: grid
+       integer(c_int) :: r
+     end function hrt_grid_has_interp_error
      function c_strlen(s) bind(C, name="strlen") result(n)
        import :: c_ptr, c_size_t
        type(c_ptr), value :: s
@@ -1524,6 +1623,7 @@ module hrtrail
        hrtf_fit_star, hrtf_forecast, hrtf_forecast_event_name, hrtf_fit_mass_prior_name
   public :: hrtf_import_new, hrtf_import_free, hrtf_import_map, hrtf_import_settings, hrtf_import_add_file, &
        hrtf_import_run, hrtf_import_report, hrtf_chars
+  public :: hrtf_accuracy, hrtf_interp_error, hrtf_has_interp_error
 
   !> States of many stars in one hrt_eval call; z is one metallicity or one per star.
   interface hrtf_evaluate
@@ -2560,6 +2660,71 @@ contains
        rc = hrt_import_track(imp%ptr, i - 1, reports(i))
     end do
   end subroutine hrtf_import_report
+
+  !> Leave-one-out interpolation accuracy of a grid (hrt_accuracy_run): each interior track of
+  !> each route dropped, its metallicity group rebuilt without it and the track interpolated
+  !> from the rest; one row per interpolation type, route and phase.  interp: one HRT_INTERP_*
+  !> (default: all four); threads: 0 (default) every core; z: one metallicity group only;
+  !> store_path: write the run's error field into that grid file (hrt_accuracy_store: the
+  !> grid's own file, which hrtf_interp_error then reads once reopened).
+  subroutine hrtf_accuracy(grid, rows, interp, threads, z, store_path, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    type(hrt_accuracy_row), allocatable, intent(out) :: rows(:)
+    integer, intent(in), optional :: interp, threads
+    real(c_double), intent(in), optional :: z
+    character(len=*), intent(in), optional :: store_path
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    character(kind=c_char, len=:), allocatable, target :: cpath
+    type(c_ptr) :: acc
+    type(hrt_error) :: err
+    integer(c_size_t) :: i
+    integer :: rc
+    err = blank_error()
+    allocate (rows(0))
+    rc = hrt_accuracy_new(acc, err)
+    if (rc == HRT_OK .and. present(interp)) rc = hrt_accuracy_set_interp(acc, int(interp, c_int), err)
+    if (rc == HRT_OK .and. present(threads)) rc = hrt_accuracy_set_threads(acc, int(threads, c_int), err)
+    if (rc == HRT_OK .and. present(z)) rc = hrt_accuracy_set_z(acc, z, err)
+    if (rc == HRT_OK) rc = hrt_accuracy_run(acc, grid%ptr, err)
+    if (rc == HRT_OK) then
+       deallocate (rows)
+       allocate (rows(hrt_accuracy_n_rows(acc)))
+       do i = 1, size(rows, kind=c_size_t)
+          rc = hrt_accuracy_row_at(acc, i - 1, rows(i))
+       end do
+    end if
+    if (rc == HRT_OK .and. present(store_path)) then
+       cpath = trim(store_path) // c_null_char
+       rc = hrt_accuracy_store(acc, c_loc(cpath), err)
+    end if
+    call hrt_accuracy_free(acc)
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_accuracy
+
+  !> Estimated interpolation error of a state of this grid (hrt_state_interp_error), from the
+  !> leave-one-out field stored in the grid file: the largest |error| (dex, at the same EEP) of
+  !> the two measured tracks either side of the state's mass, in its block of at most 10 EEPs,
+  !> in the metallicity groups either side of its Z.  An upper estimate, not a 1-sigma error.
+  !> NaN with stat = HRT_E_DOMAIN for remnants and failed states, HRT_E_INVALID without a field.
+  subroutine hrtf_interp_error(grid, s, out, stat, errmsg)
+    type(hrt_grid_t), intent(in) :: grid
+    type(hrt_state), intent(in) :: s
+    type(hrt_interp_error), intent(out) :: out
+    integer, intent(out), optional :: stat
+    character(len=*), intent(out), optional :: errmsg
+    type(hrt_error) :: err
+    integer :: rc
+    err = blank_error()
+    rc = hrt_state_interp_error(grid%ptr, s, out, err)
+    call report(rc, error_text(err), stat, errmsg)
+  end subroutine hrtf_interp_error
+
+  !> .true. if the grid file stores an interpolation error field for the grid's type.
+  logical function hrtf_has_interp_error(grid)
+    type(hrt_grid_t), intent(in) :: grid
+    hrtf_has_interp_error = hrt_grid_has_interp_error(grid%ptr) /= 0
+  end function hrtf_has_interp_error
 
   !> Fortran text of a NUL-terminated character array of a struct (message, notes, missing, name).
   function hrtf_chars(chars) result(s)

@@ -607,6 +607,30 @@ HRT_API size_t hrt_accuracy_n_rows(const hrt_accuracy *acc);
  */
 HRT_API int hrt_accuracy_row_at(const hrt_accuracy *acc, size_t i, hrt_accuracy_row *out);
 
+/**
+ * @brief Store the error field of the last run in the grid file it measured.
+ *
+ * Given:
+ *   acc    a run of hrt_accuracy_run() on the grid opened from `path`
+ *   path   that grid's file, rewritten in place (close no grid first:
+ *          open grids keep what they read)
+ * Returned (function value): HRT_OK; HRT_E_NULL; HRT_E_INVALID (no run);
+ *   HRT_E_NOMEM; HRT_E_IO (the file cannot be opened for writing or HDF5
+ *   fails).
+ * Notes:
+ *   1. Written: the optional group accuracy/ of tracks/FORMAT.md (replacing
+ *      one stored before): for every dropped track, every type measured and
+ *      every block of at most 10 EEPs inside one keypoint segment, the
+ *      largest |error| of log L, log Teff and log age there.
+ *      hrt_state_interp_error() turns it into an estimate at any state.
+ *   2. The grid's other contents are not touched; a grid opened later reads
+ *      the field with the rest.  The field belongs to the grid it was
+ *      measured on: store it only in that file.
+ *   3. A run restricted by hrt_accuracy_set_z() or hrt_accuracy_set_interp()
+ *      stores only what it measured; states outside it get no estimate.
+ */
+HRT_API int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err);
+
 #ifdef __cplusplus
 }
 #endif

@@ -439,6 +439,54 @@ HRT_API int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const
                      double z_all, const double *age_yr, hrt_state *out, hrt_error *err);
 
 /* ------------------------------------------------------------------------
+ * How wrong an interpolated state may be: the stored leave-one-out field
+ * ------------------------------------------------------------------------ */
+/** Estimated interpolation error of a state (hrt_state_interp_error()). */
+typedef struct hrt_interp_error {
+    double log_l_dex;    /**< |error| of log L/Lsun at the state's EEP, dex */
+    double log_teff_dex; /**< |error| of log Teff/K at the state's EEP, dex */
+    double log_age_dex;  /**< |error| of log age at the state's EEP, dex */
+    int32_t n_tracks;    /**< measured tracks the estimate comes from (1..8) */
+    double reserved[4];  /**< zero; room to grow */
+} hrt_interp_error;
+
+/**
+ * @brief Estimated interpolation error of a state, from the leave-one-out
+ * error field stored in the grid file (hrt_accuracy_store()).
+ *
+ * Given:
+ *   g    the grid that made the state (its interpolation type is used)
+ *   s    a state of hrt_eval(), hrt_star_at(), hrt_star_eep_state() or an isochrone
+ * Returned:
+ *   out  the estimate; NaN on failure
+ *   (function value) HRT_OK; HRT_E_NULL; HRT_E_INVALID (the file stores no
+ *   field for the grid's type); HRT_E_DOMAIN (a failed state, a remnant,
+ *   or a state before the first EEP: no EEP); HRT_E_NO_TRACK (no measured
+ *   track of the state's route near its mass and metallicity).
+ * Notes:
+ *   1. The statistic: the largest |error| found, in the block of at most 10
+ *      EEPs holding the state's EEP, when the grid's two tracks nearest
+ *      below and two nearest above the state's initial mass (on its route,
+ *      in the metallicity groups either side of its Z) were each dropped
+ *      and predicted from the rest.  Those predictions span twice the
+ *      grid's spacing, so the estimate is an upper estimate, not a 1-sigma
+ *      error: on exact-answer grids (tests/test_interp_error.c) it bounds
+ *      the true error at every EEP tested, for every type (true/estimate at
+ *      most 0.81); out of sample on the default grid the true error is
+ *      below it at 99.9-100 % of EEPs, median true/estimate 0.05
+ *      (tracks/MODEL.md).  A state at a grid track's own mass gets the
+ *      interval's estimate too, though its true error there is nil.
+ *   2. Errors are at the same EEP.  At a given age a star's log L also
+ *      moves by (d log L / d log age) times the age error; that is not
+ *      added.  Across metallicity only the mass direction is measured.
+ *   3. Does not slow hrt_eval(), which never reads the field.  O(blocks
+ *      stored) per call; thread-safe on a shared grid; no allocation.
+ */
+HRT_API int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_error *out, hrt_error *err);
+/** 1 if the grid file stores an error field for the grid's interpolation type. */
+HRT_API int hrt_grid_has_interp_error(const hrt_grid *g);
+
+/* ------------------------------------------------------------------------
  * One star: build its interpolated track once, then ask any age
  * ------------------------------------------------------------------------ */
 typedef struct hrt_star hrt_star; /**< opaque; caller-owned; one thread at a time */

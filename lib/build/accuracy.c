@@ -216,6 +216,41 @@ static int job_builder(const acc_ctx *c, const acc_job *J, size_t window, hrt_bu
     return HRT_OK;
 }
 
+/* The block of the error field holding EEP j of route r: [*lo, *hi), inside
+ * one keypoint segment (the last segment includes its end keypoint). */
+static void field_block(const acc_ctx *c, int r, size_t j, int *lo, int *hi)
+{
+    size_t nk = c->spec[r].n_keypoints;
+    size_t s = 0;
+    long a = hrt_grid_keypoint_eep(c->g, (size_t)r, 0);
+    while (s + 2 < nk && (long)j >= hrt_grid_keypoint_eep(c->g, (size_t)r, s + 1))
+        s++;
+    if (nk >= 2)
+        a = hrt_grid_keypoint_eep(c->g, (size_t)r, s);
+    long end = nk >= 2 ? hrt_grid_keypoint_eep(c->g, (size_t)r, s + 1) + (s + 2 == nk) : (long)j + 1;
+    long l = a + (((long)j - a) / TRAIL_ACC_BLOCK) * TRAIL_ACC_BLOCK;
+    *lo = (int)l;
+    *hi = (int)(l + TRAIL_ACC_BLOCK < end ? l + TRAIL_ACC_BLOCK : end);
+}
+
+/* The dropped track's errors as blocks of the error field (the largest of
+ * each block), into f (room for np); returns how many. */
+static size_t field_of(const acc_ctx *c, int it, const acc_track *t, double z, const trail_acc_point *pt, size_t np,
+                       trail_acc_field *f)
+{
+    size_t n = 0;
+    for (size_t i = 0; i < np; i++) {
+        int lo, hi;
+        field_block(c, t->route, pt[i].eep, &lo, &hi);
+        if (!n || f[n - 1].eep_lo != lo)
+            f[n++] = (trail_acc_field){it, t->route, z, t->m, lo, hi, {0, 0, 0}};
+        for (int q = 0; q < HRT_ACCURACY_NQ; q++)
+            if (pt[i].e[q] > f[n - 1].e[q] || isnan(pt[i].e[q]))
+                f[n - 1].e[q] = pt[i].e[q];
+    }
+    return n;
+}
+
 /* Compare the prediction of grid h with the dropped track; record under lock. */
 static int job_compare(acc_ctx *c, const acc_job *J, const hrt_grid *h, int it, hrt_error *err)
 {
@@ -227,7 +262,10 @@ static int job_compare(acc_ctx *c, const acc_job *J, const hrt_grid *h, int it, 
         return rc;
     size_t n = hrt_star_n_eep(s) < t->n ? hrt_star_n_eep(s) : t->n;
     trail_acc_point *pt = malloc((n ? n : 1) * sizeof *pt);
-    if (!pt) {
+    trail_acc_field *fl = malloc((n ? n : 1) * sizeof *fl);
+    if (!pt || !fl) {
+        free(pt);
+        free(fl);
         hrt_star_free(s);
         return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
     }
@@ -247,9 +285,15 @@ static int job_compare(acc_ctx *c, const acc_job *J, const hrt_grid *h, int it, 
         kind <= HRT_REMNANT_ONE_WD)
         wd = fabs(mr - t->remnant_mass);
     hrt_star_free(s);
+    size_t nf = field_of(c, it, t, G->z, pt, np, fl);
 #pragma omp critical /* unnamed: a named one is a global lock symbol exported by the library */
-    rc = trail_acc_record(c->acc, it, t->route, pt, np, wd, err);
+    {
+        rc = trail_acc_record(c->acc, it, t->route, pt, np, wd, err);
+        if (rc == HRT_OK)
+            rc = trail_acc_record_field(c->acc, fl, nf, err);
+    }
     free(pt);
+    free(fl);
     return rc;
 }
 

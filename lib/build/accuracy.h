@@ -13,6 +13,23 @@ typedef struct trail_acc_point {
     int phase;
 } trail_acc_point;
 
+/* The largest |error| of one dropped track over EEPs [eep_lo, eep_hi)
+ * (a block inside one keypoint segment): the stored error field. */
+typedef struct trail_acc_field {
+    int it, route;
+    double z, m;
+    int eep_lo, eep_hi;
+    double e[HRT_ACCURACY_NQ];
+} trail_acc_field;
+
+/* EEPs per block of the stored error field (blocks never cross a keypoint). */
+#define TRAIL_ACC_BLOCK 10
+
+/* Add blocks of the error field (under the caller's lock). */
+int trail_acc_record_field(hrt_accuracy *acc, const trail_acc_field *f, size_t n, hrt_error *err);
+/* The error field of the last run, sorted by type, route, Z, mass and EEP. */
+const trail_acc_field *trail_acc_field_rows(const hrt_accuracy *acc, size_t *n);
+
 /* Whether interpolation type it is measured. */
 int trail_acc_wants(const hrt_accuracy *acc, int it);
 /* Whether the group of metallicity z is measured. */

@@ -24,6 +24,8 @@ struct hrt_accuracy {
     double *wd;     /* [HRT_INTERP_COUNT][nr] */
     hrt_accuracy_row *rows;
     size_t n_rows;
+    trail_acc_field *field; /* the error field: blocks of every dropped track */
+    size_t n_field, cap_field;
 };
 
 int hrt_accuracy_new(hrt_accuracy **acc, hrt_error *err)
@@ -54,6 +56,7 @@ void hrt_accuracy_free(hrt_accuracy *acc)
         return;
     cells_free(acc);
     free(acc->rows);
+    free(acc->field);
     free(acc);
 }
 
@@ -117,6 +120,7 @@ int trail_acc_begin(hrt_accuracy *acc, size_t n_routes, hrt_error *err)
     free(acc->rows);
     acc->rows = NULL;
     acc->n_rows = 0;
+    acc->n_field = 0;
     acc->nr = n_routes;
     acc->cell = calloc(HRT_INTERP_COUNT * n_routes * HRT_PHASE_SLOTS, sizeof *acc->cell);
     acc->wd = malloc(HRT_INTERP_COUNT * n_routes * sizeof *acc->wd);
@@ -156,6 +160,43 @@ int trail_acc_record(hrt_accuracy *acc, int it, int r, const trail_acc_point *pt
     if (!isnan(wd) && (isnan(*w) || wd > *w))
         *w = wd;
     return HRT_OK;
+}
+
+int trail_acc_record_field(hrt_accuracy *acc, const trail_acc_field *f, size_t n, hrt_error *err)
+{
+    if (acc->n_field + n > acc->cap_field) {
+        size_t cap = acc->cap_field ? 2 * acc->cap_field : 4096;
+        while (cap < acc->n_field + n)
+            cap *= 2;
+        trail_acc_field *p = realloc(acc->field, cap * sizeof *p);
+        if (!p)
+            return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
+        acc->field = p;
+        acc->cap_field = cap;
+    }
+    memcpy(acc->field + acc->n_field, f, n * sizeof *f);
+    acc->n_field += n;
+    return HRT_OK;
+}
+
+static int cmp_field(const void *pa, const void *pb)
+{
+    const trail_acc_field *a = pa, *b = pb;
+    if (a->it != b->it)
+        return a->it < b->it ? -1 : 1;
+    if (a->route != b->route)
+        return a->route < b->route ? -1 : 1;
+    if (a->z != b->z)
+        return a->z < b->z ? -1 : 1;
+    if (a->m != b->m)
+        return a->m < b->m ? -1 : 1;
+    return a->eep_lo < b->eep_lo ? -1 : a->eep_lo > b->eep_lo;
+}
+
+const trail_acc_field *trail_acc_field_rows(const hrt_accuracy *acc, size_t *n)
+{
+    *n = acc ? acc->n_field : 0;
+    return acc ? acc->field : NULL;
 }
 
 /* Whether point a is a worse error of quantity q than b; ties go to the lower
@@ -218,6 +259,9 @@ int trail_acc_finish(hrt_accuracy *acc, hrt_error *err)
             }
     free(buf);
     cells_free(acc);
+    /* the threads finished in any order: sort, so that what is stored does not depend on it */
+    if (acc->n_field)
+        qsort(acc->field, acc->n_field, sizeof *acc->field, cmp_field);
     return HRT_OK;
 }
 

@@ -96,7 +96,13 @@ struct hrt_grid {
     pthread_mutex_t extra_lock;
     int extra_lock_init;
     atomic_int extra_ready;
+    struct trail_errfield *errf; /* stored leave-one-out error field of the grid's type, or NULL (interp_error.c) */
 };
+
+typedef struct trail_errfield trail_errfield;
+/* Read the optional group accuracy/ of the file into g->errf (interp_error.c). */
+int trail_errfield_read(const char *path, hrt_grid *g, hrt_error *err);
+void trail_errfield_free(trail_errfield *ef);
 
 /* Mass context inside one metallicity group: which interval, which weights. */
 typedef struct mctx {

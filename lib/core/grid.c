@@ -41,6 +41,8 @@ int hrt_grid_open_with(const char *path, int interp, hrt_grid **grid, hrt_error 
     if (rc == HRT_OK)
         rc = trail_extra_prepare(g, &f, err);
     trail_file_free(&f);
+    if (rc == HRT_OK)
+        rc = trail_errfield_read(path, g, err);
     if (rc != HRT_OK) {
         hrt_grid_close(g);
         return rc;
@@ -63,6 +65,7 @@ void hrt_grid_close(hrt_grid *g)
         return;
     trail_extra_free(g);
     trail_grid_free_contents(g);
+    trail_errfield_free(g->errf);
     free(g);
 }
 

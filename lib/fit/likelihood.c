@@ -372,3 +372,55 @@ int trail_fit_scan_lattice(const hrt_fit_model *m, const trail_fit_obs *F, trail
                                F->log_l.given ? ", with the luminosity given" : "");
     return HRT_OK;
 }
+
+/* ------------------------------------------------------------------------
+ * The grid's own interpolation error, added to the measurement errors
+ * ------------------------------------------------------------------------ */
+/* sigma^2 + e^2, and whether that changes sigma by more than a part in 1e3. */
+static int widen(double *sigma, double e)
+{
+    double s = sqrt(*sigma * *sigma + e * e);
+    int changed = s > *sigma * (1.0 + 1e-3);
+    *sigma = s;
+    return changed;
+}
+
+int trail_fit_add_interp_error(const hrt_fit_model *m, trail_fit_obs *F, const trail_fit_points *S, double e[2])
+{
+    e[0] = e[1] = 0.0;
+    if (!hrt_grid_has_interp_error(m->g) || S->n == 0)
+        return 0;
+    size_t best = 0;
+    for (size_t i = 1; i < S->n; i++)
+        if (S->p[i].chi2 < S->p[best].chi2)
+            best = i;
+    const trail_fit_point *P = &S->p[best];
+    double mass = exp(TRAIL_LN10 * (double)P->value[PQ_LOG_INITIAL_MASS]), z = m->z[P->feh_node];
+    double age = sqrt(P->age_lo_yr * P->age_hi_yr);
+    hrt_state st;
+    hrt_interp_error ie;
+    if (hrt_eval(m->g, 1, &mass, &z, 0.0, &age, &st, NULL) != HRT_OK ||
+        hrt_state_interp_error(m->g, &st, &ie, NULL) != HRT_OK)
+        return 0;
+    e[0] = ie.log_l_dex, e[1] = ie.log_teff_dex;
+    /* Teff in K; log g = log M + 4 log Teff - log L + const: both errors, added linearly (an upper estimate) */
+    int changed = widen(&F->teff.sigma, F->teff.value * TRAIL_LN10 * ie.log_teff_dex);
+    if (F->log_l.given)
+        changed |= widen(&F->log_l.sigma, ie.log_l_dex);
+    if (F->log_g.given)
+        changed |= widen(&F->log_g.sigma, ie.log_l_dex + 4.0 * ie.log_teff_dex);
+    if (!changed)
+        return 0;
+    const trail_fit_measured *L = &F->log_l, *G = &F->log_g;
+    double tl = F->teff.value - TRAIL_FIT_CUT_SIGMA * F->teff.sigma, th = F->teff.value + TRAIL_FIT_CUT_SIGMA * F->teff.sigma;
+    F->log_teff_lo = tl > 1.0 ? log10(tl) : -INFINITY;
+    F->log_teff_hi = log10(th);
+    F->inv_sigma_log_teff = F->teff.value * TRAIL_LN10 / F->teff.sigma;
+    F->log_l_lo = L->given ? L->value - TRAIL_FIT_CUT_SIGMA * L->sigma : -INFINITY;
+    F->log_l_hi = L->given ? L->value + TRAIL_FIT_CUT_SIGMA * L->sigma : INFINITY;
+    F->inv_sigma_log_l = L->given ? 1.0 / L->sigma : 0.0;
+    F->log_g_lo = G->given ? G->value - TRAIL_FIT_CUT_SIGMA * G->sigma : -INFINITY;
+    F->log_g_hi = G->given ? G->value + TRAIL_FIT_CUT_SIGMA * G->sigma : INFINITY;
+    F->inv_sigma_log_g = G->given ? 1.0 / G->sigma : 0.0;
+    return 1;
+}

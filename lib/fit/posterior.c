@@ -516,6 +516,11 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
         return trail_fit_finish(&res->status, rc, err);
     trail_fit_points S = {NULL, 0, 0, INFINITY, INFINITY};
     rc = trail_fit_scan_lattice(m, &F, &S, err);
+    double e_interp[2];
+    if (rc == HRT_OK && trail_fit_add_interp_error(m, &F, &S, e_interp)) {
+        S.n = 0, S.best_dev = S.chi2_best = INFINITY; /* again with the widened errors */
+        rc = trail_fit_scan_lattice(m, &F, &S, err);
+    }
     if (rc == HRT_OK)
         rc = summarise(m, &F, &S, seed, n_samples, samples, res, err);
     free(S.p);

@@ -73,5 +73,10 @@ int trail_fit_obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, trail_fi
  * empty, best_dev and chi2_best infinite); HRT_E_NO_MATCH when no point lies
  * within TRAIL_FIT_MATCH_SIGMA, HRT_E_NOMEM. */
 int trail_fit_scan_lattice(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_points *S, hrt_error *err);
+/* When the grid stores an interpolation error field: the estimate at the
+ * best point of S (e[0] log L, e[1] log Teff, dex) added in quadrature to
+ * the errors of F (log g: both, added linearly); 1 if that changed a sigma by
+ * more than a part in a thousand (the lattice is then scanned again). */
+int trail_fit_add_interp_error(const hrt_fit_model *m, trail_fit_obs *F, const trail_fit_points *S, double e[2]);
 
 #endif

@@ -150,4 +150,36 @@ t.ok(p.returncode == EXIT_OK and "tracks dropped and predicted" in tty_err and "
      "accuracy progress shown on a terminal: %r" % tty_err[:120])
 rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear"])
 t.ok(err == "", "accuracy: no progress when stderr is a pipe")
+
+# ---- --store: the error field written into the file (h5py reads it back), then --interp-error
+rc, out, err = run(["at", "--grid", grid, "-m", "1.5", "-a", "100Myr", "--interp-error"])
+t.ok(rc != EXIT_OK and "stores no interpolation error field" in err and "--store" in err,
+     "--interp-error on a grid without a field: refused with the way out (%s)" % err)
+rc, out, err = run(["grid", "info", grid, "--store"])
+t.ok(rc != EXIT_OK and "--store applies to 'hrtrail grid accuracy' only" in err, "--store refused by grid info")
+rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear", "--csv", "--store"])
+t.eq(rc, EXIT_OK, "accuracy --store exit code (%s)" % err)
+t.ok("error field stored in" in err and grid in err, "accuracy --store says where (%s)" % err)
+with h5py.File(grid, "r") as f:
+    a = {k: f["accuracy/" + k][:] for k in ("interp", "eep_lo", "eep_hi", "z", "initial_mass_msun", "log_l_error",
+                                            "log_teff_error", "log_age_error")}
+    names = [x.decode() for x in f["accuracy/interp_names"][:]]
+t.eq(sorted({names[k] for k in a["interp"]}), ["linear"], "stored field: the type measured only")
+t.ok(len(a["z"]) > 0 and all((a[k] >= 0).all() for k in ("log_l_error", "log_teff_error", "log_age_error")) and
+     (a["eep_hi"] > a["eep_lo"]).all(), "stored field: blocks with non-negative errors")
+t.ok(all(abs(z - min(zs, key=lambda q: abs(q - z))) < 1e-12 * z for z in a["z"]) and
+     all(m in [x for ms in masses for x in ms] for m in a["initial_mass_msun"]),
+     "stored field: Z and masses are the grid's tracks")
+rc, out, err = run(["at", "--grid", grid, "--interp", "linear", "-m", "1.5", "-a", "100Myr", "--interp-error", "--json"])
+t.eq(rc, EXIT_OK, "at --interp-error exit code (%s)" % err)
+st = parse_json(out)[0]
+t.ok(all(st[k] >= 0 for k in ("err_log_l_dex", "err_log_teff_dex", "err_log_age_dex")), "at --interp-error: columns")
+rc, out, err = run(["at", "--grid", grid, "-m", "1.5", "-a", "100Myr", "--interp-error"])
+t.ok(rc != EXIT_OK and "steffen" in err, "--interp-error: only the types stored (%s)" % err)
+rc, out, err = run(["track", "--grid", grid, "--interp", "linear", "-m", "1.5", "--interp-error", "--csv"])
+rows = parse_csv(out)
+t.ok(rc == EXIT_OK and "err_log_l_dex" in rows[0], "track --interp-error: columns (%s)" % err)
+rc, out, err = run(["isochrone", "--grid", grid, "--interp", "linear", "-a", "1Gyr", "--interp-error", "--csv"])
+rows = parse_csv(out)
+t.ok(rc == EXIT_OK and "err_log_teff_dex" in rows[0], "isochrone --interp-error: columns (%s)" % err)
 t.finish()

@@ -25,12 +25,12 @@ t.eq(err, "", "--help writes nothing on stderr")
 
 # the questions of a new user, answered by an example in the help of the right command
 examples = {
-    "at": ["--mass 2.3 --z 0.008 --age 800Myr", "--input", "--keep-going"],
-    "track": ["--steps", "--ages", "--eeps", "--from", "--to"],
-    "isochrone": ["--age 1Gyr", "--csv"],
+    "at": ["--mass 2.3 --z 0.008 --age 800Myr", "--input", "--keep-going", "--interp-error"],
+    "track": ["--steps", "--ages", "--eeps", "--from", "--to", "--interp-error"],
+    "isochrone": ["--age 1Gyr", "--csv", "--interp-error"],
     "life": ["keypoint", "remnant", "route", "duration"],
     "plot": ["--track", "--isochrone", "--points", "--title", "-o", "greyscale", "to the left"],
-    "grid": ["info", "check", "upgrade OLD NEW", "progress", "validator"],
+    "grid": ["info", "check", "upgrade OLD NEW", "progress", "validator", "--store"],
     "demo": ["invented", "turnoff", "-o"],
 }
 for cmd, words in examples.items():
@@ -56,7 +56,8 @@ import os  # noqa: E402
 man = open(os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "bindings", "cli", "hrtrail.1")).read()
 for cmd in ("at", "track", "isochrone", "life", "plot", "grid info", "grid check", "grid accuracy", "grid upgrade", "demo"):
     t.ok(".B %s" % cmd in man, "man page documents %s" % cmd)
-for opt in ("grid", "interp", "z", "feh", "csv", "json", "help", "version", "keep\\-going", "steps", "points"):
+for opt in ("grid", "interp", "z", "feh", "csv", "json", "help", "version", "keep\\-going", "steps", "points",
+            "interp\\-error", "store"):
     t.ok("\\-\\-" + opt in man, "man page documents --%s" % opt.replace("\\", ""))
 for code in range(5):
     t.ok(".B %d\n" % code in man, "man page documents exit code %d" % code)

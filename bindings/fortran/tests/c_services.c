@@ -86,7 +86,13 @@
     X(hrt_import_track_report, keypoint_line) X(hrt_import_track_report, keypoint_how)                  \
     X(hrt_import_track_report, missing)                                                                   \
     X(hrt_import_row_report, line) X(hrt_import_row_report, column) X(hrt_import_row_report, code)      \
-    X(hrt_import_row_report, message)
+    X(hrt_import_row_report, message)                                                                   \
+    X(hrt_accuracy_row, interp) X(hrt_accuracy_row, route) X(hrt_accuracy_row, phase)                   \
+    X(hrt_accuracy_row, n_points) X(hrt_accuracy_row, n_tracks) X(hrt_accuracy_row, median)             \
+    X(hrt_accuracy_row, p95) X(hrt_accuracy_row, max) X(hrt_accuracy_row, worst_mass_msun)              \
+    X(hrt_accuracy_row, worst_z) X(hrt_accuracy_row, worst_eep) X(hrt_accuracy_row, wd_mass_max_msun)   \
+    X(hrt_interp_error, log_l_dex) X(hrt_interp_error, log_teff_dex) X(hrt_interp_error, log_age_dex)   \
+    X(hrt_interp_error, n_tracks) X(hrt_interp_error, reserved)
 
 static const struct {
     const char *name;
@@ -104,7 +110,8 @@ static const struct {
                              SIZE_(hrt_forecast_phase) SIZE_(hrt_forecast_result)
                                  SIZE_(hrt_import_track_report) SIZE_(hrt_import_row_report)
                                      SIZE_(hrt_ms_options) SIZE_(hrt_ms_value) SIZE_(hrt_ms_estimate)
-                                         SIZE_(hrt_ms_distance_result)};
+                                         SIZE_(hrt_ms_distance_result) SIZE_(hrt_accuracy_row)
+                                             SIZE_(hrt_interp_error)};
 
 /* The header's constants that the module writes by hand, by name. */
 #define CONST_(c) {#c, (double)(c)},
@@ -123,7 +130,8 @@ static const struct {
                                                      CONST_(HRT_FIT_FEW_POINTS) CONST_(HRT_FIT_MULTIMODAL_PROB)
                                                          CONST_(HRT_FORECAST_MAX_EVENTS) CONST_(HRT_IMPORT_MAX_KP)
                                                              CONST_(HRT_ISOCHRONE_MAX_DLOG_L)
-                                                                 CONST_(HRT_PHASES_REMNANT)};
+                                                                 CONST_(HRT_PHASES_REMNANT)
+                                                                     CONST_(HRT_ACCURACY_NQ)};
 
 int svc_n_constants(void);
 int svc_constant(const char *name, double *value);

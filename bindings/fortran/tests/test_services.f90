@@ -151,6 +151,7 @@ program test_services
   call test_population()
   call test_fit_and_forecast()
   call test_import()
+  call test_accuracy()
   write (*, '(a,i0,a,i0,a)') 'fortran services: ', checks, ' checks, ', failures, ' failures'
   if (failures > 0) error stop 1
 
@@ -481,9 +482,84 @@ contains
          c_sizeof(fo%remnant_mass_msun))
     call field('hrt_forecast_result.reserved', c_loc(fo), c_loc(fo%reserved), c_sizeof(fo%reserved))
     call import_layout()
+    call accuracy_layout()
     call expect(fields_checked == svc_n_fields(), 'every field of the C table is checked here')
     call expect(types_checked == svc_n_types(), 'every type of the C table is checked here')
   end subroutine test_layout
+
+  subroutine accuracy_layout()
+    type(hrt_accuracy_row), target :: r
+    type(hrt_interp_error), target :: e
+    call type_size('hrt_accuracy_row', c_sizeof(r))
+    call field('hrt_accuracy_row.interp', c_loc(r), c_loc(r%interp), c_sizeof(r%interp))
+    call field('hrt_accuracy_row.route', c_loc(r), c_loc(r%route), c_sizeof(r%route))
+    call field('hrt_accuracy_row.phase', c_loc(r), c_loc(r%phase), c_sizeof(r%phase))
+    call field('hrt_accuracy_row.n_points', c_loc(r), c_loc(r%n_points), c_sizeof(r%n_points))
+    call field('hrt_accuracy_row.n_tracks', c_loc(r), c_loc(r%n_tracks), c_sizeof(r%n_tracks))
+    call field('hrt_accuracy_row.median', c_loc(r), c_loc(r%median), c_sizeof(r%median))
+    call field('hrt_accuracy_row.p95', c_loc(r), c_loc(r%p95), c_sizeof(r%p95))
+    call field('hrt_accuracy_row.max', c_loc(r), c_loc(r%max), c_sizeof(r%max))
+    call field('hrt_accuracy_row.worst_mass_msun', c_loc(r), c_loc(r%worst_mass_msun), c_sizeof(r%worst_mass_msun))
+    call field('hrt_accuracy_row.worst_z', c_loc(r), c_loc(r%worst_z), c_sizeof(r%worst_z))
+    call field('hrt_accuracy_row.worst_eep', c_loc(r), c_loc(r%worst_eep), c_sizeof(r%worst_eep))
+    call field('hrt_accuracy_row.wd_mass_max_msun', c_loc(r), c_loc(r%wd_mass_max_msun), c_sizeof(r%wd_mass_max_msun))
+    call type_size('hrt_interp_error', c_sizeof(e))
+    call field('hrt_interp_error.log_l_dex', c_loc(e), c_loc(e%log_l_dex), c_sizeof(e%log_l_dex))
+    call field('hrt_interp_error.log_teff_dex', c_loc(e), c_loc(e%log_teff_dex), c_sizeof(e%log_teff_dex))
+    call field('hrt_interp_error.log_age_dex', c_loc(e), c_loc(e%log_age_dex), c_sizeof(e%log_age_dex))
+    call field('hrt_interp_error.n_tracks', c_loc(e), c_loc(e%n_tracks), c_sizeof(e%n_tracks))
+    call field('hrt_interp_error.reserved', c_loc(e), c_loc(e%reserved), c_sizeof(e%reserved))
+  end subroutine accuracy_layout
+
+  !> Leave-one-out accuracy (hrtf_accuracy) of one metallicity group of the default grid, one type;
+  !> the interpolation error the default grid stores (hrtf_interp_error) against the C call.
+  subroutine test_accuracy()
+    type(hrt_grid_t) :: g
+    type(hrt_accuracy_row), allocatable :: rows(:)
+    type(hrt_state), allocatable :: st(:)
+    type(hrt_interp_error) :: e, ce
+    type(hrt_error) :: err
+    real(c_double) :: z
+    character(len=256) :: msg
+    integer :: stat, i, q, rc
+    logical :: ok
+    call hrtf_open(g, trim(grid_path), interp=HRT_INTERP_LINEAR, stat=stat, errmsg=msg)
+    call expect(stat == HRT_OK, 'open the grid with linear interpolation: ' // trim(msg))
+    if (stat /= HRT_OK) return
+    z = hrt_grid_z(g%ptr, 0_c_size_t)
+    call hrtf_accuracy(g, rows, interp=HRT_INTERP_LINEAR, threads=2, z=z, stat=stat, errmsg=msg)
+    call expect(stat == HRT_OK .and. size(rows) > 0, 'hrtf_accuracy of one group: ' // trim(msg))
+    ok = .true.
+    do i = 1, size(rows)
+       ok = ok .and. rows(i)%interp == HRT_INTERP_LINEAR .and. rows(i)%n_points > 0
+       do q = 1, HRT_ACCURACY_NQ
+          ok = ok .and. rows(i)%median(q) <= rows(i)%p95(q) .and. rows(i)%p95(q) <= rows(i)%max(q) .and. &
+               same(rows(i)%worst_z(q), z)
+       end do
+    end do
+    call expect(ok, 'accuracy rows: the type and group asked, median <= p95 <= max')
+    call hrtf_accuracy(g, rows, interp=HRT_INTERP_LINEAR, z=z, store_path='/nonexistent-hrtrail-dir/g.h5', &
+         stat=stat, errmsg=msg)
+    call expect(stat == HRT_E_IO .and. index(msg, '/nonexistent-hrtrail-dir/g.h5') > 0, &
+         'storing in a file that cannot be written fails naming it: ' // trim(msg))
+    call hrtf_accuracy(g, rows, interp=9, stat=stat, errmsg=msg)
+    call expect(stat == HRT_E_INVALID .and. index(msg, 'interpolation type') > 0, 'an unknown type: ' // trim(msg))
+    ! the stored field of the default grid
+    call expect(hrtf_has_interp_error(g), 'the default grid stores an error field for linear')
+    call hrtf_evaluate(g, [1.2_c_double, 1.2_c_double], [1e9_c_double, 1e12_c_double], 0.014_c_double, st, stat, msg)
+    call expect(stat == HRT_OK, 'evaluate: ' // trim(msg))
+    call hrtf_interp_error(g, st(1), e, stat, msg)
+    err%code = 0
+    rc = hrt_state_interp_error(g%ptr, st(1), ce, err)
+    call expect(stat == HRT_OK .and. rc == HRT_OK .and. same(e%log_l_dex, ce%log_l_dex) .and. &
+         same(e%log_teff_dex, ce%log_teff_dex) .and. same(e%log_age_dex, ce%log_age_dex) .and. e%n_tracks >= 1, &
+         'hrtf_interp_error equals the C call: ' // trim(msg))
+    call expect(e%log_l_dex >= 0 .and. e%log_l_dex < 0.1_c_double, 'a main-sequence estimate below 0.1 dex')
+    call hrtf_interp_error(g, st(2), e, stat, msg)
+    call expect(stat == HRT_E_DOMAIN .and. index(msg, 'not on a track') > 0 .and. ieee_is_nan(e%log_l_dex), &
+         'a remnant has no estimate (NaN, HRT_E_DOMAIN): ' // trim(msg))
+    call hrtf_close(g)
+  end subroutine test_accuracy
 
   subroutine import_layout()
     type(hrt_import_track_report), target :: t
@@ -703,6 +779,7 @@ contains
     call constant('HRT_IMPORT_MAX_KP', real(HRT_IMPORT_MAX_KP, c_double))
     call constant('HRT_ISOCHRONE_MAX_DLOG_L', HRT_ISOCHRONE_MAX_DLOG_L)
     call constant('HRT_PHASES_REMNANT', real(HRT_PHASES_REMNANT, c_double))
+    call constant('HRT_ACCURACY_NQ', real(HRT_ACCURACY_NQ, c_double))
     call expect(constants_checked == svc_n_constants(), 'every constant of the C table is checked here')
   end subroutine test_constants
 

@@ -275,6 +275,12 @@ class HrtAccuracyRow(ctypes.Structure):
                 ("wd_mass_max_msun", ctypes.c_double)]
 
 
+class HrtInterpError(ctypes.Structure):
+    """struct hrt_interp_error."""
+    _fields_ = [("log_l_dex", ctypes.c_double), ("log_teff_dex", ctypes.c_double), ("log_age_dex", ctypes.c_double),
+                ("n_tracks", ctypes.c_int32), ("reserved", ctypes.c_double * 4)]
+
+
 #: void (*progress)(void *user, size_t done, size_t total)
 ACCURACY_PROGRESS_FN = ctypes.CFUNCTYPE(None, ctypes.c_void_p, ctypes.c_size_t, ctypes.c_size_t)
 
@@ -529,6 +535,9 @@ def _declare(lib):
         "hrt_accuracy_run": (i, [vp, vp, err]),
         "hrt_accuracy_n_rows": (sz, [vp]),
         "hrt_accuracy_row_at": (i, [vp, sz, vp]),
+        "hrt_accuracy_store": (i, [vp, cp, err]),
+        "hrt_state_interp_error": (i, [vp, vp, vp, err]),
+        "hrt_grid_has_interp_error": (i, [vp]),
     }
     for fname, (res, args) in protos.items():
         fn = getattr(lib, fname)

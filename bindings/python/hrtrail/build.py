@@ -497,7 +497,7 @@ def _accuracy_record(grid, r) -> dict:
 
 
 def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[int, int], None]] = None,
-             z=None) -> List[dict]:
+             z=None, store: bool = False) -> List[dict]:
     """Leave-one-out interpolation accuracy of a grid (hrt_accuracy_run).
 
     Each interior track of each route is dropped in turn, its metallicity
@@ -512,7 +512,10 @@ def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[i
     'linear', 'cspline', 'akima' or an Interp), None for all four; threads:
     0 for every core; progress: called as progress(done, total) after each
     dropped track (from a worker thread; exceptions are ignored); z: one
-    metallicity group of the grid only (None: every group).
+    metallicity group of the grid only (None: every group); store: write the
+    run's error field into the grid's file (hrt_accuracy_store: the group
+    accuracy/ of FORMAT.md, which Grid.interp_error reads; reopen the grid to
+    see it).
     """
     from .core import Grid
     own = not isinstance(grid, Grid)
@@ -548,6 +551,9 @@ def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[i
             r = HrtAccuracyRow()
             check(lib.hrt_accuracy_row_at(h, i, ctypes.byref(r)), None, "hrt_accuracy_row_at")
             rows.append(_accuracy_record(g, r))
+        if store:
+            e, pe = new_error()
+            check(lib.hrt_accuracy_store(h, _u.path(g.path), pe), e, "hrt_accuracy_store")
         return rows
     finally:
         lib.hrt_accuracy_free(h)

@@ -16,7 +16,7 @@ import os
 import weakref
 from typing import Any, Iterable, List, Optional, Sequence, Tuple, Union
 
-from ._clib import HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
+from ._clib import HrtInterpError, HrtIsochroneOptions, HrtPhaseSpan, HrtState, lib, text
 from .enums import Flag, Phase, Remnant, Status, as_interp, phase_from_key
 from . import units as _u
 from .errors import InvalidInputError, check, error_for, new_error
@@ -425,6 +425,51 @@ class Grid(_Owned):
         return "<hrtrail.Grid %s: %d metallicities, routes %s, %s>" % (
             self.path, self.n_z, ",".join(self.routes), self.interp.key)
 
+    # -- interpolation error (the stored leave-one-out field) --------------
+    @property
+    def has_interp_error(self) -> bool:
+        """True if the grid file stores an interpolation error field for this grid's type
+        (hrt_grid_has_interp_error; add one with hrtrail.accuracy(path, store=True))."""
+        return bool(lib.hrt_grid_has_interp_error(self._handle))
+
+    def interp_error(self, states):
+        """Estimated interpolation error of states of this grid (hrt_state_interp_error).
+
+        states: a State (returns a dict with log_l_dex, log_teff_dex, log_age_dex and
+        n_tracks; raises if there is no estimate), or a STATE_DTYPE array (evaluate,
+        Star.at, Star.eep_states, isochrones: returns a structured array of the same
+        shape with those fields, NaN and 0 where there is none: remnants, failed states).
+
+        The statistic: the largest leave-one-out |error| (dex, at the same EEP) of the
+        two measured tracks either side of the state's mass, in the block of at most
+        10 EEPs holding its EEP, in the metallicity groups either side of its Z.  An
+        upper estimate, not a 1-sigma error (include/hrtrail/core.h, tracks/MODEL.md).
+        """
+        def one(addr, raise_on_error):
+            out = HrtInterpError()
+            e, pe = new_error()
+            rc = lib.hrt_state_interp_error(self._handle, addr, ctypes.byref(out), pe)
+            if raise_on_error:
+                check(rc, e, "hrt_state_interp_error")
+            return out
+        if isinstance(states, State):
+            c = HrtState()
+            c.struct_size = _STATE_SIZE
+            for name in State.__slots__:
+                setattr(c, name, getattr(states, name))
+            r = one(ctypes.addressof(c), True)
+            return {"log_l_dex": r.log_l_dex, "log_teff_dex": r.log_teff_dex, "log_age_dex": r.log_age_dex,
+                    "n_tracks": int(r.n_tracks)}
+        arr = _np.ascontiguousarray(states, dtype=STATE_DTYPE)
+        res = _np.empty(arr.shape, dtype=[("log_l_dex", "f8"), ("log_teff_dex", "f8"), ("log_age_dex", "f8"),
+                                          ("n_tracks", "i4")])
+        flat, rflat = arr.reshape(-1), res.reshape(-1)
+        base = flat.ctypes.data
+        for i in range(flat.size):
+            r = one(base + i * _STATE_SIZE, False)
+            rflat[i] = (r.log_l_dex, r.log_teff_dex, r.log_age_dex, r.n_tracks)
+        return res
+
     # -- evaluation -------------------------------------------------------
     def state(self, mass_msun: Num, age_yr: Num, z: Num) -> "State":
         """State (a State object) of one star of initial mass (Msun) and metallicity z at age_yr (yr).
@@ -568,10 +613,10 @@ class Grid(_Owned):
             check(rc, e, "hrt_isochrone")
             return _states(out[:n.value].copy() if n.value < cap else out)
 
-    def accuracy(self, interp=None, threads: int = 0, progress=None, z=None) -> List[dict]:
+    def accuracy(self, interp=None, threads: int = 0, progress=None, z=None, store: bool = False) -> List[dict]:
         """Leave-one-out interpolation accuracy of this grid: hrtrail.accuracy(self, ...)."""
         from .build import accuracy
-        return accuracy(self, interp=interp, threads=threads, progress=progress, z=z)
+        return accuracy(self, interp=interp, threads=threads, progress=progress, z=z, store=store)
 
     def star(self, mass_msun: Num, z: Num) -> "Star":
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""

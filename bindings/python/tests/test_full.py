@@ -21,6 +21,7 @@ import os
 import pickle
 import random
 import re
+import shutil
 import subprocess
 import tempfile
 import unittest
@@ -551,6 +552,33 @@ class Accuracy(unittest.TestCase):
         for a in rows:
             for q in ("log_l", "log_teff", "log_age"):
                 self.assertEqual(a[q + "_worst_z"], z0)
+
+    def test_store_and_interp_error(self):
+        """accuracy(store=True) writes the error field; Grid.interp_error reads it back, the same as
+        'hrtrail at --interp-error' for a State and for a STATE_DTYPE array."""
+        path = os.path.join(self.tmp.name, "stored.h5")
+        shutil.copyfile(self.path, path)
+        with hrtrail.Grid(path, interp="linear") as g:
+            self.assertFalse(g.has_interp_error)
+            st = g.state(1.5, 1e8, g.z_values[0])
+            with self.assertRaises(hrtrail.InvalidInputError) as cm:
+                g.interp_error(st)
+            self.assertIn("no error field", str(cm.exception))
+            g.accuracy(interp="linear", store=True)
+        with hrtrail.Grid(path, interp="linear") as g:
+            self.assertTrue(g.has_interp_error)
+            st = g.state(1.5, 1e8, g.z_values[0])
+            one = g.interp_error(st)
+            self.assertGreaterEqual(one["n_tracks"], 1)
+            many = g.interp_error(g.evaluate([1.5, 1.5], [1e8, 1e13], g.z_values[0], errors="ignore"))
+        self.assertEqual(many.shape, (2,))
+        self.assertEqual(many[0]["log_l_dex"], one["log_l_dex"])
+        self.assertTrue(math.isnan(many[1]["log_l_dex"]) and many[1]["n_tracks"] == 0)  # a remnant: no estimate
+        r = subprocess.run([CLI, "at", "--grid", path, "--interp", "linear", "-m", "1.5", "-a", "1e8",
+                            "--z", repr(st.z), "--interp-error", "--json"], capture_output=True, text=True, check=True)
+        rec = json.loads(r.stdout)[0]
+        for k in ("log_l_dex", "log_teff_dex", "log_age_dex"):
+            self.assertEqual(rec["err_" + k], one[k], k)
 
 
 if __name__ == "__main__":
