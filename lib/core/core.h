@@ -165,6 +165,10 @@ int trail_interp_effective(int interp, size_t n);
 /* Interpolation type across [Fe/H]: the grid's, or simpler with few groups. */
 static inline int trail_z_type(const hrt_grid *g) { return trail_interp_effective(g->interp, g->n_z); }
 int trail_slopes_gsl(size_t n, const double *x, const double *y, double *d, void *gsl_interp_obj);
+/* Runs of consecutive tracks of one route of gp that all reach EEP j (the
+ * runs over which slopes across mass are taken): fn(ctx, a, n) for tracks
+ * a..a+n-1, in route order; stops at, and returns, the first code not HRT_OK. */
+int trail_eep_runs(const hrt_grid *g, const zgroup *gp, size_t j, int (*fn)(void *ctx, size_t a, size_t n), void *ctx);
 void trail_slopes_local(int interp, size_t n, const double *x, const double *y, double *d);
 /* Scratch of trail_slopes_work for n knots (akima: n + 4, cspline: 3 n). */
 #define TRAIL_SLOPES_WORK(n) (3 * (size_t)(n) + 8)

@@ -1,36 +1,21 @@
 /* Extra per-EEP quantities of a grid (tracks/FORMAT.md, "Extra
- * quantities"): their knots across log initial mass, prepared at open with
- * the grid's interpolation type exactly as the standard quantities are
- * (GSL's slopes over runs of consecutive tracks of one route that reach the
- * EEP), and the queries that interpolate them at a star's state: the mass
- * weights of the state's (initial mass, Z) context, the [Fe/H] rule of the
- * standard quantities, and linear in the EEP fraction the state's age gives,
- * which is how log L is interpolated.  They live in their own arrays
- * (zgroup.xknots), so hrt_eval and hrt_star_at, which never read them, cost
- * the same with or without extras. */
+ * quantities"): their knots across log initial mass, prepared with the
+ * grid's interpolation type exactly as the standard quantities are (the
+ * closed-form slopes of slopes.c over the runs of consecutive tracks of one
+ * route that reach the EEP, trail_eep_runs), and the queries that
+ * interpolate them at a star's state: the mass weights of the state's
+ * (initial mass, Z) context, the [Fe/H] rule of the standard quantities,
+ * and linear in the EEP fraction the state's age gives, which is how log L
+ * is interpolated.  They live in their own arrays (zgroup.xknots), so
+ * hrt_eval and hrt_star_at, which never read them, cost the same with or
+ * without extras. */
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-#include <gsl/gsl_interp.h>
-
 #include "core/core.h"
 
 /* ---- preparation ------------------------------------------------------------ */
-
-static const gsl_interp_type *gsl_type_of(int interp)
-{
-    switch (interp) {
-    case HRT_INTERP_AKIMA:
-        return gsl_interp_akima;
-    case HRT_INTERP_CSPLINE:
-        return gsl_interp_cspline;
-    case HRT_INTERP_STEFFEN:
-        return gsl_interp_steffen;
-    default:
-        return gsl_interp_linear;
-    }
-}
 
 /* Value (p[0]) and slope (p[1]) of extra k at EEP j, track i. */
 static inline double *xknot(const hrt_grid *g, const zgroup *gp, size_t j, size_t i, size_t k)
@@ -38,52 +23,32 @@ static inline double *xknot(const hrt_grid *g, const zgroup *gp, size_t j, size_
     return gp->xknots + ((j * (gp->n_mass + 1) + i) * g->n_extra + k) * 2;
 }
 
-/* Scratch for one run of knots: abscissae, values, slopes, and one GSL
- * object per run length (of the effective type, which depends only on it). */
+/* Scratch for one run of knots: abscissae, values, slopes and the
+ * closed-form slopes' work space (TRAIL_SLOPES_WORK). */
 typedef struct xrun {
-    double *x, *y, *d;
-    gsl_interp **obj; /* [cap + 1] */
-    size_t cap;
+    double *x, *y, *d, *work;
 } xrun;
 
-static int run_slopes(const hrt_grid *g, xrun *rb, size_t n)
-{
-    int eff = trail_interp_effective(g->interp, n);
-    if (eff == HRT_INTERP_LINEAR) {
-        trail_slopes_local(HRT_INTERP_LINEAR, n, rb->x, rb->y, rb->d);
-        return HRT_OK;
-    }
-    if (!rb->obj[n] && !(rb->obj[n] = gsl_interp_alloc(gsl_type_of(eff), n)))
-        return HRT_E_NOMEM;
-    return trail_slopes_gsl(n, rb->x, rb->y, rb->d, rb->obj[n]);
-}
+typedef struct xrun_ctx {
+    const hrt_grid *g;
+    zgroup *gp;
+    size_t k, j;
+    xrun *rb;
+} xrun_ctx;
 
-/* Slopes of extra k at EEP j over the runs of each route (as grid_prep.c
- * does for the standard quantities). */
-static int xslopes_at(const hrt_grid *g, zgroup *gp, size_t k, size_t j, xrun *rb)
+/* Slopes of extra k over one run of tracks a..a+n-1 at EEP j: the same
+ * closed-form slopes of the grid's type as the standard quantities. */
+static int xrun_slopes(void *ctx, size_t a, size_t n)
 {
-    for (size_t r = 0; r < g->n_routes; r++) {
-        size_t i = gp->route_lo[r];
-        while (i < gp->route_hi[r]) {
-            if ((size_t)gp->n_eep[i] <= j) {
-                i++;
-                continue;
-            }
-            size_t a = i;
-            while (i < gp->route_hi[r] && (size_t)gp->n_eep[i] > j)
-                i++;
-            size_t n = i - a;
-            for (size_t t = 0; t < n; t++) {
-                rb->x[t] = gp->logm[a + t];
-                rb->y[t] = xknot(g, gp, j, a + t, k)[0];
-            }
-            int rc = run_slopes(g, rb, n);
-            if (rc != HRT_OK)
-                return rc;
-            for (size_t t = 0; t < n; t++)
-                xknot(g, gp, j, a + t, k)[1] = rb->d[t];
-        }
+    xrun_ctx *c = ctx;
+    xrun *rb = c->rb;
+    for (size_t t = 0; t < n; t++) {
+        rb->x[t] = c->gp->logm[a + t];
+        rb->y[t] = xknot(c->g, c->gp, c->j, a + t, c->k)[0];
     }
+    trail_slopes_work(c->g->interp, n, rb->x, rb->y, rb->d, rb->work);
+    for (size_t t = 0; t < n; t++)
+        xknot(c->g, c->gp, c->j, a + t, c->k)[1] = rb->d[t];
     return HRT_OK;
 }
 
@@ -100,7 +65,8 @@ static int prepare_group(const hrt_grid *g, zgroup *gp, const double *raw, xrun 
                 xknot(g, gp, j, i, k)[0] = raw[(k * nm + i) * J + j];
     for (size_t k = 0; k < nx; k++)
         for (size_t j = 0; j < J; j++) {
-            int rc = xslopes_at(g, gp, k, j, rb);
+            xrun_ctx c = {g, gp, k, j, rb};
+            int rc = trail_eep_runs(g, gp, j, xrun_slopes, &c);
             if (rc != HRT_OK)
                 return rc;
         }
@@ -115,20 +81,15 @@ static int prepare_all(hrt_grid *g)
     for (size_t iz = 0; iz < g->n_z; iz++)
         maxn = g->grp[iz].n_mass > maxn ? g->grp[iz].n_mass : maxn;
     xrun rb = {0};
-    rb.cap = maxn;
-    rb.x = malloc(3 * (maxn + 1) * sizeof(double));
-    rb.obj = calloc(maxn + 1, sizeof *rb.obj);
-    int rc = rb.x && rb.obj ? HRT_OK : HRT_E_NOMEM;
+    rb.x = malloc((3 * (maxn + 1) + TRAIL_SLOPES_WORK(maxn)) * sizeof(double));
+    int rc = rb.x ? HRT_OK : HRT_E_NOMEM;
     if (rc == HRT_OK) {
         rb.y = rb.x + maxn + 1;
         rb.d = rb.y + maxn + 1;
+        rb.work = rb.d + maxn + 1;
     }
     for (size_t iz = 0; iz < g->n_z && rc == HRT_OK; iz++)
         rc = prepare_group(g, &g->grp[iz], g->extra_raw[iz], &rb);
-    for (size_t n = 0; rb.obj && n <= maxn; n++)
-        if (rb.obj[n])
-            gsl_interp_free(rb.obj[n]);
-    free(rb.obj);
     free(rb.x);
     for (size_t iz = 0; iz < g->n_z; iz++) {
         if (rc != HRT_OK) {

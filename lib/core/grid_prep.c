@@ -155,9 +155,7 @@ static void route_ranges(const hrt_grid *g, zgroup *gp)
     }
 }
 
-/* Slopes across log mass of quantity qty at EEP j, over runs of
- * consecutive tracks of one route that all reach the EEP. */
-static int knot_slopes_at(const hrt_grid *g, zgroup *gp, int qty, size_t j, run_buf *rb)
+int trail_eep_runs(const hrt_grid *g, const zgroup *gp, size_t j, int (*fn)(void *ctx, size_t a, size_t n), void *ctx)
 {
     for (size_t r = 0; r < g->n_routes; r++) {
         size_t i = gp->route_lo[r];
@@ -169,19 +167,44 @@ static int knot_slopes_at(const hrt_grid *g, zgroup *gp, int qty, size_t j, run_
             size_t a = i;
             while (i < gp->route_hi[r] && (size_t)gp->n_eep[i] > j)
                 i++;
-            size_t n = i - a;
-            for (size_t k = 0; k < n; k++) {
-                rb->x[k] = gp->logm[a + k];
-                rb->y[k] = trail_knot(gp, j, a + k, qty)[0];
-            }
-            int rc = run_slopes(g->interp, rb->work, n, rb->x, rb->y, rb->d);
+            int rc = fn(ctx, a, i - a);
             if (rc != HRT_OK)
                 return rc;
-            for (size_t k = 0; k < n; k++)
-                trail_knot(gp, j, a + k, qty)[1] = rb->d[k];
         }
     }
     return HRT_OK;
+}
+
+typedef struct knot_run {
+    const hrt_grid *g;
+    zgroup *gp;
+    int qty;
+    size_t j;
+    run_buf *rb;
+} knot_run;
+
+static int knot_run_slopes(void *ctx, size_t a, size_t n)
+{
+    knot_run *c = ctx;
+    run_buf *rb = c->rb;
+    for (size_t k = 0; k < n; k++) {
+        rb->x[k] = c->gp->logm[a + k];
+        rb->y[k] = trail_knot(c->gp, c->j, a + k, c->qty)[0];
+    }
+    int rc = run_slopes(c->g->interp, rb->work, n, rb->x, rb->y, rb->d);
+    if (rc != HRT_OK)
+        return rc;
+    for (size_t k = 0; k < n; k++)
+        trail_knot(c->gp, c->j, a + k, c->qty)[1] = rb->d[k];
+    return HRT_OK;
+}
+
+/* Slopes across log mass of quantity qty at EEP j, over runs of
+ * consecutive tracks of one route that all reach the EEP. */
+static int knot_slopes_at(const hrt_grid *g, zgroup *gp, int qty, size_t j, run_buf *rb)
+{
+    knot_run c = {g, gp, qty, j, rb};
+    return trail_eep_runs(g, gp, j, knot_run_slopes, &c);
 }
 
 /* Remnant masses: slopes over runs of consecutive tracks of one route with
