@@ -84,9 +84,9 @@ static int catalogue_chunk(const cli *c, const pop_args *a, uint64_t chunk, cat_
 static int write_manifest(const cli *c, const pop_args *a, const popdist *d, const uint64_t *rows)
 {
     char *path = name_with(a->catalogue, ".manifest.csv", 1);
-    FILE *f = fopen(path, "w");
-    int rc = 0;
-    if (!f) rc = cli_fail(c, CLI_EXIT_FILE, "--catalogue: cannot write the manifest '%s'", path);
+    outfile o;
+    int rc = outfile_open(c, &o, path);
+    FILE *f = rc == 0 ? o.f : NULL;
     for (int r = 0; f && r < d->size; r++) {
         char ins[32];
         snprintf(ins, sizeof ins, ".rank%d", r);
@@ -98,7 +98,7 @@ static int write_manifest(const cli *c, const pop_args *a, const popdist *d, con
                 (unsigned long long)rows[r]);
         free(name);
     }
-    if (f && fclose(f) != 0) rc = cli_fail(c, CLI_EXIT_FILE, "--catalogue: cannot write the manifest '%s'", path);
+    if (f) rc = outfile_close(c, &o);
     free(path);
     return rc;
 }
@@ -113,9 +113,11 @@ int pop_catalogue_run(const cli *c, const pop_args *a, popdist *d, hrt_pop_summa
     if (fmt < 0) return cli_fail(c, CLI_EXIT_USAGE, "--catalogue '%s': name a .h5 (HDF5) or .csv file", a->catalogue);
     char ins[32];
     snprintf(ins, sizeof ins, ".rank%d", d->rank);
-    char *path = d->size > 1 ? name_with(a->catalogue, ins, 0) : xstrdup(a->catalogue);
-    int rc = 0, have = 0;
-    if (hrt_pop_catalogue_open(path, fmt, &cat, &err) != HRT_OK)
+    char *name = d->size > 1 ? name_with(a->catalogue, ins, 0) : xstrdup(a->catalogue);
+    char *path = NULL; /* the file replaced: name, or where its chain of links ends */
+    int rc = outfile_target(c, name, "--catalogue", &path), have = 0;
+    free(name);
+    if (rc == 0 && hrt_pop_catalogue_open(path, fmt, &cat, &err) != HRT_OK)
         rc = cli_fail(c, cli_exit_of_status(err.code), "--catalogue '%s': %s", path, err.message);
     if (rc == 0) scratch_alloc(&s, (size_t)a->spec.chunk_size), have = 1;
     for (uint64_t k = 0; rc == 0 && k < d->my_count; k++) {

@@ -218,9 +218,9 @@ int outfile_open(const cli *c, outfile *o, const char *path);
 int outfile_close(const cli *c, outfile *o);
 /* Give up: the temporary removed, the target untouched. */
 void outfile_abort(outfile *o);
-/* A file the library writes itself, atomically (import, grid upgrade): a symbolic link resolved to the
- * file it names (*target, to free), standard output, a device, a FIFO or a directory refused
- * (a grid is no stream).  what names the argument in messages.  0 or an exit code. */
+/* A file the library writes itself, atomically (import, grid upgrade, catalogues): a symbolic link
+ * resolved to the file it names (*target, to free), standard output, a device, a FIFO or a directory
+ * refused (such a file is no stream).  what names the argument in messages.  0 or an exit code. */
 int outfile_target(const cli *c, const char *path, const char *what, char **target);
 
 /* ---- states of stars: the common table of at, track, isochrone and demo ---- */

@@ -181,17 +181,19 @@ static int save_part(const cli *c, const hrt_pop_part *part, const char *path)
         free(buf);
         return cli_fail(c, CLI_EXIT_INTERNAL, "%s", err.message);
     }
-    /* written whole to a temporary name, then renamed: a killed job leaves no half part */
-    size_t n = strlen(path) + 16;
-    char *tmp = xmalloc(n);
-    snprintf(tmp, n, "%s.tmp%ld", path, (long)getpid());
-    FILE *f = fopen(tmp, "wb");
-    int bad = !f || fwrite(buf, 1, len, f) != len;
-    if (f && fclose(f) != 0) bad = 1;
-    if (!bad && rename(tmp, path) != 0) bad = 1;
-    int rc = bad ? cli_fail(c, CLI_EXIT_FILE, "--save-summary '%s': %s", path, strerror(errno)) : 0;
-    if (bad) remove(tmp);
-    free(tmp);
+    /* through an output file (outfile.c): written whole to a private temporary, then renamed,
+     * so a killed job leaves no half part */
+    outfile o;
+    int rc = outfile_open(c, &o, path);
+    if (rc == 0) {
+        if (fwrite(buf, 1, len, o.f) == len)
+            rc = outfile_close(c, &o);
+        else {
+            int e = errno;
+            outfile_abort(&o);
+            rc = cli_fail(c, CLI_EXIT_FILE, "--save-summary '%s': %s", path, strerror(e));
+        }
+    }
     free(buf);
     return rc;
 }

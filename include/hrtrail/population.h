@@ -436,9 +436,15 @@ typedef struct hrt_pop_catalogue hrt_pop_catalogue;
 enum { HRT_CATALOGUE_CSV = 0, /**< CSV text */
        HRT_CATALOGUE_HDF5 = 1 /**< HDF5, a dataset per column */ };
 /**
- * @brief Create (or truncate) a catalogue file.
+ * @brief Start a catalogue file.
+ * The rows go to a new file of an unpredictable name beside path (mkstemp:
+ * no link planted there is followed), mode 0644, which a successful
+ * hrt_pop_catalogue_close() renames over path; until then, and after any
+ * failure, path is untouched.  path itself is replaced, not written through
+ * (a symbolic link at path is replaced by the file; resolve it first to
+ * write where it points).
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_INVALID (format),
- *   HRT_E_NOMEM, HRT_E_IO (cannot create the file).
+ *   HRT_E_NOMEM, HRT_E_IO (cannot create the temporary file).
  */
 HRT_API int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out, hrt_error *err);
 /**
@@ -448,7 +454,9 @@ HRT_API int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalog
 HRT_API int hrt_pop_catalogue_add(hrt_pop_catalogue *c, double population_age_yr, size_t n, const uint64_t *star,
                                   const double *birth_yr, const hrt_state *states, hrt_error *err);
 /**
- * @brief Write the buffered rows, close the file and free c (also on failure).
+ * @brief Write the buffered rows, close the file, rename it over the path
+ * given to hrt_pop_catalogue_open() and free c (also on failure, when the
+ * temporary file is removed and the path left as it was).
  * Returned: *rows (may be NULL) the rows written.
  * Returned (function value): HRT_OK, HRT_E_NULL, HRT_E_IO.
  */

@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <hdf5.h>
@@ -40,6 +41,8 @@ struct hrt_pop_catalogue {
     uint64_t rows;
     uint64_t *u[N_COLS]; /* every column buffered as 64-bit words (doubles by their bits, ints widened) */
     char *path;
+    char *tmp;           /* the private temporary (mkstemp) beside path, renamed over it by a successful close */
+    int tmp_made;        /* tmp exists on the disk (removed unless renamed) */
 };
 
 static void text_add(hrt_pop_catalogue *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
@@ -56,6 +59,8 @@ static void cat_release(hrt_pop_catalogue *c)
         if (c->file > 0) H5Fclose(c->file);
     }
     H5E_END_TRY;
+    if (c->tmp_made) unlink(c->tmp); /* not renamed: the file at path stays as it was */
+    free(c->tmp);
     for (int k = 0; k < N_COLS; k++) free(c->u[k]);
     free(c->path);
     free(c);
@@ -74,7 +79,7 @@ static int open_hdf5(hrt_pop_catalogue *c, hrt_error *err)
     H5E_BEGIN_TRY
     {
         hsize_t zero = 0, unlimited = H5S_UNLIMITED, chunk = CAT_BUF;
-        c->file = H5Fcreate(c->path, H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);
+        c->file = H5Fcreate(c->tmp, H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT);
         hid_t space = H5Screate_simple(1, &zero, &unlimited), dcpl = H5Pcreate(H5P_DATASET_CREATE);
         ok = c->file >= 0 && space >= 0 && dcpl >= 0 && H5Pset_chunk(dcpl, 1, &chunk) >= 0 && H5Pset_shuffle(dcpl) >= 0 &&
              H5Pset_deflate(dcpl, CAT_DEFLATE) >= 0;
@@ -97,7 +102,8 @@ int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out
         return trail_set_error(err, HRT_E_INVALID, "hrt_pop_catalogue_open: format %d: HRT_CATALOGUE_CSV or _HDF5", format);
     hrt_pop_catalogue *c = calloc(1, sizeof *c);
     if (c) c->fd = -1;
-    int ok = c && (c->path = malloc(strlen(path) + 1));
+    size_t len = strlen(path);
+    int ok = c && (c->path = malloc(len + 1)) && (c->tmp = malloc(len + 16));
     for (int k = 0; ok && k < N_COLS; k++) ok = (c->u[k] = malloc(CAT_BUF * sizeof(uint64_t))) != NULL;
     if (!ok) {
         if (c) cat_release(c);
@@ -108,11 +114,21 @@ int hrt_pop_catalogue_open(const char *path, int format, hrt_pop_catalogue **out
     for (int k = 0; k < N_COLS; k++) c->ds[k] = -1;
     c->file = -1;
     int rc = HRT_OK;
-    c->fd = -1;
-    if (format == HRT_CATALOGUE_HDF5) {
+    /* written to a new file of an unpredictable name beside path (O_EXCL: no planted link is
+     * followed), renamed over path when closed: a failed run leaves path as it was */
+    snprintf(c->tmp, len + 16, "%s.tmp-XXXXXX", path);
+    c->fd = mkstemp(c->tmp);
+    c->tmp_made = c->fd >= 0;
+    if (c->fd < 0) {
+        rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_open: cannot create a temporary file beside '%s': %s",
+                             path, strerror(errno));
+    } else if (fchmod(c->fd, 0644) != 0) {
+        rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_open: cannot set the mode of '%s': %s", c->tmp,
+                             strerror(errno));
+    } else if (format == HRT_CATALOGUE_HDF5) {
+        close(c->fd); /* HDF5 opens the file by its name */
+        c->fd = -1;
         rc = open_hdf5(c, err);
-    } else if ((c->fd = open(path, O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0666)) < 0) {
-        rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_open: cannot create '%s': %s", path, strerror(errno));
     } else {
         for (int k = 0; k < N_COLS; k++) text_add(c, "%s%s", k ? "," : "", col_name[k]);
         text_add(c, "\n");
@@ -302,6 +318,10 @@ int hrt_pop_catalogue_close(hrt_pop_catalogue *c, uint64_t *rows, hrt_error *err
         H5E_END_TRY;
     }
     if (rc == HRT_OK && bad) rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_close: cannot finish '%s'", c->path);
+    if (rc == HRT_OK && rename(c->tmp, c->path) != 0)
+        rc = trail_set_error(err, HRT_E_IO, "hrt_pop_catalogue_close: cannot rename '%s' to '%s': %s", c->tmp, c->path,
+                             strerror(errno));
+    if (rc == HRT_OK) c->tmp_made = 0;
     cat_release(c);
     if (rc == HRT_OK) trail_set_error(err, HRT_OK, NULL);
     return rc;

@@ -93,5 +93,30 @@ ids = [int(r["star"]) for r in rows]
 check(rc == rc2 == 0 and ids == list(range(4000, 12000)), "--chunks 1:2 writes stars 4000 to 11999, in order")
 check(all(abs(float(r["initial_mass_msun"]) - m0[int(r["star"])]) <= 1e-9 * m0[int(r["star"])] for r in rows)
       and np.array_equal(star, np.arange(20000)), "the chunk run's stars are the whole run's (same masses)")
+# output files (common practice for files a command replaces): a symbolic link is written through
+# and stays, a FIFO is refused, a failed run leaves the old file, and no temporary is left beside
+small = ["--stars", "500", "--age", "1Gyr", "--seed", "8", "--json"]
+with open(os.path.join(d, "real.csv"), "w") as f:
+    f.write("old\n")
+os.symlink("real.csv", os.path.join(d, "link.csv"))
+rc, _ = run(small + ["--catalogue", "link.csv"])
+with open(os.path.join(d, "real.csv")) as f:
+    first = f.readline()
+check(rc == 0 and os.path.islink(os.path.join(d, "link.csv")) and first.startswith("star,"),
+      "--catalogue through a symbolic link: the file it names is replaced, the link stays")
+os.mkfifo(os.path.join(d, "fifo.csv"))
+rc, _ = run(small + ["--catalogue", "fifo.csv"])
+check(rc != 0, "--catalogue naming a FIFO is refused")
+os.symlink("part.hps", os.path.join(d, "plink.hps"))
+rc, _ = run(small + ["--part", "0/2", "--save-summary", "plink.hps"])
+check(rc == 0 and os.path.islink(os.path.join(d, "plink.hps")) and os.path.getsize(os.path.join(d, "part.hps")) > 0,
+      "--save-summary through a symbolic link: the file it names is written, the link stays")
+with open(os.path.join(d, "kept.csv"), "w") as f:
+    f.write("kept\n")
+rc, _ = run(["--stars", "500", "--age", "1Gyr", "--imf", "no-such-imf", "--catalogue", "kept.csv"])
+with open(os.path.join(d, "kept.csv")) as f:
+    check(rc != 0 and f.read() == "kept\n", "a run refused before it starts leaves the old catalogue as it was")
+left = [n for n in os.listdir(d) if ".tmp" in n]
+check(not left, "no temporary file left beside the outputs %s" % left)
 print("cli-population-catalogue: %s" % ("all passed" if not failed else "%d failures" % failed))
 sys.exit(1 if failed else 0)
