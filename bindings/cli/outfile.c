@@ -288,8 +288,8 @@ int outfile_target(const cli *c, const char *path, const char *what, char **targ
         return cli_fail(c, CLI_EXIT_FILE, "%s '%s': %s", what, path, strerror(e));
     if (exists && !S_ISREG(st.st_mode)) {
         const char *kind = S_ISDIR(st.st_mode)    ? "is a directory"
-                           : S_ISFIFO(st.st_mode) ? "is a FIFO; the file is written whole and renamed into place, name a regular file"
-                           : is_stream(&st)       ? "is a device; the file is written whole and renamed into place, name a regular file"
+                           : S_ISFIFO(st.st_mode) ? "is a FIFO; the file cannot be streamed (it is written whole, then renamed), name a regular file"
+                           : is_stream(&st)       ? "is a device; the file cannot be streamed (it is written whole, then renamed), name a regular file"
                                                   : "is not a regular file";
         free(*target);
         *target = NULL;
