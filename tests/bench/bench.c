@@ -14,7 +14,9 @@
  * far more), and beside them references measured in the same run: a
  * straightforward C/GSL version of the query (gsl_ref.c) on the same stars,
  * a compute-only kernel on 1 and 2 threads, and (when NUMPY_BENCH names
- * tests/bench/numpy_bench.py) NumPy at its best chunk size and SciPy. */
+ * tests/bench/numpy_bench.py) NumPy at its best chunk size and SciPy.
+ * It exits with 1 when hrt_eval and the C/GSL reference disagree beyond
+ * the tolerance gsl_ref.h states (a wrong answer, not a slow one). */
 #include <math.h>
 #include <pthread.h>
 #include <stdio.h>
@@ -243,14 +245,16 @@ static void print_fig(const char *what, cpu_fig f, const char *unit, const char 
 }
 
 /* hrt_eval against the straightforward C/GSL version (gsl_ref.c) on the
- * same on-track stars of one route at the middle group. */
-static void compare_gsl(const hrt_grid *g)
+ * same on-track stars of one route at the middle group: its time, and how
+ * closely the two agree (gsl_ref.h states the tolerance).  The number of
+ * stars beyond it (0 when they agree; -1 without a route to compare). */
+static long compare_gsl(const hrt_grid *g)
 {
     size_t iz = hrt_grid_n_z(g) / 2;
     gsl_ref *r = gsl_ref_new(g, iz);
     if (!r) {
         printf("C/GSL reference: no route with 3 tracks at group %zu\n", iz);
-        return;
+        return -1;
     }
     const size_t N = 100000;
     batch b;
@@ -276,16 +280,22 @@ static void compare_gsl(const hrt_grid *g)
         t[k] = thread_cpu() - c0;
     }
     cpu_fig fr = fig_of(t, 5, 1e9 / N), fh = time_eval(g, &b, 5);
-    double worst = 0.0;
-    for (size_t i = 0; i < N; i++)
-        if (b.out[i].status == HRT_OK && isfinite(ro[7 * i]) && fabs(b.out[i].log_l_lsun - ro[7 * i]) > worst)
-            worst = fabs(b.out[i].log_l_lsun - ro[7 * i]);
+    double worst[7], lam_min;
+    size_t both, bad = gsl_ref_compare(N, b.out, ro, worst, &both);
+    size_t nbl = gsl_ref_n_blended(r, &lam_min);
     printf("C/GSL spline per EEP (same stars)     %8.1f ns/star (thread CPU min; median %.1f) -> hrtrail %.1fx "
-           "(hrtrail %.1f ns; largest |log L difference| %.2g)\n",
-           fr.min, fr.median, fr.min / fh.min, fh.min, worst);
+           "(hrtrail %.1f ns)\n",
+           fr.min, fr.median, fr.min / fh.min, fh.min);
+    printf("  agreement on %zu of %zu stars (%zu of its intervals blend log age, lambda >= %.3g): largest "
+           "|difference| log L %.2g, log Teff %.2g, log R %.2g, log g %.2g dex, masses %.2g of M0; %zu beyond "
+           "%.0e dex / %.0e%s\n",
+           both, N, nbl, lam_min, worst[0], worst[1], worst[2], worst[3],
+           fmax(worst[4], fmax(worst[5], worst[6])), bad, GSL_REF_TOL_LOG, GSL_REF_TOL_MASS,
+           bad ? "  ** DISAGREE **" : "");
     free(ro);
     free_batch(&b);
     gsl_ref_free(r);
+    return (long)bad;
 }
 
 /* bench --workload KIND N GRID: one workload, nothing timed, for
@@ -403,7 +413,7 @@ int main(int argc, char **argv)
     cpu_fig f1 = time_eval(g, &b1, 7), fz = time_eval(g, &bz, 5);
     print_fig("hrt_eval, one grid Z, full state", f1, "ns/star", "target <= 110");
     print_fig("hrt_eval, random Z between groups", fz, "ns/star", "target <= 400");
-    compare_gsl(g);
+    long disagree = compare_gsl(g);
 
     /* One star at random ages. */
     hrt_star *st;
@@ -528,5 +538,9 @@ int main(int argc, char **argv)
     unlink(path10);
     unlink(path);
     rmdir(tmp);
+    if (disagree > 0) {
+        fprintf(stderr, "bench: hrt_eval and the C/GSL reference disagree on %ld stars\n", disagree);
+        return 1;
+    }
     return 0;
 }
