@@ -613,10 +613,12 @@ class Grid(_Owned):
             check(rc, e, "hrt_isochrone")
             return _states(out[:n.value].copy() if n.value < cap else out)
 
-    def accuracy(self, interp=None, threads: int = 0, progress=None, z=None, store: bool = False) -> List[dict]:
+    def accuracy(self, interp=None, threads: int = 0, progress=None, z=None, store: bool = False,
+                 across_z: bool = False) -> List[dict]:
         """Leave-one-out interpolation accuracy of this grid: hrtrail.accuracy(self, ...)."""
         from .build import accuracy
-        return accuracy(self, interp=interp, threads=threads, progress=progress, z=z, store=store)
+        return accuracy(self, interp=interp, threads=threads, progress=progress, z=z, store=store,
+                        across_z=across_z)
 
     def star(self, mass_msun: Num, z: Num) -> "Star":
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""
