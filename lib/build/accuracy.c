@@ -368,12 +368,14 @@ static int job_compare(acc_ctx *c, size_t iz, size_t k, int across, const hrt_gr
 #define ACC_WINDOW 4
 
 /* Write the rebuilt group, open it with type it (and, for the local types,
- * every other chosen local type) and compare.  HDF5 (Debian's is not
+ * every other chosen local type) and compare.  Across metallicity (global
+ * < 0) the rebuilt grid of every other group, opened with every chosen type,
+ * and every track of the dropped group compared.  HDF5 (Debian's is not
  * thread-safe) is reached from one thread at a time. */
 static int job_pass(acc_ctx *c, const acc_job *J, int global, hrt_error *err)
 {
     hrt_builder *b = NULL;
-    int rc = job_builder(c, J, global ? 0 : ACC_WINDOW, &b, err); /* global < 0: across metallicity, every type */
+    int rc = job_builder(c, J, global ? 0 : ACC_WINDOW, &b, err);
     if (rc != HRT_OK)
         return rc;
     char path[600];
@@ -390,8 +392,9 @@ static int job_pass(acc_ctx *c, const acc_job *J, int global, hrt_error *err)
     }
     hrt_builder_free(b);
     int across = J->k == ACC_WHOLE_GROUP;
+    size_t k0 = across ? 0 : J->k, k1 = across ? c->grp[J->iz].nm : J->k + 1;
     for (int it = 0; it < HRT_INTERP_COUNT; it++) {
-        for (size_t k = across ? 0 : J->k; h[it] && rc == HRT_OK && k < (across ? c->grp[J->iz].nm : J->k + 1); k++)
+        for (size_t k = k0; h[it] && rc == HRT_OK && k < k1; k++)
             rc = job_compare(c, J->iz, k, across, h[it], it, err);
 #pragma omp critical
         hrt_grid_close(h[it]);
