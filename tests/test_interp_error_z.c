@@ -17,6 +17,8 @@
 #include <string.h>
 #include <unistd.h>
 
+#include <hdf5.h>
+
 #include "hrtrail.h"
 #include "synth.h"
 
@@ -106,7 +108,30 @@ START_TEST(run_rows_and_codes)
     hrt_accuracy_free(a);
     run_and_store(path, HRT_INTERP_LINEAR, 0);
     run_and_store(path, HRT_INTERP_LINEAR, 1);
-    /* storing the mass direction again replaces accuracy/ whole: across_z/ goes */
+    ck_assert_int_eq(hrt_grid_open_with(path, HRT_INTERP_LINEAR, &g, &err), HRT_OK);
+    ck_assert(hrt_grid_has_interp_error(g));
+    hrt_grid_close(g);
+    /* the reader checks the Z interval of every block: one that names no group is refused */
+    hid_t f = H5Fopen(path, H5F_ACC_RDWR, H5P_DEFAULT);
+    ck_assert_int_ge(f, 0);
+    hid_t d = H5Dopen2(f, "accuracy/across_z/z_lo", H5P_DEFAULT);
+    ck_assert_int_ge(d, 0);
+    hid_t sp = H5Dget_space(d);
+    hssize_t n = H5Sget_simple_extent_npoints(sp);
+    ck_assert_int_gt(n, 0);
+    double *zl = malloc((size_t)n * sizeof *zl);
+    ck_assert_ptr_nonnull(zl);
+    ck_assert_int_ge(H5Dread(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, zl), 0);
+    zl[n - 1] = 0.5 * zl[n - 1];
+    ck_assert_int_ge(H5Dwrite(d, H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, zl), 0);
+    free(zl);
+    H5Sclose(sp);
+    H5Dclose(d);
+    H5Fclose(f);
+    ck_assert_int_eq(hrt_grid_open_with(path, HRT_INTERP_LINEAR, &g, &err), HRT_E_FORMAT);
+    ck_assert_msg(strstr(err.message, "accuracy/across_z") != NULL, "%s", err.message);
+    /* storing the mass direction again replaces accuracy/ whole: the broken across_z/ goes */
+    run_and_store(path, HRT_INTERP_LINEAR, 0);
     ck_assert_int_eq(hrt_grid_open_with(path, HRT_INTERP_LINEAR, &g, &err), HRT_OK);
     ck_assert(hrt_grid_has_interp_error(g));
     hrt_grid_close(g);
