@@ -442,8 +442,10 @@ class Grid(_Owned):
 
         The statistic: the largest leave-one-out |error| (dex, at the same EEP) of the
         two measured tracks either side of the state's mass, in the block of at most
-        10 EEPs holding its EEP, in the metallicity groups either side of its Z.  An
-        upper estimate, not a 1-sigma error (include/hrtrail/core.h, tracks/MODEL.md).
+        10 EEPs holding its EEP, in the metallicity groups either side of its Z; between
+        groups, plus the stored error across metallicity (accuracy(..., across_z=True,
+        store=True)) of the bracketing groups' tracks nearest its mass.  An upper
+        estimate, not a 1-sigma error (include/hrtrail/core.h, tracks/MODEL.md).
         """
         def one(addr, raise_on_error):
             out = HrtInterpError()
