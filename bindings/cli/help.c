@@ -132,8 +132,10 @@ static const char state_cols_text[] =
     "  --interp-error " pad "add err_log_l_dex, err_log_teff_dex, err_log_age_dex: the\n"      \
     "                 " pad "interpolation error the grid file stores (grid accuracy\n"      \
     "                 " pad "--store): the largest leave-one-out error of the two\n"         \
-    "                 " pad "tracks either side of the mass, at the star's EEP. An\n"       \
-    "                 " pad "upper estimate, not a 1-sigma error; empty for remnants\n"
+    "                 " pad "tracks either side of the mass, at the star's EEP,\n"        \
+    "                 " pad "plus between metallicities the error across them\n"         \
+    "                 " pad "(--across-z --store). An upper estimate, not a\n"          \
+    "                 " pad "1-sigma error; empty for remnants\n"
 
 static const char accuracy_text[] =
     "Accuracy: answers are as good as the grid. The default grid is a semi-analytic\n"
