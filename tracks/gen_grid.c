@@ -290,22 +290,29 @@ static int add_metallicity(hrt_builder *b, const layout *lay, const gen_params *
     return status;
 }
 
-/* Measure the grid just written by leaving each track out, for every
- * interpolation type, and store the error field in it (FORMAT.md,
- * accuracy/): hrt_state_interp_error reads it. */
+/* Measure the grid just written by leaving each track out, then each
+ * interior metallicity group, for every interpolation type, and store both
+ * error fields in it (FORMAT.md, accuracy/ and accuracy/across_z/):
+ * hrt_state_interp_error reads them.  The mass direction is stored first:
+ * storing it replaces accuracy/ whole. */
 static int store_error_field(const char *out, hrt_error *err)
 {
-    hrt_grid *g = NULL;
-    hrt_accuracy *acc = NULL;
-    int rc = hrt_grid_open(out, &g, err);
-    if (rc == HRT_OK)
-        rc = hrt_accuracy_new(&acc, err);
-    if (rc == HRT_OK)
-        rc = hrt_accuracy_run(acc, g, err);
-    hrt_grid_close(g);
-    if (rc == HRT_OK)
-        rc = hrt_accuracy_store(acc, out, err);
-    hrt_accuracy_free(acc);
+    int rc = HRT_OK;
+    for (int across = 0; across <= 1 && rc == HRT_OK; across++) {
+        hrt_grid *g = NULL;
+        hrt_accuracy *acc = NULL;
+        rc = hrt_grid_open(out, &g, err);
+        if (rc == HRT_OK)
+            rc = hrt_accuracy_new(&acc, err);
+        if (rc == HRT_OK)
+            rc = hrt_accuracy_set_across_z(acc, across, err);
+        if (rc == HRT_OK)
+            rc = hrt_accuracy_run(acc, g, err);
+        hrt_grid_close(g);
+        if (rc == HRT_OK)
+            rc = hrt_accuracy_store(acc, out, err);
+        hrt_accuracy_free(acc);
+    }
     if (rc != HRT_OK)
         fprintf(stderr, "gen_grid: storing the error field: %s\n", err->message);
     return rc != HRT_OK;

@@ -121,8 +121,9 @@ extern const size_t cli_n_commands;
 
 /* ---- the grid ---- */
 int cli_open_grid(cli *c);
-/* hrtrail grid accuracy (cmd_accuracy.c): c->interp -1 for every type; threads 0 for every core. */
-int grid_accuracy(cli *c, int threads, int store);
+/* hrtrail grid accuracy (cmd_accuracy.c): c->interp -1 for every type; threads 0 for every core;
+ * across_z: drop metallicity groups instead of tracks. */
+int grid_accuracy(cli *c, int threads, int store, int across_z);
 void cli_close_grid(cli *c);
 /* Metallicity from --z / --feh (default: the grid's z_ref); checks the grid's range. */
 int cli_resolve_z(cli *c, double *z);

@@ -2,6 +2,7 @@
  * (leave one track out, hrt_accuracy_run): a table, CSV or JSON, with the
  * wall-clock time of the run. */
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <string.h>
 #include <time.h>
@@ -13,8 +14,8 @@ static const char *const qname[HRT_ACCURACY_NQ] = {"log_l", "log_teff", "log_age
 
 static void progress(void *user, size_t done, size_t total)
 {
-    (void)user;
-    fprintf(stderr, "\rhrtrail grid accuracy: %zu/%zu tracks dropped and predicted", done, total);
+    fprintf(stderr, "\rhrtrail grid accuracy: %zu/%zu %s dropped and predicted", done, total,
+            user ? "metallicity groups" : "tracks");
     if (done == total) fputc('\n', stderr);
     fflush(stderr);
 }
@@ -73,13 +74,18 @@ static table *acc_table(const cli *c, const hrt_accuracy *a, acc_cols_t *b)
     return t;
 }
 
-static void text_report(const cli *c, const hrt_accuracy *a, double secs)
+static void text_report(const cli *c, const hrt_accuracy *a, double secs, int across_z)
 {
     printf("grid file   ");
     text_write(stdout, c->grid_used ? c->grid_used : "(default grid)");
-    printf("\nleave-one-out: each interior track of each route dropped, its metallicity rebuilt\n"
-           "without it and the track interpolated from the rest; |error| at each EEP by phase\n"
-           "(median / 95th percentile / max, dex; worst track: initial mass Msun, Z, EEP)\n");
+    if (across_z)
+        printf("\nleave-one-group-out across metallicity: each interior metallicity group dropped,\n"
+               "the grid rebuilt from the others and each of its tracks interpolated at its own\n"
+               "mass and Z; |error| at each EEP by phase\n");
+    else
+        printf("\nleave-one-out: each interior track of each route dropped, its metallicity rebuilt\n"
+               "without it and the track interpolated from the rest; |error| at each EEP by phase\n");
+    printf("(median / 95th percentile / max, dex; worst track: initial mass Msun, Z, EEP)\n");
     int last_it = -1, last_r = -1;
     for (size_t i = 0; i < hrt_accuracy_n_rows(a); i++) {
         hrt_accuracy_row w;
@@ -112,7 +118,7 @@ static int store_field(cli *c, const hrt_accuracy *a)
     return 0;
 }
 
-int grid_accuracy(cli *c, int threads, int store)
+int grid_accuracy(cli *c, int threads, int store, int across_z)
 {
     int types = c->interp; /* -1: every type */
     if (types < 0) c->interp = HRT_INTERP_STEFFEN; /* the open grid's own type does not matter */
@@ -123,7 +129,10 @@ int grid_accuracy(cli *c, int threads, int store)
     rc = hrt_accuracy_new(&a, &err);
     if (rc == HRT_OK) rc = hrt_accuracy_set_interp(a, types, &err);
     if (rc == HRT_OK) rc = hrt_accuracy_set_threads(a, threads, &err);
-    if (rc == HRT_OK && isatty(STDERR_FILENO)) rc = hrt_accuracy_set_progress(a, progress, NULL);
+    if (rc == HRT_OK) rc = hrt_accuracy_set_across_z(a, across_z, &err);
+    static const char groups[] = "groups"; /* the progress line's unit: non-NULL across metallicity */
+    if (rc == HRT_OK && isatty(STDERR_FILENO))
+        rc = hrt_accuracy_set_progress(a, progress, across_z ? (void *)(uintptr_t)groups : NULL);
     struct timespec t0, t1;
     clock_gettime(CLOCK_MONOTONIC, &t0);
     if (rc == HRT_OK) rc = hrt_accuracy_run(a, c->grid, &err);
@@ -138,7 +147,7 @@ int grid_accuracy(cli *c, int threads, int store)
         return rc;
     }
     if (c->fmt == FMT_TABLE) {
-        text_report(c, a, secs);
+        text_report(c, a, secs, across_z);
     } else {
         acc_cols_t b;
         table *t = acc_table(c, a, &b);
@@ -150,6 +159,7 @@ int grid_accuracy(cli *c, int threads, int store)
             jw_begin_object(&w, NULL);
             jw_str(&w, "file", c->grid_used);
             jw_num(&w, "seconds", secs);
+            jw_str(&w, "direction", across_z ? "metallicity" : "mass");
             jw_table(&w, "rows", t);
             jw_end_object(&w);
             jw_finish(&w);

@@ -577,14 +577,18 @@ static int grid_upgrade(cli *c, const char *old_path, const char *new_path)
 
 /* ------------------------------------------------------------------ the command */
 
-enum { O_GRID_THREADS = 1, O_GRID_STORE };
-static const optdef grid_opts[] = {{"threads", 'j', 1, O_GRID_THREADS}, {"store", 0, 0, O_GRID_STORE}, {NULL, 0, 0, 0}};
+enum { O_GRID_THREADS = 1, O_GRID_STORE, O_GRID_ACROSS_Z };
+static const optdef grid_opts[] = {{"threads", 'j', 1, O_GRID_THREADS},
+                                   {"store", 0, 0, O_GRID_STORE},
+                                   {"across-z", 0, 0, O_GRID_ACROSS_Z},
+                                   {NULL, 0, 0, 0}};
 
 typedef struct grid_args {
     const char *pos[3];
     size_t npos;
     int threads; /* grid accuracy: 0 for every core */
     int store;   /* grid accuracy --store: write the error field into the grid file */
+    int across_z; /* grid accuracy --across-z: drop metallicity groups instead of tracks */
 } grid_args;
 
 /* Arguments: the action (checked at once, before any --help), then files. */
@@ -603,6 +607,10 @@ static int grid_take(cli *c, void *ctx, int id, const char *val)
         a->store = 1;
         return 0;
     }
+    if (id == O_GRID_ACROSS_Z) {
+        a->across_z = 1;
+        return 0;
+    }
     if (id != OPT_ARG) return 0;
     if (a->npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", val);
     if (a->npos == 0 && strcmp(val, "info") && strcmp(val, "check") && strcmp(val, "upgrade") && strcmp(val, "accuracy"))
@@ -617,7 +625,7 @@ static const cmdopts grid_cmdopts = {grid_opts, NULL, ACCEPT_FORMAT, grid_take, 
 
 int cmd_grid(cli *c, argparse *p)
 {
-    grid_args a = {{NULL, NULL, NULL}, 0, 0, 0};
+    grid_args a = {{NULL, NULL, NULL}, 0, 0, 0, 0};
     int interp = c->interp;
     c->interp = -1; /* grid accuracy without --interp: every type */
     int rc = cli_parse(c, p, &grid_cmdopts, &a);
@@ -641,6 +649,8 @@ int cmd_grid(cli *c, argparse *p)
         return cli_fail(c, CLI_EXIT_USAGE, "--threads applies to 'hrtrail grid accuracy' only");
     if (a.store && strcmp(action, "accuracy"))
         return cli_fail(c, CLI_EXIT_USAGE, "--store applies to 'hrtrail grid accuracy' only");
+    if (a.across_z && strcmp(action, "accuracy"))
+        return cli_fail(c, CLI_EXIT_USAGE, "--across-z applies to 'hrtrail grid accuracy' only");
     c->cmd = !strcmp(action, "info") ? "grid info" : !strcmp(action, "check") ? "grid check" : "grid accuracy";
     if (a.npos == 3) return cli_fail(c, CLI_EXIT_USAGE, "unexpected argument '%s'", a.pos[2]);
     if (a.npos == 2) {
@@ -650,7 +660,7 @@ int cmd_grid(cli *c, argparse *p)
     if (!strcmp(action, "check")) return grid_check(c);
     if (!strcmp(action, "accuracy")) {
         if (all_types) c->interp = -1;
-        return grid_accuracy(c, a.threads, a.store);
+        return grid_accuracy(c, a.threads, a.store, a.across_z);
     }
     if ((rc = cli_open_grid(c))) return rc;
     return grid_info(c);

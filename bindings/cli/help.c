@@ -132,8 +132,10 @@ static const char state_cols_text[] =
     "  --interp-error " pad "add err_log_l_dex, err_log_teff_dex, err_log_age_dex: the\n"      \
     "                 " pad "interpolation error the grid file stores (grid accuracy\n"      \
     "                 " pad "--store): the largest leave-one-out error of the two\n"         \
-    "                 " pad "tracks either side of the mass, at the star's EEP. An\n"       \
-    "                 " pad "upper estimate, not a 1-sigma error; empty for remnants\n"
+    "                 " pad "tracks either side of the mass, at the star's EEP,\n"        \
+    "                 " pad "plus between metallicities the error across them\n"         \
+    "                 " pad "(--across-z --store). An upper estimate, not a\n"          \
+    "                 " pad "1-sigma error; empty for remnants\n"
 
 static const char accuracy_text[] =
     "Accuracy: answers are as good as the grid. The default grid is a semi-analytic\n"
@@ -346,7 +348,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "Usage: hrtrail grid info [FILE] [--grid FILE] [--csv | --json]\n"
      "       hrtrail grid check [FILE] [--grid FILE] [--csv | --json]\n"
      "       hrtrail grid accuracy [FILE] [--grid FILE] [--interp NAME] [-j N] [--store]\n"
-     "                             [--csv | --json]\n"
+     "                             [--across-z] [--csv | --json]\n"
      "       hrtrail grid upgrade OLD NEW\n"
      "\n"
      "  info   what the grid holds: file, size on disk and in memory, provenance\n"
@@ -382,6 +384,13 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "         on standard error when that is a terminal. --store also writes the\n"
      "         errors into the grid file (group accuracy/ of FORMAT.md) for\n"
      "         --interp-error and the fit; the default grid ships them.\n"
+     "         --across-z measures across metallicity instead: each interior\n"
+     "         metallicity group is dropped in turn, the grid rebuilt from the other\n"
+     "         groups and each of its tracks interpolated at its own mass and Z;\n"
+     "         same report (tracks the other groups do not cover, or place on\n"
+     "         another route, are skipped). With --store it writes accuracy/across_z/,\n"
+     "         which --interp-error adds between metallicity groups: store the mass\n"
+     "         direction first (storing it replaces accuracy/ whole).\n"
      "  upgrade  convert the grid file OLD, of an older format version, to the\n"
      "         current one (format " HELP_STR(HRT_FORMAT_VERSION) ") and write it to NEW (atomically: NEW is\n"
      "         replaced only when complete; it may be OLD itself). Values are copied\n"
@@ -396,6 +405,7 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  hrtrail grid check my-grid.h5\n"
      "  hrtrail grid accuracy my-grid.h5 --interp linear --csv\n"
      "  hrtrail grid accuracy my-grid.h5 --store\n"
+     "  hrtrail grid accuracy my-grid.h5 --across-z --store\n"
      "  hrtrail at --grid my-grid.h5 --mass 1.3 --age 2Gyr --interp-error\n"
      "  hrtrail grid upgrade my-grid-v1.h5 my-grid.h5\n",
      0, OUT_GRID},

@@ -479,7 +479,8 @@ module hrtrail
        hrt_import_dropped_row, hrt_import_n_routes, hrt_import_route_name, hrt_import_route_n_keypoints, &
        hrt_import_keypoint_name, hrt_import_n_z, hrt_import_z, hrt_import_route_boundary
   public :: hrt_accuracy_new, hrt_accuracy_free, hrt_accuracy_set_interp, hrt_accuracy_set_threads, &
-       hrt_accuracy_set_z, hrt_accuracy_run, hrt_accuracy_n_rows, hrt_accuracy_row_at, hrt_accuracy_store, &
+       hrt_accuracy_set_z, hrt_accuracy_set_across_z, hrt_accuracy_run, hrt_accuracy_n_rows, &
+       hrt_accuracy_row_at, hrt_accuracy_store, &
        hrt_state_interp_error, hrt_grid_has_interp_error
   interface
      function hrt_abi_version() bind(C, name="hrt_abi_version") result(r)
@@ -1564,6 +1565,13 @@ module hrtrail
        type(hrt_error), intent(inout) :: err
        integer(c_int) :: rc
      end function hrt_accuracy_set_z
+     function hrt_accuracy_set_across_z(acc, on, err) bind(C, name="hrt_accuracy_set_across_z") result(rc)
+       import :: c_ptr, c_int, hrt_error
+       type(c_ptr), value :: acc
+       integer(c_int), value :: on
+       type(hrt_error), intent(inout) :: err
+       integer(c_int) :: rc
+     end function hrt_accuracy_set_across_z
      function hrt_accuracy_run(acc, grid, err) bind(C, name="hrt_accuracy_run") result(rc)
        import :: c_ptr, c_int, hrt_error
        type(c_ptr), value :: acc, grid

@@ -553,6 +553,24 @@ HRT_API int hrt_accuracy_set_threads(hrt_accuracy *acc, int n, hrt_error *err);
  */
 HRT_API int hrt_accuracy_set_z(hrt_accuracy *acc, double z, hrt_error *err);
 /**
+ * @brief Measure across metallicity instead of across mass (on != 0), or
+ * across mass again (on = 0, the default).
+ *
+ * Across metallicity, hrt_accuracy_run() drops each interior metallicity
+ * group in turn (one with a group of lower and one of higher Z; with
+ * hrt_accuracy_set_z() only that group), rebuilds the grid from every other
+ * group, and interpolates each of the dropped group's tracks at its own
+ * initial mass and Z with the grid's own interpolation across [Fe/H] (and
+ * across mass within the groups used).  Rows, statistics and the worst
+ * tracks named are those of the mass direction; a track whose mass the
+ * remaining groups do not cover, or which they place on another route, is
+ * not compared (n_tracks counts those compared).  The progress callback
+ * counts dropped groups.  hrt_accuracy_store() of such a run writes the
+ * across-metallicity field accuracy/across_z/ (tracks/FORMAT.md).
+ * Returned (function value): HRT_OK, HRT_E_NULL.
+ */
+HRT_API int hrt_accuracy_set_across_z(hrt_accuracy *acc, int on, hrt_error *err);
+/**
  * Callback after each dropped track: (user, tracks done, tracks in total).
  * Called from one thread at a time, not necessarily the caller's. May be NULL.
  */
@@ -628,6 +646,11 @@ HRT_API int hrt_accuracy_row_at(const hrt_accuracy *acc, size_t i, hrt_accuracy_
  *      measured on: store it only in that file.
  *   3. A run restricted by hrt_accuracy_set_z() or hrt_accuracy_set_interp()
  *      stores only what it measured; states outside it get no estimate.
+ *   4. A run across metallicity (hrt_accuracy_set_across_z()) writes only
+ *      the subgroup accuracy/across_z/, replacing one stored before, into a
+ *      file that already holds the mass-direction field (else
+ *      HRT_E_INVALID): store the mass direction first, since storing it
+ *      replaces the whole group accuracy/, across_z/ included.
  */
 HRT_API int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err);
 

@@ -446,7 +446,7 @@ typedef struct hrt_interp_error {
     double log_l_dex;    /**< |error| of log L/Lsun at the state's EEP, dex */
     double log_teff_dex; /**< |error| of log Teff/K at the state's EEP, dex */
     double log_age_dex;  /**< |error| of log age at the state's EEP, dex */
-    int32_t n_tracks;    /**< measured tracks the estimate comes from (1..8) */
+    int32_t n_tracks;    /**< measured tracks the estimate comes from (1..8 across mass, up to 8 more across metallicity) */
     double reserved[4];  /**< zero; room to grow */
 } hrt_interp_error;
 
@@ -478,8 +478,15 @@ typedef struct hrt_interp_error {
  *      interval's estimate too, though its true error there is nil.
  *   2. Errors are at the same EEP.  At a given age a star's log L also
  *      moves by (d log L / d log age) times the age error; that is not
- *      added.  Across metallicity only the mass direction is measured.
- *   3. Does not slow hrt_eval(), which never reads the field.  O(blocks
+ *      added.
+ *   3. Between metallicity groups, when the file also stores the field
+ *      across metallicity (accuracy/across_z/, hrt_accuracy_set_across_z()),
+ *      the largest error found when the bracketing groups (those not at an
+ *      edge) were dropped and predicted across [Fe/H], at their two tracks
+ *      nearest below and above the state's mass, is added to the estimate
+ *      (a sum, not in quadrature: the sum of two bounds stays a bound).
+ *      At a group's own Z the estimate is the mass direction's, unchanged.
+ *   4. Does not slow hrt_eval(), which never reads the field.  O(blocks
  *      stored) per call; thread-safe on a shared grid; no allocation.
  */
 HRT_API int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_error *out, hrt_error *err);

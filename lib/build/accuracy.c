@@ -131,6 +131,50 @@ static int interior(const acc_group *G, size_t k)
     return k > 0 && k + 1 < G->nm && G->tr[k - 1].route == G->tr[k].route && G->tr[k + 1].route == G->tr[k].route;
 }
 
+/* Read group iz's tracks and route boundaries. */
+static int group_read(acc_ctx *c, size_t iz, hrt_error *err)
+{
+    acc_group *G = &c->grp[iz];
+    G->tr = calloc(G->nm ? G->nm : 1, sizeof *G->tr);
+    if (!G->tr)
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
+    for (size_t b = 0; b + 1 < c->nr; b++)
+        G->bnd[b] = hrt_grid_route_boundary(c->g, iz, b);
+    for (size_t im = 0; im < G->nm; im++) {
+        int rc = track_read(c->g, iz, im, &G->tr[im], err);
+        if (rc != HRT_OK)
+            return rc;
+    }
+    return HRT_OK;
+}
+
+/* Across metallicity: every group's tracks are read (the rebuilt grids hold
+ * them), the interior groups chosen are the jobs (k = ACC_WHOLE_GROUP). */
+#define ACC_WHOLE_GROUP SIZE_MAX
+
+static int ctx_groups_z(acc_ctx *c, hrt_error *err)
+{
+    size_t taken = 0;
+    for (size_t iz = 0; iz < c->n_groups; iz++) {
+        int rc = group_read(c, iz, err);
+        if (rc != HRT_OK)
+            return rc;
+        if (!trail_acc_takes_z(c->acc, c->grp[iz].z))
+            continue;
+        taken++;
+        if (iz > 0 && iz + 1 < c->n_groups)
+            c->jobs[c->n_jobs++] = (acc_job){iz, ACC_WHOLE_GROUP};
+    }
+    if (!taken)
+        return trail_set_error(err, HRT_E_Z_RANGE, "hrt_accuracy_run: the grid has no metallicity group of the Z chosen");
+    if (!c->n_jobs)
+        return trail_set_error(err, HRT_E_INVALID,
+                               "hrt_accuracy_run: across metallicity, no group chosen has a group of lower and one "
+                               "of higher Z (the grid has %zu), so none can be dropped and predicted from both sides",
+                               c->n_groups);
+    return HRT_OK;
+}
+
 /* Read every group's tracks and list the interior ones as jobs. */
 static int ctx_groups(acc_ctx *c, hrt_error *err)
 {
@@ -143,22 +187,19 @@ static int ctx_groups(acc_ctx *c, hrt_error *err)
     if (!c->grp || !c->jobs)
         return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
     for (size_t iz = 0; iz < c->n_groups; iz++) {
+        c->grp[iz].z = hrt_grid_z(c->g, iz);
+        c->grp[iz].nm = hrt_grid_n_masses(c->g, iz);
+    }
+    if (trail_acc_across_z(c->acc))
+        return ctx_groups_z(c, err);
+    for (size_t iz = 0; iz < c->n_groups; iz++) {
         acc_group *G = &c->grp[iz];
-        G->z = hrt_grid_z(c->g, iz);
-        G->nm = hrt_grid_n_masses(c->g, iz);
         if (!trail_acc_takes_z(c->acc, G->z))
             continue; /* no tracks read: no jobs */
         taken++;
-        G->tr = calloc(G->nm ? G->nm : 1, sizeof *G->tr);
-        if (!G->tr)
-            return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
-        for (size_t b = 0; b + 1 < c->nr; b++)
-            G->bnd[b] = hrt_grid_route_boundary(c->g, iz, b);
-        for (size_t im = 0; im < G->nm; im++) {
-            int rc = track_read(c->g, iz, im, &G->tr[im], err);
-            if (rc != HRT_OK)
-                return rc;
-        }
+        int rc = group_read(c, iz, err);
+        if (rc != HRT_OK)
+            return rc;
         for (size_t k = 0; k < G->nm; k++)
             if (interior(G, k))
                 c->jobs[c->n_jobs++] = (acc_job){iz, k};
@@ -186,28 +227,38 @@ static void ctx_free(acc_ctx *c)
 /* ------------------------------------------------------------------------
  * One dropped track
  * ------------------------------------------------------------------------ */
-/* Tracks of the dropped one's route, within `window` places either side of it (0: all). */
+static int add_track(hrt_builder *b, double z, const acc_track *t, hrt_error *err)
+{
+    hrt_track_data d = {.initial_mass_msun = t->m, .route = t->route, .remnant = t->remnant,
+                        .remnant_mass_msun = t->remnant_mass, .n = t->n, .log_age_yr = t->col[COL_AGE],
+                        .log_l_lsun = t->col[COL_L], .log_teff_k = t->col[COL_T], .log_r_rsun = NULL,
+                        .mass_msun = t->col[COL_M], .he_core_mass_msun = t->col[COL_HE],
+                        .co_core_mass_msun = t->col[COL_CO], .phase = t->ph};
+    return hrt_builder_add_eep_track(b, z, &d, err);
+}
+
+/* Tracks of the dropped one's route, within `window` places either side of
+ * it (0: all); across metallicity, every group but the dropped one. */
 static int job_builder(const acc_ctx *c, const acc_job *J, size_t window, hrt_builder **out, hrt_error *err)
 {
-    const acc_group *G = &c->grp[J->iz];
+    int across = J->k == ACC_WHOLE_GROUP;
     hrt_builder *b = NULL;
     int rc = hrt_builder_new(c->nr, c->spec, hrt_grid_z_ref(c->g), &b, err);
     if (rc == HRT_OK)
         rc = hrt_builder_set_compression(b, 0, err);
-    for (size_t im = 0; im < G->nm && rc == HRT_OK; im++) {
-        const acc_track *t = &G->tr[im];
-        size_t dist = im > J->k ? im - J->k : J->k - im;
-        if (im == J->k || t->route != G->tr[J->k].route || (window && dist > window))
+    for (size_t iz = 0; iz < c->n_groups && rc == HRT_OK; iz++) {
+        const acc_group *G = &c->grp[iz];
+        if (across == (iz == J->iz))
             continue;
-        hrt_track_data d = {.initial_mass_msun = t->m, .route = t->route, .remnant = t->remnant,
-                            .remnant_mass_msun = t->remnant_mass, .n = t->n, .log_age_yr = t->col[COL_AGE],
-                            .log_l_lsun = t->col[COL_L], .log_teff_k = t->col[COL_T], .log_r_rsun = NULL,
-                            .mass_msun = t->col[COL_M], .he_core_mass_msun = t->col[COL_HE],
-                            .co_core_mass_msun = t->col[COL_CO], .phase = t->ph};
-        rc = hrt_builder_add_eep_track(b, G->z, &d, err);
+        for (size_t im = 0; im < G->nm && rc == HRT_OK; im++) {
+            size_t dist = im > J->k ? im - J->k : J->k - im;
+            if (!across && (im == J->k || G->tr[im].route != G->tr[J->k].route || (window && dist > window)))
+                continue;
+            rc = add_track(b, G->z, &G->tr[im], err);
+        }
+        if (rc == HRT_OK && c->nr > 1)
+            rc = hrt_builder_set_route_boundaries(b, G->z, G->bnd, err);
     }
-    if (rc == HRT_OK && c->nr > 1)
-        rc = hrt_builder_set_route_boundaries(b, G->z, G->bnd, err);
     if (rc != HRT_OK) {
         hrt_builder_free(b);
         return rc;
@@ -235,15 +286,15 @@ static void field_block(const acc_ctx *c, int r, size_t j, int *lo, int *hi)
 
 /* The dropped track's errors as blocks of the error field (the largest of
  * each block), into f (room for np); returns how many. */
-static size_t field_of(const acc_ctx *c, int it, const acc_track *t, double z, const trail_acc_point *pt, size_t np,
-                       trail_acc_field *f)
+static size_t field_of(const acc_ctx *c, int it, const acc_track *t, const double z[3], const trail_acc_point *pt,
+                       size_t np, trail_acc_field *f)
 {
     size_t n = 0;
     for (size_t i = 0; i < np; i++) {
         int lo, hi;
         field_block(c, t->route, pt[i].eep, &lo, &hi);
         if (!n || f[n - 1].eep_lo != lo)
-            f[n++] = (trail_acc_field){it, t->route, z, t->m, lo, hi, {0, 0, 0}};
+            f[n++] = (trail_acc_field){it, t->route, z[1], t->m, lo, hi, {0, 0, 0}, z[0], z[2]};
         for (int q = 0; q < HRT_ACCURACY_NQ; q++)
             if (pt[i].e[q] > f[n - 1].e[q] || isnan(pt[i].e[q]))
                 f[n - 1].e[q] = pt[i].e[q];
@@ -251,15 +302,36 @@ static size_t field_of(const acc_ctx *c, int it, const acc_track *t, double z, c
     return n;
 }
 
-/* Compare the prediction of grid h with the dropped track; record under lock. */
-static int job_compare(acc_ctx *c, const acc_job *J, const hrt_grid *h, int it, hrt_error *err)
+/* The points of dropped track t compared with star s of a rebuilt grid, into pt; returns how many. */
+static size_t compare_points(const acc_track *t, double z, const hrt_star *s, trail_acc_point *pt, size_t n)
 {
-    const acc_group *G = &c->grp[J->iz];
-    const acc_track *t = &G->tr[J->k];
+    size_t np = 0;
+    for (size_t j = 0; j < n; j++) {
+        hrt_state st;
+        if (hrt_star_eep_state(s, j, &st) != HRT_OK || t->ph[j] <= HRT_PHASE_UNKNOWN || t->ph[j] >= HRT_PHASE_SLOTS)
+            continue;
+        pt[np++] = (trail_acc_point){{fabs(st.log_l_lsun - t->col[COL_L][j]), fabs(st.log_teff_k - t->col[COL_T][j]),
+                                      fabs(log10(st.age_yr) - t->col[COL_AGE][j])},
+                                     t->m, z, j, t->ph[j]};
+    }
+    return np;
+}
+
+/* Compare the prediction of grid h with track k of group iz, dropped (alone,
+ * or with its whole group when across); record under lock.  Across
+ * metallicity a track the rebuilt grid cannot place at its mass, or places on
+ * another route, is skipped. */
+static int job_compare(acc_ctx *c, size_t iz, size_t k, int across, const hrt_grid *h, int it, hrt_error *err)
+{
+    const acc_group *G = &c->grp[iz];
+    const acc_track *t = &G->tr[k];
     hrt_star *s = NULL;
-    int rc = hrt_star_new(h, t->m, G->z, &s, err);
-    if (rc != HRT_OK)
-        return rc;
+    hrt_error skip;
+    int rc = hrt_star_new(h, t->m, G->z, &s, across ? &skip : err);
+    if (rc != HRT_OK || (across && hrt_star_route(s) != t->route)) {
+        hrt_star_free(s);
+        return across ? HRT_OK : rc;
+    }
     size_t n = hrt_star_n_eep(s) < t->n ? hrt_star_n_eep(s) : t->n;
     trail_acc_point *pt = malloc((n ? n : 1) * sizeof *pt);
     trail_acc_field *fl = malloc((n ? n : 1) * sizeof *fl);
@@ -269,23 +341,16 @@ static int job_compare(acc_ctx *c, const acc_job *J, const hrt_grid *h, int it, 
         hrt_star_free(s);
         return trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_run: out of memory");
     }
-    size_t np = 0;
-    for (size_t j = 0; j < n; j++) {
-        hrt_state st;
-        if (hrt_star_eep_state(s, j, &st) != HRT_OK || t->ph[j] <= HRT_PHASE_UNKNOWN || t->ph[j] >= HRT_PHASE_SLOTS)
-            continue;
-        pt[np++] = (trail_acc_point){{fabs(st.log_l_lsun - t->col[COL_L][j]), fabs(st.log_teff_k - t->col[COL_T][j]),
-                                      fabs(log10(st.age_yr) - t->col[COL_AGE][j])},
-                                     t->m, G->z, j, t->ph[j]};
-    }
+    size_t np = compare_points(t, G->z, s, pt, n);
     int kind;
     double mr, wd = NAN;
-    int same = G->tr[J->k - 1].remnant == t->remnant && G->tr[J->k + 1].remnant == t->remnant;
+    int same = across || (G->tr[k - 1].remnant == t->remnant && G->tr[k + 1].remnant == t->remnant);
     if (hrt_star_remnant(s, &kind, &mr) == HRT_OK && same && kind == t->remnant && kind >= HRT_REMNANT_HE_WD &&
         kind <= HRT_REMNANT_ONE_WD)
         wd = fabs(mr - t->remnant_mass);
     hrt_star_free(s);
-    size_t nf = field_of(c, it, t, G->z, pt, np, fl);
+    double zs[3] = {across ? c->grp[iz - 1].z : 0, G->z, across ? c->grp[iz + 1].z : 0};
+    size_t nf = field_of(c, it, t, zs, pt, np, fl);
 #pragma omp critical /* unnamed: a named one is a global lock symbol exported by the library */
     {
         rc = trail_acc_record(c->acc, it, t->route, pt, np, wd, err);
@@ -303,7 +368,9 @@ static int job_compare(acc_ctx *c, const acc_job *J, const hrt_grid *h, int it, 
 #define ACC_WINDOW 4
 
 /* Write the rebuilt group, open it with type it (and, for the local types,
- * every other chosen local type) and compare.  HDF5 (Debian's is not
+ * every other chosen local type) and compare.  Across metallicity (global
+ * < 0) the rebuilt grid of every other group, opened with every chosen type,
+ * and every track of the dropped group compared.  HDF5 (Debian's is not
  * thread-safe) is reached from one thread at a time. */
 static int job_pass(acc_ctx *c, const acc_job *J, int global, hrt_error *err)
 {
@@ -319,14 +386,16 @@ static int job_pass(acc_ctx *c, const acc_job *J, int global, hrt_error *err)
     {
         rc = trail_builder_write_scratch(b, path, err);
         for (int it = 0; it < HRT_INTERP_COUNT && rc == HRT_OK; it++)
-            if (trail_acc_wants(c->acc, it) && (it == HRT_INTERP_CSPLINE) == global)
+            if (trail_acc_wants(c->acc, it) && (global < 0 || (it == HRT_INTERP_CSPLINE) == global))
                 rc = hrt_grid_open_with(path, it, &h[it], err);
         unlink(path);
     }
     hrt_builder_free(b);
+    int across = J->k == ACC_WHOLE_GROUP;
+    size_t k0 = across ? 0 : J->k, k1 = across ? c->grp[J->iz].nm : J->k + 1;
     for (int it = 0; it < HRT_INTERP_COUNT; it++) {
-        if (h[it] && rc == HRT_OK)
-            rc = job_compare(c, J, h[it], it, err);
+        for (size_t k = k0; h[it] && rc == HRT_OK && k < k1; k++)
+            rc = job_compare(c, J->iz, k, across, h[it], it, err);
 #pragma omp critical
         hrt_grid_close(h[it]);
     }
@@ -336,6 +405,15 @@ static int job_pass(acc_ctx *c, const acc_job *J, int global, hrt_error *err)
 static int job_run(acc_ctx *c, const acc_job *J, hrt_error *err)
 {
     int rc = HRT_OK;
+    if (J->k == ACC_WHOLE_GROUP) {
+        rc = job_pass(c, J, -1, err);
+        if (rc != HRT_OK) {
+            char msg[sizeof err->message];
+            snprintf(msg, sizeof msg, "%s", err->message);
+            trail_set_error(err, rc, "dropping the group of Z = %g: %s", c->grp[J->iz].z, msg);
+        }
+        return rc;
+    }
     int local = trail_acc_wants(c->acc, HRT_INTERP_STEFFEN) || trail_acc_wants(c->acc, HRT_INTERP_LINEAR) ||
                 trail_acc_wants(c->acc, HRT_INTERP_AKIMA);
     if (local)

@@ -20,6 +20,7 @@ typedef struct trail_acc_field {
     double z, m;
     int eep_lo, eep_hi;
     double e[HRT_ACCURACY_NQ];
+    double z_lo, z_hi; /* across metallicity: the groups either side it was predicted from (else 0) */
 } trail_acc_field;
 
 /* EEPs per block of the stored error field (blocks never cross a keypoint). */
@@ -32,6 +33,8 @@ const trail_acc_field *trail_acc_field_rows(const hrt_accuracy *acc, size_t *n);
 
 /* Whether interpolation type it is measured. */
 int trail_acc_wants(const hrt_accuracy *acc, int it);
+/* Whether the run drops metallicity groups (hrt_accuracy_set_across_z). */
+int trail_acc_across_z(const hrt_accuracy *acc);
 /* Whether the group of metallicity z is measured. */
 int trail_acc_takes_z(const hrt_accuracy *acc, double z);
 /* Threads asked (0: OpenMP's default). */

@@ -17,6 +17,7 @@ struct hrt_accuracy {
     int interp;  /* -1: every type */
     int threads; /* 0: OpenMP's default */
     double z;    /* NaN: every metallicity */
+    int across_z; /* drop metallicity groups instead of tracks */
     void (*progress)(void *, size_t, size_t);
     void *user;
     size_t nr;
@@ -92,6 +93,16 @@ int hrt_accuracy_set_z(hrt_accuracy *acc, double z, hrt_error *err)
     acc->z = z;
     return HRT_OK;
 }
+
+int hrt_accuracy_set_across_z(hrt_accuracy *acc, int on, hrt_error *err)
+{
+    if (!acc)
+        return trail_set_error(err, HRT_E_NULL, "hrt_accuracy_set_across_z: acc is NULL");
+    acc->across_z = on != 0;
+    return HRT_OK;
+}
+
+int trail_acc_across_z(const hrt_accuracy *acc) { return acc->across_z; }
 
 int trail_acc_takes_z(const hrt_accuracy *acc, double z) { return isnan(acc->z) || fabs(z / acc->z - 1) <= 1e-9; }
 

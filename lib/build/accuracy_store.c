@@ -95,9 +95,12 @@ static void st_names(st_ctx *w, hid_t loc)
 }
 
 enum { C_INTERP, C_ROUTE, C_LO, C_HI, N_ICOL };
-enum { C_Z, C_MASS, C_EL, C_ET, C_EA, N_DCOL };
+enum { C_Z, C_MASS, C_EL, C_ET, C_EA, C_ZLO, C_ZHI, N_DCOL };
 
-static void st_group(st_ctx *w, hid_t f, const trail_acc_field *fl, size_t n, int32_t *ic, double *dc)
+/* The group `name` under loc (accuracy/ in the file, or across_z/ in it),
+ * replacing one there. */
+static void st_group(st_ctx *w, hid_t loc, const char *name, int across, const trail_acc_field *fl, size_t n,
+                     int32_t *ic, double *dc)
 {
     int32_t *col_i[N_ICOL + 1];
     double *col_d[N_DCOL];
@@ -108,20 +111,23 @@ static void st_group(st_ctx *w, hid_t f, const trail_acc_field *fl, size_t n, in
     for (size_t i = 0; i < n; i++) {
         col_i[C_INTERP][i] = fl[i].it, col_i[C_ROUTE][i] = fl[i].route;
         col_i[C_LO][i] = fl[i].eep_lo, col_i[C_HI][i] = fl[i].eep_hi, col_i[N_ICOL][i] = (int32_t)i;
-        col_d[C_Z][i] = fl[i].z, col_d[C_MASS][i] = fl[i].m;
+        col_d[C_Z][i] = fl[i].z, col_d[C_MASS][i] = fl[i].m, col_d[C_ZLO][i] = fl[i].z_lo, col_d[C_ZHI][i] = fl[i].z_hi;
         for (int q = 0; q < HRT_ACCURACY_NQ; q++)
             col_d[C_EL + q][i] = fl[i].e[q];
     }
-    if (H5Lexists(f, "accuracy", H5P_DEFAULT) > 0 && H5Ldelete(f, "accuracy", H5P_DEFAULT) < 0)
+    if (H5Lexists(loc, name, H5P_DEFAULT) > 0 && H5Ldelete(loc, name, H5P_DEFAULT) < 0)
         w->failed = 1;
-    hid_t g = w->failed ? -1 : H5Gcreate2(f, "accuracy", H5P_DEFAULT, w->gcpl, H5P_DEFAULT);
+    hid_t g = w->failed ? -1 : H5Gcreate2(loc, name, H5P_DEFAULT, w->gcpl, H5P_DEFAULT);
     if (g < 0) {
         w->failed = 1;
         return;
     }
     st_text_attr(w, g, "method",
-                 "leave one out: each interior track of each route dropped, its metallicity group rebuilt "
-                 "without it and the track interpolated from the rest at the same EEPs");
+                 across ? "leave one group out: each interior metallicity group dropped, the grid rebuilt from the "
+                          "other groups and each of its tracks interpolated at its own initial mass and Z, at the "
+                          "same EEPs"
+                        : "leave one out: each interior track of each route dropped, its metallicity group rebuilt "
+                          "without it and the track interpolated from the rest at the same EEPs");
     st_text_attr(w, g, "statistic",
                  "largest |interpolated - dropped track| over the EEPs [eep_lo, eep_hi) of one dropped track");
     st_names(w, g);
@@ -135,7 +141,31 @@ static void st_group(st_ctx *w, hid_t f, const trail_acc_field *fl, size_t n, in
     st_data(w, g, "log_l_error", n, 0, col_d[C_EL], "dex", "largest |error| of log L in the block", "block");
     st_data(w, g, "log_teff_error", n, 0, col_d[C_ET], "dex", "largest |error| of log Teff in the block", "block");
     st_data(w, g, "log_age_error", n, 0, col_d[C_EA], "dex", "largest |error| of log age in the block", "block");
+    if (across) {
+        st_data(w, g, "z_lo", n, 0, col_d[C_ZLO], NULL, "Z of the group below the dropped one (predicted from it)",
+                "block");
+        st_data(w, g, "z_hi", n, 0, col_d[C_ZHI], NULL, "Z of the group above the dropped one (predicted from it)",
+                "block");
+    }
     H5Gclose(g);
+}
+
+/* The mass direction replaces accuracy/ (across_z/ with it); across
+ * metallicity replaces accuracy/across_z/ in an accuracy/ that holds the
+ * mass direction (w->failed = 2 when it does not). */
+static void st_write(st_ctx *w, hid_t f, int across, const trail_acc_field *fl, size_t n, int32_t *ic, double *dc)
+{
+    if (!across) {
+        st_group(w, f, "accuracy", 0, fl, n, ic, dc);
+        return;
+    }
+    hid_t g = H5Lexists(f, "accuracy", H5P_DEFAULT) > 0 ? H5Gopen2(f, "accuracy", H5P_DEFAULT) : -1;
+    if (g < 0 || H5Lexists(g, "interp", H5P_DEFAULT) <= 0)
+        w->failed = 2;
+    else
+        st_group(w, g, "across_z", 1, fl, n, ic, dc);
+    if (g >= 0)
+        H5Gclose(g);
 }
 
 int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err)
@@ -165,11 +195,16 @@ int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err
     if (f < 0 && !w.failed) {
         rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: cannot open %s for writing (HDF5)", path);
     } else {
-        H5E_BEGIN_TRY { st_group(&w, f, fl, n, key, val); }
+        H5E_BEGIN_TRY { st_write(&w, f, trail_acc_across_z(acc), fl, n, key, val); }
         H5E_END_TRY;
         if (f >= 0 && H5Fclose(f) < 0)
             w.failed = 1;
-        if (w.failed)
+        if (w.failed == 2)
+            rc = trail_set_error(err, HRT_E_INVALID,
+                                 "hrt_accuracy_store: %s holds no mass-direction error field: store one "
+                                 "(a run without hrt_accuracy_set_across_z) before the field across metallicity",
+                                 path);
+        else if (w.failed)
             rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: writing group accuracy/ of %s failed (HDF5)",
                                  path);
     }

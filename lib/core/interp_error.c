@@ -21,6 +21,7 @@ typedef struct ef_block {
 struct trail_errfield {
     size_t n;
     ef_block *b; /* sorted by route, group, mass, eep_lo */
+    struct trail_errfield *across; /* accuracy/across_z/: iz is the dropped group's; or NULL */
 };
 
 static int cmp_block(const void *pa, const void *pb)
@@ -59,13 +60,22 @@ static int file_interp(hid_t gr, int interp, hrt_error *err, int *rc)
     return code;
 }
 
-/* The per-block columns of accuracy/: four int, five float. */
+/* The per-block columns of accuracy/: four int, five float (seven in across_z/). */
 static const char *const col_i[4] = {"interp", "route", "eep_lo", "eep_hi"};
-static const char *const col_d[5] = {"z", "initial_mass_msun", "log_l_error", "log_teff_error", "log_age_error"};
+static const char *const col_d[7] = {"z",           "initial_mass_msun", "log_l_error", "log_teff_error",
+                                     "log_age_error", "z_lo",            "z_hi"};
+
+/* Whether the dropped group's neighbours z_lo < z < z_hi (v[5], v[6]) of an
+ * across-metallicity block i are groups of g. */
+static int z_interval_ok(const hrt_grid *g, double *const *v, size_t i)
+{
+    size_t a, b;
+    return group_of(g, v[5][i], &a) && group_of(g, v[6][i], &b) && v[5][i] < v[0][i] && v[0][i] < v[6][i];
+}
 
 /* Keep the blocks of the grid's type, check them and place them in groups. */
-static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n, int code, trail_errfield *ef,
-                   hrt_error *err)
+static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n, int code, int across,
+                   trail_errfield *ef, hrt_error *err)
 {
     for (size_t i = 0; i < n; i++) {
         if (k[0][i] != code)
@@ -73,75 +83,106 @@ static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n,
         size_t iz;
         int r = k[1][i], lo = k[2][i], hi = k[3][i];
         if (r < 0 || (size_t)r >= g->n_routes || lo < 0 || hi <= lo || (size_t)hi > g->routes[r].n_eep + 1 ||
-            !(v[1][i] > 0) || !group_of(g, v[0][i], &iz))
+            !(v[1][i] > 0) || !group_of(g, v[0][i], &iz) || (across && !z_interval_ok(g, v, i)))
             return trail_set_error(err, HRT_E_FORMAT,
-                                   "accuracy: block %zu (route %d, EEPs %d-%d, Z %g, %g Msun) matches no route, EEP "
+                                   "accuracy%s: block %zu (route %d, EEPs %d-%d, Z %g, %g Msun) matches no route, EEP "
                                    "range or metallicity group of this grid",
-                                   i, r, lo, hi, v[0][i], v[1][i]);
+                                   across ? "/across_z" : "", i, r, lo, hi, v[0][i], v[1][i]);
         for (int q = 2; q < 5; q++)
             if (!(v[q][i] >= 0) && !isnan(v[q][i]))
-                return trail_set_error(err, HRT_E_FORMAT, "accuracy/%s: block %zu has a negative error", col_d[q], i);
+                return trail_set_error(err, HRT_E_FORMAT, "accuracy/%s%s: block %zu has a negative error",
+                                       across ? "across_z/" : "", col_d[q], i);
         ef->b[ef->n++] = (ef_block){r, iz, v[1][i], lo, hi, {v[2][i], v[3][i], v[4][i]}};
     }
     qsort(ef->b, ef->n, sizeof *ef->b, cmp_block);
     return HRT_OK;
 }
 
-/* The columns' common length into *n (checked), then, with buffers, the values. */
-static int ef_columns(hid_t gr, size_t *n, int **k, double **v, hrt_error *err)
+/* The columns' common length into *n (checked), then, with buffers, the
+ * values; nd float columns (5, or 7 across metallicity). */
+static int ef_columns(hid_t gr, const char *where, int nd, size_t *n, int **k, double **v, hrt_error *err)
 {
     int rc = HRT_OK;
-    for (int c = 0; c < 9 && rc == HRT_OK; c++) {
+    for (int c = 0; c < 4 + nd && rc == HRT_OK; c++) {
         hsize_t d[1] = {*n};
         int is_int = c < 4;
         const char *name = is_int ? col_i[c] : col_d[c - 4];
         void *buf = k ? (is_int ? (void *)k[c] : (void *)v[c - 4]) : NULL;
-        rc = trail_h5_numeric(gr, "accuracy", name, 1, d, is_int, buf, err);
+        rc = trail_h5_numeric(gr, where, name, 1, d, is_int, buf, err);
         if (rc == HRT_OK && !k && c == 0)
             *n = (size_t)d[0];
     }
     return rc;
 }
 
-static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
+/* The blocks of group gr (accuracy/ or accuracy/across_z/) of the grid's
+ * type into *out (NULL when there are none). */
+static int ef_load(hid_t gr, const hrt_grid *g, int across, trail_errfield **out, hrt_error *err)
 {
-    hid_t gr = trail_h5_group(fh, "accuracy");
-    if (gr < 0)
-        return trail_set_error(err, HRT_E_FORMAT, "accuracy: not a group");
-    int rc;
+    const char *where = across ? "accuracy/across_z" : "accuracy";
+    int nd = across ? 7 : 5, rc;
     int code = file_interp(gr, g->interp, err, &rc);
     size_t n = 0;
     if (rc == HRT_OK)
-        rc = ef_columns(gr, &n, NULL, NULL, err);
+        rc = ef_columns(gr, where, nd, &n, NULL, NULL, err);
     int *k[4] = {NULL};
-    double *v[5] = {NULL};
+    double *v[7] = {NULL};
     trail_errfield *ef = NULL;
     if (rc == HRT_OK && code >= 0 && n > 0) {
         int ok = 1;
         for (int c = 0; c < 4; c++)
             ok &= (k[c] = malloc(n * sizeof **k)) != NULL;
-        for (int c = 0; c < 5; c++)
+        for (int c = 0; c < nd; c++)
             ok &= (v[c] = malloc(n * sizeof **v)) != NULL;
         ef = calloc(1, sizeof *ef);
         if (ef)
             ef->b = malloc(n * sizeof *ef->b);
         if (!ok || !ef || !ef->b)
-            rc = trail_set_error(err, HRT_E_NOMEM, "accuracy: out of memory");
+            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
         if (rc == HRT_OK)
-            rc = ef_columns(gr, &n, k, v, err);
+            rc = ef_columns(gr, where, nd, &n, k, v, err);
         if (rc == HRT_OK)
-            rc = ef_fill(g, k, v, n, code, ef, err);
+            rc = ef_fill(g, k, v, n, code, across, ef, err);
         if (rc == HRT_OK && ef->n) {
-            g->errf = ef;
-            g->bytes += sizeof *ef + ef->n * sizeof *ef->b;
+            *out = ef;
             ef = NULL;
         }
     }
     trail_errfield_free(ef);
     for (int c = 0; c < 4; c++)
         free(k[c]);
-    for (int c = 0; c < 5; c++)
+    for (int c = 0; c < 7; c++)
         free(v[c]);
+    return rc;
+}
+
+static size_t ef_bytes(const trail_errfield *ef) { return ef ? sizeof *ef + ef->n * sizeof *ef->b : 0; }
+
+static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
+{
+    hid_t gr = trail_h5_group(fh, "accuracy");
+    if (gr < 0)
+        return trail_set_error(err, HRT_E_FORMAT, "accuracy: not a group");
+    trail_errfield *ef = NULL;
+    int rc = ef_load(gr, g, 0, &ef, err);
+    int l = rc == HRT_OK && ef ? trail_h5_link(gr, "across_z") : 0;
+    if (l < 0)
+        rc = trail_set_error(err, HRT_E_FORMAT, "accuracy/across_z is a soft or external link");
+    if (l > 0) {
+        hid_t az = trail_h5_group(gr, "across_z");
+        if (az < 0)
+            rc = trail_set_error(err, HRT_E_FORMAT, "accuracy/across_z: not a group");
+        else
+            rc = ef_load(az, g, 1, &ef->across, err);
+        if (az >= 0)
+            H5Gclose(az);
+    }
+    if (rc == HRT_OK && ef) {
+        g->errf = ef;
+        g->bytes += ef_bytes(ef) + ef_bytes(ef->across);
+        ef = NULL;
+    }
+    trail_errfield_free(ef);
     H5Gclose(gr);
     return rc;
 }
@@ -171,6 +212,7 @@ void trail_errfield_free(trail_errfield *ef)
 {
     if (!ef)
         return;
+    trail_errfield_free(ef->across);
     free(ef->b);
     free(ef);
 }
@@ -228,13 +270,13 @@ static const ef_block *nearest(const trail_errfield *ef, int route, size_t iz, d
  * nearest below the state's mass and two nearest above: one track's error
  * changes sign along the mass, two either side keep the bound where it
  * passes through zero. */
-static int from_group(const hrt_grid *g, const hrt_state *s, size_t iz, long j, hrt_interp_error *out)
+static int from_group(const trail_errfield *ef, const hrt_state *s, size_t iz, long j, hrt_interp_error *out)
 {
     int used = 0;
     for (int dir = -1; dir <= 1; dir += 2) {
         double m = s->initial_mass_msun;
         for (int k = 0; k < 2; k++) {
-            const ef_block *b = nearest(g->errf, s->route, iz, m, j, dir);
+            const ef_block *b = nearest(ef, s->route, iz, m, j, dir);
             if (!b)
                 break;
             used++;
@@ -245,6 +287,23 @@ static int from_group(const hrt_grid *g, const hrt_state *s, size_t iz, long j, 
         }
     }
     return used;
+}
+
+/* Between groups lo and hi: add to out the across-metallicity errors found
+ * when group lo or group hi (those measured: interior ones) was dropped, at
+ * the two measured tracks nearest below and above the state's mass (the
+ * larger of them).  Added, not in quadrature: the state's error is the
+ * across-[Fe/H] error plus the blend of the groups' errors across mass, so
+ * the sum of two bounds bounds it. */
+static void add_across_z(const trail_errfield *ez, const hrt_state *s, size_t lo, size_t hi, long j,
+                         hrt_interp_error *out)
+{
+    hrt_interp_error z = {0, 0, 0, 0, {0}};
+    z.n_tracks = from_group(ez, s, lo, j, &z) + from_group(ez, s, hi, j, &z);
+    out->log_l_dex += z.log_l_dex;
+    out->log_teff_dex += z.log_teff_dex;
+    out->log_age_dex += z.log_age_dex;
+    out->n_tracks += z.n_tracks;
 }
 
 int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_error *out, hrt_error *err)
@@ -274,7 +333,9 @@ int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_err
     /* lo, hi: the groups either side of Z (one if Z is a group's or outside them all) */
     out->log_l_dex = out->log_teff_dex = out->log_age_dex = 0;
     for (size_t iz = lo; iz <= hi; iz++)
-        out->n_tracks += from_group(g, s, iz, j, out);
+        out->n_tracks += from_group(g->errf, s, iz, j, out);
+    if (lo != hi && out->n_tracks && g->errf->across)
+        add_across_z(g->errf->across, s, lo, hi, j, out);
     if (!out->n_tracks) {
         *out = (hrt_interp_error){NAN, NAN, NAN, 0, {0}};
         return trail_set_error(err, HRT_E_NO_TRACK,

@@ -150,6 +150,12 @@ t.ok(p.returncode == EXIT_OK and "tracks dropped and predicted" in tty_err and "
      "accuracy progress shown on a terminal: %r" % tty_err[:120])
 rc, out, err = run(["grid", "accuracy", grid, "--interp", "linear"])
 t.ok(err == "", "accuracy: no progress when stderr is a pipe")
+# across metallicity: this grid's two groups leave none between others to drop
+rc, out, err = run(["grid", "accuracy", grid, "--across-z"])
+t.ok(rc != EXIT_OK and "across metallicity" in err and "has 2" in err,
+     "accuracy --across-z with two metallicities: refused, saying why (%s)" % err)
+rc, out, err = run(["grid", "info", grid, "--across-z"])
+t.ok(rc != EXIT_OK and "--across-z applies to 'hrtrail grid accuracy' only" in err, "--across-z refused by grid info")
 
 # ---- --store: the error field written into the file (h5py reads it back), then --interp-error
 rc, out, err = run(["at", "--grid", grid, "-m", "1.5", "-a", "100Myr", "--interp-error"])

@@ -55,7 +55,7 @@ def expected_dims(path):
         return ("code",)
     if parts == ["routes", "names"]:
         return ("route",)
-    if parts[0] == "accuracy":  # the optional stored error field (FORMAT.md, "accuracy/")
+    if parts[0] == "accuracy":  # the optional stored error fields (FORMAT.md, "accuracy/", "accuracy/across_z/")
         return ("interp_code",) if name == "interp_names" else ("block",)
     if parts[0] == "routes" and name in ("keypoint_names", "keypoint_eep"):
         return ("keypoint",)
@@ -114,8 +114,9 @@ class SelfDescribing(unittest.TestCase):
         n_groups = len(self.f["metallicity"])
         n_routes = len(self.f["routes/names"])
         # track, eep, route_boundary per group; keypoint, segment per route; route; 2 code tables;
-        # block and interp_code of the stored error field
-        self.assertEqual(scales, 3 * n_groups + 2 * n_routes + 1 + 2 + 2 * ("accuracy" in self.f))
+        # block and interp_code of the stored error field, and of the one across metallicity
+        self.assertEqual(scales, 3 * n_groups + 2 * n_routes + 1 + 2 + 2 * ("accuracy" in self.f)
+                         + 2 * ("accuracy/across_z" in self.f))
 
     def test_coordinates(self):
         for g in self.f["metallicity"].values():

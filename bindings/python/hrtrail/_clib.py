@@ -531,6 +531,7 @@ def _declare(lib):
         "hrt_accuracy_set_interp": (i, [vp, i, err]),
         "hrt_accuracy_set_threads": (i, [vp, i, err]),
         "hrt_accuracy_set_z": (i, [vp, d, err]),
+        "hrt_accuracy_set_across_z": (i, [vp, i, err]),
         "hrt_accuracy_set_progress": (i, [vp, ACCURACY_PROGRESS_FN, vp]),
         "hrt_accuracy_run": (i, [vp, vp, err]),
         "hrt_accuracy_n_rows": (sz, [vp]),

@@ -497,7 +497,7 @@ def _accuracy_record(grid, r) -> dict:
 
 
 def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[int, int], None]] = None,
-             z=None, store: bool = False) -> List[dict]:
+             z=None, store: bool = False, across_z: bool = False) -> List[dict]:
     """Leave-one-out interpolation accuracy of a grid (hrt_accuracy_run).
 
     Each interior track of each route is dropped in turn, its metallicity
@@ -515,7 +515,12 @@ def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[i
     metallicity group of the grid only (None: every group); store: write the
     run's error field into the grid's file (hrt_accuracy_store: the group
     accuracy/ of FORMAT.md, which Grid.interp_error reads; reopen the grid to
-    see it).
+    see it); across_z: measure across metallicity instead
+    (hrt_accuracy_set_across_z): each interior metallicity group dropped, the
+    grid rebuilt from the others and each of its tracks interpolated at its
+    own mass and Z; the same rows; with store, written to accuracy/across_z/
+    (store a mass-direction run first), which Grid.interp_error adds between
+    metallicity groups; progress then counts groups.
     """
     from .core import Grid
     own = not isinstance(grid, Grid)
@@ -535,6 +540,8 @@ def accuracy(grid, interp=None, threads: int = 0, progress: Optional[Callable[[i
         e, pe = new_error()
         zv = float("nan") if z is None else _u.value(z, "fraction", "z")
         check(lib.hrt_accuracy_set_z(h, zv, pe), e, "hrt_accuracy_set_z")
+        e, pe = new_error()
+        check(lib.hrt_accuracy_set_across_z(h, 1 if across_z else 0, pe), e, "hrt_accuracy_set_across_z")
         cb = None
         if progress is not None:
             def _cb(user, done, total):

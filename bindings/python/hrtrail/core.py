@@ -442,8 +442,10 @@ class Grid(_Owned):
 
         The statistic: the largest leave-one-out |error| (dex, at the same EEP) of the
         two measured tracks either side of the state's mass, in the block of at most
-        10 EEPs holding its EEP, in the metallicity groups either side of its Z.  An
-        upper estimate, not a 1-sigma error (include/hrtrail/core.h, tracks/MODEL.md).
+        10 EEPs holding its EEP, in the metallicity groups either side of its Z; between
+        groups, plus the stored error across metallicity (accuracy(..., across_z=True,
+        store=True)) of the bracketing groups' tracks nearest its mass.  An upper
+        estimate, not a 1-sigma error (include/hrtrail/core.h, tracks/MODEL.md).
         """
         def one(addr, raise_on_error):
             out = HrtInterpError()
@@ -613,10 +615,12 @@ class Grid(_Owned):
             check(rc, e, "hrt_isochrone")
             return _states(out[:n.value].copy() if n.value < cap else out)
 
-    def accuracy(self, interp=None, threads: int = 0, progress=None, z=None, store: bool = False) -> List[dict]:
+    def accuracy(self, interp=None, threads: int = 0, progress=None, z=None, store: bool = False,
+                 across_z: bool = False) -> List[dict]:
         """Leave-one-out interpolation accuracy of this grid: hrtrail.accuracy(self, ...)."""
         from .build import accuracy
-        return accuracy(self, interp=interp, threads=threads, progress=progress, z=z, store=store)
+        return accuracy(self, interp=interp, threads=threads, progress=progress, z=z, store=store,
+                        across_z=across_z)
 
     def star(self, mass_msun: Num, z: Num) -> "Star":
         """Star of initial mass (Msun) and metallicity z on this grid (see Star)."""

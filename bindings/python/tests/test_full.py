@@ -543,6 +543,9 @@ class Accuracy(unittest.TestCase):
         self.assertIn("threads", str(cm.exception))
         with self.assertRaises(hrtrail.OutsideGridError):
             hrtrail.accuracy(self.path, z=0.5)
+        with self.assertRaises(hrtrail.InvalidInputError) as cm:  # two metallicities: none between others
+            hrtrail.accuracy(self.path, across_z=True)
+        self.assertIn("across metallicity", str(cm.exception))
 
     def test_one_metallicity(self):
         with hrtrail.Grid(self.path) as g:
