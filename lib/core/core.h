@@ -223,6 +223,17 @@ void trail_q_phase_run(const qctx *q, int j, int *js, int *je);
 void trail_q_remnant(const qctx *q, int *kind, double *mass_msun);
 void trail_state_clear(hrt_state *s, double mass, double z, double age_yr);
 void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f);
+/* The parts of a white dwarf's state that do not change with its age
+ * (remnant.c, trail_wd_fixed_init): a star's remnant computes them once.
+ * ok = 0 where hrt_wd_log_l has no answer (the state then takes the
+ * general path, with the same result). */
+typedef struct trail_wd_fixed {
+    int ok;
+    double x0, c;       /* Mestel cooling: L^(-5/7) at the track's end, the time scale */
+    double log_r, log_g; /* the radius and surface gravity of the mass */
+} trail_wd_fixed;
+/* Bins of a star's log age -> EEP table (star.c, trail_track_arrays.tab). */
+#define TRAIL_STAR_TAB 512
 /* A star's stored track (star.c), as the state code reads it. */
 typedef struct trail_track_arrays {
     const double *age;     /* [n] log10 age/yr */
@@ -230,12 +241,20 @@ typedef struct trail_track_arrays {
     const double *val;     /* [n][NQS] */
     const int8_t *phase;   /* [n] */
     const int32_t *runs;   /* [n][2] */
+    /* [TRAIL_STAR_TAB + 1]: largest EEP j <= n - 2 whose log age is at or
+     * below the start of bin k (uniform in log age from tab_x[0], tab_x[1]
+     * bins per dex): where the search of an age starts; NULL: none */
+    const uint16_t *tab;
+    double tab_x[2];
+    const trail_wd_fixed *wd; /* the white dwarf's fixed parts, or NULL */
 } trail_track_arrays;
 /* State at age_yr from the stored track S, or from the grid when S is NULL. */
 int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
                          hrt_state *s);
-/* remnant.c */
-void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr);
+/* remnant.c; wd: the white dwarf's fixed parts (trail_wd_fixed_init), or NULL */
+void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr,
+                         const trail_wd_fixed *wd);
+void trail_wd_fixed_init(trail_wd_fixed *w, int kind, double rem_mass, double log_l_last);
 
 /* Value (p[0]) and slope (p[1]) of quantity q at EEP j, track i; the next
  * track's pair is at p + 2 * NQ. */
