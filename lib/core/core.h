@@ -187,6 +187,8 @@ void trail_file_free_extras(trail_file *f);
 /* grid_check.c: the rules of a file's values, as the reader reads them */
 int trail_check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
                           size_t J, hrt_error *err);
+int trail_check_eep_row(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t J,
+                        hrt_error *err);
 int trail_check_nested_cores(const char *where, const trail_file *f, const trail_file_group *gp, hrt_error *err);
 /* Format 2: every numeric dataset stored with a checksum (fh: the open file, an HDF5 hid_t). */
 int trail_check_checksums(int64_t fh, const trail_file *f, hrt_error *err);
@@ -248,6 +250,22 @@ typedef struct trail_track_arrays {
     double tab_x[2];
     const trail_wd_fixed *wd; /* the white dwarf's fixed parts, or NULL */
 } trail_track_arrays;
+/* Where the search of log age lt (A(0) <= lt < A(n - 1)) on S starts: the
+ * EEPs [*lo, *lo + *len] of its bin in S->tab, moved outwards where rounding
+ * at the bin's edges needs it, so that A(*lo) <= lt < A(*lo + *len). */
+static inline void trail_star_bracket(const trail_track_arrays *S, int n, double lt, int *lo, int *len)
+{
+    const double *a = S->age;
+    double kf = (lt - S->tab_x[0]) * S->tab_x[1];
+    int k = kf > 0.0 ? (kf < TRAIL_STAR_TAB - 1 ? (int)kf : TRAIL_STAR_TAB - 1) : 0;
+    int l = S->tab[k], h = S->tab[k + 1] + 1;
+    while (l > 0 && a[l] > lt)
+        l--;
+    while (h < n - 1 && a[h] <= lt)
+        h++;
+    *lo = l;
+    *len = h - l;
+}
 /* State at age_yr from the stored track S, or from the grid when S is NULL. */
 int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
                          hrt_state *s);

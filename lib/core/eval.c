@@ -409,19 +409,8 @@ static int find_eep(const qctx *q, const trail_track_arrays *S, int n, double lt
          * mispredict; the answer is the same */
         const double *a = S->age;
         int len = n - 1;
-        if (S->tab) {
-            /* the bracket of lt's bin in the star's table, moved outwards
-             * where rounding at the bin's edges needs it */
-            double kf = (lt - S->tab_x[0]) * S->tab_x[1];
-            int k = kf > 0.0 ? (kf < TRAIL_STAR_TAB - 1 ? (int)kf : TRAIL_STAR_TAB - 1) : 0;
-            int l = S->tab[k], h = S->tab[k + 1] + 1;
-            while (l > 0 && a[l] > lt)
-                l--;
-            while (h < n - 1 && a[h] <= lt)
-                h++;
-            lo = l;
-            len = h - l;
-        }
+        if (S->tab)
+            trail_star_bracket(S, n, lt, &lo, &len);
         while (len > 1) {
             int half = len / 2;
             lo = a[lo + half] <= lt ? lo + half : lo;
