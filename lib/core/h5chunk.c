@@ -4,9 +4,10 @@
  * Fletcher-32 checksum verified as HDF5 verifies it, inflated by zlib into
  * a buffer of exactly the chunk's size (so a stream that inflates beyond it
  * is refused, not followed), unshuffled, and converted from little-endian
- * IEEE floats or 32-bit integers.  The same values as H5Dread, with about
- * a fifth fewer instructions for the whole read (HDF5's byte-by-byte
- * unshuffle and its copies are most of the difference).
+ * IEEE floats or 32-bit integers.  The same values as H5Dread; opening
+ * the default grid takes 1.95e9 instructions instead of 2.31e9 (HDF5's
+ * byte-by-byte unshuffle and its copies are most of the difference; zlib's
+ * inflate, about 1e9, is the same either way).
  *
  * Anything else, and anything that does not check out (a checksum that
  * does not match, a stream that does not inflate to the chunk's size),
