@@ -187,6 +187,8 @@ void trail_file_free_extras(trail_file *f);
 /* grid_check.c: the rules of a file's values, as the reader reads them */
 int trail_check_eep_value(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t j,
                           size_t J, hrt_error *err);
+int trail_check_eep_row(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t J,
+                        hrt_error *err);
 int trail_check_nested_cores(const char *where, const trail_file *f, const trail_file_group *gp, hrt_error *err);
 /* Format 2: every numeric dataset stored with a checksum (fh: the open file, an HDF5 hid_t). */
 int trail_check_checksums(int64_t fh, const trail_file *f, hrt_error *err);
@@ -223,6 +225,17 @@ void trail_q_phase_run(const qctx *q, int j, int *js, int *je);
 void trail_q_remnant(const qctx *q, int *kind, double *mass_msun);
 void trail_state_clear(hrt_state *s, double mass, double z, double age_yr);
 void trail_state_from_values(hrt_state *s, const double v0[NQS], const double v1[NQS], double f);
+/* The parts of a white dwarf's state that do not change with its age
+ * (remnant.c, trail_wd_fixed_init): a star's remnant computes them once.
+ * ok = 0 where hrt_wd_log_l has no answer (the state then takes the
+ * general path, with the same result). */
+typedef struct trail_wd_fixed {
+    int ok;
+    double x0, c;       /* Mestel cooling: L^(-5/7) at the track's end, the time scale */
+    double log_r, log_g; /* the radius and surface gravity of the mass */
+} trail_wd_fixed;
+/* Bins of a star's log age -> EEP table (star.c, trail_track_arrays.tab). */
+#define TRAIL_STAR_TAB 512
 /* A star's stored track (star.c), as the state code reads it. */
 typedef struct trail_track_arrays {
     const double *age;     /* [n] log10 age/yr */
@@ -230,12 +243,36 @@ typedef struct trail_track_arrays {
     const double *val;     /* [n][NQS] */
     const int8_t *phase;   /* [n] */
     const int32_t *runs;   /* [n][2] */
+    /* [TRAIL_STAR_TAB + 1]: largest EEP j <= n - 2 whose log age is at or
+     * below the start of bin k (uniform in log age from tab_x[0], tab_x[1]
+     * bins per dex): where the search of an age starts; NULL: none */
+    const uint16_t *tab;
+    double tab_x[2];
+    const trail_wd_fixed *wd; /* the white dwarf's fixed parts, or NULL */
 } trail_track_arrays;
+/* Where the search of log age lt (A(0) <= lt < A(n - 1)) on S starts: the
+ * EEPs [*lo, *lo + *len] of its bin in S->tab, moved outwards where rounding
+ * at the bin's edges needs it, so that A(*lo) <= lt < A(*lo + *len). */
+static inline void trail_star_bracket(const trail_track_arrays *S, int n, double lt, int *lo, int *len)
+{
+    const double *a = S->age;
+    double kf = (lt - S->tab_x[0]) * S->tab_x[1];
+    int k = kf > 0.0 ? (kf < TRAIL_STAR_TAB - 1 ? (int)kf : TRAIL_STAR_TAB - 1) : 0;
+    int l = S->tab[k], h = S->tab[k + 1] + 1;
+    while (l > 0 && a[l] > lt)
+        l--;
+    while (h < n - 1 && a[h] <= lt)
+        h++;
+    *lo = l;
+    *len = h - l;
+}
 /* State at age_yr from the stored track S, or from the grid when S is NULL. */
 int trail_state_at_generic(const qctx *q, const trail_track_arrays *S, int kind, double rmass, double age_yr,
                          hrt_state *s);
-/* remnant.c */
-void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr);
+/* remnant.c; wd: the white dwarf's fixed parts (trail_wd_fixed_init), or NULL */
+void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr,
+                         const trail_wd_fixed *wd);
+void trail_wd_fixed_init(trail_wd_fixed *w, int kind, double rem_mass, double log_l_last);
 
 /* Value (p[0]) and slope (p[1]) of quantity q at EEP j, track i; the next
  * track's pair is at p + 2 * NQ. */

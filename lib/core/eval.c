@@ -409,6 +409,8 @@ static int find_eep(const qctx *q, const trail_track_arrays *S, int n, double lt
          * mispredict; the answer is the same */
         const double *a = S->age;
         int len = n - 1;
+        if (S->tab)
+            trail_star_bracket(S, n, lt, &lo, &len);
         while (len > 1) {
             int half = len / 2;
             lo = a[lo + half] <= lt ? lo + half : lo;
@@ -572,7 +574,7 @@ static inline int state_at_lt(const qctx *q, const trail_track_arrays *S, int ki
     }
     double v[NQS];
     src_values(q, S, n - 1, v);
-    trail_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1));
+    trail_state_remnant(s, kind, rmass, v[Q_L - 1], src_age_yr(q, S, n - 1), S ? S->wd : NULL);
     return HRT_OK;
 }
 

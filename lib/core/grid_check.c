@@ -34,6 +34,31 @@ int trail_check_eep_value(const char *where, const char *name, int q, const trai
     return HRT_OK;
 }
 
+/* Every valid EEP of track i (0 .. n_eep[i] - 1) of quantity q: the rules
+ * of trail_check_eep_value in one pass, which words the first failure. */
+int trail_check_eep_row(const char *where, const char *name, int q, const trail_file_group *gp, size_t i, size_t J,
+                        hrt_error *err)
+{
+    const double *row = gp->q[q] + i * J;
+    size_t n = (size_t)gp->n_eep[i];
+    int is_mass = TRAIL_F_IS_MASS(q), ok = 1;
+    double mass_max = TRAIL_MAX_MASS_FACTOR * gp->initial_mass[i];
+    for (size_t j = 0; j < n; j++) {
+        double v = row[j];
+        /* NaN fails every comparison: !(v >= lo && v <= hi) */
+        int good = is_mass ? (isfinite(v) && v >= 0.0 && v <= mass_max) : fabs(v) <= TRAIL_MAX_LOG_ABS;
+        if (q == TRAIL_F_LOG_AGE && j > 0)
+            good = good && v > row[j - 1];
+        ok &= good;
+    }
+    for (size_t j = 0; !ok && j < n; j++) {
+        int rc = trail_check_eep_value(where, name, q, gp, i, j, J, err);
+        if (rc != HRT_OK)
+            return rc;
+    }
+    return HRT_OK;
+}
+
 /* Cores nested in the star at every valid EEP (as the builder checks). */
 int trail_check_nested_cores(const char *where, const trail_file *f, const trail_file_group *gp, hrt_error *err)
 {

@@ -412,12 +412,9 @@ static int read_eep_data(hid_t gr, const char *where, const trail_file *f, const
         const char *name = trail_name_in(&S->eep[q], v);
         rc = read_named(gr, where, v, &S->eep[q], 2, d2, 0, gp->q[q], err);
         for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
-            for (size_t j = 0; j < J && rc == HRT_OK; j++) {
-                if (j < (size_t)gp->n_eep[i])
-                    rc = trail_check_eep_value(where, name, q, gp, i, j, J, err);
-                else
-                    gp->q[q][i * J + j] = NAN; /* not read: not part of the track */
-            }
+            rc = trail_check_eep_row(where, name, q, gp, i, J, err);
+            for (size_t j = (size_t)gp->n_eep[i]; j < J; j++)
+                gp->q[q][i * J + j] = NAN; /* not read: not part of the track */
         }
     }
     if (rc == HRT_OK)

@@ -360,8 +360,8 @@ int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, h
                              as_int ? "integers" : "floating-point numbers");
     } else if ((rc = check_dataset_storage(d, where, name, err)) != HRT_OK) {
         /* declares more than it stores: nothing is allocated for it */
-    } else if (buf && H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT,
-                              buf) < 0) {
+    } else if (buf && !trail_h5_read_one_chunk(d, as_int, buf) &&
+               H5Dread(d, as_int ? H5T_NATIVE_INT : H5T_NATIVE_DOUBLE, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf) < 0) {
         rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: cannot be read (a checksum that does not match, or "
                              "damaged storage)", where, name);
     }

@@ -34,6 +34,11 @@ int trail_h5_attr_number(hid_t loc, const char *name, const char *where, int wan
  * read as int or double into buf (NULL: only checked). */
 int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, hsize_t *dims, int as_int, void *buf,
                      hrt_error *err);
+/* h5chunk.c: dataset d (as_int: int, else double) read into buf without
+ * HDF5's filter pipeline where it is one chunk of the filters a grid file
+ * uses and its checksum verifies: 1 if buf holds its values, 0 if not
+ * (H5Dread decides then). */
+int trail_h5_read_one_chunk(hid_t d, int as_int, void *buf);
 /* 1 if dataset `name` is stored with HDF5's Fletcher-32 checksum filter. */
 int trail_h5_has_checksum(hid_t loc, const char *name);
 /* A 1-D string dataset of 1..TRAIL_MAX_STRINGS entries, newly allocated in *out. */

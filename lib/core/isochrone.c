@@ -166,22 +166,6 @@ static int knot_ages(const hrt_grid *g, double z, size_t r, size_t nk, iso_buf *
     return usable;
 }
 
-/* The log mass of the star of route r at EEP j between knots k and k + 1
- * whose age is age_yr, if there is one: 1 and the log mass in *x. */
-static int root_mass(const hrt_grid *g, double z, double lt, size_t r, size_t j, size_t k, iso_buf *b, double *x)
-{
-    size_t J = g->n_eep_max;
-    if ((size_t)b->knot_n_eep[k] <= j || (size_t)b->knot_n_eep[k + 1] <= j)
-        return 0;
-    double fa = b->ages[k * J + j] - lt, fb = b->ages[(k + 1) * J + j] - lt;
-    if (!((fa <= 0.0 && fb > 0.0) || (fa >= 0.0 && fb < 0.0)))
-        return 0;
-    if (trail_qctx_init(g, trail_exp10(0.5 * (b->knots[k] + b->knots[k + 1])), z, b->q, NULL) != HRT_OK)
-        return 0;
-    *x = find_root(b->q, (int)r, (int)j, lt, b->knots[k], fa, b->knots[k + 1], fb);
-    return 1;
-}
-
 /* A growing list of log masses. */
 typedef struct mass_list {
     double *x;
@@ -200,6 +184,58 @@ static int list_push(mass_list *l, double x)
     }
     l->x[l->n++] = x;
     return HRT_OK;
+}
+
+/* The log masses of the stars of route r between knots k and k + 1 whose
+ * age at an EEP is age_yr (log lt): one root at each EEP both knots reach
+ * where their ages lie either side of it.  The context at the interval's
+ * middle is built at its first root and serves every EEP: find_root sets
+ * the mass weights at each point it tries, and no knot lies strictly inside
+ * the interval, so where the last root left the context changes no number. */
+static int interval_roots(const hrt_grid *g, double z, double lt, size_t r, size_t k, iso_buf *b, mass_list *c)
+{
+    size_t J = g->n_eep_max, jn = g->routes[r].n_eep;
+    if ((size_t)b->knot_n_eep[k] < jn)
+        jn = (size_t)b->knot_n_eep[k];
+    if ((size_t)b->knot_n_eep[k + 1] < jn)
+        jn = (size_t)b->knot_n_eep[k + 1];
+    const double *pa = b->ages + k * J, *pb = pa + J;
+    int ctx = -1, rc = HRT_OK;
+    for (size_t j = 0; j < jn && rc == HRT_OK; j++) {
+        double fa = pa[j] - lt, fb = pb[j] - lt;
+        if (!((fa <= 0.0 && fb > 0.0) || (fa >= 0.0 && fb < 0.0)))
+            continue;
+        if (ctx < 0)
+            ctx = trail_qctx_init(g, trail_exp10(0.5 * (b->knots[k] + b->knots[k + 1])), z, b->q, NULL) == HRT_OK;
+        if (!ctx)
+            return HRT_OK;
+        rc = list_push(c, find_root(b->q, (int)r, (int)j, lt, b->knots[k], fa, b->knots[k + 1], fb));
+    }
+    return rc;
+}
+
+/* x[0 .. n - 1] in ascending order, as qsort with trail_cmp_double sorts
+ * finite values (glibc's is a stable merge sort too), without its calls of
+ * the comparison: tmp holds n values; qsort itself if tmp is NULL. */
+static void sort_doubles(double *x, size_t n, double *tmp)
+{
+    if (!tmp) {
+        qsort(x, n, sizeof *x, trail_cmp_double);
+        return;
+    }
+    for (size_t w = 1; w < n; w *= 2) {
+        for (size_t lo = 0; lo < n; lo += 2 * w) {
+            size_t mid = lo + w < n ? lo + w : n, hi = lo + 2 * w < n ? lo + 2 * w : n;
+            size_t i = lo, j = mid, k = lo;
+            while (i < mid && j < hi)
+                tmp[k++] = x[j] < x[i] ? x[j++] : x[i++];
+            while (i < mid)
+                tmp[k++] = x[i++];
+            while (j < hi)
+                tmp[k++] = x[j++];
+        }
+        memcpy(x, tmp, n * sizeof *x);
+    }
 }
 
 /* The isochrone of one route being written: where points go, what to keep. */
@@ -361,15 +397,13 @@ static int route_candidates(const hrt_grid *g, const trail_zplace *zp, double z,
         rc = list_push(c, x_hi);
     for (size_t k = 1; k + 1 < nk && rc == HRT_OK; k++)
         rc = list_push(c, b->knots[k]);
-    for (size_t j = 0; j < g->routes[r].n_eep && rc == HRT_OK; j++)
-        for (size_t k = 0; k + 1 < nk && rc == HRT_OK; k++) {
-            double x;
-            if (root_mass(g, z, lt, r, j, k, b, &x))
-                rc = list_push(c, x);
-        }
+    for (size_t k = 0; k + 1 < nk && rc == HRT_OK; k++)
+        rc = interval_roots(g, z, lt, r, k, b, c);
     if (rc != HRT_OK)
         return rc;
-    qsort(c->x, c->n, sizeof *c->x, trail_cmp_double);
+    double *tmp = malloc(c->n * sizeof *tmp + 1);
+    sort_doubles(c->x, c->n, tmp);
+    free(tmp);
     size_t u = 0;
     for (size_t k = 0; k < c->n; k++)
         if (u == 0 || c->x[k] > c->x[u - 1])

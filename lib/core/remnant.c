@@ -113,14 +113,32 @@ static double wd_ion_a(int kind)
  *   t_cool = C (L^(-5/7) - L0^(-5/7)),  C = 6e6 yr (A/12)^-1 M^(5/7) (mu/2)^(-2/7)
  * with mu = 2 [normalisation from memory; other texts differ by about 1.5].
  * Inverted for L at a time dt after a luminosity L0. */
+static int wd_cooling_defined(double m, int kind, double log_l0)
+{
+    return m > 0.0 && isfinite(log_l0) && trail_remnant_is_wd(kind) && strcmp(hrt_remnant_key(kind), "unknown") != 0;
+}
+
+/* The cooling law's parts: its time scale C, L0^(-5/7), and log L after dt. */
+static double wd_cooling_c(double m, int kind) { return 6.0e6 * (12.0 / wd_ion_a(kind)) * pow(m, 5.0 / 7.0); }
+static double wd_cooling_x0(double log_l0) { return pow(10.0, -5.0 / 7.0 * log_l0); }
+static double wd_cooling_log_l(double x0, double c, double dt_yr) { return -7.0 / 5.0 * trail_log10(x0 + dt_yr / c); }
+
 double hrt_wd_log_l(double m, int kind, double log_l0, double dt_yr)
 {
-    if (!(m > 0.0) || !isfinite(log_l0) || !(dt_yr >= 0.0) || !trail_remnant_is_wd(kind) ||
-        strcmp(hrt_remnant_key(kind), "unknown") == 0)
+    if (!wd_cooling_defined(m, kind, log_l0) || !(dt_yr >= 0.0))
         return NAN;
-    double c = 6.0e6 * (12.0 / wd_ion_a(kind)) * pow(m, 5.0 / 7.0);
-    double x = pow(10.0, -5.0 / 7.0 * log_l0) + dt_yr / c;
-    return -7.0 / 5.0 * trail_log10(x);
+    return wd_cooling_log_l(wd_cooling_x0(log_l0), wd_cooling_c(m, kind), dt_yr);
+}
+
+void trail_wd_fixed_init(trail_wd_fixed *w, int kind, double rem_mass, double log_l_last)
+{
+    w->ok = wd_cooling_defined(rem_mass, kind, log_l_last);
+    if (!w->ok)
+        return;
+    w->x0 = wd_cooling_x0(log_l_last);
+    w->c = wd_cooling_c(rem_mass, kind);
+    w->log_r = trail_log10(hrt_wd_radius_rsun(rem_mass));
+    w->log_g = trail_log_g_from(rem_mass, w->log_r);
 }
 
 /* Luminosities between which Mestel cooling is good to the factor of about
@@ -132,7 +150,8 @@ double hrt_wd_log_l(double m, int kind, double log_l0, double dt_yr)
 /* Nominal neutron-star radius, km (common practice: 11-13 km). */
 #define NS_RADIUS_KM 12.0
 
-void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr)
+void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_last, double t_last_yr,
+                         const trail_wd_fixed *wd)
 {
     s->flags |= HRT_FLAG_REMNANT;
     s->phase_start_yr = t_last_yr;
@@ -147,10 +166,16 @@ void trail_state_remnant(hrt_state *s, int kind, double rem_mass, double log_l_l
         s->phase = HRT_PHASE_WD;
         /* The remnant test is made on log ages; in years the age can then
          * fall a rounding error short of t_last: cooling has not begun. */
-        s->log_l_lsun = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
-        s->log_r_rsun = trail_log10(hrt_wd_radius_rsun(rem_mass));
+        if (wd && wd->ok) { /* a star's remnant: the same numbers, the fixed parts computed once */
+            s->log_l_lsun = wd_cooling_log_l(wd->x0, wd->c, fmax(s->age_yr - t_last_yr, 0.0));
+            s->log_r_rsun = wd->log_r;
+            s->log_g_cgs = wd->log_g;
+        } else {
+            s->log_l_lsun = hrt_wd_log_l(rem_mass, kind, log_l_last, fmax(s->age_yr - t_last_yr, 0.0));
+            s->log_r_rsun = trail_log10(hrt_wd_radius_rsun(rem_mass));
+            s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
+        }
         s->log_teff_k = TRAIL_LOG_TEFF_SUN + 0.25 * (s->log_l_lsun - 2.0 * s->log_r_rsun);
-        s->log_g_cgs = trail_log_g_from(rem_mass, s->log_r_rsun);
         if (!(s->log_l_lsun >= TRAIL_WD_LOG_L_VALID_MIN && s->log_l_lsun <= TRAIL_WD_LOG_L_VALID_MAX))
             s->flags |= HRT_FLAG_BEYOND_LAW;
         /* cores nested as in every state: the helium core is the whole

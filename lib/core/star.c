@@ -15,7 +15,29 @@ struct hrt_star {
     int32_t *runs;    /* [n][2] first EEP of the phase run containing j, first EEP after it */
     int remnant;
     double remnant_mass;
+    uint16_t tab[TRAIL_STAR_TAB + 1]; /* log age -> EEP table (trail_track_arrays.tab) */
+    double tab_x[2];
+    trail_wd_fixed wd; /* the white dwarf's fixed parts (remnant.c) */
 };
+
+/* The star's log age -> EEP table: for the start of each of TRAIL_STAR_TAB
+ * bins (uniform in log age over the track, and its end), the last EEP
+ * j <= n - 2 at or below it.  Only where the search of an age starts. */
+static void star_table(hrt_star *s)
+{
+    int n = s->n;
+    const double *a = s->age;
+    double a0 = a[0], per_dex = TRAIL_STAR_TAB / (a[n - 1] - a[0]);
+    s->tab_x[0] = a0;
+    s->tab_x[1] = per_dex;
+    int e = 0;
+    for (int k = 0; k <= TRAIL_STAR_TAB; k++) {
+        double lt = a0 + k / per_dex;
+        while (e + 1 <= n - 2 && a[e + 1] <= lt)
+            e++;
+        s->tab[k] = (uint16_t)e;
+    }
+}
 
 void hrt_star_free(hrt_star *s)
 {
@@ -64,6 +86,8 @@ int hrt_star_new(const hrt_grid *g, double mass_msun, double z, hrt_star **star,
         s->runs[2 * j + 1] = je;
     }
     trail_q_remnant(&s->q, &s->remnant, &s->remnant_mass);
+    star_table(s);
+    trail_wd_fixed_init(&s->wd, s->remnant, s->remnant_mass, s->val[(size_t)(n - 1) * NQS + (Q_L - 1)]);
     *star = s;
     if (err)
         trail_set_error(err, HRT_OK, NULL);
@@ -74,7 +98,7 @@ int hrt_star_at(const hrt_star *s, double age_yr, hrt_state *out)
 {
     if (!s || !out)
         return HRT_E_NULL;
-    trail_track_arrays S = {s->age, s->age_yr, s->val, s->phase, s->runs};
+    trail_track_arrays S = {s->age, s->age_yr, s->val, s->phase, s->runs, s->tab, {s->tab_x[0], s->tab_x[1]}, &s->wd};
     return trail_state_at_generic(&s->q, &S, s->remnant, s->remnant_mass, age_yr, out);
 }
 
