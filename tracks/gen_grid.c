@@ -1,7 +1,7 @@
 /*
  * hrtrail-gen-grid: writes hrtrail's default track grid.
  *
- *   gen_grid OUTPUT.h5 [--dump-raw DIR] [--only-z Z]
+ *   gen_grid OUTPUT.h5 [--dump-raw DIR] [--only-z Z [--no-error-field]]
  *
  * Raw tracks come from the semi-analytic model in model.c (physics and
  * sources: tracks/MODEL.md); the library's grid builder puts them on EEPs
@@ -10,7 +10,8 @@
  * ordering.  With --dump-raw every raw track is also written to DIR as CSV.
  * With --only-z only the tracks of that one of the grid's metallicities are
  * made: the same code on a seventh of the work (the sanitizer builds of CI
- * run it so; they copy the full grid from the normal build).
+ * run it so, without the error field, whose leave-one-out tests/test_interp_error
+ * runs there on the same metallicity; they copy the full grid from the normal build).
  */
 #include <math.h>
 #include <stdio.h>
@@ -224,7 +225,7 @@ static int default_layout(layout *lay)
 
 static int usage(const char *prog)
 {
-    fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR] [--only-z Z]\n", prog);
+    fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR] [--only-z Z [--no-error-field]]\n", prog);
     return 2;
 }
 
@@ -331,18 +332,21 @@ int main(int argc, char **argv)
 {
     const char *out = NULL, *dump = NULL;
     double only_z = -1.0;
+    int error_field = 1;
     for (int i = 1; i < argc; i++) {
         if (!strcmp(argv[i], "--dump-raw") && i + 1 < argc)
             dump = argv[++i];
         else if (!strcmp(argv[i], "--only-z") && i + 1 < argc) {
             if ((only_z = grid_z_of(argv[++i])) < 0)
                 return usage(argv[0]);
+        } else if (!strcmp(argv[i], "--no-error-field")) {
+            error_field = 0;
         } else if (argv[i][0] != '-' && !out)
             out = argv[i];
         else
             return usage(argv[0]);
     }
-    if (!out)
+    if (!out || (!error_field && only_z < 0)) /* the default grid always has its error field */
         return usage(argv[0]);
 
     gen_params p;
@@ -369,7 +373,7 @@ int main(int argc, char **argv)
         status = 1;
     }
     hrt_builder_free(b);
-    if (!status)
+    if (!status && error_field)
         status = store_error_field(out, &err);
     return status;
 }

@@ -284,7 +284,7 @@ static void generator(const char *gen)
 
 /* hrt_accuracy_store of acc into path in a child with a file-size limit;
  * returns the code, or -100 - signal. */
-static int child_store(const hrt_accuracy *acc, const char *path, long limit)
+static int child_store(hrt_accuracy *acc, const char *path, long limit)
 {
     fflush(NULL);
     pid_t pid = fork();
@@ -295,9 +295,13 @@ static int child_store(const hrt_accuracy *acc, const char *path, long limit)
             _exit(121);
         hrt_error e = {0, ""};
         int rc = hrt_accuracy_store(acc, path, &e);
+        hrt_accuracy_free(acc);
         if (rc != HRT_OK && (e.code != rc || strlen(e.message) < 10))
             _exit(122);
-        exit(rc);
+        /* _exit: the run's threads (OpenMP, in the parent) left HDF5 thread-local state that
+         * the child cannot free, which LeakSanitizer would report at exit; the stores in the
+         * parent below are checked for leaks, and HDF5 never writes to the disk here */
+        _exit(rc);
     }
     int st = 0;
     waitpid(pid, &st, 0);
