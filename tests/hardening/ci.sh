@@ -26,11 +26,15 @@ unset CFLAGS
 #    Check suite), the default grid's leave-one-out and the import round trip
 #    of its raw tracks (the builder and the import are covered by the import
 #    suite), pip into a virtual environment.
-#    The default grid is not generated again there (minutes under ASan, and
-#    twice: the grid and its reproducibility copy): the sanitizer builds copy
-#    the normal build's (-Ddefault_grid), and the generator, builder and
-#    leave-one-out run under the sanitizers on one metallicity instead, their
-#    output compared with that grid's (test gen_grid_one_z).
+#    Also slow-sanitized: the command's population parts, catalogue and MPI
+#    tests (their library calls run here in population-parts and
+#    mpi-population).  The default grid is not generated again here (its
+#    leave-one-out error field costs ~50 s of CPU per metallicity under ASan,
+#    and it was made twice: the grid and its reproducibility copy): the
+#    sanitizer builds copy the normal build's (-Ddefault_grid).  Under the
+#    sanitizers instead: the generator's model and builder on one metallicity,
+#    compared with that grid (gen_grid_one_z), and the leave-one-out and its
+#    store on that metallicity of the copied grid (interp_error).
 grid=$top/build/tracks/hrtrail-default-grid.h5
 [ -f "$grid" ] || { echo "ci-hardening: no $grid: build the normal build first"; exit 1; }
 if [ -d build-asan ]; then
