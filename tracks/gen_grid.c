@@ -1,13 +1,17 @@
 /*
  * hrtrail-gen-grid: writes hrtrail's default track grid.
  *
- *   gen_grid OUTPUT.h5 [--dump-raw DIR]
+ *   gen_grid OUTPUT.h5 [--dump-raw DIR] [--only-z Z [--no-error-field]]
  *
  * Raw tracks come from the semi-analytic model in model.c (physics and
  * sources: tracks/MODEL.md); the library's grid builder puts them on EEPs
  * (hrt_builder_add_track, the same resampling the track import uses) and
  * writes the file atomically.  Output is deterministic: no time stamps, fixed
  * ordering.  With --dump-raw every raw track is also written to DIR as CSV.
+ * With --only-z only the tracks of that one of the grid's metallicities are
+ * made: the same code on a seventh of the work (the sanitizer builds of CI
+ * run it so, without the error field, whose leave-one-out tests/test_interp_error
+ * runs there on the same metallicity; they copy the full grid from the normal build).
  */
 #include <math.h>
 #include <stdio.h>
@@ -221,7 +225,7 @@ static int default_layout(layout *lay)
 
 static int usage(const char *prog)
 {
-    fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR]\n", prog);
+    fprintf(stderr, "usage: %s OUTPUT.h5 [--dump-raw DIR] [--only-z Z [--no-error-field]]\n", prog);
     return 2;
 }
 
@@ -318,18 +322,38 @@ static int store_error_field(const char *out, hrt_error *err)
     return rc != HRT_OK;
 }
 
+/* The grid metallicity the text names (as printed by %g), or -1. */
+static double grid_z_of(const char *text)
+{
+    for (size_t iz = 0; iz < N_Z; iz++) {
+        char buf[32];
+        snprintf(buf, sizeof buf, "%g", grid_z[iz]);
+        if (!strcmp(buf, text))
+            return grid_z[iz];
+    }
+    fprintf(stderr, "gen_grid: --only-z %s is not one of the grid's metallicities\n", text);
+    return -1.0;
+}
+
 int main(int argc, char **argv)
 {
     const char *out = NULL, *dump = NULL;
+    double only_z = -1.0;
+    int error_field = 1;
     for (int i = 1; i < argc; i++) {
         if (!strcmp(argv[i], "--dump-raw") && i + 1 < argc)
             dump = argv[++i];
-        else if (argv[i][0] != '-' && !out)
+        else if (!strcmp(argv[i], "--only-z") && i + 1 < argc) {
+            if ((only_z = grid_z_of(argv[++i])) < 0)
+                return usage(argv[0]);
+        } else if (!strcmp(argv[i], "--no-error-field")) {
+            error_field = 0;
+        } else if (argv[i][0] != '-' && !out)
             out = argv[i];
         else
             return usage(argv[0]);
     }
-    if (!out)
+    if (!out || (!error_field && only_z < 0)) /* the default grid always has its error field */
         return usage(argv[0]);
 
     gen_params p;
@@ -349,13 +373,14 @@ int main(int argc, char **argv)
     }
     int status = 0;
     for (size_t iz = 0; iz < N_Z && !status; iz++)
-        status = add_metallicity(b, &lay, &p, grid_z[iz], dump, &err);
+        if (only_z < 0 || grid_z[iz] == only_z)
+            status = add_metallicity(b, &lay, &p, grid_z[iz], dump, &err);
     if (!status && hrt_builder_write(b, out, &err) != HRT_OK) {
         fprintf(stderr, "gen_grid: %s\n", err.message);
         status = 1;
     }
     hrt_builder_free(b);
-    if (!status)
+    if (!status && error_field)
         status = store_error_field(out, &err);
     return status;
 }

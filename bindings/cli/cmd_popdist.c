@@ -333,6 +333,7 @@ int pop_merge(cli *c, argparse *p)
     int rc = cli_parse(c, p, &merge_cmdopts, &m);
     if (rc == 0 && m.n_files == 0)
         rc = cli_fail(c, CLI_EXIT_USAGE, "no saved parts: hrtrail population merge FILE... (from --save-summary)");
+    if (rc == 0) rc = pop_check_out(c, m.out);
     if (rc == 0) rc = merge_files(c, &m, &all);
     if (rc == 0 && !hrt_pop_part_complete(all) && !m.save) {
         missing_text(all, miss, sizeof miss);

@@ -444,6 +444,15 @@ static int pop_check(const cli *c, pop_args *a)
         return cli_fail(c, CLI_EXIT_USAGE, "--imf powerlaw needs --alpha A (dN/dm ~ m^-A)");
     if (a->sfh < 0)
         return cli_fail(c, CLI_EXIT_USAGE, "--sfh '%s': one of burst, constant, exponential, table", a->sfh_name);
+    return pop_check_out(c, a->out);
+}
+
+int pop_check_out(const cli *c, const char *out)
+{
+    if (out && strcmp(out, "-") == 0 && c->fmt != FMT_TABLE)
+        return cli_fail(c, CLI_EXIT_USAGE, "-o -: the SVG would share standard output with the %s summary; name a file "
+                                           "for -o (the %s goes to standard output)",
+                        c->fmt == FMT_CSV ? "CSV" : "JSON", c->fmt == FMT_CSV ? "CSV" : "JSON");
     return 0;
 }
 
@@ -614,7 +623,7 @@ int pop_output(cli *c, pop_args *a, const hrt_pop_summary *sums, double dt, size
         pop_csv(a, sums);
     else if (rc == 0 && c->fmt == FMT_JSON)
         pop_json_doc(c, a, sums);
-    else if (rc == 0)
+    else if (rc == 0 && !(a->out && strcmp(a->out, "-") == 0)) /* -o -: the SVG alone */
         pop_text(c, a, sums, dt, n_merged);
     return rc;
 }

@@ -58,6 +58,10 @@ int pop_merge(cli *c, argparse *p);
 /* The output of a whole population (cmd_population.c): text, CSV or JSON on stdout, SVG with -o;
  * dt < 0: merged from n_merged saved parts. */
 int pop_output(cli *c, pop_args *a, const hrt_pop_summary *sums, double dt, size_t n_merged);
+/* -o OUT beside the summary: '-' puts the SVG alone on standard output (the
+ * summary's text is left out there); with --csv or --json it is refused (two
+ * documents in one stream).  Nonzero after a message. */
+int pop_check_out(const cli *c, const char *out);
 int pop_run_range(const cli *c, const hrt_pop_spec *spec, uint64_t first, uint64_t count, int threads, size_t n_ages,
                   hrt_pop_summary *sums, int progress);
 

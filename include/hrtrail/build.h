@@ -630,11 +630,14 @@ HRT_API int hrt_accuracy_row_at(const hrt_accuracy *acc, size_t i, hrt_accuracy_
  *
  * Given:
  *   acc    a run of hrt_accuracy_run() on the grid opened from `path`
- *   path   that grid's file, rewritten in place (close no grid first:
- *          open grids keep what they read)
+ *   path   that grid's file (close no grid first: open grids keep what
+ *          they read); a symbolic link is followed to the file it names
  * Returned (function value): HRT_OK; HRT_E_NULL; HRT_E_INVALID (no run);
- *   HRT_E_NOMEM; HRT_E_IO (the file cannot be opened for writing or HDF5
- *   fails).
+ *   HRT_E_NOMEM; HRT_E_IO (the file is not a regular file, such as a FIFO
+ *   or a device; it cannot be copied or replaced; or HDF5 fails).  The file
+ *   is never edited in place: a copy is written to a private temporary file
+ *   beside it and renamed over it, so after a failure it is as it was and
+ *   no temporary is left.
  * Notes:
  *   1. Written: the optional group accuracy/ of tracks/FORMAT.md (replacing
  *      one stored before): for every dropped track, every type measured and

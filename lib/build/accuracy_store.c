@@ -2,10 +2,13 @@
  * measured on (hrt_accuracy_store in include/hrtrail/build.h; the layout is
  * the optional group accuracy/ of tracks/FORMAT.md, read back by
  * lib/core/interp_error.c). */
+#include <errno.h>
 #include <math.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 
 #include <hdf5.h>
 #include <hdf5_hl.h>
@@ -168,6 +171,68 @@ static void st_write(st_ctx *w, hid_t f, int across, const trail_acc_field *fl, 
         H5Gclose(g);
 }
 
+/* The grid file is never edited in place (a failure half-way would leave a
+ * broken grid, and HDF5 cannot always recover from a failed write): its
+ * bytes are read into memory, the group is written into that image (HDF5's
+ * file-image driver) and the new image replaces the file whole (util.h:
+ * trail_replace_target, trail_write_replace). */
+typedef struct st_file {
+    char *target; /* path with its links resolved */
+    unsigned mode;
+    void *bytes; /* the file's image as read */
+} st_file;
+
+/* Every byte of sf->target into sf->bytes, opened by HDF5 as *f (read-write, in memory). */
+static int st_open_image(const char *path, st_file *sf, hid_t *f, hrt_error *err)
+{
+    int rc = trail_replace_target(path, "hrt_accuracy_store: ", &sf->target, &sf->mode, err);
+    if (rc != HRT_OK)
+        return rc;
+    FILE *in = fopen(sf->target, "rb");
+    struct stat st;
+    size_t n = 0;
+    if (!in || fstat(fileno(in), &st) != 0)
+        rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: cannot read '%s': %s", path, strerror(errno));
+    else if (!(sf->bytes = malloc((n = (size_t)st.st_size) ? n : 1)))
+        rc = trail_set_error(err, HRT_E_NOMEM, "hrt_accuracy_store: out of memory for the %zu bytes of '%s'", n, path);
+    else if (fread(sf->bytes, 1, n, in) != n)
+        rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: cannot read '%s'", path);
+    if (in)
+        fclose(in);
+    if (rc == HRT_OK) {
+        H5E_BEGIN_TRY { *f = H5LTopen_file_image(sf->bytes, n, H5LT_FILE_IMAGE_OPEN_RW); }
+        H5E_END_TRY;
+        if (*f < 0)
+            rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: cannot open %s for writing (HDF5)", path);
+    }
+    return rc;
+}
+
+/* The image of f (closed here) as the new contents of the file: written
+ * only when ok.  Frees sf.  Returns the failure of this step, else HRT_OK. */
+static int st_commit(st_file *sf, hid_t f, int ok, const char *path, hrt_error *err)
+{
+    int rc = HRT_OK;
+    void *img = NULL;
+    ssize_t size = -1;
+    H5E_BEGIN_TRY
+    {
+        if (ok && (H5Fflush(f, H5F_SCOPE_GLOBAL) < 0 || (size = H5Fget_file_image(f, NULL, 0)) <= 0 ||
+                   !(img = malloc((size_t)size)) || H5Fget_file_image(f, img, (size_t)size) != size))
+            rc = trail_set_error(err, img || size <= 0 ? HRT_E_IO : HRT_E_NOMEM,
+                                 "hrt_accuracy_store: cannot complete the new image of %s (HDF5)", path);
+        if (f >= 0 && H5Fclose(f) < 0 && ok && rc == HRT_OK)
+            rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: cannot close the new image of %s (HDF5)", path);
+    }
+    H5E_END_TRY;
+    if (ok && rc == HRT_OK)
+        rc = trail_write_replace(sf->target, "hrt_accuracy_store: ", img, (size_t)size, sf->mode, err);
+    free(img);
+    free(sf->bytes);
+    free(sf->target);
+    return rc;
+}
+
 int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err)
 {
     if (!acc || !path)
@@ -188,17 +253,12 @@ int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err
         H5Tset_cset(w.str_t, H5T_CSET_UTF8) < 0 || H5Pset_obj_track_times(w.gcpl, 0) < 0 ||
         H5Pset_obj_track_times(w.dcpl, 0) < 0)
         w.failed = 1;
+    st_file sf = {NULL, 0644, NULL};
     hid_t f = -1;
-    H5E_BEGIN_TRY { f = w.failed ? -1 : H5Fopen(path, H5F_ACC_RDWR, H5P_DEFAULT); }
-    H5E_END_TRY;
-    int rc = HRT_OK;
-    if (f < 0 && !w.failed) {
-        rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: cannot open %s for writing (HDF5)", path);
-    } else {
+    int rc = w.failed ? HRT_OK : st_open_image(path, &sf, &f, err);
+    if (rc == HRT_OK) {
         H5E_BEGIN_TRY { st_write(&w, f, trail_acc_across_z(acc), fl, n, key, val); }
         H5E_END_TRY;
-        if (f >= 0 && H5Fclose(f) < 0)
-            w.failed = 1;
         if (w.failed == 2)
             rc = trail_set_error(err, HRT_E_INVALID,
                                  "hrt_accuracy_store: %s holds no mass-direction error field: store one "
@@ -208,6 +268,9 @@ int hrt_accuracy_store(const hrt_accuracy *acc, const char *path, hrt_error *err
             rc = trail_set_error(err, HRT_E_IO, "hrt_accuracy_store: writing group accuracy/ of %s failed (HDF5)",
                                  path);
     }
+    int crc = st_commit(&sf, f, rc == HRT_OK, path, err);
+    if (rc == HRT_OK)
+        rc = crc;
     if (w.gcpl >= 0)
         H5Pclose(w.gcpl);
     if (w.dcpl >= 0)

@@ -43,6 +43,22 @@ int trail_set_error(hrt_error *err, int code, const char *fmt, ...)
     ;
 /* strdup (not in C11); NULL when out of memory. */
 char *trail_strdup(const char *s);
+/* Output files are replaced whole, never edited in place: written to a
+ * private temporary beside the file and renamed over it.
+ * trail_replace_target: the file path names, links resolved (realpath: a
+ * rename must replace the file, not the link), which must exist as a regular
+ * file (a FIFO, device or directory is refused); *target is malloc'ed, *mode
+ * gets its permission bits.  trail_temp_beside: a new file "PATH.tmp-XXXXXX"
+ * (mkstemp: unpredictable, O_EXCL, so no planted link is followed), *tmp
+ * malloc'ed, *fd open for writing.  who prefixes the messages ("" for none). */
+int trail_replace_target(const char *path, const char *who, char **target, unsigned *mode, hrt_error *err);
+int trail_temp_beside(const char *path, const char *who, char **tmp, int *fd, hrt_error *err);
+/* n bytes as the new contents of target (a name trail_replace_target gave):
+ * through trail_temp_beside, with the given mode, to the disk (fsync), then
+ * renamed over it; after a failure target is as it was and the temporary is
+ * removed. */
+int trail_write_replace(const char *target, const char *who, const void *bytes, size_t n, unsigned mode,
+                        hrt_error *err);
 /* qsort comparison of doubles, ascending (NaN last). */
 int trail_cmp_double(const void *a, const void *b);
 

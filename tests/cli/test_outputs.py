@@ -34,8 +34,8 @@ WRITERS = [
 
 def svg_of(args):
     """The SVG a command writes to standard output (-o -): what every file written must hold."""
-    rc, out, err = run(args + ["-o", "-"] + (["--json"] if args[0] != "plot" else []))
-    if args[0] != "plot":  # population and demo print their report after the SVG: keep the SVG
+    rc, out, err = run(args + ["-o", "-"] + (["--json"] if args[0] == "demo" else []))
+    if args[0] == "demo":  # the demo prints its report after the SVG: keep the SVG (population: the SVG alone)
         out = out[:out.index("</svg>\n") + len("</svg>\n")]
     t.eq(rc, EXIT_OK, "%s -o - (%s)" % (args[0], err))
     return out.encode()

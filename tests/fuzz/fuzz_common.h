@@ -21,15 +21,15 @@
         }                                                                                                  \
     } while (0)
 
-/* Two metallicities, two routes (7 and 5 EEPs), five tracks each. */
-static int fuzz_small_grid(const char *path)
+/* nz (1 or 2) metallicities, two routes (7 and 5 EEPs), five tracks each. */
+static int fuzz_small_grid_nz(const char *path, int nz)
 {
     const char *kp_a[] = {"zams", "tams", "end"}, *kp_b[] = {"zams", "end"};
     int seg_a[] = {3, 3}, seg_b[] = {4};
     hrt_route_spec routes[2] = {{"lower", 3, kp_a, seg_a}, {"upper", 2, kp_b, seg_b}};
     hrt_builder *b = NULL;
     int rc = hrt_builder_new(2, routes, 0.014, &b, NULL);
-    for (int iz = 0; iz < 2 && rc == HRT_OK; iz++) {
+    for (int iz = 0; iz < nz && rc == HRT_OK; iz++) {
         double z = iz ? 0.02 : 0.004;
         for (int k = 0; k < 5 && rc == HRT_OK; k++) {
             int r = k < 3, n = r ? 7 : 5;
@@ -58,6 +58,8 @@ static int fuzz_small_grid(const char *path)
     hrt_builder_free(b);
     return rc;
 }
+
+static inline int fuzz_small_grid(const char *path) { return fuzz_small_grid_nz(path, 2); }
 
 static int fuzz_known_code(int rc) { return rc >= HRT_OK && rc < HRT_STATUS_COUNT_; }
 

@@ -1,7 +1,9 @@
 /* libFuzzer target: arbitrary bytes as a grid file.  The bytes are written
  * to a temporary file and opened with hrt_grid_open; a grid that opens is
- * then queried through every path (fuzz_exercise).  Seeds: small valid
- * grids of the current format (corpus/fuzz_grid_file/, written by mkseed). */
+ * then queried through every path (fuzz_exercise).  Seeds
+ * (corpus/fuzz_grid_file/): one_z.h5, the smallest valid grid of the current
+ * format (chunked, compressed, checksummed; written by mkseed OUT 1), and
+ * small.h5, an older uncompressed layout the reader refuses (no checksums). */
 #include <stdint.h>
 
 #include "fuzz_common.h"

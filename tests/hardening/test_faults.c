@@ -6,6 +6,10 @@
  * must return HRT_E_IO with a message.  A write with room enough must
  * replace the file (the control that shows the check can see a change).
  *
+ * hrt_accuracy_store, which adds a group to an existing grid, goes the same
+ * way: with no room, through a FIFO, a link and a device the old file (or
+ * the FIFO) is untouched and nothing is left beside it.
+ *
  * Usage: test_faults [GENERATOR]: with the default-grid generator, it is
  * also run with too little room over an existing grid. */
 #include <dirent.h>
@@ -278,6 +282,93 @@ static void generator(const char *gen)
     unlink(path);
 }
 
+/* hrt_accuracy_store of acc into path in a child with a file-size limit;
+ * returns the code, or -100 - signal. */
+static int child_store(hrt_accuracy *acc, const char *path, long limit)
+{
+    fflush(NULL);
+    pid_t pid = fork();
+    if (pid == 0) {
+        signal(SIGXFSZ, SIG_IGN);
+        struct rlimit rl = {(rlim_t)limit, (rlim_t)limit};
+        if (setrlimit(RLIMIT_FSIZE, &rl) != 0)
+            _exit(121);
+        hrt_error e = {0, ""};
+        int rc = hrt_accuracy_store(acc, path, &e);
+        hrt_accuracy_free(acc);
+        if (rc != HRT_OK && (e.code != rc || strlen(e.message) < 10))
+            _exit(122);
+        /* _exit: the run's threads (OpenMP, in the parent) left HDF5 thread-local state that
+         * the child cannot free, which LeakSanitizer would report at exit; the stores in the
+         * parent below are checked for leaks, and HDF5 never writes to the disk here */
+        _exit(rc);
+    }
+    int st = 0;
+    waitpid(pid, &st, 0);
+    return WIFSIGNALED(st) ? -100 - WTERMSIG(st) : WEXITSTATUS(st);
+}
+
+static int has_field(const char *p)
+{
+    hrt_grid *g = NULL;
+    int ok = hrt_grid_open(p, &g, NULL) == HRT_OK && hrt_grid_has_interp_error(g);
+    hrt_grid_close(g);
+    return ok;
+}
+
+/* Storing an error field never edits the grid in place. */
+static void accuracy_store(void)
+{
+    char path[128], link[128], fifo[128];
+    snprintf(path, sizeof path, "%s/grid.h5", dir);
+    snprintf(link, sizeof link, "%s/link.h5", dir);
+    snprintf(fifo, sizeof fifo, "%s/fifo.h5", dir);
+    hrt_error e;
+    HARD_CHECK(synth_write(&spec_b, path, &e) == HRT_OK, "grid B: %s", e.message);
+    hrt_grid *g = NULL;
+    hrt_accuracy *acc = NULL;
+    HARD_CHECK(hrt_grid_open(path, &g, &e) == HRT_OK && hrt_accuracy_new(&acc, &e) == HRT_OK &&
+                   hrt_accuracy_run(acc, g, &e) == HRT_OK, "accuracy run: %s", e.message);
+    hrt_grid_close(g);
+    long na;
+    unsigned char *a = slurp(path, &na);
+    /* no room for the copy, then room for the copy but not for the group */
+    const long limits[3] = {0, na / 2, na};
+    for (int k = 0; k < 3; k++) {
+        int rc = child_store(acc, path, limits[k]);
+        faults++;
+        HARD_CHECK(rc == HRT_E_IO, "store with %ld of %ld bytes of room: %d, not HRT_E_IO", limits[k], na, rc);
+        HARD_CHECK(same_bytes(path, a, na) && !has_field(path), "store with %ld bytes of room changed the grid",
+                   limits[k]);
+        HARD_CHECK(stray_files(dir, "grid.h5", NULL) == 0, "store with %ld bytes of room left a file", limits[k]);
+    }
+    /* a FIFO is refused without being opened (no reader: an open would block) */
+    HARD_CHECK(mkfifo(fifo, 0644) == 0, "mkfifo %s", fifo);
+    int rc = hrt_accuracy_store(acc, fifo, &e);
+    faults++;
+    struct stat st;
+    HARD_CHECK(rc == HRT_E_IO && strstr(e.message, "FIFO"), "store into a FIFO: %d '%s'", rc, e.message);
+    HARD_CHECK(stat(fifo, &st) == 0 && S_ISFIFO(st.st_mode), "the FIFO was replaced");
+    HARD_CHECK(stray_files(dir, "grid.h5", "fifo.h5") == 0, "store into a FIFO left a file");
+    unlink(fifo);
+    rc = hrt_accuracy_store(acc, "/dev/null", &e);
+    faults++;
+    HARD_CHECK(rc == HRT_E_IO && strstr(e.message, "device"), "store into /dev/null: %d '%s'", rc, e.message);
+    /* control, through a link: the file it names gets the field, the link stays */
+    HARD_CHECK(symlink("grid.h5", link) == 0, "symlink %s", link);
+    rc = hrt_accuracy_store(acc, link, &e);
+    HARD_CHECK(rc == HRT_OK, "store through a link: %s", e.message);
+    HARD_CHECK(lstat(link, &st) == 0 && S_ISLNK(st.st_mode), "the link was replaced");
+    HARD_CHECK(!same_bytes(path, a, na) && has_field(path), "the store did not reach the grid through the link");
+    HARD_CHECK(stray_files(dir, "grid.h5", "link.h5") == 0, "store through a link left a file");
+    printf("faults: error-field store with 0, half and all of the grid's size of room, into a FIFO and a device: "
+           "refused, grid kept, nothing left; through a link: stored, link kept\n");
+    hrt_accuracy_free(acc);
+    unlink(link);
+    unlink(path);
+    free(a);
+}
+
 int main(int argc, char **argv)
 {
     snprintf(dir, sizeof dir, "/tmp/hrt-faults-XXXXXX");
@@ -287,6 +378,7 @@ int main(int argc, char **argv)
     disk_full();
     unwritable_dir();
     other_faults();
+    accuracy_store();
     if (argc > 1)
         generator(argv[1]);
     printf("faults: %ld faults injected\n", faults);

@@ -67,6 +67,19 @@ import re  # noqa: E402
 counts = [int(c) for c in re.findall(r'class="density" data-count="(\d+)"', s)]
 check(sum(counts) == sum(map(sum, ep[0]["hr_histogram"]["counts"])), "density SVG bins hold the first age's histogram")
 check('class="isochrone"' in s, "a single burst's density SVG shows its isochrone")
+# -o names the density SVG whatever the summary's format: with --json the JSON goes to standard
+# output alone and names the SVG file; '-o -' puts the SVG alone on standard output, and is refused
+# with --csv or --json (two documents in one stream)
+check(doc.get("svg") == svg and out.lstrip().startswith("{"), "--json -o FILE: JSON on stdout, naming the SVG -o wrote")
+small = ["population", "--stars", "2000", "--age", "1Gyr", "--threads", "1"]
+rc, out, err = run(small + ["-o", "-"])
+x = subprocess.run(["xmllint", "--noout", "-"], input=out, capture_output=True, text=True)
+check(rc == 0 and out.lstrip().startswith("<") and out.rstrip().endswith("</svg>") and x.returncode == 0,
+      "-o -: the SVG alone on stdout, well-formed (no summary after it): %r" % out[-80:])
+for fmt in ("--json", "--csv"):
+    for args in (small + [fmt, "-o", "-"], ["population", "merge", fmt, "-o", "-", os.path.join(d, "no-such.part")]):
+        rc, out, err = run(args)
+        check(rc == 2 and out == "" and "-o -" in err, "%s -o -: usage error, nothing on stdout: %r" % (args[1], err))
 
 rc, out, err = run(base + ["--csv"])
 rows = list(csv.DictReader(io.StringIO(out)))
