@@ -154,7 +154,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
             bz[k] = z ? z[i] : z_all;
             bage[k] = age_yr[i];
         }
-        if (trail_eval_run(g, c, NULL, b.m, bz, z_all, bage, b.st, NULL) != HRT_OK)
+        if (trail_eval_lockstep(g, c, b.m, bz, bage, b.st) != HRT_OK)
             failed = 1;
         for (size_t k = 0; k < c; k++)
             out[b.order[k]] = b.st[k];
