@@ -267,6 +267,16 @@ static int run_block(const hrt_grid *g, run_ctx *r, size_t w, const double *x, c
     return first;
 }
 
+/* Whether Z is one group's, as trail_place_z decides it (without the log
+ * it takes between groups). */
+static int at_group_z(const hrt_grid *g, double z)
+{
+    for (size_t k = 0; k < g->n_z; k++)
+        if (fabs(z - g->grp[k].z) <= TRAIL_EDGE_REL_TOL * g->grp[k].z)
+            return 1;
+    return 0;
+}
+
 int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
                         hrt_state *out)
 {
@@ -274,6 +284,18 @@ int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, co
     run_ctx r;
     size_t k = 0;
     while (k < n) {
+        /* stars between groups: the one-star path, in one call (it shares
+         * the metallicity part between equal Z and prefetches ahead) */
+        size_t e = k;
+        while (e < n && ((e > k && z[e] == z[e - 1]) || !at_group_z(g, z[e])))
+            e++;
+        if (e > k) {
+            int rc = trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
+            if (rc != HRT_OK && first == HRT_OK)
+                first = rc;
+            k = e;
+            continue;
+        }
         double x[KERNEL_WIDTH];
         if (!run_open(g, mass_msun[k], z[k], &r) || !run_joins(g, &r, mass_msun[k], z[k], &x[0])) {
             int rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
