@@ -43,6 +43,8 @@ typedef struct run_ctx {
 
 /* One star of a block: its inputs and what the stages pass on. */
 typedef struct lane {
+    run_ctx *r; /* its run */
+    double x;   /* log10 of its mass */
     double mass, age_yr, lt, w_age[4], w_val[4], a_first, a_last, aj, aj1;
     size_t near;
     int kind, on_track, j;
@@ -229,42 +231,12 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
     return 1;
 }
 
-/* Whether a star joins the run: the same Z, a mass strictly inside the
- * interval (so that eval.c's mass_ctx would find this interval, interior,
- * with the same EEP count) and on the same route.  Its log mass in *x. */
-static inline int run_joins(const hrt_grid *g, const run_ctx *r, double mass, double z, double *x)
+/* Whether a star of log mass x joins the run: the same Z, a mass strictly
+ * inside the interval (so that eval.c's mass_ctx would find this interval,
+ * interior, with the same EEP count) and on the same route. */
+static inline int run_joins(const hrt_grid *g, const run_ctx *r, double mass, double z, double x)
 {
-    if (!(z == r->q.z) || !(mass > 0.0) || !isfinite(mass))
-        return 0;
-    *x = trail_log10(mass);
-    return *x > r->x_lo && *x < r->x_hi && trail_route_at(g, &r->q.zp, mass) == r->q.route;
-}
-
-/* Stars [0, w) of a block of the run, w <= KERNEL_WIDTH, stage by stage.
- * Returns HRT_OK or the first failure of a star sent to the one-star path. */
-static int run_block(const hrt_grid *g, run_ctx *r, size_t w, const double *x, const double *mass, const double *z,
-                     const double *age_yr, hrt_state *out)
-{
-    lane L[KERNEL_WIDTH];
-    for (size_t k = 0; k < w; k++) {
-        L[k].mass = mass[k];
-        L[k].age_yr = age_yr[k];
-        lane_prepare(r, &L[k], x[k]);
-    }
-    for (size_t k = 0; k < w; k++)
-        if (L[k].on_track)
-            L[k].j = run_find(r, &L[k]);
-    int first = HRT_OK;
-    for (size_t k = 0; k < w; k++) {
-        if (L[k].on_track) {
-            lane_state(r, &L[k], z[k], &out[k]);
-            continue;
-        }
-        int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
-        if (rc != HRT_OK && first == HRT_OK)
-            first = rc;
-    }
-    return first;
+    return z == r->q.z && x > r->x_lo && x < r->x_hi && trail_route_at(g, &r->q.zp, mass) == r->q.route;
 }
 
 /* Whether Z is one group's, as trail_place_z decides it (without the log
@@ -277,11 +249,76 @@ static int at_group_z(const hrt_grid *g, double z)
     return 0;
 }
 
+/* Runs kept open at once: a bucket of masses may straddle a track, and its
+ * stars then alternate between two intervals. */
+#define KERNEL_RUNS 4
+
+typedef struct run_cache {
+    run_ctx r[KERNEL_RUNS];
+    int open[KERNEL_RUNS];
+    unsigned next; /* the slot opened next (round robin) */
+} run_cache;
+
+/* The open run star (mass, z) joins, or a new one in a slot that no star of
+ * the block [0, w) uses; NULL if the kernel does not take the star. */
+static run_ctx *run_for(const hrt_grid *g, run_cache *c, lane *L, size_t w, double mass, double z)
+{
+    if (!(mass > 0.0) || !isfinite(mass))
+        return NULL;
+    double x = trail_log10(mass);
+    for (int k = 0; k < KERNEL_RUNS; k++)
+        if (c->open[k] && run_joins(g, &c->r[k], mass, z, x)) {
+            L[w].x = x;
+            return &c->r[k];
+        }
+    for (int tries = 0; tries < KERNEL_RUNS; tries++) {
+        int k = (int)(c->next++ % KERNEL_RUNS);
+        int busy = 0;
+        for (size_t b = 0; b < w; b++)
+            busy |= L[b].r == &c->r[k];
+        if (busy)
+            continue;
+        c->open[k] = run_open(g, mass, z, &c->r[k]) && run_joins(g, &c->r[k], mass, z, x);
+        L[w].x = x;
+        return c->open[k] ? &c->r[k] : NULL;
+    }
+    return NULL; /* not reached: a block of fewer than KERNEL_RUNS stars leaves a slot free */
+}
+
+/* A block of w stars taken stage by stage.  Returns HRT_OK (its stars are
+ * all on their tracks or sent to the one-star path, whose first failure is
+ * returned). */
+static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, const double *z, const double *age_yr,
+                     hrt_state *out)
+{
+    for (size_t k = 0; k < w; k++) {
+        L[k].mass = mass[k];
+        L[k].age_yr = age_yr[k];
+        lane_prepare(L[k].r, &L[k], L[k].x);
+    }
+    for (size_t k = 0; k < w; k++)
+        if (L[k].on_track)
+            L[k].j = run_find(L[k].r, &L[k]);
+    int first = HRT_OK;
+    for (size_t k = 0; k < w; k++) {
+        if (L[k].on_track) {
+            lane_state(L[k].r, &L[k], z[k], &out[k]);
+            continue;
+        }
+        int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
+        if (rc != HRT_OK && first == HRT_OK)
+            first = rc;
+    }
+    return first;
+}
+
 int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
                         hrt_state *out)
 {
     int first = HRT_OK;
-    run_ctx r;
+    run_cache c;
+    memset(c.open, 0, sizeof c.open);
+    c.next = 0;
     size_t k = 0;
     while (k < n) {
         /* stars between groups: the one-star path, in one call (it shares
@@ -289,34 +326,26 @@ int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, co
         size_t e = k;
         while (e < n && ((e > k && z[e] == z[e - 1]) || !at_group_z(g, z[e])))
             e++;
+        int rc = HRT_OK;
         if (e > k) {
-            int rc = trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
-            if (rc != HRT_OK && first == HRT_OK)
-                first = rc;
+            rc = trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
             k = e;
-            continue;
-        }
-        double x[KERNEL_WIDTH];
-        if (!run_open(g, mass_msun[k], z[k], &r) || !run_joins(g, &r, mass_msun[k], z[k], &x[0])) {
-            int rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
-            if (rc != HRT_OK && first == HRT_OK)
-                first = rc;
-            k++;
-            continue;
-        }
-        /* blocks of the run while its stars keep joining */
-        size_t w = 1;
-        for (;;) {
-            while (w < KERNEL_WIDTH && k + w < n && run_joins(g, &r, mass_msun[k + w], z[k + w], &x[w]))
+        } else {
+            /* a block: the next stars the kernel takes, up to its width */
+            lane L[KERNEL_WIDTH];
+            size_t w = 0;
+            while (w < KERNEL_WIDTH && k + w < n && (L[w].r = run_for(g, &c, L, w, mass_msun[k + w], z[k + w])))
                 w++;
-            int rc = run_block(g, &r, w, x, mass_msun + k, z + k, age_yr + k, out + k);
-            if (rc != HRT_OK && first == HRT_OK)
-                first = rc;
+            if (w == 0) {
+                rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
+                w = 1;
+            } else {
+                rc = run_block(g, L, w, mass_msun + k, z + k, age_yr + k, out + k);
+            }
             k += w;
-            if (w < KERNEL_WIDTH || k >= n || !run_joins(g, &r, mass_msun[k], z[k], &x[0]))
-                break;
-            w = 1;
         }
+        if (rc != HRT_OK && first == HRT_OK)
+            first = rc;
     }
     return first;
 }
