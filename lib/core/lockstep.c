@@ -41,13 +41,17 @@ typedef struct run_ctx {
     int n;              /* EEPs of the interpolated star */
 } run_ctx;
 
+/* Where a star of a block is: on its track, before or after it (in the
+ * kernel), or for the one-star path. */
+enum { LANE_ONE_STAR, LANE_ON_TRACK, LANE_BEFORE, LANE_REMNANT };
+
 /* One star of a block: its inputs and what the stages pass on. */
 typedef struct lane {
     run_ctx *r; /* its run */
     double x;   /* log10 of its mass */
     double mass, age_yr, lt, w_age[4], w_val[4], a_first, a_last, aj, aj1;
     size_t near;
-    int kind, on_track, j;
+    int kind, on_track, j; /* on_track: LANE_* */
     double rmass;
 } lane;
 
@@ -127,6 +131,15 @@ static int run_find(const run_ctx *r, lane *s)
     return lo;
 }
 
+/* The values of the five quantities at EEP j (eval.c's trail_q_values at
+ * one group). */
+static inline void lane_values(const run_ctx *r, const double *w, int j, double v[NQS])
+{
+    const double *p = trail_knot(r->gp, (size_t)j, r->i, 1);
+    for (int c = 0; c < NQS; c++)
+        v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
+}
+
 /* Stage 1: a star's own mass context (the weights of eval.c's mass_ctx for
  * an interior mass), remnant, log age and the log ages at its track's ends. */
 static void lane_prepare(run_ctx *r, lane *s, double x)
@@ -140,22 +153,47 @@ static void lane_prepare(run_ctx *r, lane *s, double x)
     memcpy(s->w_val, m->w_val, sizeof s->w_val);
     s->near = m->near;
     double t = s->age_yr;
-    s->on_track = 0;
-    if (!(isfinite(t) && t > 0.0))
-        return; /* age 0 (pre-main sequence) and failures: the one-star path */
-    s->lt = trail_log10(t);
+    s->on_track = LANE_ONE_STAR;
+    if (!(isfinite(t) && t >= 0.0))
+        return; /* a failure: the one-star path words it */
+    s->lt = t > 0.0 ? trail_log10(t) : -INFINITY;
     s->a_first = run_age(r, s->w_age, 0);
     s->a_last = run_age(r, s->w_age, r->n - 1);
-    s->on_track = s->lt >= s->a_first && s->lt < s->a_last;
+    if (s->lt >= s->a_first && s->lt < s->a_last)
+        s->on_track = LANE_ON_TRACK;
+    else if (s->lt < s->a_first)
+        s->on_track = LANE_BEFORE;
+    else if (s->kind != HRT_REMNANT_NONE || (size_t)r->n >= r->q.g->routes[r->q.route].n_eep)
+        s->on_track = LANE_REMNANT; /* else no answer past the track's end: the one-star path words it */
 }
 
-/* The values of the five quantities at EEP j (eval.c's trail_q_values at
- * one group). */
-static inline void lane_values(const run_ctx *r, const double *w, int j, double v[NQS])
+/* Before the track's first EEP (eval.c's state_at_lt): not modelled. */
+static void lane_before(const run_ctx *r, const lane *s, double z, hrt_state *st)
 {
-    const double *p = trail_knot(r->gp, (size_t)j, r->i, 1);
-    for (int c = 0; c < NQS; c++)
-        v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
+    trail_state_clear(st, s->mass, z, s->age_yr);
+    st->route = r->q.route;
+    st->flags = r->q.flags;
+    st->remnant = s->kind;
+    st->remnant_mass_msun = s->rmass;
+    st->phase = HRT_PHASE_PRE_MS;
+    st->flags |= HRT_FLAG_NOT_MODELLED;
+    st->mass_msun = s->mass;
+    st->phase_start_yr = 0.0;
+    st->phase_end_yr = trail_exp10(s->a_first);
+    st->phase_fraction = s->age_yr / st->phase_end_yr;
+}
+
+/* Past the track's last EEP (eval.c's state_at_lt): the remnant. */
+static void lane_remnant(const run_ctx *r, const lane *s, double z, hrt_state *st)
+{
+    trail_state_clear(st, s->mass, z, s->age_yr);
+    st->route = r->q.route;
+    st->flags = r->q.flags;
+    st->remnant = s->kind;
+    st->remnant_mass_msun = s->rmass;
+    double v[NQS];
+    lane_values(r, s->w_val, r->n - 1, v);
+    trail_state_remnant(st, s->kind, s->rmass, v[Q_L - 1], trail_exp10(s->a_last));
 }
 
 /* Log age at EEP k, from the four already known when k is one of them. */
@@ -297,12 +335,20 @@ static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, c
         lane_prepare(L[k].r, &L[k], L[k].x);
     }
     for (size_t k = 0; k < w; k++)
-        if (L[k].on_track)
+        if (L[k].on_track == LANE_ON_TRACK)
             L[k].j = run_find(L[k].r, &L[k]);
     int first = HRT_OK;
     for (size_t k = 0; k < w; k++) {
-        if (L[k].on_track) {
+        if (L[k].on_track == LANE_ON_TRACK) {
             lane_state(L[k].r, &L[k], z[k], &out[k]);
+            continue;
+        }
+        if (L[k].on_track == LANE_BEFORE) {
+            lane_before(L[k].r, &L[k], z[k], &out[k]);
+            continue;
+        }
+        if (L[k].on_track == LANE_REMNANT) {
+            lane_remnant(L[k].r, &L[k], z[k], &out[k]);
             continue;
         }
         int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
