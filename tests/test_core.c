@@ -374,12 +374,14 @@ END_TEST
 
 /* The batch kernel (core/lockstep.c) gives every star the one-star state to
  * the byte, for each interpolation type: batches of 1 to 17 stars (around
- * the kernel's width of 4), just below, at and above the size from which
- * batches are bucketed, and large ones; stars at grid metallicities (where
- * the kernel takes them) and between, masses spread over the grid, packed
- * into a few mass intervals (long runs) or set on the tracks' own masses
- * (the ends of an interval), ages on the tracks, before them (0), past their
- * ends and invalid. */
+ * the kernel's width of 4), just below, at and above the sizes from which
+ * batches are bucketed (1,024 stars of one metallicity, 16,384 otherwise)
+ * and large ones; stars at grid metallicities (where the kernel takes
+ * them) and between, masses spread over the grid, packed into a few mass
+ * intervals (long runs) or set on the tracks' own masses
+ * (the ends of an interval), or all at one grid metallicity (given per star
+ * or for the batch), ages on the tracks, before them (0), past their ends and
+ * invalid. */
 static void lockstep_stars(const hrt_grid *g, gsl_rng *rng, size_t n, int style, double *m, double *z, double *age)
 {
     double zlo, zhi;
@@ -397,6 +399,11 @@ static void lockstep_stars(const hrt_grid *g, gsl_rng *rng, size_t n, int style,
             double a = hrt_grid_mass(g, iz, im - 1), b = hrt_grid_mass(g, iz, im);
             z[i] = hrt_grid_z(g, iz);
             m[i] = a * pow(b / a, u);
+        } else if (style == 3) { /* one grid metallicity for the batch, some tracks' own masses */
+            z[i] = hrt_grid_z(g, 1);
+            nm = hrt_grid_n_masses(g, 1);
+            m[i] = u < 0.1 ? hrt_grid_mass(g, 1, gsl_rng_uniform_int(rng, nm))
+                           : hrt_grid_mass(g, 1, 0) * pow(hrt_grid_mass(g, 1, nm - 1) / hrt_grid_mass(g, 1, 0), u);
         } else if (style == 2 && u < 0.1) { /* a track's own mass */
             m[i] = hrt_grid_mass(g, iz, gsl_rng_uniform_int(rng, nm));
             z[i] = hrt_grid_z(g, iz);
@@ -418,7 +425,7 @@ static void lockstep_stars(const hrt_grid *g, gsl_rng *rng, size_t n, int style,
 START_TEST(test_lockstep_equals_one_star)
 {
     static const int types[] = {HRT_INTERP_LINEAR, HRT_INTERP_STEFFEN, HRT_INTERP_AKIMA, HRT_INTERP_CSPLINE};
-    static const size_t sizes[] = {1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 1023, 16383, 16384, 16401, 70001};
+    static const size_t sizes[] = {1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 1023, 1024, 1025, 16383, 16384, 16401, 70001};
     const size_t nmax = 70001;
     gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
     double *m = malloc(nmax * sizeof *m), *z = malloc(nmax * sizeof *z), *age = malloc(nmax * sizeof *age);
@@ -428,9 +435,11 @@ START_TEST(test_lockstep_equals_one_star)
         hrt_grid *g = open_or_fail(grid_path, types[t]);
         for (size_t k = 0; k < sizeof sizes / sizeof sizes[0]; k++) {
             size_t n = sizes[k];
-            int style = (int)((k + t) % 3);
+            int style = (int)((k + t) % 4);
             lockstep_stars(g, rng, n, style, m, z, age);
-            hrt_eval(g, n, m, z, 0.0, age, batch, NULL);
+            /* one metallicity given as z_all (NULL z) half the time */
+            int z_all = style == 3 && k % 2;
+            hrt_eval(g, n, m, z_all ? NULL : z, z[0], age, batch, NULL);
             for (size_t i = 0; i < n; i++) {
                 hrt_state s;
                 hrt_eval(g, 1, &m[i], &z[i], 0.0, &age[i], &s, NULL);
