@@ -16,11 +16,11 @@
  *
  * Every number is computed with the same operations in the same order as
  * on the one-star path: the same weights (trail_interval_weights), the same
- * sums of products, the same log and exp.  The age search differs in route
- * only: the EEP it finds, the largest j with log age A(j) <= log t, is
- * unique because A increases with j (grid_prep.c), so any search returns
- * the same j and the same two ages.  The states are therefore the same
- * bytes (test_core: batch_one_star, lockstep_one_star).  A star the kernel
+ * sums of products, the same log and exp, the same galloping age search
+ * from the same hint (the EEP it finds, the largest j with log age
+ * A(j) <= log t, is unique in any case: A increases with j, grid_prep.c).
+ * The states are therefore the same bytes (test_core: batch_one_star,
+ * lockstep_one_star).  A star the kernel
  * does not take (another metallicity, an end of a route, an age off its
  * track, any failure) goes through the one-star path unchanged. */
 #include <math.h>
@@ -76,7 +76,8 @@ static inline int run_hint(const run_ctx *r, size_t near, double lt)
 }
 
 /* Largest j in [0, n - 2] with A(j) <= lt, given A(0) <= lt < A(n - 1):
- * galloping from the hint, then bisecting (the answer is unique). */
+ * eval.c's find_eep on the run's table, galloping from the hint, then
+ * bisecting. */
 static int run_find(const run_ctx *r, lane *s)
 {
     const double *w = s->w_age;
