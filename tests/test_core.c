@@ -372,6 +372,94 @@ START_TEST(test_batch_equals_one_star)
 }
 END_TEST
 
+/* The batch kernel (core/lockstep.c) gives every star the one-star state to
+ * the byte, for each interpolation type: batches of 1 to 17 stars (around
+ * the kernel's width of 4), just below, at and above the sizes from which
+ * batches are bucketed (1,024 stars of one metallicity, 16,384 otherwise)
+ * and large ones; stars at grid metallicities (where the kernel takes
+ * them) and between, masses spread over the grid, packed into a few mass
+ * intervals (long runs) or set on the tracks' own masses
+ * (the ends of an interval), or all at one grid metallicity (given per star
+ * or for the batch), ages on the tracks, before them (0), past their ends and
+ * invalid. */
+static void lockstep_stars(const hrt_grid *g, gsl_rng *rng, size_t n, int style, double *m, double *z, double *age)
+{
+    double zlo, zhi;
+    ck_assert_int_eq(hrt_grid_z_range(g, &zlo, &zhi), HRT_OK);
+    size_t nz = hrt_grid_n_z(g);
+    for (size_t i = 0; i < n; i++) {
+        size_t iz = gsl_rng_uniform_int(rng, nz);
+        z[i] = gsl_rng_uniform(rng) < 0.8 ? hrt_grid_z(g, iz) : zlo * pow(zhi / zlo, gsl_rng_uniform(rng));
+        double lo, hi;
+        ck_assert_int_eq(hrt_grid_mass_range(g, z[i], &lo, &hi), HRT_OK);
+        size_t nm = hrt_grid_n_masses(g, iz);
+        double u = gsl_rng_uniform(rng);
+        if (style == 1) { /* a few intervals of one group */
+            size_t im = 1 + gsl_rng_uniform_int(rng, 3) * (nm / 4);
+            double a = hrt_grid_mass(g, iz, im - 1), b = hrt_grid_mass(g, iz, im);
+            z[i] = hrt_grid_z(g, iz);
+            m[i] = a * pow(b / a, u);
+        } else if (style == 3) { /* one grid metallicity for the batch, some tracks' own masses */
+            z[i] = hrt_grid_z(g, 1);
+            nm = hrt_grid_n_masses(g, 1);
+            m[i] = u < 0.1 ? hrt_grid_mass(g, 1, gsl_rng_uniform_int(rng, nm))
+                           : hrt_grid_mass(g, 1, 0) * pow(hrt_grid_mass(g, 1, nm - 1) / hrt_grid_mass(g, 1, 0), u);
+        } else if (style == 2 && u < 0.1) { /* a track's own mass */
+            m[i] = hrt_grid_mass(g, iz, gsl_rng_uniform_int(rng, nm));
+            z[i] = hrt_grid_z(g, iz);
+        } else {
+            m[i] = lo * pow(hi / lo, u);
+        }
+        /* log-uniform from 0.9 times the start of the star's track to 1.1
+         * times its end */
+        hrt_state ends[2];
+        double probe[2] = {1.0, 1e13};
+        hrt_eval(g, 2, (double[]){m[i], m[i]}, (double[]){z[i], z[i]}, 0.0, probe, ends, NULL);
+        double t0 = ends[0].phase_end_yr > 0.0 ? 0.9 * ends[0].phase_end_yr : 1e5;
+        double t1 = isfinite(ends[1].phase_start_yr) && ends[1].phase_start_yr > t0 ? 1.1 * ends[1].phase_start_yr : 1e10;
+        double r = gsl_rng_uniform(rng);
+        age[i] = r < 0.01 ? 0.0 : r < 0.015 ? NAN : r < 0.02 ? -1.0 : t0 * pow(t1 / t0, gsl_rng_uniform(rng));
+    }
+}
+
+START_TEST(test_lockstep_equals_one_star)
+{
+    static const int types[] = {HRT_INTERP_LINEAR, HRT_INTERP_STEFFEN, HRT_INTERP_AKIMA, HRT_INTERP_CSPLINE};
+    static const size_t sizes[] = {1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15, 16, 17, 1023, 1024, 1025, 16383, 16384, 16401, 70001};
+    const size_t nmax = 70001;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    double *m = malloc(nmax * sizeof *m), *z = malloc(nmax * sizeof *z), *age = malloc(nmax * sizeof *age);
+    hrt_state *batch = malloc(nmax * sizeof *batch);
+    size_t checked = 0, on_track = 0;
+    for (size_t t = 0; t < sizeof types / sizeof types[0]; t++) {
+        hrt_grid *g = open_or_fail(grid_path, types[t]);
+        for (size_t k = 0; k < sizeof sizes / sizeof sizes[0]; k++) {
+            size_t n = sizes[k];
+            int style = (int)((k + t) % 4);
+            lockstep_stars(g, rng, n, style, m, z, age);
+            /* one metallicity given as z_all (NULL z) half the time */
+            int z_all = style == 3 && k % 2;
+            hrt_eval(g, n, m, z_all ? NULL : z, z[0], age, batch, NULL);
+            for (size_t i = 0; i < n; i++) {
+                hrt_state s;
+                hrt_eval(g, 1, &m[i], &z[i], 0.0, &age[i], &s, NULL);
+                ck_assert_msg(memcmp(&s, &batch[i], sizeof s) == 0, "type %d, %zu stars, star %zu (%.17g Msun, Z %.17g, %.17g yr) differs",
+                              types[t], n, i, m[i], z[i], age[i]);
+                on_track += s.status == HRT_OK && isfinite(s.eep);
+            }
+            checked += n;
+        }
+        hrt_grid_close(g);
+    }
+    ck_assert_uint_gt(on_track, checked / 2); /* most stars are on their tracks */
+    free(m);
+    free(z);
+    free(age);
+    free(batch);
+    gsl_rng_free(rng);
+}
+END_TEST
+
 /* ---- round trip: what was written is what is read --------------------- */
 
 START_TEST(test_roundtrip_exact_at_knots)
@@ -1707,6 +1795,7 @@ static Suite *core_suite(void)
         {"slopes_gsl", test_slopes_match_gsl},
         {"open_slopes_gsl", test_open_slopes_match_gsl_deriv},
         {"batch_one_star", test_batch_equals_one_star},
+        {"lockstep_one_star", test_lockstep_equals_one_star},
         {"hot_path_gsl", test_hot_path_equals_gsl},
         {"roundtrip", test_roundtrip_exact_at_knots},
         {"writer", test_writer_atomic_and_deterministic},

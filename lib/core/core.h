@@ -212,6 +212,10 @@ int trail_no_track(const qctx *q, size_t k, hrt_error *err);
  * answers and message; batch.c: hrt_eval, which chooses the order. */
 int trail_eval_run(const hrt_grid *g, size_t n, const uint32_t *order, const double *mass_msun, const double *z,
                    double z_all, const double *age_yr, hrt_state *out, hrt_error *err);
+/* lockstep.c: hrt_eval's kernel for bucketed stars (z non-NULL); HRT_OK or
+ * the first failure's code, the states of every star written. */
+int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
+                        hrt_state *out);
 int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err);
 void trail_qctx_copy_z(qctx *dst, const qctx *src);
 int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int route, double log_mass, mctx *m);
