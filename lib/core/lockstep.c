@@ -194,7 +194,7 @@ static void lane_remnant(const run_ctx *r, const lane *s, double z, hrt_state *s
     st->remnant_mass_msun = s->rmass;
     double v[NQS];
     lane_values(r, s->w_val, r->n - 1, v);
-    trail_state_remnant(st, s->kind, s->rmass, v[Q_L - 1], trail_exp10(s->a_last));
+    trail_state_remnant(st, s->kind, s->rmass, v[Q_L - 1], trail_exp10(s->a_last), NULL);
 }
 
 /* Log age at EEP k, from the four already known when k is one of them. */
