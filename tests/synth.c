@@ -347,3 +347,25 @@ int synth_downgrade_v1(const char *v2_path, const char *v1_path)
         remove(v1_path);
     return rc;
 }
+
+int synth_builder_like(const hrt_grid *g, hrt_builder **b, hrt_error *err)
+{
+    size_t nr = hrt_grid_n_routes(g);
+    const char *names[8][32];
+    int segs[8][32];
+    hrt_route_spec rs[8];
+    if (nr > 8)
+        return HRT_E_INVALID;
+    for (size_t r = 0; r < nr; r++) {
+        size_t nk = hrt_grid_route_n_keypoints(g, r);
+        if (nk > 32)
+            return HRT_E_INVALID;
+        for (size_t i = 0; i < nk; i++) {
+            names[r][i] = hrt_grid_keypoint_name(g, r, i);
+            if (i + 1 < nk)
+                segs[r][i] = (int)(hrt_grid_keypoint_eep(g, r, i + 1) - hrt_grid_keypoint_eep(g, r, i));
+        }
+        rs[r] = (hrt_route_spec){hrt_grid_route_name(g, r), nk, names[r], segs[r]};
+    }
+    return hrt_builder_new(nr, rs, hrt_grid_z_ref(g), b, err);
+}

@@ -39,4 +39,10 @@ int synth_phase(int route, int j, int n_eep);
  * (a code or key the format-1 tables did not have, or an HDF5 error). */
 int synth_downgrade_v1(const char *v2_path, const char *v1_path);
 
+/* A new builder for tracks of g's routes (names, keypoints, segment
+ * lengths) and metallicity reference, as the tests that rebuild a grid from
+ * part of another's tracks need; HRT_OK, HRT_E_INVALID for a grid of more
+ * than 8 routes or 32 keypoints on one, or hrt_builder_new's failure. */
+int synth_builder_like(const hrt_grid *g, hrt_builder **b, hrt_error *err);
+
 #endif

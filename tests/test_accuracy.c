@@ -92,22 +92,10 @@ static void push(ref_list *l, double v)
 static void ref_drop(const hrt_grid *g, size_t iz, ref_track *tr, size_t nm, size_t k, const char *path)
 {
     size_t nr = hrt_grid_n_routes(g);
-    const char *names[NR][16];
-    int segs[NR][16];
-    hrt_route_spec rs[NR];
-    for (size_t r = 0; r < nr; r++) {
-        size_t nk = hrt_grid_route_n_keypoints(g, r);
-        for (size_t i = 0; i < nk; i++) {
-            names[r][i] = hrt_grid_keypoint_name(g, r, i);
-            if (i + 1 < nk)
-                segs[r][i] = (int)(hrt_grid_keypoint_eep(g, r, i + 1) - hrt_grid_keypoint_eep(g, r, i));
-        }
-        rs[r] = (hrt_route_spec){hrt_grid_route_name(g, r), nk, names[r], segs[r]};
-    }
     hrt_builder *b;
     hrt_error err;
     double z = hrt_grid_z(g, iz), bnd[NR];
-    ck_assert_int_eq(hrt_builder_new(nr, rs, hrt_grid_z_ref(g), &b, &err), HRT_OK);
+    ck_assert_msg(synth_builder_like(g, &b, &err) == HRT_OK, "%s", err.message);
     for (size_t im = 0; im < nm; im++) {
         if (im == k)
             continue;

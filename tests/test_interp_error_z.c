@@ -245,23 +245,9 @@ END_TEST
 static void write_groups(const hrt_grid *g, const int *keep, const char *path)
 {
     size_t nr = hrt_grid_n_routes(g);
-    const char *names[8][32];
-    int segs[8][32];
-    hrt_route_spec rs[8];
-    ck_assert_uint_le(nr, 8);
-    for (size_t r = 0; r < nr; r++) {
-        size_t nk = hrt_grid_route_n_keypoints(g, r);
-        ck_assert_uint_le(nk, 32);
-        for (size_t i = 0; i < nk; i++) {
-            names[r][i] = hrt_grid_keypoint_name(g, r, i);
-            if (i + 1 < nk)
-                segs[r][i] = (int)(hrt_grid_keypoint_eep(g, r, i + 1) - hrt_grid_keypoint_eep(g, r, i));
-        }
-        rs[r] = (hrt_route_spec){hrt_grid_route_name(g, r), nk, names[r], segs[r]};
-    }
     hrt_builder *b;
     hrt_error err;
-    ck_assert_int_eq(hrt_builder_new(nr, rs, hrt_grid_z_ref(g), &b, &err), HRT_OK);
+    ck_assert_msg(synth_builder_like(g, &b, &err) == HRT_OK, "%s", err.message);
     ck_assert_int_eq(hrt_builder_set_compression(b, 0, &err), HRT_OK);
     for (size_t iz = 0; iz < hrt_grid_n_z(g); iz++) {
         if (!keep[iz])
