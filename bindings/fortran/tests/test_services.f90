@@ -1074,6 +1074,7 @@ contains
     call expect(rc == HRT_OK .and. f == 0 .and. k == 7, 'its run of chunks is 0-6')
     rc = hrt_pop_part_merge(a, b, err)
     call expect(rc == HRT_E_INVALID, 'a part merged twice is refused (chunks in both)')
+    len = 0
     rc = hrt_pop_part_save(a, c_null_ptr, 0_c_size_t, len, err)
     call expect(rc == HRT_E_BUFFER .and. len > 0, 'hrt_pop_part_save tells the size it needs')
     allocate (buf(len))
