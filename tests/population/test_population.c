@@ -640,6 +640,17 @@ END_TEST
 /* Memory does not grow with the number of stars: peak RSS after 1e5 and
  * after 3e6 more stars differ by far less than 3e6 stars would need (24 MB
  * for one double each). */
+#if defined(__SANITIZE_ADDRESS__)
+#define HRT_TEST_ASAN 1
+#elif defined(__has_feature)
+#if __has_feature(address_sanitizer)
+#define HRT_TEST_ASAN 1
+#endif
+#endif
+#ifndef HRT_TEST_ASAN
+#define HRT_TEST_ASAN 0
+#endif
+
 static long max_rss_kb(void)
 {
     struct rusage ru;
@@ -662,7 +673,16 @@ START_TEST(test_memory_streamed)
     long r1 = max_rss_kb();
     printf("peak RSS after 1e5 stars %ld kB, after 3e6 stars %ld kB: %+.3f bytes per extra star\n", r0, r1,
            (double)(r1 - r0) * 1024.0 / 2.9e6);
+#if HRT_TEST_ASAN
+    /* AddressSanitizer keeps freed blocks in quarantine (256 MB by default)
+     * instead of reusing them, so the batch's per-call scratch shows as
+     * growth here (31 MB; none with ASAN_OPTIONS=quarantine_size_mb=0);
+     * the normal build checks the bound. */
+    (void)r0;
+    (void)r1;
+#else
     ck_assert_int_lt(r1 - r0, 4096);
+#endif
     free(sum);
     hrt_grid_close(g);
 }
