@@ -283,29 +283,44 @@ static void generator(const char *gen)
 }
 
 /* hrt_accuracy_store of acc into path in a child with a file-size limit;
- * returns the code, or -100 - signal. */
+ * returns the code (sent back through a pipe, not the exit status: under
+ * valgrind the child's exit status is valgrind's own when it reports the
+ * HDF5 thread-local state below), or -100 - signal, or -99 when none came. */
 static int child_store(hrt_accuracy *acc, const char *path, long limit)
 {
+    int fds[2];
+    if (pipe(fds) != 0)
+        return -98;
     fflush(NULL);
     pid_t pid = fork();
     if (pid == 0) {
+        close(fds[0]);
         signal(SIGXFSZ, SIG_IGN);
         struct rlimit rl = {(rlim_t)limit, (rlim_t)limit};
-        if (setrlimit(RLIMIT_FSIZE, &rl) != 0)
-            _exit(121);
-        hrt_error e = {0, ""};
-        int rc = hrt_accuracy_store(acc, path, &e);
+        int rc = 121;
+        if (setrlimit(RLIMIT_FSIZE, &rl) == 0) {
+            hrt_error e = {0, ""};
+            rc = hrt_accuracy_store(acc, path, &e);
+            if (rc != HRT_OK && (e.code != rc || strlen(e.message) < 10))
+                rc = 122;
+        }
         hrt_accuracy_free(acc);
-        if (rc != HRT_OK && (e.code != rc || strlen(e.message) < 10))
-            _exit(122);
+        ssize_t w = write(fds[1], &rc, sizeof rc);
+        (void)w;
         /* _exit: the run's threads (OpenMP, in the parent) left HDF5 thread-local state that
-         * the child cannot free, which LeakSanitizer would report at exit; the stores in the
-         * parent below are checked for leaks, and HDF5 never writes to the disk here */
-        _exit(rc);
+         * the child cannot free, which LeakSanitizer and valgrind report at its exit; the
+         * stores in the parent below are checked for leaks, and HDF5 never writes to the
+         * disk here */
+        _exit(0);
     }
+    close(fds[1]);
+    int rc = -99;
+    if (read(fds[0], &rc, sizeof rc) != (ssize_t)sizeof rc)
+        rc = -99;
+    close(fds[0]);
     int st = 0;
     waitpid(pid, &st, 0);
-    return WIFSIGNALED(st) ? -100 - WTERMSIG(st) : WEXITSTATUS(st);
+    return rc == -99 && WIFSIGNALED(st) ? -100 - WTERMSIG(st) : rc;
 }
 
 static int has_field(const char *p)
