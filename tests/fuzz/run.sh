@@ -21,7 +21,7 @@ sh "$top/tests/fuzz/version-header.sh" "$out"
 
 deps_cflags=$(pkg-config --cflags gsl hdf5)
 # hdf5_hl: HDF5's high-level library (dimension scales), not in Debian's hdf5.pc
-deps_libs="-lhdf5_hl $(pkg-config --libs gsl hdf5) -lm -lpthread"
+deps_libs="-lhdf5_hl $(pkg-config --libs gsl hdf5 zlib) -lm -lpthread"
 san="-fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer"
 cflags="-std=c11 -g -O1 $san -D_POSIX_C_SOURCE=200809L -I$top/include -I$top/lib -I$out $deps_cflags"
 
