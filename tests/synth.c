@@ -369,3 +369,34 @@ int synth_builder_like(const hrt_grid *g, hrt_builder **b, hrt_error *err)
     }
     return hrt_builder_new(nr, rs, hrt_grid_z_ref(g), b, err);
 }
+
+int synth_copy_track(const hrt_grid *g, size_t iz, size_t im, hrt_builder *b, hrt_error *err)
+{
+    double z = hrt_grid_z(g, iz), m = hrt_grid_mass(g, iz, im);
+    hrt_star *s;
+    int rc = hrt_star_new(g, m, z, &s, err);
+    if (rc != HRT_OK)
+        return rc;
+    size_t n = hrt_star_n_eep(s);
+    double *c = malloc(6 * n * sizeof *c), rm = 0;
+    int *ph = malloc(n * sizeof *ph), rk = 0;
+    rc = c && ph ? hrt_star_remnant(s, &rk, &rm) : HRT_E_NOMEM;
+    for (size_t j = 0; rc == HRT_OK && j < n; j++) {
+        hrt_state st;
+        rc = hrt_star_eep_state(s, j, &st);
+        c[j] = log10(st.age_yr), c[n + j] = st.log_l_lsun, c[2 * n + j] = st.log_teff_k;
+        c[3 * n + j] = st.mass_msun, c[4 * n + j] = st.he_core_mass_msun, c[5 * n + j] = st.co_core_mass_msun;
+        ph[j] = st.phase;
+    }
+    if (rc == HRT_OK) {
+        hrt_track_data d = {.initial_mass_msun = m, .route = hrt_grid_track_route(g, iz, im), .remnant = rk,
+                            .remnant_mass_msun = rm, .n = n, .log_age_yr = c, .log_l_lsun = c + n,
+                            .log_teff_k = c + 2 * n, .mass_msun = c + 3 * n, .he_core_mass_msun = c + 4 * n,
+                            .co_core_mass_msun = c + 5 * n, .phase = ph};
+        rc = hrt_builder_add_eep_track(b, z, &d, err);
+    }
+    free(c);
+    free(ph);
+    hrt_star_free(s);
+    return rc;
+}

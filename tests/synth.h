@@ -44,5 +44,8 @@ int synth_downgrade_v1(const char *v2_path, const char *v1_path);
  * part of another's tracks need; HRT_OK, HRT_E_INVALID for a grid of more
  * than 8 routes or 32 keypoints on one, or hrt_builder_new's failure. */
 int synth_builder_like(const hrt_grid *g, hrt_builder **b, hrt_error *err);
+/* Track im of group iz of g (its EEP states, remnant and route) added to b
+ * at the group's Z; HRT_OK or the first failure's code. */
+int synth_copy_track(const hrt_grid *g, size_t iz, size_t im, hrt_builder *b, hrt_error *err);
 
 #endif

@@ -134,28 +134,7 @@ static size_t write_half(const hrt_grid *g, size_t iz, const char *path, double 
             aside[na++] = m;
             continue;
         }
-        hrt_star *s;
-        ck_assert_int_eq(hrt_star_new(g, m, z, &s, &err), HRT_OK);
-        size_t n = hrt_star_n_eep(s);
-        double *c = malloc(6 * n * sizeof *c);
-        int *ph = malloc(n * sizeof *ph), rk;
-        double rm;
-        ck_assert(c && ph);
-        ck_assert_int_eq(hrt_star_remnant(s, &rk, &rm), HRT_OK);
-        for (size_t j = 0; j < n; j++) {
-            hrt_state st;
-            ck_assert_int_eq(hrt_star_eep_state(s, j, &st), HRT_OK);
-            c[j] = log10(st.age_yr), c[n + j] = st.log_l_lsun, c[2 * n + j] = st.log_teff_k;
-            c[3 * n + j] = st.mass_msun, c[4 * n + j] = st.he_core_mass_msun, c[5 * n + j] = st.co_core_mass_msun;
-            ph[j] = st.phase;
-        }
-        hrt_track_data d = {.initial_mass_msun = m, .route = route, .remnant = rk, .remnant_mass_msun = rm, .n = n,
-                            .log_age_yr = c, .log_l_lsun = c + n, .log_teff_k = c + 2 * n, .mass_msun = c + 3 * n,
-                            .he_core_mass_msun = c + 4 * n, .co_core_mass_msun = c + 5 * n, .phase = ph};
-        ck_assert_msg(hrt_builder_add_eep_track(b, z, &d, &err) == HRT_OK, "%s", err.message);
-        free(c);
-        free(ph);
-        hrt_star_free(s);
+        ck_assert_msg(synth_copy_track(g, iz, im, b, &err) == HRT_OK, "%s", err.message);
     }
     for (size_t i = 0; i + 1 < nr; i++)
         bnd[i] = hrt_grid_route_boundary(g, iz, i);
