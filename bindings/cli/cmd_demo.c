@@ -15,6 +15,7 @@
 #include <sys/stat.h>
 
 #include "cli.h"
+#include "pop.h"
 
 #define CLUSTER_NAME "Marrowind"
 #define CLUSTER_AGE_YR 1.2e9
@@ -393,6 +394,7 @@ int cmd_demo(cli *c, argparse *p)
     d.m_to = NAN;
     format_age(d.agebuf, sizeof d.agebuf, d.age);
     int rc = cli_parse(c, p, &demo_cmdopts, &d);
+    if (rc == 0) rc = pop_check_out(c, d.out); /* -o - with --csv/--json would mix two documents */
     if (rc == 0 && (rc = demo_members(c, &d)) == 0 && (rc = demo_plot(c, &d)) == 0) {
         demo_tables(c, &d);
         rc = demo_synthetic(c, &d);
@@ -401,7 +403,7 @@ int cmd_demo(cli *c, argparse *p)
         table_write_csv(d.t, stdout);
     else if (rc == 0 && c->fmt == FMT_JSON)
         demo_json(c, &d);
-    else if (rc == 0)
+    else if (rc == 0 && strcmp(d.out, "-") != 0) /* -o -: the SVG alone on standard output */
         demo_text(c, &d);
     for (size_t i = 0; i < d.nm; i++) life_free(&d.mem[i].L);
     free(d.pts);

@@ -609,7 +609,8 @@ static const struct help_entry { const char *cmd; const char *text; int state_co
      "  -o, --output FILE  the SVG (default: marrowind-hr.svg in the current directory);\n"
      "                     beside it FILE-density.svg (FILE less .svg), the density\n"
      "                     of the synthetic cluster, unless FILE is '-' (standard\n"
-     "                     output), a device or a FIFO\n"
+     "                     output), a device or a FIFO; with '-' the SVG alone goes\n"
+     "                     to standard output (no report; refused with --csv, --json)\n"
      "  --csv              the members' states as CSV (columns as in hrtrail at)\n"
      "  --json             everything: cluster, members now, timetables (records as\n"
      "                     in hrtrail life), fates, the synthetic cluster\n",

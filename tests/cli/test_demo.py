@@ -8,7 +8,7 @@ HRTRAIL_GRID naming that grid.
 import os
 import subprocess
 
-from clitest import EXIT_OK, EXTRA, Checks, Lib, make_grid, parse_csv, parse_json, run, tmpdir
+from clitest import EXIT_OK, EXIT_USAGE, EXTRA, Checks, Lib, make_grid, parse_csv, parse_json, run, tmpdir
 
 t = Checks("cli-demo")
 d = tmpdir()
@@ -62,5 +62,15 @@ for f in doc["fates"]:
     t.eq(f["end_age_yr"], rem["start_yr"], "fate of %s: when, as in its timetable" % f["name"])
 rc, out, err = run(["demo", "--csv", "-o", os.path.join(d, "demo3.svg")] + args, env=env, cwd=d)
 t.eq([r["name"] for r in parse_csv(out)], [m["name"] for m in members], "demo --csv: the members")
+# -o -: the SVG alone on standard output (a report after it would break the SVG); with --csv or
+# --json two documents would share standard output, so the command refuses before any work.
+rc, out, err = run(["demo", "-o", "-"] + args, env=env, cwd=d)
+t.eq(rc, EXIT_OK, "demo -o - exit code (%s)" % err)
+t.ok(out.startswith("<?xml") and out.rstrip().endswith("</svg>"), "demo -o -: standard output is the SVG alone")
+x = subprocess.run(["xmllint", "--noout", "-"], input=out, capture_output=True, text=True)
+t.eq(x.returncode, 0, "demo -o -: the SVG on standard output is well-formed")
+for fmt in ("--csv", "--json"):
+    rc, out, err = run(["demo", fmt, "-o", "-"] + args, env=env, cwd=d)
+    t.ok(rc == EXIT_USAGE and out == "" and "-o -" in err, "demo %s -o - refused (%d, %r)" % (fmt, rc, err))
 g.close()
 t.finish()
