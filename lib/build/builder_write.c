@@ -545,8 +545,9 @@ static int write_contents(const hrt_builder *b, hid_t f, wctx *w, hrt_error *err
  * written by our own write() calls: a full disk then fails there, never
  * inside HDF5, which after a failed H5Fclose keeps the file open (its
  * descriptor, and the disk space of the unlinked temporary) and crashes in
- * its exit handler.  tmp names the file in messages. */
-static int make_image(const hrt_builder *b, const char *tmp, void **img, ssize_t *img_size, hrt_error *err)
+ * its exit handler.  name names the file in messages (the image has no file
+ * on disk: the core driver without a backing store). */
+static int make_image(const hrt_builder *b, const char *name, void **img, ssize_t *img_size, hrt_error *err)
 {
     int rc = HRT_OK;
     wctx w = {-1, -1, -1, b->deflate, 0, 0};
@@ -563,19 +564,23 @@ static int make_image(const hrt_builder *b, const char *tmp, void **img, ssize_t
         /* No modification times in object headers: same bytes for the same grid. */
         H5Pset_obj_track_times(w.dcpl, 0);
         H5Pset_obj_track_times(w.gcpl, 0);
-        hid_t f = H5Fcreate(tmp, H5F_ACC_TRUNC, fcpl, fapl);
+        /* HDF5 refuses a second open file of one name; the builder's address
+         * keeps two builders writing the same path apart */
+        char iname[64];
+        snprintf(iname, sizeof iname, "hrtrail-image-%p", (const void *)b);
+        hid_t f = H5Fcreate(iname, H5F_ACC_TRUNC, fcpl, fapl);
         if (f < 0) {
-            rc = trail_set_error(err, HRT_E_IO, "cannot create HDF5 file '%s'", tmp);
+            rc = trail_set_error(err, HRT_E_IO, "cannot create HDF5 file '%s'", name);
         } else {
             rc = write_contents(b, f, &w, err);
             if (rc == HRT_OK && (H5Fflush(f, H5F_SCOPE_GLOBAL) < 0 || (*img_size = H5Fget_file_image(f, NULL, 0)) <= 0))
-                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot complete the image of '%s'", tmp);
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot complete the image of '%s'", name);
             if (rc == HRT_OK && !(*img = malloc((size_t)*img_size)))
-                rc = trail_set_error(err, HRT_E_NOMEM, "out of memory for the %zd bytes of '%s'", *img_size, tmp);
+                rc = trail_set_error(err, HRT_E_NOMEM, "out of memory for the %zd bytes of '%s'", *img_size, name);
             if (rc == HRT_OK && H5Fget_file_image(f, *img, (size_t)*img_size) != *img_size)
-                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot copy the image of '%s'", tmp);
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot copy the image of '%s'", name);
             if (H5Fclose(f) < 0 && rc == HRT_OK)
-                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot close the image of '%s'", tmp);
+                rc = trail_set_error(err, HRT_E_IO, "HDF5 cannot close the image of '%s'", name);
         }
         H5Pclose(fapl);
         H5Pclose(fcpl);
@@ -584,23 +589,6 @@ static int make_image(const hrt_builder *b, const char *tmp, void **img, ssize_t
         H5Tclose(w.str_t);
     }
     H5E_END_TRY;
-    return rc;
-}
-
-/* All img_size bytes of img to fd (the file tmp). */
-static int write_image(int fd, const char *tmp, const void *img, ssize_t img_size, hrt_error *err)
-{
-    int rc = HRT_OK;
-    for (size_t done = 0; rc == HRT_OK && done < (size_t)img_size;) {
-        ssize_t k = write(fd, (const char *)img + done, (size_t)img_size - done);
-        if (k < 0 && errno == EINTR)
-            continue;
-        if (k <= 0)
-            rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' (%zu of %zd bytes written): %s", tmp, done,
-                                 img_size, k < 0 ? strerror(errno) : "no progress");
-        else
-            done += (size_t)k;
-    }
     return rc;
 }
 
@@ -614,8 +602,10 @@ int hrt_builder_set_compression(hrt_builder *b, int level, hrt_error *err)
     return trail_set_error(err, HRT_OK, NULL);
 }
 
-/* Write through a temporary file renamed over path; durable: fsync first
- * (a grid kept), else not (a scratch grid read back at once and deleted). */
+/* Write through a temporary file beside path renamed over it (util's
+ * trail_write_replace_as, mode 0644); durable: fsync first (a grid kept), else
+ * not (a scratch grid read back at once and deleted).  The image is built in
+ * memory first, so a failure to build it leaves no file behind. */
 static int write_file(hrt_builder *b, const char *path, int durable, hrt_error *err)
 {
     if (!b || !path)
@@ -623,33 +613,12 @@ static int write_file(hrt_builder *b, const char *path, int durable, hrt_error *
     int rc = prepare_write(b, err);
     if (rc != HRT_OK)
         return rc;
-    size_t len = strlen(path);
-    char *tmp = malloc(len + 16);
-    if (!tmp)
-        return trail_set_error(err, HRT_E_NOMEM, "out of memory");
-    snprintf(tmp, len + 16, "%s.tmp-XXXXXX", path);
-    int fd = mkstemp(tmp);
-    if (fd < 0) {
-        rc = trail_set_error(err, HRT_E_IO, "cannot create a temporary file beside '%s': %s", path, strerror(errno));
-        free(tmp);
-        return rc;
-    }
-    fchmod(fd, 0644);
     void *img = NULL;
     ssize_t img_size = -1;
-    rc = make_image(b, tmp, &img, &img_size, err);
+    rc = make_image(b, path, &img, &img_size, err);
     if (rc == HRT_OK)
-        rc = write_image(fd, tmp, img, img_size, err);
+        rc = trail_write_replace_as(path, "", img, (size_t)img_size, 0644, durable, err);
     free(img);
-    if (rc == HRT_OK && durable && fsync(fd) != 0)
-        rc = trail_set_error(err, HRT_E_IO, "cannot write '%s' to the disk: %s", tmp, strerror(errno));
-    if (close(fd) != 0 && rc == HRT_OK)
-        rc = trail_set_error(err, HRT_E_IO, "cannot finish writing '%s': %s", tmp, strerror(errno));
-    if (rc == HRT_OK && rename(tmp, path) != 0)
-        rc = trail_set_error(err, HRT_E_IO, "cannot rename '%s' to '%s': %s", tmp, path, strerror(errno));
-    if (rc != HRT_OK)
-        unlink(tmp);
-    free(tmp);
     return rc == HRT_OK ? trail_set_error(err, HRT_OK, NULL) : rc;
 }
 

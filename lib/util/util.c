@@ -103,6 +103,12 @@ int trail_temp_beside(const char *path, const char *who, char **tmp, int *fd, hr
 int trail_write_replace(const char *target, const char *who, const void *bytes, size_t n, unsigned mode,
                         hrt_error *err)
 {
+    return trail_write_replace_as(target, who, bytes, n, mode, 1, err);
+}
+
+int trail_write_replace_as(const char *target, const char *who, const void *bytes, size_t n, unsigned mode,
+                           int durable, hrt_error *err)
+{
     char *tmp = NULL;
     int fd = -1;
     int rc = trail_temp_beside(target, who, &tmp, &fd, err);
@@ -120,7 +126,7 @@ int trail_write_replace(const char *target, const char *who, const void *bytes, 
         else
             done += (size_t)k;
     }
-    if (rc == HRT_OK && fsync(fd) != 0)
+    if (rc == HRT_OK && durable && fsync(fd) != 0)
         rc = trail_set_error(err, HRT_E_IO, "%scannot write '%s' to the disk: %s", who, tmp, strerror(errno));
     if (close(fd) != 0 && rc == HRT_OK)
         rc = trail_set_error(err, HRT_E_IO, "%scannot finish writing '%s': %s", who, tmp, strerror(errno));

@@ -56,9 +56,13 @@ int trail_temp_beside(const char *path, const char *who, char **tmp, int *fd, hr
 /* n bytes as the new contents of target (a name trail_replace_target gave):
  * through trail_temp_beside, with the given mode, to the disk (fsync), then
  * renamed over it; after a failure target is as it was and the temporary is
- * removed. */
+ * removed.  trail_write_replace_as: the same, with the fsync only when
+ * durable (a scratch file read back at once and deleted need not reach the
+ * disk). */
 int trail_write_replace(const char *target, const char *who, const void *bytes, size_t n, unsigned mode,
                         hrt_error *err);
+int trail_write_replace_as(const char *target, const char *who, const void *bytes, size_t n, unsigned mode,
+                           int durable, hrt_error *err);
 /* qsort comparison of doubles, ascending (NaN last). */
 int trail_cmp_double(const void *a, const void *b);
 
