@@ -462,7 +462,10 @@ typedef struct hrt_interp_error {
  *   (function value) HRT_OK; HRT_E_NULL; HRT_E_INVALID (the file stores no
  *   field for the grid's type); HRT_E_DOMAIN (a failed state, a remnant,
  *   or a state before the first EEP: no EEP); HRT_E_NO_TRACK (no measured
- *   track of the state's route near its mass and metallicity).
+ *   track of the state's route near its mass and metallicity);
+ *   HRT_E_FORMAT (blocks that match no route, EEP range or metallicity
+ *   group of the grid, or negative errors: a file damaged in a way its
+ *   checksums, verified at open, do not show), on every call.
  * Notes:
  *   1. The statistic: the largest |error| found, in the block of at most 10
  *      EEPs holding the state's EEP, when the grid's two tracks nearest
@@ -487,10 +490,15 @@ typedef struct hrt_interp_error {
  *      (a sum, not in quadrature: the sum of two bounds stays a bound).
  *      At a group's own Z the estimate is the mass direction's, unchanged.
  *   4. Does not slow hrt_eval(), which never reads the field.  O(blocks
- *      stored) per call; thread-safe on a shared grid; no allocation.
+ *      stored) per call; thread-safe on a shared grid; no allocation after
+ *      the first call of the grid: opening verifies the field's checksums
+ *      only, and the first call of this function or of
+ *      hrt_grid_has_interp_error() decodes and checks it once (about 20 ms
+ *      on the default grid), other threads waiting for it.
  */
 HRT_API int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_error *out, hrt_error *err);
-/** 1 if the grid file stores an error field for the grid's interpolation type. */
+/** 1 if the grid file stores an error field for the grid's interpolation type (its first call may decode
+ *  the field: hrt_state_interp_error(), note 4); 0 also for a field that does not decode. */
 HRT_API int hrt_grid_has_interp_error(const hrt_grid *g);
 
 /* ------------------------------------------------------------------------

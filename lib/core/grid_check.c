@@ -41,16 +41,20 @@ int trail_check_eep_row(const char *where, const char *name, int q, const trail_
 {
     const double *row = gp->q[q] + i * J;
     size_t n = (size_t)gp->n_eep[i];
-    int is_mass = TRAIL_F_IS_MASS(q), ok = 1;
+    int ok = 1;
     double mass_max = TRAIL_MAX_MASS_FACTOR * gp->initial_mass[i];
-    for (size_t j = 0; j < n; j++) {
-        double v = row[j];
-        /* NaN fails every comparison: !(v >= lo && v <= hi) */
-        int good = is_mass ? (isfinite(v) && v >= 0.0 && v <= mass_max) : fabs(v) <= TRAIL_MAX_LOG_ABS;
-        if (q == TRAIL_F_LOG_AGE && j > 0)
-            good = good && v > row[j - 1];
-        ok &= good;
+    /* one branch-free loop per kind of quantity (they vectorise); NaN
+     * fails every comparison: !(v >= lo && v <= hi) */
+    if (TRAIL_F_IS_MASS(q)) {
+        for (size_t j = 0; j < n; j++)
+            ok &= (row[j] >= 0.0) & (row[j] <= mass_max); /* mass_max is finite: so is v */
+    } else {
+        for (size_t j = 0; j < n; j++)
+            ok &= fabs(row[j]) <= TRAIL_MAX_LOG_ABS;
     }
+    if (q == TRAIL_F_LOG_AGE)
+        for (size_t j = 1; j < n; j++)
+            ok &= row[j] > row[j - 1];
     for (size_t j = 0; !ok && j < n; j++) {
         int rc = trail_check_eep_value(where, name, q, gp, i, j, J, err);
         if (rc != HRT_OK)

@@ -105,15 +105,21 @@ static int read_group_extras(hid_t gx, const char *where, trail_file *f, size_t 
         rc = trail_h5_numeric(gx, where, name, 2, d2, 0, x, err);
         if (rc == HRT_OK && !trail_h5_has_checksum(gx, name))
             rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: stored without a Fletcher-32 checksum", where, name);
-        for (size_t i = 0; i < nm && rc == HRT_OK; i++)
-            for (size_t j = 0; j < J && rc == HRT_OK; j++) {
-                double *v = &x[i * J + j];
-                if (j >= (size_t)gp->n_eep[i])
-                    *v = NAN;
-                else if (!(isfinite(*v) && fabs(*v) < 1e300))
+        for (size_t i = 0; i < nm && rc == HRT_OK; i++) {
+            double *row = x + i * J;
+            size_t ne = (size_t)gp->n_eep[i];
+            int ok = 1;
+            for (size_t j = 0; j < ne; j++) /* one pass without branches; NaN fails the comparison */
+                ok &= fabs(row[j]) < 1e300;
+            for (size_t j = 0; !ok && j < ne; j++)
+                if (!(fabs(row[j]) < 1e300)) {
                     rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s[%zu][%zu]: %g is not a finite value", where,
-                                         name, i, j, *v);
-            }
+                                         name, i, j, row[j]);
+                    break;
+                }
+            for (size_t j = ne; j < J; j++)
+                row[j] = NAN;
+        }
     }
     return rc;
 }

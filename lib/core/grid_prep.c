@@ -71,10 +71,65 @@ static int hermite_positive(double p0, double p1, double s0, double s1)
     return 1;
 }
 
+static const int from_file[NQ] = {[Q_AGE] = TRAIL_F_LOG_AGE, [Q_L] = TRAIL_F_LOG_L, [Q_TEFF] = TRAIL_F_LOG_TEFF,
+                                  [Q_MASS] = TRAIL_F_MASS,   [Q_HE] = TRAIL_F_HE_CORE, [Q_CO] = TRAIL_F_CO_CORE};
+
+/* Types whose slope at a knot depends on its two neighbours alone
+ * (steffen, linear): their knots are filled along each track's EEPs by
+ * local_knots; the others (akima, cspline) per run of knots. */
+static int slopes_are_local(int interp) { return interp == HRT_INTERP_STEFFEN || interp == HRT_INTERP_LINEAR; }
+
+/* Value and slope across log mass of quantity q at every knot, track by
+ * track along its EEPs (contiguous in the file's rows).  At EEP j track i
+ * has a neighbour on a side when that track is of its route and reaches
+ * EEP j, so its run of trail_eep_runs holds it; with both, the run has 3
+ * or more knots and the slope is Steffen's at an interior knot (linear: the
+ * secant to the right); with one, the secant to it (a run's end, or a run
+ * of 2, linear); with none (a run of 1), 0.  The same operations on the
+ * same values as trail_slopes_work on the runs, so the same bits. */
+static void local_knots(const hrt_grid *g, const trail_file_group *fg, zgroup *gp, int q)
+{
+    size_t nm = gp->n_mass, J = g->n_eep_max;
+    const double *col = fg->q[from_file[q]], *x = gp->logm;
+    for (size_t i = 0; i < nm; i++) {
+        size_t ne = (size_t)gp->n_eep[i];
+        int has_l = i > 0 && gp->route[i - 1] == gp->route[i], has_r = i + 1 < nm && gp->route[i + 1] == gp->route[i];
+        size_t nl = has_l && (size_t)gp->n_eep[i - 1] < ne ? (size_t)gp->n_eep[i - 1] : has_l ? ne : 0;
+        size_t nr = has_r && (size_t)gp->n_eep[i + 1] < ne ? (size_t)gp->n_eep[i + 1] : has_r ? ne : 0;
+        const double *yc = col + i * J, *yl = has_l ? yc - J : yc, *yr = has_r ? yc + J : yc;
+        /* knot values: masses as fractions of the track's initial mass */
+        double fl = 1.0, fc = 1.0, fr = 1.0;
+        int frac = q >= Q_MASS;
+        if (frac) {
+            fc = gp->mass[i];
+            fl = has_l ? gp->mass[i - 1] : fc;
+            fr = has_r ? gp->mass[i + 1] : fc;
+        }
+        double xs[3] = {has_l ? x[i - 1] : x[i], x[i], has_r ? x[i + 1] : x[i]};
+        size_t both = nl < nr ? nl : nr;
+        int lin = g->interp == HRT_INTERP_LINEAR;
+        for (size_t j = 0; j < ne; j++) {
+            double ys[3] = {frac ? yl[j] / fl : yl[j], frac ? yc[j] / fc : yc[j], frac ? yr[j] / fr : yr[j]};
+            double *k = trail_knot(gp, j, i, q), d;
+            if (j < both)
+                d = lin ? (ys[2] - ys[1]) / (xs[2] - xs[1]) : trail_steffen_slope(xs, ys, 3, 1);
+            else if (j < nr)
+                d = (ys[2] - ys[1]) / (xs[2] - xs[1]);
+            else if (j < nl)
+                d = (ys[1] - ys[0]) / (xs[1] - xs[0]);
+            else
+                d = 0.0;
+            k[0] = ys[1];
+            k[1] = d;
+        }
+    }
+}
+
 /* The group's prepared arrays, filled with what the file holds: masses
  * and their logs, routes, remnants, values at every knot (masses as
  * fractions of the initial mass, so a star without mass loss keeps its mass
- * exactly), phases.  Slopes follow in prepare_group. */
+ * exactly), phases.  Slopes follow in prepare_group (with local_knots here
+ * for steffen and linear). */
 static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp, size_t *bytes)
 {
     size_t nm = fg->n_mass, J = g->n_eep_max, R = g->n_routes;
@@ -118,14 +173,17 @@ static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp,
      * mass gives it weight 0, and 0 * NaN would be NaN. */
     for (size_t i = 0; i < nm; i++)
         gp->remnant_knots[2 * i] = gp->remnant[i] != HRT_REMNANT_NONE ? fg->remnant_mass[i] : 0.0;
-    static const int from_file[NQ] = {[Q_AGE] = TRAIL_F_LOG_AGE, [Q_L] = TRAIL_F_LOG_L, [Q_TEFF] = TRAIL_F_LOG_TEFF,
-                                      [Q_MASS] = TRAIL_F_MASS,   [Q_HE] = TRAIL_F_HE_CORE, [Q_CO] = TRAIL_F_CO_CORE};
-    for (int q = 0; q < NQ; q++)
+    for (int q = 0; q < NQ; q++) {
+        if (slopes_are_local(g->interp)) {
+            local_knots(g, fg, gp, q);
+            continue;
+        }
         for (size_t i = 0; i < nm; i++)
             for (size_t j = 0; j < (size_t)gp->n_eep[i]; j++) {
                 double v = fg->q[from_file[q]][i * J + j];
                 *trail_knot(gp, j, i, q) = q >= Q_MASS ? v / gp->mass[i] : v;
             }
+    }
     return HRT_OK;
 }
 
@@ -371,7 +429,7 @@ static int prepare_group(const hrt_grid *g, zgroup *gp, run_buf *rb)
     if (mass_bins(gp) != HRT_OK)
         return HRT_E_NOMEM;
     route_ranges(g, gp);
-    for (int qty = 0; qty < NQ; qty++)
+    for (int qty = 0; qty < NQ && !slopes_are_local(g->interp); qty++) /* else filled by local_knots */
         for (size_t j = 0; j < g->n_eep_max; j++) {
             int rc = knot_slopes_at(g, gp, qty, j, rb);
             if (rc != HRT_OK)

@@ -23,27 +23,69 @@
 
 #include "core/h5read.h"
 
+#ifdef __SSE2__
+#include <emmintrin.h>
+#endif
+
+/* The sums of one block of t words (big-endian 16-bit) from data:
+ * *a = sum w_i, *b = sum (t - i) w_i, modulo 2^32. */
+static void block_sums(const uint8_t *data, uint32_t t, uint32_t *a, uint32_t *b)
+{
+    uint32_t sa = 0, sb = 0, i = 0;
+#ifdef __SSE2__
+    /* eight words a step, lane l holding words 8s + l: at each step
+     * A += W_s, then B += A, so that B = sum_s (S - s) W_s after S steps;
+     * sum (t1 - i) w_i = 8 sum_l B_l - sum_l l A_l for the t1 = 8 S words */
+    uint32_t steps = t / 8;
+    if (steps) {
+        const __m128i zero = _mm_setzero_si128();
+        __m128i a_lo = zero, a_hi = zero, b_lo = zero, b_hi = zero;
+        for (uint32_t s = 0; s < steps; s++) {
+            __m128i v = _mm_loadu_si128((const __m128i *)(data + 16 * (size_t)s));
+            v = _mm_or_si128(_mm_slli_epi16(v, 8), _mm_srli_epi16(v, 8)); /* big-endian words */
+            a_lo = _mm_add_epi32(a_lo, _mm_unpacklo_epi16(v, zero));    /* lanes 0-3 */
+            a_hi = _mm_add_epi32(a_hi, _mm_unpackhi_epi16(v, zero));    /* lanes 4-7 */
+            b_lo = _mm_add_epi32(b_lo, a_lo);
+            b_hi = _mm_add_epi32(b_hi, a_hi);
+        }
+        uint32_t av[8], bv[8];
+        _mm_storeu_si128((__m128i *)av, a_lo);
+        _mm_storeu_si128((__m128i *)(av + 4), a_hi);
+        _mm_storeu_si128((__m128i *)bv, b_lo);
+        _mm_storeu_si128((__m128i *)(bv + 4), b_hi);
+        for (uint32_t l = 0; l < 8; l++) {
+            sa += av[l];
+            sb += 8 * bv[l] - l * av[l];
+        }
+        i = 8 * steps;
+    }
+#endif
+    /* the rest (t2 = t - i words): the words before it gain t2 in weight */
+    uint32_t t2 = t - i;
+    sb += t2 * sa;
+    for (uint32_t k = 0; k < t2; k++) {
+        uint32_t w = (uint32_t)data[2 * (i + k)] << 8 | data[2 * (i + k) + 1];
+        sa += w;
+        sb += (t2 - k) * w;
+    }
+    *a = sa;
+    *b = sb;
+}
+
 /* HDF5's Fletcher-32 (H5_checksum_fletcher32): sums of big-endian 16-bit
  * words, folded every 360 words, an odd last byte as the high byte.  The
  * folds must happen where HDF5's do (they decide between 0 and 0xffff);
  * inside a block of t words the two running sums are taken in closed form,
  *   s2 += t s1 + sum (t - i) w_i,  s1 += sum w_i  (i = 0 .. t - 1),
  * which is HDF5's word-by-word recurrence, modulo 2^32 as its sums are. */
-#if defined(__GNUC__) && !defined(__clang__)
-__attribute__((optimize("tree-vectorize"))) /* the block sums vectorise; -O2 alone leaves them scalar */
-#endif
 static uint32_t fletcher32(const uint8_t *data, size_t nbytes)
 {
     size_t len = nbytes / 2;
     uint32_t s1 = 0, s2 = 0;
     while (len) {
-        uint32_t t = len > 360 ? 360 : (uint32_t)len, a = 0, b = 0;
+        uint32_t t = len > 360 ? 360 : (uint32_t)len, a, b;
         len -= t;
-        for (uint32_t i = 0; i < t; i++) {
-            uint32_t w = (uint32_t)data[2 * i] << 8 | data[2 * i + 1];
-            a += w;
-            b += (t - i) * w;
-        }
+        block_sums(data, t, &a, &b);
         data += 2 * t;
         s2 += t * s1 + b;
         s1 += a;
@@ -127,7 +169,6 @@ static size_t one_chunk_points(hid_t d, hid_t dcpl)
 }
 
 #ifdef __SSE2__
-#include <emmintrin.h>
 /* 16 elements of 8 bytes from the byte planes p[0..7] (16 bytes each):
  * a transpose by interleaving bytes, pairs and quads. */
 static void unshuffle16x8(const uint8_t *in, size_t n, size_t i, uint8_t *out)
@@ -186,6 +227,44 @@ static void unshuffle(const uint8_t *in, size_t n, size_t sz, uint8_t *out)
             out[i * sz + b] = in[b * n + i];
 }
 
+/* The stored bytes of one chunk (raw[0 .. len - 1], its Fletcher-32 last),
+ * checksum verified (when verify) and inflated when deflated into exactly
+ * nbytes.  Returns the nbytes of values (shuffled or not): raw itself when
+ * not deflated, else a new buffer owned through *own; NULL if anything
+ * does not check out. */
+static const uint8_t *chunk_decode(const uint8_t *raw, size_t stored, int flags, size_t nbytes, int verify,
+                                   uint8_t **own)
+{
+    *own = NULL;
+    if (stored <= 4 || (!(flags & F_DEFLATE) && stored != nbytes + 4))
+        return NULL;
+    size_t len = stored - 4;
+    const uint8_t *c = raw + len;
+    uint32_t want = (uint32_t)c[0] | (uint32_t)c[1] << 8 | (uint32_t)c[2] << 16 | (uint32_t)c[3] << 24;
+    if (verify && fletcher32(raw, len) != want)
+        return NULL;
+    if (!(flags & F_DEFLATE))
+        return raw;
+    uint8_t *out = len <= UINT32_MAX && nbytes <= UINT32_MAX ? malloc(nbytes ? nbytes : 1) : NULL;
+    z_stream zs;
+    memset(&zs, 0, sizeof zs);
+    int ok = out && inflateInit(&zs) == Z_OK;
+    if (ok) {
+        zs.next_in = (Bytef *)(uintptr_t)raw; /* zlib's API is not const; inflate only reads it */
+        zs.avail_in = (uInt)len;
+        zs.next_out = out;
+        zs.avail_out = (uInt)nbytes;
+        ok = inflate(&zs, Z_FINISH) == Z_STREAM_END && zs.total_out == nbytes;
+        inflateEnd(&zs);
+    }
+    if (!ok) {
+        free(out);
+        return NULL;
+    }
+    *own = out;
+    return out;
+}
+
 /* The raw bytes of the one chunk, their checksum verified; inflated when
  * deflated.  Returns the n * sz bytes of values (shuffled or not), owned
  * through *own, or NULL. */
@@ -197,44 +276,51 @@ static const uint8_t *chunk_bytes(hid_t d, int flags, size_t nbytes, uint8_t **o
     hsize_t off[8] = {0}, stored = H5Dget_storage_size(d);
     uint32_t mask = 0;
     *own = NULL;
-    if (stored <= 4 ||
-        (!(flags & F_DEFLATE) && stored != (hsize_t)nbytes + 4))
+    if (stored <= 4 || (!(flags & F_DEFLATE) && stored != (hsize_t)nbytes + 4))
         return NULL;
     uint8_t *raw = malloc((size_t)stored);
     if (!raw || H5Dread_chunk(d, H5P_DEFAULT, off, &mask, raw) < 0 || mask != 0) {
         free(raw);
         return NULL;
     }
-    size_t len = (size_t)stored - 4;
-    const uint8_t *c = raw + len;
-    uint32_t want = (uint32_t)c[0] | (uint32_t)c[1] << 8 | (uint32_t)c[2] << 16 | (uint32_t)c[3] << 24;
-    if (fletcher32(raw, len) != want) {
-        free(raw);
-        return NULL;
-    }
-    if (!(flags & F_DEFLATE)) {
+    uint8_t *out;
+    const uint8_t *v = chunk_decode(raw, (size_t)stored, flags, nbytes, 1, &out);
+    if (v == raw) {
         *own = raw;
         return raw;
     }
-    uint8_t *out = len <= UINT32_MAX && nbytes <= UINT32_MAX ? malloc(nbytes) : NULL;
-    z_stream zs;
-    memset(&zs, 0, sizeof zs);
-    int ok = out && inflateInit(&zs) == Z_OK;
-    if (ok) {
-        zs.next_in = raw;
-        zs.avail_in = (uInt)len;
-        zs.next_out = out;
-        zs.avail_out = (uInt)nbytes;
-        ok = inflate(&zs, Z_FINISH) == Z_STREAM_END && zs.total_out == nbytes;
-        inflateEnd(&zs);
-    }
     free(raw);
-    if (!ok) {
-        free(out);
-        return NULL;
-    }
     *own = out;
-    return out;
+    return v;
+}
+
+/* n values of sz bytes (shuffled when flags say so) -> buf as int
+ * (as_int) or double; 0 when out of memory. */
+static int values_out(const uint8_t *v, size_t n, size_t sz, int flags, int as_int, void *buf)
+{
+    int wide = !as_int && sz == 4; /* floats to doubles */
+    uint8_t *plain = (uint8_t *)buf;
+    if (wide) {
+        plain = (flags & F_SHUFFLE) ? malloc(n * sz + 1) : NULL;
+        if ((flags & F_SHUFFLE) && !plain)
+            return 0;
+    }
+    if (flags & F_SHUFFLE)
+        unshuffle(v, n, sz, plain);
+    else if (!wide)
+        memcpy(plain, v, n * sz);
+    if (wide) {
+        const uint8_t *src = (flags & F_SHUFFLE) ? plain : v;
+        double *out = buf;
+        for (size_t i = 0; i < n; i++) {
+            float f;
+            memcpy(&f, src + 4 * i, sizeof f);
+            out[i] = (double)f;
+        }
+        if (flags & F_SHUFFLE)
+            free(plain);
+    }
+    return 1;
 }
 
 int trail_h5_read_one_chunk(hid_t d, int as_int, void *buf)
@@ -252,30 +338,164 @@ int trail_h5_read_one_chunk(hid_t d, int as_int, void *buf)
     const uint8_t *v = chunk_bytes(d, flags, n * sz, &own);
     if (!v)
         return 0;
-    int wide = !as_int && sz == 4; /* floats to doubles */
-    uint8_t *plain = (uint8_t *)buf;
-    if (wide) {
-        plain = (flags & F_SHUFFLE) ? malloc(n * sz) : NULL;
-        if ((flags & F_SHUFFLE) && !plain) {
-            free(own);
-            return 0;
-        }
-    }
-    if (flags & F_SHUFFLE)
-        unshuffle(v, n, sz, plain);
-    else if (!wide)
-        memcpy(plain, v, n * sz);
-    if (wide) {
-        const uint8_t *src = (flags & F_SHUFFLE) ? plain : v;
-        double *out = buf;
-        for (size_t i = 0; i < n; i++) {
-            float f;
-            memcpy(&f, src + 4 * i, sizeof f);
-            out[i] = (double)f;
-        }
-        if (flags & F_SHUFFLE)
-            free(plain);
-    }
+    int ok = values_out(v, n, sz, flags, as_int, buf);
     free(own);
+    return ok;
+}
+
+/* ---- kept datasets: stored bytes verified at open, decoded later ---------- */
+
+struct trail_h5_kept {
+    size_t n, sz, per;  /* points, bytes per point, points per chunk */
+    int flags, as_int;
+    size_t n_chunks;
+    size_t *start;      /* [n_chunks + 1]: chunk c is bytes[start[c] .. start[c + 1]) (its checksum last) */
+    uint8_t *bytes;
+    double *values;     /* instead: the values read at open (as_int: ints) */
+};
+
+/* Points of a 1-D chunked dataset d of chunks of *per points, or 0. */
+static size_t rank1_points(hid_t d, hid_t dcpl, size_t *per)
+{
+    hsize_t chunk[1], dims[1];
+    if (H5Pget_layout(dcpl) != H5D_CHUNKED || H5Pget_chunk(dcpl, 1, chunk) != 1)
+        return 0;
+    hid_t s = H5Dget_space(d);
+    int rank = s >= 0 ? H5Sget_simple_extent_ndims(s) : -1;
+    if (rank == 1)
+        H5Sget_simple_extent_dims(s, dims, NULL);
+    if (s >= 0)
+        H5Sclose(s);
+    if (rank != 1 || dims[0] == 0 || chunk[0] == 0)
+        return 0;
+    *per = (size_t)chunk[0];
+    return (size_t)dims[0];
+}
+
+/* Every chunk's stored bytes into k (k->n_chunks set), each checksum
+ * verified: 1, or 0 if any chunk does not check out or is missing. */
+static int keep_chunks(hid_t d, trail_h5_kept *k)
+{
+    size_t total = 0, cap = 0;
+    k->start = malloc((k->n_chunks + 1) * sizeof *k->start);
+    if (!k->start)
+        return 0;
+    for (size_t c = 0; c < k->n_chunks; c++) {
+        hsize_t off[1] = {(hsize_t)(c * k->per)}, stored = 0;
+        /* HDF5 1.10's H5Dget_chunk_storage_size answers 0 for a dataset of one chunk */
+        if (k->n_chunks == 1)
+            stored = H5Dget_storage_size(d);
+        else if (H5Dget_chunk_storage_size(d, off, &stored) < 0)
+            return 0;
+        size_t nb = k->per * k->sz;
+        if (stored <= 4 || (!(k->flags & F_DEFLATE) && stored != (hsize_t)nb + 4))
+            return 0;
+        if (total + (size_t)stored > cap) {
+            cap = 2 * (total + (size_t)stored);
+            uint8_t *p = realloc(k->bytes, cap);
+            if (!p)
+                return 0;
+            k->bytes = p;
+        }
+        uint32_t mask = 0;
+        uint8_t *raw = k->bytes + total;
+        if (H5Dread_chunk(d, H5P_DEFAULT, off, &mask, raw) < 0 || mask != 0)
+            return 0;
+        size_t len = (size_t)stored - 4;
+        const uint8_t *t = raw + len;
+        uint32_t want = (uint32_t)t[0] | (uint32_t)t[1] << 8 | (uint32_t)t[2] << 16 | (uint32_t)t[3] << 24;
+        if (fletcher32(raw, len) != want)
+            return 0;
+        k->start[c] = total;
+        total += (size_t)stored;
+    }
+    k->start[k->n_chunks] = total;
     return 1;
+}
+
+int trail_h5_keep(hid_t d, int as_int, trail_h5_kept **out)
+{
+    *out = NULL;
+    hid_t dcpl = H5Dget_create_plist(d);
+    if (dcpl < 0)
+        return 0;
+    trail_h5_kept *k = calloc(1, sizeof *k);
+    if (!k) {
+        H5Pclose(dcpl);
+        return -1;
+    }
+    k->as_int = as_int;
+    k->flags = pipeline(dcpl);
+    k->n = k->flags >= 0 ? rank1_points(d, dcpl, &k->per) : 0;
+    H5Pclose(dcpl);
+    k->sz = k->n ? element_size(d, as_int) : 0;
+    int ok = k->sz > 0;
+    if (ok) {
+        k->n_chunks = (k->n + k->per - 1) / k->per;
+        ok = keep_chunks(d, k);
+    }
+    if (!ok) {
+        trail_h5_kept_free(k);
+        return 0;
+    }
+    *out = k;
+    return 1;
+}
+
+int trail_h5_keep_values(size_t n, int as_int, void *values, trail_h5_kept **out)
+{
+    *out = calloc(1, sizeof **out);
+    if (!*out)
+        return 0;
+    (*out)->n = n;
+    (*out)->as_int = as_int;
+    (*out)->values = values;
+    return 1;
+}
+
+size_t trail_h5_kept_points(const trail_h5_kept *k) { return k ? k->n : 0; }
+
+size_t trail_h5_kept_bytes(const trail_h5_kept *k)
+{
+    if (!k)
+        return 0;
+    return sizeof *k + (k->values ? k->n * (k->as_int ? sizeof(int) : sizeof(double))
+                                  : k->start[k->n_chunks] + (k->n_chunks + 1) * sizeof *k->start);
+}
+
+int trail_h5_kept_decode(const trail_h5_kept *k, void *buf)
+{
+    size_t vb = k->as_int ? sizeof(int) : sizeof(double);
+    if (k->values) {
+        memcpy(buf, k->values, k->n * vb);
+        return 1;
+    }
+    size_t nb = k->per * k->sz;
+    uint8_t *tmp = k->n % k->per ? malloc(k->per * vb) : NULL; /* the last chunk, partly beyond the extent */
+    if (k->n % k->per && !tmp)
+        return 0;
+    int ok = 1;
+    for (size_t c = 0; c < k->n_chunks && ok; c++) {
+        uint8_t *own;
+        const uint8_t *v = chunk_decode(k->bytes + k->start[c], k->start[c + 1] - k->start[c], k->flags, nb, 0, &own);
+        size_t first = c * k->per, m = k->n - first < k->per ? k->n - first : k->per;
+        /* a whole chunk's values (the last may reach beyond the extent) */
+        uint8_t *dst = m == k->per ? (uint8_t *)buf + first * vb : tmp;
+        ok = v && values_out(v, k->per, k->sz, k->flags, k->as_int, dst);
+        if (ok && dst == tmp)
+            memcpy((uint8_t *)buf + first * vb, tmp, m * vb);
+        free(own);
+    }
+    free(tmp);
+    return ok;
+}
+
+void trail_h5_kept_free(trail_h5_kept *k)
+{
+    if (!k)
+        return;
+    free(k->start);
+    free(k->bytes);
+    free(k->values);
+    free(k);
 }

@@ -39,6 +39,23 @@ int trail_h5_numeric(hid_t loc, const char *where, const char *name, int rank, h
  * uses and its checksum verifies: 1 if buf holds its values, 0 if not
  * (H5Dread decides then). */
 int trail_h5_read_one_chunk(hid_t d, int as_int, void *buf);
+/* A 1-D dataset kept as stored (h5chunk.c): its chunks' stored bytes read
+ * and their Fletcher-32 checksums verified at open, inflated and converted
+ * later without any HDF5 call (queries run on threads; HDF5 is not
+ * thread-safe).  trail_h5_keep: 1 with *out set; 0 if the dataset's storage
+ * is not of the filters a grid file uses or does not check out (read it
+ * with trail_h5_numeric then, which refuses what HDF5 refuses); -1 out of
+ * memory.  trail_h5_keep_values wraps values already read (n ints or
+ * doubles, taken).  trail_h5_kept_decode: the n values into buf (int or
+ * double), 1, or 0 if a stream does not inflate to its chunk's size or
+ * memory runs out. */
+typedef struct trail_h5_kept trail_h5_kept;
+int trail_h5_keep(hid_t d, int as_int, trail_h5_kept **out);
+int trail_h5_keep_values(size_t n, int as_int, void *values, trail_h5_kept **out);
+size_t trail_h5_kept_points(const trail_h5_kept *k);
+size_t trail_h5_kept_bytes(const trail_h5_kept *k);
+int trail_h5_kept_decode(const trail_h5_kept *k, void *buf);
+void trail_h5_kept_free(trail_h5_kept *k);
 /* 1 if dataset `name` is stored with HDF5's Fletcher-32 checksum filter. */
 int trail_h5_has_checksum(hid_t loc, const char *name);
 /* A 1-D string dataset of 1..TRAIL_MAX_STRINGS entries, newly allocated in *out. */

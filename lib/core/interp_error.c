@@ -1,9 +1,12 @@
 /* The stored leave-one-out error field (optional group accuracy/ of
- * tracks/FORMAT.md, written by hrt_accuracy_store): read at open for the
- * grid's own interpolation type, and turned into an estimate at a state
+ * tracks/FORMAT.md, written by hrt_accuracy_store): its checksums verified
+ * at open, its blocks of the grid's own interpolation type decoded on the
+ * first question, and turned into an estimate at a state
  * (hrt_state_interp_error in include/hrtrail/core.h).  hrt_eval does not
  * look at it. */
 #include <math.h>
+#include <pthread.h>
+#include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -18,10 +21,40 @@ typedef struct ef_block {
     double e[3];
 } ef_block;
 
-struct trail_errfield {
+/* The blocks of one group (accuracy/ or accuracy/across_z/, where iz is
+ * the dropped group's) of the grid's type, sorted by route, group, mass,
+ * eep_lo. */
+typedef struct ef_field {
     size_t n;
-    ef_block *b; /* sorted by route, group, mass, eep_lo */
-    struct trail_errfield *across; /* accuracy/across_z/: iz is the dropped group's; or NULL */
+    ef_block *b;
+} ef_field;
+
+/* The per-block columns of accuracy/: four int, five float (seven in across_z/). */
+#define EF_COLS 11
+static const char *const col_i[4] = {"interp", "route", "eep_lo", "eep_hi"};
+static const char *const col_d[7] = {"z",           "initial_mass_msun", "log_l_error", "log_teff_error",
+                                     "log_age_error", "z_lo",            "z_hi"};
+
+/* One group's columns as kept at open (h5read.h, trail_h5_keep): their
+ * stored bytes, checksums verified, decoded on the first question. */
+typedef struct ef_kept {
+    int code; /* the grid's type in the group's interp_names */
+    size_t n; /* blocks */
+    trail_h5_kept *col[EF_COLS]; /* col[0] NULL: nothing of the grid's type */
+} ef_kept;
+
+/* The stored field of an open grid.  Opening only verifies its checksums
+ * (and the columns' shapes and storage): decoding and checking its blocks
+ * costs more than the rest of an open, and only hrt_state_interp_error and
+ * hrt_grid_has_interp_error need them, so the first of those decodes them,
+ * under `lock`, without HDF5 (state set with release once done; the only
+ * part of the field that changes). */
+struct trail_errfield {
+    ef_kept kept[2]; /* accuracy/, accuracy/across_z/ */
+    pthread_mutex_t lock;
+    atomic_int state; /* 0 until decoded, then 1 */
+    hrt_error status; /* the decoding's code and message */
+    ef_field mass, across;
 };
 
 static int cmp_block(const void *pa, const void *pb)
@@ -47,11 +80,11 @@ static int group_of(const hrt_grid *g, double z, size_t *iz)
 }
 
 /* The code of the grid's type in the file's interp_names, or -1. */
-static int file_interp(hid_t gr, int interp, hrt_error *err, int *rc)
+static int file_interp(hid_t gr, const char *where, int interp, hrt_error *err, int *rc)
 {
     size_t n = 0;
     char **names = NULL;
-    *rc = trail_h5_strings(gr, "accuracy", "interp_names", &n, &names, err);
+    *rc = trail_h5_strings(gr, where, "interp_names", &n, &names, err);
     int code = -1;
     for (size_t i = 0; *rc == HRT_OK && i < n; i++)
         if (!strcmp(names[i], hrt_interp_name(interp)))
@@ -59,11 +92,6 @@ static int file_interp(hid_t gr, int interp, hrt_error *err, int *rc)
     trail_h5_free_strings(names, n);
     return code;
 }
-
-/* The per-block columns of accuracy/: four int, five float (seven in across_z/). */
-static const char *const col_i[4] = {"interp", "route", "eep_lo", "eep_hi"};
-static const char *const col_d[7] = {"z",           "initial_mass_msun", "log_l_error", "log_teff_error",
-                                     "log_age_error", "z_lo",            "z_hi"};
 
 /* Whether the dropped group's neighbours z_lo < z < z_hi (v[5], v[6]) of an
  * across-metallicity block i are groups of g. */
@@ -74,8 +102,8 @@ static int z_interval_ok(const hrt_grid *g, double *const *v, size_t i)
 }
 
 /* Keep the blocks of the grid's type, check them and place them in groups. */
-static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n, int code, int across,
-                   trail_errfield *ef, hrt_error *err)
+static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n, int code, int across, ef_field *ef,
+                   hrt_error *err)
 {
     for (size_t i = 0; i < n; i++) {
         if (k[0][i] != code)
@@ -98,57 +126,83 @@ static int ef_fill(const hrt_grid *g, int *const *k, double *const *v, size_t n,
     return HRT_OK;
 }
 
-/* The columns' common length into *n (checked), then, with buffers, the
- * values; nd float columns (5, or 7 across metallicity). */
-static int ef_columns(hid_t gr, const char *where, int nd, size_t *n, int **k, double **v, hrt_error *err)
+/* The columns' common length into *n (checked: shape, type, storage); nd
+ * float columns (5, or 7 across metallicity). */
+static int ef_columns(hid_t gr, const char *where, int nd, size_t *n, hrt_error *err)
 {
     int rc = HRT_OK;
     for (int c = 0; c < 4 + nd && rc == HRT_OK; c++) {
         hsize_t d[1] = {*n};
         int is_int = c < 4;
-        const char *name = is_int ? col_i[c] : col_d[c - 4];
-        void *buf = k ? (is_int ? (void *)k[c] : (void *)v[c - 4]) : NULL;
-        rc = trail_h5_numeric(gr, where, name, 1, d, is_int, buf, err);
-        if (rc == HRT_OK && !k && c == 0)
+        rc = trail_h5_numeric(gr, where, is_int ? col_i[c] : col_d[c - 4], 1, d, is_int, NULL, err);
+        if (rc == HRT_OK && c == 0)
             *n = (size_t)d[0];
     }
     return rc;
 }
 
-/* The blocks of group gr (accuracy/ or accuracy/across_z/) of the grid's
- * type into *out (NULL when there are none). */
-static int ef_load(hid_t gr, const hrt_grid *g, int across, trail_errfield **out, hrt_error *err)
+/* Column c (name, of n values) kept as stored; read now where its storage
+ * is of another kind (then with HDF5's answer and error). */
+static int ef_keep_column(hid_t gr, const char *where, const char *name, size_t n, int is_int, trail_h5_kept **out,
+                          hrt_error *err)
+{
+    hid_t d = H5Dopen2(gr, name, H5P_DEFAULT);
+    int k = d >= 0 ? trail_h5_keep(d, is_int, out) : 0;
+    if (d >= 0)
+        H5Dclose(d);
+    if (k > 0)
+        return HRT_OK;
+    void *buf = k == 0 ? malloc(n * (is_int ? sizeof(int) : sizeof(double))) : NULL;
+    if (!buf)
+        return trail_set_error(err, HRT_E_NOMEM, "%s/%s: out of memory", where, name);
+    hsize_t dd[1] = {n};
+    int rc = trail_h5_numeric(gr, where, name, 1, dd, is_int, buf, err);
+    if (rc == HRT_OK && !trail_h5_keep_values(n, is_int, buf, out))
+        rc = trail_set_error(err, HRT_E_NOMEM, "%s/%s: out of memory", where, name);
+    if (rc != HRT_OK)
+        free(buf);
+    return rc;
+}
+
+/* Group gr (accuracy/ or accuracy/across_z/) checked and, when it holds
+ * blocks of the grid's type, its columns kept. */
+static int ef_keep(hid_t gr, const hrt_grid *g, int across, ef_kept *kp, hrt_error *err)
 {
     const char *where = across ? "accuracy/across_z" : "accuracy";
     int nd = across ? 7 : 5, rc;
-    int code = file_interp(gr, g->interp, err, &rc);
-    size_t n = 0;
+    kp->code = file_interp(gr, where, g->interp, err, &rc);
+    kp->n = 0;
     if (rc == HRT_OK)
-        rc = ef_columns(gr, where, nd, &n, NULL, NULL, err);
+        rc = ef_columns(gr, where, nd, &kp->n, err);
+    if (rc != HRT_OK || kp->code < 0 || kp->n == 0)
+        return rc;
+    for (int c = 0; c < 4 + nd && rc == HRT_OK; c++)
+        rc = ef_keep_column(gr, where, c < 4 ? col_i[c] : col_d[c - 4], kp->n, c < 4, &kp->col[c], err);
+    return rc;
+}
+
+/* The blocks of one kept group decoded, checked and sorted into *out. */
+static int ef_decode(const hrt_grid *g, const ef_kept *kp, int across, ef_field *out, hrt_error *err)
+{
+    const char *where = across ? "accuracy/across_z" : "accuracy";
+    int nd = across ? 7 : 5, rc = HRT_OK;
+    size_t n = kp->n;
     int *k[4] = {NULL};
     double *v[7] = {NULL};
-    trail_errfield *ef = NULL;
-    if (rc == HRT_OK && code >= 0 && n > 0) {
-        int ok = 1;
-        for (int c = 0; c < 4; c++)
-            ok &= (k[c] = malloc(n * sizeof **k)) != NULL;
-        for (int c = 0; c < nd; c++)
-            ok &= (v[c] = malloc(n * sizeof **v)) != NULL;
-        ef = calloc(1, sizeof *ef);
-        if (ef)
-            ef->b = malloc(n * sizeof *ef->b);
-        if (!ok || !ef || !ef->b)
-            rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
-        if (rc == HRT_OK)
-            rc = ef_columns(gr, where, nd, &n, k, v, err);
-        if (rc == HRT_OK)
-            rc = ef_fill(g, k, v, n, code, across, ef, err);
-        if (rc == HRT_OK && ef->n) {
-            *out = ef;
-            ef = NULL;
-        }
-    }
-    trail_errfield_free(ef);
+    int ok = 1;
+    for (int c = 0; c < 4; c++)
+        ok &= (k[c] = malloc(n * sizeof **k)) != NULL;
+    for (int c = 0; c < nd; c++)
+        ok &= (v[c] = malloc(n * sizeof **v)) != NULL;
+    out->b = malloc(n * sizeof *out->b);
+    if (!ok || !out->b)
+        rc = trail_set_error(err, HRT_E_NOMEM, "%s: out of memory", where);
+    for (int c = 0; c < 4 + nd && rc == HRT_OK; c++)
+        if (!trail_h5_kept_decode(kp->col[c], c < 4 ? (void *)k[c] : (void *)v[c - 4]))
+            rc = trail_set_error(err, HRT_E_FORMAT, "%s/%s: the stored bytes do not inflate to the dataset's values",
+                                 where, c < 4 ? col_i[c] : col_d[c - 4]);
+    if (rc == HRT_OK)
+        rc = ef_fill(g, k, v, n, kp->code, across, out, err);
     for (int c = 0; c < 4; c++)
         free(k[c]);
     for (int c = 0; c < 7; c++)
@@ -156,16 +210,53 @@ static int ef_load(hid_t gr, const hrt_grid *g, int across, trail_errfield **out
     return rc;
 }
 
-static size_t ef_bytes(const trail_errfield *ef) { return ef ? sizeof *ef + ef->n * sizeof *ef->b : 0; }
+static void ef_kept_free(ef_kept *kp)
+{
+    for (int c = 0; c < EF_COLS; c++) {
+        trail_h5_kept_free(kp->col[c]);
+        kp->col[c] = NULL;
+    }
+}
+
+/* The field decoded (once, by whichever query comes first): HRT_OK, or the
+ * decoding's error, the same for every later call. */
+static int ef_ready(const hrt_grid *g, hrt_error *err)
+{
+    trail_errfield *ef = g->errf;
+    if (!atomic_load_explicit(&ef->state, memory_order_acquire)) {
+        pthread_mutex_lock(&ef->lock);
+        if (!atomic_load_explicit(&ef->state, memory_order_relaxed)) {
+            hrt_error *st = &ef->status;
+            int rc = trail_set_error(st, HRT_OK, NULL);
+            if (ef->kept[0].col[0])
+                rc = ef_decode(g, &ef->kept[0], 0, &ef->mass, st);
+            if (rc == HRT_OK && ef->mass.n && ef->kept[1].col[0])
+                rc = ef_decode(g, &ef->kept[1], 1, &ef->across, st);
+            ef_kept_free(&ef->kept[0]);
+            ef_kept_free(&ef->kept[1]);
+            atomic_store_explicit(&ef->state, 1, memory_order_release);
+        }
+        pthread_mutex_unlock(&ef->lock);
+    }
+    if (ef->status.code != HRT_OK)
+        return trail_set_error(err, ef->status.code, "hrt_state_interp_error: %s", ef->status.message);
+    return HRT_OK;
+}
 
 static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
 {
     hid_t gr = trail_h5_group(fh, "accuracy");
     if (gr < 0)
         return trail_set_error(err, HRT_E_FORMAT, "accuracy: not a group");
-    trail_errfield *ef = NULL;
-    int rc = ef_load(gr, g, 0, &ef, err);
-    int l = rc == HRT_OK && ef ? trail_h5_link(gr, "across_z") : 0;
+    trail_errfield *ef = calloc(1, sizeof *ef);
+    if (!ef || pthread_mutex_init(&ef->lock, NULL) != 0) {
+        free(ef);
+        H5Gclose(gr);
+        return trail_set_error(err, HRT_E_NOMEM, "accuracy: out of memory");
+    }
+    atomic_init(&ef->state, 0);
+    int rc = ef_keep(gr, g, 0, &ef->kept[0], err);
+    int l = rc == HRT_OK && ef->kept[0].col[0] ? trail_h5_link(gr, "across_z") : 0;
     if (l < 0)
         rc = trail_set_error(err, HRT_E_FORMAT, "accuracy/across_z is a soft or external link");
     if (l > 0) {
@@ -173,13 +264,16 @@ static int ef_read(hid_t fh, hrt_grid *g, hrt_error *err)
         if (az < 0)
             rc = trail_set_error(err, HRT_E_FORMAT, "accuracy/across_z: not a group");
         else
-            rc = ef_load(az, g, 1, &ef->across, err);
+            rc = ef_keep(az, g, 1, &ef->kept[1], err);
         if (az >= 0)
             H5Gclose(az);
     }
-    if (rc == HRT_OK && ef) {
+    if (rc == HRT_OK && ef->kept[0].col[0]) {
         g->errf = ef;
-        g->bytes += ef_bytes(ef) + ef_bytes(ef->across);
+        g->bytes += sizeof *ef;
+        for (int t = 0; t < 2; t++)
+            for (int c = 0; c < EF_COLS; c++)
+                g->bytes += trail_h5_kept_bytes(ef->kept[t].col[c]);
         ef = NULL;
     }
     trail_errfield_free(ef);
@@ -212,12 +306,15 @@ void trail_errfield_free(trail_errfield *ef)
 {
     if (!ef)
         return;
-    trail_errfield_free(ef->across);
-    free(ef->b);
+    ef_kept_free(&ef->kept[0]);
+    ef_kept_free(&ef->kept[1]);
+    free(ef->mass.b);
+    free(ef->across.b);
+    pthread_mutex_destroy(&ef->lock);
     free(ef);
 }
 
-int hrt_grid_has_interp_error(const hrt_grid *g) { return g && g->errf; }
+int hrt_grid_has_interp_error(const hrt_grid *g) { return g && g->errf && ef_ready(g, NULL) == HRT_OK && g->errf->mass.n; }
 
 /* Order of block b against the key (route, group iz, mass m). */
 static int key_cmp(const ef_block *b, int route, size_t iz, double m)
@@ -230,7 +327,7 @@ static int key_cmp(const ef_block *b, int route, size_t iz, double m)
 }
 
 /* First block whose key is above (route, iz, m) (after = 1) or not below it (after = 0). */
-static size_t bound(const trail_errfield *ef, int route, size_t iz, double m, int after)
+static size_t bound(const ef_field *ef, int route, size_t iz, double m, int after)
 {
     size_t lo = 0, hi = ef->n;
     while (lo < hi) {
@@ -246,7 +343,7 @@ static size_t bound(const trail_errfield *ef, int route, size_t iz, double m, in
 
 /* The block holding EEP j of the measured track nearest below (dir < 0) or
  * above (dir > 0) mass m on (route, group iz) that reaches EEP j, or NULL. */
-static const ef_block *nearest(const trail_errfield *ef, int route, size_t iz, double m, long j, int dir)
+static const ef_block *nearest(const ef_field *ef, int route, size_t iz, double m, long j, int dir)
 {
     size_t first = bound(ef, route, iz, -INFINITY, 0), last = bound(ef, route, iz, INFINITY, 1);
     if (dir < 0) {
@@ -270,7 +367,7 @@ static const ef_block *nearest(const trail_errfield *ef, int route, size_t iz, d
  * nearest below the state's mass and two nearest above: one track's error
  * changes sign along the mass, two either side keep the bound where it
  * passes through zero. */
-static int from_group(const trail_errfield *ef, const hrt_state *s, size_t iz, long j, hrt_interp_error *out)
+static int from_group(const ef_field *ef, const hrt_state *s, size_t iz, long j, hrt_interp_error *out)
 {
     int used = 0;
     for (int dir = -1; dir <= 1; dir += 2) {
@@ -295,7 +392,7 @@ static int from_group(const trail_errfield *ef, const hrt_state *s, size_t iz, l
  * larger of them).  Added, not in quadrature: the state's error is the
  * across-[Fe/H] error plus the blend of the groups' errors across mass, so
  * the sum of two bounds bounds it. */
-static void add_across_z(const trail_errfield *ez, const hrt_state *s, size_t lo, size_t hi, long j,
+static void add_across_z(const ef_field *ez, const hrt_state *s, size_t lo, size_t hi, long j,
                          hrt_interp_error *out)
 {
     hrt_interp_error z = {0, 0, 0, 0, {0}};
@@ -311,7 +408,10 @@ int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_err
     if (!g || !s || !out)
         return trail_set_error(err, HRT_E_NULL, "hrt_state_interp_error: %s is NULL", !g ? "grid" : !s ? "state" : "out");
     *out = (hrt_interp_error){NAN, NAN, NAN, 0, {0}};
-    if (!g->errf)
+    int rc = g->errf ? ef_ready(g, err) : HRT_OK;
+    if (rc != HRT_OK)
+        return rc;
+    if (!g->errf || !g->errf->mass.n)
         return trail_set_error(err, HRT_E_INVALID,
                                "hrt_state_interp_error: the grid file stores no error field for type %s "
                                "(add one with 'hrtrail grid accuracy --store' or hrt_accuracy_store)",
@@ -333,9 +433,9 @@ int hrt_state_interp_error(const hrt_grid *g, const hrt_state *s, hrt_interp_err
     /* lo, hi: the groups either side of Z (one if Z is a group's or outside them all) */
     out->log_l_dex = out->log_teff_dex = out->log_age_dex = 0;
     for (size_t iz = lo; iz <= hi; iz++)
-        out->n_tracks += from_group(g->errf, s, iz, j, out);
-    if (lo != hi && out->n_tracks && g->errf->across)
-        add_across_z(g->errf->across, s, lo, hi, j, out);
+        out->n_tracks += from_group(&g->errf->mass, s, iz, j, out);
+    if (lo != hi && out->n_tracks && g->errf->across.n)
+        add_across_z(&g->errf->across, s, lo, hi, j, out);
     if (!out->n_tracks) {
         *out = (hrt_interp_error){NAN, NAN, NAN, 0, {0}};
         return trail_set_error(err, HRT_E_NO_TRACK,

@@ -1,7 +1,8 @@
 /* Eight threads share one open grid and evaluate random stars through every
  * query path (hrt_eval in batches, hrt_star_new + hrt_star_at, phases,
- * keypoints, hrt_isochrone); every answer must be bit-identical to a serial
- * run.  Built also under ThreadSanitizer in CI (.ci/run), where any data
+ * keypoints, hrt_isochrone, and hrt_state_interp_error on a grid freshly
+ * opened, whose first calls decode its stored error field, all threads
+ * at once); every answer must be bit-identical to a serial run.  Built also under ThreadSanitizer in CI (.ci/run), where any data
  * race inside the library is reported and fails the run.
  *
  * Usage: test_threads [GRID.h5 ...]; a small synthetic grid is always
@@ -23,6 +24,7 @@
 #define N_STAR_AGES 3
 #define N_ISO 4
 #define CHUNK 64
+#define N_IE 300 /* stars asked for their interpolation error */
 
 typedef struct star_ref {
     int rc_new;
@@ -45,6 +47,9 @@ typedef struct job {
     double iso_z, iso_age[N_ISO];
     const hrt_state *iso_ref[N_ISO];
     size_t iso_n[N_ISO];
+    const hrt_grid *fresh; /* the same file opened again: its error field not decoded yet */
+    const hrt_interp_error *ie_ref;
+    const int *ie_rc;
     pthread_barrier_t *barrier;
     int thread;
     long mismatches, evaluated;
@@ -76,6 +81,16 @@ static void *worker(void *arg)
     hrt_state out[CHUNK];
     hrt_error e;
     pthread_barrier_wait(j->barrier);
+    for (size_t i = 0; i < N_IE; i++) { /* every thread asks at once: one decodes, the others wait */
+        hrt_interp_error ie;
+        int rc = hrt_state_interp_error(j->fresh, &j->ref[i], &ie, NULL);
+        const hrt_interp_error *r = &j->ie_ref[i];
+        /* field by field (bit for bit; NaN on failure): the struct has padding */
+        if (rc != j->ie_rc[i] || memcmp(&ie.log_l_dex, &r->log_l_dex, sizeof ie.log_l_dex) != 0 ||
+            memcmp(&ie.log_teff_dex, &r->log_teff_dex, sizeof ie.log_teff_dex) != 0 ||
+            memcmp(&ie.log_age_dex, &r->log_age_dex, sizeof ie.log_age_dex) != 0 || ie.n_tracks != r->n_tracks)
+            j->mismatches++;
+    }
     for (int pass = 0; pass < 2; pass++) {
         /* Each thread starts at its own place, so different threads work on
          * different stars at the same moment, and on the same ones too. */
@@ -191,6 +206,15 @@ static void test_grid(const char *path, unsigned long long seed)
         proto.iso_ref[k] = iso[k];
         proto.iso_n[k] = n;
     }
+    hrt_grid *fresh = NULL;
+    HARD_CHECK(hrt_grid_open(path, &fresh, &e) == HRT_OK, "open %s again: %s", path, e.message);
+    hrt_interp_error *ie_ref = calloc(N_IE, sizeof *ie_ref);
+    int *ie_rc = malloc(N_IE * sizeof *ie_rc);
+    for (size_t i = 0; i < N_IE; i++)
+        ie_rc[i] = hrt_state_interp_error(g, &ref[i], &ie_ref[i], NULL);
+    proto.fresh = fresh;
+    proto.ie_ref = ie_ref;
+    proto.ie_rc = ie_rc;
     proto.ref = ref;
     proto.ref_err = ref_err;
     proto.ref_rc = ref_rc;
@@ -224,6 +248,9 @@ static void test_grid(const char *path, unsigned long long seed)
     free(ref_err);
     free(ref_rc);
     free(sref);
+    free(ie_ref);
+    free(ie_rc);
+    hrt_grid_close(fresh);
     hrt_grid_close(g);
 }
 
