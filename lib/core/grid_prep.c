@@ -93,11 +93,10 @@ static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp,
     gp->runs = calloc(nm * J * 2, sizeof(int32_t));
     gp->age_tab = calloc(nm * TRAIL_AGE_TAB, sizeof(uint16_t));
     gp->age_tab_x = calloc(nm * 2, sizeof(double));
-    gp->age_lambda = calloc(nm + 1, sizeof(double));
     gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
     gp->age_interval = calloc(nm * J * 4, sizeof(double));
     if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_knots || !gp->boundary ||
-        !gp->knots || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max ||
+        !gp->knots || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_dx_max ||
         !gp->age_interval)
         return HRT_E_NOMEM;
     advise_huge(gp->knots, (size_t)NQ * J * (nm + 1) * 2 * sizeof(double));
@@ -291,52 +290,133 @@ static void age_table(const hrt_grid *g, zgroup *gp, size_t i)
 }
 
 /* Log age across interval (i, i + 1) must increase with EEP for every mass
- * inside it.  The difference of consecutive EEPs' interpolants is a cubic
- * Hermite; blending the weights towards linear (positive, since both
- * tracks' ages increase) scales its slopes towards the secant: the largest
- * blend lambda that stays positive at every EEP. */
-static double age_lambda(const hrt_grid *g, const zgroup *gp, size_t i)
+ * inside it.  Each EEP j has its own blend lambda_j in [0, 1], stored in its
+ * slopes across the interval: d <- lambda_j d + (1 - lambda_j) sec_j at both
+ * tracks (sec_j its secant across the interval).  A cubic Hermite with both
+ * slopes equal to the secant is the linear interpolant, and the Hermite is
+ * linear in its slopes, so the stored interpolant at EEP j is exactly
+ * lambda_j (chosen type) + (1 - lambda_j) (linear): a convex mix that keeps
+ * the knot values, and the query path only ever sees ordinary slopes.
+ *
+ * Why consecutive EEPs stay increasing.  The difference of EEPs j + 1 and j
+ * at every mass of the interval is itself a cubic Hermite in t = (x - x_i)/h
+ * with the (positive) differences of the two tracks' ages at its ends and
+ * the differences of the blended slopes; pair_ok() tests that it is
+ * positive on the whole of [0, 1] (hermite_positive: its ends and its
+ * interior critical points).  The rule: every lambda starts at 1; a pass
+ * visits each consecutive pair and, where pair_ok() fails, lowers both
+ * lambdas together to the largest common value v <= min(lambda_j,
+ * lambda_{j+1}) for which it holds.  With a common v the difference is
+ * v (type's difference) + (1 - v) (linear difference), affine in v at each
+ * t and positive at v = 0 (both tracks' ages increase), so the values of v
+ * that pass form an interval [0, v*) and bisection finds its largest
+ * member (40 steps, the last value that passed is kept, so it is verified).
+ * Passes (up the EEPs, then down) repeat until one changes nothing: then every pair has just been
+ * checked with the final lambdas, which is the guarantee.  Lowering a pair
+ * can break its neighbour (different lambdas make the difference a mix that
+ * is not a convex one), hence the passes; lambdas only decrease, and if
+ * TRAIL_AGE_PASSES passes are not enough every EEP of the interval falls
+ * back to one common lambda, the smallest the pairs demand, for which every
+ * pair is positive by the same affine argument. */
+#define TRAIL_AGE_PASSES 256
+static int pair_ok(const double *a0, const double *a1, double h, double l0, double l1)
 {
-    double lam = 1.0;
-    if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
-        return lam;
-    double h = gp->logm[i + 1] - gp->logm[i];
-    int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
-    for (int j = 0; j + 1 < ne; j++) {
-        const double *a0 = trail_knot(gp, (size_t)j, i, Q_AGE), *a1 = trail_knot(gp, (size_t)j + 1, i, Q_AGE);
-        const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
-        double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
-        double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]), sec = p1 - p0;
-        if (hermite_positive(p0, p1, lam * s0 + (1.0 - lam) * sec, lam * s1 + (1.0 - lam) * sec))
-            continue;
-        double lo = 0.0, hi = lam; /* positive at lo, not at hi */
-        for (int it = 0; it < 40; it++) {
-            double mid = 0.5 * (lo + hi);
-            if (hermite_positive(p0, p1, mid * s0 + (1.0 - mid) * sec, mid * s1 + (1.0 - mid) * sec))
-                lo = mid;
-            else
-                hi = mid;
-        }
-        lam = lo;
-    }
-    return lam;
+    double p0 = a1[0] - a0[0], p1 = a1[2] - a0[2];
+    double c0 = (a0[2] - a0[0]) / h, c1 = (a1[2] - a1[0]) / h; /* secants of EEPs j, j + 1 */
+    double s0 = h * (l1 * a1[1] + (1.0 - l1) * c1 - l0 * a0[1] - (1.0 - l0) * c0);
+    double s1 = h * (l1 * a1[3] + (1.0 - l1) * c1 - l0 * a0[3] - (1.0 - l0) * c0);
+    return hermite_positive(p0, p1, s0, s1);
 }
 
-/* Extrapolation beyond a route's end track i: y_j + d_j dx must keep
- * increasing with j; |dx| is kept to half the largest step that does. */
-static void extrapolation_limits(zgroup *gp, size_t i)
+/* Largest v in [0, hi] (to 2^-40) with pair_ok(v, v); 0 passes always. */
+static double pair_common(const double *a0, const double *a1, double h, double hi)
 {
+    if (pair_ok(a0, a1, h, hi, hi))
+        return hi;
+    double lo = 0.0;
+    for (int it = 0; it < 40; it++) {
+        double mid = 0.5 * (lo + hi);
+        if (pair_ok(a0, a1, h, mid, mid))
+            lo = mid;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
+/* Lower the lambdas of pair j if it does not increase: 1 if it did. */
+static int age_fix(const double *a, int j, double h, double *lam)
+{
+    const double *a0 = a + 4 * j, *a1 = a0 + 4;
+    if (pair_ok(a0, a1, h, lam[j], lam[j + 1]))
+        return 0;
+    double v = pair_common(a0, a1, h, lam[j] < lam[j + 1] ? lam[j] : lam[j + 1]);
+    lam[j] = lam[j + 1] = v;
+    return 1;
+}
+
+/* One pass of the rule above over EEPs [0, ne), up then down (a lowered
+ * lambda can break the pair below it): 1 if a lambda changed. */
+static int age_pass(const double *a, int ne, double h, double *lam)
+{
+    int changed = 0;
+    for (int j = 0; j + 1 < ne; j++)
+        changed |= age_fix(a, j, h, lam);
+    for (int j = ne - 2; j >= 0; j--)
+        changed |= age_fix(a, j, h, lam);
+    return changed;
+}
+
+/* The lambdas of interval i (lam: scratch of n_eep_max), stored in its
+ * log-age slopes (age_interval). */
+static void age_blend(const hrt_grid *g, zgroup *gp, size_t i, double *lam)
+{
+    if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
+        return;
+    size_t J = g->n_eep_max;
+    double h = gp->logm[i + 1] - gp->logm[i];
+    int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
+    double *a = gp->age_interval + i * J * 4;
+    for (int j = 0; j < ne; j++)
+        lam[j] = 1.0;
+    int pass = 0;
+    while (age_pass(a, ne, h, lam) && ++pass < TRAIL_AGE_PASSES)
+        ;
+    if (pass == TRAIL_AGE_PASSES) {
+        double common = 1.0;
+        for (int j = 0; j + 1 < ne; j++)
+            common = pair_common(a + 4 * j, a + 4 * j + 4, h, common);
+        for (int j = 0; j < ne; j++)
+            lam[j] = common;
+    }
+    for (int j = 0; j < ne; j++) {
+        double *p = a + 4 * j, sec = (p[2] - p[0]) / h;
+        p[1] = lam[j] * p[1] + (1.0 - lam[j]) * sec;
+        p[3] = lam[j] * p[3] + (1.0 - lam[j]) * sec;
+    }
+}
+
+/* Extrapolation beyond a route's end track k: y_j + d_j dx must keep
+ * increasing with j; |dx| is kept to half the largest step that does.  The
+ * slopes are the ones extrapolation uses (eval.c mass_ctx): below track k
+ * its left-end slopes in interval k, above it its right-end slopes in
+ * interval k - 1 (both blended by age_blend). */
+static void extrapolation_limits(const hrt_grid *g, zgroup *gp, size_t k)
+{
+    size_t J = g->n_eep_max;
+    const double *lo = gp->age_interval + k * J * 4;                     /* value a[0], slope a[1] */
+    const double *hi = k > 0 ? gp->age_interval + (k - 1) * J * 4 + 2 : lo; /* value, slope at k */
     double up = INFINITY, dn = INFINITY;
-    for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
-        const double *a0 = trail_knot(gp, (size_t)j, i, Q_AGE), *a1 = trail_knot(gp, (size_t)j + 1, i, Q_AGE);
-        double dy = a1[0] - a0[0], dd = a1[1] - a0[1];
-        if (dd < 0.0 && dy / -dd < up)
-            up = dy / -dd;
+    for (int j = 0; j + 1 < gp->n_eep[k]; j++) {
+        double dy = lo[4 * j + 4] - lo[4 * j];
+        double dd = lo[4 * j + 5] - lo[4 * j + 1], du = hi[4 * j + 5] - hi[4 * j + 1];
+        if (du < 0.0 && dy / -du < up)
+            up = dy / -du;
         if (dd > 0.0 && dy / dd < dn)
             dn = dy / dd;
     }
-    gp->age_dx_max[2 * i] = 0.5 * dn;
-    gp->age_dx_max[2 * i + 1] = 0.5 * up;
+    gp->age_dx_max[2 * k] = 0.5 * dn;
+    gp->age_dx_max[2 * k + 1] = 0.5 * up;
 }
 
 /* The log mass -> track table (zgroup.mass_bin): TRAIL_MASS_BINS bins per
@@ -381,11 +461,16 @@ static int prepare_group(const hrt_grid *g, zgroup *gp, run_buf *rb)
     if (rc != HRT_OK)
         return rc;
     age_intervals(g, gp);
+    double *lam = malloc(g->n_eep_max * sizeof(double));
+    if (!lam)
+        return HRT_E_NOMEM;
+    for (size_t i = 0; i + 1 < gp->n_mass; i++)
+        age_blend(g, gp, i, lam);
+    free(lam);
     for (size_t i = 0; i < gp->n_mass; i++) {
         phase_runs(g, gp, i);
         age_table(g, gp, i);
-        extrapolation_limits(gp, i);
-        gp->age_lambda[i] = i + 1 < gp->n_mass ? age_lambda(g, gp, i) : 1.0;
+        extrapolation_limits(g, gp, i);
     }
     return HRT_OK;
 }
@@ -449,7 +534,6 @@ void trail_grid_free_contents(hrt_grid *g)
         free(gp->runs);
         free(gp->age_tab);
         free(gp->age_tab_x);
-        free(gp->age_lambda);
         free(gp->age_dx_max);
         free(gp->age_interval);
         free(gp->mass_bin);

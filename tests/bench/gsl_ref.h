@@ -13,8 +13,8 @@ void gsl_ref_free(gsl_ref *r);
 void gsl_ref_mass_range(const gsl_ref *r, double *lo, double *hi);
 void gsl_ref_age_range(const gsl_ref *r, double m, double *lt0, double *lt1);
 void gsl_ref_eval(const gsl_ref *r, size_t n, const double *mass, const double *age_yr, double *out);
-/* Intervals between the route's tracks whose log age blends towards
- * linear (lambda < 1), and the smallest lambda. */
+/* Intervals between the route's tracks where log age blends towards
+ * linear (lambda < 1 at one EEP or more), and the smallest lambda. */
 size_t gsl_ref_n_blended(const gsl_ref *r, double *lambda_min);
 
 /* How closely hrt_eval and the reference agree.  Both compute the same
