@@ -316,11 +316,13 @@ typedef struct hrt_grid hrt_grid; /**< opaque, immutable after open, shareable a
  *      "the EEP at an age" would be ambiguous.  In each interval between two
  *      tracks, log age at EEP j is lambda_j * (chosen type) + (1 - lambda_j)
  *      * (linear), each lambda_j in [0, 1]: 1 unless EEPs j and j + 1 would
- *      not increase at some mass of the interval, and then both lowered
- *      together to the largest common value that makes them increase,
- *      repeated until every consecutive pair increases at every mass of the
+ *      not increase at some mass of the interval (by at least 1/1024 of the
+ *      smaller of the two tracks' steps from j to j + 1), and then both
+ *      lowered together to the largest common value that makes them,
+ *      repeated until every consecutive pair does at every mass of the
  *      interval (1 at most EEPs; lower mostly at late EEPs where fast
- *      phases have nearly equal ages at neighbouring EEPs).  Across [Fe/H],
+ *      phases have nearly equal ages at neighbouring EEPs; all 0, linear,
+ *      should a pair still fail).  Across [Fe/H],
  *      log age is linear for the same reason; the other quantities use the
  *      chosen type.
  *   4. Current and core masses are interpolated as fractions of the initial

@@ -40,10 +40,11 @@ static int run_slopes(int interp, double *work, size_t n, const double *x, const
 }
 
 /* Is the cubic Hermite p(t) with end values p0, p1 > 0 and end slopes
- * s0, s1 (already multiplied by the interval width) positive on [0, 1]? */
-static int hermite_positive(double p0, double p1, double s0, double s1)
+ * s0, s1 (already multiplied by the interval width) above lo_bound (>= 0) on
+ * the whole of [0, 1]?  Its ends and its interior critical points decide. */
+static int hermite_above(double p0, double p1, double s0, double s1, double lo_bound)
 {
-    if (!(p0 > 0.0 && p1 > 0.0))
+    if (!(p0 > lo_bound && p1 > lo_bound))
         return 0;
     double a = 2.0 * (p0 - p1) + s0 + s1, b = 3.0 * (p1 - p0) - 2.0 * s0 - s1, c = s0;
     /* p'(t) = 3a t^2 + 2b t + c */
@@ -64,7 +65,7 @@ static int hermite_positive(double p0, double p1, double s0, double s1)
         double t = roots[k];
         if (t > 0.0 && t < 1.0) {
             double p = ((a * t + b) * t + c) * t + p0;
-            if (!(p > 0.0))
+            if (!(p > lo_bound))
                 return 0;
         }
     }
@@ -292,40 +293,60 @@ static void age_table(const hrt_grid *g, zgroup *gp, size_t i)
 /* Log age across interval (i, i + 1) must increase with EEP for every mass
  * inside it.  Each EEP j has its own blend lambda_j in [0, 1], stored in its
  * slopes across the interval: d <- lambda_j d + (1 - lambda_j) sec_j at both
- * tracks (sec_j its secant across the interval).  A cubic Hermite with both
- * slopes equal to the secant is the linear interpolant, and the Hermite is
- * linear in its slopes, so the stored interpolant at EEP j is exactly
- * lambda_j (chosen type) + (1 - lambda_j) (linear): a convex mix that keeps
- * the knot values, and the query path only ever sees ordinary slopes.
+ * tracks (sec_j its secant across the interval; age_slope).  A cubic
+ * Hermite with both slopes equal to the secant is the linear interpolant,
+ * and the Hermite is linear in its slopes, so the stored interpolant at EEP
+ * j is exactly lambda_j (chosen type) + (1 - lambda_j) (linear): a convex
+ * mix that keeps the knot values, and the query path only ever sees
+ * ordinary slopes.
  *
- * Why consecutive EEPs stay increasing.  The difference of EEPs j + 1 and j
- * at every mass of the interval is itself a cubic Hermite in t = (x - x_i)/h
- * with the (positive) differences of the two tracks' ages at its ends and
- * the differences of the blended slopes; pair_ok() tests that it is
- * positive on the whole of [0, 1] (hermite_positive: its ends and its
- * interior critical points).  The rule: every lambda starts at 1; a pass
- * visits each consecutive pair and, where pair_ok() fails, lowers both
- * lambdas together to the largest common value v <= min(lambda_j,
- * lambda_{j+1}) for which it holds.  With a common v the difference is
- * v (type's difference) + (1 - v) (linear difference), affine in v at each
- * t and positive at v = 0 (both tracks' ages increase), so the values of v
- * that pass form an interval [0, v*) and bisection finds its largest
- * member (40 steps, the last value that passed is kept, so it is verified).
- * Passes (up the EEPs, then down) repeat until one changes nothing: then every pair has just been
- * checked with the final lambdas, which is the guarantee.  Lowering a pair
- * can break its neighbour (different lambdas make the difference a mix that
- * is not a convex one), hence the passes; lambdas only decrease, and if
- * TRAIL_AGE_PASSES passes are not enough every EEP of the interval falls
- * back to one common lambda, the smallest the pairs demand, for which every
- * pair is positive by the same affine argument. */
+ * Why consecutive EEPs stay increasing (a proof, not a hope).  The
+ * difference D(t) of EEPs j + 1 and j at t = (x - x_i) / h in [0, 1] is
+ * itself a cubic Hermite: end values p0, p1 (the two tracks' age steps, > 0:
+ * the reader refuses tracks whose ages do not increase) and end slopes the
+ * differences of the blended slopes.  pair_ok() accepts a pair only if D
+ * stays above the floor kappa min(p0, p1) (kappa = TRAIL_AGE_FLOOR) on the
+ * whole of [0, 1] (hermite_above: ends and interior critical points).
+ *  1. With both lambdas 0 (linear at both EEPs) D(t) = (1 - t) p0 + t p1 >=
+ *     min(p0, p1) > the floor: linear always passes.
+ *  2. With a common lambda v, D_v(t) = v D_1(t) + (1 - v) D_0(t) is affine
+ *     in v at each t, so min_t D_v is concave in v (a minimum of affine
+ *     functions) and above the floor at v = 0 (1.): the v that pass form an
+ *     interval [0, v*], and bisection on it (pair_common) finds a verified
+ *     member within 2^-40 of v*.
+ *  3. The rule: every lambda starts at 1; a pass visits each consecutive
+ *     pair and, where pair_ok() fails with its current lambdas, lowers both
+ *     to the largest common value (2.) not above either.  Lowering a pair
+ *     can break its neighbour (with unequal lambdas D is not a convex mix),
+ *     hence passes up and down the EEPs until one changes nothing (at most
+ *     TRAIL_AGE_PASSES; lambdas only decrease).  If that limit is reached
+ *     the interval takes one common lambda, the smallest any pair demands,
+ *     which every pair accepts by 2.
+ *  4. Whatever 3. ended with, every pair is checked once more with the
+ *     final lambdas (age_verified); if one fails, which 3. never leaves in
+ *     exact arithmetic, every lambda of the interval becomes 0, which passes
+ *     by 1.  So the stored slopes always satisfy pair_ok() at every pair.
+ * Floating point: the query evaluates each EEP's Hermite separately with
+ * the same weights; each sum is off by a few ulp of the log age (~1e-15
+ * dex), far below the floor (2^-10 of the smaller age step, which the
+ * default grid keeps above 1e-9 dex), so the computed ages increase
+ * strictly too.  Without the floor a bisected lambda leaves D as low as
+ * ~1e-12 of the step at its dip, where rounding can make two ages equal
+ * (as an early version did at 0.542 Msun, group 0).  tests/test_age_blend.c
+ * sweeps thousands of masses per interval of several grids and all types. */
 #define TRAIL_AGE_PASSES 256
+#define TRAIL_AGE_FLOOR (1.0 / 1024.0)
+
+/* The blended slope: lam d + (1 - lam) sec, stored and checked alike. */
+static inline double age_slope(double d, double sec, double lam) { return lam * d + (1.0 - lam) * sec; }
+
 static int pair_ok(const double *a0, const double *a1, double h, double l0, double l1)
 {
     double p0 = a1[0] - a0[0], p1 = a1[2] - a0[2];
     double c0 = (a0[2] - a0[0]) / h, c1 = (a1[2] - a1[0]) / h; /* secants of EEPs j, j + 1 */
-    double s0 = h * (l1 * a1[1] + (1.0 - l1) * c1 - l0 * a0[1] - (1.0 - l0) * c0);
-    double s1 = h * (l1 * a1[3] + (1.0 - l1) * c1 - l0 * a0[3] - (1.0 - l0) * c0);
-    return hermite_positive(p0, p1, s0, s1);
+    double s0 = h * (age_slope(a1[1], c1, l1) - age_slope(a0[1], c0, l0));
+    double s1 = h * (age_slope(a1[3], c1, l1) - age_slope(a0[3], c0, l0));
+    return hermite_above(p0, p1, s0, s1, TRAIL_AGE_FLOOR * (p0 < p1 ? p0 : p1));
 }
 
 /* Largest v in [0, hi] (to 2^-40) with pair_ok(v, v); 0 passes always. */
@@ -367,6 +388,15 @@ static int age_pass(const double *a, int ne, double h, double *lam)
     return changed;
 }
 
+/* Step 4 of the proof above: 1 if every pair passes with lam. */
+static int age_verified(const double *a, int ne, double h, const double *lam)
+{
+    for (int j = 0; j + 1 < ne; j++)
+        if (!pair_ok(a + 4 * j, a + 4 * j + 4, h, lam[j], lam[j + 1]))
+            return 0;
+    return 1;
+}
+
 /* The lambdas of interval i (lam: scratch of n_eep_max), stored in its
  * log-age slopes (age_interval). */
 static void age_blend(const hrt_grid *g, zgroup *gp, size_t i, double *lam)
@@ -389,10 +419,13 @@ static void age_blend(const hrt_grid *g, zgroup *gp, size_t i, double *lam)
         for (int j = 0; j < ne; j++)
             lam[j] = common;
     }
+    if (!age_verified(a, ne, h, lam))
+        for (int j = 0; j < ne; j++)
+            lam[j] = 0.0;
     for (int j = 0; j < ne; j++) {
         double *p = a + 4 * j, sec = (p[2] - p[0]) / h;
-        p[1] = lam[j] * p[1] + (1.0 - lam[j]) * sec;
-        p[3] = lam[j] * p[3] + (1.0 - lam[j]) * sec;
+        p[1] = age_slope(p[1], sec, lam[j]);
+        p[3] = age_slope(p[3], sec, lam[j]);
     }
 }
 
