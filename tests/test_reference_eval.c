@@ -2,12 +2,12 @@
  * hrt_eval against an independent implementation of its documented method
  * (tests/bench/gsl_ref.c, the benchmark's same-run reference): GSL's
  * Steffen interpolant (gsl_interp_steffen, GSL 2.7) across log initial mass
- * at every EEP, log age blended towards linear per interval between tracks
- * with the largest lambda that keeps it increasing (include/hrtrail/core.h,
- * hrt_grid_open_with, note 3; the reference finds lambda by minimising a
- * ratio with GSL's Brent minimiser, the library by bisecting a positivity
- * test), a bisection over the EEPs in log age and linear blending between
- * the two bracketing EEPs.
+ * at every EEP, log age blended towards linear per EEP between tracks where
+ * a pair of consecutive EEPs would not rise by the documented floor
+ * (include/hrtrail/core.h, hrt_grid_open_with, note 3; the reference finds
+ * a pair's lambda by minimising a ratio with GSL's Brent minimiser, the
+ * library by bisecting a test of its own), a bisection over the EEPs in log
+ * age and linear blending between the two bracketing EEPs.
  *
  * At every metallicity group of the default grid, 20,000 random on-track
  * stars of the route with the most tracks (all phases the sample reaches)
@@ -20,6 +20,7 @@
  */
 #include <check.h>
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 
 #include "bench/gsl_ref.h"
@@ -67,6 +68,8 @@ START_TEST(eval_matches_reference)
                       "log Teff %.3g, log R %.3g, log g %.3g dex, masses %.3g %.3g %.3g",
                       iz, hrt_grid_z(g, iz), bad, N, GSL_REF_TOL_LOG, GSL_REF_TOL_MASS, w[0], w[1], w[2], w[3], w[4],
                       w[5], w[6]);
+        printf("group %zu (Z = %g): largest difference log L %.3g, log Teff %.3g, log R %.3g, log g %.3g dex\n", iz,
+               hrt_grid_z(g, iz), w[0], w[1], w[2], w[3]);
         gsl_ref_free(r);
     }
     /* the blend is exercised: the default grid has intervals that need it */

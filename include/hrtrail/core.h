@@ -314,12 +314,17 @@ typedef struct hrt_grid hrt_grid; /**< opaque, immutable after open, shareable a
  *      one-sided slopes; hrtrail keeps one slope per knot there.
  *   3. Log age must increase along the EEPs of every interpolated star, or
  *      "the EEP at an age" would be ambiguous.  In each interval between two
- *      tracks, log age is interpolated with the weights lambda * (chosen
- *      type) + (1 - lambda) * (linear), lambda in [0, 1] the largest value
- *      that keeps it increasing at every mass of the interval (1 in most
- *      intervals; lower where fast phases have nearly equal ages at
- *      neighbouring EEPs).  Across [Fe/H], log age is linear for the same
- *      reason; the other quantities use the chosen type.
+ *      tracks, log age at EEP j is lambda_j * (chosen type) + (1 - lambda_j)
+ *      * (linear), each lambda_j in [0, 1]: 1 unless EEPs j and j + 1 would
+ *      not increase at some mass of the interval (by at least 1/1024 of the
+ *      smaller of the two tracks' steps from j to j + 1), and then both
+ *      lowered together to the largest common value that makes them,
+ *      repeated until every consecutive pair does at every mass of the
+ *      interval (1 at most EEPs; lower mostly at late EEPs where fast
+ *      phases have nearly equal ages at neighbouring EEPs; all 0, linear,
+ *      should a pair still fail).  Across [Fe/H],
+ *      log age is linear for the same reason; the other quantities use the
+ *      chosen type.
  *   4. Current and core masses are interpolated as fractions of the initial
  *      mass, so a star without mass loss keeps exactly its initial mass.
  *   5. Thread-safe (opens are independent); HDF5 must be built thread-safe

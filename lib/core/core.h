@@ -50,13 +50,10 @@ typedef struct zgroup {
                             * first EEP after it */
     uint16_t *age_tab;     /* [n_mass][TRAIL_AGE_TAB] EEP at the start of each log-age bin */
     double *age_tab_x;     /* [n_mass][2] first log age and bins per dex of the table */
-    /* [n_mass] interval (i, i+1): log age is interpolated with the weights
-     * lambda * (chosen type) + (1 - lambda) * (linear), lambda the largest
-     * value in [0, 1] for which log age increases with EEP at every mass of
-     * the interval (1 almost everywhere). */
-    double *age_lambda;
     /* [n_mass][n_eep_max][4]: log age value and slope of track i and of
-     * track i + 1 at each EEP, contiguous along EEPs, so that the age search
+     * track i + 1 at each EEP (the slopes blended towards the interval's
+     * secant per EEP so that log age increases with EEP at every mass of
+     * the interval: grid_prep.c, age_blend), contiguous along EEPs, so that the age search
      * of a star between them walks through neighbouring memory. */
     double *age_interval;
     double *age_dx_max;    /* [n_mass][2] largest log-mass step below / above a track for which

@@ -10,22 +10,14 @@
 #include "core/core.h"
 
 /* Weights of the interval m->i at log mass x: the grid's type for every
- * quantity, and for log age the blend lambda * (type) + (1 - lambda) *
- * (linear) that keeps ages increasing along the EEPs (grid_prep.c). */
+ * quantity, log age included (its slopes are blended towards linear per EEP
+ * where needed to keep ages increasing along the EEPs: grid_prep.c). */
 static inline void interval_weights(const hrt_grid *g, mctx *m, double x)
 {
     const double *lm = m->gp->logm;
     size_t i = m->i;
     trail_hermite_weights(g->interp, lm[i], lm[i + 1], x, m->w_val);
-    double lam = m->gp->age_lambda[i];
-    if (lam < 1.0) {
-        double wl[4];
-        trail_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], x, wl);
-        for (int c = 0; c < 4; c++)
-            m->w_age[c] = lam * m->w_val[c] + (1.0 - lam) * wl[c];
-    } else {
-        memcpy(m->w_age, m->w_val, sizeof m->w_val);
-    }
+    memcpy(m->w_age, m->w_val, sizeof m->w_val);
 }
 
 void trail_interval_weights(const hrt_grid *g, mctx *m, double x) { interval_weights(g, m, x); }

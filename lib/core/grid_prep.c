@@ -40,10 +40,11 @@ static int run_slopes(int interp, double *work, size_t n, const double *x, const
 }
 
 /* Is the cubic Hermite p(t) with end values p0, p1 > 0 and end slopes
- * s0, s1 (already multiplied by the interval width) positive on [0, 1]? */
-static int hermite_positive(double p0, double p1, double s0, double s1)
+ * s0, s1 (already multiplied by the interval width) above lo_bound (>= 0) on
+ * the whole of [0, 1]?  Its ends and its interior critical points decide. */
+static int hermite_above(double p0, double p1, double s0, double s1, double lo_bound)
 {
-    if (!(p0 > 0.0 && p1 > 0.0))
+    if (!(p0 > lo_bound && p1 > lo_bound))
         return 0;
     double a = 2.0 * (p0 - p1) + s0 + s1, b = 3.0 * (p1 - p0) - 2.0 * s0 - s1, c = s0;
     /* p'(t) = 3a t^2 + 2b t + c */
@@ -64,7 +65,7 @@ static int hermite_positive(double p0, double p1, double s0, double s1)
         double t = roots[k];
         if (t > 0.0 && t < 1.0) {
             double p = ((a * t + b) * t + c) * t + p0;
-            if (!(p > 0.0))
+            if (!(p > lo_bound))
                 return 0;
         }
     }
@@ -148,11 +149,10 @@ static int fill_group(const hrt_grid *g, const trail_file_group *fg, zgroup *gp,
     gp->runs = calloc(nm * J * 2, sizeof(int32_t));
     gp->age_tab = calloc(nm * TRAIL_AGE_TAB, sizeof(uint16_t));
     gp->age_tab_x = calloc(nm * 2, sizeof(double));
-    gp->age_lambda = calloc(nm + 1, sizeof(double));
     gp->age_dx_max = calloc(2 * (nm + 1), sizeof(double));
     gp->age_interval = calloc(nm * J * 4, sizeof(double));
     if (!gp->mass || !gp->logm || !gp->route || !gp->n_eep || !gp->remnant || !gp->remnant_knots || !gp->boundary ||
-        !gp->knots || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_lambda || !gp->age_dx_max ||
+        !gp->knots || !gp->phase || !gp->runs || !gp->age_tab || !gp->age_tab_x || !gp->age_dx_max ||
         !gp->age_interval)
         return HRT_E_NOMEM;
     advise_huge(gp->knots, (size_t)NQ * J * (nm + 1) * 2 * sizeof(double));
@@ -349,52 +349,165 @@ static void age_table(const hrt_grid *g, zgroup *gp, size_t i)
 }
 
 /* Log age across interval (i, i + 1) must increase with EEP for every mass
- * inside it.  The difference of consecutive EEPs' interpolants is a cubic
- * Hermite; blending the weights towards linear (positive, since both
- * tracks' ages increase) scales its slopes towards the secant: the largest
- * blend lambda that stays positive at every EEP. */
-static double age_lambda(const hrt_grid *g, const zgroup *gp, size_t i)
+ * inside it.  Each EEP j has its own blend lambda_j in [0, 1], stored in its
+ * slopes across the interval: d <- lambda_j d + (1 - lambda_j) sec_j at both
+ * tracks (sec_j its secant across the interval; age_slope).  A cubic
+ * Hermite with both slopes equal to the secant is the linear interpolant,
+ * and the Hermite is linear in its slopes, so the stored interpolant at EEP
+ * j is exactly lambda_j (chosen type) + (1 - lambda_j) (linear): a convex
+ * mix that keeps the knot values, and the query path only ever sees
+ * ordinary slopes.
+ *
+ * Why consecutive EEPs stay increasing (a proof, not a hope).  The
+ * difference D(t) of EEPs j + 1 and j at t = (x - x_i) / h in [0, 1] is
+ * itself a cubic Hermite: end values p0, p1 (the two tracks' age steps, > 0:
+ * the reader refuses tracks whose ages do not increase) and end slopes the
+ * differences of the blended slopes.  pair_ok() accepts a pair only if D
+ * stays above the floor kappa min(p0, p1) (kappa = TRAIL_AGE_FLOOR) on the
+ * whole of [0, 1] (hermite_above: ends and interior critical points).
+ *  1. With both lambdas 0 (linear at both EEPs) D(t) = (1 - t) p0 + t p1 >=
+ *     min(p0, p1) > the floor: linear always passes.
+ *  2. With a common lambda v, D_v(t) = v D_1(t) + (1 - v) D_0(t) is affine
+ *     in v at each t, so min_t D_v is concave in v (a minimum of affine
+ *     functions) and above the floor at v = 0 (1.): the v that pass form an
+ *     interval [0, v*], and bisection on it (pair_common) finds a verified
+ *     member within 2^-40 of v*.
+ *  3. The rule: every lambda starts at 1; a pass visits each consecutive
+ *     pair and, where pair_ok() fails with its current lambdas, lowers both
+ *     to the largest common value (2.) not above either.  Lowering a pair
+ *     can break its neighbour (with unequal lambdas D is not a convex mix),
+ *     hence passes up and down the EEPs until one changes nothing (at most
+ *     TRAIL_AGE_PASSES; lambdas only decrease).  If that limit is reached
+ *     the interval takes one common lambda, the smallest any pair demands,
+ *     which every pair accepts by 2.
+ *  4. Whatever 3. ended with, every pair is checked once more with the
+ *     final lambdas (age_verified); if one fails, which 3. never leaves in
+ *     exact arithmetic, every lambda of the interval becomes 0, which passes
+ *     by 1.  So the stored slopes always satisfy pair_ok() at every pair.
+ * Floating point: the query evaluates each EEP's Hermite separately with
+ * the same weights; each sum is off by a few ulp of the log age (~1e-15
+ * dex), far below the floor (2^-10 of the smaller age step, which the
+ * default grid keeps above 1e-9 dex), so the computed ages increase
+ * strictly too.  Without the floor a bisected lambda leaves D as low as
+ * ~1e-12 of the step at its dip, where rounding can make two ages equal
+ * (as an early version did at 0.542 Msun, group 0).  tests/test_age_blend.c
+ * sweeps thousands of masses per interval of several grids and all types. */
+#define TRAIL_AGE_PASSES 256
+#define TRAIL_AGE_FLOOR (1.0 / 1024.0)
+
+/* The blended slope: lam d + (1 - lam) sec, stored and checked alike. */
+static inline double age_slope(double d, double sec, double lam) { return lam * d + (1.0 - lam) * sec; }
+
+static int pair_ok(const double *a0, const double *a1, double h, double l0, double l1)
 {
-    double lam = 1.0;
-    if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
-        return lam;
-    double h = gp->logm[i + 1] - gp->logm[i];
-    int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
-    for (int j = 0; j + 1 < ne; j++) {
-        const double *a0 = trail_knot(gp, (size_t)j, i, Q_AGE), *a1 = trail_knot(gp, (size_t)j + 1, i, Q_AGE);
-        const double *b0 = a0 + 2 * NQ, *b1 = a1 + 2 * NQ; /* track i + 1 */
-        double p0 = a1[0] - a0[0], p1 = b1[0] - b0[0];
-        double s0 = h * (a1[1] - a0[1]), s1 = h * (b1[1] - b0[1]), sec = p1 - p0;
-        if (hermite_positive(p0, p1, lam * s0 + (1.0 - lam) * sec, lam * s1 + (1.0 - lam) * sec))
-            continue;
-        double lo = 0.0, hi = lam; /* positive at lo, not at hi */
-        for (int it = 0; it < 40; it++) {
-            double mid = 0.5 * (lo + hi);
-            if (hermite_positive(p0, p1, mid * s0 + (1.0 - mid) * sec, mid * s1 + (1.0 - mid) * sec))
-                lo = mid;
-            else
-                hi = mid;
-        }
-        lam = lo;
-    }
-    return lam;
+    double p0 = a1[0] - a0[0], p1 = a1[2] - a0[2];
+    double c0 = (a0[2] - a0[0]) / h, c1 = (a1[2] - a1[0]) / h; /* secants of EEPs j, j + 1 */
+    double s0 = h * (age_slope(a1[1], c1, l1) - age_slope(a0[1], c0, l0));
+    double s1 = h * (age_slope(a1[3], c1, l1) - age_slope(a0[3], c0, l0));
+    return hermite_above(p0, p1, s0, s1, TRAIL_AGE_FLOOR * (p0 < p1 ? p0 : p1));
 }
 
-/* Extrapolation beyond a route's end track i: y_j + d_j dx must keep
- * increasing with j; |dx| is kept to half the largest step that does. */
-static void extrapolation_limits(zgroup *gp, size_t i)
+/* Largest v in [0, hi] (to 2^-40) with pair_ok(v, v); 0 passes always. */
+static double pair_common(const double *a0, const double *a1, double h, double hi)
 {
+    if (pair_ok(a0, a1, h, hi, hi))
+        return hi;
+    double lo = 0.0;
+    for (int it = 0; it < 40; it++) {
+        double mid = 0.5 * (lo + hi);
+        if (pair_ok(a0, a1, h, mid, mid))
+            lo = mid;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
+/* Lower the lambdas of pair j if it does not increase: 1 if it did. */
+static int age_fix(const double *a, int j, double h, double *lam)
+{
+    const double *a0 = a + 4 * j, *a1 = a0 + 4;
+    if (pair_ok(a0, a1, h, lam[j], lam[j + 1]))
+        return 0;
+    double v = pair_common(a0, a1, h, lam[j] < lam[j + 1] ? lam[j] : lam[j + 1]);
+    lam[j] = lam[j + 1] = v;
+    return 1;
+}
+
+/* One pass of the rule above over EEPs [0, ne), up then down (a lowered
+ * lambda can break the pair below it): 1 if a lambda changed. */
+static int age_pass(const double *a, int ne, double h, double *lam)
+{
+    int changed = 0;
+    for (int j = 0; j + 1 < ne; j++)
+        changed |= age_fix(a, j, h, lam);
+    for (int j = ne - 2; j >= 0; j--)
+        changed |= age_fix(a, j, h, lam);
+    return changed;
+}
+
+/* Step 4 of the proof above: 1 if every pair passes with lam. */
+static int age_verified(const double *a, int ne, double h, const double *lam)
+{
+    for (int j = 0; j + 1 < ne; j++)
+        if (!pair_ok(a + 4 * j, a + 4 * j + 4, h, lam[j], lam[j + 1]))
+            return 0;
+    return 1;
+}
+
+/* The lambdas of interval i (lam: scratch of n_eep_max), stored in its
+ * log-age slopes (age_interval). */
+static void age_blend(const hrt_grid *g, zgroup *gp, size_t i, double *lam)
+{
+    if (g->interp == HRT_INTERP_LINEAR || gp->route[i] != gp->route[i + 1])
+        return;
+    size_t J = g->n_eep_max;
+    double h = gp->logm[i + 1] - gp->logm[i];
+    int ne = gp->n_eep[i] < gp->n_eep[i + 1] ? gp->n_eep[i] : gp->n_eep[i + 1];
+    double *a = gp->age_interval + i * J * 4;
+    for (int j = 0; j < ne; j++)
+        lam[j] = 1.0;
+    int pass = 0;
+    while (age_pass(a, ne, h, lam) && ++pass < TRAIL_AGE_PASSES)
+        ;
+    if (pass == TRAIL_AGE_PASSES) {
+        double common = 1.0;
+        for (int j = 0; j + 1 < ne; j++)
+            common = pair_common(a + 4 * j, a + 4 * j + 4, h, common);
+        for (int j = 0; j < ne; j++)
+            lam[j] = common;
+    }
+    if (!age_verified(a, ne, h, lam))
+        for (int j = 0; j < ne; j++)
+            lam[j] = 0.0;
+    for (int j = 0; j < ne; j++) {
+        double *p = a + 4 * j, sec = (p[2] - p[0]) / h;
+        p[1] = age_slope(p[1], sec, lam[j]);
+        p[3] = age_slope(p[3], sec, lam[j]);
+    }
+}
+
+/* Extrapolation beyond a route's end track k: y_j + d_j dx must keep
+ * increasing with j; |dx| is kept to half the largest step that does.  The
+ * slopes are the ones extrapolation uses (eval.c mass_ctx): below track k
+ * its left-end slopes in interval k, above it its right-end slopes in
+ * interval k - 1 (both blended by age_blend). */
+static void extrapolation_limits(const hrt_grid *g, zgroup *gp, size_t k)
+{
+    size_t J = g->n_eep_max;
+    const double *lo = gp->age_interval + k * J * 4;                     /* value a[0], slope a[1] */
+    const double *hi = k > 0 ? gp->age_interval + (k - 1) * J * 4 + 2 : lo; /* value, slope at k */
     double up = INFINITY, dn = INFINITY;
-    for (int j = 0; j + 1 < gp->n_eep[i]; j++) {
-        const double *a0 = trail_knot(gp, (size_t)j, i, Q_AGE), *a1 = trail_knot(gp, (size_t)j + 1, i, Q_AGE);
-        double dy = a1[0] - a0[0], dd = a1[1] - a0[1];
-        if (dd < 0.0 && dy / -dd < up)
-            up = dy / -dd;
+    for (int j = 0; j + 1 < gp->n_eep[k]; j++) {
+        double dy = lo[4 * j + 4] - lo[4 * j];
+        double dd = lo[4 * j + 5] - lo[4 * j + 1], du = hi[4 * j + 5] - hi[4 * j + 1];
+        if (du < 0.0 && dy / -du < up)
+            up = dy / -du;
         if (dd > 0.0 && dy / dd < dn)
             dn = dy / dd;
     }
-    gp->age_dx_max[2 * i] = 0.5 * dn;
-    gp->age_dx_max[2 * i + 1] = 0.5 * up;
+    gp->age_dx_max[2 * k] = 0.5 * dn;
+    gp->age_dx_max[2 * k + 1] = 0.5 * up;
 }
 
 /* The log mass -> track table (zgroup.mass_bin): TRAIL_MASS_BINS bins per
@@ -439,11 +552,16 @@ static int prepare_group(const hrt_grid *g, zgroup *gp, run_buf *rb)
     if (rc != HRT_OK)
         return rc;
     age_intervals(g, gp);
+    double *lam = malloc(g->n_eep_max * sizeof(double));
+    if (!lam)
+        return HRT_E_NOMEM;
+    for (size_t i = 0; i + 1 < gp->n_mass; i++)
+        age_blend(g, gp, i, lam);
+    free(lam);
     for (size_t i = 0; i < gp->n_mass; i++) {
         phase_runs(g, gp, i);
         age_table(g, gp, i);
-        extrapolation_limits(gp, i);
-        gp->age_lambda[i] = i + 1 < gp->n_mass ? age_lambda(g, gp, i) : 1.0;
+        extrapolation_limits(g, gp, i);
     }
     return HRT_OK;
 }
@@ -507,7 +625,6 @@ void trail_grid_free_contents(hrt_grid *g)
         free(gp->runs);
         free(gp->age_tab);
         free(gp->age_tab_x);
-        free(gp->age_lambda);
         free(gp->age_dx_max);
         free(gp->age_interval);
         free(gp->mass_bin);

@@ -9,17 +9,20 @@
  *
  * Log age across mass follows the library's documented rule
  * (include/hrtrail/core.h, hrt_grid_open_with, note 3): in each interval
- * between two tracks it is lambda * (Steffen) + (1 - lambda) * (linear),
- * lambda in [0, 1] the largest value that keeps log age increasing along
- * the EEPs at every mass of the interval.  Without that blend (as this file
- * first was) the reference differed from hrt_eval by up to 0.066 dex in log
- * L on 37 % of the benchmark's stars: every star in an interval whose
- * lambda is below 1.  lambda is found here independently of the library:
- * the cubic pieces come from GSL's own evaluation (value and derivative at
- * the interval's ends), and lambda is the minimum over the interval of the
- * ratio at which the blend of the two consecutive EEPs' age differences
- * reaches zero (GSL's Brent minimiser), where the library bisects on a
- * positivity test.  It prints nothing and asserts nothing: bench.c times it
+ * between two tracks it is lambda_j * (Steffen) + (1 - lambda_j) * (linear)
+ * at EEP j, each lambda_j in [0, 1]: 1 unless a pair of consecutive EEPs
+ * would not increase (by at least 1/1024 of the smaller of the two tracks'
+ * steps there) at some mass of the interval, and then both lowered together
+ * until every pair does (lambdas_of).  Without a blend (as
+ * this file first was) the reference differed from hrt_eval by up to 0.066
+ * dex in log L on 37 % of the benchmark's stars.  The lambdas are found
+ * here independently of the library: the cubic pieces come from GSL's own
+ * evaluation (value and derivative at the interval's ends), a pair's common
+ * lambda is the minimum over the interval of the ratio at which the blend
+ * of the two consecutive EEPs' age differences reaches the floor (GSL's Brent
+ * minimiser), and a pair's increase under two different lambdas is tested
+ * at the critical points GSL's quadratic solver gives, where the library
+ * bisects on a positivity test of its own.  It prints nothing and asserts nothing: bench.c times it
  * beside hrt_eval on the same stars, and tests/test_reference_eval.c checks
  * that both agree. */
 #include <math.h>
@@ -39,7 +42,7 @@ struct gsl_ref {
     double *x;              /* [n] log10 initial mass */
     double *y;              /* [J][R_NQ][n] knot values */
     gsl_interp **it;        /* [J][R_NQ] */
-    double *lam;            /* [n - 1] log-age blend of each interval */
+    double *lam;            /* [n - 1][J] log-age blend of each interval and EEP */
     double lo, hi;          /* mass range */
 };
 
@@ -47,14 +50,20 @@ static double *knots(gsl_ref *r, size_t j, int q) { return r->y + (j * R_NQ + (s
 
 static double at(const gsl_ref *r, size_t j, int q, double x);
 
+/* The documented floor (include/hrtrail/core.h, note 3): at every mass of
+ * an interval, log age must rise from EEP j to j + 1 by at least this
+ * fraction of the smaller of the two tracks' rises there. */
+#define R_AGE_FLOOR (1.0 / 1024.0)
+
 /* One interval [x0, x0 + h] and EEPs j, j + 1: the Steffen difference
  * D(t) = A_{j+1} - A_j of log age at x0 + t h, and its linear
- * interpolant L(t); ratio(t) is the largest blend lambda with
- * lambda D(t) + (1 - lambda) L(t) > 0 (1 where D(t) >= 0). */
+ * interpolant L(t) (>= min of its ends > the floor f); ratio(t) is the
+ * largest blend lambda with lambda D(t) + (1 - lambda) L(t) >= f (1 where
+ * D(t) >= f). */
 typedef struct lam_ctx {
     const gsl_ref *r;
     size_t j;
-    double x0, h, l0, l1;
+    double x0, h, l0, l1, f;
 } lam_ctx;
 
 static double lam_ratio(double t, void *p)
@@ -63,7 +72,7 @@ static double lam_ratio(double t, void *p)
     double x = c->x0 + t * c->h;
     double d = at(c->r, c->j + 1, R_AGE, x) - at(c->r, c->j, R_AGE, x);
     double l = c->l0 + t * (c->l1 - c->l0);
-    return d >= 0.0 ? 1.0 : l / (l - d);
+    return d >= c->f ? 1.0 : (l - c->f) / (l - d);
 }
 
 /* lambda of interval i demanded by EEPs j, j + 1: the minimum of lam_ratio
@@ -74,7 +83,7 @@ static double lam_ratio(double t, void *p)
  * Brent minimiser. */
 static double lam_pair(const gsl_ref *r, size_t i, size_t j, gsl_min_fminimizer *mn)
 {
-    lam_ctx c = {r, j, r->x[i], r->x[i + 1] - r->x[i], 0.0, 0.0};
+    lam_ctx c = {r, j, r->x[i], r->x[i + 1] - r->x[i], 0.0, 0.0, 0.0};
     double v[2], d[2];
     for (int e = 0; e < 2; e++) {
         double x = r->x[i + (size_t)e];
@@ -86,6 +95,7 @@ static double lam_pair(const gsl_ref *r, size_t i, size_t j, gsl_min_fminimizer 
     }
     c.l0 = v[0];
     c.l1 = v[1];
+    c.f = R_AGE_FLOOR * (v[0] < v[1] ? v[0] : v[1]);
     /* D(t) = v0 + d0 t + B t^2 + A t^3 (cubic Hermite); D'(t) = 0 */
     double A = 2.0 * (v[0] - v[1]) + d[0] + d[1], B = 3.0 * (v[1] - v[0]) - 2.0 * d[0] - d[1];
     double tc[4] = {0.0, 1.0, -1.0, -1.0};
@@ -125,24 +135,92 @@ static double lam_pair(const gsl_ref *r, size_t i, size_t j, gsl_min_fminimizer 
     return f < best ? f : best;
 }
 
+/* Does log age increase from EEP j to j + 1 by more than the floor at
+ * every mass of interval i when EEP j is blended with la and j + 1 with lb?  The difference is a
+ * cubic in t (Steffen's pieces are cubic, the linear parts linear): its
+ * value and derivative at the ends from GSL, its interior critical points
+ * from gsl_poly_solve_quadratic. */
+static int pair_pos(const gsl_ref *r, size_t i, size_t j, double la, double lb)
+{
+    double h = r->x[i + 1] - r->x[i], v[2], d[2];
+    const double *ya = knots((gsl_ref *)r, j, R_AGE), *yb = knots((gsl_ref *)r, j + 1, R_AGE);
+    double ca = (ya[i + 1] - ya[i]) / h, cb = (yb[i + 1] - yb[i]) / h;
+    const gsl_interp *ia = r->it[j * R_NQ + R_AGE], *ib = r->it[(j + 1) * R_NQ + R_AGE];
+    for (int e = 0; e < 2; e++) {
+        double x = r->x[i + (size_t)e];
+        v[e] = yb[i + (size_t)e] - ya[i + (size_t)e];
+        d[e] = h * (lb * gsl_interp_eval_deriv(ib, r->x, yb, x, NULL) + (1.0 - lb) * cb -
+                    la * gsl_interp_eval_deriv(ia, r->x, ya, x, NULL) - (1.0 - la) * ca);
+    }
+    if (!(v[0] > 0.0 && v[1] > 0.0))
+        return 0;
+    double f = R_AGE_FLOOR * (v[0] < v[1] ? v[0] : v[1]);
+    double A = 2.0 * (v[0] - v[1]) + d[0] + d[1], B = 3.0 * (v[1] - v[0]) - 2.0 * d[0] - d[1];
+    double tc[2];
+    int nc = gsl_poly_solve_quadratic(3.0 * A, 2.0 * B, d[0], &tc[0], &tc[1]);
+    for (int k = 0; k < nc; k++)
+        if (tc[k] > 0.0 && tc[k] < 1.0 && !(v[0] + tc[k] * (d[0] + tc[k] * (B + tc[k] * A)) > f))
+            return 0;
+    return 1;
+}
+
+/* The per-EEP rule of the library (include/hrtrail/core.h, note 3):
+ * every EEP's lambda starts at 1; a pass lowers both lambdas of each pair
+ * that does not increase to the largest common value that makes it
+ * increase (lam_pair, never above either); passes repeat until one changes
+ * nothing, each going up the EEPs then down (after 256, one common lambda
+ * for the interval); if a pair then fails with its final lambdas, the whole
+ * interval is linear (lambda 0, which always passes). */
+static void lambdas_of(gsl_ref *r, size_t i, double *lam, gsl_min_fminimizer *mn)
+{
+    for (size_t j = 0; j < r->J; j++)
+        lam[j] = 1.0;
+    int changed = 1;
+    for (int pass = 0; changed && pass < 256; pass++) {
+        changed = 0;
+        for (size_t k = 0; k + 2 < 2 * r->J; k++) {
+            size_t j = k + 1 < r->J ? k : 2 * r->J - 3 - k; /* up 0 .. J - 2, then down J - 2 .. 0 */
+            if (pair_pos(r, i, j, lam[j], lam[j + 1]))
+                continue;
+            double c = lam[j] < lam[j + 1] ? lam[j] : lam[j + 1];
+            double v = lam_pair(r, i, j, mn) * (1.0 - 1e-12); /* just inside the common bound */
+            if (v < c) {
+                lam[j] = lam[j + 1] = v;
+                changed = 1;
+            } else {
+                lam[j] = lam[j + 1] = c;
+            }
+        }
+    }
+    if (changed) {
+        double common = 1.0;
+        for (size_t j = 0; j + 1 < r->J; j++) {
+            double l = lam_pair(r, i, j, mn) * (1.0 - 1e-12);
+            common = l < common ? l : common;
+        }
+        for (size_t j = 0; j < r->J; j++)
+            lam[j] = common;
+    }
+    for (size_t j = 0; j + 1 < r->J; j++)
+        if (!pair_pos(r, i, j, lam[j], lam[j + 1])) {
+            for (size_t k = 0; k < r->J; k++)
+                lam[k] = 0.0;
+            break;
+        }
+}
+
 static void lambdas(gsl_ref *r)
 {
     gsl_min_fminimizer *mn = gsl_min_fminimizer_alloc(gsl_min_fminimizer_brent);
-    for (size_t i = 0; i + 1 < r->n; i++) {
-        double lam = 1.0;
-        for (size_t j = 0; j + 1 < r->J; j++) {
-            double l = lam_pair(r, i, j, mn);
-            lam = l < lam ? l : lam;
-        }
-        r->lam[i] = lam;
-    }
+    for (size_t i = 0; i + 1 < r->n; i++)
+        lambdas_of(r, i, r->lam + i * r->J, mn);
     gsl_min_fminimizer_free(mn);
 }
 
 /* Log age at EEP j at log mass x in interval i: the blend above. */
 static double age_at(const gsl_ref *r, size_t i, size_t j, double x)
 {
-    double s = at(r, j, R_AGE, x), lam = r->lam[i];
+    double s = at(r, j, R_AGE, x), lam = r->lam[i * r->J + j];
     if (lam >= 1.0)
         return s;
     const double *y = knots((gsl_ref *)r, j, R_AGE);
@@ -206,7 +284,7 @@ gsl_ref *gsl_ref_new(const hrt_grid *g, size_t iz)
             gsl_interp_init(it, r->x, knots(r, j, q), r->n);
             r->it[j * R_NQ + (size_t)q] = it;
         }
-    r->lam = malloc((r->n - 1) * sizeof(double));
+    r->lam = malloc((r->n - 1) * r->J * sizeof(double));
     lambdas(r);
     return r;
 }
@@ -301,9 +379,14 @@ size_t gsl_ref_n_blended(const gsl_ref *r, double *lambda_min)
     size_t nb = 0;
     *lambda_min = 1.0;
     for (size_t i = 0; i + 1 < r->n; i++) {
-        nb += r->lam[i] < 1.0;
-        if (r->lam[i] < *lambda_min)
-            *lambda_min = r->lam[i];
+        int any = 0;
+        for (size_t j = 0; j < r->J; j++) {
+            double l = r->lam[i * r->J + j];
+            any |= l < 1.0;
+            if (l < *lambda_min)
+                *lambda_min = l;
+        }
+        nb += (size_t)any;
     }
     return nb;
 }

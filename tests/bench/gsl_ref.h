@@ -13,19 +13,22 @@ void gsl_ref_free(gsl_ref *r);
 void gsl_ref_mass_range(const gsl_ref *r, double *lo, double *hi);
 void gsl_ref_age_range(const gsl_ref *r, double m, double *lt0, double *lt1);
 void gsl_ref_eval(const gsl_ref *r, size_t n, const double *mass, const double *age_yr, double *out);
-/* Intervals between the route's tracks whose log age blends towards
- * linear (lambda < 1), and the smallest lambda. */
+/* Intervals between the route's tracks where log age blends towards
+ * linear (lambda < 1 at one EEP or more), and the smallest lambda. */
 size_t gsl_ref_n_blended(const gsl_ref *r, double *lambda_min);
 
 /* How closely hrt_eval and the reference agree.  Both compute the same
- * documented method in double precision; they differ only in lambda, the
- * largest blend that keeps log age increasing: it is decided by EEP pairs
- * whose log ages differ by ~1e-8 dex (thermally pulsing AGB), where the
- * blended difference touches zero to rounding (1e-15), so each side's
- * lambda is good to ~1e-8 (0.2-4e-8 apart on the default grid), which
- * moves log age by <= 2e-10 and the steepest quantity (log g) by 1.2e-8
- * dex.  Tolerances: 5e-8 dex for the logarithmic quantities, 1e-9 of the
- * initial mass for the masses. */
+ * documented method in double precision; they differ only in the lambdas
+ * of the log-age blend, each side finding them its own way.  When the rule
+ * asked only that log age increase, a lambda was decided where the blended
+ * difference of two EEPs touched zero to rounding (1e-15 against steps of
+ * ~1e-8 dex on the thermally pulsing AGB), so each side's lambda was good
+ * to ~1e-8 and the two agreed to 4.2e-9 dex in log L and 1.2e-8 in log g.
+ * With the floor (a rise of 1/1024 of the tracks' smaller step) the
+ * lambdas are well conditioned: on the default grid (December 2026) the
+ * largest differences are 5.6e-13 dex in log L and 1.3e-12 in log g.  The
+ * tolerances stay where they were: 5e-8 dex for the logarithmic
+ * quantities, 1e-9 of the initial mass for the masses. */
 #define GSL_REF_TOL_LOG 5e-8
 #define GSL_REF_TOL_MASS 1e-9
 /* Compare n states with the reference's out (gsl_ref_eval): the largest
