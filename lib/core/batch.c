@@ -19,7 +19,8 @@
 /* Batches below this size are evaluated in the caller's order (unless of
  * one metallicity, below): bucketing pays for itself only when many stars
  * share a mass interval, and with metallicities spread its scratch (about
- * 240 bytes per star) costs more than it saves (measured). */
+ * 240 bytes per star when it held a copy of the states, 32 now) cost more
+ * than it saved (measured). */
 #define BATCH_MIN 16384
 /* Batches of one metallicity are bucketed from this size on: their stars
  * share mass intervals, whose runs the kernel (lockstep.c) evaluates with
@@ -48,38 +49,34 @@ static uint32_t lead_bits(double x)
 typedef struct bucket_scratch {
     uint32_t *key, *order, *count;
     double *m, *z, *age; /* a chunk's inputs in bucket order */
-    hrt_state *st;       /* its states, in the same order */
 } bucket_scratch;
 
-/* Range of the non-zero values in v[0 .. n - 1] (0, 0 if none); the zeros
- * (stars that will fail) are moved to the bottom of the range. */
-static void key_range(uint32_t *v, size_t n, uint32_t *lo, uint32_t *hi)
+/* Keys of x[a .. a + n - 1] into v, and the range of the non-zero ones
+ * (0, 0 if none; a zero, a star that will fail, is bucketed as the bottom
+ * of the range). */
+static void keys_of(const double *x, size_t a, size_t n, uint32_t *v, uint32_t *lo, uint32_t *hi)
 {
-    *lo = UINT32_MAX;
-    *hi = 0;
+    uint32_t l = UINT32_MAX, h = 0;
     for (size_t k = 0; k < n; k++) {
-        if (v[k] && v[k] < *lo)
-            *lo = v[k];
-        *hi = v[k] > *hi ? v[k] : *hi;
+        uint32_t b = lead_bits(x[a + k]);
+        v[k] = b;
+        l = b && b < l ? b : l;
+        h = b > h ? b : h;
     }
-    if (*hi == 0)
-        *lo = 0;
-    for (size_t k = 0; k < n; k++)
-        v[k] = v[k] ? v[k] : *lo;
+    *lo = h == 0 ? 0 : l;
+    *hi = h;
 }
 
-/* Stars [a, a + n) in bucket order: by Z key, then mass key.  Keys are
- * shifted right until the chunk's buckets number at most MAX_BUCKETS. */
+/* Stars [a, a + n) in bucket order: by Z key, then mass key (by mass alone
+ * when z is NULL: one metallicity).  Keys are shifted right until the
+ * chunk's buckets number at most MAX_BUCKETS. */
 static void bucket_chunk(size_t a, size_t n, const double *mass, const double *z, bucket_scratch *b)
 {
     uint32_t *mk = b->key, *zk = b->order; /* order holds the Z keys until the scatter */
-    for (size_t k = 0; k < n; k++) {
-        mk[k] = lead_bits(mass[a + k]);
-        zk[k] = z ? lead_bits(z[a + k]) : 0;
-    }
-    uint32_t mlo, mhi, zlo, zhi;
-    key_range(mk, n, &mlo, &mhi);
-    key_range(zk, n, &zlo, &zhi);
+    uint32_t mlo, mhi, zlo = 0, zhi = 0;
+    keys_of(mass, a, n, mk, &mlo, &mhi);
+    if (z)
+        keys_of(z, a, n, zk, &zlo, &zhi);
     unsigned ms = 0, zs = 0;
     while ((uint64_t)((mhi - mlo) >> ms) + 1 > 256u)
         ms++;
@@ -89,7 +86,8 @@ static void bucket_chunk(size_t a, size_t n, const double *mass, const double *z
     uint32_t nb = (((zhi - zlo) >> zs) + 1) * nm;
     memset(b->count, 0, (nb + 1) * sizeof *b->count);
     for (size_t k = 0; k < n; k++) {
-        mk[k] = ((zk[k] - zlo) >> zs) * nm + ((mk[k] - mlo) >> ms);
+        uint32_t mv = mk[k] ? mk[k] : mlo, zv = z && zk[k] ? zk[k] : zlo;
+        mk[k] = ((zv - zlo) >> zs) * nm + ((mv - mlo) >> ms);
         b->count[mk[k] + 1]++;
     }
     for (uint32_t k = 0; k < nb; k++)
@@ -113,7 +111,6 @@ static void scratch_free(bucket_scratch *b)
     free(b->order);
     free(b->count);
     free(b->m);
-    free(b->st);
 }
 
 /* The first failing star in the caller's order and its message, as the
@@ -141,16 +138,16 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     if (!g || !mass_msun || !age_yr || !out)
         return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
                                !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
-    bucket_scratch b = {NULL, NULL, NULL, NULL, NULL, NULL, NULL};
-    if (n <= UINT32_MAX && (n >= BATCH_MIN || (n >= BATCH_MIN_ONE_Z && one_z(n, z)))) {
+    bucket_scratch b = {NULL, NULL, NULL, NULL, NULL, NULL};
+    int single_z = 0; /* every star at one metallicity: bucketed by mass alone */
+    if (n <= UINT32_MAX && n >= BATCH_MIN_ONE_Z && ((single_z = one_z(n, z)) || n >= BATCH_MIN)) {
         size_t c = n < BATCH_CHUNK ? n : BATCH_CHUNK;
         b.key = malloc(c * sizeof *b.key);
         b.order = malloc(c * sizeof *b.order);
         b.count = malloc((MAX_BUCKETS + 1) * sizeof *b.count);
         b.m = malloc(3 * c * sizeof *b.m);
-        b.st = malloc(c * sizeof *b.st);
     }
-    if (!b.key || !b.order || !b.count || !b.m || !b.st) {
+    if (!b.key || !b.order || !b.count || !b.m) {
         /* small batch, or no memory for the scratch: the caller's order */
         scratch_free(&b);
         return trail_eval_run(g, n, NULL, mass_msun, z, z_all, age_yr, out, err);
@@ -158,7 +155,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     int failed = 0;
     for (size_t a = 0; a < n; a += BATCH_CHUNK) {
         size_t c = n - a < BATCH_CHUNK ? n - a : BATCH_CHUNK;
-        bucket_chunk(a, c, mass_msun, z, &b);
+        bucket_chunk(a, c, mass_msun, single_z ? NULL : z, &b);
         /* inputs read and states written one after another: only the
          * gather and the scatter touch the caller's arrays out of order */
         double *bz = b.m + c, *bage = b.m + 2 * c;
@@ -168,10 +165,9 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
             bz[k] = z ? z[i] : z_all;
             bage[k] = age_yr[i];
         }
-        if (trail_eval_lockstep(g, c, b.m, bz, bage, b.st) != HRT_OK)
+        /* each state stored straight at its star's place */
+        if (trail_eval_lockstep_to(g, c, b.m, bz, bage, out, b.order) != HRT_OK)
             failed = 1;
-        for (size_t k = 0; k < c; k++)
-            out[b.order[k]] = b.st[k];
     }
     scratch_free(&b);
     if (!failed) {

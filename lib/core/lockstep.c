@@ -39,6 +39,15 @@ typedef struct run_ctx {
     double x_lo, x_hi;  /* log masses of its two tracks */
     const double *ages; /* log-age knots of the interval, [J][4] */
     int n;              /* EEPs of the interpolated star */
+    int interp;         /* the grid's interpolation type */
+    double lam;         /* the interval's log-age blend (eval.c's interval_weights) */
+    /* the remnant for either nearest track (side 0: track i, 1: track
+     * i + 1), what trail_q_remnant finds from the same data: its kind,
+     * whether it is a white dwarf, whether each of the two tracks leaves
+     * the same family of remnant, the nearest track's remnant mass */
+    int rkind[2], rwd[2], rsame[2][2];
+    double rnear[2];
+    const double *rknots; /* remnant_knots of the interval, [2][2] */
 } run_ctx;
 
 /* Where a star of a block is: on its track, before or after it (in the
@@ -141,18 +150,48 @@ static inline void lane_values(const run_ctx *r, const double *w, int j, double 
         v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
 }
 
+/* The weights of a star at log mass x: eval.c's interval_weights, the same
+ * operations on the run's copy of the interval's numbers. */
+static inline void lane_weights(const run_ctx *r, lane *s, double x)
+{
+    trail_hermite_weights(r->interp, r->x_lo, r->x_hi, x, s->w_val);
+    if (r->lam < 1.0) {
+        double wl[4];
+        trail_hermite_weights(HRT_INTERP_LINEAR, r->x_lo, r->x_hi, x, wl);
+        for (int c = 0; c < 4; c++)
+            s->w_age[c] = r->lam * s->w_val[c] + (1.0 - r->lam) * wl[c];
+    } else {
+        memcpy(s->w_age, s->w_val, sizeof s->w_val);
+    }
+}
+
+/* A star's remnant: trail_q_remnant's one-group case on the run's table
+ * (the same tests and the same sum, so the same kind and bytes). */
+static inline void lane_remnant_of(const run_ctx *r, lane *s)
+{
+    int side = s->near != r->i;
+    int k0 = r->rkind[side];
+    const double *w = s->w_val;
+    s->kind = k0;
+    int use0 = w[0] != 0.0 || w[1] != 0.0, use1 = w[2] != 0.0 || w[3] != 0.0;
+    if (k0 == HRT_REMNANT_NONE) {
+        s->rmass = NAN;
+    } else if ((use0 && !r->rsame[side][0]) || (use1 && !r->rsame[side][1])) {
+        s->rmass = r->rnear[side];
+    } else {
+        const double *p = r->rknots;
+        double m = w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3];
+        s->rmass = (m > 0.0 && (!r->rwd[side] || m < TRAIL_WD_MASS_MAX_MSUN)) ? m : r->rnear[side];
+    }
+}
+
 /* Stage 1: a star's own mass context (the weights of eval.c's mass_ctx for
  * an interior mass), remnant, log age and the log ages at its track's ends. */
 static void lane_prepare(run_ctx *r, lane *s, double x)
 {
-    mctx *m = &r->q.m[r->q.zp.g0];
-    r->q.mass = s->mass;
-    trail_interval_weights(r->q.g, m, x);
-    m->near = (x - r->x_lo <= r->x_hi - x) ? r->i : r->i + 1;
-    trail_q_remnant(&r->q, &s->kind, &s->rmass);
-    memcpy(s->w_age, m->w_age, sizeof s->w_age);
-    memcpy(s->w_val, m->w_val, sizeof s->w_val);
-    s->near = m->near;
+    lane_weights(r, s, x);
+    s->near = (x - r->x_lo <= r->x_hi - x) ? r->i : r->i + 1;
+    lane_remnant_of(r, s);
     double t = s->age_yr;
     s->on_track = LANE_ONE_STAR;
     if (!(isfinite(t) && t >= 0.0))
@@ -267,6 +306,17 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
     r->x_hi = r->gp->logm[r->i + 1];
     r->ages = r->gp->age_interval + r->i * r->J * 4;
     r->n = r->q.n_eep;
+    r->interp = g->interp;
+    r->lam = r->gp->age_lambda[r->i];
+    for (int s = 0; s < 2; s++) {
+        int k0 = r->gp->remnant[r->i + (size_t)s], f0 = trail_remnant_family(k0);
+        r->rkind[s] = k0;
+        r->rwd[s] = trail_remnant_is_wd(k0);
+        r->rnear[s] = r->gp->remnant_knots[2 * (r->i + (size_t)s)];
+        r->rsame[s][0] = trail_remnant_family(r->gp->remnant[r->i]) == f0;
+        r->rsame[s][1] = trail_remnant_family(r->gp->remnant[r->i + 1]) == f0;
+    }
+    r->rknots = r->gp->remnant_knots + 2 * r->i;
     return 1;
 }
 
@@ -328,7 +378,7 @@ static run_ctx *run_for(const hrt_grid *g, run_cache *c, lane *L, size_t w, doub
  * all on their tracks or sent to the one-star path, whose first failure is
  * returned). */
 static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, const double *z, const double *age_yr,
-                     hrt_state *out)
+                     hrt_state *const *out)
 {
     for (size_t k = 0; k < w; k++) {
         L[k].mass = mass[k];
@@ -341,26 +391,52 @@ static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, c
     int first = HRT_OK;
     for (size_t k = 0; k < w; k++) {
         if (L[k].on_track == LANE_ON_TRACK) {
-            lane_state(L[k].r, &L[k], z[k], &out[k]);
+            lane_state(L[k].r, &L[k], z[k], out[k]);
             continue;
         }
         if (L[k].on_track == LANE_BEFORE) {
-            lane_before(L[k].r, &L[k], z[k], &out[k]);
+            lane_before(L[k].r, &L[k], z[k], out[k]);
             continue;
         }
         if (L[k].on_track == LANE_REMNANT) {
-            lane_remnant(L[k].r, &L[k], z[k], &out[k]);
+            lane_remnant(L[k].r, &L[k], z[k], out[k]);
             continue;
         }
-        int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
+        int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], out[k], NULL);
         if (rc != HRT_OK && first == HRT_OK)
             first = rc;
     }
     return first;
 }
 
+/* Stars [0, n) by the one-star path, state k stored at out[dest[k]]:
+ * through a small buffer, so that consecutive stars still share their
+ * metallicity part and prefetches. */
+static int run_one_star_to(const hrt_grid *g, size_t n, const double *mass, const double *z, const double *age_yr,
+                           hrt_state *out, const uint32_t *dest)
+{
+    enum { PIECE = 32 };
+    hrt_state buf[PIECE];
+    int first = HRT_OK;
+    for (size_t a = 0; a < n; a += PIECE) {
+        size_t c = n - a < PIECE ? n - a : PIECE;
+        int rc = trail_eval_run(g, c, NULL, mass + a, z + a, 0.0, age_yr + a, buf, NULL);
+        if (rc != HRT_OK && first == HRT_OK)
+            first = rc;
+        for (size_t k = 0; k < c; k++)
+            out[dest[a + k]] = buf[k];
+    }
+    return first;
+}
+
 int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
                         hrt_state *out)
+{
+    return trail_eval_lockstep_to(g, n, mass_msun, z, age_yr, out, NULL);
+}
+
+int trail_eval_lockstep_to(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
+                           hrt_state *out, const uint32_t *dest)
 {
     int first = HRT_OK;
     run_cache c;
@@ -375,7 +451,8 @@ int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, co
             e++;
         int rc = HRT_OK;
         if (e > k) {
-            rc = trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
+            rc = dest ? run_one_star_to(g, e - k, mass_msun + k, z + k, age_yr + k, out, dest + k)
+                      : trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
             k = e;
         } else {
             /* a block: the next stars the kernel takes, up to its width */
@@ -384,10 +461,14 @@ int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, co
             while (w < KERNEL_WIDTH && k + w < n && (L[w].r = run_for(g, &c, L, w, mass_msun[k + w], z[k + w])))
                 w++;
             if (w == 0) {
-                rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
+                hrt_state *o = dest ? &out[dest[k]] : &out[k];
+                rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], o, NULL);
                 w = 1;
             } else {
-                rc = run_block(g, L, w, mass_msun + k, z + k, age_yr + k, out + k);
+                hrt_state *o[KERNEL_WIDTH];
+                for (size_t b = 0; b < w; b++)
+                    o[b] = dest ? &out[dest[k + b]] : &out[k + b];
+                rc = run_block(g, L, w, mass_msun + k, z + k, age_yr + k, o);
             }
             k += w;
         }
