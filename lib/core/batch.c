@@ -29,8 +29,15 @@
 #define BATCH_MIN_ONE_Z 1024
 /* Stars bucketed together (bounds the scratch and keeps it in cache). */
 #define BATCH_CHUNK ((size_t)1 << 16)
-/* Mantissa bits kept in a key: 2^4 buckets per factor of 2 in mass and Z. */
-#define KEY_MANT_BITS 4
+/* Mantissa bits kept in a key: up to 2^8 buckets per factor of 2 in mass
+ * and Z (fewer when the keys are shifted to fit MAX_BUCKETS). */
+#define KEY_MANT_BITS 8
+/* Mass buckets per chunk when it has several metallicities (the rest of
+ * MAX_BUCKETS goes to Z); at one metallicity all MAX_BUCKETS go to mass, so
+ * that a bucket rarely spans more intervals of a fine grid than the batch
+ * kernel keeps open (lockstep.c: a grid of 500 tracks over 1-100 Msun has
+ * about 75 per factor of 2). */
+#define MASS_BUCKETS_MIXED 256u
 /* At most this many buckets per chunk (coarser keys when the masses or
  * metallicities of a chunk spread wider). */
 #define MAX_BUCKETS 4096u
@@ -78,7 +85,7 @@ static void bucket_chunk(size_t a, size_t n, const double *mass, const double *z
     if (z)
         keys_of(z, a, n, zk, &zlo, &zhi);
     unsigned ms = 0, zs = 0;
-    while ((uint64_t)((mhi - mlo) >> ms) + 1 > 256u)
+    while ((uint64_t)((mhi - mlo) >> ms) + 1 > (z ? MASS_BUCKETS_MIXED : MAX_BUCKETS))
         ms++;
     uint32_t nm = ((mhi - mlo) >> ms) + 1;
     while (((uint64_t)((zhi - zlo) >> zs) + 1) * nm > MAX_BUCKETS)

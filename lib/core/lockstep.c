@@ -48,6 +48,10 @@ typedef struct run_ctx {
     int rkind[2], rwd[2], rsame[2][2];
     double rnear[2];
     const double *rknots; /* remnant_knots of the interval, [2][2] */
+    /* masses whose route (trail_route_at at the run's Z) is the run's: above
+     * m_lo (the boundary below the route) and at or below m_hi (every
+     * boundary above it) */
+    double m_lo, m_hi;
 } run_ctx;
 
 /* Where a star of a block is: on its track, before or after it (in the
@@ -317,6 +321,16 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
         r->rsame[s][1] = trail_remnant_family(r->gp->remnant[r->i + 1]) == f0;
     }
     r->rknots = r->gp->remnant_knots + 2 * r->i;
+    /* trail_route_at gives route R to a mass above boundary R - 1 and above
+     * no boundary b >= R (a NaN boundary is above no mass) */
+    int R = r->q.route;
+    r->m_lo = R > 0 ? trail_boundary_at(g, &r->q.zp, (size_t)R - 1) : -INFINITY;
+    r->m_hi = INFINITY;
+    for (size_t b = (size_t)(R > 0 ? R : 0); b + 1 < g->n_routes; b++) {
+        double mb = trail_boundary_at(g, &r->q.zp, b);
+        if (mb < r->m_hi)
+            r->m_hi = mb;
+    }
     return 1;
 }
 
@@ -325,7 +339,8 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
  * interior, with the same EEP count) and on the same route. */
 static inline int run_joins(const hrt_grid *g, const run_ctx *r, double mass, double z, double x)
 {
-    return z == r->q.z && x > r->x_lo && x < r->x_hi && trail_route_at(g, &r->q.zp, mass) == r->q.route;
+    (void)g;
+    return z == r->q.z && x > r->x_lo && x < r->x_hi && mass > r->m_lo && mass <= r->m_hi;
 }
 
 /* Whether Z is one group's, as trail_place_z decides it (without the log
