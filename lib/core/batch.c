@@ -56,6 +56,7 @@ static uint32_t lead_bits(double x)
 typedef struct bucket_scratch {
     uint32_t *key, *order, *count;
     double *m, *z, *age; /* a chunk's inputs in bucket order */
+    hrt_state *st;       /* its states, in the same order */
 } bucket_scratch;
 
 /* Keys of x[a .. a + n - 1] into v, and the range of the non-zero ones
@@ -118,6 +119,7 @@ static void scratch_free(bucket_scratch *b)
     free(b->order);
     free(b->count);
     free(b->m);
+    free(b->st);
 }
 
 /* The first failing star in the caller's order and its message, as the
@@ -145,7 +147,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     if (!g || !mass_msun || !age_yr || !out)
         return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
                                !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
-    bucket_scratch b = {NULL, NULL, NULL, NULL, NULL, NULL};
+    bucket_scratch b = {NULL, NULL, NULL, NULL, NULL, NULL, NULL};
     int single_z = 0; /* every star at one metallicity: bucketed by mass alone */
     if (n <= UINT32_MAX && n >= BATCH_MIN_ONE_Z && ((single_z = one_z(n, z)) || n >= BATCH_MIN)) {
         size_t c = n < BATCH_CHUNK ? n : BATCH_CHUNK;
@@ -153,8 +155,9 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         b.order = malloc(c * sizeof *b.order);
         b.count = malloc((MAX_BUCKETS + 1) * sizeof *b.count);
         b.m = malloc(3 * c * sizeof *b.m);
+        b.st = malloc(c * sizeof *b.st);
     }
-    if (!b.key || !b.order || !b.count || !b.m) {
+    if (!b.key || !b.order || !b.count || !b.m || !b.st) {
         /* small batch, or no memory for the scratch: the caller's order */
         scratch_free(&b);
         return trail_eval_run(g, n, NULL, mass_msun, z, z_all, age_yr, out, err);
@@ -172,9 +175,14 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
             bz[k] = z ? z[i] : z_all;
             bage[k] = age_yr[i];
         }
-        /* each state stored straight at its star's place */
-        if (trail_eval_lockstep_to(g, c, b.m, bz, bage, out, b.order) != HRT_OK)
+        /* states computed in bucket order into the scratch, then stored
+         * at their stars' places in one loop: storing each straight from
+         * the kernel saved 30 instructions a star but cost 60 % more time
+         * (stores missing cache amid the arithmetic; measured) */
+        if (trail_eval_lockstep(g, c, b.m, bz, bage, b.st) != HRT_OK)
             failed = 1;
+        for (size_t k = 0; k < c; k++)
+            out[b.order[k]] = b.st[k];
     }
     scratch_free(&b);
     if (!failed) {

@@ -424,34 +424,8 @@ static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, c
     return first;
 }
 
-/* Stars [0, n) by the one-star path, state k stored at out[dest[k]]:
- * through a small buffer, so that consecutive stars still share their
- * metallicity part and prefetches. */
-static int run_one_star_to(const hrt_grid *g, size_t n, const double *mass, const double *z, const double *age_yr,
-                           hrt_state *out, const uint32_t *dest)
-{
-    enum { PIECE = 32 };
-    hrt_state buf[PIECE];
-    int first = HRT_OK;
-    for (size_t a = 0; a < n; a += PIECE) {
-        size_t c = n - a < PIECE ? n - a : PIECE;
-        int rc = trail_eval_run(g, c, NULL, mass + a, z + a, 0.0, age_yr + a, buf, NULL);
-        if (rc != HRT_OK && first == HRT_OK)
-            first = rc;
-        for (size_t k = 0; k < c; k++)
-            out[dest[a + k]] = buf[k];
-    }
-    return first;
-}
-
 int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
                         hrt_state *out)
-{
-    return trail_eval_lockstep_to(g, n, mass_msun, z, age_yr, out, NULL);
-}
-
-int trail_eval_lockstep_to(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
-                           hrt_state *out, const uint32_t *dest)
 {
     int first = HRT_OK;
     run_cache c;
@@ -466,8 +440,7 @@ int trail_eval_lockstep_to(const hrt_grid *g, size_t n, const double *mass_msun,
             e++;
         int rc = HRT_OK;
         if (e > k) {
-            rc = dest ? run_one_star_to(g, e - k, mass_msun + k, z + k, age_yr + k, out, dest + k)
-                      : trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
+            rc = trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
             k = e;
         } else {
             /* a block: the next stars the kernel takes, up to its width */
@@ -476,13 +449,12 @@ int trail_eval_lockstep_to(const hrt_grid *g, size_t n, const double *mass_msun,
             while (w < KERNEL_WIDTH && k + w < n && (L[w].r = run_for(g, &c, L, w, mass_msun[k + w], z[k + w])))
                 w++;
             if (w == 0) {
-                hrt_state *o = dest ? &out[dest[k]] : &out[k];
-                rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], o, NULL);
+                rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
                 w = 1;
             } else {
                 hrt_state *o[KERNEL_WIDTH];
                 for (size_t b = 0; b < w; b++)
-                    o[b] = dest ? &out[dest[k + b]] : &out[k + b];
+                    o[b] = &out[k + b];
                 rc = run_block(g, L, w, mass_msun + k, z + k, age_yr + k, o);
             }
             k += w;
