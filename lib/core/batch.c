@@ -19,7 +19,8 @@
 /* Batches below this size are evaluated in the caller's order (unless of
  * one metallicity, below): bucketing pays for itself only when many stars
  * share a mass interval, and with metallicities spread its scratch (about
- * 240 bytes per star) costs more than it saves (measured). */
+ * 240 bytes per star when it held a copy of the states, 32 now) cost more
+ * than it saved (measured). */
 #define BATCH_MIN 16384
 /* Batches of one metallicity are bucketed from this size on: their stars
  * share mass intervals, whose runs the kernel (lockstep.c) evaluates with
@@ -28,8 +29,15 @@
 #define BATCH_MIN_ONE_Z 1024
 /* Stars bucketed together (bounds the scratch and keeps it in cache). */
 #define BATCH_CHUNK ((size_t)1 << 16)
-/* Mantissa bits kept in a key: 2^4 buckets per factor of 2 in mass and Z. */
-#define KEY_MANT_BITS 4
+/* Mantissa bits kept in a key: up to 2^8 buckets per factor of 2 in mass
+ * and Z (fewer when the keys are shifted to fit MAX_BUCKETS). */
+#define KEY_MANT_BITS 8
+/* Mass buckets per chunk when it has several metallicities (the rest of
+ * MAX_BUCKETS goes to Z); at one metallicity all MAX_BUCKETS go to mass, so
+ * that a bucket rarely spans more intervals of a fine grid than the batch
+ * kernel keeps open (lockstep.c: a grid of 500 tracks over 1-100 Msun has
+ * about 75 per factor of 2). */
+#define MASS_BUCKETS_MIXED 256u
 /* At most this many buckets per chunk (coarser keys when the masses or
  * metallicities of a chunk spread wider). */
 #define MAX_BUCKETS 4096u
@@ -51,37 +59,34 @@ typedef struct bucket_scratch {
     hrt_state *st;       /* its states, in the same order */
 } bucket_scratch;
 
-/* Range of the non-zero values in v[0 .. n - 1] (0, 0 if none); the zeros
- * (stars that will fail) are moved to the bottom of the range. */
-static void key_range(uint32_t *v, size_t n, uint32_t *lo, uint32_t *hi)
+/* Keys of x[a .. a + n - 1] into v, and the range of the non-zero ones
+ * (0, 0 if none; a zero, a star that will fail, is bucketed as the bottom
+ * of the range). */
+static void keys_of(const double *x, size_t a, size_t n, uint32_t *v, uint32_t *lo, uint32_t *hi)
 {
-    *lo = UINT32_MAX;
-    *hi = 0;
+    uint32_t l = UINT32_MAX, h = 0;
     for (size_t k = 0; k < n; k++) {
-        if (v[k] && v[k] < *lo)
-            *lo = v[k];
-        *hi = v[k] > *hi ? v[k] : *hi;
+        uint32_t b = lead_bits(x[a + k]);
+        v[k] = b;
+        l = b && b < l ? b : l;
+        h = b > h ? b : h;
     }
-    if (*hi == 0)
-        *lo = 0;
-    for (size_t k = 0; k < n; k++)
-        v[k] = v[k] ? v[k] : *lo;
+    *lo = h == 0 ? 0 : l;
+    *hi = h;
 }
 
-/* Stars [a, a + n) in bucket order: by Z key, then mass key.  Keys are
- * shifted right until the chunk's buckets number at most MAX_BUCKETS. */
+/* Stars [a, a + n) in bucket order: by Z key, then mass key (by mass alone
+ * when z is NULL: one metallicity).  Keys are shifted right until the
+ * chunk's buckets number at most MAX_BUCKETS. */
 static void bucket_chunk(size_t a, size_t n, const double *mass, const double *z, bucket_scratch *b)
 {
     uint32_t *mk = b->key, *zk = b->order; /* order holds the Z keys until the scatter */
-    for (size_t k = 0; k < n; k++) {
-        mk[k] = lead_bits(mass[a + k]);
-        zk[k] = z ? lead_bits(z[a + k]) : 0;
-    }
-    uint32_t mlo, mhi, zlo, zhi;
-    key_range(mk, n, &mlo, &mhi);
-    key_range(zk, n, &zlo, &zhi);
+    uint32_t mlo, mhi, zlo = 0, zhi = 0;
+    keys_of(mass, a, n, mk, &mlo, &mhi);
+    if (z)
+        keys_of(z, a, n, zk, &zlo, &zhi);
     unsigned ms = 0, zs = 0;
-    while ((uint64_t)((mhi - mlo) >> ms) + 1 > 256u)
+    while ((uint64_t)((mhi - mlo) >> ms) + 1 > (z ? MASS_BUCKETS_MIXED : MAX_BUCKETS))
         ms++;
     uint32_t nm = ((mhi - mlo) >> ms) + 1;
     while (((uint64_t)((zhi - zlo) >> zs) + 1) * nm > MAX_BUCKETS)
@@ -89,7 +94,8 @@ static void bucket_chunk(size_t a, size_t n, const double *mass, const double *z
     uint32_t nb = (((zhi - zlo) >> zs) + 1) * nm;
     memset(b->count, 0, (nb + 1) * sizeof *b->count);
     for (size_t k = 0; k < n; k++) {
-        mk[k] = ((zk[k] - zlo) >> zs) * nm + ((mk[k] - mlo) >> ms);
+        uint32_t mv = mk[k] ? mk[k] : mlo, zv = z && zk[k] ? zk[k] : zlo;
+        mk[k] = ((zv - zlo) >> zs) * nm + ((mv - mlo) >> ms);
         b->count[mk[k] + 1]++;
     }
     for (uint32_t k = 0; k < nb; k++)
@@ -142,7 +148,8 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
         return trail_set_error(err, HRT_E_NULL, "hrt_eval: %s is NULL",
                                !g ? "grid" : !mass_msun ? "mass_msun" : !age_yr ? "age_yr" : "out");
     bucket_scratch b = {NULL, NULL, NULL, NULL, NULL, NULL, NULL};
-    if (n <= UINT32_MAX && (n >= BATCH_MIN || (n >= BATCH_MIN_ONE_Z && one_z(n, z)))) {
+    int single_z = 0; /* every star at one metallicity: bucketed by mass alone */
+    if (n <= UINT32_MAX && n >= BATCH_MIN_ONE_Z && ((single_z = one_z(n, z)) || n >= BATCH_MIN)) {
         size_t c = n < BATCH_CHUNK ? n : BATCH_CHUNK;
         b.key = malloc(c * sizeof *b.key);
         b.order = malloc(c * sizeof *b.order);
@@ -158,7 +165,7 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
     int failed = 0;
     for (size_t a = 0; a < n; a += BATCH_CHUNK) {
         size_t c = n - a < BATCH_CHUNK ? n - a : BATCH_CHUNK;
-        bucket_chunk(a, c, mass_msun, z, &b);
+        bucket_chunk(a, c, mass_msun, single_z ? NULL : z, &b);
         /* inputs read and states written one after another: only the
          * gather and the scatter touch the caller's arrays out of order */
         double *bz = b.m + c, *bage = b.m + 2 * c;
@@ -168,6 +175,10 @@ int hrt_eval(const hrt_grid *g, size_t n, const double *mass_msun, const double 
             bz[k] = z ? z[i] : z_all;
             bage[k] = age_yr[i];
         }
+        /* states computed in bucket order into the scratch, then stored
+         * at their stars' places in one loop: storing each straight from
+         * the kernel saved 30 instructions a star but cost 60 % more time
+         * (stores missing cache amid the arithmetic; measured) */
         if (trail_eval_lockstep(g, c, b.m, bz, bage, b.st) != HRT_OK)
             failed = 1;
         for (size_t k = 0; k < c; k++)

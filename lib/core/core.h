@@ -170,7 +170,25 @@ void trail_slopes_local(int interp, size_t n, const double *x, const double *y, 
 /* Scratch of trail_slopes_work for n knots (akima: n + 4, cspline: 3 n). */
 #define TRAIL_SLOPES_WORK(n) (3 * (size_t)(n) + 8)
 void trail_slopes_work(int interp, size_t n, const double *x, const double *y, double *d, double *work);
-void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4]);
+/* Weights of the cubic Hermite form on [x0, x1] at x (values and slopes at
+ * both knots), or of the line for HRT_INTERP_LINEAR.  Inline: the batch
+ * kernel computes them for every star. */
+static inline void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4])
+{
+    double h = x1 - x0, t = (x - x0) / h;
+    if (interp == HRT_INTERP_LINEAR) {
+        w[0] = 1.0 - t;
+        w[1] = 0.0;
+        w[2] = t;
+        w[3] = 0.0;
+        return;
+    }
+    double u = 1.0 - t;
+    w[0] = (1.0 + 2.0 * t) * u * u;
+    w[1] = t * u * u * h;
+    w[2] = t * t * (3.0 - 2.0 * t);
+    w[3] = -t * t * u * h;
+}
 
 /* grid_read.c: trail_file_read, with the code for a file that does not
  * exist (HRT_E_NOT_FOUND for the default grid, else HRT_E_IO). */

@@ -39,6 +39,19 @@ typedef struct run_ctx {
     double x_lo, x_hi;  /* log masses of its two tracks */
     const double *ages; /* log-age knots of the interval, [J][4] */
     int n;              /* EEPs of the interpolated star */
+    int interp;         /* the grid's interpolation type */
+    double lam;         /* the interval's log-age blend (eval.c's interval_weights) */
+    /* the remnant for either nearest track (side 0: track i, 1: track
+     * i + 1), what trail_q_remnant finds from the same data: its kind,
+     * whether it is a white dwarf, whether each of the two tracks leaves
+     * the same family of remnant, the nearest track's remnant mass */
+    int rkind[2], rwd[2], rsame[2][2];
+    double rnear[2];
+    const double *rknots; /* remnant_knots of the interval, [2][2] */
+    /* masses whose route (trail_route_at at the run's Z) is the run's: above
+     * m_lo (the boundary below the route) and at or below m_hi (every
+     * boundary above it) */
+    double m_lo, m_hi;
 } run_ctx;
 
 /* Where a star of a block is: on its track, before or after it (in the
@@ -141,18 +154,48 @@ static inline void lane_values(const run_ctx *r, const double *w, int j, double 
         v[c] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
 }
 
+/* The weights of a star at log mass x: eval.c's interval_weights, the same
+ * operations on the run's copy of the interval's numbers. */
+static inline void lane_weights(const run_ctx *r, lane *s, double x)
+{
+    trail_hermite_weights(r->interp, r->x_lo, r->x_hi, x, s->w_val);
+    if (r->lam < 1.0) {
+        double wl[4];
+        trail_hermite_weights(HRT_INTERP_LINEAR, r->x_lo, r->x_hi, x, wl);
+        for (int c = 0; c < 4; c++)
+            s->w_age[c] = r->lam * s->w_val[c] + (1.0 - r->lam) * wl[c];
+    } else {
+        memcpy(s->w_age, s->w_val, sizeof s->w_val);
+    }
+}
+
+/* A star's remnant: trail_q_remnant's one-group case on the run's table
+ * (the same tests and the same sum, so the same kind and bytes). */
+static inline void lane_remnant_of(const run_ctx *r, lane *s)
+{
+    int side = s->near != r->i;
+    int k0 = r->rkind[side];
+    const double *w = s->w_val;
+    s->kind = k0;
+    int use0 = w[0] != 0.0 || w[1] != 0.0, use1 = w[2] != 0.0 || w[3] != 0.0;
+    if (k0 == HRT_REMNANT_NONE) {
+        s->rmass = NAN;
+    } else if ((use0 && !r->rsame[side][0]) || (use1 && !r->rsame[side][1])) {
+        s->rmass = r->rnear[side];
+    } else {
+        const double *p = r->rknots;
+        double m = w[0] * p[0] + w[1] * p[1] + w[2] * p[2] + w[3] * p[3];
+        s->rmass = (m > 0.0 && (!r->rwd[side] || m < TRAIL_WD_MASS_MAX_MSUN)) ? m : r->rnear[side];
+    }
+}
+
 /* Stage 1: a star's own mass context (the weights of eval.c's mass_ctx for
  * an interior mass), remnant, log age and the log ages at its track's ends. */
 static void lane_prepare(run_ctx *r, lane *s, double x)
 {
-    mctx *m = &r->q.m[r->q.zp.g0];
-    r->q.mass = s->mass;
-    trail_interval_weights(r->q.g, m, x);
-    m->near = (x - r->x_lo <= r->x_hi - x) ? r->i : r->i + 1;
-    trail_q_remnant(&r->q, &s->kind, &s->rmass);
-    memcpy(s->w_age, m->w_age, sizeof s->w_age);
-    memcpy(s->w_val, m->w_val, sizeof s->w_val);
-    s->near = m->near;
+    lane_weights(r, s, x);
+    s->near = (x - r->x_lo <= r->x_hi - x) ? r->i : r->i + 1;
+    lane_remnant_of(r, s);
     double t = s->age_yr;
     s->on_track = LANE_ONE_STAR;
     if (!(isfinite(t) && t >= 0.0))
@@ -267,6 +310,27 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
     r->x_hi = r->gp->logm[r->i + 1];
     r->ages = r->gp->age_interval + r->i * r->J * 4;
     r->n = r->q.n_eep;
+    r->interp = g->interp;
+    r->lam = r->gp->age_lambda[r->i];
+    for (int s = 0; s < 2; s++) {
+        int k0 = r->gp->remnant[r->i + (size_t)s], f0 = trail_remnant_family(k0);
+        r->rkind[s] = k0;
+        r->rwd[s] = trail_remnant_is_wd(k0);
+        r->rnear[s] = r->gp->remnant_knots[2 * (r->i + (size_t)s)];
+        r->rsame[s][0] = trail_remnant_family(r->gp->remnant[r->i]) == f0;
+        r->rsame[s][1] = trail_remnant_family(r->gp->remnant[r->i + 1]) == f0;
+    }
+    r->rknots = r->gp->remnant_knots + 2 * r->i;
+    /* trail_route_at gives route R to a mass above boundary R - 1 and above
+     * no boundary b >= R (a NaN boundary is above no mass) */
+    int R = r->q.route;
+    r->m_lo = R > 0 ? trail_boundary_at(g, &r->q.zp, (size_t)R - 1) : -INFINITY;
+    r->m_hi = INFINITY;
+    for (size_t b = (size_t)(R > 0 ? R : 0); b + 1 < g->n_routes; b++) {
+        double mb = trail_boundary_at(g, &r->q.zp, b);
+        if (mb < r->m_hi)
+            r->m_hi = mb;
+    }
     return 1;
 }
 
@@ -275,7 +339,8 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
  * interior, with the same EEP count) and on the same route. */
 static inline int run_joins(const hrt_grid *g, const run_ctx *r, double mass, double z, double x)
 {
-    return z == r->q.z && x > r->x_lo && x < r->x_hi && trail_route_at(g, &r->q.zp, mass) == r->q.route;
+    (void)g;
+    return z == r->q.z && x > r->x_lo && x < r->x_hi && mass > r->m_lo && mass <= r->m_hi;
 }
 
 /* Whether Z is one group's, as trail_place_z decides it (without the log
@@ -328,7 +393,7 @@ static run_ctx *run_for(const hrt_grid *g, run_cache *c, lane *L, size_t w, doub
  * all on their tracks or sent to the one-star path, whose first failure is
  * returned). */
 static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, const double *z, const double *age_yr,
-                     hrt_state *out)
+                     hrt_state *const *out)
 {
     for (size_t k = 0; k < w; k++) {
         L[k].mass = mass[k];
@@ -341,18 +406,18 @@ static int run_block(const hrt_grid *g, lane *L, size_t w, const double *mass, c
     int first = HRT_OK;
     for (size_t k = 0; k < w; k++) {
         if (L[k].on_track == LANE_ON_TRACK) {
-            lane_state(L[k].r, &L[k], z[k], &out[k]);
+            lane_state(L[k].r, &L[k], z[k], out[k]);
             continue;
         }
         if (L[k].on_track == LANE_BEFORE) {
-            lane_before(L[k].r, &L[k], z[k], &out[k]);
+            lane_before(L[k].r, &L[k], z[k], out[k]);
             continue;
         }
         if (L[k].on_track == LANE_REMNANT) {
-            lane_remnant(L[k].r, &L[k], z[k], &out[k]);
+            lane_remnant(L[k].r, &L[k], z[k], out[k]);
             continue;
         }
-        int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
+        int rc = trail_eval_run(g, 1, NULL, &mass[k], &z[k], 0.0, &age_yr[k], out[k], NULL);
         if (rc != HRT_OK && first == HRT_OK)
             first = rc;
     }
@@ -387,7 +452,10 @@ int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, co
                 rc = trail_eval_run(g, 1, NULL, &mass_msun[k], &z[k], 0.0, &age_yr[k], &out[k], NULL);
                 w = 1;
             } else {
-                rc = run_block(g, L, w, mass_msun + k, z + k, age_yr + k, out + k);
+                hrt_state *o[KERNEL_WIDTH];
+                for (size_t b = 0; b < w; b++)
+                    o[b] = &out[k + b];
+                rc = run_block(g, L, w, mass_msun + k, z + k, age_yr + k, o);
             }
             k += w;
         }

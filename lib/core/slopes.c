@@ -1,4 +1,5 @@
-/* Knot slopes of the interpolation types and cubic Hermite weights.
+/* Knot slopes of the interpolation types (the cubic Hermite weights are
+ * inline in core.h).
  *
  * Every cubic GSL type (steffen, akima, cspline) is a piecewise cubic fixed
  * by the values and the slopes at the knots, so an interpolant is stored as
@@ -153,19 +154,3 @@ void trail_slopes_local(int interp, size_t n, const double *x, const double *y, 
     trail_slopes_work(interp, n, x, y, d, work);
 }
 
-void trail_hermite_weights(int interp, double x0, double x1, double x, double w[4])
-{
-    double h = x1 - x0, t = (x - x0) / h;
-    if (interp == HRT_INTERP_LINEAR) {
-        w[0] = 1.0 - t;
-        w[1] = 0.0;
-        w[2] = t;
-        w[3] = 0.0;
-        return;
-    }
-    double u = 1.0 - t;
-    w[0] = (1.0 + 2.0 * t) * u * u;
-    w[1] = t * u * u * h;
-    w[2] = t * t * (3.0 - 2.0 * t);
-    w[3] = -t * t * u * h;
-}
