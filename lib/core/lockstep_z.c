@@ -39,6 +39,7 @@
 /* Largest stencil the kernel takes (the default grid's cspline stencil is
  * its 7 groups); wider ones go to the one-star path. */
 #define ZK_MAX_STENCIL 8
+_Static_assert(NQS == 5, "zvalues writes the five quantities out");
 
 /* What a run of stars shares. */
 typedef struct zrun {
@@ -54,6 +55,9 @@ typedef struct zrun {
     double x_lo, x_hi;     /* log masses strictly inside every group's interval */
     const double *ages0, *ages1; /* log-age knots of the bracket's intervals, [J][4] */
     double lam0, lam1;     /* their blends towards linear */
+    /* [Fe/H] steps of the stencil, hx[k] = x[k + 1] - x[k], and the sums
+     * hs[k] = hx[k - 1] + hx[k] (trail_steffen_slope's h_left + h_right) */
+    double hx[ZK_MAX_STENCIL], hs[ZK_MAX_STENCIL];
 } zrun;
 
 enum { ZL_ONE_STAR, ZL_ON_TRACK, ZL_BEFORE, ZL_REMNANT };
@@ -147,6 +151,26 @@ static int zfind(const zrun *r, zlane *s)
     return lo;
 }
 
+/* trail_steffen_slope (core.h) at an interior knot from its two secants
+ * sl, sr, the steps hl, hr on each side and hs = hl + hr: the same
+ * operations on the same numbers. */
+static inline double zsteffen(double sl, double sr, double hl, double hr, double hs)
+{
+    double p = (sl * hr + sr * hl) / hs;
+    double m = fabs(sl) < fabs(sr) ? fabs(sl) : fabs(sr);
+    if (0.5 * fabs(p) < m)
+        m = 0.5 * fabs(p);
+    /* (sl < 0 ? -1 : 1) + (sr < 0 ? -1 : 1), exactly, without branches */
+    return (double)(2 - 2 * ((sl < 0.0) + (sr < 0.0))) * m;
+}
+
+/* One quantity's sum of products at a group's two knots (the sum of
+ * eval.c's trail_q_values, in its order). */
+static inline double zsum(const double *w, const double *p, int c)
+{
+    return w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
+}
+
 /* eval.c's trail_q_values between groups: each stencil group's values at
  * EEP j, then across [Fe/H] (z_slopes). */
 static void zvalues(const zrun *r, const zlane *s, int j, double v[NQS])
@@ -155,8 +179,11 @@ static void zvalues(const zrun *r, const zlane *s, int j, double v[NQS])
     size_t ns = r->ns, a = r->a;
     for (size_t k = 0; k < ns; k++) {
         const double *p = trail_knot(r->gp[k], (size_t)j, r->i[k], 1), *w = s->w_val[r->wsrc[k]];
-        for (int c = 0; c < NQS; c++)
-            ys[c][k] = w[0] * p[2 * c] + w[1] * p[2 * c + 1] + w[2] * p[2 * NQ + 2 * c] + w[3] * p[2 * NQ + 2 * c + 1];
+        ys[0][k] = zsum(w, p, 0); /* NQS = 5, written out */
+        ys[1][k] = zsum(w, p, 1);
+        ys[2][k] = zsum(w, p, 2);
+        ys[3][k] = zsum(w, p, 3);
+        ys[4][k] = zsum(w, p, 4);
     }
     if (r->zt == HRT_INTERP_LINEAR || ns < 3) {
         double t = s->zp.t_feh;
@@ -164,19 +191,23 @@ static void zvalues(const zrun *r, const zlane *s, int j, double v[NQS])
             v[c] = (1.0 - t) * ys[c][a] + t * ys[c][a + 1];
         return;
     }
-    const double *w = s->w_feh, *xs = r->q.feh_stencil;
+    const double *w = s->w_feh, *xs = r->q.feh_stencil, *hx = r->hx;
     for (int c = 0; c < NQS; c++) {
+        const double *y = ys[c];
         double d0, d1;
         if (r->zt == HRT_INTERP_STEFFEN) {
-            d0 = trail_steffen_slope(xs, ys[c], ns, a);
-            d1 = trail_steffen_slope(xs, ys[c], ns, a + 1);
+            /* trail_steffen_slope at knots a and a + 1, the secant between
+             * them computed once (an end knot's slope is its one secant) */
+            double sa = (y[a + 1] - y[a]) / hx[a];
+            d0 = a == 0 ? sa : zsteffen((y[a] - y[a - 1]) / hx[a - 1], sa, hx[a - 1], hx[a], r->hs[a]);
+            d1 = a + 2 == ns ? sa : zsteffen(sa, (y[a + 2] - y[a + 1]) / hx[a + 1], hx[a], hx[a + 1], r->hs[a + 1]);
         } else {
             double ds[TRAIL_MAX_Z];
-            trail_slopes_local(r->zt, ns, xs, ys[c], ds);
+            trail_slopes_local(r->zt, ns, xs, y, ds);
             d0 = ds[a];
             d1 = ds[a + 1];
         }
-        v[c] = w[0] * ys[c][a] + w[1] * d0 + w[2] * ys[c][a + 1] + w[3] * d1;
+        v[c] = w[0] * y[a] + w[1] * d0 + w[2] * y[a + 1] + w[3] * d1;
     }
 }
 
@@ -419,6 +450,11 @@ static int zrun_open(const hrt_grid *g, double mass, double z, zrun *r)
     r->ages1 = r->gp[r->a + 1]->age_interval + r->i[r->a + 1] * r->J * 4;
     r->lam0 = r->gp[r->a]->age_lambda[r->i[r->a]];
     r->lam1 = r->gp[r->a + 1]->age_lambda[r->i[r->a + 1]];
+    const double *xs = r->q.feh_stencil;
+    for (size_t k = 0; k + 1 < r->ns; k++) {
+        r->hx[k] = xs[k + 1] - xs[k];
+        r->hs[k] = k > 0 ? r->hx[k - 1] + r->hx[k] : 0.0;
+    }
     return 1;
 }
 
