@@ -464,7 +464,8 @@ END_TEST
  * gives every star the one-star state to the byte, for each interpolation
  * type, called directly and through hrt_eval: batches of 1 to 9 stars
  * (around the kernel's width of 4), around the sizes from which batches are
- * bucketed and large ones; metallicities between groups over the whole
+ * bucketed (512 stars with metallicities spread, 1,024 of one, 16,384 before
+ * this kernel) and large ones; metallicities between groups over the whole
  * grid, a little outside it, within the placement tolerance of a group's
  * and mixed with the groups' own; masses over the grid and a little
  * outside, on the tracks' own masses, or packed into a few intervals and
@@ -510,7 +511,7 @@ static void lockstep_z_stars(const hrt_grid *g, gsl_rng *rng, size_t n, int styl
 START_TEST(test_lockstep_z_equals_one_star)
 {
     static const int types[] = {HRT_INTERP_LINEAR, HRT_INTERP_STEFFEN, HRT_INTERP_AKIMA, HRT_INTERP_CSPLINE};
-    static const size_t sizes[] = {1, 2, 3, 4, 5, 6, 7, 8, 9, 255, 256, 257, 1023, 1024, 1025, 16383, 16384, 16385, 40001};
+    static const size_t sizes[] = {1, 2, 3, 4, 5, 6, 7, 8, 9, 511, 512, 513, 1023, 1024, 1025, 16383, 16384, 16385, 40001};
     const size_t nmax = 40001;
     gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
     double *m = malloc(nmax * sizeof *m), *z = malloc(nmax * sizeof *z), *age = malloc(nmax * sizeof *age);
