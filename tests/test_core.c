@@ -460,6 +460,96 @@ START_TEST(test_lockstep_equals_one_star)
 }
 END_TEST
 
+/* The kernel for stars between grid metallicities (core/lockstep_z.c)
+ * gives every star the one-star state to the byte, for each interpolation
+ * type, called directly and through hrt_eval: batches of 1 to 9 stars
+ * (around the kernel's width of 4), around the sizes from which batches are
+ * bucketed (512 stars with metallicities spread, 1,024 of one, 16,384 before
+ * this kernel) and large ones; metallicities between groups over the whole
+ * grid, a little outside it, within the placement tolerance of a group's
+ * and mixed with the groups' own; masses over the grid and a little
+ * outside, on the tracks' own masses, or packed into a few intervals and
+ * one bracket of groups (long runs); ages on the tracks, before them (0),
+ * past their ends and invalid. */
+static void lockstep_z_stars(const hrt_grid *g, gsl_rng *rng, size_t n, int style, double *m, double *z, double *age)
+{
+    double zlo, zhi;
+    ck_assert_int_eq(hrt_grid_z_range(g, &zlo, &zhi), HRT_OK);
+    size_t nz = hrt_grid_n_z(g);
+    size_t b0 = gsl_rng_uniform_int(rng, nz - 1); /* the bracket of style 1 */
+    for (size_t i = 0; i < n; i++) {
+        size_t iz = gsl_rng_uniform_int(rng, nz);
+        double u = gsl_rng_uniform(rng), lo, hi;
+        z[i] = zlo * pow(zhi / zlo, 1.02 * gsl_rng_uniform(rng) - 0.01);
+        if (style == 1) { /* one bracket, a few intervals */
+            double za = hrt_grid_z(g, b0), zb = hrt_grid_z(g, b0 + 1);
+            z[i] = za * pow(zb / za, 0.01 + 0.98 * gsl_rng_uniform(rng));
+            size_t nm = hrt_grid_n_masses(g, b0), im = 1 + gsl_rng_uniform_int(rng, 3) * (nm / 4);
+            double a = hrt_grid_mass(g, b0, im - 1), b = hrt_grid_mass(g, b0, im);
+            m[i] = a * pow(b / a, u);
+        } else {
+            if (style == 2 && gsl_rng_uniform(rng) < 0.3) /* a group's own Z, or within the tolerance of it */
+                z[i] = hrt_grid_z(g, iz) * (gsl_rng_uniform(rng) < 0.5 ? 1.0 : 1.0 + 4e-12 * (gsl_rng_uniform(rng) - 0.5));
+            if (hrt_grid_mass_range(g, z[i], &lo, &hi) != HRT_OK) {
+                lo = 0.5;
+                hi = 5.0;
+            }
+            size_t nm = hrt_grid_n_masses(g, iz);
+            m[i] = style == 3 && u < 0.2 ? hrt_grid_mass(g, iz, gsl_rng_uniform_int(rng, nm))
+                                         : lo * pow(hi / lo, 1.04 * gsl_rng_uniform(rng) - 0.02);
+        }
+        hrt_state ends[2];
+        double probe[2] = {1.0, 1e13};
+        hrt_eval(g, 2, (double[]){m[i], m[i]}, (double[]){z[i], z[i]}, 0.0, probe, ends, NULL);
+        double t0 = ends[0].phase_end_yr > 0.0 ? 0.9 * ends[0].phase_end_yr : 1e5;
+        double t1 = isfinite(ends[1].phase_start_yr) && ends[1].phase_start_yr > t0 ? 1.1 * ends[1].phase_start_yr : 1e10;
+        double r = gsl_rng_uniform(rng);
+        age[i] = r < 0.01 ? 0.0 : r < 0.015 ? NAN : r < 0.02 ? -1.0 : r < 0.025 ? INFINITY : t0 * pow(t1 / t0, gsl_rng_uniform(rng));
+    }
+}
+
+START_TEST(test_lockstep_z_equals_one_star)
+{
+    static const int types[] = {HRT_INTERP_LINEAR, HRT_INTERP_STEFFEN, HRT_INTERP_AKIMA, HRT_INTERP_CSPLINE};
+    static const size_t sizes[] = {1, 2, 3, 4, 5, 6, 7, 8, 9, 511, 512, 513, 1023, 1024, 1025, 16383, 16384, 16385, 40001};
+    const size_t nmax = 40001;
+    gsl_rng *rng = gsl_rng_alloc(gsl_rng_mt19937);
+    double *m = malloc(nmax * sizeof *m), *z = malloc(nmax * sizeof *z), *age = malloc(nmax * sizeof *age);
+    hrt_state *batch = malloc(nmax * sizeof *batch), *direct = malloc(nmax * sizeof *direct);
+    size_t checked = 0, on_track = 0;
+    for (size_t t = 0; t < sizeof types / sizeof types[0]; t++) {
+        hrt_grid *g = open_or_fail(grid_path, types[t]);
+        for (size_t k = 0; k < sizeof sizes / sizeof sizes[0]; k++) {
+            size_t n = sizes[k];
+            int style = (int)((k + t) % 4);
+            lockstep_z_stars(g, rng, n, style, m, z, age);
+            hrt_eval(g, n, m, z, 0.0, age, batch, NULL);
+            trail_eval_lockstep_z(g, n, m, z, age, direct);
+            for (size_t i = 0; i < n; i++) {
+                hrt_state s;
+                hrt_eval(g, 1, &m[i], &z[i], 0.0, &age[i], &s, NULL);
+                ck_assert_msg(memcmp(&s, &batch[i], sizeof s) == 0,
+                              "type %d, %zu stars, style %d, star %zu (%.17g Msun, Z %.17g, %.17g yr) differs in the batch",
+                              types[t], n, style, i, m[i], z[i], age[i]);
+                ck_assert_msg(memcmp(&s, &direct[i], sizeof s) == 0,
+                              "type %d, %zu stars, style %d, star %zu (%.17g Msun, Z %.17g, %.17g yr) differs in the kernel",
+                              types[t], n, style, i, m[i], z[i], age[i]);
+                on_track += s.status == HRT_OK && isfinite(s.eep);
+            }
+            checked += n;
+        }
+        hrt_grid_close(g);
+    }
+    ck_assert_uint_gt(on_track, checked / 2); /* most stars are on their tracks */
+    free(m);
+    free(z);
+    free(age);
+    free(batch);
+    free(direct);
+    gsl_rng_free(rng);
+}
+END_TEST
+
 /* ---- round trip: what was written is what is read --------------------- */
 
 START_TEST(test_roundtrip_exact_at_knots)
@@ -1796,6 +1886,7 @@ static Suite *core_suite(void)
         {"open_slopes_gsl", test_open_slopes_match_gsl_deriv},
         {"batch_one_star", test_batch_equals_one_star},
         {"lockstep_one_star", test_lockstep_equals_one_star},
+        {"lockstep_z_one_star", test_lockstep_z_equals_one_star},
         {"hot_path_gsl", test_hot_path_equals_gsl},
         {"roundtrip", test_roundtrip_exact_at_knots},
         {"writer", test_writer_atomic_and_deterministic},

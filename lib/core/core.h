@@ -231,6 +231,10 @@ int trail_eval_run(const hrt_grid *g, size_t n, const uint32_t *order, const dou
  * the first failure's code, the states of every star written. */
 int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
                         hrt_state *out);
+/* lockstep_z.c: the same for stars between grid metallicities (lockstep.c
+ * hands it the runs of such stars). */
+int trail_eval_lockstep_z(const hrt_grid *g, size_t n, const double *mass_msun, const double *z, const double *age_yr,
+                          hrt_state *out);
 int trail_qctx_z(const hrt_grid *g, double z, qctx *q, hrt_error *err);
 void trail_qctx_copy_z(qctx *dst, const qctx *src);
 int trail_mass_ctx(const hrt_grid *g, const zgroup *gp, int route, double log_mass, mctx *m);

@@ -433,14 +433,13 @@ int trail_eval_lockstep(const hrt_grid *g, size_t n, const double *mass_msun, co
     c.next = 0;
     size_t k = 0;
     while (k < n) {
-        /* stars between groups: the one-star path, in one call (it shares
-         * the metallicity part between equal Z and prefetches ahead) */
+        /* stars between groups: their own kernel (lockstep_z.c) */
         size_t e = k;
         while (e < n && ((e > k && z[e] == z[e - 1]) || !at_group_z(g, z[e])))
             e++;
         int rc = HRT_OK;
         if (e > k) {
-            rc = trail_eval_run(g, e - k, NULL, mass_msun + k, z + k, 0.0, age_yr + k, out + k, NULL);
+            rc = trail_eval_lockstep_z(g, e - k, mass_msun + k, z + k, age_yr + k, out + k);
             k = e;
         } else {
             /* a block: the next stars the kernel takes, up to its width */
