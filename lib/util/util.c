@@ -42,18 +42,6 @@ int trail_cmp_double(const void *a, const void *b)
     return (x > y) - (x < y);
 }
 
-double trail_log_r_from(double log_l, double log_teff)
-{
-    /* L/Lsun = (R/Rsun)^2 (Teff/Teff_sun)^4 with the nominal solar values,
-     * which satisfy the Stefan-Boltzmann law to 2e-6 (IAU 2015 B3). */
-    return 0.5 * log_l - 2.0 * (log_teff - TRAIL_LOG_TEFF_SUN);
-}
-
-double trail_log_g_from(double mass_msun, double log_r)
-{
-    return TRAIL_LOG_G_SUN_CGS + trail_log10(mass_msun) - 2.0 * log_r;
-}
-
 /* What a non-regular file is, for a message. */
 static const char *trail_kind(mode_t m)
 {

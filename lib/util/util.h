@@ -72,9 +72,18 @@ static inline double trail_log10(double x) { return log(x) * TRAIL_LOG10E; }
 static inline double trail_exp10(double x) { return exp(x * TRAIL_LN10); }
 
 /* log10 R/Rsun from log10 L/Lsun and log10 Teff/K (Stefan-Boltzmann law with
- * the nominal solar values), and log10 g/(cm s^-2) from mass and log R. */
-double trail_log_r_from(double log_l, double log_teff);
-double trail_log_g_from(double mass_msun, double log_r);
+ * the nominal solar values), and log10 g/(cm s^-2) from mass and log R.
+ * Inline: every state computes both. */
+static inline double trail_log_r_from(double log_l, double log_teff)
+{
+    /* L/Lsun = (R/Rsun)^2 (Teff/Teff_sun)^4 with the nominal solar values,
+     * which satisfy the Stefan-Boltzmann law to 2e-6 (IAU 2015 B3). */
+    return 0.5 * log_l - 2.0 * (log_teff - TRAIL_LOG_TEFF_SUN);
+}
+static inline double trail_log_g_from(double mass_msun, double log_r)
+{
+    return TRAIL_LOG_G_SUN_CGS + trail_log10(mass_msun) - 2.0 * log_r;
+}
 
 /* Remnant masses are interpolated between tracks of one family: all white
  * dwarfs (helium, CO, ONe) form one, so the mass is continuous where the
