@@ -51,6 +51,18 @@ static inline double box_chi2(const trail_fit_obs *F, const float *lo, const flo
     return c;
 }
 
+/* chi^2 above which a lower bound rules a box out: TRAIL_FIT_CUT_CHI2 above
+ * the best so far, or (best-only scans) the best itself.  A bound is
+ * computed in floating point from float corners, the values inside the box
+ * in double: BOUND_SLACK (relative, far above the rounding of either)
+ * keeps the bound a true one. */
+#define BOUND_SLACK 1e-9
+static inline double chi2_cut(const trail_fit_points *S)
+{
+    double c = S->best_only ? S->chi2_best : S->chi2_best + TRAIL_FIT_CUT_CHI2;
+    return c + BOUND_SLACK * (1.0 + fabs(c));
+}
+
 /* 1 if no position inside the box can be kept: outside the
  * TRAIL_FIT_CUT_SIGMA window in one observable, or (once a point within
  * TRAIL_FIT_MATCH_SIGMA has been found, so that the match test is decided)
@@ -65,7 +77,7 @@ static inline int box_out(const trail_fit_obs *F, const trail_fit_points *S, con
         return 1;
     if (F->log_g.given && (hi[LQ_LOG_G] < F->log_g_lo || lo[LQ_LOG_G] > F->log_g_hi))
         return 1;
-    return S->best_dev <= TRAIL_FIT_MATCH_SIGMA && chi2_feh + box_chi2(F, lo, hi) > S->chi2_best + TRAIL_FIT_CUT_CHI2;
+    return S->best_dev <= TRAIL_FIT_MATCH_SIGMA && chi2_feh + box_chi2(F, lo, hi) > chi2_cut(S);
 }
 
 /* The cell between the lighter track A and the heavier C (the next one) and
@@ -240,7 +252,9 @@ static int visit_row(const cell *c, cell_row *r, trail_fit_points *S)
     /* once the match test is decided, sub-cells whose log L, log g and
      * [Fe/H] alone put them beyond the chi^2 cut are passed over before
      * their Teff (an exponential) is computed */
-    double cut = S->best_dev <= TRAIL_FIT_MATCH_SIGMA ? S->chi2_best + TRAIL_FIT_CUT_CHI2 : INFINITY;
+    double cut = S->best_dev > TRAIL_FIT_MATCH_SIGMA ? INFINITY
+                 : S->best_only                      ? S->chi2_best
+                                                     : S->chi2_best + TRAIL_FIT_CUT_CHI2;
     for (int ib = 0; ib < c->n_eep; ib++) {
         double fb = (2 * ib + 1) * r->half_eep;
         double log_l = e0[LQ_LOG_L] + fb * (e1[LQ_LOG_L] - e0[LQ_LOG_L]);
@@ -256,6 +270,14 @@ static int visit_row(const cell *c, cell_row *r, trail_fit_points *S)
         if (dev > TRAIL_FIT_CUT_SIGMA)
             continue;
         if (dev < S->best_dev) S->best_dev = dev;
+        if (S->best_only) { /* p[0]: the first point of least chi^2 */
+            if (chi2 < S->chi2_best) {
+                S->chi2_best = chi2;
+                store_point(c, r, fb, log_l, log_g, log_teff, teff, chi2, &S->p[0]);
+                S->n = 1;
+            }
+            continue;
+        }
         if (chi2 > S->chi2_best + TRAIL_FIT_CUT_CHI2)
             continue;
         if (chi2 < S->chi2_best) S->chi2_best = chi2;
@@ -349,6 +371,8 @@ static size_t node_at(const hrt_fit_model *m, const trail_fit_obs *F, size_t i)
 
 int trail_fit_scan_lattice(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_points *S, hrt_error *err)
 {
+    if (S->best_only && trail_fit_grow((void **)&S->p, &S->cap, 1, sizeof *S->p))
+        return trail_set_error(err, HRT_E_NOMEM, "hrt_fit_star: out of memory");
     for (size_t step = 0; step < 2 * m->n_feh; step++) {
         size_t k = node_at(m, F, step);
         if (k == SIZE_MAX)

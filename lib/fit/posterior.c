@@ -59,13 +59,13 @@ static void hist_open(hist *H, int quantity)
     H->weight = 0.0;
 }
 
-static inline void hist_range(hist *H, const trail_fit_point *P)
+/* Widen the range of histogram H (of quantity q) to the box of point P. */
+static inline void hist_range_of(hist *H, int q, const trail_fit_point *P)
 {
     double x0, x1;
-    box_of(P, H->quantity, &x0, &x1);
+    box_of(P, q, &x0, &x1);
     if (x0 < H->xmin) H->xmin = x0;
     if (x1 > H->xmax) H->xmax = x1;
-    H->weight += P->weight;
 }
 
 /* Clear the histogram of a quantity once its range is known. */
@@ -76,13 +76,14 @@ static void hist_start(hist *H, double *second_diff)
     H->inv_width = H->xmax > H->xmin ? HIST_BINS / (H->xmax - H->xmin) : 0.0;
 }
 
-static inline void hist_add(hist *H, const trail_fit_point *P)
+/* Add the boxes [x0, x1] of weight w of one point to the histogram's second
+ * differences (E, xmin, inv_width: the histogram's, held in registers by
+ * the callers).  Every bin index lies in [0, HIST_BINS]: int conversions,
+ * which give the same indices and fractions as size_t ones at a fraction
+ * of the instructions. */
+static inline void hist_add_box(double *E, double xmin, double inv_width, double x0, double x1, double w)
 {
-    if (H->inv_width == 0.0)
-        return;
-    double x0, x1, *E = H->second_diff;
-    box_of(P, H->quantity, &x0, &x1);
-    double u0 = (x0 - H->xmin) * H->inv_width, u1 = (x1 - H->xmin) * H->inv_width;
+    double u0 = (x0 - xmin) * inv_width, u1 = (x1 - xmin) * inv_width;
     if (u1 - u0 < 1e-6) { /* a point: a narrow box */
         u0 -= 5e-7;
         u1 += 5e-7;
@@ -90,14 +91,34 @@ static inline void hist_add(hist *H, const trail_fit_point *P)
     }
     if (u0 < 0) u0 = 0;
     if (u1 > HIST_BINS) u1 = HIST_BINS;
-    double s = P->weight / (u1 - u0);
+    double s = w / (u1 - u0);
     /* ramp s max(0, e - u0) minus ramp s max(0, e - u1), as second differences */
-    size_t i0 = (size_t)u0, i1 = (size_t)u1;
+    int i0 = (int)u0, i1 = (int)u1;
     double p0 = u0 - (double)i0, p1 = u1 - (double)i1;
     E[i0 + 1] += s * (1.0 - p0);
     E[i0 + 2] += s * p0;
     E[i1 + 1] -= s * (1.0 - p1);
     E[i1 + 2] -= s * p1;
+}
+
+/* Fill a histogram with the n points of p, in their order (only those of
+ * phase `phase` when it is not negative); one loop per quantity, so that
+ * the histogram's fields and the quantity stay in registers. */
+static void hist_fill(const hist *H, const trail_fit_point *p, size_t n, int phase)
+{
+    if (H->inv_width == 0.0)
+        return;
+    double *E = H->second_diff, xmin = H->xmin, inv = H->inv_width;
+    int q = H->quantity;
+    if (q == PQ_AGE) {
+        for (size_t i = 0; i < n; i++)
+            if (phase < 0 || p[i].phase == phase)
+                hist_add_box(E, xmin, inv, p[i].age_lo_yr, p[i].age_hi_yr, p[i].weight);
+        return;
+    }
+    for (size_t i = 0; i < n; i++)
+        if (phase < 0 || p[i].phase == phase)
+            hist_add_box(E, xmin, inv, p[i].value[q] - p[i].half[q], p[i].value[q] + p[i].half[q], p[i].weight);
 }
 
 static hrt_fit_interval interval_of(const double lo_median_hi[3])
@@ -203,13 +224,25 @@ static int weigh_points(trail_fit_points *S, hists *H, weights *w, hrt_error *er
         sum_w += P->weight;
         sum_w2 += P->weight * P->weight;
         np += P->weight > 0;
-        for (int k = 0; k < N_ALL_POINTS; k++)
-            hist_range(&H->all[k], P);
-        hist_range(&H->phase[P->phase][0], P);
-        hist_range(&H->phase[P->phase][1], P);
-        S->p[kept++] = *P;
+        hist *M = &H->phase[P->phase][0];
+        hist_range_of(M, PQ_LOG_INITIAL_MASS, P);
+        M->weight += P->weight;
+        hist_range_of(&H->phase[P->phase][1], PQ_AGE, P);
+        if (kept != i)
+            S->p[kept] = *P;
+        kept++;
     }
     S->n = kept;
+    /* the ranges over all points, one quantity at a time in the points'
+     * order (the same comparisons in the same order); every weight is the
+     * same sum as sum_w, a phase's age histogram that of its mass */
+    for (int k = 0; k < N_ALL_POINTS; k++) {
+        for (size_t i = 0; i < kept; i++)
+            hist_range_of(&H->all[k], all_point_quantities[k], &S->p[i]);
+        H->all[k].weight = sum_w;
+    }
+    for (int p = 0; p < HRT_PHASE_SLOTS; p++)
+        H->phase[p][1].weight = H->phase[p][0].weight;
     w->sum_w = sum_w;
     w->sum_w2 = sum_w2;
     w->chi2_min = chi2min;
@@ -251,16 +284,14 @@ static void set_intervals(hrt_fit_result *res, hists *H, const trail_fit_points 
         }
     for (int k = 0; k < nh; k++)
         hist_start(&H->all[k], scratch + (size_t)k * HIST_SLOTS);
-    for (size_t i = 0; i < S->n; i++) {
-        const trail_fit_point *P = &S->p[i];
-        for (int k = 0; k < N_ALL_POINTS; k++)
-            hist_add(&H->all[k], P);
-        for (int s = 0; s < 2; s++)
-            if (first_of[s] >= 0 && P->phase == phase_of[s]) {
-                hist_add(&H->all[first_of[s]], P);
-                hist_add(&H->all[first_of[s] + 1], P);
-            }
-    }
+    /* each histogram its own array, filled in the points' order */
+    for (int k = 0; k < N_ALL_POINTS; k++)
+        hist_fill(&H->all[k], S->p, S->n, -1);
+    for (int s = 0; s < 2; s++)
+        if (first_of[s] >= 0) {
+            hist_fill(&H->all[first_of[s]], S->p, S->n, phase_of[s]);
+            hist_fill(&H->all[first_of[s] + 1], S->p, S->n, phase_of[s]);
+        }
     const hist *A = H->all;
     res->initial_mass_msun = exp10_interval(hist_interval(&A[0]));
     res->age_yr = hist_interval(&A[1]);
@@ -502,6 +533,47 @@ static int summarise(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_p
     return HRT_OK;
 }
 
+/* Start a scan of the lattice into S: empty, with what is known of the best point. */
+static int scan(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_points *S, int best_only, double best_dev,
+                double chi2_best, hrt_error *err)
+{
+    S->n = 0;
+    S->best_only = best_only;
+    S->best_dev = best_dev;
+    S->chi2_best = chi2_best;
+    return trail_fit_scan_lattice(m, F, S, err);
+}
+
+/* The weighted sub-cells of the observation F, into S.  Where the grid
+ * stores an interpolation error, it is taken at the best point and added
+ * to F's errors (trail_fit_add_interp_error), and the lattice is scanned
+ * with the widened errors when they changed.  The best point alone is
+ * found first by a cheap best-only scan; the full scan then starts knowing
+ * the least chi^2 (when that point has prior weight, so that the summary's
+ * least chi^2 is the same), which prunes from the start exactly the points
+ * the summary drops (chi^2 more than TRAIL_FIT_CUT_CHI2 above it): the same
+ * points, in the same order, as one full scan (two when the errors were
+ * widened) without that knowledge.  A best-only scan that fails is
+ * repeated as a full one, for its message. */
+static int find_points(const hrt_fit_model *m, trail_fit_obs *F, trail_fit_points *S, hrt_error *err)
+{
+    const trail_fit_obs F0 = *F;
+    int rc = scan(m, F, S, 1, INFINITY, INFINITY, err);
+    if (rc != HRT_OK)
+        return rc == HRT_E_NOMEM ? rc : scan(m, F, S, 0, INFINITY, INFINITY, err);
+    double e_interp[2];
+    if (trail_fit_add_interp_error(m, F, S, e_interp)) {
+        rc = scan(m, F, S, 1, INFINITY, INFINITY, err); /* the best point with the widened errors */
+        if (rc != HRT_OK)
+            return rc == HRT_E_NOMEM ? rc : scan(m, F, S, 0, INFINITY, INFINITY, err);
+    } else {
+        *F = F0; /* the errors as measured (trail_fit_add_interp_error may have widened them by less than 1e-3) */
+    }
+    if (!(S->n == 1 && S->p[0].prior > 0))
+        return scan(m, F, S, 0, INFINITY, INFINITY, err);
+    return scan(m, F, S, 0, S->best_dev, S->p[0].chi2, err);
+}
+
 int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, size_t n_samples,
                  hrt_fit_sample *samples, hrt_fit_result *res, hrt_error *err)
 {
@@ -514,13 +586,8 @@ int hrt_fit_star(const hrt_fit_model *m, const hrt_fit_obs *obs, uint64_t seed, 
     int rc = trail_fit_obs_prepare(m, obs, &F, err);
     if (rc != HRT_OK)
         return trail_fit_finish(&res->status, rc, err);
-    trail_fit_points S = {NULL, 0, 0, INFINITY, INFINITY};
-    rc = trail_fit_scan_lattice(m, &F, &S, err);
-    double e_interp[2];
-    if (rc == HRT_OK && trail_fit_add_interp_error(m, &F, &S, e_interp)) {
-        S.n = 0, S.best_dev = S.chi2_best = INFINITY; /* again with the widened errors */
-        rc = trail_fit_scan_lattice(m, &F, &S, err);
-    }
+    trail_fit_points S = {NULL, 0, 0, INFINITY, INFINITY, 0};
+    rc = find_points(m, &F, &S, err);
     if (rc == HRT_OK)
         rc = summarise(m, &F, &S, seed, n_samples, samples, res, err);
     free(S.p);

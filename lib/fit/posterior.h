@@ -64,6 +64,10 @@ typedef struct trail_fit_points {
     size_t n, cap;
     double best_dev;  /* smallest over points of the largest |residual| / sigma */
     double chi2_best; /* smallest chi^2 so far */
+    /* 1: only the point of least chi^2 is wanted (the first of equals, in
+     * the scan's order): it is kept alone in p[0], and whatever cannot beat
+     * it is passed over (lower bounds of chi^2 above chi2_best) */
+    int best_only;
 } trail_fit_points;
 
 /* Check and prepare what was measured (hrt_fit_star's messages). */
@@ -73,6 +77,9 @@ int trail_fit_obs_prepare(const hrt_fit_model *m, const hrt_fit_obs *o, trail_fi
  * empty, best_dev and chi2_best infinite); HRT_E_NO_MATCH when no point lies
  * within TRAIL_FIT_MATCH_SIGMA, HRT_E_NOMEM. */
 int trail_fit_scan_lattice(const hrt_fit_model *m, const trail_fit_obs *F, trail_fit_points *S, hrt_error *err);
+/* The same scan with S->best_only set: the point of least chi^2 alone, the
+ * very point (same sub-cell, same values) the full scan finds first with
+ * that chi^2, at a fraction of the cost. */
 /* When the grid stores an interpolation error field: the estimate at the
  * best point of S (e[0] log L, e[1] log Teff, dex) added in quadrature to
  * the errors of F (log g: both, added linearly); 1 if that changed a sigma by
