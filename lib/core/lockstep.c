@@ -40,7 +40,6 @@ typedef struct run_ctx {
     const double *ages; /* log-age knots of the interval, [J][4] */
     int n;              /* EEPs of the interpolated star */
     int interp;         /* the grid's interpolation type */
-    double lam;         /* the interval's log-age blend (eval.c's interval_weights) */
     /* the remnant for either nearest track (side 0: track i, 1: track
      * i + 1), what trail_q_remnant finds from the same data: its kind,
      * whether it is a white dwarf, whether each of the two tracks leaves
@@ -159,14 +158,7 @@ static inline void lane_values(const run_ctx *r, const double *w, int j, double 
 static inline void lane_weights(const run_ctx *r, lane *s, double x)
 {
     trail_hermite_weights(r->interp, r->x_lo, r->x_hi, x, s->w_val);
-    if (r->lam < 1.0) {
-        double wl[4];
-        trail_hermite_weights(HRT_INTERP_LINEAR, r->x_lo, r->x_hi, x, wl);
-        for (int c = 0; c < 4; c++)
-            s->w_age[c] = r->lam * s->w_val[c] + (1.0 - r->lam) * wl[c];
-    } else {
-        memcpy(s->w_age, s->w_val, sizeof s->w_val);
-    }
+    memcpy(s->w_age, s->w_val, sizeof s->w_val); /* log age's blend is in its slopes */
 }
 
 /* A star's remnant: trail_q_remnant's one-group case on the run's table
@@ -311,7 +303,6 @@ static int run_open(const hrt_grid *g, double mass, double z, run_ctx *r)
     r->ages = r->gp->age_interval + r->i * r->J * 4;
     r->n = r->q.n_eep;
     r->interp = g->interp;
-    r->lam = r->gp->age_lambda[r->i];
     for (int s = 0; s < 2; s++) {
         int k0 = r->gp->remnant[r->i + (size_t)s], f0 = trail_remnant_family(k0);
         r->rkind[s] = k0;

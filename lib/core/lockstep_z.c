@@ -54,7 +54,6 @@ typedef struct zrun {
     double m_lo, m_hi;     /* masses every stencil group covers */
     double x_lo, x_hi;     /* log masses strictly inside every group's interval */
     const double *ages0, *ages1; /* log-age knots of the bracket's intervals, [J][4] */
-    double lam0, lam1;     /* their blends towards linear */
     /* [Fe/H] steps of the stencil, hx[k] = x[k + 1] - x[k], and the sums
      * hs[k] = hx[k - 1] + hx[k] (trail_steffen_slope's h_left + h_right) */
     double hx[ZK_MAX_STENCIL], hs[ZK_MAX_STENCIL];
@@ -221,20 +220,11 @@ static void zweights(const hrt_grid *g, const zrun *r, zlane *s, size_t k)
     trail_hermite_weights(g->interp, lm[r->i[k]], lm[r->i[k] + 1], s->x, s->w_val[k]);
 }
 
-static void zage_weights(const zrun *r, zlane *s, int b, double lam)
+/* Log age's weights: the values' (its blend towards linear is in its slopes,
+ * grid_prep.c), as eval.c's interval_weights. */
+static void zage_weights(const zrun *r, zlane *s, int b)
 {
-    const double *wv = s->w_val[r->wsrc[r->a + (size_t)b]];
-    double *wa = s->w_age[b];
-    if (lam < 1.0) {
-        const double *lm = r->gp[r->a + (size_t)b]->logm;
-        size_t i = r->i[r->a + (size_t)b];
-        double wl[4];
-        trail_hermite_weights(HRT_INTERP_LINEAR, lm[i], lm[i + 1], s->x, wl);
-        for (int c = 0; c < 4; c++)
-            wa[c] = lam * wv[c] + (1.0 - lam) * wl[c];
-    } else {
-        memcpy(wa, wv, sizeof s->w_age[b]);
-    }
+    memcpy(s->w_age[b], s->w_val[r->wsrc[r->a + (size_t)b]], sizeof s->w_age[b]);
 }
 
 /* Stage 1: a star's weights, remnant, log age and the log ages at its
@@ -244,8 +234,8 @@ static void zlane_prepare(const hrt_grid *g, zlane *s)
     zrun *r = s->r;
     for (size_t k = 0; k < r->ns; k++)
         zweights(g, r, s, k);
-    zage_weights(r, s, 0, r->lam0);
-    zage_weights(r, s, 1, r->lam1);
+    zage_weights(r, s, 0);
+    zage_weights(r, s, 1);
     if (r->zt != HRT_INTERP_LINEAR && r->ns >= 3)
         trail_hermite_weights(r->zt, g->grp[r->g0].feh, g->grp[r->g0 + 1].feh, s->zp.feh, s->w_feh);
     /* the nearest track of the group nearest in [Fe/H] (eval.c's mass_ctx) */
@@ -448,8 +438,6 @@ static int zrun_open(const hrt_grid *g, double mass, double z, zrun *r)
     r->J = g->n_eep_max;
     r->ages0 = r->gp[r->a]->age_interval + r->i[r->a] * r->J * 4;
     r->ages1 = r->gp[r->a + 1]->age_interval + r->i[r->a + 1] * r->J * 4;
-    r->lam0 = r->gp[r->a]->age_lambda[r->i[r->a]];
-    r->lam1 = r->gp[r->a + 1]->age_lambda[r->i[r->a + 1]];
     const double *xs = r->q.feh_stencil;
     for (size_t k = 0; k + 1 < r->ns; k++) {
         r->hx[k] = xs[k + 1] - xs[k];
