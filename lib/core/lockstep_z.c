@@ -285,15 +285,20 @@ static void zprefetch_values(const zrun *r, int j)
     }
 }
 
-/* Before the track's first EEP (eval.c's state_at_lt): not modelled. */
-static void zlane_before(const zlane *s, hrt_state *st)
+/* The state's fields every star off its track shares (eval.c's state_at_lt). */
+static void zlane_off_track(const zlane *s, hrt_state *st)
 {
-    const zrun *r = s->r;
     trail_state_clear(st, s->mass, s->z, s->age_yr);
-    st->route = r->route;
+    st->route = s->r->route;
     st->flags = 0;
     st->remnant = s->kind;
     st->remnant_mass_msun = s->rmass;
+}
+
+/* Before the track's first EEP (eval.c's state_at_lt): not modelled. */
+static void zlane_before(const zlane *s, hrt_state *st)
+{
+    zlane_off_track(s, st);
     st->phase = HRT_PHASE_PRE_MS;
     st->flags |= HRT_FLAG_NOT_MODELLED;
     st->mass_msun = s->mass;
@@ -306,11 +311,7 @@ static void zlane_before(const zlane *s, hrt_state *st)
 static void zlane_remnant(const zlane *s, hrt_state *st)
 {
     const zrun *r = s->r;
-    trail_state_clear(st, s->mass, s->z, s->age_yr);
-    st->route = r->route;
-    st->flags = 0;
-    st->remnant = s->kind;
-    st->remnant_mass_msun = s->rmass;
+    zlane_off_track(s, st);
     double v[NQS];
     zvalues(r, s, r->n - 1, v);
     trail_state_remnant(st, s->kind, s->rmass, v[Q_L - 1], trail_exp10(s->a_last), NULL);
